@@ -1,0 +1,203 @@
+// Remaining-hours forecast during training (DESIGN §3.4, last paragraph).
+//
+// Two estimates of log(remaining hours) are combined:
+//   • the prior — the baseline regression forecast, conditioned on the hours already trained;
+//   • the evidence — the progress curve's time to reach the criterion, minus hours done, with its SD
+//     from the delta method on the curve parameters.
+// Both are treated as normal on the log scale and combined by inverse-variance weighting, which is the
+// normal–normal posterior with known variances (Gelman et al., Bayesian Data Analysis, 3rd ed., §2.5):
+//   mean = (m₁/v₁ + m₂/v₂)/(1/v₁ + 1/v₂),  variance = 1/(1/v₁ + 1/v₂).
+// When the curve plateaus below the criterion the result is a review flag; the curve is never
+// extrapolated past its plateau and no combined number is produced.
+
+import {
+  plateausBelowCriterion,
+  timeToReachWithUncertainty,
+  type SaturatingExponentialFit,
+} from "./curve";
+import { normalCdf, normalQuantile, studentTCdf, studentTQuantile } from "./student-t";
+
+/** A forecast of hours as a distribution on the log scale. */
+export interface LogHoursEstimate {
+  logMean: number;
+  logSD: number;
+}
+
+// Probability points one standard deviation either side of the median of a normal.
+const ONE_SD_LOWER = 0.15865525393145707; // Φ(−1)
+const ONE_SD_UPPER = 0.8413447460685429; // Φ(+1)
+
+/**
+ * Turn the baseline forecast of TOTAL hours (log scale: mean + SD·t(df), or normal when df is omitted)
+ * into a forecast of REMAINING hours for someone who has trained `hoursDone` without yet meeting the
+ * criterion. Quantiles of the conditional distribution T | T > d are F⁻¹(F(d) + q·(1 − F(d))); the
+ * remaining hours are those minus d. The result is summarised back on the log scale: median → logMean,
+ * half the log distance between the Φ(±1) quantiles → logSD (exact when d = 0).
+ * `beyondForecast` marks a trainee already past the baseline's 99th percentile (worth a review).
+ */
+export function remainingFromBaseline(
+  total: { logMean: number; logSD: number; df?: number },
+  hoursDone: number,
+): LogHoursEstimate & { medianHours: number; beyondForecast: boolean } {
+  if (!(total.logSD > 0)) throw new RangeError("baseline logSD must be > 0");
+  if (!(hoursDone >= 0)) throw new RangeError("hoursDone must be ≥ 0");
+  const df = total.df;
+  const cdf = (z: number) => (df === undefined ? normalCdf(z) : studentTCdf(z, df));
+  const inv = (p: number) => (df === undefined ? normalQuantile(p) : studentTQuantile(p, df));
+  const doneProbability = hoursDone > 0 ? cdf((Math.log(hoursDone) - total.logMean) / total.logSD) : 0;
+  // Keep the survivor share away from 0 so the quantile stays finite for far-out trainees.
+  const survivor = Math.max(1 - doneProbability, 1e-12);
+  const remainingAt = (q: number) => {
+    const p = Math.min(1 - survivor * (1 - q), 1 - 1e-15);
+    return Math.exp(total.logMean + total.logSD * inv(p)) - hoursDone;
+  };
+  const median = remainingAt(0.5);
+  const lowerOneSD = remainingAt(ONE_SD_LOWER);
+  const upperOneSD = remainingAt(ONE_SD_UPPER);
+  return {
+    logMean: Math.log(median),
+    logSD: (Math.log(upperOneSD) - Math.log(lowerOneSD)) / 2,
+    medianHours: median,
+    beyondForecast: survivor < 0.01,
+  };
+}
+
+export type CurveEvidence =
+  | { status: "estimate"; remainingHours: number; logMean: number; logSD: number; timeToReach: number }
+  | { status: "review"; reason: string }
+  | { status: "uninformative"; reason: string };
+
+export interface CurveEvidenceOptions {
+  /** Sessions needed before the curve counts as evidence; default parameters + 2. */
+  minimumSessions?: number;
+  /** Floor on remaining hours when the fitted curve says the criterion is already due (default 0.5 h). */
+  minimumRemainingHours?: number;
+  /** z for the plateau test asymptote + z·SE < threshold (default 2). */
+  plateauZ?: number;
+}
+
+/**
+ * What the progress curve alone says about remaining hours. The SD on the log scale is the delta-method
+ * SD of the time to reach divided by the remaining hours (d ln R = dt / R).
+ */
+export function curveRemainingHours(
+  fit: SaturatingExponentialFit,
+  threshold: number,
+  hoursDone: number,
+  options?: CurveEvidenceOptions,
+): CurveEvidence {
+  const parameters = fit.parameterNames.length;
+  const minimumSessions = options?.minimumSessions ?? parameters + 2;
+  const floor = options?.minimumRemainingHours ?? 0.5;
+  if (fit.n < minimumSessions) {
+    return { status: "uninformative", reason: `only ${fit.n} sessions; the curve needs ${minimumSessions}` };
+  }
+  if (!fit.converged) return { status: "uninformative", reason: "the curve fit did not converge" };
+  if (plateausBelowCriterion(fit, threshold, options?.plateauZ ?? 2)) {
+    return {
+      status: "review",
+      reason: `the curve levels off at ${fit.asymptote.toPrecision(3)} (SE ${fit.standardErrors.asymptote.toPrecision(2)}), below the criterion ${threshold}`,
+    };
+  }
+  const reach = timeToReachWithUncertainty(fit, threshold);
+  if (reach === null) {
+    return { status: "uninformative", reason: "the curve's plateau is not clearly above or below the criterion" };
+  }
+  if (!Number.isFinite(reach.sd) || !(reach.sd > 0)) {
+    return { status: "uninformative", reason: "the curve parameters have no usable uncertainty" };
+  }
+  const remaining = Math.max(reach.hours - hoursDone, floor);
+  return {
+    status: "estimate",
+    remainingHours: remaining,
+    logMean: Math.log(remaining),
+    logSD: reach.sd / remaining,
+    timeToReach: reach.hours,
+  };
+}
+
+/** Inverse-variance (precision-weighted) combination of independent normal estimates. */
+export function inverseVarianceCombine(estimates: LogHoursEstimate[]): LogHoursEstimate & { weights: number[] } {
+  if (estimates.length === 0) throw new Error("nothing to combine");
+  const precisions = estimates.map((e) => {
+    if (!(e.logSD > 0)) throw new RangeError("every estimate needs logSD > 0");
+    return 1 / (e.logSD * e.logSD);
+  });
+  const total = precisions.reduce((s, w) => s + w, 0);
+  const logMean = estimates.reduce((s, e, i) => s + precisions[i] * e.logMean, 0) / total;
+  return { logMean, logSD: 1 / Math.sqrt(total), weights: precisions.map((w) => w / total) };
+}
+
+export interface RemainingHoursForecast {
+  /** combined = prior and curve; prior-only = the curve could not inform; review = plateau below criterion. */
+  status: "combined" | "prior-only" | "review";
+  /** Median remaining hours; null under review (no number is extrapolated). */
+  remainingHours: number | null;
+  /** The planning figure: the `quantile` point of the combined distribution; null under review. */
+  planningHours: number | null;
+  quantile: number;
+  /** Central interval at `level`; null under review. */
+  interval: { lower: number; upper: number; level: number } | null;
+  logMean: number | null;
+  logSD: number | null;
+  /** Share of the weight carried by the baseline prior and the curve (sum to 1). */
+  weights: { prior: number; curve: number };
+  prior: LogHoursEstimate;
+  curve: CurveEvidence;
+  reason?: string;
+}
+
+/**
+ * Remaining-hours forecast for a trainee: baseline prior (already expressed as remaining hours, e.g. by
+ * remainingFromBaseline) combined with the progress-curve evidence.
+ */
+export function combineRemainingHours(input: {
+  prior: LogHoursEstimate;
+  curve: { fit: SaturatingExponentialFit; threshold: number; hoursDone: number; options?: CurveEvidenceOptions };
+  quantile?: number; // default 0.80, as for plans
+  level?: number; // default 0.80
+}): RemainingHoursForecast {
+  const quantile = input.quantile ?? 0.8;
+  const level = input.level ?? 0.8;
+  const { prior } = input;
+  const evidence = curveRemainingHours(input.curve.fit, input.curve.threshold, input.curve.hoursDone, input.curve.options);
+
+  if (evidence.status === "review") {
+    return {
+      status: "review",
+      remainingHours: null,
+      planningHours: null,
+      quantile,
+      interval: null,
+      logMean: null,
+      logSD: null,
+      weights: { prior: 1, curve: 0 },
+      prior,
+      curve: evidence,
+      reason: evidence.reason,
+    };
+  }
+  const combined =
+    evidence.status === "estimate"
+      ? inverseVarianceCombine([prior, evidence])
+      : { ...prior, weights: [1, 0] };
+  const zq = normalQuantile(quantile);
+  const zl = normalQuantile((1 + level) / 2);
+  return {
+    status: evidence.status === "estimate" ? "combined" : "prior-only",
+    remainingHours: Math.exp(combined.logMean),
+    planningHours: Math.exp(combined.logMean + zq * combined.logSD),
+    quantile,
+    interval: {
+      lower: Math.exp(combined.logMean - zl * combined.logSD),
+      upper: Math.exp(combined.logMean + zl * combined.logSD),
+      level,
+    },
+    logMean: combined.logMean,
+    logSD: combined.logSD,
+    weights: { prior: combined.weights[0], curve: combined.weights[1] },
+    prior,
+    curve: evidence,
+    ...(evidence.status === "uninformative" ? { reason: evidence.reason } : {}),
+  };
+}
