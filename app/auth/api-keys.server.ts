@@ -1,0 +1,49 @@
+import crypto from "node:crypto";
+import { db } from "~/db.server";
+import type { Role } from "./permissions";
+
+// API keys: `lbk_<prefix>_<secret>`. Only a SHA-256 of the secret is stored (the secret is 256 random
+// bits, so a slow hash adds nothing — common practice for high-entropy tokens); the full key is shown once.
+export interface ApiKeyRecord {
+  id: number;
+  name: string;
+  prefix: string;
+  role: Role;
+  siteIds: number[];
+}
+
+function hashSecret(secret: string): string {
+  return crypto.createHash("sha256").update(secret).digest("hex");
+}
+
+export async function createApiKey(input: { name: string; role: Role; siteIds: number[]; createdBy: number }): Promise<{ id: number; key: string }> {
+  const prefix = crypto.randomBytes(6).toString("hex");
+  const secret = crypto.randomBytes(32).toString("base64url");
+  const id = await db().transaction(async (trx) => {
+    const [row] = await trx("api_keys").insert({
+      name: input.name, prefix, secret_hash: hashSecret(secret), role: input.role,
+      created_by: input.createdBy, created_at: new Date().toISOString(),
+    }).returning("id");
+    for (const siteId of input.siteIds) await trx("api_key_sites").insert({ api_key_id: row.id, site_id: siteId });
+    return row.id as number;
+  });
+  return { id, key: `lbk_${prefix}_${secret}` };
+}
+
+export async function verifyApiKey(presented: string): Promise<ApiKeyRecord | null> {
+  const m = /^lbk_([0-9a-f]{12})_([A-Za-z0-9_-]{20,})$/.exec(presented.trim());
+  if (!m) return null;
+  const row = await db()("api_keys").where({ prefix: m[1] }).whereNull("revoked_at").first();
+  if (!row) return null;
+  const a = Buffer.from(row.secret_hash, "hex");
+  const b = Buffer.from(hashSecret(m[2]), "hex");
+  if (a.length !== b.length || !crypto.timingSafeEqual(a, b)) return null;
+  const sites = await db()("api_key_sites").where({ api_key_id: row.id }).pluck("site_id");
+  await db()("api_keys").where({ id: row.id }).update({ last_used_at: new Date().toISOString() });
+  return { id: row.id, name: row.name, prefix: row.prefix, role: row.role, siteIds: sites };
+}
+
+export async function revokeApiKey(id: number): Promise<boolean> {
+  const n = await db()("api_keys").where({ id }).whereNull("revoked_at").update({ revoked_at: new Date().toISOString() });
+  return n > 0;
+}

@@ -1,0 +1,6 @@
+import { type Role, ROLE_HOMES, ROLE_PRECEDENCE } from "./permissions";
+
+export function homeFor(roles: Role[]): string {
+  const first = ROLE_PRECEDENCE.find((r) => roles.includes(r));
+  return first ? ROLE_HOMES[first] : "/auth/not-provisioned";
+}

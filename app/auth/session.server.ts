@@ -1,0 +1,52 @@
+import crypto from "node:crypto";
+import { createCookie, createSessionStorage } from "react-router";
+import { db } from "~/db.server";
+import { isProduction, sessionSecret } from "~/config.server";
+
+// Server-side sessions: the cookie holds only a signed random id, the data lives in the `sessions`
+// table, so sign-out really ends the session and a stolen old cookie is worthless.
+export interface SessionData {
+  userId: number;
+  signedInAt: string;
+}
+
+const MAX_AGE_S = 8 * 60 * 60; // one working shift
+
+const cookie = createCookie("__limberly", {
+  httpOnly: true,
+  sameSite: "lax",
+  secure: isProduction,
+  path: "/",
+  maxAge: MAX_AGE_S,
+  secrets: [sessionSecret],
+});
+
+export const sessionStorage = createSessionStorage<SessionData>({
+  cookie,
+  async createData(data, expires) {
+    const id = crypto.randomBytes(32).toString("hex");
+    await db()("sessions").insert({ id, data: JSON.stringify(data), expires_at: expires?.toISOString() ?? null, created_at: new Date().toISOString() });
+    return id;
+  },
+  async readData(id) {
+    const row = await db()("sessions").where({ id }).first();
+    if (!row) return null;
+    if (row.expires_at && new Date(row.expires_at).getTime() < Date.now()) {
+      await db()("sessions").where({ id }).del();
+      return null;
+    }
+    return JSON.parse(row.data);
+  },
+  async updateData(id, data, expires) {
+    await db()("sessions").where({ id }).update({ data: JSON.stringify(data), expires_at: expires?.toISOString() ?? null });
+  },
+  async deleteData(id) {
+    await db()("sessions").where({ id }).del();
+  },
+});
+
+export function getSession(request: Request) {
+  return sessionStorage.getSession(request.headers.get("Cookie"));
+}
+
+export const SESSION_MAX_AGE_S = MAX_AGE_S;

@@ -1,0 +1,35 @@
+// Configuration read from the environment, checked once. See README "Configuration".
+export type Mode = "production" | "demo" | "test" | "development";
+
+function readMode(): Mode {
+  const m = process.env.LIMBERLY_MODE;
+  if (m === "production" || m === "demo" || m === "test" || m === "development") return m;
+  return process.env.NODE_ENV === "production" ? "production" : "development";
+}
+
+export const mode: Mode = readMode();
+export const isProduction = mode === "production";
+
+const port = Number(process.env.PORT ?? 3000);
+export const appUrl = (process.env.APP_URL ?? `http://localhost:${port}`).replace(/\/$/, "");
+
+const secret = process.env.SESSION_SECRET;
+if (isProduction && (!secret || secret.length < 32)) {
+  // Refuse to start rather than sign sessions with a guessable secret.
+  throw new Error("SESSION_SECRET must be set (at least 32 characters) when LIMBERLY_MODE is production.");
+}
+export const sessionSecret = secret ?? "limberly-development-secret-not-for-production";
+
+export const oidc = {
+  issuer: (process.env.OIDC_ISSUER ?? "http://127.0.0.1:9400").replace(/\/$/, ""),
+  clientId: process.env.OIDC_CLIENT_ID ?? "limberly",
+  clientSecret: process.env.OIDC_CLIENT_SECRET ?? "limberly-local-secret",
+};
+
+export const mail = {
+  host: process.env.SMTP_HOST ?? "127.0.0.1",
+  port: Number(process.env.SMTP_PORT ?? 2525),
+  from: process.env.MAIL_FROM ?? "Limberly <no-reply@limberly.local>",
+};
+
+export const outboxDir = process.env.OUTBOX_DIR ?? "data/outbox";

@@ -1,0 +1,29 @@
+import { db } from "~/db.server";
+
+export type ConsentPurpose = "assessment" | "planning" | "model";
+export const CONSENT_PURPOSES: ConsentPurpose[] = ["assessment", "planning", "model"];
+
+export class DuplicateVersionError extends Error {}
+
+export async function listConsentTexts() {
+  const rows = await db()("consent_text_versions as c").leftJoin("users as u", "u.id", "c.created_by")
+    .select("c.id", "c.purpose", "c.version", "c.body", "c.effective_from", "c.created_at", "u.display_name as created_by")
+    .orderBy([{ column: "c.purpose" }, { column: "c.effective_from", order: "desc" }, { column: "c.id", order: "desc" }]);
+  return rows.map((r) => ({ ...r, effective_from: String(r.effective_from).slice(0, 10) }));
+}
+
+/** The text in force for a purpose: the latest version whose effective date has come. */
+export async function currentConsentText(purpose: ConsentPurpose, today: string) {
+  return db()("consent_text_versions").where({ purpose }).where("effective_from", "<=", today)
+    .orderBy([{ column: "effective_from", order: "desc" }, { column: "id", order: "desc" }]).first();
+}
+
+export async function createConsentText(v: { purpose: ConsentPurpose; version: string; effectiveFrom: string; body: string; createdBy: number }) {
+  return db().transaction(async (trx) => {
+    if (await trx("consent_text_versions").where({ purpose: v.purpose, version: v.version }).first("id")) {
+      throw new DuplicateVersionError(`Version ${v.version} of the ${v.purpose} text already exists; texts are never edited, add a new version.`);
+    }
+    const [r] = await trx("consent_text_versions").insert({ purpose: v.purpose, version: v.version, body: v.body, effective_from: v.effectiveFrom, created_by: v.createdBy, created_at: new Date().toISOString() }).returning("id");
+    return r.id as number;
+  });
+}

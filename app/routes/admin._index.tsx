@@ -1,0 +1,35 @@
+import type { Route } from "./+types/admin._index";
+import { requireUser } from "~/auth/guard.server";
+import { db } from "~/db.server";
+
+export const meta: Route.MetaFunction = () => [{ title: "Admin · Limberly" }];
+
+// Counts only: admin runs the system but never sees health data.
+export async function loader({ request }: Route.LoaderArgs) {
+  await requireUser(request, "admin.users");
+  const k = db();
+  const count = async (t: string) => Number((await k(t).count<{ n: number }[]>({ n: "*" }).first())?.n ?? 0);
+  const activeKeys = Number((await k("api_keys").whereNull("revoked_at").count<{ n: number }[]>({ n: "*" }).first())?.n ?? 0);
+  return { users: await count("users"), sites: await count("sites"), departments: await count("departments"), workers: await count("workers"), activeKeys, accessReads: await count("access_log") };
+}
+
+export default function AdminHome({ loaderData: d }: Route.ComponentProps) {
+  const tiles = [
+    { label: "Users", value: d.users, to: "/admin/users" },
+    { label: "Sites", value: d.sites, to: "/admin/sites" },
+    { label: "Departments", value: d.departments, to: "/admin/sites" },
+    { label: "Workers on roster", value: d.workers, to: "/admin/sites" },
+    { label: "Active API keys", value: d.activeKeys, to: "/admin/api-keys" },
+    { label: "Health-data reads logged", value: d.accessReads, to: "/admin/access-log" },
+  ];
+  return (
+    <div className="grid gap-6">
+      <h1 className="page-title" data-testid="role-home">Admin overview</h1>
+      <ul className="grid grid-cols-2 gap-3 md:grid-cols-3">
+        {tiles.map((t) => (
+          <li key={t.label}><a href={t.to} className="card block hover:border-spruce-600"><span className="block text-3xl font-semibold">{t.value}</span><span className="text-ink-soft">{t.label}</span></a></li>
+        ))}
+      </ul>
+    </div>
+  );
+}

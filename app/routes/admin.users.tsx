@@ -1,0 +1,71 @@
+import type { ColumnDef } from "@tanstack/react-table";
+import { Form, Link, data, useActionData, useNavigation } from "react-router";
+import type { Route } from "./+types/admin.users";
+import { requireUser } from "~/auth/guard.server";
+import { ROLE_LABELS, ROLES } from "~/auth/permissions";
+import { FormError, Notice, SelectField, TextField } from "~/components/fields";
+import { departmentOptions, siteOptions } from "~/components/scope-options";
+import { ServerTable } from "~/components/server-table";
+import { createUser, DuplicateEmailError, listUsers, type UserListRow } from "~/models/admin-users.server";
+import { listDepartments, listSites } from "~/models/sites.server";
+import { createUserSchema } from "~/schemas/admin";
+import { formToObject, parseWith } from "~/schemas/form";
+import { readTableQuery } from "~/schemas/table-query";
+
+export const meta: Route.MetaFunction = () => [{ title: "Users and roles · Limberly" }];
+
+export async function loader({ request }: Route.LoaderArgs) {
+  await requireUser(request, "admin.users");
+  const q = readTableQuery(new URL(request.url));
+  const [page, sites, departments] = await Promise.all([listUsers(q), listSites(), listDepartments()]);
+  return { page, q: q.q ?? "", sites, departments };
+}
+
+export async function action({ request }: Route.ActionArgs) {
+  await requireUser(request, "admin.users");
+  const parsed = parseWith(createUserSchema, formToObject(await request.formData()));
+  if (!parsed.ok) return data({ errors: parsed.errors, created: null }, { status: 400 });
+  try {
+    const id = await createUser(parsed.data);
+    return { errors: null, created: { id, email: parsed.data.email } };
+  } catch (e) {
+    if (e instanceof DuplicateEmailError) return data({ errors: { email: e.message }, created: null }, { status: 409 });
+    throw e;
+  }
+}
+
+const columns: ColumnDef<UserListRow, unknown>[] = [
+  { id: "name", header: "Name", cell: ({ row }) => <Link className="font-medium text-spruce-700 underline" to={`/admin/users/${row.original.id}`}>{row.original.displayName}</Link> },
+  { id: "email", header: "E-mail", cell: ({ row }) => row.original.email },
+  { id: "roles", header: "Roles", cell: ({ row }) => row.original.roles || "—" },
+  { id: "active", header: "Status", cell: ({ row }) => (row.original.active ? "Active" : "Deactivated") },
+  { id: "lastSignIn", header: "Last sign-in", cell: ({ row }) => row.original.lastSignInAt?.slice(0, 16).replace("T", " ") ?? "never" },
+];
+
+export default function AdminUsers({ loaderData }: Route.ComponentProps) {
+  const { page, q, sites, departments } = loaderData;
+  const result = useActionData<typeof action>();
+  const busy = useNavigation().state === "submitting";
+  const errors = (result?.errors ?? {}) as Record<string, string>;
+  return (
+    <div className="grid gap-6">
+      <h1 className="page-title">Users and roles</h1>
+      <ServerTable caption="Users" columns={columns} rows={page.rows} total={page.total} page={page.page} size={page.size}
+        sort={page.sort} dir={page.dir} sortable={["name", "email", "lastSignIn"]} searchLabel="Filter by name or e-mail" q={q} />
+      <section className="card" aria-labelledby="add-user">
+        <h2 id="add-user" className="text-lg font-semibold">Add a user</h2>
+        <p className="text-sm text-ink-soft">The e-mail must match the person's identity at your identity provider.</p>
+        {result?.created && <div className="mt-3"><Notice>Added {result.created.email}.</Notice></div>}
+        <Form method="post" className="mt-4 grid gap-4 sm:grid-cols-2" noValidate>
+          <div className="sm:col-span-2"><FormError message={errors._form} /></div>
+          <TextField name="email" label="E-mail" type="email" required error={errors.email} autoComplete="off" />
+          <TextField name="displayName" label="Name" required error={errors.displayName} />
+          <SelectField name="role" label="Role" required error={errors.role} options={ROLES.map((r) => ({ value: r, label: ROLE_LABELS[r] }))} />
+          <SelectField name="siteId" label="Site" error={errors.siteId} options={siteOptions(sites)} hint="Scope of the role. Admin may be organisation-wide." />
+          <SelectField name="departmentId" label="Department (narrower scope)" error={errors.departmentId} options={departmentOptions(departments)} />
+          <div className="sm:col-span-2"><button className="btn-primary" disabled={busy}>{busy ? "Adding…" : "Add user"}</button></div>
+        </Form>
+      </section>
+    </div>
+  );
+}

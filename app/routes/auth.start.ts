@@ -1,0 +1,8 @@
+import type { Route } from "./+types/auth.start";
+import { getAuthenticator } from "~/auth/authenticator.server";
+
+// Starts the authorization-code flow with PKCE: redirects to the identity provider.
+export async function loader({ request }: Route.LoaderArgs) {
+  const authenticator = await getAuthenticator();
+  return await authenticator.authenticate("oidc", request);
+}

@@ -1,0 +1,46 @@
+import type { Route } from "./+types/coordinate._index";
+import { requireUser } from "~/auth/guard.server";
+import { DeviceCautions } from "~/components/device-cautions";
+import { fleetSummary, trainersSummary } from "~/models/fleet.server";
+
+export const meta: Route.MetaFunction = () => [{ title: "Coordination home · Limberly" }];
+
+export async function loader({ request }: Route.LoaderArgs) {
+  const p = await requireUser(request, "fleet.manage");
+  const [fleet, trainers] = await Promise.all([fleetSummary(p.scope), trainersSummary(p.scope)]);
+  return { fleet, trainers };
+}
+
+export default function CoordinateHome({ loaderData }: Route.ComponentProps) {
+  const { fleet, trainers } = loaderData;
+  return (
+    <div className="grid gap-6">
+      <h1 className="page-title" data-testid="role-home">Coordination home</h1>
+      <section aria-labelledby="fleet" className="grid gap-2">
+        <h2 id="fleet" className="text-lg font-semibold">Device fleet at your sites</h2>
+        <div className="card overflow-x-auto p-0">
+          <table className="table-base">
+            <caption className="sr-only">Device types</caption>
+            <thead><tr><th scope="col">Device type</th><th scope="col">Units in service</th><th scope="col">In maintenance</th><th scope="col">Bookable h / week</th><th scope="col">Wear-time limit</th></tr></thead>
+            <tbody>{fleet.map((d) => (
+              <tr key={d.id}><th scope="row">{d.name}</th><td>{d.inService}</td><td>{d.inMaintenance}</td><td>{d.bookableHours}</td><td>{d.wearTimeLimitMinutes} min per session</td></tr>
+            ))}</tbody>
+          </table>
+        </div>
+      </section>
+      <section aria-labelledby="trainers" className="grid gap-2">
+        <h2 id="trainers" className="text-lg font-semibold">Trainers</h2>
+        <ul className="grid gap-2 md:grid-cols-2">
+          {trainers.map((t) => (
+            <li key={t.id} className="card">
+              <p className="font-semibold">{t.name} <span className="text-sm font-normal text-ink-soft">· {t.site}</span></p>
+              <p className="text-sm text-ink-soft">{t.hoursPerWeek} h/week · up to {t.traineesPerSession} trainee{t.traineesPerSession > 1 ? "s" : ""} per session</p>
+              <p className="text-sm">Certified: {t.certifications.join(", ") || "none"}</p>
+            </li>
+          ))}
+        </ul>
+      </section>
+      <DeviceCautions compact />
+    </div>
+  );
+}

@@ -1,0 +1,85 @@
+// Starts what Limberly needs on one machine: the identity-provider stand-in, the SMTP catcher and the
+// app server (built, or Vite dev), against one database. Used by `npm run demo`, `npm run dev` and the tests.
+import { spawn, type ChildProcess } from "node:child_process";
+import path from "node:path";
+import { fileURLToPath } from "node:url";
+import { startIdp } from "./idp";
+import { startSmtpCatcher } from "./smtp-catcher";
+
+const root = path.resolve(path.dirname(fileURLToPath(import.meta.url)), "..");
+
+export interface StackOptions {
+  appPort: number;
+  idpPort: number;
+  smtpPort: number;
+  databaseUrl: string;
+  outboxDir: string;
+  mode: "demo" | "test" | "development";
+  dev?: boolean;
+  quiet?: boolean;
+}
+
+export interface Stack {
+  appUrl: string;
+  issuer: string;
+  env: NodeJS.ProcessEnv;
+  stop: () => Promise<void>;
+}
+
+export function stackEnv(o: StackOptions): NodeJS.ProcessEnv {
+  return {
+    ...process.env,
+    PORT: String(o.appPort),
+    APP_URL: `http://localhost:${o.appPort}`,
+    DATABASE_URL: o.databaseUrl,
+    LIMBERLY_MODE: o.mode,
+    OIDC_ISSUER: `http://127.0.0.1:${o.idpPort}`,
+    SMTP_HOST: "127.0.0.1",
+    SMTP_PORT: String(o.smtpPort),
+    OUTBOX_DIR: o.outboxDir,
+  };
+}
+
+export async function waitForHttp(url: string, timeoutMs = 60_000): Promise<void> {
+  const deadline = Date.now() + timeoutMs;
+  let last: unknown = null;
+  while (Date.now() < deadline) {
+    try {
+      const res = await fetch(url, { redirect: "manual" });
+      if (res.status < 500) return;
+      last = `HTTP ${res.status}`;
+    } catch (e) {
+      last = e;
+    }
+    await new Promise((r) => setTimeout(r, 250));
+  }
+  throw new Error(`${url} did not answer within ${timeoutMs} ms: ${String(last)}`);
+}
+
+export async function startStack(o: StackOptions): Promise<Stack> {
+  const idp = await startIdp(o.idpPort);
+  const smtp = await startSmtpCatcher(o.smtpPort, o.outboxDir);
+  const env = stackEnv(o);
+  const args = o.dev
+    ? [path.join(root, "node_modules/@react-router/dev/bin.js"), "dev", "--port", String(o.appPort), "--strictPort"]
+    : [path.join(root, "node_modules/@react-router/serve/bin.js"), path.join(root, "build/server/index.js")];
+  const child: ChildProcess = spawn(process.execPath, args, {
+    cwd: root,
+    env: o.dev ? env : { ...env, NODE_ENV: "production" },
+    stdio: o.quiet ? ["ignore", "ignore", "inherit"] : "inherit",
+  });
+  const exited = new Promise<void>((resolve) => child.once("exit", () => resolve()));
+  const appUrl = `http://localhost:${o.appPort}`;
+  await Promise.race([
+    waitForHttp(`${appUrl}/api/v1/health`),
+    exited.then(() => { throw new Error("The app server exited during start-up (see its output above)."); }),
+  ]);
+  return {
+    appUrl, issuer: idp.issuer, env,
+    stop: async () => {
+      if (child.exitCode === null) { child.kill("SIGTERM"); await exited; }
+      await smtp.stop();
+      await idp.stop();
+    },
+  };
+}
