@@ -1,0 +1,166 @@
+// Independent attacker audit for the disclosure tests, solved with HiGHS (npm `highs`, reference only).
+// It reads ONLY what is published (nulls are unknown), writes every additivity relation — redundant
+// ones included, which HiGHS tolerates — as a CPLEX LP-format model, and asks for the min and max of
+// each hidden number over all non-negative tables that agree (Hundepool et al. 2012, Statistical
+// Disclosure Control, Wiley, ch. 7: the "attacker problem" — from memory). It shares no code with
+// app/compute/disclosure*, so agreement with the product's javascript-lp-solver audit is a real check.
+
+import loadHighs from "highs";
+
+type Highs = Awaited<ReturnType<typeof loadHighs>>;
+let highsPromise: Promise<Highs> | null = null;
+export const highs = () => (highsPromise ??= loadHighs());
+
+export interface PublishedTable {
+  cells: (number | null)[][];
+  rowTotals: (number | null)[];
+  columnTotals: (number | null)[];
+  grandTotal: number | null;
+}
+
+/** A named published quantity: its value, or null when hidden. */
+type Quantity = { name: string; shown: number | null };
+/** Σ coefficient · quantity = 0. */
+type Relation = { name: string; coefficient: number }[];
+
+export interface HiddenBound {
+  name: string;
+  min: number;
+  max: number;
+}
+
+function lpModel(sense: "Maximize" | "Minimize", target: string, quantities: Map<string, Quantity>, relations: Relation[]) {
+  const lines: string[] = [sense, ` obj: ${target}`, "Subject To"];
+  relations.forEach((relation, r) => {
+    let constant = 0;
+    const terms: string[] = [];
+    for (const { name, coefficient } of relation) {
+      const q = quantities.get(name)!;
+      if (q.shown === null) terms.push(`${coefficient < 0 ? "-" : "+"} ${Math.abs(coefficient)} ${name}`);
+      else constant += coefficient * q.shown;
+    }
+    if (terms.length === 0) {
+      if (constant !== 0) throw new Error(`published relation ${r} does not add up`);
+      return;
+    }
+    lines.push(` e${r}: ${terms.join(" ")} = ${-constant}`);
+  });
+  lines.push("Bounds");
+  for (const q of quantities.values()) if (q.shown === null) lines.push(` ${q.name} >= 0`);
+  lines.push("End");
+  return lines.join("\n");
+}
+
+async function boundsOf(quantities: Quantity[], relations: Relation[]): Promise<HiddenBound[]> {
+  const solver = await highs();
+  const byName = new Map(quantities.map((q) => [q.name, q]));
+  const out: HiddenBound[] = [];
+  for (const q of quantities) {
+    if (q.shown !== null) continue;
+    const solve = (sense: "Maximize" | "Minimize") => {
+      const result = solver.solve(lpModel(sense, q.name, byName, relations), { output_flag: false });
+      if (result.Status === "Unbounded") return sense === "Maximize" ? Infinity : -Infinity;
+      if (result.Status !== "Optimal") throw new Error(`HiGHS status ${result.Status} for ${q.name}`);
+      return (result.Columns as Record<string, { Primal: number }>)[q.name].Primal;
+    };
+    out.push({ name: q.name, min: solve("Minimize"), max: solve("Maximize") });
+  }
+  return out;
+}
+
+const cellName = (prefix: string, i: number, j: number) => `${prefix}c_${i}_${j}`;
+const rowTotalName = (prefix: string, i: number) => `${prefix}r_${i}`;
+const columnTotalName = (j: number) => `k_${j}`;
+const GRAND = "g";
+
+function tableQuantities(prefix: string, t: PublishedTable, withMargins: boolean): Quantity[] {
+  const qs: Quantity[] = [];
+  t.cells.forEach((line, i) => line.forEach((v, j) => qs.push({ name: cellName(prefix, i, j), shown: v })));
+  t.rowTotals.forEach((v, i) => qs.push({ name: rowTotalName(prefix, i), shown: v }));
+  if (withMargins) {
+    t.columnTotals.forEach((v, j) => qs.push({ name: columnTotalName(j), shown: v }));
+    qs.push({ name: GRAND, shown: t.grandTotal });
+  }
+  return qs;
+}
+
+/** Row sums, column sums and both grand-total sums of one table (column totals shared by name). */
+function tableRelations(prefix: string, m: number, n: number): Relation[] {
+  const rel: Relation[] = [];
+  for (let i = 0; i < m; i++) {
+    rel.push([
+      ...Array.from({ length: n }, (_, j) => ({ name: cellName(prefix, i, j), coefficient: 1 })),
+      { name: rowTotalName(prefix, i), coefficient: -1 },
+    ]);
+  }
+  for (let j = 0; j < n; j++) {
+    rel.push([
+      ...Array.from({ length: m }, (_, i) => ({ name: cellName(prefix, i, j), coefficient: 1 })),
+      { name: columnTotalName(j), coefficient: -1 },
+    ]);
+  }
+  rel.push([...Array.from({ length: m }, (_, i) => ({ name: rowTotalName(prefix, i), coefficient: 1 })), { name: GRAND, coefficient: -1 }]);
+  rel.push([...Array.from({ length: n }, (_, j) => ({ name: columnTotalName(j), coefficient: 1 })), { name: GRAND, coefficient: -1 }]);
+  return rel;
+}
+
+/** HiGHS bounds for every hidden number of one published two-way table with margins. */
+export async function highsFlatBounds(t: PublishedTable): Promise<HiddenBound[]> {
+  const m = t.cells.length;
+  const n = t.columnTotals.length;
+  return boundsOf(tableQuantities("", t, true), tableRelations("", m, n));
+}
+
+/**
+ * HiGHS bounds for a department table and a site table published together: each site cell and site
+ * total is the sum of its departments; both tables share column totals and the grand total (their
+ * published values must agree, which is asserted).
+ */
+export async function highsLinkedBounds(
+  detail: PublishedTable,
+  parent: PublishedTable,
+  parentOfRow: number[],
+): Promise<HiddenBound[]> {
+  const n = detail.columnTotals.length;
+  const same = (a: unknown, b: unknown) => JSON.stringify(a) === JSON.stringify(b);
+  if (!same(detail.columnTotals, parent.columnTotals) || detail.grandTotal !== parent.grandTotal) {
+    throw new Error("linked tables publish different column totals");
+  }
+  const quantities = [...tableQuantities("d", detail, true), ...tableQuantities("p", parent, false)];
+  const relations = [...tableRelations("d", detail.cells.length, n), ...tableRelations("p", parent.cells.length, n)];
+  parent.cells.forEach((_, p) => {
+    const members = parentOfRow.map((q, d) => (q === p ? d : -1)).filter((d) => d >= 0);
+    for (let j = 0; j < n; j++) {
+      relations.push([...members.map((d) => ({ name: cellName("d", d, j), coefficient: 1 })), { name: cellName("p", p, j), coefficient: -1 }]);
+    }
+    relations.push([...members.map((d) => ({ name: rowTotalName("d", d), coefficient: 1 })), { name: rowTotalName("p", p), coefficient: -1 }]);
+  });
+  return boundsOf(quantities, relations);
+}
+
+/** Names the helpers use, so tests can map product audit rows onto HiGHS rows. */
+export const auditNames = { cellName, rowTotalName, columnTotalName, GRAND };
+
+/** Seeded uniform numbers for test tables (Mulberry32, a public-domain 32-bit generator). */
+export function seeded(seed: number): () => number {
+  let state = seed >>> 0;
+  return () => {
+    state = (state + 0x6d2b79f5) >>> 0;
+    let t = state;
+    t = Math.imul(t ^ (t >>> 15), t | 1);
+    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
+    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
+  };
+}
+
+/** Counts with many small cells: ~20 % zeros, ~40 % 1–4, ~40 % 5–24. */
+export function smallCountTable(random: () => number, m: number, n: number): number[][] {
+  return Array.from({ length: m }, () =>
+    Array.from({ length: n }, () => {
+      const u = random();
+      if (u < 0.2) return 0;
+      if (u < 0.6) return 1 + Math.floor(random() * 4);
+      return 5 + Math.floor(random() * 20);
+    }),
+  );
+}

@@ -1,0 +1,369 @@
+// Disclosure control for managers' readiness tables (DESIGN §3.6).
+// References: Hundepool et al. (2012) Statistical Disclosure Control, Wiley, ch. 7 (primary and
+// secondary cell suppression; auditing a pattern by the attacker LP) — details from memory; the
+// threshold of 5 is common practice in health statistics (no single published source); interval
+// values in the hand-made tables are worked out by hand in the comments; the random-table audits are
+// checked against HiGHS (npm `highs` 1.15.3, reference solver, independent formulation).
+
+import { describe, expect, it } from "vitest";
+import { median as referenceMedian } from "simple-statistics";
+import {
+  auditLinkedTables,
+  auditProtectedTable,
+  protectLinkedTables,
+  protectMedian,
+  protectTable,
+  suppressedShare,
+  type ProtectedTable,
+  type SuppressedInterval,
+} from "~/compute/disclosure";
+import {
+  auditNames,
+  highsFlatBounds,
+  highsLinkedBounds,
+  seeded,
+  smallCountTable,
+  type HiddenBound,
+  type PublishedTable,
+} from "./disclosure-audit";
+
+const labels = (prefix: string, k: number) => Array.from({ length: k }, (_, i) => `${prefix}${i + 1}`);
+const sum = (xs: number[]) => xs.reduce((a, b) => a + b, 0);
+
+/** Publishes only the primary suppressions (what a naive implementation would do). */
+function primaryOnly(counts: number[][], t = 5): ProtectedTable {
+  const small = (v: number) => (v > 0 && v < t ? null : v);
+  const n = counts[0].length;
+  const columnTotals = Array.from({ length: n }, (_, j) => sum(counts.map((r) => r[j])));
+  return {
+    rows: labels("r", counts.length),
+    columns: labels("c", n),
+    cells: counts.map((r) => r.map(small)),
+    rowTotals: counts.map((r) => small(sum(r))),
+    columnTotals: columnTotals.map(small),
+    grandTotal: small(sum(columnTotals)),
+    threshold: t,
+  };
+}
+
+const hiddenCells = (t: ProtectedTable) =>
+  t.cells.flatMap((line, i) => line.flatMap((v, j) => (v === null ? [[i, j]] : [])));
+
+const flatName = (a: SuppressedInterval) =>
+  a.kind === "cell"
+    ? auditNames.cellName("", a.row!, a.column!)
+    : a.kind === "rowTotal"
+      ? auditNames.rowTotalName("", a.row!)
+      : a.kind === "columnTotal"
+        ? auditNames.columnTotalName(a.column!)
+        : auditNames.GRAND;
+
+const linkedName = (a: SuppressedInterval) => {
+  const prefix = a.table === "detail" ? "d" : "p";
+  if (a.kind === "cell") return auditNames.cellName(prefix, a.row!, a.column!);
+  if (a.kind === "rowTotal") return auditNames.rowTotalName(prefix, a.row!);
+  return a.kind === "columnTotal" ? auditNames.columnTotalName(a.column!) : auditNames.GRAND;
+};
+
+/** The two solvers agree on every bound (both infinite, or equal to 1e-6). */
+function expectSameBounds(product: SuppressedInterval[], reference: HiddenBound[], name: (a: SuppressedInterval) => string) {
+  const byName = new Map(reference.map((b) => [b.name, b]));
+  expect(byName.size).toBe(product.length);
+  for (const a of product) {
+    const b = byName.get(name(a))!;
+    expect(b, name(a)).toBeDefined();
+    expect(Math.max(0, b.min)).toBeCloseTo(a.min, 6);
+    if (a.max === Infinity) expect(b.max).toBe(Infinity);
+    else expect(b.max).toBeCloseTo(a.max, 6);
+  }
+}
+
+/** Protected: interval at least 1 wide and, for these tables, reaching value − 1 and value + 1. */
+function expectProtected(audit: SuppressedInterval[]) {
+  for (const a of audit) {
+    expect(a.max - a.min, JSON.stringify(a)).toBeGreaterThanOrEqual(1);
+    expect(a.min).toBeLessThanOrEqual(a.value - 1);
+    expect(a.max).toBeGreaterThanOrEqual(a.value + 1);
+  }
+}
+
+describe("primary suppression", () => {
+  it("hides counts of 1–4, shows zeros and counts ≥ 5, hides small totals", () => {
+    // Row totals 3, 4, 31; column totals 14, 15, 9; grand 48 (by hand).
+    const counts = [
+      [1, 2, 0],
+      [3, 1, 0],
+      [10, 12, 9],
+    ];
+    const t = protectTable(labels("r", 3), labels("c", 3), counts);
+    expect(t.threshold).toBe(5);
+    expect(t.cells[0][0]).toBeNull();
+    expect(t.cells[0][1]).toBeNull();
+    expect(t.cells[1][0]).toBeNull();
+    expect(t.cells[1][1]).toBeNull();
+    expect(t.cells[0][2]).toBe(0);
+    expect(t.cells[1][2]).toBe(0);
+    expect(t.rowTotals[0]).toBeNull(); // 3 people
+    expect(t.rowTotals[1]).toBeNull(); // 4 people
+    const audit = auditProtectedTable(counts, t);
+    expectProtected(audit);
+    // Nothing hidden is a zero: a hidden zero could only move up, giving no two-sided cover.
+    for (const a of audit) expect(a.value).toBeGreaterThan(0);
+  });
+
+  it("publishes unchanged numbers wherever it publishes", () => {
+    const counts = smallCountTable(seeded(11), 6, 5);
+    const t = protectTable(labels("r", 6), labels("c", 5), counts);
+    t.cells.forEach((line, i) => line.forEach((v, j) => v !== null && expect(v).toBe(counts[i][j])));
+    t.rowTotals.forEach((v, i) => v !== null && expect(v).toBe(sum(counts[i])));
+  });
+
+  it("is deterministic", () => {
+    const counts = smallCountTable(seeded(5), 7, 6);
+    const a = protectTable(labels("r", 7), labels("c", 6), counts);
+    const b = protectTable(labels("r", 7), labels("c", 6), counts.map((r) => [...r]));
+    expect(b).toEqual(a);
+  });
+});
+
+describe("complementary suppression on hand-made tables", () => {
+  it("a row with a single suppressed cell: the row total would give it away", async () => {
+    const counts = [
+      [20, 3, 15],
+      [12, 14, 9],
+      [11, 8, 30],
+    ];
+    // Naive publication: 3 = 38 − 20 − 15 (row total minus the others), by hand.
+    const naive = auditProtectedTable(counts, primaryOnly(counts));
+    expect(naive).toEqual([{ kind: "cell", table: "detail", row: 0, column: 1, value: 3, min: 3, max: 3 }]);
+    expectSameBounds(naive, await highsFlatBounds(primaryOnly(counts)), flatName);
+
+    const t = protectTable(labels("r", 3), labels("c", 3), counts);
+    // Cheapest rectangle through (0,1), by hand: (0,2)+(1,1)+(1,2) = 15+14+9 = 38 beats
+    // (0,0)+(2,1)+(2,0) = 20+8+11 = 39, (0,0)+(1,1)+(1,0) = 46 and (0,2)+(2,1)+(2,2) = 53.
+    expect(hiddenCells(t)).toEqual([
+      [0, 1],
+      [0, 2],
+      [1, 1],
+      [1, 2],
+    ]);
+    expect(t.rowTotals.every((v) => v !== null)).toBe(true);
+    // One cycle: x01 = 3+s, x02 = 15−s, x12 = 9+s, x11 = 14−s ≥ 0 ⇒ s ∈ [−3, 14], by hand.
+    const audit = auditProtectedTable(counts, t);
+    expect(audit.map((a) => [a.row, a.column, a.min, a.max])).toEqual([
+      [0, 1, 0, 17],
+      [0, 2, 1, 18],
+      [1, 1, 0, 17],
+      [1, 2, 6, 23],
+    ]);
+    expectSameBounds(audit, await highsFlatBounds(t), flatName);
+  });
+
+  it("a column with a single suppressed cell: the column total would give it away", async () => {
+    const counts = [
+      [2, 3, 20, 15],
+      [11, 9, 30, 12],
+      [14, 16, 8, 25],
+    ];
+    // Row 0 hides two cells, but each is alone in its column: 2 = 27 − 11 − 14 and 3 = 28 − 9 − 16.
+    const naive = auditProtectedTable(counts, primaryOnly(counts));
+    expect(naive.map((a) => [a.row, a.column, a.min, a.max])).toEqual([
+      [0, 0, 2, 2],
+      [0, 1, 3, 3],
+    ]);
+    const t = protectTable(labels("r", 3), labels("c", 4), counts);
+    // Cheapest closing pair by hand: (1,0)+(1,1) = 20 beats (2,0)+(2,1) = 30.
+    expect(hiddenCells(t)).toEqual([
+      [0, 0],
+      [0, 1],
+      [1, 0],
+      [1, 1],
+    ]);
+    // x00 = 2+s, x01 = 3−s, x11 = 9+s, x10 = 11−s ≥ 0 ⇒ s ∈ [−2, 3], by hand.
+    const audit = auditProtectedTable(counts, t);
+    expect(audit.map((a) => [a.row, a.column, a.min, a.max])).toEqual([
+      [0, 0, 0, 5],
+      [0, 1, 0, 5],
+      [1, 0, 8, 13],
+      [1, 1, 7, 12],
+    ]);
+    expectSameBounds(audit, await highsFlatBounds(t), flatName);
+  });
+
+  it("only a multi-row combination reveals a cell: every line hides ≥ 2 numbers, yet one is exact", async () => {
+    const counts = [
+      [2, 3, 10, 10],
+      [3, 2, 1, 10],
+      [10, 10, 2, 3],
+      [10, 10, 3, 2],
+    ];
+    const naivePublished = primaryOnly(counts);
+    for (const line of naivePublished.cells) expect(line.filter((v) => v === null).length).toBeGreaterThanOrEqual(2);
+    for (let j = 0; j < 4; j++) expect(naivePublished.cells.filter((line) => line[j] === null).length).toBeGreaterThanOrEqual(2);
+    // Rows 1+2 minus columns 1+2 (1-based), by hand: (25 + 16) − (25 + 25 − 20 − 20) − 10 − 10 − 10 = 1.
+    const naive = auditProtectedTable(counts, naivePublished);
+    const exact = naive.filter((a) => a.min === a.max);
+    expect(exact).toEqual([{ kind: "cell", table: "detail", row: 1, column: 2, value: 1, min: 1, max: 1 }]);
+    expectSameBounds(naive, await highsFlatBounds(naivePublished), flatName);
+
+    const t = protectTable(labels("r", 4), labels("c", 4), counts);
+    const audit = auditProtectedTable(counts, t);
+    expect(audit.length).toBeGreaterThan(naive.length);
+    expectProtected(audit);
+    expectSameBounds(audit, await highsFlatBounds(t), flatName);
+  });
+
+  it("a table of one small count hides everything; nothing caps it", async () => {
+    const t = protectTable(["r1"], ["c1"], [[3]]);
+    expect(t).toMatchObject({ cells: [[null]], rowTotals: [null], columnTotals: [null], grandTotal: null });
+    const audit = auditProtectedTable([[3]], t);
+    expect(audit.map((a) => [a.min, a.max])).toEqual([
+      [0, Infinity],
+      [0, Infinity],
+      [0, Infinity],
+      [0, Infinity],
+    ]);
+    expectSameBounds(audit, await highsFlatBounds(t), flatName);
+  });
+
+  it("zero rows and columns show as published zeros", () => {
+    const t = protectTable(["a", "b"], ["x", "y"], [
+      [0, 0],
+      [7, 9],
+    ]);
+    expect(t).toMatchObject({ cells: [[0, 0], [7, 9]], rowTotals: [0, 16], columnTotals: [7, 9], grandTotal: 16 });
+  });
+});
+
+describe("audit: javascript-lp-solver (product) and HiGHS (reference) on 50 seeded tables", () => {
+  it("every hidden number has min < max, ±1 cover, and both solvers agree", async () => {
+    const random = seeded(20240611);
+    let hiddenTotal = 0;
+    for (let k = 0; k < 50; k++) {
+      const m = 3 + Math.floor(random() * 6);
+      const n = 3 + Math.floor(random() * 5);
+      const counts = smallCountTable(random, m, n);
+      const t = protectTable(labels("r", m), labels("c", n), counts);
+      // Every small count is hidden.
+      counts.forEach((line, i) => line.forEach((v, j) => v > 0 && v < 5 && expect(t.cells[i][j]).toBeNull()));
+      counts.forEach((line, i) => sum(line) > 0 && sum(line) < 5 && expect(t.rowTotals[i]).toBeNull());
+      const audit = auditProtectedTable(counts, t);
+      hiddenTotal += audit.length;
+      expectProtected(audit);
+      expectSameBounds(audit, await highsFlatBounds(t), flatName);
+    }
+    expect(hiddenTotal).toBeGreaterThan(200); // the tables really had many small counts
+  });
+});
+
+describe("linked views: department × stage and site × stage published together", () => {
+  const stages = ["consented", "baselined", "training"];
+  const departments = ["Kitting", "Paint Prep", "Inspection", "Final Assembly"];
+  const sites = ["North Yard", "North Yard", "Riverside", "Riverside"];
+  const counts = [
+    [2, 10, 10],
+    [10, 10, 10],
+    [10, 3, 10],
+    [10, 10, 10],
+  ];
+
+  it("protecting each table alone leaks by differencing; protecting them jointly does not", async () => {
+    const detailAlone = protectTable(departments, stages, counts);
+    const siteCounts = [
+      [12, 20, 20],
+      [20, 13, 20],
+    ];
+    const siteAlone = protectTable(["North Yard", "Riverside"], stages, siteCounts);
+    expect(siteAlone.cells.flat().every((v) => v !== null)).toBe(true); // nothing small at site level
+    // Kitting "consented" = North Yard 12 − Paint Prep 10 = 2 (by hand) when both are shown.
+    const joint = await highsLinkedBounds(detailAlone, siteAlone, [0, 0, 1, 1]);
+    const kitting = joint.find((b) => b.name === auditNames.cellName("d", 0, 0))!;
+    expect(kitting.min).toBeCloseTo(2, 6);
+    expect(kitting.max).toBeCloseTo(2, 6);
+
+    const input = { detail: { rows: departments, columns: stages, counts }, parentOf: sites };
+    const linked = protectLinkedTables(input);
+    expect(linked.parent.rows).toEqual(["North Yard", "Riverside"]);
+    expect(linked.detail.cells[0][0]).toBeNull();
+    expect(linked.detail.cells[2][1]).toBeNull();
+    const audit = auditLinkedTables(input, linked);
+    expectProtected(audit);
+    expectSameBounds(audit, await highsLinkedBounds(linked.detail, linked.parent, [0, 0, 1, 1]), linkedName);
+    // Shown site numbers are the department sums.
+    linked.parent.cells.forEach((line, p) =>
+      line.forEach((v, j) => v !== null && expect(v).toBe(counts[2 * p][j] + counts[2 * p + 1][j])),
+    );
+  });
+
+  it("20 seeded linked tables: no hidden number is recoverable from both tables together", async () => {
+    const random = seeded(77);
+    for (let k = 0; k < 20; k++) {
+      const siteCount = 2 + Math.floor(random() * 3);
+      const parentOf: string[] = [];
+      for (let s = 0; s < siteCount; s++) {
+        const size = 1 + Math.floor(random() * 4);
+        for (let d = 0; d < size; d++) parentOf.push(`site ${s + 1}`);
+      }
+      const n = 3 + Math.floor(random() * 4);
+      const detailCounts = smallCountTable(random, parentOf.length, n);
+      const input = { detail: { rows: labels("dept ", parentOf.length), columns: labels("stage ", n), counts: detailCounts }, parentOf };
+      const linked = protectLinkedTables(input);
+      detailCounts.forEach((line, i) => line.forEach((v, j) => v > 0 && v < 5 && expect(linked.detail.cells[i][j]).toBeNull()));
+      const audit = auditLinkedTables(input, linked);
+      expectProtected(audit);
+      const parentOfRow = parentOf.map((p) => Number(p.split(" ")[1]) - 1);
+      expectSameBounds(audit, await highsLinkedBounds(linked.detail, linked.parent, parentOfRow), linkedName);
+    }
+  });
+});
+
+describe("shares and medians", () => {
+  it("medians only for groups of at least the threshold", () => {
+    expect(protectMedian([4, 1, 3, 2])).toBeNull();
+    // Reference: simple-statistics median (odd and even counts).
+    expect(protectMedian([5, 1, 4, 2, 3])).toBe(referenceMedian([5, 1, 4, 2, 3]));
+    expect(protectMedian([6, 1, 4, 2, 3, 10])).toBe(referenceMedian([6, 1, 4, 2, 3, 10]));
+    expect(protectMedian({ count: 4, median: 12 })).toBeNull();
+    expect(protectMedian({ count: 5, median: 12 })).toBe(12);
+    expect(protectMedian([1, 2, 3, 4, 5, 6], 8)).toBeNull();
+  });
+
+  it("shares hidden for small groups and small numerators or remainders", () => {
+    expect(suppressedShare(3, 4)).toBeNull(); // group of 4
+    expect(suppressedShare(2, 20)).toBeNull(); // 10 % of 20 is 2 people
+    expect(suppressedShare(18, 20)).toBeNull(); // the other 2 people
+    expect(suppressedShare(10, 20)).toBe(0.5);
+    expect(suppressedShare(0, 20)).toBe(0);
+    expect(suppressedShare(20, 20)).toBe(1);
+    expect(() => suppressedShare(5, 4)).toThrow(RangeError);
+  });
+});
+
+describe("threshold", () => {
+  const counts = [
+    [4, 6, 9],
+    [8, 5, 7],
+    [9, 9, 9],
+  ];
+  it("a threshold below 5 is raised to 5", () => {
+    const t = protectTable(labels("r", 3), labels("c", 3), counts, { threshold: 3 });
+    expect(t.threshold).toBe(5);
+    expect(t.cells[0][0]).toBeNull(); // 4 < 5 although 4 ≥ 3
+    expect(protectMedian([1, 2, 3, 4], 2)).toBeNull();
+    expect(suppressedShare(4, 10, 1)).toBeNull();
+    expect(protectLinkedTables({ detail: { rows: ["a"], columns: ["x"], counts: [[7]] }, parentOf: ["s"], threshold: 2 }).threshold).toBe(5);
+  });
+  it("a larger threshold hides more", () => {
+    const t = protectTable(labels("r", 3), labels("c", 3), counts, { threshold: 7 });
+    expect(t.threshold).toBe(7);
+    expect(t.cells[0][1]).toBeNull(); // 6
+    expect(t.cells[1][1]).toBeNull(); // 5
+    expectProtected(auditProtectedTable(counts, t));
+  });
+  it("refuses nonsense", () => {
+    expect(() => protectTable(["r"], ["c"], [[1]], { threshold: Number.NaN })).toThrow(RangeError);
+    expect(() => protectTable(["r"], ["c"], [[1.5]])).toThrow(RangeError);
+    expect(() => protectTable(["r"], ["c"], [[-1]])).toThrow(RangeError);
+    expect(() => protectTable(["r", "s"], ["c"], [[1]])).toThrow(RangeError);
+  });
+});
