@@ -1,0 +1,2 @@
+import type { AllocationProblem } from "../allocation";
+export type Problem = AllocationProblem;
