@@ -1,4 +1,11 @@
 import { type RouteConfig, index, layout, route } from "@react-router/dev/routes";
+import * as allocation from "./route-groups/allocation";
+import * as assessment from "./route-groups/assessment";
+import * as forecast from "./route-groups/forecast";
+import * as portals from "./route-groups/portals";
+import * as readiness from "./route-groups/readiness";
+
+const areas = [assessment, forecast, allocation, readiness, portals];
 
 // Every route here is walked by tests/integration/route-guard.test.ts: it must be on the public
 // allow-list there, or refuse anonymous access.
@@ -24,7 +31,9 @@ export default [
     route("admin/consent-texts", "routes/admin.consent-texts.tsx"),
     route("admin/access-log", "routes/admin.access-log.tsx"),
     route("admin/outbox", "routes/admin.outbox.tsx"),
+    ...areas.flatMap((a) => a.routes),
   ]),
+  ...areas.flatMap((a) => a.outsideShell),
   route("admin/access-log/export.xlsx", "routes/admin.access-log.export.ts"),
 
   route("api/v1/health", "routes/api.v1.health.ts"),

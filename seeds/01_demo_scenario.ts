@@ -1,6 +1,7 @@
 import type { Knex } from "knex";
 import { DEMO_PERSONAS } from "./lib/personas";
 import { mulberry32, pick } from "./lib/prng";
+import { emptyAllTables } from "./lib/reset";
 
 // ─────────────────────────────────────────────────────────────────────────────────────────────
 // INVENTED DEMO DATA. "Harrow & Vale Fabrication", its sites, departments, people and devices are
@@ -43,12 +44,7 @@ const TRAINER_NAMES = ["Ines Calloway", "Bram Ketteridge", "Odile Farrant", "Jos
 export async function seed(knex: Knex): Promise<void> {
   const rand = mulberry32(20261201);
   await knex.transaction(async (trx) => {
-    // Clear in dependency order so the seed can be re-run.
-    for (const t of ["sessions", "api_key_sites", "api_keys", "trainer_certifications", "trainers", "device_units",
-      "device_types", "access_log", "consent_records", "consent_text_versions", "stage_changes", "workers",
-      "role_assignments", "users", "departments", "sites", "organisations"]) {
-      await trx(t).del();
-    }
+    await emptyAllTables(trx);
     const [org] = await trx("organisations")
       .insert({ name: "Harrow & Vale Fabrication (invented)", disclosure_threshold: 5, retention_days: 3650, created_at: SEED_NOW })
       .returning("id");

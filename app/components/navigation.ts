@@ -1,9 +1,15 @@
 import type { Role } from "~/auth/permissions";
+import * as allocation from "~/route-groups/allocation";
+import * as assessment from "~/route-groups/assessment";
+import * as forecast from "~/route-groups/forecast";
+import * as portals from "~/route-groups/portals";
+import * as readiness from "~/route-groups/readiness";
+import type { NavItem } from "~/route-groups/types";
 
-export interface NavItem { to: string; label: string }
+export type { NavItem };
 
-// Each role's own navigation. Later capabilities add their entries here.
-const NAV: Record<Role, NavItem[]> = {
+// Each role's own navigation: the foundation's entries, then each area's (app/route-groups/*).
+const BASE: Record<Role, NavItem[]> = {
   assessor: [{ to: "/assess", label: "Assessment home" }],
   coordinator: [{ to: "/coordinate", label: "Coordination home" }],
   trainer: [{ to: "/train", label: "My training days" }],
@@ -18,10 +24,12 @@ const NAV: Record<Role, NavItem[]> = {
     { to: "/admin/access-log", label: "Access log" },
   ],
 };
+const AREAS = [assessment, forecast, allocation, readiness, portals];
 
 export function navFor(roles: Role[], showOutbox: boolean): { role: Role; items: NavItem[] }[] {
-  return roles.map((role) => ({
-    role,
-    items: role === "admin" && showOutbox ? [...NAV.admin, { to: "/admin/outbox", label: "Mail outbox (local)" }] : NAV[role],
-  }));
+  return roles.map((role) => {
+    const items = [...BASE[role], ...AREAS.flatMap((a) => a.nav[role] ?? [])];
+    if (role === "admin" && showOutbox) items.push({ to: "/admin/outbox", label: "Mail outbox (local)" });
+    return { role, items };
+  });
 }
