@@ -26,6 +26,8 @@ import {
   type HiddenBound,
   type PublishedTable,
 } from "./disclosure-audit";
+import { firstNarrowEntry } from "~/compute/disclosure/attacker";
+import { flatTableSystem } from "~/compute/disclosure/table-system";
 
 const labels = (prefix: string, k: number) => Array.from({ length: k }, (_, i) => `${prefix}${i + 1}`);
 const sum = (xs: number[]) => xs.reduce((a, b) => a + b, 0);
@@ -206,7 +208,17 @@ describe("complementary suppression on hand-made tables", () => {
     expect(exact).toEqual([{ kind: "cell", table: "detail", row: 1, column: 2, value: 1, min: 1, max: 1 }]);
     expectSameBounds(naive, await highsFlatBounds(naivePublished), flatName);
 
+    // The product's fast check (witness tables from LP optima) finds the same cell: grid index 1·5 + 2.
+    const system = flatTableSystem(counts, 4);
+    const mask = (p: ProtectedTable) => [
+      ...p.cells.flatMap((line, i) => [...line, p.rowTotals[i]]),
+      ...p.columnTotals,
+      p.grandTotal,
+    ].map((v) => v === null);
+    expect(firstNarrowEntry(system, mask(naivePublished), 1)).toBe(7);
+
     const t = protectTable(labels("r", 4), labels("c", 4), counts);
+    expect(firstNarrowEntry(system, mask(t), 1)).toBeNull();
     const audit = auditProtectedTable(counts, t);
     expect(audit.length).toBeGreaterThan(naive.length);
     expectProtected(audit);
@@ -328,6 +340,8 @@ describe("shares and medians", () => {
     expect(protectMedian([1, 2, 3, 4, 5, 6], 8)).toBeNull();
   });
 
+  // Rule of DESIGN §3.6 (threshold 5: common practice); a share with its group size gives the count
+  // back, so numerator and remainder follow the cell rule (1–4 hidden, 0 shown).
   it("shares hidden for small groups and small numerators or remainders", () => {
     expect(suppressedShare(3, 4)).toBeNull(); // group of 4
     expect(suppressedShare(2, 20)).toBeNull(); // 10 % of 20 is 2 people
@@ -339,6 +353,7 @@ describe("shares and medians", () => {
   });
 });
 
+// Threshold of 5: common practice in health statistics, no single published source (DESIGN §3.6).
 describe("threshold", () => {
   const counts = [
     [4, 6, 9],
@@ -365,5 +380,6 @@ describe("threshold", () => {
     expect(() => protectTable(["r"], ["c"], [[1.5]])).toThrow(RangeError);
     expect(() => protectTable(["r"], ["c"], [[-1]])).toThrow(RangeError);
     expect(() => protectTable(["r", "s"], ["c"], [[1]])).toThrow(RangeError);
+    expect(() => protectLinkedTables({ detail: { rows: ["a", "b"], columns: ["x"], counts: [[1], [2]] }, parentOf: ["s"] })).toThrow(RangeError);
   });
 });

@@ -7,7 +7,7 @@
 // Salazar-González 2000 and the network heuristics before it, reduced to one cell — from memory).
 // The LP is always feasible: δ = table / value_k scales the whole table and satisfies every relation.
 
-import { attackerBounds, type AttackerBound } from "./attacker";
+import { firstNarrowEntry } from "./attacker";
 import { echelon, hiddenSystem, linearlyDetermined } from "./linear-algebra";
 import { solveLinearProgram } from "./lp-solver";
 import type { TableSystem } from "./table-system";
@@ -100,21 +100,16 @@ export function protectAlgebraically(system: TableSystem, start: boolean[], cost
  * at least REQUIRED_WIDTH wide. Each round hides at least one more positive number, so it ends; with
  * every positive number hidden the published values are all zero and any table can be scaled up.
  */
-export function auditUntilSafe(
-  system: TableSystem,
-  start: boolean[],
-  cost: CostOf,
-): { suppressed: boolean[]; bounds: AttackerBound[] } {
+export function auditUntilSafe(system: TableSystem, start: boolean[], cost: CostOf): boolean[] {
   const suppressed = [...start];
   for (;;) {
-    const bounds = attackerBounds(system, suppressed);
-    const weak = bounds.find((b) => b.max - b.min < REQUIRED_WIDTH);
-    if (!weak) return { suppressed, bounds };
-    let added = protectionSet(system, suppressed, weak.entry, cost);
-    if (added.length === 0) added = neighbours(system, suppressed, weak.entry);
+    const weak = firstNarrowEntry(system, suppressed, REQUIRED_WIDTH);
+    if (weak === null) return suppressed;
+    let added = protectionSet(system, suppressed, weak, cost);
+    if (added.length === 0) added = neighbours(system, suppressed, weak);
     if (added.length === 0) {
       const left = system.entries.findIndex((entry, e) => !suppressed[e] && entry.value > 0);
-      if (left < 0) return { suppressed, bounds };
+      if (left < 0) return suppressed;
       added = [left];
     }
     for (const e of added) suppressed[e] = true;
