@@ -83,7 +83,9 @@ export function solveWithBranchAndCut(problem: AllocationProblem, options: Alloc
       const pool = new CutPool(inst);
       const lpOrder = (z: Map<number, number>) =>
         [...workersWithOptions].sort((a, b) => zOf(z, inst, b) - zOf(z, inst, a) || reducedOf(b) - reducedOf(a) || a - b);
-      const maxNodes = Math.max(20, Math.floor(timeLimitMs / 15));
+      // a node costs about 0.5 ms at 50 candidates and grows with the square of the LP size
+      const msPerNode = 0.5 * Math.max(1, (inst.candidates.length / 50) ** 2);
+      const maxNodes = Math.max(50, Math.floor((0.5 * timeLimitMs) / msPerNode));
       const result = branchAndCut(inst, pool, {
         incumbent: () => bestValue,
         maxNodes,
