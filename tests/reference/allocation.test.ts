@@ -7,6 +7,9 @@ import { solveAllocation, type AllocationPlan, type AllocationProblem } from "..
 import { checkPlan } from "./allocation-checker";
 import { buildLp, loadHighs, solveWithHighs } from "./allocation-highs";
 import { randomInstance } from "./allocation-instances";
+import { FlowNetwork } from "../../app/compute/allocation/maxflow";
+import { buildInstance } from "../../app/compute/allocation/instance";
+import { cutViolation, starterCuts, WeekCapacity } from "../../app/compute/allocation/cuts";
 
 async function solveChecked(problem: AllocationProblem, options?: Parameters<typeof solveAllocation>[1]): Promise<AllocationPlan> {
   const plan = await solveAllocation(problem, options);
@@ -188,7 +191,62 @@ describe("hand-made instances with an answer found by hand", () => {
   });
 });
 
+describe("building blocks", () => {
+  it("max-flow reproduces the textbook example (value 23)", () => {
+    // Cormen, Leiserson, Rivest & Stein, Introduction to Algorithms, 3rd ed. (2009), Figure 26.1: max flow 23.
+    const net = new FlowNetwork(6); // 0 = s, 1 = t, 2..5 = v1..v4
+    const [s, t, v1, v2, v3, v4] = [0, 1, 2, 3, 4, 5];
+    net.addEdge(s, v1, 16); net.addEdge(s, v2, 13); net.addEdge(v1, v3, 12); net.addEdge(v2, v1, 4);
+    net.addEdge(v2, v4, 14); net.addEdge(v3, v2, 9); net.addEdge(v3, t, 20); net.addEdge(v4, v3, 7); net.addEdge(v4, t, 4);
+    expect(net.augment(s, t)).toBeCloseTo(23, 12);
+    // the minimum cut of that figure is {s, v1, v2, v4} | {v3, t}: capacity 12 + 7 + 4 = 23
+    expect([...net.sourceSide(s)]).toEqual([1, 0, 1, 1, 0, 1]);
+  });
+
+  it("every capacity cut is satisfied by HiGHS's optimal selections (the cuts are valid)", async () => {
+    for (const seed of [5, 6, 7]) {
+      const problem = randomInstance({ workers: 40, deviceTypes: 3, trainers: 4, weeks: 6, seed });
+      const ref = await solveWithHighs(problem, 60);
+      expect(ref.optimal).toBe(true);
+      const inst = buildInstance(problem);
+      const z = new Map<number, number>();
+      for (const [wid, did] of ref.chosen) {
+        const c = inst.candidates.find((x) => inst.workers[x.worker].id === wid && inst.deviceIds[x.device] === did);
+        expect(c).toBeDefined();
+        z.set(c!.index, 1);
+      }
+      const cuts = starterCuts(inst, new WeekCapacity(inst));
+      expect(cuts.length).toBeGreaterThan(50);
+      for (const cut of cuts) expect(cutViolation(cut, inst, z)).toBeLessThanOrEqual(1e-6);
+    }
+  });
+});
+
 describe("behaviour", () => {
+  it("handles an empty problem and degenerate input", async () => {
+    const empty = await solveChecked({ weeks: 0, deviceTypes: [], trainers: [], workers: [] });
+    expect(empty).toMatchObject({ status: "optimal", objective: 0, bound: 0, assignments: [], unassigned: [] });
+    const noTrainer = await solveChecked({
+      weeks: 2,
+      deviceTypes: [{ id: "arm", hoursPerWeek: [10, 10] }],
+      trainers: [],
+      workers: [{ id: "x", group: "g", priority: 3, options: [{ deviceTypeId: "arm", hoursNeeded: 5 }, { deviceTypeId: "unknown", hoursNeeded: 1 }], maxHoursPerWeek: 5 }],
+    });
+    // no certified trainer means no supervised hours at all
+    expect(noTrainer.objective).toBe(0);
+    expect(noTrainer.unassigned[0].reason).toMatch(/more hours than can fit/);
+  });
+
+  it("a short time limit or an expired deadline still gives a valid plan with an honest bound", async () => {
+    const problem = randomInstance({ workers: 60, deviceTypes: 3, trainers: 4, weeks: 8, seed: 11 });
+    const ref = await solveWithHighs(problem, 60);
+    let calls = 0;
+    const rushed = await solveChecked(problem, { timeLimitMs: 100, clock: () => (calls++ < 3 ? 0 : 1e9) });
+    expect(rushed.objective).toBeLessThanOrEqual(ref.objective);
+    expect(rushed.bound).toBeGreaterThanOrEqual(ref.objective - 1e-6);
+    expect(rushed.objective).toBeGreaterThan(0.8 * ref.objective);
+  });
+
   it("is deterministic and reports progress", async () => {
     const problem = randomInstance({ workers: 30, deviceTypes: 3, trainers: 4, weeks: 8, seed: 77 });
     const phases: { phase: string; fraction: number }[] = [];

@@ -14,10 +14,11 @@ export function bindingResources(inst: Instance, lag: LagrangianResult, chosen: 
   const pool = left.length ? left : inst.workers;
   const typical = pool.reduce((s, w) => s + w.priority, 0) / Math.max(1, pool.length);
   const perHours = (price: number) => (typical > 0 && price > 0 ? typical / price : Infinity);
-  const say = (price: number) => {
-    const h = perHours(price);
-    return `worth about ${price.toFixed(3)} priority points per extra hour — roughly one more worker ready for every ${h < 1 ? h.toFixed(2) : Math.round(h)} extra hours`;
-  };
+  const count = (h: number) => (h < 1 ? h.toFixed(2) : String(Math.round(h)));
+  const say = (price: number) =>
+    `worth about ${price.toFixed(3)} priority points per extra hour — roughly one more worker ready for every ${count(perHours(price))} extra hours`;
+  const sayWeekly = (price: number) =>
+    `worth about ${price.toFixed(3)} priority points — roughly one more worker ready for every ${count(perHours(price))} hours added to each week`;
   const weekly: BindingResource[] = [];
   const totals: BindingResource[] = [];
   inst.deviceIds.forEach((id, d) => {
@@ -29,7 +30,7 @@ export function bindingResources(inst: Instance, lag: LagrangianResult, chosen: 
       weekly.push({ kind: "device", id, week: k, shadowPrice: p, description: `One more bookable hour on device type ${id} in week ${k + 1} of the horizon is ${say(p)}.` });
     });
     if (sum >= MIN_PRICE)
-      totals.push({ kind: "device", id, week: null, shadowPrice: sum, description: `One more bookable hour on device type ${id} in every week of the horizon is ${say(sum)}.` });
+      totals.push({ kind: "device", id, week: null, shadowPrice: sum, description: `One more bookable hour on device type ${id} in every week of the horizon (${inst.weeks} h in all) is ${sayWeekly(sum)}.` });
   });
   inst.trainerIds.forEach((id, t) => {
     const held = inst.deviceIds.filter((_, d) => inst.trainerHolds[t][d]).join(", ");
@@ -42,7 +43,7 @@ export function bindingResources(inst: Instance, lag: LagrangianResult, chosen: 
       weekly.push({ kind: "trainer", id, week: k, shadowPrice: p, description: `One more hour from trainer ${id} (${held}) in week ${k + 1} of the horizon is ${say(p)}.` });
     });
     if (sum >= MIN_PRICE)
-      totals.push({ kind: "trainer", id, week: null, shadowPrice: sum, description: `One more hour from trainer ${id} (${held}) in every week of the horizon is ${say(sum)}.` });
+      totals.push({ kind: "trainer", id, week: null, shadowPrice: sum, description: `One more hour from trainer ${id} (${held}) in every week of the horizon (${inst.weeks} h in all) is ${sayWeekly(sum)}.` });
   });
   const byPrice = (a: BindingResource, b: BindingResource) => b.shadowPrice - a.shadowPrice || a.kind.localeCompare(b.kind) || a.id.localeCompare(b.id) || (a.week ?? -1) - (b.week ?? -1);
   return [...totals.sort(byPrice), ...weekly.sort(byPrice).slice(0, limit)];

@@ -35,7 +35,8 @@ export function solveWithBranchAndCut(problem: AllocationProblem, options: Alloc
   );
   const hoursFirst = (w: number) => optionsByHours(inst, w);
   meetGroupMinimums(sel, byDensity);
-  fill(sel, byDensity, hoursFirst, budget);
+  // the first greedy pass always runs to the end: a full plan is worth more than a punctual one
+  fill(sel, byDensity, hoursFirst, { limit: Infinity });
   let best = sel.snapshot();
   let bestValue = sel.meetsGroupMinimums() ? sel.objective : -Infinity;
   const offer = () => {

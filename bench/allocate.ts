@@ -1,0 +1,58 @@
+/**
+ * Allocation benchmark: seeded instances S, M, L, XL solved by Limberly's allocator and by HiGHS on the
+ * time-indexed MIP (the reference optimum; HiGHS is used here only). Run: npx tsx bench/allocate.ts
+ * Targets: M and L ≥ 99 % of HiGHS's objective, L under 10 s, XL under 60 s with its gap shown.
+ */
+import { solveAllocation } from "../app/compute/allocation";
+import { randomInstance } from "../tests/reference/allocation-instances";
+import { solveWithHighs } from "../tests/reference/allocation-highs";
+
+interface Size { name: string; workers: number; deviceTypes: number; trainers: number; weeks: number; timeLimitMs: number; targetMs?: number; targetRatio?: number }
+
+const sizes: Size[] = [
+  { name: "S", workers: 40, deviceTypes: 3, trainers: 4, weeks: 8, timeLimitMs: 10_000 },
+  { name: "M", workers: 150, deviceTypes: 4, trainers: 6, weeks: 12, timeLimitMs: 10_000, targetRatio: 0.99 },
+  { name: "L", workers: 400, deviceTypes: 6, trainers: 10, weeks: 12, timeLimitMs: 9_000, targetMs: 10_000, targetRatio: 0.99 },
+  { name: "XL", workers: 1000, deviceTypes: 6, trainers: 20, weeks: 16, timeLimitMs: 50_000, targetMs: 60_000 },
+];
+const HIGHS_LIMIT_S = 120;
+
+export async function main(): Promise<void> {
+  const rows: Record<string, string | number>[] = [];
+  for (const s of sizes) {
+    const problem = randomInstance({ workers: s.workers, deviceTypes: s.deviceTypes, trainers: s.trainers, weeks: s.weeks, seed: 2024 });
+    const t0 = performance.now();
+    // the bench passes a wall clock so the time limit is also enforced as a deadline
+    const plan = await solveAllocation(problem, { timeLimitMs: s.timeLimitMs, clock: () => performance.now() });
+    const ours = performance.now() - t0;
+    const ref = await solveWithHighs(problem, HIGHS_LIMIT_S);
+    const ratio = ref.objective > 0 ? plan.objective / ref.objective : NaN;
+    const okRatio = s.targetRatio === undefined || ratio >= s.targetRatio;
+    const okTime = s.targetMs === undefined || ours < s.targetMs;
+    rows.push({
+      size: s.name,
+      workers: s.workers,
+      "ours obj": plan.objective,
+      "HiGHS obj": ref.optimal ? ref.objective : `${ref.objective} (best found, ${HIGHS_LIMIT_S} s limit)`,
+      "obj ratio": ratio.toFixed(4),
+      "target ratio": s.targetRatio ? `≥ ${s.targetRatio}` : "—",
+      "ours ms": Math.round(ours),
+      "HiGHS ms": Math.round(ref.timeMs),
+      "time ratio": (ours / ref.timeMs).toFixed(3),
+      "target ms": s.targetMs ? `< ${s.targetMs}` : "—",
+      status: plan.status,
+      bound: plan.bound,
+      gap: `${((plan.gap ?? 0) * 100).toFixed(2)} %`,
+      "meets targets": okRatio && okTime ? "yes" : "NO",
+    });
+  }
+  console.table(rows);
+  const cols = Object.keys(rows[0]);
+  console.log(`\n| ${cols.join(" | ")} |\n|${cols.map(() => "---").join("|")}|`);
+  for (const r of rows) console.log(`| ${cols.map((c) => r[c]).join(" | ")} |`);
+}
+
+main().then(
+  () => process.exit(0),
+  (e) => { console.error(e); process.exit(1); },
+);
