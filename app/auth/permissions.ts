@@ -6,7 +6,7 @@ export type Role = (typeof ROLES)[number];
 export const ACTIONS = [
   "workers.read", "workers.write", "roster.import", "consent.manage",
   "assessments.read", "assessments.write", "norms.manage",
-  "forecast.read", "models.manage",
+  "forecast.read", "models.manage", "progress.read",
   "fleet.manage", "allocation.run", "allocation.publish", "sessions.plan",
   "sessions.own", "sessions.log",
   "readiness.read",
@@ -17,9 +17,9 @@ export type Action = (typeof ACTIONS)[number];
 
 const TABLE: Record<Role, readonly Action[]> = {
   assessor: ["workers.read", "workers.write", "roster.import", "consent.manage", "assessments.read", "assessments.write",
-    "norms.manage", "forecast.read", "models.manage"],
-  coordinator: ["workers.read", "forecast.read", "fleet.manage", "allocation.run", "allocation.publish", "sessions.plan"],
-  trainer: ["sessions.own", "sessions.log"],
+    "norms.manage", "forecast.read", "models.manage", "progress.read", "sessions.log"],
+  coordinator: ["workers.read", "forecast.read", "progress.read", "fleet.manage", "allocation.run", "allocation.publish", "sessions.plan"],
+  trainer: ["sessions.own", "sessions.log", "progress.read"],
   manager: ["readiness.read"],
   worker: ["self.read", "self.consent"],
   // Admin runs the system but never sees health data (DESIGN §1).
