@@ -1,3 +1,4 @@
+import { Link } from "react-router";
 import type { Route } from "./+types/assess._index";
 import { requireUser } from "~/auth/guard.server";
 import { STAGE_LABELS, STAGES, type Stage } from "~/components/stage";
@@ -20,6 +21,17 @@ export default function AssessHome({ loaderData }: Route.ComponentProps) {
         <h1 className="page-title" data-testid="role-home">Assessment home</h1>
         <p className="text-ink-soft">Workers at your sites by readiness stage.</p>
       </div>
+      <nav aria-label="Assessment tasks" className="grid gap-3 sm:grid-cols-3">
+        {[
+          { to: "/assess/workers", title: "Workers", text: "Find a worker, record consent, start a baseline." },
+          { to: "/assess/roster", title: "Roster import", text: "Upload the roster (CSV or XLSX), preview, import." },
+          { to: "/assess/measures", title: "Measures", text: "Configure the baseline battery." },
+          { to: "/assess/norms", title: "Norms", text: "Cohort-derived or published norm sets." },
+          { to: "/assess/reliability", title: "Reliability", text: "ICC, SEM and MDC95 from repeated baselines." },
+        ].map((l) => (
+          <Link key={l.to} to={l.to} className="card block hover:bg-spruce-50"><span className="font-semibold text-spruce-700">{l.title}</span><span className="block text-sm text-ink-soft">{l.text}</span></Link>
+        ))}
+      </nav>
       <div className="card overflow-x-auto p-0">
         <table className="table-base">
           <caption className="sr-only">Workers by site and stage</caption>

@@ -1,0 +1,35 @@
+import { MaxFileSizeExceededError, MaxFilesExceededError, MultipartParseError, parseFormData } from "@remix-run/form-data-parser";
+
+// Multipart uploads (@remix-run/form-data-parser) with a size cap: the file is read into memory only
+// up to `maxBytes`; a larger file is refused with a message naming the limit.
+export class UploadError extends Error {}
+
+export interface UploadedFile { name: string; bytes: Uint8Array; size: number }
+
+export async function readMultipart(request: Request, opts: { fileField: string; maxBytes: number }): Promise<{ form: FormData; file: UploadedFile | null }> {
+  const contentType = request.headers.get("Content-Type") ?? "";
+  if (!contentType.startsWith("multipart/form-data")) {
+    return { form: await request.formData(), file: null };
+  }
+  let file: UploadedFile | null = null;
+  try {
+    const form = await parseFormData(request, { maxFileSize: opts.maxBytes, maxFiles: 1 }, async (upload) => {
+      if (upload.fieldName !== opts.fileField) return null;
+      const bytes = new Uint8Array(await upload.arrayBuffer());
+      if (bytes.byteLength > 0 || upload.name) file = { name: upload.name || "upload", bytes, size: bytes.byteLength };
+      return null;
+    });
+    return { form, file };
+  } catch (e) {
+    if (e instanceof MaxFileSizeExceededError) throw new UploadError(`The file is larger than ${formatBytes(opts.maxBytes)}, the most accepted.`);
+    if (e instanceof MaxFilesExceededError) throw new UploadError("Upload one file at a time.");
+    if (e instanceof MultipartParseError) throw new UploadError(`The upload could not be read: ${e.message}`);
+    throw e;
+  }
+}
+
+export function formatBytes(n: number): string {
+  if (n >= 1024 * 1024) return `${(n / 1024 / 1024).toFixed(n % (1024 * 1024) === 0 ? 0 : 1)} MB`;
+  if (n >= 1024) return `${(n / 1024).toFixed(1)} kB`;
+  return `${n} bytes`;
+}

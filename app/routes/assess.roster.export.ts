@@ -1,0 +1,12 @@
+import type { Route } from "./+types/assess.roster.export";
+import { requireUser } from "~/auth/guard.server";
+import { ROSTER_EXPORT_COLUMNS, rosterExportRows } from "~/models/roster.server";
+import { workbookBuffer, xlsxResponse } from "~/xlsx.server";
+
+// Roster export (no health data): the import's own columns, formula-like cells neutralised by workbookBuffer.
+export async function loader({ request }: Route.LoaderArgs) {
+  const p = await requireUser(request, "roster.import");
+  const rows = await rosterExportRows(p.scope);
+  const buf = await workbookBuffer([{ name: "Roster", columns: ROSTER_EXPORT_COLUMNS, rows }]);
+  return xlsxResponse(buf, `limberly-roster-${new Date().toISOString().slice(0, 10)}.xlsx`);
+}

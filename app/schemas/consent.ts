@@ -1,0 +1,21 @@
+import { z } from "zod";
+
+export const PURPOSE_LABELS = {
+  assessment: "Assessment: baseline may be recorded",
+  planning: "Planning: forecast may be used to allocate training",
+  model: "Model: de-identified record may join a model cohort",
+} as const;
+
+// Consent forms (DESIGN §4): purposes ticked by the worker, witnessed by an assessor.
+const purpose = z.enum(["assessment", "planning", "model"], { message: "Purpose: assessment, planning or model." });
+
+export const recordConsentSchema = z.object({
+  purposes: z.preprocess((v) => (v == null ? [] : ([] as unknown[]).concat(v)), z.array(purpose).min(1, "Purposes: tick at least one purpose the worker agrees to.")),
+  witnessUserId: z.coerce.number({ message: "Witness: choose the assessor who witnessed it." }).int().positive("Witness: choose the assessor who witnessed it."),
+  confirmRead: z.literal("on", { message: "Confirm that the worker was shown the current text of each ticked purpose." }),
+});
+
+export const withdrawConsentSchema = z.object({
+  purpose,
+  confirm: z.string().refine((s) => s.trim().toUpperCase() === "WITHDRAW", "Type WITHDRAW to confirm; the data are erased at once."),
+});
