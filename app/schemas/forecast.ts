@@ -1,0 +1,108 @@
+import { z } from "zod";
+
+// Forms and payloads of the forecast area. The worker-forecast payload is one schema for the page loader
+// and for GET /api/v1/workers/:workerId/forecast.
+
+export type ExclusionReason = "still_training" | "stopped" | "withdrawn" | "no_model_consent" | "missing_measures";
+export const EXCLUSION_LABELS: Record<ExclusionReason, string> = {
+  still_training: "Still training (not yet at the criterion: censored, never used as an outcome)",
+  stopped: "Stopped before reaching the criterion (censored)",
+  withdrawn: "Model-use consent withdrawn",
+  no_model_consent: "No model-use consent on record",
+  missing_measures: "Missing one or more chosen baseline measures",
+};
+
+/** Drift warnings need a few outcomes; below this the coverage is shown but not judged. */
+export const DRIFT_MINIMUM_OUTCOMES = 5;
+/** Warn assessors when the 80 % interval holds fewer than this share of actual outcomes. */
+export const DRIFT_COVERAGE_WARNING = 0.7;
+
+const id = z.coerce.number({ message: "Choose a value." }).int("Choose a value.").positive("Choose a value.");
+
+export const criterionFormSchema = z.object({
+  deviceTypeId: id,
+  scoreThreshold: z.coerce.number({ message: "Score threshold must be a number between 0 and 1." })
+    .min(0.05, "Score threshold must be at least 0.05.").max(1, "Score threshold must be at most 1."),
+  consecutiveSessions: z.coerce.number({ message: "Consecutive sessions must be a whole number." })
+    .int("Consecutive sessions must be a whole number.").min(1, "At least 1 session.").max(10, "At most 10 sessions."),
+});
+export type CriterionForm = z.infer<typeof criterionFormSchema>;
+
+export const workbenchFormSchema = z.object({
+  deviceTypeId: id,
+  measureIds: z.preprocess((v) => (v == null || v === "" ? [] : ([] as unknown[]).concat(v)),
+    z.array(z.coerce.number().int().positive()).min(1, "Choose at least one measure.").max(12, "Choose at most 12 measures.")),
+  ridge: z.preprocess((v) => (v === "" || v == null ? 0 : v),
+    z.coerce.number({ message: "Ridge penalty must be a number." }).min(0, "Ridge penalty cannot be negative.").max(100, "Ridge penalty must be at most 100.")),
+  notes: z.string().trim().max(2000, "Notes are limited to 2,000 characters.").optional(),
+});
+export type WorkbenchForm = z.infer<typeof workbenchFormSchema>;
+
+export const logSessionFormSchema = z.object({
+  durationHours: z.coerce.number({ message: "Duration must be a number of hours." })
+    .gt(0, "Duration must be more than 0 hours.").max(8, "Duration must be at most 8 hours in one session."),
+  taskScore: z.coerce.number({ message: "Task score must be a number between 0 and 1." })
+    .min(0, "Task score must be between 0 and 1.").max(1, "Task score must be between 0 and 1."),
+  notes: z.string().trim().max(2000, "Notes are limited to 2,000 characters.").optional(),
+});
+export type LogSessionForm = z.infer<typeof logSessionFormSchema>;
+
+export const planningQuantileSchema = z.object({
+  planningQuantile: z.coerce.number({ message: "Planning quantile must be a number." })
+    .min(0.5, "Planning quantile must be at least 0.50.").max(0.95, "Planning quantile must be at most 0.95."),
+});
+
+const contributionSchema = z.object({
+  measureCode: z.string(),
+  label: z.string(),
+  zScore: z.number(),
+  standardised: z.number(),
+  coefficient: z.number(),
+  logContribution: z.number(),
+  multiplier: z.number(),
+  sentence: z.string(),
+});
+
+export const deviceForecastSchema = z.object({
+  deviceType: z.object({ id: z.number(), code: z.string(), name: z.string() }),
+  /** ready: numbers below; otherwise why there is no forecast. */
+  status: z.enum(["ready", "no_model", "missing_measures"]),
+  missingMeasures: z.array(z.string()),
+  modelVersion: z.object({
+    id: z.number(), versionNumber: z.number(), approvedAt: z.string().nullable(), cohortSize: z.number(),
+    loocvMaeHours: z.number(), loocvCoverage80: z.number(), measures: z.array(z.string()),
+  }).nullable(),
+  medianHours: z.number().nullable(),
+  lowerHours: z.number().nullable(),
+  upperHours: z.number().nullable(),
+  intervalLevel: z.number(),
+  planningQuantile: z.number(),
+  planningHours: z.number().nullable(),
+  computedAt: z.string().nullable(),
+  /** Clinical view only (assessors); null for coordinators, who never receive scores. */
+  explanation: z.object({ baselineHours: z.number(), contributions: z.array(contributionSchema) }).nullable(),
+  course: z.object({
+    status: z.string(), cumulativeHours: z.number(), proficientOn: z.string().nullable(), hoursToProficiency: z.number().nullable(),
+  }).nullable(),
+  progress: z.object({
+    hoursDone: z.number(),
+    status: z.enum(["combined", "prior-only", "review", "proficient"]),
+    remainingHours: z.number().nullable(),
+    remainingLower: z.number().nullable(),
+    remainingUpper: z.number().nullable(),
+    remainingPlanningHours: z.number().nullable(),
+    curveWeight: z.number().nullable(),
+    reason: z.string().nullable(),
+  }).nullable(),
+  reviewFlags: z.array(z.object({ kind: z.string(), reason: z.string(), raisedAt: z.string() })),
+});
+export type DeviceForecast = z.infer<typeof deviceForecastSchema>;
+
+export const workerForecastSchema = z.object({
+  worker: z.object({ id: z.number(), employeeNumber: z.string(), name: z.string(), site: z.string(), department: z.string() }),
+  view: z.enum(["clinical", "planning"]),
+  planningConsent: z.boolean(),
+  forecasts: z.array(deviceForecastSchema),
+  howComputed: z.string(),
+});
+export type WorkerForecast = z.infer<typeof workerForecastSchema>;
