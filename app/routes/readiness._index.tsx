@@ -1,35 +1,39 @@
+import { Link } from "react-router";
 import type { Route } from "./+types/readiness._index";
 import { requireUser } from "~/auth/guard.server";
-import { db } from "~/db.server";
-import { whereWorkerInScope } from "~/models/workers.server";
+import { DeviceCautions } from "~/components/device-cautions";
+import { ReadinessBoardView } from "~/components/readiness-chart";
+import { HIDDEN_SYMBOL } from "~/compute/readiness-views";
+import { readinessBoard } from "~/models/readiness.server";
 
 export const meta: Route.MetaFunction = () => [{ title: "Department readiness · Limberly" }];
 
-// Managers get aggregates only: this loader selects grouped counts, never worker rows.
+// Managers get protected aggregates only: the model counts in SQL and runs disclosure control; this
+// loader returns nothing else (what it returns is sent to the browser).
 export async function loader({ request }: Route.LoaderArgs) {
   const p = await requireUser(request, "readiness.read");
-  const q = db()("workers").join("departments as d", "d.id", "workers.department_id").join("sites as s", "s.id", "workers.site_id")
-    .select("s.name as site", "d.name as department").count<{ site: string; department: string; n: number }[]>({ n: "*" })
-    .groupBy("s.name", "d.name").orderBy([{ column: "s.name" }, { column: "d.name" }]);
-  const rows: { site: string; department: string; n: number | string }[] = await whereWorkerInScope(q, p.scope);
-  return { departments: rows.map((r) => ({ site: r.site, department: r.department, headcount: Number(r.n) })) };
+  return { board: await readinessBoard(p.scope) };
 }
 
 export default function ReadinessHome({ loaderData }: Route.ComponentProps) {
+  const { board } = loaderData;
+  const level = board.groupings.includes("department") ? "department" : "site";
   return (
-    <div className="grid gap-6">
-      <div>
+    <div className="grid grid-cols-1 gap-6">
+      <div className="grid gap-2">
         <h1 className="page-title" data-testid="role-home">Department readiness</h1>
-        <p className="text-ink-soft">Aggregates for your departments only. No individual's data is shown or sent to this page.</p>
+        <p className="text-ink-soft">For {board.scopeLabel}. Counts only: no one's name or health data is shown, downloaded or sent to this page.</p>
+        <p className="text-sm text-ink-soft">
+          Groups smaller than {board.threshold} people are hidden and read as <span aria-hidden="true" className="font-semibold text-amber-caution">{HIDDEN_SYMBOL}</span><span className="sr-only">the hidden symbol</span>;
+          a few other numbers are hidden with them so that a small group cannot be worked out by subtraction. The figures are the same on every page, export and the API.
+        </p>
+        <div className="flex flex-wrap gap-2">
+          <a className="btn-quiet" href="/readiness/export.xlsx" download>Download these tables (XLSX)</a>
+          {board.wholeSites.length > 0 && board.groupings.includes("site") && <Link className="btn-quiet" to="/readiness/sites">Site view</Link>}
+        </div>
       </div>
-      <ul className="grid gap-3 md:grid-cols-2">
-        {loaderData.departments.map((d) => (
-          <li key={`${d.site}-${d.department}`} className="card">
-            <p className="font-semibold">{d.department}</p>
-            <p className="text-sm text-ink-soft">{d.site} · {d.headcount} people on the roster</p>
-          </li>
-        ))}
-      </ul>
+      <ReadinessBoardView board={board} level={level} />
+      <DeviceCautions compact />
     </div>
   );
 }

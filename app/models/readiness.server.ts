@@ -1,0 +1,326 @@
+import type { Knex } from "knex";
+import type { Scope } from "~/auth/scope";
+import { STAGES, STAGE_LABELS } from "~/components/stage";
+import {
+  effectiveThreshold,
+  protectLinkedTables,
+  protectMedian,
+  protectTable,
+  type ProtectedTable,
+} from "~/compute/disclosure";
+import {
+  columnSlice, cumulativeFromProtected, derivedSum, mergeWeeks, departmentSlice, siteSlice, weekRange, weekStart,
+  type OrgLayout, type Viewer,
+} from "~/compute/readiness-views";
+import { db, type Db } from "~/db.server";
+import { parseStoredGroupings, type Grouping, type OrganisationSettings } from "~/schemas/readiness";
+import { whereWorkerInScope } from "./workers.server";
+
+// Readiness for managers (DESIGN §1, §3.6). Every number leaves this module only after disclosure
+// control. The database does the counting (GROUP BY); the only per-person values read here are
+// forecast hours for medians, without any identifier, and they never leave the function that reads them.
+// Labels are site and department names; no worker id, name, e-mail or employee number is selected.
+
+export interface LinkedViews {
+  department: ProtectedTable | null;
+  site: ProtectedTable | null;
+}
+
+export type Panel<T> =
+  | { status: "off" }
+  | { status: "unavailable"; reason: string }
+  | { status: "empty"; reason: string }
+  | ({ status: "ok" } & T);
+
+export interface MedianTable {
+  rows: string[];
+  columns: string[];
+  /** Median forecast hours, or null where the group has fewer people than the threshold. */
+  cells: (number | null)[][];
+  threshold: number;
+}
+
+export interface ReadinessBoard {
+  threshold: number;
+  groupings: Grouping[];
+  scopeLabel: string;
+  wholeSites: string[];
+  stage: Panel<LinkedViews>;
+  ready: Panel<LinkedViews>;
+  /** weeks: the first day of the last week of each period (the chart's x axis). */
+  planned: Panel<{ table: ProtectedTable; cumulative: { columns: (number | null)[][]; total: (number | null)[] }; weeks: string[] }>;
+  medians: Panel<{ department: MedianTable | null; site: MedianTable | null }>;
+}
+
+// ── organisation settings ────────────────────────────────────────────────────────────────────────
+
+export async function organisationSettings(conn: Db = db()): Promise<{ id: number; name: string; threshold: number; storedThreshold: number; groupings: Grouping[] }> {
+  const org = await conn("organisations").orderBy("id").first("id", "name", "disclosure_threshold", "manager_groupings");
+  if (!org) throw new Error("No organisation is set up.");
+  return {
+    id: org.id,
+    name: org.name,
+    storedThreshold: Number(org.disclosure_threshold),
+    threshold: effectiveThreshold(Number(org.disclosure_threshold)),
+    groupings: parseStoredGroupings(org.manager_groupings),
+  };
+}
+
+export async function updateOrganisationSettings(v: OrganisationSettings): Promise<void> {
+  await db().transaction(async (trx) => {
+    const org = await trx("organisations").orderBy("id").first("id");
+    if (!org) throw new Error("No organisation is set up.");
+    await trx("organisations").where({ id: org.id }).update({
+      disclosure_threshold: effectiveThreshold(v.disclosureThreshold),
+      manager_groupings: JSON.stringify(v.groupings),
+    });
+  });
+}
+
+// ── groups: the whole organisation, and the viewer's part of it ───────────────────────────────────
+
+export interface Groups {
+  /** Every department, ordered by site then department name (ids stay on the server). */
+  departments: { id: number; name: string; siteId: number; siteName: string; label: string }[];
+  org: OrgLayout;
+  viewer: Viewer;
+}
+
+export async function readinessGroups(scope: Scope): Promise<Groups> {
+  const rows: { id: number; name: string; siteId: number; siteName: string }[] = await db()("departments as d")
+    .join("sites as s", "s.id", "d.site_id")
+    .select("d.id", "d.name", "d.site_id as siteId", "s.name as siteName")
+    .orderBy([{ column: "s.name" }, { column: "d.name" }, { column: "d.id" }]);
+  const departments = rows.map((r) => ({ ...r, label: `${r.siteName} · ${r.name}` }));
+  const sites: OrgLayout["sites"] = [];
+  for (const d of departments) if (!sites.some((s) => s.key === `${d.siteId}`)) sites.push({ key: `${d.siteId}`, label: d.siteName });
+  const org: OrgLayout = { departments: departments.map((d) => ({ label: d.label, siteKey: `${d.siteId}` })), sites };
+  const inScope = (d: { id: number; siteId: number }) => scope.allSites || scope.siteIds.includes(d.siteId) || scope.departmentIds.includes(d.id);
+  const viewer: Viewer = {
+    departments: departments.map((d, i) => (inScope(d) ? i : -1)).filter((i) => i >= 0),
+    wholeSites: sites.filter((s) => scope.allSites || scope.siteIds.includes(Number(s.key))).map((s) => s.key),
+    allSites: scope.allSites,
+  };
+  return { departments, org, viewer };
+}
+
+function scopeLabelOf(g: Groups): string {
+  const whole = new Set(g.viewer.wholeSites);
+  if (g.viewer.allSites) return "the whole organisation";
+  return g.org.sites.map((s) => {
+    if (whole.has(s.key)) return `${s.label} (whole site)`;
+    const names = g.viewer.departments.filter((i) => g.org.departments[i].siteKey === s.key).map((i) => g.departments[i].name);
+    return names.length ? `${s.label}: ${names.join(", ")}` : null;
+  }).filter(Boolean).join("; ");
+}
+
+/**
+ * Protects department × column counts of the WHOLE organisation, departments linked to their sites
+ * (no department can be differenced out of its site), then cuts out the viewer's rows.
+ */
+export function protectForViewer(g: Groups, columns: string[], counts: number[][], groupings: Grouping[], threshold: number): LinkedViews {
+  const linked = protectLinkedTables({
+    detail: { rows: g.org.departments.map((d) => d.label), columns, counts },
+    parentOf: g.org.departments.map((d) => d.siteKey),
+    threshold,
+  });
+  const pub = { ...linked, parent: { ...linked.parent, rows: g.org.sites.map((s) => s.label) } };
+  return {
+    department: groupings.includes("department") ? departmentSlice(g.org, pub, g.viewer) : null,
+    site: groupings.includes("site") ? siteSlice(g.org, pub, g.viewer) : null,
+  };
+}
+
+// ── grouped counts (SQL) ─────────────────────────────────────────────────────────────────────────
+
+function isSqlite(k: Knex): boolean {
+  return String(k.client.config.client).includes("sqlite");
+}
+
+async function stageCounts(g: Groups): Promise<number[][]> {
+  const rows = (await db()("workers").select("workers.department_id as dept", "workers.stage as stage").count({ n: "*" })
+    .groupBy("workers.department_id", "workers.stage")) as unknown as { dept: number; stage: string; n: number | string }[];
+  const index = new Map(g.departments.map((d, i) => [d.id, i]));
+  const counts = g.departments.map(() => STAGES.map(() => 0));
+  for (const r of rows) {
+    const i = index.get(Number(r.dept));
+    const j = (STAGES as readonly string[]).indexOf(r.stage);
+    if (i !== undefined && j >= 0) counts[i][j] += Number(r.n);
+  }
+  return counts;
+}
+
+async function deviceTypes(): Promise<{ id: number; name: string }[]> {
+  return db()("device_types").select("id", "name").orderBy("id");
+}
+
+async function readyCounts(g: Groups, devices: { id: number }[]): Promise<number[][]> {
+  const rows = (await db()("device_courses as dc").join("workers", "workers.id", "dc.worker_id")
+    .select("workers.department_id as dept", "dc.device_type_id as device").count({ n: "*" })
+    .where("dc.status", "proficient").whereNot("workers.stage", "withdrawn")
+    .groupBy("workers.department_id", "dc.device_type_id")) as unknown as { dept: number; device: number; n: number | string }[];
+  const di = new Map(g.departments.map((d, i) => [d.id, i]));
+  const vi = new Map(devices.map((d, j) => [d.id, j]));
+  const counts = g.departments.map(() => devices.map(() => 0));
+  for (const r of rows) {
+    const i = di.get(Number(r.dept));
+    const j = vi.get(Number(r.device));
+    if (i !== undefined && j !== undefined) counts[i][j] += Number(r.n);
+  }
+  return counts;
+}
+
+/** Only sessions of published runs count, when the allocation area's runs table says which are published. */
+async function publishedRunFilter(): Promise<((q: Knex.QueryBuilder) => void) | null> {
+  const k = db();
+  if (!(await k.schema.hasTable("allocation_runs"))) return null;
+  if (await k.schema.hasColumn("allocation_runs", "status")) {
+    return (q) => { q.whereIn("ts.allocation_run_id", k("allocation_runs").select("id").where("status", "published")); };
+  }
+  if (await k.schema.hasColumn("allocation_runs", "published_at")) {
+    return (q) => { q.whereIn("ts.allocation_run_id", k("allocation_runs").select("id").whereNotNull("published_at")); };
+  }
+  return null;
+}
+
+/**
+ * Planned ready week per worker × device type = week of the last scheduled session of the latest
+ * published plan (sessions created by publishing carry allocation_run_id). Counted in SQL per
+ * department and day; days are summed into weeks here. Rows: weeks; columns: every department.
+ */
+async function plannedCounts(g: Groups): Promise<{ weeks: string[]; counts: number[][] }> {
+  const k = db();
+  const runFilter = await publishedRunFilter();
+  const lastSession = k("training_sessions as ts")
+    .select("ts.worker_id", "ts.device_type_id").max({ last: "ts.scheduled_start" })
+    .whereNotNull("ts.allocation_run_id").whereNotNull("ts.scheduled_start").whereNot("ts.status", "cancelled")
+    .whereRaw("ts.allocation_run_id = (select max(t2.allocation_run_id) from training_sessions t2 where t2.worker_id = ts.worker_id and t2.device_type_id = ts.device_type_id and t2.allocation_run_id is not null and t2.status <> 'cancelled')")
+    .groupBy("ts.worker_id", "ts.device_type_id");
+  if (runFilter) runFilter(lastSession);
+  const day = isSqlite(k)
+    ? "case when typeof(p.last) in ('integer', 'real') then date(p.last / 1000, 'unixepoch') else substr(p.last, 1, 10) end"
+    : "to_char(p.last, 'YYYY-MM-DD')";
+  const rows = (await k.from(lastSession.as("p")).join("workers", "workers.id", "p.worker_id")
+    .leftJoin("device_courses as dc", (j) => { j.on("dc.worker_id", "p.worker_id").andOn("dc.device_type_id", "p.device_type_id"); })
+    .select("workers.department_id as dept", k.raw(`${day} as day`)).count({ n: "*" })
+    .whereNot("workers.stage", "withdrawn")
+    .where((w) => { w.whereNull("dc.status").orWhereNot("dc.status", "stopped"); })
+    .groupBy("workers.department_id").groupByRaw(day)) as unknown as { dept: number; day: string; n: number | string }[];
+  if (rows.length === 0) return { weeks: [], counts: [] };
+  const days = rows.map((r) => String(r.day)).sort();
+  const weeks = weekRange(days[0], days[days.length - 1]);
+  const di = new Map(g.departments.map((d, i) => [d.id, i]));
+  const counts = weeks.map(() => g.departments.map(() => 0));
+  for (const r of rows) {
+    const i = di.get(Number(r.dept));
+    const w = weeks.indexOf(weekStart(String(r.day)));
+    if (i !== undefined && w >= 0) counts[w][i] += Number(r.n);
+  }
+  return { weeks, counts };
+}
+
+/** Current forecast median hours per department × device type of the viewer, read without identifiers. */
+async function forecastValues(scope: Scope, g: Groups): Promise<Map<string, number[]> | null> {
+  const k = db();
+  if (!(await k.schema.hasTable("forecasts"))) return null;
+  const q = k("forecasts as f").join("workers", "workers.id", "f.worker_id")
+    .select("workers.department_id as dept", "f.device_type_id as device", "f.median_hours as hours")
+    .whereNot("workers.stage", "withdrawn")
+    .whereIn("workers.department_id", g.viewer.departments.map((i) => g.departments[i].id));
+  const rows = (await whereWorkerInScope(q, scope)) as unknown as { dept: number; device: number; hours: number }[];
+  const out = new Map<string, number[]>();
+  for (const r of rows) {
+    const key = `${r.dept}:${r.device}`;
+    const list = out.get(key) ?? [];
+    list.push(Number(r.hours));
+    out.set(key, list);
+  }
+  return out;
+}
+
+/** Medians are published to 0.1 h: enough for planning, no more precision than that. */
+function roundHours(v: number | null): number | null {
+  return v === null ? null : Math.round(v * 10) / 10;
+}
+
+function medianTables(g: Groups, devices: { id: number; name: string }[], values: Map<string, number[]>,
+  groupings: Grouping[], threshold: number): { department: MedianTable | null; site: MedianTable | null } {
+  const columns = devices.map((d) => d.name);
+  const mine = g.viewer.departments.map((i) => g.departments[i]);
+  const whole = new Set(g.viewer.wholeSites);
+  const department = groupings.includes("department") ? {
+    rows: mine.map((d) => d.label), columns, threshold,
+    cells: mine.map((d) => devices.map((v) => roundHours(protectMedian(values.get(`${d.id}:${v.id}`) ?? [], threshold)))),
+  } : null;
+  const siteGroups = g.org.sites.map((s) => ({ s, depts: mine.filter((d) => `${d.siteId}` === s.key) })).filter((x) => x.depts.length > 0);
+  const site = groupings.includes("site") ? {
+    rows: siteGroups.map(({ s }) => (whole.has(s.key) || g.viewer.allSites ? s.label : `${s.label} (your departments)`)), columns, threshold,
+    cells: siteGroups.map(({ depts }) => devices.map((v) => roundHours(protectMedian(depts.flatMap((d) => values.get(`${d.id}:${v.id}`) ?? []), threshold)))),
+  } : null;
+  return { department, site };
+}
+
+function periodLabel(p: { first: string; last: string; weeks: number }): string {
+  return p.weeks === 1 ? `Week of ${p.first}` : `Weeks of ${p.first} to ${p.last}`;
+}
+
+/** Department columns of the viewer added up per site group, where the sums follow from published cells. */
+function siteColumns(g: Groups, t: ProtectedTable): ProtectedTable {
+  const keys = [...new Set(g.viewer.departments.map((i) => g.org.departments[i].siteKey))];
+  const whole = new Set(g.viewer.wholeSites);
+  const members = keys.map((k) => g.viewer.departments.map((i, c) => (g.org.departments[i].siteKey === k ? c : -1)).filter((c) => c >= 0));
+  const label = (k: string) => {
+    const site = g.org.sites.find((s) => s.key === k)?.label ?? k;
+    return whole.has(k) || g.viewer.allSites ? site : `${site} (your departments)`;
+  };
+  return {
+    ...t,
+    columns: keys.map(label),
+    cells: t.cells.map((line) => members.map((cs) => derivedSum(cs.map((c) => line[c])))),
+    columnTotals: members.map((cs) => derivedSum(cs.map((c) => t.columnTotals[c]))),
+  };
+}
+
+// ── the board ────────────────────────────────────────────────────────────────────────────────────
+
+/** Everything a manager's pages, export and API publish: protected figures only. */
+export async function readinessBoard(scope: Scope): Promise<ReadinessBoard> {
+  const [org, g, devices] = await Promise.all([organisationSettings(), readinessGroups(scope), deviceTypes()]);
+  const { threshold, groupings } = org;
+  const board: ReadinessBoard = {
+    threshold, groupings,
+    scopeLabel: g.viewer.departments.length ? scopeLabelOf(g) : "no departments",
+    wholeSites: g.org.sites.filter((s) => g.viewer.allSites || g.viewer.wholeSites.includes(s.key)).map((s) => s.label),
+    stage: { status: "off" }, ready: { status: "off" }, planned: { status: "off" }, medians: { status: "off" },
+  };
+  if (g.viewer.departments.length === 0) {
+    const empty = { status: "empty" as const, reason: "No departments are assigned to you yet. An administrator assigns departments or a whole site to your manager role." };
+    return { ...board, stage: empty, ready: empty, planned: empty, medians: empty };
+  }
+  if (groupings.includes("stage")) {
+    board.stage = { status: "ok", ...protectForViewer(g, STAGES.map((s) => STAGE_LABELS[s]), await stageCounts(g), groupings, threshold) };
+  }
+  if (groupings.includes("deviceType")) {
+    if (devices.length === 0) board.ready = { status: "empty", reason: "No device types are set up yet." };
+    else board.ready = { status: "ok", ...protectForViewer(g, devices.map((d) => d.name), await readyCounts(g, devices), groupings, threshold) };
+    const values = devices.length ? await forecastValues(scope, g) : new Map<string, number[]>();
+    if (values === null) board.medians = { status: "unavailable", reason: "Forecasts are not set up in this installation yet, so there are no forecast hours to summarise." };
+    else if (values.size === 0) board.medians = { status: "empty", reason: "No forecasts have been made for people in your departments yet." };
+    else board.medians = { status: "ok", ...medianTables(g, devices, values, groupings, threshold) };
+  }
+  if (groupings.includes("week")) {
+    const { weeks, counts } = await plannedCounts(g);
+    const mineHaveAny = weeks.length > 0 && counts.some((line) => g.viewer.departments.some((i) => line[i] > 0));
+    if (!mineHaveAny) {
+      board.planned = { status: "empty", reason: "No published training plan schedules anyone in your departments yet." };
+    } else {
+      // Weeks × every department, protected once for the organisation; the viewer sees their columns.
+      const { periods, counts: merged } = mergeWeeks(weeks, counts, threshold);
+      const full = protectTable(periods.map(periodLabel), g.org.departments.map((d) => d.label), merged, { threshold });
+      const mine = columnSlice(full, g.viewer.departments);
+      const table = groupings.includes("department") ? mine : siteColumns(g, mine);
+      board.planned = { status: "ok", table, cumulative: cumulativeFromProtected(table), weeks: periods.map((p) => p.last) };
+    }
+  }
+  return board;
+}
