@@ -1,6 +1,7 @@
 import type { Knex } from "knex";
 import { db, type Db } from "~/db.server";
 import { CONSENT_PURPOSES, type ConsentPurpose } from "./consent-texts.server";
+import { eraseForecasts } from "./forecast.server";
 
 // Consent per purpose (DESIGN §4): recorded against the text version in force, witnessed by an
 // assessor, with history. Withdrawal is the ONE place where a worker's identifiable data are erased:
@@ -172,7 +173,7 @@ export const ERASURE_STEPS: ErasureStep[] = [
   // (The forecast area owns the table; this step is a no-op until it exists.)
   {
     purposes: ["assessment", "planning"], label: "forecasts",
-    run: (trx, id) => deleteIfTable(trx, "forecasts", (q) => q.where({ worker_id: id })),
+    run: (trx, id) => eraseForecasts(trx, id), // also drift records and review flags
   },
 ];
 
