@@ -16,6 +16,7 @@ import { upsertForecast } from "../app/models/forecast.server";
 //   SRA-WAIST     H₀ = 16 h  b = tracking −0.05, timing −0.20, hand −0.25, sway −0.08   σ = 0.25
 //   EXO-SHOULDER  H₀ = 7 h   b = tracking −0.04, timing −0.05, hand −0.02, sway −0.22   σ = 0.24
 //   EXO-BACK      H₀ = 6 h   b = tracking −0.06, timing −0.03, hand  0.00, sway −0.26   σ = 0.24
+// Sessions last 1 h (finger, exoskeletons) or 1.5 h (arm), inside each device's wear-time limit.
 // Each past trainee's sessions follow a saturating curve score = a − (a − s)·e^(−c·hours) that reaches the
 // criterion near the drawn hours, plus N(0, 0.025) noise; the recorded hours to proficiency are where the
 // criterion rule (consecutive sessions at or above the threshold) is first met on those sessions.
@@ -37,7 +38,7 @@ const MEASURES = [
 ] as const;
 
 const MODELS: Record<string, { h0: number; b: number[]; sigma: number; session: number; threshold: number; consecutive: number }> = {
-  "SRF-FOOT": { h0: 22, b: [-0.3, -0.15, -0.1, -0.03], sigma: 0.22, session: 1.5, threshold: 0.8, consecutive: 2 },
+  "SRF-FOOT": { h0: 22, b: [-0.3, -0.15, -0.1, -0.03], sigma: 0.22, session: 1, threshold: 0.8, consecutive: 2 },
   "SRA-WAIST": { h0: 16, b: [-0.05, -0.2, -0.25, -0.08], sigma: 0.25, session: 1.5, threshold: 0.8, consecutive: 2 },
   "EXO-SHOULDER": { h0: 7, b: [-0.04, -0.05, -0.02, -0.22], sigma: 0.24, session: 1, threshold: 0.85, consecutive: 2 },
   "EXO-BACK": { h0: 6, b: [-0.06, -0.03, 0, -0.26], sigma: 0.24, session: 1, threshold: 0.85, consecutive: 2 },

@@ -19,7 +19,7 @@ export function ProgressChart({ sessions, curve, threshold, crossing }: Progress
           <CartesianGrid strokeDasharray="3 3" />
           <XAxis type="number" dataKey="hours" domain={[0, Math.ceil(maxX)]} allowDuplicatedCategory={false} tickFormatter={(v: number) => v.toFixed(0)}
             label={{ value: "Cumulative practice hours", position: "insideBottom", offset: -14, fontSize: 12 }} />
-          <YAxis type="number" domain={[0, 1]} tickFormatter={(v: number) => v.toFixed(1)} width={44}
+          <YAxis type="number" domain={[0, 1]} ticks={[0, 0.2, 0.4, 0.6, 0.8, 1]} tickFormatter={(v: number) => v.toFixed(1)} width={44}
             label={{ value: "Task score", angle: -90, position: "insideLeft", fontSize: 12 }} />
           {crossing && <ReferenceArea x1={crossing.lower} x2={Math.min(crossing.upper, Math.ceil(maxX))} fill="#fff4dc" fillOpacity={0.8} ifOverflow="hidden" />}
           {crossing && <ReferenceLine x={crossing.hours} stroke="#8a5a00" strokeDasharray="4 3" label={{ value: "predicted", position: "insideTopRight", fontSize: 11, fill: "#8a5a00" }} />}

@@ -208,12 +208,13 @@ export async function refreshForecastsForWorker(k: Db, workerId: number, actor: 
 
 /**
  * Erase a worker's forecasts, drift records and review flags (DESIGN §4: on withdrawal, at once). Call it
- * inside the withdrawal's transaction.
+ * inside the withdrawal's transaction; returns how many forecasts were erased.
  */
-export async function eraseForecasts(trx: Db, workerId: number): Promise<void> {
-  await trx("forecasts").where({ worker_id: workerId }).del();
+export async function eraseForecasts(trx: Db, workerId: number): Promise<number> {
+  const n = Number(await trx("forecasts").where({ worker_id: workerId }).del());
   await trx("forecast_outcomes").where({ worker_id: workerId }).del();
   await trx("review_flags").where({ worker_id: workerId }).del();
+  return n;
 }
 
 /** When a course reaches the criterion: keep actual vs forecast for the version's drift figures. */

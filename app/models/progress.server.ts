@@ -48,7 +48,11 @@ export async function logSessionResult(input: LogSessionInput, k?: Db): Promise<
     const worker = await trx("workers").where({ id: input.workerId }).first("id", "stage");
     if (!worker) throw new SessionLogError("That worker does not exist.");
     if (worker.stage === "withdrawn") throw new SessionLogError("This worker has withdrawn; sessions can no longer be logged.");
-    if (!(await trx("device_types").where({ id: input.deviceTypeId }).first("id"))) throw new SessionLogError("That device type does not exist.");
+    const device = await trx("device_types").where({ id: input.deviceTypeId }).first("id", "wear_time_limit_minutes");
+    if (!device) throw new SessionLogError("That device type does not exist.");
+    if (input.durationHours * 60 > Number(device.wear_time_limit_minutes) + 1e-9) {
+      throw new SessionLogError(`Practice time exceeds this device's wear-time limit of ${device.wear_time_limit_minutes} minutes per session; log separate sessions with breaks.`, "durationHours");
+    }
     let course = await trx("device_courses").where({ worker_id: input.workerId, device_type_id: input.deviceTypeId }).first();
     if (course?.status === "proficient") throw new SessionLogError("This worker has already reached proficiency on this device; no further sessions are logged here.");
     if (course?.status === "stopped") throw new SessionLogError("This course was stopped; restart it before logging sessions.");

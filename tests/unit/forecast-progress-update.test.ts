@@ -1,0 +1,41 @@
+import { describe, expect, it } from "vitest";
+import { progressUpdate } from "~/compute/progress-update";
+
+// Progress update (DESIGN §3.4): baseline prior + progress curve, plateau → review.
+const base = { logMean: Math.log(20), logScale: 0.3, df: 30 };
+
+describe("progressUpdate", () => {
+  it("before any session: prior only, the median remaining is the baseline median exp(logMean) (t symmetric)", () => {
+    const u = progressUpdate({ baseline: base, sessions: [], hoursDone: 0, threshold: 0.8 });
+    expect(u.status).toBe("prior-only");
+    expect(u.remainingHours).toBeCloseTo(20, 9);
+    expect(u.curveWeight).toBe(0);
+    expect(u.reason).toMatch(/only 0 sessions/);
+  });
+  it("a curve that plateaus below the criterion is flagged for review with no number", () => {
+    // score = 0.6 − 0.4·e^(−0.3 h), asymptote 0.6 < 0.8, alternating ±0.004 noise.
+    const sessions = Array.from({ length: 10 }, (_, i) => {
+      const h = 1.5 * (i + 1);
+      return { cumulativeHours: h, score: 0.6 - 0.4 * Math.exp(-0.3 * h) + (i % 2 ? 0.004 : -0.004) };
+    });
+    const u = progressUpdate({ baseline: base, sessions, hoursDone: 15, threshold: 0.8 });
+    expect(u.status).toBe("review");
+    expect(u.remainingHours).toBeNull();
+    expect(u.crossing).toBeNull();
+    expect(u.reason).toMatch(/levels off/);
+  });
+  it("with a very vague prior the curve decides: crossing near ln(0.75/0.15)/0.1 = 16.09 h (hand computation)", () => {
+    // score = 0.95 − 0.75·e^(−0.1 h); reaches 0.8 at t = ln((0.95 − 0.2)/(0.95 − 0.8))/0.1.
+    const sessions = Array.from({ length: 10 }, (_, i) => {
+      const h = 1.2 * (i + 1);
+      return { cumulativeHours: h, score: 0.95 - 0.75 * Math.exp(-0.1 * h) + (i % 2 ? 0.002 : -0.002) };
+    });
+    const u = progressUpdate({ baseline: { logMean: Math.log(40), logScale: 3, df: 30 }, sessions, hoursDone: 12, threshold: 0.8 });
+    expect(u.status).toBe("combined");
+    expect(u.curveWeight).toBeGreaterThan(0.95);
+    expect(u.crossing!.hours).toBeGreaterThan(15.3);
+    expect(u.crossing!.hours).toBeLessThan(16.9);
+    expect(u.crossing!.lower).toBeLessThan(u.crossing!.hours);
+    expect(u.crossing!.upper).toBeGreaterThan(u.crossing!.hours);
+  });
+});
