@@ -50,7 +50,7 @@ export default function AdminApiKeys({ loaderData }: Route.ComponentProps) {
         </div>
       )}
       <FormError message={errors._form} />
-      <div className="card overflow-x-auto p-0">
+      <div className="card overflow-x-auto p-0" tabIndex={0} role="region" aria-label="API keys">
         <table className="table-base">
           <caption className="sr-only">API keys</caption>
           <thead><tr><th scope="col">Name</th><th scope="col">Prefix</th><th scope="col">Role</th><th scope="col">Sites</th><th scope="col">Created</th><th scope="col">Last used</th><th scope="col">Status</th></tr></thead>

@@ -32,7 +32,7 @@ export default function AssessHome({ loaderData }: Route.ComponentProps) {
           <Link key={l.to} to={l.to} className="card block hover:bg-spruce-50"><span className="font-semibold text-spruce-700">{l.title}</span><span className="block text-sm text-ink-soft">{l.text}</span></Link>
         ))}
       </nav>
-      <div className="card overflow-x-auto p-0">
+      <div className="card overflow-x-auto p-0" tabIndex={0} role="region" aria-label="Workers by site and stage">
         <table className="table-base">
           <caption className="sr-only">Workers by site and stage</caption>
           <thead><tr><th scope="col">Site</th>{STAGES.map((s) => <th key={s} scope="col">{STAGE_LABELS[s]}</th>)}</tr></thead>

@@ -18,7 +18,7 @@ export default function CoordinateHome({ loaderData }: Route.ComponentProps) {
       <h1 className="page-title" data-testid="role-home">Coordination home</h1>
       <section aria-labelledby="fleet" className="grid gap-2">
         <h2 id="fleet" className="text-lg font-semibold">Device fleet at your sites</h2>
-        <div className="card overflow-x-auto p-0">
+        <div className="card overflow-x-auto p-0" tabIndex={0} role="region" aria-label="Device types">
           <table className="table-base">
             <caption className="sr-only">Device types</caption>
             <thead><tr><th scope="col">Device type</th><th scope="col">Units in service</th><th scope="col">In maintenance</th><th scope="col">Bookable h / week</th><th scope="col">Wear-time limit</th></tr></thead>
