@@ -77,7 +77,15 @@ export async function startStack(o: StackOptions): Promise<Stack> {
   return {
     appUrl, issuer: idp.issuer, env,
     stop: async () => {
-      if (child.exitCode === null) { child.kill("SIGTERM"); await exited; }
+      if (child.exitCode === null) {
+        child.kill("SIGTERM");
+        // The server may keep its database pool open after SIGTERM; give it a moment, then end it.
+        const grace = new Promise<"late">((r) => setTimeout(() => r("late"), 3000).unref());
+        if ((await Promise.race([exited.then(() => "done" as const), grace])) === "late") {
+          child.kill("SIGKILL");
+          await exited;
+        }
+      }
       await smtp.stop();
       await idp.stop();
     },

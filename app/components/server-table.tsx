@@ -48,7 +48,7 @@ export function ServerTable<T>(props: ServerTableProps<T>) {
           <button className="btn-quiet" type="submit">Filter</button>
         </Form>
       )}
-      <div className="overflow-x-auto" aria-busy={navigation.state === "loading"}>
+      <div className="overflow-x-auto" tabIndex={0} role="region" aria-label={`${caption} (scrolls sideways)`} aria-busy={navigation.state === "loading"}>
         <table className="table-base">
           <caption className="sr-only">{caption}</caption>
           <thead>

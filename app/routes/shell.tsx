@@ -24,7 +24,7 @@ export default function Shell({ loaderData }: Route.ComponentProps) {
         <div className="mx-auto flex max-w-6xl flex-wrap items-center justify-between gap-3 px-4 py-3">
           <a href="/" className="text-lg font-bold tracking-tight text-spruce-800">Limberly</a>
           <div className="flex items-center gap-3 text-sm">
-            <span className="hidden sm:inline text-ink-soft">
+            <span className="text-ink-soft">
               <span className="font-medium text-ink" data-testid="signed-in-as">{user.displayName}</span>
               {" · "}{user.roles.map((r) => ROLE_LABELS[r]).join(", ")}
             </span>

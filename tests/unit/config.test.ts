@@ -1,0 +1,23 @@
+import { spawnSync } from "node:child_process";
+import path from "node:path";
+import { describe, expect, it } from "vitest";
+
+// In production the server refuses to start without a proper session secret.
+const root = path.resolve(__dirname, "../..");
+function load(env: Record<string, string>) {
+  return spawnSync(process.execPath, ["--import", "tsx", "-e", "await import('./app/config.server.ts'); console.log('loaded')"], {
+    cwd: root, env: { PATH: process.env.PATH ?? "", ...env }, encoding: "utf8",
+  });
+}
+
+describe("configuration", () => {
+  it("refuses production without SESSION_SECRET", () => {
+    const r = load({ LIMBERLY_MODE: "production" });
+    expect(r.status).not.toBe(0);
+    expect(r.stderr).toContain("SESSION_SECRET must be set");
+  });
+  it("accepts production with a long secret, and demo without one", () => {
+    expect(load({ LIMBERLY_MODE: "production", SESSION_SECRET: "x".repeat(40) }).stdout).toContain("loaded");
+    expect(load({ LIMBERLY_MODE: "demo" }).stdout).toContain("loaded");
+  });
+});

@@ -1,0 +1,41 @@
+import { describe, expect, it } from "vitest";
+import { ACTIONS, ROLES, roleAllows } from "../../app/auth/permissions";
+import { scopeFrom } from "../../app/auth/scope";
+
+// DESIGN §1: who may do what. Health-data actions never reach admin or manager.
+const HEALTH = ["assessments.read", "assessments.write", "forecast.read", "models.manage", "sessions.log"] as const;
+
+describe("role × action table", () => {
+  it("admin and manager hold no health-data action", () => {
+    for (const a of HEALTH) {
+      expect(roleAllows("admin", a), a).toBe(false);
+      expect(roleAllows("manager", a), a).toBe(false);
+    }
+  });
+  it("the manager may only read readiness aggregates; the worker only their own record", () => {
+    expect(ACTIONS.filter((a) => roleAllows("manager", a))).toEqual(["readiness.read"]);
+    expect(ACTIONS.filter((a) => roleAllows("worker", a)).every((a) => a.startsWith("self."))).toBe(true);
+  });
+  it("coordinators see forecasts but not raw assessment scores", () => {
+    expect(roleAllows("coordinator", "forecast.read")).toBe(true);
+    expect(roleAllows("coordinator", "assessments.read")).toBe(false);
+  });
+  it("every role has at least one action", () => {
+    for (const r of ROLES) expect(ACTIONS.some((a) => roleAllows(r, a)), r).toBe(true);
+  });
+});
+
+describe("scope", () => {
+  it("unions sites and departments of the roles that grant the action", () => {
+    const s = scopeFrom([
+      { role: "assessor", siteId: 2, departmentId: null },
+      { role: "assessor", siteId: 1, departmentId: null },
+      { role: "manager", siteId: 1, departmentId: 7 },
+      { role: "trainer", siteId: 3, departmentId: null },
+    ], ["assessor", "manager"]);
+    expect(s).toEqual({ allSites: false, siteIds: [1, 2], departmentIds: [7] });
+  });
+  it("an organisation-wide assignment sees all sites", () => {
+    expect(scopeFrom([{ role: "admin", siteId: null, departmentId: null }], ["admin"]).allSites).toBe(true);
+  });
+});
