@@ -10,18 +10,18 @@ export const ACTIONS = [
   "fleet.manage", "allocation.run", "allocation.publish", "sessions.plan",
   "sessions.own", "sessions.log",
   "readiness.read",
-  "self.read", "self.consent",
+  "self.read", "self.consent", "self.review", "reviews.answer",
   "admin.users", "admin.sites", "admin.apikeys", "admin.consenttexts", "admin.accesslog", "admin.outbox", "admin.settings",
 ] as const;
 export type Action = (typeof ACTIONS)[number];
 
 const TABLE: Record<Role, readonly Action[]> = {
   assessor: ["workers.read", "workers.write", "roster.import", "consent.manage", "assessments.read", "assessments.write",
-    "norms.manage", "forecast.read", "models.manage", "progress.read", "sessions.log"],
+    "norms.manage", "forecast.read", "models.manage", "progress.read", "sessions.log", "reviews.answer"],
   coordinator: ["workers.read", "forecast.read", "progress.read", "fleet.manage", "allocation.run", "allocation.publish", "sessions.plan"],
   trainer: ["sessions.own", "sessions.log", "progress.read"],
   manager: ["readiness.read"],
-  worker: ["self.read", "self.consent"],
+  worker: ["self.read", "self.consent", "self.review"],
   // Admin runs the system but never sees health data (DESIGN §1).
   admin: ["roster.import", "workers.write", "admin.users", "admin.sites", "admin.apikeys", "admin.consenttexts",
     "admin.accesslog", "admin.outbox", "admin.settings"],
