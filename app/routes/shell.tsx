@@ -34,7 +34,7 @@ export default function Shell({ loaderData }: Route.ComponentProps) {
           </div>
         </div>
         <nav aria-label="Main" className="mx-auto max-w-6xl overflow-x-auto px-4 pb-2">
-          <ul className="flex gap-1 whitespace-nowrap">
+          <ul className="flex gap-1 whitespace-nowrap md:flex-wrap">
             {nav.flatMap((group) => group.items.map((item) => (
               <li key={item.to}>
                 <NavLink to={item.to} end

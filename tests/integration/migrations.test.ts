@@ -4,6 +4,7 @@ import path from "node:path";
 import knex from "knex";
 import { describe, expect, it } from "vitest";
 import { knexConfig } from "../../knexfile";
+import { migrationSource, runSeed } from "./migration-source";
 
 // Every migration goes down and up again cleanly on SQLite, and the demo seed runs on the result.
 describe("migrations", () => {
@@ -12,16 +13,16 @@ describe("migrations", () => {
     const k = knex(knexConfig({ DATABASE_URL: path.join(dir, "m.sqlite") }));
     const tables = async () => (await k.raw("select name from sqlite_master where type='table' and name not like 'knex_%' and name not like 'sqlite_%' order by name")).map((r: { name: string }) => r.name);
     try {
-      const [, applied] = await k.migrate.latest();
+      const [, applied] = await k.migrate.latest({ migrationSource });
       expect(applied.length).toBeGreaterThanOrEqual(2);
       const up = await tables();
       expect(up).toEqual(expect.arrayContaining(["workers", "consent_records", "access_log", "device_types", "trainers", "api_keys", "sessions", "role_assignments"]));
-      const [, undone] = await k.migrate.rollback(undefined, true);
+      const [, undone] = await k.migrate.rollback({ migrationSource }, true);
       expect(undone.length).toBe(applied.length);
       expect(await tables()).toEqual([]);
-      await k.migrate.latest();
+      await k.migrate.latest({ migrationSource });
       expect(await tables()).toEqual(up);
-      await k.seed.run();
+      await runSeed(k);
       expect(Number((await k("workers").count({ n: "*" }).first())!.n)).toBeGreaterThanOrEqual(300);
       expect((await k.raw("pragma foreign_keys"))[0].foreign_keys).toBe(1);
       expect((await k.raw("pragma journal_mode"))[0].journal_mode).toBe("wal");
