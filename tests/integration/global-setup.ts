@@ -8,7 +8,11 @@ import { startStack, type Stack } from "../../scripts/stack";
 // Starts the real stack once for the integration project: the built app server against a fresh
 // temporary SQLite file (migrated and seeded with the invented demo scenario), the identity-provider
 // stand-in and the SMTP catcher. Tests get the addresses through inject().
-export const PORTS = { app: 4000, idp: 10400, smtp: 4025 };
+export const PORTS = {
+  app: Number(process.env.IT_APP_PORT ?? 4000),
+  idp: Number(process.env.IT_IDP_PORT ?? 10400),
+  smtp: Number(process.env.IT_SMTP_PORT ?? 4025),
+};
 
 let stack: Stack | null = null;
 let dir = "";
