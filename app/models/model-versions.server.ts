@@ -226,7 +226,7 @@ export async function driftByVersion(k: Db = db()): Promise<Map<number, DriftSta
 
 export interface VersionSummary {
   id: number; deviceTypeId: number; deviceTypeName: string; versionNumber: number; status: "draft" | "approved" | "retired";
-  measures: string[]; cohortSize: number; loocvMaeHours: number; rSquared: number; loocvCoverage80: number;
+  measures: string[]; measureIds: number[]; cohortSize: number; loocvMaeHours: number; rSquared: number; loocvCoverage80: number;
   fittedBy: string | null; fittedById: number | null; fittedAt: string; approvedBy: string | null; approvedAt: string | null;
   retiredBy: string | null; retiredAt: string | null; drift: DriftStats;
 }
@@ -241,7 +241,7 @@ function toSummary(r: Record<string, any>, drift: Map<number, DriftStats>): Vers
   const codes: string[] = JSON.parse(r.measure_codes);
   return {
     id: r.id, deviceTypeId: r.device_type_id, deviceTypeName: r.device_type_name, versionNumber: r.version_number, status: r.status,
-    measures: codes.map((c) => labelFor(c)), cohortSize: r.cohort_size, loocvMaeHours: Number(r.loocv_mae_hours), rSquared: Number(r.r_squared),
+    measures: codes.map((c) => labelFor(c)), measureIds: JSON.parse(r.measure_ids), cohortSize: r.cohort_size, loocvMaeHours: Number(r.loocv_mae_hours), rSquared: Number(r.r_squared),
     loocvCoverage80: Number(r.loocv_coverage80), fittedBy: r.fitted_name ?? null, fittedById: r.fitted_by ?? null, fittedAt: String(r.fitted_at),
     approvedBy: r.approved_name ?? null, approvedAt: r.approved_at ? String(r.approved_at) : null,
     retiredBy: r.retired_name ?? null, retiredAt: r.retired_at ? String(r.retired_at) : null,

@@ -3,7 +3,7 @@ import type { Route } from "./+types/models.new";
 import { requireUser } from "~/auth/guard.server";
 import { ModelDiagnostics } from "~/components/calibration-chart";
 import { FormError, TextArea, TextField } from "~/components/fields";
-import { FitError, fitWorkbench, listModelMeasures, saveModelVersion, type WorkbenchFit } from "~/models/model-versions.server";
+import { FitError, fitWorkbench, listModelMeasures, listModelVersions, saveModelVersion, type WorkbenchFit } from "~/models/model-versions.server";
 import { listDeviceTypes } from "~/models/proficiency.server";
 import { workbenchFormSchema } from "~/schemas/forecast";
 import { formToObject, parseWith } from "~/schemas/form";
@@ -14,8 +14,10 @@ export const meta: Route.MetaFunction = () => [{ title: "Model workbench · Limb
 // criterion, read the diagnostics, save as a draft version (a second assessor approves it).
 export async function loader({ request }: Route.LoaderArgs) {
   await requireUser(request, "models.manage");
-  const [devices, measures] = await Promise.all([listDeviceTypes(), listModelMeasures()]);
-  return { devices, measures };
+  const [devices, measures, versions] = await Promise.all([listDeviceTypes(), listModelMeasures(), listModelVersions()]);
+  // Start from the measures of the versions in use (the product's default set), not every measure there is.
+  const inUse = new Set(versions.filter((v) => v.status === "approved").flatMap((v) => v.measureIds));
+  return { devices, measures, defaultMeasureIds: measures.filter((m) => inUse.has(m.id)).map((m) => m.id) };
 }
 
 type ActionResult = { errors: Record<string, string> | null; fit: WorkbenchFit | null; input: { deviceTypeId: number; measureIds: number[]; ridge: number; notes?: string } | null };
@@ -39,13 +41,13 @@ export async function action({ request }: Route.ActionArgs) {
 }
 
 export default function Workbench({ loaderData }: Route.ComponentProps) {
-  const { devices, measures } = loaderData;
+  const { devices, measures, defaultMeasureIds } = loaderData;
   const result = useActionData<typeof action>() as ActionResult | undefined;
   const nav = useNavigation();
   const busy = nav.state === "submitting";
   const errors = result?.errors ?? {};
   const input = result?.input;
-  const chosen = new Set(input?.measureIds ?? measures.map((m) => m.id));
+  const chosen = new Set(input?.measureIds ?? defaultMeasureIds);
   return (
     <div className="grid gap-6">
       <div>

@@ -1,0 +1,100 @@
+// Forecast area (issue 4) in the browser: an assessor fits a model and reads its diagnostics, a second
+// assessor approves it, a worker's forecast shows hours, interval and explanation; logging a session
+// moves the remaining-hours forecast and the progress chart. Demo data: seeds/03_forecast_demo.ts (invented).
+import { expect, persona, test } from "./fixtures";
+
+const second = "rhea.lindqvist@harrowvale.example";
+
+test("an assessor fits and saves a model, a second assessor approves it, and a worker's forecast uses it", async ({ page, signInAs, pageAs }, testInfo) => {
+  await signInAs(page, persona("assessor").email);
+  await page.goto("/models/new");
+  await page.getByLabel("Device type").selectOption({ label: "Back-support exoskeleton" });
+  await page.getByRole("button", { name: "Fit model" }).click();
+  const diagnostics = page.getByTestId("diagnostics");
+  await expect(diagnostics).toBeVisible();
+  expect(Number(await page.getByTestId("cohort-size").textContent())).toBeGreaterThanOrEqual(30);
+  await expect(page.getByTestId("exclusions")).toContainText("Still training");
+  await expect(page.getByTestId("mae")).toHaveText(/^\d+\.\d h$/);
+  await expect(page.getByTestId("coverage")).toHaveText(/^\d+ %$/);
+  await expect(page.getByTestId("coefficients").locator("tbody tr")).toHaveCount(5);
+  await expect(page.locator(".recharts-surface").first()).toBeVisible();
+  await page.screenshot({ path: testInfo.outputPath("workbench.png"), fullPage: true });
+
+  await page.getByRole("button", { name: "Save as draft version" }).click();
+  await expect(page).toHaveURL(/\/models\/\d+\?saved=1$/);
+  await expect(page.getByTestId("version-status")).toHaveText("draft");
+  await expect(page.getByRole("button", { name: /^Approve version/ })).toHaveCount(0);
+  await expect(page.getByText("You fitted this version, so another assessor must approve it.")).toBeVisible();
+  const versionUrl = new URL(page.url()).pathname;
+
+  const reviewer = await pageAs(second);
+  await reviewer.goto(versionUrl);
+  await reviewer.getByRole("button", { name: /^Approve version/ }).click();
+  await expect(reviewer.getByRole("status")).toContainText("Approved.");
+  await expect(reviewer.getByTestId("version-status")).toHaveText("approved");
+  await expect(reviewer.getByTestId("approved-by")).toContainText("Rhea Lindqvist");
+  const versionNumber = (await reviewer.getByRole("heading", { level: 1 }).textContent())!.match(/v(\d+)/)![1];
+
+  await reviewer.goto("/forecast?q=HV-00001");
+  await reviewer.getByRole("link", { name: /HV-00001/ }).first().click();
+  const card = reviewer.getByTestId("forecast-EXO-BACK");
+  await expect(card.getByTestId("median")).toHaveText(/^\d+\.\d h$/);
+  await expect(card.getByTestId("interval")).toHaveText(/^\d+\.\d–\d+\.\d h$/);
+  await expect(card.getByTestId("planning")).toHaveText(/^\d+\.\d h$/);
+  await expect(card.getByTestId("forecast-explanation")).toContainText("cohort average");
+  await expect(card).toContainText(`Model v${versionNumber}`);
+  await reviewer.screenshot({ path: testInfo.outputPath("worker-forecast.png"), fullPage: true });
+});
+
+test("a coordinator sees the hours and interval but no scores or explanation", async ({ page, signInAs }) => {
+  await signInAs(page, persona("coordinator").email);
+  await page.goto("/forecast?q=HV-00001");
+  await page.getByRole("link", { name: /HV-00001/ }).first().click();
+  const card = page.getByTestId("forecast-SRF-FOOT");
+  await expect(card.getByTestId("median")).toHaveText(/^\d+\.\d h$/);
+  await expect(card.getByTestId("forecast-explanation")).toHaveCount(0);
+  await expect(card).toContainText("visible to assessors only");
+  await expect(page.getByText(/baseline z =/)).toHaveCount(0);
+});
+
+test("logging a session moves the remaining-hours forecast and the progress chart", async ({ page, signInAs }, testInfo) => {
+  await signInAs(page, persona("assessor").email);
+  await page.goto("/progress");
+  await page.getByRole("row").filter({ hasText: "HV-00001" }).filter({ hasText: "Foot-driven supernumerary finger" }).getByRole("link").click();
+  await expect(page.getByRole("heading", { level: 1 })).toContainText("Foot-driven supernumerary finger");
+  const rows = page.getByTestId("sessions").locator("tbody tr");
+  const points = page.getByTestId("progress-chart").locator(".recharts-scatter-symbol");
+  await expect(points.first()).toBeVisible();
+  const sessionsBefore = await rows.count();
+  const pointsBefore = await points.count();
+  const remainingBefore = await page.getByTestId("remaining-median").textContent();
+
+  await page.getByLabel("Practice time (hours)").fill("1");
+  await page.getByLabel("Task score (0–1)").fill("0.72");
+  await page.getByRole("button", { name: "Log session" }).click();
+  await expect(page.getByRole("status")).toContainText("Session logged");
+  await expect(rows).toHaveCount(sessionsBefore + 1);
+  await expect(points).toHaveCount(pointsBefore + 1);
+  await expect(page.getByTestId("remaining-median")).not.toHaveText(remainingBefore ?? "");
+  await expect(rows.last()).toContainText("0.720");
+  await page.screenshot({ path: testInfo.outputPath("progress-after-log.png"), fullPage: true });
+
+  // Bad input is named.
+  await page.getByLabel("Practice time (hours)").fill("3");
+  await page.getByLabel("Task score (0–1)").fill("0.7");
+  await page.getByRole("button", { name: "Log session" }).click();
+  await expect(page.getByText("Practice time exceeds this device's wear-time limit of 60 minutes")).toBeVisible();
+  await expect(rows).toHaveCount(sessionsBefore + 1);
+});
+
+test("the progress page works at 390 px with the chart and the logging form", async ({ page, signInAs }, testInfo) => {
+  await page.setViewportSize({ width: 390, height: 844 });
+  await signInAs(page, persona("assessor").email);
+  await page.goto("/progress");
+  await page.getByRole("row").filter({ hasText: "Review" }).first().getByRole("link").click();
+  await expect(page.getByTestId("review-flag")).toContainText("levels off");
+  await expect(page.getByTestId("progress-chart").getByRole("application")).toBeVisible();
+  const width = await page.evaluate(() => document.documentElement.scrollWidth);
+  expect(width).toBeLessThanOrEqual(390);
+  await page.screenshot({ path: testInfo.outputPath("progress-390.png"), fullPage: true });
+});

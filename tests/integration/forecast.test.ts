@@ -1,0 +1,319 @@
+import crypto from "node:crypto";
+import { Matrix, inverse } from "ml-matrix";
+import { afterAll, describe, expect, it } from "vitest";
+import { ERASURE_STEPS } from "~/models/consent.server";
+import { eraseForecasts } from "~/models/forecast.server";
+import { workerForecastSchema } from "~/schemas/forecast";
+import { PERSONA, baseUrl, signIn, testDb } from "./helpers";
+
+// Forecast area (issue 4) against the running stack and the seeded demo (seeds/03_forecast_demo.ts).
+const k = testDb();
+
+async function device(code: string) {
+  return (await k("device_types").where({ code }).first("id")).id as number;
+}
+
+/** Latest consent status per worker for a purpose, straight from SQL (independent of the app's helper). */
+async function consentByWorker(purpose: string): Promise<Map<number, string>> {
+  const rows = await k("consent_records").where({ purpose }).select("worker_id", "status").orderBy("id");
+  const m = new Map<number, string>();
+  for (const r of rows) m.set(r.worker_id, r.status);
+  return m;
+}
+
+/** z-scores per measure from baselines assessed on or before the cutoff day (latest wins). */
+async function zBefore(workerId: number, measureIds: number[], cutoff: string | null): Promise<number[] | null> {
+  const rows = await k("assessment_results as r").join("assessment_sessions as s", "s.id", "r.session_id")
+    .where("s.worker_id", workerId).whereIn("r.measure_id", measureIds).whereNotNull("r.z_score")
+    .select("r.measure_id", "r.z_score", "s.assessed_on").orderBy([{ column: "s.assessed_on" }, { column: "s.id" }]);
+  const m = new Map<number, number>();
+  for (const r of rows) if (!cutoff || String(r.assessed_on).slice(0, 10) <= cutoff) m.set(r.measure_id, Number(r.z_score));
+  const z = measureIds.map((id) => m.get(id));
+  return z.some((v) => v === undefined) ? null : (z as number[]);
+}
+
+/**
+ * Reference fit by the normal equations b = (XᵀX)⁻¹Xᵀy on cohort-standardised columns (the textbook
+ * definition of least squares; the app uses QR, so the two agree only if both saw the same rows).
+ */
+function normalEquations(Z: number[][], y: number[]): number[] {
+  const n = Z.length;
+  const p = Z[0].length;
+  const means = Array.from({ length: p }, (_, j) => Z.reduce((s, r) => s + r[j], 0) / n);
+  const sds = means.map((m, j) => Math.sqrt(Z.reduce((s, r) => s + (r[j] - m) ** 2, 0) / (n - 1)));
+  const X = new Matrix(Z.map((r) => [1, ...r.map((v, j) => (v - means[j]) / sds[j])]));
+  const Y = Matrix.columnVector(y);
+  return inverse(X.transpose().mmul(X)).mmul(X.transpose()).mmul(Y).to1DArray();
+}
+
+function coefficientTable(html: string): number[] {
+  const table = /data-testid="coefficients"[\s\S]*?<tbody>([\s\S]*?)<\/tbody>/.exec(html)?.[1] ?? "";
+  return [...table.matchAll(/<tr>[\s\S]*?<\/th><td>(-?[\d.]+)<\/td>/g)].map((m) => Number(m[1]));
+}
+
+const text = (html: string, testId: string) => new RegExp(`data-testid="${testId}"[^>]*>([^<]*)<`).exec(html)?.[1] ?? null;
+
+describe("model workbench: cohort and censoring", () => {
+  it("counts every exclusion, and fits only consented trainees who reached the criterion with every measure", async () => {
+    const deviceTypeId = await device("SRF-FOOT");
+    const approved = await k("model_versions").where({ device_type_id: deviceTypeId, status: "approved" }).first();
+    const measureIds: number[] = JSON.parse(approved.measure_ids);
+    const consent = await consentByWorker("model");
+    const courses = await k("device_courses").where({ device_type_id: deviceTypeId }).orderBy("worker_id");
+    const expected = { still_training: 0, stopped: 0, withdrawn: 0, no_model_consent: 0, missing_measures: 0 };
+    const included: { z: number[]; hours: number }[] = [];
+    const censored: { z: number[]; hours: number }[] = [];
+    for (const c of courses) {
+      const state = consent.get(c.worker_id);
+      if (state === "withdrawn") { expected.withdrawn++; continue; }
+      if (state !== "given") { expected.no_model_consent++; continue; }
+      if (c.status === "stopped") { expected.stopped++; continue; }
+      const z = await zBefore(c.worker_id, measureIds, c.started_on ? String(c.started_on).slice(0, 10) : null);
+      if (c.status !== "proficient") { expected.still_training++; if (z) censored.push({ z, hours: Number(c.cumulative_hours) }); continue; }
+      if (!z) { expected.missing_measures++; continue; }
+      included.push({ z, hours: Number(c.hours_to_proficiency) });
+    }
+    // The demo has censored records of every kind, so the check is not vacuous.
+    expect(expected.still_training).toBeGreaterThan(0);
+    expect(expected.withdrawn).toBeGreaterThan(0);
+    expect(expected.missing_measures).toBeGreaterThan(0);
+
+    const { client } = await signIn(PERSONA.assessor);
+    const res = await client.postForm("/models/new", { intent: "fit", deviceTypeId: String(deviceTypeId), measureIds: measureIds.map(String), ridge: "0" });
+    expect(res.status).toBe(200);
+    const html = await res.text();
+    expect(Number(text(html, "cohort-size"))).toBe(included.length);
+    for (const [reason, n] of Object.entries(expected)) {
+      const shown = new RegExp(`data-reason="${reason}"><strong>(\\d+)</strong>`).exec(html)?.[1];
+      expect(Number(shown ?? 0), reason).toBe(n);
+    }
+    const total = Object.values(expected).reduce((s, n) => s + n, 0);
+    expect(Number(text(html, "excluded-total"))).toBe(total);
+
+    // The page's coefficients (4 decimals) are the least-squares fit of exactly the included records…
+    const shown = coefficientTable(html);
+    expect(shown.length).toBe(measureIds.length + 1);
+    const reference = normalEquations(included.map((r) => r.z), included.map((r) => Math.log(r.hours)));
+    shown.forEach((b, i) => expect(Math.abs(b - reference[i])).toBeLessThan(6e-5));
+    // …and not of the cohort with the censored trainees' hours-so-far mixed in as if they were outcomes.
+    const mixed = normalEquations([...included, ...censored].map((r) => r.z), [...included, ...censored].map((r) => Math.log(r.hours)));
+    expect(Math.max(...mixed.map((b, i) => Math.abs(b - shown[i])))).toBeGreaterThan(1e-3);
+  });
+
+  it("a censored course with a stray outcome value still stays out of the fit", async () => {
+    const deviceTypeId = await device("SRF-FOOT");
+    const measureIds: number[] = JSON.parse((await k("model_versions").where({ device_type_id: deviceTypeId, status: "approved" }).first()).measure_ids);
+    const { client } = await signIn(PERSONA.assessor);
+    const fit = async () => (await (await client.postForm("/models/new", { intent: "fit", deviceTypeId: String(deviceTypeId), measureIds: measureIds.map(String), ridge: "0" })).text());
+    const before = await fit();
+    const training = await k("device_courses").where({ device_type_id: deviceTypeId, status: "training" }).orderBy("worker_id").first();
+    await k("device_courses").where({ id: training.id }).update({ hours_to_proficiency: 999 });
+    try {
+      const after = await fit();
+      expect(text(after, "cohort-size")).toBe(text(before, "cohort-size"));
+      expect(coefficientTable(after)).toEqual(coefficientTable(before));
+    } finally {
+      await k("device_courses").where({ id: training.id }).update({ hours_to_proficiency: null });
+    }
+  });
+
+  it("names the problem when too few records remain", async () => {
+    const { client } = await signIn(PERSONA.assessor);
+    const res = await client.postForm("/models/new", { intent: "fit", deviceTypeId: "999999", measureIds: ["1"], ridge: "0" });
+    expect(res.status).toBe(422);
+    expect(await res.text()).toContain("That device type does not exist.");
+    const none = await client.postForm("/models/new", { intent: "fit", deviceTypeId: String(await device("EXO-BACK")), ridge: "0" });
+    expect(none.status).toBe(400);
+    expect(await none.text()).toContain("Choose at least one measure.");
+  });
+});
+
+describe("model versions: approval by a second assessor", () => {
+  it("the assessor who fitted a version cannot approve it; another assessor can, and forecasts move to it", async () => {
+    const deviceTypeId = await device("EXO-SHOULDER");
+    const previous = await k("model_versions").where({ device_type_id: deviceTypeId, status: "approved" }).first();
+    const measureIds: number[] = JSON.parse(previous.measure_ids);
+    const fitter = (await signIn(PERSONA.assessor)).client;
+    const saved = await fitter.postForm("/models/new", { intent: "save", deviceTypeId: String(deviceTypeId), measureIds: measureIds.slice(0, 3).map(String), ridge: "0", notes: "integration test" });
+    expect(saved.status).toBe(302);
+    const id = Number(/\/models\/(\d+)/.exec(saved.headers.get("Location") ?? "")?.[1]);
+    const draft = await k("model_versions").where({ id }).first();
+    expect(draft.status).toBe("draft");
+    expect(JSON.parse(draft.measure_ids)).toEqual(measureIds.slice(0, 3));
+
+    const self = await fitter.postForm(`/models/${id}`, { intent: "approve" });
+    expect(self.status).toBe(409);
+    expect(await self.text()).toContain("approved by an assessor other than the one who fitted it");
+    expect((await k("model_versions").where({ id }).first()).status).toBe("draft");
+
+    const reviewer = (await signIn(PERSONA.assessor2)).client;
+    const ok = await reviewer.postForm(`/models/${id}`, { intent: "approve" });
+    expect(ok.status).toBe(200);
+    const now = await k("model_versions").where({ id }).first();
+    expect(now.status).toBe("approved");
+    expect(now.approved_by).toBe((await k("users").where({ email: PERSONA.assessor2 }).first("id")).id);
+    expect((await k("model_versions").where({ id: previous.id }).first()).status).toBe("retired");
+    const versions = await k("forecasts").where({ device_type_id: deviceTypeId }).distinct("model_version_id");
+    expect(versions.map((v) => v.model_version_id)).toEqual([id]);
+  });
+});
+
+describe("worker forecast: views, API and access log", () => {
+  const workerId = async () => (await k("workers").where({ employee_number: "HV-00001" }).first("id")).id as number;
+
+  it("assessors get the explanation with z-scores; coordinators get hours and intervals only (page data and API)", async () => {
+    const id = await workerId();
+    const assessor = (await signIn(PERSONA.assessor)).client;
+    const coordinator = (await signIn(PERSONA.coordinator)).client;
+    const a = await assessor.request(`/api/v1/workers/${id}/forecast`);
+    expect(a.status).toBe(200);
+    const av = workerForecastSchema.parse(await a.json());
+    expect(av.view).toBe("clinical");
+    const ready = av.forecasts.filter((f) => f.status === "ready");
+    expect(ready.length).toBeGreaterThan(0);
+    for (const f of ready) {
+      expect(f.explanation!.contributions.length).toBe(f.modelVersion!.measures.length);
+      // median = baseline hours × every factor (the explanation adds up).
+      const product = f.explanation!.contributions.reduce((s, c) => s * c.multiplier, f.explanation!.baselineHours);
+      expect(product / f.medianHours!).toBeCloseTo(1, 9);
+      expect(f.lowerHours!).toBeLessThan(f.medianHours!);
+      expect(f.upperHours!).toBeGreaterThan(f.medianHours!);
+    }
+
+    const c = await coordinator.request(`/api/v1/workers/${id}/forecast`);
+    expect(c.status).toBe(200);
+    const raw = await c.text();
+    expect(raw).not.toContain("zScore");
+    const cv = workerForecastSchema.parse(JSON.parse(raw));
+    expect(cv.view).toBe("planning");
+    expect(cv.forecasts.every((f) => f.explanation === null)).toBe(true);
+    expect(cv.forecasts.find((f) => f.status === "ready")!.medianHours).toBe(ready[0].medianHours);
+
+    // The page loader's data (what the browser receives) follows the same rule.
+    const pageData = await (await coordinator.request(`/forecast/${id}.data`)).text();
+    expect(pageData).toContain("medianHours");
+    expect(pageData).not.toContain("zScore");
+    expect(await (await assessor.request(`/forecast/${id}.data`)).text()).toContain("zScore");
+  });
+
+  it("every staff read is written to the access log", async () => {
+    const id = await workerId();
+    const before = Number((await k("access_log").where({ worker_id: id, resource: "forecast" }).count({ n: "*" }).first())?.n);
+    const { client } = await signIn(PERSONA.coordinator);
+    expect((await client.request(`/forecast/${id}`)).status).toBe(200);
+    expect((await client.request(`/api/v1/workers/${id}/forecast`)).status).toBe(200);
+    const after = Number((await k("access_log").where({ worker_id: id, resource: "forecast" }).count({ n: "*" }).first())?.n);
+    expect(after - before).toBe(2);
+  });
+
+  it("API keys: assessor/coordinator keys in scope may read; other roles 403; other sites 404", async () => {
+    const id = await workerId();
+    const ny = (await k("sites").where({ code: "NY" }).first("id")).id;
+    const rs = (await k("sites").where({ code: "RS" }).first("id")).id;
+    const makeKey = async (role: string, siteId: number) => {
+      const prefix = crypto.randomBytes(6).toString("hex");
+      const secret = crypto.randomBytes(32).toString("base64url");
+      const [row] = await k("api_keys").insert({ name: `forecast-it-${role}-${prefix}`, prefix, secret_hash: crypto.createHash("sha256").update(secret).digest("hex"), role, created_at: new Date().toISOString() }).returning("id");
+      await k("api_key_sites").insert({ api_key_id: row.id, site_id: siteId });
+      return `lbk_${prefix}_${secret}`;
+    };
+    const get = (key: string) => fetch(`${baseUrl()}/api/v1/workers/${id}/forecast`, { headers: { Authorization: `Bearer ${key}` } });
+    const coord = await get(await makeKey("coordinator", ny));
+    expect(coord.status).toBe(200);
+    expect(workerForecastSchema.parse(await coord.json()).view).toBe("planning");
+    const assess = await get(await makeKey("assessor", ny));
+    expect(workerForecastSchema.parse(await assess.json()).view).toBe("clinical");
+    expect((await get(await makeKey("manager", ny))).status).toBe(403);
+    expect((await get(await makeKey("trainer", ny))).status).toBe(403);
+    expect((await get(await makeKey("coordinator", rs))).status).toBe(404);
+  });
+});
+
+describe("logging sessions: cumulative hours, proficiency, stage and forecast in one step", () => {
+  it("moves the forecast, then marks the course proficient with its date and hours once the criterion is met", async () => {
+    const deviceTypeId = await device("EXO-BACK");
+    const criterion = await k("proficiency_criteria").where({ device_type_id: deviceTypeId }).first();
+    const course = await k("device_courses as c").join("forecasts as f", function () { this.on("f.worker_id", "c.worker_id").andOn("f.device_type_id", "c.device_type_id"); })
+      .where({ "c.device_type_id": deviceTypeId, "c.status": "training" }).orderBy("c.worker_id", "desc").first("c.*");
+    const w = course.worker_id as number;
+    const before = await k("forecasts").where({ worker_id: w, device_type_id: deviceTypeId }).first();
+    const sessionsBefore = Number((await k("training_sessions").where({ worker_id: w, device_type_id: deviceTypeId }).count({ n: "*" }).first())?.n);
+    const { client } = await signIn(PERSONA.assessor);
+    const path = `/progress/${w}/${deviceTypeId}`;
+
+    const bad = await client.postForm(path, { intent: "log", durationHours: "1", taskScore: "1.5" });
+    expect(bad.status).toBe(400);
+    expect(await bad.text()).toContain("Task score must be between 0 and 1.");
+    const tooLong = await client.postForm(path, { intent: "log", durationHours: "5", taskScore: "0.5" });
+    expect(tooLong.status).toBe(409);
+    expect(await tooLong.text()).toContain("wear-time limit of 240 minutes");
+
+    const low = Number(criterion.score_threshold) - 0.3;
+    expect((await client.postForm(path, { intent: "log", durationHours: "1", taskScore: String(low), notes: "it" })).status).toBe(200);
+    const c1 = await k("device_courses").where({ id: course.id }).first();
+    expect(Number(c1.cumulative_hours)).toBeCloseTo(Number(course.cumulative_hours) + 1, 9);
+    expect(c1.status).toBe("training");
+    const after1 = await k("forecasts").where({ worker_id: w, device_type_id: deviceTypeId }).first();
+    expect(Number(after1.hours_done)).toBeCloseTo(Number(c1.cumulative_hours), 9);
+    expect(after1.remaining_hours).not.toBe(before.remaining_hours);
+    expect(Number((await k("training_sessions").where({ worker_id: w, device_type_id: deviceTypeId }).count({ n: "*" }).first())?.n)).toBe(sessionsBefore + 1);
+    const last = await k("training_sessions").where({ worker_id: w, device_type_id: deviceTypeId }).orderBy("id", "desc").first();
+    expect(Number(last.cumulative_hours)).toBeCloseTo(Number(c1.cumulative_hours), 9);
+    expect(Number(last.task_score)).toBeCloseTo(low, 9);
+
+    const high = String(Math.min(1, Number(criterion.score_threshold) + 0.05));
+    for (let i = 0; i < Number(criterion.consecutive_sessions); i++) {
+      expect((await client.postForm(path, { intent: "log", durationHours: "1", taskScore: high })).status).toBe(200);
+    }
+    const done = await k("device_courses").where({ id: course.id }).first();
+    expect(done.status).toBe("proficient");
+    expect(Number(done.hours_to_proficiency)).toBeCloseTo(Number(course.cumulative_hours) + 1 + Number(criterion.consecutive_sessions), 9);
+    expect(String(done.proficient_on)).toBe(new Date().toISOString().slice(0, 10));
+    expect((await k("workers").where({ id: w }).first("stage")).stage).toBe("proficient");
+    const change = await k("stage_changes").where({ worker_id: w, to_stage: "proficient", device_type_id: deviceTypeId }).orderBy("id", "desc").first();
+    expect(change).toBeTruthy();
+    const outcome = await k("forecast_outcomes").where({ worker_id: w, device_type_id: deviceTypeId }).first();
+    expect(Number(outcome.actual_hours)).toBeCloseTo(Number(done.hours_to_proficiency), 9);
+    expect(outcome.model_version_id).toBe(after1.model_version_id);
+    expect((await k("forecasts").where({ worker_id: w, device_type_id: deviceTypeId }).first()).progress_status).toBe("proficient");
+
+    // No sessions after proficiency.
+    const more = await client.postForm(path, { intent: "log", durationHours: "1", taskScore: "0.9" });
+    expect(more.status).toBe(409);
+    expect(await more.text()).toContain("already reached proficiency");
+  });
+
+  it("trainers reach only trainees on their own schedule", async () => {
+    const { client } = await signIn(PERSONA.trainer);
+    const ines = (await k("trainers as t").join("users as u", "u.id", "t.user_id").where("u.email", PERSONA.trainer).first("t.id")).id;
+    const mine = await k("training_sessions").where({ trainer_id: ines }).first("worker_id", "device_type_id");
+    expect((await client.request(`/progress/${mine.worker_id}/${mine.device_type_id}`)).status).toBe(200);
+    const other = await k("training_sessions").whereNot({ trainer_id: ines }).whereNotIn("worker_id", k("training_sessions").where({ trainer_id: ines }).select("worker_id")).first("worker_id", "device_type_id");
+    expect((await client.request(`/progress/${other.worker_id}/${other.device_type_id}`)).status).toBe(404);
+    expect((await client.request("/models")).status).toBe(403);
+  });
+});
+
+describe("erasure on withdrawal", () => {
+  it("the consent module's forecasts step erases forecasts, drift records and review flags", async () => {
+    const step = ERASURE_STEPS.find((s) => s.label === "forecasts")!;
+    expect(step.purposes).toEqual(expect.arrayContaining(["planning", "assessment"]));
+    const flagged = await k("review_flags").first("worker_id");
+    expect(flagged).toBeTruthy();
+    const w = flagged.worker_id as number;
+    expect(Number((await k("forecasts").where({ worker_id: w }).count({ n: "*" }).first())?.n)).toBeGreaterThan(0);
+    const UNDO = new Error("undo");
+    await k.transaction(async (trx) => {
+      const n = await step.run(trx, w);
+      expect(n).toBeGreaterThan(0);
+      expect(Number((await trx("forecasts").where({ worker_id: w }).count({ n: "*" }).first())?.n)).toBe(0);
+      expect(Number((await trx("review_flags").where({ worker_id: w }).count({ n: "*" }).first())?.n)).toBe(0);
+      expect(await eraseForecasts(trx, w)).toBe(0);
+      throw UNDO; // leave the shared test database as it was
+    }).catch((e) => { if (e !== UNDO) throw e; });
+  });
+});
+
+afterAll(async () => {
+  await k("api_keys").where("name", "like", "forecast-it-%").del();
+});
