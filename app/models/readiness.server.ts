@@ -170,13 +170,10 @@ async function readyCounts(g: Groups, devices: { id: number }[]): Promise<number
   return counts;
 }
 
-/** Only sessions of published runs count, when the allocation area's runs table says which are published. */
+/** Only sessions of published runs count (allocation_runs.published_at set), once the allocation area's table exists. */
 async function publishedRunFilter(): Promise<((q: Knex.QueryBuilder) => void) | null> {
   const k = db();
   if (!(await k.schema.hasTable("allocation_runs"))) return null;
-  if (await k.schema.hasColumn("allocation_runs", "status")) {
-    return (q) => { q.whereIn("ts.allocation_run_id", k("allocation_runs").select("id").where("status", "published")); };
-  }
   if (await k.schema.hasColumn("allocation_runs", "published_at")) {
     return (q) => { q.whereIn("ts.allocation_run_id", k("allocation_runs").select("id").whereNotNull("published_at")); };
   }
