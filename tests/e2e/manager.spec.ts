@@ -1,0 +1,43 @@
+import { expect, persona, test } from "./fixtures";
+
+// The manager persona (Declan Hartley: North Yard Cable Harness and Final Assembly) in a real browser:
+// sees their departments' protected readiness, the hidden symbol with its explanation, downloads the
+// XLSX, and the page works at 390 px. Screenshots go to test-results/e2e/.
+test("manager sees protected readiness for their departments and exports it", async ({ page, signInAs }, testInfo) => {
+  const landed = await signInAs(page, persona("manager").email);
+  expect(new URL(landed).pathname).toBe("/readiness");
+  await expect(page.getByRole("heading", { name: "Department readiness" })).toBeVisible();
+  await expect(page.getByText("North Yard: Cable Harness, Final Assembly")).toBeVisible();
+
+  const stage = page.getByTestId("stage-table-department");
+  await expect(stage.getByRole("rowheader", { name: "North Yard · Cable Harness" })).toBeVisible();
+  await expect(stage.getByRole("rowheader", { name: "North Yard · Final Assembly" })).toBeVisible();
+  // No other department is on the page.
+  await expect(page.getByText("Kitting")).toHaveCount(0);
+  // Every shown count in the stage table is 0 or at least 5 (threshold of the demo organisation).
+  const values = await stage.locator("tbody td").allInnerTexts();
+  for (const v of values) {
+    if (v.includes("hidden")) continue;
+    const n = Number(v.replace(/[^0-9]/g, ""));
+    expect(n === 0 || n >= 5, `cell ${v}`).toBe(true);
+  }
+  await page.screenshot({ path: testInfo.outputPath("manager-home-desktop.png"), fullPage: true });
+
+  const download = page.waitForEvent("download");
+  await page.getByRole("link", { name: "Download these tables (XLSX)" }).click();
+  const file = await download;
+  expect(file.suggestedFilename()).toMatch(/^limberly-readiness-\d{4}-\d{2}-\d{2}\.xlsx$/);
+
+  await page.setViewportSize({ width: 390, height: 900 });
+  await expect(page.getByRole("heading", { name: "People by readiness stage" })).toBeVisible();
+  const width = await page.evaluate(() => document.documentElement.scrollWidth);
+  expect(width).toBeLessThanOrEqual(390);
+  await page.screenshot({ path: testInfo.outputPath("manager-home-390.png"), fullPage: true });
+});
+
+test("a department manager's site view explains that it is for whole-site managers", async ({ page, signInAs }) => {
+  await signInAs(page, persona("manager").email);
+  await page.goto("/readiness/sites");
+  await expect(page.getByText("The site view is for managers responsible for a whole site.")).toBeVisible();
+  await expect(page.getByRole("table")).toHaveCount(0);
+});
