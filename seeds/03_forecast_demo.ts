@@ -4,6 +4,7 @@ import { firstProficientIndex } from "../app/compute/proficiency-rule";
 import { gaussianSource, mulberry32 } from "../app/compute/seeded-random";
 import { approveModelVersion, saveModelVersion } from "../app/models/model-versions.server";
 import { upsertForecast } from "../app/models/forecast.server";
+import { logSessionResult } from "../app/models/progress.server";
 
 // ─────────────────────────────────────────────────────────────────────────────────────────────
 // INVENTED DEMO DATA for the forecast area (issue 4). Every outcome below is generated from the documented
@@ -21,7 +22,8 @@ import { upsertForecast } from "../app/models/forecast.server";
 // criterion near the drawn hours, plus N(0, 0.025) noise; the recorded hours to proficiency are where the
 // criterion rule (consecutive sessions at or above the threshold) is first met on those sessions.
 // Per device type: 40 consented past trainees, 2 whose model consent was later withdrawn, 2 missing a
-// measure, 1 stopped course, 5 trainees in progress (one on SRF-FOOT plateaus below the criterion), and
+// measure, 1 stopped course, 5 trainees in progress (one on SRF-FOOT plateaus below the criterion; two
+// finish after the model is approved, giving the first drift outcomes), and
 // baselines for further workers so they get forecasts. Model versions are fitted by Morwenna Pike and
 // approved by Rhea Lindqvist. Seeded PRNG and fixed dates: the same data on every machine.
 // ─────────────────────────────────────────────────────────────────────────────────────────────
@@ -115,7 +117,7 @@ export async function seed(knex: Knex): Promise<void> {
       }
     };
     // Sessions along a curve that reaches the criterion near `targetHours`; stops at the criterion or after maxSessions.
-    const sessions = async (workerId: number, deviceTypeId: number, trainerId: number | null, startDay: string, spec: typeof MODELS[string], targetHours: number, opts: { maxSessions?: number; asymptote?: number } = {}) => {
+    const sessions = async (workerId: number, deviceTypeId: number, trainerId: number | null, startDay: string, spec: typeof MODELS[string], targetHours: number, opts: { maxSessions?: number; asymptote?: number; holdLast?: boolean } = {}) => {
       const a = opts.asymptote ?? 0.94 + 0.04 * rand();
       const s = 0.2 + 0.15 * rand();
       const goal = Math.min(spec.threshold + 0.03, a - 0.01);
@@ -127,15 +129,20 @@ export async function seed(knex: Knex): Promise<void> {
         cum = Math.round((cum + spec.session) * 1000) / 1000;
         const score = Math.min(1, Math.max(0, a - (a - s) * Math.exp(-c * cum) + 0.025 * gauss()));
         scores.push(Math.round(score * 1000) / 1000);
+        if (opts.holdLast && firstProficientIndex(scores, { scoreThreshold: spec.threshold, consecutiveSessions: spec.consecutive }) >= 0) {
+          // Keep the session that completes the criterion for later (it is logged after the model is approved).
+          return { cum: Math.round((cum - spec.session) * 1000) / 1000, day, proficient: false, curve: { a, s, c }, held: scores[i] };
+        }
         day = addDays(day, i % 2 === 0 ? 2 : 3);
         const at = `${day}T${i % 2 === 0 ? "09" : "13"}:00:00.000Z`;
         await trx("training_sessions").insert({ worker_id: workerId, device_type_id: deviceTypeId, trainer_id: trainerId, scheduled_start: at,
           status: "attended", duration_hours: spec.session, task_score: scores[i], cumulative_hours: cum, logged_by: morwenna, logged_at: at, created_at: at });
-        if (firstProficientIndex(scores, { scoreThreshold: spec.threshold, consecutiveSessions: spec.consecutive }) >= 0) return { cum, day, proficient: true };
+        if (firstProficientIndex(scores, { scoreThreshold: spec.threshold, consecutiveSessions: spec.consecutive }) >= 0) return { cum, day, proficient: true, curve: { a, s, c }, held: null };
       }
-      return { cum, day, proficient: false };
+      return { cum, day, proficient: false, curve: { a, s, c }, held: null };
     };
 
+    const finishers: { workerId: number; deviceTypeId: number; trainerId: number | null; session: number; score: number; day: string }[] = [];
     for (const d of devices) {
       const spec = MODELS[d.code];
       if (!spec) continue;
@@ -169,20 +176,23 @@ export async function seed(knex: Knex): Promise<void> {
       // Trainees in progress (started in October/November 2026); one SRF-FOOT trainee plateaus below the criterion.
       for (let i = 0; i < IN_PROGRESS; i++) {
         const w = d.code === "SRF-FOOT" && i === 0 && persona ? persona : take();
-        const startDay = addDays("2026-10-12", Math.floor(rand() * 14));
+        const finishing = i === 1 || i === 2;
+        const z0 = drawZ();
+        const target = drawHours(z0);
+        // Finishers started early enough to be one session from the criterion when the model is approved.
+        const startDay = finishing ? addDays("2026-11-20", -Math.ceil((target / spec.session) * 2.5) - 4) : addDays("2026-10-12", Math.floor(rand() * 14));
         await consentAll(w.id, "2026-10-05T10:00:00.000Z");
-        const z = drawZ();
-        await baseline(w.id, addDays(startDay, -5), z);
+        await baseline(w.id, addDays(startDay, -5), z0);
         const plateau = d.code === "SRF-FOOT" && i === IN_PROGRESS - 1;
-        const target = drawHours(z);
-        const done = plateau ? 9 : 3 + Math.floor(rand() * Math.max(1, Math.min(6, target / spec.session - 3)));
+        const done = finishing ? 400 : plateau ? 9 : 3 + Math.floor(rand() * Math.max(1, Math.min(6, target / spec.session - 3)));
         const inesFits = ines !== undefined && trainers.some((t) => t.id === ines && t.device_type_id === d.id && t.site_id === w.site_id);
         const trainerId = inesFits ? (ines as number) : trainerFor(w.site_id);
-        const run = await sessions(w.id, d.id, trainerId, startDay, spec, target, { maxSessions: done, ...(plateau ? { asymptote: 0.66 } : {}) });
+        const run = await sessions(w.id, d.id, trainerId, startDay, spec, target, { maxSessions: done, holdLast: finishing, ...(plateau ? { asymptote: 0.66 } : {}) });
         const status = run.proficient ? "proficient" : "training";
         await trx("device_courses").insert({ worker_id: w.id, device_type_id: d.id, status, cumulative_hours: run.cum, started_on: startDay,
           proficient_on: run.proficient ? run.day : null, hours_to_proficiency: run.proficient ? run.cum : null, updated_at: `${run.day}T17:00:00.000Z` });
         await setStage(w.id, w.stage, run.proficient ? "proficient" : "training", d.id, `${startDay}T09:00:00.000Z`);
+        if (finishing && run.held !== null) finishers.push({ workerId: w.id, deviceTypeId: d.id, trainerId, session: spec.session, score: run.held, day: run.day });
       }
     }
 
@@ -199,6 +209,13 @@ export async function seed(knex: Knex): Promise<void> {
       if (!MODELS[d.code]) continue;
       const v = await saveModelVersion({ deviceTypeId: d.id, measureIds, ridge: 0, notes: "Demo model on the synthetic cohort (invented data)." }, morwenna, trx, { now: FITTED_AT });
       await approveModelVersion(v.id, rhea, trx, { now: APPROVED_AT });
+    }
+    // Two trainees per device type reach the criterion after approval (through the product's own logging
+    // path), so each version has its first drift outcomes: actual hours against the forecast in use.
+    for (const f of finishers) {
+      const day = f.day > "2026-11-24" ? f.day : "2026-11-24";
+      await logSessionResult({ workerId: f.workerId, deviceTypeId: f.deviceTypeId, durationHours: f.session, taskScore: f.score,
+        notes: "Synthetic demo session (invented).", loggedBy: morwenna, trainerId: f.trainerId, at: `${day}T10:00:00.000Z` }, trx);
     }
     // Progress updates for the trainees in progress, as of the seed date.
     for (const c of await trx("device_courses").where({ status: "training" }).select("worker_id", "device_type_id")) {
