@@ -60,9 +60,10 @@ export async function startStack(o: StackOptions): Promise<Stack> {
   const idp = await startIdp(o.idpPort);
   const smtp = await startSmtpCatcher(o.smtpPort, o.outboxDir);
   const env = stackEnv(o);
+  const watch = ["--require", path.join(root, "scripts/exit-with-parent.cjs")];
   const args = o.dev
-    ? [path.join(root, "node_modules/@react-router/dev/bin.js"), "dev", "--port", String(o.appPort), "--strictPort"]
-    : [path.join(root, "node_modules/@react-router/serve/bin.js"), path.join(root, "build/server/index.js")];
+    ? [...watch, path.join(root, "node_modules/@react-router/dev/bin.js"), "dev", "--port", String(o.appPort), "--strictPort"]
+    : [...watch, path.join(root, "node_modules/@react-router/serve/bin.js"), path.join(root, "build/server/index.js")];
   const child: ChildProcess = spawn(process.execPath, args, {
     cwd: root,
     env: o.dev ? env : { ...env, NODE_ENV: "production" },
