@@ -294,6 +294,32 @@ describe("logging sessions: cumulative hours, proficiency, stage and forecast in
   });
 });
 
+describe("drift", () => {
+  it("warns assessors when fewer than 70 % of actual outcomes fell inside the version's 80 % interval", async () => {
+    const deviceTypeId = await device("SRA-WAIST");
+    const v = await k("model_versions").where({ device_type_id: deviceTypeId, status: "approved" }).first("id", "version_number");
+    const { client } = await signIn(PERSONA.assessor);
+    expect(await (await client.request("/models")).text()).not.toMatch(/data-testid="drift-warning"[^>]*>Drift: Waist-mounted/);
+    const free = await k("workers").whereNotIn("id", k("forecast_outcomes").where({ device_type_id: deviceTypeId }).select("worker_id")).orderBy("id", "desc").limit(5).select("id");
+    const ids: number[] = [];
+    for (const w of free) {
+      const [row] = await k("forecast_outcomes").insert({ model_version_id: v.id, worker_id: w.id, device_type_id: deviceTypeId, forecast_median_hours: 10,
+        forecast_lower_hours: 8, forecast_upper_hours: 12, actual_hours: 20, covered: false, reached_on: "2026-11-29", recorded_at: "2026-11-29T10:00:00.000Z" }).returning("id");
+      ids.push(row.id);
+    }
+    try {
+      const all = await k("forecast_outcomes").where({ model_version_id: v.id }).select("covered");
+      const coverage = all.filter((r) => Number(r.covered) === 1).length / all.length;
+      expect(coverage).toBeLessThan(0.7);
+      const html = await (await client.request("/models")).text();
+      const warning = /data-testid="drift-warning"[^>]*>([^<]*Waist-mounted[^<]*)</.exec(html.replace(/<!-- -->/g, ""))?.[1] ?? "";
+      expect(warning).toContain(`only ${Math.round(coverage * 100)} % of ${all.length} workers`);
+    } finally {
+      await k("forecast_outcomes").whereIn("id", ids).del();
+    }
+  });
+});
+
 describe("erasure on withdrawal", () => {
   it("the consent module's forecasts step erases forecasts, drift records and review flags", async () => {
     const step = ERASURE_STEPS.find((s) => s.label === "forecasts")!;
