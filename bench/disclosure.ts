@@ -4,18 +4,8 @@
 
 import { performance } from "node:perf_hooks";
 import { auditProtectedTable, protectLinkedTables, protectTable } from "../app/compute/disclosure";
+import { mulberry32 as seeded } from "../app/compute/seeded-random";
 
-/** Mulberry32 (public-domain 32-bit generator): seeded, so every run times the same tables. */
-function seeded(seed: number): () => number {
-  let state = seed >>> 0;
-  return () => {
-    state = (state + 0x6d2b79f5) >>> 0;
-    let t = state;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 /** Many small counts: ~20 % zeros, ~40 % 1–4, ~40 % 5–24 (the hard case for suppression). */
 function smallCountTable(random: () => number, m: number, n: number): number[][] {

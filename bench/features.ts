@@ -4,18 +4,8 @@ import { performance } from "node:perf_hooks";
 import { pathToFileURL } from "node:url";
 import { handDimensionality, swayMetrics, trackingError } from "../app/compute/features";
 import { computeTrace, parseTrace } from "../app/compute/trace-parsing";
+import { mulberry32 } from "../app/compute/seeded-random";
 
-/** Deterministic PRNG (mulberry32) so every run measures the same data. */
-function mulberry32(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 function normal(random: () => number): number {
   return Math.sqrt(-2 * Math.log(1 - random())) * Math.cos(2 * Math.PI * random());
 }

@@ -5,6 +5,7 @@ import fs from "node:fs";
 import os from "node:os";
 import path from "node:path";
 import { performance } from "node:perf_hooks";
+import { mulberry32 as seeded } from "../app/compute/seeded-random";
 
 const dir = fs.mkdtempSync(path.join(os.tmpdir(), "limberly-bench-manager-"));
 process.env.DATABASE_URL = path.join(dir, "bench.sqlite");
@@ -13,17 +14,6 @@ const runs = Number(process.argv[2] ?? 15);
 const { db } = await import("../app/db.server");
 const { readinessBoard } = await import("../app/models/readiness.server");
 
-/** Mulberry32 (public-domain 32-bit generator): seeded, so every run times the same data. */
-function seeded(seed: number): () => number {
-  let state = seed >>> 0;
-  return () => {
-    state = (state + 0x6d2b79f5) >>> 0;
-    let t = state;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 const STAGES = ["invited", "consented", "baselined", "forecast", "planned", "training", "proficient", "paused", "withdrawn"];
 const SITES = 4;

@@ -141,17 +141,8 @@ export async function highsLinkedBounds(
 /** Names the helpers use, so tests can map product audit rows onto HiGHS rows. */
 export const auditNames = { cellName, rowTotalName, columnTotalName, GRAND };
 
-/** Seeded uniform numbers for test tables (Mulberry32, a public-domain 32-bit generator). */
-export function seeded(seed: number): () => number {
-  let state = seed >>> 0;
-  return () => {
-    state = (state + 0x6d2b79f5) >>> 0;
-    let t = state;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+export { mulberry32 as seeded } from "../../app/compute/seeded-random";
+import { mulberry32 as seeded } from "../../app/compute/seeded-random";
 
 /** Counts with many small cells: ~20 % zeros, ~40 % 1–4, ~40 % 5–24. */
 export function smallCountTable(random: () => number, m: number, n: number): number[][] {

