@@ -1,0 +1,48 @@
+import { z } from "zod";
+
+// Worker portal forms (issue 7): own consent, review requests; and the assessors' answer to a review.
+export const CONSENT_PURPOSE_VALUES = ["assessment", "planning", "model"] as const;
+const purpose = z.enum(CONSENT_PURPOSE_VALUES, { message: "Purpose: choose assessment, planning or model." });
+
+export const giveOwnConsentSchema = z.object({
+  intent: z.literal("give"),
+  purpose,
+  confirmRead: z.literal("on", { message: "Tick the box to confirm you have read the current text for this purpose." }),
+});
+
+export const withdrawOwnConsentSchema = z.object({
+  intent: z.literal("withdraw"),
+  purpose,
+  confirmErase: z.literal("on", { message: "Tick the box to confirm: what this consent covered is erased at once and cannot be restored." }),
+});
+
+export const REVIEW_SUBJECTS = ["forecast", "plan"] as const;
+export const REVIEW_SUBJECT_LABELS: Record<(typeof REVIEW_SUBJECTS)[number], string> = {
+  forecast: "My forecast (hours to proficiency)",
+  plan: "My training plan (sessions, device, timing)",
+};
+
+export const reviewRequestSchema = z.object({
+  subject: z.enum(REVIEW_SUBJECTS, { message: "What to review: choose your forecast or your plan." }),
+  deviceTypeId: z.preprocess((v) => (v === "" || v == null ? undefined : v),
+    z.coerce.number({ message: "Device: choose one of your devices or leave it empty." }).int().positive("Device: choose one of your devices or leave it empty.").optional()),
+  message: z.string({ message: "Message: say what you would like a person to look at." }).trim()
+    .min(10, "Message: say in a sentence or two what you would like a person to look at (at least 10 characters).")
+    .max(2000, "Message: at most 2,000 characters."),
+});
+export type ReviewRequestInput = z.infer<typeof reviewRequestSchema>;
+
+export const reviewAnswerSchema = z.object({
+  reviewId: z.coerce.number({ message: "Review: not found." }).int().positive("Review: not found."),
+  answer: z.string({ message: "Answer: write your answer to the worker." }).trim()
+    .min(5, "Answer: write your answer to the worker (at least 5 characters).").max(4000, "Answer: at most 4,000 characters."),
+});
+
+// Times in both portals are shown in UTC, the same on the server and in the browser (no hydration drift).
+const DAY = new Intl.DateTimeFormat("en-GB", { weekday: "short", day: "numeric", month: "short", year: "numeric", timeZone: "UTC" });
+const TIME = new Intl.DateTimeFormat("en-GB", { hour: "2-digit", minute: "2-digit", hour12: false, timeZone: "UTC" });
+export const formatDay = (iso: string) => DAY.format(new Date(iso));
+export const formatTime = (iso: string) => TIME.format(new Date(iso));
+export const formatSpan = (start: string, end: string | null) => `${formatTime(start)}${end ? `–${formatTime(end)}` : ""}`;
+/** "2026-12-02T09:30" for a datetime-local control (UTC). */
+export const toLocalInput = (iso: string) => new Date(iso).toISOString().slice(0, 16);

@@ -1,0 +1,94 @@
+import type { Knex } from "knex";
+
+// ─────────────────────────────────────────────────────────────────────────────────────────────
+// INVENTED DEMO DATA for the worker and trainer portals (issue 7). "Harrow & Vale Fabrication" and all its
+// people are fictional (DESIGN §6). Deterministic: fixed dates, fixed people (by employee number), no
+// randomness. Runs after 01–04.
+//
+// - Sign-in accounts (role worker, North Yard) for two more invented trainees of Ines Calloway, so that demo
+//   and tests can show a withdrawal and a logged session without touching Amara Quist (HV-00001):
+//     HV-00049 (foot-driven finger, in training)   HV-00099 (waist-mounted arm, in training)
+// - Scheduled sessions, Monday 30 November to Friday 18 December 2026, for Ines Calloway's trainees in
+//   training on the North Yard units (Amara Quist included), inside the devices' wear-time limits.
+// - One answered and one open review request, so the assessors' queue and the worker page are not empty.
+// ─────────────────────────────────────────────────────────────────────────────────────────────
+
+export const PORTAL_DEMO_WORKERS = ["HV-00049", "HV-00099"] as const;
+const NOW = "2026-11-30T09:00:00.000Z";
+const FIRST_MONDAY = "2026-11-30";
+const WEEKS = 3;
+
+function day(offset: number): string {
+  const d = new Date(`${FIRST_MONDAY}T00:00:00.000Z`);
+  d.setUTCDate(d.getUTCDate() + offset);
+  return d.toISOString().slice(0, 10);
+}
+
+export async function seed(knex: Knex): Promise<void> {
+  await knex.transaction(async (trx) => {
+    const ines = await trx("trainers as t").join("users as u", "u.id", "t.user_id").where("u.email", "ines.calloway@harrowvale.example").first("t.id", "t.site_id", "u.id as user_id");
+    if (!ines) return;
+    const morwenna = (await trx("users").where({ email: "morwenna.pike@harrowvale.example" }).first("id"))?.id ?? null;
+
+    // Worker accounts for two trainees (their roster e-mail becomes their sign-in identity).
+    for (const number of PORTAL_DEMO_WORKERS) {
+      const w = await trx("workers").where({ employee_number: number }).first("id", "given_name", "family_name", "email", "site_id", "department_id", "user_id");
+      if (!w || w.user_id || !w.email) continue;
+      const [u] = await trx("users").insert({ email: w.email, display_name: `${w.given_name} ${w.family_name}`, active: true, created_at: NOW }).returning("id");
+      await trx("role_assignments").insert({ user_id: u.id, role: "worker", site_id: w.site_id, department_id: w.department_id, created_at: NOW });
+      await trx("workers").where({ id: w.id }).update({ user_id: u.id });
+    }
+
+    // Ines's trainees in training on devices she is certified for, at her site.
+    const trainees = await trx("device_courses as c").join("workers as w", "w.id", "c.worker_id")
+      .join("trainer_certifications as tc", function () { this.on("tc.device_type_id", "c.device_type_id").andOn("tc.trainer_id", trx.raw("?", [ines.id])); })
+      .where("c.status", "training").where("w.site_id", ines.site_id)
+      .select("c.worker_id", "c.device_type_id", "w.employee_number").orderBy(["c.device_type_id", "w.employee_number"]);
+    const units = await trx("device_units").where({ site_id: ines.site_id, status: "in_service" }).select("id", "device_type_id", "serial").orderBy("serial");
+    const devices = new Map((await trx("device_types").select("id", "wear_time_limit_minutes")).map((d) => [d.id as number, Number(d.wear_time_limit_minutes)]));
+
+    // Slots: each trainee twice a week (Mon/Wed or Tue/Thu), Ines's day 08:00–16:00 with a lunch break.
+    const hours = [8, 9, 10, 11, 13, 14, 15];
+    const rows: Record<string, unknown>[] = [];
+    trainees.forEach((t, i) => {
+      const unitsOfType = units.filter((u) => u.device_type_id === t.device_type_id);
+      if (unitsOfType.length === 0) return;
+      const minutes = Math.min(60, devices.get(t.device_type_id) ?? 60);
+      const days = i % 2 === 0 ? [0, 2] : [1, 3];
+      const hour = hours[Math.floor(i / 2) % hours.length];
+      for (let wk = 0; wk < WEEKS; wk++) {
+        for (const d of days) {
+          const date = day(wk * 7 + d);
+          const start = `${date}T${String(hour).padStart(2, "0")}:00:00.000Z`;
+          const end = new Date(new Date(start).getTime() + minutes * 60_000).toISOString();
+          rows.push({
+            worker_id: t.worker_id, device_type_id: t.device_type_id, trainer_id: ines.id, device_unit_id: unitsOfType[i % unitsOfType.length].id,
+            allocation_run_id: null, scheduled_start: start, scheduled_end: end, status: "scheduled", created_at: NOW,
+          });
+        }
+      }
+    });
+    for (let i = 0; i < rows.length; i += 100) await trx("training_sessions").insert(rows.slice(i, i + 100));
+
+    // Review requests: one answered (Amara), one open (HV-00099).
+    const amara = await trx("workers").where({ employee_number: "HV-00001" }).first("id", "user_id");
+    const w99 = await trx("workers").where({ employee_number: "HV-00099" }).first("id", "user_id");
+    const foot = await trx("device_types").where({ code: "SRF-FOOT" }).first("id");
+    const arm = await trx("device_types").where({ code: "SRA-WAIST" }).first("id");
+    if (amara && foot) {
+      await trx("review_requests").insert({
+        worker_id: amara.id, subject: "forecast", device_type_id: foot.id, status: "answered", requested_by: amara.user_id,
+        message: "My forecast says about 20 hours on the finger, but my scores are already close to the goal. Could someone look at it?",
+        answer: "Thank you for asking. The forecast now takes your logged sessions into account, so the remaining hours have come down. We will look again after two more sessions.",
+        answered_by: morwenna, created_at: "2026-11-24T08:15:00.000Z", answered_at: "2026-11-25T14:00:00.000Z",
+      });
+    }
+    if (w99 && arm) {
+      await trx("review_requests").insert({
+        worker_id: w99.id, subject: "plan", device_type_id: arm.id, status: "open", requested_by: w99.user_id,
+        message: "My sessions on the waist arm clash with the Tuesday stock count. Could they move to another day?",
+        created_at: "2026-11-27T11:30:00.000Z",
+      });
+    }
+  });
+}
