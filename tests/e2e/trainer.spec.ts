@@ -1,0 +1,89 @@
+// Trainer portal (issue 7) in the browser at tablet-in-one-hand width (390 px): the day's sessions, logging a
+// score moves the worker's progress chart, a severe adverse event pauses the worker and e-mails the assessors,
+// another trainer's session is refused. Invented demo people (seeds/07_portals_demo.ts).
+import knex, { type Knex } from "knex";
+import { expect, persona, test } from "./fixtures";
+
+let k: Knex | null = null;
+function sql(databaseUrl: string): Knex {
+  if (!k) k = knex({ client: "better-sqlite3", connection: { filename: databaseUrl }, useNullAsDefault: true });
+  return k;
+}
+test.afterAll(async () => { await k?.destroy(); k = null; });
+
+async function schedule(db: Knex, workerId: number, deviceTypeId: number, trainerId: number, start: Date, minutes: number) {
+  const [row] = await db("training_sessions").insert({ worker_id: workerId, device_type_id: deviceTypeId, trainer_id: trainerId,
+    scheduled_start: start.toISOString(), scheduled_end: new Date(start.getTime() + minutes * 60_000).toISOString(), status: "scheduled", created_at: new Date().toISOString() }).returning("id");
+  return row.id as number;
+}
+
+test("a trainer logs a score and the worker's chart moves; a severe event pauses the worker and e-mails the assessors", async ({ page, signInAs, pageAs, outbox, stack }, testInfo) => {
+  const db = sql(stack.databaseUrl);
+  const w = await db("workers as w").join("users as u", "u.id", "w.user_id").where("w.employee_number", "HV-00049").first("w.id", "u.email");
+  const foot = await db("device_types").where({ code: "SRF-FOOT" }).first("id");
+  const ines = await db("trainers as t").join("users as u", "u.id", "t.user_id").where("u.email", persona("trainer").email).first("t.id");
+  const start = new Date(Date.now() - 3 * 3_600_000);
+  start.setUTCMinutes(0, 0, 0);
+  const first = await schedule(db, w.id, foot.id, ines.id, start, 45);
+  const second = await schedule(db, w.id, foot.id, ines.id, new Date(start.getTime() + 60 * 60_000), 30);
+
+  const worker = await pageAs(w.email);
+  const points = worker.getByTestId("my-progress-SRF-FOOT").locator(".recharts-scatter-symbol");
+  await expect(points.first()).toBeVisible();
+  const before = await points.count();
+
+  await page.setViewportSize({ width: 390, height: 860 });
+  await signInAs(page, persona("trainer").email);
+  await expect(page.getByRole("heading", { level: 1 })).toHaveText("My training days");
+  const card = page.getByTestId(`session-${first}`);
+  await expect(card).toContainText("HV-00049");
+  await expect(card).toContainText("Foot-driven supernumerary finger");
+  expect(await page.evaluate(() => document.documentElement.scrollWidth)).toBeLessThanOrEqual(390);
+  const target = await card.getByRole("link", { name: "Attended: log it" }).boundingBox();
+  expect(target!.height).toBeGreaterThanOrEqual(44); // large touch targets
+  await page.screenshot({ path: testInfo.outputPath("trainer-day-390.png"), fullPage: true });
+
+  await card.getByRole("link", { name: "Attended: log it" }).click();
+  await expect(page.getByLabel("Device safety cautions")).toBeVisible();
+  await page.getByLabel("Task score (0–1)").fill("0.66");
+  await page.getByLabel("Notes").fill("Good toe control today.");
+  expect(await page.evaluate(() => document.documentElement.scrollWidth)).toBeLessThanOrEqual(390);
+  await page.screenshot({ path: testInfo.outputPath("trainer-log-390.png"), fullPage: true });
+  await page.getByRole("button", { name: "Save session" }).click();
+  await expect(page.getByRole("status")).toContainText("Session logged");
+
+  await worker.reload();
+  await expect(points).toHaveCount(before + 1);
+  await worker.screenshot({ path: testInfo.outputPath("worker-progress-after-log.png"), fullPage: true });
+
+  // The second session: severe numbness.
+  await page.goto(`/train/sessions/${second}`);
+  await page.getByLabel("Task score (0–1)").fill("0.52");
+  await page.getByRole("group", { name: "Numbness or tingling" }).getByLabel("severe").check();
+  await page.getByLabel("Numbness or tingling: what happened (optional)").fill("Numb toes after 20 minutes; stopped.");
+  await page.getByRole("button", { name: "Save session" }).click();
+  await expect(page.getByRole("status")).toContainText("Training is paused");
+  const mail = await outbox.waitFor((m) => m.subject === "Training paused: severe adverse event for HV-00049" && m.text.includes("Numb toes after 20 minutes"));
+  expect(mail.to).toContain(persona("assessor").email);
+  await worker.reload();
+  await expect(worker.getByTestId("paused")).toContainText("Foot-driven supernumerary finger");
+  await expect(worker.getByTestId("stage")).toHaveText("Paused");
+  await page.goto("/train");
+  await expect(page.getByTestId(`session-${first}`)).toContainText("Logged");
+});
+
+test("a trainer cannot open or record another trainer's session (403)", async ({ page, signInAs, stack }) => {
+  const db = sql(stack.databaseUrl);
+  const other = await db("trainers as t").join("users as u", "u.id", "t.user_id").whereNot("u.email", persona("trainer").email).first("t.id");
+  const w = await db("workers").where({ employee_number: "HV-00200" }).first("id");
+  const back = await db("device_types").where({ code: "EXO-BACK" }).first("id");
+  const id = await schedule(db, w.id, back.id, other.id, new Date(Date.now() + 3_600_000), 60);
+  await signInAs(page, persona("trainer").email);
+  const res = await page.goto(`/train/sessions/${id}`);
+  expect(res?.status()).toBe(403);
+  await expect(page.getByRole("heading", { level: 1 })).toHaveText("Not allowed");
+  await expect(page.getByText("HV-00200")).toHaveCount(0);
+  const post = await page.request.post(`/train/sessions/${id}`, { form: { intent: "no_show" }, headers: { Origin: new URL(page.url()).origin } });
+  expect(post.status()).toBe(403);
+  expect((await db("training_sessions").where({ id }).first()).status).toBe("scheduled");
+});
