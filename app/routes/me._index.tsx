@@ -1,6 +1,6 @@
 import { data, Link } from "react-router";
 import type { Route } from "./+types/me._index";
-import { requireUser } from "~/auth/guard.server";
+import { requireOwnWorker } from "./me.guard.server";
 import { DeviceCautions } from "~/components/device-cautions";
 import { ProgressChart } from "~/components/progress-chart";
 import { STAGE_LABELS, type Stage } from "~/components/stage";
@@ -11,9 +11,8 @@ export const meta: Route.MetaFunction = () => [{ title: "My plan and data · Lim
 
 // A worker sees only their own record: the id comes from their session, never from the URL.
 export async function loader({ request }: Route.LoaderArgs) {
-  const p = await requireUser(request, "self.read");
-  if (!p.user.workerId) throw data({ error: "Your account is not linked to a worker record. Ask your occupational health team." }, { status: 404 });
-  const home = await workerHome(p, p.user.workerId);
+  const { p, workerId } = await requireOwnWorker(request, "self.read");
+  const home = await workerHome(p, workerId);
   if (!home) throw data({ error: "Your worker record was not found." }, { status: 404 });
   return home;
 }

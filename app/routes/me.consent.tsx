@@ -1,6 +1,6 @@
 import { data, Form, useActionData, useNavigation } from "react-router";
 import type { Route } from "./+types/me.consent";
-import { requireUser } from "~/auth/guard.server";
+import { requireOwnWorker } from "./me.guard.server";
 import { FormError, Notice } from "~/components/fields";
 import { ConsentInputError, dropFromPlans, giveOwnConsent, myConsent, plansNeedDropping, withdrawOwnConsent } from "~/models/self-service.server";
 import { PURPOSE_LABELS } from "~/schemas/consent";
@@ -15,14 +15,8 @@ const WHAT_GOES: Record<(typeof CONSENT_PURPOSE_VALUES)[number], string> = {
   model: "Your de-identified record no longer joins new forecast models.",
 };
 
-async function me(request: Request, action: "self.read" | "self.consent") {
-  const p = await requireUser(request, action);
-  if (!p.user.workerId) throw data({ error: "Your account is not linked to a worker record." }, { status: 404 });
-  return { p, workerId: p.user.workerId };
-}
-
 export async function loader({ request }: Route.LoaderArgs) {
-  const { workerId } = await me(request, "self.read");
+  const { workerId } = await requireOwnWorker(request, "self.read");
   const c = await myConsent(workerId);
   // A withdrawal whose plan removal did not finish is completed here (dropFromPlans is idempotent).
   if (await plansNeedDropping(workerId)) await dropFromPlans(workerId, null);
@@ -30,7 +24,7 @@ export async function loader({ request }: Route.LoaderArgs) {
 }
 
 export async function action({ request }: Route.ActionArgs) {
-  const { p, workerId } = await me(request, "self.consent");
+  const { p, workerId } = await requireOwnWorker(request, "self.consent");
   const form = formToObject(await request.formData());
   const intent = form.intent === "withdraw" ? "withdraw" : "give";
   const parsed = intent === "withdraw" ? parseWith(withdrawOwnConsentSchema, form) : parseWith(giveOwnConsentSchema, form);

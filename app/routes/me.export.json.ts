@@ -1,13 +1,12 @@
 import { data } from "react-router";
 import type { Route } from "./+types/me.export.json";
-import { requireUser } from "~/auth/guard.server";
+import { requireOwnWorker } from "./me.guard.server";
 import { everythingAbout } from "~/models/worker-export.server";
 
 // Everything held about the signed-in worker, as JSON. The worker id comes from the session only.
 export async function loader({ request }: Route.LoaderArgs) {
-  const p = await requireUser(request, "self.read");
-  if (!p.user.workerId) throw data({ error: "Your account is not linked to a worker record." }, { status: 404 });
-  const all = await everythingAbout(p.user.workerId);
+  const { workerId } = await requireOwnWorker(request, "self.read");
+  const all = await everythingAbout(workerId);
   if (!all) throw data({ error: "Your worker record was not found." }, { status: 404 });
   return new Response(JSON.stringify(all, null, 2), {
     headers: {

@@ -1,6 +1,5 @@
-import { data } from "react-router";
 import type { Route } from "./+types/me.record";
-import { requireUser } from "~/auth/guard.server";
+import { requireOwnWorker } from "./me.guard.server";
 import { accessLogForWorker } from "~/models/access-log.server";
 import { formatDay, formatTime } from "~/schemas/portal";
 
@@ -12,9 +11,8 @@ const RESOURCE_WORDS: Record<string, string> = {
 };
 
 export async function loader({ request }: Route.LoaderArgs) {
-  const p = await requireUser(request, "self.read");
-  if (!p.user.workerId) throw data({ error: "Your account is not linked to a worker record." }, { status: 404 });
-  return { log: await accessLogForWorker(p.user.workerId) };
+  const { workerId } = await requireOwnWorker(request, "self.read");
+  return { log: await accessLogForWorker(workerId) };
 }
 
 export default function MyRecord({ loaderData }: Route.ComponentProps) {

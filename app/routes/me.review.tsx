@@ -1,6 +1,6 @@
 import { data, Form, useActionData, useNavigation } from "react-router";
 import type { Route } from "./+types/me.review";
-import { requireUser } from "~/auth/guard.server";
+import { requireOwnWorker } from "./me.guard.server";
 import { FormError, Notice, SelectField, TextArea } from "~/components/fields";
 import { myReviewRequests, createReviewRequest, ReviewError } from "~/models/reviews.server";
 import { myForecasts } from "~/models/self-service.server";
@@ -9,20 +9,14 @@ import { formatDay, REVIEW_SUBJECT_LABELS, REVIEW_SUBJECTS, reviewRequestSchema 
 
 export const meta: Route.MetaFunction = () => [{ title: "Ask for a review · Limberly" }];
 
-async function me(request: Request, action: "self.read" | "self.review") {
-  const p = await requireUser(request, action);
-  if (!p.user.workerId) throw data({ error: "Your account is not linked to a worker record." }, { status: 404 });
-  return { p, workerId: p.user.workerId };
-}
-
 export async function loader({ request }: Route.LoaderArgs) {
-  const { workerId } = await me(request, "self.read");
+  const { workerId } = await requireOwnWorker(request, "self.read");
   const devices = (await myForecasts(workerId)).map((f) => ({ id: f.deviceTypeId, name: f.deviceType }));
   return { requests: await myReviewRequests(workerId), devices };
 }
 
 export async function action({ request }: Route.ActionArgs) {
-  const { p, workerId } = await me(request, "self.review");
+  const { p, workerId } = await requireOwnWorker(request, "self.review");
   const parsed = parseWith(reviewRequestSchema, formToObject(await request.formData()));
   if (!parsed.ok) return data({ errors: parsed.errors, done: null }, { status: 400 });
   try {
