@@ -133,7 +133,8 @@ export interface OwnWithdrawal extends WithdrawalResult { sessionsCancelled: num
  *
  * SEAM: withdrawConsent() opens its own transaction and takes none, so plan removal runs in a second one
  * right after (dropFromPlans is idempotent, and the worker page re-runs it if a first attempt failed). Once
- * the allocation area adds a "plan entries" step to ERASURE_STEPS in consent.server.ts, both happen together.
+ * consent.server.ts lists erasePlanEntries as an ERASURE_STEPS step (purposes planning and assessment), both
+ * happen in one transaction, for assessor-recorded withdrawals too; dropFromPlans then finds nothing left.
  */
 export async function withdrawOwnConsent(workerId: number, purpose: ConsentPurpose, userId: number, now = new Date()): Promise<OwnWithdrawal> {
   const result = await withdrawConsent({ workerId, purpose, recordedBy: userId });
@@ -141,22 +142,30 @@ export async function withdrawOwnConsent(workerId: number, purpose: ConsentPurpo
   let coordinatorsNotified: string[] = [];
   if (purpose === "planning" || purpose === "assessment") {
     sessionsCancelled = await dropFromPlans(workerId, userId, now);
-    coordinatorsNotified = await notifyCoordinators(workerId, purpose, sessionsCancelled);
+    coordinatorsNotified = await notifyCoordinatorsOfWithdrawal(workerId, purpose, sessionsCancelled);
   }
   return { ...result, sessionsCancelled, coordinatorsNotified };
 }
 
-/** Cancels the worker's future scheduled sessions and drops courses that were only planned. Returns sessions cancelled. */
+/**
+ * Takes the worker out of the plans inside a transaction: future scheduled sessions cancelled, courses that
+ * were only planned dropped, a forecast/planned stage set back to baselined. Shaped like an ERASURE_STEPS
+ * step of consent.server.ts (`run: (trx, id) => erasePlanEntries(trx, id)`), so the consent area can make
+ * assessor-recorded withdrawals do the same in the withdrawal's own transaction. Returns sessions cancelled.
+ */
+export async function erasePlanEntries(trx: Db, workerId: number, userId: number | null = null, now = new Date()): Promise<number> {
+  const at = now.toISOString();
+  const n = Number(await trx("training_sessions").where({ worker_id: workerId, status: "scheduled" }).where("scheduled_start", ">=", at)
+    .update({ status: "cancelled", notes: "Cancelled: the worker withdrew consent.", logged_by: userId, logged_at: at }));
+  await trx("device_courses").where({ worker_id: workerId, status: "planned" }).del();
+  const w = await trx("workers").where({ id: workerId }).first("stage");
+  if (w && (w.stage === "planned" || w.stage === "forecast")) await setStage(trx, workerId, "baselined", userId, at);
+  return n;
+}
+
+/** erasePlanEntries in its own transaction (idempotent). */
 export async function dropFromPlans(workerId: number, userId: number | null, now = new Date()): Promise<number> {
-  return db().transaction(async (trx) => {
-    const at = now.toISOString();
-    const n = Number(await trx("training_sessions").where({ worker_id: workerId, status: "scheduled" }).where("scheduled_start", ">=", at)
-      .update({ status: "cancelled", notes: "Cancelled: the worker withdrew consent.", logged_by: userId, logged_at: at }));
-    await trx("device_courses").where({ worker_id: workerId, status: "planned" }).del();
-    const w = await trx("workers").where({ id: workerId }).first("stage");
-    if (w && (w.stage === "planned" || w.stage === "forecast")) await setStage(trx, workerId, "baselined", userId, at);
-    return n;
-  });
+  return db().transaction((trx) => erasePlanEntries(trx, workerId, userId, now));
 }
 
 /** True when withdrawn planning/assessment consent still leaves future scheduled sessions (a failed second step). */
@@ -166,7 +175,8 @@ export async function plansNeedDropping(workerId: number, now = new Date()): Pro
   return Boolean(await db()("training_sessions").where({ worker_id: workerId, status: "scheduled" }).where("scheduled_start", ">=", now.toISOString()).first("id"));
 }
 
-async function notifyCoordinators(workerId: number, purpose: ConsentPurpose, cancelled: number): Promise<string[]> {
+/** E-mails the coordinators whose scope covers the worker that the worker left the plans. Returns the addresses. */
+export async function notifyCoordinatorsOfWithdrawal(workerId: number, purpose: ConsentPurpose, cancelled: number): Promise<string[]> {
   const w = await db()("workers as w").join("sites as s", "s.id", "w.site_id").where("w.id", workerId)
     .first("w.employee_number", "w.given_name", "w.family_name", "w.site_id", "w.department_id", "s.name as site");
   if (!w) return [];
