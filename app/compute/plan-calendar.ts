@@ -1,0 +1,36 @@
+// Pure date helpers for allocation plans (issue 5): weeks of a horizon, weekdays, date ranges.
+// Dates are ISO "YYYY-MM-DD" strings in the organisation's local calendar; no clock is read here.
+
+export function addDays(iso: string, n: number): string {
+  const d = new Date(`${iso}T00:00:00Z`);
+  d.setUTCDate(d.getUTCDate() + n);
+  return d.toISOString().slice(0, 10);
+}
+
+/** ISO weekday: 1 = Monday … 7 = Sunday. */
+export function isoWeekday(iso: string): number {
+  const d = new Date(`${iso}T00:00:00Z`).getUTCDay();
+  return d === 0 ? 7 : d;
+}
+
+export const WEEKDAY_NAMES = ["", "Monday", "Tuesday", "Wednesday", "Thursday", "Friday", "Saturday", "Sunday"] as const;
+
+/** The seven dates of week `week` (0-based) of a horizon starting on the Monday `start`. */
+export function weekDates(start: string, week: number): string[] {
+  return Array.from({ length: 7 }, (_, i) => addDays(start, week * 7 + i));
+}
+
+export function inRange(iso: string, from: string, to: string): boolean {
+  return iso >= from && iso <= to;
+}
+
+export function minutesOf(hhmm: string): number {
+  const [h, m] = hhmm.split(":").map(Number);
+  return h * 60 + m;
+}
+
+export function hhmmOf(minutes: number): string {
+  const h = Math.floor(minutes / 60);
+  const m = minutes % 60;
+  return `${String(h).padStart(2, "0")}:${String(m).padStart(2, "0")}`;
+}
