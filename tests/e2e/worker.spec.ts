@@ -2,6 +2,7 @@
 // consent and leaves the plans (future sessions cancelled, forecasts gone, coordinator e-mailed); the home page
 // at 390 px; a review request answered by an assessor. Invented demo people (seeds/07_portals_demo.ts).
 import fs from "node:fs";
+import AxeBuilder from "@axe-core/playwright";
 import knex, { type Knex } from "knex";
 import { expect, persona, test } from "./fixtures";
 
@@ -126,4 +127,17 @@ test("a worker asks for a review; an assessor answers in the app and the worker 
   expect(mail.text).toContain("Morwenna Pike");
   await page.reload();
   await expect(page.getByTestId("my-reviews")).toContainText(answer);
+});
+
+test("the worker pages have no serious or critical accessibility violations at 390 px (axe-core)", async ({ page, signInAs }) => {
+  await page.setViewportSize({ width: 390, height: 860 });
+  await signInAs(page, persona("worker").email);
+  for (const path of ["/me", "/me/consent", "/me/record", "/me/review"]) {
+    await page.goto(path);
+    await expect(page.getByRole("heading", { level: 1 })).toBeVisible();
+    const result = await new AxeBuilder({ page }).withTags(["wcag2a", "wcag2aa", "wcag21a", "wcag21aa", "best-practice"]).analyze();
+    const serious = result.violations.filter((v) => v.impact === "serious" || v.impact === "critical")
+      .map((v) => `${path} ${v.impact} ${v.id}: ${v.nodes.map((n) => n.target.join(" ")).join(", ")}`);
+    expect(serious).toEqual([]);
+  }
 });
