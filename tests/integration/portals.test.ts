@@ -98,6 +98,24 @@ describe("a worker reaches only their own data", () => {
   });
 });
 
+describe("my record", () => {
+  it("shows the worker who read their data: a staff read appears in their access log, nobody else's reads do", async () => {
+    const me = await worker("HV-00099");
+    const { client: assessor } = await signIn(PERSONA.assessor2);
+    expect((await assessor.request(`/forecast/${me.id}`)).status).toBe(200);
+    expect((await assessor.request(`/forecast/${(await worker("HV-00049")).id}`)).status).toBe(200);
+    const mine = Number((await k("access_log").where({ worker_id: me.id }).count({ n: "*" }).first())?.n);
+    const { client } = await signIn(await userEmail(me.id));
+    const page = (await (await client.request("/me/record")).text()).replace(/<!-- -->/g, "");
+    expect(page).toContain("Rhea Lindqvist");
+    expect(page).toContain("read forecast");
+    const rows = page.match(/<tr><td>/g)?.length ?? 0;
+    expect(rows).toBe(mine); // one row per access to MY record, none of HV-00049's
+    const all = await (await client.request("/me/export.json")).json();
+    expect(all.accessLog).toHaveLength(mine);
+  });
+});
+
 describe("consent from the worker portal", () => {
   it("withdrawing planning erases forecasts, cancels future sessions, notifies the site's coordinators and touches no one else", async () => {
     const me = await worker("HV-00099");
