@@ -10,7 +10,7 @@ import { mulberry32 } from "./lib/prng";
 // model, not from any study or real person:
 //   value = mean + sd · (0.6 · ability + 0.8 · trait) + sd · 0.4 · sessionNoise,
 // ability, trait and noise independent standard normals (seeded), so the expected test–retest
-// ICC is 1 / (1 + 0.16) ≈ 0.86. Runs after 01_demo_scenario.ts; deterministic (seeded PRNG, fixed dates).
+// ICC is 1 / (1 + 0.16) ≈ 0.86. The four measures 03_forecast_demo.ts also uses share its means and SDs. Runs after 01_demo_scenario.ts; deterministic (seeded PRNG, fixed dates).
 // ─────────────────────────────────────────────────────────────────────────────────────────────
 
 const AT = "2026-11-30T09:00:00.000Z";
@@ -19,14 +19,14 @@ export const DEMO_MEASURES = [
   { code: "pegboard.dominant", name: "Pegboard, dominant hand", unit: "pins in 30 s", hib: true, entry: "manual", kind: null, mean: 15, sd: 2, decimals: 0 },
   { code: "boxBlocks.dominant", name: "Box and block, dominant hand", unit: "blocks per minute", hib: true, entry: "manual", kind: null, mean: 70, sd: 8, decimals: 0 },
   { code: "grip.dominant", name: "Grip strength, dominant hand", unit: "kg", hib: true, entry: "manual", kind: null, mean: 38, sd: 9, decimals: 1 },
-  { code: "sway.ellipseArea95", name: "Sway 95 % ellipse area", unit: "mm²", hib: false, entry: "trace", kind: "sway", mean: 150, sd: 45, decimals: 1 },
+  { code: "sway.ellipseArea95", name: "Sway 95 % ellipse area", unit: "mm²", hib: false, entry: "trace", kind: "sway", mean: 300, sd: 90, decimals: 1 },
   { code: "sway.meanVelocity", name: "Sway mean velocity", unit: "mm/s", hib: false, entry: "trace", kind: "sway", mean: 12, sd: 3, decimals: 2 },
-  { code: "tracking.rmse", name: "Foot tracking RMSE", unit: "position units", hib: false, entry: "trace", kind: "tracking", mean: 6, sd: 1.5, decimals: 3 },
+  { code: "tracking.rmse", name: "Foot tracking RMSE", unit: "position units", hib: false, entry: "trace", kind: "tracking", mean: 12, sd: 3, decimals: 3 },
   { code: "tracking.lagSeconds", name: "Foot tracking lag", unit: "s", hib: false, entry: "trace", kind: "tracking", mean: 0.2, sd: 0.06, decimals: 3 },
-  { code: "hand.participationRatio", name: "Hand participation ratio", unit: "effective components", hib: true, entry: "trace", kind: "glove", mean: 3.5, sd: 0.6, decimals: 3 },
+  { code: "hand.participationRatio", name: "Hand participation ratio", unit: "effective components", hib: true, entry: "trace", kind: "glove", mean: 5, sd: 1.2, decimals: 3 },
   { code: "hand.pc1Ratio", name: "Hand first-component share", unit: "ratio", hib: false, entry: "trace", kind: "glove", mean: 0.5, sd: 0.08, decimals: 3 },
   { code: "timing.meanAbsoluteAsynchronyMs", name: "Timing mean absolute asynchrony", unit: "ms", hib: false, entry: "trace", kind: "timing", mean: 40, sd: 10, decimals: 1 },
-  { code: "timing.sdAsynchronyMs", name: "Timing SD of asynchrony", unit: "ms", hib: false, entry: "trace", kind: "timing", mean: 30, sd: 8, decimals: 1 },
+  { code: "timing.sdAsynchronyMs", name: "Timing SD of asynchrony", unit: "ms", hib: false, entry: "trace", kind: "timing", mean: 40, sd: 10, decimals: 1 },
   { code: "force.rmse", name: "Force grading RMSE", unit: "N", hib: false, entry: "trace", kind: "force", mean: 2, sd: 0.6, decimals: 3 },
   { code: "force.rSquared", name: "Force grading R²", unit: "ratio", hib: true, entry: "trace", kind: "force", mean: 0.9, sd: 0.04, decimals: 3 },
 ] as const;

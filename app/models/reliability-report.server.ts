@@ -3,13 +3,17 @@ import { intraclassCorrelation, minimalDetectableChange, standardErrorOfMeasurem
 import { db, type Db } from "~/db.server";
 
 // Test–retest reliability per measure from repeated baselines (DESIGN §3.2, issue 3 §6).
-// Ratings: each worker's first two sessions holding the measure (rows = workers, columns = sessions).
+// Ratings: each worker's first two sessions holding the measure (rows = workers, columns = sessions),
+// counted only when they are at most MAX_RETEST_DAYS apart (a test–retest interval short enough that
+// true change is unlikely; sessions further apart measure change, not reliability).
 // SD is the between-worker SD of the first session; SEM = SD·√(1 − ICC(2,1)) (absolute agreement,
 // because a real change must be told apart from any systematic shift between sessions too);
 // MDC95 = 1.96·√2·SEM.
 
 /** Fewest workers with two baselines before reliability is reported for a measure. */
 export const MIN_RETEST_N = 5;
+/** Longest interval between the two baselines of a retest pair. */
+export const MAX_RETEST_DAYS = 28;
 
 export interface MeasureReliability {
   measureId: number; code: string; name: string; unit: string;
@@ -35,19 +39,19 @@ export function retestSummary(pairs: [number, number][]): Omit<MeasureReliabilit
 export async function reliabilityByMeasure(k: Db = db()): Promise<MeasureReliability[]> {
   const measures = await k("measures").select("id", "code", "name", "unit").orderBy("id");
   const rows = await k("assessment_results as r").join("assessment_sessions as s", "s.id", "r.session_id")
-    .select("r.measure_id", "r.value", "s.worker_id").orderBy([{ column: "s.assessed_on" }, { column: "s.id" }]);
-  const series = new Map<string, number[]>();
+    .select("r.measure_id", "r.value", "s.worker_id", "s.assessed_on").orderBy([{ column: "s.assessed_on" }, { column: "s.id" }]);
+  const series = new Map<string, { value: number; day: number }[]>();
   for (const r of rows) {
     const key = `${r.measure_id}:${r.worker_id}`;
     const list = series.get(key) ?? [];
-    if (list.length < 2) list.push(r.value);
+    if (list.length < 2) list.push({ value: r.value, day: Date.parse(`${String(r.assessed_on).slice(0, 10)}T00:00:00Z`) / 86_400_000 });
     series.set(key, list);
   }
   const pairsByMeasure = new Map<number, [number, number][]>();
   for (const [key, v] of series) {
-    if (v.length < 2) continue;
+    if (v.length < 2 || v[1].day - v[0].day > MAX_RETEST_DAYS) continue;
     const m = Number(key.split(":")[0]);
-    (pairsByMeasure.get(m) ?? pairsByMeasure.set(m, []).get(m)!).push([v[0], v[1]]);
+    (pairsByMeasure.get(m) ?? pairsByMeasure.set(m, []).get(m)!).push([v[0].value, v[1].value]);
   }
   return measures.map((m) => ({ measureId: m.id, code: m.code, name: m.name, unit: m.unit, ...retestSummary(pairsByMeasure.get(m.id) ?? []) }));
 }

@@ -1,13 +1,13 @@
 import type { Route } from "./+types/assess.reliability";
 import { requireUser } from "~/auth/guard.server";
-import { MIN_RETEST_N, reliabilityByMeasure } from "~/models/reliability-report.server";
+import { MAX_RETEST_DAYS, MIN_RETEST_N, reliabilityByMeasure } from "~/models/reliability-report.server";
 
 export const meta: Route.MetaFunction = () => [{ title: "Reliability · Limberly" }];
 
 // Aggregate test–retest statistics per measure; no worker is identifiable here.
 export async function loader({ request }: Route.LoaderArgs) {
   await requireUser(request, "assessments.read");
-  return { rows: await reliabilityByMeasure(), minN: MIN_RETEST_N };
+  return { rows: await reliabilityByMeasure(), minN: MIN_RETEST_N, maxDays: MAX_RETEST_DAYS };
 }
 
 const f = (v: number | null, d = 3) => (v == null ? "—" : Math.abs(v) >= 100 ? v.toFixed(1) : v.toPrecision(d));
@@ -17,7 +17,7 @@ export default function Reliability({ loaderData }: Route.ComponentProps) {
     <div className="grid gap-4">
       <div>
         <h1 className="page-title">Test–retest reliability</h1>
-        <p className="text-ink-soft">From each worker's first two baselines of a measure (at least {loaderData.minN} workers). ICC(2,1): two-way random, absolute agreement; ICC(3,1): two-way mixed, consistency (Shrout &amp; Fleiss 1979).
+        <p className="text-ink-soft">From each worker's first two baselines of a measure, when at most {loaderData.maxDays} days apart (at least {loaderData.minN} workers). ICC(2,1): two-way random, absolute agreement; ICC(3,1): two-way mixed, consistency (Shrout &amp; Fleiss 1979).
           SEM = SD·√(1 − ICC(2,1)) with SD of the first baselines; MDC95 = 1.96·√2·SEM: a change larger than this is unlikely to be measurement error.</p>
       </div>
       <div className="card overflow-x-auto p-0">

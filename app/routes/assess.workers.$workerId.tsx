@@ -73,8 +73,9 @@ export async function action({ request, params }: Route.ActionArgs) {
       const v = parseWith(withdrawConsentSchema, form);
       if (!v.ok) return data({ intent, purpose: String(form.purpose ?? ""), errors: v.errors, done: null }, { status: 400 });
       const r = await withdrawConsent({ workerId, purpose: v.data.purpose, recordedBy: p.user.id });
-      const erased = Object.entries(r.erased).filter(([, n]) => n > 0).map(([what, n]) => `${n} ${what}`).join(", ");
-      return { intent, errors: null, done: `${v.data.purpose} consent withdrawn. ${erased ? `Erased: ${erased}.` : "There were no data to erase."}` };
+      const erased = Object.entries(r.erased).filter(([, n]) => n > 0).map(([what, n]) => `${what}: ${n}`).join(", ");
+      const label = v.data.purpose[0].toUpperCase() + v.data.purpose.slice(1);
+      return { intent, errors: null, done: `${label} consent withdrawn. ${erased ? `Erased at once (rows deleted): ${erased}.` : "There were no data to erase."}` };
     }
     if (intent === "session") {
       const v = parseWith(sessionSchema, form);
@@ -121,7 +122,7 @@ export default function WorkerRecord({ loaderData }: Route.ComponentProps) {
           ))}
         </ul>
         {canConsent && (
-          <Form method="post" className="grid gap-3" aria-labelledby="record-consent-h">
+          <Form key={CONSENT_PURPOSES.map((pp) => consent[pp].status + consent[pp].version).join()} method="post" className="grid gap-3" aria-labelledby="record-consent-h">
             <h3 id="record-consent-h" className="font-semibold">Record consent</h3>
             <input type="hidden" name="intent" value="consent" />
             <fieldset className="grid gap-2" aria-describedby={errors.purposes ? "purposes-error" : undefined}>
