@@ -58,13 +58,18 @@ export function dayAndWeek(now: Date) {
   return { dayStart: day.toISOString(), dayEnd: next(day, 1).toISOString(), weekStart: monday.toISOString(), weekEnd: next(monday, 7).toISOString() };
 }
 
+/** The schedule view leaves out results (scores, practice time): those are read, and logged, on the session page. */
+function scheduleOnly(r: Record<string, any>): ScheduledSession {
+  return { ...toSession(r), taskScore: null, durationHours: null };
+}
+
 /** The trainer's sessions for today and this week, and earlier scheduled sessions still waiting to be logged. */
 export async function trainerDay(trainerId: number, now = new Date(), k: Db = db()) {
   const w = dayAndWeek(now);
   const week = (await sessionQuery(k, trainerId).where("ts.scheduled_start", ">=", w.weekStart).where("ts.scheduled_start", "<", w.weekEnd)
-    .whereNot("ts.status", "cancelled").orderBy("ts.scheduled_start")).map(toSession);
+    .whereNot("ts.status", "cancelled").orderBy("ts.scheduled_start")).map(scheduleOnly);
   const waiting = (await sessionQuery(k, trainerId).where("ts.status", "scheduled").where("ts.scheduled_start", "<", w.weekStart)
-    .orderBy("ts.scheduled_start").limit(50)).map(toSession);
+    .orderBy("ts.scheduled_start").limit(50)).map(scheduleOnly);
   const today = week.filter((s) => s.start != null && s.start >= w.dayStart && s.start < w.dayEnd);
   const rest = week.filter((s) => !today.includes(s));
   return { ...w, today, rest, waiting };

@@ -8,7 +8,8 @@ import { formatDay, formatSpan } from "~/schemas/portal";
 
 export const meta: Route.MetaFunction = () => [{ title: "My training days · Limberly" }];
 
-// The trainer's own schedule only: the trainer is the signed-in user (trainers.user_id).
+// The trainer's own schedule only: the trainer is the signed-in user (trainers.user_id). The day view names
+// trainees, devices and times but no scores or events (those are on the session page, whose reads are logged).
 export async function loader({ request }: Route.LoaderArgs) {
   const p = await requireUser(request, "sessions.own");
   const trainer = await trainerForUser(p.user.id);
@@ -26,7 +27,7 @@ function SessionCard({ s, showDay }: { s: ScheduledSession; showDay?: boolean })
     <li className="rounded-lg border border-line bg-white p-4" data-testid={`session-${s.id}`}>
       <div className="flex flex-wrap items-baseline justify-between gap-2">
         <p className="text-lg font-semibold">{s.start ? `${showDay ? `${formatDay(s.start)} · ` : ""}${formatSpan(s.start, s.end)}` : "Unscheduled"}</p>
-        <p className={s.status === "scheduled" ? "font-semibold text-amber-caution" : "text-ink-soft"}>{STATUS_WORDS[s.status] ?? s.status}{s.taskScore != null ? ` · score ${s.taskScore.toFixed(2)}` : ""}</p>
+        <p className={s.status === "scheduled" ? "font-semibold text-amber-caution" : "text-ink-soft"}>{STATUS_WORDS[s.status] ?? s.status}</p>
       </div>
       <p className="mt-1"><span className="font-medium">{s.trainee}</span> <span className="text-ink-soft">· {s.employeeNumber}</span></p>
       <p>{s.deviceType}{s.unit ? <span className="text-ink-soft"> · unit {s.unit}</span> : null}</p>

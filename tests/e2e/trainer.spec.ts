@@ -12,6 +12,15 @@ function sql(databaseUrl: string): Knex {
 }
 test.afterAll(async () => { await k?.destroy(); k = null; });
 
+/** A start `hoursAgo` before now, but never before this week's Monday 00:00 UTC (the trainer's week view). */
+function startThisWeek(hoursAgo: number): Date {
+  const now = new Date();
+  const monday = new Date(Date.UTC(now.getUTCFullYear(), now.getUTCMonth(), now.getUTCDate() - ((now.getUTCDay() + 6) % 7)));
+  const start = new Date(Math.max(now.getTime() - hoursAgo * 3_600_000, monday.getTime()));
+  start.setUTCSeconds(0, 0);
+  return start;
+}
+
 async function schedule(db: Knex, workerId: number, deviceTypeId: number, trainerId: number, start: Date, minutes: number) {
   const [row] = await db("training_sessions").insert({ worker_id: workerId, device_type_id: deviceTypeId, trainer_id: trainerId,
     scheduled_start: start.toISOString(), scheduled_end: new Date(start.getTime() + minutes * 60_000).toISOString(), status: "scheduled", created_at: new Date().toISOString() }).returning("id");
@@ -23,8 +32,7 @@ test("a trainer logs a score and the worker's chart moves; a severe event pauses
   const w = await db("workers as w").join("users as u", "u.id", "w.user_id").where("w.employee_number", "HV-00049").first("w.id", "u.email");
   const foot = await db("device_types").where({ code: "SRF-FOOT" }).first("id");
   const ines = await db("trainers as t").join("users as u", "u.id", "t.user_id").where("u.email", persona("trainer").email).first("t.id");
-  const start = new Date(Date.now() - 3 * 3_600_000);
-  start.setUTCMinutes(0, 0, 0);
+  const start = startThisWeek(3);
   const first = await schedule(db, w.id, foot.id, ines.id, start, 45);
   const second = await schedule(db, w.id, foot.id, ines.id, new Date(start.getTime() + 60 * 60_000), 30);
 

@@ -14,6 +14,15 @@ const userEmail = async (workerId: number) => (await k("users as u").join("worke
 const device = async (code: string) => (await k("device_types").where({ code }).first("id", "wear_time_limit_minutes"));
 const hoursFromNow = (h: number) => new Date(Date.now() + h * 3_600_000).toISOString();
 
+/** A start `hoursAgo` before now, but never before this week's Monday 00:00 UTC (the trainer's week view). */
+function startThisWeek(hoursAgo: number): Date {
+  const now = new Date();
+  const monday = new Date(Date.UTC(now.getUTCFullYear(), now.getUTCMonth(), now.getUTCDate() - ((now.getUTCDay() + 6) % 7)));
+  const start = new Date(Math.max(now.getTime() - hoursAgo * 3_600_000, monday.getTime()));
+  start.setUTCSeconds(0, 0);
+  return start;
+}
+
 async function scheduleSession(workerId: number, deviceTypeId: number, trainerId: number, startIso: string, minutes = 60) {
   const [row] = await k("training_sessions").insert({
     worker_id: workerId, device_type_id: deviceTypeId, trainer_id: trainerId, scheduled_start: startIso,
@@ -225,10 +234,10 @@ describe("the trainer's day and session log", () => {
     const trainer = await ines();
     const w = await worker("HV-00049");
     const foot = await device("SRF-FOOT");
-    const mine = await scheduleSession(w.id, foot.id, trainer, hoursFromNow(0.01), 60);
+    const mine = await scheduleSession(w.id, foot.id, trainer, startThisWeek(0).toISOString(), 60);
     const otherTrainer = (await k("trainers").whereNot({ id: trainer }).first("id")).id;
     const stranger = await worker("HV-00200");
-    const notMine = await scheduleSession(stranger.id, foot.id, otherTrainer, hoursFromNow(0.02), 60);
+    const notMine = await scheduleSession(stranger.id, foot.id, otherTrainer, startThisWeek(0).toISOString(), 60);
     const { client } = await signIn(PERSONA.trainer);
     const home = await (await client.request("/train")).text();
     expect(home).toContain(`session-${mine}`);
@@ -251,8 +260,7 @@ describe("the trainer's day and session log", () => {
     const trainer = await ines();
     const w = await worker("HV-00049");
     const foot = await device("SRF-FOOT");
-    const start = new Date(Date.now() - 2 * 3_600_000);
-    start.setUTCSeconds(0, 0);
+    const start = startThisWeek(2);
     const local = (d: Date) => d.toISOString().slice(0, 16);
     const s1 = await scheduleSession(w.id, foot.id, trainer, start.toISOString(), 45);
     const courseBefore = await k("device_courses").where({ worker_id: w.id, device_type_id: foot.id }).first();
@@ -270,15 +278,20 @@ describe("the trainer's day and session log", () => {
     expect(await tooLong.text()).toContain(`wear-time limit of ${foot.wear_time_limit_minutes} minutes`);
     expect((await k("training_sessions").where({ id: s1 }).first()).status).toBe("scheduled");
 
-    // A 45-minute session with score 0.64 and a mild skin mark.
+    // A 45-minute session with score 0.6437 and a mild skin mark.
     const ok = await client.postForm(`/train/sessions/${s1}`, {
-      intent: "log", start: local(start), end: local(new Date(start.getTime() + 45 * 60_000)), taskScore: "0.64", notes: "Steady grip.",
+      intent: "log", start: local(start), end: local(new Date(start.getTime() + 45 * 60_000)), taskScore: "0.6437", notes: "Steady grip.",
       ae_pain: "none", ae_skin: "mild", ae_skin_notes: "Slight redness under the strap.",
     });
     expect(ok.status).toBe(200);
     const logged = await k("training_sessions").where({ id: s1 }).first();
     expect(logged.status).toBe("attended");
-    expect(Number(logged.task_score)).toBe(0.64);
+    expect(Number(logged.task_score)).toBe(0.6437);
+    // The day view shows the session as logged but carries no result: scores are read (and logged) on the session page.
+    const day = await (await client.request("/train")).text();
+    expect(day).toContain(`session-${s1}`);
+    expect(day).not.toContain("0.6437");
+    expect(await (await client.request(`/train/sessions/${s1}`)).text()).toContain("0.64");
     expect(Number(logged.duration_hours)).toBe(0.75);
     expect(Number(logged.cumulative_hours)).toBeCloseTo(Number(courseBefore.cumulative_hours) + 0.75, 9);
     const course = await k("device_courses").where({ worker_id: w.id, device_type_id: foot.id }).first();
