@@ -107,6 +107,31 @@ describe("a worker reaches only their own data", () => {
   });
 });
 
+describe("the worker home", () => {
+  it("shows the device cautions before the first session, with the session's date, place, device and trainer", async () => {
+    // An invented worker with no training yet gets an account here (test data only).
+    const w = await k("workers").whereNull("user_id")
+      .whereNotExists(k("training_sessions").whereRaw("training_sessions.worker_id = workers.id")).whereNot("stage", "withdrawn").first();
+    const email = `first.session.${w.id}@harrowvale.example`;
+    const now = new Date().toISOString();
+    const [u] = await k("users").insert({ email, display_name: `${w.given_name} ${w.family_name}`, active: true, created_at: now }).returning("id");
+    await k("role_assignments").insert({ user_id: u.id, role: "worker", site_id: w.site_id, department_id: w.department_id, created_at: now });
+    await k("workers").where({ id: w.id }).update({ user_id: u.id });
+    const foot = await device("SRF-FOOT");
+    const start = new Date(Date.now() + 72 * 3_600_000);
+    start.setUTCHours(9, 30, 0, 0);
+    await scheduleSession(w.id, foot.id, await ines(), start.toISOString(), 60);
+    const { client } = await signIn(email);
+    const html = (await (await client.request("/me")).text()).replace(/<!-- -->/g, "");
+    expect(html).toContain("Before your first session");
+    expect(html).toContain("Stop at once on pain, numbness");
+    expect(html).toContain("09:30–10:30");
+    expect(html).toContain("Foot-driven supernumerary finger");
+    expect(html).toContain("Trainer: Ines Calloway");
+    expect(html).toContain(`${start.getUTCDate()} ${start.toLocaleString("en-GB", { month: "short", timeZone: "UTC" })} ${start.getUTCFullYear()}`);
+  });
+});
+
 describe("my record", () => {
   it("shows the worker who read their data: a staff read appears in their access log, nobody else's reads do", async () => {
     const me = await worker("HV-00099");
