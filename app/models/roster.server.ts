@@ -224,10 +224,11 @@ export interface WorkerListRow {
 
 export function listWorkers(scope: Scope, q: TableQuery, filters: { site?: string; stage?: string }) {
   const k = db();
-  const last = k("assessment_sessions").select("worker_id").max({ last_on: "assessed_on" }).groupBy("worker_id").as("b");
+  // Last baseline as a correlated subquery (index assessment_sessions(worker_id, assessed_on)): computed only
+  // for the page's rows, and the count query (which drops the select) does not touch sessions at all.
   const query = k("workers").join("sites as s", "s.id", "workers.site_id").join("departments as d", "d.id", "workers.department_id")
-    .leftJoin(last, "b.worker_id", "workers.id")
-    .select("workers.id", "workers.employee_number", "workers.given_name", "workers.family_name", "workers.stage", "s.name as site", "d.name as department", "b.last_on");
+    .select("workers.id", "workers.employee_number", "workers.given_name", "workers.family_name", "workers.stage", "s.name as site", "d.name as department",
+      k("assessment_sessions").max("assessed_on").whereRaw("assessment_sessions.worker_id = workers.id").as("last_on"));
   whereWorkerInScope(query, scope);
   if (q.q) {
     const like = `%${q.q.toLowerCase()}%`;
@@ -237,7 +238,7 @@ export function listWorkers(scope: Scope, q: TableQuery, filters: { site?: strin
   if (filters.site && /^\d+$/.test(filters.site)) query.where("workers.site_id", Number(filters.site));
   if (filters.stage) query.where("workers.stage", filters.stage);
   return paged(query, q, {
-    employeeNumber: "workers.employee_number", name: "workers.family_name", site: "s.name", department: "d.name", stage: "workers.stage", lastBaseline: "b.last_on",
+    employeeNumber: "workers.employee_number", name: "workers.family_name", site: "s.name", department: "d.name", stage: "workers.stage", lastBaseline: "last_on",
   }, "employeeNumber", (r): WorkerListRow => ({
     id: r.id as number, employeeNumber: r.employee_number as string, name: `${r.family_name}, ${r.given_name}`, site: r.site as string,
     department: r.department as string, stage: r.stage as string, lastBaseline: r.last_on ? String(r.last_on).slice(0, 10) : null, consent: null,

@@ -26,7 +26,7 @@ function text(html: string): string {
 function multipart(fields: Record<string, string>, file?: { field: string; name: string; bytes: Uint8Array; type?: string }): FormData {
   const fd = new FormData();
   for (const [key, v] of Object.entries(fields)) fd.append(key, v);
-  if (file) fd.append(file.field, new Blob([file.bytes], { type: file.type ?? "text/csv" }), file.name);
+  if (file) fd.append(file.field, new Blob([new Uint8Array(file.bytes)], { type: file.type ?? "text/csv" }), file.name);
   return fd;
 }
 
