@@ -75,3 +75,12 @@ export async function planningChoices(scope: Scope) {
     trainers: (await tq).map((t) => ({ id: t.id as number, name: `${t.display_name} (${t.site})` })),
   };
 }
+
+/** Names of trainers, device types and sites by id (for describing run parameters). */
+export async function nameMaps() {
+  return {
+    trainers: new Map((await db()("trainers as t").join("users as u", "u.id", "t.user_id").select("t.id", "u.display_name")).map((t) => [t.id as number, t.display_name as string])),
+    devices: new Map((await db()("device_types").select("id", "name")).map((d) => [d.id as number, d.name as string])),
+    sites: new Map((await db()("sites").select("id", "name")).map((s) => [s.id as number, s.name as string])),
+  };
+}

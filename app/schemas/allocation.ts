@@ -48,7 +48,7 @@ export type RunParameters = z.infer<typeof runParametersSchema>;
  */
 export const runFormSchema = z.object({
   label: z.string().trim().max(200).optional(),
-  startDate: mondayDate,
+  startDate: z.string().trim().min(1, "Enter the start date (a Monday)."),   // checked with the other parameters below
   horizonWeeks: z.string().trim().min(1, "Enter the horizon in weeks."),
   siteIds: idList,
   departmentIds: idList,

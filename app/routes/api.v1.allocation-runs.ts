@@ -1,0 +1,35 @@
+import type { Route } from "./+types/api.v1.allocation-runs";
+import { requireApiAccess } from "~/auth/guard.server";
+import { ensureJobsStarted, enqueueRun } from "~/jobs/runner.server";
+import { createRun, listRuns, RunInputError } from "~/models/allocation-runs.server";
+import { runParametersSchema } from "~/schemas/allocation";
+import { parseWith } from "~/schemas/form";
+
+// POST /api/v1/allocation-runs — start a run (coordinator keys: allocation.run). Body: JSON with the same
+// parameters schema as the form (runParametersSchema): startDate (a Monday), horizonWeeks, pool,
+// planningQuantile (0.5–1), fairnessShare (0–1), whatIf. Answers 202 with the run id and where to poll.
+// GET lists recent runs (status only).
+export async function loader({ request }: Route.LoaderArgs) {
+  const p = await requireApiAccess(request, "allocation.run");
+  await ensureJobsStarted();
+  const runs = await listRuns(p.scope);
+  return Response.json({ runs: runs.map((r) => ({ id: r.id, label: r.label, status: r.status, fraction: r.fraction, parameters: r.parameters, createdAt: r.createdAt, publishedAt: r.publishedAt })) }, { headers: { "Cache-Control": "no-store" } });
+}
+
+export async function action({ request }: Route.ActionArgs) {
+  if (request.method !== "POST") return Response.json({ error: "Use POST to start a run." }, { status: 405 });
+  const p = await requireApiAccess(request, "allocation.run");
+  await ensureJobsStarted();
+  let body: unknown;
+  try { body = await request.json(); } catch { return Response.json({ error: "The body must be JSON." }, { status: 400 }); }
+  const parsed = parseWith(runParametersSchema, body);
+  if (!parsed.ok) return Response.json({ error: "Invalid run parameters.", fields: parsed.errors }, { status: 400 });
+  try {
+    const id = await createRun(p, parsed.data);
+    enqueueRun(id);
+    return Response.json({ id, status: "queued", href: `/api/v1/allocation-runs/${id}` }, { status: 202, headers: { Location: `/api/v1/allocation-runs/${id}` } });
+  } catch (e) {
+    if (e instanceof RunInputError) return Response.json({ error: e.message, fields: { [e.field]: e.message } }, { status: 400 });
+    throw e;
+  }
+}
