@@ -58,7 +58,7 @@ export async function notifyAssessorsOfSevereEvents(input: { workerId: number; d
     to,
     subject: `Training paused: severe adverse event for ${w.employee_number}`,
     text: [
-      `${input.trainerName} logged a severe adverse event for ${w.given_name} ${w.family_name} (${w.employee_number}, ${w.site}) during a ${d?.name ?? "device"} session on ${input.at.slice(0, 16).replace("T", " ")} UTC.`,
+      `${input.trainerName} logged a severe adverse event for ${w.given_name} ${w.family_name} (${w.employee_number}, ${w.site}) during a ${d?.name ?? "device"} session on ${input.at.slice(0, 16).replace("T", " ")}.`,
       "", ...lines, "",
       "The worker's training on this device is paused. Please review fit, settings and the worker's condition before training resumes.",
       `Progress and sessions: ${appUrl}/progress/${input.workerId}/${input.deviceTypeId}`,

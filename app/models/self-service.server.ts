@@ -8,6 +8,7 @@ import {
 } from "./consent.server";
 import { refreshForecastsForWorker } from "./forecast.server";
 import { progressView, type ProgressView } from "./progress.server";
+import { wallClockIso } from "~/schemas/portal";
 
 // The worker's own portal (issue 7). Every function takes the worker id that the route read from the
 // signed-in session (AppUser.workerId), never one from the URL, and reads only rows of that worker.
@@ -44,7 +45,7 @@ export async function mySessions(workerId: number, opts: { from?: string; limit?
   else q.whereNot("ts.status", "cancelled");
   if (opts.limit) q.limit(opts.limit);
   return (await q).map((r) => ({
-    id: r.id, start: new Date(r.scheduled_start).toISOString(), end: r.scheduled_end ? new Date(r.scheduled_end).toISOString() : null,
+    id: r.id, start: wallClockIso(r.scheduled_start), end: r.scheduled_end ? wallClockIso(r.scheduled_end) : null,
     deviceType: r.device_name, deviceTypeId: r.device_type_id, unit: r.serial ?? null, place: r.unit_site ?? r.trainer_site ?? r.worker_site,
     trainer: r.trainer ?? null, status: r.status,
   }));

@@ -1,6 +1,7 @@
 import { db, type Db } from "~/db.server";
 import type { TrainerLogInput } from "~/schemas/session-log";
 import { adverseEventsFrom } from "~/schemas/session-log";
+import { wallClockIso } from "~/schemas/portal";
 import { eventsForSessions, notifyAssessorsOfSevereEvents, recordAdverseEvents } from "./adverse-events.server";
 import { logSessionResult, SessionLogError } from "./progress.server";
 
@@ -42,8 +43,8 @@ function toSession(r: Record<string, any>): ScheduledSession {
   return {
     id: r.id, workerId: r.worker_id, employeeNumber: r.employee_number, trainee: `${r.given_name} ${r.family_name}`,
     deviceTypeId: r.device_type_id, deviceType: r.device_name, deviceCode: r.device_code, unit: r.serial ?? null,
-    place: r.unit_site ?? r.trainer_site, start: r.scheduled_start ? new Date(r.scheduled_start).toISOString() : null,
-    end: r.scheduled_end ? new Date(r.scheduled_end).toISOString() : null, status: r.status,
+    place: r.unit_site ?? r.trainer_site, start: r.scheduled_start ? wallClockIso(r.scheduled_start) : null,
+    end: r.scheduled_end ? wallClockIso(r.scheduled_end) : null, status: r.status,
     taskScore: r.task_score == null ? null : Number(r.task_score), durationHours: r.duration_hours == null ? null : Number(r.duration_hours),
     courseStatus: r.course_status ?? null, pauseReason: r.pause_reason ?? null, wearTimeLimitMinutes: Number(r.wear_time_limit_minutes),
   };

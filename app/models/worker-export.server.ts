@@ -1,7 +1,7 @@
-import { createEvents, type EventAttributes } from "ics";
 import { accessLogForWorker } from "./access-log.server";
 import { db } from "~/db.server";
 import type { SheetSpec } from "~/xlsx.server";
+import { icsFile, type CalendarSession } from "./calendar.server";
 import { mySessions } from "./self-service.server";
 
 // "Download everything held about me" (DESIGN §4, issue 7): every row about one worker, by the worker id from
@@ -49,7 +49,7 @@ export async function everythingAbout(workerId: number) {
   const accessLog = await accessLogForWorker(workerId, 100_000);
 
   return {
-    about: "Everything Limberly holds about you, as of the time below. Times are UTC.",
+    about: "Everything Limberly holds about you, as of the time below. Record times (given, logged, read) are UTC; session times are the site's wall-clock times.",
     generatedAt: new Date().toISOString(),
     worker: {
       employeeNumber: w.employee_number, givenName: w.given_name, familyName: w.family_name, email: w.email ?? null, site: w.site,
@@ -104,33 +104,24 @@ export function exportSheets(d: EverythingAbout): SheetSpec[] {
   ];
 }
 
-const toArray = (iso: string): [number, number, number, number, number] => {
-  const t = new Date(iso);
-  return [t.getUTCFullYear(), t.getUTCMonth() + 1, t.getUTCDate(), t.getUTCHours(), t.getUTCMinutes()];
-};
-
 /**
- * An iCalendar file of the worker's scheduled sessions (from today on).
- * SEAM: the allocation area may add app/models/calendar.server.ts for published plans; switch to it then.
+ * An iCalendar file of the worker's scheduled sessions (from a week ago on), written by the allocation area's
+ * icsFile (calendar.server.ts) with the same UIDs as its publish e-mails, so a calendar keeps one event each.
  */
 export async function myCalendar(workerId: number, now = new Date()): Promise<string> {
   const sessions = await mySessions(workerId, { from: new Date(now.getTime() - 7 * 86_400_000).toISOString() });
-  if (sessions.length === 0) {
-    return ["BEGIN:VCALENDAR", "VERSION:2.0", "PRODID:-//Limberly//Training sessions//EN", "CALSCALE:GREGORIAN", "METHOD:PUBLISH", "X-WR-CALNAME:My device training", "END:VCALENDAR", ""].join("\r\n");
-  }
-  const events: EventAttributes[] = sessions.map((s) => ({
-    uid: `limberly-session-${s.id}@limberly.local`,
-    start: toArray(s.start), startInputType: "utc", startOutputType: "utc",
-    ...(s.end ? { end: toArray(s.end), endInputType: "utc" as const, endOutputType: "utc" as const } : { duration: { hours: 1 } }),
+  const hhmm = (iso: string) => iso.slice(11, 16);
+  const events: CalendarSession[] = sessions.map((s) => ({
+    uid: `w${workerId}-${s.start.slice(0, 10)}-${hhmm(s.start).replace(":", "")}-${s.deviceTypeId}@limberly`,
+    date: s.start.slice(0, 10), start: hhmm(s.start),
+    end: hhmm(s.end ?? new Date(new Date(s.start).getTime() + 3_600_000).toISOString()),
     title: `Device training: ${s.deviceType}`,
-    description: [`Device: ${s.deviceType}${s.unit ? ` (unit ${s.unit})` : ""}`, s.trainer ? `Trainer: ${s.trainer}` : null,
-      "Stop at once on pain or numbness and tell your trainer. Check your skin under the straps before and after."].filter(Boolean).join("\n"),
+    description: [`Device: ${s.deviceType}${s.unit ? ` (unit ${s.unit})` : ""}.`, s.trainer ? `Trainer: ${s.trainer}.` : null,
+      "Check skin and fatigue before and after; stop at once on pain or numbness and tell your trainer."].filter(Boolean).join(" "),
     location: s.place,
-    status: "CONFIRMED",
-    productId: "-//Limberly//Training sessions//EN",
-    calName: "My device training",
   }));
-  const { error, value } = createEvents(events);
-  if (error || !value) throw new Error(`Could not build the calendar file: ${error?.message ?? "unknown error"}`);
-  return value;
+  if (events.length === 0) {
+    return ["BEGIN:VCALENDAR", "VERSION:2.0", "PRODID:limberly/allocation", "CALSCALE:GREGORIAN", "METHOD:PUBLISH", "X-WR-CALNAME:My device training", "END:VCALENDAR", ""].join("\r\n");
+  }
+  return icsFile(events, { calName: "My device training" });
 }

@@ -52,7 +52,7 @@ export default function TrainHome({ loaderData }: Route.ComponentProps) {
     <div className="grid gap-6">
       <div>
         <h1 className="page-title" data-testid="role-home">My training days</h1>
-        <p className="text-ink-soft">{name}{profile ? ` · ${profile.site} · up to ${profile.traineesPerSession} trainee${profile.traineesPerSession > 1 ? "s" : ""} per session` : ""} · times in UTC</p>
+        <p className="text-ink-soft">{name}{profile ? ` · ${profile.site} · up to ${profile.traineesPerSession} trainee${profile.traineesPerSession > 1 ? "s" : ""} per session` : ""}</p>
       </div>
       {!profile && <p className="card">You have the trainer role but no trainer profile yet. Ask your training coordinator to add you.</p>}
       {day && (

@@ -74,7 +74,7 @@ export default function TrainerSession({ loaderData }: Route.ComponentProps) {
       <div>
         <p className="text-sm"><Link to="/train" className="text-spruce-700 underline">My training days</Link></p>
         <h1 className="page-title">{s.trainee} <span className="text-ink-soft">· {s.deviceType}</span></h1>
-        <p className="text-ink-soft">{s.employeeNumber} · {s.start ? `${formatDay(s.start)} ${formatSpan(s.start, s.end)} UTC` : "unscheduled"} · {s.place}{s.unit ? ` · unit ${s.unit}` : ""}</p>
+        <p className="text-ink-soft">{s.employeeNumber} · {s.start ? `${formatDay(s.start)} ${formatSpan(s.start, s.end)}` : "unscheduled"} · {s.place}{s.unit ? ` · unit ${s.unit}` : ""}</p>
         <p className="text-sm"><Link to={`/progress/${s.workerId}/${s.deviceTypeId}`} className="text-spruce-700 underline">Trainee's progress curve</Link></p>
       </div>
       {result?.done && <Notice>{result.done}</Notice>}
@@ -92,8 +92,8 @@ export default function TrainerSession({ loaderData }: Route.ComponentProps) {
             <FormError message={errors._form} />
             <section className="card grid gap-4 sm:grid-cols-2" aria-labelledby="when-h">
               <h2 id="when-h" className="text-lg font-semibold sm:col-span-2">Session</h2>
-              <TextField name="start" type="datetime-local" label="Start (UTC)" required defaultValue={toLocalInput(defaultStart)} error={errors.start} />
-              <TextField name="end" type="datetime-local" label="End (UTC)" required defaultValue={toLocalInput(defaultEnd)} error={errors.end}
+              <TextField name="start" type="datetime-local" label="Start" required defaultValue={toLocalInput(defaultStart)} error={errors.start} />
+              <TextField name="end" type="datetime-local" label="End" required defaultValue={toLocalInput(defaultEnd)} error={errors.end}
                 hint={`Practice time within the wear-time limit: ${s.wearTimeLimitMinutes} minutes.`} />
               {errors.durationHours && <p className="field-error sm:col-span-2">{errors.durationHours}</p>}
               <TextField name="taskScore" type="text" label="Task score (0–1)" required error={errors.taskScore} hint={`Score on the ${s.deviceType}'s standard task, e.g. 0.72.`} />

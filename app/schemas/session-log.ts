@@ -10,7 +10,7 @@ export const ADVERSE_LABELS: Record<AdverseKind, string> = {
 export const SEVERITIES = ["mild", "moderate", "severe"] as const;
 export type Severity = (typeof SEVERITIES)[number];
 
-/** "2026-12-02T09:30" from a datetime-local control, read as UTC (the portal shows times in UTC). */
+/** "2026-12-02T09:30" from a datetime-local control: the site's wall-clock time (see wallClockIso in portal.ts). */
 const localDateTime = (label: string) => z.string({ message: `${label}: enter a date and time.` })
   .trim().regex(/^\d{4}-\d{2}-\d{2}T\d{2}:\d{2}(:\d{2})?$/, `${label}: enter a date and time (YYYY-MM-DD HH:MM).`)
   .transform((s) => new Date(`${s.length === 16 ? `${s}:00` : s}.000Z`))

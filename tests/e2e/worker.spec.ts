@@ -53,7 +53,9 @@ test("a worker sees their plan, downloads their data, withdraws planning consent
   expect(fs.readFileSync(await xlsx.path()).subarray(0, 2).toString()).toBe("PK");
   const [ics] = await Promise.all([page.waitForEvent("download"), page.getByRole("link", { name: /calendar file/ }).click()]);
   const cal = fs.readFileSync(await ics.path(), "utf8");
-  expect(cal).toContain(`UID:limberly-session-${s.id}@limberly.local`);
+  // Same UID scheme as the allocation area's publish e-mails (one event per session in the worker's calendar).
+  expect(cal).toContain(`UID:w${me.id}-${start.toISOString().slice(0, 10)}-1000-${arm.id}@limberly`);
+  expect(cal).toContain(`DTSTART:${start.toISOString().slice(0, 10).replace(/-/g, "")}T100000`);
 
   // Withdraw planning consent.
   await page.getByRole("navigation").getByRole("link", { name: "My consent" }).click();

@@ -121,11 +121,18 @@ describe("the worker home", () => {
     const start = new Date(Date.now() + 72 * 3_600_000);
     start.setUTCHours(9, 30, 0, 0);
     await scheduleSession(w.id, foot.id, await ines(), start.toISOString(), 60);
+    // A session as the allocation area publishes it: site wall-clock time without a zone.
+    const day2 = new Date(start.getTime() + 24 * 3_600_000).toISOString().slice(0, 10);
+    await k("training_sessions").insert({ worker_id: w.id, device_type_id: foot.id, trainer_id: await ines(), scheduled_start: `${day2}T14:15:00`,
+      scheduled_end: `${day2}T15:00:00`, status: "scheduled", created_at: now });
     const { client } = await signIn(email);
     const html = (await (await client.request("/me")).text()).replace(/<!-- -->/g, "");
     expect(html).toContain("Before your first session");
     expect(html).toContain("Stop at once on pain, numbness");
     expect(html).toContain("09:30–10:30");
+    expect(html).toContain("14:15–15:00");
+    const ics = await (await client.request("/me/calendar.ics")).text();
+    expect(ics).toContain(`DTSTART:${day2.replace(/-/g, "")}T141500`);
     expect(html).toContain("Foot-driven supernumerary finger");
     expect(html).toContain("Trainer: Ines Calloway");
     expect(html).toContain(`${start.getUTCDate()} ${start.toLocaleString("en-GB", { month: "short", timeZone: "UTC" })} ${start.getUTCFullYear()}`);
