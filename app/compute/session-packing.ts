@@ -46,14 +46,34 @@ interface Interval { from: number; to: number }
 const overlaps = (list: Interval[] | undefined, from: number, to: number) => !!list?.some((i) => from < i.to && i.from < to);
 
 /** Splits minutes into the fewest blocks no longer than `limit`, as equal as possible. */
-export function splitMinutes(total: number, limit: number): number[] {
+export function splitEqual(total: number, limit: number): number[] {
   if (total <= 0) return [];
   const n = Math.ceil(total / Math.max(1, limit));
   const base = Math.floor(total / n);
   return Array.from({ length: n }, (_, i) => base + (i < total - base * n ? 1 : 0));
 }
 
+/** Splits minutes into full blocks of `limit` and one shorter remainder (blocks of one length share slots well). */
+export function splitFull(total: number, limit: number): number[] {
+  if (total <= 0) return [];
+  const size = Math.max(1, limit);
+  const full = Math.floor(total / size);
+  const rest = total - full * size;
+  return [...Array.from({ length: full }, () => size), ...(rest > 0 ? [rest] : [])];
+}
+
+type Splitter = (total: number, limit: number) => number[];
+
+/** Packs with both ways of cutting hours into sessions and keeps the one that leaves fewer minutes unplaced. */
 export function packSessions(calendar: PlanCalendar, assignments: AllocationAssignment[]): { sessions: PackedSession[]; unplaced: UnplacedHours[] } {
+  const lost = (r: { unplaced: UnplacedHours[] }) => r.unplaced.reduce((s, u) => s + u.minutes, 0);
+  const equal = packWith(calendar, assignments, splitEqual);
+  if (lost(equal) === 0) return equal;
+  const full = packWith(calendar, assignments, splitFull);
+  return lost(full) < lost(equal) ? full : equal;
+}
+
+function packWith(calendar: PlanCalendar, assignments: AllocationAssignment[], splitMinutes: Splitter): { sessions: PackedSession[]; unplaced: UnplacedHours[] } {
   const devices = new Map(calendar.devices.map((d) => [d.id, d]));
   const trainers = new Map(calendar.trainers.map((t) => [t.id, t]));
   const workers = new Map(calendar.workers.map((w) => [w.id, w]));
@@ -121,52 +141,61 @@ export function packSessions(calendar: PlanCalendar, assignments: AllocationAssi
         unplaced.push({ workerId: b.workerId, week, minutes: b.minutes, reason: "The plan refers to a device type, worker or trainer that is no longer on file." });
         continue;
       }
-      const block = b.minutes;
-      const usable = (date: string) => !worker.unavailableDates.includes(date) && !workerDays.get(worker.id)?.has(date);
-      let placed = false;
-      if ((workerMinutes.get(worker.id) ?? 0) + block <= worker.maxHoursPerWeek * 60 + 1e-9) {
-        // 1. join an open slot of the same trainer and device type
-        for (const slot of slots) {
-          if (slot.trainerId !== trainer.id || slot.deviceId !== dev.id || slot.trainees >= trainer.traineesPerSession) continue;
-          if (slot.to - slot.from < block || !usable(slot.date)) continue;
-          const u = freeUnit(dev, slot.date, slot.from, slot.from + block);
-          if (u < 0) continue;
-          book(dev, u, trainer, worker, slot.date, slot.from, slot.from + block);
-          slot.trainees++;
-          placed = true;
-          break;
-        }
-        // 2. open a new slot inside the trainer's working windows
-        if (!placed && (trainerMinutes.get(trainer.id) ?? 0) + block <= trainer.hoursPerWeek * 60 + 1e-9) {
-          for (const date of dates) {
-            if (placed) break;
-            if (!usable(date)) continue;
-            for (const w of trainer.windows.filter((x) => x.date === date)) {
+      const place = (block: number): boolean => {
+        const usable = (date: string) => !worker.unavailableDates.includes(date) && !workerDays.get(worker.id)?.has(date);
+        let placed = false;
+        if ((workerMinutes.get(worker.id) ?? 0) + block <= worker.maxHoursPerWeek * 60 + 1e-9) {
+          // 1. join an open slot of the same trainer and device type
+          for (const slot of slots) {
+            if (slot.trainerId !== trainer.id || slot.deviceId !== dev.id || slot.trainees >= trainer.traineesPerSession) continue;
+            if (slot.to - slot.from < block || !usable(slot.date)) continue;
+            const u = freeUnit(dev, slot.date, slot.from, slot.from + block);
+            if (u < 0) continue;
+            book(dev, u, trainer, worker, slot.date, slot.from, slot.from + block);
+            slot.trainees++;
+            placed = true;
+            break;
+          }
+          // 2. open a new slot inside the trainer's working windows
+          if (!placed && (trainerMinutes.get(trainer.id) ?? 0) + block <= trainer.hoursPerWeek * 60 + 1e-9) {
+            for (const date of dates) {
               if (placed) break;
-              const ws = minutesOf(w.start);
-              const we = minutesOf(w.end);
-              for (let from = ws; from + block <= we; from += STEP) {
-                if (overlaps(trainerBusy.get(`${trainer.id}|${date}`), from, from + block)) continue;
-                const u = freeUnit(dev, date, from, from + block);
-                if (u < 0) continue;
-                const tb = trainerBusy.get(`${trainer.id}|${date}`) ?? [];
-                tb.push({ from, to: from + block });
-                trainerBusy.set(`${trainer.id}|${date}`, tb);
-                trainerMinutes.set(trainer.id, (trainerMinutes.get(trainer.id) ?? 0) + block);
-                slots.push({ trainerId: trainer.id, deviceId: dev.id, date, from, to: from + block, trainees: 1 });
-                book(dev, u, trainer, worker, date, from, from + block);
-                placed = true;
-                break;
+              if (!usable(date)) continue;
+              for (const w of trainer.windows.filter((x) => x.date === date)) {
+                if (placed) break;
+                const ws = minutesOf(w.start);
+                const we = minutesOf(w.end);
+                for (let from = ws; from + block <= we; from += STEP) {
+                  if (overlaps(trainerBusy.get(`${trainer.id}|${date}`), from, from + block)) continue;
+                  const u = freeUnit(dev, date, from, from + block);
+                  if (u < 0) continue;
+                  const tb = trainerBusy.get(`${trainer.id}|${date}`) ?? [];
+                  tb.push({ from, to: from + block });
+                  trainerBusy.set(`${trainer.id}|${date}`, tb);
+                  trainerMinutes.set(trainer.id, (trainerMinutes.get(trainer.id) ?? 0) + block);
+                  slots.push({ trainerId: trainer.id, deviceId: dev.id, date, from, to: from + block, trainees: 1 });
+                  book(dev, u, trainer, worker, date, from, from + block);
+                  placed = true;
+                  break;
+                }
               }
             }
           }
         }
+        return placed;
+      };
+      let placed = place(b.minutes);
+      // Not placeable whole: try two shorter sessions on different days (each at least half an hour).
+      let block = b.minutes;
+      if (!placed && b.minutes >= 60) {
+        const first = Math.ceil(b.minutes / 2);
+        if (place(first)) { block = b.minutes - first; placed = place(block); }
       }
       if (!placed) {
         const key = `${b.workerId}|${b.deviceId}|${b.trainerId}|${b.fromWeek}`;
         const prev = leftover.get(key);
         if (prev) prev.minutes += block;
-        else leftover.set(key, { ...b });
+        else leftover.set(key, { ...b, minutes: block });
       }
     }
     carried = [...leftover.values()];

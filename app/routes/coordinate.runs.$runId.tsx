@@ -191,7 +191,14 @@ export default function RunPage({ loaderData, actionData }: Route.ComponentProps
           <section aria-labelledby="binding" className="card grid gap-2">
             <h2 id="binding" className="text-lg font-semibold">What limits the plan</h2>
             {result.binding.length === 0 ? <p>No device or trainer time binds: every worker in the pool who can be made ready is ready. Extra capacity would not change this plan.</p> : (
-              <ul className="list-disc pl-5" data-testid="binding-resources">{result.binding.map((b) => <li key={b}>{b}</li>)}</ul>
+              <div data-testid="binding-resources">
+                <ul className="list-disc pl-5">{result.binding.slice(0, 5).map((b) => <li key={b}>{b}</li>)}</ul>
+                {result.binding.length > 5 && (
+                  <details className="mt-1"><summary className="cursor-pointer text-sm text-spruce-700">{result.binding.length - 5} more, week by week</summary>
+                    <ul className="list-disc pl-5 text-sm">{result.binding.slice(5).map((b) => <li key={b}>{b}</li>)}</ul>
+                  </details>
+                )}
+              </div>
             )}
             <p className="text-sm text-ink-soft">Estimated from the solver's dual prices: first-order estimates, good for comparing resources, not exact promises.</p>
           </section>

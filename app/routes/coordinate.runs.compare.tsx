@@ -23,6 +23,7 @@ function side(run: RunDetail, trainerNames: Map<number, string>, deviceNames: Ma
     `Start ${pr.startDate}, ${pr.horizonWeeks} weeks`,
     `Planning quantile ${Math.round(pr.planningQuantile * 100)} %, fairness share ${Math.round(pr.fairnessShare * 100)} %`,
     `Sites: ${pr.pool.siteIds.map((s) => siteNames.get(s) ?? s).join(", ")}${pr.pool.departmentIds.length ? ` (${pr.pool.departmentIds.length} departments)` : ""}`,
+    ...(pr.pool.includeProficientElsewhere ? ["Pool includes workers proficient on another device type"] : []),
     ...pr.whatIf.addUnits.map((u) => `What-if: +${u.count} ${deviceNames.get(u.deviceTypeId) ?? "unit"} at ${siteNames.get(u.siteId) ?? u.siteId}`),
     ...pr.whatIf.removeTrainerIds.map((t) => `What-if: without ${trainerNames.get(t) ?? `trainer ${t}`}`),
   ];
