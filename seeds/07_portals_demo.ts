@@ -5,15 +5,14 @@ import type { Knex } from "knex";
 // people are fictional (DESIGN §6). Deterministic: fixed dates, fixed people (by employee number), no
 // randomness. Runs after 01–04.
 //
-// - Sign-in accounts (role worker, North Yard) for two more invented trainees of Ines Calloway, so that demo
-//   and tests can show a withdrawal and a logged session without touching Amara Quist (HV-00001):
-//     HV-00049 (foot-driven finger, in training)   HV-00099 (waist-mounted arm, in training)
+// - Sign-in accounts (role worker; their roster e-mail is the identity) for the first two of Ines Calloway's
+//   trainees still in training at North Yard after seeds 01–04, by employee number, Amara Quist (HV-00001)
+//   left out, so that demo and tests can show a withdrawal and a logged session without touching her.
 // - Scheduled sessions, Monday 30 November to Friday 18 December 2026, for Ines Calloway's trainees in
 //   training on the North Yard units (Amara Quist included), inside the devices' wear-time limits.
 // - One answered and one open review request, so the assessors' queue and the worker page are not empty.
 // ─────────────────────────────────────────────────────────────────────────────────────────────
 
-export const PORTAL_DEMO_WORKERS = ["HV-00049", "HV-00099"] as const;
 const NOW = "2026-11-30T09:00:00.000Z";
 const FIRST_MONDAY = "2026-11-30";
 const WEEKS = 3;
@@ -30,20 +29,21 @@ export async function seed(knex: Knex): Promise<void> {
     if (!ines) return;
     const morwenna = (await trx("users").where({ email: "morwenna.pike@harrowvale.example" }).first("id"))?.id ?? null;
 
-    // Worker accounts for two trainees (their roster e-mail becomes their sign-in identity).
-    for (const number of PORTAL_DEMO_WORKERS) {
+    // Ines's trainees in training on devices she is certified for, at her site.
+    const trainees = await trx("device_courses as c").join("workers as w", "w.id", "c.worker_id")
+      .join("trainer_certifications as tc", function () { this.on("tc.device_type_id", "c.device_type_id").andOn("tc.trainer_id", trx.raw("?", [ines.id])); })
+      .where("c.status", "training").where("w.site_id", ines.site_id)
+      .select("c.worker_id", "c.device_type_id", "w.employee_number").orderBy(["c.device_type_id", "w.employee_number"]);
+
+    // Worker accounts for two of them (their roster e-mail becomes their sign-in identity).
+    const accounts = [...new Set(trainees.filter((t) => t.employee_number !== "HV-00001").map((t) => t.employee_number as string))].sort().slice(0, 2);
+    for (const number of accounts) {
       const w = await trx("workers").where({ employee_number: number }).first("id", "given_name", "family_name", "email", "site_id", "department_id", "user_id");
       if (!w || w.user_id || !w.email) continue;
       const [u] = await trx("users").insert({ email: w.email, display_name: `${w.given_name} ${w.family_name}`, active: true, created_at: NOW }).returning("id");
       await trx("role_assignments").insert({ user_id: u.id, role: "worker", site_id: w.site_id, department_id: w.department_id, created_at: NOW });
       await trx("workers").where({ id: w.id }).update({ user_id: u.id });
     }
-
-    // Ines's trainees in training on devices she is certified for, at her site.
-    const trainees = await trx("device_courses as c").join("workers as w", "w.id", "c.worker_id")
-      .join("trainer_certifications as tc", function () { this.on("tc.device_type_id", "c.device_type_id").andOn("tc.trainer_id", trx.raw("?", [ines.id])); })
-      .where("c.status", "training").where("w.site_id", ines.site_id)
-      .select("c.worker_id", "c.device_type_id", "w.employee_number").orderBy(["c.device_type_id", "w.employee_number"]);
     const units = await trx("device_units").where({ site_id: ines.site_id, status: "in_service" }).select("id", "device_type_id", "serial").orderBy("serial");
     const devices = new Map((await trx("device_types").select("id", "wear_time_limit_minutes")).map((d) => [d.id as number, Number(d.wear_time_limit_minutes)]));
 
@@ -70,11 +70,11 @@ export async function seed(knex: Knex): Promise<void> {
     });
     for (let i = 0; i < rows.length; i += 100) await trx("training_sessions").insert(rows.slice(i, i + 100));
 
-    // Review requests: one answered (Amara), one open (HV-00099).
+    // Review requests: one answered (Amara), one open (the second account).
     const amara = await trx("workers").where({ employee_number: "HV-00001" }).first("id", "user_id");
-    const w99 = await trx("workers").where({ employee_number: "HV-00099" }).first("id", "user_id");
+    const w99 = accounts[1] ? await trx("workers").where({ employee_number: accounts[1] }).first("id", "user_id") : null;
     const foot = await trx("device_types").where({ code: "SRF-FOOT" }).first("id");
-    const arm = await trx("device_types").where({ code: "SRA-WAIST" }).first("id");
+    const arm = w99 ? await trx("device_courses").where({ worker_id: w99.id, status: "training" }).orderBy("device_type_id").first("device_type_id as id") : null;
     if (amara && foot) {
       await trx("review_requests").insert({
         worker_id: amara.id, subject: "forecast", device_type_id: foot.id, status: "answered", requested_by: amara.user_id,
@@ -86,7 +86,7 @@ export async function seed(knex: Knex): Promise<void> {
     if (w99 && arm) {
       await trx("review_requests").insert({
         worker_id: w99.id, subject: "plan", device_type_id: arm.id, status: "open", requested_by: w99.user_id,
-        message: "My sessions on the waist arm clash with the Tuesday stock count. Could they move to another day?",
+        message: "My training sessions clash with the Tuesday stock count. Could they move to another day?",
         created_at: "2026-11-27T11:30:00.000Z",
       });
     }

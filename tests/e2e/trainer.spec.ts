@@ -2,15 +2,11 @@
 // score moves the worker's progress chart, a severe adverse event pauses the worker and e-mails the assessors,
 // another trainer's session is refused. Invented demo people (seeds/07_portals_demo.ts).
 import AxeBuilder from "@axe-core/playwright";
-import knex, { type Knex } from "knex";
+import type { Knex } from "knex";
 import { expect, persona, test } from "./fixtures";
+import { closeSql, inesTrainerId, portalAccount, sql } from "./portal-accounts";
 
-let k: Knex | null = null;
-function sql(databaseUrl: string): Knex {
-  if (!k) k = knex({ client: "better-sqlite3", connection: { filename: databaseUrl }, useNullAsDefault: true });
-  return k;
-}
-test.afterAll(async () => { await k?.destroy(); k = null; });
+test.afterAll(closeSql);
 
 /** A start `hoursAgo` before now, but never before this week's Monday 00:00 UTC (the trainer's week view). */
 function startThisWeek(hoursAgo: number): Date {
@@ -29,15 +25,15 @@ async function schedule(db: Knex, workerId: number, deviceTypeId: number, traine
 
 test("a trainer logs a score and the worker's chart moves; a severe event pauses the worker and e-mails the assessors", async ({ page, signInAs, pageAs, outbox, stack }, testInfo) => {
   const db = sql(stack.databaseUrl);
-  const w = await db("workers as w").join("users as u", "u.id", "w.user_id").where("w.employee_number", "HV-00049").first("w.id", "u.email");
-  const foot = await db("device_types").where({ code: "SRF-FOOT" }).first("id");
-  const ines = await db("trainers as t").join("users as u", "u.id", "t.user_id").where("u.email", persona("trainer").email).first("t.id");
+  const w = await portalAccount(db, 0);
+  const foot = w.device;
+  const ines = { id: await inesTrainerId(db) };
   const start = startThisWeek(3);
-  const first = await schedule(db, w.id, foot.id, ines.id, start, 45);
+  const first = await schedule(db, w.id, foot.id, ines.id, start, Math.min(45, foot.wearTimeLimitMinutes));
   const second = await schedule(db, w.id, foot.id, ines.id, new Date(start.getTime() + 60 * 60_000), 30);
 
   const worker = await pageAs(w.email);
-  const points = worker.getByTestId("my-progress-SRF-FOOT").locator(".recharts-scatter-symbol");
+  const points = worker.getByTestId(`my-progress-${foot.code}`).locator(".recharts-scatter-symbol");
   await expect(points.first()).toBeVisible();
   const before = await points.count();
 
@@ -45,8 +41,8 @@ test("a trainer logs a score and the worker's chart moves; a severe event pauses
   await signInAs(page, persona("trainer").email);
   await expect(page.getByRole("heading", { level: 1 })).toHaveText("My training days");
   const card = page.getByTestId(`session-${first}`);
-  await expect(card).toContainText("HV-00049");
-  await expect(card).toContainText("Foot-driven supernumerary finger");
+  await expect(card).toContainText(w.employeeNumber);
+  await expect(card).toContainText(foot.name);
   expect(await page.evaluate(() => document.documentElement.scrollWidth)).toBeLessThanOrEqual(390);
   const target = await card.getByRole("link", { name: "Attended: log it" }).boundingBox();
   expect(target!.height).toBeGreaterThanOrEqual(44); // large touch targets
@@ -72,10 +68,10 @@ test("a trainer logs a score and the worker's chart moves; a severe event pauses
   await page.getByLabel("Numbness or tingling: what happened (optional)").fill("Numb toes after 20 minutes; stopped.");
   await page.getByRole("button", { name: "Save session" }).click();
   await expect(page.getByRole("status")).toContainText("Training is paused");
-  const mail = await outbox.waitFor((m) => m.subject === "Training paused: severe adverse event for HV-00049" && m.text.includes("Numb toes after 20 minutes"));
+  const mail = await outbox.waitFor((m) => m.subject === `Training paused: severe adverse event for ${w.employeeNumber}` && m.text.includes("Numb toes after 20 minutes"));
   expect(mail.to).toContain(persona("assessor").email);
   await worker.reload();
-  await expect(worker.getByTestId("paused")).toContainText("Foot-driven supernumerary finger");
+  await expect(worker.getByTestId("paused")).toContainText(foot.name);
   await expect(worker.getByTestId("stage")).toHaveText("Paused");
   await page.goto("/train");
   await expect(page.getByTestId(`session-${first}`)).toContainText("Logged");

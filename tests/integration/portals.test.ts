@@ -1,10 +1,12 @@
 import ExcelJS from "exceljs";
 import { describe, expect, inject, it } from "vitest";
+import { buildProblem } from "~/models/allocation-problem.server";
+import { runParametersSchema } from "~/schemas/allocation";
 import { readOutbox } from "../../scripts/smtp-catcher";
 import { PERSONA, signIn, testDb, type Browserless } from "./helpers";
 
 // Worker and trainer portals (issue 7) against the running stack and the invented demo (seeds/07_portals_demo.ts:
-// worker accounts for HV-00049 and HV-00099, Ines Calloway's scheduled sessions). Each test makes the rows it
+// two worker accounts among Ines Calloway's trainees, her scheduled sessions). Each test makes the rows it
 // changes (sessions dated from now) so that the shared database stays usable by other files.
 const k = testDb();
 const outbox = () => readOutbox(inject("outboxDir"));
@@ -12,6 +14,20 @@ const ines = async () => (await k("trainers as t").join("users as u", "u.id", "t
 const worker = async (number: string) => k("workers").where({ employee_number: number }).first();
 const userEmail = async (workerId: number) => (await k("users as u").join("workers as w", "w.user_id", "u.id").where("w.id", workerId).first("u.email")).email as string;
 const device = async (code: string) => (await k("device_types").where({ code }).first("id", "wear_time_limit_minutes"));
+
+/** seeds/07's worker accounts besides Amara, by employee number: [0] has sessions logged, [1] withdraws; with their course's device. */
+async function portalAccount(i: 0 | 1) {
+  const trainer = await ines();
+  const rows = await k("workers as w").join("users as u", "u.id", "w.user_id").join("device_courses as c", "c.worker_id", "w.id")
+    .join("trainer_certifications as tc", function () { this.on("tc.device_type_id", "c.device_type_id").andOn("tc.trainer_id", k.raw("?", [trainer])); })
+    .whereNot("w.employee_number", "HV-00001").whereIn("c.status", ["training", "paused"]).whereNot("u.email", "like", "first.session.%")
+    .select("w.employee_number", "c.device_type_id").orderBy(["w.employee_number", "c.device_type_id"]);
+  const numbers = [...new Set(rows.map((r) => r.employee_number as string))];
+  expect(numbers.length).toBeGreaterThanOrEqual(2);
+  const w = await worker(numbers[i]);
+  const d = await k("device_types").where({ id: rows.find((r) => r.employee_number === numbers[i])!.device_type_id }).first("id", "code", "wear_time_limit_minutes");
+  return { w, device: d as { id: number; code: string; wear_time_limit_minutes: number } };
+}
 const hoursFromNow = (h: number) => new Date(Date.now() + h * 3_600_000).toISOString();
 
 /** A start `hoursAgo` before now, but never before this week's Monday 00:00 UTC (the trainer's week view). */
@@ -49,7 +65,7 @@ const WORKER_PAGES = ["/me", "/me/consent", "/me/record", "/me/review", "/me/exp
 describe("a worker reaches only their own data", () => {
   it("every worker route answers with the signed-in worker's data whatever ids are put in the URL", async () => {
     const amara = await worker("HV-00001");
-    const other = await worker("HV-00049");
+    const other = (await portalAccount(0)).w;
     const { client, landedAt } = await signIn(PERSONA.worker);
     expect(landedAt).toBe("/me");
     for (const page of WORKER_PAGES) {
@@ -84,14 +100,14 @@ describe("a worker reaches only their own data", () => {
   });
 
   it("staff routes that take a worker or session id refuse a worker (403)", async () => {
-    const other = await worker("HV-00049");
+    const other = (await portalAccount(0)).w;
     const session = await k("training_sessions").where({ worker_id: other.id }).first("id", "device_type_id");
     const { client } = await signIn(PERSONA.worker);
     for (const path of [`/forecast/${other.id}`, `/progress/${other.id}/${session.device_type_id}`, `/assess/workers/${other.id}`,
       `/train/sessions/${session.id}`, `/api/v1/workers/${other.id}/forecast`, "/assess/reviews", "/train", "/forecast", "/progress"]) {
       const res = await client.request(path);
       expect(res.status, path).toBe(403);
-      expect(employeeNumbers(await res.text()).has("HV-00049"), path).toBe(false);
+      expect(employeeNumbers(await res.text()).has(other.employee_number), path).toBe(false);
     }
     // POSTs with another worker's id: refused, and nothing about the other worker changes.
     const before = await k("training_sessions").where({ id: session.id }).first();
@@ -141,17 +157,17 @@ describe("the worker home", () => {
 
 describe("my record", () => {
   it("shows the worker who read their data: a staff read appears in their access log, nobody else's reads do", async () => {
-    const me = await worker("HV-00099");
+    const me = (await portalAccount(1)).w;
     const { client: assessor } = await signIn(PERSONA.assessor2);
     expect((await assessor.request(`/forecast/${me.id}`)).status).toBe(200);
-    expect((await assessor.request(`/forecast/${(await worker("HV-00049")).id}`)).status).toBe(200);
+    expect((await assessor.request(`/forecast/${(await portalAccount(0)).w.id}`)).status).toBe(200);
     const mine = Number((await k("access_log").where({ worker_id: me.id }).count({ n: "*" }).first())?.n);
     const { client } = await signIn(await userEmail(me.id));
     const page = (await (await client.request("/me/record")).text()).replace(/<!-- -->/g, "");
     expect(page).toContain("Rhea Lindqvist");
     expect(page).toContain("read forecast");
     const rows = page.match(/<tr><td>/g)?.length ?? 0;
-    expect(rows).toBe(mine); // one row per access to MY record, none of HV-00049's
+    expect(rows).toBe(mine); // one row per access to MY record, none of the other account's
     const all = await (await client.request("/me/export.json")).json();
     expect(all.accessLog).toHaveLength(mine);
   });
@@ -159,18 +175,27 @@ describe("my record", () => {
 
 describe("consent from the worker portal", () => {
   it("withdrawing planning erases forecasts, cancels future sessions, notifies the site's coordinators and touches no one else", async () => {
-    const me = await worker("HV-00099");
-    const other = await worker("HV-00049");
-    const arm = await device("SRA-WAIST");
+    const me = (await portalAccount(1)).w;
+    const other = (await portalAccount(0)).w;
+    const arm = (await portalAccount(1)).device;
     const trainer = await ines();
     const future = await scheduleSession(me.id, arm.id, trainer, hoursFromNow(50), 60);
     const past = await scheduleSession(me.id, arm.id, trainer, hoursFromNow(-50), 60);
-    const otherFuture = await scheduleSession(other.id, (await device("SRF-FOOT")).id, trainer, hoursFromNow(51), 60);
+    const otherFuture = await scheduleSession(other.id, (await portalAccount(0)).device.id, trainer, hoursFromNow(51), 60);
     expect(Number((await k("forecasts").where({ worker_id: me.id }).count({ n: "*" }).first())?.n)).toBeGreaterThan(0);
     const otherConsentBefore = await k("consent_records").where({ worker_id: other.id }).orderBy("id");
     const otherForecastsBefore = await k("forecasts").where({ worker_id: other.id }).orderBy("id");
     const futureCount = Number((await k("training_sessions").where({ worker_id: me.id, status: "scheduled" }).where("scheduled_start", ">=", new Date().toISOString()).count({ n: "*" }).first())?.n);
     expect(futureCount).toBeGreaterThanOrEqual(1);
+
+    // The next allocation run's pool considers this worker (listed, left out only because already in training).
+    const nextMonday = new Date();
+    nextMonday.setUTCDate(nextMonday.getUTCDate() + ((8 - nextMonday.getUTCDay()) % 7 || 7));
+    const params = runParametersSchema.parse({ startDate: nextMonday.toISOString().slice(0, 10), horizonWeeks: 4, planningQuantile: 0.8, fairnessShare: 0.2, pool: { siteIds: [me.site_id] } });
+    const scope = { allSites: true, siteIds: [], departmentIds: [] };
+    const inPool = (snap: Awaited<ReturnType<typeof buildProblem>>) =>
+      snap.excluded.some((e) => e.workerId === me.id) || snap.calendar.workers.some((w) => w.workerId === me.id);
+    expect(inPool(await buildProblem(params, scope, k))).toBe(true);
 
     const { client } = await signIn(await userEmail(me.id));
     const page = await (await client.request("/me/consent")).text();
@@ -198,6 +223,8 @@ describe("consent from the worker portal", () => {
     expect((await k("training_sessions").where({ id: otherFuture }).first()).status).toBe("scheduled");
     expect(await k("consent_records").where({ worker_id: other.id }).orderBy("id")).toEqual(otherConsentBefore);
     expect(await k("forecasts").where({ worker_id: other.id }).orderBy("id")).toEqual(otherForecastsBefore);
+    // …and the next run's pool no longer has them at all (issue 5's pool: planning consent in force).
+    expect(inPool(await buildProblem(params, scope, k))).toBe(false);
 
     // The North Yard coordinator (organisation-wide Tobias Renn included) is told.
     const coordinators = (await k("role_assignments as a").join("users as u", "u.id", "a.user_id").where("a.role", "coordinator")
@@ -226,14 +253,14 @@ describe("consent from the worker portal", () => {
 
 describe("review requests", () => {
   it("a worker asks, an assessor of the site answers in the app, and the worker is e-mailed", async () => {
-    const me = await worker("HV-00049");
+    const me = (await portalAccount(0)).w;
     const email = await userEmail(me.id);
     const { client } = await signIn(email);
     const short = await client.postForm("/me/review", { subject: "forecast", message: "too high" });
     expect(short.status).toBe(400);
     expect(await short.text()).toContain("Message: say in a sentence or two");
     const message = `Integration check ${Date.now()}: my forecast looks too high for me.`;
-    expect((await client.postForm("/me/review", { subject: "forecast", deviceTypeId: String((await device("SRF-FOOT")).id), message, workerId: "1" })).status).toBe(200);
+    expect((await client.postForm("/me/review", { subject: "forecast", deviceTypeId: String((await portalAccount(0)).device.id), message, workerId: "1" })).status).toBe(200);
     const row = await k("review_requests").where({ message }).first();
     expect(row.worker_id).toBe(me.id);
     expect(row.status).toBe("open");
@@ -251,7 +278,7 @@ describe("review requests", () => {
     expect(await empty.text()).toContain("Answer: write your answer");
     const answer = "We looked at it together with your last sessions: the forecast is being updated as you train.";
     const ok = await assessor.postForm("/assess/reviews", { reviewId: String(row.id), [`answer_${row.id}`]: answer });
-    expect(ok.status).toBe(200);
+    expect(ok.status, (await ok.clone().text()).match(/role="alert"[^<]*</)?.[0] ?? "").toBe(200);
     const answered = await k("review_requests").where({ id: row.id }).first();
     expect(answered.status).toBe("answered");
     expect(answered.answer).toBe(answer);
@@ -264,8 +291,7 @@ describe("review requests", () => {
 describe("the trainer's day and session log", () => {
   it("lists only the trainer's own sessions and refuses another trainer's session (403)", async () => {
     const trainer = await ines();
-    const w = await worker("HV-00049");
-    const foot = await device("SRF-FOOT");
+    const { w, device: foot } = await portalAccount(0);
     const mine = await scheduleSession(w.id, foot.id, trainer, startThisWeek(0).toISOString(), 60);
     const otherTrainer = (await k("trainers").whereNot({ id: trainer }).first("id")).id;
     const stranger = await worker("HV-00200");
@@ -290,8 +316,7 @@ describe("the trainer's day and session log", () => {
 
   it("logs a score through the forecast area's logSessionResult; a severe event pauses the worker and e-mails the site's assessors", async () => {
     const trainer = await ines();
-    const w = await worker("HV-00049");
-    const foot = await device("SRF-FOOT");
+    const { w, device: foot } = await portalAccount(0);
     const start = startThisWeek(2);
     const local = (d: Date) => d.toISOString().slice(0, 16);
     const s1 = await scheduleSession(w.id, foot.id, trainer, start.toISOString(), 45);
@@ -305,7 +330,7 @@ describe("the trainer's day and session log", () => {
     const badText = await bad.text();
     expect(badText).toContain("End: must be after the start.");
     expect(badText).toContain("Task score: a number between 0 and 1.");
-    const tooLong = await client.postForm(`/train/sessions/${s1}`, { intent: "log", start: local(start), end: local(new Date(start.getTime() + 90 * 60_000)), taskScore: "0.5" });
+    const tooLong = await client.postForm(`/train/sessions/${s1}`, { intent: "log", start: local(start), end: local(new Date(start.getTime() + (foot.wear_time_limit_minutes + 30) * 60_000)), taskScore: "0.5" });
     expect(tooLong.status).toBe(409);
     expect(await tooLong.text()).toContain(`wear-time limit of ${foot.wear_time_limit_minutes} minutes`);
     expect((await k("training_sessions").where({ id: s1 }).first()).status).toBe("scheduled");
@@ -315,7 +340,7 @@ describe("the trainer's day and session log", () => {
       intent: "log", start: local(start), end: local(new Date(start.getTime() + 45 * 60_000)), taskScore: "0.6437", notes: "Steady grip.",
       ae_pain: "none", ae_skin: "mild", ae_skin_notes: "Slight redness under the strap.",
     });
-    expect(ok.status).toBe(200);
+    expect(ok.status, (await ok.clone().text()).match(/role="alert"[^<]*</)?.[0] ?? "").toBe(200);
     const logged = await k("training_sessions").where({ id: s1 }).first();
     expect(logged.status).toBe("attended");
     expect(Number(logged.task_score)).toBe(0.6437);
@@ -353,14 +378,14 @@ describe("the trainer's day and session log", () => {
     const paused = await k("device_courses").where({ worker_id: w.id, device_type_id: foot.id }).first();
     expect(paused.status).toBe("paused");
     expect(paused.pause_reason).toContain("numbness");
-    expect((await worker("HV-00049")).stage).toBe("paused");
+    expect((await worker(w.employee_number)).stage).toBe("paused");
     const change = await k("stage_changes").where({ worker_id: w.id, to_stage: "paused" }).orderBy("id", "desc").first();
     expect(change.device_type_id).toBe(foot.id);
     expect(change.actor_user_id).toBe((await k("users").where({ email: PERSONA.trainer }).first("id")).id);
     const assessors = (await k("role_assignments as a").join("users as u", "u.id", "a.user_id").where("a.role", "assessor")
       .where((q) => q.where((o) => o.whereNull("a.site_id").whereNull("a.department_id")).orWhere("a.site_id", w.site_id).orWhere("a.department_id", w.department_id))
       .distinct("u.email")).map((r) => r.email as string).sort();
-    const mail = outbox().find((m) => m.subject === "Training paused: severe adverse event for HV-00049" && m.text.includes("Numb toes"));
+    const mail = outbox().find((m) => m.subject === `Training paused: severe adverse event for ${w.employee_number}` && m.text.includes("Numb toes"));
     expect(mail).toBeTruthy();
     expect([...mail!.to].sort()).toEqual(assessors);
 
