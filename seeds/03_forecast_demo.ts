@@ -87,11 +87,13 @@ export async function seed(knex: Knex): Promise<void> {
     // Workers in roster order; the worker persona (HV-00001) is kept for an in-progress course.
     const all = await trx("workers").select("id", "employee_number", "stage", "site_id").orderBy("id");
     const persona = all.find((w) => w.employee_number === "HV-00001");
-    // Workers the baseline seed (02) has not assessed come first, so past trainees' synthetic baselines
+    // Consented workers the baseline seed (02) has not assessed come first, so past trainees' synthetic baselines
     // do not pile a second, unrelated baseline onto a worker's test–retest pair.
     const assessed = new Set(await trx("assessment_sessions").distinct("worker_id").pluck("worker_id"));
+    // Workers still only invited come last: they stay available for recording first consent.
+    const rank = (w: { id: number; stage: string }) => (w.stage === "invited" ? 2 : assessed.has(w.id) ? 1 : 0);
     const pool = all.filter((w) => w !== persona && w.stage !== "withdrawn")
-      .sort((a, b) => Number(assessed.has(a.id)) - Number(assessed.has(b.id)) || a.id - b.id);
+      .sort((a, b) => rank(a) - rank(b) || a.id - b.id);
     let next = 0;
     const take = () => {
       if (next >= pool.length) throw new Error("not enough demo workers for 03_forecast_demo");
