@@ -175,9 +175,15 @@ export async function publishRun(principal: Principal, runId: number, expectedPl
     }), run.id));
     outcome.notified.push({ email: t.email, kind: "trainer", change });
   }
-  for (const send of mails) {
-    try { await send(); } catch (e) { outcome.mailFailures.push(e instanceof Error ? e.message : String(e)); }
-  }
+  // A few at a time: one SMTP conversation per person, without holding the coordinator's request for minutes.
+  let next = 0;
+  const lane = async () => {
+    while (next < mails.length) {
+      const send = mails[next++];
+      try { await send(); } catch (e) { outcome.mailFailures.push(e instanceof Error ? e.message : String(e)); }
+    }
+  };
+  await Promise.all(Array.from({ length: Math.min(6, mails.length) }, lane));
   return outcome;
 }
 

@@ -47,7 +47,7 @@ test("coordinator runs, compares and publishes an allocation; workers and traine
   await page.goto(baseUrl);
   await page.getByRole("button", { name: /Publish this plan|Publish again/ }).click();
   const notice = page.getByRole("status").filter({ hasText: "Published as plan version" });
-  await expect(notice).toBeVisible();
+  await expect(notice).toBeVisible({ timeout: 60_000 });
   const workerMail = await outbox.waitFor((m) => m.subject === "Your device training schedule" && m.attachments.some((a) => a.filename.endsWith(".ics")) && m.text.includes("Device training:"));
   const ics = Buffer.from(workerMail.attachments.find((a) => a.filename.endsWith(".ics"))!.content, "base64").toString("utf8");
   expect(ics).toContain("BEGIN:VEVENT");
