@@ -1,5 +1,7 @@
 // Shared by worker.spec.ts and trainer.spec.ts (issue 7): direct reads of the e2e database, and the worker
 // accounts that seeds/07_portals_demo.ts gives two of Ines Calloway's trainees (invented people).
+import AxeBuilder from "@axe-core/playwright";
+import type { Page } from "@playwright/test";
 import knex, { type Knex } from "knex";
 import { persona } from "./fixtures";
 
@@ -38,4 +40,11 @@ export async function portalAccount(db: Knex, i: 0 | 1): Promise<PortalAccount> 
 
 export async function inesTrainerId(db: Knex): Promise<number> {
   return (await db("trainers as t").join("users as u", "u.id", "t.user_id").where("u.email", persona("trainer").email).first("t.id")).id;
+}
+
+/** Serious and critical axe-core findings (WCAG 2.1 A/AA and best practice) on the page as it is now. */
+export async function seriousViolations(page: Page, label: string): Promise<string[]> {
+  const result = await new AxeBuilder({ page }).withTags(["wcag2a", "wcag2aa", "wcag21a", "wcag21aa", "best-practice"]).analyze();
+  return result.violations.filter((v) => v.impact === "serious" || v.impact === "critical")
+    .map((v) => `${label} ${v.impact} ${v.id}: ${v.nodes.map((n) => n.target.join(" ")).join(", ")}`);
 }

@@ -1,10 +1,9 @@
 // Trainer portal (issue 7) in the browser at tablet-in-one-hand width (390 px): the day's sessions, logging a
 // score moves the worker's progress chart, a severe adverse event pauses the worker and e-mails the assessors,
 // another trainer's session is refused. Invented demo people (seeds/07_portals_demo.ts).
-import AxeBuilder from "@axe-core/playwright";
 import type { Knex } from "knex";
 import { expect, persona, test } from "./fixtures";
-import { closeSql, inesTrainerId, portalAccount, sql } from "./portal-accounts";
+import { closeSql, inesTrainerId, portalAccount, seriousViolations, sql } from "./portal-accounts";
 
 test.afterAll(closeSql);
 
@@ -95,16 +94,12 @@ test("a trainer cannot open or record another trainer's session (403)", async ({
 
 test("the trainer's day and session log have no serious or critical accessibility violations at 390 px (axe-core)", async ({ page, signInAs, stack }) => {
   const db = sql(stack.databaseUrl);
-  const ines = await db("trainers as t").join("users as u", "u.id", "t.user_id").where("u.email", persona("trainer").email).first("t.id");
-  const s = await db("training_sessions").where({ trainer_id: ines.id, status: "scheduled" }).orderBy("id").first("id");
+  const s = await db("training_sessions").where({ trainer_id: await inesTrainerId(db), status: "scheduled" }).orderBy("id").first("id");
   await page.setViewportSize({ width: 390, height: 860 });
   await signInAs(page, persona("trainer").email);
   for (const path of ["/train", `/train/sessions/${s.id}`]) {
     await page.goto(path);
     await expect(page.getByRole("heading", { level: 1 })).toBeVisible();
-    const result = await new AxeBuilder({ page }).withTags(["wcag2a", "wcag2aa", "wcag21a", "wcag21aa", "best-practice"]).analyze();
-    const serious = result.violations.filter((v) => v.impact === "serious" || v.impact === "critical")
-      .map((v) => `${path} ${v.impact} ${v.id}: ${v.nodes.map((n) => n.target.join(" ")).join(", ")}`);
-    expect(serious).toEqual([]);
+    expect(await seriousViolations(page, path)).toEqual([]);
   }
 });

@@ -2,9 +2,8 @@
 // consent and leaves the plans (future sessions cancelled, forecasts gone, coordinator e-mailed); the home page
 // at 390 px; a review request answered by an assessor. Invented demo people (seeds/07_portals_demo.ts).
 import fs from "node:fs";
-import AxeBuilder from "@axe-core/playwright";
 import { expect, persona, test } from "./fixtures";
-import { closeSql, inesTrainerId, portalAccount, sql } from "./portal-accounts";
+import { closeSql, inesTrainerId, portalAccount, seriousViolations, sql } from "./portal-accounts";
 
 test.afterAll(closeSql);
 
@@ -129,9 +128,6 @@ test("the worker pages have no serious or critical accessibility violations at 3
   for (const path of ["/me", "/me/consent", "/me/record", "/me/review"]) {
     await page.goto(path);
     await expect(page.getByRole("heading", { level: 1 })).toBeVisible();
-    const result = await new AxeBuilder({ page }).withTags(["wcag2a", "wcag2aa", "wcag21a", "wcag21aa", "best-practice"]).analyze();
-    const serious = result.violations.filter((v) => v.impact === "serious" || v.impact === "critical")
-      .map((v) => `${path} ${v.impact} ${v.id}: ${v.nodes.map((n) => n.target.join(" ")).join(", ")}`);
-    expect(serious).toEqual([]);
+    expect(await seriousViolations(page, path)).toEqual([]);
   }
 });
