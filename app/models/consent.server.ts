@@ -156,6 +156,21 @@ async function deleteIfTable(trx: Knex.Transaction, table: string, where: (q: Kn
   return Number(await where(trx(table)).del());
 }
 
+/**
+ * Takes the worker out of the plans inside a transaction: future scheduled sessions cancelled, courses that
+ * were only planned dropped, a forecast/planned stage set back to baselined. Runs as an ERASURE_STEPS
+ * step, inside the withdrawal's transaction. Returns sessions cancelled.
+ */
+export async function erasePlanEntries(trx: Db, workerId: number, userId: number | null = null, now = new Date()): Promise<number> {
+  const at = now.toISOString();
+  const n = Number(await trx("training_sessions").where({ worker_id: workerId, status: "scheduled" }).where("scheduled_start", ">=", at)
+    .update({ status: "cancelled", notes: "Cancelled: the worker withdrew consent.", logged_by: userId, logged_at: at }));
+  await trx("device_courses").where({ worker_id: workerId, status: "planned" }).del();
+  const w = await trx("workers").where({ id: workerId }).first("stage");
+  if (w && (w.stage === "planned" || w.stage === "forecast")) await setStage(trx, workerId, "baselined", userId, at);
+  return n;
+}
+
 export const ERASURE_STEPS: ErasureStep[] = [
   {
     purposes: ["assessment"], label: "assessment results",
@@ -170,10 +185,14 @@ export const ERASURE_STEPS: ErasureStep[] = [
     run: (trx, id) => deleteIfTable(trx, "assessment_sessions", (q) => q.where({ worker_id: id })),
   },
   // Forecasts are computed from the baseline: identifiable, so they go with the assessment data.
-  // (The forecast area owns the table; this step is a no-op until it exists.)
   {
     purposes: ["assessment", "planning"], label: "forecasts",
     run: (trx, id) => eraseForecasts(trx, id), // also drift records and review flags
+  },
+  // Plans drop the worker: future scheduled sessions cancelled, planned courses removed.
+  {
+    purposes: ["assessment", "planning"], label: "plan entries",
+    run: (trx, id) => erasePlanEntries(trx, id),
   },
 ];
 

@@ -4,8 +4,10 @@ import { sendMail } from "~/mail.server";
 import { appUrl } from "~/config.server";
 import { roleEmailsCovering } from "./adverse-events.server";
 import {
-  consentHistory, consentState, currentConsentTexts, ConsentInputError, setStage, withdrawConsent, type ConsentPurpose, type WithdrawalResult,
+  consentHistory, consentState, currentConsentTexts, ConsentInputError, erasePlanEntries, setStage, withdrawConsent, type ConsentPurpose, type WithdrawalResult,
 } from "./consent.server";
+
+export { erasePlanEntries };
 import { refreshForecastsForWorker } from "./forecast.server";
 import { progressView, type ProgressView } from "./progress.server";
 import { wallClockIso } from "~/schemas/portal";
@@ -132,36 +134,19 @@ export interface OwnWithdrawal extends WithdrawalResult { sessionsCancelled: num
  * transaction), then — for planning or assessment — the worker leaves the plans (future scheduled sessions
  * cancelled, planned courses dropped) and the coordinators of the worker's site are e-mailed.
  *
- * SEAM: withdrawConsent() opens its own transaction and takes none, so plan removal runs in a second one
- * right after (dropFromPlans is idempotent, and the worker page re-runs it if a first attempt failed). Once
- * consent.server.ts lists erasePlanEntries as an ERASURE_STEPS step (purposes planning and assessment), both
- * happen in one transaction, for assessor-recorded withdrawals too; dropFromPlans then finds nothing left.
+ * Plan removal is an ERASURE_STEPS step of consent.server.ts, so it happens inside the withdrawal's own
+ * transaction (for assessor-recorded withdrawals too); dropFromPlans below then finds nothing left and only
+ * repairs records written before that step existed.
  */
 export async function withdrawOwnConsent(workerId: number, purpose: ConsentPurpose, userId: number, now = new Date()): Promise<OwnWithdrawal> {
   const result = await withdrawConsent({ workerId, purpose, recordedBy: userId });
   let sessionsCancelled = 0;
   let coordinatorsNotified: string[] = [];
   if (purpose === "planning" || purpose === "assessment") {
-    sessionsCancelled = await dropFromPlans(workerId, userId, now);
+    sessionsCancelled = (result.erased["plan entries"] ?? 0) + (await dropFromPlans(workerId, userId, now));
     coordinatorsNotified = await notifyCoordinatorsOfWithdrawal(workerId, purpose, sessionsCancelled);
   }
   return { ...result, sessionsCancelled, coordinatorsNotified };
-}
-
-/**
- * Takes the worker out of the plans inside a transaction: future scheduled sessions cancelled, courses that
- * were only planned dropped, a forecast/planned stage set back to baselined. Shaped like an ERASURE_STEPS
- * step of consent.server.ts (`run: (trx, id) => erasePlanEntries(trx, id)`), so the consent area can make
- * assessor-recorded withdrawals do the same in the withdrawal's own transaction. Returns sessions cancelled.
- */
-export async function erasePlanEntries(trx: Db, workerId: number, userId: number | null = null, now = new Date()): Promise<number> {
-  const at = now.toISOString();
-  const n = Number(await trx("training_sessions").where({ worker_id: workerId, status: "scheduled" }).where("scheduled_start", ">=", at)
-    .update({ status: "cancelled", notes: "Cancelled: the worker withdrew consent.", logged_by: userId, logged_at: at }));
-  await trx("device_courses").where({ worker_id: workerId, status: "planned" }).del();
-  const w = await trx("workers").where({ id: workerId }).first("stage");
-  if (w && (w.stage === "planned" || w.stage === "forecast")) await setStage(trx, workerId, "baselined", userId, at);
-  return n;
 }
 
 /** erasePlanEntries in its own transaction (idempotent). */
