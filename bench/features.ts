@@ -1,10 +1,10 @@
 // Benchmark: baseline measures on recording sizes the product expects.
 // Run: npx tsx bench/features.ts — prints a table of median times against targets and exits.
-import { performance } from "node:perf_hooks";
 import { pathToFileURL } from "node:url";
 import { handDimensionality, swayMetrics, trackingError } from "../app/compute/features";
 import { computeTrace, parseTrace } from "../app/compute/trace-parsing";
 import { mulberry32 } from "../app/compute/seeded-random";
+import { medianTimeMs } from "./_timing";
 
 function normal(random: () => number): number {
   return Math.sqrt(-2 * Math.log(1 - random())) * Math.cos(2 * Math.PI * random());
@@ -35,18 +35,6 @@ function swayTrace(n: number, seed: number): { x: number[]; y: number[] } {
     y.push(py);
   }
   return { x, y };
-}
-
-function medianTimeMs(run: () => unknown, repeats: number): number {
-  run(); // warm-up: JIT compile before measuring
-  const times: number[] = [];
-  for (let i = 0; i < repeats; i++) {
-    const start = performance.now();
-    run();
-    times.push(performance.now() - start);
-  }
-  times.sort((a, b) => a - b);
-  return times[Math.floor(times.length / 2)];
 }
 
 export function main(): { name: string; timeMs: number; targetMs: number; pass: boolean }[] {

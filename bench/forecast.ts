@@ -1,11 +1,11 @@
 // Benchmark: forecast model and progress curve on the sizes the product expects.
 // Run: npx tsx bench/forecast.ts — prints a table of median times against targets and exits.
-import { performance } from "node:perf_hooks";
 import { pathToFileURL } from "node:url";
 import { fitLinearModel, leaveOneOut, plannedHours } from "../app/compute/regression";
 import { curveScore, fitSaturatingExponential } from "../app/compute/curve";
 import { combineRemainingHours, remainingFromBaseline } from "../app/compute/forecast-combine";
 import { seededGaussian } from "../app/compute/seeded-random";
+import { medianTimeMs } from "./_timing";
 
 /** Synthetic cohort: log(hours) = 3.2 + Σ βⱼ zⱼ + ε with 8 standardised measures (invented). */
 function cohort(n: number, seed: number): { X: number[][]; y: number[] } {
@@ -19,18 +19,6 @@ function cohort(n: number, seed: number): { X: number[][]; y: number[] } {
     y.push(3.2 + row.reduce((s, v, j) => s + v * beta[j], 0) + 0.35 * gauss());
   }
   return { X, y };
-}
-
-function medianTimeMs(run: () => unknown, repeats: number): number {
-  run(); // warm-up: JIT compile before measuring
-  const times: number[] = [];
-  for (let i = 0; i < repeats; i++) {
-    const start = performance.now();
-    run();
-    times.push(performance.now() - start);
-  }
-  times.sort((a, b) => a - b);
-  return times[Math.floor(times.length / 2)];
 }
 
 export function main(): { name: string; timeMs: number; targetMs: number; pass: boolean }[] {
