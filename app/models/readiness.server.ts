@@ -220,7 +220,9 @@ async function plannedCounts(g: Groups): Promise<{ weeks: string[]; counts: numb
 async function forecastValues(scope: Scope, g: Groups): Promise<Map<string, number[]> | null> {
   const k = db();
   if (!(await k.schema.hasTable("forecasts"))) return null;
+  // Only forecasts of an approved model version count: drafts are not for decisions (DESIGN §3.3).
   const q = k("forecasts as f").join("workers", "workers.id", "f.worker_id")
+    .join("model_versions as mv", "mv.id", "f.model_version_id").where("mv.status", "approved")
     .select("workers.department_id as dept", "f.device_type_id as device", "f.median_hours as hours")
     .whereNot("workers.stage", "withdrawn")
     .whereIn("workers.department_id", g.viewer.departments.map((i) => g.departments[i].id));
