@@ -190,7 +190,8 @@ export default function RunPage({ loaderData, actionData }: Route.ComponentProps
 
           <section aria-labelledby="binding" className="card grid gap-2">
             <h2 id="binding" className="text-lg font-semibold">What limits the plan</h2>
-            {result.binding.length === 0 ? <p>No device or trainer time binds: every worker in the pool who can be made ready is ready. Extra capacity would not change this plan.</p> : (
+            {result.status === "infeasible" ? <p>No plan meets the run's conditions (see the reason above). Lower the fairness share, lengthen the horizon or add capacity, then start a new run.</p>
+              : result.binding.length === 0 ? <p>No device or trainer time binds: every worker in the pool who can be made ready is ready. Extra capacity would not change this plan.</p> : (
               <div data-testid="binding-resources">
                 <ul className="list-disc pl-5">{result.binding.slice(0, 5).map((b) => <li key={b}>{b}</li>)}</ul>
                 {result.binding.length > 5 && (
