@@ -5,19 +5,9 @@
 import { performance } from "node:perf_hooks";
 import { auditProtectedTable, protectLinkedTables, protectTable } from "../app/compute/disclosure";
 import { mulberry32 as seeded } from "../app/compute/seeded-random";
+import { smallCountTable } from "../tests/reference/disclosure-audit";
 
 
-/** Many small counts: ~20 % zeros, ~40 % 1–4, ~40 % 5–24 (the hard case for suppression). */
-function smallCountTable(random: () => number, m: number, n: number): number[][] {
-  return Array.from({ length: m }, () =>
-    Array.from({ length: n }, () => {
-      const u = random();
-      if (u < 0.2) return 0;
-      if (u < 0.6) return 1 + Math.floor(random() * 4);
-      return 5 + Math.floor(random() * 20);
-    }),
-  );
-}
 
 const labels = (prefix: string, k: number) => Array.from({ length: k }, (_, i) => `${prefix}${i + 1}`);
 

@@ -142,7 +142,6 @@ export async function highsLinkedBounds(
 export const auditNames = { cellName, rowTotalName, columnTotalName, GRAND };
 
 export { mulberry32 as seeded } from "../../app/compute/seeded-random";
-import { mulberry32 as seeded } from "../../app/compute/seeded-random";
 
 /** Counts with many small cells: ~20 % zeros, ~40 % 1–4, ~40 % 5–24. */
 export function smallCountTable(random: () => number, m: number, n: number): number[][] {
