@@ -90,6 +90,3 @@ export async function requireApiAccess(request: Request, action: Action): Promis
   return { kind: "user", user: who.user, roles, scope: scopeFrom(who.user.assignments, roles) };
 }
 
-export function principalUserId(p: Principal): number | null {
-  return p.kind === "user" ? p.user.id : null;
-}

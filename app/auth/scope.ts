@@ -20,7 +20,3 @@ export function scopeFrom(assignments: { role: Role; siteId: number | null; depa
   scope.departmentIds = [...new Set(scope.departmentIds)].sort((x, y) => x - y);
   return scope;
 }
-
-export function scopeIsEmpty(s: Scope): boolean {
-  return !s.allSites && s.siteIds.length === 0 && s.departmentIds.length === 0;
-}

@@ -49,4 +49,3 @@ export function getSession(request: Request) {
   return sessionStorage.getSession(request.headers.get("Cookie"));
 }
 
-export const SESSION_MAX_AGE_S = MAX_AGE_S;

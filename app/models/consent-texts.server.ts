@@ -12,12 +12,6 @@ export async function listConsentTexts() {
   return rows.map((r) => ({ ...r, effective_from: String(r.effective_from).slice(0, 10) }));
 }
 
-/** The text in force for a purpose: the latest version whose effective date has come. */
-export async function currentConsentText(purpose: ConsentPurpose, today: string) {
-  return db()("consent_text_versions").where({ purpose }).where("effective_from", "<=", today)
-    .orderBy([{ column: "effective_from", order: "desc" }, { column: "id", order: "desc" }]).first();
-}
-
 export async function createConsentText(v: { purpose: ConsentPurpose; version: string; effectiveFrom: string; body: string; createdBy: number }) {
   return db().transaction(async (trx) => {
     if (await trx("consent_text_versions").where({ purpose: v.purpose, version: v.version }).first("id")) {
