@@ -13,3 +13,16 @@ export function medianTimeMs(run: () => unknown, repeats: number): number {
   times.sort((a, b) => a - b);
   return times[Math.floor(times.length / 2)];
 }
+
+export interface TimedCase { name: string; run: () => unknown; targetMs: number }
+export interface TimedResult { name: string; timeMs: number; targetMs: number; pass: boolean }
+
+/** Times each case (median of `repeats`), prints one table against the targets, returns the rows. */
+export function timeCases(cases: TimedCase[], repeats = 7): TimedResult[] {
+  const results = cases.map(({ name, run, targetMs }) => {
+    const timeMs = medianTimeMs(run, repeats);
+    return { name, timeMs: Number(timeMs.toFixed(2)), targetMs, pass: timeMs < targetMs };
+  });
+  console.table(results.map((r) => ({ name: r.name, "time ms": r.timeMs, "target ms": r.targetMs, result: r.pass ? "pass" : "FAIL" })));
+  return results;
+}

@@ -4,7 +4,7 @@ import { pathToFileURL } from "node:url";
 import { handDimensionality, swayMetrics, trackingError } from "../app/compute/features";
 import { computeTrace, parseTrace } from "../app/compute/trace-parsing";
 import { mulberry32 } from "../app/compute/seeded-random";
-import { medianTimeMs } from "./_timing";
+import { timeCases, type TimedResult } from "./_timing";
 
 function normal(random: () => number): number {
   return Math.sqrt(-2 * Math.log(1 - random())) * Math.cos(2 * Math.PI * random());
@@ -37,7 +37,7 @@ function swayTrace(n: number, seed: number): { x: number[]; y: number[] } {
   return { x, y };
 }
 
-export function main(): { name: string; timeMs: number; targetMs: number; pass: boolean }[] {
+export function main(): TimedResult[] {
   const glove = gloveTrace(60_000, 22, 42);
   const sway = swayTrace(60_000, 7);
   const target = Array.from({ length: 60_000 }, (_, i) => Math.sin((2 * Math.PI * 0.3 * i) / 100) + 0.5 * Math.sin((2 * Math.PI * 0.11 * i) / 100));
@@ -58,12 +58,7 @@ export function main(): { name: string; timeMs: number; targetMs: number; pass: 
     { name: "trackingError 60,000 samples, fs 100 (±100 lags)", run: () => trackingError(target, cursor, 100), targetMs: 500 },
     { name: "parseTrace + computeTrace glove CSV 60,000 × 23", run: parseAndScore, targetMs: 2000 },
   ];
-  const results = cases.map(({ name, run, targetMs }) => {
-    const timeMs = medianTimeMs(run, 7);
-    return { name, timeMs: Number(timeMs.toFixed(2)), targetMs, pass: timeMs < targetMs };
-  });
-  console.table(results.map((r) => ({ name: r.name, "time ms": r.timeMs, "target ms": r.targetMs, result: r.pass ? "pass" : "FAIL" })));
-  return results;
+  return timeCases(cases);
 }
 
 // Run when executed directly (npx tsx bench/features.ts); importing the file only exposes main().

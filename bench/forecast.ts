@@ -5,7 +5,7 @@ import { fitLinearModel, leaveOneOut, plannedHours } from "../app/compute/regres
 import { curveScore, fitSaturatingExponential } from "../app/compute/curve";
 import { combineRemainingHours, remainingFromBaseline } from "../app/compute/forecast-combine";
 import { seededGaussian } from "../app/compute/seeded-random";
-import { medianTimeMs } from "./_timing";
+import { timeCases, type TimedResult } from "./_timing";
 
 /** Synthetic cohort: log(hours) = 3.2 + Σ βⱼ zⱼ + ε with 8 standardised measures (invented). */
 function cohort(n: number, seed: number): { X: number[][]; y: number[] } {
@@ -21,7 +21,7 @@ function cohort(n: number, seed: number): { X: number[][]; y: number[] } {
   return { X, y };
 }
 
-export function main(): { name: string; timeMs: number; targetMs: number; pass: boolean }[] {
+export function main(): TimedResult[] {
   const big = cohort(5000, 1);
   const small = cohort(40, 2); // about one device type's past trainees in the demo
   const gauss = seededGaussian(3);
@@ -56,12 +56,7 @@ export function main(): { name: string; timeMs: number; targetMs: number; pass: 
       targetMs: 10,
     },
   ];
-  const results = cases.map(({ name, run, targetMs }) => {
-    const timeMs = medianTimeMs(run, 7);
-    return { name, timeMs: Number(timeMs.toFixed(2)), targetMs, pass: timeMs < targetMs };
-  });
-  console.table(results.map((r) => ({ name: r.name, "time ms": r.timeMs, "target ms": r.targetMs, result: r.pass ? "pass" : "FAIL" })));
-  return results;
+  return timeCases(cases);
 }
 
 // Run when executed directly (npx tsx bench/forecast.ts); importing the file only exposes main().
