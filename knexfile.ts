@@ -12,7 +12,7 @@ export function knexConfig(env: NodeJS.ProcessEnv = process.env): Knex.Config {
   if (url && /^postgres(ql)?:\/\//.test(url)) {
     return { client: "pg", connection: url, pool: { min: 0, max: 10 }, migrations, seeds };
   }
-  const filename = url?.startsWith("file:") ? url.slice(5) : (url || path.join(root, "data", "limberly.sqlite"));
+  const filename = url?.startsWith("file:") ? url.slice(5) : url || path.join(root, "data", "limberly.sqlite");
   return {
     client: "better-sqlite3",
     connection: { filename },

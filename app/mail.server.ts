@@ -6,7 +6,12 @@ let transport: Transporter | null = null;
 
 function transporter(): Transporter {
   if (!transport) {
-    transport = nodemailer.createTransport({ host: mail.host, port: mail.port, secure: false, ignoreTLS: mail.host === "127.0.0.1" || mail.host === "localhost" });
+    transport = nodemailer.createTransport({
+      host: mail.host,
+      port: mail.port,
+      secure: false,
+      ignoreTLS: mail.host === "127.0.0.1" || mail.host === "localhost",
+    });
   }
   return transport;
 }

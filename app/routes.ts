@@ -1,4 +1,4 @@
-import { type RouteConfig, index, layout, route } from "@react-router/dev/routes";
+import { index, layout, type RouteConfig, route } from "@react-router/dev/routes";
 import * as allocation from "./route-groups/allocation";
 import * as assessment from "./route-groups/assessment";
 import * as forecast from "./route-groups/forecast";

@@ -14,8 +14,17 @@ export function medianTimeMs(run: () => unknown, repeats: number): number {
   return times[Math.floor(times.length / 2)];
 }
 
-export interface TimedCase { name: string; run: () => unknown; targetMs: number }
-export interface TimedResult { name: string; timeMs: number; targetMs: number; pass: boolean }
+export interface TimedCase {
+  name: string;
+  run: () => unknown;
+  targetMs: number;
+}
+export interface TimedResult {
+  name: string;
+  timeMs: number;
+  targetMs: number;
+  pass: boolean;
+}
 
 /** Times each case (median of `repeats`), prints one table against the targets, returns the rows. */
 export function timeCases(cases: TimedCase[], repeats = 7): TimedResult[] {
@@ -23,6 +32,13 @@ export function timeCases(cases: TimedCase[], repeats = 7): TimedResult[] {
     const timeMs = medianTimeMs(run, repeats);
     return { name, timeMs: Number(timeMs.toFixed(2)), targetMs, pass: timeMs < targetMs };
   });
-  console.table(results.map((r) => ({ name: r.name, "time ms": r.timeMs, "target ms": r.targetMs, result: r.pass ? "pass" : "FAIL" })));
+  console.table(
+    results.map((r) => ({
+      name: r.name,
+      "time ms": r.timeMs,
+      "target ms": r.targetMs,
+      result: r.pass ? "pass" : "FAIL",
+    })),
+  );
   return results;
 }

@@ -1,11 +1,11 @@
 // Benchmark: forecast model and progress curve on the sizes the product expects.
 // Run: npx tsx bench/forecast.ts — prints a table of median times against targets and exits.
 import { pathToFileURL } from "node:url";
-import { fitLinearModel, leaveOneOut, plannedHours } from "../app/compute/regression";
 import { curveScore, fitSaturatingExponential } from "../app/compute/curve";
 import { combineRemainingHours, remainingFromBaseline } from "../app/compute/forecast-combine";
+import { fitLinearModel, leaveOneOut, plannedHours } from "../app/compute/regression";
 import { seededGaussian } from "../app/compute/seeded-random";
-import { timeCases, type TimedResult } from "./_timing";
+import { type TimedResult, timeCases } from "./_timing";
 
 /** Synthetic cohort: log(hours) = 3.2 + Σ βⱼ zⱼ + ε with 8 standardised measures (invented). */
 function cohort(n: number, seed: number): { X: number[][]; y: number[] } {
@@ -43,9 +43,17 @@ export function main(): TimedResult[] {
   const cases = [
     { name: "fitLinearModel + leaveOneOut, 5,000 × 8", run: fitAndLoocv, targetMs: 1000 },
     { name: "fitLinearModel only, 5,000 × 8", run: () => fitLinearModel(big.X, big.y), targetMs: 500 },
-    { name: "leaveOneOut ridge (40 refits), 40 × 8", run: () => leaveOneOut(small.X, small.y, { ridge: 2 }), targetMs: 200 },
+    {
+      name: "leaveOneOut ridge (40 refits), 40 × 8",
+      run: () => leaveOneOut(small.X, small.y, { ridge: 2 }),
+      targetMs: 200,
+    },
     { name: "plannedHours for 5,000 workers", run: () => big.X.map((x) => plannedHours(fitOnce, x)), targetMs: 1000 },
-    { name: "fitSaturatingExponential, 30 sessions (auto start)", run: () => fitSaturatingExponential(hours, scores), targetMs: 50 },
+    {
+      name: "fitSaturatingExponential, 30 sessions (auto start)",
+      run: () => fitSaturatingExponential(hours, scores),
+      targetMs: 50,
+    },
     {
       name: "remaining-hours combine (prior + curve), 1 trainee",
       run: () =>

@@ -12,17 +12,32 @@ import { pathToFileURL } from "node:url";
 import ExcelJS from "exceljs";
 
 const ROWS = 10_000;
-const SITES = [["NY", "North Yard"], ["RS", "Riverside"], ["EG", "Eastgate"]];
-const DEPTS = [["CH", "Cable Harness"], ["FA", "Final Assembly"], ["KT", "Kitting"], ["IN", "Inspection"], ["PP", "Paint Prep"]];
+const SITES = [
+  ["NY", "North Yard"],
+  ["RS", "Riverside"],
+  ["EG", "Eastgate"],
+];
+const DEPTS = [
+  ["CH", "Cable Harness"],
+  ["FA", "Final Assembly"],
+  ["KT", "Kitting"],
+  ["IN", "Inspection"],
+  ["PP", "Paint Prep"],
+];
 
 function rosterLines(rows: number, variant: number): string[][] {
   return Array.from({ length: rows }, (_, i) => [
-    `BX-${String(i + 1).padStart(6, "0")}`, `Given${i}`, `Family${(i * 7919) % 5000}${variant ? "x" : ""}`,
-    `w${i}@bench.example`, SITES[i % 3][0], DEPTS[(i >> 2) % 5][1],
+    `BX-${String(i + 1).padStart(6, "0")}`,
+    `Given${i}`,
+    `Family${(i * 7919) % 5000}${variant ? "x" : ""}`,
+    `w${i}@bench.example`,
+    SITES[i % 3][0],
+    DEPTS[(i >> 2) % 5][1],
   ]);
 }
 const HEADER = ["Employee number", "First name", "Last name", "E-mail", "Site", "Department"];
-const toCsv = (rows: string[][]) => new TextEncoder().encode([HEADER, ...rows].map((r) => r.join(",")).join("\n") + "\n");
+const toCsv = (rows: string[][]) =>
+  new TextEncoder().encode([HEADER, ...rows].map((r) => r.join(",")).join("\n") + "\n");
 
 export async function main() {
   const dir = fs.mkdtempSync(path.join(os.tmpdir(), "limberly-bench-roster-"));
@@ -37,7 +52,8 @@ export async function main() {
     const [org] = await k("organisations").insert({ name: "Bench (invented)", created_at: now }).returning("id");
     for (const [code, name] of SITES) {
       const [s] = await k("sites").insert({ organisation_id: org.id, code, name, created_at: now }).returning("id");
-      for (const [dc, dn] of DEPTS) await k("departments").insert({ site_id: s.id, code: dc, name: dn, created_at: now });
+      for (const [dc, dn] of DEPTS)
+        await k("departments").insert({ site_id: s.id, code: dc, name: dn, created_at: now });
     }
     const scope = { allSites: true, siteIds: [], departmentIds: [] };
 
@@ -45,7 +61,9 @@ export async function main() {
       const t0 = performance.now();
       const table = await readRosterFile(filename, bytes);
       const t1 = performance.now();
-      const summary = await k.transaction(async (trx) => applyRosterPlan(trx, await planRoster(table.rows, guessMapping(table.headers), scope, trx), null));
+      const summary = await k.transaction(async (trx) =>
+        applyRosterPlan(trx, await planRoster(table.rows, guessMapping(table.headers), scope, trx), null),
+      );
       return { readMs: t1 - t0, totalMs: performance.now() - t0, summary };
     };
 
@@ -66,8 +84,15 @@ export async function main() {
     const { page, ms: listMs } = await timeList("name");
     const { ms: lastMs } = await timeList("lastBaseline");
 
-    if (first.summary.created !== ROWS || second.summary.updated !== ROWS || third.summary.unchanged !== ROWS || page.total !== ROWS) {
-      throw new Error(`unexpected outcome: ${JSON.stringify({ first: first.summary.created, second: second.summary.updated, third: third.summary.unchanged, total: page.total })}`);
+    if (
+      first.summary.created !== ROWS ||
+      second.summary.updated !== ROWS ||
+      third.summary.unchanged !== ROWS ||
+      page.total !== ROWS
+    ) {
+      throw new Error(
+        `unexpected outcome: ${JSON.stringify({ first: first.summary.created, second: second.summary.updated, third: third.summary.unchanged, total: page.total })}`,
+      );
     }
     const results = [
       { name: `CSV import, ${ROWS.toLocaleString("en")} new workers`, timeMs: first.totalMs, targetMs: 5000 },
@@ -77,7 +102,14 @@ export async function main() {
       { name: "Worker list page 200 sorted by name", timeMs: listMs, targetMs: 200 },
       { name: "Worker list page 200 sorted by last baseline", timeMs: lastMs, targetMs: 200 },
     ].map((r) => ({ ...r, timeMs: Number(r.timeMs.toFixed(1)), pass: r.timeMs < r.targetMs }));
-    console.table(results.map((r) => ({ name: r.name, "time ms": r.timeMs, "target ms": r.targetMs, result: r.pass ? "pass" : "FAIL" })));
+    console.table(
+      results.map((r) => ({
+        name: r.name,
+        "time ms": r.timeMs,
+        "target ms": r.targetMs,
+        result: r.pass ? "pass" : "FAIL",
+      })),
+    );
     return results;
   } finally {
     await k.destroy();

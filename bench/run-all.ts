@@ -5,8 +5,11 @@ import path from "node:path";
 
 const dir = path.dirname(new URL(import.meta.url).pathname);
 const only = process.argv.slice(2);
-const files = fs.readdirSync(dir).filter((f) => f.endsWith(".ts") && f !== "run-all.ts" && !f.startsWith("_"))
-  .filter((f) => only.length === 0 || only.some((o) => f.includes(o))).sort();
+const files = fs
+  .readdirSync(dir)
+  .filter((f) => f.endsWith(".ts") && f !== "run-all.ts" && !f.startsWith("_"))
+  .filter((f) => only.length === 0 || only.some((o) => f.includes(o)))
+  .sort();
 const summary: { bench: string; exit: number; seconds: string }[] = [];
 for (const f of files) {
   console.log(`\n━━ bench/${f} ━━`);

@@ -4,7 +4,17 @@ import type { Knex } from "knex";
 // devices and trainers, API keys, server-side sessions. Written with the schema builder only so the same
 // migration runs on SQLite and PostgreSQL.
 const ROLES = ["assessor", "coordinator", "trainer", "manager", "worker", "admin"];
-const STAGES = ["invited", "consented", "baselined", "forecast", "planned", "training", "proficient", "paused", "withdrawn"];
+const STAGES = [
+  "invited",
+  "consented",
+  "baselined",
+  "forecast",
+  "planned",
+  "training",
+  "proficient",
+  "paused",
+  "withdrawn",
+];
 const PURPOSES = ["assessment", "planning", "model"];
 
 export async function up(knex: Knex): Promise<void> {
@@ -116,7 +126,10 @@ export async function up(knex: Knex): Promise<void> {
     t.increments("id");
     t.string("code", 40).notNullable().unique();
     t.string("name", 200).notNullable();
-    t.enu("category", ["supernumerary_finger", "supernumerary_arm", "exoskeleton"], { useNative: false, enumName: "device_category" }).notNullable();
+    t.enu("category", ["supernumerary_finger", "supernumerary_arm", "exoskeleton"], {
+      useNative: false,
+      enumName: "device_category",
+    }).notNullable();
     t.text("description");
     t.integer("wear_time_limit_minutes").notNullable().defaultTo(120);
     t.float("default_max_hours_per_week").notNullable().defaultTo(6);
@@ -127,7 +140,9 @@ export async function up(knex: Knex): Promise<void> {
     t.integer("device_type_id").notNullable().references("device_types.id").onDelete("CASCADE");
     t.integer("site_id").notNullable().references("sites.id");
     t.string("serial", 60).notNullable().unique();
-    t.enu("status", ["in_service", "maintenance", "retired"], { useNative: false, enumName: "unit_status" }).notNullable().defaultTo("in_service");
+    t.enu("status", ["in_service", "maintenance", "retired"], { useNative: false, enumName: "unit_status" })
+      .notNullable()
+      .defaultTo("in_service");
     t.float("bookable_hours_per_week").notNullable().defaultTo(30);
     t.timestamp("created_at", { useTz: true }).notNullable();
   });
@@ -171,9 +186,23 @@ export async function up(knex: Knex): Promise<void> {
 
 export async function down(knex: Knex): Promise<void> {
   for (const table of [
-    "sessions", "api_key_sites", "api_keys", "trainer_certifications", "trainers", "device_units", "device_types",
-    "access_log", "consent_records", "consent_text_versions", "stage_changes", "workers", "role_assignments",
-    "users", "departments", "sites", "organisations",
+    "sessions",
+    "api_key_sites",
+    "api_keys",
+    "trainer_certifications",
+    "trainers",
+    "device_units",
+    "device_types",
+    "access_log",
+    "consent_records",
+    "consent_text_versions",
+    "stage_changes",
+    "workers",
+    "role_assignments",
+    "users",
+    "departments",
+    "sites",
+    "organisations",
   ]) {
     await knex.schema.dropTableIfExists(table);
   }

@@ -6,12 +6,12 @@ export async function up(knex: Knex): Promise<void> {
   // A measure of the baseline battery, configured by an assessor.
   await knex.schema.createTable("measures", (t) => {
     t.increments("id");
-    t.string("code", 60).notNullable().unique();          // e.g. "sway.ellipseArea95" or "pegboard.right"
+    t.string("code", 60).notNullable().unique(); // e.g. "sway.ellipseArea95" or "pegboard.right"
     t.string("name", 200).notNullable();
     t.string("unit", 40).notNullable();
     t.boolean("higher_is_better").notNullable();
     t.enu("entry", ["manual", "trace"], { useNative: false, enumName: "measure_entry" }).notNullable();
-    t.string("trace_kind", 20);                            // sway | tracking | glove | timing | force
+    t.string("trace_kind", 20); // sway | tracking | glove | timing | force
     t.text("description");
     t.boolean("active").notNullable().defaultTo(true);
     t.integer("created_by").references("users.id").onDelete("SET NULL");
@@ -22,7 +22,7 @@ export async function up(knex: Knex): Promise<void> {
     t.increments("id");
     t.string("name", 200).notNullable();
     t.enu("origin", ["cohort", "published"], { useNative: false, enumName: "norm_origin" }).notNullable();
-    t.text("source").notNullable();                        // citation, or cohort description
+    t.text("source").notNullable(); // citation, or cohort description
     t.date("source_date").notNullable();
     t.integer("created_by").references("users.id").onDelete("SET NULL");
     t.timestamp("created_at", { useTz: true }).notNullable();
@@ -54,7 +54,7 @@ export async function up(knex: Knex): Promise<void> {
     t.integer("size_bytes").notNullable();
     t.integer("row_count").notNullable();
     t.float("sample_rate_hz");
-    t.text("computed").notNullable();                      // JSON: computeTrace output
+    t.text("computed").notNullable(); // JSON: computeTrace output
     t.integer("uploaded_by").references("users.id").onDelete("SET NULL");
     t.timestamp("created_at", { useTz: true }).notNullable();
   });
@@ -63,7 +63,7 @@ export async function up(knex: Knex): Promise<void> {
     t.integer("session_id").notNullable().references("assessment_sessions.id").onDelete("CASCADE");
     t.integer("measure_id").notNullable().references("measures.id");
     t.float("value").notNullable();
-    t.float("z_score");                                    // turned so positive = better
+    t.float("z_score"); // turned so positive = better
     t.integer("norm_set_id").references("norm_sets.id").onDelete("SET NULL");
     t.integer("trace_upload_id").references("trace_uploads.id").onDelete("CASCADE");
     t.timestamp("created_at", { useTz: true }).notNullable();
@@ -72,7 +72,7 @@ export async function up(knex: Knex): Promise<void> {
   // Proficiency criterion per device type, set by an assessor.
   await knex.schema.createTable("proficiency_criteria", (t) => {
     t.integer("device_type_id").primary().references("device_types.id").onDelete("CASCADE");
-    t.float("score_threshold").notNullable();              // task score 0–1
+    t.float("score_threshold").notNullable(); // task score 0–1
     t.integer("consecutive_sessions").notNullable().defaultTo(2);
     t.integer("set_by").references("users.id").onDelete("SET NULL");
     t.timestamp("set_at", { useTz: true }).notNullable();
@@ -82,7 +82,10 @@ export async function up(knex: Knex): Promise<void> {
     t.increments("id");
     t.integer("worker_id").notNullable().references("workers.id").onDelete("CASCADE");
     t.integer("device_type_id").notNullable().references("device_types.id");
-    t.enu("status", ["planned", "training", "proficient", "paused", "stopped"], { useNative: false, enumName: "course_status" }).notNullable();
+    t.enu("status", ["planned", "training", "proficient", "paused", "stopped"], {
+      useNative: false,
+      enumName: "course_status",
+    }).notNullable();
     t.float("cumulative_hours").notNullable().defaultTo(0);
     t.date("started_on");
     t.date("proficient_on");
@@ -98,13 +101,15 @@ export async function up(knex: Knex): Promise<void> {
     t.integer("device_type_id").notNullable().references("device_types.id");
     t.integer("trainer_id").references("trainers.id").onDelete("SET NULL");
     t.integer("device_unit_id").references("device_units.id").onDelete("SET NULL");
-    t.integer("allocation_run_id");                        // the published run it came from, if any
+    t.integer("allocation_run_id"); // the published run it came from, if any
     t.timestamp("scheduled_start", { useTz: true });
     t.timestamp("scheduled_end", { useTz: true });
-    t.enu("status", ["scheduled", "attended", "no_show", "cancelled"], { useNative: false, enumName: "session_status" }).notNullable().defaultTo("scheduled");
-    t.float("duration_hours");                             // logged practice time
-    t.float("task_score");                                 // 0–1 on the device's standard task
-    t.float("cumulative_hours");                           // practice hours on this device after this session
+    t.enu("status", ["scheduled", "attended", "no_show", "cancelled"], { useNative: false, enumName: "session_status" })
+      .notNullable()
+      .defaultTo("scheduled");
+    t.float("duration_hours"); // logged practice time
+    t.float("task_score"); // 0–1 on the device's standard task
+    t.float("cumulative_hours"); // practice hours on this device after this session
     t.text("notes");
     t.integer("logged_by").references("users.id").onDelete("SET NULL");
     t.timestamp("logged_at", { useTz: true });
@@ -116,7 +121,10 @@ export async function up(knex: Knex): Promise<void> {
     t.increments("id");
     t.integer("session_id").notNullable().references("training_sessions.id").onDelete("CASCADE");
     t.integer("worker_id").notNullable().references("workers.id").onDelete("CASCADE");
-    t.enu("kind", ["pain", "numbness", "skin", "fatigue", "other"], { useNative: false, enumName: "adverse_kind" }).notNullable();
+    t.enu("kind", ["pain", "numbness", "skin", "fatigue", "other"], {
+      useNative: false,
+      enumName: "adverse_kind",
+    }).notNullable();
     t.enu("severity", ["mild", "moderate", "severe"], { useNative: false, enumName: "adverse_severity" }).notNullable();
     t.text("notes");
     t.integer("recorded_by").references("users.id").onDelete("SET NULL");
@@ -125,8 +133,18 @@ export async function up(knex: Knex): Promise<void> {
 }
 
 export async function down(knex: Knex): Promise<void> {
-  for (const table of ["adverse_events", "training_sessions", "device_courses", "proficiency_criteria", "assessment_results",
-    "trace_uploads", "assessment_sessions", "norm_values", "norm_sets", "measures"]) {
+  for (const table of [
+    "adverse_events",
+    "training_sessions",
+    "device_courses",
+    "proficiency_criteria",
+    "assessment_results",
+    "trace_uploads",
+    "assessment_sessions",
+    "norm_values",
+    "norm_sets",
+    "measures",
+  ]) {
     await knex.schema.dropTableIfExists(table);
   }
 }

@@ -11,11 +11,14 @@ export async function up(knex: Knex): Promise<void> {
     t.string("sha256", 64).notNullable();
     t.integer("size_bytes").notNullable();
     t.integer("row_count").notNullable();
-    t.text("headers").notNullable();                       // JSON: header cells in file order
-    t.text("rows");                                        // JSON: data rows (strings); cleared after import or discard
-    t.text("mapping");                                     // JSON: field → header index
-    t.enu("status", ["uploaded", "imported", "discarded"], { useNative: false, enumName: "roster_import_status" }).notNullable();
-    t.text("summary");                                     // JSON: created / updated / unchanged / skipped counts
+    t.text("headers").notNullable(); // JSON: header cells in file order
+    t.text("rows"); // JSON: data rows (strings); cleared after import or discard
+    t.text("mapping"); // JSON: field → header index
+    t.enu("status", ["uploaded", "imported", "discarded"], {
+      useNative: false,
+      enumName: "roster_import_status",
+    }).notNullable();
+    t.text("summary"); // JSON: created / updated / unchanged / skipped counts
     t.integer("created_by").references("users.id").onDelete("SET NULL");
     t.timestamp("created_at", { useTz: true }).notNullable();
     t.timestamp("finished_at", { useTz: true });

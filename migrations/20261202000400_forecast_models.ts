@@ -12,23 +12,25 @@ export async function up(knex: Knex): Promise<void> {
   await knex.schema.createTable("model_versions", (t) => {
     t.increments("id");
     t.integer("device_type_id").notNullable().references("device_types.id").onDelete("CASCADE");
-    t.integer("version_number").notNullable();                 // 1, 2, … per device type
-    t.text("measure_ids").notNullable();                       // JSON number[] in coefficient order
-    t.text("measure_codes").notNullable();                     // JSON string[] (same order), kept for history
+    t.integer("version_number").notNullable(); // 1, 2, … per device type
+    t.text("measure_ids").notNullable(); // JSON number[] in coefficient order
+    t.text("measure_codes").notNullable(); // JSON string[] (same order), kept for history
     t.integer("cohort_size").notNullable();
-    t.text("excluded").notNullable();                          // JSON { reason: count }: still training, withdrawn, …
-    t.text("coefficients").notNullable();                      // JSON number[]: intercept first, then per measure (standardised scale)
-    t.text("standard_errors").notNullable();                   // JSON number[], same order
-    t.text("covariance").notNullable();                        // JSON number[][]: σ²-scaled, for prediction intervals
-    t.float("residual_sd").notNullable();                      // log-hours
+    t.text("excluded").notNullable(); // JSON { reason: count }: still training, withdrawn, …
+    t.text("coefficients").notNullable(); // JSON number[]: intercept first, then per measure (standardised scale)
+    t.text("standard_errors").notNullable(); // JSON number[], same order
+    t.text("covariance").notNullable(); // JSON number[][]: σ²-scaled, for prediction intervals
+    t.float("residual_sd").notNullable(); // log-hours
     t.float("df_residual").notNullable();
     t.float("ridge").notNullable().defaultTo(0);
-    t.text("standardisation").notNullable();                   // JSON { means: number[], sds: number[] } of the cohort's z-scores
+    t.text("standardisation").notNullable(); // JSON { means: number[], sds: number[] } of the cohort's z-scores
     t.float("loocv_mae_hours").notNullable();
     t.float("r_squared").notNullable();
     t.float("loocv_coverage80").notNullable();
-    t.text("calibration").notNullable();                       // JSON de-identified [actualHours, looPredictedHours, lower, upper][]
-    t.enu("status", ["draft", "approved", "retired"], { useNative: false, enumName: "model_version_status" }).notNullable().defaultTo("draft");
+    t.text("calibration").notNullable(); // JSON de-identified [actualHours, looPredictedHours, lower, upper][]
+    t.enu("status", ["draft", "approved", "retired"], { useNative: false, enumName: "model_version_status" })
+      .notNullable()
+      .defaultTo("draft");
     t.text("notes");
     t.integer("fitted_by").references("users.id").onDelete("SET NULL");
     t.timestamp("fitted_at", { useTz: true }).notNullable();
@@ -56,15 +58,15 @@ export async function up(knex: Knex): Promise<void> {
     t.float("log_mean").notNullable();
     t.float("log_scale").notNullable();
     t.float("df").notNullable();
-    t.text("explanation").notNullable();                       // JSON: per-measure contributions
+    t.text("explanation").notNullable(); // JSON: per-measure contributions
     // Progress update (null before any session): hours done and the remaining-hours forecast.
     t.float("hours_done").notNullable().defaultTo(0);
-    t.string("progress_status", 20);                           // combined | prior-only | review | proficient
+    t.string("progress_status", 20); // combined | prior-only | review | proficient
     t.float("remaining_hours");
     t.float("remaining_lower");
     t.float("remaining_upper");
     t.float("remaining_planning_hours");
-    t.text("progress");                                        // JSON: weights, curve evidence, reason
+    t.text("progress"); // JSON: weights, curve evidence, reason
     t.timestamp("computed_at", { useTz: true }).notNullable();
     t.unique(["worker_id", "device_type_id"]);
   });

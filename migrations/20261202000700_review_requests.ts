@@ -10,7 +10,9 @@ export async function up(knex: Knex): Promise<void> {
     t.enu("subject", ["forecast", "plan"], { useNative: false, enumName: "review_subject" }).notNullable();
     t.integer("device_type_id").references("device_types.id").onDelete("SET NULL"); // which forecast, if one was named
     t.text("message").notNullable();
-    t.enu("status", ["open", "answered"], { useNative: false, enumName: "review_status" }).notNullable().defaultTo("open");
+    t.enu("status", ["open", "answered"], { useNative: false, enumName: "review_status" })
+      .notNullable()
+      .defaultTo("open");
     t.text("answer");
     t.integer("answered_by").references("users.id").onDelete("SET NULL");
     t.integer("requested_by").references("users.id").onDelete("SET NULL");

@@ -20,6 +20,9 @@ const stack = await startStack({
   dev: process.argv.includes("--dev"),
 });
 console.log(`\nLimberly demo is running at ${stack.appUrl}  (identity provider ${stack.issuer}; Ctrl-C to stop)\n`);
-const shutdown = async () => { await stack.stop(); process.exit(0); };
+const shutdown = async () => {
+  await stack.stop();
+  process.exit(0);
+};
 process.on("SIGINT", shutdown);
 process.on("SIGTERM", shutdown);

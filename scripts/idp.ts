@@ -1,10 +1,14 @@
 // Local OpenID Connect identity-provider stand-in (oauth2-mock-server) for development, demo and tests.
 // It signs in whoever the authorization request names in `login_hint` (the persona picker sets it):
 // the code it issues is remembered with that e-mail, and the tokens issued for that code carry it.
-import { OAuth2Server } from "oauth2-mock-server";
-import { fileURLToPath } from "node:url";
 
-export async function startIdp(port: number, host = "127.0.0.1"): Promise<{ issuer: string; stop: () => Promise<void> }> {
+import { fileURLToPath } from "node:url";
+import { OAuth2Server } from "oauth2-mock-server";
+
+export async function startIdp(
+  port: number,
+  host = "127.0.0.1",
+): Promise<{ issuer: string; stop: () => Promise<void> }> {
   const server = new OAuth2Server();
   await server.issuer.keys.generate("RS256");
   const emailByCode = new Map<string, string>();
@@ -13,15 +17,18 @@ export async function startIdp(port: number, host = "127.0.0.1"): Promise<{ issu
     const code = redirect.url.searchParams.get("code");
     if (code && hint) emailByCode.set(code, hint.trim().toLowerCase());
   });
-  server.service.on("beforeTokenSigning", (token: { payload: Record<string, unknown> }, req: { body?: Record<string, unknown> }) => {
-    const code = typeof req.body?.code === "string" ? req.body.code : "";
-    const email = emailByCode.get(code);
-    if (email) {
-      token.payload.sub = email;
-      token.payload.email = email;
-      token.payload.email_verified = true;
-    }
-  });
+  server.service.on(
+    "beforeTokenSigning",
+    (token: { payload: Record<string, unknown> }, req: { body?: Record<string, unknown> }) => {
+      const code = typeof req.body?.code === "string" ? req.body.code : "";
+      const email = emailByCode.get(code);
+      if (email) {
+        token.payload.sub = email;
+        token.payload.email = email;
+        token.payload.email_verified = true;
+      }
+    },
+  );
   server.service.on("beforeResponse", (_res: unknown, req: { body?: Record<string, unknown> }) => {
     const code = typeof req.body?.code === "string" ? req.body.code : "";
     emailByCode.delete(code); // a code is good for one exchange only

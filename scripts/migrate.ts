@@ -1,7 +1,8 @@
 // Database maintenance: `tsx scripts/migrate.ts latest|rollback|seed|reset`.
-import knex from "knex";
+
 import fs from "node:fs";
 import path from "node:path";
+import knex from "knex";
 import { knexConfig } from "../knexfile";
 
 const command = process.argv[2] ?? "latest";

@@ -30,13 +30,19 @@ export async function startSmtpCatcher(port: number, outboxDir: string): Promise
           const receivedAt = new Date().toISOString();
           const id = `${receivedAt.replace(/[:.]/g, "-")}-${process.pid}-${++seq}`;
           const msg: CaughtMessage = {
-            id, receivedAt,
+            id,
+            receivedAt,
             from: mail.from?.text ?? "",
             to: session.envelope.rcptTo.map((r) => r.address),
             subject: mail.subject ?? "",
             text: mail.text ?? "",
             html: typeof mail.html === "string" ? mail.html : null,
-            attachments: mail.attachments.map((a) => ({ filename: a.filename ?? "attachment", contentType: a.contentType, size: a.size, content: a.content.toString("base64") })),
+            attachments: mail.attachments.map((a) => ({
+              filename: a.filename ?? "attachment",
+              contentType: a.contentType,
+              size: a.size,
+              content: a.content.toString("base64"),
+            })),
           };
           fs.writeFileSync(path.join(outboxDir, `${id}.json`), JSON.stringify(msg, null, 2));
           callback();
@@ -53,7 +59,10 @@ export async function startSmtpCatcher(port: number, outboxDir: string): Promise
 
 export function readOutbox(outboxDir: string): CaughtMessage[] {
   if (!fs.existsSync(outboxDir)) return [];
-  return fs.readdirSync(outboxDir).filter((f) => f.endsWith(".json")).sort()
+  return fs
+    .readdirSync(outboxDir)
+    .filter((f) => f.endsWith(".json"))
+    .sort()
     .map((f) => JSON.parse(fs.readFileSync(path.join(outboxDir, f), "utf8")) as CaughtMessage);
 }
 

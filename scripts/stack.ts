@@ -1,6 +1,6 @@
 // Starts what Limberly needs on one machine: the identity-provider stand-in, the SMTP catcher and the
 // app server (built, or Vite dev), against one database. Used by `npm run demo`, `npm run dev` and the tests.
-import { spawn, type ChildProcess } from "node:child_process";
+import { type ChildProcess, spawn } from "node:child_process";
 import path from "node:path";
 import { fileURLToPath } from "node:url";
 import { startIdp } from "./idp";
@@ -62,7 +62,14 @@ export async function startStack(o: StackOptions): Promise<Stack> {
   const env = stackEnv(o);
   const watch = ["--require", path.join(root, "scripts/exit-with-parent.cjs")];
   const args = o.dev
-    ? [...watch, path.join(root, "node_modules/@react-router/dev/bin.js"), "dev", "--port", String(o.appPort), "--strictPort"]
+    ? [
+        ...watch,
+        path.join(root, "node_modules/@react-router/dev/bin.js"),
+        "dev",
+        "--port",
+        String(o.appPort),
+        "--strictPort",
+      ]
     : [...watch, path.join(root, "node_modules/@react-router/serve/bin.js"), path.join(root, "build/server/index.js")];
   const child: ChildProcess = spawn(process.execPath, args, {
     cwd: root,
@@ -73,10 +80,14 @@ export async function startStack(o: StackOptions): Promise<Stack> {
   const appUrl = `http://localhost:${o.appPort}`;
   await Promise.race([
     waitForHttp(`${appUrl}/api/v1/health`),
-    exited.then(() => { throw new Error("The app server exited during start-up (see its output above)."); }),
+    exited.then(() => {
+      throw new Error("The app server exited during start-up (see its output above).");
+    }),
   ]);
   return {
-    appUrl, issuer: idp.issuer, env,
+    appUrl,
+    issuer: idp.issuer,
+    env,
     stop: async () => {
       if (child.exitCode === null) {
         child.kill("SIGTERM");

@@ -25,7 +25,9 @@ function ensureChromium(): void {
     const r = spawnSync("bash", ["-c", `DEBIAN_FRONTEND=noninteractive ${cmd}`], { stdio: "inherit" });
     if (r.status === 0 && fs.existsSync("/usr/bin/chromium")) return;
   }
-  console.error(`\nThe end-to-end tests need Debian's Chromium at /usr/bin/chromium. Install it with:\n  sudo ${cmd}\n`);
+  console.error(
+    `\nThe end-to-end tests need Debian's Chromium at /usr/bin/chromium. Install it with:\n  sudo ${cmd}\n`,
+  );
   process.exit(1);
 }
 
@@ -41,12 +43,20 @@ if (run("build", [bin("@react-router/dev/bin.js"), "build"]) !== 0) {
 
 const vitestJson = path.join(out, "vitest.json");
 const vitestCode = run("unit, reference and integration tests (vitest)", [
-  bin("vitest/vitest.mjs"), "run", "--config", "tests/vitest.config.ts", "--reporter=default", "--reporter=json", `--outputFile.json=${vitestJson}`,
+  bin("vitest/vitest.mjs"),
+  "run",
+  "--config",
+  "tests/vitest.config.ts",
+  "--reporter=default",
+  "--reporter=json",
+  `--outputFile.json=${vitestJson}`,
 ]);
 const e2eJson = path.join(out, "e2e.json");
-const e2eCode = run("end-to-end tests (Playwright, Debian Chromium)", [
-  bin("@playwright/test/cli.js"), "test", "--config", "tests/e2e/playwright.config.ts", "--reporter=list,json",
-], { PLAYWRIGHT_JSON_OUTPUT_NAME: e2eJson });
+const e2eCode = run(
+  "end-to-end tests (Playwright, Debian Chromium)",
+  [bin("@playwright/test/cli.js"), "test", "--config", "tests/e2e/playwright.config.ts", "--reporter=list,json"],
+  { PLAYWRIGHT_JSON_OUTPUT_NAME: e2eJson },
+);
 
 let passed = 0;
 let failed = 0;

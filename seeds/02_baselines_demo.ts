@@ -16,19 +16,149 @@ import { mulberry32 } from "./lib/prng";
 const AT = "2026-11-30T09:00:00.000Z";
 
 export const DEMO_MEASURES = [
-  { code: "pegboard.dominant", name: "Pegboard, dominant hand", unit: "pins in 30 s", hib: true, entry: "manual", kind: null, mean: 15, sd: 2, decimals: 0 },
-  { code: "boxBlocks.dominant", name: "Box and block, dominant hand", unit: "blocks per minute", hib: true, entry: "manual", kind: null, mean: 70, sd: 8, decimals: 0 },
-  { code: "grip.dominant", name: "Grip strength, dominant hand", unit: "kg", hib: true, entry: "manual", kind: null, mean: 38, sd: 9, decimals: 1 },
-  { code: "sway.ellipseArea95", name: "Sway 95 % ellipse area", unit: "mm²", hib: false, entry: "trace", kind: "sway", mean: 300, sd: 90, decimals: 1 },
-  { code: "sway.meanVelocity", name: "Sway mean velocity", unit: "mm/s", hib: false, entry: "trace", kind: "sway", mean: 12, sd: 3, decimals: 2 },
-  { code: "tracking.rmse", name: "Foot tracking RMSE", unit: "position units", hib: false, entry: "trace", kind: "tracking", mean: 12, sd: 3, decimals: 3 },
-  { code: "tracking.lagSeconds", name: "Foot tracking lag", unit: "s", hib: false, entry: "trace", kind: "tracking", mean: 0.2, sd: 0.06, decimals: 3 },
-  { code: "hand.participationRatio", name: "Hand participation ratio", unit: "effective components", hib: true, entry: "trace", kind: "glove", mean: 5, sd: 1.2, decimals: 3 },
-  { code: "hand.pc1Ratio", name: "Hand first-component share", unit: "ratio", hib: false, entry: "trace", kind: "glove", mean: 0.5, sd: 0.08, decimals: 3 },
-  { code: "timing.meanAbsoluteAsynchronyMs", name: "Timing mean absolute asynchrony", unit: "ms", hib: false, entry: "trace", kind: "timing", mean: 40, sd: 10, decimals: 1 },
-  { code: "timing.sdAsynchronyMs", name: "Timing SD of asynchrony", unit: "ms", hib: false, entry: "trace", kind: "timing", mean: 40, sd: 10, decimals: 1 },
-  { code: "force.rmse", name: "Force grading RMSE", unit: "N", hib: false, entry: "trace", kind: "force", mean: 2, sd: 0.6, decimals: 3 },
-  { code: "force.rSquared", name: "Force grading R²", unit: "ratio", hib: true, entry: "trace", kind: "force", mean: 0.9, sd: 0.04, decimals: 3 },
+  {
+    code: "pegboard.dominant",
+    name: "Pegboard, dominant hand",
+    unit: "pins in 30 s",
+    hib: true,
+    entry: "manual",
+    kind: null,
+    mean: 15,
+    sd: 2,
+    decimals: 0,
+  },
+  {
+    code: "boxBlocks.dominant",
+    name: "Box and block, dominant hand",
+    unit: "blocks per minute",
+    hib: true,
+    entry: "manual",
+    kind: null,
+    mean: 70,
+    sd: 8,
+    decimals: 0,
+  },
+  {
+    code: "grip.dominant",
+    name: "Grip strength, dominant hand",
+    unit: "kg",
+    hib: true,
+    entry: "manual",
+    kind: null,
+    mean: 38,
+    sd: 9,
+    decimals: 1,
+  },
+  {
+    code: "sway.ellipseArea95",
+    name: "Sway 95 % ellipse area",
+    unit: "mm²",
+    hib: false,
+    entry: "trace",
+    kind: "sway",
+    mean: 300,
+    sd: 90,
+    decimals: 1,
+  },
+  {
+    code: "sway.meanVelocity",
+    name: "Sway mean velocity",
+    unit: "mm/s",
+    hib: false,
+    entry: "trace",
+    kind: "sway",
+    mean: 12,
+    sd: 3,
+    decimals: 2,
+  },
+  {
+    code: "tracking.rmse",
+    name: "Foot tracking RMSE",
+    unit: "position units",
+    hib: false,
+    entry: "trace",
+    kind: "tracking",
+    mean: 12,
+    sd: 3,
+    decimals: 3,
+  },
+  {
+    code: "tracking.lagSeconds",
+    name: "Foot tracking lag",
+    unit: "s",
+    hib: false,
+    entry: "trace",
+    kind: "tracking",
+    mean: 0.2,
+    sd: 0.06,
+    decimals: 3,
+  },
+  {
+    code: "hand.participationRatio",
+    name: "Hand participation ratio",
+    unit: "effective components",
+    hib: true,
+    entry: "trace",
+    kind: "glove",
+    mean: 5,
+    sd: 1.2,
+    decimals: 3,
+  },
+  {
+    code: "hand.pc1Ratio",
+    name: "Hand first-component share",
+    unit: "ratio",
+    hib: false,
+    entry: "trace",
+    kind: "glove",
+    mean: 0.5,
+    sd: 0.08,
+    decimals: 3,
+  },
+  {
+    code: "timing.meanAbsoluteAsynchronyMs",
+    name: "Timing mean absolute asynchrony",
+    unit: "ms",
+    hib: false,
+    entry: "trace",
+    kind: "timing",
+    mean: 40,
+    sd: 10,
+    decimals: 1,
+  },
+  {
+    code: "timing.sdAsynchronyMs",
+    name: "Timing SD of asynchrony",
+    unit: "ms",
+    hib: false,
+    entry: "trace",
+    kind: "timing",
+    mean: 40,
+    sd: 10,
+    decimals: 1,
+  },
+  {
+    code: "force.rmse",
+    name: "Force grading RMSE",
+    unit: "N",
+    hib: false,
+    entry: "trace",
+    kind: "force",
+    mean: 2,
+    sd: 0.6,
+    decimals: 3,
+  },
+  {
+    code: "force.rSquared",
+    name: "Force grading R²",
+    unit: "ratio",
+    hib: true,
+    entry: "trace",
+    kind: "force",
+    mean: 0.9,
+    sd: 0.04,
+    decimals: 3,
+  },
 ] as const;
 
 function normal(rand: () => number): number {
@@ -44,14 +174,26 @@ function addDays(date: string, days: number): string {
 export async function seed(knex: Knex): Promise<void> {
   const rand = mulberry32(20261202);
   await knex.transaction(async (trx) => {
-    const users = await trx("users").whereIn("email", ["morwenna.pike@harrowvale.example", "rhea.lindqvist@harrowvale.example"]).select("id", "email");
+    const users = await trx("users")
+      .whereIn("email", ["morwenna.pike@harrowvale.example", "rhea.lindqvist@harrowvale.example"])
+      .select("id", "email");
     const assessors = users.sort((a, b) => a.email.localeCompare(b.email)).map((u) => u.id as number);
     const measureIds: number[] = [];
     for (const m of DEMO_MEASURES) {
-      const [r] = await trx("measures").insert({
-        code: m.code, name: m.name, unit: m.unit, higher_is_better: m.hib, entry: m.entry, trace_kind: m.kind,
-        description: "Demo battery (invented values).", active: true, created_by: assessors[0], created_at: AT,
-      }).returning("id");
+      const [r] = await trx("measures")
+        .insert({
+          code: m.code,
+          name: m.name,
+          unit: m.unit,
+          higher_is_better: m.hib,
+          entry: m.entry,
+          trace_kind: m.kind,
+          description: "Demo battery (invented values).",
+          active: true,
+          created_by: assessors[0],
+          created_at: AT,
+        })
+        .returning("id");
       measureIds.push(r.id);
     }
 
@@ -75,7 +217,12 @@ export async function seed(knex: Knex): Promise<void> {
           const f = 10 ** m.decimals;
           return Math.round(v * f) / f;
         });
-        sessions.push({ workerId: w.id, on: addDays(first, 14 * s), assessor: assessors[(w.id + s) % assessors.length], values });
+        sessions.push({
+          workerId: w.id,
+          on: addDays(first, 14 * s),
+          assessor: assessors[(w.id + s) % assessors.length],
+          values,
+        });
       }
     }
 
@@ -83,27 +230,57 @@ export async function seed(knex: Knex): Promise<void> {
     const firstByWorker = new Map<number, Sess>();
     for (const s of sessions) if (!firstByWorker.has(s.workerId)) firstByWorker.set(s.workerId, s);
     const firsts = [...firstByWorker.values()];
-    const [ns] = await trx("norm_sets").insert({
-      name: "Harrow & Vale cohort, autumn 2026 (invented demo)", origin: "cohort",
-      source: `First baselines of ${firsts.length} consented workers at North Yard, Riverside and Eastgate (invented demo data).`,
-      source_date: "2026-11-25", created_by: assessors[0], created_at: AT,
-    }).returning("id");
+    const [ns] = await trx("norm_sets")
+      .insert({
+        name: "Harrow & Vale cohort, autumn 2026 (invented demo)",
+        origin: "cohort",
+        source: `First baselines of ${firsts.length} consented workers at North Yard, Riverside and Eastgate (invented demo data).`,
+        source_date: "2026-11-25",
+        created_by: assessors[0],
+        created_at: AT,
+      })
+      .returning("id");
     const norms = DEMO_MEASURES.map((_, i) => {
       const vs = firsts.map((s) => s.values[i]);
       return { mean: mean(vs), sd: sampleStandardDeviation(vs), n: vs.length };
     });
-    await trx("norm_values").insert(norms.map((n, i) => ({ norm_set_id: ns.id, measure_id: measureIds[i], mean: n.mean, sd: n.sd, n: n.n })));
+    await trx("norm_values").insert(
+      norms.map((n, i) => ({ norm_set_id: ns.id, measure_id: measureIds[i], mean: n.mean, sd: n.sd, n: n.n })),
+    );
 
     for (const s of sessions) {
       const at = `${s.on}T10:00:00.000Z`;
-      const [row] = await trx("assessment_sessions").insert({ worker_id: s.workerId, assessed_on: s.on, assessor_user_id: s.assessor, notes: "Seeded demo baseline (invented).", created_at: at }).returning("id");
-      await trx("assessment_results").insert(s.values.map((v, i) => ({
-        session_id: row.id, measure_id: measureIds[i], value: v, z_score: zScore(v, norms[i].mean, norms[i].sd, DEMO_MEASURES[i].hib), norm_set_id: ns.id, created_at: at,
-      })));
+      const [row] = await trx("assessment_sessions")
+        .insert({
+          worker_id: s.workerId,
+          assessed_on: s.on,
+          assessor_user_id: s.assessor,
+          notes: "Seeded demo baseline (invented).",
+          created_at: at,
+        })
+        .returning("id");
+      await trx("assessment_results").insert(
+        s.values.map((v, i) => ({
+          session_id: row.id,
+          measure_id: measureIds[i],
+          value: v,
+          z_score: zScore(v, norms[i].mean, norms[i].sd, DEMO_MEASURES[i].hib),
+          norm_set_id: ns.id,
+          created_at: at,
+        })),
+      );
     }
     for (const [workerId, s] of firstByWorker) {
-      await trx("workers").where({ id: workerId }).update({ stage: "baselined", updated_at: `${s.on}T10:00:00.000Z` });
-      await trx("stage_changes").insert({ worker_id: workerId, from_stage: "consented", to_stage: "baselined", actor_user_id: s.assessor, at: `${s.on}T10:00:00.000Z` });
+      await trx("workers")
+        .where({ id: workerId })
+        .update({ stage: "baselined", updated_at: `${s.on}T10:00:00.000Z` });
+      await trx("stage_changes").insert({
+        worker_id: workerId,
+        from_stage: "consented",
+        to_stage: "baselined",
+        actor_user_id: s.assessor,
+        at: `${s.on}T10:00:00.000Z`,
+      });
     }
   });
 }

@@ -10,35 +10,60 @@ import type { Knex } from "knex";
 const NOW = "2026-11-30T09:00:00.000Z";
 
 const FIT_RULES: Record<string, string> = {
-  "SRF-FOOT": "Hand length 16–22 cm; full toe and ankle movement on the controlling foot; no open skin on the hand. Fit checked by a clinician.",
+  "SRF-FOOT":
+    "Hand length 16–22 cm; full toe and ankle movement on the controlling foot; no open skin on the hand. Fit checked by a clinician.",
   "SRA-WAIST": "Waist 70–120 cm; stands for at least 2 h; no recent back or hip surgery. Belt fitted by a clinician.",
-  "EXO-SHOULDER": "Torso length and arm cuffs adjusted on site; not with current shoulder injury. Fit checked by a clinician.",
+  "EXO-SHOULDER":
+    "Torso length and arm cuffs adjusted on site; not with current shoulder injury. Fit checked by a clinician.",
   "EXO-BACK": "Hip belt 75–125 cm; not during pregnancy or with acute back pain. Fit checked by a clinician.",
 };
 
 export async function seed(knex: Knex): Promise<void> {
   await knex.transaction(async (trx) => {
-    for (const [code, rules] of Object.entries(FIT_RULES)) await trx("device_types").where({ code }).update({ fit_rules: rules });
+    for (const [code, rules] of Object.entries(FIT_RULES))
+      await trx("device_types").where({ code }).update({ fit_rules: rules });
 
     // Maintenance windows: a shoulder exoskeleton at North Yard is serviced in the second week of December,
     // a back exoskeleton at Riverside over the turn of the year.
-    const unit = async (serial: string) => (await trx("device_units").where({ serial }).first("id"))?.id as number | undefined;
+    const unit = async (serial: string) =>
+      (await trx("device_units").where({ serial }).first("id"))?.id as number | undefined;
     const windows = [
-      { serial: "EXO-SHOULDER-NY-01", starts_on: "2026-12-14", ends_on: "2026-12-18", reason: "Spring cassette replacement (invented)" },
-      { serial: "EXO-BACK-RS-02", starts_on: "2026-12-28", ends_on: "2027-01-08", reason: "Annual inspection (invented)" },
+      {
+        serial: "EXO-SHOULDER-NY-01",
+        starts_on: "2026-12-14",
+        ends_on: "2026-12-18",
+        reason: "Spring cassette replacement (invented)",
+      },
+      {
+        serial: "EXO-BACK-RS-02",
+        starts_on: "2026-12-28",
+        ends_on: "2027-01-08",
+        reason: "Annual inspection (invented)",
+      },
     ];
     for (const w of windows) {
       const id = await unit(w.serial);
-      if (id) await trx("unit_maintenance_windows").insert({ device_unit_id: id, starts_on: w.starts_on, ends_on: w.ends_on, reason: w.reason, created_at: NOW });
+      if (id)
+        await trx("unit_maintenance_windows").insert({
+          device_unit_id: id,
+          starts_on: w.starts_on,
+          ends_on: w.ends_on,
+          reason: w.reason,
+          created_at: NOW,
+        });
     }
 
     // Weekly working pattern: 30-hour trainers work Mon–Fri 08:00–12:00 and 13:00–15:00;
     // 20-hour trainers Mon–Thu 08:00–13:00.
-    const trainers = await trx("trainers as t").join("users as u", "u.id", "t.user_id").select("t.id", "t.hours_per_week", "u.display_name").orderBy("t.id");
+    const trainers = await trx("trainers as t")
+      .join("users as u", "u.id", "t.user_id")
+      .select("t.id", "t.hours_per_week", "u.display_name")
+      .orderBy("t.id");
     const pattern: Record<string, unknown>[] = [];
     for (const t of trainers) {
       if (Number(t.hours_per_week) <= 20) {
-        for (const weekday of [1, 2, 3, 4]) pattern.push({ trainer_id: t.id, weekday, start_time: "08:00", end_time: "13:00" });
+        for (const weekday of [1, 2, 3, 4])
+          pattern.push({ trainer_id: t.id, weekday, start_time: "08:00", end_time: "13:00" });
       } else {
         for (const weekday of [1, 2, 3, 4, 5]) {
           pattern.push({ trainer_id: t.id, weekday, start_time: "08:00", end_time: "12:00" });
@@ -58,25 +83,53 @@ export async function seed(knex: Knex): Promise<void> {
     const waiting = await trx("workers as w")
       .whereExists((q) => q.select(trx.raw("1")).from("forecasts as f").whereRaw("f.worker_id = w.id"))
       .whereNotExists((q) => q.select(trx.raw("1")).from("device_courses as c").whereRaw("c.worker_id = w.id"))
-      .select("w.id", "w.employee_number").orderBy("w.employee_number").limit(12);
+      .select("w.id", "w.employee_number")
+      .orderBy("w.employee_number")
+      .limit(12);
     const priorities = [
-      { i: 0, priority: 3, reason: "Returning from a shoulder injury; the exoskeleton is part of the agreed return-to-work plan (invented)." },
+      {
+        i: 0,
+        priority: 3,
+        reason:
+          "Returning from a shoulder injury; the exoskeleton is part of the agreed return-to-work plan (invented).",
+      },
       { i: 3, priority: 2, reason: "Station moves to overhead assembly in January (invented)." },
       { i: 6, priority: 2, reason: "Covers two lines; readiness unblocks the Kitting rota (invented)." },
     ];
     for (const p of priorities) {
       const w = waiting[p.i];
-      if (w) await trx("worker_training_fields").insert({ worker_id: w.id, priority: p.priority, priority_reason: p.reason, max_hours_per_week: null, updated_at: NOW });
+      if (w)
+        await trx("worker_training_fields").insert({
+          worker_id: w.id,
+          priority: p.priority,
+          priority_reason: p.reason,
+          max_hours_per_week: null,
+          updated_at: NOW,
+        });
     }
     const w9 = waiting[9];
-    if (w9) await trx("worker_training_fields").insert({ worker_id: w9.id, priority: 1, priority_reason: null, max_hours_per_week: 2, updated_at: NOW });
+    if (w9)
+      await trx("worker_training_fields").insert({
+        worker_id: w9.id,
+        priority: 1,
+        priority_reason: null,
+        max_hours_per_week: 2,
+        updated_at: NOW,
+      });
     const leave = [
       { i: 1, starts_on: "2026-12-21", ends_on: "2027-01-01", reason: "Annual leave (invented)" },
       { i: 4, starts_on: "2026-12-07", ends_on: "2026-12-11", reason: "Annual leave (invented)" },
     ];
     for (const l of leave) {
       const w = waiting[l.i];
-      if (w) await trx("worker_leave").insert({ worker_id: w.id, starts_on: l.starts_on, ends_on: l.ends_on, reason: l.reason, created_at: NOW });
+      if (w)
+        await trx("worker_leave").insert({
+          worker_id: w.id,
+          starts_on: l.starts_on,
+          ends_on: l.ends_on,
+          reason: l.reason,
+          created_at: NOW,
+        });
     }
   });
 }

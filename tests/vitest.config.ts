@@ -1,5 +1,5 @@
-import { defineConfig } from "vitest/config";
 import path from "node:path";
+import { defineConfig } from "vitest/config";
 
 const alias = { "~": path.resolve(__dirname, "../app") };
 const root = path.resolve(__dirname, "..");
@@ -13,14 +13,24 @@ export default defineConfig({
     testTimeout: 60_000,
     hookTimeout: 180_000,
     projects: [
-      { resolve: { alias }, test: { name: "unit", root, include: ["tests/unit/**/*.test.ts", "tests/reference/**/*.test.ts"], testTimeout: 120_000 } },
       {
         resolve: { alias },
         test: {
-          name: "integration", root,
+          name: "unit",
+          root,
+          include: ["tests/unit/**/*.test.ts", "tests/reference/**/*.test.ts"],
+          testTimeout: 120_000,
+        },
+      },
+      {
+        resolve: { alias },
+        test: {
+          name: "integration",
+          root,
           include: ["tests/integration/**/*.test.ts"],
           globalSetup: ["tests/integration/global-setup.ts"],
-          testTimeout: 60_000, hookTimeout: 180_000,
+          testTimeout: 60_000,
+          hookTimeout: 180_000,
           fileParallelism: false,
         },
       },

@@ -16,14 +16,25 @@ function hashSecret(secret: string): string {
   return crypto.createHash("sha256").update(secret).digest("hex");
 }
 
-export async function createApiKey(input: { name: string; role: Role; siteIds: number[]; createdBy: number }): Promise<{ id: number; key: string }> {
+export async function createApiKey(input: {
+  name: string;
+  role: Role;
+  siteIds: number[];
+  createdBy: number;
+}): Promise<{ id: number; key: string }> {
   const prefix = crypto.randomBytes(6).toString("hex");
   const secret = crypto.randomBytes(32).toString("base64url");
   const id = await db().transaction(async (trx) => {
-    const [row] = await trx("api_keys").insert({
-      name: input.name, prefix, secret_hash: hashSecret(secret), role: input.role,
-      created_by: input.createdBy, created_at: new Date().toISOString(),
-    }).returning("id");
+    const [row] = await trx("api_keys")
+      .insert({
+        name: input.name,
+        prefix,
+        secret_hash: hashSecret(secret),
+        role: input.role,
+        created_by: input.createdBy,
+        created_at: new Date().toISOString(),
+      })
+      .returning("id");
     for (const siteId of input.siteIds) await trx("api_key_sites").insert({ api_key_id: row.id, site_id: siteId });
     return row.id as number;
   });
@@ -44,6 +55,9 @@ export async function verifyApiKey(presented: string): Promise<ApiKeyRecord | nu
 }
 
 export async function revokeApiKey(id: number): Promise<boolean> {
-  const n = await db()("api_keys").where({ id }).whereNull("revoked_at").update({ revoked_at: new Date().toISOString() });
+  const n = await db()("api_keys")
+    .where({ id })
+    .whereNull("revoked_at")
+    .update({ revoked_at: new Date().toISOString() });
   return n > 0;
 }

@@ -41,7 +41,14 @@ async function build(): Promise<Authenticator<SignInResult>> {
   authenticator.use(
     new OidcStrategy(
       {
-        cookie: { name: "__limberly_oidc", httpOnly: true, sameSite: "Lax", secure: isProduction as true, path: "/auth", maxAge: 600 },
+        cookie: {
+          name: "__limberly_oidc",
+          httpOnly: true,
+          sameSite: "Lax",
+          secure: isProduction as true,
+          path: "/auth",
+          maxAge: 600,
+        },
         clientId: oidc.clientId,
         clientSecret: oidc.clientSecret,
         authorizationEndpoint: d.authorization_endpoint,
@@ -52,7 +59,8 @@ async function build(): Promise<Authenticator<SignInResult>> {
       },
       async ({ tokens }) => {
         const { payload } = await jwtVerify(tokens.idToken(), jwks, { issuer: d.issuer, audience: oidc.clientId });
-        const email = typeof payload.email === "string" ? payload.email : typeof payload.sub === "string" ? payload.sub : "";
+        const email =
+          typeof payload.email === "string" ? payload.email : typeof payload.sub === "string" ? payload.sub : "";
         const user = email ? await findUserByEmail(email) : null;
         if (!user || !user.active || user.roles.length === 0) return { kind: "unprovisioned", email };
         return { kind: "ok", user };
@@ -64,6 +72,10 @@ async function build(): Promise<Authenticator<SignInResult>> {
 }
 
 export function getAuthenticator(): Promise<Authenticator<SignInResult>> {
-  if (!cached) cached = build().catch((e) => { cached = null; throw e; });
+  if (!cached)
+    cached = build().catch((e) => {
+      cached = null;
+      throw e;
+    });
   return cached;
 }

@@ -1,7 +1,7 @@
 import { data, redirect } from "react-router";
 import { appUrl } from "~/config.server";
-import { findUserById, type AppUser } from "~/models/users.server";
-import { verifyApiKey, type ApiKeyRecord } from "./api-keys.server";
+import { type AppUser, findUserById } from "~/models/users.server";
+import { type ApiKeyRecord, verifyApiKey } from "./api-keys.server";
 import { type Action, type Role, roleAllows } from "./permissions";
 import { type Scope, scopeFrom } from "./scope";
 import { getSession } from "./session.server";
@@ -26,7 +26,11 @@ export function assertSameOrigin(request: Request): void {
 }
 
 function safeOrigin(u: string): string | null {
-  try { return new URL(u).origin; } catch { return null; }
+  try {
+    return new URL(u).origin;
+  } catch {
+    return null;
+  }
 }
 
 export async function currentUser(request: Request): Promise<AppUser | null> {
@@ -65,7 +69,9 @@ export async function requireSignedIn(request: Request): Promise<AppUser> {
 }
 
 /** For /api/v1 resource routes: who is calling (Bearer API key or signed-in session); anonymous → 401 JSON. */
-export async function authenticateApi(request: Request): Promise<{ kind: "apiKey"; key: ApiKeyRecord } | { kind: "user"; user: AppUser }> {
+export async function authenticateApi(
+  request: Request,
+): Promise<{ kind: "apiKey"; key: ApiKeyRecord } | { kind: "user"; user: AppUser }> {
   const auth = request.headers.get("Authorization");
   if (auth?.startsWith("Bearer ")) {
     const key = await verifyApiKey(auth.slice(7));
@@ -73,7 +79,11 @@ export async function authenticateApi(request: Request): Promise<{ kind: "apiKey
     return { kind: "apiKey", key };
   }
   const user = await currentUser(request);
-  if (!user) throw Response.json({ error: "Authentication required: send an API key as 'Authorization: Bearer …'." }, { status: 401 });
+  if (!user)
+    throw Response.json(
+      { error: "Authentication required: send an API key as 'Authorization: Bearer …'." },
+      { status: 401 },
+    );
   assertSameOrigin(request);
   return { kind: "user", user };
 }
@@ -82,11 +92,16 @@ export async function authenticateApi(request: Request): Promise<{ kind: "apiKey
 export async function requireApiAccess(request: Request, action: Action): Promise<Principal> {
   const who = await authenticateApi(request);
   if (who.kind === "apiKey") {
-    if (!roleAllows(who.key.role, action)) throw Response.json({ error: `This key's role (${who.key.role}) may not ${action}.` }, { status: 403 });
-    return { kind: "apiKey", key: who.key, roles: [who.key.role], scope: { allSites: false, siteIds: who.key.siteIds, departmentIds: [] } };
+    if (!roleAllows(who.key.role, action))
+      throw Response.json({ error: `This key's role (${who.key.role}) may not ${action}.` }, { status: 403 });
+    return {
+      kind: "apiKey",
+      key: who.key,
+      roles: [who.key.role],
+      scope: { allSites: false, siteIds: who.key.siteIds, departmentIds: [] },
+    };
   }
   const roles = grantingRoles(who.user.roles, action);
   if (roles.length === 0) throw Response.json({ error: `You may not ${action}.` }, { status: 403 });
   return { kind: "user", user: who.user, roles, scope: scopeFrom(who.user.assignments, roles) };
 }
-

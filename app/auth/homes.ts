@@ -1,4 +1,4 @@
-import { type Role, ROLE_HOMES, ROLE_PRECEDENCE } from "./permissions";
+import { ROLE_HOMES, ROLE_PRECEDENCE, type Role } from "./permissions";
 
 export function homeFor(roles: Role[]): string {
   const first = ROLE_PRECEDENCE.find((r) => roles.includes(r));

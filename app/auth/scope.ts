@@ -8,7 +8,10 @@ export interface Scope {
   departmentIds: number[];
 }
 
-export function scopeFrom(assignments: { role: Role; siteId: number | null; departmentId: number | null }[], roles: Role[]): Scope {
+export function scopeFrom(
+  assignments: { role: Role; siteId: number | null; departmentId: number | null }[],
+  roles: Role[],
+): Scope {
   const relevant = assignments.filter((a) => roles.includes(a.role));
   const scope: Scope = { allSites: false, siteIds: [], departmentIds: [] };
   for (const a of relevant) {

@@ -1,7 +1,7 @@
 import crypto from "node:crypto";
 import { createCookie, createSessionStorage } from "react-router";
-import { db } from "~/db.server";
 import { isProduction, sessionSecret } from "~/config.server";
+import { db } from "~/db.server";
 
 // Server-side sessions: the cookie holds only a signed random id, the data lives in the `sessions`
 // table, so sign-out really ends the session and a stolen old cookie is worthless.
@@ -25,7 +25,12 @@ export const sessionStorage = createSessionStorage<SessionData>({
   cookie,
   async createData(data, expires) {
     const id = crypto.randomBytes(32).toString("hex");
-    await db()("sessions").insert({ id, data: JSON.stringify(data), expires_at: expires?.toISOString() ?? null, created_at: new Date().toISOString() });
+    await db()("sessions").insert({
+      id,
+      data: JSON.stringify(data),
+      expires_at: expires?.toISOString() ?? null,
+      created_at: new Date().toISOString(),
+    });
     return id;
   },
   async readData(id) {
@@ -38,7 +43,9 @@ export const sessionStorage = createSessionStorage<SessionData>({
     return JSON.parse(row.data);
   },
   async updateData(id, data, expires) {
-    await db()("sessions").where({ id }).update({ data: JSON.stringify(data), expires_at: expires?.toISOString() ?? null });
+    await db()("sessions")
+      .where({ id })
+      .update({ data: JSON.stringify(data), expires_at: expires?.toISOString() ?? null });
   },
   async deleteData(id) {
     await db()("sessions").where({ id }).del();
@@ -48,4 +55,3 @@ export const sessionStorage = createSessionStorage<SessionData>({
 export function getSession(request: Request) {
   return sessionStorage.getSession(request.headers.get("Cookie"));
 }
-

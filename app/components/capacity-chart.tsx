@@ -2,7 +2,11 @@ import { Bar, CartesianGrid, ComposedChart, Line, Tooltip, XAxis, YAxis } from "
 
 // Capacity use per week of one resource (a device type at a site, or a trainer): bars = hours used,
 // line = hours available. A table with the same numbers follows for screen readers and keyboard users.
-export interface CapacityPoint { week: number; used: number; capacity: number }
+export interface CapacityPoint {
+  week: number;
+  used: number;
+  capacity: number;
+}
 
 export function CapacityChart({ title, unit, points }: { title: string; unit: string; points: CapacityPoint[] }) {
   const data = points.map((p) => ({ week: `W${p.week + 1}`, used: round1(p.used), capacity: round1(p.capacity) }));
@@ -14,21 +18,47 @@ export function CapacityChart({ title, unit, points }: { title: string; unit: st
       <figcaption className="text-sm font-semibold">{title}</figcaption>
       <p className="text-xs text-ink-soft">{summary}</p>
       <div role="img" aria-label={summary}>
-        <ComposedChart responsive data={data} style={{ width: "100%", height: 160 }} margin={{ top: 6, right: 8, bottom: 0, left: 0 }}>
+        <ComposedChart
+          responsive
+          data={data}
+          style={{ width: "100%", height: 160 }}
+          margin={{ top: 6, right: 8, bottom: 0, left: 0 }}
+        >
           <CartesianGrid strokeDasharray="3 3" vertical={false} />
           <XAxis dataKey="week" fontSize={11} interval="preserveStartEnd" />
           <YAxis fontSize={11} width={32} />
           <Tooltip formatter={(v, n) => [`${v} ${unit}`, n === "used" ? "used" : "available"]} />
           <Bar dataKey="used" name="used" fill="#1f6b5c" isAnimationActive={false} />
-          <Line dataKey="capacity" name="available" stroke="#8a5a00" strokeDasharray="4 3" dot={false} isAnimationActive={false} />
+          <Line
+            dataKey="capacity"
+            name="available"
+            stroke="#8a5a00"
+            strokeDasharray="4 3"
+            dot={false}
+            isAnimationActive={false}
+          />
         </ComposedChart>
       </div>
       <details className="text-xs">
         <summary className="cursor-pointer">Numbers</summary>
         <table className="table-base mt-1">
           <caption className="sr-only">{title} per week</caption>
-          <thead><tr><th scope="col">Week</th><th scope="col">Used ({unit})</th><th scope="col">Available ({unit})</th></tr></thead>
-          <tbody>{data.map((d) => <tr key={d.week}><th scope="row">{d.week}</th><td>{d.used}</td><td>{d.capacity}</td></tr>)}</tbody>
+          <thead>
+            <tr>
+              <th scope="col">Week</th>
+              <th scope="col">Used ({unit})</th>
+              <th scope="col">Available ({unit})</th>
+            </tr>
+          </thead>
+          <tbody>
+            {data.map((d) => (
+              <tr key={d.week}>
+                <th scope="row">{d.week}</th>
+                <td>{d.used}</td>
+                <td>{d.capacity}</td>
+              </tr>
+            ))}
+          </tbody>
         </table>
       </details>
     </figure>

@@ -2,14 +2,20 @@
 // manufacturer, local occupational-safety rules and licensed practice.
 export function DeviceCautions({ compact = false }: { compact?: boolean }) {
   return (
-    <aside aria-label="Device safety cautions" className="rounded-lg border border-amber-caution/40 bg-amber-wash p-4 text-sm text-ink">
+    <aside
+      aria-label="Device safety cautions"
+      className="rounded-lg border border-amber-caution/40 bg-amber-wash p-4 text-sm text-ink"
+    >
       <p className="font-semibold text-amber-caution">Safety cautions for wearable devices</p>
       <ul className={`mt-2 list-disc pl-5 ${compact ? "" : "grid gap-1"}`}>
         <li>Keep to the device's wear-time limit and take the planned breaks.</li>
         <li>Check skin under straps and contact points before and after each session; watch for fatigue.</li>
         <li>Stop at once on pain, numbness, tingling or skin damage, and report it to your trainer.</li>
         <li>Fit is checked by a clinician before first use and after any change of size or settings.</li>
-        <li>The manufacturer's instructions, local occupational-safety rules and licensed clinical practice take precedence over anything shown here (for personal care robots, e.g. ISO 13482).</li>
+        <li>
+          The manufacturer's instructions, local occupational-safety rules and licensed clinical practice take
+          precedence over anything shown here (for personal care robots, e.g. ISO 13482).
+        </li>
       </ul>
     </aside>
   );

@@ -20,7 +20,10 @@ export interface ProtectedTableViewProps {
 
 export function HiddenValue({ threshold }: { threshold: number }) {
   return (
-    <span title={`Hidden to protect a group of fewer than ${threshold} people`} className="font-semibold text-amber-caution">
+    <span
+      title={`Hidden to protect a group of fewer than ${threshold} people`}
+      className="font-semibold text-amber-caution"
+    >
       <span aria-hidden="true">{HIDDEN_SYMBOL}</span>
       <span className="sr-only">hidden</span>
     </span>
@@ -35,44 +38,102 @@ function Value({ v, threshold, format }: { v: number | null; threshold: number; 
 export function HiddenLegend({ threshold, meaning, id }: { threshold: number; meaning?: string; id?: string }) {
   return (
     <p id={id} className="mt-2 text-sm text-ink-soft">
-      <span aria-hidden="true" className="font-semibold text-amber-caution">{HIDDEN_SYMBOL}</span>{" "}
-      {meaning ?? `Hidden: a count of 1 to ${threshold - 1} people, or a number that would let such a count be worked out from the others shown (including totals). Zeros are shown.`}
+      <span aria-hidden="true" className="font-semibold text-amber-caution">
+        {HIDDEN_SYMBOL}
+      </span>{" "}
+      {meaning ??
+        `Hidden: a count of 1 to ${threshold - 1} people, or a number that would let such a count be worked out from the others shown (including totals). Zeros are shown.`}
     </p>
   );
 }
 
 export function ProtectedTableView(props: ProtectedTableViewProps) {
-  const { id, caption, rowHeader, rows, columns, cells, rowTotals, columnTotals, grandTotal, threshold, format, hiddenMeaning } = props;
-  const anyHidden = cells.some((l) => l.some((v) => v === null)) || (rowTotals ?? []).some((v) => v === null)
-    || (columnTotals ?? []).some((v) => v === null) || grandTotal === null;
+  const {
+    id,
+    caption,
+    rowHeader,
+    rows,
+    columns,
+    cells,
+    rowTotals,
+    columnTotals,
+    grandTotal,
+    threshold,
+    format,
+    hiddenMeaning,
+  } = props;
+  const anyHidden =
+    cells.some((l) => l.some((v) => v === null)) ||
+    (rowTotals ?? []).some((v) => v === null) ||
+    (columnTotals ?? []).some((v) => v === null) ||
+    grandTotal === null;
   const withTotals = rowTotals !== undefined;
   return (
     <div className="min-w-0">
-      <div className="relative overflow-x-auto rounded-md border border-line" tabIndex={0} role="region" aria-labelledby={`${id}-caption`}>
-        <table className="table-base min-w-max" data-testid={id} aria-describedby={anyHidden ? `${id}-legend` : undefined}>
-          <caption id={`${id}-caption`} className="px-3 py-2 text-left font-semibold text-ink">{caption}</caption>
+      <div
+        className="relative overflow-x-auto rounded-md border border-line"
+        tabIndex={0}
+        role="region"
+        aria-labelledby={`${id}-caption`}
+      >
+        <table
+          className="table-base min-w-max"
+          data-testid={id}
+          aria-describedby={anyHidden ? `${id}-legend` : undefined}
+        >
+          <caption id={`${id}-caption`} className="px-3 py-2 text-left font-semibold text-ink">
+            {caption}
+          </caption>
           <thead>
             <tr>
               <th scope="col">{rowHeader}</th>
-              {columns.map((c) => <th key={c} scope="col" className="text-right">{c}</th>)}
-              {withTotals && <th scope="col" className="text-right">Total</th>}
+              {columns.map((c) => (
+                <th key={c} scope="col" className="text-right">
+                  {c}
+                </th>
+              ))}
+              {withTotals && (
+                <th scope="col" className="text-right">
+                  Total
+                </th>
+              )}
             </tr>
           </thead>
           <tbody>
             {rows.map((r, i) => (
               <tr key={r}>
-                <th scope="row" className="font-medium text-ink">{r}</th>
-                {columns.map((c, j) => <td key={c} className="text-right tabular-nums"><Value v={cells[i][j]} threshold={threshold} format={format} /></td>)}
-                {withTotals && <td className="text-right font-semibold tabular-nums"><Value v={rowTotals[i]} threshold={threshold} format={format} /></td>}
+                <th scope="row" className="font-medium text-ink">
+                  {r}
+                </th>
+                {columns.map((c, j) => (
+                  <td key={c} className="text-right tabular-nums">
+                    <Value v={cells[i][j]} threshold={threshold} format={format} />
+                  </td>
+                ))}
+                {withTotals && (
+                  <td className="text-right font-semibold tabular-nums">
+                    <Value v={rowTotals[i]} threshold={threshold} format={format} />
+                  </td>
+                )}
               </tr>
             ))}
           </tbody>
           {columnTotals && (
             <tfoot>
               <tr>
-                <th scope="row" className="font-semibold text-ink">Total</th>
-                {columns.map((c, j) => <td key={c} className="text-right font-semibold tabular-nums"><Value v={columnTotals[j]} threshold={threshold} format={format} /></td>)}
-                {withTotals && <td className="text-right font-semibold tabular-nums"><Value v={grandTotal ?? null} threshold={threshold} format={format} /></td>}
+                <th scope="row" className="font-semibold text-ink">
+                  Total
+                </th>
+                {columns.map((c, j) => (
+                  <td key={c} className="text-right font-semibold tabular-nums">
+                    <Value v={columnTotals[j]} threshold={threshold} format={format} />
+                  </td>
+                ))}
+                {withTotals && (
+                  <td className="text-right font-semibold tabular-nums">
+                    <Value v={grandTotal ?? null} threshold={threshold} format={format} />
+                  </td>
+                )}
               </tr>
             </tfoot>
           )}

@@ -1,7 +1,24 @@
 // Readiness stages (DESIGN §2) with the words people read.
-export const STAGES = ["invited", "consented", "baselined", "forecast", "planned", "training", "proficient", "paused", "withdrawn"] as const;
+export const STAGES = [
+  "invited",
+  "consented",
+  "baselined",
+  "forecast",
+  "planned",
+  "training",
+  "proficient",
+  "paused",
+  "withdrawn",
+] as const;
 export type Stage = (typeof STAGES)[number];
 export const STAGE_LABELS: Record<Stage, string> = {
-  invited: "Invited", consented: "Consented", baselined: "Baseline recorded", forecast: "Forecast ready", planned: "In a plan",
-  training: "Training", proficient: "Proficient", paused: "Paused", withdrawn: "Withdrawn",
+  invited: "Invited",
+  consented: "Consented",
+  baselined: "Baseline recorded",
+  forecast: "Forecast ready",
+  planned: "In a plan",
+  training: "Training",
+  proficient: "Proficient",
+  paused: "Paused",
+  withdrawn: "Withdrawn",
 };

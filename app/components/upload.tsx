@@ -1,31 +1,77 @@
 // A labelled file field with the accepted types and size limit spelled out.
-export function FileField({ name, label, accept, maxBytes, error, required }: { name: string; label: string; accept: string; maxBytes: number; error?: string; required?: boolean }) {
+export function FileField({
+  name,
+  label,
+  accept,
+  maxBytes,
+  error,
+  required,
+}: {
+  name: string;
+  label: string;
+  accept: string;
+  maxBytes: number;
+  error?: string;
+  required?: boolean;
+}) {
   const mb = Math.round(maxBytes / 1024 / 1024);
   return (
     <div>
-      <label htmlFor={name} className="field-label">{label}{required && <span aria-hidden="true"> *</span>}</label>
-      <input id={name} name={name} type="file" accept={accept} required={required} aria-describedby={`${name}-hint${error ? ` ${name}-error` : ""}`}
-        aria-invalid={error ? true : undefined} className="field-input file:mr-3 file:rounded file:border-0 file:bg-spruce-50 file:px-3 file:py-1" />
-      <p id={`${name}-hint`} className="mt-1 text-sm text-ink-soft">{accept.split(",").join(" or ")}, at most {mb} MB.</p>
-      {error && <p id={`${name}-error`} className="field-error">{error}</p>}
+      <label htmlFor={name} className="field-label">
+        {label}
+        {required && <span aria-hidden="true"> *</span>}
+      </label>
+      <input
+        id={name}
+        name={name}
+        type="file"
+        accept={accept}
+        required={required}
+        aria-describedby={`${name}-hint${error ? ` ${name}-error` : ""}`}
+        aria-invalid={error ? true : undefined}
+        className="field-input file:mr-3 file:rounded file:border-0 file:bg-spruce-50 file:px-3 file:py-1"
+      />
+      <p id={`${name}-hint`} className="mt-1 text-sm text-ink-soft">
+        {accept.split(",").join(" or ")}, at most {mb} MB.
+      </p>
+      {error && (
+        <p id={`${name}-error`} className="field-error">
+          {error}
+        </p>
+      )}
     </div>
   );
 }
 
-export interface IssueLike { row?: number; column?: string; field?: string; message: string }
+export interface IssueLike {
+  row?: number;
+  column?: string;
+  field?: string;
+  message: string;
+}
 
 /** A list of file problems, each naming the row and column/field. */
 export function IssueList({ issues, title }: { issues: IssueLike[]; title: string }) {
   if (issues.length === 0) return null;
   return (
-    <div role="alert" className="rounded-md border border-alert/30 bg-alert-wash p-3 text-alert" data-testid="issue-list">
+    <div
+      role="alert"
+      className="rounded-md border border-alert/30 bg-alert-wash p-3 text-alert"
+      data-testid="issue-list"
+    >
       <p className="font-semibold">{title}</p>
       <ul className="mt-2 list-disc pl-5 text-sm">
         {issues.map((i, n) => (
           <li key={n}>
             {i.row != null && <span className="font-medium">Row {i.row}</span>}
-            {(i.column ?? i.field) && <span className="font-medium">{i.row != null ? ", " : ""}{i.column ?? i.field}</span>}
-            {(i.row != null || i.column || i.field) && ": "}{i.message}
+            {(i.column ?? i.field) && (
+              <span className="font-medium">
+                {i.row != null ? ", " : ""}
+                {i.column ?? i.field}
+              </span>
+            )}
+            {(i.row != null || i.column || i.field) && ": "}
+            {i.message}
           </li>
         ))}
       </ul>

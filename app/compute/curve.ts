@@ -144,7 +144,11 @@ export function automaticStart(
 export function fitSaturatingExponential(
   x: number[],
   y: number[],
-  options?: { fixStart?: number; initial?: { asymptote: number; start?: number; rate: number }; maxIterations?: number },
+  options?: {
+    fixStart?: number;
+    initial?: { asymptote: number; start?: number; rate: number };
+    maxIterations?: number;
+  },
 ): SaturatingExponentialFit {
   const n = x.length;
   if (y.length !== n) throw new Error(`x has ${n} values but y has ${y.length}`);

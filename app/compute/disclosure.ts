@@ -13,17 +13,17 @@ import { attackerBounds } from "./disclosure/attacker";
 import { protectByCycles, suppressionCost } from "./disclosure/cycle-heuristic";
 import { auditUntilSafe, protectAlgebraically } from "./disclosure/protection-lp";
 import {
+  type EntryKind,
   flatTableSystem,
   linkedTableSystem,
-  validateCounts,
-  type EntryKind,
   type TableSystem,
+  validateCounts,
 } from "./disclosure/table-system";
 import { effectiveThreshold, isSmallCount } from "./disclosure/threshold";
 
-export { suppressedShare, protectMedian } from "./disclosure/small-groups";
-export { effectiveThreshold, MINIMUM_THRESHOLD } from "./disclosure/threshold";
 export { REQUIRED_WIDTH } from "./disclosure/protection-lp";
+export { protectMedian, suppressedShare } from "./disclosure/small-groups";
+export { effectiveThreshold, MINIMUM_THRESHOLD } from "./disclosure/threshold";
 
 export interface ProtectedTable {
   rows: string[];
@@ -74,7 +74,8 @@ export function auditProtectedTable(counts: number[][], table: ProtectedTable): 
   const system = flatTableSystem(counts, table.columns.length);
   const hidden = flatPublished(table);
   hidden.forEach((h, e) => {
-    if (!h && flatShown(table, e) !== system.entries[e].value) throw new RangeError("published number differs from the counts");
+    if (!h && flatShown(table, e) !== system.entries[e].value)
+      throw new RangeError("published number differs from the counts");
   });
   return intervals(system, hidden);
 }
@@ -158,7 +159,10 @@ export function auditLinkedTables(
     layout.columnTotalIndex.slice(0, n).forEach((e, j) => mark(e, tab.columnTotals[j]));
     mark(layout.columnTotalIndex[n], tab.grandTotal);
   }
-  return intervals(system, mask.map((hidden) => hidden === true));
+  return intervals(
+    system,
+    mask.map((hidden) => hidden === true),
+  );
 }
 
 function flatPublished(table: ProtectedTable): boolean[] {

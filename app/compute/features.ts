@@ -1,7 +1,8 @@
 // Baseline measures (DESIGN §3.1). The contract lives here; each measure sits in its own file under ./features/.
-export { swayMetrics, CHI_SQUARE_95_2DF, type SwayMetrics } from "./features/sway";
-export { trackingError, type TrackingError } from "./features/tracking";
-export { handDimensionality, type HandDimensionality } from "./features/hand-dimensionality";
-export { timingMetrics, matchCuesToOnsets, type TimingMetrics, type CueMatch } from "./features/timing";
-export { forceGrading, type ForceGrading } from "./features/force-grading";
-export { MEASURE_DIRECTIONS, zScore, type MeasureDirection, type MeasureKey } from "./features/directions";
+
+export { MEASURE_DIRECTIONS, type MeasureDirection, type MeasureKey, zScore } from "./features/directions";
+export { type ForceGrading, forceGrading } from "./features/force-grading";
+export { type HandDimensionality, handDimensionality } from "./features/hand-dimensionality";
+export { CHI_SQUARE_95_2DF, type SwayMetrics, swayMetrics } from "./features/sway";
+export { type CueMatch, matchCuesToOnsets, type TimingMetrics, timingMetrics } from "./features/timing";
+export { type TrackingError, trackingError } from "./features/tracking";

@@ -10,11 +10,7 @@
 // When the curve plateaus below the criterion the result is a review flag; the curve is never
 // extrapolated past its plateau and no combined number is produced.
 
-import {
-  plateausBelowCriterion,
-  timeToReachWithUncertainty,
-  type SaturatingExponentialFit,
-} from "./curve";
+import { plateausBelowCriterion, type SaturatingExponentialFit, timeToReachWithUncertainty } from "./curve";
 import { normalCdf, normalQuantile, studentTCdf, studentTQuantile } from "./student-t";
 
 /** A forecast of hours as a distribution on the log scale. */
@@ -160,7 +156,12 @@ export function combineRemainingHours(input: {
   const quantile = input.quantile ?? 0.8;
   const level = input.level ?? 0.8;
   const { prior } = input;
-  const evidence = curveRemainingHours(input.curve.fit, input.curve.threshold, input.curve.hoursDone, input.curve.options);
+  const evidence = curveRemainingHours(
+    input.curve.fit,
+    input.curve.threshold,
+    input.curve.hoursDone,
+    input.curve.options,
+  );
 
   if (evidence.status === "review") {
     return {
@@ -178,9 +179,7 @@ export function combineRemainingHours(input: {
     };
   }
   const combined =
-    evidence.status === "estimate"
-      ? inverseVarianceCombine([prior, evidence])
-      : { ...prior, weights: [1, 0] };
+    evidence.status === "estimate" ? inverseVarianceCombine([prior, evidence]) : { ...prior, weights: [1, 0] };
   const zq = normalQuantile(quantile);
   const zl = normalQuantile((1 + level) / 2);
   return {

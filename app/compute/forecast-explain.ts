@@ -2,7 +2,7 @@
 // The model is log(hours) = b₀ + Σ b_j·x_j with x_j the worker's baseline z-score on measure j,
 // standardised again with the cohort's mean and SD of that z-score (so x = 0 is the cohort average).
 // Pure: no database, no clock.
-import { plannedHoursFromLogScale, type PlannedHours } from "./regression";
+import { type PlannedHours, plannedHoursFromLogScale } from "./regression";
 
 export interface StoredModel {
   coefficients: number[]; // intercept first
@@ -13,7 +13,10 @@ export interface StoredModel {
   sds: number[]; // cohort SD of each measure's z-score
 }
 
-export interface MeasureLabel { code: string; label: string }
+export interface MeasureLabel {
+  code: string;
+  label: string;
+}
 
 export interface Contribution {
   measureCode: string;
@@ -38,7 +41,10 @@ function percent(m: number): string {
 
 function sentenceFor(label: string, standardised: number, multiplier: number): string {
   const sd = Math.abs(standardised);
-  const where = sd < 0.05 ? "about at the cohort average" : `${sd.toFixed(1)} SD ${standardised > 0 ? "better" : "worse"} than the cohort average`;
+  const where =
+    sd < 0.05
+      ? "about at the cohort average"
+      : `${sd.toFixed(1)} SD ${standardised > 0 ? "better" : "worse"} than the cohort average`;
   if (Math.abs(multiplier - 1) < 0.005) return `${label}: ${where}; this barely moves the forecast.`;
   return `${label}: ${where}; this ${multiplier < 1 ? "lowers" : "raises"} the forecast by about ${percent(multiplier)} (×${multiplier.toFixed(2)}).`;
 }
@@ -46,7 +52,8 @@ function sentenceFor(label: string, standardised: number, multiplier: number): s
 /** Predictive distribution on the log scale: mean b₀ + bᵀx, scale √(σ² + [1 x]ᵀ Cov [1 x]), t with df. */
 export function logPredictive(model: StoredModel, x: number[]): { logFit: number; logScale: number } {
   const v = [1, ...x];
-  if (v.length !== model.coefficients.length) throw new Error(`expected ${model.coefficients.length - 1} measures, got ${x.length}`);
+  if (v.length !== model.coefficients.length)
+    throw new Error(`expected ${model.coefficients.length - 1} measures, got ${x.length}`);
   const logFit = v.reduce((s, vi, i) => s + vi * model.coefficients[i], 0);
   let fitVar = 0;
   for (let a = 0; a < v.length; a++) for (let b = 0; b < v.length; b++) fitVar += v[a] * model.covariance[a][b] * v[b];
@@ -71,7 +78,13 @@ export function forecastFromModel(
     const logContribution = coefficient * x[j];
     const multiplier = Math.exp(logContribution);
     return {
-      measureCode: m.code, label: m.label, zScore: zScores[j], standardised: x[j], coefficient, logContribution, multiplier,
+      measureCode: m.code,
+      label: m.label,
+      zScore: zScores[j],
+      standardised: x[j],
+      coefficient,
+      logContribution,
+      multiplier,
       sentence: sentenceFor(m.label, x[j], multiplier),
     };
   });

@@ -13,7 +13,16 @@ export function isoWeekday(iso: string): number {
   return d === 0 ? 7 : d;
 }
 
-export const WEEKDAY_NAMES = ["", "Monday", "Tuesday", "Wednesday", "Thursday", "Friday", "Saturday", "Sunday"] as const;
+export const WEEKDAY_NAMES = [
+  "",
+  "Monday",
+  "Tuesday",
+  "Wednesday",
+  "Thursday",
+  "Friday",
+  "Saturday",
+  "Sunday",
+] as const;
 
 /** The seven dates of week `week` (0-based) of a horizon starting on the Monday `start`. */
 export function weekDates(start: string, week: number): string[] {

@@ -13,7 +13,8 @@ export interface ProficiencyCriterion {
  */
 export function firstProficientIndex(scores: number[], criterion: ProficiencyCriterion): number {
   const { scoreThreshold, consecutiveSessions } = criterion;
-  if (!(scoreThreshold >= 0 && scoreThreshold <= 1)) throw new RangeError(`score threshold must be within 0–1, got ${scoreThreshold}`);
+  if (!(scoreThreshold >= 0 && scoreThreshold <= 1))
+    throw new RangeError(`score threshold must be within 0–1, got ${scoreThreshold}`);
   if (!Number.isInteger(consecutiveSessions) || consecutiveSessions < 1) {
     throw new RangeError(`consecutive sessions must be a whole number ≥ 1, got ${consecutiveSessions}`);
   }

@@ -35,12 +35,18 @@ export interface ProgressUpdate {
 export function progressUpdate(input: ProgressInput): ProgressUpdate {
   const quantile = input.quantile ?? 0.8;
   const level = input.level ?? 0.8;
-  const prior = remainingFromBaseline({ logMean: input.baseline.logMean, logSD: input.baseline.logScale, df: input.baseline.df }, input.hoursDone);
+  const prior = remainingFromBaseline(
+    { logMean: input.baseline.logMean, logSD: input.baseline.logScale, df: input.baseline.df },
+    input.hoursDone,
+  );
   let fit: SaturatingExponentialFit | null = null;
   let fitReason: string | null = null;
   if (input.sessions.length >= 3) {
     try {
-      fit = fitSaturatingExponential(input.sessions.map((s) => s.cumulativeHours), input.sessions.map((s) => s.score));
+      fit = fitSaturatingExponential(
+        input.sessions.map((s) => s.cumulativeHours),
+        input.sessions.map((s) => s.score),
+      );
     } catch (e) {
       fitReason = `the curve could not be fitted (${(e as Error).message})`;
     }
@@ -54,7 +60,12 @@ export function progressUpdate(input: ProgressInput): ProgressUpdate {
   let curveWeight = 0;
   let reason: string | null = fitReason;
   if (fit) {
-    const combined = combineRemainingHours({ prior, curve: { fit, threshold: input.threshold, hoursDone: input.hoursDone }, quantile, level });
+    const combined = combineRemainingHours({
+      prior,
+      curve: { fit, threshold: input.threshold, hoursDone: input.hoursDone },
+      quantile,
+      level,
+    });
     status = combined.status;
     logMean = combined.logMean;
     logSD = combined.logSD;
@@ -66,25 +77,51 @@ export function progressUpdate(input: ProgressInput): ProgressUpdate {
     logSD = prior.logSD;
   }
 
-  const curve = fit ? { asymptote: fit.asymptote, start: fit.start, rate: fit.rate, converged: fit.converged, n: fit.n } : null;
+  const curve = fit
+    ? { asymptote: fit.asymptote, start: fit.start, rate: fit.rate, converged: fit.converged, n: fit.n }
+    : null;
   if (status === "review" || logMean === null || logSD === null) {
-    return { status: "review", remainingHours: null, remainingLower: null, remainingUpper: null, remainingPlanningHours: null,
-      curveWeight: 0, reason, beyondForecast: prior.beyondForecast, curve, crossing: null };
+    return {
+      status: "review",
+      remainingHours: null,
+      remainingLower: null,
+      remainingUpper: null,
+      remainingPlanningHours: null,
+      curveWeight: 0,
+      reason,
+      beyondForecast: prior.beyondForecast,
+      curve,
+      crossing: null,
+    };
   }
   const zl = normalQuantile((1 + level) / 2);
   const remainingHours = Math.exp(logMean);
   const remainingLower = Math.exp(logMean - zl * logSD);
   const remainingUpper = Math.exp(logMean + zl * logSD);
   return {
-    status, remainingHours, remainingLower, remainingUpper,
+    status,
+    remainingHours,
+    remainingLower,
+    remainingUpper,
     remainingPlanningHours: Math.exp(logMean + normalQuantile(quantile) * logSD),
-    curveWeight, reason, beyondForecast: prior.beyondForecast, curve,
-    crossing: { hours: input.hoursDone + remainingHours, lower: input.hoursDone + remainingLower, upper: input.hoursDone + remainingUpper },
+    curveWeight,
+    reason,
+    beyondForecast: prior.beyondForecast,
+    curve,
+    crossing: {
+      hours: input.hoursDone + remainingHours,
+      lower: input.hoursDone + remainingLower,
+      upper: input.hoursDone + remainingUpper,
+    },
   };
 }
 
 /** Points of the fitted curve from 0 to `toHours` for charts. */
-export function curvePoints(curve: { asymptote: number; start: number; rate: number }, toHours: number, steps = 60): { hours: number; score: number }[] {
+export function curvePoints(
+  curve: { asymptote: number; start: number; rate: number },
+  toHours: number,
+  steps = 60,
+): { hours: number; score: number }[] {
   const out: { hours: number; score: number }[] = [];
   for (let i = 0; i <= steps; i++) {
     const h = (toHours * i) / steps;

@@ -13,7 +13,10 @@ export const HIDDEN_SYMBOL = "▒";
  * cell up to w is shown, or the column total and every cell after w are shown (total minus the rest).
  * Otherwise it is null (a gap in the chart), never an estimate.
  */
-export function cumulativeFromProtected(table: ProtectedTable): { columns: (number | null)[][]; total: (number | null)[] } {
+export function cumulativeFromProtected(table: ProtectedTable): {
+  columns: (number | null)[][];
+  total: (number | null)[];
+} {
   const m = table.rows.length;
   const series = (values: (number | null)[], total: number | null): (number | null)[] => {
     const out: (number | null)[] = [];
@@ -21,12 +24,18 @@ export function cumulativeFromProtected(table: ProtectedTable): { columns: (numb
       const head = values.slice(0, w + 1);
       const tail = values.slice(w + 1);
       if (head.every((v) => v !== null)) out.push((head as number[]).reduce((a, b) => a + b, 0));
-      else if (total !== null && tail.every((v) => v !== null)) out.push(total - (tail as number[]).reduce((a, b) => a + b, 0));
+      else if (total !== null && tail.every((v) => v !== null))
+        out.push(total - (tail as number[]).reduce((a, b) => a + b, 0));
       else out.push(null);
     }
     return out;
   };
-  const columns = table.columns.map((_, j) => series(table.cells.map((line) => line[j]), table.columnTotals[j]));
+  const columns = table.columns.map((_, j) =>
+    series(
+      table.cells.map((line) => line[j]),
+      table.columnTotals[j],
+    ),
+  );
   const direct = series(table.rowTotals, table.grandTotal);
   // Where the row totals leave a gap but every column's running total is known, their sum is known too.
   const total = direct.map((v, w) => {
@@ -53,8 +62,10 @@ export function transposeProtected(table: ProtectedTable): ProtectedTable {
 /** Counts of hidden numbers in a protected table (cells, totals), for the explanation under it. */
 export function hiddenCount(table: ProtectedTable): { cells: number; totals: number } {
   const cells = table.cells.reduce((n, line) => n + line.filter((v) => v === null).length, 0);
-  const totals = table.rowTotals.filter((v) => v === null).length + table.columnTotals.filter((v) => v === null).length
-    + (table.grandTotal === null ? 1 : 0);
+  const totals =
+    table.rowTotals.filter((v) => v === null).length +
+    table.columnTotals.filter((v) => v === null).length +
+    (table.grandTotal === null ? 1 : 0);
   return { cells, totals };
 }
 
@@ -124,15 +135,23 @@ export function derivedSum(values: (number | null)[]): number | null {
  * row for a whole site, the department row otherwise — so a whole site's total is its published site
  * number rather than a sum that a single hidden department would hide.
  */
-function viewerTotals(org: OrgLayout, pub: OrgPublication, viewer: Viewer): { columns: (number | null)[]; grand: number | null } {
+function viewerTotals(
+  org: OrgLayout,
+  pub: OrgPublication,
+  viewer: Viewer,
+): { columns: (number | null)[]; grand: number | null } {
   const n = pub.detail.columns.length;
   if (viewer.allSites) return { columns: [...pub.detail.columnTotals], grand: pub.detail.grandTotal };
   const whole = new Set(viewer.wholeSites);
   const siteRows = pub.parent.rows.map((_, s) => s).filter((s) => whole.has(org.sites[s].key));
   const deptRows = viewer.departments.filter((i) => !whole.has(org.departments[i].siteKey));
   const columns = Array.from({ length: n }, (_, j) =>
-    derivedSum([...siteRows.map((s) => pub.parent.cells[s][j]), ...deptRows.map((i) => pub.detail.cells[i][j])]));
-  const grand = derivedSum([...siteRows.map((s) => pub.parent.rowTotals[s]), ...deptRows.map((i) => pub.detail.rowTotals[i])]);
+    derivedSum([...siteRows.map((s) => pub.parent.cells[s][j]), ...deptRows.map((i) => pub.detail.cells[i][j])]),
+  );
+  const grand = derivedSum([
+    ...siteRows.map((s) => pub.parent.rowTotals[s]),
+    ...deptRows.map((i) => pub.detail.rowTotals[i]),
+  ]);
   return { columns, grand };
 }
 
@@ -173,7 +192,15 @@ export function siteSlice(org: OrgLayout, pub: OrgPublication, viewer: Viewer): 
     }
   });
   const t = viewerTotals(org, pub, viewer);
-  return { rows, columns: [...pub.detail.columns], cells, rowTotals, columnTotals: t.columns, grandTotal: t.grand, threshold: pub.threshold };
+  return {
+    rows,
+    columns: [...pub.detail.columns],
+    cells,
+    rowTotals,
+    columnTotals: t.columns,
+    grandTotal: t.grand,
+    threshold: pub.threshold,
+  };
 }
 
 /**
@@ -201,8 +228,12 @@ export function columnSlice(table: ProtectedTable, columns: number[]): Protected
  * when that keeps within maxWeeks. Periods are fixed by the whole table (every department), so every
  * viewer sees the same periods. Disclosure control still runs on the result.
  */
-export function mergeWeeks(weeks: string[], counts: number[][], threshold: number, maxWeeks = 4):
-  { periods: { first: string; last: string; weeks: number }[]; counts: number[][] } {
+export function mergeWeeks(
+  weeks: string[],
+  counts: number[][],
+  threshold: number,
+  maxWeeks = 4,
+): { periods: { first: string; last: string; weeks: number }[]; counts: number[][] } {
   const periods: { first: string; last: string; weeks: number }[] = [];
   const merged: number[][] = [];
   const small = (line: number[]) => line.some((v) => v > 0 && v < threshold);
@@ -221,7 +252,11 @@ export function mergeWeeks(weeks: string[], counts: number[][], threshold: numbe
   const k = periods.length - 1;
   if (k > 0 && small(merged[k]) && periods[k - 1].weeks + periods[k].weeks <= maxWeeks) {
     merged[k - 1] = merged[k - 1].map((v, j) => v + merged[k][j]);
-    periods[k - 1] = { first: periods[k - 1].first, last: periods[k].last, weeks: periods[k - 1].weeks + periods[k].weeks };
+    periods[k - 1] = {
+      first: periods[k - 1].first,
+      last: periods[k].last,
+      weeks: periods[k - 1].weeks + periods[k].weeks,
+    };
     periods.pop();
     merged.pop();
   }

@@ -2,7 +2,7 @@
 // (Shrout & Fleiss 1979, Psychological Bulletin 86:420–428), and the standard error of measurement
 // and minimal detectable change that turn a reliability into "is this change real?" (Weir 2005,
 // J Strength Cond Res 19:231–240).
-// @ts-ignore -- jstat ships without type declarations; only normal.inv is used, typed below.
+// @ts-expect-error -- jstat ships without type declarations; only normal.inv is used, typed below.
 import jstatModule from "jstat";
 
 const jstat = jstatModule as { normal: { inv(p: number, mean: number, sd: number): number } };
@@ -34,11 +34,15 @@ function checkRatings(ratings: number[][]): { n: number; k: number } {
   if (k < 2) throw new RangeError(`ratings need at least 2 raters or sessions (columns); got ${k}`);
   ratings.forEach((row, i) => {
     if (!Array.isArray(row) || row.length !== k) {
-      throw new RangeError(`ratings row ${i} has ${Array.isArray(row) ? row.length : 0} values, expected ${k} (the matrix must be complete)`);
+      throw new RangeError(
+        `ratings row ${i} has ${Array.isArray(row) ? row.length : 0} values, expected ${k} (the matrix must be complete)`,
+      );
     }
     row.forEach((v, j) => {
       if (typeof v !== "number" || !Number.isFinite(v)) {
-        throw new RangeError(`ratings[${i}][${j}] is not a finite number (got ${String(v)}); missing values are not supported`);
+        throw new RangeError(
+          `ratings[${i}][${j}] is not a finite number (got ${String(v)}); missing values are not supported`,
+        );
       }
     });
   });
@@ -113,14 +117,17 @@ export function intraclassCorrelation(ratings: number[][], form: IccForm): numbe
       throw new RangeError(`unknown ICC form ${String(form)}; expected one of ${ICC_FORMS.join(", ")}`);
   }
   if (!(denominator !== 0)) {
-    throw new RangeError("ICC is undefined: subjects do not differ and there is no rating error (all mean squares are 0)");
+    throw new RangeError(
+      "ICC is undefined: subjects do not differ and there is no rating error (all mean squares are 0)",
+    );
   }
   return numerator / denominator;
 }
 
 /** SEM = SD · √(1 − r): the typical error of a single measurement, in the measure's unit. */
 export function standardErrorOfMeasurement(sd: number, reliability: number): number {
-  if (typeof sd !== "number" || !Number.isFinite(sd) || sd < 0) throw new RangeError(`sd must be a finite number ≥ 0 (got ${String(sd)})`);
+  if (typeof sd !== "number" || !Number.isFinite(sd) || sd < 0)
+    throw new RangeError(`sd must be a finite number ≥ 0 (got ${String(sd)})`);
   if (typeof reliability !== "number" || !Number.isFinite(reliability) || reliability > 1) {
     throw new RangeError(`reliability must be a finite number ≤ 1 (got ${String(reliability)})`);
   }
@@ -134,7 +141,8 @@ export function standardErrorOfMeasurement(sd: number, reliability: number): num
  * with the given two-sided confidence (z = 1.959963985 at 0.95). √2 because both measurements carry error.
  */
 export function minimalDetectableChange(sem: number, confidence = 0.95): number {
-  if (typeof sem !== "number" || !Number.isFinite(sem) || sem < 0) throw new RangeError(`sem must be a finite number ≥ 0 (got ${String(sem)})`);
+  if (typeof sem !== "number" || !Number.isFinite(sem) || sem < 0)
+    throw new RangeError(`sem must be a finite number ≥ 0 (got ${String(sem)})`);
   if (typeof confidence !== "number" || !(confidence > 0 && confidence < 1)) {
     throw new RangeError(`confidence must be between 0 and 1, exclusive (got ${String(confidence)})`);
   }

@@ -11,18 +11,41 @@
 import type { AllocationAssignment } from "./allocation";
 import { hhmmOf, minutesOf, weekDates } from "./plan-calendar";
 
-export interface CalendarUnit { unitId: number | null; serial: string; bookableHoursPerWeek: number; unavailableDates: string[] }
+export interface CalendarUnit {
+  unitId: number | null;
+  serial: string;
+  bookableHoursPerWeek: number;
+  unavailableDates: string[];
+}
 export interface CalendarDevice {
-  id: string; deviceTypeId: number; siteId: number; name: string; site: string; wearTimeLimitMinutes: number; units: CalendarUnit[];
+  id: string;
+  deviceTypeId: number;
+  siteId: number;
+  name: string;
+  site: string;
+  wearTimeLimitMinutes: number;
+  units: CalendarUnit[];
 }
 export interface CalendarTrainer {
-  id: string; trainerId: number; name: string; email: string | null; traineesPerSession: number; hoursPerWeek: number;
+  id: string;
+  trainerId: number;
+  name: string;
+  email: string | null;
+  traineesPerSession: number;
+  hoursPerWeek: number;
   /** working windows over the horizon, leave days already left out */
   windows: { date: string; start: string; end: string }[];
 }
 export interface CalendarWorker {
-  id: string; workerId: number; name: string; employeeNumber: string; email: string | null; department: string; site: string;
-  maxHoursPerWeek: number; unavailableDates: string[];
+  id: string;
+  workerId: number;
+  name: string;
+  employeeNumber: string;
+  email: string | null;
+  department: string;
+  site: string;
+  maxHoursPerWeek: number;
+  unavailableDates: string[];
 }
 export interface PlanCalendar {
   startDate: string;
@@ -33,17 +56,34 @@ export interface PlanCalendar {
 }
 
 export interface PackedSession {
-  week: number; workerId: string; deviceId: string; trainerId: string; unitId: number | null; serial: string;
-  date: string; start: string; end: string; minutes: number;
+  week: number;
+  workerId: string;
+  deviceId: string;
+  trainerId: string;
+  unitId: number | null;
+  serial: string;
+  date: string;
+  start: string;
+  end: string;
+  minutes: number;
 }
-export interface UnplacedHours { workerId: string; week: number; minutes: number; reason: string }
+export interface UnplacedHours {
+  workerId: string;
+  week: number;
+  minutes: number;
+  reason: string;
+}
 
 const STEP = 15; // minutes between candidate start times
 /** Longest session we book, even where the wear-time limit allows more: two hours with a trainer. */
 export const MAX_SESSION_MINUTES = 120;
 
-interface Interval { from: number; to: number }
-const overlaps = (list: Interval[] | undefined, from: number, to: number) => !!list?.some((i) => from < i.to && i.from < to);
+interface Interval {
+  from: number;
+  to: number;
+}
+const overlaps = (list: Interval[] | undefined, from: number, to: number) =>
+  !!list?.some((i) => from < i.to && i.from < to);
 
 /** Splits minutes into the fewest blocks no longer than `limit`, as equal as possible. */
 export function splitEqual(total: number, limit: number): number[] {
@@ -65,7 +105,10 @@ export function splitFull(total: number, limit: number): number[] {
 type Splitter = (total: number, limit: number) => number[];
 
 /** Packs with both ways of cutting hours into sessions and keeps the one that leaves fewer minutes unplaced. */
-export function packSessions(calendar: PlanCalendar, assignments: AllocationAssignment[]): { sessions: PackedSession[]; unplaced: UnplacedHours[] } {
+export function packSessions(
+  calendar: PlanCalendar,
+  assignments: AllocationAssignment[],
+): { sessions: PackedSession[]; unplaced: UnplacedHours[] } {
   const lost = (r: { unplaced: UnplacedHours[] }) => r.unplaced.reduce((s, u) => s + u.minutes, 0);
   const equal = packWith(calendar, assignments, splitEqual);
   if (lost(equal) === 0) return equal;
@@ -73,25 +116,32 @@ export function packSessions(calendar: PlanCalendar, assignments: AllocationAssi
   return lost(full) < lost(equal) ? full : equal;
 }
 
-function packWith(calendar: PlanCalendar, assignments: AllocationAssignment[], splitMinutes: Splitter): { sessions: PackedSession[]; unplaced: UnplacedHours[] } {
+function packWith(
+  calendar: PlanCalendar,
+  assignments: AllocationAssignment[],
+  splitMinutes: Splitter,
+): { sessions: PackedSession[]; unplaced: UnplacedHours[] } {
   const devices = new Map(calendar.devices.map((d) => [d.id, d]));
   const trainers = new Map(calendar.trainers.map((t) => [t.id, t]));
   const workers = new Map(calendar.workers.map((w) => [w.id, w]));
   const sessions: PackedSession[] = [];
   const unplaced: UnplacedHours[] = [];
-  const ordered = [...assignments].sort((a, b) => a.completionWeek - b.completionWeek || a.workerId.localeCompare(b.workerId, "en", { numeric: true }));
+  const ordered = [...assignments].sort(
+    (a, b) => a.completionWeek - b.completionWeek || a.workerId.localeCompare(b.workerId, "en", { numeric: true }),
+  );
 
   // Hours that do not fit in their week move to the next week (same trainer and device), if they fit there.
   let carried: { workerId: string; deviceId: string; trainerId: string; minutes: number; fromWeek: number }[] = [];
   for (let week = 0; week < calendar.weeks; week++) {
     const dates = weekDates(calendar.startDate, week);
-    const trainerBusy = new Map<string, Interval[]>();           // `${trainer}|${date}`
+    const trainerBusy = new Map<string, Interval[]>(); // `${trainer}|${date}`
     const trainerMinutes = new Map<string, number>();
-    const unitBusy = new Map<string, Interval[]>();              // `${device}#${unitIndex}|${date}`
-    const unitMinutes = new Map<string, number>();               // `${device}#${unitIndex}`
+    const unitBusy = new Map<string, Interval[]>(); // `${device}#${unitIndex}|${date}`
+    const unitMinutes = new Map<string, number>(); // `${device}#${unitIndex}`
     const workerDays = new Map<string, Set<string>>();
     const workerMinutes = new Map<string, number>();
-    const slots: { trainerId: string; deviceId: string; date: string; from: number; to: number; trainees: number }[] = [];
+    const slots: { trainerId: string; deviceId: string; date: string; from: number; to: number; trainees: number }[] =
+      [];
 
     const freeUnit = (dev: CalendarDevice, date: string, from: number, to: number): number => {
       for (let u = 0; u < dev.units.length; u++) {
@@ -104,7 +154,15 @@ function packWith(calendar: PlanCalendar, assignments: AllocationAssignment[], s
       }
       return -1;
     };
-    const book = (dev: CalendarDevice, u: number, trainer: CalendarTrainer, worker: CalendarWorker, date: string, from: number, to: number) => {
+    const book = (
+      dev: CalendarDevice,
+      u: number,
+      trainer: CalendarTrainer,
+      worker: CalendarWorker,
+      date: string,
+      from: number,
+      to: number,
+    ) => {
       const key = `${dev.id}#${u}`;
       unitMinutes.set(key, (unitMinutes.get(key) ?? 0) + (to - from));
       const ub = unitBusy.get(`${key}|${date}`) ?? [];
@@ -115,8 +173,16 @@ function packWith(calendar: PlanCalendar, assignments: AllocationAssignment[], s
       days.add(date);
       workerMinutes.set(worker.id, (workerMinutes.get(worker.id) ?? 0) + (to - from));
       sessions.push({
-        week, workerId: worker.id, deviceId: dev.id, trainerId: trainer.id, unitId: dev.units[u].unitId, serial: dev.units[u].serial,
-        date, start: hhmmOf(from), end: hhmmOf(to), minutes: to - from,
+        week,
+        workerId: worker.id,
+        deviceId: dev.id,
+        trainerId: trainer.id,
+        unitId: dev.units[u].unitId,
+        serial: dev.units[u].serial,
+        date,
+        start: hhmmOf(from),
+        end: hhmmOf(to),
+        minutes: to - from,
       });
     };
 
@@ -129,25 +195,48 @@ function packWith(calendar: PlanCalendar, assignments: AllocationAssignment[], s
       for (const m of splitMinutes(total, limit)) blocks.push({ workerId, deviceId, trainerId, minutes: m, fromWeek });
     };
     for (const c of carried) pushBlocks(c.workerId, c.deviceId, c.trainerId, c.minutes, c.fromWeek);
-    for (const a of ordered) for (const s of a.sessions.filter((x) => x.week === week)) pushBlocks(a.workerId, a.deviceTypeId, s.trainerId, Math.round(s.hours * 60), week);
-    blocks.sort((x, y) => x.trainerId.localeCompare(y.trainerId) || x.deviceId.localeCompare(y.deviceId) || y.minutes - x.minutes || x.fromWeek - y.fromWeek || x.workerId.localeCompare(y.workerId, "en", { numeric: true }));
-    const leftover = new Map<string, { workerId: string; deviceId: string; trainerId: string; minutes: number; fromWeek: number }>();
+    for (const a of ordered)
+      for (const s of a.sessions.filter((x) => x.week === week))
+        pushBlocks(a.workerId, a.deviceTypeId, s.trainerId, Math.round(s.hours * 60), week);
+    blocks.sort(
+      (x, y) =>
+        x.trainerId.localeCompare(y.trainerId) ||
+        x.deviceId.localeCompare(y.deviceId) ||
+        y.minutes - x.minutes ||
+        x.fromWeek - y.fromWeek ||
+        x.workerId.localeCompare(y.workerId, "en", { numeric: true }),
+    );
+    const leftover = new Map<
+      string,
+      { workerId: string; deviceId: string; trainerId: string; minutes: number; fromWeek: number }
+    >();
 
     for (const b of blocks) {
       const dev = devices.get(b.deviceId);
       const worker = workers.get(b.workerId);
       const trainer = trainers.get(b.trainerId);
       if (!dev || !worker || !trainer) {
-        unplaced.push({ workerId: b.workerId, week, minutes: b.minutes, reason: "The plan refers to a device type, worker or trainer that is no longer on file." });
+        unplaced.push({
+          workerId: b.workerId,
+          week,
+          minutes: b.minutes,
+          reason: "The plan refers to a device type, worker or trainer that is no longer on file.",
+        });
         continue;
       }
       const place = (block: number): boolean => {
-        const usable = (date: string) => !worker.unavailableDates.includes(date) && !workerDays.get(worker.id)?.has(date);
+        const usable = (date: string) =>
+          !worker.unavailableDates.includes(date) && !workerDays.get(worker.id)?.has(date);
         let placed = false;
         if ((workerMinutes.get(worker.id) ?? 0) + block <= worker.maxHoursPerWeek * 60 + 1e-9) {
           // 1. join an open slot of the same trainer and device type
           for (const slot of slots) {
-            if (slot.trainerId !== trainer.id || slot.deviceId !== dev.id || slot.trainees >= trainer.traineesPerSession) continue;
+            if (
+              slot.trainerId !== trainer.id ||
+              slot.deviceId !== dev.id ||
+              slot.trainees >= trainer.traineesPerSession
+            )
+              continue;
             if (slot.to - slot.from < block || !usable(slot.date)) continue;
             const u = freeUnit(dev, slot.date, slot.from, slot.from + block);
             if (u < 0) continue;
@@ -189,7 +278,10 @@ function packWith(calendar: PlanCalendar, assignments: AllocationAssignment[], s
       let block = b.minutes;
       if (!placed && b.minutes >= 60) {
         const first = Math.ceil(b.minutes / 2);
-        if (place(first)) { block = b.minutes - first; placed = place(block); }
+        if (place(first)) {
+          block = b.minutes - first;
+          placed = place(block);
+        }
       }
       if (!placed) {
         const key = `${b.workerId}|${b.deviceId}|${b.trainerId}|${b.fromWeek}`;
@@ -205,12 +297,20 @@ function packWith(calendar: PlanCalendar, assignments: AllocationAssignment[], s
         const worker = workers.get(c.workerId)!;
         const trainer = trainers.get(c.trainerId)!;
         unplaced.push({
-          workerId: c.workerId, week: c.fromWeek, minutes: c.minutes,
+          workerId: c.workerId,
+          week: c.fromWeek,
+          minutes: c.minutes,
           reason: `No free time in ${trainer.name}'s working hours with a free ${dev.name} unit at ${dev.site} on a day ${worker.name} is available, from week ${c.fromWeek + 1} to the end of the horizon.`,
         });
       }
     }
   }
-  sessions.sort((x, y) => x.date.localeCompare(y.date) || x.start.localeCompare(y.start) || x.trainerId.localeCompare(y.trainerId) || x.workerId.localeCompare(y.workerId, "en", { numeric: true }));
+  sessions.sort(
+    (x, y) =>
+      x.date.localeCompare(y.date) ||
+      x.start.localeCompare(y.start) ||
+      x.trainerId.localeCompare(y.trainerId) ||
+      x.workerId.localeCompare(y.workerId, "en", { numeric: true }),
+  );
   return { sessions, unplaced };
 }

@@ -1,6 +1,6 @@
 // Typed doorway to jStat's distribution functions. jstat ships no type declarations, so the
 // import is untyped here once and every other module in the core sees plain typed functions.
-// @ts-ignore -- no declaration file for "jstat"
+// @ts-expect-error -- no declaration file for "jstat"
 import jStatLib from "jstat";
 
 interface JStatLike {

@@ -2,13 +2,7 @@
 // The CSV text has already been split into cells (rows of strings, header first); this module only
 // judges the content and says exactly where a file is wrong, so an assessor can fix and re-upload it.
 // Row numbers in messages are 1-based file rows with the header as row 1, as a spreadsheet shows them.
-import {
-  forceGrading,
-  handDimensionality,
-  swayMetrics,
-  timingMetrics,
-  trackingError,
-} from "./features";
+import { forceGrading, handDimensionality, swayMetrics, timingMetrics, trackingError } from "./features";
 
 export type TraceKind = "sway" | "tracking" | "glove" | "timing" | "force";
 export const TRACE_KINDS: readonly TraceKind[] = ["sway", "tracking", "glove", "timing", "force"];
@@ -93,16 +87,24 @@ class IssueList {
     return this.issues.length + this.dropped;
   }
   finish(): TraceIssue[] {
-    if (this.dropped > 0) this.issues.push({ message: `${this.dropped} more problem(s) not listed; fix the ones above and upload again` });
+    if (this.dropped > 0)
+      this.issues.push({ message: `${this.dropped} more problem(s) not listed; fix the ones above and upload again` });
     return this.issues;
   }
 }
 
 const fail = (issues: IssueList): TraceParseFailure => ({ ok: false, errors: issues.finish() });
 
-export function parseTrace<K extends TraceKind>(kind: K, rows: string[][], options: TraceParseOptions = {}): TraceParseResult<K> {
+export function parseTrace<K extends TraceKind>(
+  kind: K,
+  rows: string[][],
+  options: TraceParseOptions = {},
+): TraceParseResult<K> {
   if (!TRACE_KINDS.includes(kind)) {
-    return { ok: false, errors: [{ message: `unknown trace kind "${String(kind)}"; expected one of ${TRACE_KINDS.join(", ")}` }] };
+    return {
+      ok: false,
+      errors: [{ message: `unknown trace kind "${String(kind)}"; expected one of ${TRACE_KINDS.join(", ")}` }],
+    };
   }
   const defaults = TRACE_DEFAULTS[kind];
   const minRows = options.minRows ?? defaults.minRows;
@@ -129,11 +131,20 @@ export function parseTrace<K extends TraceKind>(kind: K, rows: string[][], optio
     if (seen.has(name)) issues.add({ row: 1, column: name, message: `column "${name}" appears more than once` });
     seen.set(name, i);
     if (kind !== "glove" && !required.includes(name)) {
-      issues.add({ row: 1, column: name, message: `unexpected column "${name}"; a ${kind} trace has columns ${required.join(", ")}` });
+      issues.add({
+        row: 1,
+        column: name,
+        message: `unexpected column "${name}"; a ${kind} trace has columns ${required.join(", ")}`,
+      });
     }
   });
   for (const name of required) {
-    if (!seen.has(name)) issues.add({ row: 1, column: name, message: `missing column "${name}"; a ${kind} trace has columns ${describeColumns(kind)}` });
+    if (!seen.has(name))
+      issues.add({
+        row: 1,
+        column: name,
+        message: `missing column "${name}"; a ${kind} trace has columns ${describeColumns(kind)}`,
+      });
   }
   const jointColumns = kind === "glove" ? header.filter((h) => h !== "" && h !== "t") : [];
   if (kind === "glove" && jointColumns.length === 0) {
@@ -149,7 +160,9 @@ export function parseTrace<K extends TraceKind>(kind: K, rows: string[][], optio
     if (cells.every((c) => String(c ?? "").trim() === "")) continue; // blank lines, e.g. the file's last newline
     dataRows.push({ rowNumber: r + 1, cells });
     if (dataRows.length > maxRows) {
-      issues.add({ message: `the trace has more than ${maxRows} data rows, the most accepted; split or downsample the recording` });
+      issues.add({
+        message: `the trace has more than ${maxRows} data rows, the most accepted; split or downsample the recording`,
+      });
       return fail(issues);
     }
   }
@@ -191,10 +204,16 @@ export function parseTrace<K extends TraceKind>(kind: K, rows: string[][], optio
     checkIncreasing(cues, "cue_ms", "cue", issues);
     checkIncreasing(onsets, "onset_ms", "onset", issues);
     if (cues.values.length < Math.max(minRows, 2)) {
-      issues.add({ column: "cue_ms", message: `the trace has ${cues.values.length} cues; at least ${Math.max(minRows, 2)} are needed` });
+      issues.add({
+        column: "cue_ms",
+        message: `the trace has ${cues.values.length} cues; at least ${Math.max(minRows, 2)} are needed`,
+      });
     }
     if (onsets.values.length < 2) {
-      issues.add({ column: "onset_ms", message: `the trace has ${onsets.values.length} response onsets; at least 2 are needed` });
+      issues.add({
+        column: "onset_ms",
+        message: `the trace has ${onsets.values.length} response onsets; at least 2 are needed`,
+      });
     }
     if (issues.count > 0) return fail(issues);
     return { ok: true, kind: "timing", data: { cueMs: cues.values, onsetMs: onsets.values } } as ParsedTrace<K>;
@@ -203,7 +222,11 @@ export function parseTrace<K extends TraceKind>(kind: K, rows: string[][], optio
     const n = dataRows.length;
     if (n < minRows) issues.add({ message: `the trace has ${n} trials; at least ${minRows} are needed` });
     if (issues.count > 0) return fail(issues);
-    return { ok: true, kind: "force", data: { target: columns.get("target")!.values, produced: columns.get("produced")!.values } } as ParsedTrace<K>;
+    return {
+      ok: true,
+      kind: "force",
+      data: { target: columns.get("target")!.values, produced: columns.get("produced")!.values },
+    } as ParsedTrace<K>;
   }
 
   // ── time series: sway, tracking, glove ──
@@ -217,7 +240,10 @@ export function parseTrace<K extends TraceKind>(kind: K, rows: string[][], optio
   if (issues.count > 0) return fail(issues);
   const duration = t.values[n - 1] - t.values[0];
   if (duration < minDuration) {
-    issues.add({ column: "t", message: `the recording lasts ${round(duration)} s; at least ${minDuration} s is needed` });
+    issues.add({
+      column: "t",
+      message: `the recording lasts ${round(duration)} s; at least ${minDuration} s is needed`,
+    });
   }
   const steps = t.values.slice(1).map((v, i) => v - t.values[i]);
   const medianStep = median(steps);
@@ -236,24 +262,39 @@ export function parseTrace<K extends TraceKind>(kind: K, rows: string[][], optio
     if (!(Number.isFinite(declared) && declared > 0)) {
       issues.add({ message: `declared sample rate ${String(declared)} Hz is not a positive number` });
     } else if (Math.abs(declared * medianStep - 1) > tolerance) {
-      issues.add({ column: "t", message: `declared sample rate ${declared} Hz disagrees with the timestamps (about ${round(estimatedRate)} Hz)` });
+      issues.add({
+        column: "t",
+        message: `declared sample rate ${declared} Hz disagrees with the timestamps (about ${round(estimatedRate)} Hz)`,
+      });
     }
   }
   if (issues.count > 0) return fail(issues);
   const sampleRateHz = declared ?? estimatedRate;
 
   if (kind === "sway") {
-    return { ok: true, kind, sampleRateHz, data: { t: t.values, x: columns.get("x")!.values, y: columns.get("y")!.values } } as ParsedTrace<K>;
+    return {
+      ok: true,
+      kind,
+      sampleRateHz,
+      data: { t: t.values, x: columns.get("x")!.values, y: columns.get("y")!.values },
+    } as ParsedTrace<K>;
   }
   if (kind === "tracking") {
     return {
-      ok: true, kind, sampleRateHz,
+      ok: true,
+      kind,
+      sampleRateHz,
       data: { t: t.values, target: columns.get("target")!.values, cursor: columns.get("cursor")!.values },
     } as ParsedTrace<K>;
   }
   const jointValues = jointColumns.map((name) => columns.get(name)!.values);
   const samples = t.values.map((_, r) => jointValues.map((col) => col[r]));
-  return { ok: true, kind: "glove", sampleRateHz, data: { t: t.values, joints: jointColumns, samples } } as ParsedTrace<K>;
+  return {
+    ok: true,
+    kind: "glove",
+    sampleRateHz,
+    data: { t: t.values, joints: jointColumns, samples },
+  } as ParsedTrace<K>;
 }
 
 export interface ComputeTraceOptions {
@@ -265,7 +306,11 @@ export interface ComputeTraceOptions {
  * The baseline measures of a parsed trace as a flat record with stable keys (the keys of
  * MEASURE_DIRECTIONS in features.ts). Throws RangeError when a measure is undefined for the data.
  */
-export function computeTrace(kind: TraceKind, parsed: ParsedTrace, options: ComputeTraceOptions = {}): Record<string, number> {
+export function computeTrace(
+  kind: TraceKind,
+  parsed: ParsedTrace,
+  options: ComputeTraceOptions = {},
+): Record<string, number> {
   if (!parsed || parsed.ok !== true) throw new RangeError("computeTrace needs a successfully parsed trace");
   if (parsed.kind !== kind) throw new RangeError(`trace was parsed as "${parsed.kind}", not "${kind}"`);
   switch (parsed.kind) {
@@ -328,7 +373,12 @@ function describeColumns(kind: TraceKind): string {
   return kind === "glove" ? "t followed by one column per joint angle" : REQUIRED_COLUMNS[kind].join(", ");
 }
 
-function checkIncreasing(column: { values: number[]; rows: number[] }, name: string, what: string, issues: IssueList): void {
+function checkIncreasing(
+  column: { values: number[]; rows: number[] },
+  name: string,
+  what: string,
+  issues: IssueList,
+): void {
   for (let i = 1; i < column.values.length; i++) {
     if (!(column.values[i] > column.values[i - 1])) {
       issues.add({

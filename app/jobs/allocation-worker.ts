@@ -29,6 +29,7 @@ if (!isMainThread && parentPort && (workerData as { limberlyJob?: string } | nul
     },
   }).then(
     (plan) => port.postMessage({ type: "done", plan } satisfies WorkerMessage),
-    (e: unknown) => port.postMessage({ type: "error", message: e instanceof Error ? e.message : String(e) } satisfies WorkerMessage),
+    (e: unknown) =>
+      port.postMessage({ type: "error", message: e instanceof Error ? e.message : String(e) } satisfies WorkerMessage),
   );
 }

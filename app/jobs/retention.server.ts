@@ -3,7 +3,12 @@ import { db } from "~/db.server";
 
 // Retention (DESIGN §4): assessments — with their results and uploaded traces — older than the
 // organisation's retention period are deleted. Runs as `npm run jobs:retention` (schedule it daily).
-export interface PurgeSummary { cutoff: string; assessmentSessions: number; traceUploads: number; results: number }
+export interface PurgeSummary {
+  cutoff: string;
+  assessmentSessions: number;
+  traceUploads: number;
+  results: number;
+}
 
 export function retentionCutoff(today: string, retentionDays: number): string {
   const d = new Date(`${today}T00:00:00.000Z`);

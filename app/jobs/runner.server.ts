@@ -20,7 +20,12 @@ import { ALLOCATION_JOB, type WorkerMessage } from "./allocation-worker";
 
 export const SOLVE_TIME_LIMIT_MS = 30_000;
 
-interface JobState { started: boolean; queue: number[]; busy: boolean; idleWaiters: (() => void)[] }
+interface JobState {
+  started: boolean;
+  queue: number[];
+  busy: boolean;
+  idleWaiters: (() => void)[];
+}
 const g = globalThis as unknown as { __limberlyJobs?: JobState };
 const state: JobState = (g.__limberlyJobs ??= { started: false, queue: [], busy: false, idleWaiters: [] });
 
@@ -43,7 +48,10 @@ export function enqueueRun(id: number): void {
 async function pump(): Promise<void> {
   if (state.busy) return;
   const id = state.queue.shift();
-  if (id === undefined) { for (const w of state.idleWaiters.splice(0)) w(); return; }
+  if (id === undefined) {
+    for (const w of state.idleWaiters.splice(0)) w();
+    return;
+  }
   state.busy = true;
   try {
     await runOne(id);
@@ -60,12 +68,17 @@ async function runOne(id: number): Promise<void> {
   if (!snapshot) return;
   let plan: AllocationPlan;
   try {
-    plan = await solveInWorker(snapshot.problem, (phase, fraction) => { void writeProgress(id, phase, fraction).catch(() => undefined); });
+    plan = await solveInWorker(snapshot.problem, (phase, fraction) => {
+      void writeProgress(id, phase, fraction).catch(() => undefined);
+    });
   } catch (e) {
     if (!(e instanceof WorkerUnavailable)) throw e;
     await writeProgress(id, "solving in-process", 0);
     await new Promise((r) => setImmediate(r));
-    plan = await solveAllocation(snapshot.problem, { timeLimitMs: SOLVE_TIME_LIMIT_MS, clock: () => performance.now() });
+    plan = await solveAllocation(snapshot.problem, {
+      timeLimitMs: SOLVE_TIME_LIMIT_MS,
+      clock: () => performance.now(),
+    });
   }
   await markDone(id, plan);
 }
@@ -78,7 +91,10 @@ function workerTarget(): { file: string; execArgv?: string[] } {
   return { file: path.join(path.dirname(here), "allocation-worker.ts"), execArgv: ["--import", "tsx"] };
 }
 
-function solveInWorker(problem: unknown, onProgress: (phase: string, fraction: number) => void): Promise<AllocationPlan> {
+function solveInWorker(
+  problem: unknown,
+  onProgress: (phase: string, fraction: number) => void,
+): Promise<AllocationPlan> {
   return new Promise((resolve, reject) => {
     let worker: Worker;
     try {
@@ -92,17 +108,37 @@ function solveInWorker(problem: unknown, onProgress: (phase: string, fraction: n
       return;
     }
     let settled = false;
-    const finish = (fn: () => void) => { if (!settled) { settled = true; fn(); void worker.terminate(); } };
+    const finish = (fn: () => void) => {
+      if (!settled) {
+        settled = true;
+        fn();
+        void worker.terminate();
+      }
+    };
     // A hard stop in case the worker never answers: the time limit plus a generous margin for start-up.
-    const guard = setTimeout(() => finish(() => reject(new Error("The solve did not finish in time and was stopped."))), SOLVE_TIME_LIMIT_MS + 60_000);
+    const guard = setTimeout(
+      () => finish(() => reject(new Error("The solve did not finish in time and was stopped."))),
+      SOLVE_TIME_LIMIT_MS + 60_000,
+    );
     guard.unref();
     worker.on("message", (m: WorkerMessage) => {
       if (m.type === "progress") onProgress(m.phase, m.fraction);
-      else if (m.type === "done") { clearTimeout(guard); finish(() => resolve(m.plan as AllocationPlan)); }
-      else if (m.type === "error") { clearTimeout(guard); finish(() => reject(new Error(`The solver failed: ${m.message}`))); }
+      else if (m.type === "done") {
+        clearTimeout(guard);
+        finish(() => resolve(m.plan as AllocationPlan));
+      } else if (m.type === "error") {
+        clearTimeout(guard);
+        finish(() => reject(new Error(`The solver failed: ${m.message}`)));
+      }
     });
-    worker.on("error", (e) => { clearTimeout(guard); finish(() => reject(new Error(`The solver thread failed: ${e.message}`))); });
-    worker.on("exit", (code) => { clearTimeout(guard); finish(() => reject(new Error(`The solver thread ended early (exit code ${code}).`))); });
+    worker.on("error", (e) => {
+      clearTimeout(guard);
+      finish(() => reject(new Error(`The solver thread failed: ${e.message}`)));
+    });
+    worker.on("exit", (code) => {
+      clearTimeout(guard);
+      finish(() => reject(new Error(`The solver thread ended early (exit code ${code}).`)));
+    });
   });
 }
 

@@ -3,7 +3,7 @@ import type { AllocationProblem } from "~/compute/allocation";
 import { addDays, inRange, isoWeekday, minutesOf, weekDates } from "~/compute/plan-calendar";
 import { plannedHoursFromLogScale } from "~/compute/regression";
 import type { CalendarUnit, PlanCalendar } from "~/compute/session-packing";
-import { db, type Db } from "~/db.server";
+import { type Db, db } from "~/db.server";
 import type { RunParameters } from "~/schemas/allocation";
 import { latestConsent } from "./forecast.server";
 import { whereWorkerInScope } from "./workers.server";
@@ -33,13 +33,23 @@ export async function buildProblem(params: RunParameters, scope: Scope, k: Db = 
   const sites = await k("sites").select("id", "name").orderBy("id");
   const siteName = new Map(sites.map((s) => [s.id as number, s.name as string]));
   const allowedSite = (siteId: number) => scope.allSites || scope.siteIds.includes(siteId);
-  const poolSites = params.pool.siteIds.length ? params.pool.siteIds.filter(allowedSite) : sites.map((s) => s.id as number).filter(allowedSite);
-  const deviceTypes = await k("device_types").select("id", "name", "wear_time_limit_minutes", "default_max_hours_per_week").orderBy("id");
+  const poolSites = params.pool.siteIds.length
+    ? params.pool.siteIds.filter(allowedSite)
+    : sites.map((s) => s.id as number).filter(allowedSite);
+  const deviceTypes = await k("device_types")
+    .select("id", "name", "wear_time_limit_minutes", "default_max_hours_per_week")
+    .orderBy("id");
 
   // Devices per site and device type.
-  const units = await k("device_units").whereIn("site_id", poolSites.length ? poolSites : [-1]).select("id", "device_type_id", "site_id", "serial", "status", "bookable_hours_per_week").orderBy("serial");
-  const windows = await k("unit_maintenance_windows").whereIn("device_unit_id", units.map((u) => u.id as number).concat(-1))
-    .where("starts_on", "<=", endDate).where("ends_on", ">=", startDate).select("device_unit_id", "starts_on", "ends_on");
+  const units = await k("device_units")
+    .whereIn("site_id", poolSites.length ? poolSites : [-1])
+    .select("id", "device_type_id", "site_id", "serial", "status", "bookable_hours_per_week")
+    .orderBy("serial");
+  const windows = await k("unit_maintenance_windows")
+    .whereIn("device_unit_id", units.map((u) => u.id as number).concat(-1))
+    .where("starts_on", "<=", endDate)
+    .where("ends_on", ">=", startDate)
+    .select("device_unit_id", "starts_on", "ends_on");
   const deviceId = (dtName: string, site: string) => `${dtName} at ${site}`;
   const calendarDevices: PlanCalendar["devices"] = [];
   const problemDevices: AllocationProblem["deviceTypes"] = [];
@@ -49,57 +59,142 @@ export async function buildProblem(params: RunParameters, scope: Scope, k: Db = 
       const id = deviceId(dt.name, site);
       const mine = units.filter((u) => u.site_id === siteId && u.device_type_id === dt.id && u.status === "in_service");
       const calUnits: CalendarUnit[] = mine.map((u) => ({
-        unitId: u.id as number, serial: u.serial as string, bookableHoursPerWeek: Number(u.bookable_hours_per_week),
-        unavailableDates: allDates.filter((d) => windows.some((w) => w.device_unit_id === u.id && inRange(d, String(w.starts_on).slice(0, 10), String(w.ends_on).slice(0, 10)))),
+        unitId: u.id as number,
+        serial: u.serial as string,
+        bookableHoursPerWeek: Number(u.bookable_hours_per_week),
+        unavailableDates: allDates.filter((d) =>
+          windows.some(
+            (w) =>
+              w.device_unit_id === u.id && inRange(d, String(w.starts_on).slice(0, 10), String(w.ends_on).slice(0, 10)),
+          ),
+        ),
       }));
       for (const add of params.whatIf.addUnits.filter((a) => a.siteId === siteId && a.deviceTypeId === dt.id)) {
-        for (let i = 0; i < add.count; i++) calUnits.push({ unitId: null, serial: `what-if unit ${i + 1}`, bookableHoursPerWeek: add.bookableHoursPerWeek, unavailableDates: [] });
-        notes.push(`What-if: ${add.count} extra ${dt.name} unit${add.count > 1 ? "s" : ""} at ${site}, ${add.bookableHoursPerWeek} bookable h/week each.`);
+        for (let i = 0; i < add.count; i++)
+          calUnits.push({
+            unitId: null,
+            serial: `what-if unit ${i + 1}`,
+            bookableHoursPerWeek: add.bookableHoursPerWeek,
+            unavailableDates: [],
+          });
+        notes.push(
+          `What-if: ${add.count} extra ${dt.name} unit${add.count > 1 ? "s" : ""} at ${site}, ${add.bookableHoursPerWeek} bookable h/week each.`,
+        );
       }
       const hoursPerWeek = Array.from({ length: weeks }, (_, w) => {
         const workdays = weekDates(startDate, w).slice(0, WORKDAYS);
-        return round2(calUnits.reduce((s, u) => s + u.bookableHoursPerWeek * workdays.filter((d) => !u.unavailableDates.includes(d)).length / WORKDAYS, 0));
+        return round2(
+          calUnits.reduce(
+            (s, u) =>
+              s + (u.bookableHoursPerWeek * workdays.filter((d) => !u.unavailableDates.includes(d)).length) / WORKDAYS,
+            0,
+          ),
+        );
       });
-      calendarDevices.push({ id, deviceTypeId: dt.id, siteId, name: dt.name, site, wearTimeLimitMinutes: Number(dt.wear_time_limit_minutes), units: calUnits });
+      calendarDevices.push({
+        id,
+        deviceTypeId: dt.id,
+        siteId,
+        name: dt.name,
+        site,
+        wearTimeLimitMinutes: Number(dt.wear_time_limit_minutes),
+        units: calUnits,
+      });
       problemDevices.push({ id, hoursPerWeek });
     }
   }
-  notes.push("Device hours per week = for each unit in service, its bookable hours × the share of the week's working days (Mon–Fri) it is not in a maintenance window.");
+  notes.push(
+    "Device hours per week = for each unit in service, its bookable hours × the share of the week's working days (Mon–Fri) it is not in a maintenance window.",
+  );
 
   // Trainers at the pool's sites.
-  const trainerRows = await k("trainers as t").join("users as u", "u.id", "t.user_id").whereIn("t.site_id", poolSites.length ? poolSites : [-1])
-    .select("t.id", "t.site_id", "t.hours_per_week", "t.trainees_per_session", "u.display_name", "u.email").orderBy("u.display_name");
+  const trainerRows = await k("trainers as t")
+    .join("users as u", "u.id", "t.user_id")
+    .whereIn("t.site_id", poolSites.length ? poolSites : [-1])
+    .select("t.id", "t.site_id", "t.hours_per_week", "t.trainees_per_session", "u.display_name", "u.email")
+    .orderBy("u.display_name");
   const tIds = trainerRows.map((t) => t.id as number).concat(-1);
   const certs = await k("trainer_certifications").whereIn("trainer_id", tIds).select("trainer_id", "device_type_id");
-  const patterns = await k("trainer_working_pattern").whereIn("trainer_id", tIds).select("trainer_id", "weekday", "start_time", "end_time").orderBy(["trainer_id", "weekday", "start_time"]);
-  const leave = await k("trainer_leave").whereIn("trainer_id", tIds).where("starts_on", "<=", endDate).where("ends_on", ">=", startDate).select("trainer_id", "starts_on", "ends_on");
+  const patterns = await k("trainer_working_pattern")
+    .whereIn("trainer_id", tIds)
+    .select("trainer_id", "weekday", "start_time", "end_time")
+    .orderBy(["trainer_id", "weekday", "start_time"]);
+  const leave = await k("trainer_leave")
+    .whereIn("trainer_id", tIds)
+    .where("starts_on", "<=", endDate)
+    .where("ends_on", ">=", startDate)
+    .select("trainer_id", "starts_on", "ends_on");
   const calendarTrainers: PlanCalendar["trainers"] = [];
   const problemTrainers: AllocationProblem["trainers"] = [];
   const removed = new Set(params.whatIf.removeTrainerIds);
   for (const t of trainerRows) {
-    if (removed.has(t.id)) { notes.push(`What-if: trainer ${t.display_name} left out.`); continue; }
+    if (removed.has(t.id)) {
+      notes.push(`What-if: trainer ${t.display_name} left out.`);
+      continue;
+    }
     const site = siteName.get(t.site_id)!;
-    const dts = certs.filter((c) => c.trainer_id === t.id).map((c) => deviceTypes.find((d) => d.id === c.device_type_id)).filter(Boolean);
-    const onLeave = (d: string) => leave.some((l) => l.trainer_id === t.id && inRange(d, String(l.starts_on).slice(0, 10), String(l.ends_on).slice(0, 10)));
+    const dts = certs
+      .filter((c) => c.trainer_id === t.id)
+      .map((c) => deviceTypes.find((d) => d.id === c.device_type_id))
+      .filter(Boolean);
+    const onLeave = (d: string) =>
+      leave.some(
+        (l) => l.trainer_id === t.id && inRange(d, String(l.starts_on).slice(0, 10), String(l.ends_on).slice(0, 10)),
+      );
     const mine = patterns.filter((p) => p.trainer_id === t.id);
-    const tw = allDates.flatMap((date) => (onLeave(date) ? [] : mine.filter((p) => p.weekday === isoWeekday(date)).map((p) => ({ date, start: p.start_time as string, end: p.end_time as string }))));
+    const tw = allDates.flatMap((date) =>
+      onLeave(date)
+        ? []
+        : mine
+            .filter((p) => p.weekday === isoWeekday(date))
+            .map((p) => ({ date, start: p.start_time as string, end: p.end_time as string })),
+    );
     const hoursPerWeek = Array.from({ length: weeks }, (_, w) => {
       const ds = new Set(weekDates(startDate, w));
-      const pattern = tw.filter((x) => ds.has(x.date)).reduce((s, x) => s + (minutesOf(x.end) - minutesOf(x.start)) / 60, 0);
+      const pattern = tw
+        .filter((x) => ds.has(x.date))
+        .reduce((s, x) => s + (minutesOf(x.end) - minutesOf(x.start)) / 60, 0);
       return round2(Math.min(pattern, Number(t.hours_per_week)));
     });
     const id = t.display_name as string;
-    calendarTrainers.push({ id, trainerId: t.id, name: id, email: t.email ?? null, traineesPerSession: Number(t.trainees_per_session), hoursPerWeek: Number(t.hours_per_week), windows: tw });
-    problemTrainers.push({ id, deviceTypeIds: dts.map((d) => deviceId(d!.name, site)), hoursPerWeek, traineesPerSession: Number(t.trainees_per_session) });
+    calendarTrainers.push({
+      id,
+      trainerId: t.id,
+      name: id,
+      email: t.email ?? null,
+      traineesPerSession: Number(t.trainees_per_session),
+      hoursPerWeek: Number(t.hours_per_week),
+      windows: tw,
+    });
+    problemTrainers.push({
+      id,
+      deviceTypeIds: dts.map((d) => deviceId(d!.name, site)),
+      hoursPerWeek,
+      traineesPerSession: Number(t.trainees_per_session),
+    });
     if (mine.length === 0) notes.push(`Trainer ${id} has no weekly working pattern on file, so no hours.`);
   }
-  notes.push("Trainer hours per week = the hours of their weekly working pattern on days not on leave, at most their contracted hours per week; a trainer supervises up to their trainees-per-session at once.");
+  notes.push(
+    "Trainer hours per week = the hours of their weekly working pattern on days not on leave, at most their contracted hours per week; a trainer supervises up to their trainees-per-session at once.",
+  );
 
   // The pool: workers in scope and the chosen sites/departments with planning consent in force and a forecast
   // from an approved model version.
-  const wq = k("workers").join("sites as s", "s.id", "workers.site_id").join("departments as d", "d.id", "workers.department_id")
+  const wq = k("workers")
+    .join("sites as s", "s.id", "workers.site_id")
+    .join("departments as d", "d.id", "workers.department_id")
     .whereIn("workers.site_id", poolSites.length ? poolSites : [-1])
-    .select("workers.id", "workers.employee_number", "workers.given_name", "workers.family_name", "workers.email", "workers.site_id", "workers.department_id", "s.name as site", "d.name as department")
+    .select(
+      "workers.id",
+      "workers.employee_number",
+      "workers.given_name",
+      "workers.family_name",
+      "workers.email",
+      "workers.site_id",
+      "workers.department_id",
+      "s.name as site",
+      "d.name as department",
+    )
     .orderBy("workers.employee_number");
   if (params.pool.departmentIds.length) wq.whereIn("workers.department_id", params.pool.departmentIds);
   whereWorkerInScope(wq, scope);
@@ -112,11 +207,28 @@ export async function buildProblem(params: RunParameters, scope: Scope, k: Db = 
   const wleave: Record<string, any>[] = [];
   for (let i = 0; i < ids.length; i += 500) {
     const chunk = ids.slice(i, i + 500);
-    forecasts.push(...await k("forecasts as f").join("model_versions as m", "m.id", "f.model_version_id").whereIn("f.worker_id", chunk).where("m.status", "approved")
-      .select("f.worker_id", "f.device_type_id", "f.log_mean", "f.log_scale", "f.df", "f.hours_done"));
-    courses.push(...await k("device_courses").whereIn("worker_id", chunk).select("worker_id", "device_type_id", "status"));
-    fields.push(...await k("worker_training_fields").whereIn("worker_id", chunk).select("worker_id", "max_hours_per_week", "priority"));
-    wleave.push(...await k("worker_leave").whereIn("worker_id", chunk).where("starts_on", "<=", endDate).where("ends_on", ">=", startDate).select("worker_id", "starts_on", "ends_on"));
+    forecasts.push(
+      ...(await k("forecasts as f")
+        .join("model_versions as m", "m.id", "f.model_version_id")
+        .whereIn("f.worker_id", chunk)
+        .where("m.status", "approved")
+        .select("f.worker_id", "f.device_type_id", "f.log_mean", "f.log_scale", "f.df", "f.hours_done")),
+    );
+    courses.push(
+      ...(await k("device_courses").whereIn("worker_id", chunk).select("worker_id", "device_type_id", "status")),
+    );
+    fields.push(
+      ...(await k("worker_training_fields")
+        .whereIn("worker_id", chunk)
+        .select("worker_id", "max_hours_per_week", "priority")),
+    );
+    wleave.push(
+      ...(await k("worker_leave")
+        .whereIn("worker_id", chunk)
+        .where("starts_on", "<=", endDate)
+        .where("ends_on", ">=", startDate)
+        .select("worker_id", "starts_on", "ends_on")),
+    );
   }
   const excluded: ProblemSnapshot["excluded"] = [];
   const problemWorkers: AllocationProblem["workers"] = [];
@@ -125,36 +237,100 @@ export async function buildProblem(params: RunParameters, scope: Scope, k: Db = 
     const name = `${w.given_name} ${w.family_name}`;
     if (consent.get(w.id) !== "given") continue; // outside the pool by definition; not listed (no planning consent)
     const mineCourses = courses.filter((c) => c.worker_id === w.id);
-    if (mineCourses.some((c) => c.status === "training" || c.status === "paused")) { excluded.push({ workerId: w.id, name, reason: "Already in training (or paused) on a device; the trainer's schedule continues." }); continue; }
-    if (!params.pool.includeProficientElsewhere && mineCourses.some((c) => c.status === "proficient")) { excluded.push({ workerId: w.id, name, reason: "Already proficient on a device (the pool leaves them out unless you include them)." }); continue; }
-    const mine = forecasts.filter((f) => f.worker_id === w.id && !mineCourses.some((c) => c.device_type_id === f.device_type_id && c.status === "proficient"));
-    if (mine.length === 0) { excluded.push({ workerId: w.id, name, reason: "No forecast from an approved model yet." }); continue; }
+    if (mineCourses.some((c) => c.status === "training" || c.status === "paused")) {
+      excluded.push({
+        workerId: w.id,
+        name,
+        reason: "Already in training (or paused) on a device; the trainer's schedule continues.",
+      });
+      continue;
+    }
+    if (!params.pool.includeProficientElsewhere && mineCourses.some((c) => c.status === "proficient")) {
+      excluded.push({
+        workerId: w.id,
+        name,
+        reason: "Already proficient on a device (the pool leaves them out unless you include them).",
+      });
+      continue;
+    }
+    const mine = forecasts.filter(
+      (f) =>
+        f.worker_id === w.id &&
+        !mineCourses.some((c) => c.device_type_id === f.device_type_id && c.status === "proficient"),
+    );
+    if (mine.length === 0) {
+      excluded.push({ workerId: w.id, name, reason: "No forecast from an approved model yet." });
+      continue;
+    }
     const f = fields.find((x) => x.worker_id === w.id);
     const site = w.site as string;
     const options = mine.map((fc) => {
       const dt = deviceTypes.find((d) => d.id === fc.device_type_id)!;
-      const total = plannedHoursFromLogScale(Number(fc.log_mean), Number(fc.log_scale), Number(fc.df), { quantile: params.planningQuantile }).planningHours;
-      return { deviceTypeId: deviceId(dt.name, site), hoursNeeded: round2(Math.max(0.5, total - Number(fc.hours_done ?? 0))), dtMax: Number(dt.default_max_hours_per_week) };
+      const total = plannedHoursFromLogScale(Number(fc.log_mean), Number(fc.log_scale), Number(fc.df), {
+        quantile: params.planningQuantile,
+      }).planningHours;
+      return {
+        deviceTypeId: deviceId(dt.name, site),
+        hoursNeeded: round2(Math.max(0.5, total - Number(fc.hours_done ?? 0))),
+        dtMax: Number(dt.default_max_hours_per_week),
+      };
     });
-    const maxHoursPerWeek = f?.max_hours_per_week != null ? Number(f.max_hours_per_week) : Math.min(...options.map((o) => o.dtMax));
-    const leaveDates = allDates.filter((d) => wleave.some((l) => l.worker_id === w.id && inRange(d, String(l.starts_on).slice(0, 10), String(l.ends_on).slice(0, 10))));
-    const availableWeeks = Array.from({ length: weeks }, (_, i) => i).filter((i) => !weekDates(startDate, i).slice(0, WORKDAYS).some((d) => leaveDates.includes(d)));
+    const maxHoursPerWeek =
+      f?.max_hours_per_week != null ? Number(f.max_hours_per_week) : Math.min(...options.map((o) => o.dtMax));
+    const leaveDates = allDates.filter((d) =>
+      wleave.some(
+        (l) => l.worker_id === w.id && inRange(d, String(l.starts_on).slice(0, 10), String(l.ends_on).slice(0, 10)),
+      ),
+    );
+    const availableWeeks = Array.from({ length: weeks }, (_, i) => i).filter(
+      (i) =>
+        !weekDates(startDate, i)
+          .slice(0, WORKDAYS)
+          .some((d) => leaveDates.includes(d)),
+    );
     const wid = String(w.id);
     problemWorkers.push({
-      id: wid, group: `${site} · ${w.department}`, priority: f ? Number(f.priority) : 1,
-      options: options.map(({ deviceTypeId, hoursNeeded }) => ({ deviceTypeId, hoursNeeded })), maxHoursPerWeek,
+      id: wid,
+      group: `${site} · ${w.department}`,
+      priority: f ? Number(f.priority) : 1,
+      options: options.map(({ deviceTypeId, hoursNeeded }) => ({ deviceTypeId, hoursNeeded })),
+      maxHoursPerWeek,
       ...(availableWeeks.length < weeks ? { availableWeeks } : {}),
     });
-    calendarWorkers.push({ id: wid, workerId: w.id, name, employeeNumber: w.employee_number, email: w.email ?? null, department: w.department, site, maxHoursPerWeek, unavailableDates: leaveDates });
+    calendarWorkers.push({
+      id: wid,
+      workerId: w.id,
+      name,
+      employeeNumber: w.employee_number,
+      email: w.email ?? null,
+      department: w.department,
+      site,
+      maxHoursPerWeek,
+      unavailableDates: leaveDates,
+    });
   }
-  notes.push(`Hours needed = the forecast's ${Math.round(params.planningQuantile * 100)}th percentile of total hours (from the approved model version), less hours already logged.`);
-  notes.push("Max hours per week = the coordinator's setting for the worker, else the strictest default among the device types that fit them. A week with leave on a working day is not available.");
-  if (params.fairnessShare > 0) notes.push(`Fairness: each department (per site) gets at least ⌊${Math.round(params.fairnessShare * 100)} % × its pool size⌋ workers ready, where capacity allows.`);
+  notes.push(
+    `Hours needed = the forecast's ${Math.round(params.planningQuantile * 100)}th percentile of total hours (from the approved model version), less hours already logged.`,
+  );
+  notes.push(
+    "Max hours per week = the coordinator's setting for the worker, else the strictest default among the device types that fit them. A week with leave on a working day is not available.",
+  );
+  if (params.fairnessShare > 0)
+    notes.push(
+      `Fairness: each department (per site) gets at least ⌊${Math.round(params.fairnessShare * 100)} % × its pool size⌋ workers ready, where capacity allows.`,
+    );
 
   return {
-    problem: { weeks, deviceTypes: problemDevices, trainers: problemTrainers, workers: problemWorkers, minimumSharePerGroup: params.fairnessShare },
+    problem: {
+      weeks,
+      deviceTypes: problemDevices,
+      trainers: problemTrainers,
+      workers: problemWorkers,
+      minimumSharePerGroup: params.fairnessShare,
+    },
     calendar: { startDate, weeks, devices: calendarDevices, trainers: calendarTrainers, workers: calendarWorkers },
-    notes, excluded,
+    notes,
+    excluded,
   };
 }
 

@@ -6,9 +6,9 @@ import { createEvents, type EventAttributes } from "ics";
 
 export interface CalendarSession {
   uid: string;
-  date: string;          // YYYY-MM-DD
-  start: string;         // HH:MM
-  end: string;           // HH:MM
+  date: string; // YYYY-MM-DD
+  start: string; // HH:MM
+  end: string; // HH:MM
   title: string;
   description: string;
   location: string;
@@ -24,13 +24,25 @@ function parts(date: string, hhmm: string): [number, number, number, number, num
 export function icsFile(sessions: CalendarSession[], options: { calName: string; cancel?: boolean }): string {
   const events: EventAttributes[] = sessions.map((s) => ({
     uid: s.uid,
-    start: parts(s.date, s.start), startInputType: "local", startOutputType: "local",
-    end: parts(s.date, s.end), endInputType: "local", endOutputType: "local",
-    title: s.title, description: s.description, location: s.location,
-    status: options.cancel ? "CANCELLED" : "CONFIRMED", busyStatus: "BUSY",
-    productId: "limberly/allocation", sequence: options.cancel ? 1 : 0,
+    start: parts(s.date, s.start),
+    startInputType: "local",
+    startOutputType: "local",
+    end: parts(s.date, s.end),
+    endInputType: "local",
+    endOutputType: "local",
+    title: s.title,
+    description: s.description,
+    location: s.location,
+    status: options.cancel ? "CANCELLED" : "CONFIRMED",
+    busyStatus: "BUSY",
+    productId: "limberly/allocation",
+    sequence: options.cancel ? 1 : 0,
   }));
-  const { error, value } = createEvents(events, { productId: "limberly/allocation", method: options.cancel ? "CANCEL" : "PUBLISH", calName: options.calName });
+  const { error, value } = createEvents(events, {
+    productId: "limberly/allocation",
+    method: options.cancel ? "CANCEL" : "PUBLISH",
+    calName: options.calName,
+  });
   if (error || !value) throw new Error(`Could not write the calendar file: ${error?.message ?? "no output"}`);
   return value;
 }

@@ -6,18 +6,48 @@ export const CONSENT_PURPOSES: ConsentPurpose[] = ["assessment", "planning", "mo
 export class DuplicateVersionError extends Error {}
 
 export async function listConsentTexts() {
-  const rows = await db()("consent_text_versions as c").leftJoin("users as u", "u.id", "c.created_by")
-    .select("c.id", "c.purpose", "c.version", "c.body", "c.effective_from", "c.created_at", "u.display_name as created_by")
-    .orderBy([{ column: "c.purpose" }, { column: "c.effective_from", order: "desc" }, { column: "c.id", order: "desc" }]);
+  const rows = await db()("consent_text_versions as c")
+    .leftJoin("users as u", "u.id", "c.created_by")
+    .select(
+      "c.id",
+      "c.purpose",
+      "c.version",
+      "c.body",
+      "c.effective_from",
+      "c.created_at",
+      "u.display_name as created_by",
+    )
+    .orderBy([
+      { column: "c.purpose" },
+      { column: "c.effective_from", order: "desc" },
+      { column: "c.id", order: "desc" },
+    ]);
   return rows.map((r) => ({ ...r, effective_from: String(r.effective_from).slice(0, 10) }));
 }
 
-export async function createConsentText(v: { purpose: ConsentPurpose; version: string; effectiveFrom: string; body: string; createdBy: number }) {
+export async function createConsentText(v: {
+  purpose: ConsentPurpose;
+  version: string;
+  effectiveFrom: string;
+  body: string;
+  createdBy: number;
+}) {
   return db().transaction(async (trx) => {
     if (await trx("consent_text_versions").where({ purpose: v.purpose, version: v.version }).first("id")) {
-      throw new DuplicateVersionError(`Version ${v.version} of the ${v.purpose} text already exists; texts are never edited, add a new version.`);
+      throw new DuplicateVersionError(
+        `Version ${v.version} of the ${v.purpose} text already exists; texts are never edited, add a new version.`,
+      );
     }
-    const [r] = await trx("consent_text_versions").insert({ purpose: v.purpose, version: v.version, body: v.body, effective_from: v.effectiveFrom, created_by: v.createdBy, created_at: new Date().toISOString() }).returning("id");
+    const [r] = await trx("consent_text_versions")
+      .insert({
+        purpose: v.purpose,
+        version: v.version,
+        body: v.body,
+        effective_from: v.effectiveFrom,
+        created_by: v.createdBy,
+        created_at: new Date().toISOString(),
+      })
+      .returning("id");
     return r.id as number;
   });
 }

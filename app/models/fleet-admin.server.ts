@@ -8,22 +8,65 @@ import { db } from "~/db.server";
 const unitSites = (scope: Scope) => (scope.allSites ? null : scope.siteIds.length ? scope.siteIds : [-1]);
 
 export async function fleetAdminView(scope: Scope) {
-  const types = await db()("device_types").select("id", "code", "name", "category", "description", "fit_rules", "wear_time_limit_minutes", "default_max_hours_per_week").orderBy("name");
-  const uq = db()("device_units as u").join("sites as s", "s.id", "u.site_id").select("u.id", "u.device_type_id", "u.serial", "u.status", "u.bookable_hours_per_week", "u.site_id", "s.name as site").orderBy("u.serial");
+  const types = await db()("device_types")
+    .select(
+      "id",
+      "code",
+      "name",
+      "category",
+      "description",
+      "fit_rules",
+      "wear_time_limit_minutes",
+      "default_max_hours_per_week",
+    )
+    .orderBy("name");
+  const uq = db()("device_units as u")
+    .join("sites as s", "s.id", "u.site_id")
+    .select(
+      "u.id",
+      "u.device_type_id",
+      "u.serial",
+      "u.status",
+      "u.bookable_hours_per_week",
+      "u.site_id",
+      "s.name as site",
+    )
+    .orderBy("u.serial");
   const sites = unitSites(scope);
   if (sites) uq.whereIn("u.site_id", sites);
   const units = await uq;
-  const windows = await db()("unit_maintenance_windows").whereIn("device_unit_id", units.map((u) => u.id as number).concat(-1)).select("id", "device_unit_id", "starts_on", "ends_on", "reason").orderBy("starts_on");
+  const windows = await db()("unit_maintenance_windows")
+    .whereIn("device_unit_id", units.map((u) => u.id as number).concat(-1))
+    .select("id", "device_unit_id", "starts_on", "ends_on", "reason")
+    .orderBy("starts_on");
   return types.map((t) => {
     const mine = units.filter((u) => u.device_type_id === t.id);
     return {
-      id: t.id as number, code: t.code as string, name: t.name as string, category: t.category as string, description: (t.description as string) ?? "",
-      fitRules: (t.fit_rules as string) ?? "", wearTimeLimitMinutes: Number(t.wear_time_limit_minutes), defaultMaxHoursPerWeek: Number(t.default_max_hours_per_week),
-      bookableHoursPerWeek: mine.filter((u) => u.status === "in_service").reduce((s, u) => s + Number(u.bookable_hours_per_week), 0),
+      id: t.id as number,
+      code: t.code as string,
+      name: t.name as string,
+      category: t.category as string,
+      description: (t.description as string) ?? "",
+      fitRules: (t.fit_rules as string) ?? "",
+      wearTimeLimitMinutes: Number(t.wear_time_limit_minutes),
+      defaultMaxHoursPerWeek: Number(t.default_max_hours_per_week),
+      bookableHoursPerWeek: mine
+        .filter((u) => u.status === "in_service")
+        .reduce((s, u) => s + Number(u.bookable_hours_per_week), 0),
       units: mine.map((u) => ({
-        id: u.id as number, serial: u.serial as string, site: u.site as string, status: u.status as "in_service" | "maintenance" | "retired",
+        id: u.id as number,
+        serial: u.serial as string,
+        site: u.site as string,
+        status: u.status as "in_service" | "maintenance" | "retired",
         bookableHoursPerWeek: Number(u.bookable_hours_per_week),
-        maintenance: windows.filter((w) => w.device_unit_id === u.id).map((w) => ({ id: w.id as number, startsOn: String(w.starts_on).slice(0, 10), endsOn: String(w.ends_on).slice(0, 10), reason: (w.reason as string) ?? "" })),
+        maintenance: windows
+          .filter((w) => w.device_unit_id === u.id)
+          .map((w) => ({
+            id: w.id as number,
+            startsOn: String(w.starts_on).slice(0, 10),
+            endsOn: String(w.ends_on).slice(0, 10),
+            reason: (w.reason as string) ?? "",
+          })),
       })),
     };
   });
@@ -33,24 +76,47 @@ export class FleetError extends Error {}
 
 async function unitInScope(scope: Scope, unitId: number) {
   const u = await db()("device_units").where({ id: unitId }).first("id", "site_id");
-  if (!u || (!scope.allSites && !scope.siteIds.includes(u.site_id))) throw new FleetError("No such unit at your sites.");
+  if (!u || (!scope.allSites && !scope.siteIds.includes(u.site_id)))
+    throw new FleetError("No such unit at your sites.");
   return u;
 }
 
-export async function updateDeviceType(_p: Principal, id: number, v: { wearTimeLimitMinutes: number; defaultMaxHoursPerWeek: number; fitRules: string | null }) {
-  const n = await db()("device_types").where({ id }).update({ wear_time_limit_minutes: v.wearTimeLimitMinutes, default_max_hours_per_week: v.defaultMaxHoursPerWeek, fit_rules: v.fitRules });
+export async function updateDeviceType(
+  _p: Principal,
+  id: number,
+  v: { wearTimeLimitMinutes: number; defaultMaxHoursPerWeek: number; fitRules: string | null },
+) {
+  const n = await db()("device_types")
+    .where({ id })
+    .update({
+      wear_time_limit_minutes: v.wearTimeLimitMinutes,
+      default_max_hours_per_week: v.defaultMaxHoursPerWeek,
+      fit_rules: v.fitRules,
+    });
   if (!n) throw new FleetError("No such device type.");
 }
 
 export async function updateUnit(p: Principal, id: number, v: { status: string; bookableHoursPerWeek: number }) {
   await unitInScope(p.scope, id);
-  await db()("device_units").where({ id }).update({ status: v.status, bookable_hours_per_week: v.bookableHoursPerWeek });
+  await db()("device_units")
+    .where({ id })
+    .update({ status: v.status, bookable_hours_per_week: v.bookableHoursPerWeek });
 }
 
-export async function addMaintenance(p: Principal, unitId: number, v: { startsOn: string; endsOn: string; reason: string | null }) {
+export async function addMaintenance(
+  p: Principal,
+  unitId: number,
+  v: { startsOn: string; endsOn: string; reason: string | null },
+) {
   await unitInScope(p.scope, unitId);
-  await db()("unit_maintenance_windows").insert({ device_unit_id: unitId, starts_on: v.startsOn, ends_on: v.endsOn, reason: v.reason,
-    created_by: p.kind === "user" ? p.user.id : null, created_at: new Date().toISOString() });
+  await db()("unit_maintenance_windows").insert({
+    device_unit_id: unitId,
+    starts_on: v.startsOn,
+    ends_on: v.endsOn,
+    reason: v.reason,
+    created_by: p.kind === "user" ? p.user.id : null,
+    created_at: new Date().toISOString(),
+  });
 }
 
 export async function removeMaintenance(p: Principal, windowId: number) {
@@ -63,14 +129,23 @@ export async function removeMaintenance(p: Principal, windowId: number) {
 /** Device types and sites for the run form's what-if choices. */
 export async function planningChoices(scope: Scope) {
   const sites = await db()("sites").select("id", "name").orderBy("id");
-  const departments = await db()("departments as d").join("sites as s", "s.id", "d.site_id").select("d.id", "d.name", "d.site_id", "s.name as site").orderBy(["d.site_id", "d.name"]);
+  const departments = await db()("departments as d")
+    .join("sites as s", "s.id", "d.site_id")
+    .select("d.id", "d.name", "d.site_id", "s.name as site")
+    .orderBy(["d.site_id", "d.name"]);
   const types = await db()("device_types").select("id", "name").orderBy("name");
-  const tq = db()("trainers as t").join("users as u", "u.id", "t.user_id").join("sites as s", "s.id", "t.site_id").select("t.id", "u.display_name", "s.name as site", "t.site_id").orderBy("u.display_name");
+  const tq = db()("trainers as t")
+    .join("users as u", "u.id", "t.user_id")
+    .join("sites as s", "s.id", "t.site_id")
+    .select("t.id", "u.display_name", "s.name as site", "t.site_id")
+    .orderBy("u.display_name");
   if (!scope.allSites) tq.whereIn("t.site_id", scope.siteIds.length ? scope.siteIds : [-1]);
   const inScope = (siteId: number) => scope.allSites || scope.siteIds.includes(siteId);
   return {
     sites: sites.filter((s) => inScope(s.id)).map((s) => ({ id: s.id as number, name: s.name as string })),
-    departments: departments.filter((d) => inScope(d.site_id)).map((d) => ({ id: d.id as number, name: `${d.site} · ${d.name}` })),
+    departments: departments
+      .filter((d) => inScope(d.site_id))
+      .map((d) => ({ id: d.id as number, name: `${d.site} · ${d.name}` })),
     deviceTypes: types.map((t) => ({ id: t.id as number, name: t.name as string })),
     trainers: (await tq).map((t) => ({ id: t.id as number, name: `${t.display_name} (${t.site})` })),
   };
@@ -79,7 +154,11 @@ export async function planningChoices(scope: Scope) {
 /** Names of trainers, device types and sites by id (for describing run parameters). */
 export async function nameMaps() {
   return {
-    trainers: new Map((await db()("trainers as t").join("users as u", "u.id", "t.user_id").select("t.id", "u.display_name")).map((t) => [t.id as number, t.display_name as string])),
+    trainers: new Map(
+      (await db()("trainers as t").join("users as u", "u.id", "t.user_id").select("t.id", "u.display_name")).map(
+        (t) => [t.id as number, t.display_name as string],
+      ),
+    ),
     devices: new Map((await db()("device_types").select("id", "name")).map((d) => [d.id as number, d.name as string])),
     sites: new Map((await db()("sites").select("id", "name")).map((s) => [s.id as number, s.name as string])),
   };

@@ -3,9 +3,9 @@ import type { Principal } from "~/auth/guard.server";
 import type { Scope } from "~/auth/scope";
 import { MEASURE_DIRECTIONS } from "~/compute/features";
 import { forecastFromModel, type StoredModel } from "~/compute/forecast-explain";
-import { progressUpdate, type ProgressUpdate } from "~/compute/progress-update";
-import { db, type Db } from "~/db.server";
-import { workerForecastSchema, type DeviceForecast, type WorkerForecast } from "~/schemas/forecast";
+import { type ProgressUpdate, progressUpdate } from "~/compute/progress-update";
+import { type Db, db } from "~/db.server";
+import { type DeviceForecast, type WorkerForecast, workerForecastSchema } from "~/schemas/forecast";
 import type { TableQuery } from "~/schemas/table-query";
 import { paged } from "./paging.server";
 import { whereWorkerInScope } from "./workers.server";
@@ -24,11 +24,18 @@ export function labelFor(code: string, name?: string | null): string {
 type Purpose = "assessment" | "planning" | "model";
 
 /** The consent in force per worker for one purpose: the latest record decides. */
-export async function latestConsent(k: Db, workerIds: number[], purpose: Purpose): Promise<Map<number, "given" | "withdrawn">> {
+export async function latestConsent(
+  k: Db,
+  workerIds: number[],
+  purpose: Purpose,
+): Promise<Map<number, "given" | "withdrawn">> {
   const out = new Map<number, "given" | "withdrawn">();
   for (let i = 0; i < workerIds.length; i += 500) {
-    const rows = await k("consent_records").whereIn("worker_id", workerIds.slice(i, i + 500)).where({ purpose })
-      .select("worker_id", "status").orderBy("id");
+    const rows = await k("consent_records")
+      .whereIn("worker_id", workerIds.slice(i, i + 500))
+      .where({ purpose })
+      .select("worker_id", "status")
+      .orderBy("id");
     for (const r of rows) out.set(r.worker_id, r.status);
   }
   return out;
@@ -39,14 +46,21 @@ export async function latestConsent(k: Db, workerIds: number[], purpose: Purpose
  * cutoff date (none = any date). Positive = better (DESIGN §3.1).
  */
 export async function baselineZScores(
-  k: Db, workerIds: number[], measureIds: number[], cutoffs?: Map<number, string | null>,
+  k: Db,
+  workerIds: number[],
+  measureIds: number[],
+  cutoffs?: Map<number, string | null>,
 ): Promise<Map<number, Map<number, number>>> {
   const out = new Map<number, Map<number, number>>();
   if (workerIds.length === 0 || measureIds.length === 0) return out;
   for (let i = 0; i < workerIds.length; i += 500) {
-    const rows = await k("assessment_results as r").join("assessment_sessions as s", "s.id", "r.session_id")
-      .whereIn("s.worker_id", workerIds.slice(i, i + 500)).whereIn("r.measure_id", measureIds).whereNotNull("r.z_score")
-      .select("s.worker_id", "r.measure_id", "r.z_score", "s.assessed_on").orderBy([{ column: "s.assessed_on" }, { column: "s.id" }]);
+    const rows = await k("assessment_results as r")
+      .join("assessment_sessions as s", "s.id", "r.session_id")
+      .whereIn("s.worker_id", workerIds.slice(i, i + 500))
+      .whereIn("r.measure_id", measureIds)
+      .whereNotNull("r.z_score")
+      .select("s.worker_id", "r.measure_id", "r.z_score", "s.assessed_on")
+      .orderBy([{ column: "s.assessed_on" }, { column: "s.id" }]);
     for (const r of rows) {
       const cutoff = cutoffs?.get(r.worker_id);
       if (cutoff && String(r.assessed_on).slice(0, 10) > cutoff) continue;
@@ -59,27 +73,48 @@ export async function baselineZScores(
 }
 
 export interface ApprovedModel {
-  id: number; versionNumber: number; approvedAt: string | null; cohortSize: number; loocvMaeHours: number; loocvCoverage80: number;
-  measureIds: number[]; measures: { code: string; label: string }[]; model: StoredModel;
+  id: number;
+  versionNumber: number;
+  approvedAt: string | null;
+  cohortSize: number;
+  loocvMaeHours: number;
+  loocvCoverage80: number;
+  measureIds: number[];
+  measures: { code: string; label: string }[];
+  model: StoredModel;
 }
 
 export async function loadApprovedModel(k: Db, deviceTypeId: number): Promise<ApprovedModel | null> {
-  const v = await k("model_versions").where({ device_type_id: deviceTypeId, status: "approved" }).orderBy("version_number", "desc").first();
+  const v = await k("model_versions")
+    .where({ device_type_id: deviceTypeId, status: "approved" })
+    .orderBy("version_number", "desc")
+    .first();
   return v ? toApprovedModel(k, v) : null;
 }
 
 async function toApprovedModel(k: Db, v: Record<string, any>): Promise<ApprovedModel> {
   const measureIds: number[] = JSON.parse(v.measure_ids);
   const codes: string[] = JSON.parse(v.measure_codes);
-  const names = new Map((await k("measures").whereIn("id", measureIds).select("id", "name")).map((m) => [m.id as number, m.name as string]));
+  const names = new Map(
+    (await k("measures").whereIn("id", measureIds).select("id", "name")).map((m) => [m.id as number, m.name as string]),
+  );
   const std = JSON.parse(v.standardisation) as { means: number[]; sds: number[] };
   return {
-    id: v.id, versionNumber: v.version_number, approvedAt: v.approved_at ? String(v.approved_at) : null, cohortSize: v.cohort_size,
-    loocvMaeHours: Number(v.loocv_mae_hours), loocvCoverage80: Number(v.loocv_coverage80), measureIds,
+    id: v.id,
+    versionNumber: v.version_number,
+    approvedAt: v.approved_at ? String(v.approved_at) : null,
+    cohortSize: v.cohort_size,
+    loocvMaeHours: Number(v.loocv_mae_hours),
+    loocvCoverage80: Number(v.loocv_coverage80),
+    measureIds,
     measures: codes.map((c, i) => ({ code: c, label: labelFor(c, names.get(measureIds[i])) })),
     model: {
-      coefficients: JSON.parse(v.coefficients), covariance: JSON.parse(v.covariance), residualSD: Number(v.residual_sd),
-      dfResidual: Number(v.df_residual), means: std.means, sds: std.sds,
+      coefficients: JSON.parse(v.coefficients),
+      covariance: JSON.parse(v.covariance),
+      residualSD: Number(v.residual_sd),
+      dfResidual: Number(v.df_residual),
+      means: std.means,
+      sds: std.sds,
     },
   };
 }
@@ -99,17 +134,37 @@ export async function setPlanningQuantile(q: number): Promise<number> {
   });
 }
 
-export interface ForecastContext { actor: number | null; now?: string; quantile?: number }
+export interface ForecastContext {
+  actor: number | null;
+  now?: string;
+  quantile?: number;
+}
 
 /** Logged sessions of a course in order, as the curve sees them. */
 export async function loggedSessions(k: Db, workerId: number, deviceTypeId: number) {
-  const rows = await k("training_sessions").where({ worker_id: workerId, device_type_id: deviceTypeId, status: "attended" })
-    .whereNotNull("task_score").whereNotNull("cumulative_hours")
-    .select("id", "duration_hours", "task_score", "cumulative_hours", "logged_at", "scheduled_start", "notes", "logged_by")
+  const rows = await k("training_sessions")
+    .where({ worker_id: workerId, device_type_id: deviceTypeId, status: "attended" })
+    .whereNotNull("task_score")
+    .whereNotNull("cumulative_hours")
+    .select(
+      "id",
+      "duration_hours",
+      "task_score",
+      "cumulative_hours",
+      "logged_at",
+      "scheduled_start",
+      "notes",
+      "logged_by",
+    )
     .orderBy([{ column: "cumulative_hours" }, { column: "id" }]);
   return rows.map((r) => ({
-    id: r.id as number, durationHours: Number(r.duration_hours), score: Number(r.task_score), cumulativeHours: Number(r.cumulative_hours),
-    at: String(r.logged_at ?? r.scheduled_start ?? ""), notes: (r.notes as string) ?? null, loggedBy: r.logged_by as number | null,
+    id: r.id as number,
+    durationHours: Number(r.duration_hours),
+    score: Number(r.task_score),
+    cumulativeHours: Number(r.cumulative_hours),
+    at: String(r.logged_at ?? r.scheduled_start ?? ""),
+    notes: (r.notes as string) ?? null,
+    loggedBy: r.logged_by as number | null,
   }));
 }
 
@@ -121,19 +176,37 @@ export type UpsertResult =
  * Compute and store one worker's forecast on one device type from the approved version, including the
  * progress update when sessions are logged. Removes a stale forecast when it can no longer be made.
  */
-export async function upsertForecast(k: Db, workerId: number, deviceTypeId: number, ctx: ForecastContext, cached?: { model?: ApprovedModel | null }): Promise<UpsertResult> {
+export async function upsertForecast(
+  k: Db,
+  workerId: number,
+  deviceTypeId: number,
+  ctx: ForecastContext,
+  cached?: { model?: ApprovedModel | null },
+): Promise<UpsertResult> {
   const now = ctx.now ?? new Date().toISOString();
   const drop = () => k("forecasts").where({ worker_id: workerId, device_type_id: deviceTypeId }).del();
-  if ((await latestConsent(k, [workerId], "planning")).get(workerId) !== "given") { await drop(); return { status: "no_consent" }; }
-  const model = cached && "model" in cached ? cached.model ?? null : await loadApprovedModel(k, deviceTypeId);
-  if (!model) { await drop(); return { status: "no_model" }; }
+  if ((await latestConsent(k, [workerId], "planning")).get(workerId) !== "given") {
+    await drop();
+    return { status: "no_consent" };
+  }
+  const model = cached && "model" in cached ? (cached.model ?? null) : await loadApprovedModel(k, deviceTypeId);
+  if (!model) {
+    await drop();
+    return { status: "no_model" };
+  }
   const course = await k("device_courses").where({ worker_id: workerId, device_type_id: deviceTypeId }).first();
   const cutoff = course?.started_on ? String(course.started_on).slice(0, 10) : null;
   const z = (await baselineZScores(k, [workerId], model.measureIds, new Map([[workerId, cutoff]]))).get(workerId);
   const values = model.measureIds.map((m) => z?.get(m));
-  if (values.some((v) => v === undefined)) { await drop(); return { status: "missing_measures" }; }
+  if (values.some((v) => v === undefined)) {
+    await drop();
+    return { status: "missing_measures" };
+  }
   const quantile = ctx.quantile ?? (await planningQuantile(k));
-  const numbers = forecastFromModel(model.model, model.measures, values as number[], { quantile, level: INTERVAL_LEVEL });
+  const numbers = forecastFromModel(model.model, model.measures, values as number[], {
+    quantile,
+    level: INTERVAL_LEVEL,
+  });
 
   let progress: ProgressUpdate | null = null;
   let progressStatus: string | null = null;
@@ -145,22 +218,58 @@ export async function upsertForecast(k: Db, workerId: number, deviceTypeId: numb
     const sessions = await loggedSessions(k, workerId, deviceTypeId);
     progress = progressUpdate({
       baseline: { logMean: numbers.logFit, logScale: numbers.logScale, df: numbers.df },
-      sessions, hoursDone, threshold: Number(criterion?.score_threshold ?? 0.8), quantile, level: INTERVAL_LEVEL,
+      sessions,
+      hoursDone,
+      threshold: Number(criterion?.score_threshold ?? 0.8),
+      quantile,
+      level: INTERVAL_LEVEL,
     });
     progressStatus = progress.status;
-    if (progress.status === "review") await raiseFlag(k, workerId, deviceTypeId, "plateau", progress.reason ?? "The progress curve levels off below the criterion.", now);
-    if (progress.beyondForecast) await raiseFlag(k, workerId, deviceTypeId, "beyond_forecast", `Already ${hoursDone.toFixed(1)} h without reaching the criterion: beyond the baseline forecast's 99th percentile.`, now);
+    if (progress.status === "review")
+      await raiseFlag(
+        k,
+        workerId,
+        deviceTypeId,
+        "plateau",
+        progress.reason ?? "The progress curve levels off below the criterion.",
+        now,
+      );
+    if (progress.beyondForecast)
+      await raiseFlag(
+        k,
+        workerId,
+        deviceTypeId,
+        "beyond_forecast",
+        `Already ${hoursDone.toFixed(1)} h without reaching the criterion: beyond the baseline forecast's 99th percentile.`,
+        now,
+      );
   }
   const row = {
-    model_version_id: model.id, median_hours: numbers.medianHours, lower_hours: numbers.lowerHours, upper_hours: numbers.upperHours,
-    interval_level: INTERVAL_LEVEL, planning_quantile: quantile, planning_hours: numbers.planningHours,
-    log_mean: numbers.logFit, log_scale: numbers.logScale, df: numbers.df,
+    model_version_id: model.id,
+    median_hours: numbers.medianHours,
+    lower_hours: numbers.lowerHours,
+    upper_hours: numbers.upperHours,
+    interval_level: INTERVAL_LEVEL,
+    planning_quantile: quantile,
+    planning_hours: numbers.planningHours,
+    log_mean: numbers.logFit,
+    log_scale: numbers.logScale,
+    df: numbers.df,
     explanation: JSON.stringify({ baselineHours: numbers.baselineHours, contributions: numbers.contributions }),
-    hours_done: hoursDone, progress_status: progressStatus,
+    hours_done: hoursDone,
+    progress_status: progressStatus,
     remaining_hours: progress?.remainingHours ?? (progressStatus === "proficient" ? 0 : null),
-    remaining_lower: progress?.remainingLower ?? null, remaining_upper: progress?.remainingUpper ?? null,
+    remaining_lower: progress?.remainingLower ?? null,
+    remaining_upper: progress?.remainingUpper ?? null,
     remaining_planning_hours: progress?.remainingPlanningHours ?? null,
-    progress: progress ? JSON.stringify({ curveWeight: progress.curveWeight, reason: progress.reason, curve: progress.curve, crossing: progress.crossing }) : null,
+    progress: progress
+      ? JSON.stringify({
+          curveWeight: progress.curveWeight,
+          reason: progress.reason,
+          curve: progress.curve,
+          crossing: progress.crossing,
+        })
+      : null,
     computed_at: now,
   };
   const existing = await k("forecasts").where({ worker_id: workerId, device_type_id: deviceTypeId }).first("id");
@@ -170,33 +279,66 @@ export async function upsertForecast(k: Db, workerId: number, deviceTypeId: numb
     const w = await k("workers").where({ id: workerId }).first("stage");
     if (w && (w.stage === "consented" || w.stage === "baselined")) {
       await k("workers").where({ id: workerId }).update({ stage: "forecast", updated_at: now });
-      await k("stage_changes").insert({ worker_id: workerId, device_type_id: deviceTypeId, from_stage: w.stage, to_stage: "forecast", actor_user_id: ctx.actor, at: now });
+      await k("stage_changes").insert({
+        worker_id: workerId,
+        device_type_id: deviceTypeId,
+        from_stage: w.stage,
+        to_stage: "forecast",
+        actor_user_id: ctx.actor,
+        at: now,
+      });
     }
   }
   return { status: "ready", progress, medianHours: numbers.medianHours };
 }
 
-async function raiseFlag(k: Db, workerId: number, deviceTypeId: number, kind: "plateau" | "beyond_forecast", reason: string, now: string) {
-  const open = await k("review_flags").where({ worker_id: workerId, device_type_id: deviceTypeId, kind }).whereNull("resolved_at").first("id");
+async function raiseFlag(
+  k: Db,
+  workerId: number,
+  deviceTypeId: number,
+  kind: "plateau" | "beyond_forecast",
+  reason: string,
+  now: string,
+) {
+  const open = await k("review_flags")
+    .where({ worker_id: workerId, device_type_id: deviceTypeId, kind })
+    .whereNull("resolved_at")
+    .first("id");
   if (open) await k("review_flags").where({ id: open.id }).update({ reason });
-  else await k("review_flags").insert({ worker_id: workerId, device_type_id: deviceTypeId, kind, reason, raised_at: now });
+  else
+    await k("review_flags").insert({ worker_id: workerId, device_type_id: deviceTypeId, kind, reason, raised_at: now });
 }
 
 export async function resolveFlags(workerId: number, deviceTypeId: number, userId: number): Promise<number> {
-  return db()("review_flags").where({ worker_id: workerId, device_type_id: deviceTypeId }).whereNull("resolved_at")
+  return db()("review_flags")
+    .where({ worker_id: workerId, device_type_id: deviceTypeId })
+    .whereNull("resolved_at")
     .update({ resolved_at: new Date().toISOString(), resolved_by: userId });
 }
 
 /** Recompute the forecasts of every planning-consented worker for one device type; returns how many were stored. */
-export async function refreshForecastsForDeviceType(k: Db, deviceTypeId: number, actor: number | null, now?: string): Promise<number> {
+export async function refreshForecastsForDeviceType(
+  k: Db,
+  deviceTypeId: number,
+  actor: number | null,
+  now?: string,
+): Promise<number> {
   const model = await loadApprovedModel(k, deviceTypeId);
   const quantile = await planningQuantile(k);
-  if (!model) { await k("forecasts").where({ device_type_id: deviceTypeId }).del(); return 0; }
-  const ids = (await k("consent_records").where({ purpose: "planning" }).distinct("worker_id")).map((r) => r.worker_id as number);
+  if (!model) {
+    await k("forecasts").where({ device_type_id: deviceTypeId }).del();
+    return 0;
+  }
+  const ids = (await k("consent_records").where({ purpose: "planning" }).distinct("worker_id")).map(
+    (r) => r.worker_id as number,
+  );
   const consent = await latestConsent(k, ids, "planning");
   let n = 0;
   for (const id of ids) {
-    if (consent.get(id) !== "given") { await k("forecasts").where({ worker_id: id, device_type_id: deviceTypeId }).del(); continue; }
+    if (consent.get(id) !== "given") {
+      await k("forecasts").where({ worker_id: id, device_type_id: deviceTypeId }).del();
+      continue;
+    }
     if ((await upsertForecast(k, id, deviceTypeId, { actor, now, quantile }, { model })).status === "ready") n++;
   }
   return n;
@@ -218,15 +360,28 @@ export async function eraseForecasts(trx: Db, workerId: number): Promise<number>
 }
 
 /** When a course reaches the criterion: keep actual vs forecast for the version's drift figures. */
-export async function recordOutcome(k: Db, workerId: number, deviceTypeId: number, actualHours: number, reachedOn: string, now: string): Promise<void> {
+export async function recordOutcome(
+  k: Db,
+  workerId: number,
+  deviceTypeId: number,
+  actualHours: number,
+  reachedOn: string,
+  now: string,
+): Promise<void> {
   const f = await k("forecasts").where({ worker_id: workerId, device_type_id: deviceTypeId }).first();
   if (!f) return;
   await k("forecast_outcomes").where({ worker_id: workerId, device_type_id: deviceTypeId }).del();
   await k("forecast_outcomes").insert({
-    model_version_id: f.model_version_id, worker_id: workerId, device_type_id: deviceTypeId,
-    forecast_median_hours: f.median_hours, forecast_lower_hours: f.lower_hours, forecast_upper_hours: f.upper_hours,
-    actual_hours: actualHours, covered: actualHours >= Number(f.lower_hours) && actualHours <= Number(f.upper_hours),
-    reached_on: reachedOn, recorded_at: now,
+    model_version_id: f.model_version_id,
+    worker_id: workerId,
+    device_type_id: deviceTypeId,
+    forecast_median_hours: f.median_hours,
+    forecast_lower_hours: f.lower_hours,
+    forecast_upper_hours: f.upper_hours,
+    actual_hours: actualHours,
+    covered: actualHours >= Number(f.lower_hours) && actualHours <= Number(f.upper_hours),
+    reached_on: reachedOn,
+    recorded_at: now,
   });
 }
 
@@ -234,14 +389,30 @@ export class NotInScopeError extends Error {}
 
 /** The worker row if it is inside the scope, else null (callers answer 404: no hint that it exists). */
 export async function workerInScope(scope: Scope, workerId: number, k: Db = db()) {
-  const q = k("workers").join("sites as s", "s.id", "workers.site_id").join("departments as d", "d.id", "workers.department_id")
+  const q = k("workers")
+    .join("sites as s", "s.id", "workers.site_id")
+    .join("departments as d", "d.id", "workers.department_id")
     .where("workers.id", workerId)
-    .select("workers.id", "workers.employee_number", "workers.given_name", "workers.family_name", "workers.stage", "s.name as site", "d.name as department");
+    .select(
+      "workers.id",
+      "workers.employee_number",
+      "workers.given_name",
+      "workers.family_name",
+      "workers.stage",
+      "s.name as site",
+      "d.name as department",
+    );
   const row = await whereWorkerInScope(q, scope).first();
-  return row ? {
-    id: row.id as number, employeeNumber: row.employee_number as string, name: `${row.given_name} ${row.family_name}`,
-    stage: row.stage as string, site: row.site as string, department: row.department as string,
-  } : null;
+  return row
+    ? {
+        id: row.id as number,
+        employeeNumber: row.employee_number as string,
+        name: `${row.given_name} ${row.family_name}`,
+        stage: row.stage as string,
+        site: row.site as string,
+        department: row.department as string,
+      }
+    : null;
 }
 
 /** Clinical view for assessors (z-scores and contributions); planning view for everyone else. */
@@ -266,23 +437,34 @@ export async function workerForecastView(p: Principal, workerId: number, k: Db =
       const model = await loadApprovedModel(k, d.id);
       const f = await k("forecasts").where({ worker_id: workerId, device_type_id: d.id }).first();
       const course = await k("device_courses").where({ worker_id: workerId, device_type_id: d.id }).first();
-      const flags = await k("review_flags").where({ worker_id: workerId, device_type_id: d.id }).whereNull("resolved_at").select("kind", "reason", "raised_at");
+      const flags = await k("review_flags")
+        .where({ worker_id: workerId, device_type_id: d.id })
+        .whereNull("resolved_at")
+        .select("kind", "reason", "raised_at");
       let missingMeasures: string[] = [];
       if (model && !f) {
         const z = (await baselineZScores(k, [workerId], model.measureIds)).get(workerId);
         missingMeasures = model.measureIds.flatMap((m, i) => (z?.has(m) ? [] : [model.measures[i].label]));
       }
-      const usedModel = f && model && f.model_version_id === model.id ? model : f ? await modelById(k, f.model_version_id) : model;
+      const usedModel =
+        f && model && f.model_version_id === model.id ? model : f ? await modelById(k, f.model_version_id) : model;
       const progressJson = f?.progress ? JSON.parse(f.progress) : null;
       const explanation = f && view === "clinical" ? JSON.parse(f.explanation) : null;
       forecasts.push({
         deviceType: { id: d.id, code: d.code, name: d.name },
         status: f ? "ready" : model ? "missing_measures" : "no_model",
         missingMeasures,
-        modelVersion: usedModel ? {
-          id: usedModel.id, versionNumber: usedModel.versionNumber, approvedAt: usedModel.approvedAt, cohortSize: usedModel.cohortSize,
-          loocvMaeHours: usedModel.loocvMaeHours, loocvCoverage80: usedModel.loocvCoverage80, measures: usedModel.measures.map((m) => m.label),
-        } : null,
+        modelVersion: usedModel
+          ? {
+              id: usedModel.id,
+              versionNumber: usedModel.versionNumber,
+              approvedAt: usedModel.approvedAt,
+              cohortSize: usedModel.cohortSize,
+              loocvMaeHours: usedModel.loocvMaeHours,
+              loocvCoverage80: usedModel.loocvCoverage80,
+              measures: usedModel.measures.map((m) => m.label),
+            }
+          : null,
         medianHours: f ? Number(f.median_hours) : null,
         lowerHours: f ? Number(f.lower_hours) : null,
         upperHours: f ? Number(f.upper_hours) : null,
@@ -290,27 +472,49 @@ export async function workerForecastView(p: Principal, workerId: number, k: Db =
         planningQuantile: f ? Number(f.planning_quantile) : quantile,
         planningHours: f ? Number(f.planning_hours) : null,
         computedAt: f ? String(f.computed_at) : null,
-        explanation: explanation ? { baselineHours: explanation.baselineHours, contributions: explanation.contributions } : null,
-        course: course ? {
-          status: course.status, cumulativeHours: Number(course.cumulative_hours),
-          proficientOn: course.proficient_on ? String(course.proficient_on).slice(0, 10) : null,
-          hoursToProficiency: course.hours_to_proficiency == null ? null : Number(course.hours_to_proficiency),
-        } : null,
-        progress: f && f.progress_status ? {
-          hoursDone: Number(f.hours_done), status: f.progress_status,
-          remainingHours: f.remaining_hours == null ? null : Number(f.remaining_hours),
-          remainingLower: f.remaining_lower == null ? null : Number(f.remaining_lower),
-          remainingUpper: f.remaining_upper == null ? null : Number(f.remaining_upper),
-          remainingPlanningHours: f.remaining_planning_hours == null ? null : Number(f.remaining_planning_hours),
-          curveWeight: progressJson?.curveWeight ?? null, reason: progressJson?.reason ?? null,
-        } : null,
+        explanation: explanation
+          ? { baselineHours: explanation.baselineHours, contributions: explanation.contributions }
+          : null,
+        course: course
+          ? {
+              status: course.status,
+              cumulativeHours: Number(course.cumulative_hours),
+              proficientOn: course.proficient_on ? String(course.proficient_on).slice(0, 10) : null,
+              hoursToProficiency: course.hours_to_proficiency == null ? null : Number(course.hours_to_proficiency),
+            }
+          : null,
+        progress:
+          f && f.progress_status
+            ? {
+                hoursDone: Number(f.hours_done),
+                status: f.progress_status,
+                remainingHours: f.remaining_hours == null ? null : Number(f.remaining_hours),
+                remainingLower: f.remaining_lower == null ? null : Number(f.remaining_lower),
+                remainingUpper: f.remaining_upper == null ? null : Number(f.remaining_upper),
+                remainingPlanningHours: f.remaining_planning_hours == null ? null : Number(f.remaining_planning_hours),
+                curveWeight: progressJson?.curveWeight ?? null,
+                reason: progressJson?.reason ?? null,
+              }
+            : null,
         reviewFlags: flags.map((r) => ({ kind: r.kind, reason: r.reason, raisedAt: String(r.raised_at) })),
       });
     }
   }
-  const howComputed = "Hours to proficiency are forecast from past trainees who agreed to model use: log(hours) is a linear function of the worker's baseline measures (standardised against the cohort), fitted by least squares. The median is the middle forecast, the 80 % interval holds the actual hours four times in five when the model is right, and the planning figure is the chosen upper quantile so that plans rarely run short. Once sessions are logged, the progress curve's own estimate of the remaining hours is combined with the baseline forecast, weighted by how certain each is.";
-  return workerForecastSchema.parse({ worker: { id: worker.id, employeeNumber: worker.employeeNumber, name: worker.name, site: worker.site, department: worker.department },
-    view, planningConsent, forecasts, howComputed });
+  const howComputed =
+    "Hours to proficiency are forecast from past trainees who agreed to model use: log(hours) is a linear function of the worker's baseline measures (standardised against the cohort), fitted by least squares. The median is the middle forecast, the 80 % interval holds the actual hours four times in five when the model is right, and the planning figure is the chosen upper quantile so that plans rarely run short. Once sessions are logged, the progress curve's own estimate of the remaining hours is combined with the baseline forecast, weighted by how certain each is.";
+  return workerForecastSchema.parse({
+    worker: {
+      id: worker.id,
+      employeeNumber: worker.employeeNumber,
+      name: worker.name,
+      site: worker.site,
+      department: worker.department,
+    },
+    view,
+    planningConsent,
+    forecasts,
+    howComputed,
+  });
 }
 
 async function modelById(k: Db, id: number): Promise<ApprovedModel | null> {
@@ -319,30 +523,86 @@ async function modelById(k: Db, id: number): Promise<ApprovedModel | null> {
 }
 
 export interface ForecastListRow {
-  workerId: number; employeeNumber: string; name: string; deviceTypeId: number; deviceType: string;
-  medianHours: number; lowerHours: number; upperHours: number; planningHours: number; progressStatus: string | null;
-  remainingHours: number | null; flagged: boolean;
+  workerId: number;
+  employeeNumber: string;
+  name: string;
+  deviceTypeId: number;
+  deviceType: string;
+  medianHours: number;
+  lowerHours: number;
+  upperHours: number;
+  planningHours: number;
+  progressStatus: string | null;
+  remainingHours: number | null;
+  flagged: boolean;
 }
 
 /** Stored forecasts of workers in scope (hours only: fit for coordinators and assessors alike). */
 export function listForecastTable(scope: Scope, q: TableQuery, filters: { deviceTypeId?: number; flagged?: boolean }) {
-  const query = db()("forecasts as f").join("workers", "workers.id", "f.worker_id").join("device_types as d", "d.id", "f.device_type_id")
-    .select("f.worker_id", "workers.employee_number", "workers.given_name", "workers.family_name", "f.device_type_id", "d.name as device_name",
-      "f.median_hours", "f.lower_hours", "f.upper_hours", "f.planning_hours", "f.progress_status", "f.remaining_hours")
-    .select(db().raw("(select count(*) from review_flags rf where rf.worker_id = f.worker_id and rf.device_type_id = f.device_type_id and rf.resolved_at is null) as open_flags"));
+  const query = db()("forecasts as f")
+    .join("workers", "workers.id", "f.worker_id")
+    .join("device_types as d", "d.id", "f.device_type_id")
+    .select(
+      "f.worker_id",
+      "workers.employee_number",
+      "workers.given_name",
+      "workers.family_name",
+      "f.device_type_id",
+      "d.name as device_name",
+      "f.median_hours",
+      "f.lower_hours",
+      "f.upper_hours",
+      "f.planning_hours",
+      "f.progress_status",
+      "f.remaining_hours",
+    )
+    .select(
+      db().raw(
+        "(select count(*) from review_flags rf where rf.worker_id = f.worker_id and rf.device_type_id = f.device_type_id and rf.resolved_at is null) as open_flags",
+      ),
+    );
   whereWorkerInScope(query as Knex.QueryBuilder, scope);
   if (filters.deviceTypeId) query.where("f.device_type_id", filters.deviceTypeId);
-  if (filters.flagged) query.whereExists((e) => e.select(db().raw("1")).from("review_flags as rf2").whereRaw("rf2.worker_id = f.worker_id and rf2.device_type_id = f.device_type_id").whereNull("rf2.resolved_at"));
+  if (filters.flagged)
+    query.whereExists((e) =>
+      e
+        .select(db().raw("1"))
+        .from("review_flags as rf2")
+        .whereRaw("rf2.worker_id = f.worker_id and rf2.device_type_id = f.device_type_id")
+        .whereNull("rf2.resolved_at"),
+    );
   if (q.q) {
     const term = `%${q.q.toLowerCase()}%`;
-    query.where((w) => w.whereRaw("lower(workers.employee_number) like ?", [term]).orWhereRaw("lower(workers.given_name || ' ' || workers.family_name) like ?", [term]));
+    query.where((w) =>
+      w
+        .whereRaw("lower(workers.employee_number) like ?", [term])
+        .orWhereRaw("lower(workers.given_name || ' ' || workers.family_name) like ?", [term]),
+    );
   }
-  return paged(query, q, { worker: "workers.employee_number", device: "d.name", median: "f.median_hours", planning: "f.planning_hours", remaining: "f.remaining_hours" }, "worker",
+  return paged(
+    query,
+    q,
+    {
+      worker: "workers.employee_number",
+      device: "d.name",
+      median: "f.median_hours",
+      planning: "f.planning_hours",
+      remaining: "f.remaining_hours",
+    },
+    "worker",
     (r): ForecastListRow => ({
-      workerId: r.worker_id as number, employeeNumber: r.employee_number as string, name: `${r.given_name} ${r.family_name}`,
-      deviceTypeId: r.device_type_id as number, deviceType: r.device_name as string,
-      medianHours: Number(r.median_hours), lowerHours: Number(r.lower_hours), upperHours: Number(r.upper_hours), planningHours: Number(r.planning_hours),
-      progressStatus: (r.progress_status as string) ?? null, remainingHours: r.remaining_hours == null ? null : Number(r.remaining_hours),
+      workerId: r.worker_id as number,
+      employeeNumber: r.employee_number as string,
+      name: `${r.given_name} ${r.family_name}`,
+      deviceTypeId: r.device_type_id as number,
+      deviceType: r.device_name as string,
+      medianHours: Number(r.median_hours),
+      lowerHours: Number(r.lower_hours),
+      upperHours: Number(r.upper_hours),
+      planningHours: Number(r.planning_hours),
+      progressStatus: (r.progress_status as string) ?? null,
+      remainingHours: r.remaining_hours == null ? null : Number(r.remaining_hours),
       flagged: Number(r.open_flags) > 0,
-    }));
+    }),
+  );
 }

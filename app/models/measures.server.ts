@@ -1,36 +1,72 @@
-import { db, type Db } from "~/db.server";
 import type { TraceKind } from "~/compute/trace-parsing";
+import { type Db, db } from "~/db.server";
 
 // The baseline battery's measures, configured by an assessor (issue 3 §4).
 export interface Measure {
-  id: number; code: string; name: string; unit: string; higherIsBetter: boolean;
-  entry: "manual" | "trace"; traceKind: TraceKind | null; description: string | null; active: boolean;
+  id: number;
+  code: string;
+  name: string;
+  unit: string;
+  higherIsBetter: boolean;
+  entry: "manual" | "trace";
+  traceKind: TraceKind | null;
+  description: string | null;
+  active: boolean;
 }
 
 export class DuplicateMeasureError extends Error {}
 
 function toMeasure(r: Record<string, unknown>): Measure {
   return {
-    id: r.id as number, code: r.code as string, name: r.name as string, unit: r.unit as string,
-    higherIsBetter: Boolean(r.higher_is_better), entry: r.entry as "manual" | "trace", traceKind: (r.trace_kind as TraceKind) ?? null,
-    description: (r.description as string) ?? null, active: Boolean(r.active),
+    id: r.id as number,
+    code: r.code as string,
+    name: r.name as string,
+    unit: r.unit as string,
+    higherIsBetter: Boolean(r.higher_is_better),
+    entry: r.entry as "manual" | "trace",
+    traceKind: (r.trace_kind as TraceKind) ?? null,
+    description: (r.description as string) ?? null,
+    active: Boolean(r.active),
   };
 }
 
 export async function listMeasures(opts: { activeOnly?: boolean } = {}, k: Db = db()): Promise<Measure[]> {
-  const q = k("measures").select("*").orderBy([{ column: "entry" }, { column: "trace_kind" }, { column: "id" }]);
+  const q = k("measures")
+    .select("*")
+    .orderBy([{ column: "entry" }, { column: "trace_kind" }, { column: "id" }]);
   if (opts.activeOnly) q.where("active", true);
   return (await q).map(toMeasure);
 }
 
-export async function createMeasure(m: { code: string; name: string; unit: string; direction: "higher" | "lower"; entry: "manual" | "trace"; traceKind?: string; description?: string }, userId: number) {
+export async function createMeasure(
+  m: {
+    code: string;
+    name: string;
+    unit: string;
+    direction: "higher" | "lower";
+    entry: "manual" | "trace";
+    traceKind?: string;
+    description?: string;
+  },
+  userId: number,
+) {
   return db().transaction(async (trx) => {
-    if (await trx("measures").where({ code: m.code }).first("id")) throw new DuplicateMeasureError(`Code: a measure with code ${m.code} exists already.`);
-    const [r] = await trx("measures").insert({
-      code: m.code, name: m.name, unit: m.unit, higher_is_better: m.direction === "higher", entry: m.entry,
-      trace_kind: m.entry === "trace" ? m.traceKind : null, description: m.description || null, active: true,
-      created_by: userId, created_at: new Date().toISOString(),
-    }).returning("id");
+    if (await trx("measures").where({ code: m.code }).first("id"))
+      throw new DuplicateMeasureError(`Code: a measure with code ${m.code} exists already.`);
+    const [r] = await trx("measures")
+      .insert({
+        code: m.code,
+        name: m.name,
+        unit: m.unit,
+        higher_is_better: m.direction === "higher",
+        entry: m.entry,
+        trace_kind: m.entry === "trace" ? m.traceKind : null,
+        description: m.description || null,
+        active: true,
+        created_by: userId,
+        created_at: new Date().toISOString(),
+      })
+      .returning("id");
     return r.id as number;
   });
 }

@@ -1,10 +1,16 @@
-import { db, type Db } from "~/db.server";
 import { columnStandardizer, fitLinearModel, leaveOneOut } from "~/compute/regression";
 import { studentTQuantile } from "~/compute/student-t";
+import { type Db, db } from "~/db.server";
 import { baselineZScores, labelFor, latestConsent, refreshForecastsForDeviceType } from "./forecast.server";
 
 export { labelFor };
-import { DRIFT_COVERAGE_WARNING, DRIFT_MINIMUM_OUTCOMES, EXCLUSION_LABELS, type ExclusionReason } from "~/schemas/forecast";
+
+import {
+  DRIFT_COVERAGE_WARNING,
+  DRIFT_MINIMUM_OUTCOMES,
+  EXCLUSION_LABELS,
+  type ExclusionReason,
+} from "~/schemas/forecast";
 
 // Forecast model versions (DESIGN §3.3, issue 4 item 3): the cohort, the fit and its diagnostics, the saved
 // version, and approval by a second assessor. Cohort rows are de-identified: nothing here returns a worker id
@@ -13,7 +19,13 @@ import { DRIFT_COVERAGE_WARNING, DRIFT_MINIMUM_OUTCOMES, EXCLUSION_LABELS, type 
 export type { ExclusionReason };
 export { EXCLUSION_LABELS };
 
-export interface MeasureOption { id: number; code: string; name: string; unit: string; label: string }
+export interface MeasureOption {
+  id: number;
+  code: string;
+  name: string;
+  unit: string;
+  label: string;
+}
 
 export async function listModelMeasures(k: Db = db()): Promise<MeasureOption[]> {
   const rows = await k("measures").where({ active: true }).select("id", "code", "name", "unit").orderBy("code");
@@ -33,32 +45,74 @@ export interface Cohort {
  * other course is counted under the reason it was left out; censored courses never become outcomes.
  */
 export async function buildCohort(deviceTypeId: number, measureIds: number[], k: Db = db()): Promise<Cohort> {
-  const courses = await k("device_courses").where({ device_type_id: deviceTypeId })
-    .select("worker_id", "status", "hours_to_proficiency", "started_on", "proficient_on").orderBy("worker_id");
-  const excluded: Record<ExclusionReason, number> = { still_training: 0, stopped: 0, withdrawn: 0, no_model_consent: 0, missing_measures: 0 };
-  const consent = await latestConsent(k, courses.map((c) => c.worker_id), "model");
+  const courses = await k("device_courses")
+    .where({ device_type_id: deviceTypeId })
+    .select("worker_id", "status", "hours_to_proficiency", "started_on", "proficient_on")
+    .orderBy("worker_id");
+  const excluded: Record<ExclusionReason, number> = {
+    still_training: 0,
+    stopped: 0,
+    withdrawn: 0,
+    no_model_consent: 0,
+    missing_measures: 0,
+  };
+  const consent = await latestConsent(
+    k,
+    courses.map((c) => c.worker_id),
+    "model",
+  );
   const eligible: typeof courses = [];
   for (const c of courses) {
     const state = consent.get(c.worker_id);
     // Consent first: without it we do not even read the baseline.
-    if (state === "withdrawn") { excluded.withdrawn++; continue; }
-    if (state !== "given") { excluded.no_model_consent++; continue; }
-    if (c.status === "stopped") { excluded.stopped++; continue; }
-    if (c.status !== "proficient" || !(Number(c.hours_to_proficiency) > 0)) { excluded.still_training++; continue; }
+    if (state === "withdrawn") {
+      excluded.withdrawn++;
+      continue;
+    }
+    if (state !== "given") {
+      excluded.no_model_consent++;
+      continue;
+    }
+    if (c.status === "stopped") {
+      excluded.stopped++;
+      continue;
+    }
+    if (c.status !== "proficient" || !(Number(c.hours_to_proficiency) > 0)) {
+      excluded.still_training++;
+      continue;
+    }
     eligible.push(c);
   }
-  const cutoffs = new Map<number, string | null>(eligible.map((c) => [c.worker_id, c.started_on ? String(c.started_on).slice(0, 10) : null]));
-  const baselines = await baselineZScores(k, eligible.map((c) => c.worker_id), measureIds, cutoffs);
+  const cutoffs = new Map<number, string | null>(
+    eligible.map((c) => [c.worker_id, c.started_on ? String(c.started_on).slice(0, 10) : null]),
+  );
+  const baselines = await baselineZScores(
+    k,
+    eligible.map((c) => c.worker_id),
+    measureIds,
+    cutoffs,
+  );
   const rows: Cohort["rows"] = [];
   for (const c of eligible) {
     const z = measureIds.map((m) => baselines.get(c.worker_id)?.get(m));
-    if (z.some((v) => v === undefined)) { excluded.missing_measures++; continue; }
+    if (z.some((v) => v === undefined)) {
+      excluded.missing_measures++;
+      continue;
+    }
     rows.push({ z: z as number[], hours: Number(c.hours_to_proficiency) });
   }
   return { rows, excluded, candidates: courses.length };
 }
 
-export interface CoefficientRow { name: string; code: string | null; estimate: number; se: number; lower95: number; upper95: number; multiplierPerSD: number }
+export interface CoefficientRow {
+  name: string;
+  code: string | null;
+  estimate: number;
+  se: number;
+  lower95: number;
+  upper95: number;
+  multiplierPerSD: number;
+}
 
 export interface WorkbenchFit {
   deviceTypeId: number;
@@ -84,11 +138,18 @@ export interface WorkbenchFit {
 export class FitError extends Error {}
 
 /** Fit log(hours) on the cohort's standardised z-scores, with LOOCV diagnostics. */
-export function fitCohort(cohort: Cohort, measures: { id: number; code: string; label: string }[], deviceTypeId: number, ridge = 0): WorkbenchFit {
+export function fitCohort(
+  cohort: Cohort,
+  measures: { id: number; code: string; label: string }[],
+  deviceTypeId: number,
+  ridge = 0,
+): WorkbenchFit {
   const n = cohort.rows.length;
   const k = measures.length;
   if (n < k + 3) {
-    throw new FitError(`Only ${n} usable past trainee${n === 1 ? "" : "s"} for ${k} measure${k === 1 ? "" : "s"}: at least ${k + 3} are needed (measures + 3) for the fit and its leave-one-out check.`);
+    throw new FitError(
+      `Only ${n} usable past trainee${n === 1 ? "" : "s"} for ${k} measure${k === 1 ? "" : "s"}: at least ${k + 3} are needed (measures + 3) for the fit and its leave-one-out check.`,
+    );
   }
   const X = cohort.rows.map((r) => r.z);
   const y = cohort.rows.map((r) => Math.log(r.hours));
@@ -97,7 +158,11 @@ export function fitCohort(cohort: Cohort, measures: { id: number; code: string; 
     std = columnStandardizer(X);
   } catch (e) {
     const j = Number(/measure (\d+)/.exec((e as Error).message)?.[1]);
-    throw new FitError(Number.isInteger(j) ? `${measures[j].label} has the same value for every past trainee, so it cannot explain differences.` : (e as Error).message);
+    throw new FitError(
+      Number.isInteger(j)
+        ? `${measures[j].label} has the same value for every past trainee, so it cannot explain differences.`
+        : (e as Error).message,
+    );
   }
   const Z = X.map((row) => std.apply(row));
   let fit;
@@ -111,18 +176,42 @@ export function fitCohort(cohort: Cohort, measures: { id: number; code: string; 
   const t975 = studentTQuantile(0.975, fit.dfResidual);
   const names = ["Intercept (cohort average)", ...measures.map((m) => m.label)];
   const coefficients = fit.coefficients.map((b, i) => ({
-    name: names[i], code: i === 0 ? null : measures[i - 1].code, estimate: b, se: fit.standardErrors[i],
-    lower95: b - t975 * fit.standardErrors[i], upper95: b + t975 * fit.standardErrors[i], multiplierPerSD: Math.exp(b),
+    name: names[i],
+    code: i === 0 ? null : measures[i - 1].code,
+    estimate: b,
+    se: fit.standardErrors[i],
+    lower95: b - t975 * fit.standardErrors[i],
+    upper95: b + t975 * fit.standardErrors[i],
+    multiplierPerSD: Math.exp(b),
   }));
-  const calibration = cohort.rows.map((r, i) => ({
-    actual: r.hours, predicted: Math.exp(loo.predictions[i]), lower: Math.exp(loo.lower[i]), upper: Math.exp(loo.upper[i]),
-  })).sort((a, b) => a.actual - b.actual || a.predicted - b.predicted);
-  const residuals = fit.fittedValues.map((f, i) => ({ fitted: Math.exp(f), residual: fit.residuals[i] })).sort((a, b) => a.fitted - b.fitted);
+  const calibration = cohort.rows
+    .map((r, i) => ({
+      actual: r.hours,
+      predicted: Math.exp(loo.predictions[i]),
+      lower: Math.exp(loo.lower[i]),
+      upper: Math.exp(loo.upper[i]),
+    }))
+    .sort((a, b) => a.actual - b.actual || a.predicted - b.predicted);
+  const residuals = fit.fittedValues
+    .map((f, i) => ({ fitted: Math.exp(f), residual: fit.residuals[i] }))
+    .sort((a, b) => a.fitted - b.fitted);
   return {
-    deviceTypeId, measures, ridge, cohortSize: n, candidates: cohort.candidates, excluded: cohort.excluded,
-    coefficients, covariance: fit.covariance, residualSD: fit.residualSD, dfResidual: fit.dfResidual, rSquared: fit.rSquared,
-    loocvMaeHours: loo.maeHours as number, loocvCoverage80: loo.coverage,
-    standardisation: { means: std.means, sds: std.sds }, calibration, residuals,
+    deviceTypeId,
+    measures,
+    ridge,
+    cohortSize: n,
+    candidates: cohort.candidates,
+    excluded: cohort.excluded,
+    coefficients,
+    covariance: fit.covariance,
+    residualSD: fit.residualSD,
+    dfResidual: fit.dfResidual,
+    rSquared: fit.rSquared,
+    loocvMaeHours: loo.maeHours as number,
+    loocvCoverage80: loo.coverage,
+    standardisation: { means: std.means, sds: std.sds },
+    calibration,
+    residuals,
   };
 }
 
@@ -137,9 +226,13 @@ async function measuresById(measureIds: number[], k: Db) {
 }
 
 /** Build the cohort and fit it (the workbench's "Fit" button). */
-export async function fitWorkbench(input: { deviceTypeId: number; measureIds: number[]; ridge: number }, k: Db = db()): Promise<WorkbenchFit> {
+export async function fitWorkbench(
+  input: { deviceTypeId: number; measureIds: number[]; ridge: number },
+  k: Db = db(),
+): Promise<WorkbenchFit> {
   const measureIds = [...new Set(input.measureIds)];
-  if (!(await k("device_types").where({ id: input.deviceTypeId }).first("id"))) throw new FitError("That device type does not exist.");
+  if (!(await k("device_types").where({ id: input.deviceTypeId }).first("id")))
+    throw new FitError("That device type does not exist.");
   const measures = await measuresById(measureIds, k);
   const cohort = await buildCohort(input.deviceTypeId, measureIds, k);
   return fitCohort(cohort, measures, input.deviceTypeId, input.ridge);
@@ -154,19 +247,37 @@ export async function saveModelVersion(
 ): Promise<{ id: number; versionNumber: number }> {
   const run = async (trx: Db) => {
     const fit = await fitWorkbench(input, trx);
-    const last = await trx("model_versions").where({ device_type_id: input.deviceTypeId }).max<{ m: number | null }>("version_number as m").first();
+    const last = await trx("model_versions")
+      .where({ device_type_id: input.deviceTypeId })
+      .max<{ m: number | null }>("version_number as m")
+      .first();
     const versionNumber = Number(last?.m ?? 0) + 1;
     const now = opts?.now ?? new Date().toISOString();
-    const [row] = await trx("model_versions").insert({
-      device_type_id: input.deviceTypeId, version_number: versionNumber,
-      measure_ids: JSON.stringify(fit.measures.map((m) => m.id)), measure_codes: JSON.stringify(fit.measures.map((m) => m.code)),
-      cohort_size: fit.cohortSize, excluded: JSON.stringify(fit.excluded),
-      coefficients: JSON.stringify(fit.coefficients.map((c) => c.estimate)), standard_errors: JSON.stringify(fit.coefficients.map((c) => c.se)),
-      covariance: JSON.stringify(fit.covariance), residual_sd: fit.residualSD, df_residual: fit.dfResidual, ridge: fit.ridge,
-      standardisation: JSON.stringify(fit.standardisation), loocv_mae_hours: fit.loocvMaeHours, r_squared: fit.rSquared,
-      loocv_coverage80: fit.loocvCoverage80, calibration: JSON.stringify(fit.calibration.map((c) => [c.actual, c.predicted, c.lower, c.upper])),
-      status: "draft", notes: input.notes || null, fitted_by: userId, fitted_at: now,
-    }).returning("id");
+    const [row] = await trx("model_versions")
+      .insert({
+        device_type_id: input.deviceTypeId,
+        version_number: versionNumber,
+        measure_ids: JSON.stringify(fit.measures.map((m) => m.id)),
+        measure_codes: JSON.stringify(fit.measures.map((m) => m.code)),
+        cohort_size: fit.cohortSize,
+        excluded: JSON.stringify(fit.excluded),
+        coefficients: JSON.stringify(fit.coefficients.map((c) => c.estimate)),
+        standard_errors: JSON.stringify(fit.coefficients.map((c) => c.se)),
+        covariance: JSON.stringify(fit.covariance),
+        residual_sd: fit.residualSD,
+        df_residual: fit.dfResidual,
+        ridge: fit.ridge,
+        standardisation: JSON.stringify(fit.standardisation),
+        loocv_mae_hours: fit.loocvMaeHours,
+        r_squared: fit.rSquared,
+        loocv_coverage80: fit.loocvCoverage80,
+        calibration: JSON.stringify(fit.calibration.map((c) => [c.actual, c.predicted, c.lower, c.upper])),
+        status: "draft",
+        notes: input.notes || null,
+        fitted_by: userId,
+        fitted_at: now,
+      })
+      .returning("id");
     return { id: row.id as number, versionNumber };
   };
   return k ? run(k) : db().transaction(run);
@@ -178,15 +289,26 @@ export class ApprovalError extends Error {}
  * Approve a draft: only an assessor other than the one who fitted it. The previously approved version of
  * the device type is retired, and every planning-consented worker's forecast is recomputed — one transaction.
  */
-export async function approveModelVersion(versionId: number, userId: number, k?: Db, opts?: { now?: string }): Promise<{ forecasts: number }> {
+export async function approveModelVersion(
+  versionId: number,
+  userId: number,
+  k?: Db,
+  opts?: { now?: string },
+): Promise<{ forecasts: number }> {
   const run = async (trx: Db) => {
     const v = await trx("model_versions").where({ id: versionId }).first();
     if (!v) throw new ApprovalError("That model version does not exist.");
-    if (v.status !== "draft") throw new ApprovalError(`Version ${v.version_number} is ${v.status}; only a draft can be approved.`);
-    if (v.fitted_by === userId) throw new ApprovalError("A version must be approved by an assessor other than the one who fitted it.");
+    if (v.status !== "draft")
+      throw new ApprovalError(`Version ${v.version_number} is ${v.status}; only a draft can be approved.`);
+    if (v.fitted_by === userId)
+      throw new ApprovalError("A version must be approved by an assessor other than the one who fitted it.");
     const now = opts?.now ?? new Date().toISOString();
-    await trx("model_versions").where({ device_type_id: v.device_type_id, status: "approved" }).update({ status: "retired", retired_by: userId, retired_at: now });
-    await trx("model_versions").where({ id: versionId }).update({ status: "approved", approved_by: userId, approved_at: now });
+    await trx("model_versions")
+      .where({ device_type_id: v.device_type_id, status: "approved" })
+      .update({ status: "retired", retired_by: userId, retired_at: now });
+    await trx("model_versions")
+      .where({ id: versionId })
+      .update({ status: "approved", approved_by: userId, approved_at: now });
     return { forecasts: await refreshForecastsForDeviceType(trx, v.device_type_id, userId, opts?.now) };
   };
   return k ? run(k) : db().transaction(run);
@@ -198,16 +320,28 @@ export async function retireModelVersion(versionId: number, userId: number): Pro
     const v = await trx("model_versions").where({ id: versionId }).first();
     if (!v) throw new ApprovalError("That model version does not exist.");
     if (v.status === "retired") throw new ApprovalError(`Version ${v.version_number} is already retired.`);
-    await trx("model_versions").where({ id: versionId }).update({ status: "retired", retired_by: userId, retired_at: new Date().toISOString() });
+    await trx("model_versions")
+      .where({ id: versionId })
+      .update({ status: "retired", retired_by: userId, retired_at: new Date().toISOString() });
     await trx("forecasts").where({ model_version_id: versionId }).del();
   });
 }
 
-export interface DriftStats { n: number; maeHours: number | null; coverage80: number | null; warn: boolean }
+export interface DriftStats {
+  n: number;
+  maeHours: number | null;
+  coverage80: number | null;
+  warn: boolean;
+}
 export { DRIFT_COVERAGE_WARNING, DRIFT_MINIMUM_OUTCOMES };
 
 export async function driftByVersion(k: Db = db()): Promise<Map<number, DriftStats>> {
-  const rows = await k("forecast_outcomes").select("model_version_id", "actual_hours", "forecast_median_hours", "covered");
+  const rows = await k("forecast_outcomes").select(
+    "model_version_id",
+    "actual_hours",
+    "forecast_median_hours",
+    "covered",
+  );
   const acc = new Map<number, { n: number; abs: number; covered: number }>();
   for (const r of rows) {
     const a = acc.get(r.model_version_id) ?? { n: 0, abs: 0, covered: 0 };
@@ -219,38 +353,83 @@ export async function driftByVersion(k: Db = db()): Promise<Map<number, DriftSta
   const out = new Map<number, DriftStats>();
   for (const [id, a] of acc) {
     const coverage80 = a.covered / a.n;
-    out.set(id, { n: a.n, maeHours: a.abs / a.n, coverage80, warn: a.n >= DRIFT_MINIMUM_OUTCOMES && coverage80 < DRIFT_COVERAGE_WARNING });
+    out.set(id, {
+      n: a.n,
+      maeHours: a.abs / a.n,
+      coverage80,
+      warn: a.n >= DRIFT_MINIMUM_OUTCOMES && coverage80 < DRIFT_COVERAGE_WARNING,
+    });
   }
   return out;
 }
 
 export interface VersionSummary {
-  id: number; deviceTypeId: number; deviceTypeName: string; versionNumber: number; status: "draft" | "approved" | "retired";
-  measures: string[]; measureIds: number[]; cohortSize: number; loocvMaeHours: number; rSquared: number; loocvCoverage80: number;
-  fittedBy: string | null; fittedById: number | null; fittedAt: string; approvedBy: string | null; approvedAt: string | null;
-  retiredBy: string | null; retiredAt: string | null; drift: DriftStats;
+  id: number;
+  deviceTypeId: number;
+  deviceTypeName: string;
+  versionNumber: number;
+  status: "draft" | "approved" | "retired";
+  measures: string[];
+  measureIds: number[];
+  cohortSize: number;
+  loocvMaeHours: number;
+  rSquared: number;
+  loocvCoverage80: number;
+  fittedBy: string | null;
+  fittedById: number | null;
+  fittedAt: string;
+  approvedBy: string | null;
+  approvedAt: string | null;
+  retiredBy: string | null;
+  retiredAt: string | null;
+  drift: DriftStats;
 }
 
 function summaryQuery(k: Db) {
-  return k("model_versions as v").join("device_types as d", "d.id", "v.device_type_id")
-    .leftJoin("users as f", "f.id", "v.fitted_by").leftJoin("users as a", "a.id", "v.approved_by").leftJoin("users as r", "r.id", "v.retired_by")
-    .select("v.*", "d.name as device_type_name", "f.display_name as fitted_name", "a.display_name as approved_name", "r.display_name as retired_name");
+  return k("model_versions as v")
+    .join("device_types as d", "d.id", "v.device_type_id")
+    .leftJoin("users as f", "f.id", "v.fitted_by")
+    .leftJoin("users as a", "a.id", "v.approved_by")
+    .leftJoin("users as r", "r.id", "v.retired_by")
+    .select(
+      "v.*",
+      "d.name as device_type_name",
+      "f.display_name as fitted_name",
+      "a.display_name as approved_name",
+      "r.display_name as retired_name",
+    );
 }
 
 function toSummary(r: Record<string, any>, drift: Map<number, DriftStats>): VersionSummary {
   const codes: string[] = JSON.parse(r.measure_codes);
   return {
-    id: r.id, deviceTypeId: r.device_type_id, deviceTypeName: r.device_type_name, versionNumber: r.version_number, status: r.status,
-    measures: codes.map((c) => labelFor(c)), measureIds: JSON.parse(r.measure_ids), cohortSize: r.cohort_size, loocvMaeHours: Number(r.loocv_mae_hours), rSquared: Number(r.r_squared),
-    loocvCoverage80: Number(r.loocv_coverage80), fittedBy: r.fitted_name ?? null, fittedById: r.fitted_by ?? null, fittedAt: String(r.fitted_at),
-    approvedBy: r.approved_name ?? null, approvedAt: r.approved_at ? String(r.approved_at) : null,
-    retiredBy: r.retired_name ?? null, retiredAt: r.retired_at ? String(r.retired_at) : null,
+    id: r.id,
+    deviceTypeId: r.device_type_id,
+    deviceTypeName: r.device_type_name,
+    versionNumber: r.version_number,
+    status: r.status,
+    measures: codes.map((c) => labelFor(c)),
+    measureIds: JSON.parse(r.measure_ids),
+    cohortSize: r.cohort_size,
+    loocvMaeHours: Number(r.loocv_mae_hours),
+    rSquared: Number(r.r_squared),
+    loocvCoverage80: Number(r.loocv_coverage80),
+    fittedBy: r.fitted_name ?? null,
+    fittedById: r.fitted_by ?? null,
+    fittedAt: String(r.fitted_at),
+    approvedBy: r.approved_name ?? null,
+    approvedAt: r.approved_at ? String(r.approved_at) : null,
+    retiredBy: r.retired_name ?? null,
+    retiredAt: r.retired_at ? String(r.retired_at) : null,
     drift: drift.get(r.id) ?? { n: 0, maeHours: null, coverage80: null, warn: false },
   };
 }
 
 export async function listModelVersions(k: Db = db()): Promise<VersionSummary[]> {
-  const [rows, drift] = await Promise.all([summaryQuery(k).orderBy([{ column: "v.device_type_id" }, { column: "v.version_number", order: "desc" }]), driftByVersion(k)]);
+  const [rows, drift] = await Promise.all([
+    summaryQuery(k).orderBy([{ column: "v.device_type_id" }, { column: "v.version_number", order: "desc" }]),
+    driftByVersion(k),
+  ]);
   return rows.map((r) => toSummary(r, drift));
 }
 
@@ -274,13 +453,27 @@ export async function getModelVersion(id: number, k: Db = db()): Promise<Version
   const se: number[] = JSON.parse(r.standard_errors);
   const t975 = studentTQuantile(0.975, Number(r.df_residual));
   return {
-    ...summary, notes: r.notes ?? null, ridge: Number(r.ridge), residualSD: Number(r.residual_sd), dfResidual: Number(r.df_residual),
+    ...summary,
+    notes: r.notes ?? null,
+    ridge: Number(r.ridge),
+    residualSD: Number(r.residual_sd),
+    dfResidual: Number(r.df_residual),
     excluded: JSON.parse(r.excluded),
     coefficients: coef.map((b, i) => ({
-      name: i === 0 ? "Intercept (cohort average)" : labelFor(codes[i - 1]), code: i === 0 ? null : codes[i - 1],
-      estimate: b, se: se[i], lower95: b - t975 * se[i], upper95: b + t975 * se[i], multiplierPerSD: Math.exp(b),
+      name: i === 0 ? "Intercept (cohort average)" : labelFor(codes[i - 1]),
+      code: i === 0 ? null : codes[i - 1],
+      estimate: b,
+      se: se[i],
+      lower95: b - t975 * se[i],
+      upper95: b + t975 * se[i],
+      multiplierPerSD: Math.exp(b),
     })),
-    calibration: (JSON.parse(r.calibration) as number[][]).map(([actual, predicted, lower, upper]) => ({ actual, predicted, lower, upper })),
+    calibration: (JSON.parse(r.calibration) as number[][]).map(([actual, predicted, lower, upper]) => ({
+      actual,
+      predicted,
+      lower,
+      upper,
+    })),
     standardisation: JSON.parse(r.standardisation),
   };
 }

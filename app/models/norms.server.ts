@@ -1,6 +1,6 @@
-import { mean as ssMean, sampleStandardDeviation } from "simple-statistics";
-import { db, type Db } from "~/db.server";
+import { sampleStandardDeviation, mean as ssMean } from "simple-statistics";
 import type { Scope } from "~/auth/scope";
+import { type Db, db } from "~/db.server";
 
 // Norm sets (DESIGN §3.1): mean and SD per measure, cohort-derived or entered from a published table,
 // with source and date. Every stored z-score records which norm set it used.
@@ -9,17 +9,36 @@ import type { Scope } from "~/auth/scope";
 export const MIN_COHORT_N = 10;
 
 export interface NormSet {
-  id: number; name: string; origin: "cohort" | "published"; source: string; sourceDate: string; createdBy: string | null; createdAt: string;
+  id: number;
+  name: string;
+  origin: "cohort" | "published";
+  source: string;
+  sourceDate: string;
+  createdBy: string | null;
+  createdAt: string;
   values: { measureId: number; mean: number; sd: number; n: number | null }[];
 }
 
 export async function listNormSets(k: Db = db()): Promise<NormSet[]> {
-  const sets = await k("norm_sets as n").leftJoin("users as u", "u.id", "n.created_by")
-    .select("n.*", "u.display_name as creator").orderBy([{ column: "n.source_date", order: "desc" }, { column: "n.id", order: "desc" }]);
+  const sets = await k("norm_sets as n")
+    .leftJoin("users as u", "u.id", "n.created_by")
+    .select("n.*", "u.display_name as creator")
+    .orderBy([
+      { column: "n.source_date", order: "desc" },
+      { column: "n.id", order: "desc" },
+    ]);
   const values = await k("norm_values").select("*");
   return sets.map((s) => ({
-    id: s.id, name: s.name, origin: s.origin, source: s.source, sourceDate: String(s.source_date).slice(0, 10), createdBy: s.creator ?? null, createdAt: String(s.created_at),
-    values: values.filter((v) => v.norm_set_id === s.id).map((v) => ({ measureId: v.measure_id, mean: v.mean, sd: v.sd, n: v.n ?? null })),
+    id: s.id,
+    name: s.name,
+    origin: s.origin,
+    source: s.source,
+    sourceDate: String(s.source_date).slice(0, 10),
+    createdBy: s.creator ?? null,
+    createdAt: String(s.created_at),
+    values: values
+      .filter((v) => v.norm_set_id === s.id)
+      .map((v) => ({ measureId: v.measure_id, mean: v.mean, sd: v.sd, n: v.n ?? null })),
   }));
 }
 
@@ -27,23 +46,53 @@ export async function listNormSets(k: Db = db()): Promise<NormSet[]> {
  * The norm each measure is scored against by default: the most recent norm set (by source date,
  * then id) that holds a value for the measure.
  */
-export async function defaultNorms(k: Db = db()): Promise<Map<number, { normSetId: number; mean: number; sd: number }>> {
-  const rows = await k("norm_values as v").join("norm_sets as n", "n.id", "v.norm_set_id")
-    .select("v.measure_id", "v.norm_set_id", "v.mean", "v.sd").orderBy([{ column: "n.source_date", order: "desc" }, { column: "n.id", order: "desc" }]);
+export async function defaultNorms(
+  k: Db = db(),
+): Promise<Map<number, { normSetId: number; mean: number; sd: number }>> {
+  const rows = await k("norm_values as v")
+    .join("norm_sets as n", "n.id", "v.norm_set_id")
+    .select("v.measure_id", "v.norm_set_id", "v.mean", "v.sd")
+    .orderBy([
+      { column: "n.source_date", order: "desc" },
+      { column: "n.id", order: "desc" },
+    ]);
   const out = new Map<number, { normSetId: number; mean: number; sd: number }>();
-  for (const r of rows) if (!out.has(r.measure_id)) out.set(r.measure_id, { normSetId: r.norm_set_id, mean: r.mean, sd: r.sd });
+  for (const r of rows)
+    if (!out.has(r.measure_id)) out.set(r.measure_id, { normSetId: r.norm_set_id, mean: r.mean, sd: r.sd });
   return out;
 }
 
-export async function normsOf(normSetId: number, k: Db = db()): Promise<Map<number, { normSetId: number; mean: number; sd: number }>> {
+export async function normsOf(
+  normSetId: number,
+  k: Db = db(),
+): Promise<Map<number, { normSetId: number; mean: number; sd: number }>> {
   const rows = await k("norm_values").where({ norm_set_id: normSetId }).select("measure_id", "mean", "sd");
   return new Map(rows.map((r) => [r.measure_id, { normSetId, mean: r.mean, sd: r.sd }]));
 }
 
-export async function createPublishedNormSet(input: { name: string; source: string; sourceDate: string; values: { measureId: number; mean: number; sd: number; n: number | null }[] }, userId: number) {
+export async function createPublishedNormSet(
+  input: {
+    name: string;
+    source: string;
+    sourceDate: string;
+    values: { measureId: number; mean: number; sd: number; n: number | null }[];
+  },
+  userId: number,
+) {
   return db().transaction(async (trx) => {
-    const [r] = await trx("norm_sets").insert({ name: input.name, origin: "published", source: input.source, source_date: input.sourceDate, created_by: userId, created_at: new Date().toISOString() }).returning("id");
-    await trx("norm_values").insert(input.values.map((v) => ({ norm_set_id: r.id, measure_id: v.measureId, mean: v.mean, sd: v.sd, n: v.n })));
+    const [r] = await trx("norm_sets")
+      .insert({
+        name: input.name,
+        origin: "published",
+        source: input.source,
+        source_date: input.sourceDate,
+        created_by: userId,
+        created_at: new Date().toISOString(),
+      })
+      .returning("id");
+    await trx("norm_values").insert(
+      input.values.map((v) => ({ norm_set_id: r.id, measure_id: v.measureId, mean: v.mean, sd: v.sd, n: v.n })),
+    );
     return r.id as number;
   });
 }
@@ -53,22 +102,49 @@ export async function createPublishedNormSet(input: { name: string; source: stri
  * site in the assessor's scope. Workers without given assessment consent have no data (erased), and
  * only measures with at least MIN_COHORT_N workers are included.
  */
-export async function createCohortNormSet(input: { name: string; siteId: number | null; siteIds: number[]; siteLabel: string }, userId: number) {
+export async function createCohortNormSet(
+  input: { name: string; siteId: number | null; siteIds: number[]; siteLabel: string },
+  userId: number,
+) {
   return db().transaction(async (trx) => {
-    const rows = await trx("assessment_results as r").join("assessment_sessions as s", "s.id", "r.session_id").join("workers as w", "w.id", "s.worker_id")
+    const rows = await trx("assessment_results as r")
+      .join("assessment_sessions as s", "s.id", "r.session_id")
+      .join("workers as w", "w.id", "s.worker_id")
       .whereIn("w.site_id", input.siteId ? [input.siteId] : input.siteIds)
       .select("r.measure_id", "r.value", "s.worker_id", "s.assessed_on", "s.id as session_id")
       .orderBy([{ column: "s.assessed_on" }, { column: "s.id" }]);
     const first = new Map<string, number>();
-    for (const r of rows) { const key = `${r.measure_id}:${r.worker_id}`; if (!first.has(key)) first.set(key, r.value); }
+    for (const r of rows) {
+      const key = `${r.measure_id}:${r.worker_id}`;
+      if (!first.has(key)) first.set(key, r.value);
+    }
     const byMeasure = new Map<number, number[]>();
-    for (const [key, v] of first) { const m = Number(key.split(":")[0]); (byMeasure.get(m) ?? byMeasure.set(m, []).get(m)!).push(v); }
-    const values = [...byMeasure].filter(([, vs]) => vs.length >= MIN_COHORT_N).map(([measureId, vs]) => ({ measureId, mean: ssMean(vs), sd: sampleStandardDeviation(vs), n: vs.length }))
+    for (const [key, v] of first) {
+      const m = Number(key.split(":")[0]);
+      (byMeasure.get(m) ?? byMeasure.set(m, []).get(m)!).push(v);
+    }
+    const values = [...byMeasure]
+      .filter(([, vs]) => vs.length >= MIN_COHORT_N)
+      .map(([measureId, vs]) => ({ measureId, mean: ssMean(vs), sd: sampleStandardDeviation(vs), n: vs.length }))
       .filter((v) => v.sd > 0);
-    if (values.length === 0) throw new NormInputError(`No measure has first baselines from at least ${MIN_COHORT_N} consented workers at ${input.siteLabel} yet.`);
+    if (values.length === 0)
+      throw new NormInputError(
+        `No measure has first baselines from at least ${MIN_COHORT_N} consented workers at ${input.siteLabel} yet.`,
+      );
     const today = new Date().toISOString().slice(0, 10);
-    const [r] = await trx("norm_sets").insert({ name: input.name, origin: "cohort", source: `First baselines of consented workers at ${input.siteLabel}, computed ${today} (n per measure listed).`, source_date: today, created_by: userId, created_at: new Date().toISOString() }).returning("id");
-    await trx("norm_values").insert(values.map((v) => ({ norm_set_id: r.id, measure_id: v.measureId, mean: v.mean, sd: v.sd, n: v.n })));
+    const [r] = await trx("norm_sets")
+      .insert({
+        name: input.name,
+        origin: "cohort",
+        source: `First baselines of consented workers at ${input.siteLabel}, computed ${today} (n per measure listed).`,
+        source_date: today,
+        created_by: userId,
+        created_at: new Date().toISOString(),
+      })
+      .returning("id");
+    await trx("norm_values").insert(
+      values.map((v) => ({ norm_set_id: r.id, measure_id: v.measureId, mean: v.mean, sd: v.sd, n: v.n })),
+    );
     return { id: r.id as number, measures: values.length };
   });
 }

@@ -4,24 +4,34 @@ export class DuplicateCodeError extends Error {}
 
 export async function createSite(v: { code: string; name: string }): Promise<number> {
   return db().transaction(async (trx) => {
-    if (await trx("sites").where({ code: v.code }).first("id")) throw new DuplicateCodeError(`Site code ${v.code} is already used.`);
+    if (await trx("sites").where({ code: v.code }).first("id"))
+      throw new DuplicateCodeError(`Site code ${v.code} is already used.`);
     const org = await trx("organisations").first("id");
     if (!org) throw new Error("No organisation is set up.");
-    const [r] = await trx("sites").insert({ organisation_id: org.id, code: v.code, name: v.name, created_at: new Date().toISOString() }).returning("id");
+    const [r] = await trx("sites")
+      .insert({ organisation_id: org.id, code: v.code, name: v.name, created_at: new Date().toISOString() })
+      .returning("id");
     return r.id as number;
   });
 }
 
 export async function createDepartment(v: { siteId: number; code: string; name: string }): Promise<number> {
   return db().transaction(async (trx) => {
-    if (!(await trx("sites").where({ id: v.siteId }).first("id"))) throw new DuplicateCodeError("That site does not exist.");
-    if (await trx("departments").where({ site_id: v.siteId, code: v.code }).first("id")) throw new DuplicateCodeError(`Department code ${v.code} is already used at this site.`);
-    const [r] = await trx("departments").insert({ site_id: v.siteId, code: v.code, name: v.name, created_at: new Date().toISOString() }).returning("id");
+    if (!(await trx("sites").where({ id: v.siteId }).first("id")))
+      throw new DuplicateCodeError("That site does not exist.");
+    if (await trx("departments").where({ site_id: v.siteId, code: v.code }).first("id"))
+      throw new DuplicateCodeError(`Department code ${v.code} is already used at this site.`);
+    const [r] = await trx("departments")
+      .insert({ site_id: v.siteId, code: v.code, name: v.name, created_at: new Date().toISOString() })
+      .returning("id");
     return r.id as number;
   });
 }
 
 export async function departmentHeadcounts(): Promise<Record<number, number>> {
-  const rows = await db()("workers").select("department_id").count<{ department_id: number; n: number }[]>({ n: "*" }).groupBy("department_id");
+  const rows = await db()("workers")
+    .select("department_id")
+    .count<{ department_id: number; n: number }[]>({ n: "*" })
+    .groupBy("department_id");
   return Object.fromEntries(rows.map((r) => [r.department_id, Number(r.n)]));
 }

@@ -1,7 +1,14 @@
 import type { Knex } from "knex";
 import type { TableQuery } from "~/schemas/table-query";
 
-export interface Page<T> { rows: T[]; total: number; page: number; size: number; sort: string; dir: "asc" | "desc" }
+export interface Page<T> {
+  rows: T[];
+  total: number;
+  page: number;
+  size: number;
+  sort: string;
+  dir: "asc" | "desc";
+}
 
 // Applies a whitelisted sort, then counts and pages in SQL. `sortable` maps public column ids to SQL columns.
 export async function paged<T>(
@@ -16,6 +23,10 @@ export async function paged<T>(
   const total = Number(countRow?.n ?? 0);
   const lastPage = Math.max(1, Math.ceil(total / q.size));
   const page = Math.min(q.page, lastPage);
-  const rows = await query.clone().orderBy(sortable[sort], q.dir).limit(q.size).offset((page - 1) * q.size);
+  const rows = await query
+    .clone()
+    .orderBy(sortable[sort], q.dir)
+    .limit(q.size)
+    .offset((page - 1) * q.size);
   return { rows: rows.map(map), total, page, size: q.size, sort, dir: q.dir };
 }

@@ -1,9 +1,15 @@
 import type { Principal } from "~/auth/guard.server";
 import { firstProficientIndex } from "~/compute/proficiency-rule";
 import { curvePoints } from "~/compute/progress-update";
-import { db, type Db } from "~/db.server";
+import { type Db, db } from "~/db.server";
 import {
-  forecastViewFor, latestConsent, loggedSessions, recordOutcome, upsertForecast, workerInScope, type UpsertResult,
+  forecastViewFor,
+  latestConsent,
+  loggedSessions,
+  recordOutcome,
+  type UpsertResult,
+  upsertForecast,
+  workerInScope,
 } from "./forecast.server";
 import { getCriterion } from "./proficiency.server";
 import { whereWorkerInScope } from "./workers.server";
@@ -13,7 +19,12 @@ import { whereWorkerInScope } from "./workers.server";
 // and the forecast all change in the same transaction.
 
 export class SessionLogError extends Error {
-  constructor(message: string, readonly field?: string) { super(message); }
+  constructor(
+    message: string,
+    readonly field?: string,
+  ) {
+    super(message);
+  }
 }
 
 export interface LogSessionInput {
@@ -40,53 +51,103 @@ export interface LogSessionResult {
 }
 
 export async function logSessionResult(input: LogSessionInput, k?: Db): Promise<LogSessionResult> {
-  if (!(input.durationHours > 0 && input.durationHours <= 8)) throw new SessionLogError("Duration must be more than 0 and at most 8 hours.", "durationHours");
-  if (!(input.taskScore >= 0 && input.taskScore <= 1)) throw new SessionLogError("Task score must be between 0 and 1.", "taskScore");
+  if (!(input.durationHours > 0 && input.durationHours <= 8))
+    throw new SessionLogError("Duration must be more than 0 and at most 8 hours.", "durationHours");
+  if (!(input.taskScore >= 0 && input.taskScore <= 1))
+    throw new SessionLogError("Task score must be between 0 and 1.", "taskScore");
   const run = async (trx: Db): Promise<LogSessionResult> => {
     const at = input.at ?? new Date().toISOString();
     const day = at.slice(0, 10);
     const worker = await trx("workers").where({ id: input.workerId }).first("id", "stage");
     if (!worker) throw new SessionLogError("That worker does not exist.");
-    if (worker.stage === "withdrawn") throw new SessionLogError("This worker has withdrawn; sessions can no longer be logged.");
+    if (worker.stage === "withdrawn")
+      throw new SessionLogError("This worker has withdrawn; sessions can no longer be logged.");
     const device = await trx("device_types").where({ id: input.deviceTypeId }).first("id", "wear_time_limit_minutes");
     if (!device) throw new SessionLogError("That device type does not exist.");
     if (input.durationHours * 60 > Number(device.wear_time_limit_minutes) + 1e-9) {
-      throw new SessionLogError(`Practice time exceeds this device's wear-time limit of ${device.wear_time_limit_minutes} minutes per session; log separate sessions with breaks.`, "durationHours");
+      throw new SessionLogError(
+        `Practice time exceeds this device's wear-time limit of ${device.wear_time_limit_minutes} minutes per session; log separate sessions with breaks.`,
+        "durationHours",
+      );
     }
-    let course = await trx("device_courses").where({ worker_id: input.workerId, device_type_id: input.deviceTypeId }).first();
-    if (course?.status === "proficient") throw new SessionLogError("This worker has already reached proficiency on this device; no further sessions are logged here.");
-    if (course?.status === "stopped") throw new SessionLogError("This course was stopped; restart it before logging sessions.");
-    if (course?.status === "paused") throw new SessionLogError(`This course is paused${course.pause_reason ? ` (${course.pause_reason})` : ""}; resume it before logging sessions.`);
+    let course = await trx("device_courses")
+      .where({ worker_id: input.workerId, device_type_id: input.deviceTypeId })
+      .first();
+    if (course?.status === "proficient")
+      throw new SessionLogError(
+        "This worker has already reached proficiency on this device; no further sessions are logged here.",
+      );
+    if (course?.status === "stopped")
+      throw new SessionLogError("This course was stopped; restart it before logging sessions.");
+    if (course?.status === "paused")
+      throw new SessionLogError(
+        `This course is paused${course.pause_reason ? ` (${course.pause_reason})` : ""}; resume it before logging sessions.`,
+      );
     if (!course) {
-      const [c] = await trx("device_courses").insert({ worker_id: input.workerId, device_type_id: input.deviceTypeId, status: "training", cumulative_hours: 0, started_on: day, updated_at: at }).returning("*");
+      const [c] = await trx("device_courses")
+        .insert({
+          worker_id: input.workerId,
+          device_type_id: input.deviceTypeId,
+          status: "training",
+          cumulative_hours: 0,
+          started_on: day,
+          updated_at: at,
+        })
+        .returning("*");
       course = c;
     }
     const cumulativeHours = Math.round((Number(course.cumulative_hours) + input.durationHours) * 1000) / 1000;
     const values = {
-      status: "attended", duration_hours: input.durationHours, task_score: input.taskScore, cumulative_hours: cumulativeHours,
-      notes: input.notes || null, logged_by: input.loggedBy, logged_at: at,
+      status: "attended",
+      duration_hours: input.durationHours,
+      task_score: input.taskScore,
+      cumulative_hours: cumulativeHours,
+      notes: input.notes || null,
+      logged_by: input.loggedBy,
+      logged_at: at,
     };
     let sessionId: number;
     if (input.sessionId) {
-      const s = await trx("training_sessions").where({ id: input.sessionId, worker_id: input.workerId, device_type_id: input.deviceTypeId }).first("id", "status");
+      const s = await trx("training_sessions")
+        .where({ id: input.sessionId, worker_id: input.workerId, device_type_id: input.deviceTypeId })
+        .first("id", "status");
       if (!s) throw new SessionLogError("That scheduled session is not this worker's session on this device.");
       if (s.status === "attended") throw new SessionLogError("That session has already been logged.");
       await trx("training_sessions").where({ id: s.id }).update(values);
       sessionId = s.id;
     } else {
-      const [s] = await trx("training_sessions").insert({
-        worker_id: input.workerId, device_type_id: input.deviceTypeId, trainer_id: input.trainerId ?? null, scheduled_start: at, created_at: at, ...values,
-      }).returning("id");
+      const [s] = await trx("training_sessions")
+        .insert({
+          worker_id: input.workerId,
+          device_type_id: input.deviceTypeId,
+          trainer_id: input.trainerId ?? null,
+          scheduled_start: at,
+          created_at: at,
+          ...values,
+        })
+        .returning("id");
       sessionId = s.id;
     }
-    await trx("device_courses").where({ id: course.id }).update({
-      status: "training", cumulative_hours: cumulativeHours, started_on: course.started_on ?? day, updated_at: at,
-    });
+    await trx("device_courses")
+      .where({ id: course.id })
+      .update({
+        status: "training",
+        cumulative_hours: cumulativeHours,
+        started_on: course.started_on ?? day,
+        updated_at: at,
+      });
     let stage = worker.stage as string;
     const setStage = async (to: string) => {
       if (stage === to) return;
       await trx("workers").where({ id: input.workerId }).update({ stage: to, updated_at: at });
-      await trx("stage_changes").insert({ worker_id: input.workerId, device_type_id: input.deviceTypeId, from_stage: stage, to_stage: to, actor_user_id: input.loggedBy, at });
+      await trx("stage_changes").insert({
+        worker_id: input.workerId,
+        device_type_id: input.deviceTypeId,
+        from_stage: stage,
+        to_stage: to,
+        actor_user_id: input.loggedBy,
+        at,
+      });
       stage = to;
     };
     if (["invited", "consented", "baselined", "forecast", "planned"].includes(stage)) await setStage("training");
@@ -95,11 +156,16 @@ export async function logSessionResult(input: LogSessionInput, k?: Db): Promise<
     let proficient = false;
     if (criterion) {
       const sessions = await loggedSessions(trx, input.workerId, input.deviceTypeId);
-      const hit = firstProficientIndex(sessions.map((s) => s.score), criterion);
+      const hit = firstProficientIndex(
+        sessions.map((s) => s.score),
+        criterion,
+      );
       if (hit >= 0) {
         proficient = true;
         const hours = sessions[hit].cumulativeHours;
-        await trx("device_courses").where({ id: course.id }).update({ status: "proficient", proficient_on: day, hours_to_proficiency: hours, updated_at: at });
+        await trx("device_courses")
+          .where({ id: course.id })
+          .update({ status: "proficient", proficient_on: day, hours_to_proficiency: hours, updated_at: at });
         await setStage("proficient");
         await recordOutcome(trx, input.workerId, input.deviceTypeId, hours, day, at);
       }
@@ -117,8 +183,17 @@ export async function trainerIdFor(userId: number, k: Db = db()): Promise<number
 }
 
 /** Whether a trainer has this worker on their schedule for this device type. */
-export async function trainerHasTrainee(trainerId: number, workerId: number, deviceTypeId: number, k: Db = db()): Promise<boolean> {
-  return Boolean(await k("training_sessions").where({ trainer_id: trainerId, worker_id: workerId, device_type_id: deviceTypeId }).first("id"));
+export async function trainerHasTrainee(
+  trainerId: number,
+  workerId: number,
+  deviceTypeId: number,
+  k: Db = db(),
+): Promise<boolean> {
+  return Boolean(
+    await k("training_sessions")
+      .where({ trainer_id: trainerId, worker_id: workerId, device_type_id: deviceTypeId })
+      .first("id"),
+  );
 }
 
 export interface ProgressView {
@@ -126,12 +201,35 @@ export interface ProgressView {
   deviceType: { id: number; code: string; name: string; wearTimeLimitMinutes: number };
   criterion: { scoreThreshold: number; consecutiveSessions: number } | null;
   planningConsent: boolean;
-  course: { status: string; cumulativeHours: number; startedOn: string | null; proficientOn: string | null; hoursToProficiency: number | null } | null;
-  sessions: { id: number; at: string; durationHours: number; score: number; cumulativeHours: number; notes: string | null }[];
+  course: {
+    status: string;
+    cumulativeHours: number;
+    startedOn: string | null;
+    proficientOn: string | null;
+    hoursToProficiency: number | null;
+  } | null;
+  sessions: {
+    id: number;
+    at: string;
+    durationHours: number;
+    score: number;
+    cumulativeHours: number;
+    notes: string | null;
+  }[];
   forecast: {
-    modelVersion: number; medianHours: number; lowerHours: number; upperHours: number; planningHours: number; planningQuantile: number;
-    status: string | null; remainingHours: number | null; remainingLower: number | null; remainingUpper: number | null;
-    remainingPlanningHours: number | null; curveWeight: number | null; reason: string | null;
+    modelVersion: number;
+    medianHours: number;
+    lowerHours: number;
+    upperHours: number;
+    planningHours: number;
+    planningQuantile: number;
+    status: string | null;
+    remainingHours: number | null;
+    remainingLower: number | null;
+    remainingUpper: number | null;
+    remainingPlanningHours: number | null;
+    curveWeight: number | null;
+    reason: string | null;
     curve: { asymptote: number; start: number; rate: number; converged: boolean } | null;
     crossing: { hours: number; lower: number; upper: number } | null;
   } | null;
@@ -144,18 +242,34 @@ export interface ProgressView {
  * Progress of a worker on a device type. Assessors and coordinators: workers in scope. Trainers: only
  * trainees on their own schedule (checked by the caller with trainerHasTrainee). Returns null when absent.
  */
-export async function progressView(p: Principal, workerId: number, deviceTypeId: number, k: Db = db()): Promise<ProgressView | null> {
-  const worker = await workerInScope(p.roles.includes("trainer") && !p.roles.includes("assessor") && !p.roles.includes("coordinator") ? { allSites: true, siteIds: [], departmentIds: [] } : p.scope, workerId, k);
+export async function progressView(
+  p: Principal,
+  workerId: number,
+  deviceTypeId: number,
+  k: Db = db(),
+): Promise<ProgressView | null> {
+  const worker = await workerInScope(
+    p.roles.includes("trainer") && !p.roles.includes("assessor") && !p.roles.includes("coordinator")
+      ? { allSites: true, siteIds: [], departmentIds: [] }
+      : p.scope,
+    workerId,
+    k,
+  );
   if (!worker) return null;
   const d = await k("device_types").where({ id: deviceTypeId }).first("id", "code", "name", "wear_time_limit_minutes");
   if (!d) return null;
   const course = await k("device_courses").where({ worker_id: workerId, device_type_id: deviceTypeId }).first();
   const sessions = await loggedSessions(k, workerId, deviceTypeId);
-  const f = await k("forecasts as f").join("model_versions as v", "v.id", "f.model_version_id").where({ "f.worker_id": workerId, "f.device_type_id": deviceTypeId })
+  const f = await k("forecasts as f")
+    .join("model_versions as v", "v.id", "f.model_version_id")
+    .where({ "f.worker_id": workerId, "f.device_type_id": deviceTypeId })
     .first("f.*", "v.version_number");
   const pj = f?.progress ? JSON.parse(f.progress) : null;
   const criterion = await getCriterion(deviceTypeId, k);
-  const flags = await k("review_flags").where({ worker_id: workerId, device_type_id: deviceTypeId }).whereNull("resolved_at").select("kind", "reason", "raised_at");
+  const flags = await k("review_flags")
+    .where({ worker_id: workerId, device_type_id: deviceTypeId })
+    .whereNull("resolved_at")
+    .select("kind", "reason", "raised_at");
   const lastHours = sessions.length ? sessions[sessions.length - 1].cumulativeHours : 0;
   const toHours = Math.max(lastHours, pj?.crossing?.upper ?? 0, f ? Number(f.upper_hours) : 0, 1) * 1.05;
   const showNotes = forecastViewFor(p) === "clinical" || p.roles.includes("trainer");
@@ -164,21 +278,42 @@ export async function progressView(p: Principal, workerId: number, deviceTypeId:
     deviceType: { id: d.id, code: d.code, name: d.name, wearTimeLimitMinutes: d.wear_time_limit_minutes },
     criterion,
     planningConsent: (await latestConsent(k, [workerId], "planning")).get(workerId) === "given",
-    course: course ? {
-      status: course.status, cumulativeHours: Number(course.cumulative_hours), startedOn: course.started_on ? String(course.started_on).slice(0, 10) : null,
-      proficientOn: course.proficient_on ? String(course.proficient_on).slice(0, 10) : null,
-      hoursToProficiency: course.hours_to_proficiency == null ? null : Number(course.hours_to_proficiency),
-    } : null,
-    sessions: sessions.map((s) => ({ id: s.id, at: s.at, durationHours: s.durationHours, score: s.score, cumulativeHours: s.cumulativeHours, notes: showNotes ? s.notes : null })),
-    forecast: f ? {
-      modelVersion: f.version_number, medianHours: Number(f.median_hours), lowerHours: Number(f.lower_hours), upperHours: Number(f.upper_hours),
-      planningHours: Number(f.planning_hours), planningQuantile: Number(f.planning_quantile), status: f.progress_status ?? null,
-      remainingHours: f.remaining_hours == null ? null : Number(f.remaining_hours),
-      remainingLower: f.remaining_lower == null ? null : Number(f.remaining_lower),
-      remainingUpper: f.remaining_upper == null ? null : Number(f.remaining_upper),
-      remainingPlanningHours: f.remaining_planning_hours == null ? null : Number(f.remaining_planning_hours),
-      curveWeight: pj?.curveWeight ?? null, reason: pj?.reason ?? null, curve: pj?.curve ?? null, crossing: pj?.crossing ?? null,
-    } : null,
+    course: course
+      ? {
+          status: course.status,
+          cumulativeHours: Number(course.cumulative_hours),
+          startedOn: course.started_on ? String(course.started_on).slice(0, 10) : null,
+          proficientOn: course.proficient_on ? String(course.proficient_on).slice(0, 10) : null,
+          hoursToProficiency: course.hours_to_proficiency == null ? null : Number(course.hours_to_proficiency),
+        }
+      : null,
+    sessions: sessions.map((s) => ({
+      id: s.id,
+      at: s.at,
+      durationHours: s.durationHours,
+      score: s.score,
+      cumulativeHours: s.cumulativeHours,
+      notes: showNotes ? s.notes : null,
+    })),
+    forecast: f
+      ? {
+          modelVersion: f.version_number,
+          medianHours: Number(f.median_hours),
+          lowerHours: Number(f.lower_hours),
+          upperHours: Number(f.upper_hours),
+          planningHours: Number(f.planning_hours),
+          planningQuantile: Number(f.planning_quantile),
+          status: f.progress_status ?? null,
+          remainingHours: f.remaining_hours == null ? null : Number(f.remaining_hours),
+          remainingLower: f.remaining_lower == null ? null : Number(f.remaining_lower),
+          remainingUpper: f.remaining_upper == null ? null : Number(f.remaining_upper),
+          remainingPlanningHours: f.remaining_planning_hours == null ? null : Number(f.remaining_planning_hours),
+          curveWeight: pj?.curveWeight ?? null,
+          reason: pj?.reason ?? null,
+          curve: pj?.curve ?? null,
+          crossing: pj?.crossing ?? null,
+        }
+      : null,
     curvePoints: pj?.curve?.converged ? curvePoints(pj.curve, toHours) : [],
     reviewFlags: flags.map((r) => ({ kind: r.kind, reason: r.reason, raisedAt: String(r.raised_at) })),
     showNotes,
@@ -187,22 +322,49 @@ export async function progressView(p: Principal, workerId: number, deviceTypeId:
 
 /** Courses with logged sessions for workers in scope (for the progress index). */
 export async function listCoursesInScope(p: Principal, k: Db = db()) {
-  const q = k("device_courses as c").join("workers", "workers.id", "c.worker_id").join("device_types as d", "d.id", "c.device_type_id")
-    .leftJoin("forecasts as f", function () { this.on("f.worker_id", "c.worker_id").andOn("f.device_type_id", "c.device_type_id"); })
+  const q = k("device_courses as c")
+    .join("workers", "workers.id", "c.worker_id")
+    .join("device_types as d", "d.id", "c.device_type_id")
+    .leftJoin("forecasts as f", function () {
+      this.on("f.worker_id", "c.worker_id").andOn("f.device_type_id", "c.device_type_id");
+    })
     .whereIn("c.status", ["training", "paused", "proficient"])
-    .select("c.worker_id", "c.device_type_id", "c.status", "c.cumulative_hours", "workers.employee_number", "workers.given_name", "workers.family_name",
-      "d.name as device_name", "f.remaining_hours", "f.progress_status")
-    .orderBy([{ column: "c.status", order: "desc" }, { column: "workers.employee_number" }]).limit(300);
+    .select(
+      "c.worker_id",
+      "c.device_type_id",
+      "c.status",
+      "c.cumulative_hours",
+      "workers.employee_number",
+      "workers.given_name",
+      "workers.family_name",
+      "d.name as device_name",
+      "f.remaining_hours",
+      "f.progress_status",
+    )
+    .orderBy([{ column: "c.status", order: "desc" }, { column: "workers.employee_number" }])
+    .limit(300);
   const onlyTrainer = p.roles.includes("trainer") && !p.roles.includes("assessor") && !p.roles.includes("coordinator");
   if (onlyTrainer) {
     const tid = p.kind === "user" ? await trainerIdFor(p.user.id, k) : null;
-    q.whereExists((e) => e.select(k.raw("1")).from("training_sessions as ts").whereRaw("ts.worker_id = c.worker_id and ts.device_type_id = c.device_type_id").where("ts.trainer_id", tid ?? -1));
+    q.whereExists((e) =>
+      e
+        .select(k.raw("1"))
+        .from("training_sessions as ts")
+        .whereRaw("ts.worker_id = c.worker_id and ts.device_type_id = c.device_type_id")
+        .where("ts.trainer_id", tid ?? -1),
+    );
   } else {
     whereWorkerInScope(q, p.scope);
   }
   return (await q).map((r) => ({
-    workerId: r.worker_id as number, deviceTypeId: r.device_type_id as number, status: r.status as string, cumulativeHours: Number(r.cumulative_hours),
-    employeeNumber: r.employee_number as string, name: `${r.given_name} ${r.family_name}`, deviceType: r.device_name as string,
-    remainingHours: r.remaining_hours == null ? null : Number(r.remaining_hours), progressStatus: (r.progress_status as string) ?? null,
+    workerId: r.worker_id as number,
+    deviceTypeId: r.device_type_id as number,
+    status: r.status as string,
+    cumulativeHours: Number(r.cumulative_hours),
+    employeeNumber: r.employee_number as string,
+    name: `${r.given_name} ${r.family_name}`,
+    deviceType: r.device_name as string,
+    remainingHours: r.remaining_hours == null ? null : Number(r.remaining_hours),
+    progressStatus: (r.progress_status as string) ?? null,
   }));
 }

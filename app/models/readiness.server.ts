@@ -1,19 +1,27 @@
 import type { Knex } from "knex";
 import type { Scope } from "~/auth/scope";
-import { STAGES, STAGE_LABELS } from "~/components/stage";
+import { STAGE_LABELS, STAGES } from "~/components/stage";
 import {
   effectiveThreshold,
+  type ProtectedTable,
   protectLinkedTables,
   protectMedian,
   protectTable,
-  type ProtectedTable,
 } from "~/compute/disclosure";
 import {
-  columnSlice, cumulativeFromProtected, derivedSum, mergeWeeks, departmentSlice, siteSlice, weekRange, weekStart,
-  type OrgLayout, type Viewer,
+  columnSlice,
+  cumulativeFromProtected,
+  departmentSlice,
+  derivedSum,
+  mergeWeeks,
+  type OrgLayout,
+  siteSlice,
+  type Viewer,
+  weekRange,
+  weekStart,
 } from "~/compute/readiness-views";
-import { db, type Db } from "~/db.server";
-import { parseStoredGroupings, type Grouping, type OrganisationSettings } from "~/schemas/readiness";
+import { type Db, db } from "~/db.server";
+import { type Grouping, type OrganisationSettings, parseStoredGroupings } from "~/schemas/readiness";
 import { whereWorkerInScope } from "./workers.server";
 
 // Readiness for managers (DESIGN §1, §3.6). Every number leaves this module only after disclosure
@@ -48,14 +56,22 @@ export interface ReadinessBoard {
   stage: Panel<LinkedViews>;
   ready: Panel<LinkedViews>;
   /** weeks: the first day of the last week of each period (the chart's x axis). */
-  planned: Panel<{ table: ProtectedTable; cumulative: { columns: (number | null)[][]; total: (number | null)[] }; weeks: string[] }>;
+  planned: Panel<{
+    table: ProtectedTable;
+    cumulative: { columns: (number | null)[][]; total: (number | null)[] };
+    weeks: string[];
+  }>;
   medians: Panel<{ department: MedianTable | null; site: MedianTable | null }>;
 }
 
 // ── organisation settings ────────────────────────────────────────────────────────────────────────
 
-export async function organisationSettings(conn: Db = db()): Promise<{ id: number; name: string; threshold: number; storedThreshold: number; groupings: Grouping[] }> {
-  const org = await conn("organisations").orderBy("id").first("id", "name", "disclosure_threshold", "manager_groupings");
+export async function organisationSettings(
+  conn: Db = db(),
+): Promise<{ id: number; name: string; threshold: number; storedThreshold: number; groupings: Grouping[] }> {
+  const org = await conn("organisations")
+    .orderBy("id")
+    .first("id", "name", "disclosure_threshold", "manager_groupings");
   if (!org) throw new Error("No organisation is set up.");
   return {
     id: org.id,
@@ -70,10 +86,12 @@ export async function updateOrganisationSettings(v: OrganisationSettings): Promi
   await db().transaction(async (trx) => {
     const org = await trx("organisations").orderBy("id").first("id");
     if (!org) throw new Error("No organisation is set up.");
-    await trx("organisations").where({ id: org.id }).update({
-      disclosure_threshold: effectiveThreshold(v.disclosureThreshold),
-      manager_groupings: JSON.stringify(v.groupings),
-    });
+    await trx("organisations")
+      .where({ id: org.id })
+      .update({
+        disclosure_threshold: effectiveThreshold(v.disclosureThreshold),
+        manager_groupings: JSON.stringify(v.groupings),
+      });
   });
 }
 
@@ -93,9 +111,11 @@ export async function readinessGroups(scope: Scope): Promise<Groups> {
     .orderBy([{ column: "s.name" }, { column: "d.name" }, { column: "d.id" }]);
   const departments = rows.map((r) => ({ ...r, label: `${r.siteName} · ${r.name}` }));
   const sites: OrgLayout["sites"] = [];
-  for (const d of departments) if (!sites.some((s) => s.key === `${d.siteId}`)) sites.push({ key: `${d.siteId}`, label: d.siteName });
+  for (const d of departments)
+    if (!sites.some((s) => s.key === `${d.siteId}`)) sites.push({ key: `${d.siteId}`, label: d.siteName });
   const org: OrgLayout = { departments: departments.map((d) => ({ label: d.label, siteKey: `${d.siteId}` })), sites };
-  const inScope = (d: { id: number; siteId: number }) => scope.allSites || scope.siteIds.includes(d.siteId) || scope.departmentIds.includes(d.id);
+  const inScope = (d: { id: number; siteId: number }) =>
+    scope.allSites || scope.siteIds.includes(d.siteId) || scope.departmentIds.includes(d.id);
   const viewer: Viewer = {
     departments: departments.map((d, i) => (inScope(d) ? i : -1)).filter((i) => i >= 0),
     wholeSites: sites.filter((s) => scope.allSites || scope.siteIds.includes(Number(s.key))).map((s) => s.key),
@@ -107,18 +127,29 @@ export async function readinessGroups(scope: Scope): Promise<Groups> {
 function scopeLabelOf(g: Groups): string {
   const whole = new Set(g.viewer.wholeSites);
   if (g.viewer.allSites) return "the whole organisation";
-  return g.org.sites.map((s) => {
-    if (whole.has(s.key)) return `${s.label} (whole site)`;
-    const names = g.viewer.departments.filter((i) => g.org.departments[i].siteKey === s.key).map((i) => g.departments[i].name);
-    return names.length ? `${s.label}: ${names.join(", ")}` : null;
-  }).filter(Boolean).join("; ");
+  return g.org.sites
+    .map((s) => {
+      if (whole.has(s.key)) return `${s.label} (whole site)`;
+      const names = g.viewer.departments
+        .filter((i) => g.org.departments[i].siteKey === s.key)
+        .map((i) => g.departments[i].name);
+      return names.length ? `${s.label}: ${names.join(", ")}` : null;
+    })
+    .filter(Boolean)
+    .join("; ");
 }
 
 /**
  * Protects department × column counts of the WHOLE organisation, departments linked to their sites
  * (no department can be differenced out of its site), then cuts out the viewer's rows.
  */
-export function protectForViewer(g: Groups, columns: string[], counts: number[][], groupings: Grouping[], threshold: number): LinkedViews {
+export function protectForViewer(
+  g: Groups,
+  columns: string[],
+  counts: number[][],
+  groupings: Grouping[],
+  threshold: number,
+): LinkedViews {
   const linked = protectLinkedTables({
     detail: { rows: g.org.departments.map((d) => d.label), columns, counts },
     parentOf: g.org.departments.map((d) => d.siteKey),
@@ -138,8 +169,14 @@ function isSqlite(k: Knex): boolean {
 }
 
 async function stageCounts(g: Groups): Promise<number[][]> {
-  const rows = (await db()("workers").select("workers.department_id as dept", "workers.stage as stage").count({ n: "*" })
-    .groupBy("workers.department_id", "workers.stage")) as unknown as { dept: number; stage: string; n: number | string }[];
+  const rows = (await db()("workers")
+    .select("workers.department_id as dept", "workers.stage as stage")
+    .count({ n: "*" })
+    .groupBy("workers.department_id", "workers.stage")) as unknown as {
+    dept: number;
+    stage: string;
+    n: number | string;
+  }[];
   const index = new Map(g.departments.map((d, i) => [d.id, i]));
   const counts = g.departments.map(() => STAGES.map(() => 0));
   for (const r of rows) {
@@ -155,10 +192,17 @@ async function deviceTypes(): Promise<{ id: number; name: string }[]> {
 }
 
 async function readyCounts(g: Groups, devices: { id: number }[]): Promise<number[][]> {
-  const rows = (await db()("device_courses as dc").join("workers", "workers.id", "dc.worker_id")
-    .select("workers.department_id as dept", "dc.device_type_id as device").count({ n: "*" })
-    .where("dc.status", "proficient").whereNot("workers.stage", "withdrawn")
-    .groupBy("workers.department_id", "dc.device_type_id")) as unknown as { dept: number; device: number; n: number | string }[];
+  const rows = (await db()("device_courses as dc")
+    .join("workers", "workers.id", "dc.worker_id")
+    .select("workers.department_id as dept", "dc.device_type_id as device")
+    .count({ n: "*" })
+    .where("dc.status", "proficient")
+    .whereNot("workers.stage", "withdrawn")
+    .groupBy("workers.department_id", "dc.device_type_id")) as unknown as {
+    dept: number;
+    device: number;
+    n: number | string;
+  }[];
   const di = new Map(g.departments.map((d, i) => [d.id, i]));
   const vi = new Map(devices.map((d, j) => [d.id, j]));
   const counts = g.departments.map(() => devices.map(() => 0));
@@ -175,7 +219,9 @@ async function publishedRunFilter(): Promise<((q: Knex.QueryBuilder) => void) | 
   const k = db();
   if (!(await k.schema.hasTable("allocation_runs"))) return null;
   if (await k.schema.hasColumn("allocation_runs", "published_at")) {
-    return (q) => { q.whereIn("ts.allocation_run_id", k("allocation_runs").select("id").whereNotNull("published_at")); };
+    return (q) => {
+      q.whereIn("ts.allocation_run_id", k("allocation_runs").select("id").whereNotNull("published_at"));
+    };
   }
   return null;
 }
@@ -189,20 +235,33 @@ async function plannedCounts(g: Groups): Promise<{ weeks: string[]; counts: numb
   const k = db();
   const runFilter = await publishedRunFilter();
   const lastSession = k("training_sessions as ts")
-    .select("ts.worker_id", "ts.device_type_id").max({ last: "ts.scheduled_start" })
-    .whereNotNull("ts.allocation_run_id").whereNotNull("ts.scheduled_start").whereNot("ts.status", "cancelled")
-    .whereRaw("ts.allocation_run_id = (select max(t2.allocation_run_id) from training_sessions t2 where t2.worker_id = ts.worker_id and t2.device_type_id = ts.device_type_id and t2.allocation_run_id is not null and t2.status <> 'cancelled')")
+    .select("ts.worker_id", "ts.device_type_id")
+    .max({ last: "ts.scheduled_start" })
+    .whereNotNull("ts.allocation_run_id")
+    .whereNotNull("ts.scheduled_start")
+    .whereNot("ts.status", "cancelled")
+    .whereRaw(
+      "ts.allocation_run_id = (select max(t2.allocation_run_id) from training_sessions t2 where t2.worker_id = ts.worker_id and t2.device_type_id = ts.device_type_id and t2.allocation_run_id is not null and t2.status <> 'cancelled')",
+    )
     .groupBy("ts.worker_id", "ts.device_type_id");
   if (runFilter) runFilter(lastSession);
   const day = isSqlite(k)
     ? "case when typeof(p.last) in ('integer', 'real') then date(p.last / 1000, 'unixepoch') else substr(p.last, 1, 10) end"
     : "to_char(p.last, 'YYYY-MM-DD')";
-  const rows = (await k.from(lastSession.as("p")).join("workers", "workers.id", "p.worker_id")
-    .leftJoin("device_courses as dc", (j) => { j.on("dc.worker_id", "p.worker_id").andOn("dc.device_type_id", "p.device_type_id"); })
-    .select("workers.department_id as dept", k.raw(`${day} as day`)).count({ n: "*" })
+  const rows = (await k
+    .from(lastSession.as("p"))
+    .join("workers", "workers.id", "p.worker_id")
+    .leftJoin("device_courses as dc", (j) => {
+      j.on("dc.worker_id", "p.worker_id").andOn("dc.device_type_id", "p.device_type_id");
+    })
+    .select("workers.department_id as dept", k.raw(`${day} as day`))
+    .count({ n: "*" })
     .whereNot("workers.stage", "withdrawn")
-    .where((w) => { w.whereNull("dc.status").orWhereNot("dc.status", "stopped"); })
-    .groupBy("workers.department_id").groupByRaw(day)) as unknown as { dept: number; day: string; n: number | string }[];
+    .where((w) => {
+      w.whereNull("dc.status").orWhereNot("dc.status", "stopped");
+    })
+    .groupBy("workers.department_id")
+    .groupByRaw(day)) as unknown as { dept: number; day: string; n: number | string }[];
   if (rows.length === 0) return { weeks: [], counts: [] };
   const days = rows.map((r) => String(r.day)).sort();
   const weeks = weekRange(days[0], days[days.length - 1]);
@@ -221,11 +280,16 @@ async function forecastValues(scope: Scope, g: Groups): Promise<Map<string, numb
   const k = db();
   if (!(await k.schema.hasTable("forecasts"))) return null;
   // Only forecasts of an approved model version count: drafts are not for decisions (DESIGN §3.3).
-  const q = k("forecasts as f").join("workers", "workers.id", "f.worker_id")
-    .join("model_versions as mv", "mv.id", "f.model_version_id").where("mv.status", "approved")
+  const q = k("forecasts as f")
+    .join("workers", "workers.id", "f.worker_id")
+    .join("model_versions as mv", "mv.id", "f.model_version_id")
+    .where("mv.status", "approved")
     .select("workers.department_id as dept", "f.device_type_id as device", "f.median_hours as hours")
     .whereNot("workers.stage", "withdrawn")
-    .whereIn("workers.department_id", g.viewer.departments.map((i) => g.departments[i].id));
+    .whereIn(
+      "workers.department_id",
+      g.viewer.departments.map((i) => g.departments[i].id),
+    );
   const rows = (await whereWorkerInScope(q, scope)) as unknown as { dept: number; device: number; hours: number }[];
   const out = new Map<string, number[]>();
   for (const r of rows) {
@@ -242,20 +306,48 @@ function roundHours(v: number | null): number | null {
   return v === null ? null : Math.round(v * 10) / 10;
 }
 
-function medianTables(g: Groups, devices: { id: number; name: string }[], values: Map<string, number[]>,
-  groupings: Grouping[], threshold: number): { department: MedianTable | null; site: MedianTable | null } {
+function medianTables(
+  g: Groups,
+  devices: { id: number; name: string }[],
+  values: Map<string, number[]>,
+  groupings: Grouping[],
+  threshold: number,
+): { department: MedianTable | null; site: MedianTable | null } {
   const columns = devices.map((d) => d.name);
   const mine = g.viewer.departments.map((i) => g.departments[i]);
   const whole = new Set(g.viewer.wholeSites);
-  const department = groupings.includes("department") ? {
-    rows: mine.map((d) => d.label), columns, threshold,
-    cells: mine.map((d) => devices.map((v) => roundHours(protectMedian(values.get(`${d.id}:${v.id}`) ?? [], threshold)))),
-  } : null;
-  const siteGroups = g.org.sites.map((s) => ({ s, depts: mine.filter((d) => `${d.siteId}` === s.key) })).filter((x) => x.depts.length > 0);
-  const site = groupings.includes("site") ? {
-    rows: siteGroups.map(({ s }) => (whole.has(s.key) || g.viewer.allSites ? s.label : `${s.label} (your departments)`)), columns, threshold,
-    cells: siteGroups.map(({ depts }) => devices.map((v) => roundHours(protectMedian(depts.flatMap((d) => values.get(`${d.id}:${v.id}`) ?? []), threshold)))),
-  } : null;
+  const department = groupings.includes("department")
+    ? {
+        rows: mine.map((d) => d.label),
+        columns,
+        threshold,
+        cells: mine.map((d) =>
+          devices.map((v) => roundHours(protectMedian(values.get(`${d.id}:${v.id}`) ?? [], threshold))),
+        ),
+      }
+    : null;
+  const siteGroups = g.org.sites
+    .map((s) => ({ s, depts: mine.filter((d) => `${d.siteId}` === s.key) }))
+    .filter((x) => x.depts.length > 0);
+  const site = groupings.includes("site")
+    ? {
+        rows: siteGroups.map(({ s }) =>
+          whole.has(s.key) || g.viewer.allSites ? s.label : `${s.label} (your departments)`,
+        ),
+        columns,
+        threshold,
+        cells: siteGroups.map(({ depts }) =>
+          devices.map((v) =>
+            roundHours(
+              protectMedian(
+                depts.flatMap((d) => values.get(`${d.id}:${v.id}`) ?? []),
+                threshold,
+              ),
+            ),
+          ),
+        ),
+      }
+    : null;
   return { department, site };
 }
 
@@ -267,7 +359,9 @@ function periodLabel(p: { first: string; last: string; weeks: number }): string 
 function siteColumns(g: Groups, t: ProtectedTable): ProtectedTable {
   const keys = [...new Set(g.viewer.departments.map((i) => g.org.departments[i].siteKey))];
   const whole = new Set(g.viewer.wholeSites);
-  const members = keys.map((k) => g.viewer.departments.map((i, c) => (g.org.departments[i].siteKey === k ? c : -1)).filter((c) => c >= 0));
+  const members = keys.map((k) =>
+    g.viewer.departments.map((i, c) => (g.org.departments[i].siteKey === k ? c : -1)).filter((c) => c >= 0),
+  );
   const label = (k: string) => {
     const site = g.org.sites.find((s) => s.key === k)?.label ?? k;
     return whole.has(k) || g.viewer.allSites ? site : `${site} (your departments)`;
@@ -287,38 +381,83 @@ export async function readinessBoard(scope: Scope): Promise<ReadinessBoard> {
   const [org, g, devices] = await Promise.all([organisationSettings(), readinessGroups(scope), deviceTypes()]);
   const { threshold, groupings } = org;
   const board: ReadinessBoard = {
-    threshold, groupings,
+    threshold,
+    groupings,
     scopeLabel: g.viewer.departments.length ? scopeLabelOf(g) : "no departments",
     wholeSites: g.org.sites.filter((s) => g.viewer.allSites || g.viewer.wholeSites.includes(s.key)).map((s) => s.label),
-    stage: { status: "off" }, ready: { status: "off" }, planned: { status: "off" }, medians: { status: "off" },
+    stage: { status: "off" },
+    ready: { status: "off" },
+    planned: { status: "off" },
+    medians: { status: "off" },
   };
   if (g.viewer.departments.length === 0) {
-    const empty = { status: "empty" as const, reason: "No departments are assigned to you yet. An administrator assigns departments or a whole site to your manager role." };
+    const empty = {
+      status: "empty" as const,
+      reason:
+        "No departments are assigned to you yet. An administrator assigns departments or a whole site to your manager role.",
+    };
     return { ...board, stage: empty, ready: empty, planned: empty, medians: empty };
   }
   if (groupings.includes("stage")) {
-    board.stage = { status: "ok", ...protectForViewer(g, STAGES.map((s) => STAGE_LABELS[s]), await stageCounts(g), groupings, threshold) };
+    board.stage = {
+      status: "ok",
+      ...protectForViewer(
+        g,
+        STAGES.map((s) => STAGE_LABELS[s]),
+        await stageCounts(g),
+        groupings,
+        threshold,
+      ),
+    };
   }
   if (groupings.includes("deviceType")) {
     if (devices.length === 0) board.ready = { status: "empty", reason: "No device types are set up yet." };
-    else board.ready = { status: "ok", ...protectForViewer(g, devices.map((d) => d.name), await readyCounts(g, devices), groupings, threshold) };
+    else
+      board.ready = {
+        status: "ok",
+        ...protectForViewer(
+          g,
+          devices.map((d) => d.name),
+          await readyCounts(g, devices),
+          groupings,
+          threshold,
+        ),
+      };
     const values = devices.length ? await forecastValues(scope, g) : new Map<string, number[]>();
-    if (values === null) board.medians = { status: "unavailable", reason: "Forecasts are not set up in this installation yet, so there are no forecast hours to summarise." };
-    else if (values.size === 0) board.medians = { status: "empty", reason: "No forecasts have been made for people in your departments yet." };
+    if (values === null)
+      board.medians = {
+        status: "unavailable",
+        reason: "Forecasts are not set up in this installation yet, so there are no forecast hours to summarise.",
+      };
+    else if (values.size === 0)
+      board.medians = { status: "empty", reason: "No forecasts have been made for people in your departments yet." };
     else board.medians = { status: "ok", ...medianTables(g, devices, values, groupings, threshold) };
   }
   if (groupings.includes("week")) {
     const { weeks, counts } = await plannedCounts(g);
     const mineHaveAny = weeks.length > 0 && counts.some((line) => g.viewer.departments.some((i) => line[i] > 0));
     if (!mineHaveAny) {
-      board.planned = { status: "empty", reason: "No published training plan schedules anyone in your departments yet." };
+      board.planned = {
+        status: "empty",
+        reason: "No published training plan schedules anyone in your departments yet.",
+      };
     } else {
       // Weeks × every department, protected once for the organisation; the viewer sees their columns.
       const { periods, counts: merged } = mergeWeeks(weeks, counts, threshold);
-      const full = protectTable(periods.map(periodLabel), g.org.departments.map((d) => d.label), merged, { threshold });
+      const full = protectTable(
+        periods.map(periodLabel),
+        g.org.departments.map((d) => d.label),
+        merged,
+        { threshold },
+      );
       const mine = columnSlice(full, g.viewer.departments);
       const table = groupings.includes("department") ? mine : siteColumns(g, mine);
-      board.planned = { status: "ok", table, cumulative: cumulativeFromProtected(table), weeks: periods.map((p) => p.last) };
+      board.planned = {
+        status: "ok",
+        table,
+        cumulative: cumulativeFromProtected(table),
+        weeks: periods.map((p) => p.last),
+      };
     }
   }
   return board;

@@ -1,6 +1,6 @@
 import { sampleStandardDeviation } from "simple-statistics";
 import { intraclassCorrelation, minimalDetectableChange, standardErrorOfMeasurement } from "~/compute/reliability";
-import { db, type Db } from "~/db.server";
+import { type Db, db } from "~/db.server";
 
 // Test–retest reliability per measure from repeated baselines (DESIGN §3.2, issue 3 §6).
 // Ratings: each worker's first two sessions holding the measure (rows = workers, columns = sessions),
@@ -16,13 +16,33 @@ export const MIN_RETEST_N = 5;
 export const MAX_RETEST_DAYS = 28;
 
 export interface MeasureReliability {
-  measureId: number; code: string; name: string; unit: string;
-  n: number; icc21: number | null; icc31: number | null; sd: number | null; sem: number | null; mdc95: number | null; note?: string;
+  measureId: number;
+  code: string;
+  name: string;
+  unit: string;
+  n: number;
+  icc21: number | null;
+  icc31: number | null;
+  sd: number | null;
+  sem: number | null;
+  mdc95: number | null;
+  note?: string;
 }
 
-export function retestSummary(pairs: [number, number][]): Omit<MeasureReliability, "measureId" | "code" | "name" | "unit"> {
+export function retestSummary(
+  pairs: [number, number][],
+): Omit<MeasureReliability, "measureId" | "code" | "name" | "unit"> {
   const n = pairs.length;
-  if (n < MIN_RETEST_N) return { n, icc21: null, icc31: null, sd: null, sem: null, mdc95: null, note: `needs two baselines from at least ${MIN_RETEST_N} workers` };
+  if (n < MIN_RETEST_N)
+    return {
+      n,
+      icc21: null,
+      icc31: null,
+      sd: null,
+      sem: null,
+      mdc95: null,
+      note: `needs two baselines from at least ${MIN_RETEST_N} workers`,
+    };
   try {
     const icc21 = intraclassCorrelation(pairs, "ICC(2,1)");
     const icc31 = intraclassCorrelation(pairs, "ICC(3,1)");
@@ -38,13 +58,16 @@ export function retestSummary(pairs: [number, number][]): Omit<MeasureReliabilit
 /** Reliability of every measure, organisation-wide (an aggregate: no worker is identifiable in it). */
 export async function reliabilityByMeasure(k: Db = db()): Promise<MeasureReliability[]> {
   const measures = await k("measures").select("id", "code", "name", "unit").orderBy("id");
-  const rows = await k("assessment_results as r").join("assessment_sessions as s", "s.id", "r.session_id")
-    .select("r.measure_id", "r.value", "s.worker_id", "s.assessed_on").orderBy([{ column: "s.assessed_on" }, { column: "s.id" }]);
+  const rows = await k("assessment_results as r")
+    .join("assessment_sessions as s", "s.id", "r.session_id")
+    .select("r.measure_id", "r.value", "s.worker_id", "s.assessed_on")
+    .orderBy([{ column: "s.assessed_on" }, { column: "s.id" }]);
   const series = new Map<string, { value: number; day: number }[]>();
   for (const r of rows) {
     const key = `${r.measure_id}:${r.worker_id}`;
     const list = series.get(key) ?? [];
-    if (list.length < 2) list.push({ value: r.value, day: Date.parse(`${String(r.assessed_on).slice(0, 10)}T00:00:00Z`) / 86_400_000 });
+    if (list.length < 2)
+      list.push({ value: r.value, day: Date.parse(`${String(r.assessed_on).slice(0, 10)}T00:00:00Z`) / 86_400_000 });
     series.set(key, list);
   }
   const pairsByMeasure = new Map<number, [number, number][]>();
@@ -53,12 +76,25 @@ export async function reliabilityByMeasure(k: Db = db()): Promise<MeasureReliabi
     const m = Number(key.split(":")[0]);
     (pairsByMeasure.get(m) ?? pairsByMeasure.set(m, []).get(m)!).push([v[0].value, v[1].value]);
   }
-  return measures.map((m) => ({ measureId: m.id, code: m.code, name: m.name, unit: m.unit, ...retestSummary(pairsByMeasure.get(m.id) ?? []) }));
+  return measures.map((m) => ({
+    measureId: m.id,
+    code: m.code,
+    name: m.name,
+    unit: m.unit,
+    ...retestSummary(pairsByMeasure.get(m.id) ?? []),
+  }));
 }
 
 export interface ChangeRow {
-  measureId: number; name: string; unit: string; higherIsBetter: boolean; previous: number; latest: number; change: number;
-  mdc95: number | null; verdict: "better" | "worse" | "within error" | "no MDC yet";
+  measureId: number;
+  name: string;
+  unit: string;
+  higherIsBetter: boolean;
+  previous: number;
+  latest: number;
+  change: number;
+  mdc95: number | null;
+  verdict: "better" | "worse" | "within error" | "no MDC yet";
 }
 
 /** For one worker: change of each measure from the previous to the latest session, judged against MDC95. */
@@ -68,21 +104,42 @@ export function changesSincePrevious(
 ): ChangeRow[] {
   const out: ChangeRow[] = [];
   const history = new Map<number, { name: string; unit: string; higherIsBetter: boolean; values: number[] }>();
-  for (const s of sessions) for (const r of s.results) {
-    const h = history.get(r.measureId) ?? { name: r.name, unit: r.unit, higherIsBetter: r.higherIsBetter, values: [] };
-    h.values.push(r.value);
-    history.set(r.measureId, h);
-  }
+  for (const s of sessions)
+    for (const r of s.results) {
+      const h = history.get(r.measureId) ?? {
+        name: r.name,
+        unit: r.unit,
+        higherIsBetter: r.higherIsBetter,
+        values: [],
+      };
+      h.values.push(r.value);
+      history.set(r.measureId, h);
+    }
   for (const [measureId, h] of history) {
     if (h.values.length < 2) continue;
     const previous = h.values[h.values.length - 2];
     const latest = h.values[h.values.length - 1];
     const change = latest - previous;
     const mdc = reliability.get(measureId)?.mdc95 ?? null;
-    const verdict: ChangeRow["verdict"] = mdc == null ? "no MDC yet"
-      : Math.abs(change) <= mdc ? "within error"
-      : (change > 0) === h.higherIsBetter ? "better" : "worse";
-    out.push({ measureId, name: h.name, unit: h.unit, higherIsBetter: h.higherIsBetter, previous, latest, change, mdc95: mdc, verdict });
+    const verdict: ChangeRow["verdict"] =
+      mdc == null
+        ? "no MDC yet"
+        : Math.abs(change) <= mdc
+          ? "within error"
+          : change > 0 === h.higherIsBetter
+            ? "better"
+            : "worse";
+    out.push({
+      measureId,
+      name: h.name,
+      unit: h.unit,
+      higherIsBetter: h.higherIsBetter,
+      previous,
+      latest,
+      change,
+      mdc95: mdc,
+      verdict,
+    });
   }
   return out;
 }

@@ -1,7 +1,7 @@
 import type { Knex } from "knex";
 import type { Principal } from "~/auth/guard.server";
 import { appUrl } from "~/config.server";
-import { db, type Db } from "~/db.server";
+import { type Db, db } from "~/db.server";
 import { sendMail } from "~/mail.server";
 import type { ReviewRequestInput } from "~/schemas/portal";
 import { REVIEW_SUBJECT_LABELS } from "~/schemas/portal";
@@ -11,40 +11,96 @@ import { whereWorkerInScope } from "./workers.server";
 // the worker answer in the app and the worker is e-mailed the answer.
 
 export class ReviewError extends Error {
-  constructor(message: string, readonly field?: string) { super(message); }
+  constructor(
+    message: string,
+    readonly field?: string,
+  ) {
+    super(message);
+  }
 }
 
-export async function createReviewRequest(workerId: number, userId: number, input: ReviewRequestInput): Promise<number> {
+export async function createReviewRequest(
+  workerId: number,
+  userId: number,
+  input: ReviewRequestInput,
+): Promise<number> {
   return db().transaction(async (trx) => {
     if (input.deviceTypeId != null && !(await trx("device_types").where({ id: input.deviceTypeId }).first("id"))) {
       throw new ReviewError("Device: choose one of your devices or leave it empty.", "deviceTypeId");
     }
-    const open = await trx("review_requests").where({ worker_id: workerId, status: "open" }).count<{ n: number }[]>({ n: "*" });
-    if (Number(open[0]?.n ?? 0) >= 5) throw new ReviewError("You already have 5 open requests; please wait for an answer first.", "_form");
-    const [row] = await trx("review_requests").insert({
-      worker_id: workerId, subject: input.subject, device_type_id: input.deviceTypeId ?? null, message: input.message,
-      status: "open", requested_by: userId, created_at: new Date().toISOString(),
-    }).returning("id");
+    const open = await trx("review_requests")
+      .where({ worker_id: workerId, status: "open" })
+      .count<{ n: number }[]>({ n: "*" });
+    if (Number(open[0]?.n ?? 0) >= 5)
+      throw new ReviewError("You already have 5 open requests; please wait for an answer first.", "_form");
+    const [row] = await trx("review_requests")
+      .insert({
+        worker_id: workerId,
+        subject: input.subject,
+        device_type_id: input.deviceTypeId ?? null,
+        message: input.message,
+        status: "open",
+        requested_by: userId,
+        created_at: new Date().toISOString(),
+      })
+      .returning("id");
     return row.id as number;
   });
 }
 
 export interface ReviewRow {
-  id: number; workerId: number; employeeNumber: string; name: string; subject: "forecast" | "plan"; deviceType: string | null; deviceTypeId: number | null;
-  message: string; status: "open" | "answered"; answer: string | null; answeredBy: string | null; createdAt: string; answeredAt: string | null;
+  id: number;
+  workerId: number;
+  employeeNumber: string;
+  name: string;
+  subject: "forecast" | "plan";
+  deviceType: string | null;
+  deviceTypeId: number | null;
+  message: string;
+  status: "open" | "answered";
+  answer: string | null;
+  answeredBy: string | null;
+  createdAt: string;
+  answeredAt: string | null;
 }
 
 function base(k: Db) {
-  return k("review_requests as r").join("workers", "workers.id", "r.worker_id").leftJoin("device_types as d", "d.id", "r.device_type_id")
+  return k("review_requests as r")
+    .join("workers", "workers.id", "r.worker_id")
+    .leftJoin("device_types as d", "d.id", "r.device_type_id")
     .leftJoin("users as a", "a.id", "r.answered_by")
-    .select("r.id", "r.worker_id", "workers.employee_number", "workers.given_name", "workers.family_name", "r.subject", "d.name as device_name", "r.device_type_id",
-      "r.message", "r.status", "r.answer", "a.display_name as answered_by", "r.created_at", "r.answered_at");
+    .select(
+      "r.id",
+      "r.worker_id",
+      "workers.employee_number",
+      "workers.given_name",
+      "workers.family_name",
+      "r.subject",
+      "d.name as device_name",
+      "r.device_type_id",
+      "r.message",
+      "r.status",
+      "r.answer",
+      "a.display_name as answered_by",
+      "r.created_at",
+      "r.answered_at",
+    );
 }
 function toRow(r: Record<string, any>): ReviewRow {
   return {
-    id: r.id, workerId: r.worker_id, employeeNumber: r.employee_number, name: `${r.given_name} ${r.family_name}`, subject: r.subject,
-    deviceType: r.device_name ?? null, deviceTypeId: r.device_type_id ?? null, message: r.message, status: r.status, answer: r.answer ?? null,
-    answeredBy: r.answered_by ?? null, createdAt: String(r.created_at), answeredAt: r.answered_at ? String(r.answered_at) : null,
+    id: r.id,
+    workerId: r.worker_id,
+    employeeNumber: r.employee_number,
+    name: `${r.given_name} ${r.family_name}`,
+    subject: r.subject,
+    deviceType: r.device_name ?? null,
+    deviceTypeId: r.device_type_id ?? null,
+    message: r.message,
+    status: r.status,
+    answer: r.answer ?? null,
+    answeredBy: r.answered_by ?? null,
+    createdAt: String(r.created_at),
+    answeredAt: r.answered_at ? String(r.answered_at) : null,
   };
 }
 
@@ -54,23 +110,47 @@ export async function myReviewRequests(workerId: number, k: Db = db()): Promise<
 }
 
 /** The assessors' queue: requests of workers in the principal's scope; open ones first, oldest first. */
-export async function reviewQueue(p: Principal, status: "open" | "answered" | "all" = "open", k: Db = db()): Promise<ReviewRow[]> {
+export async function reviewQueue(
+  p: Principal,
+  status: "open" | "answered" | "all" = "open",
+  k: Db = db(),
+): Promise<ReviewRow[]> {
   const q = base(k);
   whereWorkerInScope(q as Knex.QueryBuilder, p.scope);
   if (status !== "all") q.where("r.status", status);
-  q.orderBy([{ column: "r.status", order: "desc" }, { column: status === "answered" ? "r.answered_at" : "r.created_at", order: status === "answered" ? "desc" : "asc" }]).limit(200);
+  q.orderBy([
+    { column: "r.status", order: "desc" },
+    { column: status === "answered" ? "r.answered_at" : "r.created_at", order: status === "answered" ? "desc" : "asc" },
+  ]).limit(200);
   return (await q).map(toRow);
 }
 
 /** Answers a request in scope; e-mails the worker after the answer is stored. Returns the address mailed, if any. */
-export async function answerReview(p: Principal & { kind: "user" }, reviewId: number, answer: string): Promise<{ mailedTo: string | null; workerId: number }> {
+export async function answerReview(
+  p: Principal & { kind: "user" },
+  reviewId: number,
+  answer: string,
+): Promise<{ mailedTo: string | null; workerId: number }> {
   const done = await db().transaction(async (trx) => {
-    const q = trx("review_requests as r").join("workers", "workers.id", "r.worker_id").where("r.id", reviewId)
-      .select("r.id", "r.status", "r.subject", "r.worker_id", "r.created_at", "workers.email as worker_email", "workers.user_id", "workers.given_name");
+    const q = trx("review_requests as r")
+      .join("workers", "workers.id", "r.worker_id")
+      .where("r.id", reviewId)
+      .select(
+        "r.id",
+        "r.status",
+        "r.subject",
+        "r.worker_id",
+        "r.created_at",
+        "workers.email as worker_email",
+        "workers.user_id",
+        "workers.given_name",
+      );
     const r = await whereWorkerInScope(q as Knex.QueryBuilder, p.scope).first();
     if (!r) throw new ReviewError("This review request is not in your scope.", "_form");
     if (r.status !== "open") throw new ReviewError("This request has already been answered.", "_form");
-    await trx("review_requests").where({ id: r.id }).update({ status: "answered", answer, answered_by: p.user.id, answered_at: new Date().toISOString() });
+    await trx("review_requests")
+      .where({ id: r.id })
+      .update({ status: "answered", answer, answered_by: p.user.id, answered_at: new Date().toISOString() });
     const u = r.user_id ? await trx("users").where({ id: r.user_id }).first("email") : null;
     return { r, to: (u?.email as string) ?? (r.worker_email as string) ?? null };
   });
@@ -79,9 +159,12 @@ export async function answerReview(p: Principal & { kind: "user" }, reviewId: nu
       to: done.to,
       subject: "Your review request has been answered",
       text: [
-        `Hello ${done.r.given_name},`, "",
+        `Hello ${done.r.given_name},`,
+        "",
         `${p.user.displayName} has answered your request of ${String(done.r.created_at).slice(0, 10)} about ${REVIEW_SUBJECT_LABELS[done.r.subject as "forecast" | "plan"].toLowerCase()}:`,
-        "", answer, "",
+        "",
+        answer,
+        "",
         `You can read it, and ask again, under "Ask for a review" in Limberly: ${appUrl}/me/review`,
       ].join("\n"),
     });

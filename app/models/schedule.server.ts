@@ -5,29 +5,69 @@ import { whereWorkerInScope } from "./workers.server";
 // The published schedule (issue 5): scheduled sessions that came from a published allocation run, for the
 // coordinator's view and the XLSX export. Workers outside the reader's scope are left out.
 export interface ScheduleRow {
-  id: number; workerId: number; date: string; start: string; end: string; employeeNumber: string; worker: string; department: string; site: string;
-  deviceType: string; unit: string | null; trainer: string | null; runId: number;
+  id: number;
+  workerId: number;
+  date: string;
+  start: string;
+  end: string;
+  employeeNumber: string;
+  worker: string;
+  department: string;
+  site: string;
+  deviceType: string;
+  unit: string | null;
+  trainer: string | null;
+  runId: number;
 }
 
 export async function publishedSchedule(scope: Scope, limit = 20_000): Promise<ScheduleRow[]> {
-  const q = db()("training_sessions as s").join("workers", "workers.id", "s.worker_id")
-    .join("sites as site", "site.id", "workers.site_id").join("departments as d", "d.id", "workers.department_id")
+  const q = db()("training_sessions as s")
+    .join("workers", "workers.id", "s.worker_id")
+    .join("sites as site", "site.id", "workers.site_id")
+    .join("departments as d", "d.id", "workers.department_id")
     .join("device_types as t", "t.id", "s.device_type_id")
     .leftJoin("device_units as u", "u.id", "s.device_unit_id")
-    .leftJoin("trainers as tr", "tr.id", "s.trainer_id").leftJoin("users as tu", "tu.id", "tr.user_id")
-    .whereNotNull("s.allocation_run_id").where("s.status", "scheduled")
-    .select("s.id", "s.worker_id", "s.scheduled_start", "s.scheduled_end", "s.allocation_run_id", "workers.employee_number", "workers.given_name", "workers.family_name",
-      "site.name as site", "d.name as department", "t.name as device", "u.serial", "tu.display_name as trainer")
-    .orderBy([{ column: "s.scheduled_start" }, { column: "tu.display_name" }, { column: "workers.employee_number" }]).limit(limit);
+    .leftJoin("trainers as tr", "tr.id", "s.trainer_id")
+    .leftJoin("users as tu", "tu.id", "tr.user_id")
+    .whereNotNull("s.allocation_run_id")
+    .where("s.status", "scheduled")
+    .select(
+      "s.id",
+      "s.worker_id",
+      "s.scheduled_start",
+      "s.scheduled_end",
+      "s.allocation_run_id",
+      "workers.employee_number",
+      "workers.given_name",
+      "workers.family_name",
+      "site.name as site",
+      "d.name as department",
+      "t.name as device",
+      "u.serial",
+      "tu.display_name as trainer",
+    )
+    .orderBy([{ column: "s.scheduled_start" }, { column: "tu.display_name" }, { column: "workers.employee_number" }])
+    .limit(limit);
   whereWorkerInScope(q, scope);
   return (await q).map((r) => {
     const [date, st] = String(r.scheduled_start).split("T");
     return {
-      id: r.id, workerId: r.worker_id, date, start: (st ?? "").slice(0, 5), end: (String(r.scheduled_end).split("T")[1] ?? "").slice(0, 5),
-      employeeNumber: r.employee_number, worker: `${r.given_name} ${r.family_name}`, department: r.department, site: r.site,
-      deviceType: r.device, unit: r.serial ?? null, trainer: r.trainer ?? null, runId: r.allocation_run_id,
+      id: r.id,
+      workerId: r.worker_id,
+      date,
+      start: (st ?? "").slice(0, 5),
+      end: (String(r.scheduled_end).split("T")[1] ?? "").slice(0, 5),
+      employeeNumber: r.employee_number,
+      worker: `${r.given_name} ${r.family_name}`,
+      department: r.department,
+      site: r.site,
+      deviceType: r.device,
+      unit: r.serial ?? null,
+      trainer: r.trainer ?? null,
+      runId: r.allocation_run_id,
     };
   });
 }
 
-export const SCHEDULE_NOTE = "Planned device training (decision support, published by a coordinator). Keep to each device's wear-time limit; check skin and fatigue before and after each session; stop at once on pain or numbness. Fit is checked by a clinician; the manufacturer's instructions and local occupational-safety rules take precedence.";
+export const SCHEDULE_NOTE =
+  "Planned device training (decision support, published by a coordinator). Keep to each device's wear-time limit; check skin and fatigue before and after each session; stop at once on pain or numbness. Fit is checked by a clinician; the manufacturer's instructions and local occupational-safety rules take precedence.";

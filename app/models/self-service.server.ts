@@ -1,16 +1,25 @@
 import type { Principal } from "~/auth/guard.server";
-import { db, type Db } from "~/db.server";
-import { sendMail } from "~/mail.server";
 import { appUrl } from "~/config.server";
+import { type Db, db } from "~/db.server";
+import { sendMail } from "~/mail.server";
 import { roleEmailsCovering } from "./adverse-events.server";
 import {
-  consentHistory, consentState, currentConsentTexts, ConsentInputError, erasePlanEntries, setStage, withdrawConsent, type ConsentPurpose, type WithdrawalResult,
+  ConsentInputError,
+  type ConsentPurpose,
+  consentHistory,
+  consentState,
+  currentConsentTexts,
+  erasePlanEntries,
+  setStage,
+  type WithdrawalResult,
+  withdrawConsent,
 } from "./consent.server";
 
 export { erasePlanEntries };
-import { refreshForecastsForWorker } from "./forecast.server";
-import { progressView, type ProgressView } from "./progress.server";
+
 import { wallClockIso } from "~/schemas/portal";
+import { refreshForecastsForWorker } from "./forecast.server";
+import { type ProgressView, progressView } from "./progress.server";
 
 // The worker's own portal (issue 7). Every function takes the worker id that the route read from the
 // signed-in session (AppUser.workerId), never one from the URL, and reads only rows of that worker.
@@ -18,38 +27,94 @@ import { wallClockIso } from "~/schemas/portal";
 export { ConsentInputError };
 
 export async function ownWorker(workerId: number, k: Db = db()) {
-  const w = await k("workers as w").join("sites as s", "s.id", "w.site_id").join("departments as d", "d.id", "w.department_id")
-    .where("w.id", workerId).first("w.id", "w.employee_number", "w.given_name", "w.family_name", "w.email", "w.stage", "w.site_id", "w.department_id",
-      "s.name as site", "d.name as department");
+  const w = await k("workers as w")
+    .join("sites as s", "s.id", "w.site_id")
+    .join("departments as d", "d.id", "w.department_id")
+    .where("w.id", workerId)
+    .first(
+      "w.id",
+      "w.employee_number",
+      "w.given_name",
+      "w.family_name",
+      "w.email",
+      "w.stage",
+      "w.site_id",
+      "w.department_id",
+      "s.name as site",
+      "d.name as department",
+    );
   if (!w) return null;
   return {
-    id: w.id as number, employeeNumber: w.employee_number as string, givenName: w.given_name as string, name: `${w.given_name} ${w.family_name}`,
-    email: (w.email as string) ?? null, stage: w.stage as string, siteId: w.site_id as number, departmentId: w.department_id as number,
-    site: w.site as string, department: w.department as string,
+    id: w.id as number,
+    employeeNumber: w.employee_number as string,
+    givenName: w.given_name as string,
+    name: `${w.given_name} ${w.family_name}`,
+    email: (w.email as string) ?? null,
+    stage: w.stage as string,
+    siteId: w.site_id as number,
+    departmentId: w.department_id as number,
+    site: w.site as string,
+    department: w.department as string,
   };
 }
 
 export interface MySession {
-  id: number; start: string; end: string | null; deviceType: string; deviceTypeId: number; unit: string | null; place: string; trainer: string | null; status: string;
+  id: number;
+  start: string;
+  end: string | null;
+  deviceType: string;
+  deviceTypeId: number;
+  unit: string | null;
+  place: string;
+  trainer: string | null;
+  status: string;
 }
 
 /** My sessions from `from` on (scheduled ones; cancelled ones are left out). */
-export async function mySessions(workerId: number, opts: { from?: string; limit?: number; includePast?: boolean } = {}, k: Db = db()): Promise<MySession[]> {
-  const q = k("training_sessions as ts").join("device_types as d", "d.id", "ts.device_type_id")
-    .leftJoin("device_units as u", "u.id", "ts.device_unit_id").leftJoin("sites as us", "us.id", "u.site_id")
-    .leftJoin("trainers as tr", "tr.id", "ts.trainer_id").leftJoin("users as tu", "tu.id", "tr.user_id").leftJoin("sites as trs", "trs.id", "tr.site_id")
-    .join("workers as w", "w.id", "ts.worker_id").join("sites as ws", "ws.id", "w.site_id")
-    .where("ts.worker_id", workerId).whereNotNull("ts.scheduled_start")
-    .select("ts.id", "ts.scheduled_start", "ts.scheduled_end", "ts.status", "d.id as device_type_id", "d.name as device_name", "u.serial",
-      "us.name as unit_site", "trs.name as trainer_site", "ws.name as worker_site", "tu.display_name as trainer")
+export async function mySessions(
+  workerId: number,
+  opts: { from?: string; limit?: number; includePast?: boolean } = {},
+  k: Db = db(),
+): Promise<MySession[]> {
+  const q = k("training_sessions as ts")
+    .join("device_types as d", "d.id", "ts.device_type_id")
+    .leftJoin("device_units as u", "u.id", "ts.device_unit_id")
+    .leftJoin("sites as us", "us.id", "u.site_id")
+    .leftJoin("trainers as tr", "tr.id", "ts.trainer_id")
+    .leftJoin("users as tu", "tu.id", "tr.user_id")
+    .leftJoin("sites as trs", "trs.id", "tr.site_id")
+    .join("workers as w", "w.id", "ts.worker_id")
+    .join("sites as ws", "ws.id", "w.site_id")
+    .where("ts.worker_id", workerId)
+    .whereNotNull("ts.scheduled_start")
+    .select(
+      "ts.id",
+      "ts.scheduled_start",
+      "ts.scheduled_end",
+      "ts.status",
+      "d.id as device_type_id",
+      "d.name as device_name",
+      "u.serial",
+      "us.name as unit_site",
+      "trs.name as trainer_site",
+      "ws.name as worker_site",
+      "tu.display_name as trainer",
+    )
     .orderBy("ts.scheduled_start");
-  if (!opts.includePast) q.where("ts.status", "scheduled").where("ts.scheduled_start", ">=", opts.from ?? new Date().toISOString());
+  if (!opts.includePast)
+    q.where("ts.status", "scheduled").where("ts.scheduled_start", ">=", opts.from ?? new Date().toISOString());
   else q.whereNot("ts.status", "cancelled");
   if (opts.limit) q.limit(opts.limit);
   return (await q).map((r) => ({
-    id: r.id, start: wallClockIso(r.scheduled_start), end: r.scheduled_end ? wallClockIso(r.scheduled_end) : null,
-    deviceType: r.device_name, deviceTypeId: r.device_type_id, unit: r.serial ?? null, place: r.unit_site ?? r.trainer_site ?? r.worker_site,
-    trainer: r.trainer ?? null, status: r.status,
+    id: r.id,
+    start: wallClockIso(r.scheduled_start),
+    end: r.scheduled_end ? wallClockIso(r.scheduled_end) : null,
+    deviceType: r.device_name,
+    deviceTypeId: r.device_type_id,
+    unit: r.serial ?? null,
+    place: r.unit_site ?? r.trainer_site ?? r.worker_site,
+    trainer: r.trainer ?? null,
+    status: r.status,
   }));
 }
 
@@ -59,22 +124,47 @@ function selfPrincipal(p: Principal, departmentId: number): Principal {
 }
 
 export interface MyForecast {
-  deviceTypeId: number; deviceType: string; medianHours: number; lowerHours: number; upperHours: number; intervalLevel: number;
-  hoursDone: number; remainingHours: number | null; remainingLower: number | null; remainingUpper: number | null; status: string | null;
-  courseStatus: string | null; pauseReason: string | null; modelVersion: number;
+  deviceTypeId: number;
+  deviceType: string;
+  medianHours: number;
+  lowerHours: number;
+  upperHours: number;
+  intervalLevel: number;
+  hoursDone: number;
+  remainingHours: number | null;
+  remainingLower: number | null;
+  remainingUpper: number | null;
+  status: string | null;
+  courseStatus: string | null;
+  pauseReason: string | null;
+  modelVersion: number;
 }
 
 export async function myForecasts(workerId: number, k: Db = db()): Promise<MyForecast[]> {
-  const rows = await k("forecasts as f").join("device_types as d", "d.id", "f.device_type_id").join("model_versions as v", "v.id", "f.model_version_id")
-    .leftJoin("device_courses as c", function () { this.on("c.worker_id", "f.worker_id").andOn("c.device_type_id", "f.device_type_id"); })
+  const rows = await k("forecasts as f")
+    .join("device_types as d", "d.id", "f.device_type_id")
+    .join("model_versions as v", "v.id", "f.model_version_id")
+    .leftJoin("device_courses as c", function () {
+      this.on("c.worker_id", "f.worker_id").andOn("c.device_type_id", "f.device_type_id");
+    })
     .where("f.worker_id", workerId)
-    .select("f.*", "d.name as device_name", "v.version_number", "c.status as course_status", "c.pause_reason").orderBy("d.id");
+    .select("f.*", "d.name as device_name", "v.version_number", "c.status as course_status", "c.pause_reason")
+    .orderBy("d.id");
   return rows.map((r) => ({
-    deviceTypeId: r.device_type_id, deviceType: r.device_name, medianHours: Number(r.median_hours), lowerHours: Number(r.lower_hours),
-    upperHours: Number(r.upper_hours), intervalLevel: Number(r.interval_level), hoursDone: Number(r.hours_done),
-    remainingHours: r.remaining_hours == null ? null : Number(r.remaining_hours), remainingLower: r.remaining_lower == null ? null : Number(r.remaining_lower),
-    remainingUpper: r.remaining_upper == null ? null : Number(r.remaining_upper), status: r.progress_status ?? null,
-    courseStatus: r.course_status ?? null, pauseReason: r.pause_reason ?? null, modelVersion: r.version_number,
+    deviceTypeId: r.device_type_id,
+    deviceType: r.device_name,
+    medianHours: Number(r.median_hours),
+    lowerHours: Number(r.lower_hours),
+    upperHours: Number(r.upper_hours),
+    intervalLevel: Number(r.interval_level),
+    hoursDone: Number(r.hours_done),
+    remainingHours: r.remaining_hours == null ? null : Number(r.remaining_hours),
+    remainingLower: r.remaining_lower == null ? null : Number(r.remaining_lower),
+    remainingUpper: r.remaining_upper == null ? null : Number(r.remaining_upper),
+    status: r.progress_status ?? null,
+    courseStatus: r.course_status ?? null,
+    pauseReason: r.pause_reason ?? null,
+    modelVersion: r.version_number,
   }));
 }
 
@@ -83,9 +173,15 @@ export async function workerHome(p: Principal, workerId: number, now = new Date(
   const me = await ownWorker(workerId);
   if (!me) return null;
   const next = await mySessions(workerId, { from: now.toISOString(), limit: 8 });
-  const attended = await db()("training_sessions").where({ worker_id: workerId, status: "attended" }).count<{ n: number }[]>({ n: "*" });
-  const courses = await db()("device_courses as c").join("device_types as d", "d.id", "c.device_type_id").where("c.worker_id", workerId)
-    .whereIn("c.status", ["training", "paused", "proficient"]).select("c.device_type_id", "c.status", "c.pause_reason", "d.name").orderBy("d.id");
+  const attended = await db()("training_sessions")
+    .where({ worker_id: workerId, status: "attended" })
+    .count<{ n: number }[]>({ n: "*" });
+  const courses = await db()("device_courses as c")
+    .join("device_types as d", "d.id", "c.device_type_id")
+    .where("c.worker_id", workerId)
+    .whereIn("c.status", ["training", "paused", "proficient"])
+    .select("c.device_type_id", "c.status", "c.pause_reason", "d.name")
+    .orderBy("d.id");
   const self = selfPrincipal(p, me.departmentId);
   const progress: ProgressView[] = [];
   for (const c of courses) {
@@ -93,15 +189,25 @@ export async function workerHome(p: Principal, workerId: number, now = new Date(
     if (v && v.worker.id === workerId) progress.push(v);
   }
   return {
-    me, next, firstSessionAhead: Number(attended[0]?.n ?? 0) === 0, forecasts: await myForecasts(workerId), progress,
-    paused: courses.filter((c) => c.status === "paused").map((c) => ({ deviceType: c.name as string, reason: (c.pause_reason as string) ?? null })),
+    me,
+    next,
+    firstSessionAhead: Number(attended[0]?.n ?? 0) === 0,
+    forecasts: await myForecasts(workerId),
+    progress,
+    paused: courses
+      .filter((c) => c.status === "paused")
+      .map((c) => ({ deviceType: c.name as string, reason: (c.pause_reason as string) ?? null })),
   };
 }
 
 // ── Consent ─────────────────────────────────────────────────────────────────────────────────────
 
 export async function myConsent(workerId: number) {
-  const [texts, state, history] = await Promise.all([currentConsentTexts(), consentState(workerId), consentHistory(workerId)]);
+  const [texts, state, history] = await Promise.all([
+    currentConsentTexts(),
+    consentState(workerId),
+    consentHistory(workerId),
+  ]);
   return { texts, state, history };
 }
 
@@ -114,20 +220,39 @@ export async function giveOwnConsent(workerId: number, purpose: ConsentPurpose, 
   await db().transaction(async (trx) => {
     const texts = await currentConsentTexts(trx);
     const text = texts[purpose];
-    if (!text) throw new ConsentInputError(`There is no ${purpose} consent text in force yet; nothing was recorded.`, "purpose");
-    const last = await trx("consent_records").where({ worker_id: workerId, purpose }).orderBy("id", "desc").first("status", "text_version_id");
-    if (last?.status === "given" && last.text_version_id === text.id) throw new ConsentInputError(`You have already given ${purpose} consent on the current text (v${text.version}).`, "purpose");
+    if (!text)
+      throw new ConsentInputError(`There is no ${purpose} consent text in force yet; nothing was recorded.`, "purpose");
+    const last = await trx("consent_records")
+      .where({ worker_id: workerId, purpose })
+      .orderBy("id", "desc")
+      .first("status", "text_version_id");
+    if (last?.status === "given" && last.text_version_id === text.id)
+      throw new ConsentInputError(
+        `You have already given ${purpose} consent on the current text (v${text.version}).`,
+        "purpose",
+      );
     const at = new Date().toISOString();
     await trx("consent_records").insert({
-      worker_id: workerId, purpose, text_version_id: text.id, status: "given", given_at: at, witness_user_id: null, recorded_by: userId, created_at: at,
+      worker_id: workerId,
+      purpose,
+      text_version_id: text.id,
+      status: "given",
+      given_at: at,
+      witness_user_id: null,
+      recorded_by: userId,
+      created_at: at,
     });
     const w = await trx("workers").where({ id: workerId }).first("stage");
-    if (purpose === "assessment" && (w.stage === "invited" || w.stage === "withdrawn")) await setStage(trx, workerId, "consented", userId, at);
+    if (purpose === "assessment" && (w.stage === "invited" || w.stage === "withdrawn"))
+      await setStage(trx, workerId, "consented", userId, at);
     if (purpose === "planning") await refreshForecastsForWorker(trx, workerId, userId);
   });
 }
 
-export interface OwnWithdrawal extends WithdrawalResult { sessionsCancelled: number; coordinatorsNotified: string[] }
+export interface OwnWithdrawal extends WithdrawalResult {
+  sessionsCancelled: number;
+  coordinatorsNotified: string[];
+}
 
 /**
  * Withdrawal by the worker: the SAME withdrawConsent() an assessor's recording uses (erasure in its own
@@ -138,7 +263,12 @@ export interface OwnWithdrawal extends WithdrawalResult { sessionsCancelled: num
  * transaction (for assessor-recorded withdrawals too); dropFromPlans below then finds nothing left and only
  * repairs records written before that step existed.
  */
-export async function withdrawOwnConsent(workerId: number, purpose: ConsentPurpose, userId: number, now = new Date()): Promise<OwnWithdrawal> {
+export async function withdrawOwnConsent(
+  workerId: number,
+  purpose: ConsentPurpose,
+  userId: number,
+  now = new Date(),
+): Promise<OwnWithdrawal> {
   const result = await withdrawConsent({ workerId, purpose, recordedBy: userId });
   let sessionsCancelled = 0;
   let coordinatorsNotified: string[] = [];
@@ -156,14 +286,28 @@ export async function dropFromPlans(workerId: number, userId: number | null, now
 
 /** True when withdrawn planning/assessment consent still leaves future scheduled sessions (a failed second step). */
 export async function plansNeedDropping(workerId: number, now = new Date()): Promise<boolean> {
-  const planning = await db()("consent_records").where({ worker_id: workerId, purpose: "planning" }).orderBy("id", "desc").first("status");
+  const planning = await db()("consent_records")
+    .where({ worker_id: workerId, purpose: "planning" })
+    .orderBy("id", "desc")
+    .first("status");
   if (planning?.status !== "withdrawn") return false;
-  return Boolean(await db()("training_sessions").where({ worker_id: workerId, status: "scheduled" }).where("scheduled_start", ">=", now.toISOString()).first("id"));
+  return Boolean(
+    await db()("training_sessions")
+      .where({ worker_id: workerId, status: "scheduled" })
+      .where("scheduled_start", ">=", now.toISOString())
+      .first("id"),
+  );
 }
 
 /** E-mails the coordinators whose scope covers the worker that the worker left the plans. Returns the addresses. */
-export async function notifyCoordinatorsOfWithdrawal(workerId: number, purpose: ConsentPurpose, cancelled: number): Promise<string[]> {
-  const w = await db()("workers as w").join("sites as s", "s.id", "w.site_id").where("w.id", workerId)
+export async function notifyCoordinatorsOfWithdrawal(
+  workerId: number,
+  purpose: ConsentPurpose,
+  cancelled: number,
+): Promise<string[]> {
+  const w = await db()("workers as w")
+    .join("sites as s", "s.id", "w.site_id")
+    .where("w.id", workerId)
     .first("w.employee_number", "w.given_name", "w.family_name", "w.site_id", "w.department_id", "s.name as site");
   if (!w) return [];
   const to = await roleEmailsCovering(db(), "coordinator", w.site_id, w.department_id);
@@ -176,7 +320,8 @@ export async function notifyCoordinatorsOfWithdrawal(workerId: number, purpose: 
       "",
       `Their forecasts are erased and they are no longer in any plan. ${cancelled} future scheduled session${cancelled === 1 ? " was" : "s were"} cancelled; the device and trainer time is free again.`,
       "Do not plan this worker until they give consent again.",
-      "", `Plans and fleet: ${appUrl}/coordinate`,
+      "",
+      `Plans and fleet: ${appUrl}/coordinate`,
     ].join("\n"),
   });
   return to;

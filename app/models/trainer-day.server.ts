@@ -1,7 +1,7 @@
-import { db, type Db } from "~/db.server";
+import { type Db, db } from "~/db.server";
+import { wallClockIso } from "~/schemas/portal";
 import type { TrainerLogInput } from "~/schemas/session-log";
 import { adverseEventsFrom } from "~/schemas/session-log";
-import { wallClockIso } from "~/schemas/portal";
 import { eventsForSessions, notifyAssessorsOfSevereEvents, recordAdverseEvents } from "./adverse-events.server";
 import { logSessionResult, SessionLogError } from "./progress.server";
 
@@ -10,18 +10,40 @@ import { logSessionResult, SessionLogError } from "./progress.server";
 
 export { SessionLogError };
 
-export interface TrainerRef { id: number; siteId: number; site: string; name: string }
+export interface TrainerRef {
+  id: number;
+  siteId: number;
+  site: string;
+  name: string;
+}
 
 export async function trainerForUser(userId: number, k: Db = db()): Promise<TrainerRef | null> {
-  const t = await k("trainers as t").join("sites as s", "s.id", "t.site_id").join("users as u", "u.id", "t.user_id")
-    .where("t.user_id", userId).first("t.id", "t.site_id", "s.name as site", "u.display_name");
+  const t = await k("trainers as t")
+    .join("sites as s", "s.id", "t.site_id")
+    .join("users as u", "u.id", "t.user_id")
+    .where("t.user_id", userId)
+    .first("t.id", "t.site_id", "s.name as site", "u.display_name");
   return t ? { id: t.id, siteId: t.site_id, site: t.site, name: t.display_name } : null;
 }
 
 export interface ScheduledSession {
-  id: number; workerId: number; employeeNumber: string; trainee: string; deviceTypeId: number; deviceType: string; deviceCode: string;
-  unit: string | null; place: string; start: string | null; end: string | null; status: string; taskScore: number | null;
-  durationHours: number | null; courseStatus: string | null; pauseReason: string | null; wearTimeLimitMinutes: number;
+  id: number;
+  workerId: number;
+  employeeNumber: string;
+  trainee: string;
+  deviceTypeId: number;
+  deviceType: string;
+  deviceCode: string;
+  unit: string | null;
+  place: string;
+  start: string | null;
+  end: string | null;
+  status: string;
+  taskScore: number | null;
+  durationHours: number | null;
+  courseStatus: string | null;
+  pauseReason: string | null;
+  wearTimeLimitMinutes: number;
 }
 
 function sessionQuery(k: Db, trainerId: number) {
@@ -32,21 +54,52 @@ function sessionQuery(k: Db, trainerId: number) {
     .leftJoin("sites as us", "us.id", "u.site_id")
     .join("trainers as tr", "tr.id", "ts.trainer_id")
     .join("sites as ts_site", "ts_site.id", "tr.site_id")
-    .leftJoin("device_courses as c", function () { this.on("c.worker_id", "ts.worker_id").andOn("c.device_type_id", "ts.device_type_id"); })
+    .leftJoin("device_courses as c", function () {
+      this.on("c.worker_id", "ts.worker_id").andOn("c.device_type_id", "ts.device_type_id");
+    })
     .where("ts.trainer_id", trainerId)
-    .select("ts.id", "ts.worker_id", "w.employee_number", "w.given_name", "w.family_name", "ts.device_type_id", "d.name as device_name", "d.code as device_code",
-      "d.wear_time_limit_minutes", "u.serial", "us.name as unit_site", "ts_site.name as trainer_site", "ts.scheduled_start", "ts.scheduled_end", "ts.status",
-      "ts.task_score", "ts.duration_hours", "c.status as course_status", "c.pause_reason");
+    .select(
+      "ts.id",
+      "ts.worker_id",
+      "w.employee_number",
+      "w.given_name",
+      "w.family_name",
+      "ts.device_type_id",
+      "d.name as device_name",
+      "d.code as device_code",
+      "d.wear_time_limit_minutes",
+      "u.serial",
+      "us.name as unit_site",
+      "ts_site.name as trainer_site",
+      "ts.scheduled_start",
+      "ts.scheduled_end",
+      "ts.status",
+      "ts.task_score",
+      "ts.duration_hours",
+      "c.status as course_status",
+      "c.pause_reason",
+    );
 }
 
 function toSession(r: Record<string, any>): ScheduledSession {
   return {
-    id: r.id, workerId: r.worker_id, employeeNumber: r.employee_number, trainee: `${r.given_name} ${r.family_name}`,
-    deviceTypeId: r.device_type_id, deviceType: r.device_name, deviceCode: r.device_code, unit: r.serial ?? null,
-    place: r.unit_site ?? r.trainer_site, start: r.scheduled_start ? wallClockIso(r.scheduled_start) : null,
-    end: r.scheduled_end ? wallClockIso(r.scheduled_end) : null, status: r.status,
-    taskScore: r.task_score == null ? null : Number(r.task_score), durationHours: r.duration_hours == null ? null : Number(r.duration_hours),
-    courseStatus: r.course_status ?? null, pauseReason: r.pause_reason ?? null, wearTimeLimitMinutes: Number(r.wear_time_limit_minutes),
+    id: r.id,
+    workerId: r.worker_id,
+    employeeNumber: r.employee_number,
+    trainee: `${r.given_name} ${r.family_name}`,
+    deviceTypeId: r.device_type_id,
+    deviceType: r.device_name,
+    deviceCode: r.device_code,
+    unit: r.serial ?? null,
+    place: r.unit_site ?? r.trainer_site,
+    start: r.scheduled_start ? wallClockIso(r.scheduled_start) : null,
+    end: r.scheduled_end ? wallClockIso(r.scheduled_end) : null,
+    status: r.status,
+    taskScore: r.task_score == null ? null : Number(r.task_score),
+    durationHours: r.duration_hours == null ? null : Number(r.duration_hours),
+    courseStatus: r.course_status ?? null,
+    pauseReason: r.pause_reason ?? null,
+    wearTimeLimitMinutes: Number(r.wear_time_limit_minutes),
   };
 }
 
@@ -55,8 +108,17 @@ export function dayAndWeek(now: Date) {
   const day = new Date(Date.UTC(now.getUTCFullYear(), now.getUTCMonth(), now.getUTCDate()));
   const monday = new Date(day);
   monday.setUTCDate(day.getUTCDate() - ((day.getUTCDay() + 6) % 7));
-  const next = (d: Date, n: number) => { const x = new Date(d); x.setUTCDate(d.getUTCDate() + n); return x; };
-  return { dayStart: day.toISOString(), dayEnd: next(day, 1).toISOString(), weekStart: monday.toISOString(), weekEnd: next(monday, 7).toISOString() };
+  const next = (d: Date, n: number) => {
+    const x = new Date(d);
+    x.setUTCDate(d.getUTCDate() + n);
+    return x;
+  };
+  return {
+    dayStart: day.toISOString(),
+    dayEnd: next(day, 1).toISOString(),
+    weekStart: monday.toISOString(),
+    weekEnd: next(monday, 7).toISOString(),
+  };
 }
 
 /** The schedule view leaves out results (scores, practice time): those are read, and logged, on the session page. */
@@ -67,10 +129,20 @@ function scheduleOnly(r: Record<string, any>): ScheduledSession {
 /** The trainer's sessions for today and this week, and earlier scheduled sessions still waiting to be logged. */
 export async function trainerDay(trainerId: number, now = new Date(), k: Db = db()) {
   const w = dayAndWeek(now);
-  const week = (await sessionQuery(k, trainerId).where("ts.scheduled_start", ">=", w.weekStart).where("ts.scheduled_start", "<", w.weekEnd)
-    .whereNot("ts.status", "cancelled").orderBy("ts.scheduled_start")).map(scheduleOnly);
-  const waiting = (await sessionQuery(k, trainerId).where("ts.status", "scheduled").where("ts.scheduled_start", "<", w.weekStart)
-    .orderBy("ts.scheduled_start").limit(50)).map(scheduleOnly);
+  const week = (
+    await sessionQuery(k, trainerId)
+      .where("ts.scheduled_start", ">=", w.weekStart)
+      .where("ts.scheduled_start", "<", w.weekEnd)
+      .whereNot("ts.status", "cancelled")
+      .orderBy("ts.scheduled_start")
+  ).map(scheduleOnly);
+  const waiting = (
+    await sessionQuery(k, trainerId)
+      .where("ts.status", "scheduled")
+      .where("ts.scheduled_start", "<", w.weekStart)
+      .orderBy("ts.scheduled_start")
+      .limit(50)
+  ).map(scheduleOnly);
   const today = week.filter((s) => s.start != null && s.start >= w.dayStart && s.start < w.dayEnd);
   const rest = week.filter((s) => !today.includes(s));
   return { ...w, today, rest, waiting };
@@ -90,20 +162,33 @@ export async function sessionExists(sessionId: number, k: Db = db()): Promise<bo
 }
 
 export class TrainerDayError extends Error {
-  constructor(message: string, readonly field?: string) { super(message); }
+  constructor(
+    message: string,
+    readonly field?: string,
+  ) {
+    super(message);
+  }
 }
 
 export async function markNoShow(trainerId: number, sessionId: number, userId: number): Promise<void> {
   await db().transaction(async (trx) => {
     const s = await trx("training_sessions").where({ id: sessionId, trainer_id: trainerId }).first("id", "status");
     if (!s) throw new TrainerDayError("This session is not on your schedule.");
-    if (s.status !== "scheduled") throw new TrainerDayError(`This session is already recorded as ${s.status.replace("_", "-")}.`);
-    await trx("training_sessions").where({ id: s.id }).update({ status: "no_show", logged_by: userId, logged_at: new Date().toISOString() });
+    if (s.status !== "scheduled")
+      throw new TrainerDayError(`This session is already recorded as ${s.status.replace("_", "-")}.`);
+    await trx("training_sessions")
+      .where({ id: s.id })
+      .update({ status: "no_show", logged_by: userId, logged_at: new Date().toISOString() });
   });
 }
 
 export interface TrainerLogResult {
-  cumulativeHours: number; proficient: boolean; remainingHours: number | null; eventCount: number; paused: boolean; notified: string[];
+  cumulativeHours: number;
+  proficient: boolean;
+  remainingHours: number | null;
+  eventCount: number;
+  paused: boolean;
+  notified: string[];
 }
 
 /**
@@ -111,29 +196,63 @@ export interface TrainerLogResult {
  * course, proficiency, stage and forecast), the adverse events and any pause in the SAME transaction.
  * Severe events then e-mail the worker's assessors.
  */
-export async function logTrainerSession(input: { trainer: TrainerRef; sessionId: number; userId: number; form: TrainerLogInput }): Promise<TrainerLogResult> {
+export async function logTrainerSession(input: {
+  trainer: TrainerRef;
+  sessionId: number;
+  userId: number;
+  form: TrainerLogInput;
+}): Promise<TrainerLogResult> {
   const events = adverseEventsFrom(input.form);
   const at = input.form.start.toISOString();
   const durationHours = Math.round(((input.form.end.getTime() - input.form.start.getTime()) / 3_600_000) * 1000) / 1000;
   const done = await db().transaction(async (trx) => {
-    const s = await trx("training_sessions").where({ id: input.sessionId, trainer_id: input.trainer.id }).first("id", "worker_id", "device_type_id", "status");
+    const s = await trx("training_sessions")
+      .where({ id: input.sessionId, trainer_id: input.trainer.id })
+      .first("id", "worker_id", "device_type_id", "status");
     if (!s) throw new TrainerDayError("This session is not on your schedule.");
-    if (s.status !== "scheduled") throw new TrainerDayError(`This session is already recorded as ${String(s.status).replace("_", "-")}.`);
-    const r = await logSessionResult({
-      workerId: s.worker_id, deviceTypeId: s.device_type_id, durationHours, taskScore: input.form.taskScore, notes: input.form.notes ?? null,
-      loggedBy: input.userId, trainerId: input.trainer.id, sessionId: s.id, at,
-    }, trx);
+    if (s.status !== "scheduled")
+      throw new TrainerDayError(`This session is already recorded as ${String(s.status).replace("_", "-")}.`);
+    const r = await logSessionResult(
+      {
+        workerId: s.worker_id,
+        deviceTypeId: s.device_type_id,
+        durationHours,
+        taskScore: input.form.taskScore,
+        notes: input.form.notes ?? null,
+        loggedBy: input.userId,
+        trainerId: input.trainer.id,
+        sessionId: s.id,
+        at,
+      },
+      trx,
+    );
     // The planned times stay as scheduled; the actual start is logged_at and the length is duration_hours.
-    const ev = await recordAdverseEvents(trx, { sessionId: s.id, workerId: s.worker_id, deviceTypeId: s.device_type_id, events, userId: input.userId, at });
+    const ev = await recordAdverseEvents(trx, {
+      sessionId: s.id,
+      workerId: s.worker_id,
+      deviceTypeId: s.device_type_id,
+      events,
+      userId: input.userId,
+      at,
+    });
     return { r, ev, workerId: s.worker_id as number, deviceTypeId: s.device_type_id as number };
   });
   const notified = done.ev.paused
-    ? await notifyAssessorsOfSevereEvents({ workerId: done.workerId, deviceTypeId: done.deviceTypeId, events: events.filter((e) => e.severity === "severe"), trainerName: input.trainer.name, at })
+    ? await notifyAssessorsOfSevereEvents({
+        workerId: done.workerId,
+        deviceTypeId: done.deviceTypeId,
+        events: events.filter((e) => e.severity === "severe"),
+        trainerName: input.trainer.name,
+        at,
+      })
     : [];
   const f = done.r.forecast;
   return {
-    cumulativeHours: done.r.cumulativeHours, proficient: done.r.proficient,
-    remainingHours: f.status === "ready" ? f.progress?.remainingHours ?? null : null,
-    eventCount: done.ev.count, paused: done.ev.paused, notified,
+    cumulativeHours: done.r.cumulativeHours,
+    proficient: done.r.proficient,
+    remainingHours: f.status === "ready" ? (f.progress?.remainingHours ?? null) : null,
+    eventCount: done.ev.count,
+    paused: done.ev.paused,
+    notified,
   };
 }

@@ -1,7 +1,7 @@
 import type { Principal } from "~/auth/guard.server";
 import type { Scope } from "~/auth/scope";
-import type { TableQuery } from "~/schemas/table-query";
 import { db } from "~/db.server";
+import type { TableQuery } from "~/schemas/table-query";
 import { paged } from "./paging.server";
 import { whereWorkerInScope } from "./workers.server";
 
@@ -13,25 +13,58 @@ export class TrainingAdminError extends Error {}
 
 async function trainerInScope(scope: Scope, trainerId: number) {
   const t = await db()("trainers").where({ id: trainerId }).first("id", "site_id");
-  if (!t || (!scope.allSites && !scope.siteIds.includes(t.site_id))) throw new TrainingAdminError("No such trainer at your sites.");
+  if (!t || (!scope.allSites && !scope.siteIds.includes(t.site_id)))
+    throw new TrainingAdminError("No such trainer at your sites.");
   return t;
 }
 
 export async function trainerList(scope: Scope) {
-  const q = db()("trainers as t").join("users as u", "u.id", "t.user_id").join("sites as s", "s.id", "t.site_id")
-    .select("t.id", "u.display_name", "u.email", "s.name as site", "t.hours_per_week", "t.trainees_per_session").orderBy("u.display_name");
+  const q = db()("trainers as t")
+    .join("users as u", "u.id", "t.user_id")
+    .join("sites as s", "s.id", "t.site_id")
+    .select("t.id", "u.display_name", "u.email", "s.name as site", "t.hours_per_week", "t.trainees_per_session")
+    .orderBy("u.display_name");
   if (!scope.allSites) q.whereIn("t.site_id", scope.siteIds.length ? scope.siteIds : [-1]);
   const rows = await q;
   const ids = rows.map((r) => r.id as number).concat(-1);
-  const certs = await db()("trainer_certifications as c").join("device_types as d", "d.id", "c.device_type_id").whereIn("c.trainer_id", ids).select("c.trainer_id", "d.id", "d.name");
-  const pattern = await db()("trainer_working_pattern").whereIn("trainer_id", ids).select("id", "trainer_id", "weekday", "start_time", "end_time").orderBy(["weekday", "start_time"]);
-  const leave = await db()("trainer_leave").whereIn("trainer_id", ids).select("id", "trainer_id", "starts_on", "ends_on", "reason").orderBy("starts_on");
+  const certs = await db()("trainer_certifications as c")
+    .join("device_types as d", "d.id", "c.device_type_id")
+    .whereIn("c.trainer_id", ids)
+    .select("c.trainer_id", "d.id", "d.name");
+  const pattern = await db()("trainer_working_pattern")
+    .whereIn("trainer_id", ids)
+    .select("id", "trainer_id", "weekday", "start_time", "end_time")
+    .orderBy(["weekday", "start_time"]);
+  const leave = await db()("trainer_leave")
+    .whereIn("trainer_id", ids)
+    .select("id", "trainer_id", "starts_on", "ends_on", "reason")
+    .orderBy("starts_on");
   return rows.map((r) => ({
-    id: r.id as number, name: r.display_name as string, email: r.email as string, site: r.site as string,
-    hoursPerWeek: Number(r.hours_per_week), traineesPerSession: Number(r.trainees_per_session),
-    certifications: certs.filter((c) => c.trainer_id === r.id).map((c) => ({ id: c.id as number, name: c.name as string })),
-    pattern: pattern.filter((p) => p.trainer_id === r.id).map((p) => ({ id: p.id as number, weekday: Number(p.weekday), start: p.start_time as string, end: p.end_time as string })),
-    leave: leave.filter((l) => l.trainer_id === r.id).map((l) => ({ id: l.id as number, startsOn: String(l.starts_on).slice(0, 10), endsOn: String(l.ends_on).slice(0, 10), reason: (l.reason as string) ?? "" })),
+    id: r.id as number,
+    name: r.display_name as string,
+    email: r.email as string,
+    site: r.site as string,
+    hoursPerWeek: Number(r.hours_per_week),
+    traineesPerSession: Number(r.trainees_per_session),
+    certifications: certs
+      .filter((c) => c.trainer_id === r.id)
+      .map((c) => ({ id: c.id as number, name: c.name as string })),
+    pattern: pattern
+      .filter((p) => p.trainer_id === r.id)
+      .map((p) => ({
+        id: p.id as number,
+        weekday: Number(p.weekday),
+        start: p.start_time as string,
+        end: p.end_time as string,
+      })),
+    leave: leave
+      .filter((l) => l.trainer_id === r.id)
+      .map((l) => ({
+        id: l.id as number,
+        startsOn: String(l.starts_on).slice(0, 10),
+        endsOn: String(l.ends_on).slice(0, 10),
+        reason: (l.reason as string) ?? "",
+      })),
   }));
 }
 
@@ -39,26 +72,57 @@ export async function trainerDetail(scope: Scope, trainerId: number) {
   return (await trainerList(scope)).find((t) => t.id === trainerId) ?? null;
 }
 
-export async function updateTrainer(p: Principal, trainerId: number, v: { hoursPerWeek: number; traineesPerSession: number; deviceTypeIds: number[] }) {
+export async function updateTrainer(
+  p: Principal,
+  trainerId: number,
+  v: { hoursPerWeek: number; traineesPerSession: number; deviceTypeIds: number[] },
+) {
   await trainerInScope(p.scope, trainerId);
   await db().transaction(async (trx) => {
-    const known = (await trx("device_types").whereIn("id", v.deviceTypeIds.concat(-1)).select("id")).map((d) => d.id as number);
-    if (known.length !== new Set(v.deviceTypeIds).size) throw new TrainingAdminError("A chosen device type does not exist.");
-    await trx("trainers").where({ id: trainerId }).update({ hours_per_week: v.hoursPerWeek, trainees_per_session: v.traineesPerSession });
-    const had = (await trx("trainer_certifications").where({ trainer_id: trainerId }).select("device_type_id")).map((c) => c.device_type_id as number);
+    const known = (await trx("device_types").whereIn("id", v.deviceTypeIds.concat(-1)).select("id")).map(
+      (d) => d.id as number,
+    );
+    if (known.length !== new Set(v.deviceTypeIds).size)
+      throw new TrainingAdminError("A chosen device type does not exist.");
+    await trx("trainers")
+      .where({ id: trainerId })
+      .update({ hours_per_week: v.hoursPerWeek, trainees_per_session: v.traineesPerSession });
+    const had = (await trx("trainer_certifications").where({ trainer_id: trainerId }).select("device_type_id")).map(
+      (c) => c.device_type_id as number,
+    );
     const drop = had.filter((d) => !known.includes(d));
-    if (drop.length) await trx("trainer_certifications").where({ trainer_id: trainerId }).whereIn("device_type_id", drop).del();
+    if (drop.length)
+      await trx("trainer_certifications").where({ trainer_id: trainerId }).whereIn("device_type_id", drop).del();
     const add = known.filter((d) => !had.includes(d));
-    if (add.length) await trx("trainer_certifications").insert(add.map((d) => ({ trainer_id: trainerId, device_type_id: d, certified_on: new Date().toISOString().slice(0, 10) })));
+    if (add.length)
+      await trx("trainer_certifications").insert(
+        add.map((d) => ({
+          trainer_id: trainerId,
+          device_type_id: d,
+          certified_on: new Date().toISOString().slice(0, 10),
+        })),
+      );
   });
 }
 
-export async function addPattern(p: Principal, trainerId: number, v: { weekday: number; startTime: string; endTime: string }) {
+export async function addPattern(
+  p: Principal,
+  trainerId: number,
+  v: { weekday: number; startTime: string; endTime: string },
+) {
   await trainerInScope(p.scope, trainerId);
   await db().transaction(async (trx) => {
-    const same = await trx("trainer_working_pattern").where({ trainer_id: trainerId, weekday: v.weekday }).select("start_time", "end_time");
-    if (same.some((s) => v.startTime < s.end_time && s.start_time < v.endTime)) throw new TrainingAdminError("This time overlaps another working window on the same weekday.");
-    await trx("trainer_working_pattern").insert({ trainer_id: trainerId, weekday: v.weekday, start_time: v.startTime, end_time: v.endTime });
+    const same = await trx("trainer_working_pattern")
+      .where({ trainer_id: trainerId, weekday: v.weekday })
+      .select("start_time", "end_time");
+    if (same.some((s) => v.startTime < s.end_time && s.start_time < v.endTime))
+      throw new TrainingAdminError("This time overlaps another working window on the same weekday.");
+    await trx("trainer_working_pattern").insert({
+      trainer_id: trainerId,
+      weekday: v.weekday,
+      start_time: v.startTime,
+      end_time: v.endTime,
+    });
   });
 }
 
@@ -67,9 +131,19 @@ export async function removePattern(p: Principal, trainerId: number, id: number)
   await db()("trainer_working_pattern").where({ id, trainer_id: trainerId }).del();
 }
 
-export async function addTrainerLeave(p: Principal, trainerId: number, v: { startsOn: string; endsOn: string; reason: string | null }) {
+export async function addTrainerLeave(
+  p: Principal,
+  trainerId: number,
+  v: { startsOn: string; endsOn: string; reason: string | null },
+) {
   await trainerInScope(p.scope, trainerId);
-  await db()("trainer_leave").insert({ trainer_id: trainerId, starts_on: v.startsOn, ends_on: v.endsOn, reason: v.reason, created_at: new Date().toISOString() });
+  await db()("trainer_leave").insert({
+    trainer_id: trainerId,
+    starts_on: v.startsOn,
+    ends_on: v.endsOn,
+    reason: v.reason,
+    created_at: new Date().toISOString(),
+  });
 }
 
 export async function removeTrainerLeave(p: Principal, trainerId: number, id: number) {
@@ -79,33 +153,87 @@ export async function removeTrainerLeave(p: Principal, trainerId: number, id: nu
 
 // Trainees' training fields.
 export interface TraineeRow {
-  workerId: number; employeeNumber: string; name: string; site: string; department: string; stage: string;
-  maxHoursPerWeek: number | null; priority: number; priorityReason: string | null; leaveCount: number;
+  workerId: number;
+  employeeNumber: string;
+  name: string;
+  site: string;
+  department: string;
+  stage: string;
+  maxHoursPerWeek: number | null;
+  priority: number;
+  priorityReason: string | null;
+  leaveCount: number;
 }
 
 export function traineeTable(scope: Scope, q: TableQuery) {
-  const query = db()("workers").join("sites as s", "s.id", "workers.site_id").join("departments as d", "d.id", "workers.department_id")
+  const query = db()("workers")
+    .join("sites as s", "s.id", "workers.site_id")
+    .join("departments as d", "d.id", "workers.department_id")
     .leftJoin("worker_training_fields as f", "f.worker_id", "workers.id")
     .whereIn("workers.stage", ["forecast", "planned", "training", "consented", "baselined", "paused", "proficient"])
-    .select("workers.id", "workers.employee_number", "workers.given_name", "workers.family_name", "workers.stage", "s.name as site", "d.name as department",
-      "f.max_hours_per_week", "f.priority", "f.priority_reason")
+    .select(
+      "workers.id",
+      "workers.employee_number",
+      "workers.given_name",
+      "workers.family_name",
+      "workers.stage",
+      "s.name as site",
+      "d.name as department",
+      "f.max_hours_per_week",
+      "f.priority",
+      "f.priority_reason",
+    )
     .select(db().raw("(select count(*) from worker_leave l where l.worker_id = workers.id) as leave_count"));
   whereWorkerInScope(query, scope);
   if (q.q) {
     const term = `%${q.q.toLowerCase()}%`;
-    query.where((w) => w.whereRaw("lower(workers.employee_number) like ?", [term]).orWhereRaw("lower(workers.given_name || ' ' || workers.family_name) like ?", [term]).orWhereRaw("lower(d.name) like ?", [term]));
+    query.where((w) =>
+      w
+        .whereRaw("lower(workers.employee_number) like ?", [term])
+        .orWhereRaw("lower(workers.given_name || ' ' || workers.family_name) like ?", [term])
+        .orWhereRaw("lower(d.name) like ?", [term]),
+    );
   }
-  return paged(query, q, { worker: "workers.employee_number", name: "workers.family_name", department: "d.name", priority: "f.priority", stage: "workers.stage" }, "worker",
+  return paged(
+    query,
+    q,
+    {
+      worker: "workers.employee_number",
+      name: "workers.family_name",
+      department: "d.name",
+      priority: "f.priority",
+      stage: "workers.stage",
+    },
+    "worker",
     (r): TraineeRow => ({
-      workerId: r.id as number, employeeNumber: r.employee_number as string, name: `${r.given_name} ${r.family_name}`, site: r.site as string,
-      department: r.department as string, stage: r.stage as string, maxHoursPerWeek: r.max_hours_per_week == null ? null : Number(r.max_hours_per_week),
-      priority: r.priority == null ? 1 : Number(r.priority), priorityReason: (r.priority_reason as string) ?? null, leaveCount: Number(r.leave_count ?? 0),
-    }));
+      workerId: r.id as number,
+      employeeNumber: r.employee_number as string,
+      name: `${r.given_name} ${r.family_name}`,
+      site: r.site as string,
+      department: r.department as string,
+      stage: r.stage as string,
+      maxHoursPerWeek: r.max_hours_per_week == null ? null : Number(r.max_hours_per_week),
+      priority: r.priority == null ? 1 : Number(r.priority),
+      priorityReason: (r.priority_reason as string) ?? null,
+      leaveCount: Number(r.leave_count ?? 0),
+    }),
+  );
 }
 
 async function workerRow(scope: Scope, workerId: number) {
-  const q = db()("workers").join("sites as s", "s.id", "workers.site_id").join("departments as d", "d.id", "workers.department_id")
-    .where("workers.id", workerId).select("workers.id", "workers.employee_number", "workers.given_name", "workers.family_name", "workers.stage", "s.name as site", "d.name as department");
+  const q = db()("workers")
+    .join("sites as s", "s.id", "workers.site_id")
+    .join("departments as d", "d.id", "workers.department_id")
+    .where("workers.id", workerId)
+    .select(
+      "workers.id",
+      "workers.employee_number",
+      "workers.given_name",
+      "workers.family_name",
+      "workers.stage",
+      "s.name as site",
+      "d.name as department",
+    );
   return whereWorkerInScope(q, scope).first();
 }
 
@@ -113,28 +241,78 @@ export async function traineeDetail(scope: Scope, workerId: number) {
   const w = await workerRow(scope, workerId);
   if (!w) return null;
   const f = await db()("worker_training_fields").where({ worker_id: workerId }).first();
-  const leave = await db()("worker_leave").where({ worker_id: workerId }).select("id", "starts_on", "ends_on", "reason").orderBy("starts_on");
-  const sessions = await db()("training_sessions as s").join("device_types as t", "t.id", "s.device_type_id").leftJoin("device_units as u", "u.id", "s.device_unit_id")
-    .leftJoin("trainers as tr", "tr.id", "s.trainer_id").leftJoin("users as tu", "tu.id", "tr.user_id")
-    .where("s.worker_id", workerId).whereNotNull("s.allocation_run_id").where("s.status", "scheduled")
-    .select("s.scheduled_start", "s.scheduled_end", "t.name as device", "u.serial", "tu.display_name as trainer").orderBy("s.scheduled_start");
+  const leave = await db()("worker_leave")
+    .where({ worker_id: workerId })
+    .select("id", "starts_on", "ends_on", "reason")
+    .orderBy("starts_on");
+  const sessions = await db()("training_sessions as s")
+    .join("device_types as t", "t.id", "s.device_type_id")
+    .leftJoin("device_units as u", "u.id", "s.device_unit_id")
+    .leftJoin("trainers as tr", "tr.id", "s.trainer_id")
+    .leftJoin("users as tu", "tu.id", "tr.user_id")
+    .where("s.worker_id", workerId)
+    .whereNotNull("s.allocation_run_id")
+    .where("s.status", "scheduled")
+    .select("s.scheduled_start", "s.scheduled_end", "t.name as device", "u.serial", "tu.display_name as trainer")
+    .orderBy("s.scheduled_start");
   return {
-    workerId: w.id as number, employeeNumber: w.employee_number as string, name: `${w.given_name} ${w.family_name}`, site: w.site as string, department: w.department as string, stage: w.stage as string,
-    maxHoursPerWeek: f?.max_hours_per_week == null ? null : Number(f.max_hours_per_week), priority: f ? Number(f.priority) : 1, priorityReason: (f?.priority_reason as string) ?? null,
-    leave: leave.map((l) => ({ id: l.id as number, startsOn: String(l.starts_on).slice(0, 10), endsOn: String(l.ends_on).slice(0, 10), reason: (l.reason as string) ?? "" })),
-    sessions: sessions.map((s) => ({ start: String(s.scheduled_start).replace("T", " ").slice(0, 16), end: String(s.scheduled_end).split("T")[1]?.slice(0, 5) ?? "", device: s.device as string, unit: (s.serial as string) ?? null, trainer: (s.trainer as string) ?? null })),
+    workerId: w.id as number,
+    employeeNumber: w.employee_number as string,
+    name: `${w.given_name} ${w.family_name}`,
+    site: w.site as string,
+    department: w.department as string,
+    stage: w.stage as string,
+    maxHoursPerWeek: f?.max_hours_per_week == null ? null : Number(f.max_hours_per_week),
+    priority: f ? Number(f.priority) : 1,
+    priorityReason: (f?.priority_reason as string) ?? null,
+    leave: leave.map((l) => ({
+      id: l.id as number,
+      startsOn: String(l.starts_on).slice(0, 10),
+      endsOn: String(l.ends_on).slice(0, 10),
+      reason: (l.reason as string) ?? "",
+    })),
+    sessions: sessions.map((s) => ({
+      start: String(s.scheduled_start).replace("T", " ").slice(0, 16),
+      end: String(s.scheduled_end).split("T")[1]?.slice(0, 5) ?? "",
+      device: s.device as string,
+      unit: (s.serial as string) ?? null,
+      trainer: (s.trainer as string) ?? null,
+    })),
   };
 }
 
-export async function saveTrainingFields(p: Principal, workerId: number, v: { maxHoursPerWeek: number | null; priority: number; priorityReason: string | null }) {
+export async function saveTrainingFields(
+  p: Principal,
+  workerId: number,
+  v: { maxHoursPerWeek: number | null; priority: number; priorityReason: string | null },
+) {
   if (!(await workerRow(p.scope, workerId))) throw new TrainingAdminError("No such worker in your scope.");
-  const row = { max_hours_per_week: v.maxHoursPerWeek, priority: v.priority, priority_reason: v.priorityReason, updated_by: p.kind === "user" ? p.user.id : null, updated_at: new Date().toISOString() };
-  await db()("worker_training_fields").insert({ worker_id: workerId, ...row }).onConflict("worker_id").merge(row);
+  const row = {
+    max_hours_per_week: v.maxHoursPerWeek,
+    priority: v.priority,
+    priority_reason: v.priorityReason,
+    updated_by: p.kind === "user" ? p.user.id : null,
+    updated_at: new Date().toISOString(),
+  };
+  await db()("worker_training_fields")
+    .insert({ worker_id: workerId, ...row })
+    .onConflict("worker_id")
+    .merge(row);
 }
 
-export async function addWorkerLeave(p: Principal, workerId: number, v: { startsOn: string; endsOn: string; reason: string | null }) {
+export async function addWorkerLeave(
+  p: Principal,
+  workerId: number,
+  v: { startsOn: string; endsOn: string; reason: string | null },
+) {
   if (!(await workerRow(p.scope, workerId))) throw new TrainingAdminError("No such worker in your scope.");
-  await db()("worker_leave").insert({ worker_id: workerId, starts_on: v.startsOn, ends_on: v.endsOn, reason: v.reason, created_at: new Date().toISOString() });
+  await db()("worker_leave").insert({
+    worker_id: workerId,
+    starts_on: v.startsOn,
+    ends_on: v.endsOn,
+    reason: v.reason,
+    created_at: new Date().toISOString(),
+  });
 }
 
 export async function removeWorkerLeave(p: Principal, workerId: number, id: number) {

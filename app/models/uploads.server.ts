@@ -1,12 +1,24 @@
-import { MaxFileSizeExceededError, MaxFilesExceededError, MultipartParseError, parseFormData } from "@remix-run/form-data-parser";
+import {
+  MaxFileSizeExceededError,
+  MaxFilesExceededError,
+  MultipartParseError,
+  parseFormData,
+} from "@remix-run/form-data-parser";
 
 // Multipart uploads (@remix-run/form-data-parser) with a size cap: the file is read into memory only
 // up to `maxBytes`; a larger file is refused with a message naming the limit.
 export class UploadError extends Error {}
 
-export interface UploadedFile { name: string; bytes: Uint8Array; size: number }
+export interface UploadedFile {
+  name: string;
+  bytes: Uint8Array;
+  size: number;
+}
 
-export async function readMultipart(request: Request, opts: { fileField: string; maxBytes: number }): Promise<{ form: FormData; file: UploadedFile | null }> {
+export async function readMultipart(
+  request: Request,
+  opts: { fileField: string; maxBytes: number },
+): Promise<{ form: FormData; file: UploadedFile | null }> {
   const contentType = request.headers.get("Content-Type") ?? "";
   if (!contentType.startsWith("multipart/form-data")) {
     return { form: await request.formData(), file: null };
@@ -21,7 +33,8 @@ export async function readMultipart(request: Request, opts: { fileField: string;
     });
     return { form, file };
   } catch (e) {
-    if (e instanceof MaxFileSizeExceededError) throw new UploadError(`The file is larger than ${formatBytes(opts.maxBytes)}, the most accepted.`);
+    if (e instanceof MaxFileSizeExceededError)
+      throw new UploadError(`The file is larger than ${formatBytes(opts.maxBytes)}, the most accepted.`);
     if (e instanceof MaxFilesExceededError) throw new UploadError("Upload one file at a time.");
     if (e instanceof MultipartParseError) throw new UploadError(`The upload could not be read: ${e.message}`);
     throw e;

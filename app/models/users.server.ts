@@ -1,5 +1,5 @@
-import { db, type Db } from "~/db.server";
 import type { Role } from "~/auth/permissions";
+import { type Db, db } from "~/db.server";
 
 export interface RoleAssignment {
   id: number;
@@ -28,14 +28,25 @@ export async function findUserById(id: number, k: Db = db()): Promise<AppUser | 
   return row ? loadUser(row, k) : null;
 }
 
-async function loadUser(row: { id: number; email: string; display_name: string; active: boolean | number }, k: Db): Promise<AppUser> {
+async function loadUser(
+  row: { id: number; email: string; display_name: string; active: boolean | number },
+  k: Db,
+): Promise<AppUser> {
   const assignments = (await k("role_assignments").where({ user_id: row.id }).orderBy("id")).map((a) => ({
-    id: a.id, role: a.role as Role, siteId: a.site_id, departmentId: a.department_id,
+    id: a.id,
+    role: a.role as Role,
+    siteId: a.site_id,
+    departmentId: a.department_id,
   }));
   const worker = await k("workers").where({ user_id: row.id }).first("id");
   return {
-    id: row.id, email: row.email, displayName: row.display_name, active: Boolean(row.active),
-    assignments, roles: [...new Set(assignments.map((a) => a.role))], workerId: worker?.id ?? null,
+    id: row.id,
+    email: row.email,
+    displayName: row.display_name,
+    active: Boolean(row.active),
+    assignments,
+    roles: [...new Set(assignments.map((a) => a.role))],
+    workerId: worker?.id ?? null,
   };
 }
 

@@ -1,7 +1,7 @@
-import { accessLogForWorker } from "./access-log.server";
 import { db } from "~/db.server";
 import type { SheetSpec } from "~/xlsx.server";
-import { icsFile, type CalendarSession } from "./calendar.server";
+import { accessLogForWorker } from "./access-log.server";
+import { type CalendarSession, icsFile } from "./calendar.server";
 import { mySessions } from "./self-service.server";
 
 // "Download everything held about me" (DESIGN §4, issue 7): every row about one worker, by the worker id from
@@ -11,73 +11,268 @@ const iso = (v: unknown) => (v == null ? null : String(v));
 
 export async function everythingAbout(workerId: number) {
   const k = db();
-  const w = await k("workers as w").join("sites as s", "s.id", "w.site_id").join("departments as d", "d.id", "w.department_id")
-    .where("w.id", workerId).first("w.id", "w.employee_number", "w.given_name", "w.family_name", "w.email", "w.stage", "w.created_at", "w.updated_at",
-      "s.name as site", "d.name as department");
+  const w = await k("workers as w")
+    .join("sites as s", "s.id", "w.site_id")
+    .join("departments as d", "d.id", "w.department_id")
+    .where("w.id", workerId)
+    .first(
+      "w.id",
+      "w.employee_number",
+      "w.given_name",
+      "w.family_name",
+      "w.email",
+      "w.stage",
+      "w.created_at",
+      "w.updated_at",
+      "s.name as site",
+      "d.name as department",
+    );
   if (!w) return null;
-  const consent = await k("consent_records as c").join("consent_text_versions as t", "t.id", "c.text_version_id")
-    .leftJoin("users as wi", "wi.id", "c.witness_user_id").leftJoin("users as rb", "rb.id", "c.recorded_by")
-    .where("c.worker_id", workerId).orderBy("c.id")
-    .select("c.purpose", "c.status", "t.version", "c.given_at", "c.withdrawn_at", "wi.display_name as witness", "rb.display_name as recorded_by");
-  const assessments = await k("assessment_sessions as s").leftJoin("users as u", "u.id", "s.assessor_user_id").where("s.worker_id", workerId)
-    .orderBy("s.assessed_on").select("s.id", "s.assessed_on", "s.notes", "u.display_name as assessor");
+  const consent = await k("consent_records as c")
+    .join("consent_text_versions as t", "t.id", "c.text_version_id")
+    .leftJoin("users as wi", "wi.id", "c.witness_user_id")
+    .leftJoin("users as rb", "rb.id", "c.recorded_by")
+    .where("c.worker_id", workerId)
+    .orderBy("c.id")
+    .select(
+      "c.purpose",
+      "c.status",
+      "t.version",
+      "c.given_at",
+      "c.withdrawn_at",
+      "wi.display_name as witness",
+      "rb.display_name as recorded_by",
+    );
+  const assessments = await k("assessment_sessions as s")
+    .leftJoin("users as u", "u.id", "s.assessor_user_id")
+    .where("s.worker_id", workerId)
+    .orderBy("s.assessed_on")
+    .select("s.id", "s.assessed_on", "s.notes", "u.display_name as assessor");
   const sessionIds = assessments.map((a) => a.id);
-  const results = sessionIds.length ? await k("assessment_results as r").join("measures as m", "m.id", "r.measure_id").leftJoin("norm_sets as n", "n.id", "r.norm_set_id")
-    .whereIn("r.session_id", sessionIds).orderBy(["r.session_id", "m.code"])
-    .select("r.session_id", "m.code", "m.name", "m.unit", "r.value", "r.z_score", "n.name as norm_set") : [];
-  const traces = sessionIds.length ? await k("trace_uploads").whereIn("session_id", sessionIds).orderBy("id")
-    .select("session_id", "kind", "filename", "sha256", "row_count", "sample_rate_hz", "computed", "created_at") : [];
-  const forecasts = await k("forecasts as f").join("device_types as d", "d.id", "f.device_type_id").join("model_versions as v", "v.id", "f.model_version_id")
-    .where("f.worker_id", workerId).orderBy("d.id")
-    .select("d.name as device_type", "v.version_number", "f.median_hours", "f.lower_hours", "f.upper_hours", "f.interval_level", "f.planning_hours",
-      "f.hours_done", "f.remaining_hours", "f.remaining_lower", "f.remaining_upper", "f.progress_status", "f.explanation", "f.computed_at");
-  const courses = await k("device_courses as c").join("device_types as d", "d.id", "c.device_type_id").where("c.worker_id", workerId).orderBy("d.id")
-    .select("d.name as device_type", "c.status", "c.cumulative_hours", "c.started_on", "c.proficient_on", "c.hours_to_proficiency", "c.pause_reason", "c.updated_at");
-  const sessions = await k("training_sessions as ts").join("device_types as d", "d.id", "ts.device_type_id").leftJoin("device_units as u", "u.id", "ts.device_unit_id")
-    .leftJoin("trainers as tr", "tr.id", "ts.trainer_id").leftJoin("users as tu", "tu.id", "tr.user_id")
-    .where("ts.worker_id", workerId).orderBy([{ column: "ts.scheduled_start" }, { column: "ts.id" }])
-    .select("ts.id", "d.name as device_type", "u.serial as unit", "tu.display_name as trainer", "ts.scheduled_start", "ts.scheduled_end", "ts.status",
-      "ts.duration_hours", "ts.task_score", "ts.cumulative_hours", "ts.notes", "ts.logged_at");
-  const events = await k("adverse_events").where({ worker_id: workerId }).orderBy("id").select("session_id", "kind", "severity", "notes", "at");
-  const stages = await k("stage_changes as s").leftJoin("device_types as d", "d.id", "s.device_type_id").leftJoin("users as u", "u.id", "s.actor_user_id")
-    .where("s.worker_id", workerId).orderBy("s.id").select("s.at", "s.from_stage", "s.to_stage", "d.name as device_type", "u.display_name as by");
-  const reviews = await k("review_requests as r").leftJoin("device_types as d", "d.id", "r.device_type_id").leftJoin("users as u", "u.id", "r.answered_by")
-    .where("r.worker_id", workerId).orderBy("r.id")
-    .select("r.subject", "d.name as device_type", "r.message", "r.status", "r.answer", "u.display_name as answered_by", "r.created_at", "r.answered_at");
-  const outcomes = await k("forecast_outcomes as o").join("device_types as d", "d.id", "o.device_type_id").where("o.worker_id", workerId)
-    .select("d.name as device_type", "o.forecast_median_hours", "o.forecast_lower_hours", "o.forecast_upper_hours", "o.actual_hours", "o.reached_on");
+  const results = sessionIds.length
+    ? await k("assessment_results as r")
+        .join("measures as m", "m.id", "r.measure_id")
+        .leftJoin("norm_sets as n", "n.id", "r.norm_set_id")
+        .whereIn("r.session_id", sessionIds)
+        .orderBy(["r.session_id", "m.code"])
+        .select("r.session_id", "m.code", "m.name", "m.unit", "r.value", "r.z_score", "n.name as norm_set")
+    : [];
+  const traces = sessionIds.length
+    ? await k("trace_uploads")
+        .whereIn("session_id", sessionIds)
+        .orderBy("id")
+        .select("session_id", "kind", "filename", "sha256", "row_count", "sample_rate_hz", "computed", "created_at")
+    : [];
+  const forecasts = await k("forecasts as f")
+    .join("device_types as d", "d.id", "f.device_type_id")
+    .join("model_versions as v", "v.id", "f.model_version_id")
+    .where("f.worker_id", workerId)
+    .orderBy("d.id")
+    .select(
+      "d.name as device_type",
+      "v.version_number",
+      "f.median_hours",
+      "f.lower_hours",
+      "f.upper_hours",
+      "f.interval_level",
+      "f.planning_hours",
+      "f.hours_done",
+      "f.remaining_hours",
+      "f.remaining_lower",
+      "f.remaining_upper",
+      "f.progress_status",
+      "f.explanation",
+      "f.computed_at",
+    );
+  const courses = await k("device_courses as c")
+    .join("device_types as d", "d.id", "c.device_type_id")
+    .where("c.worker_id", workerId)
+    .orderBy("d.id")
+    .select(
+      "d.name as device_type",
+      "c.status",
+      "c.cumulative_hours",
+      "c.started_on",
+      "c.proficient_on",
+      "c.hours_to_proficiency",
+      "c.pause_reason",
+      "c.updated_at",
+    );
+  const sessions = await k("training_sessions as ts")
+    .join("device_types as d", "d.id", "ts.device_type_id")
+    .leftJoin("device_units as u", "u.id", "ts.device_unit_id")
+    .leftJoin("trainers as tr", "tr.id", "ts.trainer_id")
+    .leftJoin("users as tu", "tu.id", "tr.user_id")
+    .where("ts.worker_id", workerId)
+    .orderBy([{ column: "ts.scheduled_start" }, { column: "ts.id" }])
+    .select(
+      "ts.id",
+      "d.name as device_type",
+      "u.serial as unit",
+      "tu.display_name as trainer",
+      "ts.scheduled_start",
+      "ts.scheduled_end",
+      "ts.status",
+      "ts.duration_hours",
+      "ts.task_score",
+      "ts.cumulative_hours",
+      "ts.notes",
+      "ts.logged_at",
+    );
+  const events = await k("adverse_events")
+    .where({ worker_id: workerId })
+    .orderBy("id")
+    .select("session_id", "kind", "severity", "notes", "at");
+  const stages = await k("stage_changes as s")
+    .leftJoin("device_types as d", "d.id", "s.device_type_id")
+    .leftJoin("users as u", "u.id", "s.actor_user_id")
+    .where("s.worker_id", workerId)
+    .orderBy("s.id")
+    .select("s.at", "s.from_stage", "s.to_stage", "d.name as device_type", "u.display_name as by");
+  const reviews = await k("review_requests as r")
+    .leftJoin("device_types as d", "d.id", "r.device_type_id")
+    .leftJoin("users as u", "u.id", "r.answered_by")
+    .where("r.worker_id", workerId)
+    .orderBy("r.id")
+    .select(
+      "r.subject",
+      "d.name as device_type",
+      "r.message",
+      "r.status",
+      "r.answer",
+      "u.display_name as answered_by",
+      "r.created_at",
+      "r.answered_at",
+    );
+  const outcomes = await k("forecast_outcomes as o")
+    .join("device_types as d", "d.id", "o.device_type_id")
+    .where("o.worker_id", workerId)
+    .select(
+      "d.name as device_type",
+      "o.forecast_median_hours",
+      "o.forecast_lower_hours",
+      "o.forecast_upper_hours",
+      "o.actual_hours",
+      "o.reached_on",
+    );
   const accessLog = await accessLogForWorker(workerId, 100_000);
 
   return {
-    about: "Everything Limberly holds about you, as of the time below. Record times (given, logged, read) are UTC; session times are the site's wall-clock times.",
+    about:
+      "Everything Limberly holds about you, as of the time below. Record times (given, logged, read) are UTC; session times are the site's wall-clock times.",
     generatedAt: new Date().toISOString(),
     worker: {
-      employeeNumber: w.employee_number, givenName: w.given_name, familyName: w.family_name, email: w.email ?? null, site: w.site,
-      department: w.department, stage: w.stage, createdAt: iso(w.created_at), updatedAt: iso(w.updated_at),
+      employeeNumber: w.employee_number,
+      givenName: w.given_name,
+      familyName: w.family_name,
+      email: w.email ?? null,
+      site: w.site,
+      department: w.department,
+      stage: w.stage,
+      createdAt: iso(w.created_at),
+      updatedAt: iso(w.updated_at),
     },
-    consent: consent.map((c) => ({ purpose: c.purpose, status: c.status, textVersion: c.version, givenAt: iso(c.given_at), withdrawnAt: iso(c.withdrawn_at), witness: c.witness ?? null, recordedBy: c.recorded_by ?? null })),
+    consent: consent.map((c) => ({
+      purpose: c.purpose,
+      status: c.status,
+      textVersion: c.version,
+      givenAt: iso(c.given_at),
+      withdrawnAt: iso(c.withdrawn_at),
+      witness: c.witness ?? null,
+      recordedBy: c.recorded_by ?? null,
+    })),
     assessments: assessments.map((a) => ({
-      assessedOn: String(a.assessed_on).slice(0, 10), assessor: a.assessor ?? null, notes: a.notes ?? null,
-      results: results.filter((r) => r.session_id === a.id).map((r) => ({ measure: r.code, name: r.name, unit: r.unit, value: Number(r.value), zScore: r.z_score == null ? null : Number(r.z_score), normSet: r.norm_set ?? null })),
-      traces: traces.filter((t) => t.session_id === a.id).map((t) => ({ kind: t.kind, filename: t.filename, sha256: t.sha256, rows: t.row_count, sampleRateHz: t.sample_rate_hz, computed: JSON.parse(t.computed), uploadedAt: iso(t.created_at) })),
+      assessedOn: String(a.assessed_on).slice(0, 10),
+      assessor: a.assessor ?? null,
+      notes: a.notes ?? null,
+      results: results
+        .filter((r) => r.session_id === a.id)
+        .map((r) => ({
+          measure: r.code,
+          name: r.name,
+          unit: r.unit,
+          value: Number(r.value),
+          zScore: r.z_score == null ? null : Number(r.z_score),
+          normSet: r.norm_set ?? null,
+        })),
+      traces: traces
+        .filter((t) => t.session_id === a.id)
+        .map((t) => ({
+          kind: t.kind,
+          filename: t.filename,
+          sha256: t.sha256,
+          rows: t.row_count,
+          sampleRateHz: t.sample_rate_hz,
+          computed: JSON.parse(t.computed),
+          uploadedAt: iso(t.created_at),
+        })),
     })),
     forecasts: forecasts.map((f) => ({
-      deviceType: f.device_type, modelVersion: f.version_number, medianHours: Number(f.median_hours), lowerHours: Number(f.lower_hours), upperHours: Number(f.upper_hours),
-      intervalLevel: Number(f.interval_level), planningHours: Number(f.planning_hours), hoursDone: Number(f.hours_done),
-      remainingHours: f.remaining_hours == null ? null : Number(f.remaining_hours), remainingLower: f.remaining_lower == null ? null : Number(f.remaining_lower),
-      remainingUpper: f.remaining_upper == null ? null : Number(f.remaining_upper), progressStatus: f.progress_status ?? null,
-      howComputed: JSON.parse(f.explanation), computedAt: iso(f.computed_at),
+      deviceType: f.device_type,
+      modelVersion: f.version_number,
+      medianHours: Number(f.median_hours),
+      lowerHours: Number(f.lower_hours),
+      upperHours: Number(f.upper_hours),
+      intervalLevel: Number(f.interval_level),
+      planningHours: Number(f.planning_hours),
+      hoursDone: Number(f.hours_done),
+      remainingHours: f.remaining_hours == null ? null : Number(f.remaining_hours),
+      remainingLower: f.remaining_lower == null ? null : Number(f.remaining_lower),
+      remainingUpper: f.remaining_upper == null ? null : Number(f.remaining_upper),
+      progressStatus: f.progress_status ?? null,
+      howComputed: JSON.parse(f.explanation),
+      computedAt: iso(f.computed_at),
     })),
-    forecastOutcomes: outcomes.map((o) => ({ deviceType: o.device_type, forecastMedianHours: Number(o.forecast_median_hours), forecastLowerHours: Number(o.forecast_lower_hours), forecastUpperHours: Number(o.forecast_upper_hours), actualHours: Number(o.actual_hours), reachedOn: String(o.reached_on).slice(0, 10) })),
-    courses: courses.map((c) => ({ deviceType: c.device_type, status: c.status, cumulativeHours: Number(c.cumulative_hours), startedOn: iso(c.started_on), proficientOn: iso(c.proficient_on), hoursToProficiency: c.hours_to_proficiency == null ? null : Number(c.hours_to_proficiency), pauseReason: c.pause_reason ?? null })),
+    forecastOutcomes: outcomes.map((o) => ({
+      deviceType: o.device_type,
+      forecastMedianHours: Number(o.forecast_median_hours),
+      forecastLowerHours: Number(o.forecast_lower_hours),
+      forecastUpperHours: Number(o.forecast_upper_hours),
+      actualHours: Number(o.actual_hours),
+      reachedOn: String(o.reached_on).slice(0, 10),
+    })),
+    courses: courses.map((c) => ({
+      deviceType: c.device_type,
+      status: c.status,
+      cumulativeHours: Number(c.cumulative_hours),
+      startedOn: iso(c.started_on),
+      proficientOn: iso(c.proficient_on),
+      hoursToProficiency: c.hours_to_proficiency == null ? null : Number(c.hours_to_proficiency),
+      pauseReason: c.pause_reason ?? null,
+    })),
     sessions: sessions.map((s) => ({
-      deviceType: s.device_type, unit: s.unit ?? null, trainer: s.trainer ?? null, scheduledStart: iso(s.scheduled_start), scheduledEnd: iso(s.scheduled_end), status: s.status,
-      durationHours: s.duration_hours == null ? null : Number(s.duration_hours), taskScore: s.task_score == null ? null : Number(s.task_score),
-      cumulativeHours: s.cumulative_hours == null ? null : Number(s.cumulative_hours), notes: s.notes ?? null, loggedAt: iso(s.logged_at),
-      adverseEvents: events.filter((e) => e.session_id === s.id).map((e) => ({ kind: e.kind, severity: e.severity, notes: e.notes ?? null, at: iso(e.at) })),
+      deviceType: s.device_type,
+      unit: s.unit ?? null,
+      trainer: s.trainer ?? null,
+      scheduledStart: iso(s.scheduled_start),
+      scheduledEnd: iso(s.scheduled_end),
+      status: s.status,
+      durationHours: s.duration_hours == null ? null : Number(s.duration_hours),
+      taskScore: s.task_score == null ? null : Number(s.task_score),
+      cumulativeHours: s.cumulative_hours == null ? null : Number(s.cumulative_hours),
+      notes: s.notes ?? null,
+      loggedAt: iso(s.logged_at),
+      adverseEvents: events
+        .filter((e) => e.session_id === s.id)
+        .map((e) => ({ kind: e.kind, severity: e.severity, notes: e.notes ?? null, at: iso(e.at) })),
     })),
-    stageChanges: stages.map((s) => ({ at: iso(s.at), from: s.from_stage ?? null, to: s.to_stage, deviceType: s.device_type ?? null, by: s.by ?? null })),
-    reviewRequests: reviews.map((r) => ({ subject: r.subject, deviceType: r.device_type ?? null, message: r.message, status: r.status, answer: r.answer ?? null, answeredBy: r.answered_by ?? null, createdAt: iso(r.created_at), answeredAt: iso(r.answered_at) })),
+    stageChanges: stages.map((s) => ({
+      at: iso(s.at),
+      from: s.from_stage ?? null,
+      to: s.to_stage,
+      deviceType: s.device_type ?? null,
+      by: s.by ?? null,
+    })),
+    reviewRequests: reviews.map((r) => ({
+      subject: r.subject,
+      deviceType: r.device_type ?? null,
+      message: r.message,
+      status: r.status,
+      answer: r.answer ?? null,
+      answeredBy: r.answered_by ?? null,
+      createdAt: iso(r.created_at),
+      answeredAt: iso(r.answered_at),
+    })),
     accessLog,
   };
 }
@@ -88,16 +283,37 @@ export function exportSheets(d: EverythingAbout): SheetSpec[] {
   const cols = (keys: string[]) => keys.map((k) => ({ header: k, key: k, width: Math.max(14, k.length + 4) }));
   const sheet = (name: string, rows: Record<string, unknown>[], note?: string): SheetSpec => {
     const keys = rows.length ? Object.keys(rows[0]) : ["(none)"];
-    return { name, columns: cols(keys), rows: rows.map((r) => Object.fromEntries(Object.entries(r).map(([k, v]) => [k, v != null && typeof v === "object" ? JSON.stringify(v) : v]))), note };
+    return {
+      name,
+      columns: cols(keys),
+      rows: rows.map((r) =>
+        Object.fromEntries(
+          Object.entries(r).map(([k, v]) => [k, v != null && typeof v === "object" ? JSON.stringify(v) : v]),
+        ),
+      ),
+      note,
+    };
   };
   return [
     sheet("Me", [d.worker], `${d.about} Generated ${d.generatedAt}.`),
     sheet("Consent", d.consent),
-    sheet("Assessment results", d.assessments.flatMap((a) => a.results.map((r) => ({ assessedOn: a.assessedOn, assessor: a.assessor, ...r })))),
-    sheet("Traces", d.assessments.flatMap((a) => a.traces.map((t) => ({ assessedOn: a.assessedOn, ...t })))),
+    sheet(
+      "Assessment results",
+      d.assessments.flatMap((a) => a.results.map((r) => ({ assessedOn: a.assessedOn, assessor: a.assessor, ...r }))),
+    ),
+    sheet(
+      "Traces",
+      d.assessments.flatMap((a) => a.traces.map((t) => ({ assessedOn: a.assessedOn, ...t }))),
+    ),
     sheet("Forecasts", d.forecasts),
     sheet("Courses", d.courses),
-    sheet("Sessions", d.sessions.map(({ adverseEvents, ...s }) => ({ ...s, adverseEvents: adverseEvents.length ? adverseEvents.map((e) => `${e.kind} (${e.severity})`).join("; ") : "" }))),
+    sheet(
+      "Sessions",
+      d.sessions.map(({ adverseEvents, ...s }) => ({
+        ...s,
+        adverseEvents: adverseEvents.length ? adverseEvents.map((e) => `${e.kind} (${e.severity})`).join("; ") : "",
+      })),
+    ),
     sheet("Stage changes", d.stageChanges),
     sheet("Review requests", d.reviewRequests),
     sheet("Access log", d.accessLog),
@@ -113,15 +329,30 @@ export async function myCalendar(workerId: number, now = new Date()): Promise<st
   const hhmm = (iso: string) => iso.slice(11, 16);
   const events: CalendarSession[] = sessions.map((s) => ({
     uid: `w${workerId}-${s.start.slice(0, 10)}-${hhmm(s.start).replace(":", "")}-${s.deviceTypeId}@limberly`,
-    date: s.start.slice(0, 10), start: hhmm(s.start),
+    date: s.start.slice(0, 10),
+    start: hhmm(s.start),
     end: hhmm(s.end ?? new Date(new Date(s.start).getTime() + 3_600_000).toISOString()),
     title: `Device training: ${s.deviceType}`,
-    description: [`Device: ${s.deviceType}${s.unit ? ` (unit ${s.unit})` : ""}.`, s.trainer ? `Trainer: ${s.trainer}.` : null,
-      "Check skin and fatigue before and after; stop at once on pain or numbness and tell your trainer."].filter(Boolean).join(" "),
+    description: [
+      `Device: ${s.deviceType}${s.unit ? ` (unit ${s.unit})` : ""}.`,
+      s.trainer ? `Trainer: ${s.trainer}.` : null,
+      "Check skin and fatigue before and after; stop at once on pain or numbness and tell your trainer.",
+    ]
+      .filter(Boolean)
+      .join(" "),
     location: s.place,
   }));
   if (events.length === 0) {
-    return ["BEGIN:VCALENDAR", "VERSION:2.0", "PRODID:limberly/allocation", "CALSCALE:GREGORIAN", "METHOD:PUBLISH", "X-WR-CALNAME:My device training", "END:VCALENDAR", ""].join("\r\n");
+    return [
+      "BEGIN:VCALENDAR",
+      "VERSION:2.0",
+      "PRODID:limberly/allocation",
+      "CALSCALE:GREGORIAN",
+      "METHOD:PUBLISH",
+      "X-WR-CALNAME:My device training",
+      "END:VCALENDAR",
+      "",
+    ].join("\r\n");
   }
   return icsFile(events, { calName: "My device training" });
 }

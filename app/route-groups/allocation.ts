@@ -1,4 +1,4 @@
-import { route, type RouteConfigEntry } from "@react-router/dev/routes";
+import { type RouteConfigEntry, route } from "@react-router/dev/routes";
 import type { NavByRole } from "./types";
 
 // Allocator (issue 5): fleet and trainers, trainees' training fields, allocation runs (progress, result,

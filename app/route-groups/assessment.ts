@@ -1,4 +1,4 @@
-import { route, type RouteConfigEntry } from "@react-router/dev/routes";
+import { type RouteConfigEntry, route } from "@react-router/dev/routes";
 import type { NavByRole } from "./types";
 
 // Assessment area (issue 3): roster, worker list and record, consent, baseline battery, norms, reliability.
@@ -13,9 +13,7 @@ export const routes: RouteConfigEntry[] = [
   route("assess/reliability", "routes/assess.reliability.tsx"),
 ];
 // Resource routes outside the shell: exports, api/v1/*.
-export const outsideShell: RouteConfigEntry[] = [
-  route("assess/roster/export.xlsx", "routes/assess.roster.export.ts"),
-];
+export const outsideShell: RouteConfigEntry[] = [route("assess/roster/export.xlsx", "routes/assess.roster.export.ts")];
 export const nav: NavByRole = {
   assessor: [
     { to: "/assess/workers", label: "Workers" },

@@ -1,4 +1,4 @@
-import { route, type RouteConfigEntry } from "@react-router/dev/routes";
+import { type RouteConfigEntry, route } from "@react-router/dev/routes";
 import type { NavByRole } from "./types";
 
 // Forecast area (issue 4): model workbench and versions, proficiency criteria, worker forecasts, progress.

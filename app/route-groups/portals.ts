@@ -1,4 +1,4 @@
-import { route, type RouteConfigEntry } from "@react-router/dev/routes";
+import { type RouteConfigEntry, route } from "@react-router/dev/routes";
 import type { NavByRole } from "./types";
 
 // Portals (issue 7): the worker's own plan, consent, record and review requests (/me, home in app/routes.ts);

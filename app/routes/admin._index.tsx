@@ -1,6 +1,6 @@
-import type { Route } from "./+types/admin._index";
 import { requireUser } from "~/auth/guard.server";
 import { db } from "~/db.server";
+import type { Route } from "./+types/admin._index";
 
 export const meta: Route.MetaFunction = () => [{ title: "Admin · Limberly" }];
 
@@ -9,8 +9,17 @@ export async function loader({ request }: Route.LoaderArgs) {
   await requireUser(request, "admin.users");
   const k = db();
   const count = async (t: string) => Number((await k(t).count<{ n: number }[]>({ n: "*" }).first())?.n ?? 0);
-  const activeKeys = Number((await k("api_keys").whereNull("revoked_at").count<{ n: number }[]>({ n: "*" }).first())?.n ?? 0);
-  return { users: await count("users"), sites: await count("sites"), departments: await count("departments"), workers: await count("workers"), activeKeys, accessReads: await count("access_log") };
+  const activeKeys = Number(
+    (await k("api_keys").whereNull("revoked_at").count<{ n: number }[]>({ n: "*" }).first())?.n ?? 0,
+  );
+  return {
+    users: await count("users"),
+    sites: await count("sites"),
+    departments: await count("departments"),
+    workers: await count("workers"),
+    activeKeys,
+    accessReads: await count("access_log"),
+  };
 }
 
 export default function AdminHome({ loaderData: d }: Route.ComponentProps) {
@@ -24,10 +33,17 @@ export default function AdminHome({ loaderData: d }: Route.ComponentProps) {
   ];
   return (
     <div className="grid gap-6">
-      <h1 className="page-title" data-testid="role-home">Admin overview</h1>
+      <h1 className="page-title" data-testid="role-home">
+        Admin overview
+      </h1>
       <ul className="grid grid-cols-2 gap-3 md:grid-cols-3">
         {tiles.map((t) => (
-          <li key={t.label}><a href={t.to} className="card block hover:border-spruce-600"><span className="block text-3xl font-semibold">{t.value}</span><span className="text-ink-soft">{t.label}</span></a></li>
+          <li key={t.label}>
+            <a href={t.to} className="card block hover:border-spruce-600">
+              <span className="block text-3xl font-semibold">{t.value}</span>
+              <span className="text-ink-soft">{t.label}</span>
+            </a>
+          </li>
         ))}
       </ul>
     </div>

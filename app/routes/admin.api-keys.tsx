@@ -1,5 +1,4 @@
-import { Form, data, useActionData } from "react-router";
-import type { Route } from "./+types/admin.api-keys";
+import { data, Form, useActionData } from "react-router";
 import { createApiKey, revokeApiKey } from "~/auth/api-keys.server";
 import { requireUser } from "~/auth/guard.server";
 import { ROLE_LABELS, ROLES } from "~/auth/permissions";
@@ -8,16 +7,36 @@ import { db } from "~/db.server";
 import { listSites } from "~/models/sites.server";
 import { apiKeySchema } from "~/schemas/admin";
 import { formToObject, parseWith } from "~/schemas/form";
+import type { Route } from "./+types/admin.api-keys";
 
 export const meta: Route.MetaFunction = () => [{ title: "API keys · Limberly" }];
 
 export async function loader({ request }: Route.LoaderArgs) {
   await requireUser(request, "admin.apikeys");
-  const keys = await db()("api_keys as k").leftJoin("users as u", "u.id", "k.created_by")
-    .select("k.id", "k.name", "k.prefix", "k.role", "k.created_at", "k.revoked_at", "k.last_used_at", "u.display_name as created_by").orderBy("k.id", "desc");
-  const keySites = await db()("api_key_sites as ks").join("sites as s", "s.id", "ks.site_id").select("ks.api_key_id", "s.name");
+  const keys = await db()("api_keys as k")
+    .leftJoin("users as u", "u.id", "k.created_by")
+    .select(
+      "k.id",
+      "k.name",
+      "k.prefix",
+      "k.role",
+      "k.created_at",
+      "k.revoked_at",
+      "k.last_used_at",
+      "u.display_name as created_by",
+    )
+    .orderBy("k.id", "desc");
+  const keySites = await db()("api_key_sites as ks")
+    .join("sites as s", "s.id", "ks.site_id")
+    .select("ks.api_key_id", "s.name");
   return {
-    keys: keys.map((k) => ({ ...k, sites: keySites.filter((s) => s.api_key_id === k.id).map((s) => s.name).join(", ") })),
+    keys: keys.map((k) => ({
+      ...k,
+      sites: keySites
+        .filter((s) => s.api_key_id === k.id)
+        .map((s) => s.name)
+        .join(", "),
+    })),
     sites: await listSites(),
   };
 }
@@ -27,7 +46,12 @@ export async function action({ request }: Route.ActionArgs) {
   const form = formToObject(await request.formData());
   if (form.intent === "revoke") {
     const ok = await revokeApiKey(Number(form.keyId));
-    return ok ? { errors: null, created: null, revoked: true } : data({ errors: { _form: "That key is already revoked or does not exist." }, created: null, revoked: false }, { status: 404 });
+    return ok
+      ? { errors: null, created: null, revoked: true }
+      : data(
+          { errors: { _form: "That key is already revoked or does not exist." }, created: null, revoked: false },
+          { status: 404 },
+        );
   }
   const p = parseWith(apiKeySchema, form);
   if (!p.ok) return data({ errors: p.errors, created: null, revoked: false }, { status: 400 });
@@ -42,40 +66,97 @@ export default function AdminApiKeys({ loaderData }: Route.ComponentProps) {
   return (
     <div className="grid gap-6">
       <h1 className="page-title">API keys</h1>
-      <p className="text-ink-soft">Keys let other systems call <code>/api/v1</code> with <code>Authorization: Bearer &lt;key&gt;</code>. Each key has one role and the sites it may reach.</p>
+      <p className="text-ink-soft">
+        Keys let other systems call <code>/api/v1</code> with <code>Authorization: Bearer &lt;key&gt;</code>. Each key
+        has one role and the sites it may reach.
+      </p>
       {r?.created && (
         <div role="status" className="card border-spruce-600">
           <p className="font-semibold">New key — copy it now, it will not be shown again:</p>
-          <code className="mt-2 block break-all rounded bg-spruce-50 p-2" data-testid="new-api-key">{r.created.key}</code>
+          <code className="mt-2 block break-all rounded bg-spruce-50 p-2" data-testid="new-api-key">
+            {r.created.key}
+          </code>
         </div>
       )}
       <FormError message={errors._form} />
       <div className="card overflow-x-auto p-0" tabIndex={0} role="region" aria-label="API keys">
         <table className="table-base">
           <caption className="sr-only">API keys</caption>
-          <thead><tr><th scope="col">Name</th><th scope="col">Prefix</th><th scope="col">Role</th><th scope="col">Sites</th><th scope="col">Created</th><th scope="col">Last used</th><th scope="col">Status</th></tr></thead>
+          <thead>
+            <tr>
+              <th scope="col">Name</th>
+              <th scope="col">Prefix</th>
+              <th scope="col">Role</th>
+              <th scope="col">Sites</th>
+              <th scope="col">Created</th>
+              <th scope="col">Last used</th>
+              <th scope="col">Status</th>
+            </tr>
+          </thead>
           <tbody>
-            {keys.length === 0 && <tr><td colSpan={7} className="text-center text-ink-soft">No keys yet.</td></tr>}
+            {keys.length === 0 && (
+              <tr>
+                <td colSpan={7} className="text-center text-ink-soft">
+                  No keys yet.
+                </td>
+              </tr>
+            )}
             {keys.map((k) => (
               <tr key={k.id}>
-                <td>{k.name}</td><td><code>{k.prefix}</code></td><td>{ROLE_LABELS[k.role as keyof typeof ROLE_LABELS]}</td><td>{k.sites}</td>
-                <td>{String(k.created_at).slice(0, 10)} by {k.created_by ?? "—"}</td><td>{k.last_used_at ? String(k.last_used_at).slice(0, 16).replace("T", " ") : "never"}</td>
-                <td>{k.revoked_at ? `Revoked ${String(k.revoked_at).slice(0, 10)}` : (
-                  <Form method="post"><input type="hidden" name="intent" value="revoke" /><input type="hidden" name="keyId" value={k.id} />
-                    <button className="btn-quiet" aria-label={`Revoke key ${k.name}`}>Revoke</button></Form>)}</td>
+                <td>{k.name}</td>
+                <td>
+                  <code>{k.prefix}</code>
+                </td>
+                <td>{ROLE_LABELS[k.role as keyof typeof ROLE_LABELS]}</td>
+                <td>{k.sites}</td>
+                <td>
+                  {String(k.created_at).slice(0, 10)} by {k.created_by ?? "—"}
+                </td>
+                <td>{k.last_used_at ? String(k.last_used_at).slice(0, 16).replace("T", " ") : "never"}</td>
+                <td>
+                  {k.revoked_at ? (
+                    `Revoked ${String(k.revoked_at).slice(0, 10)}`
+                  ) : (
+                    <Form method="post">
+                      <input type="hidden" name="intent" value="revoke" />
+                      <input type="hidden" name="keyId" value={k.id} />
+                      <button className="btn-quiet" aria-label={`Revoke key ${k.name}`}>
+                        Revoke
+                      </button>
+                    </Form>
+                  )}
+                </td>
               </tr>
             ))}
           </tbody>
         </table>
       </div>
       <section className="card" aria-labelledby="new-key">
-        <h2 id="new-key" className="text-lg font-semibold">Create a key</h2>
+        <h2 id="new-key" className="text-lg font-semibold">
+          Create a key
+        </h2>
         <Form method="post" className="mt-3 grid gap-4 sm:grid-cols-3">
           <input type="hidden" name="intent" value="create" />
           <TextField name="name" label="Name (the calling system)" required error={errors.name} />
-          <SelectField name="role" label="Role" required error={errors.role} options={ROLES.filter((x) => x !== "worker").map((x) => ({ value: x, label: ROLE_LABELS[x] }))} />
-          <SelectField name="siteIds" label="Sites" multiple required error={errors.siteIds} options={sites.map((s) => ({ value: String(s.id), label: s.name }))} hint="Hold Ctrl or ⌘ to choose several." />
-          <div className="sm:col-span-3"><button className="btn-primary">Create key</button></div>
+          <SelectField
+            name="role"
+            label="Role"
+            required
+            error={errors.role}
+            options={ROLES.filter((x) => x !== "worker").map((x) => ({ value: x, label: ROLE_LABELS[x] }))}
+          />
+          <SelectField
+            name="siteIds"
+            label="Sites"
+            multiple
+            required
+            error={errors.siteIds}
+            options={sites.map((s) => ({ value: String(s.id), label: s.name }))}
+            hint="Hold Ctrl or ⌘ to choose several."
+          />
+          <div className="sm:col-span-3">
+            <button className="btn-primary">Create key</button>
+          </div>
         </Form>
       </section>
     </div>

@@ -1,10 +1,10 @@
-import { Form, data, useActionData } from "react-router";
-import type { Route } from "./+types/admin.consent-texts";
+import { data, Form, useActionData } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { Notice, SelectField, TextArea, TextField } from "~/components/fields";
 import { createConsentText, DuplicateVersionError, listConsentTexts } from "~/models/consent-texts.server";
 import { consentTextSchema } from "~/schemas/admin";
 import { formToObject, parseWith } from "~/schemas/form";
+import type { Route } from "./+types/admin.consent-texts";
 
 export const meta: Route.MetaFunction = () => [{ title: "Consent texts · Limberly" }];
 
@@ -25,9 +25,13 @@ export async function action({ request }: Route.ActionArgs) {
   if (!p.ok) return data({ errors: p.errors, done: null }, { status: 400 });
   try {
     await createConsentText({ ...p.data, createdBy: me.user.id });
-    return { errors: null, done: `Version ${p.data.version} of the ${p.data.purpose} text saved. Workers will be asked to renew consent from ${p.data.effectiveFrom}.` };
+    return {
+      errors: null,
+      done: `Version ${p.data.version} of the ${p.data.purpose} text saved. Workers will be asked to renew consent from ${p.data.effectiveFrom}.`,
+    };
   } catch (e) {
-    if (e instanceof DuplicateVersionError) return data({ errors: { version: e.message }, done: null }, { status: 409 });
+    if (e instanceof DuplicateVersionError)
+      return data({ errors: { version: e.message }, done: null }, { status: 409 });
     throw e;
   }
 }
@@ -38,25 +42,45 @@ export default function AdminConsentTexts({ loaderData }: Route.ComponentProps) 
   return (
     <div className="grid gap-6">
       <h1 className="page-title">Consent texts</h1>
-      <p className="text-ink-soft">Each purpose is consented to separately. Texts are versioned, never edited: a new version asks every worker to renew consent.</p>
+      <p className="text-ink-soft">
+        Each purpose is consented to separately. Texts are versioned, never edited: a new version asks every worker to
+        renew consent.
+      </p>
       {r?.done && <Notice>{r.done}</Notice>}
       <div className="grid gap-3">
         {loaderData.texts.map((t) => (
           <article key={t.id} className="card">
-            <h2 className="font-semibold">{PURPOSE_LABEL[t.purpose]} · v{t.version}</h2>
-            <p className="text-sm text-ink-soft">In force from {t.effective_from}{t.created_by ? ` · added by ${t.created_by}` : ""}</p>
+            <h2 className="font-semibold">
+              {PURPOSE_LABEL[t.purpose]} · v{t.version}
+            </h2>
+            <p className="text-sm text-ink-soft">
+              In force from {t.effective_from}
+              {t.created_by ? ` · added by ${t.created_by}` : ""}
+            </p>
             <p className="mt-2 whitespace-pre-line">{t.body}</p>
           </article>
         ))}
       </div>
       <section className="card" aria-labelledby="new-text">
-        <h2 id="new-text" className="text-lg font-semibold">Add a version</h2>
+        <h2 id="new-text" className="text-lg font-semibold">
+          Add a version
+        </h2>
         <Form method="post" className="mt-3 grid gap-4 sm:grid-cols-3">
-          <SelectField name="purpose" label="Purpose" required error={errors.purpose} options={Object.entries(PURPOSE_LABEL).map(([value, label]) => ({ value, label }))} />
+          <SelectField
+            name="purpose"
+            label="Purpose"
+            required
+            error={errors.purpose}
+            options={Object.entries(PURPOSE_LABEL).map(([value, label]) => ({ value, label }))}
+          />
           <TextField name="version" label="Version" required error={errors.version} hint="e.g. 1.1" />
           <TextField name="effectiveFrom" label="In force from" type="date" required error={errors.effectiveFrom} />
-          <div className="sm:col-span-3"><TextArea name="body" label="Text shown to the worker" required error={errors.body} rows={6} /></div>
-          <div className="sm:col-span-3"><button className="btn-primary">Save version</button></div>
+          <div className="sm:col-span-3">
+            <TextArea name="body" label="Text shown to the worker" required error={errors.body} rows={6} />
+          </div>
+          <div className="sm:col-span-3">
+            <button className="btn-primary">Save version</button>
+          </div>
         </Form>
       </section>
     </div>

@@ -1,12 +1,12 @@
-import { Form, data, useActionData } from "react-router";
-import type { Route } from "./+types/admin.sites";
+import { data, Form, useActionData } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { Notice, SelectField, TextField } from "~/components/fields";
 import { siteOptions } from "~/components/scope-options";
-import { createDepartment, createSite, departmentHeadcounts, DuplicateCodeError } from "~/models/org.server";
+import { createDepartment, createSite, DuplicateCodeError, departmentHeadcounts } from "~/models/org.server";
 import { listDepartments, listSites } from "~/models/sites.server";
 import { departmentSchema, siteSchema } from "~/schemas/admin";
 import { formToObject, parseWith } from "~/schemas/form";
+import type { Route } from "./+types/admin.sites";
 
 export const meta: Route.MetaFunction = () => [{ title: "Sites and departments · Limberly" }];
 
@@ -27,7 +27,8 @@ export async function action({ request }: Route.ActionArgs) {
     else await createDepartment(p.data as { siteId: number; code: string; name: string });
     return { intent, errors: null, done: `${intent === "site" ? "Site" : "Department"} added.` };
   } catch (e) {
-    if (e instanceof DuplicateCodeError) return data({ intent, errors: { code: e.message }, done: null }, { status: 409 });
+    if (e instanceof DuplicateCodeError)
+      return data({ intent, errors: { code: e.message }, done: null }, { status: 409 });
     throw e;
   }
 }
@@ -35,7 +36,7 @@ export async function action({ request }: Route.ActionArgs) {
 export default function AdminSites({ loaderData }: Route.ComponentProps) {
   const { sites, departments, headcounts } = loaderData;
   const r = useActionData<typeof action>();
-  const errs = (i: string) => (r?.intent === i ? r.errors ?? {} : {}) as Record<string, string>;
+  const errs = (i: string) => (r?.intent === i ? (r.errors ?? {}) : {}) as Record<string, string>;
   return (
     <div className="grid gap-6">
       <h1 className="page-title">Sites and departments</h1>
@@ -43,18 +44,29 @@ export default function AdminSites({ loaderData }: Route.ComponentProps) {
       <div className="grid gap-4 md:grid-cols-3">
         {sites.map((s) => (
           <section key={s.id} className="card" aria-labelledby={`site-${s.id}`}>
-            <h2 id={`site-${s.id}`} className="font-semibold">{s.name} <span className="text-sm text-ink-soft">({s.code})</span></h2>
+            <h2 id={`site-${s.id}`} className="font-semibold">
+              {s.name} <span className="text-sm text-ink-soft">({s.code})</span>
+            </h2>
             <ul className="mt-2 text-sm">
-              {departments.filter((d) => d.siteId === s.id).map((d) => (
-                <li key={d.id} className="flex justify-between border-b border-line py-1"><span>{d.name} ({d.code})</span><span className="text-ink-soft">{headcounts[d.id] ?? 0} workers</span></li>
-              ))}
+              {departments
+                .filter((d) => d.siteId === s.id)
+                .map((d) => (
+                  <li key={d.id} className="flex justify-between border-b border-line py-1">
+                    <span>
+                      {d.name} ({d.code})
+                    </span>
+                    <span className="text-ink-soft">{headcounts[d.id] ?? 0} workers</span>
+                  </li>
+                ))}
             </ul>
           </section>
         ))}
       </div>
       <div className="grid gap-4 md:grid-cols-2">
         <section className="card" aria-labelledby="add-site">
-          <h2 id="add-site" className="text-lg font-semibold">Add a site</h2>
+          <h2 id="add-site" className="text-lg font-semibold">
+            Add a site
+          </h2>
           <Form method="post" className="mt-3 grid gap-3">
             <input type="hidden" name="intent" value="site" />
             <TextField name="code" label="Code" required error={errs("site").code} />
@@ -63,10 +75,18 @@ export default function AdminSites({ loaderData }: Route.ComponentProps) {
           </Form>
         </section>
         <section className="card" aria-labelledby="add-dept">
-          <h2 id="add-dept" className="text-lg font-semibold">Add a department</h2>
+          <h2 id="add-dept" className="text-lg font-semibold">
+            Add a department
+          </h2>
           <Form method="post" className="mt-3 grid gap-3">
             <input type="hidden" name="intent" value="department" />
-            <SelectField name="siteId" label="Site" required error={errs("department").siteId} options={siteOptions(sites)} />
+            <SelectField
+              name="siteId"
+              label="Site"
+              required
+              error={errs("department").siteId}
+              options={siteOptions(sites)}
+            />
             <TextField name="code" label="Code" required error={errs("department").code} />
             <TextField name="name" label="Name" required error={errs("department").name} />
             <button className="btn-primary justify-self-start">Add department</button>

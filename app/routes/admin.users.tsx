@@ -1,6 +1,5 @@
 import type { ColumnDef } from "@tanstack/react-table";
-import { Form, Link, data, useActionData, useNavigation } from "react-router";
-import type { Route } from "./+types/admin.users";
+import { data, Form, Link, useActionData, useNavigation } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { ROLE_LABELS, ROLES } from "~/auth/permissions";
 import { FormError, Notice, SelectField, TextField } from "~/components/fields";
@@ -11,6 +10,7 @@ import { listDepartments, listSites } from "~/models/sites.server";
 import { createUserSchema } from "~/schemas/admin";
 import { formToObject, parseWith } from "~/schemas/form";
 import { readTableQuery } from "~/schemas/table-query";
+import type { Route } from "./+types/admin.users";
 
 export const meta: Route.MetaFunction = () => [{ title: "Users and roles · Limberly" }];
 
@@ -35,11 +35,23 @@ export async function action({ request }: Route.ActionArgs) {
 }
 
 const columns: ColumnDef<UserListRow, unknown>[] = [
-  { id: "name", header: "Name", cell: ({ row }) => <Link className="font-medium text-spruce-700 underline" to={`/admin/users/${row.original.id}`}>{row.original.displayName}</Link> },
+  {
+    id: "name",
+    header: "Name",
+    cell: ({ row }) => (
+      <Link className="font-medium text-spruce-700 underline" to={`/admin/users/${row.original.id}`}>
+        {row.original.displayName}
+      </Link>
+    ),
+  },
   { id: "email", header: "E-mail", cell: ({ row }) => row.original.email },
   { id: "roles", header: "Roles", cell: ({ row }) => row.original.roles || "—" },
   { id: "active", header: "Status", cell: ({ row }) => (row.original.active ? "Active" : "Deactivated") },
-  { id: "lastSignIn", header: "Last sign-in", cell: ({ row }) => row.original.lastSignInAt?.slice(0, 16).replace("T", " ") ?? "never" },
+  {
+    id: "lastSignIn",
+    header: "Last sign-in",
+    cell: ({ row }) => row.original.lastSignInAt?.slice(0, 16).replace("T", " ") ?? "never",
+  },
 ];
 
 export default function AdminUsers({ loaderData }: Route.ComponentProps) {
@@ -50,20 +62,60 @@ export default function AdminUsers({ loaderData }: Route.ComponentProps) {
   return (
     <div className="grid gap-6">
       <h1 className="page-title">Users and roles</h1>
-      <ServerTable caption="Users" columns={columns} rows={page.rows} total={page.total} page={page.page} size={page.size}
-        sort={page.sort} dir={page.dir} sortable={["name", "email", "lastSignIn"]} searchLabel="Filter by name or e-mail" q={q} />
+      <ServerTable
+        caption="Users"
+        columns={columns}
+        rows={page.rows}
+        total={page.total}
+        page={page.page}
+        size={page.size}
+        sort={page.sort}
+        dir={page.dir}
+        sortable={["name", "email", "lastSignIn"]}
+        searchLabel="Filter by name or e-mail"
+        q={q}
+      />
       <section className="card" aria-labelledby="add-user">
-        <h2 id="add-user" className="text-lg font-semibold">Add a user</h2>
+        <h2 id="add-user" className="text-lg font-semibold">
+          Add a user
+        </h2>
         <p className="text-sm text-ink-soft">The e-mail must match the person's identity at your identity provider.</p>
-        {result?.created && <div className="mt-3"><Notice>Added {result.created.email}.</Notice></div>}
+        {result?.created && (
+          <div className="mt-3">
+            <Notice>Added {result.created.email}.</Notice>
+          </div>
+        )}
         <Form method="post" className="mt-4 grid gap-4 sm:grid-cols-2" noValidate>
-          <div className="sm:col-span-2"><FormError message={errors._form} /></div>
+          <div className="sm:col-span-2">
+            <FormError message={errors._form} />
+          </div>
           <TextField name="email" label="E-mail" type="email" required error={errors.email} autoComplete="off" />
           <TextField name="displayName" label="Name" required error={errors.displayName} />
-          <SelectField name="role" label="Role" required error={errors.role} options={ROLES.map((r) => ({ value: r, label: ROLE_LABELS[r] }))} />
-          <SelectField name="siteId" label="Site" error={errors.siteId} options={siteOptions(sites)} hint="Scope of the role. Admin may be organisation-wide." />
-          <SelectField name="departmentId" label="Department (narrower scope)" error={errors.departmentId} options={departmentOptions(departments)} />
-          <div className="sm:col-span-2"><button className="btn-primary" disabled={busy}>{busy ? "Adding…" : "Add user"}</button></div>
+          <SelectField
+            name="role"
+            label="Role"
+            required
+            error={errors.role}
+            options={ROLES.map((r) => ({ value: r, label: ROLE_LABELS[r] }))}
+          />
+          <SelectField
+            name="siteId"
+            label="Site"
+            error={errors.siteId}
+            options={siteOptions(sites)}
+            hint="Scope of the role. Admin may be organisation-wide."
+          />
+          <SelectField
+            name="departmentId"
+            label="Department (narrower scope)"
+            error={errors.departmentId}
+            options={departmentOptions(departments)}
+          />
+          <div className="sm:col-span-2">
+            <button className="btn-primary" disabled={busy}>
+              {busy ? "Adding…" : "Add user"}
+            </button>
+          </div>
         </Form>
       </section>
     </div>

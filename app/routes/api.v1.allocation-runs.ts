@@ -1,9 +1,9 @@
-import type { Route } from "./+types/api.v1.allocation-runs";
 import { requireApiAccess } from "~/auth/guard.server";
-import { ensureJobsStarted, enqueueRun } from "~/jobs/runner.server";
+import { enqueueRun, ensureJobsStarted } from "~/jobs/runner.server";
 import { createRun, listRuns, RunInputError } from "~/models/allocation-runs.server";
 import { runParametersSchema } from "~/schemas/allocation";
 import { parseWith } from "~/schemas/form";
+import type { Route } from "./+types/api.v1.allocation-runs";
 
 // POST /api/v1/allocation-runs — start a run (coordinator keys: allocation.run). Body: JSON with the same
 // parameters schema as the form (runParametersSchema): startDate (a Monday), horizonWeeks, pool,
@@ -13,7 +13,20 @@ export async function loader({ request }: Route.LoaderArgs) {
   const p = await requireApiAccess(request, "allocation.run");
   await ensureJobsStarted();
   const runs = await listRuns(p.scope);
-  return Response.json({ runs: runs.map((r) => ({ id: r.id, label: r.label, status: r.status, fraction: r.fraction, parameters: r.parameters, createdAt: r.createdAt, publishedAt: r.publishedAt })) }, { headers: { "Cache-Control": "no-store" } });
+  return Response.json(
+    {
+      runs: runs.map((r) => ({
+        id: r.id,
+        label: r.label,
+        status: r.status,
+        fraction: r.fraction,
+        parameters: r.parameters,
+        createdAt: r.createdAt,
+        publishedAt: r.publishedAt,
+      })),
+    },
+    { headers: { "Cache-Control": "no-store" } },
+  );
 }
 
 export async function action({ request }: Route.ActionArgs) {
@@ -21,15 +34,23 @@ export async function action({ request }: Route.ActionArgs) {
   const p = await requireApiAccess(request, "allocation.run");
   await ensureJobsStarted();
   let body: unknown;
-  try { body = await request.json(); } catch { return Response.json({ error: "The body must be JSON." }, { status: 400 }); }
+  try {
+    body = await request.json();
+  } catch {
+    return Response.json({ error: "The body must be JSON." }, { status: 400 });
+  }
   const parsed = parseWith(runParametersSchema, body);
   if (!parsed.ok) return Response.json({ error: "Invalid run parameters.", fields: parsed.errors }, { status: 400 });
   try {
     const id = await createRun(p, parsed.data);
     enqueueRun(id);
-    return Response.json({ id, status: "queued", href: `/api/v1/allocation-runs/${id}` }, { status: 202, headers: { Location: `/api/v1/allocation-runs/${id}` } });
+    return Response.json(
+      { id, status: "queued", href: `/api/v1/allocation-runs/${id}` },
+      { status: 202, headers: { Location: `/api/v1/allocation-runs/${id}` } },
+    );
   } catch (e) {
-    if (e instanceof RunInputError) return Response.json({ error: e.message, fields: { [e.field]: e.message } }, { status: 400 });
+    if (e instanceof RunInputError)
+      return Response.json({ error: e.message, fields: { [e.field]: e.message } }, { status: 400 });
     throw e;
   }
 }

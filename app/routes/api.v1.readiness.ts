@@ -1,15 +1,22 @@
-import type { Route } from "./+types/api.v1.readiness";
 import { requireApiAccess } from "~/auth/guard.server";
 import type { ProtectedTable } from "~/compute/disclosure";
 import { transposeProtected } from "~/compute/readiness-views";
-import { readinessBoard, type MedianTable } from "~/models/readiness.server";
+import { type MedianTable, readinessBoard } from "~/models/readiness.server";
 import { GROUPING_LABELS, readinessApiQuerySchema } from "~/schemas/readiness";
+import type { Route } from "./+types/api.v1.readiness";
 
 // GET /api/v1/readiness?groupBy=site|department|deviceType|stage — protected tables only, the same
 // figures the manager's pages show (null = hidden by disclosure control). No other query parameters:
 // fixed groupings, no filters.
 function plain(t: ProtectedTable) {
-  return { rows: t.rows, columns: t.columns, cells: t.cells, rowTotals: t.rowTotals, columnTotals: t.columnTotals, grandTotal: t.grandTotal };
+  return {
+    rows: t.rows,
+    columns: t.columns,
+    cells: t.cells,
+    rowTotals: t.rowTotals,
+    columnTotals: t.columnTotals,
+    grandTotal: t.grandTotal,
+  };
 }
 function transposeMedians(t: MedianTable) {
   return { rows: t.columns, columns: t.rows, cells: t.columns.map((_, j) => t.rows.map((_, i) => t.cells[i][j])) };
@@ -21,13 +28,26 @@ export async function loader({ request }: Route.LoaderArgs) {
   const parsed = readinessApiQuerySchema.safeParse(Object.fromEntries(url.searchParams.entries()));
   if (!parsed.success) {
     const issue = parsed.error.issues[0];
-    const field = issue.path.join(".") || (issue.code === "unrecognized_keys" ? (issue as { keys?: string[] }).keys?.join(", ") : "") || "query";
-    return Response.json({ error: `${field}: ${issue.code === "unrecognized_keys" ? "not accepted; only groupBy is (fixed groupings, no filters)." : issue.message}` }, { status: 400 });
+    const field =
+      issue.path.join(".") ||
+      (issue.code === "unrecognized_keys" ? (issue as { keys?: string[] }).keys?.join(", ") : "") ||
+      "query";
+    return Response.json(
+      {
+        error: `${field}: ${issue.code === "unrecognized_keys" ? "not accepted; only groupBy is (fixed groupings, no filters)." : issue.message}`,
+      },
+      { status: 400 },
+    );
   }
   const { groupBy } = parsed.data;
   const board = await readinessBoard(p.scope);
   if (!board.groupings.includes(groupBy)) {
-    return Response.json({ error: `groupBy: your organisation does not publish readiness by ${GROUPING_LABELS[groupBy].toLowerCase()} to managers.` }, { status: 403 });
+    return Response.json(
+      {
+        error: `groupBy: your organisation does not publish readiness by ${GROUPING_LABELS[groupBy].toLowerCase()} to managers.`,
+      },
+      { status: 403 },
+    );
   }
   const level = board.groupings.includes("department") ? "department" : "site";
   const tables: Record<string, unknown> = {};
@@ -39,20 +59,27 @@ export async function loader({ request }: Route.LoaderArgs) {
       tables.medianForecastHours = { rows: m.rows, columns: m.columns, cells: m.cells };
     }
   } else if (groupBy === "deviceType") {
-    if (board.ready.status === "ok" && board.ready[level]) tables.readyByDeviceType = plain(transposeProtected(board.ready[level]!));
-    if (board.medians.status === "ok" && board.medians[level]) tables.medianForecastHours = transposeMedians(board.medians[level]!);
+    if (board.ready.status === "ok" && board.ready[level])
+      tables.readyByDeviceType = plain(transposeProtected(board.ready[level]!));
+    if (board.medians.status === "ok" && board.medians[level])
+      tables.medianForecastHours = transposeMedians(board.medians[level]!);
   } else if (board.stage.status === "ok" && board.stage[level]) {
     tables.workersByStage = plain(transposeProtected(board.stage[level]!));
   }
-  const notes = Object.fromEntries((["stage", "ready", "planned", "medians"] as const)
-    .filter((k) => board[k].status === "empty" || board[k].status === "unavailable")
-    .map((k) => [k, (board[k] as { reason: string }).reason]));
-  return Response.json({
-    groupBy,
-    threshold: board.threshold,
-    hidden: `null means hidden: a count of 1 to ${board.threshold - 1} people, or a number that would let one be worked out from the others`,
-    scope: board.scopeLabel,
-    tables,
-    notes,
-  }, { headers: { "Cache-Control": "no-store" } });
+  const notes = Object.fromEntries(
+    (["stage", "ready", "planned", "medians"] as const)
+      .filter((k) => board[k].status === "empty" || board[k].status === "unavailable")
+      .map((k) => [k, (board[k] as { reason: string }).reason]),
+  );
+  return Response.json(
+    {
+      groupBy,
+      threshold: board.threshold,
+      hidden: `null means hidden: a count of 1 to ${board.threshold - 1} people, or a number that would let one be worked out from the others`,
+      scope: board.scopeLabel,
+      tables,
+      notes,
+    },
+    { headers: { "Cache-Control": "no-store" } },
+  );
 }

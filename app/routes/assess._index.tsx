@@ -1,8 +1,8 @@
 import { Link } from "react-router";
-import type { Route } from "./+types/assess._index";
 import { requireUser } from "~/auth/guard.server";
 import { STAGE_LABELS, STAGES, type Stage } from "~/components/stage";
 import { stageCountsBySite } from "~/models/workers.server";
+import type { Route } from "./+types/assess._index";
 
 export const meta: Route.MetaFunction = () => [{ title: "Assessment home · Limberly" }];
 
@@ -14,11 +14,14 @@ export async function loader({ request }: Route.LoaderArgs) {
 
 export default function AssessHome({ loaderData }: Route.ComponentProps) {
   const sites = [...new Set(loaderData.counts.map((c) => c.site))];
-  const cell = (site: string, stage: Stage) => loaderData.counts.find((c) => c.site === site && c.stage === stage)?.n ?? 0;
+  const cell = (site: string, stage: Stage) =>
+    loaderData.counts.find((c) => c.site === site && c.stage === stage)?.n ?? 0;
   return (
     <div className="grid gap-6">
       <div>
-        <h1 className="page-title" data-testid="role-home">Assessment home</h1>
+        <h1 className="page-title" data-testid="role-home">
+          Assessment home
+        </h1>
         <p className="text-ink-soft">Workers at your sites by readiness stage.</p>
       </div>
       <nav aria-label="Assessment tasks" className="grid gap-3 sm:grid-cols-3">
@@ -29,14 +32,35 @@ export default function AssessHome({ loaderData }: Route.ComponentProps) {
           { to: "/assess/norms", title: "Norms", text: "Cohort-derived or published norm sets." },
           { to: "/assess/reliability", title: "Reliability", text: "ICC, SEM and MDC95 from repeated baselines." },
         ].map((l) => (
-          <Link key={l.to} to={l.to} className="card block hover:bg-spruce-50"><span className="font-semibold text-spruce-700">{l.title}</span><span className="block text-sm text-ink-soft">{l.text}</span></Link>
+          <Link key={l.to} to={l.to} className="card block hover:bg-spruce-50">
+            <span className="font-semibold text-spruce-700">{l.title}</span>
+            <span className="block text-sm text-ink-soft">{l.text}</span>
+          </Link>
         ))}
       </nav>
       <div className="card overflow-x-auto p-0" tabIndex={0} role="region" aria-label="Workers by site and stage">
         <table className="table-base">
           <caption className="sr-only">Workers by site and stage</caption>
-          <thead><tr><th scope="col">Site</th>{STAGES.map((s) => <th key={s} scope="col">{STAGE_LABELS[s]}</th>)}</tr></thead>
-          <tbody>{sites.map((site) => <tr key={site}><th scope="row">{site}</th>{STAGES.map((s) => <td key={s}>{cell(site, s)}</td>)}</tr>)}</tbody>
+          <thead>
+            <tr>
+              <th scope="col">Site</th>
+              {STAGES.map((s) => (
+                <th key={s} scope="col">
+                  {STAGE_LABELS[s]}
+                </th>
+              ))}
+            </tr>
+          </thead>
+          <tbody>
+            {sites.map((site) => (
+              <tr key={site}>
+                <th scope="row">{site}</th>
+                {STAGES.map((s) => (
+                  <td key={s}>{cell(site, s)}</td>
+                ))}
+              </tr>
+            ))}
+          </tbody>
         </table>
       </div>
     </div>

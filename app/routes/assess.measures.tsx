@@ -1,11 +1,11 @@
-import { Form, data, useActionData } from "react-router";
-import type { Route } from "./+types/assess.measures";
+import { data, Form, useActionData } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { Notice, SelectField, TextArea, TextField } from "~/components/fields";
 import { TRACE_KINDS } from "~/compute/trace-parsing";
 import { createMeasure, DuplicateMeasureError, listMeasures, setMeasureActive } from "~/models/measures.server";
-import { TRACE_KIND_LABELS, measureSchema, scorableOutputs } from "~/schemas/assessment";
+import { measureSchema, scorableOutputs, TRACE_KIND_LABELS } from "~/schemas/assessment";
 import { formToObject, parseWith } from "~/schemas/form";
+import type { Route } from "./+types/assess.measures";
 
 export const meta: Route.MetaFunction = () => [{ title: "Baseline measures · Limberly" }];
 
@@ -22,7 +22,10 @@ export async function action({ request }: Route.ActionArgs) {
   const form = formToObject(await request.formData());
   if (form.intent === "toggle") {
     await setMeasureActive(Number(form.id), form.active === "true");
-    return { errors: null, done: form.active === "true" ? "Measure switched on." : "Measure switched off; stored results stay." };
+    return {
+      errors: null,
+      done: form.active === "true" ? "Measure switched on." : "Measure switched off; stored results stay.",
+    };
   }
   const v = parseWith(measureSchema, form);
   if (!v.ok) return data({ errors: v.errors, done: null }, { status: 400 });
@@ -43,42 +46,116 @@ export default function Measures({ loaderData }: Route.ComponentProps) {
     <div className="grid gap-6">
       <div>
         <h1 className="page-title">Baseline measures</h1>
-        <p className="text-ink-soft">The battery: standardised tests entered by hand, and measures computed from uploaded traces.</p>
+        <p className="text-ink-soft">
+          The battery: standardised tests entered by hand, and measures computed from uploaded traces.
+        </p>
       </div>
       {r?.done && <Notice>{r.done}</Notice>}
       <div className="card overflow-x-auto p-0">
         <table className="table-base">
           <caption className="sr-only">Measures</caption>
-          <thead><tr><th scope="col">Measure</th><th scope="col">Code</th><th scope="col">Unit</th><th scope="col">Better</th><th scope="col">Entry</th><th scope="col">Status</th></tr></thead>
-          <tbody>{measures.map((m) => (
-            <tr key={m.id}>
-              <th scope="row" className="font-normal">{m.name}</th><td><code>{m.code}</code></td><td>{m.unit}</td><td>{m.higherIsBetter ? "higher" : "lower"}</td>
-              <td>{m.entry === "trace" ? `trace: ${m.traceKind}` : "manual"}</td>
-              <td>
-                <Form method="post"><input type="hidden" name="intent" value="toggle" /><input type="hidden" name="id" value={m.id} /><input type="hidden" name="active" value={String(!m.active)} />
-                  <button className="btn-quiet min-h-9 px-2 py-1 text-xs" aria-label={`${m.active ? "Switch off" : "Switch on"} ${m.name}`}>{m.active ? "Active: switch off" : "Off: switch on"}</button>
-                </Form>
-              </td>
-            </tr>))}
+          <thead>
+            <tr>
+              <th scope="col">Measure</th>
+              <th scope="col">Code</th>
+              <th scope="col">Unit</th>
+              <th scope="col">Better</th>
+              <th scope="col">Entry</th>
+              <th scope="col">Status</th>
+            </tr>
+          </thead>
+          <tbody>
+            {measures.map((m) => (
+              <tr key={m.id}>
+                <th scope="row" className="font-normal">
+                  {m.name}
+                </th>
+                <td>
+                  <code>{m.code}</code>
+                </td>
+                <td>{m.unit}</td>
+                <td>{m.higherIsBetter ? "higher" : "lower"}</td>
+                <td>{m.entry === "trace" ? `trace: ${m.traceKind}` : "manual"}</td>
+                <td>
+                  <Form method="post">
+                    <input type="hidden" name="intent" value="toggle" />
+                    <input type="hidden" name="id" value={m.id} />
+                    <input type="hidden" name="active" value={String(!m.active)} />
+                    <button
+                      className="btn-quiet min-h-9 px-2 py-1 text-xs"
+                      aria-label={`${m.active ? "Switch off" : "Switch on"} ${m.name}`}
+                    >
+                      {m.active ? "Active: switch off" : "Off: switch on"}
+                    </button>
+                  </Form>
+                </td>
+              </tr>
+            ))}
           </tbody>
         </table>
       </div>
       <section className="card" aria-labelledby="add-m">
-        <h2 id="add-m" className="text-lg font-semibold">Add a measure</h2>
+        <h2 id="add-m" className="text-lg font-semibold">
+          Add a measure
+        </h2>
         <Form method="post" className="mt-3 grid gap-4 sm:grid-cols-2" noValidate>
           <input type="hidden" name="intent" value="create" />
           <TextField name="name" label="Name" required error={errors.name} />
-          <TextField name="code" label="Code" required error={errors.code} hint="Manual: e.g. pegboard.right. Trace: one of the outputs listed below." />
+          <TextField
+            name="code"
+            label="Code"
+            required
+            error={errors.code}
+            hint="Manual: e.g. pegboard.right. Trace: one of the outputs listed below."
+          />
           <TextField name="unit" label="Unit" required error={errors.unit} />
-          <SelectField name="direction" label="Better is" required error={errors.direction} options={[{ value: "higher", label: "higher" }, { value: "lower", label: "lower" }]} />
-          <SelectField name="entry" label="Entry" required error={errors.entry} options={[{ value: "manual", label: "Manual score" }, { value: "trace", label: "Computed from a trace" }]} />
-          <SelectField name="traceKind" label="Trace format (trace measures)" error={errors.traceKind} options={[{ value: "", label: "— manual —" }, ...TRACE_KINDS.map((k) => ({ value: k, label: TRACE_KIND_LABELS[k] }))]} />
-          <div className="sm:col-span-2"><TextArea name="description" label="Description (optional)" rows={2} /></div>
-          <div className="sm:col-span-2"><button className="btn-primary">Add measure</button></div>
+          <SelectField
+            name="direction"
+            label="Better is"
+            required
+            error={errors.direction}
+            options={[
+              { value: "higher", label: "higher" },
+              { value: "lower", label: "lower" },
+            ]}
+          />
+          <SelectField
+            name="entry"
+            label="Entry"
+            required
+            error={errors.entry}
+            options={[
+              { value: "manual", label: "Manual score" },
+              { value: "trace", label: "Computed from a trace" },
+            ]}
+          />
+          <SelectField
+            name="traceKind"
+            label="Trace format (trace measures)"
+            error={errors.traceKind}
+            options={[
+              { value: "", label: "— manual —" },
+              ...TRACE_KINDS.map((k) => ({ value: k, label: TRACE_KIND_LABELS[k] })),
+            ]}
+          />
+          <div className="sm:col-span-2">
+            <TextArea name="description" label="Description (optional)" rows={2} />
+          </div>
+          <div className="sm:col-span-2">
+            <button className="btn-primary">Add measure</button>
+          </div>
         </Form>
         <details className="mt-4 text-sm">
           <summary className="cursor-pointer text-spruce-700">Trace outputs that can be scored</summary>
-          <ul className="mt-2 grid gap-1">{Object.entries(outputs).flatMap(([k, list]) => list.map((o) => <li key={o.key}><code>{o.key}</code> ({k}): {o.label}, {o.unit}, {o.higherIsBetter ? "higher" : "lower"} is better</li>))}</ul>
+          <ul className="mt-2 grid gap-1">
+            {Object.entries(outputs).flatMap(([k, list]) =>
+              list.map((o) => (
+                <li key={o.key}>
+                  <code>{o.key}</code> ({k}): {o.label}, {o.unit}, {o.higherIsBetter ? "higher" : "lower"} is better
+                </li>
+              )),
+            )}
+          </ul>
         </details>
       </section>
     </div>

@@ -1,10 +1,10 @@
 import { data, Form, Link, useActionData, useNavigation } from "react-router";
-import type { Route } from "./+types/assess.reviews";
 import { requireUser } from "~/auth/guard.server";
 import { FormError, Notice, TextArea } from "~/components/fields";
-import { answerReview, reviewQueue, ReviewError } from "~/models/reviews.server";
+import { answerReview, ReviewError, reviewQueue } from "~/models/reviews.server";
 import { formToObject, parseWith } from "~/schemas/form";
 import { formatDay, REVIEW_SUBJECT_LABELS, reviewAnswerSchema } from "~/schemas/portal";
+import type { Route } from "./+types/assess.reviews";
 
 export const meta: Route.MetaFunction = () => [{ title: "Review requests · Limberly" }];
 
@@ -25,7 +25,13 @@ export async function action({ request }: Route.ActionArgs) {
   if (!parsed.ok) return data({ reviewId, errors: parsed.errors, done: null }, { status: 400 });
   try {
     const r = await answerReview(p, parsed.data.reviewId, parsed.data.answer);
-    return { reviewId, errors: null, done: r.mailedTo ? "Answer saved and e-mailed to the worker." : "Answer saved. The worker has no e-mail address on file; they will see it in the app." };
+    return {
+      reviewId,
+      errors: null,
+      done: r.mailedTo
+        ? "Answer saved and e-mailed to the worker."
+        : "Answer saved. The worker has no e-mail address on file; they will see it in the app.",
+    };
   } catch (e) {
     if (e instanceof ReviewError) return data({ reviewId, errors: { _form: e.message }, done: null }, { status: 409 });
     throw e;
@@ -40,34 +46,80 @@ export default function ReviewQueue({ loaderData }: Route.ComponentProps) {
     <div className="grid gap-6">
       <div>
         <h1 className="page-title">Review requests</h1>
-        <p className="text-ink-soft">Workers who ask a person to look at their forecast or plan. Your answer is shown to them in the app and e-mailed.</p>
+        <p className="text-ink-soft">
+          Workers who ask a person to look at their forecast or plan. Your answer is shown to them in the app and
+          e-mailed.
+        </p>
         <nav aria-label="Which requests" className="mt-2 flex gap-3">
-          <Link to="/assess/reviews" className={show === "open" ? "font-semibold underline" : "text-spruce-700 underline"} aria-current={show === "open" ? "page" : undefined}>Open</Link>
-          <Link to="/assess/reviews?show=answered" className={show === "answered" ? "font-semibold underline" : "text-spruce-700 underline"} aria-current={show === "answered" ? "page" : undefined}>Answered</Link>
+          <Link
+            to="/assess/reviews"
+            className={show === "open" ? "font-semibold underline" : "text-spruce-700 underline"}
+            aria-current={show === "open" ? "page" : undefined}
+          >
+            Open
+          </Link>
+          <Link
+            to="/assess/reviews?show=answered"
+            className={show === "answered" ? "font-semibold underline" : "text-spruce-700 underline"}
+            aria-current={show === "answered" ? "page" : undefined}
+          >
+            Answered
+          </Link>
         </nav>
       </div>
       {result?.done && <Notice>{result.done}</Notice>}
       {requests.length === 0 && <p className="card text-ink-soft">No {show} requests for workers at your sites.</p>}
       <ul className="grid gap-4" data-testid="review-queue">
         {requests.map((r) => {
-          const errors = (result?.reviewId === r.id ? result?.errors ?? {} : {}) as Record<string, string>;
+          const errors = (result?.reviewId === r.id ? (result?.errors ?? {}) : {}) as Record<string, string>;
           return (
             <li key={r.id} className="card grid gap-2" data-testid={`review-${r.id}`}>
-              <p className="font-semibold">{r.name} · {r.employeeNumber}</p>
-              <p className="text-sm text-ink-soft">{REVIEW_SUBJECT_LABELS[r.subject]}{r.deviceType ? ` · ${r.deviceType}` : ""} · asked {formatDay(r.createdAt)}</p>
+              <p className="font-semibold">
+                {r.name} · {r.employeeNumber}
+              </p>
+              <p className="text-sm text-ink-soft">
+                {REVIEW_SUBJECT_LABELS[r.subject]}
+                {r.deviceType ? ` · ${r.deviceType}` : ""} · asked {formatDay(r.createdAt)}
+              </p>
               <p className="whitespace-pre-line">{r.message}</p>
               <p className="text-sm">
-                <Link className="text-spruce-700 underline" to={`/forecast/${r.workerId}`}>Open the forecast</Link>
-                {r.deviceTypeId ? <> · <Link className="text-spruce-700 underline" to={`/progress/${r.workerId}/${r.deviceTypeId}`}>progress</Link></> : null}
+                <Link className="text-spruce-700 underline" to={`/forecast/${r.workerId}`}>
+                  Open the forecast
+                </Link>
+                {r.deviceTypeId ? (
+                  <>
+                    {" "}
+                    ·{" "}
+                    <Link className="text-spruce-700 underline" to={`/progress/${r.workerId}/${r.deviceTypeId}`}>
+                      progress
+                    </Link>
+                  </>
+                ) : null}
               </p>
               {r.status === "answered" ? (
-                <div className="rounded-md bg-spruce-50 p-2"><p className="text-sm font-semibold">Answered by {r.answeredBy}{r.answeredAt ? `, ${formatDay(r.answeredAt)}` : ""}</p><p className="whitespace-pre-line">{r.answer}</p></div>
+                <div className="rounded-md bg-spruce-50 p-2">
+                  <p className="text-sm font-semibold">
+                    Answered by {r.answeredBy}
+                    {r.answeredAt ? `, ${formatDay(r.answeredAt)}` : ""}
+                  </p>
+                  <p className="whitespace-pre-line">{r.answer}</p>
+                </div>
               ) : (
                 <Form method="post" className="grid gap-2" noValidate>
                   <FormError message={errors._form} />
                   <input type="hidden" name="reviewId" value={r.id} />
-                  <TextArea name={`answer_${r.id}`} label={`Answer to ${r.name}`} rows={3} required error={errors.answer} />
-                  <div><button className="btn-primary min-h-11" disabled={busy}>Send answer</button></div>
+                  <TextArea
+                    name={`answer_${r.id}`}
+                    label={`Answer to ${r.name}`}
+                    rows={3}
+                    required
+                    error={errors.answer}
+                  />
+                  <div>
+                    <button className="btn-primary min-h-11" disabled={busy}>
+                      Send answer
+                    </button>
+                  </div>
                 </Form>
               )}
             </li>

@@ -1,13 +1,19 @@
-import { Form, Link, data, useActionData, useNavigation } from "react-router";
-import type { Route } from "./+types/assess.roster.$importId";
+import { data, Form, Link, useActionData, useNavigation } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { FormError, Notice } from "~/components/fields";
 import { IssueList } from "~/components/upload";
 import {
-  discardRosterUpload, getRosterUpload, importRosterUpload, planRoster, RosterStateError, saveMapping, type RosterSummary,
+  discardRosterUpload,
+  getRosterUpload,
+  importRosterUpload,
+  planRoster,
+  RosterStateError,
+  type RosterSummary,
+  saveMapping,
 } from "~/models/roster.server";
 import { formToObject } from "~/schemas/form";
-import { ROSTER_FIELD_LABELS, ROSTER_FIELDS, mappingFromForm } from "~/schemas/roster";
+import { mappingFromForm, ROSTER_FIELD_LABELS, ROSTER_FIELDS } from "~/schemas/roster";
+import type { Route } from "./+types/assess.roster.$importId";
 
 export const meta: Route.MetaFunction = () => [{ title: "Roster preview · Limberly" }];
 const SHOWN = 200;
@@ -22,17 +28,35 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const p = await requireUser(request, "roster.import");
   const up = await getRosterUpload(idOf(params), p.user.id);
   if (!up) throw data({ error: "No such roster upload of yours." }, { status: 404 });
-  const base = { id: up.id, filename: up.filename, sizeBytes: up.sizeBytes, rowCount: up.rowCount, headers: up.headers, mapping: up.mapping, status: up.status, summary: up.summary };
+  const base = {
+    id: up.id,
+    filename: up.filename,
+    sizeBytes: up.sizeBytes,
+    rowCount: up.rowCount,
+    headers: up.headers,
+    mapping: up.mapping,
+    status: up.status,
+    summary: up.summary,
+  };
   if (up.status !== "uploaded" || !up.rows) return { ...base, preview: null, sample: [] as string[][] };
   const missing = ROSTER_FIELDS.filter((f) => f !== "email" && up.mapping[f] == null);
   const plan = missing.length ? null : await planRoster(up.rows, up.mapping, p.scope);
   return {
-    ...base, sample: up.rows.slice(0, 3),
+    ...base,
+    sample: up.rows.slice(0, 3),
     preview: plan && {
-      rowCount: plan.rowCount, invalidRows: plan.invalidRows, issueCount: plan.issues.length,
-      issues: plan.issues.slice(0, SHOWN).map((i) => ({ row: i.row, field: i.field ? ROSTER_FIELD_LABELS[i.field] : undefined, message: i.message })),
-      creates: plan.creates.length, updates: plan.updates.length, unchanged: plan.unchanged,
-      updateSample: plan.updates.slice(0, 20).map((u) => ({ row: u.row.row, employeeNumber: u.row.employeeNumber, fields: u.fields })),
+      rowCount: plan.rowCount,
+      invalidRows: plan.invalidRows,
+      issueCount: plan.issues.length,
+      issues: plan.issues
+        .slice(0, SHOWN)
+        .map((i) => ({ row: i.row, field: i.field ? ROSTER_FIELD_LABELS[i.field] : undefined, message: i.message })),
+      creates: plan.creates.length,
+      updates: plan.updates.length,
+      unchanged: plan.unchanged,
+      updateSample: plan.updates
+        .slice(0, 20)
+        .map((u) => ({ row: u.row.row, employeeNumber: u.row.employeeNumber, fields: u.fields })),
     },
   };
 }
@@ -59,7 +83,8 @@ export async function action({ request, params }: Route.ActionArgs) {
       return { errors: null, summary: null, done: "Upload discarded; nothing was imported." };
     }
   } catch (e) {
-    if (e instanceof RosterStateError) return data({ errors: { _form: e.message }, summary: null, done: null }, { status: 409 });
+    if (e instanceof RosterStateError)
+      return data({ errors: { _form: e.message }, summary: null, done: null }, { status: 409 });
     throw e;
   }
   return data({ errors: { _form: "Unknown action." }, summary: null, done: null }, { status: 400 });
@@ -68,14 +93,33 @@ export async function action({ request, params }: Route.ActionArgs) {
 function Summary({ s }: { s: RosterSummary }) {
   return (
     <section className="card grid gap-2" aria-labelledby="sum-h" data-testid="import-summary">
-      <h2 id="sum-h" className="text-lg font-semibold">What changed</h2>
-      <p><strong>{s.created}</strong> new workers · <strong>{s.updated}</strong> updated · <strong>{s.unchanged}</strong> unchanged · <strong>{s.skipped}</strong> rows skipped for errors</p>
+      <h2 id="sum-h" className="text-lg font-semibold">
+        What changed
+      </h2>
+      <p>
+        <strong>{s.created}</strong> new workers · <strong>{s.updated}</strong> updated · <strong>{s.unchanged}</strong>{" "}
+        unchanged · <strong>{s.skipped}</strong> rows skipped for errors
+      </p>
       {s.changes.length > 0 && (
-        <details><summary className="cursor-pointer text-spruce-700">Changed rows ({s.changes.length}{s.changes.length === 1000 ? "+" : ""})</summary>
-          <ul className="mt-2 grid gap-1 text-sm">{s.changes.map((c) => <li key={c.row}>Row {c.row}: {c.employeeNumber} {c.kind === "create" ? "added" : `updated (${c.fields.join(", ")})`}</li>)}</ul>
+        <details>
+          <summary className="cursor-pointer text-spruce-700">
+            Changed rows ({s.changes.length}
+            {s.changes.length === 1000 ? "+" : ""})
+          </summary>
+          <ul className="mt-2 grid gap-1 text-sm">
+            {s.changes.map((c) => (
+              <li key={c.row}>
+                Row {c.row}: {c.employeeNumber} {c.kind === "create" ? "added" : `updated (${c.fields.join(", ")})`}
+              </li>
+            ))}
+          </ul>
         </details>
       )}
-      <p><Link className="text-spruce-700 underline" to="/assess/workers">Go to the worker list</Link></p>
+      <p>
+        <Link className="text-spruce-700 underline" to="/assess/workers">
+          Go to the worker list
+        </Link>
+      </p>
     </section>
   );
 }
@@ -89,9 +133,15 @@ export default function RosterPreview({ loaderData }: Route.ComponentProps) {
   return (
     <div className="grid gap-6">
       <div>
-        <p className="text-sm"><Link to="/assess/roster" className="text-spruce-700 underline">Roster import</Link></p>
+        <p className="text-sm">
+          <Link to="/assess/roster" className="text-spruce-700 underline">
+            Roster import
+          </Link>
+        </p>
         <h1 className="page-title">{d.filename}</h1>
-        <p className="text-ink-soft">{d.rowCount} data rows · {d.headers.length} columns · {d.status}</p>
+        <p className="text-ink-soft">
+          {d.rowCount} data rows · {d.headers.length} columns · {d.status}
+        </p>
       </div>
       {r?.done && <Notice>{r.done}</Notice>}
       <FormError message={errors._form} />
@@ -99,41 +149,93 @@ export default function RosterPreview({ loaderData }: Route.ComponentProps) {
       {d.status === "uploaded" && (
         <>
           <section className="card grid gap-3" aria-labelledby="map-h">
-            <h2 id="map-h" className="text-lg font-semibold">2. Map the columns</h2>
+            <h2 id="map-h" className="text-lg font-semibold">
+              2. Map the columns
+            </h2>
             <Form method="post" className="grid gap-3 sm:grid-cols-3">
               <input type="hidden" name="intent" value="map" />
               {ROSTER_FIELDS.map((f) => (
                 <div key={f}>
-                  <label htmlFor={`map-${f}`} className="field-label">{ROSTER_FIELD_LABELS[f]}{f !== "email" && <span aria-hidden="true"> *</span>}</label>
-                  <select id={`map-${f}`} name={`map.${f}`} defaultValue={d.mapping[f] == null ? "" : String(d.mapping[f])} className="field-input"
-                    aria-invalid={errors[`map.${f}`] ? true : undefined} aria-describedby={errors[`map.${f}`] ? `map-${f}-error` : undefined}>
+                  <label htmlFor={`map-${f}`} className="field-label">
+                    {ROSTER_FIELD_LABELS[f]}
+                    {f !== "email" && <span aria-hidden="true"> *</span>}
+                  </label>
+                  <select
+                    id={`map-${f}`}
+                    name={`map.${f}`}
+                    defaultValue={d.mapping[f] == null ? "" : String(d.mapping[f])}
+                    className="field-input"
+                    aria-invalid={errors[`map.${f}`] ? true : undefined}
+                    aria-describedby={errors[`map.${f}`] ? `map-${f}-error` : undefined}
+                  >
                     <option value="">— not in the file —</option>
-                    {d.headers.map((h, i) => <option key={i} value={i}>{h || `(column ${i + 1})`}{d.sample[0]?.[i] ? ` — e.g. ${d.sample[0][i]}` : ""}</option>)}
+                    {d.headers.map((h, i) => (
+                      <option key={i} value={i}>
+                        {h || `(column ${i + 1})`}
+                        {d.sample[0]?.[i] ? ` — e.g. ${d.sample[0][i]}` : ""}
+                      </option>
+                    ))}
                   </select>
-                  {errors[`map.${f}`] && <p id={`map-${f}-error`} className="field-error">{errors[`map.${f}`]}</p>}
+                  {errors[`map.${f}`] && (
+                    <p id={`map-${f}-error`} className="field-error">
+                      {errors[`map.${f}`]}
+                    </p>
+                  )}
                 </div>
               ))}
-              <div className="sm:col-span-3"><button className="btn-quiet" disabled={busy}>Apply mapping and preview</button></div>
+              <div className="sm:col-span-3">
+                <button className="btn-quiet" disabled={busy}>
+                  Apply mapping and preview
+                </button>
+              </div>
             </Form>
           </section>
           <section className="card grid gap-3" aria-labelledby="prev-h" data-testid="roster-preview">
-            <h2 id="prev-h" className="text-lg font-semibold">3. Preview</h2>
-            {!d.preview ? <p className="text-ink-soft">Map every required column to see the preview.</p> : (
+            <h2 id="prev-h" className="text-lg font-semibold">
+              3. Preview
+            </h2>
+            {!d.preview ? (
+              <p className="text-ink-soft">Map every required column to see the preview.</p>
+            ) : (
               <>
-                <p data-testid="preview-counts">{d.preview.rowCount} rows: <strong>{d.preview.creates}</strong> new, <strong>{d.preview.updates}</strong> to update, <strong>{d.preview.unchanged}</strong> unchanged, <strong>{d.preview.invalidRows}</strong> with errors (skipped).</p>
-                <IssueList title={`${d.preview.invalidRows} row(s) have errors and will not be imported${d.preview.issueCount > SHOWN ? ` (first ${SHOWN} of ${d.preview.issueCount} problems shown)` : ""}:`} issues={d.preview.issues} />
+                <p data-testid="preview-counts">
+                  {d.preview.rowCount} rows: <strong>{d.preview.creates}</strong> new,{" "}
+                  <strong>{d.preview.updates}</strong> to update, <strong>{d.preview.unchanged}</strong> unchanged,{" "}
+                  <strong>{d.preview.invalidRows}</strong> with errors (skipped).
+                </p>
+                <IssueList
+                  title={`${d.preview.invalidRows} row(s) have errors and will not be imported${d.preview.issueCount > SHOWN ? ` (first ${SHOWN} of ${d.preview.issueCount} problems shown)` : ""}:`}
+                  issues={d.preview.issues}
+                />
                 {d.preview.updateSample.length > 0 && (
-                  <details><summary className="cursor-pointer text-spruce-700">Updates ({d.preview.updates})</summary>
-                    <ul className="mt-2 grid gap-1 text-sm">{d.preview.updateSample.map((u) => <li key={u.row}>Row {u.row}: {u.employeeNumber}: {u.fields.join(", ")}</li>)}</ul>
+                  <details>
+                    <summary className="cursor-pointer text-spruce-700">Updates ({d.preview.updates})</summary>
+                    <ul className="mt-2 grid gap-1 text-sm">
+                      {d.preview.updateSample.map((u) => (
+                        <li key={u.row}>
+                          Row {u.row}: {u.employeeNumber}: {u.fields.join(", ")}
+                        </li>
+                      ))}
+                    </ul>
                   </details>
                 )}
                 <div className="flex flex-wrap gap-3">
-                  <Form method="post"><input type="hidden" name="intent" value="import" />
-                    <button className="btn-primary" disabled={busy || d.preview.creates + d.preview.updates === 0}>Import {d.preview.creates + d.preview.updates} valid row(s)</button>
+                  <Form method="post">
+                    <input type="hidden" name="intent" value="import" />
+                    <button className="btn-primary" disabled={busy || d.preview.creates + d.preview.updates === 0}>
+                      Import {d.preview.creates + d.preview.updates} valid row(s)
+                    </button>
                   </Form>
-                  <Form method="post"><input type="hidden" name="intent" value="discard" /><button className="btn-quiet" disabled={busy}>Discard upload</button></Form>
+                  <Form method="post">
+                    <input type="hidden" name="intent" value="discard" />
+                    <button className="btn-quiet" disabled={busy}>
+                      Discard upload
+                    </button>
+                  </Form>
                 </div>
-                <p className="text-sm text-ink-soft">The import is one transaction: every valid row is written, or (on any failure) none.</p>
+                <p className="text-sm text-ink-soft">
+                  The import is one transaction: every valid row is written, or (on any failure) none.
+                </p>
               </>
             )}
           </section>

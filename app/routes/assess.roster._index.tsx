@@ -1,11 +1,11 @@
-import { Form, Link, data, redirect, useActionData, useNavigation } from "react-router";
-import type { Route } from "./+types/assess.roster._index";
+import { data, Form, Link, redirect, useActionData, useNavigation } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { FormError } from "~/components/fields";
 import { FileField } from "~/components/upload";
-import { recentRosterUploads, RosterFileError, saveRosterUpload } from "~/models/roster.server";
+import { RosterFileError, recentRosterUploads, saveRosterUpload } from "~/models/roster.server";
 import { readMultipart, UploadError } from "~/models/uploads.server";
 import { MAX_ROSTER_BYTES, MAX_ROSTER_ROWS } from "~/schemas/roster";
+import type { Route } from "./+types/assess.roster._index";
 
 export const meta: Route.MetaFunction = () => [{ title: "Roster import · Limberly" }];
 
@@ -18,8 +18,13 @@ export async function action({ request }: Route.ActionArgs) {
   const p = await requireUser(request, "roster.import");
   try {
     const { file } = await readMultipart(request, { fileField: "roster", maxBytes: MAX_ROSTER_BYTES });
-    if (!file || file.size === 0) return data({ error: "Roster file: choose a CSV or XLSX file (the file was empty or missing)." }, { status: 400 });
-    if (!/\.(csv|xlsx|txt)$/i.test(file.name)) return data({ error: `Roster file: ${file.name} is neither .csv nor .xlsx.` }, { status: 400 });
+    if (!file || file.size === 0)
+      return data(
+        { error: "Roster file: choose a CSV or XLSX file (the file was empty or missing)." },
+        { status: 400 },
+      );
+    if (!/\.(csv|xlsx|txt)$/i.test(file.name))
+      return data({ error: `Roster file: ${file.name} is neither .csv nor .xlsx.` }, { status: 400 });
     const id = await saveRosterUpload(p, file.name, file.bytes);
     return redirect(`/assess/roster/${id}`);
   } catch (e) {
@@ -37,27 +42,55 @@ export default function RosterHome({ loaderData }: Route.ComponentProps) {
       <div className="flex flex-wrap items-end justify-between gap-3">
         <div>
           <h1 className="page-title">Roster import</h1>
-          <p className="text-ink-soft">Upload the employer's roster as CSV or XLSX. You map the columns and see every bad row before anything is written; workers are matched by employee number.</p>
+          <p className="text-ink-soft">
+            Upload the employer's roster as CSV or XLSX. You map the columns and see every bad row before anything is
+            written; workers are matched by employee number.
+          </p>
         </div>
-        <a className="btn-quiet" href="/assess/roster/export.xlsx">Export roster (XLSX)</a>
+        <a className="btn-quiet" href="/assess/roster/export.xlsx">
+          Export roster (XLSX)
+        </a>
       </div>
       <section className="card" aria-labelledby="up-h">
-        <h2 id="up-h" className="text-lg font-semibold">1. Upload</h2>
-        <p className="text-sm text-ink-soft">Columns needed: employee number, given name, family name, site (code or name), department (code or name); e-mail optional. First row = column names. At most {MAX_ROSTER_ROWS.toLocaleString("en")} rows.</p>
+        <h2 id="up-h" className="text-lg font-semibold">
+          1. Upload
+        </h2>
+        <p className="text-sm text-ink-soft">
+          Columns needed: employee number, given name, family name, site (code or name), department (code or name);
+          e-mail optional. First row = column names. At most {MAX_ROSTER_ROWS.toLocaleString("en")} rows.
+        </p>
         <Form method="post" encType="multipart/form-data" className="mt-3 grid gap-3" noValidate>
           <FormError message={r?.error} />
           <FileField name="roster" label="Roster file" accept=".csv,.xlsx" maxBytes={MAX_ROSTER_BYTES} required />
-          <div><button className="btn-primary" disabled={busy}>{busy ? "Reading…" : "Upload and map columns"}</button></div>
+          <div>
+            <button className="btn-primary" disabled={busy}>
+              {busy ? "Reading…" : "Upload and map columns"}
+            </button>
+          </div>
         </Form>
       </section>
       <section className="card" aria-labelledby="recent-h">
-        <h2 id="recent-h" className="text-lg font-semibold">Your recent imports</h2>
-        {loaderData.recent.length === 0 ? <p className="text-ink-soft">None yet.</p> : (
-          <ul className="mt-2 grid gap-2">{loaderData.recent.map((u) => (
-            <li key={u.id} className="flex flex-wrap justify-between gap-2 border-b border-line pb-2">
-              <Link to={`/assess/roster/${u.id}`} className="font-medium text-spruce-700 underline">{u.filename}</Link>
-              <span className="text-sm text-ink-soft">{u.rowCount} rows · {u.status}{u.summary ? ` · ${u.summary.created} new, ${u.summary.updated} updated, ${u.summary.unchanged} unchanged, ${u.summary.skipped} skipped` : ""} · {u.createdAt.slice(0, 16).replace("T", " ")}</span>
-            </li>))}
+        <h2 id="recent-h" className="text-lg font-semibold">
+          Your recent imports
+        </h2>
+        {loaderData.recent.length === 0 ? (
+          <p className="text-ink-soft">None yet.</p>
+        ) : (
+          <ul className="mt-2 grid gap-2">
+            {loaderData.recent.map((u) => (
+              <li key={u.id} className="flex flex-wrap justify-between gap-2 border-b border-line pb-2">
+                <Link to={`/assess/roster/${u.id}`} className="font-medium text-spruce-700 underline">
+                  {u.filename}
+                </Link>
+                <span className="text-sm text-ink-soft">
+                  {u.rowCount} rows · {u.status}
+                  {u.summary
+                    ? ` · ${u.summary.created} new, ${u.summary.updated} updated, ${u.summary.unchanged} unchanged, ${u.summary.skipped} skipped`
+                    : ""}{" "}
+                  · {u.createdAt.slice(0, 16).replace("T", " ")}
+                </span>
+              </li>
+            ))}
           </ul>
         )}
       </section>

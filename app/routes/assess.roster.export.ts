@@ -1,7 +1,7 @@
-import type { Route } from "./+types/assess.roster.export";
 import { requireUser } from "~/auth/guard.server";
 import { ROSTER_EXPORT_COLUMNS, rosterExportRows } from "~/models/roster.server";
 import { workbookBuffer, xlsxResponse } from "~/xlsx.server";
+import type { Route } from "./+types/assess.roster.export";
 
 // Roster export (no health data): the import's own columns, formula-like cells neutralised by workbookBuffer.
 export async function loader({ request }: Route.LoaderArgs) {

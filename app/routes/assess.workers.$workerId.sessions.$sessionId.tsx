@@ -1,5 +1,4 @@
-import { Form, Link, data, useActionData, useNavigation } from "react-router";
-import type { Route } from "./+types/assess.workers.$workerId.sessions.$sessionId";
+import { data, Form, Link, useActionData, useNavigation } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { roleAllows } from "~/auth/permissions";
 import { DeviceCautions } from "~/components/device-cautions";
@@ -8,20 +7,35 @@ import { FileField, IssueList } from "~/components/upload";
 import { MEASURE_DIRECTIONS } from "~/compute/features";
 import { TRACE_KINDS } from "~/compute/trace-parsing";
 import { recordAccess } from "~/models/access-log.server";
-import { AssessmentInputError, rescoreSession, saveManualResults, saveTrace, sessionsForWorker, workerForStaff } from "~/models/assessments.server";
+import {
+  AssessmentInputError,
+  rescoreSession,
+  saveManualResults,
+  saveTrace,
+  sessionsForWorker,
+  workerForStaff,
+} from "~/models/assessments.server";
 import { ConsentRequiredError, hasConsent } from "~/models/consent.server";
 import { listMeasures } from "~/models/measures.server";
 import { listNormSets } from "~/models/norms.server";
 import { readMultipart, UploadError } from "~/models/uploads.server";
-import { MAX_TRACE_BYTES, MAX_TRACE_ROWS, TRACE_KIND_LABELS, manualValuesFromForm, traceUploadSchema } from "~/schemas/assessment";
+import {
+  MAX_TRACE_BYTES,
+  MAX_TRACE_ROWS,
+  manualValuesFromForm,
+  TRACE_KIND_LABELS,
+  traceUploadSchema,
+} from "~/schemas/assessment";
 import { formToObject, parseWith } from "~/schemas/form";
+import type { Route } from "./+types/assess.workers.$workerId.sessions.$sessionId";
 
 export const meta: Route.MetaFunction = () => [{ title: "Assessment session · Limberly" }];
 
 function ids(params: { workerId?: string; sessionId?: string }) {
   const workerId = Number(params.workerId);
   const sessionId = Number(params.sessionId);
-  if (!Number.isInteger(workerId) || !Number.isInteger(sessionId)) throw data({ error: "No such session." }, { status: 404 });
+  if (!Number.isInteger(workerId) || !Number.isInteger(sessionId))
+    throw data({ error: "No such session." }, { status: 404 });
   return { workerId, sessionId };
 }
 
@@ -32,10 +46,16 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   if (!worker) throw data({ error: "No such worker at your sites." }, { status: 404 });
   const session = (await sessionsForWorker(workerId)).find((s) => s.id === sessionId);
   if (!session) throw data({ error: "No such session for this worker." }, { status: 404 });
-  const [measures, normSets, consented] = await Promise.all([listMeasures({ activeOnly: true }), listNormSets(), hasConsent(workerId, "assessment")]);
+  const [measures, normSets, consented] = await Promise.all([
+    listMeasures({ activeOnly: true }),
+    listNormSets(),
+    hasConsent(workerId, "assessment"),
+  ]);
   await recordAccess(p, request, workerId, session.uploads.length ? "trace" : "assessment");
   return {
-    worker, session, consented,
+    worker,
+    session,
+    consented,
     manual: measures.filter((m) => m.entry === "manual"),
     traceMeasures: measures.filter((m) => m.entry === "trace"),
     normSets: normSets.map((n) => ({ id: n.id, name: n.name })),
@@ -46,13 +66,15 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 export async function action({ request, params }: Route.ActionArgs) {
   const p = await requireUser(request, "assessments.write");
   const { workerId, sessionId } = ids(params);
-  if (!(await workerForStaff(p.scope, workerId))) throw data({ error: "No such worker at your sites." }, { status: 404 });
+  if (!(await workerForStaff(p.scope, workerId)))
+    throw data({ error: "No such worker at your sites." }, { status: 404 });
   let form: FormData;
   let file: Awaited<ReturnType<typeof readMultipart>>["file"];
   try {
     ({ form, file } = await readMultipart(request, { fileField: "trace", maxBytes: MAX_TRACE_BYTES }));
   } catch (e) {
-    if (e instanceof UploadError) return data({ intent: "upload", errors: { trace: e.message }, done: null, upload: null }, { status: 413 });
+    if (e instanceof UploadError)
+      return data({ intent: "upload", errors: { trace: e.message }, done: null, upload: null }, { status: 413 });
     throw e;
   }
   const obj = formToObject(form);
@@ -68,24 +90,57 @@ export async function action({ request, params }: Route.ActionArgs) {
     if (intent === "upload") {
       const v = parseWith(traceUploadSchema, obj);
       if (!v.ok) return data({ intent, errors: v.errors, done: null, upload: null }, { status: 400 });
-      if (!file || file.size === 0) return data({ intent, errors: { trace: "Trace file: choose a CSV file to upload (the file was empty or missing)." }, done: null, upload: null }, { status: 400 });
-      const result = await saveTrace({ workerId, sessionId, kind: v.data.kind, filename: file.name, bytes: file.bytes, sampleRateHz: v.data.sampleRateHz, userId: p.user.id });
-      return data({ intent, errors: null, done: result.ok ? `${file.name} computed and stored.` : null, upload: { ...result, filename: file.name } }, { status: result.ok ? 200 : 422 });
+      if (!file || file.size === 0)
+        return data(
+          {
+            intent,
+            errors: { trace: "Trace file: choose a CSV file to upload (the file was empty or missing)." },
+            done: null,
+            upload: null,
+          },
+          { status: 400 },
+        );
+      const result = await saveTrace({
+        workerId,
+        sessionId,
+        kind: v.data.kind,
+        filename: file.name,
+        bytes: file.bytes,
+        sampleRateHz: v.data.sampleRateHz,
+        userId: p.user.id,
+      });
+      return data(
+        {
+          intent,
+          errors: null,
+          done: result.ok ? `${file.name} computed and stored.` : null,
+          upload: { ...result, filename: file.name },
+        },
+        { status: result.ok ? 200 : 422 },
+      );
     }
     if (intent === "rescore") {
       const normSetId = obj.normSetId ? Number(obj.normSetId) : null;
       const r = await rescoreSession({ workerId, sessionId, normSetId });
-      return { intent, errors: null, done: `Re-scored: ${r.scored} of ${r.total} results have a z-score with the chosen norms.`, upload: null };
+      return {
+        intent,
+        errors: null,
+        done: `Re-scored: ${r.scored} of ${r.total} results have a z-score with the chosen norms.`,
+        upload: null,
+      };
     }
   } catch (e) {
-    if (e instanceof ConsentRequiredError) return data({ intent, errors: { _form: e.message }, done: null, upload: null }, { status: 409 });
-    if (e instanceof AssessmentInputError) return data({ intent, errors: { [e.field ?? "_form"]: e.message }, done: null, upload: null }, { status: 400 });
+    if (e instanceof ConsentRequiredError)
+      return data({ intent, errors: { _form: e.message }, done: null, upload: null }, { status: 409 });
+    if (e instanceof AssessmentInputError)
+      return data({ intent, errors: { [e.field ?? "_form"]: e.message }, done: null, upload: null }, { status: 400 });
     throw e;
   }
   return data({ intent, errors: { _form: "Unknown action." }, done: null, upload: null }, { status: 400 });
 }
 
-const label = (key: string) => (MEASURE_DIRECTIONS as Record<string, { label: string; unit: string }>)[key] ?? { label: key, unit: "" };
+const label = (key: string) =>
+  (MEASURE_DIRECTIONS as Record<string, { label: string; unit: string }>)[key] ?? { label: key, unit: "" };
 const fmt = (v: number) => (Number.isInteger(v) ? String(v) : Math.abs(v) >= 100 ? v.toFixed(1) : v.toPrecision(4));
 
 export default function SessionPage({ loaderData }: Route.ComponentProps) {
@@ -98,9 +153,16 @@ export default function SessionPage({ loaderData }: Route.ComponentProps) {
   return (
     <div className="grid gap-6">
       <div>
-        <p className="text-sm"><Link to={`/assess/workers/${worker.id}`} className="text-spruce-700 underline">{worker.name} ({worker.employeeNumber})</Link></p>
+        <p className="text-sm">
+          <Link to={`/assess/workers/${worker.id}`} className="text-spruce-700 underline">
+            {worker.name} ({worker.employeeNumber})
+          </Link>
+        </p>
         <h1 className="page-title">Assessment session of {session.assessedOn}</h1>
-        <p className="text-ink-soft">{session.assessor ? `Assessor: ${session.assessor}` : ""}{session.notes ? ` · ${session.notes}` : ""}</p>
+        <p className="text-ink-soft">
+          {session.assessor ? `Assessor: ${session.assessor}` : ""}
+          {session.notes ? ` · ${session.notes}` : ""}
+        </p>
       </div>
       <DeviceCautions compact />
       {!consented && <FormError message="This worker has no given assessment consent: nothing more can be recorded." />}
@@ -108,39 +170,92 @@ export default function SessionPage({ loaderData }: Route.ComponentProps) {
       <FormError message={errors._form} />
 
       <section className="card grid gap-3" aria-labelledby="results-h">
-        <h2 id="results-h" className="text-lg font-semibold">Results</h2>
-        {session.results.length === 0 ? <p className="text-ink-soft">No results yet.</p> : (
+        <h2 id="results-h" className="text-lg font-semibold">
+          Results
+        </h2>
+        {session.results.length === 0 ? (
+          <p className="text-ink-soft">No results yet.</p>
+        ) : (
           <div className="overflow-x-auto">
             <table className="table-base" data-testid="results-table">
               <caption className="sr-only">Results of this session</caption>
-              <thead><tr><th scope="col">Measure</th><th scope="col">Value</th><th scope="col">z (positive = better)</th><th scope="col">Norm set</th><th scope="col">Source</th></tr></thead>
-              <tbody>{session.results.map((x) => (
-                <tr key={x.measureId}><th scope="row" className="font-normal">{x.name}</th><td>{fmt(x.value)} {x.unit}</td><td>{x.z != null ? x.z.toFixed(2) : "—"}</td>
-                  <td>{x.normSetName ?? "no norm"}</td><td>{x.traceUploadId ? `trace #${x.traceUploadId}` : "manual"}</td></tr>
-              ))}</tbody>
+              <thead>
+                <tr>
+                  <th scope="col">Measure</th>
+                  <th scope="col">Value</th>
+                  <th scope="col">z (positive = better)</th>
+                  <th scope="col">Norm set</th>
+                  <th scope="col">Source</th>
+                </tr>
+              </thead>
+              <tbody>
+                {session.results.map((x) => (
+                  <tr key={x.measureId}>
+                    <th scope="row" className="font-normal">
+                      {x.name}
+                    </th>
+                    <td>
+                      {fmt(x.value)} {x.unit}
+                    </td>
+                    <td>{x.z != null ? x.z.toFixed(2) : "—"}</td>
+                    <td>{x.normSetName ?? "no norm"}</td>
+                    <td>{x.traceUploadId ? `trace #${x.traceUploadId}` : "manual"}</td>
+                  </tr>
+                ))}
+              </tbody>
             </table>
           </div>
         )}
         {canWrite && consented && normSets.length > 0 && (
           <Form method="post" className="flex flex-wrap items-end gap-3">
             <input type="hidden" name="intent" value="rescore" />
-            <div className="grow"><SelectField name="normSetId" label="Score against norm set" options={[{ value: "", label: "Default per measure (latest norm holding it)" }, ...normSets.map((n) => ({ value: String(n.id), label: n.name }))]} /></div>
-            <button className="btn-quiet" disabled={busy}>Re-score</button>
+            <div className="grow">
+              <SelectField
+                name="normSetId"
+                label="Score against norm set"
+                options={[
+                  { value: "", label: "Default per measure (latest norm holding it)" },
+                  ...normSets.map((n) => ({ value: String(n.id), label: n.name })),
+                ]}
+              />
+            </div>
+            <button className="btn-quiet" disabled={busy}>
+              Re-score
+            </button>
           </Form>
         )}
       </section>
 
       {canWrite && consented && (
         <section className="card grid gap-3" aria-labelledby="manual-h">
-          <h2 id="manual-h" className="text-lg font-semibold">Manual tests</h2>
-          {manual.length === 0 ? <p className="text-ink-soft">No manual measures are configured. <Link className="underline" to="/assess/measures">Add one</Link>.</p> : (
+          <h2 id="manual-h" className="text-lg font-semibold">
+            Manual tests
+          </h2>
+          {manual.length === 0 ? (
+            <p className="text-ink-soft">
+              No manual measures are configured.{" "}
+              <Link className="underline" to="/assess/measures">
+                Add one
+              </Link>
+              .
+            </p>
+          ) : (
             <Form method="post" className="grid gap-3 sm:grid-cols-2" noValidate>
               <input type="hidden" name="intent" value="manual" />
               {manual.map((m) => (
-                <TextField key={m.id} name={`m.${m.id}`} label={`${m.name} (${m.unit}, ${m.higherIsBetter ? "higher" : "lower"} is better)`}
-                  defaultValue={byMeasure.get(m.id) ? String(byMeasure.get(m.id)!.value) : ""} error={errors[`m.${m.id}`]} />
+                <TextField
+                  key={m.id}
+                  name={`m.${m.id}`}
+                  label={`${m.name} (${m.unit}, ${m.higherIsBetter ? "higher" : "lower"} is better)`}
+                  defaultValue={byMeasure.get(m.id) ? String(byMeasure.get(m.id)!.value) : ""}
+                  error={errors[`m.${m.id}`]}
+                />
               ))}
-              <div className="sm:col-span-2"><button className="btn-primary" disabled={busy}>Save scores</button></div>
+              <div className="sm:col-span-2">
+                <button className="btn-primary" disabled={busy}>
+                  Save scores
+                </button>
+              </div>
             </Form>
           )}
         </section>
@@ -148,26 +263,84 @@ export default function SessionPage({ loaderData }: Route.ComponentProps) {
 
       {canWrite && consented && (
         <section className="card grid gap-3" aria-labelledby="upload-h">
-          <h2 id="upload-h" className="text-lg font-semibold">Upload a trace</h2>
-          <p className="text-sm text-ink-soft">CSV with a header row; decimal points; at most {MAX_TRACE_ROWS.toLocaleString("en")} rows. Trace measures configured: {traceMeasures.map((m) => m.code).join(", ") || "none"}.</p>
+          <h2 id="upload-h" className="text-lg font-semibold">
+            Upload a trace
+          </h2>
+          <p className="text-sm text-ink-soft">
+            CSV with a header row; decimal points; at most {MAX_TRACE_ROWS.toLocaleString("en")} rows. Trace measures
+            configured: {traceMeasures.map((m) => m.code).join(", ") || "none"}.
+          </p>
           <Form method="post" encType="multipart/form-data" className="grid gap-3 sm:grid-cols-2" noValidate>
             <input type="hidden" name="intent" value="upload" />
-            <SelectField name="kind" label="Trace kind" required error={errors.kind} options={TRACE_KINDS.map((k) => ({ value: k, label: TRACE_KIND_LABELS[k] }))} />
-            <TextField name="sampleRateHz" label="Declared sample rate, Hz (optional)" error={errors.sampleRateHz} hint="Checked against the timestamps when given." />
-            <div className="sm:col-span-2"><FileField name="trace" label="Trace file" accept=".csv,text/csv" maxBytes={MAX_TRACE_BYTES} error={errors.trace} required /></div>
-            <div className="sm:col-span-2"><button className="btn-primary" disabled={busy}>{busy ? "Computing…" : "Upload and compute"}</button></div>
+            <SelectField
+              name="kind"
+              label="Trace kind"
+              required
+              error={errors.kind}
+              options={TRACE_KINDS.map((k) => ({ value: k, label: TRACE_KIND_LABELS[k] }))}
+            />
+            <TextField
+              name="sampleRateHz"
+              label="Declared sample rate, Hz (optional)"
+              error={errors.sampleRateHz}
+              hint="Checked against the timestamps when given."
+            />
+            <div className="sm:col-span-2">
+              <FileField
+                name="trace"
+                label="Trace file"
+                accept=".csv,text/csv"
+                maxBytes={MAX_TRACE_BYTES}
+                error={errors.trace}
+                required
+              />
+            </div>
+            <div className="sm:col-span-2">
+              <button className="btn-primary" disabled={busy}>
+                {busy ? "Computing…" : "Upload and compute"}
+              </button>
+            </div>
           </Form>
-          {upload && !upload.ok && <IssueList title={`${upload.filename} was not stored. Fix these and upload again:`} issues={upload.errors} />}
+          {upload && !upload.ok && (
+            <IssueList
+              title={`${upload.filename} was not stored. Fix these and upload again:`}
+              issues={upload.errors}
+            />
+          )}
           {upload && upload.ok && (
-            <div className="grid gap-2 rounded-md border border-spruce-100 bg-spruce-50 p-3" data-testid="upload-result">
-              <p className="font-semibold">{upload.filename}: {upload.kind} trace, {upload.rowCount} rows{upload.sampleRateHz ? `, ${upload.sampleRateHz.toPrecision(4)} Hz` : ""}</p>
-              <p className="break-all text-xs text-ink-soft">SHA-256 {upload.sha256} · {upload.sizeBytes.toLocaleString("en")} bytes</p>
+            <div
+              className="grid gap-2 rounded-md border border-spruce-100 bg-spruce-50 p-3"
+              data-testid="upload-result"
+            >
+              <p className="font-semibold">
+                {upload.filename}: {upload.kind} trace, {upload.rowCount} rows
+                {upload.sampleRateHz ? `, ${upload.sampleRateHz.toPrecision(4)} Hz` : ""}
+              </p>
+              <p className="break-all text-xs text-ink-soft">
+                SHA-256 {upload.sha256} · {upload.sizeBytes.toLocaleString("en")} bytes
+              </p>
               <table className="table-base">
                 <caption className="sr-only">Computed values</caption>
-                <thead><tr><th scope="col">Output</th><th scope="col">Value</th><th scope="col">Stored as result</th></tr></thead>
-                <tbody>{Object.entries(upload.computed).map(([k, v]) => (
-                  <tr key={k}><th scope="row" className="font-normal">{label(k).label}</th><td>{fmt(v)} {label(k).unit}</td><td>{upload.scored.includes(k) ? "yes" : "kept with the upload"}</td></tr>
-                ))}</tbody>
+                <thead>
+                  <tr>
+                    <th scope="col">Output</th>
+                    <th scope="col">Value</th>
+                    <th scope="col">Stored as result</th>
+                  </tr>
+                </thead>
+                <tbody>
+                  {Object.entries(upload.computed).map(([k, v]) => (
+                    <tr key={k}>
+                      <th scope="row" className="font-normal">
+                        {label(k).label}
+                      </th>
+                      <td>
+                        {fmt(v)} {label(k).unit}
+                      </td>
+                      <td>{upload.scored.includes(k) ? "yes" : "kept with the upload"}</td>
+                    </tr>
+                  ))}
+                </tbody>
               </table>
             </div>
           )}
@@ -175,13 +348,23 @@ export default function SessionPage({ loaderData }: Route.ComponentProps) {
       )}
 
       <section className="card grid gap-3" aria-labelledby="uploads-h">
-        <h2 id="uploads-h" className="text-lg font-semibold">Stored traces</h2>
-        {session.uploads.length === 0 ? <p className="text-ink-soft">None.</p> : (
-          <ul className="grid gap-2">{session.uploads.map((u) => (
-            <li key={u.id} className="border-b border-line pb-2 text-sm">
-              <span className="font-medium">#{u.id} {u.filename}</span> · {u.kind} · {u.rowCount} rows · {u.sizeBytes.toLocaleString("en")} bytes{u.sampleRateHz ? ` · ${u.sampleRateHz.toPrecision(4)} Hz` : ""}
-              <span className="block break-all text-xs text-ink-soft">SHA-256 {u.sha256}</span>
-            </li>))}
+        <h2 id="uploads-h" className="text-lg font-semibold">
+          Stored traces
+        </h2>
+        {session.uploads.length === 0 ? (
+          <p className="text-ink-soft">None.</p>
+        ) : (
+          <ul className="grid gap-2">
+            {session.uploads.map((u) => (
+              <li key={u.id} className="border-b border-line pb-2 text-sm">
+                <span className="font-medium">
+                  #{u.id} {u.filename}
+                </span>{" "}
+                · {u.kind} · {u.rowCount} rows · {u.sizeBytes.toLocaleString("en")} bytes
+                {u.sampleRateHz ? ` · ${u.sampleRateHz.toPrecision(4)} Hz` : ""}
+                <span className="block break-all text-xs text-ink-soft">SHA-256 {u.sha256}</span>
+              </li>
+            ))}
           </ul>
         )}
       </section>

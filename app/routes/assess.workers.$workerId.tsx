@@ -1,5 +1,4 @@
-import { Form, Link, data, redirect, useActionData, useNavigation } from "react-router";
-import type { Route } from "./+types/assess.workers.$workerId";
+import { data, Form, Link, redirect, useActionData, useNavigation } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { roleAllows } from "~/auth/permissions";
 import { consentText, StageBadge } from "~/components/badges";
@@ -8,17 +7,27 @@ import { ProfileChart, type ProfilePoint } from "~/components/profile-chart";
 import { recordAccess } from "~/models/access-log.server";
 import { AssessmentInputError, createSession, sessionsForWorker, workerForStaff } from "~/models/assessments.server";
 import {
-  ConsentInputError, ConsentRequiredError, consentHistory, consentState, currentConsentTexts, listWitnesses, recordConsent, withdrawConsent,
+  ConsentInputError,
+  ConsentRequiredError,
+  consentHistory,
+  consentState,
+  currentConsentTexts,
+  listWitnesses,
+  recordConsent,
+  withdrawConsent,
 } from "~/models/consent.server";
 import { listNormSets } from "~/models/norms.server";
 import { changesSincePrevious, reliabilityByMeasure } from "~/models/reliability-report.server";
 import { sessionSchema } from "~/schemas/assessment";
 import { PURPOSE_LABELS, recordConsentSchema, withdrawConsentSchema } from "~/schemas/consent";
 import { formToObject, parseWith } from "~/schemas/form";
+import type { Route } from "./+types/assess.workers.$workerId";
 
 const CONSENT_PURPOSES = ["assessment", "planning", "model"] as const;
 
-export const meta: Route.MetaFunction = ({ data: d }) => [{ title: `${d?.worker.employeeNumber ?? "Worker"} · Limberly` }];
+export const meta: Route.MetaFunction = ({ data: d }) => [
+  { title: `${d?.worker.employeeNumber ?? "Worker"} · Limberly` },
+];
 
 function workerIdOf(params: { workerId?: string }): number {
   const id = Number(params.workerId);
@@ -32,25 +41,59 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const worker = await workerForStaff(p.scope, workerId);
   if (!worker) throw data({ error: "No such worker at your sites." }, { status: 404 });
   const [consent, history, sessions, reliability, normSets, witnesses, texts] = await Promise.all([
-    consentState(workerId), consentHistory(workerId), sessionsForWorker(workerId), reliabilityByMeasure(), listNormSets(), listWitnesses(), currentConsentTexts(),
+    consentState(workerId),
+    consentHistory(workerId),
+    sessionsForWorker(workerId),
+    reliabilityByMeasure(),
+    listNormSets(),
+    listWitnesses(),
+    currentConsentTexts(),
   ]);
   await recordAccess(p, request, workerId, "assessment");
   const relMap = new Map(reliability.map((r) => [r.measureId, r]));
   const normSd = new Map<string, number>();
   const normName = new Map<number, string>();
-  for (const n of normSets) { normName.set(n.id, n.name); for (const v of n.values) normSd.set(`${n.id}:${v.measureId}`, v.sd); }
+  for (const n of normSets) {
+    normName.set(n.id, n.name);
+    for (const v of n.values) normSd.set(`${n.id}:${v.measureId}`, v.sd);
+  }
   const latest = sessions.at(-1);
-  const points: ProfilePoint[] = (latest?.results ?? []).filter((r) => r.z != null).map((r) => {
-    const sd = r.normSetId ? normSd.get(`${r.normSetId}:${r.measureId}`) : undefined;
-    const mdc = relMap.get(r.measureId)?.mdc95 ?? null;
-    return { measure: r.name, z: r.z!, mdcZ: mdc != null && sd ? mdc / sd : null, normSet: r.normSetId ? normName.get(r.normSetId) ?? null : null, value: r.value, unit: r.unit };
-  });
+  const points: ProfilePoint[] = (latest?.results ?? [])
+    .filter((r) => r.z != null)
+    .map((r) => {
+      const sd = r.normSetId ? normSd.get(`${r.normSetId}:${r.measureId}`) : undefined;
+      const mdc = relMap.get(r.measureId)?.mdc95 ?? null;
+      return {
+        measure: r.name,
+        z: r.z!,
+        mdcZ: mdc != null && sd ? mdc / sd : null,
+        normSet: r.normSetId ? (normName.get(r.normSetId) ?? null) : null,
+        value: r.value,
+        unit: r.unit,
+      };
+    });
   return {
-    worker, consent, history, points, latestOn: latest?.assessedOn ?? null,
-    sessions: sessions.map((s) => ({ id: s.id, assessedOn: s.assessedOn, assessor: s.assessor, notes: s.notes, results: s.results.length, uploads: s.uploads.length })).reverse(),
+    worker,
+    consent,
+    history,
+    points,
+    latestOn: latest?.assessedOn ?? null,
+    sessions: sessions
+      .map((s) => ({
+        id: s.id,
+        assessedOn: s.assessedOn,
+        assessor: s.assessor,
+        notes: s.notes,
+        results: s.results.length,
+        uploads: s.uploads.length,
+      }))
+      .reverse(),
     changes: changesSincePrevious(sessions, relMap),
-    witnesses, me: p.user.id,
-    texts: Object.fromEntries(CONSENT_PURPOSES.map((pp) => [pp, texts[pp] ? { version: texts[pp]!.version, body: texts[pp]!.body } : null])),
+    witnesses,
+    me: p.user.id,
+    texts: Object.fromEntries(
+      CONSENT_PURPOSES.map((pp) => [pp, texts[pp] ? { version: texts[pp]!.version, body: texts[pp]!.body } : null]),
+    ),
     canConsent: p.user.roles.some((r) => roleAllows(r, "consent.manage")),
     canWrite: p.user.roles.some((r) => roleAllows(r, "assessments.write")),
   };
@@ -61,31 +104,52 @@ export async function action({ request, params }: Route.ActionArgs) {
   const intent = String(form.intent ?? "");
   const workerId = workerIdOf(params);
   const p = await requireUser(request, intent === "session" ? "assessments.write" : "consent.manage");
-  if (!(await workerForStaff(p.scope, workerId))) throw data({ error: "No such worker at your sites." }, { status: 404 });
+  if (!(await workerForStaff(p.scope, workerId)))
+    throw data({ error: "No such worker at your sites." }, { status: 404 });
   try {
     if (intent === "consent") {
       const v = parseWith(recordConsentSchema, form);
       if (!v.ok) return data({ intent, errors: v.errors, done: null }, { status: 400 });
-      await recordConsent({ workerId, purposes: v.data.purposes, witnessUserId: v.data.witnessUserId, recordedBy: p.user.id });
+      await recordConsent({
+        workerId,
+        purposes: v.data.purposes,
+        witnessUserId: v.data.witnessUserId,
+        recordedBy: p.user.id,
+      });
       return { intent, errors: null, done: `Consent recorded for: ${v.data.purposes.join(", ")}.` };
     }
     if (intent === "withdraw") {
       const v = parseWith(withdrawConsentSchema, form);
-      if (!v.ok) return data({ intent, purpose: String(form.purpose ?? ""), errors: v.errors, done: null }, { status: 400 });
+      if (!v.ok)
+        return data({ intent, purpose: String(form.purpose ?? ""), errors: v.errors, done: null }, { status: 400 });
       const r = await withdrawConsent({ workerId, purpose: v.data.purpose, recordedBy: p.user.id });
-      const erased = Object.entries(r.erased).filter(([, n]) => n > 0).map(([what, n]) => `${what}: ${n}`).join(", ");
+      const erased = Object.entries(r.erased)
+        .filter(([, n]) => n > 0)
+        .map(([what, n]) => `${what}: ${n}`)
+        .join(", ");
       const label = v.data.purpose[0].toUpperCase() + v.data.purpose.slice(1);
-      return { intent, errors: null, done: `${label} consent withdrawn. ${erased ? `Erased at once (rows deleted): ${erased}.` : "There were no data to erase."}` };
+      return {
+        intent,
+        errors: null,
+        done: `${label} consent withdrawn. ${erased ? `Erased at once (rows deleted): ${erased}.` : "There were no data to erase."}`,
+      };
     }
     if (intent === "session") {
       const v = parseWith(sessionSchema, form);
       if (!v.ok) return data({ intent, errors: v.errors, done: null }, { status: 400 });
-      const id = await createSession({ workerId, assessedOn: v.data.assessedOn, notes: v.data.notes, assessorUserId: p.user.id });
+      const id = await createSession({
+        workerId,
+        assessedOn: v.data.assessedOn,
+        notes: v.data.notes,
+        assessorUserId: p.user.id,
+      });
       return redirect(`/assess/workers/${workerId}/sessions/${id}`);
     }
   } catch (e) {
-    if (e instanceof ConsentRequiredError) return data({ intent, errors: { _form: e.message }, done: null }, { status: 409 });
-    if (e instanceof ConsentInputError || e instanceof AssessmentInputError) return data({ intent, errors: { [e.field ?? "_form"]: e.message }, done: null }, { status: 400 });
+    if (e instanceof ConsentRequiredError)
+      return data({ intent, errors: { _form: e.message }, done: null }, { status: 409 });
+    if (e instanceof ConsentInputError || e instanceof AssessmentInputError)
+      return data({ intent, errors: { [e.field ?? "_form"]: e.message }, done: null }, { status: 400 });
     throw e;
   }
   return data({ intent, errors: { _form: "Unknown action." }, done: null }, { status: 400 });
@@ -94,7 +158,8 @@ export async function action({ request, params }: Route.ActionArgs) {
 const fmt = (v: number) => (Math.abs(v) >= 100 ? v.toFixed(1) : v.toPrecision(3));
 
 export default function WorkerRecord({ loaderData }: Route.ComponentProps) {
-  const { worker, consent, history, points, latestOn, sessions, changes, witnesses, me, texts, canConsent, canWrite } = loaderData;
+  const { worker, consent, history, points, latestOn, sessions, changes, witnesses, me, texts, canConsent, canWrite } =
+    loaderData;
   const r = useActionData<typeof action>();
   const busy = useNavigation().state === "submitting";
   const errors = (r && "errors" in r && r.errors ? r.errors : {}) as Record<string, string>;
@@ -103,118 +168,299 @@ export default function WorkerRecord({ loaderData }: Route.ComponentProps) {
   return (
     <div className="grid gap-6">
       <div>
-        <p className="text-sm"><Link to="/assess/workers" className="text-spruce-700 underline">Workers</Link></p>
-        <h1 className="page-title" data-testid="worker-name">{worker.name}</h1>
-        <p className="text-ink-soft">{worker.employeeNumber} · {worker.site} · {worker.department} · <StageBadge stage={worker.stage} /></p>
-        <p className="mt-1 text-xs text-ink-soft">Opening this record is written to the access log; the worker can see who read it.</p>
+        <p className="text-sm">
+          <Link to="/assess/workers" className="text-spruce-700 underline">
+            Workers
+          </Link>
+        </p>
+        <h1 className="page-title" data-testid="worker-name">
+          {worker.name}
+        </h1>
+        <p className="text-ink-soft">
+          {worker.employeeNumber} · {worker.site} · {worker.department} · <StageBadge stage={worker.stage} />
+        </p>
+        <p className="mt-1 text-xs text-ink-soft">
+          Opening this record is written to the access log; the worker can see who read it.
+        </p>
       </div>
       {r?.done && <Notice>{r.done}</Notice>}
-      {r?.errors && (r.errors as Record<string, string>)._form && <FormError message={(r.errors as Record<string, string>)._form} />}
+      {r?.errors && (r.errors as Record<string, string>)._form && (
+        <FormError message={(r.errors as Record<string, string>)._form} />
+      )}
 
       <section className="card grid gap-4" aria-labelledby="consent-h">
-        <h2 id="consent-h" className="text-lg font-semibold">Consent</h2>
+        <h2 id="consent-h" className="text-lg font-semibold">
+          Consent
+        </h2>
         <ul className="grid gap-2" data-testid="consent-state">
           {CONSENT_PURPOSES.map((pp) => (
             <li key={pp} className="flex flex-wrap items-center justify-between gap-2 border-b border-line pb-2">
-              <span><span className="font-medium">{PURPOSE_LABELS[pp]}</span>: <span data-testid={`consent-${pp}`}>{consentText(consent[pp])}</span></span>
-              {consent[pp].needsRenewal && <span className="text-sm text-amber-caution">A new text (v{consent[pp].currentVersion}) is in force: ask for renewed consent.</span>}
+              <span>
+                <span className="font-medium">{PURPOSE_LABELS[pp]}</span>:{" "}
+                <span data-testid={`consent-${pp}`}>{consentText(consent[pp])}</span>
+              </span>
+              {consent[pp].needsRenewal && (
+                <span className="text-sm text-amber-caution">
+                  A new text (v{consent[pp].currentVersion}) is in force: ask for renewed consent.
+                </span>
+              )}
             </li>
           ))}
         </ul>
         {canConsent && (
-          <Form key={CONSENT_PURPOSES.map((pp) => consent[pp].status + consent[pp].version).join()} method="post" className="grid gap-3" aria-labelledby="record-consent-h">
-            <h3 id="record-consent-h" className="font-semibold">Record consent</h3>
+          <Form
+            key={CONSENT_PURPOSES.map((pp) => consent[pp].status + consent[pp].version).join()}
+            method="post"
+            className="grid gap-3"
+            aria-labelledby="record-consent-h"
+          >
+            <h3 id="record-consent-h" className="font-semibold">
+              Record consent
+            </h3>
             <input type="hidden" name="intent" value="consent" />
             <fieldset className="grid gap-2" aria-describedby={errors.purposes ? "purposes-error" : undefined}>
               <legend className="field-label">Purposes the worker agrees to (each against the text in force)</legend>
               {CONSENT_PURPOSES.map((pp) => (
                 <div key={pp} className="rounded-md border border-line p-2">
                   <label className="flex min-h-11 items-center gap-2">
-                    <input type="checkbox" name="purposes" value={pp} defaultChecked={consent[pp].status !== "given" || consent[pp].needsRenewal} className="size-5" />
-                    <span>{PURPOSE_LABELS[pp]} {texts[pp] ? `(text v${texts[pp]!.version})` : "(no text in force)"}</span>
+                    <input
+                      type="checkbox"
+                      name="purposes"
+                      value={pp}
+                      defaultChecked={consent[pp].status !== "given" || consent[pp].needsRenewal}
+                      className="size-5"
+                    />
+                    <span>
+                      {PURPOSE_LABELS[pp]} {texts[pp] ? `(text v${texts[pp]!.version})` : "(no text in force)"}
+                    </span>
                   </label>
-                  {texts[pp] && <details className="text-sm"><summary className="cursor-pointer text-spruce-700">Read the text shown to the worker</summary><p className="mt-1 whitespace-pre-line">{texts[pp]!.body}</p></details>}
+                  {texts[pp] && (
+                    <details className="text-sm">
+                      <summary className="cursor-pointer text-spruce-700">Read the text shown to the worker</summary>
+                      <p className="mt-1 whitespace-pre-line">{texts[pp]!.body}</p>
+                    </details>
+                  )}
                 </div>
               ))}
-              {errors.purposes && <p id="purposes-error" className="field-error">{errors.purposes}</p>}
+              {errors.purposes && (
+                <p id="purposes-error" className="field-error">
+                  {errors.purposes}
+                </p>
+              )}
             </fieldset>
-            <SelectField name="witnessUserId" label="Witnessed by (assessor)" required defaultValue={String(me)} error={errors.witnessUserId}
-              options={witnesses.map((w) => ({ value: String(w.id), label: w.display_name }))} />
+            <SelectField
+              name="witnessUserId"
+              label="Witnessed by (assessor)"
+              required
+              defaultValue={String(me)}
+              error={errors.witnessUserId}
+              options={witnesses.map((w) => ({ value: String(w.id), label: w.display_name }))}
+            />
             <label className="flex min-h-11 items-center gap-2">
-              <input type="checkbox" name="confirmRead" className="size-5" aria-describedby={errors.confirmRead ? "confirmRead-error" : undefined} />
+              <input
+                type="checkbox"
+                name="confirmRead"
+                className="size-5"
+                aria-describedby={errors.confirmRead ? "confirmRead-error" : undefined}
+              />
               <span>The worker was shown the current text of each ticked purpose and agreed.</span>
             </label>
-            {errors.confirmRead && <p id="confirmRead-error" className="field-error">{errors.confirmRead}</p>}
-            <div><button className="btn-primary" disabled={busy}>Record consent</button></div>
+            {errors.confirmRead && (
+              <p id="confirmRead-error" className="field-error">
+                {errors.confirmRead}
+              </p>
+            )}
+            <div>
+              <button className="btn-primary" disabled={busy}>
+                Record consent
+              </button>
+            </div>
           </Form>
         )}
-        {canConsent && CONSENT_PURPOSES.filter((pp) => consent[pp].status === "given").map((pp) => (
-          <Form key={pp} method="post" className="grid gap-2 rounded-md border border-alert/30 p-3" aria-label={`Withdraw ${pp} consent`}>
-            <input type="hidden" name="intent" value="withdraw" />
-            <input type="hidden" name="purpose" value={pp} />
-            <p className="font-medium">Withdraw {pp} consent</p>
-            <p className="text-sm text-ink-soft">
-              {pp === "assessment" ? "Takes effect at once: every assessment session, result, trace and forecast of this worker is erased. Only the withdrawal is kept." :
-                pp === "planning" ? "Takes effect at once: forecasts are erased and the worker leaves plans." : "Takes effect at once: the record leaves future model cohorts."}
-            </p>
-            <TextField name="confirm" label={`Type WITHDRAW to confirm (${pp})`} error={r && "purpose" in r && r.purpose === pp ? errors.confirm : undefined} autoComplete="off" />
-            <div><button className="btn-danger" disabled={busy}>Withdraw {pp} consent</button></div>
-          </Form>
-        ))}
+        {canConsent &&
+          CONSENT_PURPOSES.filter((pp) => consent[pp].status === "given").map((pp) => (
+            <Form
+              key={pp}
+              method="post"
+              className="grid gap-2 rounded-md border border-alert/30 p-3"
+              aria-label={`Withdraw ${pp} consent`}
+            >
+              <input type="hidden" name="intent" value="withdraw" />
+              <input type="hidden" name="purpose" value={pp} />
+              <p className="font-medium">Withdraw {pp} consent</p>
+              <p className="text-sm text-ink-soft">
+                {pp === "assessment"
+                  ? "Takes effect at once: every assessment session, result, trace and forecast of this worker is erased. Only the withdrawal is kept."
+                  : pp === "planning"
+                    ? "Takes effect at once: forecasts are erased and the worker leaves plans."
+                    : "Takes effect at once: the record leaves future model cohorts."}
+              </p>
+              <TextField
+                name="confirm"
+                label={`Type WITHDRAW to confirm (${pp})`}
+                error={r && "purpose" in r && r.purpose === pp ? errors.confirm : undefined}
+                autoComplete="off"
+              />
+              <div>
+                <button className="btn-danger" disabled={busy}>
+                  Withdraw {pp} consent
+                </button>
+              </div>
+            </Form>
+          ))}
         <details>
           <summary className="cursor-pointer text-spruce-700">Consent history ({history.length})</summary>
           <div className="overflow-x-auto">
             <table className="table-base mt-2">
               <caption className="sr-only">Consent history</caption>
-              <thead><tr><th scope="col">When</th><th scope="col">Purpose</th><th scope="col">Status</th><th scope="col">Text</th><th scope="col">Witness</th><th scope="col">Recorded by</th></tr></thead>
-              <tbody>{history.map((h) => <tr key={h.id}><td>{h.at.slice(0, 16).replace("T", " ")}</td><td>{h.purpose}</td><td>{h.status}</td><td>v{h.version}</td><td>{h.witness ?? "—"}</td><td>{h.recordedBy ?? "—"}</td></tr>)}</tbody>
+              <thead>
+                <tr>
+                  <th scope="col">When</th>
+                  <th scope="col">Purpose</th>
+                  <th scope="col">Status</th>
+                  <th scope="col">Text</th>
+                  <th scope="col">Witness</th>
+                  <th scope="col">Recorded by</th>
+                </tr>
+              </thead>
+              <tbody>
+                {history.map((h) => (
+                  <tr key={h.id}>
+                    <td>{h.at.slice(0, 16).replace("T", " ")}</td>
+                    <td>{h.purpose}</td>
+                    <td>{h.status}</td>
+                    <td>v{h.version}</td>
+                    <td>{h.witness ?? "—"}</td>
+                    <td>{h.recordedBy ?? "—"}</td>
+                  </tr>
+                ))}
+              </tbody>
             </table>
           </div>
         </details>
       </section>
 
       <section className="card grid gap-3" aria-labelledby="profile-h">
-        <h2 id="profile-h" className="text-lg font-semibold">Coordination profile</h2>
-        <ProfileChart points={points} title={latestOn ? `Baseline of ${latestOn}: z-scores (positive = better) with MDC95 bands` : "No baseline yet"} />
+        <h2 id="profile-h" className="text-lg font-semibold">
+          Coordination profile
+        </h2>
+        <ProfileChart
+          points={points}
+          title={
+            latestOn ? `Baseline of ${latestOn}: z-scores (positive = better) with MDC95 bands` : "No baseline yet"
+          }
+        />
       </section>
 
       {changes.length > 0 && (
         <section className="card grid gap-3" aria-labelledby="change-h">
-          <h2 id="change-h" className="text-lg font-semibold">Change since the previous baseline</h2>
-          <p className="text-sm text-ink-soft">A change counts as real only when it is larger than the measure's minimal detectable change (MDC95, from repeated baselines).</p>
+          <h2 id="change-h" className="text-lg font-semibold">
+            Change since the previous baseline
+          </h2>
+          <p className="text-sm text-ink-soft">
+            A change counts as real only when it is larger than the measure's minimal detectable change (MDC95, from
+            repeated baselines).
+          </p>
           <div className="overflow-x-auto">
             <table className="table-base" data-testid="change-table">
               <caption className="sr-only">Change since the previous baseline</caption>
-              <thead><tr><th scope="col">Measure</th><th scope="col">Previous</th><th scope="col">Latest</th><th scope="col">Change</th><th scope="col">MDC95</th><th scope="col">Verdict</th></tr></thead>
-              <tbody>{changes.map((c) => (
-                <tr key={c.measureId}><th scope="row" className="font-normal">{c.name}</th><td>{fmt(c.previous)}</td><td>{fmt(c.latest)}</td><td>{c.change > 0 ? "+" : ""}{fmt(c.change)} {c.unit}</td>
-                  <td>{c.mdc95 != null ? fmt(c.mdc95) : "—"}</td>
-                  <td className={c.verdict === "better" ? "text-spruce-700 font-medium" : c.verdict === "worse" ? "text-alert font-medium" : ""}>
-                    {c.verdict === "better" ? "Real improvement (exceeds MDC)" : c.verdict === "worse" ? "Real decline (exceeds MDC)" : c.verdict === "within error" ? "Within measurement error" : "No MDC yet"}</td></tr>
-              ))}</tbody>
+              <thead>
+                <tr>
+                  <th scope="col">Measure</th>
+                  <th scope="col">Previous</th>
+                  <th scope="col">Latest</th>
+                  <th scope="col">Change</th>
+                  <th scope="col">MDC95</th>
+                  <th scope="col">Verdict</th>
+                </tr>
+              </thead>
+              <tbody>
+                {changes.map((c) => (
+                  <tr key={c.measureId}>
+                    <th scope="row" className="font-normal">
+                      {c.name}
+                    </th>
+                    <td>{fmt(c.previous)}</td>
+                    <td>{fmt(c.latest)}</td>
+                    <td>
+                      {c.change > 0 ? "+" : ""}
+                      {fmt(c.change)} {c.unit}
+                    </td>
+                    <td>{c.mdc95 != null ? fmt(c.mdc95) : "—"}</td>
+                    <td
+                      className={
+                        c.verdict === "better"
+                          ? "text-spruce-700 font-medium"
+                          : c.verdict === "worse"
+                            ? "text-alert font-medium"
+                            : ""
+                      }
+                    >
+                      {c.verdict === "better"
+                        ? "Real improvement (exceeds MDC)"
+                        : c.verdict === "worse"
+                          ? "Real decline (exceeds MDC)"
+                          : c.verdict === "within error"
+                            ? "Within measurement error"
+                            : "No MDC yet"}
+                    </td>
+                  </tr>
+                ))}
+              </tbody>
             </table>
           </div>
         </section>
       )}
 
       <section className="card grid gap-3" aria-labelledby="sessions-h">
-        <h2 id="sessions-h" className="text-lg font-semibold">Assessment sessions</h2>
-        {sessions.length === 0 ? <p className="text-ink-soft">None yet.</p> : (
-          <ul className="grid gap-2">{sessions.map((s) => (
-            <li key={s.id} className="flex flex-wrap justify-between gap-2 border-b border-line pb-2">
-              <Link className="font-medium text-spruce-700 underline" to={`/assess/workers/${worker.id}/sessions/${s.id}`}>Session of {s.assessedOn}</Link>
-              <span className="text-sm text-ink-soft">{s.results} results · {s.uploads} traces{s.assessor ? ` · ${s.assessor}` : ""}</span>
-            </li>))}
+        <h2 id="sessions-h" className="text-lg font-semibold">
+          Assessment sessions
+        </h2>
+        {sessions.length === 0 ? (
+          <p className="text-ink-soft">None yet.</p>
+        ) : (
+          <ul className="grid gap-2">
+            {sessions.map((s) => (
+              <li key={s.id} className="flex flex-wrap justify-between gap-2 border-b border-line pb-2">
+                <Link
+                  className="font-medium text-spruce-700 underline"
+                  to={`/assess/workers/${worker.id}/sessions/${s.id}`}
+                >
+                  Session of {s.assessedOn}
+                </Link>
+                <span className="text-sm text-ink-soft">
+                  {s.results} results · {s.uploads} traces{s.assessor ? ` · ${s.assessor}` : ""}
+                </span>
+              </li>
+            ))}
           </ul>
         )}
-        {canWrite && (assessmentGiven ? (
-          <Form method="post" className="grid gap-3 sm:grid-cols-2">
-            <input type="hidden" name="intent" value="session" />
-            <TextField name="assessedOn" label="Date of assessment" type="date" required defaultValue={today} error={errors.assessedOn} />
-            <div className="sm:col-span-2"><TextArea name="notes" label="Notes (optional)" rows={2} error={errors.notes} /></div>
-            <div className="sm:col-span-2"><button className="btn-primary" disabled={busy}>Start assessment session</button></div>
-          </Form>
-        ) : <p className="rounded-md bg-amber-wash p-3 text-sm text-amber-caution">No assessment can be recorded: this worker has not given assessment consent.</p>)}
+        {canWrite &&
+          (assessmentGiven ? (
+            <Form method="post" className="grid gap-3 sm:grid-cols-2">
+              <input type="hidden" name="intent" value="session" />
+              <TextField
+                name="assessedOn"
+                label="Date of assessment"
+                type="date"
+                required
+                defaultValue={today}
+                error={errors.assessedOn}
+              />
+              <div className="sm:col-span-2">
+                <TextArea name="notes" label="Notes (optional)" rows={2} error={errors.notes} />
+              </div>
+              <div className="sm:col-span-2">
+                <button className="btn-primary" disabled={busy}>
+                  Start assessment session
+                </button>
+              </div>
+            </Form>
+          ) : (
+            <p className="rounded-md bg-amber-wash p-3 text-sm text-amber-caution">
+              No assessment can be recorded: this worker has not given assessment consent.
+            </p>
+          ))}
       </section>
     </div>
   );

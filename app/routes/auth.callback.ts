@@ -1,9 +1,9 @@
 import { redirect } from "react-router";
-import type { Route } from "./+types/auth.callback";
 import { getAuthenticator } from "~/auth/authenticator.server";
 import { homeFor } from "~/auth/homes";
 import { getSession, sessionStorage } from "~/auth/session.server";
 import { markSignedIn } from "~/models/users.server";
+import type { Route } from "./+types/auth.callback";
 
 // The identity provider returns here with a code; the strategy exchanges it (with the PKCE verifier)
 // and verifies the ID token. A provisioned person gets a brand-new session; anyone else gets none.
@@ -20,11 +20,15 @@ export async function loader({ request }: Route.LoaderArgs) {
   const old = await getSession(request);
   const clearOld = await sessionStorage.destroySession(old);
   if (result.kind !== "ok") {
-    throw redirect(`/auth/not-provisioned?email=${encodeURIComponent(result.email)}`, { headers: { "Set-Cookie": clearOld } });
+    throw redirect(`/auth/not-provisioned?email=${encodeURIComponent(result.email)}`, {
+      headers: { "Set-Cookie": clearOld },
+    });
   }
   const session = await sessionStorage.getSession();
   session.set("userId", result.user.id);
   session.set("signedInAt", new Date().toISOString());
   await markSignedIn(result.user.id);
-  throw redirect(homeFor(result.user.roles), { headers: { "Set-Cookie": await sessionStorage.commitSession(session) } });
+  throw redirect(homeFor(result.user.roles), {
+    headers: { "Set-Cookie": await sessionStorage.commitSession(session) },
+  });
 }

@@ -13,11 +13,19 @@ export default function NotProvisioned({ loaderData }: Route.ComponentProps) {
       <div className="card mt-12">
         <h1 className="page-title">Your account is not provisioned</h1>
         <p className="mt-3 text-ink-soft">
-          Your organisation confirmed who you are{loaderData.email ? <> (<strong className="text-ink">{loaderData.email}</strong>)</> : null},
-          but nobody has given this identity a role in Limberly, so you have not been signed in.
+          Your organisation confirmed who you are
+          {loaderData.email ? (
+            <>
+              {" "}
+              (<strong className="text-ink">{loaderData.email}</strong>)
+            </>
+          ) : null}
+          , but nobody has given this identity a role in Limberly, so you have not been signed in.
         </p>
         <p className="mt-3 text-ink-soft">Ask your Limberly administrator to add you with the role you need.</p>
-        <a href="/sign-in" className="btn-quiet mt-6">Back to sign-in</a>
+        <a href="/sign-in" className="btn-quiet mt-6">
+          Back to sign-in
+        </a>
       </div>
     </main>
   );

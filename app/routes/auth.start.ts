@@ -1,5 +1,5 @@
-import type { Route } from "./+types/auth.start";
 import { getAuthenticator } from "~/auth/authenticator.server";
+import type { Route } from "./+types/auth.start";
 
 // Starts the authorization-code flow with PKCE: redirects to the identity provider.
 export async function loader({ request }: Route.LoaderArgs) {

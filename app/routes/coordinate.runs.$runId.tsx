@@ -1,7 +1,13 @@
-import { type ColumnDef, flexRender, getCoreRowModel, getSortedRowModel, type SortingState, useReactTable } from "@tanstack/react-table";
+import {
+  type ColumnDef,
+  flexRender,
+  getCoreRowModel,
+  getSortedRowModel,
+  type SortingState,
+  useReactTable,
+} from "@tanstack/react-table";
 import { useEffect, useState } from "react";
 import { data, Form, Link, useFetcher, useNavigation, useRevalidator } from "react-router";
-import type { Route } from "./+types/coordinate.runs.$runId";
 import { requireUser } from "~/auth/guard.server";
 import { roleAllows } from "~/auth/permissions";
 import { CapacityChart } from "~/components/capacity-chart";
@@ -12,15 +18,34 @@ import { addDays } from "~/compute/plan-calendar";
 import { ensureJobsStarted } from "~/jobs/runner.server";
 import { recordAccess } from "~/models/access-log.server";
 import { getRun, listRuns } from "~/models/allocation-runs.server";
-import { planState, previewSessions, publishRefusal, publishRun, PublishConflict, PublishRefused, type PublishOutcome } from "~/models/publish.server";
+import {
+  PublishConflict,
+  type PublishOutcome,
+  PublishRefused,
+  planState,
+  previewSessions,
+  publishRefusal,
+  publishRun,
+} from "~/models/publish.server";
 import { publishSchema } from "~/schemas/allocation";
 import { formToObject, parseWith } from "~/schemas/form";
+import type { Route } from "./+types/coordinate.runs.$runId";
 
 export const meta: Route.MetaFunction = ({ params }) => [{ title: `Allocation run #${params.runId} · Limberly` }];
 
 export interface WorkerPlanRow {
-  workerId: string; employeeNumber: string; name: string; department: string; deviceType: string; trainers: string;
-  hoursPerWeek: string; totalHours: number; hoursNeeded: number; completionWeek: number; completionDate: string; priority: number;
+  workerId: string;
+  employeeNumber: string;
+  name: string;
+  department: string;
+  deviceType: string;
+  trainers: string;
+  hoursPerWeek: string;
+  totalHours: number;
+  hoursNeeded: number;
+  completionWeek: number;
+  completionDate: string;
+  priority: number;
 }
 
 export async function loader({ request, params }: Route.LoaderArgs) {
@@ -40,16 +65,31 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     const weeks = [...byWeek.entries()].sort((x, y) => x[0] - y[0]);
     const total = weeks.reduce((s, [, h]) => s + h, 0);
     return {
-      workerId: a.workerId, employeeNumber: w?.employeeNumber ?? a.workerId, name: w?.name ?? a.workerId, department: w ? `${w.site} · ${w.department}` : "",
-      deviceType: a.deviceTypeId, trainers: [...new Set(a.sessions.map((s) => s.trainerId))].join(", "),
-      hoursPerWeek: weeks.map(([k, h]) => `W${k + 1}: ${h.toFixed(1)}`).join(" · "), totalHours: round1(total),
-      hoursNeeded: round1(problemWorker.get(a.workerId)?.options.find((o) => o.deviceTypeId === a.deviceTypeId)?.hoursNeeded ?? total),
-      completionWeek: a.completionWeek + 1, completionDate: snap ? addDays(snap.calendar.startDate, a.completionWeek * 7 + 4) : "",
+      workerId: a.workerId,
+      employeeNumber: w?.employeeNumber ?? a.workerId,
+      name: w?.name ?? a.workerId,
+      department: w ? `${w.site} · ${w.department}` : "",
+      deviceType: a.deviceTypeId,
+      trainers: [...new Set(a.sessions.map((s) => s.trainerId))].join(", "),
+      hoursPerWeek: weeks.map(([k, h]) => `W${k + 1}: ${h.toFixed(1)}`).join(" · "),
+      totalHours: round1(total),
+      hoursNeeded: round1(
+        problemWorker.get(a.workerId)?.options.find((o) => o.deviceTypeId === a.deviceTypeId)?.hoursNeeded ?? total,
+      ),
+      completionWeek: a.completionWeek + 1,
+      completionDate: snap ? addDays(snap.calendar.startDate, a.completionWeek * 7 + 4) : "",
       priority: problemWorker.get(a.workerId)?.priority ?? 1,
     };
   });
-  const unassigned = (plan?.unassigned ?? []).map((u) => ({ name: workerLabel.get(u.workerId)?.name ?? u.workerId, employeeNumber: workerLabel.get(u.workerId)?.employeeNumber ?? "", reason: u.reason }));
-  const usage = new Map<string, { kind: string; id: string; points: { week: number; used: number; capacity: number }[] }>();
+  const unassigned = (plan?.unassigned ?? []).map((u) => ({
+    name: workerLabel.get(u.workerId)?.name ?? u.workerId,
+    employeeNumber: workerLabel.get(u.workerId)?.employeeNumber ?? "",
+    reason: u.reason,
+  }));
+  const usage = new Map<
+    string,
+    { kind: string; id: string; points: { week: number; used: number; capacity: number }[] }
+  >();
   for (const u of plan?.usage ?? []) {
     const key = `${u.kind}|${u.id}`;
     if (!usage.has(key)) usage.set(key, { kind: u.kind, id: u.id, points: [] });
@@ -59,19 +99,61 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const preview = run.status === "done" ? previewSessions(run) : { sessions: [], unplaced: [] };
   const lastWeek = new Map<string, number>();
   for (const s of preview.sessions) lastWeek.set(s.workerId, Math.max(lastWeek.get(s.workerId) ?? 0, s.week));
-  const slipped = rows.filter((r) => (lastWeek.get(r.workerId) ?? -1) + 1 > r.completionWeek).map((r) => `${r.name}: week ${(lastWeek.get(r.workerId) ?? 0) + 1} instead of ${r.completionWeek}`);
+  const slipped = rows
+    .filter((r) => (lastWeek.get(r.workerId) ?? -1) + 1 > r.completionWeek)
+    .map((r) => `${r.name}: week ${(lastWeek.get(r.workerId) ?? 0) + 1} instead of ${r.completionWeek}`);
   if (rows.length) await recordAccess(p, request, rows.map((r) => Number(r.workerId)).filter(Number.isFinite), "plan");
-  const others = (await listRuns(p.scope, 30)).filter((r) => r.id !== run.id && r.status === "done").map((r) => ({ id: r.id, label: r.label ?? `${r.parameters.startDate}, ${r.parameters.horizonWeeks} weeks` }));
+  const others = (await listRuns(p.scope, 30))
+    .filter((r) => r.id !== run.id && r.status === "done")
+    .map((r) => ({ id: r.id, label: r.label ?? `${r.parameters.startDate}, ${r.parameters.horizonWeeks} weeks` }));
   const state = await planState();
   return {
-    run: { id: run.id, label: run.label, status: run.status, phase: run.phase, fraction: run.fraction, error: run.error, createdBy: run.createdBy, createdAt: run.createdAt,
-      finishedAt: run.finishedAt, publishedAt: run.publishedAt, publishedBy: run.publishedBy, publishedPlanVersion: run.publishedPlanVersion, parameters: run.parameters, baseRunId: run.baseRunId },
-    result: plan ? { status: plan.status, objective: plan.objective, bound: plan.bound, gap: plan.gap ?? null, message: plan.message ?? null, binding: (plan.bindingResources ?? []).map((b) => b.description) } : null,
-    poolSize: snap?.problem.workers.length ?? 0, excluded: snap?.excluded ?? [], notes: snap?.notes ?? [],
-    rows, unassigned, usage: [...usage.values()],
-    preview: { sessions: preview.sessions.length, unplaced: preview.unplaced.map((u) => ({ name: workerLabel.get(u.workerId)?.name ?? u.workerId, hours: round1(u.minutes / 60), reason: u.reason })), slipped },
-    planVersion: state.version, currentRunId: state.runId, refusal: run.status === "done" ? publishRefusal(run) : "Only a finished run can be published.",
-    canPublish: p.roles.some((r) => roleAllows(r, "allocation.publish")), others,
+    run: {
+      id: run.id,
+      label: run.label,
+      status: run.status,
+      phase: run.phase,
+      fraction: run.fraction,
+      error: run.error,
+      createdBy: run.createdBy,
+      createdAt: run.createdAt,
+      finishedAt: run.finishedAt,
+      publishedAt: run.publishedAt,
+      publishedBy: run.publishedBy,
+      publishedPlanVersion: run.publishedPlanVersion,
+      parameters: run.parameters,
+      baseRunId: run.baseRunId,
+    },
+    result: plan
+      ? {
+          status: plan.status,
+          objective: plan.objective,
+          bound: plan.bound,
+          gap: plan.gap ?? null,
+          message: plan.message ?? null,
+          binding: (plan.bindingResources ?? []).map((b) => b.description),
+        }
+      : null,
+    poolSize: snap?.problem.workers.length ?? 0,
+    excluded: snap?.excluded ?? [],
+    notes: snap?.notes ?? [],
+    rows,
+    unassigned,
+    usage: [...usage.values()],
+    preview: {
+      sessions: preview.sessions.length,
+      unplaced: preview.unplaced.map((u) => ({
+        name: workerLabel.get(u.workerId)?.name ?? u.workerId,
+        hours: round1(u.minutes / 60),
+        reason: u.reason,
+      })),
+      slipped,
+    },
+    planVersion: state.version,
+    currentRunId: state.runId,
+    refusal: run.status === "done" ? publishRefusal(run) : "Only a finished run can be published.",
+    canPublish: p.roles.some((r) => roleAllows(r, "allocation.publish")),
+    others,
   };
 }
 
@@ -92,46 +174,116 @@ export async function action({ request, params }: Route.ActionArgs) {
 const round1 = (x: number) => Math.round(x * 10) / 10;
 
 const columns: ColumnDef<WorkerPlanRow>[] = [
-  { id: "worker", accessorFn: (r) => r.employeeNumber, header: "Worker", cell: ({ row }) => <span className="whitespace-nowrap">{row.original.employeeNumber} · {row.original.name}</span> },
+  {
+    id: "worker",
+    accessorFn: (r) => r.employeeNumber,
+    header: "Worker",
+    cell: ({ row }) => (
+      <span className="whitespace-nowrap">
+        {row.original.employeeNumber} · {row.original.name}
+      </span>
+    ),
+  },
   { id: "department", accessorKey: "department", header: "Department" },
   { id: "device", accessorKey: "deviceType", header: "Device type" },
   { id: "trainers", accessorKey: "trainers", header: "Trainer(s)" },
-  { id: "hoursPerWeek", accessorKey: "hoursPerWeek", header: "Hours per week", enableSorting: false, cell: ({ getValue }) => <span className="text-sm">{String(getValue())}</span> },
-  { id: "hours", accessorKey: "hoursNeeded", header: "Hours needed", cell: ({ getValue }) => `${Number(getValue()).toFixed(1)} h` },
+  {
+    id: "hoursPerWeek",
+    accessorKey: "hoursPerWeek",
+    header: "Hours per week",
+    enableSorting: false,
+    cell: ({ getValue }) => <span className="text-sm">{String(getValue())}</span>,
+  },
+  {
+    id: "hours",
+    accessorKey: "hoursNeeded",
+    header: "Hours needed",
+    cell: ({ getValue }) => `${Number(getValue()).toFixed(1)} h`,
+  },
   { id: "priority", accessorKey: "priority", header: "Priority" },
-  { id: "completion", accessorKey: "completionWeek", header: "Ready in week", cell: ({ row }) => <span className="whitespace-nowrap">{row.original.completionWeek} <span className="text-ink-soft">({row.original.completionDate})</span></span> },
+  {
+    id: "completion",
+    accessorKey: "completionWeek",
+    header: "Ready in week",
+    cell: ({ row }) => (
+      <span className="whitespace-nowrap">
+        {row.original.completionWeek} <span className="text-ink-soft">({row.original.completionDate})</span>
+      </span>
+    ),
+  },
 ];
 
 function PlanTable({ rows }: { rows: WorkerPlanRow[] }) {
   const [sorting, setSorting] = useState<SortingState>([{ id: "completion", desc: false }]);
-  const table = useReactTable({ data: rows, columns, state: { sorting }, onSortingChange: setSorting, getCoreRowModel: getCoreRowModel(), getSortedRowModel: getSortedRowModel() });
+  const table = useReactTable({
+    data: rows,
+    columns,
+    state: { sorting },
+    onSortingChange: setSorting,
+    getCoreRowModel: getCoreRowModel(),
+    getSortedRowModel: getSortedRowModel(),
+  });
   return (
-    <div className="card overflow-x-auto p-0" tabIndex={0} role="region" aria-label="Per-worker plan (scrolls sideways)">
+    <div
+      className="card overflow-x-auto p-0"
+      tabIndex={0}
+      role="region"
+      aria-label="Per-worker plan (scrolls sideways)"
+    >
       <table className="table-base" data-testid="plan-table">
-        <caption className="sr-only">Per-worker plan: device type, trainers, hours per week and the week each worker is ready</caption>
-        <thead>{table.getHeaderGroups().map((hg) => (
-          <tr key={hg.id}>{hg.headers.map((h) => {
-            const sorted = h.column.getIsSorted();
-            return (
-              <th key={h.id} scope="col" aria-sort={sorted ? (sorted === "asc" ? "ascending" : "descending") : undefined}>
-                {h.column.getCanSort() ? (
-                  <button type="button" className="inline-flex min-h-11 items-center gap-1 font-semibold underline-offset-2 hover:underline" onClick={h.column.getToggleSortingHandler()}>
-                    {flexRender(h.column.columnDef.header, h.getContext())}<span aria-hidden="true">{sorted === "asc" ? "▲" : sorted === "desc" ? "▼" : "↕"}</span>
-                  </button>
-                ) : flexRender(h.column.columnDef.header, h.getContext())}
-              </th>
-            );
-          })}</tr>
-        ))}</thead>
-        <tbody>{table.getRowModel().rows.map((r) => (
-          <tr key={r.id}>{r.getVisibleCells().map((c) => <td key={c.id}>{flexRender(c.column.columnDef.cell, c.getContext())}</td>)}</tr>
-        ))}</tbody>
+        <caption className="sr-only">
+          Per-worker plan: device type, trainers, hours per week and the week each worker is ready
+        </caption>
+        <thead>
+          {table.getHeaderGroups().map((hg) => (
+            <tr key={hg.id}>
+              {hg.headers.map((h) => {
+                const sorted = h.column.getIsSorted();
+                return (
+                  <th
+                    key={h.id}
+                    scope="col"
+                    aria-sort={sorted ? (sorted === "asc" ? "ascending" : "descending") : undefined}
+                  >
+                    {h.column.getCanSort() ? (
+                      <button
+                        type="button"
+                        className="inline-flex min-h-11 items-center gap-1 font-semibold underline-offset-2 hover:underline"
+                        onClick={h.column.getToggleSortingHandler()}
+                      >
+                        {flexRender(h.column.columnDef.header, h.getContext())}
+                        <span aria-hidden="true">{sorted === "asc" ? "▲" : sorted === "desc" ? "▼" : "↕"}</span>
+                      </button>
+                    ) : (
+                      flexRender(h.column.columnDef.header, h.getContext())
+                    )}
+                  </th>
+                );
+              })}
+            </tr>
+          ))}
+        </thead>
+        <tbody>
+          {table.getRowModel().rows.map((r) => (
+            <tr key={r.id}>
+              {r.getVisibleCells().map((c) => (
+                <td key={c.id}>{flexRender(c.column.columnDef.cell, c.getContext())}</td>
+              ))}
+            </tr>
+          ))}
+        </tbody>
       </table>
     </div>
   );
 }
 
-function Progress({ runId, initial }: { runId: number; initial: { status: string; fraction: number; phase: string | null } }) {
+function Progress({
+  runId,
+  initial,
+}: {
+  runId: number;
+  initial: { status: string; fraction: number; phase: string | null };
+}) {
   const fetcher = useFetcher<{ status: string; fraction: number; phase: string | null }>();
   const revalidator = useRevalidator();
   const current = fetcher.data ?? initial;
@@ -140,19 +292,40 @@ function Progress({ runId, initial }: { runId: number; initial: { status: string
       if (revalidator.state === "idle") void revalidator.revalidate();
       return;
     }
-    const t = setTimeout(() => { if (fetcher.state === "idle") fetcher.load(`/coordinate/runs/${runId}/status`); }, 700);
+    const t = setTimeout(() => {
+      if (fetcher.state === "idle") fetcher.load(`/coordinate/runs/${runId}/status`);
+    }, 700);
     return () => clearTimeout(t);
   }, [current.status, current.fraction, current.phase, fetcher.state]); // eslint-disable-line react-hooks/exhaustive-deps
   return (
     <div className="card grid gap-2" aria-live="polite">
-      <ProgressBar label={current.status === "queued" ? "Waiting for the solver" : "Solving"} fraction={current.fraction} phase={current.phase} />
+      <ProgressBar
+        label={current.status === "queued" ? "Waiting for the solver" : "Solving"}
+        fraction={current.fraction}
+        phase={current.phase}
+      />
       <p className="text-sm text-ink-soft">The solver runs in the background; this page updates by itself.</p>
     </div>
   );
 }
 
 export default function RunPage({ loaderData, actionData }: Route.ComponentProps) {
-  const { run, result, poolSize, excluded, notes, rows, unassigned, usage, preview, planVersion, currentRunId, refusal, canPublish, others } = loaderData;
+  const {
+    run,
+    result,
+    poolSize,
+    excluded,
+    notes,
+    rows,
+    unassigned,
+    usage,
+    preview,
+    planVersion,
+    currentRunId,
+    refusal,
+    canPublish,
+    others,
+  } = loaderData;
   const nav = useNavigation();
   const a = actionData as { published?: PublishOutcome; conflict?: string; error?: string } | undefined;
   const pr = run.parameters;
@@ -161,119 +334,297 @@ export default function RunPage({ loaderData, actionData }: Route.ComponentProps
   return (
     <div className="grid gap-6">
       <div>
-        <p className="text-sm"><Link className="text-spruce-700 underline" to="/coordinate/runs">Allocation runs</Link></p>
-        <h1 className="page-title">Run #{run.id}{run.label ? ` · ${run.label}` : ""}</h1>
+        <p className="text-sm">
+          <Link className="text-spruce-700 underline" to="/coordinate/runs">
+            Allocation runs
+          </Link>
+        </p>
+        <h1 className="page-title">
+          Run #{run.id}
+          {run.label ? ` · ${run.label}` : ""}
+        </h1>
         <p className="text-ink-soft">
-          Start {pr.startDate}, {pr.horizonWeeks} weeks · planning quantile {Math.round(pr.planningQuantile * 100)} % · fairness share {Math.round(pr.fairnessShare * 100)} %
-          {pr.pool.includeProficientElsewhere ? " · includes workers proficient elsewhere" : ""}{run.baseRunId ? <> · what-if of <Link className="underline" to={`/coordinate/runs/${run.baseRunId}`}>run #{run.baseRunId}</Link></> : null}
+          Start {pr.startDate}, {pr.horizonWeeks} weeks · planning quantile {Math.round(pr.planningQuantile * 100)} % ·
+          fairness share {Math.round(pr.fairnessShare * 100)} %
+          {pr.pool.includeProficientElsewhere ? " · includes workers proficient elsewhere" : ""}
+          {run.baseRunId ? (
+            <>
+              {" "}
+              · what-if of{" "}
+              <Link className="underline" to={`/coordinate/runs/${run.baseRunId}`}>
+                run #{run.baseRunId}
+              </Link>
+            </>
+          ) : null}
           {run.createdBy ? ` · started by ${run.createdBy}` : ""}
         </p>
       </div>
 
-      {(run.status === "queued" || run.status === "running") && <Progress runId={run.id} initial={{ status: run.status, fraction: run.fraction, phase: run.phase }} />}
+      {(run.status === "queued" || run.status === "running") && (
+        <Progress runId={run.id} initial={{ status: run.status, fraction: run.fraction, phase: run.phase }} />
+      )}
       {run.status === "failed" && <FormError message={`The run failed: ${run.error ?? "unknown error"}`} />}
 
       {result && (
         <>
           <section aria-labelledby="outcome" className="grid gap-3">
-            <h2 id="outcome" className="text-lg font-semibold">Result</h2>
+            <h2 id="outcome" className="text-lg font-semibold">
+              Result
+            </h2>
             <dl className="grid grid-cols-2 gap-3 md:grid-cols-5" data-testid="run-summary">
-              <div className="card"><dt className="text-sm text-ink-soft">Status</dt><dd className="text-xl font-semibold">{result.status}</dd></div>
-              <div className="card"><dt className="text-sm text-ink-soft">Objective</dt><dd className="text-xl font-semibold">{result.objective.toFixed(1)}</dd></div>
-              <div className="card"><dt className="text-sm text-ink-soft">Proven bound</dt><dd className="text-xl font-semibold">{result.bound.toFixed(1)}</dd></div>
-              <div className="card"><dt className="text-sm text-ink-soft">Gap</dt><dd className="text-xl font-semibold">{result.gap == null ? "—" : `${(result.gap * 100).toFixed(1)} %`}</dd></div>
-              <div className="card"><dt className="text-sm text-ink-soft">Ready / pool</dt><dd className="text-xl font-semibold">{rows.length} / {poolSize}</dd></div>
+              <div className="card">
+                <dt className="text-sm text-ink-soft">Status</dt>
+                <dd className="text-xl font-semibold">{result.status}</dd>
+              </div>
+              <div className="card">
+                <dt className="text-sm text-ink-soft">Objective</dt>
+                <dd className="text-xl font-semibold">{result.objective.toFixed(1)}</dd>
+              </div>
+              <div className="card">
+                <dt className="text-sm text-ink-soft">Proven bound</dt>
+                <dd className="text-xl font-semibold">{result.bound.toFixed(1)}</dd>
+              </div>
+              <div className="card">
+                <dt className="text-sm text-ink-soft">Gap</dt>
+                <dd className="text-xl font-semibold">
+                  {result.gap == null ? "—" : `${(result.gap * 100).toFixed(1)} %`}
+                </dd>
+              </div>
+              <div className="card">
+                <dt className="text-sm text-ink-soft">Ready / pool</dt>
+                <dd className="text-xl font-semibold">
+                  {rows.length} / {poolSize}
+                </dd>
+              </div>
             </dl>
-            <p className="text-sm text-ink-soft">Objective = the sum of the priorities of the workers made ready inside the horizon. The bound is proven: no plan can do better than it, so the gap says how far from the best possible this plan can at most be.</p>
+            <p className="text-sm text-ink-soft">
+              Objective = the sum of the priorities of the workers made ready inside the horizon. The bound is proven:
+              no plan can do better than it, so the gap says how far from the best possible this plan can at most be.
+            </p>
             {result.message && <Notice>{result.message}</Notice>}
           </section>
 
           <section aria-labelledby="binding" className="card grid gap-2">
-            <h2 id="binding" className="text-lg font-semibold">What limits the plan</h2>
-            {result.status === "infeasible" ? <p>No plan meets the run's conditions (see the reason above). Lower the fairness share, lengthen the horizon or add capacity, then start a new run.</p>
-              : result.binding.length === 0 ? <p>No device or trainer time binds: every worker in the pool who can be made ready is ready. Extra capacity would not change this plan.</p> : (
+            <h2 id="binding" className="text-lg font-semibold">
+              What limits the plan
+            </h2>
+            {result.status === "infeasible" ? (
+              <p>
+                No plan meets the run's conditions (see the reason above). Lower the fairness share, lengthen the
+                horizon or add capacity, then start a new run.
+              </p>
+            ) : result.binding.length === 0 ? (
+              <p>
+                No device or trainer time binds: every worker in the pool who can be made ready is ready. Extra capacity
+                would not change this plan.
+              </p>
+            ) : (
               <div data-testid="binding-resources">
-                <ul className="list-disc pl-5">{result.binding.slice(0, 5).map((b) => <li key={b}>{b}</li>)}</ul>
+                <ul className="list-disc pl-5">
+                  {result.binding.slice(0, 5).map((b) => (
+                    <li key={b}>{b}</li>
+                  ))}
+                </ul>
                 {result.binding.length > 5 && (
-                  <details className="mt-1"><summary className="cursor-pointer text-sm text-spruce-700">{result.binding.length - 5} more, week by week</summary>
-                    <ul className="list-disc pl-5 text-sm">{result.binding.slice(5).map((b) => <li key={b}>{b}</li>)}</ul>
+                  <details className="mt-1">
+                    <summary className="cursor-pointer text-sm text-spruce-700">
+                      {result.binding.length - 5} more, week by week
+                    </summary>
+                    <ul className="list-disc pl-5 text-sm">
+                      {result.binding.slice(5).map((b) => (
+                        <li key={b}>{b}</li>
+                      ))}
+                    </ul>
                   </details>
                 )}
               </div>
             )}
-            <p className="text-sm text-ink-soft">Estimated from the solver's dual prices: first-order estimates, good for comparing resources, not exact promises.</p>
+            <p className="text-sm text-ink-soft">
+              Estimated from the solver's dual prices: first-order estimates, good for comparing resources, not exact
+              promises.
+            </p>
           </section>
 
           <section aria-labelledby="plan" className="grid gap-2">
-            <h2 id="plan" className="text-lg font-semibold">Per-worker plan ({rows.length})</h2>
-            {rows.length ? <PlanTable rows={rows} /> : <p className="text-ink-soft">Nobody can be made ready in this horizon.</p>}
+            <h2 id="plan" className="text-lg font-semibold">
+              Per-worker plan ({rows.length})
+            </h2>
+            {rows.length ? (
+              <PlanTable rows={rows} />
+            ) : (
+              <p className="text-ink-soft">Nobody can be made ready in this horizon.</p>
+            )}
           </section>
 
           {unassigned.length > 0 && (
             <section aria-labelledby="unassigned" className="card grid gap-2">
-              <h2 id="unassigned" className="text-lg font-semibold">Not ready in this horizon ({unassigned.length})</h2>
-              <ul className="grid gap-1 text-sm" data-testid="unassigned">{unassigned.map((u) => <li key={u.employeeNumber + u.name}><strong>{u.employeeNumber} · {u.name}</strong>: {u.reason}</li>)}</ul>
+              <h2 id="unassigned" className="text-lg font-semibold">
+                Not ready in this horizon ({unassigned.length})
+              </h2>
+              <ul className="grid gap-1 text-sm" data-testid="unassigned">
+                {unassigned.map((u) => (
+                  <li key={u.employeeNumber + u.name}>
+                    <strong>
+                      {u.employeeNumber} · {u.name}
+                    </strong>
+                    : {u.reason}
+                  </li>
+                ))}
+              </ul>
             </section>
           )}
 
           <section aria-labelledby="capacity" className="grid gap-3">
-            <h2 id="capacity" className="text-lg font-semibold">Capacity use per week</h2>
+            <h2 id="capacity" className="text-lg font-semibold">
+              Capacity use per week
+            </h2>
             <h3 className="font-semibold">Device types (device-hours)</h3>
-            <div className="grid gap-3 md:grid-cols-2 xl:grid-cols-3">{devices.map((u) => <CapacityChart key={u.id} title={u.id} unit="h" points={u.points} />)}</div>
+            <div className="grid gap-3 md:grid-cols-2 xl:grid-cols-3">
+              {devices.map((u) => (
+                <CapacityChart key={u.id} title={u.id} unit="h" points={u.points} />
+              ))}
+            </div>
             <h3 className="font-semibold">Trainers (trainer-hours)</h3>
-            <div className="grid gap-3 md:grid-cols-2 xl:grid-cols-3">{trainers.map((u) => <CapacityChart key={u.id} title={u.id} unit="h" points={u.points} />)}</div>
+            <div className="grid gap-3 md:grid-cols-2 xl:grid-cols-3">
+              {trainers.map((u) => (
+                <CapacityChart key={u.id} title={u.id} unit="h" points={u.points} />
+              ))}
+            </div>
           </section>
 
           <section aria-labelledby="publish" className="card grid gap-3">
-            <h2 id="publish" className="text-lg font-semibold">Publish</h2>
-            <p>Publishing turns this plan into dated sessions (day, time, device unit, trainer) inside the trainers' working hours and the units' bookable hours, replaces the sessions of the currently published plan{currentRunId ? ` (run #${currentRunId})` : ""}, and e-mails a calendar file to each worker and trainer whose sessions change.</p>
-            <p className="text-sm">Preview: {preview.sessions} sessions.{preview.unplaced.length ? ` ${preview.unplaced.length} blocks of hours could not be placed (listed below).` : " Every planned hour has a place."}</p>
-            {preview.slipped.length > 0 && <details className="text-sm"><summary className="cursor-pointer">{preview.slipped.length} workers finish later than planned because hours moved to a later week</summary><ul className="list-disc pl-5">{preview.slipped.map((s) => <li key={s}>{s}</li>)}</ul></details>}
-            {preview.unplaced.length > 0 && <ul className="list-disc pl-5 text-sm">{preview.unplaced.map((u, i) => <li key={i}>{u.name}: {u.hours} h — {u.reason}</li>)}</ul>}
+            <h2 id="publish" className="text-lg font-semibold">
+              Publish
+            </h2>
+            <p>
+              Publishing turns this plan into dated sessions (day, time, device unit, trainer) inside the trainers'
+              working hours and the units' bookable hours, replaces the sessions of the currently published plan
+              {currentRunId ? ` (run #${currentRunId})` : ""}, and e-mails a calendar file to each worker and trainer
+              whose sessions change.
+            </p>
+            <p className="text-sm">
+              Preview: {preview.sessions} sessions.
+              {preview.unplaced.length
+                ? ` ${preview.unplaced.length} blocks of hours could not be placed (listed below).`
+                : " Every planned hour has a place."}
+            </p>
+            {preview.slipped.length > 0 && (
+              <details className="text-sm">
+                <summary className="cursor-pointer">
+                  {preview.slipped.length} workers finish later than planned because hours moved to a later week
+                </summary>
+                <ul className="list-disc pl-5">
+                  {preview.slipped.map((s) => (
+                    <li key={s}>{s}</li>
+                  ))}
+                </ul>
+              </details>
+            )}
+            {preview.unplaced.length > 0 && (
+              <ul className="list-disc pl-5 text-sm">
+                {preview.unplaced.map((u, i) => (
+                  <li key={i}>
+                    {u.name}: {u.hours} h — {u.reason}
+                  </li>
+                ))}
+              </ul>
+            )}
             {a?.published && (
               <Notice>
-                Published as plan version {a.published.version}: {a.published.sessions} sessions. E-mailed {a.published.notified.length} people whose sessions changed
-                ({a.published.notified.filter((n) => n.kind === "worker").length} workers, {a.published.notified.filter((n) => n.kind === "trainer").length} trainers); {a.published.unchanged} unchanged, not e-mailed.
-                {a.published.mailFailures.length ? ` ${a.published.mailFailures.length} e-mails could not be sent.` : ""}
+                Published as plan version {a.published.version}: {a.published.sessions} sessions. E-mailed{" "}
+                {a.published.notified.length} people whose sessions changed (
+                {a.published.notified.filter((n) => n.kind === "worker").length} workers,{" "}
+                {a.published.notified.filter((n) => n.kind === "trainer").length} trainers); {a.published.unchanged}{" "}
+                unchanged, not e-mailed.
+                {a.published.mailFailures.length
+                  ? ` ${a.published.mailFailures.length} e-mails could not be sent.`
+                  : ""}
               </Notice>
             )}
             {a?.conflict && <FormError message={a.conflict} />}
             {a?.error && <FormError message={a.error} />}
-            {run.publishedAt && <p className="text-sm">This run was published as version {run.publishedPlanVersion} on {run.publishedAt.slice(0, 16).replace("T", " ")}{run.publishedBy ? ` by ${run.publishedBy}` : ""}.</p>}
-            {refusal ? <p className="text-sm text-ink-soft">{refusal}</p> : canPublish ? (
+            {run.publishedAt && (
+              <p className="text-sm">
+                This run was published as version {run.publishedPlanVersion} on{" "}
+                {run.publishedAt.slice(0, 16).replace("T", " ")}
+                {run.publishedBy ? ` by ${run.publishedBy}` : ""}.
+              </p>
+            )}
+            {refusal ? (
+              <p className="text-sm text-ink-soft">{refusal}</p>
+            ) : canPublish ? (
               <Form method="post">
                 <input type="hidden" name="intent" value="publish" />
                 <input type="hidden" name="expectedPlanVersion" value={planVersion} />
-                <button className="btn-primary" type="submit" disabled={nav.state === "submitting"}>{nav.state === "submitting" ? "Publishing…" : run.publishedAt ? "Publish again" : "Publish this plan"}</button>
+                <button className="btn-primary" type="submit" disabled={nav.state === "submitting"}>
+                  {nav.state === "submitting" ? "Publishing…" : run.publishedAt ? "Publish again" : "Publish this plan"}
+                </button>
               </Form>
-            ) : <p className="text-sm">Only a coordinator with publish permission can publish.</p>}
-            <p className="text-sm"><a className="text-spruce-700 underline" href="/coordinate/schedule.xlsx">Download the published schedule (XLSX)</a></p>
+            ) : (
+              <p className="text-sm">Only a coordinator with publish permission can publish.</p>
+            )}
+            <p className="text-sm">
+              <a className="text-spruce-700 underline" href="/coordinate/schedule.xlsx">
+                Download the published schedule (XLSX)
+              </a>
+            </p>
           </section>
         </>
       )}
 
       <section aria-labelledby="whatif" className="card grid gap-2">
-        <h2 id="whatif" className="text-lg font-semibold">What if…</h2>
-        <p><Link className="btn-quiet" to={`/coordinate/runs?from=${run.id}`}>Start a what-if from this run</Link></p>
+        <h2 id="whatif" className="text-lg font-semibold">
+          What if…
+        </h2>
+        <p>
+          <Link className="btn-quiet" to={`/coordinate/runs?from=${run.id}`}>
+            Start a what-if from this run
+          </Link>
+        </p>
         {others.length > 0 && (
           <Form method="get" action="/coordinate/runs/compare" className="flex flex-wrap items-end gap-2">
             <input type="hidden" name="a" value={run.id} />
             <div>
-              <label htmlFor="compare-b" className="field-label">Compare with run</label>
-              <select id="compare-b" name="b" className="field-input">{others.map((o) => <option key={o.id} value={o.id}>#{o.id} · {o.label}</option>)}</select>
+              <label htmlFor="compare-b" className="field-label">
+                Compare with run
+              </label>
+              <select id="compare-b" name="b" className="field-input">
+                {others.map((o) => (
+                  <option key={o.id} value={o.id}>
+                    #{o.id} · {o.label}
+                  </option>
+                ))}
+              </select>
             </div>
-            <button className="btn-quiet" type="submit">Compare side by side</button>
+            <button className="btn-quiet" type="submit">
+              Compare side by side
+            </button>
           </Form>
         )}
       </section>
 
       {(excluded.length > 0 || notes.length > 0) && (
         <section aria-labelledby="how" className="card grid gap-2 text-sm">
-          <h2 id="how" className="text-lg font-semibold">How the numbers were made</h2>
-          <ul className="list-disc pl-5">{notes.map((n) => <li key={n}>{n}</li>)}</ul>
+          <h2 id="how" className="text-lg font-semibold">
+            How the numbers were made
+          </h2>
+          <ul className="list-disc pl-5">
+            {notes.map((n) => (
+              <li key={n}>{n}</li>
+            ))}
+          </ul>
           {excluded.length > 0 && (
-            <details><summary className="cursor-pointer">{excluded.length} workers in the chosen sites left out of the pool, with the reason</summary>
-              <ul className="mt-1 list-disc pl-5">{excluded.map((e) => <li key={e.workerId}>{e.name}: {e.reason}</li>)}</ul>
+            <details>
+              <summary className="cursor-pointer">
+                {excluded.length} workers in the chosen sites left out of the pool, with the reason
+              </summary>
+              <ul className="mt-1 list-disc pl-5">
+                {excluded.map((e) => (
+                  <li key={e.workerId}>
+                    {e.name}: {e.reason}
+                  </li>
+                ))}
+              </ul>
             </details>
           )}
         </section>

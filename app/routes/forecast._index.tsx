@@ -1,12 +1,12 @@
 import type { ColumnDef } from "@tanstack/react-table";
 import { Form, Link } from "react-router";
-import type { Route } from "./+types/forecast._index";
 import { requireUser } from "~/auth/guard.server";
 import { ServerTable } from "~/components/server-table";
 import { recordAccess } from "~/models/access-log.server";
-import { listForecastTable, planningQuantile, type ForecastListRow } from "~/models/forecast.server";
+import { type ForecastListRow, listForecastTable, planningQuantile } from "~/models/forecast.server";
 import { listDeviceTypes } from "~/models/proficiency.server";
 import { readTableQuery } from "~/schemas/table-query";
+import type { Route } from "./+types/forecast._index";
 
 export const meta: Route.MetaFunction = () => [{ title: "Forecasts · Limberly" }];
 
@@ -16,7 +16,9 @@ export async function loader({ request }: Route.LoaderArgs) {
   const q = readTableQuery(new URL(request.url), ["device", "flagged"]);
   const deviceTypeId = Number(q.filters.device) || undefined;
   const [page, devices, quantile] = await Promise.all([
-    listForecastTable(p.scope, q, { deviceTypeId, flagged: q.filters.flagged === "1" }), listDeviceTypes(), planningQuantile(),
+    listForecastTable(p.scope, q, { deviceTypeId, flagged: q.filters.flagged === "1" }),
+    listDeviceTypes(),
+    planningQuantile(),
   ]);
   await recordAccess(p, request, [...new Set(page.rows.map((r) => r.workerId))], "forecast");
   return { page, devices, quantile, q: q.q ?? "", device: deviceTypeId ?? null, flagged: q.filters.flagged === "1" };
@@ -24,19 +26,54 @@ export async function loader({ request }: Route.LoaderArgs) {
 
 const h = (v: number) => `${v.toFixed(1)} h`;
 const columns: ColumnDef<ForecastListRow, unknown>[] = [
-  { id: "worker", header: "Worker", cell: ({ row }) => <Link className="font-medium text-spruce-700 underline" to={`/forecast/${row.original.workerId}`}>{row.original.employeeNumber} · {row.original.name}</Link> },
+  {
+    id: "worker",
+    header: "Worker",
+    cell: ({ row }) => (
+      <Link className="font-medium text-spruce-700 underline" to={`/forecast/${row.original.workerId}`}>
+        {row.original.employeeNumber} · {row.original.name}
+      </Link>
+    ),
+  },
   { id: "device", header: "Device type", cell: ({ row }) => row.original.deviceType },
   { id: "median", header: "Median", cell: ({ row }) => h(row.original.medianHours) },
-  { id: "interval", header: "80 % interval", cell: ({ row }) => `${row.original.lowerHours.toFixed(1)}–${row.original.upperHours.toFixed(1)} h` },
+  {
+    id: "interval",
+    header: "80 % interval",
+    cell: ({ row }) => `${row.original.lowerHours.toFixed(1)}–${row.original.upperHours.toFixed(1)} h`,
+  },
   { id: "planning", header: "Planning figure", cell: ({ row }) => <strong>{h(row.original.planningHours)}</strong> },
-  { id: "remaining", header: "Progress", cell: ({ row }) => {
-    const r = row.original;
-    if (r.progressStatus === "proficient") return "Proficient";
-    if (r.progressStatus === "review") return <Link className="text-alert underline" to={`/progress/${r.workerId}/${r.deviceTypeId}`}>Review: plateau</Link>;
-    if (r.remainingHours != null) return <Link className="text-spruce-700 underline" to={`/progress/${r.workerId}/${r.deviceTypeId}`}>{h(r.remainingHours)} to go</Link>;
-    return "—";
-  } },
-  { id: "flag", header: "Flags", cell: ({ row }) => (row.original.flagged ? <span className="rounded bg-alert-wash px-2 py-0.5 text-xs font-semibold text-alert">review</span> : "") },
+  {
+    id: "remaining",
+    header: "Progress",
+    cell: ({ row }) => {
+      const r = row.original;
+      if (r.progressStatus === "proficient") return "Proficient";
+      if (r.progressStatus === "review")
+        return (
+          <Link className="text-alert underline" to={`/progress/${r.workerId}/${r.deviceTypeId}`}>
+            Review: plateau
+          </Link>
+        );
+      if (r.remainingHours != null)
+        return (
+          <Link className="text-spruce-700 underline" to={`/progress/${r.workerId}/${r.deviceTypeId}`}>
+            {h(r.remainingHours)} to go
+          </Link>
+        );
+      return "—";
+    },
+  },
+  {
+    id: "flag",
+    header: "Flags",
+    cell: ({ row }) =>
+      row.original.flagged ? (
+        <span className="rounded bg-alert-wash px-2 py-0.5 text-xs font-semibold text-alert">review</span>
+      ) : (
+        ""
+      ),
+  },
 ];
 
 export default function ForecastIndex({ loaderData }: Route.ComponentProps) {
@@ -45,23 +82,47 @@ export default function ForecastIndex({ loaderData }: Route.ComponentProps) {
     <div className="grid gap-4">
       <div>
         <h1 className="page-title">Forecasts</h1>
-        <p className="text-ink-soft">Hours to proficiency for workers who consented to planning, from each device type's approved model. The planning figure is the {Math.round(quantile * 100)}th percentile. Forecasts are decision support: a person makes every plan.</p>
+        <p className="text-ink-soft">
+          Hours to proficiency for workers who consented to planning, from each device type's approved model. The
+          planning figure is the {Math.round(quantile * 100)}th percentile. Forecasts are decision support: a person
+          makes every plan.
+        </p>
       </div>
       <Form method="get" className="flex flex-wrap items-end gap-3">
         <div>
-          <label htmlFor="device" className="field-label">Device type</label>
+          <label htmlFor="device" className="field-label">
+            Device type
+          </label>
           <select id="device" name="device" defaultValue={device ?? ""} className="field-input">
             <option value="">All device types</option>
-            {devices.map((d) => <option key={d.id} value={d.id}>{d.name}</option>)}
+            {devices.map((d) => (
+              <option key={d.id} value={d.id}>
+                {d.name}
+              </option>
+            ))}
           </select>
         </div>
-        <label className="flex min-h-11 items-center gap-2"><input type="checkbox" name="flagged" value="1" defaultChecked={flagged} className="h-5 w-5" /> Only flagged for review</label>
+        <label className="flex min-h-11 items-center gap-2">
+          <input type="checkbox" name="flagged" value="1" defaultChecked={flagged} className="h-5 w-5" /> Only flagged
+          for review
+        </label>
         <input type="hidden" name="q" value={q} />
         <button className="btn-quiet">Apply</button>
       </Form>
-      <ServerTable caption="Worker forecasts" columns={columns} rows={page.rows} total={page.total} page={page.page} size={page.size}
-        sort={page.sort} dir={page.dir} sortable={["worker", "device", "median", "planning", "remaining"]} searchLabel="Find a worker (number or name)" q={q}
-        emptyText="No forecasts yet: a device type needs an approved model, and workers need planning consent and a baseline." />
+      <ServerTable
+        caption="Worker forecasts"
+        columns={columns}
+        rows={page.rows}
+        total={page.total}
+        page={page.page}
+        size={page.size}
+        sort={page.sort}
+        dir={page.dir}
+        sortable={["worker", "device", "median", "planning", "remaining"]}
+        searchLabel="Find a worker (number or name)"
+        q={q}
+        emptyText="No forecasts yet: a device type needs an approved model, and workers need planning consent and a baseline."
+      />
     </div>
   );
 }

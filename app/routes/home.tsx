@@ -1,7 +1,7 @@
 import { redirect } from "react-router";
-import type { Route } from "./+types/home";
 import { currentUser } from "~/auth/guard.server";
 import { homeFor } from "~/auth/homes";
+import type { Route } from "./+types/home";
 
 // "/" sends each person to their role's home, or to sign-in.
 export async function loader({ request }: Route.LoaderArgs) {

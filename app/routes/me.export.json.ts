@@ -1,7 +1,7 @@
 import { data } from "react-router";
+import { everythingAbout } from "~/models/worker-export.server";
 import type { Route } from "./+types/me.export.json";
 import { requireOwnWorker } from "./me.guard.server";
-import { everythingAbout } from "~/models/worker-export.server";
 
 // Everything held about the signed-in worker, as JSON. The worker id comes from the session only.
 export async function loader({ request }: Route.LoaderArgs) {

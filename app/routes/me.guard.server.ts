@@ -6,6 +6,10 @@ import type { Action } from "~/auth/permissions";
 // session (AppUser.workerId), never from the URL or the form.
 export async function requireOwnWorker(request: Request, action: Extract<Action, `self.${string}`>) {
   const p = await requireUser(request, action);
-  if (!p.user.workerId) throw data({ error: "Your account is not linked to a worker record. Ask your occupational health team." }, { status: 404 });
+  if (!p.user.workerId)
+    throw data(
+      { error: "Your account is not linked to a worker record. Ask your occupational health team." },
+      { status: 404 },
+    );
   return { p, workerId: p.user.workerId };
 }

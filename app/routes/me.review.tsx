@@ -1,11 +1,11 @@
 import { data, Form, useActionData, useNavigation } from "react-router";
-import type { Route } from "./+types/me.review";
-import { requireOwnWorker } from "./me.guard.server";
 import { FormError, Notice, SelectField, TextArea } from "~/components/fields";
-import { myReviewRequests, createReviewRequest, ReviewError } from "~/models/reviews.server";
+import { createReviewRequest, myReviewRequests, ReviewError } from "~/models/reviews.server";
 import { myForecasts } from "~/models/self-service.server";
 import { formToObject, parseWith } from "~/schemas/form";
 import { formatDay, REVIEW_SUBJECT_LABELS, REVIEW_SUBJECTS, reviewRequestSchema } from "~/schemas/portal";
+import type { Route } from "./+types/me.review";
+import { requireOwnWorker } from "./me.guard.server";
 
 export const meta: Route.MetaFunction = () => [{ title: "Ask for a review · Limberly" }];
 
@@ -21,9 +21,13 @@ export async function action({ request }: Route.ActionArgs) {
   if (!parsed.ok) return data({ errors: parsed.errors, done: null }, { status: 400 });
   try {
     await createReviewRequest(workerId, p.user.id, parsed.data);
-    return { errors: null, done: "Your request is with the assessors. You will get an e-mail when a person has answered." };
+    return {
+      errors: null,
+      done: "Your request is with the assessors. You will get an e-mail when a person has answered.",
+    };
   } catch (e) {
-    if (e instanceof ReviewError) return data({ errors: { [e.field ?? "_form"]: e.message }, done: null }, { status: 409 });
+    if (e instanceof ReviewError)
+      return data({ errors: { [e.field ?? "_form"]: e.message }, done: null }, { status: 409 });
     throw e;
   }
 }
@@ -37,36 +41,76 @@ export default function MyReview({ loaderData }: Route.ComponentProps) {
     <div className="grid gap-6">
       <div>
         <h1 className="page-title">Ask for a review</h1>
-        <p className="text-ink-soft">Forecasts and plans are worked out by the software to help people plan. You can always ask a person — an assessor — to look at yours again.</p>
+        <p className="text-ink-soft">
+          Forecasts and plans are worked out by the software to help people plan. You can always ask a person — an
+          assessor — to look at yours again.
+        </p>
       </div>
       {result?.done && <Notice>{result.done}</Notice>}
       <section className="card" aria-labelledby="ask-h">
-        <h2 id="ask-h" className="text-lg font-semibold">New request</h2>
+        <h2 id="ask-h" className="text-lg font-semibold">
+          New request
+        </h2>
         <Form method="post" className="mt-3 grid gap-4" noValidate key={result?.done ?? "form"}>
           <FormError message={errors._form} />
-          <SelectField name="subject" label="What should be reviewed?" required error={errors.subject}
-            options={REVIEW_SUBJECTS.map((s) => ({ value: s, label: REVIEW_SUBJECT_LABELS[s] }))} />
-          <SelectField name="deviceTypeId" label="Which device (optional)" error={errors.deviceTypeId}
-            options={[{ value: "", label: "Not about one device" }, ...devices.map((d) => ({ value: String(d.id), label: d.name }))]} />
-          <TextArea name="message" label="What would you like a person to look at?" required rows={4} error={errors.message}
-            hint="For example: the hours look too high for me, or the session times clash with my shifts." />
-          <div><button className="btn-primary min-h-11" disabled={busy}>{busy ? "Sending…" : "Send request"}</button></div>
+          <SelectField
+            name="subject"
+            label="What should be reviewed?"
+            required
+            error={errors.subject}
+            options={REVIEW_SUBJECTS.map((s) => ({ value: s, label: REVIEW_SUBJECT_LABELS[s] }))}
+          />
+          <SelectField
+            name="deviceTypeId"
+            label="Which device (optional)"
+            error={errors.deviceTypeId}
+            options={[
+              { value: "", label: "Not about one device" },
+              ...devices.map((d) => ({ value: String(d.id), label: d.name })),
+            ]}
+          />
+          <TextArea
+            name="message"
+            label="What would you like a person to look at?"
+            required
+            rows={4}
+            error={errors.message}
+            hint="For example: the hours look too high for me, or the session times clash with my shifts."
+          />
+          <div>
+            <button className="btn-primary min-h-11" disabled={busy}>
+              {busy ? "Sending…" : "Send request"}
+            </button>
+          </div>
         </Form>
       </section>
       <section className="card" aria-labelledby="mine-h">
-        <h2 id="mine-h" className="text-lg font-semibold">My requests</h2>
-        {requests.length === 0 ? <p className="mt-2 text-ink-soft">You have not asked for a review yet.</p> : (
+        <h2 id="mine-h" className="text-lg font-semibold">
+          My requests
+        </h2>
+        {requests.length === 0 ? (
+          <p className="mt-2 text-ink-soft">You have not asked for a review yet.</p>
+        ) : (
           <ul className="mt-2 grid gap-3" data-testid="my-reviews">
             {requests.map((r) => (
               <li key={r.id} className="rounded-md border border-line p-3">
-                <p className="font-medium">{REVIEW_SUBJECT_LABELS[r.subject]}{r.deviceType ? ` · ${r.deviceType}` : ""} <span className="text-sm text-ink-soft">· asked {formatDay(r.createdAt)}</span></p>
+                <p className="font-medium">
+                  {REVIEW_SUBJECT_LABELS[r.subject]}
+                  {r.deviceType ? ` · ${r.deviceType}` : ""}{" "}
+                  <span className="text-sm text-ink-soft">· asked {formatDay(r.createdAt)}</span>
+                </p>
                 <p className="mt-1 whitespace-pre-line">{r.message}</p>
                 {r.status === "answered" ? (
                   <div className="mt-2 rounded-md bg-spruce-50 p-2">
-                    <p className="text-sm font-semibold">Answer from {r.answeredBy ?? "an assessor"}{r.answeredAt ? `, ${formatDay(r.answeredAt)}` : ""}</p>
+                    <p className="text-sm font-semibold">
+                      Answer from {r.answeredBy ?? "an assessor"}
+                      {r.answeredAt ? `, ${formatDay(r.answeredAt)}` : ""}
+                    </p>
                     <p className="whitespace-pre-line">{r.answer}</p>
                   </div>
-                ) : <p className="mt-2 text-sm text-amber-caution">Waiting for an answer</p>}
+                ) : (
+                  <p className="mt-2 text-sm text-amber-caution">Waiting for an answer</p>
+                )}
               </li>
             ))}
           </ul>

@@ -1,18 +1,29 @@
-import { Form, data, useActionData, useNavigation } from "react-router";
-import { Link } from "react-router";
-import type { Route } from "./+types/progress.$workerId.$deviceTypeId";
-import { requireUser, type Principal } from "~/auth/guard.server";
+import { data, Form, Link, useActionData, useNavigation } from "react-router";
+import { type Principal, requireUser } from "~/auth/guard.server";
 import { roleAllows } from "~/auth/permissions";
 import { DeviceCautions } from "~/components/device-cautions";
 import { FormError, Notice, TextArea, TextField } from "~/components/fields";
 import { ProgressChart } from "~/components/progress-chart";
 import { recordAccess } from "~/models/access-log.server";
 import { resolveFlags } from "~/models/forecast.server";
-import { logSessionResult, progressView, SessionLogError, trainerHasTrainee, trainerIdFor } from "~/models/progress.server";
+import {
+  logSessionResult,
+  progressView,
+  SessionLogError,
+  trainerHasTrainee,
+  trainerIdFor,
+} from "~/models/progress.server";
 import { logSessionFormSchema } from "~/schemas/forecast";
 import { formToObject, parseWith } from "~/schemas/form";
+import type { Route } from "./+types/progress.$workerId.$deviceTypeId";
 
-export const meta: Route.MetaFunction = ({ data: d }) => [{ title: d ? `Progress · ${d.view.worker.employeeNumber} · ${d.view.deviceType.name} · Limberly` : "Progress · Limberly" }];
+export const meta: Route.MetaFunction = ({ data: d }) => [
+  {
+    title: d
+      ? `Progress · ${d.view.worker.employeeNumber} · ${d.view.deviceType.name} · Limberly`
+      : "Progress · Limberly",
+  },
+];
 
 function onlyTrainer(p: Principal) {
   return p.roles.includes("trainer") && !p.roles.includes("assessor") && !p.roles.includes("coordinator");
@@ -22,14 +33,16 @@ function onlyTrainer(p: Principal) {
 async function assertTrainerReach(p: Principal & { kind: "user" }, workerId: number, deviceTypeId: number) {
   if (!onlyTrainer(p)) return null;
   const trainerId = await trainerIdFor(p.user.id);
-  if (!trainerId || !(await trainerHasTrainee(trainerId, workerId, deviceTypeId))) throw data({ error: "This worker is not on your schedule for this device." }, { status: 404 });
+  if (!trainerId || !(await trainerHasTrainee(trainerId, workerId, deviceTypeId)))
+    throw data({ error: "This worker is not on your schedule for this device." }, { status: 404 });
   return trainerId;
 }
 
 function ids(params: { workerId?: string; deviceTypeId?: string }) {
   const workerId = Number(params.workerId);
   const deviceTypeId = Number(params.deviceTypeId);
-  if (!Number.isInteger(workerId) || !Number.isInteger(deviceTypeId)) throw data({ error: "Not found." }, { status: 404 });
+  if (!Number.isInteger(workerId) || !Number.isInteger(deviceTypeId))
+    throw data({ error: "Not found." }, { status: 404 });
   return { workerId, deviceTypeId };
 }
 
@@ -55,15 +68,31 @@ export async function action({ request, params }: Route.ActionArgs) {
   }
   const p = await requireUser(request, "sessions.log");
   const trainerId = await assertTrainerReach(p, workerId, deviceTypeId);
-  if (!onlyTrainer(p) && !(await progressView(p, workerId, deviceTypeId))) throw data({ error: "No such worker in your scope." }, { status: 404 });
+  if (!onlyTrainer(p) && !(await progressView(p, workerId, deviceTypeId)))
+    throw data({ error: "No such worker in your scope." }, { status: 404 });
   const parsed = parseWith(logSessionFormSchema, form);
   if (!parsed.ok) return data({ errors: parsed.errors, done: null }, { status: 400 });
   try {
-    const r = await logSessionResult({ workerId, deviceTypeId, ...parsed.data, loggedBy: p.user.id, trainerId: trainerId ?? (await trainerIdFor(p.user.id)) });
-    const f = r.forecast.status === "ready" && r.forecast.progress?.remainingHours != null ? ` About ${r.forecast.progress.remainingHours.toFixed(1)} h to go.` : "";
-    return { errors: null, done: r.proficient ? `Session logged. The criterion is met: proficient on ${r.proficientOn} after ${r.cumulativeHours.toFixed(1)} h.` : `Session logged: ${r.cumulativeHours.toFixed(1)} h so far.${f}` };
+    const r = await logSessionResult({
+      workerId,
+      deviceTypeId,
+      ...parsed.data,
+      loggedBy: p.user.id,
+      trainerId: trainerId ?? (await trainerIdFor(p.user.id)),
+    });
+    const f =
+      r.forecast.status === "ready" && r.forecast.progress?.remainingHours != null
+        ? ` About ${r.forecast.progress.remainingHours.toFixed(1)} h to go.`
+        : "";
+    return {
+      errors: null,
+      done: r.proficient
+        ? `Session logged. The criterion is met: proficient on ${r.proficientOn} after ${r.cumulativeHours.toFixed(1)} h.`
+        : `Session logged: ${r.cumulativeHours.toFixed(1)} h so far.${f}`,
+    };
   } catch (e) {
-    if (e instanceof SessionLogError) return data({ errors: { [e.field ?? "_form"]: e.message }, done: null }, { status: 409 });
+    if (e instanceof SessionLogError)
+      return data({ errors: { [e.field ?? "_form"]: e.message }, done: null }, { status: 409 });
     throw e;
   }
 }
@@ -81,62 +110,171 @@ export default function ProgressPage({ loaderData }: Route.ComponentProps) {
   return (
     <div className="grid gap-6">
       <div>
-        <p className="text-sm"><Link to="/progress" className="text-spruce-700 underline">Training progress</Link></p>
-        <h1 className="page-title">{v.worker.name} <span className="text-ink-soft">· {v.deviceType.name}</span></h1>
-        <p className="text-ink-soft">{v.worker.employeeNumber} · {v.course ? `${v.course.status}, ${v.course.cumulativeHours.toFixed(1)} h logged${v.course.startedOn ? ` since ${v.course.startedOn}` : ""}` : "no sessions yet"}
-          {v.criterion && ` · criterion: ${v.criterion.consecutiveSessions} consecutive sessions at ≥ ${v.criterion.scoreThreshold}`}</p>
+        <p className="text-sm">
+          <Link to="/progress" className="text-spruce-700 underline">
+            Training progress
+          </Link>
+        </p>
+        <h1 className="page-title">
+          {v.worker.name} <span className="text-ink-soft">· {v.deviceType.name}</span>
+        </h1>
+        <p className="text-ink-soft">
+          {v.worker.employeeNumber} ·{" "}
+          {v.course
+            ? `${v.course.status}, ${v.course.cumulativeHours.toFixed(1)} h logged${v.course.startedOn ? ` since ${v.course.startedOn}` : ""}`
+            : "no sessions yet"}
+          {v.criterion &&
+            ` · criterion: ${v.criterion.consecutiveSessions} consecutive sessions at ≥ ${v.criterion.scoreThreshold}`}
+        </p>
       </div>
       {result?.done && <Notice>{result.done}</Notice>}
       {v.reviewFlags.length > 0 && (
         <div role="alert" className="rounded-md bg-alert-wash p-3 text-alert" data-testid="review-flag">
           <p className="font-semibold">Flagged for review</p>
-          <ul className="list-disc pl-5">{v.reviewFlags.map((r) => <li key={r.kind}>{r.reason}</li>)}</ul>
-          <p className="mt-1 text-sm">No remaining-hours figure is extrapolated past a plateau. Review technique, fit and settings with the trainer.</p>
-          {canResolve && <Form method="post" className="mt-2"><button className="btn-quiet" name="intent" value="resolve">Mark as reviewed</button></Form>}
+          <ul className="list-disc pl-5">
+            {v.reviewFlags.map((r) => (
+              <li key={r.kind}>{r.reason}</li>
+            ))}
+          </ul>
+          <p className="mt-1 text-sm">
+            No remaining-hours figure is extrapolated past a plateau. Review technique, fit and settings with the
+            trainer.
+          </p>
+          {canResolve && (
+            <Form method="post" className="mt-2">
+              <button className="btn-quiet" name="intent" value="resolve">
+                Mark as reviewed
+              </button>
+            </Form>
+          )}
         </div>
       )}
       <section className="card grid gap-3 sm:grid-cols-3" aria-label="Remaining hours" data-testid="remaining">
         {proficient ? (
-          <p className="sm:col-span-3"><strong>Proficient</strong> on {v.course!.proficientOn} after {h(v.course!.hoursToProficiency)}{f ? ` (baseline forecast: median ${h(f.medianHours)}, 80 % ${f.lowerHours.toFixed(1)}–${f.upperHours.toFixed(1)} h)` : ""}.</p>
+          <p className="sm:col-span-3">
+            <strong>Proficient</strong> on {v.course!.proficientOn} after {h(v.course!.hoursToProficiency)}
+            {f
+              ? ` (baseline forecast: median ${h(f.medianHours)}, 80 % ${f.lowerHours.toFixed(1)}–${f.upperHours.toFixed(1)} h)`
+              : ""}
+            .
+          </p>
         ) : f ? (
           <>
-            <div><p className="text-sm text-ink-soft">Remaining (median)</p><p className="text-2xl font-semibold" data-testid="remaining-median">{f.status === "review" ? "under review" : h(f.remainingHours ?? f.medianHours)}</p></div>
-            <div><p className="text-sm text-ink-soft">80 % interval</p><p className="text-2xl font-semibold">{f.remainingLower != null ? `${f.remainingLower.toFixed(1)}–${f.remainingUpper!.toFixed(1)} h` : f.status ? "—" : `${f.lowerHours.toFixed(1)}–${f.upperHours.toFixed(1)} h`}</p></div>
-            <div><p className="text-sm text-ink-soft">Planning figure ({Math.round(f.planningQuantile * 100)}th pct.)</p><p className="text-2xl font-semibold">{h(f.remainingPlanningHours ?? (f.status ? null : f.planningHours))}</p></div>
+            <div>
+              <p className="text-sm text-ink-soft">Remaining (median)</p>
+              <p className="text-2xl font-semibold" data-testid="remaining-median">
+                {f.status === "review" ? "under review" : h(f.remainingHours ?? f.medianHours)}
+              </p>
+            </div>
+            <div>
+              <p className="text-sm text-ink-soft">80 % interval</p>
+              <p className="text-2xl font-semibold">
+                {f.remainingLower != null
+                  ? `${f.remainingLower.toFixed(1)}–${f.remainingUpper!.toFixed(1)} h`
+                  : f.status
+                    ? "—"
+                    : `${f.lowerHours.toFixed(1)}–${f.upperHours.toFixed(1)} h`}
+              </p>
+            </div>
+            <div>
+              <p className="text-sm text-ink-soft">Planning figure ({Math.round(f.planningQuantile * 100)}th pct.)</p>
+              <p className="text-2xl font-semibold">
+                {h(f.remainingPlanningHours ?? (f.status ? null : f.planningHours))}
+              </p>
+            </div>
             <p className="text-sm text-ink-soft sm:col-span-3">
-              {f.status === "combined" && `The progress curve carries ${Math.round((f.curveWeight ?? 0) * 100)} % of the weight and the baseline forecast (model v${f.modelVersion}, median ${h(f.medianHours)} in total) the rest, by their uncertainties.`}
-              {f.status === "prior-only" && `From the baseline forecast alone (model v${f.modelVersion}), given the hours already done: ${f.reason ?? "the curve is not yet informative"}.`}
+              {f.status === "combined" &&
+                `The progress curve carries ${Math.round((f.curveWeight ?? 0) * 100)} % of the weight and the baseline forecast (model v${f.modelVersion}, median ${h(f.medianHours)} in total) the rest, by their uncertainties.`}
+              {f.status === "prior-only" &&
+                `From the baseline forecast alone (model v${f.modelVersion}), given the hours already done: ${f.reason ?? "the curve is not yet informative"}.`}
               {!f.status && `Baseline forecast (model v${f.modelVersion}); no sessions logged yet.`}
             </p>
           </>
-        ) : <p className="sm:col-span-3 text-sm">No forecast for this worker on this device (no approved model, missing baseline, or no planning consent).</p>}
+        ) : (
+          <p className="sm:col-span-3 text-sm">
+            No forecast for this worker on this device (no approved model, missing baseline, or no planning consent).
+          </p>
+        )}
       </section>
       <section className="card" aria-labelledby="chart-h">
-        <h2 id="chart-h" className="text-lg font-semibold">Progress curve</h2>
-        <ProgressChart sessions={v.sessions} curve={v.curvePoints} threshold={v.criterion?.scoreThreshold ?? null} crossing={proficient ? null : f?.crossing ?? null} />
+        <h2 id="chart-h" className="text-lg font-semibold">
+          Progress curve
+        </h2>
+        <ProgressChart
+          sessions={v.sessions}
+          curve={v.curvePoints}
+          threshold={v.criterion?.scoreThreshold ?? null}
+          crossing={proficient ? null : (f?.crossing ?? null)}
+        />
       </section>
       {canLog && !proficient && (
         <section className="card" aria-labelledby="log-h">
-          <h2 id="log-h" className="text-lg font-semibold">Log a session</h2>
-          <p className="text-sm text-ink-soft">Cumulative hours, the course, proficiency and the forecast are updated together.</p>
+          <h2 id="log-h" className="text-lg font-semibold">
+            Log a session
+          </h2>
+          <p className="text-sm text-ink-soft">
+            Cumulative hours, the course, proficiency and the forecast are updated together.
+          </p>
           <Form method="post" className="mt-3 grid gap-4 sm:grid-cols-2" noValidate key={result?.done ?? "form"}>
-            <div className="sm:col-span-2"><FormError message={errors._form} /></div>
-            <TextField name="durationHours" label="Practice time (hours)" required error={errors.durationHours} hint={`Wear-time limit for this device: ${v.deviceType.wearTimeLimitMinutes} minutes per session.`} />
-            <TextField name="taskScore" label="Task score (0–1)" required error={errors.taskScore} hint="Score on the device's standard task." />
-            <div className="sm:col-span-2"><TextArea name="notes" label="Notes" rows={2} error={errors.notes} /></div>
-            <div className="sm:col-span-2"><button className="btn-primary" name="intent" value="log" disabled={busy}>{busy ? "Saving…" : "Log session"}</button></div>
+            <div className="sm:col-span-2">
+              <FormError message={errors._form} />
+            </div>
+            <TextField
+              name="durationHours"
+              label="Practice time (hours)"
+              required
+              error={errors.durationHours}
+              hint={`Wear-time limit for this device: ${v.deviceType.wearTimeLimitMinutes} minutes per session.`}
+            />
+            <TextField
+              name="taskScore"
+              label="Task score (0–1)"
+              required
+              error={errors.taskScore}
+              hint="Score on the device's standard task."
+            />
+            <div className="sm:col-span-2">
+              <TextArea name="notes" label="Notes" rows={2} error={errors.notes} />
+            </div>
+            <div className="sm:col-span-2">
+              <button className="btn-primary" name="intent" value="log" disabled={busy}>
+                {busy ? "Saving…" : "Log session"}
+              </button>
+            </div>
           </Form>
         </section>
       )}
       <section className="card overflow-x-auto p-0" aria-labelledby="sessions-h">
-        <h2 id="sessions-h" className="px-4 pt-4 text-lg font-semibold">Sessions</h2>
+        <h2 id="sessions-h" className="px-4 pt-4 text-lg font-semibold">
+          Sessions
+        </h2>
         <table className="table-base mt-2" data-testid="sessions">
           <caption className="sr-only">Logged sessions</caption>
-          <thead><tr><th scope="col">#</th><th scope="col">Date</th><th scope="col">Hours</th><th scope="col">Cumulative</th><th scope="col">Task score</th>{v.showNotes && <th scope="col">Notes</th>}</tr></thead>
+          <thead>
+            <tr>
+              <th scope="col">#</th>
+              <th scope="col">Date</th>
+              <th scope="col">Hours</th>
+              <th scope="col">Cumulative</th>
+              <th scope="col">Task score</th>
+              {v.showNotes && <th scope="col">Notes</th>}
+            </tr>
+          </thead>
           <tbody>
-            {v.sessions.length === 0 && <tr><td colSpan={6}>No sessions logged yet.</td></tr>}
+            {v.sessions.length === 0 && (
+              <tr>
+                <td colSpan={6}>No sessions logged yet.</td>
+              </tr>
+            )}
             {v.sessions.map((s, i) => (
-              <tr key={s.id}><td>{i + 1}</td><td>{s.at.slice(0, 10)}</td><td>{s.durationHours.toFixed(2)}</td><td>{s.cumulativeHours.toFixed(2)}</td><td>{s.score.toFixed(3)}</td>{v.showNotes && <td>{s.notes ?? ""}</td>}</tr>
+              <tr key={s.id}>
+                <td>{i + 1}</td>
+                <td>{s.at.slice(0, 10)}</td>
+                <td>{s.durationHours.toFixed(2)}</td>
+                <td>{s.cumulativeHours.toFixed(2)}</td>
+                <td>{s.score.toFixed(3)}</td>
+                {v.showNotes && <td>{s.notes ?? ""}</td>}
+              </tr>
             ))}
           </tbody>
         </table>

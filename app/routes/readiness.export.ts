@@ -1,9 +1,9 @@
-import type { Route } from "./+types/readiness.export";
 import { requireUser } from "~/auth/guard.server";
 import type { ProtectedTable } from "~/compute/disclosure";
 import { HIDDEN_SYMBOL } from "~/compute/readiness-views";
-import { readinessBoard, type MedianTable, type ReadinessBoard } from "~/models/readiness.server";
-import { workbookBuffer, xlsxResponse, type SheetSpec } from "~/xlsx.server";
+import { type MedianTable, type ReadinessBoard, readinessBoard } from "~/models/readiness.server";
+import { type SheetSpec, workbookBuffer, xlsxResponse } from "~/xlsx.server";
+import type { Route } from "./+types/readiness.export";
 
 // XLSX download of exactly the protected tables the manager's pages show; hidden numbers are the
 // hidden symbol, never a value.
@@ -11,15 +11,23 @@ const HIDDEN_TEXT = `${HIDDEN_SYMBOL} hidden`;
 
 function sheet(name: string, rowHeader: string, t: ProtectedTable | MedianTable, note: string): SheetSpec {
   const protectedTable = "rowTotals" in t ? t : null;
-  const columns = [{ header: rowHeader, key: "group", width: 34 }, ...t.columns.map((c, j) => ({ header: c, key: `c${j}`, width: 16 }))];
+  const columns = [
+    { header: rowHeader, key: "group", width: 34 },
+    ...t.columns.map((c, j) => ({ header: c, key: `c${j}`, width: 16 })),
+  ];
   if (protectedTable) columns.push({ header: "Total", key: "total", width: 12 });
   const val = (v: number | null) => (v === null ? HIDDEN_TEXT : v);
   const rows: Record<string, unknown>[] = t.rows.map((r, i) => ({
-    group: r, ...Object.fromEntries(t.columns.map((_, j) => [`c${j}`, val(t.cells[i][j])])),
+    group: r,
+    ...Object.fromEntries(t.columns.map((_, j) => [`c${j}`, val(t.cells[i][j])])),
     ...(protectedTable ? { total: val(protectedTable.rowTotals[i]) } : {}),
   }));
   if (protectedTable) {
-    rows.push({ group: "Total", ...Object.fromEntries(t.columns.map((_, j) => [`c${j}`, val(protectedTable.columnTotals[j])])), total: val(protectedTable.grandTotal) });
+    rows.push({
+      group: "Total",
+      ...Object.fromEntries(t.columns.map((_, j) => [`c${j}`, val(protectedTable.columnTotals[j])])),
+      total: val(protectedTable.grandTotal),
+    });
   }
   return { name, columns, rows, note };
 }
@@ -30,14 +38,38 @@ function boardSheets(board: ReadinessBoard): SheetSpec[] {
   const sheets: SheetSpec[] = [];
   for (const level of ["department", "site"] as const) {
     const label = level === "department" ? "Department" : "Site";
-    if (board.stage.status === "ok" && board.stage[level]) sheets.push(sheet(`By stage (${level})`, label, board.stage[level]!, note));
-    if (board.ready.status === "ok" && board.ready[level]) sheets.push(sheet(`Ready per device (${level})`, label, board.ready[level]!, `${note} Totals count person-device pairs.`));
+    if (board.stage.status === "ok" && board.stage[level])
+      sheets.push(sheet(`By stage (${level})`, label, board.stage[level]!, note));
+    if (board.ready.status === "ok" && board.ready[level])
+      sheets.push(
+        sheet(`Ready per device (${level})`, label, board.ready[level]!, `${note} Totals count person-device pairs.`),
+      );
     if (board.medians.status === "ok" && board.medians[level]) {
-      sheets.push(sheet(`Median hours (${level})`, label, board.medians[level]!, `${HIDDEN_TEXT}: fewer than ${t} people in the group have a forecast. Median of current forecasts of total training hours.`));
+      sheets.push(
+        sheet(
+          `Median hours (${level})`,
+          label,
+          board.medians[level]!,
+          `${HIDDEN_TEXT}: fewer than ${t} people in the group have a forecast. Median of current forecasts of total training hours.`,
+        ),
+      );
     }
   }
-  if (board.planned.status === "ok") sheets.push(sheet("Planned ready by week", "Week", board.planned.table, `${note} Person-device pairs whose last planned session falls in that week.`));
-  if (sheets.length === 0) sheets.push({ name: "Readiness", columns: [{ header: "Note", key: "note", width: 80 }], rows: [{ note: "Nothing to show for your departments yet." }] });
+  if (board.planned.status === "ok")
+    sheets.push(
+      sheet(
+        "Planned ready by week",
+        "Week",
+        board.planned.table,
+        `${note} Person-device pairs whose last planned session falls in that week.`,
+      ),
+    );
+  if (sheets.length === 0)
+    sheets.push({
+      name: "Readiness",
+      columns: [{ header: "Note", key: "note", width: 80 }],
+      rows: [{ note: "Nothing to show for your departments yet." }],
+    });
   return sheets;
 }
 

@@ -1,8 +1,8 @@
 import { Link } from "react-router";
-import type { Route } from "./+types/readiness.sites";
 import { requireUser } from "~/auth/guard.server";
 import { ReadinessBoardView } from "~/components/readiness-chart";
 import { readinessBoard } from "~/models/readiness.server";
+import type { Route } from "./+types/readiness.sites";
 
 export const meta: Route.MetaFunction = () => [{ title: "Site readiness · Limberly" }];
 
@@ -12,7 +12,12 @@ export async function loader({ request }: Route.LoaderArgs) {
   const p = await requireUser(request, "readiness.read");
   const board = await readinessBoard(p.scope);
   const allowed = board.wholeSites.length > 0 && board.groupings.includes("site");
-  return { allowed, board: allowed ? board : null, scopeLabel: board.scopeLabel, siteGrouping: board.groupings.includes("site") };
+  return {
+    allowed,
+    board: allowed ? board : null,
+    scopeLabel: board.scopeLabel,
+    siteGrouping: board.groupings.includes("site"),
+  };
 }
 
 export default function SiteReadiness({ loaderData }: Route.ComponentProps) {
@@ -23,10 +28,17 @@ export default function SiteReadiness({ loaderData }: Route.ComponentProps) {
         <h1 className="page-title">Site readiness</h1>
         {allowed && board ? (
           <>
-            <p className="text-ink-soft">For {board.wholeSites.join(", ")}. Sites and departments are protected together, so a department cannot be worked out from its site's numbers.</p>
+            <p className="text-ink-soft">
+              For {board.wholeSites.join(", ")}. Sites and departments are protected together, so a department cannot be
+              worked out from its site's numbers.
+            </p>
             <div className="flex flex-wrap gap-2">
-              <a className="btn-quiet" href="/readiness/export.xlsx" download>Download these tables (XLSX)</a>
-              <Link className="btn-quiet" to="/readiness">Department view</Link>
+              <a className="btn-quiet" href="/readiness/export.xlsx" download>
+                Download these tables (XLSX)
+              </a>
+              <Link className="btn-quiet" to="/readiness">
+                Department view
+              </Link>
             </div>
           </>
         ) : (
@@ -34,7 +46,9 @@ export default function SiteReadiness({ loaderData }: Route.ComponentProps) {
             {siteGrouping
               ? `The site view is for managers responsible for a whole site. You manage ${scopeLabel}; your figures are on the department readiness page.`
               : "Your organisation does not show readiness per site to managers."}{" "}
-            <Link to="/readiness" className="underline">Go to department readiness</Link>
+            <Link to="/readiness" className="underline">
+              Go to department readiness
+            </Link>
           </p>
         )}
       </div>

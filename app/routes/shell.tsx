@@ -1,9 +1,9 @@
 import { Form, NavLink, Outlet } from "react-router";
-import type { Route } from "./+types/shell";
 import { requireSignedIn } from "~/auth/guard.server";
 import { ROLE_LABELS } from "~/auth/permissions";
 import { navFor } from "~/components/navigation";
 import { isProduction } from "~/config.server";
+import type { Route } from "./+types/shell";
 
 // The signed-in frame: who you are, your roles' navigation, sign-out. Each child route still
 // checks its own permission; this loader only makes sure someone is signed in.
@@ -19,30 +19,49 @@ export default function Shell({ loaderData }: Route.ComponentProps) {
   const { user, nav } = loaderData;
   return (
     <div className="min-h-screen">
-      <a href="#main" className="sr-only focus:not-sr-only focus:absolute focus:left-2 focus:top-2 focus:z-10 focus:rounded focus:bg-card focus:p-2">Skip to content</a>
+      <a
+        href="#main"
+        className="sr-only focus:not-sr-only focus:absolute focus:left-2 focus:top-2 focus:z-10 focus:rounded focus:bg-card focus:p-2"
+      >
+        Skip to content
+      </a>
       <header className="border-b border-line bg-card">
         <div className="mx-auto flex max-w-6xl flex-wrap items-center justify-between gap-3 px-4 py-3">
-          <a href="/" className="text-lg font-bold tracking-tight text-spruce-800">Limberly</a>
+          <a href="/" className="text-lg font-bold tracking-tight text-spruce-800">
+            Limberly
+          </a>
           <div className="flex items-center gap-3 text-sm">
             <span className="text-ink-soft">
-              <span className="font-medium text-ink" data-testid="signed-in-as">{user.displayName}</span>
-              {" · "}{user.roles.map((r) => ROLE_LABELS[r]).join(", ")}
+              <span className="font-medium text-ink" data-testid="signed-in-as">
+                {user.displayName}
+              </span>
+              {" · "}
+              {user.roles.map((r) => ROLE_LABELS[r]).join(", ")}
             </span>
             <Form method="post" action="/sign-out">
-              <button type="submit" className="btn-quiet min-h-10 px-3 py-1">Sign out</button>
+              <button type="submit" className="btn-quiet min-h-10 px-3 py-1">
+                Sign out
+              </button>
             </Form>
           </div>
         </div>
         <nav aria-label="Main" className="mx-auto max-w-6xl overflow-x-auto px-4 pb-2">
           <ul className="flex gap-1 whitespace-nowrap md:flex-wrap">
-            {nav.flatMap((group) => group.items.map((item) => (
-              <li key={item.to}>
-                <NavLink to={item.to} end
-                  className={({ isActive }) => `inline-flex min-h-11 items-center rounded-md px-3 text-sm font-medium ${isActive ? "bg-spruce-100 text-spruce-800" : "text-ink-soft hover:bg-spruce-50"}`}>
-                  {item.label}
-                </NavLink>
-              </li>
-            )))}
+            {nav.flatMap((group) =>
+              group.items.map((item) => (
+                <li key={item.to}>
+                  <NavLink
+                    to={item.to}
+                    end
+                    className={({ isActive }) =>
+                      `inline-flex min-h-11 items-center rounded-md px-3 text-sm font-medium ${isActive ? "bg-spruce-100 text-spruce-800" : "text-ink-soft hover:bg-spruce-50"}`
+                    }
+                  >
+                    {item.label}
+                  </NavLink>
+                </li>
+              )),
+            )}
           </ul>
         </nav>
       </header>

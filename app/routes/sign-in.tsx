@@ -1,9 +1,9 @@
 import { Form, redirect, useSearchParams } from "react-router";
-import type { Route } from "./+types/sign-in";
 import { currentUser } from "~/auth/guard.server";
 import { homeFor } from "~/auth/homes";
-import { demoPersonas } from "~/auth/personas.server";
 import { ROLE_LABELS } from "~/auth/permissions";
+import { demoPersonas } from "~/auth/personas.server";
+import type { Route } from "./+types/sign-in";
 
 export const meta: Route.MetaFunction = () => [{ title: "Sign in · Limberly" }];
 
@@ -23,15 +23,24 @@ export default function SignIn({ loaderData }: Route.ComponentProps) {
         <p className="text-sm font-semibold uppercase tracking-wider text-spruce-700">Limberly</p>
         <h1 className="page-title mt-1">Sign in</h1>
         <p className="mt-2 text-ink-soft">Use your organisation account. Limberly never sees your password.</p>
-        {error && <p role="alert" className="mt-4 rounded-md bg-alert-wash p-3 text-alert">{error}</p>}
+        {error && (
+          <p role="alert" className="mt-4 rounded-md bg-alert-wash p-3 text-alert">
+            {error}
+          </p>
+        )}
         <Form method="get" action="/auth/start" className="mt-6">
-          <button className="btn-primary w-full" type="submit">Sign in with your organisation account</button>
+          <button className="btn-primary w-full" type="submit">
+            Sign in with your organisation account
+          </button>
         </Form>
         {loaderData.personas.length > 0 && (
           <section aria-labelledby="personas" className="mt-8 border-t border-line pt-6">
-            <h2 id="personas" className="text-lg font-semibold">Demo personas</h2>
+            <h2 id="personas" className="text-lg font-semibold">
+              Demo personas
+            </h2>
             <p className="mt-1 text-sm text-ink-soft">
-              Invented people of the demo organisation. Choosing one signs in through the local identity-provider stand-in.
+              Invented people of the demo organisation. Choosing one signs in through the local identity-provider
+              stand-in.
             </p>
             <ul className="mt-4 grid gap-2">
               {loaderData.personas.map((p) => (
@@ -43,7 +52,9 @@ export default function SignIn({ loaderData }: Route.ComponentProps) {
                         <span className="block font-semibold">{p.displayName}</span>
                         <span className="block text-sm text-ink-soft">{p.title}</span>
                       </span>
-                      <span className="rounded bg-spruce-50 px-2 py-1 text-xs font-semibold text-spruce-800">{ROLE_LABELS[p.role]}</span>
+                      <span className="rounded bg-spruce-50 px-2 py-1 text-xs font-semibold text-spruce-800">
+                        {ROLE_LABELS[p.role]}
+                      </span>
                     </button>
                   </Form>
                 </li>
@@ -51,10 +62,21 @@ export default function SignIn({ loaderData }: Route.ComponentProps) {
             </ul>
             <Form method="get" action="/auth/start" className="mt-4 flex flex-col gap-2 sm:flex-row sm:items-end">
               <div className="grow">
-                <label htmlFor="other-identity" className="field-label">Another identity (e-mail)</label>
-                <input id="other-identity" name="login_hint" type="email" required className="field-input" placeholder="someone@example.org" />
+                <label htmlFor="other-identity" className="field-label">
+                  Another identity (e-mail)
+                </label>
+                <input
+                  id="other-identity"
+                  name="login_hint"
+                  type="email"
+                  required
+                  className="field-input"
+                  placeholder="someone@example.org"
+                />
               </div>
-              <button type="submit" className="btn-quiet">Sign in as this identity</button>
+              <button type="submit" className="btn-quiet">
+                Sign in as this identity
+              </button>
             </Form>
           </section>
         )}

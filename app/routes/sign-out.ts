@@ -1,7 +1,7 @@
 import { redirect } from "react-router";
-import type { Route } from "./+types/sign-out";
 import { assertSameOrigin } from "~/auth/guard.server";
 import { getSession, sessionStorage } from "~/auth/session.server";
+import type { Route } from "./+types/sign-out";
 
 // Sign-out is a POST (a link cannot sign anyone out); it deletes the server-side session.
 export async function action({ request }: Route.ActionArgs) {

@@ -1,10 +1,10 @@
 import { Form, Link } from "react-router";
-import type { Route } from "./+types/train._index";
 import { requireUser } from "~/auth/guard.server";
 import { DeviceCautions } from "~/components/device-cautions";
 import { trainerProfileForUser } from "~/models/fleet.server";
-import { trainerDay, trainerForUser, type ScheduledSession } from "~/models/trainer-day.server";
+import { type ScheduledSession, trainerDay, trainerForUser } from "~/models/trainer-day.server";
 import { formatDay, formatSpan } from "~/schemas/portal";
+import type { Route } from "./+types/train._index";
 
 export const meta: Route.MetaFunction = () => [{ title: "My training days · Limberly" }];
 
@@ -14,34 +14,72 @@ export async function loader({ request }: Route.LoaderArgs) {
   const p = await requireUser(request, "sessions.own");
   const trainer = await trainerForUser(p.user.id);
   return {
-    name: p.user.displayName, profile: await trainerProfileForUser(p.user.id),
+    name: p.user.displayName,
+    profile: await trainerProfileForUser(p.user.id),
     day: trainer ? await trainerDay(trainer.id) : null,
   };
 }
 
-const STATUS_WORDS: Record<string, string> = { scheduled: "To do", attended: "Logged", no_show: "No-show", cancelled: "Cancelled" };
+const STATUS_WORDS: Record<string, string> = {
+  scheduled: "To do",
+  attended: "Logged",
+  no_show: "No-show",
+  cancelled: "Cancelled",
+};
 
 function SessionCard({ s, showDay }: { s: ScheduledSession; showDay?: boolean }) {
   const paused = s.courseStatus === "paused";
   return (
     <li className="rounded-lg border border-line bg-white p-4" data-testid={`session-${s.id}`}>
       <div className="flex flex-wrap items-baseline justify-between gap-2">
-        <p className="text-lg font-semibold">{s.start ? `${showDay ? `${formatDay(s.start)} · ` : ""}${formatSpan(s.start, s.end)}` : "Unscheduled"}</p>
-        <p className={s.status === "scheduled" ? "font-semibold text-amber-caution" : "text-ink-soft"}>{STATUS_WORDS[s.status] ?? s.status}</p>
+        <p className="text-lg font-semibold">
+          {s.start ? `${showDay ? `${formatDay(s.start)} · ` : ""}${formatSpan(s.start, s.end)}` : "Unscheduled"}
+        </p>
+        <p className={s.status === "scheduled" ? "font-semibold text-amber-caution" : "text-ink-soft"}>
+          {STATUS_WORDS[s.status] ?? s.status}
+        </p>
       </div>
-      <p className="mt-1"><span className="font-medium">{s.trainee}</span> <span className="text-ink-soft">· {s.employeeNumber}</span></p>
-      <p>{s.deviceType}{s.unit ? <span className="text-ink-soft"> · unit {s.unit}</span> : null}</p>
+      <p className="mt-1">
+        <span className="font-medium">{s.trainee}</span> <span className="text-ink-soft">· {s.employeeNumber}</span>
+      </p>
+      <p>
+        {s.deviceType}
+        {s.unit ? <span className="text-ink-soft"> · unit {s.unit}</span> : null}
+      </p>
       <p className="text-sm text-ink-soft">Where: {s.place}</p>
-      {paused && <p className="mt-2 rounded-md bg-alert-wash p-2 text-sm text-alert">Training on this device is paused{s.pauseReason ? `: ${s.pauseReason}` : ""}. Do not train until an assessor resumes it.</p>}
+      {paused && (
+        <p className="mt-2 rounded-md bg-alert-wash p-2 text-sm text-alert">
+          Training on this device is paused{s.pauseReason ? `: ${s.pauseReason}` : ""}. Do not train until an assessor
+          resumes it.
+        </p>
+      )}
       {s.status === "scheduled" && !paused && (
         <div className="mt-3 flex flex-wrap gap-3">
-          <Link to={`/train/sessions/${s.id}`} className="btn-primary inline-flex min-h-12 min-w-32 items-center justify-center text-lg">Attended: log it</Link>
+          <Link
+            to={`/train/sessions/${s.id}`}
+            className="btn-primary inline-flex min-h-12 min-w-32 items-center justify-center text-lg"
+          >
+            Attended: log it
+          </Link>
           <Form method="post" action={`/train/sessions/${s.id}`}>
-            <button className="btn-quiet min-h-12 min-w-32 text-lg" name="intent" value="no_show" aria-label={`No-show: ${s.trainee}, ${s.start ? formatSpan(s.start, s.end) : ""}`}>No-show</button>
+            <button
+              className="btn-quiet min-h-12 min-w-32 text-lg"
+              name="intent"
+              value="no_show"
+              aria-label={`No-show: ${s.trainee}, ${s.start ? formatSpan(s.start, s.end) : ""}`}
+            >
+              No-show
+            </button>
           </Form>
         </div>
       )}
-      {s.status !== "scheduled" && <p className="mt-2 text-sm"><Link to={`/train/sessions/${s.id}`} className="text-spruce-700 underline">Details</Link></p>}
+      {s.status !== "scheduled" && (
+        <p className="mt-2 text-sm">
+          <Link to={`/train/sessions/${s.id}`} className="text-spruce-700 underline">
+            Details
+          </Link>
+        </p>
+      )}
     </li>
   );
 }
@@ -51,26 +89,61 @@ export default function TrainHome({ loaderData }: Route.ComponentProps) {
   return (
     <div className="grid gap-6">
       <div>
-        <h1 className="page-title" data-testid="role-home">My training days</h1>
-        <p className="text-ink-soft">{name}{profile ? ` · ${profile.site} · up to ${profile.traineesPerSession} trainee${profile.traineesPerSession > 1 ? "s" : ""} per session` : ""}</p>
+        <h1 className="page-title" data-testid="role-home">
+          My training days
+        </h1>
+        <p className="text-ink-soft">
+          {name}
+          {profile
+            ? ` · ${profile.site} · up to ${profile.traineesPerSession} trainee${profile.traineesPerSession > 1 ? "s" : ""} per session`
+            : ""}
+        </p>
       </div>
-      {!profile && <p className="card">You have the trainer role but no trainer profile yet. Ask your training coordinator to add you.</p>}
+      {!profile && (
+        <p className="card">
+          You have the trainer role but no trainer profile yet. Ask your training coordinator to add you.
+        </p>
+      )}
       {day && (
         <>
           <section aria-labelledby="today-h" className="grid gap-3">
-            <h2 id="today-h" className="text-xl font-semibold">Today · {formatDay(day.dayStart)}</h2>
-            {day.today.length === 0 ? <p className="card text-ink-soft">No sessions today.</p>
-              : <ul className="grid gap-3" data-testid="today">{day.today.map((s) => <SessionCard key={s.id} s={s} />)}</ul>}
+            <h2 id="today-h" className="text-xl font-semibold">
+              Today · {formatDay(day.dayStart)}
+            </h2>
+            {day.today.length === 0 ? (
+              <p className="card text-ink-soft">No sessions today.</p>
+            ) : (
+              <ul className="grid gap-3" data-testid="today">
+                {day.today.map((s) => (
+                  <SessionCard key={s.id} s={s} />
+                ))}
+              </ul>
+            )}
           </section>
           <section aria-labelledby="week-h" className="grid gap-3">
-            <h2 id="week-h" className="text-xl font-semibold">Rest of this week</h2>
-            {day.rest.length === 0 ? <p className="card text-ink-soft">Nothing else this week.</p>
-              : <ul className="grid gap-3" data-testid="week">{day.rest.map((s) => <SessionCard key={s.id} s={s} showDay />)}</ul>}
+            <h2 id="week-h" className="text-xl font-semibold">
+              Rest of this week
+            </h2>
+            {day.rest.length === 0 ? (
+              <p className="card text-ink-soft">Nothing else this week.</p>
+            ) : (
+              <ul className="grid gap-3" data-testid="week">
+                {day.rest.map((s) => (
+                  <SessionCard key={s.id} s={s} showDay />
+                ))}
+              </ul>
+            )}
           </section>
           {day.waiting.length > 0 && (
             <section aria-labelledby="waiting-h" className="grid gap-3">
-              <h2 id="waiting-h" className="text-xl font-semibold">Earlier sessions still to log</h2>
-              <ul className="grid gap-3" data-testid="waiting">{day.waiting.map((s) => <SessionCard key={s.id} s={s} showDay />)}</ul>
+              <h2 id="waiting-h" className="text-xl font-semibold">
+                Earlier sessions still to log
+              </h2>
+              <ul className="grid gap-3" data-testid="waiting">
+                {day.waiting.map((s) => (
+                  <SessionCard key={s.id} s={s} showDay />
+                ))}
+              </ul>
             </section>
           )}
         </>
@@ -78,7 +151,13 @@ export default function TrainHome({ loaderData }: Route.ComponentProps) {
       {profile && (
         <section className="card">
           <h2 className="font-semibold">Certified to train</h2>
-          <ul className="list-disc pl-5">{profile.certifications.map((c) => <li key={c.name}>{c.name} (since {c.since})</li>)}</ul>
+          <ul className="list-disc pl-5">
+            {profile.certifications.map((c) => (
+              <li key={c.name}>
+                {c.name} (since {c.since})
+              </li>
+            ))}
+          </ul>
         </section>
       )}
       <DeviceCautions compact />

@@ -2,22 +2,35 @@ import { z } from "zod";
 import { ROLES } from "~/auth/permissions";
 
 // Shared by the admin forms, their actions and any API that takes the same input.
-const optionalId = z.preprocess((v) => (v === "" || v == null ? null : v), z.coerce.number().int().positive().nullable());
+const optionalId = z.preprocess(
+  (v) => (v === "" || v == null ? null : v),
+  z.coerce.number().int().positive().nullable(),
+);
 
-export const roleAssignmentSchema = z.object({
-  role: z.enum(ROLES, { message: "Choose a role." }),
-  siteId: optionalId,
-  departmentId: optionalId,
-}).refine((v) => v.role === "admin" || v.siteId != null || v.departmentId != null, {
-  message: "Choose a site or department for this role (only admin is organisation-wide).", path: ["siteId"],
-}).refine((v) => v.role !== "worker" || v.departmentId != null, {
-  message: "A worker account belongs to one department.", path: ["departmentId"],
-});
+export const roleAssignmentSchema = z
+  .object({
+    role: z.enum(ROLES, { message: "Choose a role." }),
+    siteId: optionalId,
+    departmentId: optionalId,
+  })
+  .refine((v) => v.role === "admin" || v.siteId != null || v.departmentId != null, {
+    message: "Choose a site or department for this role (only admin is organisation-wide).",
+    path: ["siteId"],
+  })
+  .refine((v) => v.role !== "worker" || v.departmentId != null, {
+    message: "A worker account belongs to one department.",
+    path: ["departmentId"],
+  });
 
-export const createUserSchema = z.object({
-  email: z.email({ message: "Enter a valid e-mail address." }).max(320).transform((s) => s.toLowerCase()),
-  displayName: z.string().trim().min(2, "Enter the person's name (at least 2 characters).").max(200),
-}).and(roleAssignmentSchema);
+export const createUserSchema = z
+  .object({
+    email: z
+      .email({ message: "Enter a valid e-mail address." })
+      .max(320)
+      .transform((s) => s.toLowerCase()),
+    displayName: z.string().trim().min(2, "Enter the person's name (at least 2 characters).").max(200),
+  })
+  .and(roleAssignmentSchema);
 
 export const updateUserSchema = z.object({
   displayName: z.string().trim().min(2, "Enter the person's name (at least 2 characters).").max(200),
@@ -25,26 +38,41 @@ export const updateUserSchema = z.object({
 });
 
 export const siteSchema = z.object({
-  code: z.string().trim().toUpperCase().regex(/^[A-Z0-9-]{2,20}$/, "Code: 2–20 letters, digits or dashes."),
+  code: z
+    .string()
+    .trim()
+    .toUpperCase()
+    .regex(/^[A-Z0-9-]{2,20}$/, "Code: 2–20 letters, digits or dashes."),
   name: z.string().trim().min(2, "Enter the site's name.").max(200),
 });
 
 export const departmentSchema = z.object({
   siteId: z.coerce.number({ message: "Choose a site." }).int().positive("Choose a site."),
-  code: z.string().trim().toUpperCase().regex(/^[A-Z0-9-]{2,20}$/, "Code: 2–20 letters, digits or dashes."),
+  code: z
+    .string()
+    .trim()
+    .toUpperCase()
+    .regex(/^[A-Z0-9-]{2,20}$/, "Code: 2–20 letters, digits or dashes."),
   name: z.string().trim().min(2, "Enter the department's name.").max(200),
 });
 
 export const apiKeySchema = z.object({
   name: z.string().trim().min(3, "Name the key after the system that will use it (at least 3 characters).").max(120),
-  role: z.enum(ROLES, { message: "Choose a role." }).refine((r) => r !== "worker", "Workers use their own sign-in, not API keys."),
-  siteIds: z.preprocess((v) => (v == null || v === "" ? [] : ([] as unknown[]).concat(v)),
-    z.array(z.coerce.number().int().positive()).min(1, "Choose at least one site the key may reach.")),
+  role: z
+    .enum(ROLES, { message: "Choose a role." })
+    .refine((r) => r !== "worker", "Workers use their own sign-in, not API keys."),
+  siteIds: z.preprocess(
+    (v) => (v == null || v === "" ? [] : ([] as unknown[]).concat(v)),
+    z.array(z.coerce.number().int().positive()).min(1, "Choose at least one site the key may reach."),
+  ),
 });
 
 export const consentTextSchema = z.object({
   purpose: z.enum(["assessment", "planning", "model"], { message: "Choose a purpose." }),
-  version: z.string().trim().regex(/^\d+\.\d+$/, "Version as major.minor, e.g. 1.1."),
+  version: z
+    .string()
+    .trim()
+    .regex(/^\d+\.\d+$/, "Version as major.minor, e.g. 1.1."),
   effectiveFrom: z.iso.date({ message: "Enter the date the text takes effect (YYYY-MM-DD)." }),
   body: z.string().trim().min(40, "The consent text must say what is agreed to (at least 40 characters).").max(20000),
 });
@@ -52,6 +80,12 @@ export const consentTextSchema = z.object({
 export const accessLogFilterSchema = z.object({
   worker: z.string().trim().max(40).optional(),
   actor: z.string().trim().max(320).optional(),
-  from: z.iso.date().optional().or(z.literal("").transform(() => undefined)),
-  to: z.iso.date().optional().or(z.literal("").transform(() => undefined)),
+  from: z.iso
+    .date()
+    .optional()
+    .or(z.literal("").transform(() => undefined)),
+  to: z.iso
+    .date()
+    .optional()
+    .or(z.literal("").transform(() => undefined)),
 });

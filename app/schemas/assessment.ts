@@ -5,7 +5,13 @@ import { TRACE_KINDS, type TraceKind } from "~/compute/trace-parsing";
 // Forms of the baseline battery (issue 3): measures, sessions, manual results, uploads, norm sets.
 
 /** computeTrace output keys start with these prefixes, per trace kind. */
-export const TRACE_KEY_PREFIX: Record<TraceKind, string> = { sway: "sway.", tracking: "tracking.", glove: "hand.", timing: "timing.", force: "force." };
+export const TRACE_KEY_PREFIX: Record<TraceKind, string> = {
+  sway: "sway.",
+  tracking: "tracking.",
+  glove: "hand.",
+  timing: "timing.",
+  force: "force.",
+};
 export const TRACE_KIND_LABELS: Record<TraceKind, string> = {
   sway: "Postural sway (t, x, y)",
   tracking: "Foot tracking (t, target, cursor)",
@@ -14,48 +20,87 @@ export const TRACE_KIND_LABELS: Record<TraceKind, string> = {
   force: "Force grading (target, produced)",
 };
 /** Outputs that can be scored (they have a better/worse direction), by trace kind. */
-export function scorableOutputs(kind: TraceKind): { key: string; label: string; unit: string; higherIsBetter: boolean }[] {
+export function scorableOutputs(
+  kind: TraceKind,
+): { key: string; label: string; unit: string; higherIsBetter: boolean }[] {
   return Object.entries(MEASURE_DIRECTIONS)
     .filter(([k, d]) => k.startsWith(TRACE_KEY_PREFIX[kind]) && d.higherIsBetter !== null)
     .map(([key, d]) => ({ key, label: d.label, unit: d.unit, higherIsBetter: d.higherIsBetter as boolean }));
 }
 
-export const measureSchema = z.object({
-  name: z.string().trim().min(2, "Name: at least 2 characters.").max(200),
-  code: z.string().trim().regex(/^[a-z][a-zA-Z0-9]*(\.[a-zA-Z0-9]+)*$/, "Code: letters and digits in dotted parts, e.g. pegboard.right."),
-  unit: z.string().trim().min(1, "Unit: say what the number counts, e.g. pins in 30 s.").max(40),
-  direction: z.enum(["higher", "lower"], { message: "Direction: choose whether higher or lower is better." }),
-  entry: z.enum(["manual", "trace"], { message: "Entry: choose manual or trace." }),
-  traceKind: z.union([z.literal(""), z.enum(TRACE_KINDS as [TraceKind, ...TraceKind[]])]).optional(),
-  description: z.string().trim().max(2000).optional(),
-}).superRefine((v, ctx) => {
-  if (v.entry === "trace") {
-    if (!v.traceKind) { ctx.addIssue({ code: "custom", path: ["traceKind"], message: "Trace format: choose which trace this measure is computed from." }); return; }
-    const outputs = scorableOutputs(v.traceKind);
-    const out = outputs.find((o) => o.key === v.code);
-    if (!out) ctx.addIssue({ code: "custom", path: ["code"], message: `Code: a ${v.traceKind} measure must be one of ${outputs.map((o) => o.key).join(", ")}.` });
-    else if ((v.direction === "higher") !== out.higherIsBetter) ctx.addIssue({ code: "custom", path: ["direction"], message: `Direction: for ${out.label} ${out.higherIsBetter ? "higher" : "lower"} is better.` });
-  } else if (/^(sway|tracking|hand|timing|force)\./.test(v.code)) {
-    ctx.addIssue({ code: "custom", path: ["code"], message: "Code: sway., tracking., hand., timing. and force. are kept for trace measures." });
-  }
-});
+export const measureSchema = z
+  .object({
+    name: z.string().trim().min(2, "Name: at least 2 characters.").max(200),
+    code: z
+      .string()
+      .trim()
+      .regex(/^[a-z][a-zA-Z0-9]*(\.[a-zA-Z0-9]+)*$/, "Code: letters and digits in dotted parts, e.g. pegboard.right."),
+    unit: z.string().trim().min(1, "Unit: say what the number counts, e.g. pins in 30 s.").max(40),
+    direction: z.enum(["higher", "lower"], { message: "Direction: choose whether higher or lower is better." }),
+    entry: z.enum(["manual", "trace"], { message: "Entry: choose manual or trace." }),
+    traceKind: z.union([z.literal(""), z.enum(TRACE_KINDS as [TraceKind, ...TraceKind[]])]).optional(),
+    description: z.string().trim().max(2000).optional(),
+  })
+  .superRefine((v, ctx) => {
+    if (v.entry === "trace") {
+      if (!v.traceKind) {
+        ctx.addIssue({
+          code: "custom",
+          path: ["traceKind"],
+          message: "Trace format: choose which trace this measure is computed from.",
+        });
+        return;
+      }
+      const outputs = scorableOutputs(v.traceKind);
+      const out = outputs.find((o) => o.key === v.code);
+      if (!out)
+        ctx.addIssue({
+          code: "custom",
+          path: ["code"],
+          message: `Code: a ${v.traceKind} measure must be one of ${outputs.map((o) => o.key).join(", ")}.`,
+        });
+      else if ((v.direction === "higher") !== out.higherIsBetter)
+        ctx.addIssue({
+          code: "custom",
+          path: ["direction"],
+          message: `Direction: for ${out.label} ${out.higherIsBetter ? "higher" : "lower"} is better.`,
+        });
+    } else if (/^(sway|tracking|hand|timing|force)\./.test(v.code)) {
+      ctx.addIssue({
+        code: "custom",
+        path: ["code"],
+        message: "Code: sway., tracking., hand., timing. and force. are kept for trace measures.",
+      });
+    }
+  });
 
-const isoDate = z.string().regex(/^\d{4}-\d{2}-\d{2}$/, "Date: use the form YYYY-MM-DD.").refine((s) => !Number.isNaN(Date.parse(s)), "Date: not a real date.");
+const isoDate = z
+  .string()
+  .regex(/^\d{4}-\d{2}-\d{2}$/, "Date: use the form YYYY-MM-DD.")
+  .refine((s) => !Number.isNaN(Date.parse(s)), "Date: not a real date.");
 
 export const sessionSchema = z.object({
-  assessedOn: isoDate.refine((s) => s <= new Date(Date.now() + 86_400_000).toISOString().slice(0, 10), "Date: an assessment cannot be in the future."),
+  assessedOn: isoDate.refine(
+    (s) => s <= new Date(Date.now() + 86_400_000).toISOString().slice(0, 10),
+    "Date: an assessment cannot be in the future.",
+  ),
   notes: z.string().trim().max(4000).optional(),
 });
 
 /** Manual entry: fields named `m.<measureId>`; blank fields are skipped. */
-export function manualValuesFromForm(form: Record<string, unknown>, measures: { id: number; name: string }[]):
-  { ok: true; values: { measureId: number; value: number }[] } | { ok: false; errors: Record<string, string> } {
+export function manualValuesFromForm(
+  form: Record<string, unknown>,
+  measures: { id: number; name: string }[],
+): { ok: true; values: { measureId: number; value: number }[] } | { ok: false; errors: Record<string, string> } {
   const errors: Record<string, string> = {};
   const values: { measureId: number; value: number }[] = [];
   for (const m of measures) {
     const raw = String(form[`m.${m.id}`] ?? "").trim();
     if (raw === "") continue;
-    if (!/^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/.test(raw)) { errors[`m.${m.id}`] = `${m.name}: "${raw}" is not a number${/,/.test(raw) ? " (use a decimal point)" : ""}.`; continue; }
+    if (!/^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/.test(raw)) {
+      errors[`m.${m.id}`] = `${m.name}: "${raw}" is not a number${/,/.test(raw) ? " (use a decimal point)" : ""}.`;
+      continue;
+    }
     values.push({ measureId: m.id, value: Number(raw) });
   }
   if (Object.keys(errors).length) return { ok: false, errors };
@@ -65,8 +110,14 @@ export function manualValuesFromForm(form: Record<string, unknown>, measures: { 
 
 export const traceUploadSchema = z.object({
   kind: z.enum(TRACE_KINDS as [TraceKind, ...TraceKind[]], { message: "Trace kind: choose what the file records." }),
-  sampleRateHz: z.preprocess((v) => (v === "" || v == null ? undefined : v),
-    z.coerce.number({ message: "Sample rate: a number in Hz." }).positive("Sample rate: above 0 Hz.").max(100_000, "Sample rate: at most 100,000 Hz.").optional()),
+  sampleRateHz: z.preprocess(
+    (v) => (v === "" || v == null ? undefined : v),
+    z.coerce
+      .number({ message: "Sample rate: a number in Hz." })
+      .positive("Sample rate: above 0 Hz.")
+      .max(100_000, "Sample rate: at most 100,000 Hz.")
+      .optional(),
+  ),
 });
 
 export const MAX_TRACE_BYTES = 25 * 1024 * 1024;
@@ -79,8 +130,12 @@ export const publishedNormSchema = z.object({
 });
 
 /** Published norm values: `mean.<measureId>`, `sd.<measureId>`, `n.<measureId>`; a measure is skipped when both are blank. */
-export function normValuesFromForm(form: Record<string, unknown>, measures: { id: number; name: string }[]):
-  { ok: true; values: { measureId: number; mean: number; sd: number; n: number | null }[] } | { ok: false; errors: Record<string, string> } {
+export function normValuesFromForm(
+  form: Record<string, unknown>,
+  measures: { id: number; name: string }[],
+):
+  | { ok: true; values: { measureId: number; mean: number; sd: number; n: number | null }[] }
+  | { ok: false; errors: Record<string, string> } {
   const errors: Record<string, string> = {};
   const values: { measureId: number; mean: number; sd: number; n: number | null }[] = [];
   const num = (s: string) => (/^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/.test(s) ? Number(s) : NaN);
@@ -91,7 +146,8 @@ export function normValuesFromForm(form: Record<string, unknown>, measures: { id
     if (mean === "" && sd === "") continue;
     if (Number.isNaN(num(mean))) errors[`mean.${m.id}`] = `${m.name}: mean must be a number.`;
     if (!(num(sd) > 0)) errors[`sd.${m.id}`] = `${m.name}: SD must be a number above 0.`;
-    if (n !== "" && !(Number.isInteger(num(n)) && num(n) >= 2)) errors[`n.${m.id}`] = `${m.name}: n must be a whole number of at least 2.`;
+    if (n !== "" && !(Number.isInteger(num(n)) && num(n) >= 2))
+      errors[`n.${m.id}`] = `${m.name}: n must be a whole number of at least 2.`;
     values.push({ measureId: m.id, mean: num(mean), sd: num(sd), n: n === "" ? null : num(n) });
   }
   if (Object.keys(errors).length) return { ok: false, errors };

@@ -10,12 +10,22 @@ export const PURPOSE_LABELS = {
 const purpose = z.enum(["assessment", "planning", "model"], { message: "Purpose: assessment, planning or model." });
 
 export const recordConsentSchema = z.object({
-  purposes: z.preprocess((v) => (v == null ? [] : ([] as unknown[]).concat(v)), z.array(purpose).min(1, "Purposes: tick at least one purpose the worker agrees to.")),
-  witnessUserId: z.coerce.number({ message: "Witness: choose the assessor who witnessed it." }).int().positive("Witness: choose the assessor who witnessed it."),
-  confirmRead: z.literal("on", { message: "Confirm that the worker was shown the current text of each ticked purpose." }),
+  purposes: z.preprocess(
+    (v) => (v == null ? [] : ([] as unknown[]).concat(v)),
+    z.array(purpose).min(1, "Purposes: tick at least one purpose the worker agrees to."),
+  ),
+  witnessUserId: z.coerce
+    .number({ message: "Witness: choose the assessor who witnessed it." })
+    .int()
+    .positive("Witness: choose the assessor who witnessed it."),
+  confirmRead: z.literal("on", {
+    message: "Confirm that the worker was shown the current text of each ticked purpose.",
+  }),
 });
 
 export const withdrawConsentSchema = z.object({
   purpose,
-  confirm: z.string().refine((s) => s.trim().toUpperCase() === "WITHDRAW", "Type WITHDRAW to confirm; the data are erased at once."),
+  confirm: z
+    .string()
+    .refine((s) => s.trim().toUpperCase() === "WITHDRAW", "Type WITHDRAW to confirm; the data are erased at once."),
 });

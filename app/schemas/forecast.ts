@@ -21,35 +21,56 @@ const id = z.coerce.number({ message: "Choose a value." }).int("Choose a value."
 
 export const criterionFormSchema = z.object({
   deviceTypeId: id,
-  scoreThreshold: z.coerce.number({ message: "Score threshold must be a number between 0 and 1." })
-    .min(0.05, "Score threshold must be at least 0.05.").max(1, "Score threshold must be at most 1."),
-  consecutiveSessions: z.coerce.number({ message: "Consecutive sessions must be a whole number." })
-    .int("Consecutive sessions must be a whole number.").min(1, "At least 1 session.").max(10, "At most 10 sessions."),
+  scoreThreshold: z.coerce
+    .number({ message: "Score threshold must be a number between 0 and 1." })
+    .min(0.05, "Score threshold must be at least 0.05.")
+    .max(1, "Score threshold must be at most 1."),
+  consecutiveSessions: z.coerce
+    .number({ message: "Consecutive sessions must be a whole number." })
+    .int("Consecutive sessions must be a whole number.")
+    .min(1, "At least 1 session.")
+    .max(10, "At most 10 sessions."),
 });
 export type CriterionForm = z.infer<typeof criterionFormSchema>;
 
 export const workbenchFormSchema = z.object({
   deviceTypeId: id,
-  measureIds: z.preprocess((v) => (v == null || v === "" ? [] : ([] as unknown[]).concat(v)),
-    z.array(z.coerce.number().int().positive()).min(1, "Choose at least one measure.").max(12, "Choose at most 12 measures.")),
-  ridge: z.preprocess((v) => (v === "" || v == null ? 0 : v),
-    z.coerce.number({ message: "Ridge penalty must be a number." }).min(0, "Ridge penalty cannot be negative.").max(100, "Ridge penalty must be at most 100.")),
+  measureIds: z.preprocess(
+    (v) => (v == null || v === "" ? [] : ([] as unknown[]).concat(v)),
+    z
+      .array(z.coerce.number().int().positive())
+      .min(1, "Choose at least one measure.")
+      .max(12, "Choose at most 12 measures."),
+  ),
+  ridge: z.preprocess(
+    (v) => (v === "" || v == null ? 0 : v),
+    z.coerce
+      .number({ message: "Ridge penalty must be a number." })
+      .min(0, "Ridge penalty cannot be negative.")
+      .max(100, "Ridge penalty must be at most 100."),
+  ),
   notes: z.string().trim().max(2000, "Notes are limited to 2,000 characters.").optional(),
 });
 export type WorkbenchForm = z.infer<typeof workbenchFormSchema>;
 
 export const logSessionFormSchema = z.object({
-  durationHours: z.coerce.number({ message: "Duration must be a number of hours." })
-    .gt(0, "Duration must be more than 0 hours.").max(8, "Duration must be at most 8 hours in one session."),
-  taskScore: z.coerce.number({ message: "Task score must be a number between 0 and 1." })
-    .min(0, "Task score must be between 0 and 1.").max(1, "Task score must be between 0 and 1."),
+  durationHours: z.coerce
+    .number({ message: "Duration must be a number of hours." })
+    .gt(0, "Duration must be more than 0 hours.")
+    .max(8, "Duration must be at most 8 hours in one session."),
+  taskScore: z.coerce
+    .number({ message: "Task score must be a number between 0 and 1." })
+    .min(0, "Task score must be between 0 and 1.")
+    .max(1, "Task score must be between 0 and 1."),
   notes: z.string().trim().max(2000, "Notes are limited to 2,000 characters.").optional(),
 });
 export type LogSessionForm = z.infer<typeof logSessionFormSchema>;
 
 export const planningQuantileSchema = z.object({
-  planningQuantile: z.coerce.number({ message: "Planning quantile must be a number." })
-    .min(0.5, "Planning quantile must be at least 0.50.").max(0.95, "Planning quantile must be at most 0.95."),
+  planningQuantile: z.coerce
+    .number({ message: "Planning quantile must be a number." })
+    .min(0.5, "Planning quantile must be at least 0.50.")
+    .max(0.95, "Planning quantile must be at most 0.95."),
 });
 
 const contributionSchema = z.object({
@@ -68,10 +89,17 @@ export const deviceForecastSchema = z.object({
   /** ready: numbers below; otherwise why there is no forecast. */
   status: z.enum(["ready", "no_model", "missing_measures"]),
   missingMeasures: z.array(z.string()),
-  modelVersion: z.object({
-    id: z.number(), versionNumber: z.number(), approvedAt: z.string().nullable(), cohortSize: z.number(),
-    loocvMaeHours: z.number(), loocvCoverage80: z.number(), measures: z.array(z.string()),
-  }).nullable(),
+  modelVersion: z
+    .object({
+      id: z.number(),
+      versionNumber: z.number(),
+      approvedAt: z.string().nullable(),
+      cohortSize: z.number(),
+      loocvMaeHours: z.number(),
+      loocvCoverage80: z.number(),
+      measures: z.array(z.string()),
+    })
+    .nullable(),
   medianHours: z.number().nullable(),
   lowerHours: z.number().nullable(),
   upperHours: z.number().nullable(),
@@ -81,25 +109,38 @@ export const deviceForecastSchema = z.object({
   computedAt: z.string().nullable(),
   /** Clinical view only (assessors); null for coordinators, who never receive scores. */
   explanation: z.object({ baselineHours: z.number(), contributions: z.array(contributionSchema) }).nullable(),
-  course: z.object({
-    status: z.string(), cumulativeHours: z.number(), proficientOn: z.string().nullable(), hoursToProficiency: z.number().nullable(),
-  }).nullable(),
-  progress: z.object({
-    hoursDone: z.number(),
-    status: z.enum(["combined", "prior-only", "review", "proficient"]),
-    remainingHours: z.number().nullable(),
-    remainingLower: z.number().nullable(),
-    remainingUpper: z.number().nullable(),
-    remainingPlanningHours: z.number().nullable(),
-    curveWeight: z.number().nullable(),
-    reason: z.string().nullable(),
-  }).nullable(),
+  course: z
+    .object({
+      status: z.string(),
+      cumulativeHours: z.number(),
+      proficientOn: z.string().nullable(),
+      hoursToProficiency: z.number().nullable(),
+    })
+    .nullable(),
+  progress: z
+    .object({
+      hoursDone: z.number(),
+      status: z.enum(["combined", "prior-only", "review", "proficient"]),
+      remainingHours: z.number().nullable(),
+      remainingLower: z.number().nullable(),
+      remainingUpper: z.number().nullable(),
+      remainingPlanningHours: z.number().nullable(),
+      curveWeight: z.number().nullable(),
+      reason: z.string().nullable(),
+    })
+    .nullable(),
   reviewFlags: z.array(z.object({ kind: z.string(), reason: z.string(), raisedAt: z.string() })),
 });
 export type DeviceForecast = z.infer<typeof deviceForecastSchema>;
 
 export const workerForecastSchema = z.object({
-  worker: z.object({ id: z.number(), employeeNumber: z.string(), name: z.string(), site: z.string(), department: z.string() }),
+  worker: z.object({
+    id: z.number(),
+    employeeNumber: z.string(),
+    name: z.string(),
+    site: z.string(),
+    department: z.string(),
+  }),
   view: z.enum(["clinical", "planning"]),
   planningConsent: z.boolean(),
   forecasts: z.array(deviceForecastSchema),

@@ -13,8 +13,10 @@ export function formToObject(fd: FormData): Record<string, unknown> {
   return out;
 }
 
-export function parseWith<S extends z.ZodType>(schema: S, input: unknown):
-  { ok: true; data: z.infer<S> } | { ok: false; errors: FieldErrors } {
+export function parseWith<S extends z.ZodType>(
+  schema: S,
+  input: unknown,
+): { ok: true; data: z.infer<S> } | { ok: false; errors: FieldErrors } {
   const r = schema.safeParse(input);
   if (r.success) return { ok: true, data: r.data };
   const errors: FieldErrors = {};

@@ -24,13 +24,20 @@ const groupingList = z.preprocess(
 
 /** Organisation settings form (admin). Threshold never below 5. */
 export const organisationSettingsSchema = z.object({
-  disclosureThreshold: z.coerce.number({ message: "Enter the smallest group size as a whole number." })
+  disclosureThreshold: z.coerce
+    .number({ message: "Enter the smallest group size as a whole number." })
     .int("Enter the smallest group size as a whole number.")
     .min(5, "The smallest group size is at least 5: smaller groups could single people out.")
     .max(MAX_THRESHOLD, `The smallest group size can be at most ${MAX_THRESHOLD}.`),
   groupings: groupingList
-    .refine((g) => g.some((x) => ROW_GROUPINGS.includes(x)), "Choose at least one of site or department, so managers see any table.")
-    .refine((g) => g.some((x) => COLUMN_GROUPINGS.includes(x)), "Choose at least one of device type, readiness stage or planned ready week."),
+    .refine(
+      (g) => g.some((x) => ROW_GROUPINGS.includes(x)),
+      "Choose at least one of site or department, so managers see any table.",
+    )
+    .refine(
+      (g) => g.some((x) => COLUMN_GROUPINGS.includes(x)),
+      "Choose at least one of device type, readiness stage or planned ready week.",
+    ),
 });
 export type OrganisationSettings = z.infer<typeof organisationSettingsSchema>;
 
@@ -38,7 +45,9 @@ export type OrganisationSettings = z.infer<typeof organisationSettingsSchema>;
 export function parseStoredGroupings(raw: unknown): Grouping[] {
   try {
     const value = typeof raw === "string" ? JSON.parse(raw) : raw;
-    const list = Array.isArray(value) ? value.filter((g): g is Grouping => (GROUPINGS as readonly string[]).includes(g)) : [];
+    const list = Array.isArray(value)
+      ? value.filter((g): g is Grouping => (GROUPINGS as readonly string[]).includes(g))
+      : [];
     return GROUPINGS.filter((g) => list.includes(g));
   } catch {
     return [];
@@ -46,9 +55,11 @@ export function parseStoredGroupings(raw: unknown): Grouping[] {
 }
 
 /** GET /api/v1/readiness query. */
-export const readinessApiQuerySchema = z.object({
-  groupBy: z.enum(["site", "department", "deviceType", "stage"], {
-    message: "groupBy must be one of site, department, deviceType, stage.",
-  }),
-}).strict();
+export const readinessApiQuerySchema = z
+  .object({
+    groupBy: z.enum(["site", "department", "deviceType", "stage"], {
+      message: "groupBy must be one of site, department, deviceType, stage.",
+    }),
+  })
+  .strict();
 export type ReadinessApiQuery = z.infer<typeof readinessApiQuerySchema>;

@@ -36,7 +36,10 @@ export function guessMapping(headers: string[]): RosterMapping {
   const used = new Set<number>();
   for (const f of ROSTER_FIELDS) {
     const i = headers.findIndex((h, idx) => !used.has(idx) && HEADER_GUESSES[f].test(h.replace(/^\uFEFF/, "").trim()));
-    if (i >= 0) { m[f] = i; used.add(i); }
+    if (i >= 0) {
+      m[f] = i;
+      used.add(i);
+    }
   }
   return m;
 }
@@ -46,7 +49,10 @@ export const mappingFormSchema = z.object(
   Object.fromEntries(ROSTER_FIELDS.map((f) => [`map.${f}`, z.string().regex(/^\d*$/, "Choose a column").optional()])),
 );
 
-export function mappingFromForm(form: Record<string, unknown>, columnCount: number): { ok: true; mapping: RosterMapping } | { ok: false; errors: Record<string, string> } {
+export function mappingFromForm(
+  form: Record<string, unknown>,
+  columnCount: number,
+): { ok: true; mapping: RosterMapping } | { ok: false; errors: Record<string, string> } {
   const mapping = {} as RosterMapping;
   const errors: Record<string, string> = {};
   const seen = new Map<number, RosterField>();
@@ -54,13 +60,18 @@ export function mappingFromForm(form: Record<string, unknown>, columnCount: numb
     const raw = String(form[`map.${f}`] ?? "").trim();
     if (raw === "") {
       mapping[f] = null;
-      if (REQUIRED_FIELDS.includes(f)) errors[`map.${f}`] = `${ROSTER_FIELD_LABELS[f]}: choose the column that holds it`;
+      if (REQUIRED_FIELDS.includes(f))
+        errors[`map.${f}`] = `${ROSTER_FIELD_LABELS[f]}: choose the column that holds it`;
       continue;
     }
     const i = Number(raw);
-    if (!Number.isInteger(i) || i < 0 || i >= columnCount) { errors[`map.${f}`] = `${ROSTER_FIELD_LABELS[f]}: no such column`; continue; }
+    if (!Number.isInteger(i) || i < 0 || i >= columnCount) {
+      errors[`map.${f}`] = `${ROSTER_FIELD_LABELS[f]}: no such column`;
+      continue;
+    }
     const other = seen.get(i);
-    if (other) errors[`map.${f}`] = `${ROSTER_FIELD_LABELS[f]}: that column is already mapped to ${ROSTER_FIELD_LABELS[other]}`;
+    if (other)
+      errors[`map.${f}`] = `${ROSTER_FIELD_LABELS[f]}: that column is already mapped to ${ROSTER_FIELD_LABELS[other]}`;
     seen.set(i, f);
     mapping[f] = i;
   }
@@ -68,22 +79,48 @@ export function mappingFromForm(form: Record<string, unknown>, columnCount: numb
 }
 
 export const rosterRowSchema = z.object({
-  employeeNumber: z.string().trim().min(1, "employee number is missing").max(40, "employee number is longer than 40 characters")
-    .regex(/^[A-Za-z0-9][A-Za-z0-9._\/-]*$/, "employee number may hold only letters, digits and . _ / -")
+  employeeNumber: z
+    .string()
+    .trim()
+    .min(1, "employee number is missing")
+    .max(40, "employee number is longer than 40 characters")
+    .regex(/^[A-Za-z0-9][A-Za-z0-9._/-]*$/, "employee number may hold only letters, digits and . _ / -")
     .transform((s) => s.toUpperCase()),
   givenName: z.string().trim().min(1, "given name is missing").max(120, "given name is longer than 120 characters"),
   familyName: z.string().trim().min(1, "family name is missing").max(120, "family name is longer than 120 characters"),
-  email: z.union([z.literal(""), z.email("not a valid e-mail address").max(320)]).transform((s) => (s === "" ? null : s.toLowerCase())),
+  email: z
+    .union([z.literal(""), z.email("not a valid e-mail address").max(320)])
+    .transform((s) => (s === "" ? null : s.toLowerCase())),
   site: z.string().trim().min(1, "site is missing"),
   department: z.string().trim().min(1, "department is missing"),
 });
 
-export interface RosterSite { id: number; code: string; name: string; departments: { id: number; code: string; name: string }[] }
-export interface RosterRowIssue { row: number; field?: RosterField; message: string }
-export interface ValidRosterRow {
-  row: number; employeeNumber: string; givenName: string; familyName: string; email: string | null; siteId: number; departmentId: number;
+export interface RosterSite {
+  id: number;
+  code: string;
+  name: string;
+  departments: { id: number; code: string; name: string }[];
 }
-export interface RosterValidation { rowCount: number; valid: ValidRosterRow[]; issues: RosterRowIssue[]; invalidRows: number }
+export interface RosterRowIssue {
+  row: number;
+  field?: RosterField;
+  message: string;
+}
+export interface ValidRosterRow {
+  row: number;
+  employeeNumber: string;
+  givenName: string;
+  familyName: string;
+  email: string | null;
+  siteId: number;
+  departmentId: number;
+}
+export interface RosterValidation {
+  rowCount: number;
+  valid: ValidRosterRow[];
+  issues: RosterRowIssue[];
+  invalidRows: number;
+}
 
 const norm = (s: string) => s.trim().toLowerCase().replace(/\s+/g, " ");
 
@@ -91,9 +128,17 @@ const norm = (s: string) => s.trim().toLowerCase().replace(/\s+/g, " ");
  * Checks every data row; rows are numbered as a spreadsheet shows them (header = row 1).
  * `allowedSiteIds` null means every site; otherwise a row at another site is refused.
  */
-export function validateRoster(rows: string[][], mapping: RosterMapping, sites: RosterSite[], allowedSiteIds: Set<number> | null): RosterValidation {
+export function validateRoster(
+  rows: string[][],
+  mapping: RosterMapping,
+  sites: RosterSite[],
+  allowedSiteIds: Set<number> | null,
+): RosterValidation {
   const siteByKey = new Map<string, RosterSite>();
-  for (const s of sites) { siteByKey.set(norm(s.code), s); siteByKey.set(norm(s.name), s); }
+  for (const s of sites) {
+    siteByKey.set(norm(s.code), s);
+    siteByKey.set(norm(s.name), s);
+  }
   const issues: RosterRowIssue[] = [];
   const candidates: ValidRosterRow[] = [];
   const firstRowOf = new Map<string, number>();
@@ -119,15 +164,28 @@ export function validateRoster(rows: string[][], mapping: RosterMapping, sites: 
     const site = siteRaw.trim() ? siteByKey.get(norm(siteRaw)) : undefined;
     let departmentId: number | undefined;
     if (siteRaw.trim() && !site) {
-      rowIssues.push({ row: rowNumber, field: "site", message: `unknown site "${siteRaw.trim()}"; use a site code or name (${sites.map((s) => s.code).join(", ")})` });
+      rowIssues.push({
+        row: rowNumber,
+        field: "site",
+        message: `unknown site "${siteRaw.trim()}"; use a site code or name (${sites.map((s) => s.code).join(", ")})`,
+      });
     } else if (site) {
       if (allowedSiteIds && !allowedSiteIds.has(site.id)) {
-        rowIssues.push({ row: rowNumber, field: "site", message: `site "${site.name}" is outside the sites you may manage` });
+        rowIssues.push({
+          row: rowNumber,
+          field: "site",
+          message: `site "${site.name}" is outside the sites you may manage`,
+        });
       }
       const deptRaw = get("department");
       if (deptRaw.trim()) {
         const d = site.departments.find((x) => norm(x.code) === norm(deptRaw) || norm(x.name) === norm(deptRaw));
-        if (!d) rowIssues.push({ row: rowNumber, field: "department", message: `unknown department "${deptRaw.trim()}" at ${site.name}` });
+        if (!d)
+          rowIssues.push({
+            row: rowNumber,
+            field: "department",
+            message: `unknown department "${deptRaw.trim()}" at ${site.name}`,
+          });
         else departmentId = d.id;
       }
     }
@@ -135,19 +193,44 @@ export function validateRoster(rows: string[][], mapping: RosterMapping, sites: 
     if (empNo) {
       const first = firstRowOf.get(empNo);
       if (first !== undefined) {
-        rowIssues.push({ row: rowNumber, field: "employeeNumber", message: `employee number ${empNo} appears twice in the file (first on row ${first})` });
+        rowIssues.push({
+          row: rowNumber,
+          field: "employeeNumber",
+          message: `employee number ${empNo} appears twice in the file (first on row ${first})`,
+        });
       } else firstRowOf.set(empNo, rowNumber);
     }
-    if (rowIssues.length) { issues.push(...rowIssues); badRows.add(rowNumber); return; }
+    if (rowIssues.length) {
+      issues.push(...rowIssues);
+      badRows.add(rowNumber);
+      return;
+    }
     const d = parsed.data!;
-    candidates.push({ row: rowNumber, employeeNumber: d.employeeNumber, givenName: d.givenName, familyName: d.familyName, email: d.email, siteId: site!.id, departmentId: departmentId! });
+    candidates.push({
+      row: rowNumber,
+      employeeNumber: d.employeeNumber,
+      givenName: d.givenName,
+      familyName: d.familyName,
+      email: d.email,
+      siteId: site!.id,
+      departmentId: departmentId!,
+    });
   });
   // A duplicated employee number makes both rows doubtful: keep neither, name the first one too.
-  const dupFirsts = new Set(issues.filter((x) => x.message.includes("appears twice")).map((x) => /first on row (\d+)/.exec(x.message)![1]).map(Number));
+  const dupFirsts = new Set(
+    issues
+      .filter((x) => x.message.includes("appears twice"))
+      .map((x) => /first on row (\d+)/.exec(x.message)![1])
+      .map(Number),
+  );
   for (const r of dupFirsts) {
     if (!badRows.has(r)) {
       const c = candidates.find((x) => x.row === r)!;
-      issues.push({ row: r, field: "employeeNumber", message: `employee number ${c.employeeNumber} appears again later in the file` });
+      issues.push({
+        row: r,
+        field: "employeeNumber",
+        message: `employee number ${c.employeeNumber} appears again later in the file`,
+      });
       badRows.add(r);
     }
   }

@@ -5,39 +5,67 @@ import { z } from "zod";
 export const ADVERSE_KINDS = ["pain", "numbness", "skin", "fatigue", "other"] as const;
 export type AdverseKind = (typeof ADVERSE_KINDS)[number];
 export const ADVERSE_LABELS: Record<AdverseKind, string> = {
-  pain: "Pain", numbness: "Numbness or tingling", skin: "Skin (redness, pressure marks, abrasion)", fatigue: "Fatigue", other: "Other",
+  pain: "Pain",
+  numbness: "Numbness or tingling",
+  skin: "Skin (redness, pressure marks, abrasion)",
+  fatigue: "Fatigue",
+  other: "Other",
 };
 export const SEVERITIES = ["mild", "moderate", "severe"] as const;
 export type Severity = (typeof SEVERITIES)[number];
 
 /** "2026-12-02T09:30" from a datetime-local control: the site's wall-clock time (see wallClockIso in portal.ts). */
-const localDateTime = (label: string) => z.string({ message: `${label}: enter a date and time.` })
-  .trim().regex(/^\d{4}-\d{2}-\d{2}T\d{2}:\d{2}(:\d{2})?$/, `${label}: enter a date and time (YYYY-MM-DD HH:MM).`)
-  .transform((s) => new Date(`${s.length === 16 ? `${s}:00` : s}.000Z`))
-  .refine((d) => !Number.isNaN(d.getTime()), `${label}: that is not a real date and time.`);
+const localDateTime = (label: string) =>
+  z
+    .string({ message: `${label}: enter a date and time.` })
+    .trim()
+    .regex(/^\d{4}-\d{2}-\d{2}T\d{2}:\d{2}(:\d{2})?$/, `${label}: enter a date and time (YYYY-MM-DD HH:MM).`)
+    .transform((s) => new Date(`${s.length === 16 ? `${s}:00` : s}.000Z`))
+    .refine((d) => !Number.isNaN(d.getTime()), `${label}: that is not a real date and time.`);
 
-const severityField = z.preprocess((v) => (v === "" || v === "none" || v == null ? undefined : v),
-  z.enum(SEVERITIES, { message: "Severity: choose none, mild, moderate or severe." }).optional());
-const noteField = z.preprocess((v) => (typeof v === "string" && v.trim() === "" ? undefined : v),
-  z.string().trim().max(1000, "Event notes: at most 1,000 characters.").optional());
+const severityField = z.preprocess(
+  (v) => (v === "" || v === "none" || v == null ? undefined : v),
+  z.enum(SEVERITIES, { message: "Severity: choose none, mild, moderate or severe." }).optional(),
+);
+const noteField = z.preprocess(
+  (v) => (typeof v === "string" && v.trim() === "" ? undefined : v),
+  z.string().trim().max(1000, "Event notes: at most 1,000 characters.").optional(),
+);
 
-export const trainerLogSchema = z.object({
-  start: localDateTime("Start"),
-  end: localDateTime("End"),
-  taskScore: z.coerce.number({ message: "Task score: a number between 0 and 1." })
-    .min(0, "Task score: a number between 0 and 1.").max(1, "Task score: a number between 0 and 1."),
-  notes: z.preprocess((v) => (typeof v === "string" && v.trim() === "" ? undefined : v), z.string().trim().max(2000, "Notes: at most 2,000 characters.").optional()),
-  ...Object.fromEntries(ADVERSE_KINDS.flatMap((k) => [[`ae_${k}`, severityField], [`ae_${k}_notes`, noteField]])) as
-    Record<`ae_${AdverseKind}`, typeof severityField> & Record<`ae_${AdverseKind}_notes`, typeof noteField>,
-}).superRefine((v, ctx) => {
-  const hours = (v.end.getTime() - v.start.getTime()) / 3_600_000;
-  if (!(hours > 0)) ctx.addIssue({ code: "custom", path: ["end"], message: "End: must be after the start." });
-  else if (hours > 8) ctx.addIssue({ code: "custom", path: ["end"], message: "End: a session lasts at most 8 hours." });
-  if (v.ae_other && !v.ae_other_notes) ctx.addIssue({ code: "custom", path: ["ae_other_notes"], message: "Other event: describe what happened." });
-});
+export const trainerLogSchema = z
+  .object({
+    start: localDateTime("Start"),
+    end: localDateTime("End"),
+    taskScore: z.coerce
+      .number({ message: "Task score: a number between 0 and 1." })
+      .min(0, "Task score: a number between 0 and 1.")
+      .max(1, "Task score: a number between 0 and 1."),
+    notes: z.preprocess(
+      (v) => (typeof v === "string" && v.trim() === "" ? undefined : v),
+      z.string().trim().max(2000, "Notes: at most 2,000 characters.").optional(),
+    ),
+    ...(Object.fromEntries(
+      ADVERSE_KINDS.flatMap((k) => [
+        [`ae_${k}`, severityField],
+        [`ae_${k}_notes`, noteField],
+      ]),
+    ) as Record<`ae_${AdverseKind}`, typeof severityField> & Record<`ae_${AdverseKind}_notes`, typeof noteField>),
+  })
+  .superRefine((v, ctx) => {
+    const hours = (v.end.getTime() - v.start.getTime()) / 3_600_000;
+    if (!(hours > 0)) ctx.addIssue({ code: "custom", path: ["end"], message: "End: must be after the start." });
+    else if (hours > 8)
+      ctx.addIssue({ code: "custom", path: ["end"], message: "End: a session lasts at most 8 hours." });
+    if (v.ae_other && !v.ae_other_notes)
+      ctx.addIssue({ code: "custom", path: ["ae_other_notes"], message: "Other event: describe what happened." });
+  });
 export type TrainerLogInput = z.infer<typeof trainerLogSchema>;
 
-export interface AdverseEventInput { kind: AdverseKind; severity: Severity; notes: string | null }
+export interface AdverseEventInput {
+  kind: AdverseKind;
+  severity: Severity;
+  notes: string | null;
+}
 
 /** The adverse events ticked on the form, in the fixed order of ADVERSE_KINDS. */
 export function adverseEventsFrom(v: TrainerLogInput): AdverseEventInput[] {

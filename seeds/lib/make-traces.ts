@@ -17,7 +17,8 @@ fs.mkdirSync(out, { recursive: true });
 // Postural sway: 30 s at 100 Hz, centre of pressure (mm) as a damped random walk.
 {
   const lines = ["t,x,y"];
-  let x = 0, y = 0;
+  let x = 0,
+    y = 0;
   for (let i = 0; i < 3000; i++) {
     x = 0.999 * x + 0.12 * normal();
     y = 0.999 * y + 0.1 * normal();
@@ -39,7 +40,10 @@ fs.mkdirSync(out, { recursive: true });
     lines.push(`${f(t, 2)},${f(target(t))},${f(target(t - 0.2) + 2 * normal())}`);
   }
   write("tracking.csv", lines);
-  write("tracking-missing-column.csv", lines.map((l) => l.split(",").slice(0, 2).join(",")));
+  write(
+    "tracking-missing-column.csv",
+    lines.map((l) => l.split(",").slice(0, 2).join(",")),
+  );
 }
 
 // Glove: 10 s at 100 Hz, 22 joint angles (degrees) from three synergies plus sensor noise.
@@ -51,7 +55,10 @@ fs.mkdirSync(out, { recursive: true });
   const s = [0, 0, 0];
   for (let i = 0; i < 1000; i++) {
     for (let k = 0; k < 3; k++) s[k] = 0.98 * s[k] + [0.5, 0.45, 0.4][k] * normal();
-    const row = Array.from({ length: joints }, (_, j) => 30 + s[0] * loadings[0][j] + s[1] * loadings[1][j] + s[2] * loadings[2][j] + 1.6 * normal());
+    const row = Array.from(
+      { length: joints },
+      (_, j) => 30 + s[0] * loadings[0][j] + s[1] * loadings[1][j] + s[2] * loadings[2][j] + 1.6 * normal(),
+    );
     lines.push([f(i / 100, 2), ...row.map((v) => f(v, 2))].join(","));
   }
   write("glove.csv", lines);

@@ -5,12 +5,18 @@ import type { Knex } from "knex";
 export async function emptyAllTables(trx: Knex.Transaction): Promise<void> {
   const client = String(trx.client.config.client);
   if (client === "pg") {
-    const rows = await trx.raw("select tablename from pg_tables where schemaname = current_schema() and tablename not like 'knex_%'");
+    const rows = await trx.raw(
+      "select tablename from pg_tables where schemaname = current_schema() and tablename not like 'knex_%'",
+    );
     const names = rows.rows.map((r: { tablename: string }) => `"${r.tablename}"`);
     if (names.length) await trx.raw(`truncate ${names.join(", ")} restart identity cascade`);
     return;
   }
-  const tables: string[] = (await trx.raw("select name from sqlite_master where type = 'table' and name not like 'knex_%' and name not like 'sqlite_%'")).map((r: { name: string }) => r.name);
+  const tables: string[] = (
+    await trx.raw(
+      "select name from sqlite_master where type = 'table' and name not like 'knex_%' and name not like 'sqlite_%'",
+    )
+  ).map((r: { name: string }) => r.name);
   const parents = new Map<string, Set<string>>();
   for (const t of tables) {
     const fks = await trx.raw(`pragma foreign_key_list("${t}")`);

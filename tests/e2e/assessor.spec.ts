@@ -9,7 +9,11 @@ import { expect, persona, test } from "./fixtures";
 
 const TRACES = path.resolve(path.dirname(fileURLToPath(import.meta.url)), "../../seeds/traces");
 
-test("assessor: roster with bad rows, consent, manual test, five traces, profile chart, withdrawal erases", async ({ page, signInAs, stack }, testInfo) => {
+test("assessor: roster with bad rows, consent, manual test, five traces, profile chart, withdrawal erases", async ({
+  page,
+  signInAs,
+  stack,
+}, testInfo) => {
   test.setTimeout(120_000);
   await signInAs(page, persona("assessor").email);
 
@@ -18,16 +22,22 @@ test("assessor: roster with bad rows, consent, manual test, five traces, profile
   await page.getByLabel("Roster file").setInputFiles(path.join(TRACES, "roster-demo.csv"));
   await page.getByRole("button", { name: "Upload and map columns" }).click();
   const preview = page.getByTestId("roster-preview");
-  await expect(preview.getByTestId("preview-counts")).toHaveText("11 rows: 4 new, 1 to update, 0 unchanged, 6 with errors (skipped).");
+  await expect(preview.getByTestId("preview-counts")).toHaveText(
+    "11 rows: 4 new, 1 to update, 0 unchanged, 6 with errors (skipped).",
+  );
   const issues = preview.getByTestId("issue-list");
   await expect(issues).toContainText("Row 7, Employee number: employee number is missing");
   await expect(issues).toContainText("Row 8, E-mail: not a valid e-mail address");
   await expect(issues).toContainText('Row 9, Site: unknown site "Westmoor"');
   await expect(issues).toContainText('Row 10, Department: unknown department "Welding" at Eastgate');
-  await expect(issues).toContainText("Row 11, Employee number: employee number HV-90001 appears twice in the file (first on row 2)");
+  await expect(issues).toContainText(
+    "Row 11, Employee number: employee number HV-90001 appears twice in the file (first on row 2)",
+  );
   await page.screenshot({ path: testInfo.outputPath("roster-preview.png"), fullPage: true });
   await page.getByRole("button", { name: "Import 5 valid row(s)" }).click();
-  await expect(page.getByTestId("import-summary")).toContainText("4 new workers · 1 updated · 0 unchanged · 6 rows skipped for errors");
+  await expect(page.getByTestId("import-summary")).toContainText(
+    "4 new workers · 1 updated · 0 unchanged · 6 rows skipped for errors",
+  );
 
   // Worker list → the new worker's record.
   await page.getByRole("link", { name: "Go to the worker list" }).click();
@@ -36,7 +46,9 @@ test("assessor: roster with bad rows, consent, manual test, five traces, profile
   await page.getByRole("link", { name: "HV-90004" }).click();
   await expect(page.getByTestId("worker-name")).toHaveText("Dmitri Quayle");
   await expect(page.getByTestId("consent-assessment")).toHaveText("not given");
-  await expect(page.getByText("No assessment can be recorded: this worker has not given assessment consent.")).toBeVisible();
+  await expect(
+    page.getByText("No assessment can be recorded: this worker has not given assessment consent."),
+  ).toBeVisible();
 
   // Consent, witnessed by the second assessor.
   await page.getByLabel("Witnessed by (assessor)").selectOption({ label: persona("assessor").displayName });
@@ -75,7 +87,9 @@ test("assessor: roster with bad rows, consent, manual test, five traces, profile
   await page.getByLabel("Trace kind").selectOption("sway");
   await page.getByLabel("Trace file").setInputFiles(path.join(TRACES, "sway-bad-time.csv"));
   await page.getByRole("button", { name: "Upload and compute" }).click();
-  await expect(page.getByTestId("issue-list")).toContainText("Row 502, t: time 4.9 is not after the previous time 4.99 (row 501); times must increase");
+  await expect(page.getByTestId("issue-list")).toContainText(
+    "Row 502, t: time 4.9 is not after the previous time 4.99 (row 501); times must increase",
+  );
   await expect(page.getByTestId("results-table").locator("tbody tr")).toHaveCount(11);
 
   // Back to the record: profile chart and its table.
@@ -88,7 +102,9 @@ test("assessor: roster with bad rows, consent, manual test, five traces, profile
   // Withdraw assessment consent: erased at once.
   await page.getByLabel("Type WITHDRAW to confirm (assessment)").fill("WITHDRAW");
   await page.getByRole("button", { name: "Withdraw assessment consent" }).click();
-  await expect(page.getByRole("status")).toContainText("Assessment consent withdrawn. Erased at once (rows deleted): assessment results: 11, trace uploads: 5, assessment sessions: 1");
+  await expect(page.getByRole("status")).toContainText(
+    "Assessment consent withdrawn. Erased at once (rows deleted): assessment results: 11, trace uploads: 5, assessment sessions: 1",
+  );
   await expect(page.getByTestId("consent-assessment")).toHaveText("withdrawn");
   await expect(page.getByText("No z-scores yet")).toBeVisible();
 
@@ -97,10 +113,23 @@ test("assessor: roster with bad rows, consent, manual test, five traces, profile
   try {
     const count = (q: string) => (sql.prepare(q).get(workerId) as { n: number }).n;
     expect(count("select count(*) as n from assessment_sessions where worker_id = ?")).toBe(0);
-    expect(count("select count(*) as n from trace_uploads t join assessment_sessions s on s.id = t.session_id where s.worker_id = ?")).toBe(0);
-    expect(count("select count(*) as n from assessment_results r join assessment_sessions s on s.id = r.session_id where s.worker_id = ?")).toBe(0);
-    expect(sql.prepare("select status, given_at, witness_user_id from consent_records where worker_id = ? and purpose = 'assessment'").all(workerId))
-      .toEqual([{ status: "withdrawn", given_at: null, witness_user_id: null }]);
+    expect(
+      count(
+        "select count(*) as n from trace_uploads t join assessment_sessions s on s.id = t.session_id where s.worker_id = ?",
+      ),
+    ).toBe(0);
+    expect(
+      count(
+        "select count(*) as n from assessment_results r join assessment_sessions s on s.id = r.session_id where s.worker_id = ?",
+      ),
+    ).toBe(0);
+    expect(
+      sql
+        .prepare(
+          "select status, given_at, witness_user_id from consent_records where worker_id = ? and purpose = 'assessment'",
+        )
+        .all(workerId),
+    ).toEqual([{ status: "withdrawn", given_at: null, witness_user_id: null }]);
   } finally {
     sql.close();
   }

@@ -3,7 +3,11 @@ import { expect, persona, test } from "./fixtures";
 // Issue 5, done-when: in the browser a coordinator runs an allocation on the demo scenario, watches progress,
 // reads the result and the binding resources, compares two runs, publishes, and the e-mails with .ics files
 // arrive at the local catcher.
-test("coordinator runs, compares and publishes an allocation; workers and trainers get .ics e-mails", async ({ page, signInAs, outbox }, testInfo) => {
+test("coordinator runs, compares and publishes an allocation; workers and trainers get .ics e-mails", async ({
+  page,
+  signInAs,
+  outbox,
+}, testInfo) => {
   test.setTimeout(120_000);
   await signInAs(page, persona("coordinator").email);
   await page.goto("/coordinate/runs");
@@ -48,11 +52,20 @@ test("coordinator runs, compares and publishes an allocation; workers and traine
   await page.getByRole("button", { name: /Publish this plan|Publish again/ }).click();
   const notice = page.getByRole("status").filter({ hasText: "Published as plan version" });
   await expect(notice).toBeVisible({ timeout: 60_000 });
-  const workerMail = await outbox.waitFor((m) => m.subject === "Your device training schedule" && m.attachments.some((a) => a.filename.endsWith(".ics")) && m.text.includes("Device training:"));
-  const ics = Buffer.from(workerMail.attachments.find((a) => a.filename.endsWith(".ics"))!.content, "base64").toString("utf8");
+  const workerMail = await outbox.waitFor(
+    (m) =>
+      m.subject === "Your device training schedule" &&
+      m.attachments.some((a) => a.filename.endsWith(".ics")) &&
+      m.text.includes("Device training:"),
+  );
+  const ics = Buffer.from(workerMail.attachments.find((a) => a.filename.endsWith(".ics"))!.content, "base64").toString(
+    "utf8",
+  );
   expect(ics).toContain("BEGIN:VEVENT");
   expect(workerMail.text).toContain("wear-time limit");
-  const trainerMail = await outbox.waitFor((m) => m.text.includes("Your trainer sessions") && m.attachments.some((a) => a.filename.endsWith(".ics")));
+  const trainerMail = await outbox.waitFor(
+    (m) => m.text.includes("Your trainer sessions") && m.attachments.some((a) => a.filename.endsWith(".ics")),
+  );
   expect(Buffer.from(trainerMail.attachments[0].content, "base64").toString("utf8")).toContain("Training session:");
   expect(outbox.all().length).toBeGreaterThan(before);
   await page.screenshot({ path: testInfo.outputPath("published.png"), fullPage: false });
@@ -67,7 +80,9 @@ test("the run page works at 390 px wide", async ({ page, signInAs }, testInfo) =
   await page.getByRole("button", { name: "Start the run" }).click();
   await page.waitForURL(/\/coordinate\/runs\/\d+$/);
   await expect(page.getByRole("heading", { name: "Result" })).toBeVisible({ timeout: 60_000 });
-  const overflow = await page.evaluate(() => document.documentElement.scrollWidth - document.documentElement.clientWidth);
+  const overflow = await page.evaluate(
+    () => document.documentElement.scrollWidth - document.documentElement.clientWidth,
+  );
   expect(overflow).toBeLessThanOrEqual(0);
   await page.screenshot({ path: testInfo.outputPath("run-390.png"), fullPage: false });
 });

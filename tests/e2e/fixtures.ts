@@ -29,13 +29,13 @@
  * Run: npx react-router build && npx playwright test --config tests/e2e/playwright.config.ts
  * Screenshots you take with testInfo.outputPath("name.png") land in test-results/e2e/ (git-ignored).
  */
-import { test as base, expect, type BrowserContext, type Cookie, type Page } from "@playwright/test";
-import { readOutbox as readOutboxDir, type CaughtMessage } from "../../scripts/smtp-catcher";
+import { type BrowserContext, test as base, type Cookie, expect, type Page } from "@playwright/test";
+import { type CaughtMessage, readOutbox as readOutboxDir } from "../../scripts/smtp-catcher";
 import { DEMO_PERSONAS, type DemoPersona } from "../../seeds/lib/personas";
-import { e2eState, type E2eState } from "./state";
+import { type E2eState, e2eState } from "./state";
 
-export { expect };
 export type { CaughtMessage, DemoPersona, E2eState };
+export { expect };
 
 export const SESSION_COOKIE = "__limberly";
 
@@ -69,24 +69,34 @@ export async function signInAs(page: Page, email: string, options: SignInOptions
   await page.goto("/sign-in");
   const start = new URL(page.url());
   if (start.pathname !== "/sign-in") {
-    throw new Error(`signInAs(${email}): /sign-in sent this page on to ${start.pathname}, so someone is already signed in here. Use a fresh page or signOut first.`);
+    throw new Error(
+      `signInAs(${email}): /sign-in sent this page on to ${start.pathname}, so someone is already signed in here. Use a fresh page or signOut first.`,
+    );
   }
   const origin = start.origin;
-  const personaForm = page.locator("form").filter({ has: page.locator(`input[type="hidden"][name="login_hint"][value=${JSON.stringify(email)}]`) });
+  const personaForm = page
+    .locator("form")
+    .filter({ has: page.locator(`input[type="hidden"][name="login_hint"][value=${JSON.stringify(email)}]`) });
   if ((await personaForm.count()) === 1) {
     await personaForm.getByRole("button").click();
   } else {
     await page.getByLabel("Another identity (e-mail)").fill(email);
     await page.getByRole("button", { name: "Sign in as this identity" }).click();
   }
-  await page.waitForURL((u) => u.origin === origin && (!FLOW_PATHS.has(u.pathname) || (u.pathname === "/sign-in" && u.searchParams.has("error"))));
+  await page.waitForURL(
+    (u) =>
+      u.origin === origin &&
+      (!FLOW_PATHS.has(u.pathname) || (u.pathname === "/sign-in" && u.searchParams.has("error"))),
+  );
   const landed = new URL(page.url());
   if (landed.pathname === "/sign-in") {
     throw new Error(`signInAs(${email}): sign-in failed: ${landed.searchParams.get("error")}`);
   }
   const notProvisioned = landed.pathname === "/auth/not-provisioned";
-  if (want === "signed-in" && notProvisioned) throw new Error(`signInAs(${email}): this identity is not provisioned in Limberly.`);
-  if (want === "not-provisioned" && !notProvisioned) throw new Error(`signInAs(${email}): expected /auth/not-provisioned, landed on ${landed.pathname}.`);
+  if (want === "signed-in" && notProvisioned)
+    throw new Error(`signInAs(${email}): this identity is not provisioned in Limberly.`);
+  if (want === "not-provisioned" && !notProvisioned)
+    throw new Error(`signInAs(${email}): expected /auth/not-provisioned, landed on ${landed.pathname}.`);
   return landed;
 }
 
@@ -102,7 +112,10 @@ export function readOutbox(): CaughtMessage[] {
 }
 
 /** Waits until a caught message matches (mail is sent asynchronously); throws naming what did arrive. */
-export async function waitForMail(predicate: (m: CaughtMessage) => boolean, options: { timeoutMs?: number } = {}): Promise<CaughtMessage> {
+export async function waitForMail(
+  predicate: (m: CaughtMessage) => boolean,
+  options: { timeoutMs?: number } = {},
+): Promise<CaughtMessage> {
   const deadline = Date.now() + (options.timeoutMs ?? 10_000);
   for (;;) {
     const all = readOutbox();
@@ -132,11 +145,17 @@ interface Fixtures {
 
 export const test = base.extend<Fixtures>({
   // eslint-disable-next-line no-empty-pattern
-  stack: async ({}, use) => { await use(e2eState()); },
+  stack: async ({}, use) => {
+    await use(e2eState());
+  },
   // eslint-disable-next-line no-empty-pattern
-  signInAs: async ({}, use) => { await use(signInAs); },
+  signInAs: async ({}, use) => {
+    await use(signInAs);
+  },
   // eslint-disable-next-line no-empty-pattern
-  signOut: async ({}, use) => { await use(signOut); },
+  signOut: async ({}, use) => {
+    await use(signOut);
+  },
   pageAs: async ({ browser, stack }, use) => {
     const contexts: BrowserContext[] = [];
     await use(async (email) => {

@@ -5,7 +5,11 @@ import { expect, persona, test } from "./fixtures";
 
 const second = "rhea.lindqvist@harrowvale.example";
 
-test("an assessor fits and saves a model, a second assessor approves it, and a worker's forecast uses it", async ({ page, signInAs, pageAs }, testInfo) => {
+test("an assessor fits and saves a model, a second assessor approves it, and a worker's forecast uses it", async ({
+  page,
+  signInAs,
+  pageAs,
+}, testInfo) => {
   await signInAs(page, persona("assessor").email);
   await page.goto("/models/new");
   await page.getByLabel("Device type").selectOption({ label: "Back-support exoskeleton" });
@@ -36,7 +40,10 @@ test("an assessor fits and saves a model, a second assessor approves it, and a w
   const versionNumber = (await reviewer.getByRole("heading", { level: 1 }).textContent())!.match(/v(\d+)/)![1];
 
   await reviewer.goto("/forecast?q=HV-00001");
-  await reviewer.getByRole("link", { name: /HV-00001/ }).first().click();
+  await reviewer
+    .getByRole("link", { name: /HV-00001/ })
+    .first()
+    .click();
   const card = reviewer.getByTestId("forecast-EXO-BACK");
   await expect(card.getByTestId("median")).toHaveText(/^\d+\.\d h$/);
   await expect(card.getByTestId("interval")).toHaveText(/^\d+\.\d–\d+\.\d h$/);
@@ -49,7 +56,10 @@ test("an assessor fits and saves a model, a second assessor approves it, and a w
 test("a coordinator sees the hours and interval but no scores or explanation", async ({ page, signInAs }) => {
   await signInAs(page, persona("coordinator").email);
   await page.goto("/forecast?q=HV-00001");
-  await page.getByRole("link", { name: /HV-00001/ }).first().click();
+  await page
+    .getByRole("link", { name: /HV-00001/ })
+    .first()
+    .click();
   const card = page.getByTestId("forecast-SRF-FOOT");
   await expect(card.getByTestId("median")).toHaveText(/^\d+\.\d h$/);
   await expect(card.getByTestId("forecast-explanation")).toHaveCount(0);
@@ -57,10 +67,18 @@ test("a coordinator sees the hours and interval but no scores or explanation", a
   await expect(page.getByText(/baseline z =/)).toHaveCount(0);
 });
 
-test("logging a session moves the remaining-hours forecast and the progress chart", async ({ page, signInAs }, testInfo) => {
+test("logging a session moves the remaining-hours forecast and the progress chart", async ({
+  page,
+  signInAs,
+}, testInfo) => {
   await signInAs(page, persona("assessor").email);
   await page.goto("/progress");
-  await page.getByRole("row").filter({ hasText: "HV-00001" }).filter({ hasText: "Foot-driven supernumerary finger" }).getByRole("link").click();
+  await page
+    .getByRole("row")
+    .filter({ hasText: "HV-00001" })
+    .filter({ hasText: "Foot-driven supernumerary finger" })
+    .getByRole("link")
+    .click();
   await expect(page.getByRole("heading", { level: 1 })).toContainText("Foot-driven supernumerary finger");
   const rows = page.getByTestId("sessions").locator("tbody tr");
   const points = page.getByTestId("progress-chart").locator(".recharts-scatter-symbol");

@@ -7,16 +7,19 @@ import net from "node:net";
 import os from "node:os";
 import path from "node:path";
 import { fileURLToPath } from "node:url";
-import { startStack, type Stack } from "../../scripts/stack";
+import { type Stack, startStack } from "../../scripts/stack";
 import { e2ePorts } from "./ports";
-import { STATE_ENV, type E2eState } from "./state";
+import { type E2eState, STATE_ENV } from "./state";
 
 const root = path.resolve(path.dirname(fileURLToPath(import.meta.url)), "../..");
 
 function portInUse(port: number): Promise<boolean> {
   return new Promise((resolve) => {
     const socket = net.connect({ port, host: "127.0.0.1" });
-    socket.once("connect", () => { socket.destroy(); resolve(true); });
+    socket.once("connect", () => {
+      socket.destroy();
+      resolve(true);
+    });
     socket.once("error", () => resolve(false));
   });
 }
@@ -46,10 +49,17 @@ function appServerChildren(): number[] {
 async function stopStack(stack: Stack): Promise<void> {
   const stopping = stack.stop();
   const graceMs = 3_000;
-  const inTime = await Promise.race([stopping.then(() => true), new Promise<boolean>((r) => setTimeout(() => r(false), graceMs))]);
+  const inTime = await Promise.race([
+    stopping.then(() => true),
+    new Promise<boolean>((r) => setTimeout(() => r(false), graceMs)),
+  ]);
   if (!inTime) {
     for (const pid of appServerChildren()) {
-      try { process.kill(pid, "SIGKILL"); } catch { /* already gone */ }
+      try {
+        process.kill(pid, "SIGKILL");
+      } catch {
+        /* already gone */
+      }
     }
     await stopping;
   }
@@ -58,11 +68,15 @@ async function stopStack(stack: Stack): Promise<void> {
 export default async function globalSetup(): Promise<() => Promise<void>> {
   const serverEntry = path.join(root, "build/server/index.js");
   if (!fs.existsSync(serverEntry)) {
-    throw new Error(`The e2e tests run the built app, but ${path.relative(root, serverEntry)} is missing. Run \`npm run build\` (or \`npx react-router build\`) first.`);
+    throw new Error(
+      `The e2e tests run the built app, but ${path.relative(root, serverEntry)} is missing. Run \`npm run build\` (or \`npx react-router build\`) first.`,
+    );
   }
   for (const [name, port] of Object.entries(e2ePorts)) {
     if (await portInUse(port)) {
-      throw new Error(`Port ${port} (${name}) is already in use; stop whatever listens there or set E2E_${name.toUpperCase()}_PORT.`);
+      throw new Error(
+        `Port ${port} (${name}) is already in use; stop whatever listens there or set E2E_${name.toUpperCase()}_PORT.`,
+      );
     }
   }
 
@@ -76,10 +90,16 @@ export default async function globalSetup(): Promise<() => Promise<void>> {
   delete childEnv.NODE_OPTIONS;
   for (const command of ["latest", "seed"]) {
     try {
-      execFileSync(process.execPath, ["--import", "tsx", "scripts/migrate.ts", command], { cwd: root, env: childEnv, stdio: ["ignore", "pipe", "pipe"] });
+      execFileSync(process.execPath, ["--import", "tsx", "scripts/migrate.ts", command], {
+        cwd: root,
+        env: childEnv,
+        stdio: ["ignore", "pipe", "pipe"],
+      });
     } catch (e) {
       const err = e as { stdout?: Buffer; stderr?: Buffer };
-      throw new Error(`scripts/migrate.ts ${command} failed against ${databaseUrl}:\n${err.stdout?.toString() ?? ""}${err.stderr?.toString() ?? ""}`);
+      throw new Error(
+        `scripts/migrate.ts ${command} failed against ${databaseUrl}:\n${err.stdout?.toString() ?? ""}${err.stderr?.toString() ?? ""}`,
+      );
     }
   }
 
@@ -88,8 +108,13 @@ export default async function globalSetup(): Promise<() => Promise<void>> {
   let stack: Stack;
   try {
     stack = await startStack({
-      appPort: e2ePorts.app, idpPort: e2ePorts.idp, smtpPort: e2ePorts.smtp,
-      databaseUrl, outboxDir, mode: "test", quiet: true,
+      appPort: e2ePorts.app,
+      idpPort: e2ePorts.idp,
+      smtpPort: e2ePorts.smtp,
+      databaseUrl,
+      outboxDir,
+      mode: "test",
+      quiet: true,
     });
   } finally {
     if (savedNodeOptions !== undefined) process.env.NODE_OPTIONS = savedNodeOptions;

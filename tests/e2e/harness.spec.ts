@@ -9,12 +9,25 @@ test("the health endpoint answers on the stack's base URL", async ({ request }) 
   expect(await res.json()).toEqual({ status: "ok" });
 });
 
-test("mail caught by the SMTP catcher is readable by tests and listed on the admin outbox page", async ({ page, signInAs, outbox, stack }) => {
+test("mail caught by the SMTP catcher is readable by tests and listed on the admin outbox page", async ({
+  page,
+  signInAs,
+  outbox,
+  stack,
+}) => {
   const to = "harness.check@harrowvale.example";
   const subject = "Harness check: caught mail";
-  const transport = nodemailer.createTransport({ host: "127.0.0.1", port: stack.smtpPort, secure: false, ignoreTLS: true });
+  const transport = nodemailer.createTransport({
+    host: "127.0.0.1",
+    port: stack.smtpPort,
+    secure: false,
+    ignoreTLS: true,
+  });
   await transport.sendMail({
-    from: "Limberly e2e <e2e@limberly.local>", to, subject, text: "Body line one.\nBody line two.",
+    from: "Limberly e2e <e2e@limberly.local>",
+    to,
+    subject,
+    text: "Body line one.\nBody line two.",
     attachments: [{ filename: "note.txt", content: "attached text", contentType: "text/plain" }],
   });
   transport.close();

@@ -36,7 +36,13 @@ export default defineConfig({
     launchOptions: {
       // Debian's Chromium; never a downloaded browser.
       executablePath: "/usr/bin/chromium",
-      args: ["--no-sandbox", "--disable-gpu", "--disable-background-networking", "--disable-component-update", "--disable-sync"],
+      args: [
+        "--no-sandbox",
+        "--disable-gpu",
+        "--disable-background-networking",
+        "--disable-component-update",
+        "--disable-sync",
+      ],
     },
   },
   projects: [{ name: "chromium" }],

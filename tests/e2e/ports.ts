@@ -4,7 +4,8 @@ function port(name: string, fallback: number): number {
   const v = process.env[name];
   if (v == null || v === "") return fallback;
   const n = Number(v);
-  if (!Number.isInteger(n) || n < 1 || n > 65535) throw new Error(`${name} must be a port number (1–65535), got "${v}".`);
+  if (!Number.isInteger(n) || n < 1 || n > 65535)
+    throw new Error(`${name} must be a port number (1–65535), got "${v}".`);
   return n;
 }
 

@@ -17,7 +17,12 @@ const HOME: Record<DemoPersona["role"], string> = {
 
 test.describe("sign-in and sign-out for each demo persona", () => {
   for (const p of DEMO_PERSONAS) {
-    test(`${p.role} ${p.displayName} lands on ${HOME[p.role]} and signs out`, async ({ page, signInAs, signOut, stack }) => {
+    test(`${p.role} ${p.displayName} lands on ${HOME[p.role]} and signs out`, async ({
+      page,
+      signInAs,
+      signOut,
+      stack,
+    }) => {
       const landed = await signInAs(page, p.email);
       expect(landed.pathname).toBe(HOME[p.role]);
       const heading = page.getByTestId("role-home");
@@ -66,7 +71,10 @@ test.describe("at 390 px wide", () => {
   test.use({ viewport: { width: 390, height: 844 } });
 
   async function expectNoHorizontalScroll(page: import("@playwright/test").Page) {
-    const widths = await page.evaluate(() => ({ scroll: document.scrollingElement!.scrollWidth, client: document.documentElement.clientWidth }));
+    const widths = await page.evaluate(() => ({
+      scroll: document.scrollingElement!.scrollWidth,
+      client: document.documentElement.clientWidth,
+    }));
     expect(widths.client).toBe(390);
     expect(widths.scroll, "document.scrollingElement.scrollWidth").toBeLessThanOrEqual(390);
   }
@@ -86,7 +94,9 @@ test.describe("at 390 px wide", () => {
 
 test.describe("accessibility (axe-core)", () => {
   async function seriousViolations(page: import("@playwright/test").Page) {
-    const result = await new AxeBuilder({ page }).withTags(["wcag2a", "wcag2aa", "wcag21a", "wcag21aa", "best-practice"]).analyze();
+    const result = await new AxeBuilder({ page })
+      .withTags(["wcag2a", "wcag2aa", "wcag21a", "wcag21aa", "best-practice"])
+      .analyze();
     return result.violations
       .filter((v) => v.impact === "serious" || v.impact === "critical")
       .map((v) => `${v.impact} ${v.id}: ${v.help} — ${v.nodes.map((n) => n.target.join(" ")).join(", ")}`);
@@ -114,7 +124,11 @@ test.describe("accessibility (axe-core)", () => {
 });
 
 test.describe("admin: users and API keys", () => {
-  test("a bad e-mail is named on its field, a valid user is added and can sign in", async ({ page, signInAs, pageAs }) => {
+  test("a bad e-mail is named on its field, a valid user is added and can sign in", async ({
+    page,
+    signInAs,
+    pageAs,
+  }) => {
     await signInAs(page, persona("admin").email);
     await page.goto("/admin/users");
     const form = page.getByRole("region", { name: "Add a user" });
@@ -159,7 +173,9 @@ test.describe("admin: users and API keys", () => {
     const create = page.getByRole("region", { name: "Create a key" });
     await create.getByRole("textbox", { name: "Name (the calling system)", exact: true }).fill(name);
     await create.getByRole("combobox", { name: "Role", exact: true }).selectOption({ label: "Coordinator" });
-    await create.getByRole("listbox", { name: "Sites", exact: true }).selectOption([{ label: "North Yard" }, { label: "Eastgate" }]);
+    await create
+      .getByRole("listbox", { name: "Sites", exact: true })
+      .selectOption([{ label: "North Yard" }, { label: "Eastgate" }]);
     await create.getByRole("button", { name: "Create key" }).click();
 
     const shown = page.getByTestId("new-api-key");

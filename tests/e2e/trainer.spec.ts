@@ -10,19 +10,43 @@ test.afterAll(closeSql);
 /** A start `hoursAgo` before now, but never before this week's Monday 00:00 UTC (the trainer's week view). */
 function startThisWeek(hoursAgo: number): Date {
   const now = new Date();
-  const monday = new Date(Date.UTC(now.getUTCFullYear(), now.getUTCMonth(), now.getUTCDate() - ((now.getUTCDay() + 6) % 7)));
+  const monday = new Date(
+    Date.UTC(now.getUTCFullYear(), now.getUTCMonth(), now.getUTCDate() - ((now.getUTCDay() + 6) % 7)),
+  );
   const start = new Date(Math.max(now.getTime() - hoursAgo * 3_600_000, monday.getTime()));
   start.setUTCSeconds(0, 0);
   return start;
 }
 
-async function schedule(db: Knex, workerId: number, deviceTypeId: number, trainerId: number, start: Date, minutes: number) {
-  const [row] = await db("training_sessions").insert({ worker_id: workerId, device_type_id: deviceTypeId, trainer_id: trainerId,
-    scheduled_start: start.toISOString(), scheduled_end: new Date(start.getTime() + minutes * 60_000).toISOString(), status: "scheduled", created_at: new Date().toISOString() }).returning("id");
+async function schedule(
+  db: Knex,
+  workerId: number,
+  deviceTypeId: number,
+  trainerId: number,
+  start: Date,
+  minutes: number,
+) {
+  const [row] = await db("training_sessions")
+    .insert({
+      worker_id: workerId,
+      device_type_id: deviceTypeId,
+      trainer_id: trainerId,
+      scheduled_start: start.toISOString(),
+      scheduled_end: new Date(start.getTime() + minutes * 60_000).toISOString(),
+      status: "scheduled",
+      created_at: new Date().toISOString(),
+    })
+    .returning("id");
   return row.id as number;
 }
 
-test("a trainer logs a score and the worker's chart moves; a severe event pauses the worker and e-mails the assessors", async ({ page, signInAs, pageAs, outbox, stack }, testInfo) => {
+test("a trainer logs a score and the worker's chart moves; a severe event pauses the worker and e-mails the assessors", async ({
+  page,
+  signInAs,
+  pageAs,
+  outbox,
+  stack,
+}, testInfo) => {
   const db = sql(stack.databaseUrl);
   const w = await portalAccount(db, 0);
   const foot = w.device;
@@ -67,7 +91,11 @@ test("a trainer logs a score and the worker's chart moves; a severe event pauses
   await page.getByLabel("Numbness or tingling: what happened (optional)").fill("Numb toes after 20 minutes; stopped.");
   await page.getByRole("button", { name: "Save session" }).click();
   await expect(page.getByRole("status")).toContainText("Training is paused");
-  const mail = await outbox.waitFor((m) => m.subject === `Training paused: severe adverse event for ${w.employeeNumber}` && m.text.includes("Numb toes after 20 minutes"));
+  const mail = await outbox.waitFor(
+    (m) =>
+      m.subject === `Training paused: severe adverse event for ${w.employeeNumber}` &&
+      m.text.includes("Numb toes after 20 minutes"),
+  );
   expect(mail.to).toContain(persona("assessor").email);
   await worker.reload();
   await expect(worker.getByTestId("paused")).toContainText(foot.name);
@@ -78,7 +106,10 @@ test("a trainer logs a score and the worker's chart moves; a severe event pauses
 
 test("a trainer cannot open or record another trainer's session (403)", async ({ page, signInAs, stack }) => {
   const db = sql(stack.databaseUrl);
-  const other = await db("trainers as t").join("users as u", "u.id", "t.user_id").whereNot("u.email", persona("trainer").email).first("t.id");
+  const other = await db("trainers as t")
+    .join("users as u", "u.id", "t.user_id")
+    .whereNot("u.email", persona("trainer").email)
+    .first("t.id");
   const w = await db("workers").where({ employee_number: "HV-00200" }).first("id");
   const back = await db("device_types").where({ code: "EXO-BACK" }).first("id");
   const id = await schedule(db, w.id, back.id, other.id, new Date(Date.now() + 3_600_000), 60);
@@ -87,14 +118,24 @@ test("a trainer cannot open or record another trainer's session (403)", async ({
   expect(res?.status()).toBe(403);
   await expect(page.getByRole("heading", { level: 1 })).toHaveText("Not allowed");
   await expect(page.getByText("HV-00200")).toHaveCount(0);
-  const post = await page.request.post(`/train/sessions/${id}`, { form: { intent: "no_show" }, headers: { Origin: new URL(page.url()).origin } });
+  const post = await page.request.post(`/train/sessions/${id}`, {
+    form: { intent: "no_show" },
+    headers: { Origin: new URL(page.url()).origin },
+  });
   expect(post.status()).toBe(403);
   expect((await db("training_sessions").where({ id }).first()).status).toBe("scheduled");
 });
 
-test("the trainer's day and session log have no serious or critical accessibility violations at 390 px (axe-core)", async ({ page, signInAs, stack }) => {
+test("the trainer's day and session log have no serious or critical accessibility violations at 390 px (axe-core)", async ({
+  page,
+  signInAs,
+  stack,
+}) => {
   const db = sql(stack.databaseUrl);
-  const s = await db("training_sessions").where({ trainer_id: await inesTrainerId(db), status: "scheduled" }).orderBy("id").first("id");
+  const s = await db("training_sessions")
+    .where({ trainer_id: await inesTrainerId(db), status: "scheduled" })
+    .orderBy("id")
+    .first("id");
   await page.setViewportSize({ width: 390, height: 860 });
   await signInAs(page, persona("trainer").email);
   for (const path of ["/train", `/train/sessions/${s.id}`]) {

@@ -7,7 +7,12 @@ import { closeSql, inesTrainerId, portalAccount, seriousViolations, sql } from "
 
 test.afterAll(closeSql);
 
-test("a worker sees their plan, downloads their data, withdraws planning consent and leaves every plan", async ({ page, signInAs, outbox, stack }, testInfo) => {
+test("a worker sees their plan, downloads their data, withdraws planning consent and leaves every plan", async ({
+  page,
+  signInAs,
+  outbox,
+  stack,
+}, testInfo) => {
   const db = sql(stack.databaseUrl);
   const me = await portalAccount(db, 1);
   const arm = me.device;
@@ -16,8 +21,18 @@ test("a worker sees their plan, downloads their data, withdraws planning consent
   // A session two days ahead, whatever today is.
   const start = new Date(Date.now() + 48 * 3_600_000);
   start.setUTCHours(10, 0, 0, 0);
-  const [s] = await db("training_sessions").insert({ worker_id: me.id, device_type_id: arm.id, trainer_id: ines.id, device_unit_id: unit.id,
-    scheduled_start: start.toISOString(), scheduled_end: new Date(start.getTime() + Math.min(60, arm.wearTimeLimitMinutes) * 60_000).toISOString(), status: "scheduled", created_at: new Date().toISOString() }).returning("id");
+  const [s] = await db("training_sessions")
+    .insert({
+      worker_id: me.id,
+      device_type_id: arm.id,
+      trainer_id: ines.id,
+      device_unit_id: unit.id,
+      scheduled_start: start.toISOString(),
+      scheduled_end: new Date(start.getTime() + Math.min(60, arm.wearTimeLimitMinutes) * 60_000).toISOString(),
+      status: "scheduled",
+      created_at: new Date().toISOString(),
+    })
+    .returning("id");
 
   await page.setViewportSize({ width: 390, height: 860 });
   expect((await signInAs(page, me.email)).pathname).toBe("/me");
@@ -31,16 +46,32 @@ test("a worker sees their plan, downloads their data, withdraws planning consent
 
   // Downloads: JSON and XLSX of everything held, and the calendar file.
   await page.getByRole("link", { name: "My record and downloads" }).click();
-  const [json] = await Promise.all([page.waitForEvent("download"), page.getByRole("link", { name: "Download as JSON" }).click()]);
-  expect(json.suggestedFilename()).toBe(`limberly-my-data-${me.employeeNumber}-${new Date().toISOString().slice(0, 10)}.json`);
+  const [json] = await Promise.all([
+    page.waitForEvent("download"),
+    page.getByRole("link", { name: "Download as JSON" }).click(),
+  ]);
+  expect(json.suggestedFilename()).toBe(
+    `limberly-my-data-${me.employeeNumber}-${new Date().toISOString().slice(0, 10)}.json`,
+  );
   const data = JSON.parse(fs.readFileSync(await json.path(), "utf8"));
   expect(data.worker.employeeNumber).toBe(me.employeeNumber);
   expect(data.sessions.some((x: { scheduledStart: string }) => x.scheduledStart === start.toISOString())).toBe(true);
   expect(new Set(JSON.stringify(data).match(/HV-\d{5}/g))).toEqual(new Set([me.employeeNumber]));
-  const [xlsx] = await Promise.all([page.waitForEvent("download"), page.getByRole("link", { name: "Download as spreadsheet (XLSX)" }).click()]);
+  const [xlsx] = await Promise.all([
+    page.waitForEvent("download"),
+    page.getByRole("link", { name: "Download as spreadsheet (XLSX)" }).click(),
+  ]);
   expect(xlsx.suggestedFilename()).toMatch(/\.xlsx$/);
-  expect(fs.readFileSync(await xlsx.path()).subarray(0, 2).toString()).toBe("PK");
-  const [ics] = await Promise.all([page.waitForEvent("download"), page.getByRole("link", { name: /calendar file/ }).click()]);
+  expect(
+    fs
+      .readFileSync(await xlsx.path())
+      .subarray(0, 2)
+      .toString(),
+  ).toBe("PK");
+  const [ics] = await Promise.all([
+    page.waitForEvent("download"),
+    page.getByRole("link", { name: /calendar file/ }).click(),
+  ]);
   const cal = fs.readFileSync(await ics.path(), "utf8");
   // Same UID scheme as the allocation area's publish e-mails (one event per session in the worker's calendar).
   expect(cal).toContain(`UID:w${me.id}-${start.toISOString().slice(0, 10)}-1000-${arm.id}@limberly`);
@@ -64,7 +95,9 @@ test("a worker sees their plan, downloads their data, withdraws planning consent
   await expect(page.getByTestId("no-forecast")).toBeVisible();
   expect((await db("training_sessions").where({ id: s.id }).first()).status).toBe("cancelled");
   expect(Number((await db("forecasts").where({ worker_id: me.id }).count({ n: "*" }).first())?.n)).toBe(0);
-  const mail = await outbox.waitFor((m) => m.subject === `Consent withdrawn: ${me.employeeNumber} leaves training plans`);
+  const mail = await outbox.waitFor(
+    (m) => m.subject === `Consent withdrawn: ${me.employeeNumber} leaves training plans`,
+  );
   expect(mail.to).toContain(persona("coordinator").email);
   // The allocation pool takes only workers with planning consent in force and a forecast (DESIGN §4); both are gone.
   // (tests/integration/portals.test.ts builds the next run's pool with the allocation area's buildProblem and
@@ -75,7 +108,11 @@ test("a worker sees their plan, downloads their data, withdraws planning consent
   expect(plan.forecasts).toEqual([]);
 });
 
-test("the worker home fits 390 px: next sessions, stage, forecast in words, progress chart and cautions", async ({ page, signInAs, stack }, testInfo) => {
+test("the worker home fits 390 px: next sessions, stage, forecast in words, progress chart and cautions", async ({
+  page,
+  signInAs,
+  stack,
+}, testInfo) => {
   await page.setViewportSize({ width: 390, height: 860 });
   await signInAs(page, persona("worker").email);
   await expect(page.getByRole("heading", { level: 1 })).toHaveText("My plan and data");
@@ -90,13 +127,23 @@ test("the worker home fits 390 px: next sessions, stage, forecast in words, prog
   await page.screenshot({ path: testInfo.outputPath("worker-home-desktop.png"), fullPage: true });
   // Another worker's data are not reachable by URL.
   const other = await portalAccount(sql(stack.databaseUrl), 0);
-  for (const path of [`/forecast/${other.id}`, `/progress/${other.id}/${other.device.id}`, `/assess/workers/${other.id}`]) {
+  for (const path of [
+    `/forecast/${other.id}`,
+    `/progress/${other.id}/${other.device.id}`,
+    `/assess/workers/${other.id}`,
+  ]) {
     const res = await page.goto(path);
     expect(res?.status(), path).toBe(403);
   }
 });
 
-test("a worker asks for a review; an assessor answers in the app and the worker is e-mailed", async ({ page, signInAs, pageAs, outbox, stack }) => {
+test("a worker asks for a review; an assessor answers in the app and the worker is e-mailed", async ({
+  page,
+  signInAs,
+  pageAs,
+  outbox,
+  stack,
+}) => {
   const db = sql(stack.databaseUrl);
   const me = await portalAccount(db, 0);
   await signInAs(page, me.email);
@@ -116,13 +163,18 @@ test("a worker asks for a review; an assessor answers in the app and the worker 
   await item.getByRole("button", { name: "Send answer" }).click();
   await expect(assessor.getByRole("status")).toContainText("Answer saved and e-mailed");
 
-  const mail = await outbox.waitFor((m) => m.to.includes(me.email) && m.subject === "Your review request has been answered" && m.text.includes(answer));
+  const mail = await outbox.waitFor(
+    (m) => m.to.includes(me.email) && m.subject === "Your review request has been answered" && m.text.includes(answer),
+  );
   expect(mail.text).toContain("Morwenna Pike");
   await page.reload();
   await expect(page.getByTestId("my-reviews")).toContainText(answer);
 });
 
-test("the worker pages have no serious or critical accessibility violations at 390 px (axe-core)", async ({ page, signInAs }) => {
+test("the worker pages have no serious or critical accessibility violations at 390 px (axe-core)", async ({
+  page,
+  signInAs,
+}) => {
   await page.setViewportSize({ width: 390, height: 860 });
   await signInAs(page, persona("worker").email);
   for (const path of ["/me", "/me/consent", "/me/record", "/me/review"]) {

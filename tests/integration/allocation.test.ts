@@ -1,7 +1,7 @@
 import crypto from "node:crypto";
 import { describe, expect, inject, it } from "vitest";
 import { readOutbox } from "../../scripts/smtp-catcher";
-import { baseUrl, type Browserless, PERSONA, signIn, testDb } from "./helpers";
+import { type Browserless, baseUrl, PERSONA, signIn, testDb } from "./helpers";
 
 // Allocator application (issue 5) against the real built server and the seeded demo database: runs solve in
 // the background (worker thread) and report progress; publishing writes dated sessions that keep every rule
@@ -14,7 +14,13 @@ const minutes = (hhmm: string) => Number(hhmm.slice(0, 2)) * 60 + Number(hhmm.sl
 
 async function startRun(client: Browserless, fields: Record<string, string | string[]>): Promise<number> {
   const res = await client.postForm("/coordinate/runs", fields);
-  expect(res.status, await res.clone().text().then((t) => t.slice(0, 300))).toBe(302);
+  expect(
+    res.status,
+    await res
+      .clone()
+      .text()
+      .then((t) => t.slice(0, 300)),
+  ).toBe(302);
   const m = /\/coordinate\/runs\/(\d+)$/.exec(res.headers.get("Location") ?? "");
   expect(m).not.toBeNull();
   return Number(m![1]);
@@ -40,21 +46,50 @@ async function planVersionOnPage(client: Browserless, id: number): Promise<numbe
 
 const RUN = { startDate: "2026-12-07", horizonWeeks: "6", planningQuantile: "80", fairnessShare: "20" };
 
-type SessionRow = { id: number; worker_id: number; trainer_id: number; device_unit_id: number; device_type_id: number; scheduled_start: string; scheduled_end: string };
+type SessionRow = {
+  id: number;
+  worker_id: number;
+  trainer_id: number;
+  device_unit_id: number;
+  device_type_id: number;
+  scheduled_start: string;
+  scheduled_end: string;
+};
 const sessionsOf = (runId: number): Promise<SessionRow[]> =>
-  k()("training_sessions").where({ allocation_run_id: runId, status: "scheduled" }).select("id", "worker_id", "trainer_id", "device_unit_id", "device_type_id", "scheduled_start", "scheduled_end");
+  k()("training_sessions")
+    .where({ allocation_run_id: runId, status: "scheduled" })
+    .select("id", "worker_id", "trainer_id", "device_unit_id", "device_type_id", "scheduled_start", "scheduled_end");
 
 /** Independent check of every published session against the rules of DESIGN §3.5, second stage. */
 async function checkSessions(rows: SessionRow[]) {
-  const isoWeekday = (d: string) => { const x = new Date(`${d}T00:00:00Z`).getUTCDay(); return x === 0 ? 7 : x; };
-  const mondayOf = (d: string) => { const x = new Date(`${d}T00:00:00Z`); x.setUTCDate(x.getUTCDate() - (isoWeekday(d) - 1)); return x.toISOString().slice(0, 10); };
+  const isoWeekday = (d: string) => {
+    const x = new Date(`${d}T00:00:00Z`).getUTCDay();
+    return x === 0 ? 7 : x;
+  };
+  const mondayOf = (d: string) => {
+    const x = new Date(`${d}T00:00:00Z`);
+    x.setUTCDate(x.getUTCDate() - (isoWeekday(d) - 1));
+    return x.toISOString().slice(0, 10);
+  };
   const patterns = await k()("trainer_working_pattern").select("trainer_id", "weekday", "start_time", "end_time");
   const tleave = await k()("trainer_leave").select("trainer_id", "starts_on", "ends_on");
   const wleave = await k()("worker_leave").select("worker_id", "starts_on", "ends_on");
-  const units = new Map((await k()("device_units").select("id", "status", "bookable_hours_per_week", "device_type_id")).map((u) => [u.id, u]));
+  const units = new Map(
+    (await k()("device_units").select("id", "status", "bookable_hours_per_week", "device_type_id")).map((u) => [
+      u.id,
+      u,
+    ]),
+  );
   const maint = await k()("unit_maintenance_windows").select("device_unit_id", "starts_on", "ends_on");
-  const trainers = new Map((await k()("trainers").select("id", "hours_per_week", "trainees_per_session")).map((t) => [t.id, t]));
-  const wear = new Map((await k()("device_types").select("id", "wear_time_limit_minutes")).map((d) => [d.id, Number(d.wear_time_limit_minutes)]));
+  const trainers = new Map(
+    (await k()("trainers").select("id", "hours_per_week", "trainees_per_session")).map((t) => [t.id, t]),
+  );
+  const wear = new Map(
+    (await k()("device_types").select("id", "wear_time_limit_minutes")).map((d) => [
+      d.id,
+      Number(d.wear_time_limit_minutes),
+    ]),
+  );
   const certs = await k()("trainer_certifications").select("trainer_id", "device_type_id");
   const unitWeek = new Map<string, number>();
   const workerDay = new Set<string>();
@@ -68,16 +103,31 @@ async function checkSessions(rows: SessionRow[]) {
     expect(to - from, `session ${s.id} has a positive length`).toBeGreaterThan(0);
     expect(to - from, `session ${s.id} within the wear-time limit`).toBeLessThanOrEqual(wear.get(s.device_type_id)!);
     // trainer: certified, inside a working window of that weekday, not on leave
-    expect(certs.some((c) => c.trainer_id === s.trainer_id && c.device_type_id === s.device_type_id), `session ${s.id}: trainer certified`).toBe(true);
+    expect(
+      certs.some((c) => c.trainer_id === s.trainer_id && c.device_type_id === s.device_type_id),
+      `session ${s.id}: trainer certified`,
+    ).toBe(true);
     const windows = patterns.filter((p) => p.trainer_id === s.trainer_id && Number(p.weekday) === isoWeekday(date));
-    expect(windows.some((w) => minutes(w.start_time) <= from && to <= minutes(w.end_time)), `session ${s.id} ${date} ${st}–${en} inside trainer ${s.trainer_id}'s working hours`).toBe(true);
-    expect(tleave.some((l) => l.trainer_id === s.trainer_id && date >= l.starts_on && date <= l.ends_on), `session ${s.id}: trainer not on leave`).toBe(false);
-    expect(wleave.some((l) => l.worker_id === s.worker_id && date >= l.starts_on && date <= l.ends_on), `session ${s.id}: worker not on leave`).toBe(false);
+    expect(
+      windows.some((w) => minutes(w.start_time) <= from && to <= minutes(w.end_time)),
+      `session ${s.id} ${date} ${st}–${en} inside trainer ${s.trainer_id}'s working hours`,
+    ).toBe(true);
+    expect(
+      tleave.some((l) => l.trainer_id === s.trainer_id && date >= l.starts_on && date <= l.ends_on),
+      `session ${s.id}: trainer not on leave`,
+    ).toBe(false);
+    expect(
+      wleave.some((l) => l.worker_id === s.worker_id && date >= l.starts_on && date <= l.ends_on),
+      `session ${s.id}: worker not on leave`,
+    ).toBe(false);
     // unit: in service, right type, not in maintenance, weekly bookable hours
     const u = units.get(s.device_unit_id)!;
     expect(u.status).toBe("in_service");
     expect(u.device_type_id).toBe(s.device_type_id);
-    expect(maint.some((m) => m.device_unit_id === s.device_unit_id && date >= m.starts_on && date <= m.ends_on), `session ${s.id}: unit not in maintenance`).toBe(false);
+    expect(
+      maint.some((m) => m.device_unit_id === s.device_unit_id && date >= m.starts_on && date <= m.ends_on),
+      `session ${s.id}: unit not in maintenance`,
+    ).toBe(false);
     const uw = `${s.device_unit_id}|${mondayOf(date)}`;
     unitWeek.set(uw, (unitWeek.get(uw) ?? 0) + (to - from));
     // one session per worker per day
@@ -93,12 +143,18 @@ async function checkSessions(rows: SessionRow[]) {
   }
   for (const [key, used] of unitWeek) {
     const unitId = Number(key.split("|")[0]);
-    expect(used, `unit ${key} booked within its bookable hours`).toBeLessThanOrEqual(Number(units.get(unitId)!.bookable_hours_per_week) * 60 + 1e-9);
+    expect(used, `unit ${key} booked within its bookable hours`).toBeLessThanOrEqual(
+      Number(units.get(unitId)!.bookable_hours_per_week) * 60 + 1e-9,
+    );
   }
   const all = [...slots.values()];
   for (const a of all) {
-    expect(a.n, `slot ${a.trainer} ${a.date} ${a.from}: trainees per session`).toBeLessThanOrEqual(Number(trainers.get(a.trainer)!.trainees_per_session));
-    for (const b of all) if (a !== b && a.trainer === b.trainer && a.date === b.date) expect(a.from < b.to && b.from < a.to, `trainer ${a.trainer} double-booked on ${a.date}`).toBe(false);
+    expect(a.n, `slot ${a.trainer} ${a.date} ${a.from}: trainees per session`).toBeLessThanOrEqual(
+      Number(trainers.get(a.trainer)!.trainees_per_session),
+    );
+    for (const b of all)
+      if (a !== b && a.trainer === b.trainer && a.date === b.date)
+        expect(a.from < b.to && b.from < a.to, `trainer ${a.trainer} double-booked on ${a.date}`).toBe(false);
   }
   // unit overlaps
   const byUnitDay = new Map<string, [number, number][]>();
@@ -106,7 +162,10 @@ async function checkSessions(rows: SessionRow[]) {
     const [date, st] = s.scheduled_start.split("T");
     const list = byUnitDay.get(`${s.device_unit_id}|${date}`) ?? [];
     const iv: [number, number] = [minutes(st), minutes(s.scheduled_end.split("T")[1])];
-    expect(list.some(([f, t]) => iv[0] < t && f < iv[1]), `unit ${s.device_unit_id} double-booked on ${date}`).toBe(false);
+    expect(
+      list.some(([f, t]) => iv[0] < t && f < iv[1]),
+      `unit ${s.device_unit_id} double-booked on ${date}`,
+    ).toBe(false);
     list.push(iv);
     byUnitDay.set(`${s.device_unit_id}|${date}`, list);
   }
@@ -125,13 +184,20 @@ function fingerprints(rows: SessionRow[]) {
 }
 
 function changedIds(before: Map<number, string>, after: Map<number, string>): number[] {
-  return [...new Set([...before.keys(), ...after.keys()])].filter((id) => before.get(id) !== after.get(id)).sort((a, b) => a - b);
+  return [...new Set([...before.keys(), ...after.keys()])]
+    .filter((id) => before.get(id) !== after.get(id))
+    .sort((a, b) => a - b);
 }
 
 describe("allocation runs", () => {
   it("refuse bad parameters with a message naming the field", async () => {
     const { client } = await signIn(PERSONA.coordinator);
-    const res = await client.postForm("/coordinate/runs", { startDate: "2026-12-08", horizonWeeks: "0", planningQuantile: "40", fairnessShare: "120" });
+    const res = await client.postForm("/coordinate/runs", {
+      startDate: "2026-12-08",
+      horizonWeeks: "0",
+      planningQuantile: "40",
+      fairnessShare: "120",
+    });
     expect(res.status).toBe(200);
     const html = await res.text();
     expect(html).toContain("The start date must be a Monday.");
@@ -154,12 +220,21 @@ describe("allocation runs", () => {
     expect(plan.bound).toBeGreaterThanOrEqual(plan.objective - 1e-9);
     // objective = Σ priority of workers made ready (DESIGN §3.5), recomputed from the snapshot
     const prio = new Map(problem.workers.map((w: { id: string; priority: number }) => [w.id, w.priority]));
-    expect(plan.objective).toBeCloseTo(plan.assignments.reduce((t: number, a: { workerId: string }) => t + (prio.get(a.workerId) as number), 0), 9);
+    expect(plan.objective).toBeCloseTo(
+      plan.assignments.reduce((t: number, a: { workerId: string }) => t + (prio.get(a.workerId) as number), 0),
+      9,
+    );
     // pool: only workers with planning consent in force and a forecast from an approved model
     for (const w of problem.workers) {
-      const consent = await k()("consent_records").where({ worker_id: Number(w.id), purpose: "planning" }).orderBy("id", "desc").first();
+      const consent = await k()("consent_records")
+        .where({ worker_id: Number(w.id), purpose: "planning" })
+        .orderBy("id", "desc")
+        .first();
       expect(consent?.status).toBe("given");
-      const f = await k()("forecasts as f").join("model_versions as m", "m.id", "f.model_version_id").where({ "f.worker_id": Number(w.id), "m.status": "approved" }).first("f.id");
+      const f = await k()("forecasts as f")
+        .join("model_versions as m", "m.id", "f.model_version_id")
+        .where({ "f.worker_id": Number(w.id), "m.status": "approved" })
+        .first("f.id");
       expect(f).toBeDefined();
     }
     const html = await (await client.request(`/coordinate/runs/${id}`)).text();
@@ -197,7 +272,9 @@ describe("publishing", () => {
 
     // every worker and trainer with sessions gets one e-mail with a calendar file
     const fresh = readOutbox(inject("outboxDir")).slice(mailBefore);
-    const workers = await k()("workers").whereIn("id", [...new Set(rows.map((r) => r.worker_id))]).select("email");
+    const workers = await k()("workers")
+      .whereIn("id", [...new Set(rows.map((r) => r.worker_id))])
+      .select("email");
     for (const w of workers) {
       const m = fresh.filter((x) => x.to.includes(w.email));
       expect(m.length, `one e-mail to ${w.email}`).toBe(1);
@@ -209,18 +286,32 @@ describe("publishing", () => {
     // the calendar file holds exactly that worker's sessions
     const one = rows[0];
     const w1 = await k()("workers").where({ id: one.worker_id }).first("email");
-    const icsText = Buffer.from(fresh.find((x) => x.to.includes(w1.email))!.attachments[0].content, "base64").toString("utf8");
-    expect((icsText.match(/BEGIN:VEVENT/g) ?? []).length).toBe(rows.filter((r) => r.worker_id === one.worker_id).length);
+    const icsText = Buffer.from(fresh.find((x) => x.to.includes(w1.email))!.attachments[0].content, "base64").toString(
+      "utf8",
+    );
+    expect((icsText.match(/BEGIN:VEVENT/g) ?? []).length).toBe(
+      rows.filter((r) => r.worker_id === one.worker_id).length,
+    );
     const [d, t] = one.scheduled_start.split("T");
     expect(icsText).toContain(`DTSTART:${d.replace(/-/g, "")}T${t.replace(/:/g, "").slice(0, 6)}`);
-    const trainerEmails = await k()("trainers as t").join("users as u", "u.id", "t.user_id").whereIn("t.id", [...new Set(rows.map((r) => r.trainer_id))]).select("u.email");
-    for (const te of trainerEmails) expect(fresh.some((x) => x.to.includes(te.email) && x.attachments.some((at) => at.filename.endsWith(".ics")))).toBe(true);
+    const trainerEmails = await k()("trainers as t")
+      .join("users as u", "u.id", "t.user_id")
+      .whereIn("t.id", [...new Set(rows.map((r) => r.trainer_id))])
+      .select("u.email");
+    for (const te of trainerEmails)
+      expect(
+        fresh.some((x) => x.to.includes(te.email) && x.attachments.some((at) => at.filename.endsWith(".ics"))),
+      ).toBe(true);
 
     // XLSX schedule export
     const x = await a.client.request("/coordinate/schedule.xlsx");
     expect(x.status).toBe(200);
     expect(x.headers.get("Content-Type")).toContain("spreadsheetml");
-    expect(Buffer.from(await x.arrayBuffer()).subarray(0, 2).toString()).toBe("PK");
+    expect(
+      Buffer.from(await x.arrayBuffer())
+        .subarray(0, 2)
+        .toString(),
+    ).toBe("PK");
   });
 
   it("republishing notifies only the people whose sessions changed", async () => {
@@ -234,7 +325,10 @@ describe("publishing", () => {
     expect((await waitDone(client, id)).status).toBe("done");
     const version = await planVersionOnPage(client, id);
     const mailBefore = readOutbox(inject("outboxDir")).length;
-    const res = await client.postForm(`/coordinate/runs/${id}`, { intent: "publish", expectedPlanVersion: String(version) });
+    const res = await client.postForm(`/coordinate/runs/${id}`, {
+      intent: "publish",
+      expectedPlanVersion: String(version),
+    });
     expect(res.status).toBe(200);
     const after = await sessionsOf(id);
     await checkSessions(after);
@@ -243,9 +337,19 @@ describe("publishing", () => {
 
     const fb = fingerprints(before);
     const fa = fingerprints(after);
-    const workerEmails = new Map((await k()("workers").select("id", "email")).map((w) => [w.id as number, w.email as string]));
-    const trainerEmails = new Map((await k()("trainers as t").join("users as u", "u.id", "t.user_id").select("t.id", "u.email")).map((t) => [t.id as number, t.email as string]));
-    const expected = new Set([...changedIds(fb.worker, fa.worker).map((i) => workerEmails.get(i)!), ...changedIds(fb.trainer, fa.trainer).map((i) => trainerEmails.get(i)!)]);
+    const workerEmails = new Map(
+      (await k()("workers").select("id", "email")).map((w) => [w.id as number, w.email as string]),
+    );
+    const trainerEmails = new Map(
+      (await k()("trainers as t").join("users as u", "u.id", "t.user_id").select("t.id", "u.email")).map((t) => [
+        t.id as number,
+        t.email as string,
+      ]),
+    );
+    const expected = new Set([
+      ...changedIds(fb.worker, fa.worker).map((i) => workerEmails.get(i)!),
+      ...changedIds(fb.trainer, fa.trainer).map((i) => trainerEmails.get(i)!),
+    ]);
     expect(expected.has(trainerEmails.get(away)!)).toBe(true);
     const fresh = readOutbox(inject("outboxDir")).slice(mailBefore);
     const got = new Set(fresh.flatMap((m) => m.to));
@@ -257,7 +361,9 @@ describe("publishing", () => {
     // publishing the same plan again changes nobody's sessions: nobody is e-mailed
     const v2 = await planVersionOnPage(client, id);
     const mid = readOutbox(inject("outboxDir")).length;
-    expect((await client.postForm(`/coordinate/runs/${id}`, { intent: "publish", expectedPlanVersion: String(v2) })).status).toBe(200);
+    expect(
+      (await client.postForm(`/coordinate/runs/${id}`, { intent: "publish", expectedPlanVersion: String(v2) })).status,
+    ).toBe(200);
     await new Promise((r) => setTimeout(r, 300));
     expect(readOutbox(inject("outboxDir")).slice(mid)).toHaveLength(0);
   });
@@ -266,15 +372,31 @@ describe("publishing", () => {
     const { client } = await signIn(PERSONA.coordinator);
     const dt = await k()("device_types").where({ code: "EXO-BACK" }).first("id");
     const site = await k()("sites").where({ code: "EG" }).first("id");
-    const id = await startRun(client, { ...RUN, label: "it-add-unit", addUnitDeviceTypeId: String(dt.id), addUnitSiteId: String(site.id), addUnitCount: "2" });
+    const id = await startRun(client, {
+      ...RUN,
+      label: "it-add-unit",
+      addUnitDeviceTypeId: String(dt.id),
+      addUnitSiteId: String(site.id),
+      addUnitCount: "2",
+    });
     expect((await waitDone(client, id)).status).toBe("done");
     const html = await (await client.request(`/coordinate/runs/${id}`)).text();
     expect(html).toContain("cannot be published");
     const version = (await k()("published_plan_state").where({ id: 1 }).first()).version;
-    const res = await client.postForm(`/coordinate/runs/${id}`, { intent: "publish", expectedPlanVersion: String(version) });
+    const res = await client.postForm(`/coordinate/runs/${id}`, {
+      intent: "publish",
+      expectedPlanVersion: String(version),
+    });
     expect(res.status).toBe(400);
     const assessor = await signIn(PERSONA.assessor);
-    expect((await assessor.client.postForm(`/coordinate/runs/${id}`, { intent: "publish", expectedPlanVersion: String(version) })).status).toBe(403);
+    expect(
+      (
+        await assessor.client.postForm(`/coordinate/runs/${id}`, {
+          intent: "publish",
+          expectedPlanVersion: String(version),
+        })
+      ).status,
+    ).toBe(403);
     expect((await k()("published_plan_state").where({ id: 1 }).first()).version).toBe(version);
   });
 });
@@ -283,16 +405,27 @@ describe("API /api/v1/allocation-runs", () => {
   const makeKey = async (role: string, siteCodes: string[]) => {
     const prefix = crypto.randomBytes(6).toString("hex");
     const secret = crypto.randomBytes(32).toString("base64url");
-    const [row] = await k()("api_keys").insert({ name: `alloc-it-${role}-${prefix}`, prefix, secret_hash: crypto.createHash("sha256").update(secret).digest("hex"), role, created_at: new Date().toISOString() }).returning("id");
+    const [row] = await k()("api_keys")
+      .insert({
+        name: `alloc-it-${role}-${prefix}`,
+        prefix,
+        secret_hash: crypto.createHash("sha256").update(secret).digest("hex"),
+        role,
+        created_at: new Date().toISOString(),
+      })
+      .returning("id");
     for (const code of siteCodes) {
       const s = await k()("sites").where({ code }).first("id");
       await k()("api_key_sites").insert({ api_key_id: row.id, site_id: s.id });
     }
     return `lbk_${prefix}_${secret}`;
   };
-  const post = (key: string | null, body: unknown) => fetch(`${baseUrl()}/api/v1/allocation-runs`, {
-    method: "POST", headers: { "Content-Type": "application/json", ...(key ? { Authorization: `Bearer ${key}` } : {}) }, body: JSON.stringify(body),
-  });
+  const post = (key: string | null, body: unknown) =>
+    fetch(`${baseUrl()}/api/v1/allocation-runs`, {
+      method: "POST",
+      headers: { "Content-Type": "application/json", ...(key ? { Authorization: `Bearer ${key}` } : {}) },
+      body: JSON.stringify(body),
+    });
   const params = { startDate: "2026-12-07", horizonWeeks: 4, planningQuantile: 0.8, fairnessShare: 0.2 };
 
   it("starts a run for a coordinator key and reports its status and result", async () => {
@@ -302,7 +435,9 @@ describe("API /api/v1/allocation-runs", () => {
     const { id } = await res.json();
     let body: any;
     for (let i = 0; i < 600; i++) {
-      body = await (await fetch(`${baseUrl()}/api/v1/allocation-runs/${id}`, { headers: { Authorization: `Bearer ${key}` } })).json();
+      body = await (
+        await fetch(`${baseUrl()}/api/v1/allocation-runs/${id}`, { headers: { Authorization: `Bearer ${key}` } })
+      ).json();
       if (body.status === "done" || body.status === "failed") break;
       await new Promise((r) => setTimeout(r, 100));
     }
@@ -329,7 +464,10 @@ describe("API /api/v1/allocation-runs", () => {
     for (const role of ["assessor", "trainer", "manager", "worker", "admin"]) {
       const key = await makeKey(role, ["NY"]);
       expect((await post(key, params)).status, role).toBe(403);
-      expect((await fetch(`${baseUrl()}/api/v1/allocation-runs/1`, { headers: { Authorization: `Bearer ${key}` } })).status, role).toBe(403);
+      expect(
+        (await fetch(`${baseUrl()}/api/v1/allocation-runs/1`, { headers: { Authorization: `Bearer ${key}` } })).status,
+        role,
+      ).toBe(403);
     }
     expect((await post(null, params)).status).toBe(401);
     // a coordinator key for another site does not see this site's runs
@@ -337,6 +475,9 @@ describe("API /api/v1/allocation-runs", () => {
     expect(started.status).toBe(202);
     const { id } = await started.json();
     const rsKey = await makeKey("coordinator", ["RS"]);
-    expect((await fetch(`${baseUrl()}/api/v1/allocation-runs/${id}`, { headers: { Authorization: `Bearer ${rsKey}` } })).status).toBe(404);
+    expect(
+      (await fetch(`${baseUrl()}/api/v1/allocation-runs/${id}`, { headers: { Authorization: `Bearer ${rsKey}` } }))
+        .status,
+    ).toBe(404);
   });
 });

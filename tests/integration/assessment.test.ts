@@ -2,10 +2,9 @@ import crypto from "node:crypto";
 import fs from "node:fs";
 import path from "node:path";
 import ExcelJS from "exceljs";
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { inject } from "vitest";
+import { afterAll, beforeAll, describe, expect, inject, it } from "vitest";
 import { computeTrace, parseTrace } from "~/compute/trace-parsing";
-import { PERSONA, type Browserless, signIn, testDb } from "./helpers";
+import { type Browserless, PERSONA, signIn, testDb } from "./helpers";
 
 // Assessment area (issue 3) against the running stack and the seeded demo (seeds/01, 02).
 // Outside references named beside the checks: Node's crypto for SHA-256, exceljs for reading the export,
@@ -20,10 +19,20 @@ beforeAll(async () => {
 
 /** Visible text of an HTML page: tags and React's text separators removed, entities decoded. */
 function text(html: string): string {
-  return html.replace(/<!-- -->/g, "").replace(/<[^>]+>/g, "").replace(/&quot;/g, '"').replace(/&#x27;|&#39;/g, "'").replace(/&amp;/g, "&").replace(/&lt;/g, "<").replace(/&gt;/g, ">");
+  return html
+    .replace(/<!-- -->/g, "")
+    .replace(/<[^>]+>/g, "")
+    .replace(/&quot;/g, '"')
+    .replace(/&#x27;|&#39;/g, "'")
+    .replace(/&amp;/g, "&")
+    .replace(/&lt;/g, "<")
+    .replace(/&gt;/g, ">");
 }
 
-function multipart(fields: Record<string, string>, file?: { field: string; name: string; bytes: Uint8Array; type?: string }): FormData {
+function multipart(
+  fields: Record<string, string>,
+  file?: { field: string; name: string; bytes: Uint8Array; type?: string },
+): FormData {
   const fd = new FormData();
   for (const [key, v] of Object.entries(fields)) fd.append(key, v);
   if (file) fd.append(file.field, new Blob([new Uint8Array(file.bytes)], { type: file.type ?? "text/csv" }), file.name);
@@ -36,12 +45,19 @@ async function workerByNumber(n: string) {
 
 /** A worker with no consent records and no assessment data, given assessment consent through the app. */
 async function freshConsentedWorker(): Promise<number> {
-  const w = await k("workers").where({ stage: "invited" })
+  const w = await k("workers")
+    .where({ stage: "invited" })
     .whereNotExists(k("consent_records").whereRaw("consent_records.worker_id = workers.id"))
     .whereNotExists(k("assessment_sessions").whereRaw("assessment_sessions.worker_id = workers.id"))
-    .orderBy("id", "desc").first("id");
+    .orderBy("id", "desc")
+    .first("id");
   const me = await k("users").where({ email: PERSONA.assessor }).first("id");
-  const res = await assessor.postForm(`/assess/workers/${w.id}`, { intent: "consent", purposes: ["assessment"], witnessUserId: String(me.id), confirmRead: "on" });
+  const res = await assessor.postForm(`/assess/workers/${w.id}`, {
+    intent: "consent",
+    purposes: ["assessment"],
+    witnessUserId: String(me.id),
+    confirmRead: "on",
+  });
   expect(res.status).toBe(200);
   return w.id;
 }
@@ -52,7 +68,9 @@ describe("refusals: coordinator, manager and admin never get assessment data", (
     const paths = [
       `/assess/workers/${session.worker_id}`,
       `/assess/workers/${session.worker_id}/sessions/${session.id}`,
-      "/assess/measures", "/assess/norms", "/assess/reliability",
+      "/assess/measures",
+      "/assess/norms",
+      "/assess/reliability",
     ];
     for (const who of [PERSONA.coordinator, PERSONA.manager, PERSONA.admin]) {
       const { client } = await signIn(who);
@@ -70,7 +88,11 @@ describe("refusals: coordinator, manager and admin never get assessment data", (
     const before = await k("consent_records").where({ worker_id: workerId }).count({ n: "*" }).first();
     for (const who of [PERSONA.coordinator, PERSONA.manager]) {
       const { client } = await signIn(who);
-      const w = await client.postForm(`/assess/workers/${workerId}`, { intent: "withdraw", purpose: "assessment", confirm: "WITHDRAW" });
+      const w = await client.postForm(`/assess/workers/${workerId}`, {
+        intent: "withdraw",
+        purpose: "assessment",
+        confirm: "WITHDRAW",
+      });
       expect(w.status, `${who} withdraw`).toBe(403);
       const s = await client.postForm(`/assess/workers/${workerId}`, { intent: "session", assessedOn: "2026-11-20" });
       expect(s.status, `${who} session`).toBe(403);
@@ -94,8 +116,20 @@ describe("refusals: coordinator, manager and admin never get assessment data", (
   it("scopes an assessor: a worker at a site outside the assignment is not found", async () => {
     // Give a new assessor only Eastgate and ask for a North Yard worker.
     const eg = await k("sites").where({ code: "EG" }).first("id");
-    const [u] = await k("users").insert({ email: "scoped.assessor@harrowvale.example", display_name: "Scoped Assessor", active: true, created_at: new Date().toISOString() }).returning("id");
-    await k("role_assignments").insert({ user_id: u.id, role: "assessor", site_id: eg.id, created_at: new Date().toISOString() });
+    const [u] = await k("users")
+      .insert({
+        email: "scoped.assessor@harrowvale.example",
+        display_name: "Scoped Assessor",
+        active: true,
+        created_at: new Date().toISOString(),
+      })
+      .returning("id");
+    await k("role_assignments").insert({
+      user_id: u.id,
+      role: "assessor",
+      site_id: eg.id,
+      created_at: new Date().toISOString(),
+    });
     const { client } = await signIn("scoped.assessor@harrowvale.example");
     const ny = await k("workers as w").join("sites as s", "s.id", "w.site_id").where("s.code", "NY").first("w.id");
     expect((await client.request(`/assess/workers/${ny.id}`)).status).toBe(404);
@@ -107,7 +141,10 @@ describe("refusals: coordinator, manager and admin never get assessment data", (
 describe("roster import", () => {
   it("previews the demo roster with every bad row named, then imports only the valid rows", async () => {
     const bytes = fs.readFileSync(path.join(TRACES, "roster-demo.csv"));
-    const up = await assessor.request("/assess/roster", { method: "POST", body: multipart({}, { field: "roster", name: "roster-demo.csv", bytes }) });
+    const up = await assessor.request("/assess/roster", {
+      method: "POST",
+      body: multipart({}, { field: "roster", name: "roster-demo.csv", bytes }),
+    });
     expect(up.status).toBe(302);
     const previewUrl = up.headers.get("Location")!;
     const html = text(await (await assessor.request(previewUrl)).text());
@@ -118,21 +155,28 @@ describe("roster import", () => {
       'Row 10, Department: unknown department "Welding" at Eastgate',
       "Row 11, Employee number: employee number HV-90001 appears twice in the file (first on row 2)",
       "Row 2, Employee number: employee number HV-90001 appears again later in the file",
-    ]) expect(html).toContain(expected);
+    ])
+      expect(html).toContain(expected);
     expect(html).toContain("11 rows: 4 new, 1 to update, 0 unchanged, 6 with errors (skipped).");
     expect(await workerByNumber("HV-90002")).toBeUndefined(); // preview writes nothing
 
     const before = await workerByNumber("HV-00002");
     const imp = await assessor.postForm(previewUrl, { intent: "import" });
     expect(imp.status).toBe(200);
-    const created = await k("workers").whereIn("employee_number", ["HV-90002", "HV-90003", "HV-90004", "HV-90005"]).select("employee_number", "stage", "email");
+    const created = await k("workers")
+      .whereIn("employee_number", ["HV-90002", "HV-90003", "HV-90004", "HV-90005"])
+      .select("employee_number", "stage", "email");
     expect(created.map((w) => w.employee_number).sort()).toEqual(["HV-90002", "HV-90003", "HV-90004", "HV-90005"]);
     expect(created.every((w) => w.stage === "invited")).toBe(true);
-    for (const bad of ["HV-90001", "HV-90007", "HV-90008", "HV-90009"]) expect(await workerByNumber(bad)).toBeUndefined();
+    for (const bad of ["HV-90001", "HV-90007", "HV-90008", "HV-90009"])
+      expect(await workerByNumber(bad)).toBeUndefined();
     const after = await workerByNumber("HV-00002");
     expect([after.given_name, after.family_name]).toEqual(["Corrected", "Name"]);
     expect(after.email).toBe(before.email); // empty e-mail cell keeps the one on file
-    const kt = await k("departments as d").join("sites as s", "s.id", "d.site_id").where({ "s.code": "NY", "d.code": "KT" }).first("d.id");
+    const kt = await k("departments as d")
+      .join("sites as s", "s.id", "d.site_id")
+      .where({ "s.code": "NY", "d.code": "KT" })
+      .first("d.id");
     expect(after.department_id).toBe(kt.id);
     const newId = (await workerByNumber("HV-90002")).id;
     const sc = await k("stage_changes").where({ worker_id: newId }).first();
@@ -150,10 +194,28 @@ describe("roster import", () => {
     const wb = new ExcelJS.Workbook();
     const ws = wb.addWorksheet("Staff");
     ws.addRow(["Staff ID", "Given name", "Surname", "Email", "Site", "Dept"]);
-    ws.addRow(["HV-91001", "Nell", "=HYPERLINK(\"http://x\")", "nell@harrowvale.example", "Riverside", "Kitting"]);
-    ws.addRow(["hv-91002", "@Otto", "Pryce", { text: "otto@harrowvale.example", hyperlink: "mailto:otto@harrowvale.example" }, "RS", "KT"]);
+    ws.addRow(["HV-91001", "Nell", '=HYPERLINK("http://x")', "nell@harrowvale.example", "Riverside", "Kitting"]);
+    ws.addRow([
+      "hv-91002",
+      "@Otto",
+      "Pryce",
+      { text: "otto@harrowvale.example", hyperlink: "mailto:otto@harrowvale.example" },
+      "RS",
+      "KT",
+    ]);
     const bytes = new Uint8Array(await wb.xlsx.writeBuffer());
-    const up = await assessor.request("/assess/roster", { method: "POST", body: multipart({}, { field: "roster", name: "staff.xlsx", bytes, type: "application/vnd.openxmlformats-officedocument.spreadsheetml.sheet" }) });
+    const up = await assessor.request("/assess/roster", {
+      method: "POST",
+      body: multipart(
+        {},
+        {
+          field: "roster",
+          name: "staff.xlsx",
+          bytes,
+          type: "application/vnd.openxmlformats-officedocument.spreadsheetml.sheet",
+        },
+      ),
+    });
     expect(up.status).toBe(302);
     const url = up.headers.get("Location")!;
     expect((await assessor.postForm(url, { intent: "import" })).status).toBe(200);
@@ -170,26 +232,44 @@ describe("roster import", () => {
     sheet.eachRow((r) => rows.push((r.values as unknown[]).slice(1).map((v) => String(v ?? ""))));
     expect(rows[0]).toEqual(["employee_number", "given_name", "family_name", "email", "site", "department", "stage"]);
     const nell = rows.find((r) => r[0] === "HV-91001")!;
-    expect(nell[2]).toBe("'=HYPERLINK(\"http://x\")");
+    expect(nell[2]).toBe('\'=HYPERLINK("http://x")');
     expect(rows.find((r) => r[0] === "HV-91002")![1]).toBe("'@Otto");
     // No cell of the export is a formula.
     let formulas = 0;
-    sheet.eachRow((r) => r.eachCell((c) => { if (c.type === ExcelJS.ValueType.Formula) formulas++; }));
+    sheet.eachRow((r) =>
+      r.eachCell((c) => {
+        if (c.type === ExcelJS.ValueType.Formula) formulas++;
+      }),
+    );
     expect(formulas).toBe(0);
   });
 
   it("names a missing column mapping and refuses a file that is not CSV or XLSX", async () => {
     const csv = new TextEncoder().encode("Number,Name\nHV-92001,Pat\n");
-    const up = await assessor.request("/assess/roster", { method: "POST", body: multipart({}, { field: "roster", name: "two.csv", bytes: csv }) });
+    const up = await assessor.request("/assess/roster", {
+      method: "POST",
+      body: multipart({}, { field: "roster", name: "two.csv", bytes: csv }),
+    });
     const url = up.headers.get("Location")!;
     const html = await (await assessor.request(url)).text();
     expect(html).toContain("Map every required column to see the preview.");
-    const r = await assessor.postForm(url, { intent: "map", "map.employeeNumber": "0", "map.givenName": "1", "map.familyName": "1", "map.site": "", "map.department": "", "map.email": "" });
+    const r = await assessor.postForm(url, {
+      intent: "map",
+      "map.employeeNumber": "0",
+      "map.givenName": "1",
+      "map.familyName": "1",
+      "map.site": "",
+      "map.department": "",
+      "map.email": "",
+    });
     expect(r.status).toBe(400);
     const body = await r.text();
     expect(body).toContain("Family name: that column is already mapped to Given name");
     expect(body).toContain("Site: choose the column that holds it");
-    const pdf = await assessor.request("/assess/roster", { method: "POST", body: multipart({}, { field: "roster", name: "roster.pdf", bytes: new Uint8Array([37, 80, 68, 70]) }) });
+    const pdf = await assessor.request("/assess/roster", {
+      method: "POST",
+      body: multipart({}, { field: "roster", name: "roster.pdf", bytes: new Uint8Array([37, 80, 68, 70]) }),
+    });
     expect(pdf.status).toBe(400);
     expect(await pdf.text()).toContain("roster.pdf is neither .csv nor .xlsx");
   });
@@ -200,18 +280,38 @@ describe("consent, baseline battery and withdrawal", () => {
     process.env.DATABASE_URL = inject("databaseFile");
     const { createSession, saveManualResults, saveTrace } = await import("~/models/assessments.server");
     const { ConsentRequiredError } = await import("~/models/consent.server");
-    const invited = await k("workers").where({ stage: "invited" }).whereNotExists(k("consent_records").whereRaw("consent_records.worker_id = workers.id")).first("id");
-    await expect(createSession({ workerId: invited.id, assessedOn: "2026-11-20", assessorUserId: 1 })).rejects.toBeInstanceOf(ConsentRequiredError);
+    const invited = await k("workers")
+      .where({ stage: "invited" })
+      .whereNotExists(k("consent_records").whereRaw("consent_records.worker_id = workers.id"))
+      .first("id");
+    await expect(
+      createSession({ workerId: invited.id, assessedOn: "2026-11-20", assessorUserId: 1 }),
+    ).rejects.toBeInstanceOf(ConsentRequiredError);
     // A session that exists for a worker who then has no consent: results and traces are refused too.
-    const [s] = await k("assessment_sessions").insert({ worker_id: invited.id, assessed_on: "2026-11-20", created_at: new Date().toISOString() }).returning("id");
-    await expect(saveManualResults({ workerId: invited.id, sessionId: s.id, values: [], userId: 1 })).rejects.toBeInstanceOf(ConsentRequiredError);
-    await expect(saveTrace({ workerId: invited.id, sessionId: s.id, kind: "force", filename: "f.csv", bytes: new TextEncoder().encode("target,produced\n1,1\n2,2\n3,3\n"), userId: 1 }))
-      .rejects.toBeInstanceOf(ConsentRequiredError);
+    const [s] = await k("assessment_sessions")
+      .insert({ worker_id: invited.id, assessed_on: "2026-11-20", created_at: new Date().toISOString() })
+      .returning("id");
+    await expect(
+      saveManualResults({ workerId: invited.id, sessionId: s.id, values: [], userId: 1 }),
+    ).rejects.toBeInstanceOf(ConsentRequiredError);
+    await expect(
+      saveTrace({
+        workerId: invited.id,
+        sessionId: s.id,
+        kind: "force",
+        filename: "f.csv",
+        bytes: new TextEncoder().encode("target,produced\n1,1\n2,2\n3,3\n"),
+        userId: 1,
+      }),
+    ).rejects.toBeInstanceOf(ConsentRequiredError);
     expect(await k("assessment_results").where({ session_id: s.id }).first()).toBeUndefined();
     expect(await k("trace_uploads").where({ session_id: s.id }).first()).toBeUndefined();
     await k("assessment_sessions").where({ id: s.id }).del();
     // Through HTTP as well: 409 and no session row.
-    const res = await assessor.postForm(`/assess/workers/${invited.id}`, { intent: "session", assessedOn: "2026-11-20" });
+    const res = await assessor.postForm(`/assess/workers/${invited.id}`, {
+      intent: "session",
+      assessedOn: "2026-11-20",
+    });
     expect(res.status).toBe(409);
     expect(await k("assessment_sessions").where({ worker_id: invited.id }).first()).toBeUndefined();
   });
@@ -220,17 +320,38 @@ describe("consent, baseline battery and withdrawal", () => {
     const worker = await workerByNumber("HV-90003"); // imported above as invited
     const me = await k("users").where({ email: PERSONA.assessor }).first("id");
     const witness = await k("users").where({ email: PERSONA.assessor2 }).first("id");
-    const missingConfirm = await assessor.postForm(`/assess/workers/${worker.id}`, { intent: "consent", purposes: ["assessment"], witnessUserId: String(witness.id) });
+    const missingConfirm = await assessor.postForm(`/assess/workers/${worker.id}`, {
+      intent: "consent",
+      purposes: ["assessment"],
+      witnessUserId: String(witness.id),
+    });
     expect(missingConfirm.status).toBe(400);
-    const c = await assessor.postForm(`/assess/workers/${worker.id}`, { intent: "consent", purposes: ["assessment", "planning", "model"], witnessUserId: String(witness.id), confirmRead: "on" });
+    const c = await assessor.postForm(`/assess/workers/${worker.id}`, {
+      intent: "consent",
+      purposes: ["assessment", "planning", "model"],
+      witnessUserId: String(witness.id),
+      confirmRead: "on",
+    });
     expect(c.status).toBe(200);
     const consents = await k("consent_records").where({ worker_id: worker.id }).select("*");
     expect(consents).toHaveLength(3);
-    const currentText = await k("consent_text_versions").where({ purpose: "assessment" }).orderBy("effective_from", "desc").first("id");
-    expect(consents.find((r) => r.purpose === "assessment")).toMatchObject({ status: "given", witness_user_id: witness.id, recorded_by: me.id, text_version_id: currentText.id });
+    const currentText = await k("consent_text_versions")
+      .where({ purpose: "assessment" })
+      .orderBy("effective_from", "desc")
+      .first("id");
+    expect(consents.find((r) => r.purpose === "assessment")).toMatchObject({
+      status: "given",
+      witness_user_id: witness.id,
+      recorded_by: me.id,
+      text_version_id: currentText.id,
+    });
     expect((await workerByNumber("HV-90003")).stage).toBe("consented");
 
-    const s = await assessor.postForm(`/assess/workers/${worker.id}`, { intent: "session", assessedOn: "2026-11-28", notes: "first baseline" });
+    const s = await assessor.postForm(`/assess/workers/${worker.id}`, {
+      intent: "session",
+      assessedOn: "2026-11-28",
+      notes: "first baseline",
+    });
     expect(s.status).toBe(302);
     const sessionUrl = s.headers.get("Location")!;
     const sessionId = Number(sessionUrl.split("/").pop());
@@ -243,13 +364,20 @@ describe("consent, baseline battery and withdrawal", () => {
     for (const kind of ["sway", "tracking", "glove", "timing", "force"] as const) {
       const file = `${kind}.csv`;
       const bytes = fs.readFileSync(path.join(TRACES, file));
-      const res = await assessor.request(sessionUrl, { method: "POST", body: multipart({ intent: "upload", kind }, { field: "trace", name: file, bytes }) });
+      const res = await assessor.request(sessionUrl, {
+        method: "POST",
+        body: multipart({ intent: "upload", kind }, { field: "trace", name: file, bytes }),
+      });
       expect(res.status, file).toBe(200);
       const up = await k("trace_uploads").where({ session_id: sessionId, kind }).first();
       expect(up.sha256).toBe(crypto.createHash("sha256").update(bytes).digest("hex")); // Node's crypto as the reference
       expect(up.size_bytes).toBe(bytes.byteLength);
       // Values equal the shared parser's on the same file (independent csv split by lines here).
-      const rows = bytes.toString("utf8").trim().split("\n").map((l) => l.split(","));
+      const rows = bytes
+        .toString("utf8")
+        .trim()
+        .split("\n")
+        .map((l) => l.split(","));
       const parsed = parseTrace(kind, rows);
       if (!parsed.ok) throw new Error(JSON.stringify(parsed.errors));
       const expected = computeTrace(kind, parsed);
@@ -257,29 +385,54 @@ describe("consent, baseline battery and withdrawal", () => {
       for (const [key, v] of Object.entries(expected)) expect(stored[key], `${file} ${key}`).toBeCloseTo(v, 9);
       expect(up.row_count).toBe(rows.length - 1);
     }
-    const results = await k("assessment_results as r").join("measures as m", "m.id", "r.measure_id").where("r.session_id", sessionId).select("m.code", "r.value", "r.z_score", "r.norm_set_id", "r.trace_upload_id");
+    const results = await k("assessment_results as r")
+      .join("measures as m", "m.id", "r.measure_id")
+      .where("r.session_id", sessionId)
+      .select("m.code", "r.value", "r.z_score", "r.norm_set_id", "r.trace_upload_id");
     expect(results.length).toBe(11); // 1 manual + 2 per trace kind configured in the demo battery
     expect(results.every((r) => r.norm_set_id != null && Number.isFinite(r.z_score))).toBe(true);
     // z turned so positive = better: recompute one by hand against its norm.
     const area = results.find((r) => r.code === "sway.ellipseArea95")!;
-    const norm = await k("norm_values as v").join("measures as m", "m.id", "v.measure_id").where({ "v.norm_set_id": area.norm_set_id, "m.code": "sway.ellipseArea95" }).first("v.mean", "v.sd");
+    const norm = await k("norm_values as v")
+      .join("measures as m", "m.id", "v.measure_id")
+      .where({ "v.norm_set_id": area.norm_set_id, "m.code": "sway.ellipseArea95" })
+      .first("v.mean", "v.sd");
     expect(area.z_score).toBeCloseTo(-(area.value - norm.mean) / norm.sd, 12);
     expect((await workerByNumber("HV-90003")).stage).toBe("baselined");
-    const countLog = async () => Number((await k("access_log").where({ worker_id: worker.id, actor_user_id: me.id }).count({ n: "*" }).first())!.n);
+    const countLog = async () =>
+      Number(
+        (await k("access_log").where({ worker_id: worker.id, actor_user_id: me.id }).count({ n: "*" }).first())!.n,
+      );
     const logged = await countLog();
     const page = await assessor.request(`/assess/workers/${worker.id}`);
     const html = await page.text();
     expect(html).toContain('data-testid="profile-table"');
     expect(text(html)).toContain("Sway 95 % ellipse area");
     expect(await countLog()).toBe(logged + 1);
-    const readLog = await k("access_log").where({ worker_id: worker.id, actor_user_id: me.id }).orderBy("id", "desc").first();
-    expect(readLog).toMatchObject({ resource: "assessment", action: "read", actor_role: "assessor", route: `/assess/workers/${worker.id}` });
+    const readLog = await k("access_log")
+      .where({ worker_id: worker.id, actor_user_id: me.id })
+      .orderBy("id", "desc")
+      .first();
+    expect(readLog).toMatchObject({
+      resource: "assessment",
+      action: "read",
+      actor_role: "assessor",
+      route: `/assess/workers/${worker.id}`,
+    });
 
     // Withdraw: rows gone at once, only the withdrawal record kept.
-    const wrong = await assessor.postForm(`/assess/workers/${worker.id}`, { intent: "withdraw", purpose: "assessment", confirm: "yes" });
+    const wrong = await assessor.postForm(`/assess/workers/${worker.id}`, {
+      intent: "withdraw",
+      purpose: "assessment",
+      confirm: "yes",
+    });
     expect(wrong.status).toBe(400);
     expect(await k("assessment_sessions").where({ worker_id: worker.id }).first()).toBeDefined();
-    const w = await assessor.postForm(`/assess/workers/${worker.id}`, { intent: "withdraw", purpose: "assessment", confirm: "WITHDRAW" });
+    const w = await assessor.postForm(`/assess/workers/${worker.id}`, {
+      intent: "withdraw",
+      purpose: "assessment",
+      confirm: "WITHDRAW",
+    });
     expect(w.status).toBe(200);
     expect(await k("assessment_sessions").where({ worker_id: worker.id }).count({ n: "*" }).first()).toEqual({ n: 0 });
     expect(await k("assessment_results").where({ session_id: sessionId }).count({ n: "*" }).first()).toEqual({ n: 0 });
@@ -288,12 +441,16 @@ describe("consent, baseline battery and withdrawal", () => {
     expect(left).toHaveLength(1);
     expect(left[0]).toMatchObject({ status: "withdrawn", given_at: null, witness_user_id: null, recorded_by: me.id });
     expect(left[0].withdrawn_at).toMatch(/^\d{4}-\d{2}-\d{2}T/);
-    expect(await k("consent_records").where({ worker_id: worker.id, purpose: "planning", status: "given" }).first()).toBeDefined();
+    expect(
+      await k("consent_records").where({ worker_id: worker.id, purpose: "planning", status: "given" }).first(),
+    ).toBeDefined();
     expect((await workerByNumber("HV-90003")).stage).toBe("withdrawn");
     const last = await k("stage_changes").where({ worker_id: worker.id }).orderBy("id", "desc").first();
     expect(last).toMatchObject({ from_stage: "baselined", to_stage: "withdrawn", actor_user_id: me.id });
     // And nothing more can be recorded.
-    expect((await assessor.postForm(`/assess/workers/${worker.id}`, { intent: "session", assessedOn: "2026-11-29" })).status).toBe(409);
+    expect(
+      (await assessor.postForm(`/assess/workers/${worker.id}`, { intent: "session", assessedOn: "2026-11-29" })).status,
+    ).toBe(409);
   });
 
   it("shows the parse errors of a bad trace and stores nothing; refuses a file over the size cap", async () => {
@@ -302,20 +459,45 @@ describe("consent, baseline battery and withdrawal", () => {
     const url = s.headers.get("Location")!;
     const sessionId = Number(url.split("/").pop());
     const cases: [string, string, string][] = [
-      ["sway", "sway-bad-time.csv", "Row 502, t: time 4.9 is not after the previous time 4.99 (row 501); times must increase"],
-      ["tracking", "tracking-missing-column.csv", 'Row 1, cursor: missing column "cursor"; a tracking trace has columns t, target, cursor'],
+      [
+        "sway",
+        "sway-bad-time.csv",
+        "Row 502, t: time 4.9 is not after the previous time 4.99 (row 501); times must increase",
+      ],
+      [
+        "tracking",
+        "tracking-missing-column.csv",
+        'Row 1, cursor: missing column "cursor"; a tracking trace has columns t, target, cursor',
+      ],
       ["glove", "glove-too-short.csv", "the recording has 10 rows; at least 20 are needed"],
     ];
     for (const [kind, file, message] of cases) {
-      const res = await assessor.request(url, { method: "POST", body: multipart({ intent: "upload", kind }, { field: "trace", name: file, bytes: fs.readFileSync(path.join(TRACES, file)) }) });
+      const res = await assessor.request(url, {
+        method: "POST",
+        body: multipart(
+          { intent: "upload", kind },
+          { field: "trace", name: file, bytes: fs.readFileSync(path.join(TRACES, file)) },
+        ),
+      });
       expect(res.status, file).toBe(422);
       expect(text(await res.text()), file).toContain(message);
     }
-    const declared = await assessor.request(url, { method: "POST", body: multipart({ intent: "upload", kind: "sway", sampleRateHz: "50" }, { field: "trace", name: "sway.csv", bytes: fs.readFileSync(path.join(TRACES, "sway.csv")) }) });
+    const declared = await assessor.request(url, {
+      method: "POST",
+      body: multipart(
+        { intent: "upload", kind: "sway", sampleRateHz: "50" },
+        { field: "trace", name: "sway.csv", bytes: fs.readFileSync(path.join(TRACES, "sway.csv")) },
+      ),
+    });
     expect(declared.status).toBe(422);
-    expect(text(await declared.text())).toContain("declared sample rate 50 Hz disagrees with the timestamps (about 100 Hz)");
+    expect(text(await declared.text())).toContain(
+      "declared sample rate 50 Hz disagrees with the timestamps (about 100 Hz)",
+    );
     const big = new Uint8Array(25 * 1024 * 1024 + 10).fill(49);
-    const tooBig = await assessor.request(url, { method: "POST", body: multipart({ intent: "upload", kind: "sway" }, { field: "trace", name: "big.csv", bytes: big }) });
+    const tooBig = await assessor.request(url, {
+      method: "POST",
+      body: multipart({ intent: "upload", kind: "sway" }, { field: "trace", name: "big.csv", bytes: big }),
+    });
     expect(tooBig.status).toBe(413);
     expect(await tooBig.text()).toContain("larger than 25 MB");
     expect(await k("trace_uploads").where({ session_id: sessionId }).first()).toBeUndefined();
@@ -324,8 +506,19 @@ describe("consent, baseline battery and withdrawal", () => {
   it("asks for renewed consent when a new text version is in force", async () => {
     const worker = { id: await freshConsentedWorker() };
     const me = await k("users").where({ email: PERSONA.assessor }).first("id");
-    await assessor.postForm(`/assess/workers/${worker.id}`, { intent: "consent", purposes: ["model"], witnessUserId: String(me.id), confirmRead: "on" });
-    await k("consent_text_versions").insert({ purpose: "model", version: "1.1", body: "Renewed model text.", effective_from: "2026-11-01", created_at: new Date().toISOString() });
+    await assessor.postForm(`/assess/workers/${worker.id}`, {
+      intent: "consent",
+      purposes: ["model"],
+      witnessUserId: String(me.id),
+      confirmRead: "on",
+    });
+    await k("consent_text_versions").insert({
+      purpose: "model",
+      version: "1.1",
+      body: "Renewed model text.",
+      effective_from: "2026-11-01",
+      created_at: new Date().toISOString(),
+    });
     const html = text(await (await assessor.request(`/assess/workers/${worker.id}`)).text());
     expect(html).toContain("given (v1.0), renewal due for v1.1");
     expect(html).toContain("A new text (v1.1) is in force: ask for renewed consent.");
@@ -338,21 +531,33 @@ describe("reliability", () => {
     const html = (await (await assessor.request("/assess/reliability")).text()).replace(/<!-- -->/g, "");
     const m = await k("measures").where({ code: "pegboard.dominant" }).first("id", "name");
     // Pairs: first two sessions ≤ 28 days apart, straight from SQL.
-    const rows = await k("assessment_results as r").join("assessment_sessions as s", "s.id", "r.session_id").where("r.measure_id", m.id)
-      .select("s.worker_id", "s.assessed_on", "r.value").orderBy([{ column: "s.assessed_on" }, { column: "s.id" }]);
+    const rows = await k("assessment_results as r")
+      .join("assessment_sessions as s", "s.id", "r.session_id")
+      .where("r.measure_id", m.id)
+      .select("s.worker_id", "s.assessed_on", "r.value")
+      .orderBy([{ column: "s.assessed_on" }, { column: "s.id" }]);
     const by = new Map<number, { v: number; d: string }[]>();
-    for (const r of rows) { const l = by.get(r.worker_id) ?? []; if (l.length < 2) l.push({ v: r.value, d: String(r.assessed_on) }); by.set(r.worker_id, l); }
-    const pairs = [...by.values()].filter((l) => l.length === 2 && (Date.parse(l[1].d) - Date.parse(l[0].d)) / 86_400_000 <= 28).map((l) => [l[0].v, l[1].v]);
+    for (const r of rows) {
+      const l = by.get(r.worker_id) ?? [];
+      if (l.length < 2) l.push({ v: r.value, d: String(r.assessed_on) });
+      by.set(r.worker_id, l);
+    }
+    const pairs = [...by.values()]
+      .filter((l) => l.length === 2 && (Date.parse(l[1].d) - Date.parse(l[0].d)) / 86_400_000 <= 28)
+      .map((l) => [l[0].v, l[1].v]);
     expect(pairs.length).toBeGreaterThanOrEqual(5);
     // Shrout & Fleiss (1979) two-way ANOVA, written out independently of app/compute/reliability.ts.
-    const n = pairs.length, kk = 2;
+    const n = pairs.length,
+      kk = 2;
     const grand = pairs.flat().reduce((a, b) => a + b, 0) / (n * kk);
     const rowMeans = pairs.map((p) => (p[0] + p[1]) / 2);
     const colMeans = [0, 1].map((j) => pairs.reduce((a, p) => a + p[j], 0) / n);
     const ssr = kk * rowMeans.reduce((a, x) => a + (x - grand) ** 2, 0);
     const ssc = n * colMeans.reduce((a, x) => a + (x - grand) ** 2, 0);
     const sst = pairs.flat().reduce((a, x) => a + (x - grand) ** 2, 0);
-    const bms = ssr / (n - 1), jms = ssc / (kk - 1), ems = (sst - ssr - ssc) / ((n - 1) * (kk - 1));
+    const bms = ssr / (n - 1),
+      jms = ssc / (kk - 1),
+      ems = (sst - ssr - ssc) / ((n - 1) * (kk - 1));
     const icc21 = (bms - ems) / (bms + (kk - 1) * ems + (kk * (jms - ems)) / n);
     const icc31 = (bms - ems) / (bms + (kk - 1) * ems);
     const first = pairs.map((p) => p[0]);
@@ -371,5 +576,7 @@ describe("reliability", () => {
 afterAll(async () => {
   if (process.env.DATABASE_URL !== inject("databaseFile")) return;
   const { db } = await import("~/db.server");
-  await db().destroy().catch(() => undefined);
+  await db()
+    .destroy()
+    .catch(() => undefined);
 });

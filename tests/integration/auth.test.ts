@@ -1,10 +1,17 @@
 import { describe, expect, it } from "vitest";
 import { DEMO_PERSONAS } from "../../seeds/lib/personas";
-import { Browserless, PERSONA, baseUrl, signIn, testDb } from "./helpers";
+import { Browserless, baseUrl, PERSONA, signIn, testDb } from "./helpers";
 
 // Sign-in through the real OAuth2 authorization-code flow with PKCE against the identity-provider
 // stand-in; sessions, roles, CSRF and API keys, all against the running built server.
-const HOMES: Record<string, string> = { assessor: "/assess", coordinator: "/coordinate", trainer: "/train", manager: "/readiness", worker: "/me", admin: "/admin" };
+const HOMES: Record<string, string> = {
+  assessor: "/assess",
+  coordinator: "/coordinate",
+  trainer: "/train",
+  manager: "/readiness",
+  worker: "/me",
+  admin: "/admin",
+};
 
 describe("sign-in", () => {
   it("each demo persona lands on their role's home via the identity provider", async () => {
@@ -32,8 +39,20 @@ describe("sign-in", () => {
 
   it("a deactivated user is refused at sign-in", async () => {
     const k = testDb();
-    const [u] = await k("users").insert({ email: "left.company@harrowvale.example", display_name: "Left Company", active: false, created_at: new Date().toISOString() }).returning("id");
-    await k("role_assignments").insert({ user_id: u.id, role: "coordinator", site_id: 1, created_at: new Date().toISOString() });
+    const [u] = await k("users")
+      .insert({
+        email: "left.company@harrowvale.example",
+        display_name: "Left Company",
+        active: false,
+        created_at: new Date().toISOString(),
+      })
+      .returning("id");
+    await k("role_assignments").insert({
+      user_id: u.id,
+      role: "coordinator",
+      site_id: 1,
+      created_at: new Date().toISOString(),
+    });
     const { landedAt, client } = await signIn("left.company@harrowvale.example");
     expect(landedAt).toBe("/auth/not-provisioned");
     expect(client.cookies.has("__limberly")).toBe(false);
@@ -88,7 +107,13 @@ describe("permissions on the server", () => {
   it("admin pages work for admin, with field-level errors on bad input and nothing written", async () => {
     const { client } = await signIn(PERSONA.admin);
     const before = Number((await testDb()("users").count({ n: "*" }).first())!.n);
-    const bad = await client.postForm("/admin/users", { email: "not-an-email", displayName: "X", role: "assessor", siteId: "", departmentId: "" });
+    const bad = await client.postForm("/admin/users", {
+      email: "not-an-email",
+      displayName: "X",
+      role: "assessor",
+      siteId: "",
+      departmentId: "",
+    });
     expect(bad.status).toBe(400);
     const html = await bad.text();
     expect(html).toContain("Enter a valid e-mail address.");
@@ -102,8 +127,16 @@ describe("permissions on the server", () => {
     const evil = await client.postForm("/admin/sites", fields, { Origin: "http://evil.example" });
     // React Router's own origin check (400) or ours (403) refuses it before the action runs.
     expect([400, 403]).toContain(evil.status);
-    const headers = new Headers({ "Content-Type": "application/x-www-form-urlencoded", Cookie: client.cookieHeader(baseUrl()) });
-    const bare = await fetch(`${baseUrl()}/admin/sites`, { method: "POST", body: new URLSearchParams(fields), headers, redirect: "manual" });
+    const headers = new Headers({
+      "Content-Type": "application/x-www-form-urlencoded",
+      Cookie: client.cookieHeader(baseUrl()),
+    });
+    const bare = await fetch(`${baseUrl()}/admin/sites`, {
+      method: "POST",
+      body: new URLSearchParams(fields),
+      headers,
+      redirect: "manual",
+    });
     expect(bare.status).toBe(403);
     expect(await testDb()("sites").where({ code: "ZZ" }).first()).toBeUndefined();
     const ok = await client.postForm("/admin/sites", fields);
@@ -116,7 +149,12 @@ describe("API keys", () => {
   it("are shown once, stored hashed, scoped to a role and sites, and stop working when revoked", async () => {
     const { client } = await signIn(PERSONA.admin);
     const north = await testDb()("sites").where({ code: "NY" }).first();
-    const res = await client.postForm("/admin/api-keys", { intent: "create", name: "Payroll bridge", role: "coordinator", siteIds: [String(north.id)] });
+    const res = await client.postForm("/admin/api-keys", {
+      intent: "create",
+      name: "Payroll bridge",
+      role: "coordinator",
+      siteIds: [String(north.id)],
+    });
     expect(res.status).toBe(200);
     const key = /data-testid="new-api-key">([^<]+)</.exec(await res.text())![1];
     expect(key).toMatch(/^lbk_[0-9a-f]{12}_/);
@@ -126,7 +164,9 @@ describe("API keys", () => {
     const me = await fetch(`${baseUrl()}/api/v1/me`, { headers: { Authorization: `Bearer ${key}` } });
     expect(me.status).toBe(200);
     expect(await me.json()).toMatchObject({ kind: "apiKey", role: "coordinator", siteIds: [north.id] });
-    const sites = await (await fetch(`${baseUrl()}/api/v1/sites`, { headers: { Authorization: `Bearer ${key}` } })).json();
+    const sites = await (
+      await fetch(`${baseUrl()}/api/v1/sites`, { headers: { Authorization: `Bearer ${key}` } })
+    ).json();
     expect(sites.sites.map((s: { code: string }) => s.code)).toEqual(["NY"]);
 
     const anon = await fetch(`${baseUrl()}/api/v1/me`);

@@ -1,10 +1,10 @@
 import crypto from "node:crypto";
-import { Matrix, inverse } from "ml-matrix";
+import { inverse, Matrix } from "ml-matrix";
 import { afterAll, describe, expect, it } from "vitest";
 import { ERASURE_STEPS } from "~/models/consent.server";
 import { eraseForecasts } from "~/models/forecast.server";
 import { workerForecastSchema } from "~/schemas/forecast";
-import { PERSONA, baseUrl, signIn, testDb } from "./helpers";
+import { baseUrl, PERSONA, signIn, testDb } from "./helpers";
 
 // Forecast area (issue 4) against the running stack and the seeded demo (seeds/03_forecast_demo.ts).
 const k = testDb();
@@ -23,11 +23,16 @@ async function consentByWorker(purpose: string): Promise<Map<number, string>> {
 
 /** z-scores per measure from baselines assessed on or before the cutoff day (latest wins). */
 async function zBefore(workerId: number, measureIds: number[], cutoff: string | null): Promise<number[] | null> {
-  const rows = await k("assessment_results as r").join("assessment_sessions as s", "s.id", "r.session_id")
-    .where("s.worker_id", workerId).whereIn("r.measure_id", measureIds).whereNotNull("r.z_score")
-    .select("r.measure_id", "r.z_score", "s.assessed_on").orderBy([{ column: "s.assessed_on" }, { column: "s.id" }]);
+  const rows = await k("assessment_results as r")
+    .join("assessment_sessions as s", "s.id", "r.session_id")
+    .where("s.worker_id", workerId)
+    .whereIn("r.measure_id", measureIds)
+    .whereNotNull("r.z_score")
+    .select("r.measure_id", "r.z_score", "s.assessed_on")
+    .orderBy([{ column: "s.assessed_on" }, { column: "s.id" }]);
   const m = new Map<number, number>();
-  for (const r of rows) if (!cutoff || String(r.assessed_on).slice(0, 10) <= cutoff) m.set(r.measure_id, Number(r.z_score));
+  for (const r of rows)
+    if (!cutoff || String(r.assessed_on).slice(0, 10) <= cutoff) m.set(r.measure_id, Number(r.z_score));
   const z = measureIds.map((id) => m.get(id));
   return z.some((v) => v === undefined) ? null : (z as number[]);
 }
@@ -51,7 +56,8 @@ function coefficientTable(html: string): number[] {
   return [...table.matchAll(/<tr>[\s\S]*?<\/th><td>(-?[\d.]+)<\/td>/g)].map((m) => Number(m[1]));
 }
 
-const text = (html: string, testId: string) => new RegExp(`data-testid="${testId}"[^>]*>([^<]*)<`).exec(html)?.[1] ?? null;
+const text = (html: string, testId: string) =>
+  new RegExp(`data-testid="${testId}"[^>]*>([^<]*)<`).exec(html)?.[1] ?? null;
 
 describe("model workbench: cohort and censoring", () => {
   it("counts every exclusion, and fits only consented trainees who reached the criterion with every measure", async () => {
@@ -65,12 +71,28 @@ describe("model workbench: cohort and censoring", () => {
     const censored: { z: number[]; hours: number }[] = [];
     for (const c of courses) {
       const state = consent.get(c.worker_id);
-      if (state === "withdrawn") { expected.withdrawn++; continue; }
-      if (state !== "given") { expected.no_model_consent++; continue; }
-      if (c.status === "stopped") { expected.stopped++; continue; }
+      if (state === "withdrawn") {
+        expected.withdrawn++;
+        continue;
+      }
+      if (state !== "given") {
+        expected.no_model_consent++;
+        continue;
+      }
+      if (c.status === "stopped") {
+        expected.stopped++;
+        continue;
+      }
       const z = await zBefore(c.worker_id, measureIds, c.started_on ? String(c.started_on).slice(0, 10) : null);
-      if (c.status !== "proficient") { expected.still_training++; if (z) censored.push({ z, hours: Number(c.cumulative_hours) }); continue; }
-      if (!z) { expected.missing_measures++; continue; }
+      if (c.status !== "proficient") {
+        expected.still_training++;
+        if (z) censored.push({ z, hours: Number(c.cumulative_hours) });
+        continue;
+      }
+      if (!z) {
+        expected.missing_measures++;
+        continue;
+      }
       included.push({ z, hours: Number(c.hours_to_proficiency) });
     }
     // The demo has censored records of every kind, so the check is not vacuous.
@@ -79,7 +101,12 @@ describe("model workbench: cohort and censoring", () => {
     expect(expected.missing_measures).toBeGreaterThan(0);
 
     const { client } = await signIn(PERSONA.assessor);
-    const res = await client.postForm("/models/new", { intent: "fit", deviceTypeId: String(deviceTypeId), measureIds: measureIds.map(String), ridge: "0" });
+    const res = await client.postForm("/models/new", {
+      intent: "fit",
+      deviceTypeId: String(deviceTypeId),
+      measureIds: measureIds.map(String),
+      ridge: "0",
+    });
     expect(res.status).toBe(200);
     const html = await res.text();
     expect(Number(text(html, "cohort-size"))).toBe(included.length);
@@ -93,20 +120,39 @@ describe("model workbench: cohort and censoring", () => {
     // The page's coefficients (4 decimals) are the least-squares fit of exactly the included records…
     const shown = coefficientTable(html);
     expect(shown.length).toBe(measureIds.length + 1);
-    const reference = normalEquations(included.map((r) => r.z), included.map((r) => Math.log(r.hours)));
+    const reference = normalEquations(
+      included.map((r) => r.z),
+      included.map((r) => Math.log(r.hours)),
+    );
     shown.forEach((b, i) => expect(Math.abs(b - reference[i])).toBeLessThan(6e-5));
     // …and not of the cohort with the censored trainees' hours-so-far mixed in as if they were outcomes.
-    const mixed = normalEquations([...included, ...censored].map((r) => r.z), [...included, ...censored].map((r) => Math.log(r.hours)));
+    const mixed = normalEquations(
+      [...included, ...censored].map((r) => r.z),
+      [...included, ...censored].map((r) => Math.log(r.hours)),
+    );
     expect(Math.max(...mixed.map((b, i) => Math.abs(b - shown[i])))).toBeGreaterThan(1e-3);
   });
 
   it("a censored course with a stray outcome value still stays out of the fit", async () => {
     const deviceTypeId = await device("SRF-FOOT");
-    const measureIds: number[] = JSON.parse((await k("model_versions").where({ device_type_id: deviceTypeId, status: "approved" }).first()).measure_ids);
+    const measureIds: number[] = JSON.parse(
+      (await k("model_versions").where({ device_type_id: deviceTypeId, status: "approved" }).first()).measure_ids,
+    );
     const { client } = await signIn(PERSONA.assessor);
-    const fit = async () => (await (await client.postForm("/models/new", { intent: "fit", deviceTypeId: String(deviceTypeId), measureIds: measureIds.map(String), ridge: "0" })).text());
+    const fit = async () =>
+      await (
+        await client.postForm("/models/new", {
+          intent: "fit",
+          deviceTypeId: String(deviceTypeId),
+          measureIds: measureIds.map(String),
+          ridge: "0",
+        })
+      ).text();
     const before = await fit();
-    const training = await k("device_courses").where({ device_type_id: deviceTypeId, status: "training" }).orderBy("worker_id").first();
+    const training = await k("device_courses")
+      .where({ device_type_id: deviceTypeId, status: "training" })
+      .orderBy("worker_id")
+      .first();
     await k("device_courses").where({ id: training.id }).update({ hours_to_proficiency: 999 });
     try {
       const after = await fit();
@@ -119,10 +165,19 @@ describe("model workbench: cohort and censoring", () => {
 
   it("names the problem when too few records remain", async () => {
     const { client } = await signIn(PERSONA.assessor);
-    const res = await client.postForm("/models/new", { intent: "fit", deviceTypeId: "999999", measureIds: ["1"], ridge: "0" });
+    const res = await client.postForm("/models/new", {
+      intent: "fit",
+      deviceTypeId: "999999",
+      measureIds: ["1"],
+      ridge: "0",
+    });
     expect(res.status).toBe(422);
     expect(await res.text()).toContain("That device type does not exist.");
-    const none = await client.postForm("/models/new", { intent: "fit", deviceTypeId: String(await device("EXO-BACK")), ridge: "0" });
+    const none = await client.postForm("/models/new", {
+      intent: "fit",
+      deviceTypeId: String(await device("EXO-BACK")),
+      ridge: "0",
+    });
     expect(none.status).toBe(400);
     expect(await none.text()).toContain("Choose at least one measure.");
   });
@@ -134,7 +189,13 @@ describe("model versions: approval by a second assessor", () => {
     const previous = await k("model_versions").where({ device_type_id: deviceTypeId, status: "approved" }).first();
     const measureIds: number[] = JSON.parse(previous.measure_ids);
     const fitter = (await signIn(PERSONA.assessor)).client;
-    const saved = await fitter.postForm("/models/new", { intent: "save", deviceTypeId: String(deviceTypeId), measureIds: measureIds.slice(0, 3).map(String), ridge: "0", notes: "integration test" });
+    const saved = await fitter.postForm("/models/new", {
+      intent: "save",
+      deviceTypeId: String(deviceTypeId),
+      measureIds: measureIds.slice(0, 3).map(String),
+      ridge: "0",
+      notes: "integration test",
+    });
     expect(saved.status).toBe(302);
     const id = Number(/\/models\/(\d+)/.exec(saved.headers.get("Location") ?? "")?.[1]);
     const draft = await k("model_versions").where({ id }).first();
@@ -198,11 +259,15 @@ describe("worker forecast: views, API and access log", () => {
 
   it("every staff read is written to the access log", async () => {
     const id = await workerId();
-    const before = Number((await k("access_log").where({ worker_id: id, resource: "forecast" }).count({ n: "*" }).first())?.n);
+    const before = Number(
+      (await k("access_log").where({ worker_id: id, resource: "forecast" }).count({ n: "*" }).first())?.n,
+    );
     const { client } = await signIn(PERSONA.coordinator);
     expect((await client.request(`/forecast/${id}`)).status).toBe(200);
     expect((await client.request(`/api/v1/workers/${id}/forecast`)).status).toBe(200);
-    const after = Number((await k("access_log").where({ worker_id: id, resource: "forecast" }).count({ n: "*" }).first())?.n);
+    const after = Number(
+      (await k("access_log").where({ worker_id: id, resource: "forecast" }).count({ n: "*" }).first())?.n,
+    );
     expect(after - before).toBe(2);
   });
 
@@ -213,11 +278,20 @@ describe("worker forecast: views, API and access log", () => {
     const makeKey = async (role: string, siteId: number) => {
       const prefix = crypto.randomBytes(6).toString("hex");
       const secret = crypto.randomBytes(32).toString("base64url");
-      const [row] = await k("api_keys").insert({ name: `forecast-it-${role}-${prefix}`, prefix, secret_hash: crypto.createHash("sha256").update(secret).digest("hex"), role, created_at: new Date().toISOString() }).returning("id");
+      const [row] = await k("api_keys")
+        .insert({
+          name: `forecast-it-${role}-${prefix}`,
+          prefix,
+          secret_hash: crypto.createHash("sha256").update(secret).digest("hex"),
+          role,
+          created_at: new Date().toISOString(),
+        })
+        .returning("id");
       await k("api_key_sites").insert({ api_key_id: row.id, site_id: siteId });
       return `lbk_${prefix}_${secret}`;
     };
-    const get = (key: string) => fetch(`${baseUrl()}/api/v1/workers/${id}/forecast`, { headers: { Authorization: `Bearer ${key}` } });
+    const get = (key: string) =>
+      fetch(`${baseUrl()}/api/v1/workers/${id}/forecast`, { headers: { Authorization: `Bearer ${key}` } });
     const coord = await get(await makeKey("coordinator", ny));
     expect(coord.status).toBe(200);
     expect(workerForecastSchema.parse(await coord.json()).view).toBe("planning");
@@ -233,11 +307,18 @@ describe("logging sessions: cumulative hours, proficiency, stage and forecast in
   it("moves the forecast, then marks the course proficient with its date and hours once the criterion is met", async () => {
     const deviceTypeId = await device("EXO-BACK");
     const criterion = await k("proficiency_criteria").where({ device_type_id: deviceTypeId }).first();
-    const course = await k("device_courses as c").join("forecasts as f", function () { this.on("f.worker_id", "c.worker_id").andOn("f.device_type_id", "c.device_type_id"); })
-      .where({ "c.device_type_id": deviceTypeId, "c.status": "training" }).orderBy("c.worker_id", "desc").first("c.*");
+    const course = await k("device_courses as c")
+      .join("forecasts as f", function () {
+        this.on("f.worker_id", "c.worker_id").andOn("f.device_type_id", "c.device_type_id");
+      })
+      .where({ "c.device_type_id": deviceTypeId, "c.status": "training" })
+      .orderBy("c.worker_id", "desc")
+      .first("c.*");
     const w = course.worker_id as number;
     const before = await k("forecasts").where({ worker_id: w, device_type_id: deviceTypeId }).first();
-    const sessionsBefore = Number((await k("training_sessions").where({ worker_id: w, device_type_id: deviceTypeId }).count({ n: "*" }).first())?.n);
+    const sessionsBefore = Number(
+      (await k("training_sessions").where({ worker_id: w, device_type_id: deviceTypeId }).count({ n: "*" }).first())?.n,
+    );
     const { client } = await signIn(PERSONA.assessor);
     const path = `/progress/${w}/${deviceTypeId}`;
 
@@ -249,15 +330,25 @@ describe("logging sessions: cumulative hours, proficiency, stage and forecast in
     expect(await tooLong.text()).toContain("wear-time limit of 240 minutes");
 
     const low = Number(criterion.score_threshold) - 0.3;
-    expect((await client.postForm(path, { intent: "log", durationHours: "1", taskScore: String(low), notes: "it" })).status).toBe(200);
+    expect(
+      (await client.postForm(path, { intent: "log", durationHours: "1", taskScore: String(low), notes: "it" })).status,
+    ).toBe(200);
     const c1 = await k("device_courses").where({ id: course.id }).first();
     expect(Number(c1.cumulative_hours)).toBeCloseTo(Number(course.cumulative_hours) + 1, 9);
     expect(c1.status).toBe("training");
     const after1 = await k("forecasts").where({ worker_id: w, device_type_id: deviceTypeId }).first();
     expect(Number(after1.hours_done)).toBeCloseTo(Number(c1.cumulative_hours), 9);
     expect(after1.remaining_hours).not.toBe(before.remaining_hours);
-    expect(Number((await k("training_sessions").where({ worker_id: w, device_type_id: deviceTypeId }).count({ n: "*" }).first())?.n)).toBe(sessionsBefore + 1);
-    const last = await k("training_sessions").where({ worker_id: w, device_type_id: deviceTypeId }).orderBy("id", "desc").first();
+    expect(
+      Number(
+        (await k("training_sessions").where({ worker_id: w, device_type_id: deviceTypeId }).count({ n: "*" }).first())
+          ?.n,
+      ),
+    ).toBe(sessionsBefore + 1);
+    const last = await k("training_sessions")
+      .where({ worker_id: w, device_type_id: deviceTypeId })
+      .orderBy("id", "desc")
+      .first();
     expect(Number(last.cumulative_hours)).toBeCloseTo(Number(c1.cumulative_hours), 9);
     expect(Number(last.task_score)).toBeCloseTo(low, 9);
 
@@ -267,15 +358,23 @@ describe("logging sessions: cumulative hours, proficiency, stage and forecast in
     }
     const done = await k("device_courses").where({ id: course.id }).first();
     expect(done.status).toBe("proficient");
-    expect(Number(done.hours_to_proficiency)).toBeCloseTo(Number(course.cumulative_hours) + 1 + Number(criterion.consecutive_sessions), 9);
+    expect(Number(done.hours_to_proficiency)).toBeCloseTo(
+      Number(course.cumulative_hours) + 1 + Number(criterion.consecutive_sessions),
+      9,
+    );
     expect(String(done.proficient_on)).toBe(new Date().toISOString().slice(0, 10));
     expect((await k("workers").where({ id: w }).first("stage")).stage).toBe("proficient");
-    const change = await k("stage_changes").where({ worker_id: w, to_stage: "proficient", device_type_id: deviceTypeId }).orderBy("id", "desc").first();
+    const change = await k("stage_changes")
+      .where({ worker_id: w, to_stage: "proficient", device_type_id: deviceTypeId })
+      .orderBy("id", "desc")
+      .first();
     expect(change).toBeTruthy();
     const outcome = await k("forecast_outcomes").where({ worker_id: w, device_type_id: deviceTypeId }).first();
     expect(Number(outcome.actual_hours)).toBeCloseTo(Number(done.hours_to_proficiency), 9);
     expect(outcome.model_version_id).toBe(after1.model_version_id);
-    expect((await k("forecasts").where({ worker_id: w, device_type_id: deviceTypeId }).first()).progress_status).toBe("proficient");
+    expect((await k("forecasts").where({ worker_id: w, device_type_id: deviceTypeId }).first()).progress_status).toBe(
+      "proficient",
+    );
 
     // No sessions after proficiency.
     const more = await client.postForm(path, { intent: "log", durationHours: "1", taskScore: "0.9" });
@@ -285,10 +384,15 @@ describe("logging sessions: cumulative hours, proficiency, stage and forecast in
 
   it("trainers reach only trainees on their own schedule", async () => {
     const { client } = await signIn(PERSONA.trainer);
-    const ines = (await k("trainers as t").join("users as u", "u.id", "t.user_id").where("u.email", PERSONA.trainer).first("t.id")).id;
+    const ines = (
+      await k("trainers as t").join("users as u", "u.id", "t.user_id").where("u.email", PERSONA.trainer).first("t.id")
+    ).id;
     const mine = await k("training_sessions").where({ trainer_id: ines }).first("worker_id", "device_type_id");
     expect((await client.request(`/progress/${mine.worker_id}/${mine.device_type_id}`)).status).toBe(200);
-    const other = await k("training_sessions").whereNot({ trainer_id: ines }).whereNotIn("worker_id", k("training_sessions").where({ trainer_id: ines }).select("worker_id")).first("worker_id", "device_type_id");
+    const other = await k("training_sessions")
+      .whereNot({ trainer_id: ines })
+      .whereNotIn("worker_id", k("training_sessions").where({ trainer_id: ines }).select("worker_id"))
+      .first("worker_id", "device_type_id");
     expect((await client.request(`/progress/${other.worker_id}/${other.device_type_id}`)).status).toBe(404);
     expect((await client.request("/models")).status).toBe(403);
   });
@@ -297,14 +401,34 @@ describe("logging sessions: cumulative hours, proficiency, stage and forecast in
 describe("drift", () => {
   it("warns assessors when fewer than 70 % of actual outcomes fell inside the version's 80 % interval", async () => {
     const deviceTypeId = await device("SRA-WAIST");
-    const v = await k("model_versions").where({ device_type_id: deviceTypeId, status: "approved" }).first("id", "version_number");
+    const v = await k("model_versions")
+      .where({ device_type_id: deviceTypeId, status: "approved" })
+      .first("id", "version_number");
     const { client } = await signIn(PERSONA.assessor);
-    expect(await (await client.request("/models")).text()).not.toMatch(/data-testid="drift-warning"[^>]*>Drift: Waist-mounted/);
-    const free = await k("workers").whereNotIn("id", k("forecast_outcomes").where({ device_type_id: deviceTypeId }).select("worker_id")).orderBy("id", "desc").limit(5).select("id");
+    expect(await (await client.request("/models")).text()).not.toMatch(
+      /data-testid="drift-warning"[^>]*>Drift: Waist-mounted/,
+    );
+    const free = await k("workers")
+      .whereNotIn("id", k("forecast_outcomes").where({ device_type_id: deviceTypeId }).select("worker_id"))
+      .orderBy("id", "desc")
+      .limit(5)
+      .select("id");
     const ids: number[] = [];
     for (const w of free) {
-      const [row] = await k("forecast_outcomes").insert({ model_version_id: v.id, worker_id: w.id, device_type_id: deviceTypeId, forecast_median_hours: 10,
-        forecast_lower_hours: 8, forecast_upper_hours: 12, actual_hours: 20, covered: false, reached_on: "2026-11-29", recorded_at: "2026-11-29T10:00:00.000Z" }).returning("id");
+      const [row] = await k("forecast_outcomes")
+        .insert({
+          model_version_id: v.id,
+          worker_id: w.id,
+          device_type_id: deviceTypeId,
+          forecast_median_hours: 10,
+          forecast_lower_hours: 8,
+          forecast_upper_hours: 12,
+          actual_hours: 20,
+          covered: false,
+          reached_on: "2026-11-29",
+          recorded_at: "2026-11-29T10:00:00.000Z",
+        })
+        .returning("id");
       ids.push(row.id);
     }
     try {
@@ -312,7 +436,8 @@ describe("drift", () => {
       const coverage = all.filter((r) => Number(r.covered) === 1).length / all.length;
       expect(coverage).toBeLessThan(0.7);
       const html = await (await client.request("/models")).text();
-      const warning = /data-testid="drift-warning"[^>]*>([^<]*Waist-mounted[^<]*)</.exec(html.replace(/<!-- -->/g, ""))?.[1] ?? "";
+      const warning =
+        /data-testid="drift-warning"[^>]*>([^<]*Waist-mounted[^<]*)</.exec(html.replace(/<!-- -->/g, ""))?.[1] ?? "";
       expect(warning).toContain(`only ${Math.round(coverage * 100)} % of ${all.length} workers`);
     } finally {
       await k("forecast_outcomes").whereIn("id", ids).del();
@@ -329,14 +454,18 @@ describe("erasure on withdrawal", () => {
     const w = flagged.worker_id as number;
     expect(Number((await k("forecasts").where({ worker_id: w }).count({ n: "*" }).first())?.n)).toBeGreaterThan(0);
     const UNDO = new Error("undo");
-    await k.transaction(async (trx) => {
-      const n = await step.run(trx, w);
-      expect(n).toBeGreaterThan(0);
-      expect(Number((await trx("forecasts").where({ worker_id: w }).count({ n: "*" }).first())?.n)).toBe(0);
-      expect(Number((await trx("review_flags").where({ worker_id: w }).count({ n: "*" }).first())?.n)).toBe(0);
-      expect(await eraseForecasts(trx, w)).toBe(0);
-      throw UNDO; // leave the shared test database as it was
-    }).catch((e) => { if (e !== UNDO) throw e; });
+    await k
+      .transaction(async (trx) => {
+        const n = await step.run(trx, w);
+        expect(n).toBeGreaterThan(0);
+        expect(Number((await trx("forecasts").where({ worker_id: w }).count({ n: "*" }).first())?.n)).toBe(0);
+        expect(Number((await trx("review_flags").where({ worker_id: w }).count({ n: "*" }).first())?.n)).toBe(0);
+        expect(await eraseForecasts(trx, w)).toBe(0);
+        throw UNDO; // leave the shared test database as it was
+      })
+      .catch((e) => {
+        if (e !== UNDO) throw e;
+      });
   });
 });
 

@@ -3,7 +3,7 @@ import fs from "node:fs";
 import os from "node:os";
 import path from "node:path";
 import type { TestProject } from "vitest/node";
-import { startStack, type Stack } from "../../scripts/stack";
+import { type Stack, startStack } from "../../scripts/stack";
 
 // Starts the real stack once for the integration project: the built app server against a fresh
 // temporary SQLite file (migrated and seeded with the invented demo scenario), the identity-provider
@@ -28,17 +28,30 @@ declare module "vitest" {
 export default async function setup(project: TestProject) {
   const root = path.resolve(__dirname, "../..");
   if (!fs.existsSync(path.join(root, "build/server/index.js"))) {
-    execFileSync(process.execPath, [path.join(root, "node_modules/@react-router/dev/bin.js"), "build"], { cwd: root, stdio: "inherit" });
+    execFileSync(process.execPath, [path.join(root, "node_modules/@react-router/dev/bin.js"), "build"], {
+      cwd: root,
+      stdio: "inherit",
+    });
   }
   dir = fs.mkdtempSync(path.join(os.tmpdir(), "limberly-it-"));
   const databaseFile = path.join(dir, "test.sqlite");
   const outboxDir = path.join(dir, "outbox");
   const env = { ...process.env, DATABASE_URL: databaseFile };
   for (const cmd of ["latest", "seed"]) {
-    execFileSync(process.execPath, ["--import", "tsx", path.join(root, "scripts/migrate.ts"), cmd], { cwd: root, env, stdio: "ignore" });
+    execFileSync(process.execPath, ["--import", "tsx", path.join(root, "scripts/migrate.ts"), cmd], {
+      cwd: root,
+      env,
+      stdio: "ignore",
+    });
   }
   stack = await startStack({
-    appPort: PORTS.app, idpPort: PORTS.idp, smtpPort: PORTS.smtp, databaseUrl: databaseFile, outboxDir, mode: "test", quiet: true,
+    appPort: PORTS.app,
+    idpPort: PORTS.idp,
+    smtpPort: PORTS.smtp,
+    databaseUrl: databaseFile,
+    outboxDir,
+    mode: "test",
+    quiet: true,
   });
   project.provide("baseUrl", stack.appUrl);
   project.provide("databaseFile", databaseFile);

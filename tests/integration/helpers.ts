@@ -12,7 +12,9 @@ export class Browserless {
 
   cookieHeader(url: string): string {
     // Only send our cookies to our own origin.
-    return new URL(url).origin === new URL(this.base).origin ? [...this.cookies].map(([k, v]) => `${k}=${v}`).join("; ") : "";
+    return new URL(url).origin === new URL(this.base).origin
+      ? [...this.cookies].map(([k, v]) => `${k}=${v}`).join("; ")
+      : "";
   }
 
   absorb(res: Response, url: string): void {
@@ -33,14 +35,19 @@ export class Browserless {
     const headers = new Headers(init.headers);
     const c = this.cookieHeader(url);
     if (c) headers.set("Cookie", c);
-    if (init.method && init.method !== "GET" && !headers.has("Origin")) headers.set("Origin", new URL(this.base).origin);
+    if (init.method && init.method !== "GET" && !headers.has("Origin"))
+      headers.set("Origin", new URL(this.base).origin);
     const res = await fetch(url, { ...init, headers, redirect: "manual" });
     this.absorb(res, url);
     return res;
   }
 
   /** Follows redirects (also across to the identity provider) and returns the last response and its URL. */
-  async follow(pathOrUrl: string, init: RequestInit = {}, maxHops = 10): Promise<{ res: Response; url: string; hops: string[] }> {
+  async follow(
+    pathOrUrl: string,
+    init: RequestInit = {},
+    maxHops = 10,
+  ): Promise<{ res: Response; url: string; hops: string[] }> {
     let url = pathOrUrl.startsWith("http") ? pathOrUrl : `${this.base}${pathOrUrl}`;
     const hops: string[] = [url];
     let res = await this.request(url, init);
@@ -52,10 +59,18 @@ export class Browserless {
     return { res, url, hops };
   }
 
-  postForm(path: string, fields: Record<string, string | string[]>, headers: Record<string, string> = {}): Promise<Response> {
+  postForm(
+    path: string,
+    fields: Record<string, string | string[]>,
+    headers: Record<string, string> = {},
+  ): Promise<Response> {
     const body = new URLSearchParams();
     for (const [k, v] of Object.entries(fields)) for (const x of ([] as string[]).concat(v)) body.append(k, x);
-    return this.request(path, { method: "POST", body, headers: { "Content-Type": "application/x-www-form-urlencoded", ...headers } });
+    return this.request(path, {
+      method: "POST",
+      body,
+      headers: { "Content-Type": "application/x-www-form-urlencoded", ...headers },
+    });
   }
 }
 
@@ -68,7 +83,12 @@ export async function signIn(email: string): Promise<{ client: Browserless; land
 let shared: Knex | null = null;
 /** Direct access to the test database, for asserting what the server wrote. */
 export function testDb(): Knex {
-  if (!shared) shared = knex({ client: "better-sqlite3", connection: { filename: inject("databaseFile") }, useNullAsDefault: true });
+  if (!shared)
+    shared = knex({
+      client: "better-sqlite3",
+      connection: { filename: inject("databaseFile") },
+      useNullAsDefault: true,
+    });
   return shared;
 }
 

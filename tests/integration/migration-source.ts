@@ -8,7 +8,10 @@ const dir = path.resolve(__dirname, "../../migrations");
 
 export const migrationSource: Knex.MigrationSource<string> = {
   async getMigrations() {
-    return fs.readdirSync(dir).filter((f) => f.endsWith(".ts")).sort();
+    return fs
+      .readdirSync(dir)
+      .filter((f) => f.endsWith(".ts"))
+      .sort();
   },
   getMigrationName(name) {
     return name;

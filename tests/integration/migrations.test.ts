@@ -11,12 +11,28 @@ describe("migrations", () => {
   it("run up, all the way down, and up again; the seed then loads", async () => {
     const dir = fs.mkdtempSync(path.join(os.tmpdir(), "limberly-mig-"));
     const k = knex(knexConfig({ DATABASE_URL: path.join(dir, "m.sqlite") }));
-    const tables = async () => (await k.raw("select name from sqlite_master where type='table' and name not like 'knex_%' and name not like 'sqlite_%' order by name")).map((r: { name: string }) => r.name);
+    const tables = async () =>
+      (
+        await k.raw(
+          "select name from sqlite_master where type='table' and name not like 'knex_%' and name not like 'sqlite_%' order by name",
+        )
+      ).map((r: { name: string }) => r.name);
     try {
       const [, applied] = await k.migrate.latest({ migrationSource });
       expect(applied.length).toBeGreaterThanOrEqual(2);
       const up = await tables();
-      expect(up).toEqual(expect.arrayContaining(["workers", "consent_records", "access_log", "device_types", "trainers", "api_keys", "sessions", "role_assignments"]));
+      expect(up).toEqual(
+        expect.arrayContaining([
+          "workers",
+          "consent_records",
+          "access_log",
+          "device_types",
+          "trainers",
+          "api_keys",
+          "sessions",
+          "role_assignments",
+        ]),
+      );
       const [, undone] = await k.migrate.rollback({ migrationSource }, true);
       expect(undone.length).toBe(applied.length);
       expect(await tables()).toEqual([]);

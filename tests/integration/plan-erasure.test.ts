@@ -8,22 +8,52 @@ describe("assessor-recorded planning withdrawal", () => {
     const k = testDb();
     const now = new Date().toISOString();
     const north = await k("sites").where({ code: "NY" }).first("id");
-    const row = await k("training_sessions as s").join("workers as w", "w.id", "s.worker_id")
-      .where("s.status", "scheduled").where("s.scheduled_start", ">=", now).where("w.site_id", north.id)
-      .whereExists(k("consent_records as c").whereRaw("c.worker_id = w.id").where({ "c.purpose": "planning", "c.status": "given" }))
+    const row = await k("training_sessions as s")
+      .join("workers as w", "w.id", "s.worker_id")
+      .where("s.status", "scheduled")
+      .where("s.scheduled_start", ">=", now)
+      .where("w.site_id", north.id)
+      .whereExists(
+        k("consent_records as c")
+          .whereRaw("c.worker_id = w.id")
+          .where({ "c.purpose": "planning", "c.status": "given" }),
+      )
       .first("w.id");
     expect(row, "the demo seeds schedule future sessions for a planning-consented North Yard worker").toBeDefined();
-    const before = Number((await k("training_sessions").where({ worker_id: row.id, status: "scheduled" }).where("scheduled_start", ">=", now).count({ n: "*" }).first())!.n);
+    const before = Number(
+      (await k("training_sessions")
+        .where({ worker_id: row.id, status: "scheduled" })
+        .where("scheduled_start", ">=", now)
+        .count({ n: "*" })
+        .first())!.n,
+    );
     expect(before).toBeGreaterThan(0);
 
     const { client } = await signIn(PERSONA.assessor);
-    const res = await client.postForm(`/assess/workers/${row.id}`, { intent: "withdraw", purpose: "planning", confirm: "WITHDRAW" });
+    const res = await client.postForm(`/assess/workers/${row.id}`, {
+      intent: "withdraw",
+      purpose: "planning",
+      confirm: "WITHDRAW",
+    });
     expect(res.status).toBe(200);
-    const after = Number((await k("training_sessions").where({ worker_id: row.id, status: "scheduled" }).where("scheduled_start", ">=", now).count({ n: "*" }).first())!.n);
+    const after = Number(
+      (await k("training_sessions")
+        .where({ worker_id: row.id, status: "scheduled" })
+        .where("scheduled_start", ">=", now)
+        .count({ n: "*" })
+        .first())!.n,
+    );
     expect(after).toBe(0);
-    expect(Number((await k("training_sessions").where({ worker_id: row.id, status: "cancelled" }).count({ n: "*" }).first())!.n)).toBeGreaterThanOrEqual(before);
+    expect(
+      Number(
+        (await k("training_sessions").where({ worker_id: row.id, status: "cancelled" }).count({ n: "*" }).first())!.n,
+      ),
+    ).toBeGreaterThanOrEqual(before);
     expect(await k("forecasts").where({ worker_id: row.id }).first()).toBeUndefined();
-    const last = await k("consent_records").where({ worker_id: row.id, purpose: "planning" }).orderBy("id", "desc").first();
+    const last = await k("consent_records")
+      .where({ worker_id: row.id, purpose: "planning" })
+      .orderBy("id", "desc")
+      .first();
     expect(last.status).toBe("withdrawn");
   });
 });

@@ -3,29 +3,42 @@ import { describe, expect, inject, it } from "vitest";
 import { buildProblem } from "~/models/allocation-problem.server";
 import { runParametersSchema } from "~/schemas/allocation";
 import { readOutbox } from "../../scripts/smtp-catcher";
-import { PERSONA, signIn, testDb, type Browserless } from "./helpers";
+import { type Browserless, PERSONA, signIn, testDb } from "./helpers";
 
 // Worker and trainer portals (issue 7) against the running stack and the invented demo (seeds/07_portals_demo.ts:
 // two worker accounts among Ines Calloway's trainees, her scheduled sessions). Each test makes the rows it
 // changes (sessions dated from now) so that the shared database stays usable by other files.
 const k = testDb();
 const outbox = () => readOutbox(inject("outboxDir"));
-const ines = async () => (await k("trainers as t").join("users as u", "u.id", "t.user_id").where("u.email", PERSONA.trainer).first("t.id")).id as number;
+const ines = async () =>
+  (await k("trainers as t").join("users as u", "u.id", "t.user_id").where("u.email", PERSONA.trainer).first("t.id"))
+    .id as number;
 const worker = async (number: string) => k("workers").where({ employee_number: number }).first();
-const userEmail = async (workerId: number) => (await k("users as u").join("workers as w", "w.user_id", "u.id").where("w.id", workerId).first("u.email")).email as string;
-const device = async (code: string) => (await k("device_types").where({ code }).first("id", "wear_time_limit_minutes"));
+const userEmail = async (workerId: number) =>
+  (await k("users as u").join("workers as w", "w.user_id", "u.id").where("w.id", workerId).first("u.email"))
+    .email as string;
+const device = async (code: string) => await k("device_types").where({ code }).first("id", "wear_time_limit_minutes");
 
 /** seeds/07's worker accounts besides Amara, by employee number: [0] has sessions logged, [1] withdraws; with their course's device. */
 async function portalAccount(i: 0 | 1) {
   const trainer = await ines();
-  const rows = await k("workers as w").join("users as u", "u.id", "w.user_id").join("device_courses as c", "c.worker_id", "w.id")
-    .join("trainer_certifications as tc", function () { this.on("tc.device_type_id", "c.device_type_id").andOn("tc.trainer_id", k.raw("?", [trainer])); })
-    .whereNot("w.employee_number", "HV-00001").whereIn("c.status", ["training", "paused"]).whereNot("u.email", "like", "first.session.%")
-    .select("w.employee_number", "c.device_type_id").orderBy(["w.employee_number", "c.device_type_id"]);
+  const rows = await k("workers as w")
+    .join("users as u", "u.id", "w.user_id")
+    .join("device_courses as c", "c.worker_id", "w.id")
+    .join("trainer_certifications as tc", function () {
+      this.on("tc.device_type_id", "c.device_type_id").andOn("tc.trainer_id", k.raw("?", [trainer]));
+    })
+    .whereNot("w.employee_number", "HV-00001")
+    .whereIn("c.status", ["training", "paused"])
+    .whereNot("u.email", "like", "first.session.%")
+    .select("w.employee_number", "c.device_type_id")
+    .orderBy(["w.employee_number", "c.device_type_id"]);
   const numbers = [...new Set(rows.map((r) => r.employee_number as string))];
   expect(numbers.length).toBeGreaterThanOrEqual(2);
   const w = await worker(numbers[i]);
-  const d = await k("device_types").where({ id: rows.find((r) => r.employee_number === numbers[i])!.device_type_id }).first("id", "code", "wear_time_limit_minutes");
+  const d = await k("device_types")
+    .where({ id: rows.find((r) => r.employee_number === numbers[i])!.device_type_id })
+    .first("id", "code", "wear_time_limit_minutes");
   return { w, device: d as { id: number; code: string; wear_time_limit_minutes: number } };
 }
 const hoursFromNow = (h: number) => new Date(Date.now() + h * 3_600_000).toISOString();
@@ -33,17 +46,32 @@ const hoursFromNow = (h: number) => new Date(Date.now() + h * 3_600_000).toISOSt
 /** A start `hoursAgo` before now, but never before this week's Monday 00:00 UTC (the trainer's week view). */
 function startThisWeek(hoursAgo: number): Date {
   const now = new Date();
-  const monday = new Date(Date.UTC(now.getUTCFullYear(), now.getUTCMonth(), now.getUTCDate() - ((now.getUTCDay() + 6) % 7)));
+  const monday = new Date(
+    Date.UTC(now.getUTCFullYear(), now.getUTCMonth(), now.getUTCDate() - ((now.getUTCDay() + 6) % 7)),
+  );
   const start = new Date(Math.max(now.getTime() - hoursAgo * 3_600_000, monday.getTime()));
   start.setUTCSeconds(0, 0);
   return start;
 }
 
-async function scheduleSession(workerId: number, deviceTypeId: number, trainerId: number, startIso: string, minutes = 60) {
-  const [row] = await k("training_sessions").insert({
-    worker_id: workerId, device_type_id: deviceTypeId, trainer_id: trainerId, scheduled_start: startIso,
-    scheduled_end: new Date(new Date(startIso).getTime() + minutes * 60_000).toISOString(), status: "scheduled", created_at: new Date().toISOString(),
-  }).returning("id");
+async function scheduleSession(
+  workerId: number,
+  deviceTypeId: number,
+  trainerId: number,
+  startIso: string,
+  minutes = 60,
+) {
+  const [row] = await k("training_sessions")
+    .insert({
+      worker_id: workerId,
+      device_type_id: deviceTypeId,
+      trainer_id: trainerId,
+      scheduled_start: startIso,
+      scheduled_end: new Date(new Date(startIso).getTime() + minutes * 60_000).toISOString(),
+      status: "scheduled",
+      created_at: new Date().toISOString(),
+    })
+    .returning("id");
   return row.id as number;
 }
 
@@ -60,7 +88,15 @@ async function xlsxText(buf: ArrayBuffer): Promise<string> {
   return parts.join("\n");
 }
 
-const WORKER_PAGES = ["/me", "/me/consent", "/me/record", "/me/review", "/me/export.json", "/me/calendar.ics", "/api/v1/me/plan"];
+const WORKER_PAGES = [
+  "/me",
+  "/me/consent",
+  "/me/record",
+  "/me/review",
+  "/me/export.json",
+  "/me/calendar.ics",
+  "/api/v1/me/plan",
+];
 
 describe("a worker reaches only their own data", () => {
   it("every worker route answers with the signed-in worker's data whatever ids are put in the URL", async () => {
@@ -75,7 +111,8 @@ describe("a worker reaches only their own data", () => {
         const body = await res.text();
         const numbers = employeeNumbers(body);
         for (const n of numbers) expect(n, `${page}${q} names another worker`).toBe("HV-00001");
-        if (page === "/me" || page.startsWith("/me/export") || page.startsWith("/api")) expect(numbers.has("HV-00001"), page).toBe(true);
+        if (page === "/me" || page.startsWith("/me/export") || page.startsWith("/api"))
+          expect(numbers.has("HV-00001"), page).toBe(true);
       }
     }
     // The JSON export holds exactly Amara's rows, checked against the database.
@@ -85,7 +122,9 @@ describe("a worker reaches only their own data", () => {
     expect(all.sessions).toHaveLength(sessions);
     const consents = Number((await k("consent_records").where({ worker_id: amara.id }).count({ n: "*" }).first())?.n);
     expect(all.consent).toHaveLength(consents);
-    expect(all.forecasts.length).toBe(Number((await k("forecasts").where({ worker_id: amara.id }).count({ n: "*" }).first())?.n));
+    expect(all.forecasts.length).toBe(
+      Number((await k("forecasts").where({ worker_id: amara.id }).count({ n: "*" }).first())?.n),
+    );
     // The spreadsheet as well.
     const xlsx = await client.request(`/me/export.xlsx?workerId=${other.id}`);
     expect(xlsx.headers.get("Content-Type")).toContain("spreadsheetml");
@@ -103,8 +142,17 @@ describe("a worker reaches only their own data", () => {
     const other = (await portalAccount(0)).w;
     const session = await k("training_sessions").where({ worker_id: other.id }).first("id", "device_type_id");
     const { client } = await signIn(PERSONA.worker);
-    for (const path of [`/forecast/${other.id}`, `/progress/${other.id}/${session.device_type_id}`, `/assess/workers/${other.id}`,
-      `/train/sessions/${session.id}`, `/api/v1/workers/${other.id}/forecast`, "/assess/reviews", "/train", "/forecast", "/progress"]) {
+    for (const path of [
+      `/forecast/${other.id}`,
+      `/progress/${other.id}/${session.device_type_id}`,
+      `/assess/workers/${other.id}`,
+      `/train/sessions/${session.id}`,
+      `/api/v1/workers/${other.id}/forecast`,
+      "/assess/reviews",
+      "/train",
+      "/forecast",
+      "/progress",
+    ]) {
       const res = await client.request(path);
       expect(res.status, path).toBe(403);
       expect(employeeNumbers(await res.text()).has(other.employee_number), path).toBe(false);
@@ -112,7 +160,15 @@ describe("a worker reaches only their own data", () => {
     // POSTs with another worker's id: refused, and nothing about the other worker changes.
     const before = await k("training_sessions").where({ id: session.id }).first();
     expect((await client.postForm(`/train/sessions/${session.id}`, { intent: "no_show" })).status).toBe(403);
-    expect((await client.postForm(`/progress/${other.id}/${session.device_type_id}`, { intent: "log", durationHours: "1", taskScore: "0.5" })).status).toBe(403);
+    expect(
+      (
+        await client.postForm(`/progress/${other.id}/${session.device_type_id}`, {
+          intent: "log",
+          durationHours: "1",
+          taskScore: "0.5",
+        })
+      ).status,
+    ).toBe(403);
     expect(await k("training_sessions").where({ id: session.id }).first()).toEqual(before);
   });
 
@@ -126,12 +182,23 @@ describe("a worker reaches only their own data", () => {
 describe("the worker home", () => {
   it("shows the device cautions before the first session, with the session's date, place, device and trainer", async () => {
     // An invented worker with no training yet gets an account here (test data only).
-    const w = await k("workers").whereNull("user_id")
-      .whereNotExists(k("training_sessions").whereRaw("training_sessions.worker_id = workers.id")).whereNot("stage", "withdrawn").first();
+    const w = await k("workers")
+      .whereNull("user_id")
+      .whereNotExists(k("training_sessions").whereRaw("training_sessions.worker_id = workers.id"))
+      .whereNot("stage", "withdrawn")
+      .first();
     const email = `first.session.${w.id}@harrowvale.example`;
     const now = new Date().toISOString();
-    const [u] = await k("users").insert({ email, display_name: `${w.given_name} ${w.family_name}`, active: true, created_at: now }).returning("id");
-    await k("role_assignments").insert({ user_id: u.id, role: "worker", site_id: w.site_id, department_id: w.department_id, created_at: now });
+    const [u] = await k("users")
+      .insert({ email, display_name: `${w.given_name} ${w.family_name}`, active: true, created_at: now })
+      .returning("id");
+    await k("role_assignments").insert({
+      user_id: u.id,
+      role: "worker",
+      site_id: w.site_id,
+      department_id: w.department_id,
+      created_at: now,
+    });
     await k("workers").where({ id: w.id }).update({ user_id: u.id });
     const foot = await device("SRF-FOOT");
     const start = new Date(Date.now() + 72 * 3_600_000);
@@ -139,8 +206,15 @@ describe("the worker home", () => {
     await scheduleSession(w.id, foot.id, await ines(), start.toISOString(), 60);
     // A session as the allocation area publishes it: site wall-clock time without a zone.
     const day2 = new Date(start.getTime() + 24 * 3_600_000).toISOString().slice(0, 10);
-    await k("training_sessions").insert({ worker_id: w.id, device_type_id: foot.id, trainer_id: await ines(), scheduled_start: `${day2}T14:15:00`,
-      scheduled_end: `${day2}T15:00:00`, status: "scheduled", created_at: now });
+    await k("training_sessions").insert({
+      worker_id: w.id,
+      device_type_id: foot.id,
+      trainer_id: await ines(),
+      scheduled_start: `${day2}T14:15:00`,
+      scheduled_end: `${day2}T15:00:00`,
+      status: "scheduled",
+      created_at: now,
+    });
     const { client } = await signIn(email);
     const html = (await (await client.request("/me")).text()).replace(/<!-- -->/g, "");
     expect(html).toContain("Before your first session");
@@ -151,7 +225,9 @@ describe("the worker home", () => {
     expect(ics).toContain(`DTSTART:${day2.replace(/-/g, "")}T141500`);
     expect(html).toContain("Foot-driven supernumerary finger");
     expect(html).toContain("Trainer: Ines Calloway");
-    expect(html).toContain(`${start.getUTCDate()} ${start.toLocaleString("en-GB", { month: "short", timeZone: "UTC" })} ${start.getUTCFullYear()}`);
+    expect(html).toContain(
+      `${start.getUTCDate()} ${start.toLocaleString("en-GB", { month: "short", timeZone: "UTC" })} ${start.getUTCFullYear()}`,
+    );
   });
 });
 
@@ -181,17 +257,37 @@ describe("consent from the worker portal", () => {
     const trainer = await ines();
     const future = await scheduleSession(me.id, arm.id, trainer, hoursFromNow(50), 60);
     const past = await scheduleSession(me.id, arm.id, trainer, hoursFromNow(-50), 60);
-    const otherFuture = await scheduleSession(other.id, (await portalAccount(0)).device.id, trainer, hoursFromNow(51), 60);
+    const otherFuture = await scheduleSession(
+      other.id,
+      (await portalAccount(0)).device.id,
+      trainer,
+      hoursFromNow(51),
+      60,
+    );
     expect(Number((await k("forecasts").where({ worker_id: me.id }).count({ n: "*" }).first())?.n)).toBeGreaterThan(0);
     const otherConsentBefore = await k("consent_records").where({ worker_id: other.id }).orderBy("id");
     const otherForecastsBefore = await k("forecasts").where({ worker_id: other.id }).orderBy("id");
-    const futureCount = Number((await k("training_sessions").where({ worker_id: me.id, status: "scheduled" }).where("scheduled_start", ">=", new Date().toISOString()).count({ n: "*" }).first())?.n);
+    const futureCount = Number(
+      (
+        await k("training_sessions")
+          .where({ worker_id: me.id, status: "scheduled" })
+          .where("scheduled_start", ">=", new Date().toISOString())
+          .count({ n: "*" })
+          .first()
+      )?.n,
+    );
     expect(futureCount).toBeGreaterThanOrEqual(1);
 
     // The next allocation run's pool considers this worker (listed, left out only because already in training).
     const nextMonday = new Date();
     nextMonday.setUTCDate(nextMonday.getUTCDate() + ((8 - nextMonday.getUTCDay()) % 7 || 7));
-    const params = runParametersSchema.parse({ startDate: nextMonday.toISOString().slice(0, 10), horizonWeeks: 4, planningQuantile: 0.8, fairnessShare: 0.2, pool: { siteIds: [me.site_id] } });
+    const params = runParametersSchema.parse({
+      startDate: nextMonday.toISOString().slice(0, 10),
+      horizonWeeks: 4,
+      planningQuantile: 0.8,
+      fairnessShare: 0.2,
+      pool: { siteIds: [me.site_id] },
+    });
     const scope = { allSites: true, siteIds: [], departmentIds: [] };
     const inPool = (snap: Awaited<ReturnType<typeof buildProblem>>) =>
       snap.excluded.some((e) => e.workerId === me.id) || snap.calendar.workers.some((w) => w.workerId === me.id);
@@ -209,17 +305,40 @@ describe("consent from the worker portal", () => {
     expect(Number((await k("forecasts").where({ worker_id: me.id }).count({ n: "*" }).first())?.n)).toBeGreaterThan(0);
 
     // Confirmed, with another worker's id slipped into the form: only the signed-in worker is affected.
-    const res = await client.postForm("/me/consent", { intent: "withdraw", purpose: "planning", confirmErase: "on", workerId: String(other.id) });
+    const res = await client.postForm("/me/consent", {
+      intent: "withdraw",
+      purpose: "planning",
+      confirmErase: "on",
+      workerId: String(other.id),
+    });
     expect(res.status).toBe(200);
     expect(await res.text()).toContain("Your planning consent is withdrawn");
-    const last = await k("consent_records").where({ worker_id: me.id, purpose: "planning" }).orderBy("id", "desc").first();
+    const last = await k("consent_records")
+      .where({ worker_id: me.id, purpose: "planning" })
+      .orderBy("id", "desc")
+      .first();
     expect(last.status).toBe("withdrawn");
-    expect(last.recorded_by).toBe((await k("users").where({ email: await userEmail(me.id) }).first("id")).id);
-    expect(Number((await k("consent_records").where({ worker_id: me.id, purpose: "planning" }).count({ n: "*" }).first())?.n)).toBe(1);
+    expect(last.recorded_by).toBe(
+      (
+        await k("users")
+          .where({ email: await userEmail(me.id) })
+          .first("id")
+      ).id,
+    );
+    expect(
+      Number(
+        (await k("consent_records").where({ worker_id: me.id, purpose: "planning" }).count({ n: "*" }).first())?.n,
+      ),
+    ).toBe(1);
     expect(Number((await k("forecasts").where({ worker_id: me.id }).count({ n: "*" }).first())?.n)).toBe(0);
     expect((await k("training_sessions").where({ id: future }).first()).status).toBe("cancelled");
     expect((await k("training_sessions").where({ id: past }).first()).status).toBe("scheduled"); // the past is not rewritten
-    expect(await k("training_sessions").where({ worker_id: me.id, status: "scheduled" }).where("scheduled_start", ">=", new Date().toISOString()).first()).toBeUndefined();
+    expect(
+      await k("training_sessions")
+        .where({ worker_id: me.id, status: "scheduled" })
+        .where("scheduled_start", ">=", new Date().toISOString())
+        .first(),
+    ).toBeUndefined();
     expect((await k("training_sessions").where({ id: otherFuture }).first()).status).toBe("scheduled");
     expect(await k("consent_records").where({ worker_id: other.id }).orderBy("id")).toEqual(otherConsentBefore);
     expect(await k("forecasts").where({ worker_id: other.id }).orderBy("id")).toEqual(otherForecastsBefore);
@@ -227,14 +346,27 @@ describe("consent from the worker portal", () => {
     expect(inPool(await buildProblem(params, scope, k))).toBe(false);
 
     // The North Yard coordinator (organisation-wide Tobias Renn included) is told.
-    const coordinators = (await k("role_assignments as a").join("users as u", "u.id", "a.user_id").where("a.role", "coordinator")
-      .where((q) => q.where((o) => o.whereNull("a.site_id").whereNull("a.department_id")).orWhere("a.site_id", me.site_id).orWhere("a.department_id", me.department_id))
-      .distinct("u.email")).map((r) => r.email as string).sort();
+    const coordinators = (
+      await k("role_assignments as a")
+        .join("users as u", "u.id", "a.user_id")
+        .where("a.role", "coordinator")
+        .where((q) =>
+          q
+            .where((o) => o.whereNull("a.site_id").whereNull("a.department_id"))
+            .orWhere("a.site_id", me.site_id)
+            .orWhere("a.department_id", me.department_id),
+        )
+        .distinct("u.email")
+    )
+      .map((r) => r.email as string)
+      .sort();
     expect(coordinators.length).toBeGreaterThan(0);
     const mail = outbox().find((m) => m.subject === `Consent withdrawn: ${me.employee_number} leaves training plans`);
     expect(mail).toBeTruthy();
     expect([...mail!.to].sort()).toEqual(coordinators);
-    expect(mail!.text).toContain(`${futureCount} future scheduled session${futureCount === 1 ? " was" : "s were"} cancelled`);
+    expect(mail!.text).toContain(
+      `${futureCount} future scheduled session${futureCount === 1 ? " was" : "s were"} cancelled`,
+    );
 
     // Withdrawing again: a clear refusal.
     const again = await client.postForm("/me/consent", { intent: "withdraw", purpose: "planning", confirmErase: "on" });
@@ -244,7 +376,10 @@ describe("consent from the worker portal", () => {
     // Giving it again records a self-given consent (no witness) on the current text and brings the forecast back.
     const give = await client.postForm("/me/consent", { intent: "give", purpose: "planning", confirmRead: "on" });
     expect(give.status).toBe(200);
-    const renewed = await k("consent_records").where({ worker_id: me.id, purpose: "planning" }).orderBy("id", "desc").first();
+    const renewed = await k("consent_records")
+      .where({ worker_id: me.id, purpose: "planning" })
+      .orderBy("id", "desc")
+      .first();
     expect(renewed.status).toBe("given");
     expect(renewed.witness_user_id).toBeNull();
     expect(Number((await k("forecasts").where({ worker_id: me.id }).count({ n: "*" }).first())?.n)).toBeGreaterThan(0);
@@ -260,7 +395,16 @@ describe("review requests", () => {
     expect(short.status).toBe(400);
     expect(await short.text()).toContain("Message: say in a sentence or two");
     const message = `Integration check ${Date.now()}: my forecast looks too high for me.`;
-    expect((await client.postForm("/me/review", { subject: "forecast", deviceTypeId: String((await portalAccount(0)).device.id), message, workerId: "1" })).status).toBe(200);
+    expect(
+      (
+        await client.postForm("/me/review", {
+          subject: "forecast",
+          deviceTypeId: String((await portalAccount(0)).device.id),
+          message,
+          workerId: "1",
+        })
+      ).status,
+    ).toBe(200);
     const row = await k("review_requests").where({ message }).first();
     expect(row.worker_id).toBe(me.id);
     expect(row.status).toBe("open");
@@ -268,7 +412,11 @@ describe("review requests", () => {
     for (const who of [PERSONA.trainer, PERSONA.coordinator, PERSONA.manager, PERSONA.admin]) {
       const { client: c } = await signIn(who);
       expect((await c.request("/assess/reviews")).status, who).toBe(403);
-      expect((await c.postForm("/assess/reviews", { reviewId: String(row.id), [`answer_${row.id}`]: "Not mine to answer." })).status, who).toBe(403);
+      expect(
+        (await c.postForm("/assess/reviews", { reviewId: String(row.id), [`answer_${row.id}`]: "Not mine to answer." }))
+          .status,
+        who,
+      ).toBe(403);
     }
     const { client: assessor } = await signIn(PERSONA.assessor);
     const queue = await (await assessor.request("/assess/reviews")).text();
@@ -282,7 +430,9 @@ describe("review requests", () => {
     const answered = await k("review_requests").where({ id: row.id }).first();
     expect(answered.status).toBe("answered");
     expect(answered.answer).toBe(answer);
-    const mail = outbox().find((m) => m.to.includes(email) && m.subject === "Your review request has been answered" && m.text.includes(answer));
+    const mail = outbox().find(
+      (m) => m.to.includes(email) && m.subject === "Your review request has been answered" && m.text.includes(answer),
+    );
     expect(mail).toBeTruthy();
     expect(await (await client.request("/me/review")).text()).toContain(answer);
   });
@@ -307,7 +457,16 @@ describe("the trainer's day and session log", () => {
     expect((await client.request("/train/sessions/99999999")).status).toBe(403);
     const before = await k("training_sessions").where({ id: notMine }).first();
     expect((await client.postForm(`/train/sessions/${notMine}`, { intent: "no_show" })).status).toBe(403);
-    expect((await client.postForm(`/train/sessions/${notMine}`, { intent: "log", start: "2026-12-01T08:00", end: "2026-12-01T08:30", taskScore: "0.5" })).status).toBe(403);
+    expect(
+      (
+        await client.postForm(`/train/sessions/${notMine}`, {
+          intent: "log",
+          start: "2026-12-01T08:00",
+          end: "2026-12-01T08:30",
+          taskScore: "0.5",
+        })
+      ).status,
+    ).toBe(403);
     expect(await k("training_sessions").where({ id: notMine }).first()).toEqual(before);
     // Marking no-show on one of her own.
     expect((await client.postForm(`/train/sessions/${mine}`, { intent: "no_show" })).status).toBe(302);
@@ -325,20 +484,36 @@ describe("the trainer's day and session log", () => {
     const { client } = await signIn(PERSONA.trainer);
 
     // Bad input names the field; nothing is written.
-    const bad = await client.postForm(`/train/sessions/${s1}`, { intent: "log", start: local(start), end: local(new Date(start.getTime() - 60_000)), taskScore: "1.4" });
+    const bad = await client.postForm(`/train/sessions/${s1}`, {
+      intent: "log",
+      start: local(start),
+      end: local(new Date(start.getTime() - 60_000)),
+      taskScore: "1.4",
+    });
     expect(bad.status).toBe(400);
     const badText = await bad.text();
     expect(badText).toContain("End: must be after the start.");
     expect(badText).toContain("Task score: a number between 0 and 1.");
-    const tooLong = await client.postForm(`/train/sessions/${s1}`, { intent: "log", start: local(start), end: local(new Date(start.getTime() + (foot.wear_time_limit_minutes + 30) * 60_000)), taskScore: "0.5" });
+    const tooLong = await client.postForm(`/train/sessions/${s1}`, {
+      intent: "log",
+      start: local(start),
+      end: local(new Date(start.getTime() + (foot.wear_time_limit_minutes + 30) * 60_000)),
+      taskScore: "0.5",
+    });
     expect(tooLong.status).toBe(409);
     expect(await tooLong.text()).toContain(`wear-time limit of ${foot.wear_time_limit_minutes} minutes`);
     expect((await k("training_sessions").where({ id: s1 }).first()).status).toBe("scheduled");
 
     // A 45-minute session with score 0.6437 and a mild skin mark.
     const ok = await client.postForm(`/train/sessions/${s1}`, {
-      intent: "log", start: local(start), end: local(new Date(start.getTime() + 45 * 60_000)), taskScore: "0.6437", notes: "Steady grip.",
-      ae_pain: "none", ae_skin: "mild", ae_skin_notes: "Slight redness under the strap.",
+      intent: "log",
+      start: local(start),
+      end: local(new Date(start.getTime() + 45 * 60_000)),
+      taskScore: "0.6437",
+      notes: "Steady grip.",
+      ae_pain: "none",
+      ae_skin: "mild",
+      ae_skin_notes: "Slight redness under the strap.",
     });
     expect(ok.status, (await ok.clone().text()).match(/role="alert"[^<]*</)?.[0] ?? "").toBe(200);
     const logged = await k("training_sessions").where({ id: s1 }).first();
@@ -370,8 +545,12 @@ describe("the trainer's day and session log", () => {
     const s2start = new Date(start.getTime() + 60 * 60_000);
     const s2 = await scheduleSession(w.id, foot.id, trainer, s2start.toISOString(), 30);
     const severe = await client.postForm(`/train/sessions/${s2}`, {
-      intent: "log", start: local(s2start), end: local(new Date(s2start.getTime() + 30 * 60_000)), taskScore: "0.58",
-      ae_numbness: "severe", ae_numbness_notes: "Numb toes after 25 minutes; session stopped.",
+      intent: "log",
+      start: local(s2start),
+      end: local(new Date(s2start.getTime() + 30 * 60_000)),
+      taskScore: "0.58",
+      ae_numbness: "severe",
+      ae_numbness_notes: "Numb toes after 25 minutes; session stopped.",
     });
     expect(severe.status).toBe(200);
     expect(await severe.text()).toContain("Training is paused");
@@ -379,20 +558,42 @@ describe("the trainer's day and session log", () => {
     expect(paused.status).toBe("paused");
     expect(paused.pause_reason).toContain("numbness");
     expect((await worker(w.employee_number)).stage).toBe("paused");
-    const change = await k("stage_changes").where({ worker_id: w.id, to_stage: "paused" }).orderBy("id", "desc").first();
+    const change = await k("stage_changes")
+      .where({ worker_id: w.id, to_stage: "paused" })
+      .orderBy("id", "desc")
+      .first();
     expect(change.device_type_id).toBe(foot.id);
     expect(change.actor_user_id).toBe((await k("users").where({ email: PERSONA.trainer }).first("id")).id);
-    const assessors = (await k("role_assignments as a").join("users as u", "u.id", "a.user_id").where("a.role", "assessor")
-      .where((q) => q.where((o) => o.whereNull("a.site_id").whereNull("a.department_id")).orWhere("a.site_id", w.site_id).orWhere("a.department_id", w.department_id))
-      .distinct("u.email")).map((r) => r.email as string).sort();
-    const mail = outbox().find((m) => m.subject === `Training paused: severe adverse event for ${w.employee_number}` && m.text.includes("Numb toes"));
+    const assessors = (
+      await k("role_assignments as a")
+        .join("users as u", "u.id", "a.user_id")
+        .where("a.role", "assessor")
+        .where((q) =>
+          q
+            .where((o) => o.whereNull("a.site_id").whereNull("a.department_id"))
+            .orWhere("a.site_id", w.site_id)
+            .orWhere("a.department_id", w.department_id),
+        )
+        .distinct("u.email")
+    )
+      .map((r) => r.email as string)
+      .sort();
+    const mail = outbox().find(
+      (m) =>
+        m.subject === `Training paused: severe adverse event for ${w.employee_number}` && m.text.includes("Numb toes"),
+    );
     expect(mail).toBeTruthy();
     expect([...mail!.to].sort()).toEqual(assessors);
 
     // Paused: a further session cannot be logged.
     const s3start = new Date(start.getTime() + 100 * 60_000);
     const s3 = await scheduleSession(w.id, foot.id, trainer, s3start.toISOString(), 30);
-    const blocked = await client.postForm(`/train/sessions/${s3}`, { intent: "log", start: local(s3start), end: local(new Date(s3start.getTime() + 30 * 60_000)), taskScore: "0.6" });
+    const blocked = await client.postForm(`/train/sessions/${s3}`, {
+      intent: "log",
+      start: local(s3start),
+      end: local(new Date(s3start.getTime() + 30 * 60_000)),
+      taskScore: "0.6",
+    });
     expect(blocked.status).toBe(409);
     expect(await blocked.text()).toContain("This course is paused");
     expect((await k("training_sessions").where({ id: s3 }).first()).status).toBe("scheduled");

@@ -1,10 +1,10 @@
 import crypto from "node:crypto";
 import ExcelJS from "exceljs";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import routes from "../../app/routes";
-import { auditLinkedTables } from "../../app/compute/disclosure";
 import { STAGES } from "../../app/components/stage";
-import { baseUrl, PERSONA, signIn, testDb, type Browserless } from "./helpers";
+import { auditLinkedTables } from "../../app/compute/disclosure";
+import routes from "../../app/routes";
+import { type Browserless, baseUrl, PERSONA, signIn, testDb } from "./helpers";
 import { concretePath, flattenRoutes, type RouteEntry } from "./route-walk";
 
 // Issue 6: what a manager's pages, export and API send contains nothing personal; department and site
@@ -23,10 +23,15 @@ const pausedIds: { id: number; stage: string }[] = [];
 async function insertKey(role: string, siteIds: number[]): Promise<{ key: string; id: number }> {
   const prefix = crypto.randomBytes(6).toString("hex");
   const secret = crypto.randomBytes(32).toString("base64url");
-  const [row] = await testDb()("api_keys").insert({
-    name: `readiness test ${role}`, prefix, secret_hash: crypto.createHash("sha256").update(secret).digest("hex"),
-    role, created_at: new Date().toISOString(),
-  }).returning("id");
+  const [row] = await testDb()("api_keys")
+    .insert({
+      name: `readiness test ${role}`,
+      prefix,
+      secret_hash: crypto.createHash("sha256").update(secret).digest("hex"),
+      role,
+      created_at: new Date().toISOString(),
+    })
+    .returning("id");
   const id = typeof row === "object" ? row.id : row;
   for (const s of siteIds) await testDb()("api_key_sites").insert({ api_key_id: id, site_id: s });
   return { key: `lbk_${prefix}_${secret}`, id };
@@ -37,20 +42,49 @@ beforeAll(async () => {
   const ny = await db("sites").where({ code: "NY" }).first("id");
   // Small groups on purpose: two North Yard Kitting workers paused, so the site view must hide them.
   const kt = await db("departments").where({ site_id: ny.id, code: "KT" }).first("id");
-  const two = await db("workers").where({ department_id: kt.id }).whereNotIn("stage", ["paused", "withdrawn"]).orderBy("id").limit(2).select("id", "stage");
+  const two = await db("workers")
+    .where({ department_id: kt.id })
+    .whereNotIn("stage", ["paused", "withdrawn"])
+    .orderBy("id")
+    .limit(2)
+    .select("id", "stage");
   for (const w of two) pausedIds.push(w);
-  await db("workers").whereIn("id", two.map((w) => w.id)).update({ stage: "paused" });
+  await db("workers")
+    .whereIn(
+      "id",
+      two.map((w) => w.id),
+    )
+    .update({ stage: "paused" });
   // A published plan: sessions for a handful of workers in every North Yard department.
   const device = await db("device_types").orderBy("id").first("id");
-  const workers = await db("workers").where({ site_id: ny.id }).whereNot("stage", "withdrawn").orderBy("id").select("id");
-  const rows = workers.filter((_, i) => i % 3 === 0).flatMap((w, i) => [0, 1].map((k) => ({
-    worker_id: w.id, device_type_id: device.id, allocation_run_id: RUN_ID, status: "scheduled", created_at: "2026-12-01T00:00:00.000Z",
-    scheduled_start: new Date(Date.UTC(2026, 11, 7 + 7 * ((i % 6) + k))).toISOString(),
-  })));
+  const workers = await db("workers")
+    .where({ site_id: ny.id })
+    .whereNot("stage", "withdrawn")
+    .orderBy("id")
+    .select("id");
+  const rows = workers
+    .filter((_, i) => i % 3 === 0)
+    .flatMap((w, i) =>
+      [0, 1].map((k) => ({
+        worker_id: w.id,
+        device_type_id: device.id,
+        allocation_run_id: RUN_ID,
+        status: "scheduled",
+        created_at: "2026-12-01T00:00:00.000Z",
+        scheduled_start: new Date(Date.UTC(2026, 11, 7 + 7 * ((i % 6) + k))).toISOString(),
+      })),
+    );
   for (let i = 0; i < rows.length; i += 100) await db("training_sessions").insert(rows.slice(i, i + 100));
   // Sessions count only when their run is published (once the allocation area's table exists).
   if (await db.schema.hasTable("allocation_runs")) {
-    await db("allocation_runs").insert({ id: RUN_ID, label: "readiness test plan", parameters: "{}", status: "done", created_at: "2026-12-01T00:00:00.000Z", published_at: "2026-12-01T00:00:00.000Z" });
+    await db("allocation_runs").insert({
+      id: RUN_ID,
+      label: "readiness test plan",
+      parameters: "{}",
+      status: "done",
+      created_at: "2026-12-01T00:00:00.000Z",
+      published_at: "2026-12-01T00:00:00.000Z",
+    });
   }
   ({ client: manager } = await signIn(PERSONA.manager));
   ({ key: nyKey, id: nyKeyId } = await insertKey("manager", [ny.id]));
@@ -87,14 +121,21 @@ function scanForPersonalData(payloads: [string, string][], workers: WorkerRow[])
       // An id appears only next to a key that names it; bare small numbers are counts.
       if (new RegExp(`worker[_ -]?id\\W{0,6}${w.id}\\b`, "i").test(body)) leaks.push(`${where}: worker id ${w.id}`);
     }
-    if (/worker[_-]?id|employee[_-]?number|given[_-]?name|family[_-]?name/i.test(body)) leaks.push(`${where}: a personal field name`);
+    if (/worker[_-]?id|employee[_-]?number|given[_-]?name|family[_-]?name/i.test(body))
+      leaks.push(`${where}: a personal field name`);
   }
   return leaks;
 }
 
 describe("manager payloads contain nothing personal", () => {
   it("no demo worker's name, e-mail, employee number or id in any page, .data, export or API response", async () => {
-    const workers: WorkerRow[] = await testDb()("workers").select("id", "given_name", "family_name", "email", "employee_number");
+    const workers: WorkerRow[] = await testDb()("workers").select(
+      "id",
+      "given_name",
+      "family_name",
+      "email",
+      "employee_number",
+    );
     expect(workers.length).toBeGreaterThan(100);
     const payloads: [string, string][] = [];
     for (const path of ["/readiness", "/readiness.data", "/readiness/sites", "/readiness/sites.data"]) {
@@ -124,7 +165,13 @@ describe("manager payloads contain nothing personal", () => {
 
 describe("the payload scan itself", () => {
   it("finds the worker persona in her own page (control: the scan can see a leak)", async () => {
-    const workers: WorkerRow[] = await testDb()("workers").select("id", "given_name", "family_name", "email", "employee_number");
+    const workers: WorkerRow[] = await testDb()("workers").select(
+      "id",
+      "given_name",
+      "family_name",
+      "email",
+      "employee_number",
+    );
     const { client } = await signIn(PERSONA.worker);
     const res = await client.request("/me.data");
     expect(res.status).toBe(200);
@@ -136,11 +183,20 @@ describe("the payload scan itself", () => {
 describe("department and site views published together", () => {
   it("reveal no department count below the threshold, and the manager's rows are the same publication", async () => {
     const api = async (groupBy: string) => {
-      const res = await fetch(`${baseUrl()}/api/v1/readiness?groupBy=${groupBy}`, { headers: { Authorization: `Bearer ${nyKey}` } });
+      const res = await fetch(`${baseUrl()}/api/v1/readiness?groupBy=${groupBy}`, {
+        headers: { Authorization: `Bearer ${nyKey}` },
+      });
       expect(res.status, groupBy).toBe(200);
       return (await res.json()) as { threshold: number; tables: { workersByStage: Table } };
     };
-    type Table = { rows: string[]; columns: string[]; cells: (number | null)[][]; rowTotals: (number | null)[]; columnTotals: (number | null)[]; grandTotal: number | null };
+    type Table = {
+      rows: string[];
+      columns: string[];
+      cells: (number | null)[][];
+      rowTotals: (number | null)[];
+      columnTotals: (number | null)[];
+      grandTotal: number | null;
+    };
     const dept = (await api("department")).tables.workersByStage;
     const site = (await api("site")).tables.workersByStage;
     expect(site.rows).toEqual(["North Yard"]);
@@ -148,29 +204,45 @@ describe("department and site views published together", () => {
 
     // True counts from the database, in the published order.
     const rows: { department: string; stage: string; n: number }[] = await testDb()("workers as w")
-      .join("departments as d", "d.id", "w.department_id").join("sites as s", "s.id", "w.site_id")
-      .where("s.code", "NY").select("d.name as department", "w.stage").count({ n: "*" }).groupBy("d.name", "w.stage");
-    const counts = dept.rows.map((label) => STAGES.map((st) => Number(rows.find((r) => `North Yard · ${r.department}` === label && r.stage === st)?.n ?? 0)));
+      .join("departments as d", "d.id", "w.department_id")
+      .join("sites as s", "s.id", "w.site_id")
+      .where("s.code", "NY")
+      .select("d.name as department", "w.stage")
+      .count({ n: "*" })
+      .groupBy("d.name", "w.stage");
+    const counts = dept.rows.map((label) =>
+      STAGES.map((st) => Number(rows.find((r) => `North Yard · ${r.department}` === label && r.stage === st)?.n ?? 0)),
+    );
     const small = counts.flat().filter((v) => v > 0 && v < THRESHOLD).length;
     expect(small).toBeGreaterThan(0); // the two paused Kitting workers at least
 
     // Every shown department number is the truth and not a small count.
-    dept.cells.forEach((line, i) => line.forEach((v, j) => {
-      if (v !== null) { expect(v).toBe(counts[i][j]); expect(v === 0 || v >= THRESHOLD).toBe(true); }
-    }));
+    dept.cells.forEach((line, i) =>
+      line.forEach((v, j) => {
+        if (v !== null) {
+          expect(v).toBe(counts[i][j]);
+          expect(v === 0 || v >= THRESHOLD).toBe(true);
+        }
+      }),
+    );
     const published = {
       detail: { ...dept, rows: dept.rows, threshold: THRESHOLD },
       parent: { ...site, threshold: THRESHOLD },
       threshold: THRESHOLD,
     };
-    const intervals = auditLinkedTables({ detail: { rows: dept.rows, columns: dept.columns, counts }, parentOf: dept.rows.map(() => "North Yard") }, published);
+    const intervals = auditLinkedTables(
+      { detail: { rows: dept.rows, columns: dept.columns, counts }, parentOf: dept.rows.map(() => "North Yard") },
+      published,
+    );
     expect(intervals.length).toBeGreaterThan(0);
     for (const iv of intervals) {
       // Not recoverable: the LP attacker's interval for every hidden number is at least 1 wide.
       expect(iv.max - iv.min, `${iv.kind} ${iv.table} r${iv.row} c${iv.column}`).toBeGreaterThanOrEqual(1);
     }
     // The department manager's page shows the same numbers for their rows (one organisation-wide publication).
-    const mine = await (await manager.request("/api/v1/readiness?groupBy=department")).json() as { tables: { workersByStage: Table } };
+    const mine = (await (await manager.request("/api/v1/readiness?groupBy=department")).json()) as {
+      tables: { workersByStage: Table };
+    };
     for (const [i, label] of mine.tables.workersByStage.rows.entries()) {
       const k = dept.rows.indexOf(label);
       expect(k, label).toBeGreaterThanOrEqual(0);
@@ -197,7 +269,8 @@ describe("manager API keys", () => {
   });
 
   it("refuse unknown groupings and any extra query parameter, naming the field", async () => {
-    const get = (q: string) => fetch(`${baseUrl()}/api/v1/readiness${q}`, { headers: { Authorization: `Bearer ${nyKey}` } });
+    const get = (q: string) =>
+      fetch(`${baseUrl()}/api/v1/readiness${q}`, { headers: { Authorization: `Bearer ${nyKey}` } });
     const bad = await get("?groupBy=worker");
     expect(bad.status).toBe(400);
     expect((await bad.json()).error).toMatch(/^groupBy:/);
@@ -216,14 +289,20 @@ describe("organisation settings", () => {
     expect(page.status).toBe(200);
     expect(await manager.request("/admin/organisation").then((r) => r.status)).toBe(403);
 
-    const low = await admin.postForm("/admin/organisation", { disclosureThreshold: "3", groupings: ["site", "department", "stage"] });
+    const low = await admin.postForm("/admin/organisation", {
+      disclosureThreshold: "3",
+      groupings: ["site", "department", "stage"],
+    });
     expect(low.status).toBe(400);
     expect(await low.text()).toContain("at least 5");
     const noRows = await admin.postForm("/admin/organisation", { disclosureThreshold: "6", groupings: ["stage"] });
     expect(noRows.status).toBe(400);
     expect(await noRows.text()).toContain("site or department");
 
-    const ok = await admin.postForm("/admin/organisation", { disclosureThreshold: "8", groupings: ["department", "stage"] });
+    const ok = await admin.postForm("/admin/organisation", {
+      disclosureThreshold: "8",
+      groupings: ["department", "stage"],
+    });
     expect(ok.status).toBe(200);
     try {
       const org = await testDb()("organisations").first("disclosure_threshold", "manager_groupings");
@@ -231,12 +310,16 @@ describe("organisation settings", () => {
       expect(JSON.parse(org.manager_groupings)).toEqual(["department", "stage"]);
       const stage = await (await manager.request("/api/v1/readiness?groupBy=department")).json();
       expect(stage.threshold).toBe(8);
-      for (const line of stage.tables.workersByStage.cells as (number | null)[][]) for (const v of line) if (v !== null) expect(v === 0 || v >= 8).toBe(true);
+      for (const line of stage.tables.workersByStage.cells as (number | null)[][])
+        for (const v of line) if (v !== null) expect(v === 0 || v >= 8).toBe(true);
       expect(stage.tables.readyByDeviceType).toBeUndefined();
       expect((await manager.request("/api/v1/readiness?groupBy=site")).status).toBe(403);
       expect((await manager.request("/api/v1/readiness?groupBy=deviceType")).status).toBe(403);
     } finally {
-      const back = await admin.postForm("/admin/organisation", { disclosureThreshold: "5", groupings: ["site", "department", "deviceType", "stage", "week"] });
+      const back = await admin.postForm("/admin/organisation", {
+        disclosureThreshold: "5",
+        groupings: ["site", "department", "deviceType", "stage", "week"],
+      });
       expect(back.status).toBe(200);
     }
   });

@@ -6,14 +6,14 @@ import { checkAnonymous, flattenRoutes, type RouteEntry } from "./route-walk";
 // Every route declared in app/routes.ts is either public on purpose (this list) or refuses anonymous
 // access. A new route that forgets requireUser / requireApiAccess fails here.
 const PUBLIC = new Set([
-  "/",                      // redirects to sign-in or the role's home
+  "/", // redirects to sign-in or the role's home
   "/sign-in",
-  "/auth/start",            // begins the OAuth2 flow
-  "/auth/callback",         // ends it
+  "/auth/start", // begins the OAuth2 flow
+  "/auth/callback", // ends it
   "/auth/not-provisioned",
-  "/sign-out",              // POST ends a session; GET redirects home
-  "/api/v1/health",         // liveness, no data
-  "/*",                     // not-found page
+  "/sign-out", // POST ends a session; GET redirects home
+  "/api/v1/health", // liveness, no data
+  "/*", // not-found page
 ]);
 
 const walked = flattenRoutes(routes as unknown as RouteEntry[]);

@@ -1,8 +1,17 @@
 // Walks a React Router route config and checks that each route either is on the public allow-list or
 // refuses anonymous access: pages redirect to /sign-in, API routes answer 401 JSON. Used on the real
 // app/routes.ts (route-guard.test.ts) and on a deliberately leaky fake (route-walk.test.ts).
-export interface RouteEntry { path?: string; index?: boolean; file: string; children?: RouteEntry[] }
-export interface WalkedRoute { path: string; file: string; api: boolean }
+export interface RouteEntry {
+  path?: string;
+  index?: boolean;
+  file: string;
+  children?: RouteEntry[];
+}
+export interface WalkedRoute {
+  path: string;
+  file: string;
+  api: boolean;
+}
 
 export function flattenRoutes(entries: RouteEntry[], prefix = ""): WalkedRoute[] {
   const out: WalkedRoute[] = [];
@@ -22,7 +31,12 @@ export function concretePath(pattern: string): string {
   return pattern.replace(/:[A-Za-z0-9_]+\??/g, "1").replace(/\*$/, "no-such-page-xyz");
 }
 
-export interface Verdict { path: string; method: string; ok: boolean; detail: string }
+export interface Verdict {
+  path: string;
+  method: string;
+  ok: boolean;
+  detail: string;
+}
 
 export async function checkAnonymous(base: string, route: WalkedRoute): Promise<Verdict[]> {
   const url = `${base}${concretePath(route.path)}`;
@@ -30,7 +44,8 @@ export async function checkAnonymous(base: string, route: WalkedRoute): Promise<
   const origin = new URL(base).origin;
   for (const method of ["GET", "POST"] as const) {
     const res = await fetch(url, {
-      method, redirect: "manual",
+      method,
+      redirect: "manual",
       headers: method === "POST" ? { Origin: origin, "Content-Type": "application/x-www-form-urlencoded" } : {},
       body: method === "POST" ? "intent=probe" : undefined,
     });
@@ -40,7 +55,11 @@ export async function checkAnonymous(base: string, route: WalkedRoute): Promise<
     let detail: string;
     if (route.api) {
       let json: unknown = null;
-      try { json = JSON.parse(body); } catch { /* not JSON */ }
+      try {
+        json = JSON.parse(body);
+      } catch {
+        /* not JSON */
+      }
       ok = (res.status === 401 && json !== null) || (method === "POST" && res.status === 405);
       detail = `${res.status} ${res.headers.get("Content-Type") ?? ""}`;
     } else {
@@ -57,7 +76,10 @@ export async function checkAnonymous(base: string, route: WalkedRoute): Promise<
     const body = await res.text();
     // Single fetch encodes a loader's redirect in the turbo-stream body: ["SingleFetchRedirect",…,"redirect","/sign-in…"].
     const redirected = res.status === 202 && body.includes("SingleFetchRedirect") && /"redirect","\/sign-in/.test(body);
-    const ok = redirected || (res.status >= 300 && res.status < 400 && (res.headers.get("Location") ?? "").startsWith("/sign-in")) || res.status === 404;
+    const ok =
+      redirected ||
+      (res.status >= 300 && res.status < 400 && (res.headers.get("Location") ?? "").startsWith("/sign-in")) ||
+      res.status === 404;
     verdicts.push({ path: route.path, method: "GET .data", ok, detail: `${res.status} ${body.slice(0, 120)}` });
   }
   return verdicts;

@@ -74,7 +74,11 @@ export function buildLp(problem: AllocationProblem): { lp: string; zNames: Map<s
         });
         if (week.length) rows.push(`wk_${wi}_${oi}_${k}: ${week.join(" + ")} - ${w.maxHoursPerWeek} ${z} <= 0`);
       }
-      rows.push(all.length ? `need_${wi}_${oi}: ${all.join(" + ")} - ${o.hoursNeeded} ${z} >= 0` : `need_${wi}_${oi}: ${z} <= 0`);
+      rows.push(
+        all.length
+          ? `need_${wi}_${oi}: ${all.join(" + ")} - ${o.hoursNeeded} ${z} >= 0`
+          : `need_${wi}_${oi}: ${z} <= 0`,
+      );
     });
     if (zs.length > 1) rows.push(`one_${wi}: ${zs.join(" + ")} <= 1`);
     if (!groupTerms.has(w.group)) groupTerms.set(w.group, []);

@@ -9,6 +9,7 @@
 import type { AllocationProblem } from "../../app/compute/allocation";
 
 export { mulberry32 } from "../../app/compute/seeded-random";
+
 import { mulberry32 } from "../../app/compute/seeded-random";
 
 export interface InstanceSpec {
@@ -27,7 +28,7 @@ const DEPARTMENTS = ["Cable Harness", "Final Assembly", "Kitting", "Inspection",
 export function randomInstance(spec: InstanceSpec): AllocationProblem {
   const rnd = mulberry32(spec.seed * 2654435761 + spec.workers);
   const int = (lo: number, hi: number) => lo + Math.floor(rnd() * (hi - lo + 1));
-  const pick = <T,>(xs: T[]) => xs[Math.floor(rnd() * xs.length)];
+  const pick = <T>(xs: T[]) => xs[Math.floor(rnd() * xs.length)];
   const H = spec.weeks;
   const D = spec.deviceTypes;
   const deviceIds = Array.from({ length: D }, (_, d) => `dev-${String.fromCharCode(65 + d)}`);
@@ -40,10 +41,12 @@ export function randomInstance(spec: InstanceSpec): AllocationProblem {
     const devs = new Set<number>();
     while (devs.size < nOpt) devs.add(int(0, D - 1));
     const maxHoursPerWeek = pick([4, 5, 6, 6, 8]);
-    const options = [...devs].sort((a, b) => a - b).map((d) => {
-      const hoursNeeded = Math.round(10 + rnd() * 50);
-      return { deviceTypeId: deviceIds[d], hoursNeeded };
-    });
+    const options = [...devs]
+      .sort((a, b) => a - b)
+      .map((d) => {
+        const hoursNeeded = Math.round(10 + rnd() * 50);
+        return { deviceTypeId: deviceIds[d], hoursNeeded };
+      });
     const w: AllocationProblem["workers"][number] = {
       id: `w${String(i).padStart(4, "0")}`,
       group: pick(groups),
@@ -70,7 +73,10 @@ export function randomInstance(spec: InstanceSpec): AllocationProblem {
     const maintenanceWeek = rnd() < 0.5 ? int(0, H - 1) : -1;
     return {
       id,
-      hoursPerWeek: Array.from({ length: H }, (_, k) => units * bookable - (k === maintenanceWeek ? Math.min(bookable, 4) : 0)),
+      hoursPerWeek: Array.from(
+        { length: H },
+        (_, k) => units * bookable - (k === maintenanceWeek ? Math.min(bookable, 4) : 0),
+      ),
     };
   });
 

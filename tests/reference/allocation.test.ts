@@ -3,15 +3,18 @@
  * with HiGHS on the time-indexed MIP (tests/reference/allocation-highs.ts).
  */
 import { describe, expect, it } from "vitest";
-import { solveAllocation, type AllocationPlan, type AllocationProblem } from "../../app/compute/allocation";
+import { type AllocationPlan, type AllocationProblem, solveAllocation } from "../../app/compute/allocation";
+import { cutViolation, starterCuts, WeekCapacity } from "../../app/compute/allocation/cuts";
+import { buildInstance } from "../../app/compute/allocation/instance";
+import { FlowNetwork } from "../../app/compute/allocation/maxflow";
 import { checkPlan } from "./allocation-checker";
 import { buildLp, loadHighs, solveWithHighs } from "./allocation-highs";
 import { randomInstance } from "./allocation-instances";
-import { FlowNetwork } from "../../app/compute/allocation/maxflow";
-import { buildInstance } from "../../app/compute/allocation/instance";
-import { cutViolation, starterCuts, WeekCapacity } from "../../app/compute/allocation/cuts";
 
-async function solveChecked(problem: AllocationProblem, options?: Parameters<typeof solveAllocation>[1]): Promise<AllocationPlan> {
+async function solveChecked(
+  problem: AllocationProblem,
+  options?: Parameters<typeof solveAllocation>[1],
+): Promise<AllocationPlan> {
   const plan = await solveAllocation(problem, options);
   expect(checkPlan(problem, plan)).toEqual([]);
   return plan;
@@ -27,8 +30,20 @@ describe("hand-made instances with an answer found by hand", () => {
       deviceTypes: [{ id: "arm", hoursPerWeek: [10, 10] }],
       trainers: [{ id: "T1", deviceTypeIds: ["arm"], hoursPerWeek: [20, 20], traineesPerSession: 1 }],
       workers: [
-        { id: "low", group: "Kitting", priority: 2, options: [{ deviceTypeId: "arm", hoursNeeded: 20 }], maxHoursPerWeek: 10 },
-        { id: "high", group: "Kitting", priority: 5, options: [{ deviceTypeId: "arm", hoursNeeded: 20 }], maxHoursPerWeek: 10 },
+        {
+          id: "low",
+          group: "Kitting",
+          priority: 2,
+          options: [{ deviceTypeId: "arm", hoursNeeded: 20 }],
+          maxHoursPerWeek: 10,
+        },
+        {
+          id: "high",
+          group: "Kitting",
+          priority: 5,
+          options: [{ deviceTypeId: "arm", hoursNeeded: 20 }],
+          maxHoursPerWeek: 10,
+        },
       ],
     };
     const plan = await solveChecked(problem);
@@ -51,10 +66,34 @@ describe("hand-made instances with an answer found by hand", () => {
       deviceTypes: [{ id: "exo", hoursPerWeek: [20] }],
       trainers: [{ id: "T1", deviceTypeIds: ["exo"], hoursPerWeek: [20], traineesPerSession: 1 }],
       workers: [
-        { id: "a1", group: "Final Assembly", priority: 5, options: [{ deviceTypeId: "exo", hoursNeeded: 10 }], maxHoursPerWeek: 10 },
-        { id: "a2", group: "Final Assembly", priority: 5, options: [{ deviceTypeId: "exo", hoursNeeded: 10 }], maxHoursPerWeek: 10 },
-        { id: "b1", group: "Paint Prep", priority: 1, options: [{ deviceTypeId: "exo", hoursNeeded: 10 }], maxHoursPerWeek: 10 },
-        { id: "b2", group: "Paint Prep", priority: 1, options: [{ deviceTypeId: "exo", hoursNeeded: 10 }], maxHoursPerWeek: 10 },
+        {
+          id: "a1",
+          group: "Final Assembly",
+          priority: 5,
+          options: [{ deviceTypeId: "exo", hoursNeeded: 10 }],
+          maxHoursPerWeek: 10,
+        },
+        {
+          id: "a2",
+          group: "Final Assembly",
+          priority: 5,
+          options: [{ deviceTypeId: "exo", hoursNeeded: 10 }],
+          maxHoursPerWeek: 10,
+        },
+        {
+          id: "b1",
+          group: "Paint Prep",
+          priority: 1,
+          options: [{ deviceTypeId: "exo", hoursNeeded: 10 }],
+          maxHoursPerWeek: 10,
+        },
+        {
+          id: "b2",
+          group: "Paint Prep",
+          priority: 1,
+          options: [{ deviceTypeId: "exo", hoursNeeded: 10 }],
+          maxHoursPerWeek: 10,
+        },
       ],
     };
     const free = await solveChecked(base);
@@ -75,8 +114,22 @@ describe("hand-made instances with an answer found by hand", () => {
       deviceTypes: [{ id: "finger", hoursPerWeek: weeksAll(4, 40) }],
       trainers: [{ id: "T1", deviceTypeIds: ["finger"], hoursPerWeek: weeksAll(4, 40), traineesPerSession: 1 }],
       workers: [
-        { id: "leave", group: "Inspection", priority: 3, options: [{ deviceTypeId: "finger", hoursNeeded: 12 }], maxHoursPerWeek: 6, availableWeeks: [2, 3] },
-        { id: "short", group: "Inspection", priority: 4, options: [{ deviceTypeId: "finger", hoursNeeded: 20 }], maxHoursPerWeek: 5, availableWeeks: [0, 3] },
+        {
+          id: "leave",
+          group: "Inspection",
+          priority: 3,
+          options: [{ deviceTypeId: "finger", hoursNeeded: 12 }],
+          maxHoursPerWeek: 6,
+          availableWeeks: [2, 3],
+        },
+        {
+          id: "short",
+          group: "Inspection",
+          priority: 4,
+          options: [{ deviceTypeId: "finger", hoursNeeded: 20 }],
+          maxHoursPerWeek: 5,
+          availableWeeks: [0, 3],
+        },
       ],
     };
     const plan = await solveChecked(problem);
@@ -95,12 +148,21 @@ describe("hand-made instances with an answer found by hand", () => {
     // enough for one 20-h trainee although T-exo has 40 idle hours per week.
     const problem: AllocationProblem = {
       weeks: 2,
-      deviceTypes: [{ id: "arm", hoursPerWeek: [40, 40] }, { id: "exo", hoursPerWeek: [40, 40] }],
+      deviceTypes: [
+        { id: "arm", hoursPerWeek: [40, 40] },
+        { id: "exo", hoursPerWeek: [40, 40] },
+      ],
       trainers: [
         { id: "T-arm", deviceTypeIds: ["arm"], hoursPerWeek: [10, 10], traineesPerSession: 1 },
         { id: "T-exo", deviceTypeIds: ["exo"], hoursPerWeek: [40, 40], traineesPerSession: 3 },
       ],
-      workers: ["x", "y"].map((id, i) => ({ id, group: "Kitting", priority: 2 + i, options: [{ deviceTypeId: "arm", hoursNeeded: 20 }], maxHoursPerWeek: 10 })),
+      workers: ["x", "y"].map((id, i) => ({
+        id,
+        group: "Kitting",
+        priority: 2 + i,
+        options: [{ deviceTypeId: "arm", hoursNeeded: 20 }],
+        maxHoursPerWeek: 10,
+      })),
     };
     const plan = await solveChecked(problem);
     expect(plan.objective).toBe(3);
@@ -115,7 +177,13 @@ describe("hand-made instances with an answer found by hand", () => {
       weeks: 1,
       deviceTypes: [{ id: "exo", hoursPerWeek: [20] }],
       trainers: [{ id: "T1", deviceTypeIds: ["exo"], hoursPerWeek: [8], traineesPerSession }],
-      workers: ["p", "q"].map((id) => ({ id, group: "Kitting", priority: 1, options: [{ deviceTypeId: "exo", hoursNeeded: 8 }], maxHoursPerWeek: 8 })),
+      workers: ["p", "q"].map((id) => ({
+        id,
+        group: "Kitting",
+        priority: 1,
+        options: [{ deviceTypeId: "exo", hoursNeeded: 8 }],
+        maxHoursPerWeek: 8,
+      })),
     });
     const solo = await solveChecked(make(1));
     expect(solo.objective).toBe(1);
@@ -130,7 +198,13 @@ describe("hand-made instances with an answer found by hand", () => {
       weeks: 1,
       deviceTypes: [{ id: "arm", hoursPerWeek: [10] }],
       trainers: [{ id: "T1", deviceTypeIds: ["arm"], hoursPerWeek: [10], traineesPerSession: 1 }],
-      workers: ["u", "v"].map((id) => ({ id, group: "Kitting", priority: 1, options: [{ deviceTypeId: "arm", hoursNeeded: 10 }], maxHoursPerWeek: 10 })),
+      workers: ["u", "v"].map((id) => ({
+        id,
+        group: "Kitting",
+        priority: 1,
+        options: [{ deviceTypeId: "arm", hoursNeeded: 10 }],
+        maxHoursPerWeek: 10,
+      })),
       minimumSharePerGroup: 1,
     };
     const plan = await solveChecked(problem);
@@ -150,8 +224,20 @@ describe("hand-made instances with an answer found by hand", () => {
       deviceTypes: [{ id: "exo", hoursPerWeek: weeksAll(6, 30) }],
       trainers: [{ id: "T1", deviceTypeIds: ["exo"], hoursPerWeek: weeksAll(6, 30), traineesPerSession: 1 }],
       workers: [
-        { id: "early", group: "Kitting", priority: 2, options: [{ deviceTypeId: "exo", hoursNeeded: 14 }], maxHoursPerWeek: 6 },
-        { id: "other", group: "Kitting", priority: 2, options: [{ deviceTypeId: "exo", hoursNeeded: 30 }], maxHoursPerWeek: 6 },
+        {
+          id: "early",
+          group: "Kitting",
+          priority: 2,
+          options: [{ deviceTypeId: "exo", hoursNeeded: 14 }],
+          maxHoursPerWeek: 6,
+        },
+        {
+          id: "other",
+          group: "Kitting",
+          priority: 2,
+          options: [{ deviceTypeId: "exo", hoursNeeded: 30 }],
+          maxHoursPerWeek: 6,
+        },
       ],
     };
     const plan = await solveChecked(problem);
@@ -175,7 +261,10 @@ describe("hand-made instances with an answer found by hand", () => {
       ],
     };
     const highs = await loadHighs();
-    const relaxed = highs.solve(buildLp(problem).lp.replace(/Binaries[\s\S]*End/, "Bounds\n z_0_0 <= 1\n z_1_0 <= 1\n z_2_0 <= 1\nEnd"), { output_flag: false });
+    const relaxed = highs.solve(
+      buildLp(problem).lp.replace(/Binaries[\s\S]*End/, "Bounds\n z_0_0 <= 1\n z_1_0 <= 1\n z_2_0 <= 1\nEnd"),
+      { output_flag: false },
+    );
     expect(relaxed.Status).toBe("Optimal");
     const dual = Math.abs(relaxed.Rows.find((r: { Name: string }) => r.Name === "dev_0_0").Dual);
     expect(dual).toBeCloseTo(0.15, 9);
@@ -187,7 +276,8 @@ describe("hand-made instances with an answer found by hand", () => {
     expect(device.shadowPrice).toBeGreaterThan(dual - 0.02);
     expect(device.shadowPrice).toBeLessThan(dual + 0.02);
     expect(device.description).toMatch(/arm in week 1/);
-    for (const b of plan.bindingResources!.filter((x) => x.kind === "trainer")) expect(b.shadowPrice).toBeLessThan(0.2 * dual);
+    for (const b of plan.bindingResources!.filter((x) => x.kind === "trainer"))
+      expect(b.shadowPrice).toBeLessThan(0.2 * dual);
   });
 });
 
@@ -196,8 +286,15 @@ describe("building blocks", () => {
     // Cormen, Leiserson, Rivest & Stein, Introduction to Algorithms, 3rd ed. (2009), Figure 26.1: max flow 23.
     const net = new FlowNetwork(6); // 0 = s, 1 = t, 2..5 = v1..v4
     const [s, t, v1, v2, v3, v4] = [0, 1, 2, 3, 4, 5];
-    net.addEdge(s, v1, 16); net.addEdge(s, v2, 13); net.addEdge(v1, v3, 12); net.addEdge(v2, v1, 4);
-    net.addEdge(v2, v4, 14); net.addEdge(v3, v2, 9); net.addEdge(v3, t, 20); net.addEdge(v4, v3, 7); net.addEdge(v4, t, 4);
+    net.addEdge(s, v1, 16);
+    net.addEdge(s, v2, 13);
+    net.addEdge(v1, v3, 12);
+    net.addEdge(v2, v1, 4);
+    net.addEdge(v2, v4, 14);
+    net.addEdge(v3, v2, 9);
+    net.addEdge(v3, t, 20);
+    net.addEdge(v4, v3, 7);
+    net.addEdge(v4, t, 4);
     expect(net.augment(s, t)).toBeCloseTo(23, 12);
     // the minimum cut of that figure is {s, v1, v2, v4} | {v3, t}: capacity 12 + 7 + 4 = 23
     expect([...net.sourceSide(s)]).toEqual([1, 0, 1, 1, 0, 1]);
@@ -230,7 +327,18 @@ describe("behaviour", () => {
       weeks: 2,
       deviceTypes: [{ id: "arm", hoursPerWeek: [10, 10] }],
       trainers: [],
-      workers: [{ id: "x", group: "g", priority: 3, options: [{ deviceTypeId: "arm", hoursNeeded: 5 }, { deviceTypeId: "unknown", hoursNeeded: 1 }], maxHoursPerWeek: 5 }],
+      workers: [
+        {
+          id: "x",
+          group: "g",
+          priority: 3,
+          options: [
+            { deviceTypeId: "arm", hoursNeeded: 5 },
+            { deviceTypeId: "unknown", hoursNeeded: 1 },
+          ],
+          maxHoursPerWeek: 5,
+        },
+      ],
     });
     // no certified trainer means no supervised hours at all
     expect(noTrainer.objective).toBe(0);
@@ -278,19 +386,29 @@ const cases = Array.from({ length: 20 }, (_, i) => ({
 const optimalCount = { optimal: 0, done: 0 };
 
 describe("against HiGHS on seeded random instances", () => {
-  it.each(cases)("seed $seed: $workers workers, $deviceTypes device types, $trainers trainers, $weeks weeks", async (c) => {
-    const problem = randomInstance({ workers: c.workers, deviceTypes: c.deviceTypes, trainers: c.trainers, weeks: c.weeks, seed: c.seed, minimumSharePerGroup: c.share });
-    const plan = await solveChecked(problem, { timeLimitMs: 20_000 });
-    const ref = await solveWithHighs(problem, 100);
-    expect(ref.optimal).toBe(true);
-    expect(plan.status).not.toBe("infeasible");
-    // never above the true optimum; the proven bound is never below it
-    expect(plan.objective).toBeLessThanOrEqual(ref.objective + 1e-6);
-    expect(plan.bound).toBeGreaterThanOrEqual(ref.objective - 1e-6);
-    if (plan.status === "optimal") expect(Math.abs(plan.objective - ref.objective)).toBeLessThanOrEqual(1e-6);
-    optimalCount.done++;
-    if (plan.status === "optimal") optimalCount.optimal++;
-  });
+  it.each(cases)(
+    "seed $seed: $workers workers, $deviceTypes device types, $trainers trainers, $weeks weeks",
+    async (c) => {
+      const problem = randomInstance({
+        workers: c.workers,
+        deviceTypes: c.deviceTypes,
+        trainers: c.trainers,
+        weeks: c.weeks,
+        seed: c.seed,
+        minimumSharePerGroup: c.share,
+      });
+      const plan = await solveChecked(problem, { timeLimitMs: 20_000 });
+      const ref = await solveWithHighs(problem, 100);
+      expect(ref.optimal).toBe(true);
+      expect(plan.status).not.toBe("infeasible");
+      // never above the true optimum; the proven bound is never below it
+      expect(plan.objective).toBeLessThanOrEqual(ref.objective + 1e-6);
+      expect(plan.bound).toBeGreaterThanOrEqual(ref.objective - 1e-6);
+      if (plan.status === "optimal") expect(Math.abs(plan.objective - ref.objective)).toBeLessThanOrEqual(1e-6);
+      optimalCount.done++;
+      if (plan.status === "optimal") optimalCount.optimal++;
+    },
+  );
 
   it("most instances are solved to proven optimality (≥ 15 of 20)", () => {
     expect(optimalCount.done).toBe(20);

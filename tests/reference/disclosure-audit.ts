@@ -29,7 +29,12 @@ export interface HiddenBound {
   max: number;
 }
 
-function lpModel(sense: "Maximize" | "Minimize", target: string, quantities: Map<string, Quantity>, relations: Relation[]) {
+function lpModel(
+  sense: "Maximize" | "Minimize",
+  target: string,
+  quantities: Map<string, Quantity>,
+  relations: Relation[],
+) {
   const lines: string[] = [sense, ` obj: ${target}`, "Subject To"];
   relations.forEach((relation, r) => {
     let constant = 0;
@@ -99,8 +104,14 @@ function tableRelations(prefix: string, m: number, n: number): Relation[] {
       { name: columnTotalName(j), coefficient: -1 },
     ]);
   }
-  rel.push([...Array.from({ length: m }, (_, i) => ({ name: rowTotalName(prefix, i), coefficient: 1 })), { name: GRAND, coefficient: -1 }]);
-  rel.push([...Array.from({ length: n }, (_, j) => ({ name: columnTotalName(j), coefficient: 1 })), { name: GRAND, coefficient: -1 }]);
+  rel.push([
+    ...Array.from({ length: m }, (_, i) => ({ name: rowTotalName(prefix, i), coefficient: 1 })),
+    { name: GRAND, coefficient: -1 },
+  ]);
+  rel.push([
+    ...Array.from({ length: n }, (_, j) => ({ name: columnTotalName(j), coefficient: 1 })),
+    { name: GRAND, coefficient: -1 },
+  ]);
   return rel;
 }
 
@@ -131,9 +142,15 @@ export async function highsLinkedBounds(
   parent.cells.forEach((_, p) => {
     const members = parentOfRow.map((q, d) => (q === p ? d : -1)).filter((d) => d >= 0);
     for (let j = 0; j < n; j++) {
-      relations.push([...members.map((d) => ({ name: cellName("d", d, j), coefficient: 1 })), { name: cellName("p", p, j), coefficient: -1 }]);
+      relations.push([
+        ...members.map((d) => ({ name: cellName("d", d, j), coefficient: 1 })),
+        { name: cellName("p", p, j), coefficient: -1 },
+      ]);
     }
-    relations.push([...members.map((d) => ({ name: rowTotalName("d", d), coefficient: 1 })), { name: rowTotalName("p", p), coefficient: -1 }]);
+    relations.push([
+      ...members.map((d) => ({ name: rowTotalName("d", d), coefficient: 1 })),
+      { name: rowTotalName("p", p), coefficient: -1 },
+    ]);
   });
   return boundsOf(quantities, relations);
 }

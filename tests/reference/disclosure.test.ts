@@ -5,29 +5,29 @@
 // values in the hand-made tables are worked out by hand in the comments; the random-table audits are
 // checked against HiGHS (npm `highs` 1.15.3, reference solver, independent formulation).
 
-import { describe, expect, it } from "vitest";
 import { median as referenceMedian } from "simple-statistics";
+import { describe, expect, it } from "vitest";
 import {
   auditLinkedTables,
   auditProtectedTable,
+  type ProtectedTable,
   protectLinkedTables,
   protectMedian,
   protectTable,
-  suppressedShare,
-  type ProtectedTable,
   type SuppressedInterval,
+  suppressedShare,
 } from "~/compute/disclosure";
-import {
-  auditNames,
-  highsFlatBounds,
-  highsLinkedBounds,
-  seeded,
-  smallCountTable,
-  type HiddenBound,
-  type PublishedTable,
-} from "./disclosure-audit";
 import { firstNarrowEntry } from "~/compute/disclosure/attacker";
 import { flatTableSystem } from "~/compute/disclosure/table-system";
+import {
+  auditNames,
+  type HiddenBound,
+  highsFlatBounds,
+  highsLinkedBounds,
+  type PublishedTable,
+  seeded,
+  smallCountTable,
+} from "./disclosure-audit";
 
 const labels = (prefix: string, k: number) => Array.from({ length: k }, (_, i) => `${prefix}${i + 1}`);
 const sum = (xs: number[]) => xs.reduce((a, b) => a + b, 0);
@@ -68,7 +68,11 @@ const linkedName = (a: SuppressedInterval) => {
 };
 
 /** The two solvers agree on every bound (both infinite, or equal to 1e-6). */
-function expectSameBounds(product: SuppressedInterval[], reference: HiddenBound[], name: (a: SuppressedInterval) => string) {
+function expectSameBounds(
+  product: SuppressedInterval[],
+  reference: HiddenBound[],
+  name: (a: SuppressedInterval) => string,
+) {
   const byName = new Map(reference.map((b) => [b.name, b]));
   expect(byName.size).toBe(product.length);
   for (const a of product) {
@@ -123,7 +127,11 @@ describe("primary suppression", () => {
   it("is deterministic", () => {
     const counts = smallCountTable(seeded(5), 7, 6);
     const a = protectTable(labels("r", 7), labels("c", 6), counts);
-    const b = protectTable(labels("r", 7), labels("c", 6), counts.map((r) => [...r]));
+    const b = protectTable(
+      labels("r", 7),
+      labels("c", 6),
+      counts.map((r) => [...r]),
+    );
     expect(b).toEqual(a);
   });
 });
@@ -201,7 +209,8 @@ describe("complementary suppression on hand-made tables", () => {
     ];
     const naivePublished = primaryOnly(counts);
     for (const line of naivePublished.cells) expect(line.filter((v) => v === null).length).toBeGreaterThanOrEqual(2);
-    for (let j = 0; j < 4; j++) expect(naivePublished.cells.filter((line) => line[j] === null).length).toBeGreaterThanOrEqual(2);
+    for (let j = 0; j < 4; j++)
+      expect(naivePublished.cells.filter((line) => line[j] === null).length).toBeGreaterThanOrEqual(2);
     // Rows 1+2 minus columns 1+2 (1-based), by hand: (25 + 16) − (25 + 25 − 20 − 20) − 10 − 10 − 10 = 1.
     const naive = auditProtectedTable(counts, naivePublished);
     const exact = naive.filter((a) => a.min === a.max);
@@ -210,11 +219,10 @@ describe("complementary suppression on hand-made tables", () => {
 
     // The product's fast check (witness tables from LP optima) finds the same cell: grid index 1·5 + 2.
     const system = flatTableSystem(counts, 4);
-    const mask = (p: ProtectedTable) => [
-      ...p.cells.flatMap((line, i) => [...line, p.rowTotals[i]]),
-      ...p.columnTotals,
-      p.grandTotal,
-    ].map((v) => v === null);
+    const mask = (p: ProtectedTable) =>
+      [...p.cells.flatMap((line, i) => [...line, p.rowTotals[i]]), ...p.columnTotals, p.grandTotal].map(
+        (v) => v === null,
+      );
     expect(firstNarrowEntry(system, mask(naivePublished), 1)).toBe(7);
 
     const t = protectTable(labels("r", 4), labels("c", 4), counts);
@@ -239,11 +247,23 @@ describe("complementary suppression on hand-made tables", () => {
   });
 
   it("zero rows and columns show as published zeros", () => {
-    const t = protectTable(["a", "b"], ["x", "y"], [
-      [0, 0],
-      [7, 9],
-    ]);
-    expect(t).toMatchObject({ cells: [[0, 0], [7, 9]], rowTotals: [0, 16], columnTotals: [7, 9], grandTotal: 16 });
+    const t = protectTable(
+      ["a", "b"],
+      ["x", "y"],
+      [
+        [0, 0],
+        [7, 9],
+      ],
+    );
+    expect(t).toMatchObject({
+      cells: [
+        [0, 0],
+        [7, 9],
+      ],
+      rowTotals: [0, 16],
+      columnTotals: [7, 9],
+      grandTotal: 16,
+    });
   });
 });
 
@@ -318,9 +338,14 @@ describe("linked views: department × stage and site × stage published together
       }
       const n = 3 + Math.floor(random() * 4);
       const detailCounts = smallCountTable(random, parentOf.length, n);
-      const input = { detail: { rows: labels("dept ", parentOf.length), columns: labels("stage ", n), counts: detailCounts }, parentOf };
+      const input = {
+        detail: { rows: labels("dept ", parentOf.length), columns: labels("stage ", n), counts: detailCounts },
+        parentOf,
+      };
       const linked = protectLinkedTables(input);
-      detailCounts.forEach((line, i) => line.forEach((v, j) => v > 0 && v < 5 && expect(linked.detail.cells[i][j]).toBeNull()));
+      detailCounts.forEach((line, i) =>
+        line.forEach((v, j) => v > 0 && v < 5 && expect(linked.detail.cells[i][j]).toBeNull()),
+      );
       const audit = auditLinkedTables(input, linked);
       expectProtected(audit);
       const parentOfRow = parentOf.map((p) => Number(p.split(" ")[1]) - 1);
@@ -366,7 +391,10 @@ describe("threshold", () => {
     expect(t.cells[0][0]).toBeNull(); // 4 < 5 although 4 ≥ 3
     expect(protectMedian([1, 2, 3, 4], 2)).toBeNull();
     expect(suppressedShare(4, 10, 1)).toBeNull();
-    expect(protectLinkedTables({ detail: { rows: ["a"], columns: ["x"], counts: [[7]] }, parentOf: ["s"], threshold: 2 }).threshold).toBe(5);
+    expect(
+      protectLinkedTables({ detail: { rows: ["a"], columns: ["x"], counts: [[7]] }, parentOf: ["s"], threshold: 2 })
+        .threshold,
+    ).toBe(5);
   });
   it("a larger threshold hides more", () => {
     const t = protectTable(labels("r", 3), labels("c", 3), counts, { threshold: 7 });
@@ -380,6 +408,8 @@ describe("threshold", () => {
     expect(() => protectTable(["r"], ["c"], [[1.5]])).toThrow(RangeError);
     expect(() => protectTable(["r"], ["c"], [[-1]])).toThrow(RangeError);
     expect(() => protectTable(["r", "s"], ["c"], [[1]])).toThrow(RangeError);
-    expect(() => protectLinkedTables({ detail: { rows: ["a", "b"], columns: ["x"], counts: [[1], [2]] }, parentOf: ["s"] })).toThrow(RangeError);
+    expect(() =>
+      protectLinkedTables({ detail: { rows: ["a", "b"], columns: ["x"], counts: [[1], [2]] }, parentOf: ["s"] }),
+    ).toThrow(RangeError);
   });
 });

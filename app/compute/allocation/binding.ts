@@ -8,7 +8,12 @@ import type { LagrangianResult } from "./lagrangian";
 
 const MIN_PRICE = 1e-4;
 
-export function bindingResources(inst: Instance, lag: LagrangianResult, chosen: number[], limit = 15): BindingResource[] {
+export function bindingResources(
+  inst: Instance,
+  lag: LagrangianResult,
+  chosen: number[],
+  limit = 15,
+): BindingResource[] {
   // typical value of one more ready worker: mean priority of those left out (or of everyone)
   const left = inst.workers.filter((w, i) => chosen[i] < 0 && w.candidates.length > 0);
   const pool = left.length ? left : inst.workers;
@@ -27,10 +32,22 @@ export function bindingResources(inst: Instance, lag: LagrangianResult, chosen: 
       const p = lag.devicePrice[d][k];
       if (p < MIN_PRICE) return;
       sum += p;
-      weekly.push({ kind: "device", id, week: k, shadowPrice: p, description: `One more bookable hour on device type ${id} in week ${k + 1} of the horizon is ${say(p)}.` });
+      weekly.push({
+        kind: "device",
+        id,
+        week: k,
+        shadowPrice: p,
+        description: `One more bookable hour on device type ${id} in week ${k + 1} of the horizon is ${say(p)}.`,
+      });
     });
     if (sum >= MIN_PRICE)
-      totals.push({ kind: "device", id, week: null, shadowPrice: sum, description: `One more bookable hour on device type ${id} in every week of the horizon (${inst.weeks} h in all) is ${sayWeekly(sum)}.` });
+      totals.push({
+        kind: "device",
+        id,
+        week: null,
+        shadowPrice: sum,
+        description: `One more bookable hour on device type ${id} in every week of the horizon (${inst.weeks} h in all) is ${sayWeekly(sum)}.`,
+      });
   });
   inst.trainerIds.forEach((id, t) => {
     const held = inst.deviceIds.filter((_, d) => inst.trainerHolds[t][d]).join(", ");
@@ -40,11 +57,27 @@ export function bindingResources(inst: Instance, lag: LagrangianResult, chosen: 
       const p = lag.trainerPrice[t][k] * inst.traineesPerSession[t];
       if (p < MIN_PRICE) return;
       sum += p;
-      weekly.push({ kind: "trainer", id, week: k, shadowPrice: p, description: `One more hour from trainer ${id} (${held}) in week ${k + 1} of the horizon is ${say(p)}.` });
+      weekly.push({
+        kind: "trainer",
+        id,
+        week: k,
+        shadowPrice: p,
+        description: `One more hour from trainer ${id} (${held}) in week ${k + 1} of the horizon is ${say(p)}.`,
+      });
     });
     if (sum >= MIN_PRICE)
-      totals.push({ kind: "trainer", id, week: null, shadowPrice: sum, description: `One more hour from trainer ${id} (${held}) in every week of the horizon (${inst.weeks} h in all) is ${sayWeekly(sum)}.` });
+      totals.push({
+        kind: "trainer",
+        id,
+        week: null,
+        shadowPrice: sum,
+        description: `One more hour from trainer ${id} (${held}) in every week of the horizon (${inst.weeks} h in all) is ${sayWeekly(sum)}.`,
+      });
   });
-  const byPrice = (a: BindingResource, b: BindingResource) => b.shadowPrice - a.shadowPrice || a.kind.localeCompare(b.kind) || a.id.localeCompare(b.id) || (a.week ?? -1) - (b.week ?? -1);
+  const byPrice = (a: BindingResource, b: BindingResource) =>
+    b.shadowPrice - a.shadowPrice ||
+    a.kind.localeCompare(b.kind) ||
+    a.id.localeCompare(b.id) ||
+    (a.week ?? -1) - (b.week ?? -1);
   return [...totals.sort(byPrice), ...weekly.sort(byPrice).slice(0, limit)];
 }

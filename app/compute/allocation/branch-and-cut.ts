@@ -4,10 +4,11 @@
  * starter family of window cuts. Integer LP points that pass separation are realisable plans.
  * Best-first search; with whole-number priorities a node is pruned once ⌊bound⌋ ≤ incumbent.
  */
-import { TrainingNetwork } from "./network";
-import { cutFromDeviceSets, cutViolation, makeCut, starterCuts, WeekCapacity, type CapacityCut } from "./cuts";
-import { solveMaster, type Fixing, type MasterResult } from "./master";
+
+import { type CapacityCut, cutFromDeviceSets, cutViolation, makeCut, starterCuts, WeekCapacity } from "./cuts";
 import type { Instance } from "./instance";
+import { type Fixing, type MasterResult, solveMaster } from "./master";
+import { TrainingNetwork } from "./network";
 
 export class CutPool {
   readonly active: CapacityCut[] = [];
@@ -45,7 +46,10 @@ export class CutPool {
     const net = this.sepNet;
     for (let c = 0; c < inst.candidates.length; c++) if (net.scale[c] !== 0) net.setScale(c, 0);
     let demand = 0;
-    for (const [c, v] of z) { net.setScale(c, v); demand += v * inst.candidates[c].hours; }
+    for (const [c, v] of z) {
+      net.setScale(c, v);
+      demand += v * inst.candidates[c].hours;
+    }
     const flow = net.augment();
     let total = 0;
     for (const [c] of z) total += net.net.flow(net.sourceEdge[c]);
@@ -75,7 +79,13 @@ export interface NodeOutcome {
 }
 
 /** Solve a node's LP to a point that satisfies every capacity cut (or report it infeasible). */
-export function solveNode(inst: Instance, pool: CutPool, fix: Fixing, stopBelow: number, maxRounds = 60): NodeOutcome | null {
+export function solveNode(
+  inst: Instance,
+  pool: CutPool,
+  fix: Fixing,
+  stopBelow: number,
+  maxRounds = 60,
+): NodeOutcome | null {
   let result = solveMaster(inst, pool.active, fix);
   for (let round = 0; round < maxRounds; round++) {
     if (!result.feasible) return null;
@@ -85,7 +95,11 @@ export function solveNode(inst: Instance, pool: CutPool, fix: Fixing, stopBelow:
   }
   if (!result.feasible) return null;
   let integral = true;
-  for (const v of result.z.values()) if (v > 1e-6 && v < 1 - 1e-6) { integral = false; break; }
+  for (const v of result.z.values())
+    if (v > 1e-6 && v < 1 - 1e-6) {
+      integral = false;
+      break;
+    }
   return { result, integral };
 }
 
@@ -117,7 +131,8 @@ export interface BranchAndCutHooks {
 
 export function branchAndCut(inst: Instance, pool: CutPool, hooks: BranchAndCutHooks): BranchAndCutResult {
   const whole = inst.integralPriorities;
-  const canImprove = (bound: number) => (whole ? Math.floor(bound + 1e-6) > hooks.incumbent() + 1e-9 : bound > hooks.incumbent() + 1e-9);
+  const canImprove = (bound: number) =>
+    whole ? Math.floor(bound + 1e-6) > hooks.incumbent() + 1e-9 : bound > hooks.incumbent() + 1e-9;
   const open: OpenNode[] = [{ fix: { one: new Set(), zero: new Set() }, bound: Infinity, depth: 0, seq: 0 }];
   let seq = 1;
   let nodes = 0;
@@ -130,7 +145,11 @@ export function branchAndCut(inst: Instance, pool: CutPool, hooks: BranchAndCutH
     for (let i = 1; i < open.length; i++) {
       const a = open[i];
       const b = open[bi];
-      if (a.bound > b.bound + 1e-9 || (Math.abs(a.bound - b.bound) <= 1e-9 && (a.depth > b.depth || (a.depth === b.depth && a.seq < b.seq)))) bi = i;
+      if (
+        a.bound > b.bound + 1e-9 ||
+        (Math.abs(a.bound - b.bound) <= 1e-9 && (a.depth > b.depth || (a.depth === b.depth && a.seq < b.seq)))
+      )
+        bi = i;
     }
     const node = open.splice(bi, 1)[0];
     if (!canImprove(node.bound)) continue;
@@ -151,7 +170,10 @@ export function branchAndCut(inst: Instance, pool: CutPool, hooks: BranchAndCutH
     for (const [c, v] of result.z) {
       if (v <= 1e-6 || v >= 1 - 1e-6) continue;
       const s = inst.workers[inst.candidates[c].worker].priority * Math.min(v, 1 - v) + 1e-9 * v;
-      if (s > score + 1e-12) { score = s; pick = c; }
+      if (s > score + 1e-12) {
+        score = s;
+        pick = c;
+      }
     }
     if (pick < 0) continue;
     const up: Fixing = { one: new Set(node.fix.one).add(pick), zero: new Set(node.fix.zero) };

@@ -7,8 +7,9 @@
  * the cut conditions of the training network (max-flow min-cut), so a selection satisfying all of them
  * can be realised; the LP over a few of them is a valid relaxation.
  */
-import { FlowNetwork } from "./maxflow";
+
 import type { Candidate, Instance } from "./instance";
+import { FlowNetwork } from "./maxflow";
 
 export interface CapacityCut {
   /** bitmask of device types per week */
@@ -79,7 +80,10 @@ export function starterCuts(inst: Instance, weekCapacity: WeekCapacity): Capacit
 }
 
 export function cutFromDeviceSets(sets: number[][], weekCapacity: WeekCapacity): CapacityCut {
-  return makeCut(sets.map((s) => s.reduce((m, d) => m | (1 << d), 0)), weekCapacity);
+  return makeCut(
+    sets.map((s) => s.reduce((m, d) => m | (1 << d), 0)),
+    weekCapacity,
+  );
 }
 
 /** Σ a_c z_c − b for a selection given as candidate → z. */

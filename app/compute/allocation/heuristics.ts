@@ -3,8 +3,9 @@
  * then swaps (drop one chosen worker of lower priority, admit a better one, refill the freed room).
  * Effort is bounded by a deterministic budget of max-flow phases.
  */
-import { Selection } from "./selection";
+
 import type { Instance } from "./instance";
+import type { Selection } from "./selection";
 
 export interface Budget {
   /** max-flow phases left (Selection.work counts them) */
@@ -53,7 +54,13 @@ export function fill(sel: Selection, order: number[], optionOrder: (w: number) =
  * whose removal keeps the group minimums, admit the left-out one, refill, and keep the change only if
  * the objective rose.
  */
-export function improveBySwaps(sel: Selection, order: number[], optionOrder: (w: number) => number[], budget: Budget, triesPerWorker = 12): boolean {
+export function improveBySwaps(
+  sel: Selection,
+  order: number[],
+  optionOrder: (w: number) => number[],
+  budget: Budget,
+  triesPerWorker = 12,
+): boolean {
   const { inst } = sel;
   let improved = false;
   let progress = true;
@@ -65,9 +72,22 @@ export function improveBySwaps(sel: Selection, order: number[], optionOrder: (w:
       const pu = inst.workers[u].priority;
       const victims = sel
         .chosenWorkers()
-        .filter((v) => inst.workers[v].priority < pu || (inst.workers[v].priority === pu && inst.candidates[sel.chosen[v]].hours > minHours(inst, u)))
-        .filter((v) => sel.groupCount[inst.workers[v].group] - 1 >= inst.groupMinimum[inst.workers[v].group] || inst.workers[v].group === inst.workers[u].group)
-        .sort((a, b) => inst.workers[a].priority - inst.workers[b].priority || inst.candidates[sel.chosen[b]].hours - inst.candidates[sel.chosen[a]].hours || a - b)
+        .filter(
+          (v) =>
+            inst.workers[v].priority < pu ||
+            (inst.workers[v].priority === pu && inst.candidates[sel.chosen[v]].hours > minHours(inst, u)),
+        )
+        .filter(
+          (v) =>
+            sel.groupCount[inst.workers[v].group] - 1 >= inst.groupMinimum[inst.workers[v].group] ||
+            inst.workers[v].group === inst.workers[u].group,
+        )
+        .sort(
+          (a, b) =>
+            inst.workers[a].priority - inst.workers[b].priority ||
+            inst.candidates[sel.chosen[b]].hours - inst.candidates[sel.chosen[a]].hours ||
+            a - b,
+        )
         .slice(0, triesPerWorker);
       for (const v of victims) {
         if (outOfBudget(sel, budget)) break;

@@ -51,7 +51,9 @@ export function buildInstance(problem: AllocationProblem): Instance {
   const weeks = Math.max(0, Math.floor(problem.weeks));
   const deviceIds = problem.deviceTypes.map((d) => d.id);
   const deviceIndex = new Map(deviceIds.map((id, i) => [id, i] as const));
-  const deviceCap = problem.deviceTypes.map((d) => Array.from({ length: weeks }, (_, k) => positive(d.hoursPerWeek[k])));
+  const deviceCap = problem.deviceTypes.map((d) =>
+    Array.from({ length: weeks }, (_, k) => positive(d.hoursPerWeek[k])),
+  );
   const trainerIds = problem.trainers.map((t) => t.id);
   const traineesPerSession = problem.trainers.map((t) => Math.max(1, positive(t.traineesPerSession) || 1));
   const trainerCap = problem.trainers.map((t, i) =>
@@ -95,7 +97,10 @@ export function buildInstance(problem: AllocationProblem): Instance {
     let unknownDevice = false;
     for (const o of w.options) {
       const d = deviceIndex.get(o.deviceTypeId);
-      if (d === undefined) { unknownDevice = true; continue; }
+      if (d === undefined) {
+        unknownDevice = true;
+        continue;
+      }
       const h = Math.max(0, Number.isFinite(o.hoursNeeded) ? o.hoursNeeded : Infinity);
       if (!best.has(d) || h < best.get(d)!) best.set(d, h);
     }
@@ -113,7 +118,9 @@ export function buildInstance(problem: AllocationProblem): Instance {
       let reason: string;
       if (priority <= 0) reason = "priority is not positive, so training this worker adds no value to the plan";
       else if (best.size === 0)
-        reason = unknownDevice ? "none of this worker's device options is in the fleet" : "no device option fits this worker";
+        reason = unknownDevice
+          ? "none of this worker's device options is in the fleet"
+          : "no device option fits this worker";
       else
         reason = `needs more hours than can fit in the horizon (at most ${round1(reachableMax)} h reachable with the weekly limit, availability, devices and certified trainers)`;
       impossible.set(wi, reason);
@@ -126,8 +133,20 @@ export function buildInstance(problem: AllocationProblem): Instance {
   const groupMinimum = groupMembers.map((m) => Math.floor(share * m.length + 1e-9));
 
   return {
-    weeks, deviceIds, trainerIds, deviceCap, trainerCap, traineesPerSession, trainerHolds,
-    workers, candidates, groupIds, groupMembers, groupMinimum, impossible, integralPriorities,
+    weeks,
+    deviceIds,
+    trainerIds,
+    deviceCap,
+    trainerCap,
+    traineesPerSession,
+    trainerHolds,
+    workers,
+    candidates,
+    groupIds,
+    groupMembers,
+    groupMinimum,
+    impossible,
+    integralPriorities,
   };
 }
 

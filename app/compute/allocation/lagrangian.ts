@@ -47,7 +47,10 @@ function evaluate(inst: Instance, lam: number[][], mu: number[][], nu: number[])
       let best = Infinity;
       let bt = -1;
       for (let t = 0; t < T; t++)
-        if (inst.trainerHolds[t][d] && inst.trainerCap[t][k] > 0 && mu[t][k] < best) { best = mu[t][k]; bt = t; }
+        if (inst.trainerHolds[t][d] && inst.trainerCap[t][k] > 0 && mu[t][k] < best) {
+          best = mu[t][k];
+          bt = t;
+        }
       weekCost[d].push(lam[d][k] + (bt >= 0 ? best : 0));
       weekTrainer[d].push(bt);
     }
@@ -77,7 +80,11 @@ function evaluate(inst: Instance, lam: number[][], mu: number[][], nu: number[])
       }
       const v = w.priority + nu[w.group] - spent;
       reduced[ci] = v;
-      if (v > bestValue + 1e-12) { bestValue = v; bestC = ci; bestX = x; }
+      if (v > bestValue + 1e-12) {
+        bestValue = v;
+        bestC = ci;
+        bestX = x;
+      }
     }
     if (bestC >= 0) {
       value += bestValue;
@@ -123,9 +130,12 @@ export function lagrangianBound(inst: Instance, target: number, maxIterations: n
     const gd = lam.map((r, d) => r.map((_, k) => inst.deviceCap[d][k] - cur.deviceUse[d][k]));
     const gt = mu.map((r, t) => r.map((_, k) => inst.trainerCap[t][k] - cur.trainerUse[t][k]));
     const gg = nu.map((_, g) => cur.groupReady[g] - inst.groupMinimum[g]);
-    for (let d = 0; d < D; d++) for (let k = 0; k < H; k++) if (!(lam[d][k] <= 0 && gd[d][k] > 0)) norm += gd[d][k] ** 2;
+    for (let d = 0; d < D; d++)
+      for (let k = 0; k < H; k++) if (!(lam[d][k] <= 0 && gd[d][k] > 0)) norm += gd[d][k] ** 2;
     for (let t = 0; t < T; t++) for (let k = 0; k < H; k++) if (!(mu[t][k] <= 0 && gt[t][k] > 0)) norm += gt[t][k] ** 2;
-    nu.forEach((v, g) => { if (!(v <= 0 && gg[g] > 0)) norm += gg[g] ** 2; });
+    nu.forEach((v, g) => {
+      if (!(v <= 0 && gg[g] > 0)) norm += gg[g] ** 2;
+    });
     if (norm < 1e-12) break; // complementary slackness holds: the bound is exact
     const gapToTarget = Math.max(cur.value - lowTarget, 1e-3 * Math.max(1, cur.value));
     const step = (theta * gapToTarget) / norm;

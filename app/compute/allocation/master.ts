@@ -3,9 +3,10 @@
  * capacity cuts found so far. Fixed-to-one candidates are moved to the right-hand sides; fixed-to-zero
  * ones are left out. Objective values are recomputed from the returned variable values.
  */
-import { maximise, type LpColumn, type LpRow } from "./lp";
-import { cutCoefficient, type CapacityCut } from "./cuts";
+
+import { type CapacityCut, cutCoefficient } from "./cuts";
 import type { Instance } from "./instance";
+import { type LpColumn, type LpRow, maximise } from "./lp";
 
 export interface Fixing {
   one: Set<number>;
@@ -22,7 +23,9 @@ export interface MasterResult {
 export function solveMaster(inst: Instance, cuts: CapacityCut[], fix: Fixing): MasterResult {
   const fixedWorker = new Set<number>();
   for (const c of fix.one) fixedWorker.add(inst.candidates[c].worker);
-  const free = inst.candidates.filter((c) => !fix.zero.has(c.index) && !fix.one.has(c.index) && !fixedWorker.has(c.worker));
+  const free = inst.candidates.filter(
+    (c) => !fix.zero.has(c.index) && !fix.one.has(c.index) && !fixedWorker.has(c.worker),
+  );
 
   const rows: LpRow[] = [];
   const columns: LpColumn[] = free.map((c) => ({
@@ -31,7 +34,11 @@ export function solveMaster(inst: Instance, cuts: CapacityCut[], fix: Fixing): M
     coefficients: { [`w${c.worker}`]: 1 },
   }));
   const seenWorker = new Set<number>();
-  for (const c of free) if (!seenWorker.has(c.worker)) { seenWorker.add(c.worker); rows.push({ name: `w${c.worker}`, max: 1 }); }
+  for (const c of free)
+    if (!seenWorker.has(c.worker)) {
+      seenWorker.add(c.worker);
+      rows.push({ name: `w${c.worker}`, max: 1 });
+    }
 
   let feasibleByFixing = true;
   inst.groupMinimum.forEach((m, g) => {
@@ -43,7 +50,10 @@ export function solveMaster(inst: Instance, cuts: CapacityCut[], fix: Fixing): M
     rows.push({ name: `g${g}`, min: need });
     let any = false;
     columns.forEach((col, i) => {
-      if (inst.workers[free[i].worker].group === g) { col.coefficients[`g${g}`] = 1; any = true; }
+      if (inst.workers[free[i].worker].group === g) {
+        col.coefficients[`g${g}`] = 1;
+        any = true;
+      }
     });
     if (!any) feasibleByFixing = false;
   });
@@ -56,21 +66,30 @@ export function solveMaster(inst: Instance, cuts: CapacityCut[], fix: Fixing): M
     let any = false;
     columns.forEach((col, i) => {
       const a = cutCoefficient(cut, free[i]);
-      if (a > 1e-12) { col.coefficients[`k${j}`] = a; any = true; }
+      if (a > 1e-12) {
+        col.coefficients[`k${j}`] = a;
+        any = true;
+      }
     });
     if (any) rows.push({ name: `k${j}`, max: Math.max(0, rhs) });
   });
 
   const z = new Map<number, number>();
   let objective = 0;
-  for (const c of fix.one) { z.set(c, 1); objective += inst.workers[inst.candidates[c].worker].priority; }
+  for (const c of fix.one) {
+    z.set(c, 1);
+    objective += inst.workers[inst.candidates[c].worker].priority;
+  }
   if (!feasibleByFixing) return { feasible: false, z, objective: -Infinity };
   if (columns.length === 0) return { feasible: !rows.some((r) => r.min !== undefined), z, objective };
   const res = maximise(rows, columns);
   if (!res.feasible) return { feasible: false, z, objective: -Infinity };
   free.forEach((c) => {
     const v = Math.min(1, res.values.get(`c${c.index}`) ?? 0);
-    if (v > 1e-9) { z.set(c.index, v); objective += v * inst.workers[c.worker].priority; }
+    if (v > 1e-9) {
+      z.set(c.index, v);
+      objective += v * inst.workers[c.worker].priority;
+    }
   });
   return { feasible: true, z, objective };
 }

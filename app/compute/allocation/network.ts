@@ -7,8 +7,9 @@
  * (max-flow min-cut; Ford & Fulkerson 1956). Any device-week flow can be split among trainers freely
  * because every trainee on a device type may join any certified trainer's session.
  */
-import { FlowNetwork } from "./maxflow";
+
 import { EPS, type Instance } from "./instance";
+import { FlowNetwork } from "./maxflow";
 
 export const SOURCE = 0;
 export const SINK = 1;

@@ -4,16 +4,21 @@
  * by the max-flow), then split each device-week's flow among the certified trainers that carry it.
  */
 import type { AllocationAssignment, CapacityUse } from "../allocation";
-import type { Problem } from "./types";
+import { type Budget, outOfBudget } from "./heuristics";
 import { EPS, type Instance } from "./instance";
 import type { Selection } from "./selection";
-import { outOfBudget, type Budget } from "./heuristics";
+import type { Problem } from "./types";
 
 export function tightenDeadlines(sel: Selection, budget: Budget): void {
   const { inst, net } = sel;
   const order = sel
     .chosenWorkers()
-    .sort((a, b) => inst.workers[b].priority - inst.workers[a].priority || inst.candidates[sel.chosen[a]].hours - inst.candidates[sel.chosen[b]].hours || a - b);
+    .sort(
+      (a, b) =>
+        inst.workers[b].priority - inst.workers[a].priority ||
+        inst.candidates[sel.chosen[a]].hours - inst.candidates[sel.chosen[b]].hours ||
+        a - b,
+    );
   for (const w of order) {
     if (outOfBudget(sel, budget)) return;
     const c = sel.chosen[w];
@@ -21,7 +26,13 @@ export function tightenDeadlines(sel: Selection, budget: Budget): void {
     // earliest conceivable finish for this worker alone
     let lo = 0;
     let acc = 0;
-    for (let k = 0; k < inst.weeks; k++) { acc += cand.weekCap[k]; if (acc + EPS >= cand.hours) { lo = k; break; } }
+    for (let k = 0; k < inst.weeks; k++) {
+      acc += cand.weekCap[k];
+      if (acc + EPS >= cand.hours) {
+        lo = k;
+        break;
+      }
+    }
     let hi = lastWeekOf(net.weeklyHours(c)); // a deadline the current flow already meets
     while (lo < hi) {
       if (outOfBudget(sel, budget)) break;
@@ -69,7 +80,8 @@ export function extractAssignments(sel: Selection, problem: Problem): Allocation
         sessions.push({ week: k, trainerId: inst.trainerIds[slot[0]], hours: take });
       }
       // rounding residue (≤ 1e-9 h) goes to the last trainer used this week
-      if (need > 0 && sessions.length && sessions[sessions.length - 1].week === k) sessions[sessions.length - 1].hours += need;
+      if (need > 0 && sessions.length && sessions[sessions.length - 1].week === k)
+        sessions[sessions.length - 1].hours += need;
     }
     const completionWeek = sessions.length ? sessions[sessions.length - 1].week : 0;
     out.push({ workerId: problem.workers[w].id, deviceTypeId: inst.deviceIds[cand.device], completionWeek, sessions });
@@ -82,12 +94,20 @@ export function capacityUse(sel: Selection, problem: Problem): CapacityUse[] {
   const use: CapacityUse[] = [];
   inst.deviceIds.forEach((id, d) => {
     for (let k = 0; k < inst.weeks; k++)
-      use.push({ kind: "device", id, week: k, used: net.net.flow(net.deviceEdge[d][k]), capacity: inst.deviceCap[d][k] });
+      use.push({
+        kind: "device",
+        id,
+        week: k,
+        used: net.net.flow(net.deviceEdge[d][k]),
+        capacity: inst.deviceCap[d][k],
+      });
   });
   inst.trainerIds.forEach((id, t) => {
     for (let k = 0; k < inst.weeks; k++)
       use.push({
-        kind: "trainer", id, week: k,
+        kind: "trainer",
+        id,
+        week: k,
         used: net.net.flow(net.trainerEdge[t][k]) / inst.traineesPerSession[t],
         capacity: Math.max(0, problem.trainers[t].hoursPerWeek[k] ?? 0),
       });

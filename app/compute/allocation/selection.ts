@@ -2,8 +2,9 @@
  * A set of workers chosen for training, kept realisable at every step by the incremental max-flow:
  * a worker is only added when the network can still deliver every chosen worker's full hours.
  */
-import { TrainingNetwork } from "./network";
+
 import type { Instance } from "./instance";
+import { TrainingNetwork } from "./network";
 
 export class Selection {
   readonly inst: Instance;
@@ -53,7 +54,9 @@ export class Selection {
 
   chosenWorkers(): number[] {
     const out: number[] = [];
-    this.chosen.forEach((c, w) => { if (c >= 0) out.push(w); });
+    this.chosen.forEach((c, w) => {
+      if (c >= 0) out.push(w);
+    });
     return out;
   }
 

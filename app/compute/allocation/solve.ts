@@ -2,13 +2,13 @@
  * Orchestration of one allocation solve: construct, bound, improve, prove (when small), realise.
  */
 import type { AllocationOptions, AllocationPlan, AllocationProblem } from "../allocation";
-import { buildInstance, round1, type Instance } from "./instance";
-import { Selection } from "./selection";
-import { fill, improveBySwaps, meetGroupMinimums, optionsByHours, type Budget } from "./heuristics";
-import { lagrangianBound } from "./lagrangian";
-import { branchAndCut, CutPool } from "./branch-and-cut";
-import { capacityUse, extractAssignments, tightenDeadlines } from "./realise";
 import { bindingResources } from "./binding";
+import { branchAndCut, CutPool } from "./branch-and-cut";
+import { type Budget, fill, improveBySwaps, meetGroupMinimums, optionsByHours } from "./heuristics";
+import { buildInstance, type Instance, round1 } from "./instance";
+import { lagrangianBound } from "./lagrangian";
+import { capacityUse, extractAssignments, tightenDeadlines } from "./realise";
+import { Selection } from "./selection";
 
 /** Edges scanned per millisecond on a modest machine: turns a time limit into a work budget. */
 const EDGES_PER_MS = 40_000;
@@ -31,7 +31,10 @@ export function solveWithBranchAndCut(problem: AllocationProblem, options: Alloc
 
   // 1. value-density greedy: priority per hour of the cheapest option
   const byDensity = [...workersWithOptions].sort(
-    (a, b) => inst.workers[b].priority / minHours(b) - inst.workers[a].priority / minHours(a) || inst.workers[b].priority - inst.workers[a].priority || a - b,
+    (a, b) =>
+      inst.workers[b].priority / minHours(b) - inst.workers[a].priority / minHours(a) ||
+      inst.workers[b].priority - inst.workers[a].priority ||
+      a - b,
   );
   const hoursFirst = (w: number) => optionsByHours(inst, w);
   meetGroupMinimums(sel, byDensity);
@@ -40,19 +43,28 @@ export function solveWithBranchAndCut(problem: AllocationProblem, options: Alloc
   let best = sel.snapshot();
   let bestValue = sel.meetsGroupMinimums() ? sel.objective : -Infinity;
   const offer = () => {
-    if (sel.meetsGroupMinimums() && sel.objective > bestValue + 1e-9) { bestValue = sel.objective; best = sel.snapshot(); }
+    if (sel.meetsGroupMinimums() && sel.objective > bestValue + 1e-9) {
+      bestValue = sel.objective;
+      best = sel.snapshot();
+    }
   };
   progress("construct", 0.1);
 
   // 2. Lagrangian bound and prices
-  const lagIterations = Math.max(200, Math.min(2000, Math.floor(4e7 / Math.max(1, inst.candidates.length * Math.max(1, inst.weeks)))));
+  const lagIterations = Math.max(
+    200,
+    Math.min(2000, Math.floor(4e7 / Math.max(1, inst.candidates.length * Math.max(1, inst.weeks)))),
+  );
   const lag = lagrangianBound(inst, Math.max(0, bestValue), lagIterations);
   progress("bound", 0.25);
 
   // 3. price-guided greedy: order by value left after paying for the resources used
   const reducedOf = (w: number) => Math.max(...inst.workers[w].candidates.map((c) => lag.reducedValue[c]));
-  const byReduced = [...workersWithOptions].sort((a, b) => reducedOf(b) - reducedOf(a) || inst.workers[b].priority - inst.workers[a].priority || a - b);
-  const cheapestPriced = (w: number) => [...inst.workers[w].candidates].sort((a, b) => lag.reducedValue[b] - lag.reducedValue[a] || a - b);
+  const byReduced = [...workersWithOptions].sort(
+    (a, b) => reducedOf(b) - reducedOf(a) || inst.workers[b].priority - inst.workers[a].priority || a - b,
+  );
+  const cheapestPriced = (w: number) =>
+    [...inst.workers[w].candidates].sort((a, b) => lag.reducedValue[b] - lag.reducedValue[a] || a - b);
   if (!lag.provenInfeasible) {
     sel.restore(new Array(inst.workers.length).fill(-1));
     meetGroupMinimums(sel, byReduced);
@@ -60,7 +72,9 @@ export function solveWithBranchAndCut(problem: AllocationProblem, options: Alloc
     offer();
     // also priority first, least hours first
     sel.restore(new Array(inst.workers.length).fill(-1));
-    const byPriority = [...workersWithOptions].sort((a, b) => inst.workers[b].priority - inst.workers[a].priority || minHours(a) - minHours(b) || a - b);
+    const byPriority = [...workersWithOptions].sort(
+      (a, b) => inst.workers[b].priority - inst.workers[a].priority || minHours(a) - minHours(b) || a - b,
+    );
     meetGroupMinimums(sel, byPriority);
     fill(sel, byPriority, hoursFirst, budget);
     offer();
@@ -83,14 +97,16 @@ export function solveWithBranchAndCut(problem: AllocationProblem, options: Alloc
     if (inst.candidates.length <= EXACT_CANDIDATES && inst.candidates.length > 0) {
       const pool = new CutPool(inst);
       const lpOrder = (z: Map<number, number>) =>
-        [...workersWithOptions].sort((a, b) => zOf(z, inst, b) - zOf(z, inst, a) || reducedOf(b) - reducedOf(a) || a - b);
+        [...workersWithOptions].sort(
+          (a, b) => zOf(z, inst, b) - zOf(z, inst, a) || reducedOf(b) - reducedOf(a) || a - b,
+        );
       // a node costs about 0.5 ms at 50 candidates and grows with the square of the LP size
       const msPerNode = 0.5 * Math.max(1, (inst.candidates.length / 50) ** 2);
       const maxNodes = Math.max(50, Math.floor((0.5 * timeLimitMs) / msPerNode));
       const result = branchAndCut(inst, pool, {
         incumbent: () => bestValue,
         maxNodes,
-        stop: () => (expired?.() ?? false),
+        stop: () => expired?.() ?? false,
         onPoint: (z) => {
           sel.restore(new Array(inst.workers.length).fill(-1));
           const order = lpOrder(z);
@@ -99,7 +115,15 @@ export function solveWithBranchAndCut(problem: AllocationProblem, options: Alloc
             if ((z.get(cs[0]) ?? 0) >= 1 - 1e-6) sel.tryWorker(w, cs);
           }
           meetGroupMinimums(sel, order);
-          fill(sel, order, (w) => [...inst.workers[w].candidates].sort((a, b) => (z.get(b) ?? 0) - (z.get(a) ?? 0) || lag.reducedValue[b] - lag.reducedValue[a] || a - b), { limit: Infinity });
+          fill(
+            sel,
+            order,
+            (w) =>
+              [...inst.workers[w].candidates].sort(
+                (a, b) => (z.get(b) ?? 0) - (z.get(a) ?? 0) || lag.reducedValue[b] - lag.reducedValue[a] || a - b,
+              ),
+            { limit: Infinity },
+          );
           offer();
         },
       });
@@ -128,7 +152,9 @@ export function solveWithBranchAndCut(problem: AllocationProblem, options: Alloc
     .filter(({ i }) => sel.chosen[i] < 0)
     .map(({ w, i }) => ({
       workerId: w.id,
-      reason: inst.impossible.get(i) ?? `not enough device or trainer time left in the horizon for ${optionText(inst, i)} (priority ${w.priority})`,
+      reason:
+        inst.impossible.get(i) ??
+        `not enough device or trainer time left in the horizon for ${optionText(inst, i)} (priority ${w.priority})`,
     }));
   const objective = sel.objective;
   const optimal = objective >= bound - 1e-6;
@@ -153,7 +179,9 @@ function zOf(z: Map<number, number>, inst: Instance, w: number): number {
 }
 
 function optionText(inst: Instance, w: number): string {
-  return inst.workers[w].candidates.map((c) => `${round1(inst.candidates[c].hours)} h on ${inst.deviceIds[inst.candidates[c].device]}`).join(" or ");
+  return inst.workers[w].candidates
+    .map((c) => `${round1(inst.candidates[c].hours)} h on ${inst.deviceIds[inst.candidates[c].device]}`)
+    .join(" or ");
 }
 
 function infeasiblePlan(problem: AllocationProblem, inst: Instance, proven: boolean): AllocationPlan {

@@ -73,7 +73,8 @@ export function cheapestCycle(
   distance[start] = 0;
   for (;;) {
     let node = -1;
-    for (let v = 0; v < nodeCount; v++) if (!done[v] && distance[v] < Infinity && (node < 0 || distance[v] < distance[node])) node = v;
+    for (let v = 0; v < nodeCount; v++)
+      if (!done[v] && distance[v] < Infinity && (node < 0 || distance[v] < distance[node])) node = v;
     if (node < 0 || node === goal) break;
     done[node] = true;
     const isRow = node <= m;

@@ -69,7 +69,10 @@ export function protectionSet(system: TableSystem, suppressed: boolean[], target
   columns.forEach((col, v) => {
     if (!col.free) movement.set(col.entry, (movement.get(col.entry) ?? 0) + col.sign * answer.values[v]);
   });
-  return [...movement.entries()].filter(([, d]) => Math.abs(d) > 1e-7).map(([e]) => e).sort((a, b) => a - b);
+  return [...movement.entries()]
+    .filter(([, d]) => Math.abs(d) > 1e-7)
+    .map(([e]) => e)
+    .sort((a, b) => a - b);
 }
 
 /** Fallback when the LP adds nothing: hide every published positive number related to the target. */

@@ -60,7 +60,8 @@ export function flatTableSystem(counts: number[][], columnCount: number): TableS
     for (let j = 0; j <= n; j++) {
       if (i < m && j < n) entries.push({ kind: "cell", table: "detail", row: i, column: j, value: counts[i][j] });
       else if (i < m) entries.push({ kind: "rowTotal", table: "detail", row: i, column: null, value: rowTotals[i] });
-      else if (j < n) entries.push({ kind: "columnTotal", table: "detail", row: null, column: j, value: columnTotals[j] });
+      else if (j < n)
+        entries.push({ kind: "columnTotal", table: "detail", row: null, column: j, value: columnTotals[j] });
       else entries.push({ kind: "grandTotal", table: "detail", row: null, column: null, value: grand });
     }
   }
@@ -125,8 +126,16 @@ export function linkedTableSystem(
   for (const line of [...detailIndex, ...parentIndex, columnTotalIndex]) relation(line.slice(0, n), line[n]);
   for (let p = 0; p < parentCount; p++) {
     const members = detailIndex.filter((_, d) => parentOfRow[d] === p);
-    for (let j = 0; j <= n; j++) relation(members.map((line) => line[j]), parentIndex[p][j]);
+    for (let j = 0; j <= n; j++)
+      relation(
+        members.map((line) => line[j]),
+        parentIndex[p][j],
+      );
   }
-  for (let j = 0; j <= n; j++) relation(parentIndex.map((line) => line[j]), columnTotalIndex[j]);
+  for (let j = 0; j <= n; j++)
+    relation(
+      parentIndex.map((line) => line[j]),
+      columnTotalIndex[j],
+    );
   return { system: { entries, relations }, layout: { detailIndex, parentIndex, columnTotalIndex } };
 }

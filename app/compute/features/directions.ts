@@ -60,8 +60,13 @@ export type MeasureKey = keyof typeof MEASURE_DIRECTIONS;
 
 /** z = (value − mean)/sd, negated when lower is better, so that positive always means better. */
 export function zScore(value: number, mean: number, sd: number, higherIsBetter: boolean): number {
-  for (const [name, v] of [["value", value], ["mean", mean], ["sd", sd]] as const) {
-    if (typeof v !== "number" || !Number.isFinite(v)) throw new RangeError(`${name} must be a finite number (got ${String(v)})`);
+  for (const [name, v] of [
+    ["value", value],
+    ["mean", mean],
+    ["sd", sd],
+  ] as const) {
+    if (typeof v !== "number" || !Number.isFinite(v))
+      throw new RangeError(`${name} must be a finite number (got ${String(v)})`);
   }
   if (!(sd > 0)) throw new RangeError(`sd must be above 0 (got ${sd})`);
   const z = (value - mean) / sd;

@@ -19,7 +19,9 @@ export function handDimensionality(samples: number[][], threshold = 0.9): HandDi
     throw new RangeError(`threshold must be in (0, 1] (got ${String(threshold)})`);
   }
   if (!Array.isArray(samples) || samples.length < 2) {
-    throw new RangeError(`hand dimensionality needs at least 2 samples (got ${Array.isArray(samples) ? samples.length : 0})`);
+    throw new RangeError(
+      `hand dimensionality needs at least 2 samples (got ${Array.isArray(samples) ? samples.length : 0})`,
+    );
   }
   const n = samples.length;
   const p = Array.isArray(samples[0]) ? samples[0].length : 0;

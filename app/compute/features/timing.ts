@@ -25,17 +25,25 @@ export interface CueMatch {
  * onset serves at most one cue. Pairs are taken closest-first over the whole trial, so a stray
  * onset between two cues goes to the cue it is nearer to. `cueTimesMs` must be strictly increasing.
  */
-export function matchCuesToOnsets(cueTimesMs: number[], onsetTimesMs: number[]): { matches: CueMatch[]; windowMs: number } {
+export function matchCuesToOnsets(
+  cueTimesMs: number[],
+  onsetTimesMs: number[],
+): { matches: CueMatch[]; windowMs: number } {
   assertMinimumLength(cueTimesMs, 2, "cueTimesMs");
   assertFiniteSeries(cueTimesMs, "cueTimesMs");
   assertFiniteSeries(onsetTimesMs, "onsetTimesMs");
   for (let i = 1; i < cueTimesMs.length; i++) {
     if (!(cueTimesMs[i] > cueTimesMs[i - 1])) {
-      throw new RangeError(`cueTimesMs must be strictly increasing (cue ${i} at ${cueTimesMs[i]} ms follows ${cueTimesMs[i - 1]} ms)`);
+      throw new RangeError(
+        `cueTimesMs must be strictly increasing (cue ${i} at ${cueTimesMs[i]} ms follows ${cueTimesMs[i - 1]} ms)`,
+      );
     }
   }
   const onsets = [...onsetTimesMs].sort((p, q) => p - q);
-  const intervals = cueTimesMs.slice(1).map((c, i) => c - cueTimesMs[i]).sort((p, q) => p - q);
+  const intervals = cueTimesMs
+    .slice(1)
+    .map((c, i) => c - cueTimesMs[i])
+    .sort((p, q) => p - q);
   const mid = intervals.length >> 1;
   const medianInterval = intervals.length % 2 === 1 ? intervals[mid] : (intervals[mid - 1] + intervals[mid]) / 2;
   const windowMs = medianInterval / 2;
@@ -86,7 +94,8 @@ export function timingMetrics(cueTimesMs: number[], onsetTimesMs: number[]): Tim
     throw new RangeError("fewer than 2 intervals between responses to consecutive cues; inter-onset CV is undefined");
   }
   const interOnsetMean = mean(interOnset);
-  if (!(interOnsetMean > 0)) throw new RangeError("mean inter-onset interval is not positive; inter-onset CV is undefined");
+  if (!(interOnsetMean > 0))
+    throw new RangeError("mean inter-onset interval is not positive; inter-onset CV is undefined");
 
   return {
     meanAbsoluteAsynchronyMs: mean(asynchronies.map(Math.abs)),
