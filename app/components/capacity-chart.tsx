@@ -1,4 +1,5 @@
 import { Bar, CartesianGrid, ComposedChart, Line, Tooltip, XAxis, YAxis } from "recharts";
+import { round1 } from "~/compute/rounding";
 
 // Capacity use per week of one resource (a device type at a site, or a trainer): bars = hours used,
 // line = hours available. A table with the same numbers follows for screen readers and keyboard users.
@@ -64,5 +65,3 @@ export function CapacityChart({ title, unit, points }: { title: string; unit: st
     </figure>
   );
 }
-
-const round1 = (x: number) => Math.round(x * 10) / 10;

@@ -2,6 +2,7 @@
 // The CSV text has already been split into cells (rows of strings, header first); this module only
 // judges the content and says exactly where a file is wrong, so an assessor can fix and re-upload it.
 // Row numbers in messages are 1-based file rows with the header as row 1, as a spreadsheet shows them.
+import { median } from "simple-statistics";
 import { forceGrading, handDimensionality, swayMetrics, timingMetrics, trackingError } from "./features";
 
 export type TraceKind = "sway" | "tracking" | "glove" | "timing" | "force";
@@ -396,12 +397,6 @@ function countFilled(cells: string[]): number {
     if (String(c ?? "").trim() !== "") last = i + 1;
   });
   return last;
-}
-
-function median(values: number[]): number {
-  const s = [...values].sort((a, b) => a - b);
-  const mid = s.length >> 1;
-  return s.length % 2 === 1 ? s[mid] : (s[mid - 1] + s[mid]) / 2;
 }
 
 function round(v: number): number {

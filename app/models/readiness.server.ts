@@ -20,6 +20,7 @@ import {
   weekRange,
   weekStart,
 } from "~/compute/readiness-views";
+import { round1 } from "~/compute/rounding";
 import { type Db, db } from "~/db.server";
 import { type Grouping, type OrganisationSettings, parseStoredGroupings } from "~/schemas/readiness";
 import { whereWorkerInScope } from "./workers.server";
@@ -303,7 +304,7 @@ async function forecastValues(scope: Scope, g: Groups): Promise<Map<string, numb
 
 /** Medians are published to 0.1 h: enough for planning, no more precision than that. */
 function roundHours(v: number | null): number | null {
-  return v === null ? null : Math.round(v * 10) / 10;
+  return v === null ? null : round1(v);
 }
 
 function medianTables(

@@ -15,6 +15,7 @@ import { DeviceCautions } from "~/components/device-cautions";
 import { FormError, Notice } from "~/components/fields";
 import { ProgressBar } from "~/components/progress-bar";
 import { addDays } from "~/compute/plan-calendar";
+import { round1 } from "~/compute/rounding";
 import { ensureJobsStarted } from "~/jobs/runner.server";
 import { recordAccess } from "~/models/access-log.server";
 import { getRun, listRuns } from "~/models/allocation-runs.server";
@@ -170,8 +171,6 @@ export async function action({ request, params }: Route.ActionArgs) {
     throw e;
   }
 }
-
-const round1 = (x: number) => Math.round(x * 10) / 10;
 
 const columns: ColumnDef<WorkerPlanRow>[] = [
   {
