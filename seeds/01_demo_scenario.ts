@@ -1,5 +1,5 @@
 import type { Knex } from "knex";
-import { DEMO_PERSONAS } from "./lib/personas";
+import { DEMO_PERSONAS } from "../app/auth/demo-personas";
 import { mulberry32, pick } from "./lib/prng";
 import { emptyAllTables } from "./lib/reset";
 

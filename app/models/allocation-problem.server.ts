@@ -5,7 +5,7 @@ import { plannedHoursFromLogScale } from "~/compute/regression";
 import type { CalendarUnit, PlanCalendar } from "~/compute/session-packing";
 import { type Db, db } from "~/db.server";
 import type { RunParameters } from "~/schemas/allocation";
-import { latestConsent } from "./forecast.server";
+import { latestConsent } from "./consent.server";
 import { whereWorkerInScope } from "./workers.server";
 
 // Builds the solver input (DESIGN §3.5) for a run from the database: the pool, device-type capacity per week

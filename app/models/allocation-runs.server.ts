@@ -209,14 +209,12 @@ export async function markFailed(id: number, message: string): Promise<void> {
 
 /** On server start: runs left "running" by a stopped server failed; queued ones are picked up again. */
 export async function recoverRuns(): Promise<number[]> {
-  await db()("allocation_runs")
-    .where({ status: "running" })
-    .update({
-      status: "failed",
-      phase: "failed",
-      error: "The server stopped while this run was solving; start it again.",
-      finished_at: new Date().toISOString(),
-    });
+  await db()("allocation_runs").where({ status: "running" }).update({
+    status: "failed",
+    phase: "failed",
+    error: "The server stopped while this run was solving; start it again.",
+    finished_at: new Date().toISOString(),
+  });
   return (await db()("allocation_runs").where({ status: "queued" }).orderBy("id").select("id")).map(
     (r) => r.id as number,
   );

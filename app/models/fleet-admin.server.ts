@@ -86,13 +86,11 @@ export async function updateDeviceType(
   id: number,
   v: { wearTimeLimitMinutes: number; defaultMaxHoursPerWeek: number; fitRules: string | null },
 ) {
-  const n = await db()("device_types")
-    .where({ id })
-    .update({
-      wear_time_limit_minutes: v.wearTimeLimitMinutes,
-      default_max_hours_per_week: v.defaultMaxHoursPerWeek,
-      fit_rules: v.fitRules,
-    });
+  const n = await db()("device_types").where({ id }).update({
+    wear_time_limit_minutes: v.wearTimeLimitMinutes,
+    default_max_hours_per_week: v.defaultMaxHoursPerWeek,
+    fit_rules: v.fitRules,
+  });
   if (!n) throw new FleetError("No such device type.");
 }
 

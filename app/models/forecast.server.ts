@@ -1,5 +1,6 @@
 import type { Knex } from "knex";
 import type { Principal } from "~/auth/guard.server";
+import { can } from "~/auth/permissions";
 import type { Scope } from "~/auth/scope";
 import { MEASURE_DIRECTIONS } from "~/compute/features";
 import { forecastFromModel, type StoredModel } from "~/compute/forecast-explain";
@@ -7,6 +8,7 @@ import { type ProgressUpdate, progressUpdate } from "~/compute/progress-update";
 import { type Db, db } from "~/db.server";
 import { type DeviceForecast, type WorkerForecast, workerForecastSchema } from "~/schemas/forecast";
 import type { TableQuery } from "~/schemas/table-query";
+import { latestConsent } from "./consent.server";
 import { paged } from "./paging.server";
 import { whereWorkerInScope } from "./workers.server";
 
@@ -19,26 +21,6 @@ export const INTERVAL_LEVEL = 0.8;
 
 export function labelFor(code: string, name?: string | null): string {
   return name || (MEASURE_DIRECTIONS as Record<string, { label: string }>)[code]?.label || code;
-}
-
-type Purpose = "assessment" | "planning" | "model";
-
-/** The consent in force per worker for one purpose: the latest record decides. */
-export async function latestConsent(
-  k: Db,
-  workerIds: number[],
-  purpose: Purpose,
-): Promise<Map<number, "given" | "withdrawn">> {
-  const out = new Map<number, "given" | "withdrawn">();
-  for (let i = 0; i < workerIds.length; i += 500) {
-    const rows = await k("consent_records")
-      .whereIn("worker_id", workerIds.slice(i, i + 500))
-      .where({ purpose })
-      .select("worker_id", "status")
-      .orderBy("id");
-    for (const r of rows) out.set(r.worker_id, r.status);
-  }
-  return out;
 }
 
 /**
@@ -329,13 +311,10 @@ export async function refreshForecastsForDeviceType(
     await k("forecasts").where({ device_type_id: deviceTypeId }).del();
     return 0;
   }
-  const ids = (await k("consent_records").where({ purpose: "planning" }).distinct("worker_id")).map(
-    (r) => r.worker_id as number,
-  );
-  const consent = await latestConsent(k, ids, "planning");
+  const consent = await latestConsent(k, null, "planning");
   let n = 0;
-  for (const id of ids) {
-    if (consent.get(id) !== "given") {
+  for (const [id, status] of consent) {
+    if (status !== "given") {
       await k("forecasts").where({ worker_id: id, device_type_id: deviceTypeId }).del();
       continue;
     }
@@ -415,9 +394,9 @@ export async function workerInScope(scope: Scope, workerId: number, k: Db = db()
     : null;
 }
 
-/** Clinical view for assessors (z-scores and contributions); planning view for everyone else. */
+/** Clinical view (z-scores and contributions) for who may see it; planning view for everyone else. */
 export function forecastViewFor(p: Principal): "clinical" | "planning" {
-  return p.roles.includes("assessor") ? "clinical" : "planning";
+  return can(p, "forecast.clinical") ? "clinical" : "planning";
 }
 
 /**

@@ -1,7 +1,8 @@
 import { columnStandardizer, fitLinearModel, leaveOneOut } from "~/compute/regression";
 import { studentTQuantile } from "~/compute/student-t";
 import { type Db, db } from "~/db.server";
-import { baselineZScores, labelFor, latestConsent, refreshForecastsForDeviceType } from "./forecast.server";
+import { latestConsent } from "./consent.server";
+import { baselineZScores, labelFor, refreshForecastsForDeviceType } from "./forecast.server";
 
 export { labelFor };
 

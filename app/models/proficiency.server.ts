@@ -19,9 +19,7 @@ export async function listDeviceTypes(k: Db = db()): Promise<{ id: number; code:
 }
 
 /** Every device type with its criterion (null fields when none is set yet). */
-export async function listCriteria(
-  k: Db = db(),
-): Promise<
+export async function listCriteria(k: Db = db()): Promise<
   (Omit<CriterionRow, "scoreThreshold" | "consecutiveSessions"> & {
     scoreThreshold: number | null;
     consecutiveSessions: number | null;

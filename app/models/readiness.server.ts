@@ -1,6 +1,5 @@
 import type { Knex } from "knex";
 import type { Scope } from "~/auth/scope";
-import { STAGE_LABELS, STAGES } from "~/components/stage";
 import {
   effectiveThreshold,
   type ProtectedTable,
@@ -22,6 +21,7 @@ import {
 } from "~/compute/readiness-views";
 import { round1 } from "~/compute/rounding";
 import { type Db, db } from "~/db.server";
+import { STAGE_LABELS, STAGES } from "~/domain/stages";
 import { type Grouping, type OrganisationSettings, parseStoredGroupings } from "~/schemas/readiness";
 import { whereWorkerInScope } from "./workers.server";
 

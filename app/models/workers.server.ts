@@ -1,6 +1,8 @@
 import type { Knex } from "knex";
 import type { Scope } from "~/auth/scope";
 import { db } from "~/db.server";
+import { CONSENT_PURPOSES } from "~/domain/consent-purposes";
+import { consentState } from "./consent.server";
 
 // Restricts a query on `workers` (aliased) to a principal's scope. An empty scope matches nothing.
 export function whereWorkerInScope(q: Knex.QueryBuilder, scope: Scope, alias = "workers"): Knex.QueryBuilder {
@@ -38,15 +40,12 @@ export async function ownWorkerRecord(workerId: number) {
       "d.name as department",
     );
   if (!w) return null;
-  const consents = await db()("consent_records as c")
-    .join("consent_text_versions as t", "t.id", "c.text_version_id")
-    .where("c.worker_id", workerId)
-    .select("c.purpose", "c.status", "c.given_at", "c.withdrawn_at", "t.version")
-    .orderBy("c.id", "desc");
+  const state = await consentState(workerId);
   const latest: Record<string, { status: string; at: string; version: string }> = {};
-  for (const c of consents)
-    if (!latest[c.purpose])
-      latest[c.purpose] = { status: c.status, at: String(c.withdrawn_at ?? c.given_at ?? ""), version: c.version };
+  for (const p of CONSENT_PURPOSES) {
+    const c = state[p];
+    if (c.status !== "none") latest[p] = { status: c.status, at: c.at ?? "", version: c.version ?? "" };
+  }
   return {
     employeeNumber: w.employee_number as string,
     name: `${w.given_name} ${w.family_name}`,

@@ -1,6 +1,6 @@
 import { Link } from "react-router";
 import { requireUser } from "~/auth/guard.server";
-import { STAGE_LABELS, STAGES, type Stage } from "~/components/stage";
+import { STAGE_LABELS, STAGES, type Stage } from "~/domain/stages";
 import { stageCountsBySite } from "~/models/workers.server";
 import type { Route } from "./+types/assess._index";
 

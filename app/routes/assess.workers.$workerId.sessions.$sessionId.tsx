@@ -1,6 +1,6 @@
 import { data, Form, Link, useActionData, useNavigation } from "react-router";
 import { requireUser } from "~/auth/guard.server";
-import { roleAllows } from "~/auth/permissions";
+import { can } from "~/auth/permissions";
 import { DeviceCautions } from "~/components/device-cautions";
 import { FormError, Notice, SelectField, TextField } from "~/components/fields";
 import { FileField, IssueList } from "~/components/upload";
@@ -59,7 +59,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     manual: measures.filter((m) => m.entry === "manual"),
     traceMeasures: measures.filter((m) => m.entry === "trace"),
     normSets: normSets.map((n) => ({ id: n.id, name: n.name })),
-    canWrite: p.user.roles.some((r) => roleAllows(r, "assessments.write")),
+    canWrite: can(p.user, "assessments.write"),
   };
 }
 

@@ -2,7 +2,7 @@ import { redirect } from "react-router";
 import { getAuthenticator } from "~/auth/authenticator.server";
 import { homeFor } from "~/auth/homes";
 import { getSession, sessionStorage } from "~/auth/session.server";
-import { markSignedIn } from "~/models/users.server";
+import { markSignedIn } from "~/auth/users.server";
 import type { Route } from "./+types/auth.callback";
 
 // The identity provider returns here with a code; the strategy exchanges it (with the PKCE verifier)

@@ -9,7 +9,7 @@ import {
 import { useEffect, useState } from "react";
 import { data, Form, Link, useFetcher, useNavigation, useRevalidator } from "react-router";
 import { requireUser } from "~/auth/guard.server";
-import { roleAllows } from "~/auth/permissions";
+import { can } from "~/auth/permissions";
 import { CapacityChart } from "~/components/capacity-chart";
 import { DeviceCautions } from "~/components/device-cautions";
 import { FormError, Notice } from "~/components/fields";
@@ -153,7 +153,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     planVersion: state.version,
     currentRunId: state.runId,
     refusal: run.status === "done" ? publishRefusal(run) : "Only a finished run can be published.",
-    canPublish: p.roles.some((r) => roleAllows(r, "allocation.publish")),
+    canPublish: can(p.user, "allocation.publish"),
     others,
   };
 }

@@ -3,7 +3,7 @@
 // Expected homes are the ones DESIGN.md and the foundation issue name for each role.
 import AxeBuilder from "@axe-core/playwright";
 import { request as playwrightRequest } from "@playwright/test";
-import { DEMO_PERSONAS, type DemoPersona } from "../../seeds/lib/personas";
+import { DEMO_PERSONAS, type DemoPersona } from "../../app/auth/demo-personas";
 import { expect, persona, SESSION_COOKIE, sessionCookie, test } from "./fixtures";
 
 const HOME: Record<DemoPersona["role"], string> = {

@@ -1,8 +1,8 @@
 import crypto from "node:crypto";
 import { inverse, Matrix } from "ml-matrix";
 import { afterAll, describe, expect, it } from "vitest";
-import { ERASURE_STEPS } from "~/models/consent.server";
 import { eraseForecasts } from "~/models/forecast.server";
+import { ERASURE_STEPS } from "~/models/withdrawal.server";
 import { workerForecastSchema } from "~/schemas/forecast";
 import { baseUrl, PERSONA, signIn, testDb } from "./helpers";
 

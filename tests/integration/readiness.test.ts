@@ -1,7 +1,7 @@
 import crypto from "node:crypto";
 import ExcelJS from "exceljs";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { STAGES } from "../../app/components/stage";
+import { STAGES } from "../../app/domain/stages";
 import { auditLinkedTables } from "../../app/compute/disclosure";
 import routes from "../../app/routes";
 import { type Browserless, baseUrl, PERSONA, signIn, testDb } from "./helpers";
