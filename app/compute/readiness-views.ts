@@ -59,16 +59,6 @@ export function transposeProtected(table: ProtectedTable): ProtectedTable {
   };
 }
 
-/** Counts of hidden numbers in a protected table (cells, totals), for the explanation under it. */
-export function hiddenCount(table: ProtectedTable): { cells: number; totals: number } {
-  const cells = table.cells.reduce((n, line) => n + line.filter((v) => v === null).length, 0);
-  const totals =
-    table.rowTotals.filter((v) => v === null).length +
-    table.columnTotals.filter((v) => v === null).length +
-    (table.grandTotal === null ? 1 : 0);
-  return { cells, totals };
-}
-
 /** Monday (UTC) of the ISO week containing a YYYY-MM-DD date, as YYYY-MM-DD. */
 export function weekStart(day: string): string {
   const d = new Date(`${day.slice(0, 10)}T00:00:00Z`);

@@ -374,8 +374,3 @@ export async function rescoreSession(input: { workerId: number; sessionId: numbe
     return { scored, total: rows.length };
   });
 }
-
-/** Last baseline date per worker (for lists). */
-export function lastBaselineSubquery(k: Db = db()) {
-  return k("assessment_sessions").select("worker_id").max({ last_on: "assessed_on" }).groupBy("worker_id").as("b");
-}

@@ -150,7 +150,3 @@ export async function createCohortNormSet(
 }
 
 export class NormInputError extends Error {}
-
-export function scopeSiteIds(scope: Scope, allSiteIds: number[]): number[] {
-  return scope.allSites ? allSiteIds : scope.siteIds;
-}

@@ -156,11 +156,6 @@ export async function trainerSession(trainerId: number, sessionId: number, k: Db
   return { ...s, events: await eventsForSessions([s.id], k) };
 }
 
-/** Whether a session with this id exists at all (to tell 404 from 403). */
-export async function sessionExists(sessionId: number, k: Db = db()): Promise<boolean> {
-  return Boolean(await k("training_sessions").where({ id: sessionId }).first("id"));
-}
-
 export class TrainerDayError extends Error {
   constructor(
     message: string,

@@ -44,11 +44,6 @@ export function guessMapping(headers: string[]): RosterMapping {
   return m;
 }
 
-/** Mapping as posted by the mapping form (`map.<field>` = column index or ""). */
-export const mappingFormSchema = z.object(
-  Object.fromEntries(ROSTER_FIELDS.map((f) => [`map.${f}`, z.string().regex(/^\d*$/, "Choose a column").optional()])),
-);
-
 export function mappingFromForm(
   form: Record<string, unknown>,
   columnCount: number,

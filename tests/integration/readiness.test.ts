@@ -75,17 +75,15 @@ beforeAll(async () => {
       })),
     );
   for (let i = 0; i < rows.length; i += 100) await db("training_sessions").insert(rows.slice(i, i + 100));
-  // Sessions count only when their run is published (once the allocation area's table exists).
-  if (await db.schema.hasTable("allocation_runs")) {
-    await db("allocation_runs").insert({
-      id: RUN_ID,
-      label: "readiness test plan",
-      parameters: "{}",
-      status: "done",
-      created_at: "2026-12-01T00:00:00.000Z",
-      published_at: "2026-12-01T00:00:00.000Z",
-    });
-  }
+  // Sessions count only when their run is published.
+  await db("allocation_runs").insert({
+    id: RUN_ID,
+    label: "readiness test plan",
+    parameters: "{}",
+    status: "done",
+    created_at: "2026-12-01T00:00:00.000Z",
+    published_at: "2026-12-01T00:00:00.000Z",
+  });
   ({ client: manager } = await signIn(PERSONA.manager));
   ({ key: nyKey, id: nyKeyId } = await insertKey("manager", [ny.id]));
 });
@@ -93,7 +91,7 @@ beforeAll(async () => {
 afterAll(async () => {
   const db = testDb();
   await db("training_sessions").where({ allocation_run_id: RUN_ID }).delete();
-  if (await db.schema.hasTable("allocation_runs")) await db("allocation_runs").where({ id: RUN_ID }).delete();
+  await db("allocation_runs").where({ id: RUN_ID }).delete();
   for (const w of pausedIds) await db("workers").where({ id: w.id }).update({ stage: w.stage });
   await db("api_keys").where({ id: nyKeyId }).update({ revoked_at: new Date().toISOString() });
 });
