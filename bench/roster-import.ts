@@ -1,4 +1,4 @@
-// Benchmark: importing a 10,000-row roster (issue 3: target under 5 s), end to end through the same code
+// Benchmark: importing a 10,000-row roster (target under 5 s), end to end through the same code
 // the import page uses — CSV read (csv-parse, streamed), zod row checks, upsert plan against the workers
 // on file, and the one-transaction write — on a fresh SQLite file with the demo sites. Also the second
 // import of the same people with changes (10,000 updates), an XLSX read of the same roster, and a

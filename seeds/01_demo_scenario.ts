@@ -5,7 +5,7 @@ import { emptyAllTables } from "./lib/reset";
 
 // ─────────────────────────────────────────────────────────────────────────────────────────────
 // INVENTED DEMO DATA. "Harrow & Vale Fabrication", its sites, departments, people and devices are
-// fictional (DESIGN §6). Names are drawn at random from generic first/last-name lists; any match with
+// fictional. Names are drawn at random from generic first/last-name lists; any match with
 // a real person is coincidence. Deterministic: seeded PRNG and fixed dates.
 // ─────────────────────────────────────────────────────────────────────────────────────────────
 

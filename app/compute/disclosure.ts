@@ -1,4 +1,4 @@
-// Statistical disclosure control for managers' readiness tables (DESIGN §3.6).
+// Statistical disclosure control for managers' readiness tables (docs/consent-and-disclosure.md).
 //
 // Primary suppression hides every count of 1 … threshold−1 (cells and totals; zeros show).
 // Complementary suppression then hides further numbers until no hidden number can be recovered from

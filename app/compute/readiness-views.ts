@@ -1,4 +1,4 @@
-// Pure helpers for the managers' readiness views (DESIGN §3.6). Everything here works only on tables
+// Pure helpers for the managers' readiness views (docs/consent-and-disclosure.md). Everything here works only on tables
 // that have already been through disclosure control, so whatever it derives is computable from the
 // published numbers alone and reveals nothing more than they do.
 

@@ -1,4 +1,4 @@
-// Test–retest reliability (DESIGN §3.2): intraclass correlations from a two-way ANOVA table
+// Test–retest reliability (docs/methods.md): intraclass correlations from a two-way ANOVA table
 // (Shrout & Fleiss 1979, Psychological Bulletin 86:420–428), and the standard error of measurement
 // and minimal detectable change that turn a reliability into "is this change real?" (Weir 2005,
 // J Strength Cond Res 19:231–240).

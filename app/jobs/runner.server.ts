@@ -1,4 +1,4 @@
-// Background jobs (issue 5): allocation solves run one at a time in a worker_threads Worker, so the server keeps
+// Background jobs: allocation solves run one at a time in a worker_threads Worker, so the server keeps
 // answering (progress polling included) while javascript-lp-solver works. Started lazily: the first request
 // that touches allocation runs calls ensureJobsStarted(), which fails runs a stopped server left "running" and
 // picks up queued ones.

@@ -8,7 +8,7 @@ import type { RunParameters } from "~/schemas/allocation";
 import { latestConsent } from "./consent.server";
 import { whereWorkerInScope } from "./workers.server";
 
-// Builds the solver input (DESIGN §3.5) for a run from the database: the pool, device-type capacity per week
+// Builds the solver input (docs/methods.md) for a run from the database: the pool, device-type capacity per week
 // (units × bookable hours, less maintenance days) and trainer hours per week (weekly working pattern, less
 // leave), with the run's what-if changes applied. The solver works per device type AT A SITE, since a worker
 // trains at their own site with a trainer of that site; ids are the readable names people see.

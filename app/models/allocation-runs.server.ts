@@ -5,7 +5,7 @@ import { type Db, db } from "~/db.server";
 import type { RunParameters } from "~/schemas/allocation";
 import { buildProblem, type ProblemSnapshot } from "./allocation-problem.server";
 
-// Allocation runs (issue 5): parameters, the problem snapshot the solver sees, progress and the result.
+// Allocation runs: parameters, the problem snapshot the solver sees, progress and the result.
 // The solve itself runs in app/jobs (worker thread); this module only reads and writes rows.
 
 export type RunStatus = "queued" | "running" | "done" | "failed";

@@ -10,8 +10,8 @@ import { listMeasures, type Measure } from "./measures.server";
 import { defaultNorms, normsOf } from "./norms.server";
 import { whereWorkerInScope } from "./workers.server";
 
-// Assessment sessions, manual results and trace uploads (issue 3 §4–5). Every write checks
-// `assessment` consent inside its own transaction, whatever the caller (DESIGN §4).
+// Assessment sessions, manual results and trace uploads. Every write checks
+// `assessment` consent inside its own transaction, whatever the caller (docs/consent-and-disclosure.md).
 
 export class AssessmentInputError extends Error {
   constructor(

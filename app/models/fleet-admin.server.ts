@@ -2,7 +2,7 @@ import type { Principal } from "~/auth/guard.server";
 import type { Scope } from "~/auth/scope";
 import { db } from "~/db.server";
 
-// Fleet administration for coordinators (issue 5 item 1): device types with fit rules and wear-time limits,
+// Fleet administration for coordinators: device types with fit rules and wear-time limits,
 // units with status and bookable hours, maintenance windows. Units are limited to the coordinator's sites.
 
 const unitSites = (scope: Scope) => (scope.allSites ? null : scope.siteIds.length ? scope.siteIds : [-1]);

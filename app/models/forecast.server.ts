@@ -12,7 +12,7 @@ import { latestConsent } from "./consent.server";
 import { paged } from "./paging.server";
 import { whereWorkerInScope } from "./workers.server";
 
-// Worker forecasts (DESIGN §3.3–3.4, issue 4 items 4–5): computed from the approved model version of each
+// Worker forecasts (docs/methods.md): computed from the approved model version of each
 // device type for workers whose `planning` consent is in force, refreshed as sessions are logged, erased on
 // withdrawal. Coordinators receive hours and intervals only; the clinical view (z-scores and how each moved
 // the forecast) is built for assessors alone, here in the data layer.
@@ -25,7 +25,7 @@ export function labelFor(code: string, name?: string | null): string {
 
 /**
  * Each worker's latest baseline z-score per measure, from assessment sessions on or before the worker's
- * cutoff date (none = any date). Positive = better (DESIGN §3.1).
+ * cutoff date (none = any date). Positive = better (docs/methods.md).
  */
 export async function baselineZScores(
   k: Db,
@@ -328,7 +328,7 @@ export async function refreshForecastsForWorker(k: Db, workerId: number, actor: 
 }
 
 /**
- * Erase a worker's forecasts, drift records and review flags (DESIGN §4: on withdrawal, at once). Call it
+ * Erase a worker's forecasts, drift records and review flags (on withdrawal, at once, docs/consent-and-disclosure.md). Call it
  * inside the withdrawal's transaction; returns how many forecasts were erased.
  */
 export async function eraseForecasts(trx: Db, workerId: number): Promise<number> {

@@ -13,7 +13,7 @@ import {
   type ExclusionReason,
 } from "~/schemas/forecast";
 
-// Forecast model versions (DESIGN §3.3, issue 4 item 3): the cohort, the fit and its diagnostics, the saved
+// Forecast model versions (docs/methods.md): the cohort, the fit and its diagnostics, the saved
 // version, and approval by a second assessor. Cohort rows are de-identified: nothing here returns a worker id
 // or name to a page, only counts, coefficients and (actual, predicted) pairs sorted by hours.
 

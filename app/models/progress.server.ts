@@ -15,7 +15,7 @@ import {
 import { getCriterion } from "./proficiency.server";
 import { whereWorkerInScope } from "./workers.server";
 
-// Training progress on one device type (issue 4, item 5) and the one way a session result is logged.
+// Training progress on one device type and the one way a session result is logged.
 // logSessionResult is shared with the trainer portal: cumulative hours, the course, proficiency, the stage
 // and the forecast all change in the same transaction.
 

@@ -25,7 +25,7 @@ import { STAGE_LABELS, STAGES } from "~/domain/stages";
 import { type Grouping, type OrganisationSettings, parseStoredGroupings } from "~/schemas/readiness";
 import { whereWorkerInScope } from "./workers.server";
 
-// Readiness for managers (DESIGN §1, §3.6). Every number leaves this module only after disclosure
+// Readiness for managers (docs/architecture.md, docs/consent-and-disclosure.md). Every number leaves this module only after disclosure
 // control. The database does the counting (GROUP BY); the only per-person values read here are
 // forecast hours for medians, without any identifier, and they never leave the function that reads them.
 // Labels are site and department names; no worker id, name, e-mail or employee number is selected.
@@ -263,7 +263,7 @@ async function plannedCounts(g: Groups): Promise<{ weeks: string[]; counts: numb
 /** Current forecast median hours per department × device type of the viewer, read without identifiers. */
 async function forecastValues(scope: Scope, g: Groups): Promise<Map<string, number[]>> {
   const k = db();
-  // Only forecasts of an approved model version count: drafts are not for decisions (DESIGN §3.3).
+  // Only forecasts of an approved model version count: drafts are not for decisions (docs/methods.md).
   const q = k("forecasts as f")
     .join("workers", "workers.id", "f.worker_id")
     .join("model_versions as mv", "mv.id", "f.model_version_id")

@@ -7,7 +7,7 @@ import type { ReviewRequestInput } from "~/schemas/portal";
 import { REVIEW_SUBJECT_LABELS } from "~/schemas/portal";
 import { whereWorkerInScope } from "./workers.server";
 
-// Review requests (issue 7, DESIGN §4): a worker contests their forecast or plan; assessors whose scope covers
+// Review requests (docs/consent-and-disclosure.md): a worker contests their forecast or plan; assessors whose scope covers
 // the worker answer in the app and the worker is e-mailed the answer.
 
 export class ReviewError extends Error {

@@ -16,7 +16,7 @@ import { refreshForecastsForWorker } from "./forecast.server";
 import { type ProgressView, progressView } from "./progress.server";
 import { type WithdrawalResult, withdrawConsent } from "./withdrawal.server";
 
-// The worker's own portal (issue 7). Every function takes the worker id that the route read from the
+// The worker's own portal. Every function takes the worker id that the route read from the
 // signed-in session (AppUser.workerId), never one from the URL, and reads only rows of that worker.
 
 export { ConsentInputError };

@@ -5,7 +5,7 @@ import { adverseEventsFrom } from "~/schemas/session-log";
 import { eventsForSessions, notifyAssessorsOfSevereEvents, recordAdverseEvents } from "./adverse-events.server";
 import { logSessionResult, SessionLogError } from "./progress.server";
 
-// The trainer's day (issue 7): sessions on the trainer's own schedule only. Every function here takes the
+// The trainer's day: sessions on the trainer's own schedule only. Every function here takes the
 // trainer id resolved from the signed-in user (trainers.user_id), never from the URL.
 
 export { SessionLogError };
@@ -187,7 +187,7 @@ export interface TrainerLogResult {
 }
 
 /**
- * Logs a scheduled session as attended: the result goes through logSessionResult (issue 4: cumulative hours,
+ * Logs a scheduled session as attended: the result goes through logSessionResult (cumulative hours,
  * course, proficiency, stage and forecast), the adverse events and any pause in the SAME transaction.
  * Severe events then e-mail the worker's assessors.
  */

@@ -5,7 +5,7 @@ import { type CalendarSession, icsFile } from "./calendar.server";
 import { consentRecordsForExport } from "./consent.server";
 import { mySessions } from "./self-service.server";
 
-// "Download everything held about me" (DESIGN §4, issue 7): every row about one worker, by the worker id from
+// "Download everything held about me" (docs/consent-and-disclosure.md): every row about one worker, by the worker id from
 // the session. Each query below is filtered by that id; nothing here reads another worker's rows.
 
 const iso = (v: unknown) => (v == null ? null : String(v));

@@ -7,7 +7,7 @@ export const PURPOSE_LABELS: Record<ConsentPurpose, string> = {
   model: "Model: de-identified record may join a model cohort",
 };
 
-// Consent forms (DESIGN §4): purposes ticked by the worker, witnessed by an assessor.
+// Consent forms (docs/consent-and-disclosure.md): purposes ticked by the worker, witnessed by an assessor.
 const purpose = z.enum(CONSENT_PURPOSES, { message: "Purpose: assessment, planning or model." });
 
 export const recordConsentSchema = z.object({

@@ -1,7 +1,7 @@
 import { z } from "zod";
 import { CONSENT_PURPOSES } from "~/domain/consent-purposes";
 
-// Worker portal forms (issue 7): own consent, review requests; and the assessors' answer to a review.
+// Worker portal forms: own consent, review requests; and the assessors' answer to a review.
 const purpose = z.enum(CONSENT_PURPOSES, { message: "Purpose: choose assessment, planning or model." });
 
 export const giveOwnConsentSchema = z.object({

@@ -1,6 +1,6 @@
 // Foundation e2e: sign-in through the real OAuth2/OIDC round trip for every demo persona, sign-out,
 // an unprovisioned identity, the 390 px layout, accessibility (axe) and the admin users / API-key flow.
-// Expected homes are the ones DESIGN.md and the foundation issue name for each role.
+// Expected homes: ROLE_HOMES in app/auth/permissions.ts, one per role.
 import AxeBuilder from "@axe-core/playwright";
 import { request as playwrightRequest } from "@playwright/test";
 import { DEMO_PERSONAS, type DemoPersona } from "../../app/auth/demo-personas";

@@ -6,7 +6,7 @@ import { ERASURE_STEPS } from "~/models/withdrawal.server";
 import { workerForecastSchema } from "~/schemas/forecast";
 import { baseUrl, PERSONA, signIn, testDb } from "./helpers";
 
-// Forecast area (issue 4) against the running stack and the seeded demo (seeds/03_forecast_demo.ts).
+// Forecast area against the running stack and the seeded demo (seeds/03_forecast_demo.ts).
 const k = testDb();
 
 async function device(code: string) {

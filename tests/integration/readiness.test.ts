@@ -9,7 +9,7 @@ import { concretePath, flattenRoutes, type RouteEntry } from "./route-walk";
 
 // Issue 6: what a manager's pages, export and API send contains nothing personal; department and site
 // views together cannot be differenced; manager API keys reach no worker-level route.
-// Reference for the disclosure rule: DESIGN §3.6 (counts of 1 … threshold−1 hidden, and nothing hidden
+// Reference for the disclosure rule: docs/consent-and-disclosure.md (counts of 1 … threshold−1 hidden, and nothing hidden
 // recoverable exactly from what is published together); audited with the LP attacker in
 // app/compute/disclosure.ts, itself checked against HiGHS in tests/reference/disclosure.test.ts.
 

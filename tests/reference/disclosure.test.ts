@@ -1,4 +1,4 @@
-// Disclosure control for managers' readiness tables (DESIGN §3.6).
+// Disclosure control for managers' readiness tables (docs/consent-and-disclosure.md).
 // References: Hundepool et al. (2012) Statistical Disclosure Control, Wiley, ch. 7 (primary and
 // secondary cell suppression; auditing a pattern by the attacker LP) — details from memory; the
 // threshold of 5 is common practice in health statistics (no single published source); interval
@@ -365,7 +365,7 @@ describe("shares and medians", () => {
     expect(protectMedian([1, 2, 3, 4, 5, 6], 8)).toBeNull();
   });
 
-  // Rule of DESIGN §3.6 (threshold 5: common practice); a share with its group size gives the count
+  // Rule of docs/consent-and-disclosure.md (threshold 5: common practice); a share with its group size gives the count
   // back, so numerator and remainder follow the cell rule (1–4 hidden, 0 shown).
   it("shares hidden for small groups and small numerators or remainders", () => {
     expect(suppressedShare(3, 4)).toBeNull(); // group of 4
@@ -378,7 +378,7 @@ describe("shares and medians", () => {
   });
 });
 
-// Threshold of 5: common practice in health statistics, no single published source (DESIGN §3.6).
+// Threshold of 5: common practice in health statistics, no single published source (docs/consent-and-disclosure.md).
 describe("threshold", () => {
   const counts = [
     [4, 6, 9],

@@ -1,7 +1,7 @@
 // What an attacker can derive from a published table by linear algebra alone: the hidden entries
 // satisfy A·y = b, where b collects the published numbers. Redundant rows are dropped so that the LP
 // solver only ever sees independent equalities (javascript-lp-solver 1.0.3 can misreport with redundant
-// equality rows, DESIGN §3.5).
+// equality rows, docs/methods.md).
 
 import type { TableSystem } from "./table-system";
 
