@@ -37,7 +37,7 @@ function rosterLines(rows: number, variant: number): string[][] {
 }
 const HEADER = ["Employee number", "First name", "Last name", "E-mail", "Site", "Department"];
 const toCsv = (rows: string[][]) =>
-  new TextEncoder().encode([HEADER, ...rows].map((r) => r.join(",")).join("\n") + "\n");
+  new TextEncoder().encode(`${[HEADER, ...rows].map((r) => r.join(",")).join("\n")}\n`);
 
 export async function main() {
   const dir = fs.mkdtempSync(path.join(os.tmpdir(), "limberly-bench-roster-"));

@@ -62,7 +62,7 @@ async function build(): Promise<Authenticator<SignInResult>> {
         const email =
           typeof payload.email === "string" ? payload.email : typeof payload.sub === "string" ? payload.sub : "";
         const user = email ? await findUserByEmail(email) : null;
-        if (!user || !user.active || user.roles.length === 0) return { kind: "unprovisioned", email };
+        if (!user?.active || user.roles.length === 0) return { kind: "unprovisioned", email };
         return { kind: "ok", user };
       },
     ),

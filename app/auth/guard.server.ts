@@ -38,7 +38,7 @@ export async function currentUser(request: Request): Promise<AppUser | null> {
   const userId = session.get("userId");
   if (!userId) return null;
   const user = await findUserById(userId);
-  return user && user.active ? user : null;
+  return user?.active ? user : null;
 }
 
 function grantingRoles(roles: Role[], action: Action): Role[] {

@@ -312,7 +312,7 @@ export function computeTrace(
   parsed: ParsedTrace,
   options: ComputeTraceOptions = {},
 ): Record<string, number> {
-  if (!parsed || parsed.ok !== true) throw new RangeError("computeTrace needs a successfully parsed trace");
+  if (parsed?.ok !== true) throw new RangeError("computeTrace needs a successfully parsed trace");
   if (parsed.kind !== kind) throw new RangeError(`trace was parsed as "${parsed.kind}", not "${kind}"`);
   switch (parsed.kind) {
     case "sway": {

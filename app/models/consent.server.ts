@@ -323,7 +323,7 @@ export async function replaceWithWithdrawal(
   input: { workerId: number; purpose: ConsentPurpose; recordedBy: number | null; at: string },
 ): Promise<boolean> {
   const last = await latestConsentRecord(input.workerId, input.purpose, trx);
-  if (!last || last.status !== "given") return false;
+  if (last?.status !== "given") return false;
   await trx("consent_records").where({ worker_id: input.workerId, purpose: input.purpose }).del();
   await trx("consent_records").insert({
     worker_id: input.workerId,

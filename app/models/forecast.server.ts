@@ -462,19 +462,18 @@ export async function workerForecastView(p: Principal, workerId: number, k: Db =
               hoursToProficiency: course.hours_to_proficiency == null ? null : Number(course.hours_to_proficiency),
             }
           : null,
-        progress:
-          f && f.progress_status
-            ? {
-                hoursDone: Number(f.hours_done),
-                status: f.progress_status,
-                remainingHours: f.remaining_hours == null ? null : Number(f.remaining_hours),
-                remainingLower: f.remaining_lower == null ? null : Number(f.remaining_lower),
-                remainingUpper: f.remaining_upper == null ? null : Number(f.remaining_upper),
-                remainingPlanningHours: f.remaining_planning_hours == null ? null : Number(f.remaining_planning_hours),
-                curveWeight: progressJson?.curveWeight ?? null,
-                reason: progressJson?.reason ?? null,
-              }
-            : null,
+        progress: f?.progress_status
+          ? {
+              hoursDone: Number(f.hours_done),
+              status: f.progress_status,
+              remainingHours: f.remaining_hours == null ? null : Number(f.remaining_hours),
+              remainingLower: f.remaining_lower == null ? null : Number(f.remaining_lower),
+              remainingUpper: f.remaining_upper == null ? null : Number(f.remaining_upper),
+              remainingPlanningHours: f.remaining_planning_hours == null ? null : Number(f.remaining_planning_hours),
+              curveWeight: progressJson?.curveWeight ?? null,
+              reason: progressJson?.reason ?? null,
+            }
+          : null,
         reviewFlags: flags.map((r) => ({ kind: r.kind, reason: r.reason, raisedAt: String(r.raised_at) })),
       });
     }

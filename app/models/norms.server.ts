@@ -1,5 +1,4 @@
 import { sampleStandardDeviation, mean as ssMean } from "simple-statistics";
-import type { Scope } from "~/auth/scope";
 import { type Db, db } from "~/db.server";
 
 // Norm sets (docs/methods.md): mean and SD per measure, cohort-derived or entered from a published table,

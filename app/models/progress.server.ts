@@ -4,14 +4,7 @@ import { firstProficientIndex } from "~/compute/proficiency-rule";
 import { curvePoints } from "~/compute/progress-update";
 import { type Db, db } from "~/db.server";
 import { latestConsent } from "./consent.server";
-import {
-  forecastViewFor,
-  loggedSessions,
-  recordOutcome,
-  type UpsertResult,
-  upsertForecast,
-  workerInScope,
-} from "./forecast.server";
+import { loggedSessions, recordOutcome, type UpsertResult, upsertForecast, workerInScope } from "./forecast.server";
 import { getCriterion } from "./proficiency.server";
 import { whereWorkerInScope } from "./workers.server";
 

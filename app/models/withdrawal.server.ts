@@ -103,7 +103,7 @@ export async function withdrawConsent(input: {
 }): Promise<WithdrawalResult> {
   return db().transaction(async (trx) => {
     const last = await latestConsentRecord(input.workerId, input.purpose, trx);
-    if (!last || last.status !== "given")
+    if (last?.status !== "given")
       throw new ConsentInputError(`There is no given ${input.purpose} consent to withdraw.`, "purpose");
     const at = new Date().toISOString();
     const erased: Record<string, number> = {};

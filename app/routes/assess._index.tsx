@@ -38,7 +38,7 @@ export default function AssessHome({ loaderData }: Route.ComponentProps) {
           </Link>
         ))}
       </nav>
-      <div className="card overflow-x-auto p-0" tabIndex={0} role="region" aria-label="Workers by site and stage">
+      <section className="card overflow-x-auto p-0" tabIndex={0} aria-label="Workers by site and stage">
         <table className="table-base">
           <caption className="sr-only">Workers by site and stage</caption>
           <thead>
@@ -62,7 +62,7 @@ export default function AssessHome({ loaderData }: Route.ComponentProps) {
             ))}
           </tbody>
         </table>
-      </div>
+      </section>
     </div>
   );
 }

@@ -219,7 +219,7 @@ export default function SessionPage({ loaderData }: Route.ComponentProps) {
                 ]}
               />
             </div>
-            <button className="btn-quiet" disabled={busy}>
+            <button type="submit" className="btn-quiet" disabled={busy}>
               Re-score
             </button>
           </Form>
@@ -252,7 +252,7 @@ export default function SessionPage({ loaderData }: Route.ComponentProps) {
                 />
               ))}
               <div className="sm:col-span-2">
-                <button className="btn-primary" disabled={busy}>
+                <button type="submit" className="btn-primary" disabled={busy}>
                   Save scores
                 </button>
               </div>
@@ -296,7 +296,7 @@ export default function SessionPage({ loaderData }: Route.ComponentProps) {
               />
             </div>
             <div className="sm:col-span-2">
-              <button className="btn-primary" disabled={busy}>
+              <button type="submit" className="btn-primary" disabled={busy}>
                 {busy ? "Computing…" : "Upload and compute"}
               </button>
             </div>
@@ -307,7 +307,7 @@ export default function SessionPage({ loaderData }: Route.ComponentProps) {
               issues={upload.errors}
             />
           )}
-          {upload && upload.ok && (
+          {upload?.ok && (
             <div
               className="grid gap-2 rounded-md border border-spruce-100 bg-spruce-50 p-3"
               data-testid="upload-result"

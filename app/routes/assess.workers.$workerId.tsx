@@ -270,7 +270,7 @@ export default function WorkerRecord({ loaderData }: Route.ComponentProps) {
               </p>
             )}
             <div>
-              <button className="btn-primary" disabled={busy}>
+              <button type="submit" className="btn-primary" disabled={busy}>
                 Record consent
               </button>
             </div>
@@ -301,7 +301,7 @@ export default function WorkerRecord({ loaderData }: Route.ComponentProps) {
                 autoComplete="off"
               />
               <div>
-                <button className="btn-danger" disabled={busy}>
+                <button type="submit" className="btn-danger" disabled={busy}>
                   Withdraw {pp} consent
                 </button>
               </div>
@@ -450,7 +450,7 @@ export default function WorkerRecord({ loaderData }: Route.ComponentProps) {
                 <TextArea name="notes" label="Notes (optional)" rows={2} error={errors.notes} />
               </div>
               <div className="sm:col-span-2">
-                <button className="btn-primary" disabled={busy}>
+                <button type="submit" className="btn-primary" disabled={busy}>
                   Start assessment session
                 </button>
               </div>

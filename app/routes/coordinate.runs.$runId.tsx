@@ -223,12 +223,7 @@ function PlanTable({ rows }: { rows: WorkerPlanRow[] }) {
     getSortedRowModel: getSortedRowModel(),
   });
   return (
-    <div
-      className="card overflow-x-auto p-0"
-      tabIndex={0}
-      role="region"
-      aria-label="Per-worker plan (scrolls sideways)"
-    >
+    <section className="card overflow-x-auto p-0" tabIndex={0} aria-label="Per-worker plan (scrolls sideways)">
       <table className="table-base" data-testid="plan-table">
         <caption className="sr-only">
           Per-worker plan: device type, trainers, hours per week and the week each worker is ready
@@ -272,7 +267,7 @@ function PlanTable({ rows }: { rows: WorkerPlanRow[] }) {
           ))}
         </tbody>
       </table>
-    </div>
+    </section>
   );
 }
 

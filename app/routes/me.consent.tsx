@@ -129,7 +129,7 @@ export default function MyConsent({ loaderData }: Route.ComponentProps) {
                   </p>
                 )}
                 <div>
-                  <button className="btn-primary min-h-11" name="intent" value="give" disabled={busy}>
+                  <button type="submit" className="btn-primary min-h-11" name="intent" value="give" disabled={busy}>
                     Give {purpose} consent
                   </button>
                 </div>
@@ -155,6 +155,7 @@ export default function MyConsent({ loaderData }: Route.ComponentProps) {
                 )}
                 <div>
                   <button
+                    type="submit"
                     className="btn-quiet min-h-11 border-alert text-alert"
                     name="intent"
                     value="withdraw"

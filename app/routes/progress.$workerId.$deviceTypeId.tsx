@@ -138,7 +138,7 @@ export default function ProgressPage({ loaderData }: Route.ComponentProps) {
           </p>
           {canResolve && (
             <Form method="post" className="mt-2">
-              <button className="btn-quiet" name="intent" value="resolve">
+              <button type="submit" className="btn-quiet" name="intent" value="resolve">
                 Mark as reviewed
               </button>
             </Form>
@@ -233,7 +233,7 @@ export default function ProgressPage({ loaderData }: Route.ComponentProps) {
               <TextArea name="notes" label="Notes" rows={2} error={errors.notes} />
             </div>
             <div className="sm:col-span-2">
-              <button className="btn-primary" name="intent" value="log" disabled={busy}>
+              <button type="submit" className="btn-primary" name="intent" value="log" disabled={busy}>
                 {busy ? "Saving…" : "Log session"}
               </button>
             </div>

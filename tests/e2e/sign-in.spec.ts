@@ -49,7 +49,7 @@ test.describe("sign-in and sign-out for each demo persona", () => {
       // …and after sign-out the same cookie is worthless: the session was deleted on the server.
       const after = await replay.get(HOME[p.role], { headers: cookieHeader, maxRedirects: 0 });
       expect(after.status()).toBe(302);
-      expect(after.headers()["location"]).toMatch(/^\/sign-in(\?|$)/);
+      expect(after.headers().location).toMatch(/^\/sign-in(\?|$)/);
       await replay.dispose();
     });
   }

@@ -3,7 +3,7 @@ import { describe, expect, inject, it } from "vitest";
 import { buildProblem } from "~/models/allocation-problem.server";
 import { runParametersSchema } from "~/schemas/allocation";
 import { readOutbox } from "../../scripts/smtp-catcher";
-import { type Browserless, PERSONA, signIn, testDb } from "./helpers";
+import { PERSONA, signIn, testDb } from "./helpers";
 
 // Worker and trainer portals against the running stack and the invented demo (seeds/07_portals_demo.ts:
 // two worker accounts among Ines Calloway's trainees, her scheduled sessions). Each test makes the rows it

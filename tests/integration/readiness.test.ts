@@ -1,8 +1,8 @@
 import crypto from "node:crypto";
 import ExcelJS from "exceljs";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { STAGES } from "../../app/domain/stages";
 import { auditLinkedTables } from "../../app/compute/disclosure";
+import { STAGES } from "../../app/domain/stages";
 import routes from "../../app/routes";
 import { type Browserless, baseUrl, PERSONA, signIn, testDb } from "./helpers";
 import { concretePath, flattenRoutes, type RouteEntry } from "./route-walk";

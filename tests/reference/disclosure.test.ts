@@ -24,7 +24,6 @@ import {
   type HiddenBound,
   highsFlatBounds,
   highsLinkedBounds,
-  type PublishedTable,
   seeded,
   smallCountTable,
 } from "./disclosure-audit";

@@ -5,7 +5,7 @@
  */
 
 import { type Budget, outOfBudget } from "./heuristics";
-import { EPS, type Instance } from "./instance";
+import { EPS } from "./instance";
 import type { Selection } from "./selection";
 import type { AllocationAssignment, AllocationProblem, CapacityUse } from "./types";
 
