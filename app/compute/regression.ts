@@ -228,7 +228,7 @@ export function fitLinearModel(
   const intercept = options?.intercept ?? true;
   const ridge = options?.ridge ?? 0;
   const core = fitCore(X, y, intercept, ridge);
-  const { n, k, means, slopes, slopeCov } = core;
+  const { n, means, slopes, slopeCov } = core;
 
   const fittedValues = X.map((row) => centredPredict(core, row));
   const residuals = y.map((yi, i) => yi - fittedValues[i]);

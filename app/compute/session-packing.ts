@@ -169,7 +169,10 @@ function packWith(
       ub.push({ from, to });
       unitBusy.set(`${key}|${date}`, ub);
       let days = workerDays.get(worker.id);
-      if (!days) workerDays.set(worker.id, (days = new Set()));
+      if (!days) {
+        days = new Set();
+        workerDays.set(worker.id, days);
+      }
       days.add(date);
       workerMinutes.set(worker.id, (workerMinutes.get(worker.id) ?? 0) + (to - from));
       sessions.push({

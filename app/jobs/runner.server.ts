@@ -27,7 +27,8 @@ interface JobState {
   idleWaiters: (() => void)[];
 }
 const g = globalThis as unknown as { __limberlyJobs?: JobState };
-const state: JobState = (g.__limberlyJobs ??= { started: false, queue: [], busy: false, idleWaiters: [] });
+g.__limberlyJobs ??= { started: false, queue: [], busy: false, idleWaiters: [] };
+const state: JobState = g.__limberlyJobs;
 
 export async function ensureJobsStarted(): Promise<void> {
   if (state.started) return;

@@ -1,7 +1,7 @@
 import type { Principal } from "~/auth/guard.server";
 import type { Scope } from "~/auth/scope";
 import type { AllocationPlan } from "~/compute/allocation";
-import { type Db, db } from "~/db.server";
+import { type Db, db, type Row } from "~/db.server";
 import type { RunParameters } from "~/schemas/allocation";
 import { buildProblem, type ProblemSnapshot } from "./allocation-problem.server";
 
@@ -34,7 +34,7 @@ export interface RunDetail extends RunRow {
   plan: AllocationPlan | null;
 }
 
-function toRow(r: Record<string, any>): RunRow {
+function toRow(r: Row): RunRow {
   return {
     id: r.id,
     label: r.label ?? null,

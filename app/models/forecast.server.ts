@@ -5,7 +5,7 @@ import type { Scope } from "~/auth/scope";
 import { MEASURE_DIRECTIONS } from "~/compute/features";
 import { forecastFromModel, type StoredModel } from "~/compute/forecast-explain";
 import { type ProgressUpdate, progressUpdate } from "~/compute/progress-update";
-import { type Db, db } from "~/db.server";
+import { type Db, db, type Row } from "~/db.server";
 import { type DeviceForecast, type WorkerForecast, workerForecastSchema } from "~/schemas/forecast";
 import type { TableQuery } from "~/schemas/table-query";
 import { latestConsent } from "./consent.server";
@@ -47,7 +47,10 @@ export async function baselineZScores(
       const cutoff = cutoffs?.get(r.worker_id);
       if (cutoff && String(r.assessed_on).slice(0, 10) > cutoff) continue;
       let m = out.get(r.worker_id);
-      if (!m) out.set(r.worker_id, (m = new Map()));
+      if (!m) {
+        m = new Map();
+        out.set(r.worker_id, m);
+      }
       m.set(r.measure_id, Number(r.z_score));
     }
   }
@@ -74,7 +77,7 @@ export async function loadApprovedModel(k: Db, deviceTypeId: number): Promise<Ap
   return v ? toApprovedModel(k, v) : null;
 }
 
-async function toApprovedModel(k: Db, v: Record<string, any>): Promise<ApprovedModel> {
+async function toApprovedModel(k: Db, v: Row): Promise<ApprovedModel> {
   const measureIds: number[] = JSON.parse(v.measure_ids);
   const codes: string[] = JSON.parse(v.measure_codes);
   const names = new Map(

@@ -1,7 +1,7 @@
 import type { Knex } from "knex";
 import type { Principal } from "~/auth/guard.server";
 import { appUrl } from "~/config.server";
-import { type Db, db } from "~/db.server";
+import { type Db, db, type Row } from "~/db.server";
 import { sendMail } from "~/mail.server";
 import type { ReviewRequestInput } from "~/schemas/portal";
 import { REVIEW_SUBJECT_LABELS } from "~/schemas/portal";
@@ -86,7 +86,7 @@ function base(k: Db) {
       "r.answered_at",
     );
 }
-function toRow(r: Record<string, any>): ReviewRow {
+function toRow(r: Row): ReviewRow {
   return {
     id: r.id,
     workerId: r.worker_id,

@@ -1,4 +1,4 @@
-import { type Db, db } from "~/db.server";
+import { type Db, db, type Row } from "~/db.server";
 import { wallClockIso } from "~/schemas/portal";
 import type { TrainerLogInput } from "~/schemas/session-log";
 import { adverseEventsFrom } from "~/schemas/session-log";
@@ -81,7 +81,7 @@ function sessionQuery(k: Db, trainerId: number) {
     );
 }
 
-function toSession(r: Record<string, any>): ScheduledSession {
+function toSession(r: Row): ScheduledSession {
   return {
     id: r.id,
     workerId: r.worker_id,
@@ -122,7 +122,7 @@ export function dayAndWeek(now: Date) {
 }
 
 /** The schedule view leaves out results (scores, practice time): those are read, and logged, on the session page. */
-function scheduleOnly(r: Record<string, any>): ScheduledSession {
+function scheduleOnly(r: Row): ScheduledSession {
   return { ...toSession(r), taskScore: null, durationHours: null };
 }
 

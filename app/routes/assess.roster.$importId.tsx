@@ -170,6 +170,7 @@ export default function RosterPreview({ loaderData }: Route.ComponentProps) {
                   >
                     <option value="">— not in the file —</option>
                     {d.headers.map((h, i) => (
+                      // biome-ignore lint/suspicious/noArrayIndexKey: the column index is the option's identity (it is also its value)
                       <option key={i} value={i}>
                         {h || `(column ${i + 1})`}
                         {d.sample[0]?.[i] ? ` — e.g. ${d.sample[0][i]}` : ""}

@@ -9,7 +9,7 @@ import type { Route } from "./+types/auth.callback";
 // and verifies the ID token. A provisioned person gets a brand-new session; anyone else gets none.
 export async function loader({ request }: Route.LoaderArgs) {
   const authenticator = await getAuthenticator();
-  let result;
+  let result: Awaited<ReturnType<typeof authenticator.authenticate>>;
   try {
     result = await authenticator.authenticate("oidc", request);
   } catch (e) {

@@ -281,6 +281,7 @@ function Progress({
   const fetcher = useFetcher<{ status: string; fraction: number; phase: string | null }>();
   const revalidator = useRevalidator();
   const current = fetcher.data ?? initial;
+  // biome-ignore lint/correctness/useExhaustiveDependencies: re-arms on each new status report and on the fetcher's state; fetcher and revalidator are new objects on every render and must not re-arm it.
   useEffect(() => {
     if (current.status === "done" || current.status === "failed") {
       if (revalidator.state === "idle") void revalidator.revalidate();
@@ -290,7 +291,7 @@ function Progress({
       if (fetcher.state === "idle") fetcher.load(`/coordinate/runs/${runId}/status`);
     }, 700);
     return () => clearTimeout(t);
-  }, [current.status, current.fraction, current.phase, fetcher.state]); // eslint-disable-line react-hooks/exhaustive-deps
+  }, [current.status, current.fraction, current.phase, fetcher.state]);
   return (
     <div className="card grid gap-2" aria-live="polite">
       <ProgressBar
@@ -517,6 +518,7 @@ export default function RunPage({ loaderData, actionData }: Route.ComponentProps
             {preview.unplaced.length > 0 && (
               <ul className="list-disc pl-5 text-sm">
                 {preview.unplaced.map((u, i) => (
+                  // biome-ignore lint/suspicious/noArrayIndexKey: a fixed list per preview, never reordered
                   <li key={i}>
                     {u.name}: {u.hours} h — {u.reason}
                   </li>

@@ -433,7 +433,11 @@ describe("API /api/v1/allocation-runs", () => {
     const res = await post(key, params);
     expect(res.status).toBe(202);
     const { id } = await res.json();
-    let body: any;
+    let body: {
+      status?: string;
+      parameters: { pool: { siteIds: number[] } };
+      result: { bound: number; objective: number; assignments: { workerId: number }[] };
+    } = { parameters: { pool: { siteIds: [] } }, result: { bound: 0, objective: 0, assignments: [] } };
     for (let i = 0; i < 600; i++) {
       body = await (
         await fetch(`${baseUrl()}/api/v1/allocation-runs/${id}`, { headers: { Authorization: `Bearer ${key}` } })

@@ -215,14 +215,14 @@ describe("department and site views published together", () => {
     expect(small).toBeGreaterThan(0); // the two paused Kitting workers at least
 
     // Every shown department number is the truth and not a small count.
-    dept.cells.forEach((line, i) =>
+    dept.cells.forEach((line, i) => {
       line.forEach((v, j) => {
         if (v !== null) {
           expect(v).toBe(counts[i][j]);
           expect(v === 0 || v >= THRESHOLD).toBe(true);
         }
-      }),
-    );
+      });
+    });
     const published = {
       detail: { ...dept, rows: dept.rows, threshold: THRESHOLD },
       parent: { ...site, threshold: THRESHOLD },

@@ -266,7 +266,7 @@ describe("hand-made instances with an answer found by hand", () => {
       { output_flag: false },
     );
     expect(relaxed.Status).toBe("Optimal");
-    const dual = Math.abs(relaxed.Rows.find((r: { Name: string }) => r.Name === "dev_0_0").Dual);
+    const dual = Math.abs(relaxed.Rows.find((r) => r.Name === "dev_0_0")!.Dual);
     expect(dual).toBeCloseTo(0.15, 9);
 
     const plan = await solveChecked(problem);

@@ -129,7 +129,9 @@ export function buildInstance(problem: AllocationProblem): Instance {
   });
 
   const groupMembers = groupIds.map(() => [] as number[]);
-  workers.forEach((w, i) => groupMembers[w.group].push(i));
+  workers.forEach((w, i) => {
+    groupMembers[w.group].push(i);
+  });
   const share = Math.min(1, Math.max(0, problem.minimumSharePerGroup ?? 0));
   const groupMinimum = groupMembers.map((m) => Math.floor(share * m.length + 1e-9));
 

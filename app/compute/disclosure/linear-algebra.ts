@@ -116,7 +116,10 @@ export function linearlyDetermined(hidden: HiddenSystem): number[] {
 /** Unknowns grouped by the equalities that connect them; independent groups are audited separately. */
 export function connectedGroups(hidden: HiddenSystem): { unknowns: number[]; rows: number[] }[] {
   const parent = hidden.unknowns.map((_, u) => u);
-  const find = (u: number): number => (parent[u] === u ? u : (parent[u] = find(parent[u])));
+  const find = (u: number): number => {
+    if (parent[u] !== u) parent[u] = find(parent[u]);
+    return parent[u];
+  };
   hidden.rows.forEach((row) => {
     let first = -1;
     row.forEach((c, u) => {

@@ -36,7 +36,9 @@ export function protectionSet(system: TableSystem, suppressed: boolean[], target
     }
   });
   const byEntry = new Map<number, number[]>();
-  columns.forEach((col, v) => byEntry.set(col.entry, [...(byEntry.get(col.entry) ?? []), v]));
+  columns.forEach((col, v) => {
+    byEntry.set(col.entry, [...(byEntry.get(col.entry) ?? []), v]);
+  });
   const rows: Float64Array[] = [];
   const rhs: number[] = [];
   for (const relation of system.relations) {
