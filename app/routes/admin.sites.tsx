@@ -105,7 +105,9 @@ export default function AdminSites({ loaderData }: Route.ComponentProps) {
                 defaultValue={s.timeZone}
                 error={errs(`siteZone-${s.id}`).timeZone}
               />
-              <button className="btn-quiet">Save zone</button>
+              <button type="submit" className="btn-quiet">
+                Save zone
+              </button>
             </Form>
           </section>
         ))}
@@ -126,7 +128,9 @@ export default function AdminSites({ loaderData }: Route.ComponentProps) {
             defaultValue={defaultZone}
             error={errs("orgZone").timeZone}
           />
-          <button className="btn-quiet">Save default</button>
+          <button type="submit" className="btn-quiet">
+            Save default
+          </button>
         </Form>
       </section>
       <div className="grid gap-4 md:grid-cols-2">
@@ -139,7 +143,9 @@ export default function AdminSites({ loaderData }: Route.ComponentProps) {
             <TextField name="code" label="Code" required error={errs("site").code} />
             <TextField name="name" label="Name" required error={errs("site").name} />
             <ZoneInput id="zone-new" label="Time zone" defaultValue={defaultZone} error={errs("site").timeZone} />
-            <button className="btn-primary justify-self-start">Add site</button>
+            <button type="submit" className="btn-primary justify-self-start">
+              Add site
+            </button>
           </Form>
         </section>
         <section className="card" aria-labelledby="add-dept">
@@ -157,7 +163,9 @@ export default function AdminSites({ loaderData }: Route.ComponentProps) {
             />
             <TextField name="code" label="Code" required error={errs("department").code} />
             <TextField name="name" label="Name" required error={errs("department").name} />
-            <button className="btn-primary justify-self-start">Add department</button>
+            <button type="submit" className="btn-primary justify-self-start">
+              Add department
+            </button>
           </Form>
         </section>
       </div>
