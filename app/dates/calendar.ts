@@ -152,7 +152,7 @@ export function dayAndWeekIn(zone: string, now: Instant | Date) {
   const today = dateIn(now, zone);
   const monday = weekStart(today);
   return {
-    today,
+    date: today,
     dayStart: startOfDay(today),
     dayEnd: startOfDay(addDays(today, 1)),
     weekStart: startOfDay(monday),

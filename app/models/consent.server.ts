@@ -2,6 +2,7 @@ import type { Knex } from "knex";
 import { type Db, db } from "~/db.server";
 import { CONSENT_PURPOSES, type ConsentPurpose } from "./consent-texts.server";
 import { eraseForecasts } from "./forecast.server";
+import { workerWallClockAt } from "./sites.server";
 
 // Consent per purpose (DESIGN §4): recorded against the text version in force, witnessed by an
 // assessor, with history. Withdrawal is the ONE place where a worker's identifiable data are erased:
@@ -268,7 +269,8 @@ export async function erasePlanEntries(
   const n = Number(
     await trx("training_sessions")
       .where({ worker_id: workerId, status: "scheduled" })
-      .where("scheduled_start", ">=", at)
+      // Session times are wall-clock times of the worker's site: "from now" on that clock.
+      .where("scheduled_start", ">=", await workerWallClockAt(workerId, now, trx))
       .update({
         status: "cancelled",
         notes: "Cancelled: the worker withdrew consent.",

@@ -77,3 +77,20 @@ export async function viewerTimeZone(p: Principal, k: Db = db()): Promise<string
   }
   return organisationTimeZone(k);
 }
+
+/** Every site's zone by site id. */
+export async function siteTimeZones(k: Db = db()): Promise<Map<number, string>> {
+  return new Map((await k("sites").select("id", "time_zone")).map((r) => [r.id as number, r.time_zone as string]));
+}
+
+/** The zone of each worker's site, by worker id. */
+export async function workerTimeZones(workerIds: number[], k: Db = db()): Promise<Map<number, string>> {
+  const out = new Map<number, string>();
+  for (let i = 0; i < workerIds.length; i += 500)
+    for (const r of await k("workers as w")
+      .join("sites as s", "s.id", "w.site_id")
+      .whereIn("w.id", workerIds.slice(i, i + 500))
+      .select("w.id", "s.time_zone"))
+      out.set(r.id, r.time_zone);
+  return out;
+}

@@ -1,5 +1,7 @@
 import { data, Form, useActionData, useNavigation } from "react-router";
 import { FormError, Notice } from "~/components/fields";
+import { formatInstantDay } from "~/dates";
+import { workerTimeZone } from "~/models/sites.server";
 import {
   ConsentInputError,
   dropFromPlans,
@@ -10,7 +12,7 @@ import {
 } from "~/models/self-service.server";
 import { PURPOSE_LABELS } from "~/schemas/consent";
 import { formToObject, parseWith } from "~/schemas/form";
-import { CONSENT_PURPOSE_VALUES, formatDay, giveOwnConsentSchema, withdrawOwnConsentSchema } from "~/schemas/portal";
+import { CONSENT_PURPOSE_VALUES, giveOwnConsentSchema, withdrawOwnConsentSchema } from "~/schemas/portal";
 import type { Route } from "./+types/me.consent";
 import { requireOwnWorker } from "./me.guard.server";
 
@@ -29,7 +31,7 @@ export async function loader({ request }: Route.LoaderArgs) {
   const c = await myConsent(workerId);
   // A withdrawal whose plan removal did not finish is completed here (dropFromPlans is idempotent).
   if (await plansNeedDropping(workerId)) await dropFromPlans(workerId, null);
-  return c;
+  return { ...c, timeZone: await workerTimeZone(workerId) };
 }
 
 export async function action({ request }: Route.ActionArgs) {
@@ -63,7 +65,8 @@ export async function action({ request }: Route.ActionArgs) {
 }
 
 export default function MyConsent({ loaderData }: Route.ComponentProps) {
-  const { texts, state, history } = loaderData;
+  const { texts, state, history, timeZone } = loaderData;
+  const formatDay = (at: string) => formatInstantDay(at, timeZone);
   const result = useActionData<typeof action>();
   const nav = useNavigation();
   const busy = nav.state === "submitting";

@@ -103,7 +103,7 @@ describe("time zones", () => {
     expect(dateIn(at, "America/New_York")).toBe("2026-12-06");
     const berlin = dayAndWeekIn("Europe/Berlin", at);
     expect(berlin).toEqual({
-      today: "2026-12-07",
+      date: "2026-12-07",
       dayStart: "2026-12-07T00:00:00",
       dayEnd: "2026-12-08T00:00:00",
       weekStart: "2026-12-07T00:00:00",
