@@ -61,7 +61,10 @@ function withZones(ics: string, sessions: CalendarSession[]): string {
     ...events.map((e, i) => {
       const zone = sessions[i].timeZone;
       if (zone === "UTC") return e;
-      return e.replace(/^(DTSTART|DTEND):(\d{8}T\d{6})Z\r?$/gm, (_m, prop, digits) => `${prop};TZID=${zone}:${digits}\r`);
+      return e.replace(
+        /^(DTSTART|DTEND):(\d{8}T\d{6})Z\r?$/gm,
+        (_m, prop, digits) => `${prop};TZID=${zone}:${digits}\r`,
+      );
     }),
   ].join("BEGIN:VEVENT");
 }

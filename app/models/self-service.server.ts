@@ -106,7 +106,11 @@ export async function mySessions(
     )
     .orderBy("ts.scheduled_start");
   if (!opts.includePast)
-    q.where("ts.status", "scheduled").where("ts.scheduled_start", ">=", instantToWallClock(opts.from ?? new Date(), timeZone));
+    q.where("ts.status", "scheduled").where(
+      "ts.scheduled_start",
+      ">=",
+      instantToWallClock(opts.from ?? new Date(), timeZone),
+    );
   else q.whereNot("ts.status", "cancelled");
   if (opts.limit) q.limit(opts.limit);
   return (await q).map((r) => ({

@@ -123,7 +123,10 @@ function scheduleOnly(r: Record<string, any>): ScheduledSession {
  * earlier scheduled sessions still waiting to be logged.
  */
 export async function trainerDay(trainerId: number, now: Instant | Date = new Date(), k: Db = db()) {
-  const site = await k("trainers as t").join("sites as s", "s.id", "t.site_id").where("t.id", trainerId).first("s.time_zone");
+  const site = await k("trainers as t")
+    .join("sites as s", "s.id", "t.site_id")
+    .where("t.id", trainerId)
+    .first("s.time_zone");
   const timeZone: string = site.time_zone;
   const w = { ...dayAndWeekIn(timeZone, now), timeZone };
   const week = (

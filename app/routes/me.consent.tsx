@@ -1,7 +1,6 @@
 import { data, Form, useActionData, useNavigation } from "react-router";
 import { FormError, Notice } from "~/components/fields";
 import { formatInstantDay } from "~/dates";
-import { workerTimeZone } from "~/models/sites.server";
 import {
   ConsentInputError,
   dropFromPlans,
@@ -10,6 +9,7 @@ import {
   plansNeedDropping,
   withdrawOwnConsent,
 } from "~/models/self-service.server";
+import { workerTimeZone } from "~/models/sites.server";
 import { PURPOSE_LABELS } from "~/schemas/consent";
 import { formToObject, parseWith } from "~/schemas/form";
 import { CONSENT_PURPOSE_VALUES, giveOwnConsentSchema, withdrawOwnConsentSchema } from "~/schemas/portal";

@@ -1,5 +1,5 @@
-import { accessLogForWorker } from "~/models/access-log.server";
 import { formatInstant } from "~/dates";
+import { accessLogForWorker } from "~/models/access-log.server";
 import { workerTimeZone } from "~/models/sites.server";
 import type { Route } from "./+types/me.record";
 import { requireOwnWorker } from "./me.guard.server";
@@ -72,9 +72,7 @@ export default function MyRecord({ loaderData }: Route.ComponentProps) {
             )}
             {log.map((r, i) => (
               <tr key={i}>
-                <td>
-                  {formatInstant(r.at, timeZone)}
-                </td>
+                <td>{formatInstant(r.at, timeZone)}</td>
                 <td>{r.who}</td>
                 <td>{r.role ?? ""}</td>
                 <td>

@@ -24,7 +24,10 @@ const localDateTime = (label: string) =>
     .transform((s) => wallClock(s))
     .refine(realWallClock, `${label}: that is not a real date and time.`);
 const realWallClock = (w: string) =>
-  isIsoDate(w.slice(0, 10)) && Number(w.slice(11, 13)) < 24 && Number(w.slice(14, 16)) < 60 && Number(w.slice(17, 19)) < 60;
+  isIsoDate(w.slice(0, 10)) &&
+  Number(w.slice(11, 13)) < 24 &&
+  Number(w.slice(14, 16)) < 60 &&
+  Number(w.slice(17, 19)) < 60;
 
 const severityField = z.preprocess(
   (v) => (v === "" || v === "none" || v == null ? undefined : v),

@@ -222,7 +222,8 @@ describe("the worker home", () => {
     expect(html).toContain("09:30–10:30");
     expect(html).toContain("14:15–15:00");
     const ics = await (await client.request("/me/calendar.ics")).text();
-    expect(ics).toContain(`DTSTART:${day2.replace(/-/g, "")}T141500`);
+    // The demo sites keep UK time: the calendar names the zone beside the wall-clock digits.
+    expect(ics).toContain(`DTSTART;TZID=Europe/London:${day2.replace(/-/g, "")}T141500`);
     expect(html).toContain("Foot-driven supernumerary finger");
     expect(html).toContain("Trainer: Ines Calloway");
     expect(html).toContain(
