@@ -34,7 +34,7 @@ beforeAll(async () => {
   await k("allocation_runs").insert({
     id: RUN_ID,
     label: "site time zone test plan",
-    parameters: "{}",
+    parameters: JSON.stringify({ pool: { siteIds: [siteId], departmentIds: [] } }),
     status: "done",
     created_at: "2026-12-01T00:00:00.000Z",
     published_at: "2026-12-01T00:00:00.000Z",
