@@ -55,7 +55,13 @@ test("a worker sees their plan, downloads their data, withdraws planning consent
   );
   const data = JSON.parse(fs.readFileSync(await json.path(), "utf8"));
   expect(data.worker.employeeNumber).toBe(me.employeeNumber);
-  expect(data.sessions.some((x: { scheduledStart: string }) => x.scheduledStart === start.toISOString())).toBe(true);
+  // Session times are the site's wall-clock times, exported without a zone and with the site's zone named.
+  expect(
+    data.sessions.some(
+      (x: { scheduledStart: string; timeZone: string }) =>
+        x.scheduledStart === start.toISOString().slice(0, 19) && x.timeZone === "Europe/London",
+    ),
+  ).toBe(true);
   expect(new Set(JSON.stringify(data).match(/HV-\d{5}/g))).toEqual(new Set([me.employeeNumber]));
   const [xlsx] = await Promise.all([
     page.waitForEvent("download"),
