@@ -12,3 +12,4 @@ export const todayIn = (zone: string, now: Instant | Date = new Date()): IsoDate
 /** The wall-clock time now in a zone. */
 export const wallClockNow = (zone: string, now: Instant | Date = new Date()): WallClock =>
   instantToWallClock(now, zone);
+export * from "./ical";

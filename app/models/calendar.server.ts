@@ -1,12 +1,13 @@
 import { createEvents, type EventAttributes } from "ics";
+import { vtimezoneLines } from "~/dates";
 
 // Calendar files (.ics) for published training sessions (issue 5). Times are the site's wall-clock times,
 // written with the site's zone (DTSTART;TZID=Europe/Berlin:20261207T090000) so a calendar in another zone
 // shows the right moment; a UTC site gets plain UTC times. A UID is made from what the session is (person,
 // day, time, device), so an unchanged session keeps its UID across republishing.
-// The ics package writes no TZID parameter and no VTIMEZONE: it writes each time as UTC digits (from the
-// wall-clock fields, never through the server's zone) and the TZID is put in afterwards. The IANA name is not
-// backed by a VTIMEZONE block; common calendar clients (and RFC 7809's zone-by-reference practice) resolve it.
+// The ics package writes neither TZID parameters nor VTIMEZONE blocks: it writes each time as UTC digits (from
+// the wall-clock fields, never through the server's zone); the TZID and one VTIMEZONE per zone (offsets from
+// the IANA tz database over the span of the file's events, app/dates/ical.ts) are put in afterwards.
 
 export interface CalendarSession {
   uid: string;
@@ -52,12 +53,30 @@ export function icsFile(sessions: CalendarSession[], options: { calName: string;
   return withZones(value, sessions);
 }
 
-/** Turns each event's UTC-digit DTSTART/DTEND into its site's wall-clock time with TZID (UTC sites keep Z). */
+/**
+ * Turns each event's UTC-digit DTSTART/DTEND into its site's wall-clock time with TZID (UTC sites keep Z), and
+ * adds a VTIMEZONE for each zone named.
+ */
 function withZones(ics: string, sessions: CalendarSession[]): string {
   const [head, ...events] = ics.split("BEGIN:VEVENT");
   if (events.length !== sessions.length) throw new Error("Could not write the calendar file: event count differs.");
+  const spans = new Map<string, { from: string; to: string }>();
+  for (const s of sessions) {
+    if (s.timeZone === "UTC") continue;
+    const span = spans.get(s.timeZone);
+    if (!span) spans.set(s.timeZone, { from: s.date, to: s.date });
+    else {
+      if (s.date < span.from) span.from = s.date;
+      if (s.date > span.to) span.to = s.date;
+    }
+  }
+  const zones = [...spans]
+    .sort(([a], [b]) => a.localeCompare(b))
+    .flatMap(([zone, span]) => vtimezoneLines(zone, span.from, span.to))
+    .map((line) => `${line}\r\n`)
+    .join("");
   return [
-    head,
+    `${head}${zones}`,
     ...events.map((e, i) => {
       const zone = sessions[i].timeZone;
       if (zone === "UTC") return e;

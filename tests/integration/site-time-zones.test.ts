@@ -97,6 +97,7 @@ describe("site time zones", () => {
     expect(ics).toContain(`DTSTART;TZID=${BERLIN}:${compact}T090000`);
     expect(ics).toContain(`DTEND;TZID=${BERLIN}:${compact}T100000`);
     expect(ics).not.toContain(`DTSTART:${compact}T090000`);
+    expect(ics).toContain(`BEGIN:VTIMEZONE\r\nTZID:${BERLIN}\r\n`);
 
     // Coordinator: the XLSX schedule row says 09:00 and names the zone.
     const { client: coordinator } = await signIn(PERSONA.coordinator);

@@ -16,12 +16,14 @@ import {
   isoWeekday,
   isTimeZone,
   todayIn,
+  vtimezoneLines,
   wallClock,
   wallClockExists,
   wallClockToInstant,
   weekEnd,
   weekStart,
 } from "~/dates";
+import { icsFile } from "~/models/calendar.server";
 
 describe("calendar days", () => {
   it("adds days and weeks across month, leap-day and year ends", () => {
@@ -141,5 +143,61 @@ describe("display", () => {
     expect(formatInstant("2026-07-06T07:00:00Z", "Europe/Berlin")).toBe("6 Jul 2026, 09:00 CEST");
     expect(formatInstant("2026-07-06T08:00:00Z", "Europe/London")).toBe("6 Jul 2026, 09:00 BST");
     expect(formatInstant("2026-12-07T08:00:00Z", "UTC")).toBe("7 Dec 2026, 08:00 UTC");
+  });
+});
+
+describe("calendar files", () => {
+  it("a VTIMEZONE for Europe/Berlin in 2026 has the March and October changes", () => {
+    // RFC 5545 §3.6.5: each observance starts at the local time before the change; dates from the IANA tz
+    // database (01:00 UTC on the last Sundays of March and October).
+    expect(vtimezoneLines("Europe/Berlin", "2026-03-01", "2026-12-31")).toEqual([
+      "BEGIN:VTIMEZONE",
+      "TZID:Europe/Berlin",
+      "BEGIN:STANDARD",
+      "DTSTART:20260301T000000",
+      "TZOFFSETFROM:+0100",
+      "TZOFFSETTO:+0100",
+      "END:STANDARD",
+      "BEGIN:DAYLIGHT",
+      "DTSTART:20260329T020000",
+      "TZOFFSETFROM:+0100",
+      "TZOFFSETTO:+0200",
+      "END:DAYLIGHT",
+      "BEGIN:STANDARD",
+      "DTSTART:20261025T030000",
+      "TZOFFSETFROM:+0200",
+      "TZOFFSETTO:+0100",
+      "END:STANDARD",
+      "END:VTIMEZONE",
+    ]);
+    // A zone without summer time (IANA: Asia/Kolkata is UTC+05:30 all year) has one observance.
+    expect(vtimezoneLines("Asia/Kolkata", "2026-01-01", "2026-12-31")).toEqual([
+      "BEGIN:VTIMEZONE",
+      "TZID:Asia/Kolkata",
+      "BEGIN:STANDARD",
+      "DTSTART:20260101T000000",
+      "TZOFFSETFROM:+0530",
+      "TZOFFSETTO:+0530",
+      "END:STANDARD",
+      "END:VTIMEZONE",
+    ]);
+  });
+
+  it("events carry the site's zone as TZID with a VTIMEZONE; UTC sites keep UTC times", () => {
+    const base = { title: "Device training", description: "", location: "North Yard" };
+    const ics = icsFile(
+      [
+        { ...base, uid: "a@limberly", date: "2026-12-07", start: "09:00", end: "10:00", timeZone: "Europe/Berlin" },
+        { ...base, uid: "b@limberly", date: "2026-12-08", start: "09:00", end: "09:45", timeZone: "UTC" },
+      ],
+      { calName: "Test" },
+    );
+    expect(ics).toContain("DTSTART;TZID=Europe/Berlin:20261207T090000\r\n");
+    expect(ics).toContain("DTEND;TZID=Europe/Berlin:20261207T100000\r\n");
+    expect(ics).toContain("DTSTART:20261208T090000Z\r\n");
+    expect(ics).toContain("DTEND:20261208T094500Z\r\n");
+    expect(ics.indexOf("BEGIN:VTIMEZONE\r\nTZID:Europe/Berlin\r\n")).toBeGreaterThan(0);
+    expect(ics.indexOf("END:VTIMEZONE")).toBeLessThan(ics.indexOf("BEGIN:VEVENT"));
+    expect(ics).not.toContain("TZID:UTC");
   });
 });
