@@ -91,6 +91,9 @@ describe("site time zones", () => {
     const mine = plan.sessions.find((s: { id: number }) => s.id === sessionId);
     expect(mine).toMatchObject({ start: `${day}T09:00:00`, end: `${day}T10:00:00`, timeZone: BERLIN });
 
+    // Worker: the home page says whose clock the times are on.
+    expect((await (await worker.request("/me")).text()).replace(/<!-- -->/g, "")).toContain(`Times are ${BERLIN} time`);
+
     // Worker: the calendar file names the zone; the wall-clock digits are unchanged.
     const ics = await (await worker.request("/me/calendar.ics")).text();
     const compact = day.replace(/-/g, "");
