@@ -43,7 +43,10 @@ async function portalAccount(i: 0 | 1) {
 }
 const hoursFromNow = (h: number) => new Date(Date.now() + h * 3_600_000).toISOString();
 
-/** A start `hoursAgo` before now, but never before this week's Monday 00:00 UTC (the trainer's week view). */
+/**
+ * A start `hoursAgo` before now, but never before this week's Monday 00:00 (UTC digits, stored as the site's
+ * wall-clock time: inside the trainer's week on the demo's UK clock, which is UTC or an hour ahead).
+ */
 function startThisWeek(hoursAgo: number): Date {
   const now = new Date();
   const monday = new Date(
