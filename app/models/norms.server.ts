@@ -1,5 +1,8 @@
 import { sampleStandardDeviation, mean as ssMean } from "simple-statistics";
+import type { Scope } from "~/auth/scope";
+import { todayIn } from "~/dates";
 import { type Db, db } from "~/db.server";
+import { organisationTimeZone } from "./sites.server";
 
 // Norm sets (docs/methods.md): mean and SD per measure, cohort-derived or entered from a published table,
 // with source and date. Every stored z-score records which norm set it used.
@@ -130,7 +133,7 @@ export async function createCohortNormSet(
       throw new NormInputError(
         `No measure has first baselines from at least ${MIN_COHORT_N} consented workers at ${input.siteLabel} yet.`,
       );
-    const today = new Date().toISOString().slice(0, 10);
+    const today = todayIn(await organisationTimeZone(trx));
     const [r] = await trx("norm_sets")
       .insert({
         name: input.name,

@@ -5,6 +5,7 @@ import ExcelJS from "exceljs";
 import type { Knex } from "knex";
 import type { Principal } from "~/auth/guard.server";
 import type { Scope } from "~/auth/scope";
+import { dateIn } from "~/dates";
 import { type Db, db } from "~/db.server";
 import {
   guessMapping,
@@ -33,7 +34,8 @@ export interface RosterTable {
 
 function cellText(v: ExcelJS.CellValue): string {
   if (v == null) return "";
-  if (v instanceof Date) return v.toISOString().slice(0, 10);
+  // Spreadsheet date cells come back as Dates at UTC midnight of the day typed.
+  if (v instanceof Date) return dateIn(v, "UTC");
   if (typeof v === "object") {
     if ("richText" in v) return v.richText.map((t) => t.text).join("");
     if ("text" in v) return String((v as { text: unknown }).text ?? "");
