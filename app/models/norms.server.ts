@@ -1,5 +1,4 @@
 import { sampleStandardDeviation, mean as ssMean } from "simple-statistics";
-import type { Scope } from "~/auth/scope";
 import { todayIn } from "~/dates";
 import { type Db, db } from "~/db.server";
 import { organisationTimeZone } from "./sites.server";

@@ -1,6 +1,6 @@
 import type { Principal } from "~/auth/guard.server";
 import { appUrl } from "~/config.server";
-import { type Instant, instantToWallClock, nowInstant, todayIn, wallClock } from "~/dates";
+import { type Instant, instantToWallClock, todayIn, wallClock } from "~/dates";
 import { type Db, db } from "~/db.server";
 import { sendMail } from "~/mail.server";
 import { roleEmailsCovering } from "./adverse-events.server";
