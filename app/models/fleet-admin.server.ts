@@ -63,8 +63,8 @@ export async function fleetAdminView(scope: Scope) {
           .filter((w) => w.device_unit_id === u.id)
           .map((w) => ({
             id: w.id as number,
-            startsOn: String(w.starts_on).slice(0, 10),
-            endsOn: String(w.ends_on).slice(0, 10),
+            startsOn: w.starts_on as string,
+            endsOn: w.ends_on as string,
             reason: (w.reason as string) ?? "",
           })),
       })),
@@ -86,13 +86,11 @@ export async function updateDeviceType(
   id: number,
   v: { wearTimeLimitMinutes: number; defaultMaxHoursPerWeek: number; fitRules: string | null },
 ) {
-  const n = await db()("device_types")
-    .where({ id })
-    .update({
-      wear_time_limit_minutes: v.wearTimeLimitMinutes,
-      default_max_hours_per_week: v.defaultMaxHoursPerWeek,
-      fit_rules: v.fitRules,
-    });
+  const n = await db()("device_types").where({ id }).update({
+    wear_time_limit_minutes: v.wearTimeLimitMinutes,
+    default_max_hours_per_week: v.defaultMaxHoursPerWeek,
+    fit_rules: v.fitRules,
+  });
   if (!n) throw new FleetError("No such device type.");
 }
 

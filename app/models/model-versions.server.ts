@@ -84,7 +84,7 @@ export async function buildCohort(deviceTypeId: number, measureIds: number[], k:
     eligible.push(c);
   }
   const cutoffs = new Map<number, string | null>(
-    eligible.map((c) => [c.worker_id, c.started_on ? String(c.started_on).slice(0, 10) : null]),
+    eligible.map((c) => [c.worker_id, c.started_on ? (c.started_on as string) : null]),
   );
   const baselines = await baselineZScores(
     k,
