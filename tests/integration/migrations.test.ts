@@ -54,4 +54,71 @@ describe("migrations", () => {
       await fresh.drop();
     }
   });
+
+  it("keeps stored values when measures become doubles and session times become wall-clock", async () => {
+    const fresh = await freshDatabase("mig_values");
+    const k = fresh.knex;
+    try {
+      const names = await migrationSource.getMigrations([]);
+      const target = names.indexOf("20261203000100_doubles_and_wall_clock_sessions.ts");
+      expect(target).toBeGreaterThan(0);
+      for (let i = 0; i < target; i++) await k.migrate.up({ migrationSource });
+      const at = "2026-11-30T09:00:00.000Z";
+      const [org] = await k("organisations").insert({ name: "Probe", created_at: at }).returning("id");
+      const [site] = await k("sites")
+        .insert({ organisation_id: org.id, code: "P", name: "P", created_at: at })
+        .returning("id");
+      const [dept] = await k("departments")
+        .insert({ site_id: site.id, code: "D", name: "D", created_at: at })
+        .returning("id");
+      const [worker] = await k("workers")
+        .insert({
+          employee_number: "P1",
+          given_name: "A",
+          family_name: "B",
+          site_id: site.id,
+          department_id: dept.id,
+          created_at: at,
+          updated_at: at,
+        })
+        .returning("id");
+      const [dt] = await k("device_types")
+        .insert({ code: "p", name: "Probe", category: "exoskeleton", created_at: at })
+        .returning("id");
+      // A logged session (written with "Z") and a published one (written without zone, as publishing does;
+      // the PostgreSQL test cluster runs in Europe/Berlin, so a zone-less write lands an hour off as an instant).
+      await k("training_sessions").insert([
+        {
+          worker_id: worker.id,
+          device_type_id: dt.id,
+          scheduled_start: "2026-12-07T09:00:00.000Z",
+          scheduled_end: "2026-12-07T09:45:00.000Z",
+          duration_hours: 0.1,
+          created_at: at,
+        },
+        {
+          worker_id: worker.id,
+          device_type_id: dt.id,
+          allocation_run_id: 1,
+          scheduled_start: "2026-12-08T14:00:00",
+          scheduled_end: "2026-12-08T14:45:00",
+          created_at: at,
+        },
+      ]);
+      await k.migrate.latest({ migrationSource });
+      // The column default (0.8) and a stored value (0.1) read back as the decimals they were, not as widened reals.
+      expect(await k("organisations").first("planning_quantile", "created_at")).toEqual({
+        planning_quantile: 0.8,
+        created_at: at,
+      });
+      expect(
+        await k("training_sessions").select("scheduled_start", "scheduled_end", "duration_hours").orderBy("id"),
+      ).toEqual([
+        { scheduled_start: "2026-12-07T09:00:00", scheduled_end: "2026-12-07T09:45:00", duration_hours: 0.1 },
+        { scheduled_start: "2026-12-08T14:00:00", scheduled_end: "2026-12-08T14:45:00", duration_hours: null },
+      ]);
+    } finally {
+      await fresh.drop();
+    }
+  });
 });
