@@ -347,7 +347,7 @@ export async function driftByVersion(k: Db = db()): Promise<Map<number, DriftSta
     const a = acc.get(r.model_version_id) ?? { n: 0, abs: 0, covered: 0 };
     a.n++;
     a.abs += Math.abs(Number(r.actual_hours) - Number(r.forecast_median_hours));
-    if (r.covered === true || Number(r.covered) === 1) a.covered++;
+    if (r.covered) a.covered++; // 1 on SQLite, true on PostgreSQL
     acc.set(r.model_version_id, a);
   }
   const out = new Map<number, DriftStats>();
