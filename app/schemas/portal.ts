@@ -57,7 +57,7 @@ export const reviewAnswerSchema = z.object({
 // SEAM: the day boundaries of "today" and "this week" use UTC, i.e. they assume the site clock is UTC (as for
 // the invented demo sites); a per-site time zone would change only wallClockIso and the bounds.
 export function wallClockIso(v: unknown): string {
-  const s = v instanceof Date ? v.toISOString() : String(v);
+  const s = String(v); // text on both engines (see knexfile.ts)
   return /(Z|[+-]\d\d:?\d\d)$/.test(s)
     ? new Date(s).toISOString()
     : new Date(`${s.length === 16 ? `${s}:00` : s}Z`).toISOString();
