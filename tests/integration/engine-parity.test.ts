@@ -9,6 +9,7 @@ import { buildProblem } from "~/models/allocation-problem.server";
 import { buildCohort } from "~/models/model-versions.server";
 import { readinessBoard } from "~/models/readiness.server";
 import { reliabilityByMeasure } from "~/models/reliability-report.server";
+import { everythingAbout, exportSheets, myCalendar } from "~/models/worker-export.server";
 import { runParametersSchema } from "~/schemas/allocation";
 import { startPostgres, type ThrowawayPostgres } from "../../scripts/postgres";
 import { freshDatabase } from "./helpers";
@@ -17,6 +18,7 @@ import { freshDatabase } from "./helpers";
 // wall-clock times, numbers) and the order of every list the computations read are engine-independent.
 // The reference is the other engine: every number below is compared between the two databases.
 // Runs in the PostgreSQL pass of `npm test` (that pass's cluster); run alone on SQLite it starts its own cluster.
+// Publish diffs (who is e-mailed on republishing) are checked on each engine by allocation.test.ts.
 
 const root = path.resolve(__dirname, "../..");
 const run = promisify(execFile);
@@ -171,12 +173,32 @@ describe("SQLite and PostgreSQL give the same numbers for the same demo", () => 
   });
 
   it("show the same readiness medians and retest reliability", async () => {
-    const [ma, mb] = await both((k) => onDb(k, async () => (await readinessBoard(everywhere)).medians));
-    expect(ma.status).toBe("ok");
-    expectSame(ma, mb, "medians");
+    const [ba, bb] = await both((k) => onDb(k, () => readinessBoard(everywhere)));
+    expect(ba.medians.status).toBe("ok");
+    expectSame(ba.medians, bb.medians, "medians");
+    expectSame(ba.planned, bb.planned, "planned ready weeks");
+    expectSame(ba.ready, bb.ready, "ready");
     const [ra, rb] = await both((k) => reliabilityByMeasure(k));
     expect(ra.some((m) => (m.n ?? 0) > 0)).toBe(true);
     expectSame(ra, rb, "reliability");
+  });
+
+  it("export the same record and calendar for a worker", async () => {
+    const [ea, eb] = await both((k) =>
+      onDb(k, async () => {
+        const w = await k("workers").where({ employee_number: "HV-00001" }).first("id");
+        const about = await everythingAbout(w.id);
+        if (!about) throw new Error("HV-00001 is in the demo");
+        const { generatedAt: _, ...record } = about;
+        const sheets = exportSheets({ ...record, generatedAt: "fixed" });
+        const ics = (await myCalendar(w.id, new Date("2026-12-01T00:00:00Z"))).replace(/^DTSTAMP:.*$/gm, "");
+        return { record, sheets, ics };
+      }),
+    );
+    expect(ea.record.sessions.length).toBeGreaterThan(0);
+    expect(ea.ics).toContain("BEGIN:VEVENT");
+    expect(JSON.stringify(ea.record)).not.toMatch(/GMT|Coordinated Universal Time/);
+    expectSame(ea, eb, "worker export");
   });
 
   it("build the same allocation problem and solve it to the same plan", async () => {
