@@ -34,7 +34,7 @@ export async function listNormSets(k: Db = db()): Promise<NormSet[]> {
     name: s.name,
     origin: s.origin,
     source: s.source,
-    sourceDate: String(s.source_date).slice(0, 10),
+    sourceDate: s.source_date as string,
     createdBy: s.creator ?? null,
     createdAt: String(s.created_at),
     values: values

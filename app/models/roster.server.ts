@@ -416,6 +416,7 @@ export function listWorkers(scope: Scope, q: TableQuery, filters: { site?: strin
       lastBaseline: "last_on",
     },
     "employeeNumber",
+    "workers.id",
     (r): WorkerListRow => ({
       id: r.id as number,
       employeeNumber: r.employee_number as string,
@@ -423,7 +424,7 @@ export function listWorkers(scope: Scope, q: TableQuery, filters: { site?: strin
       site: r.site as string,
       department: r.department as string,
       stage: r.stage as string,
-      lastBaseline: r.last_on ? String(r.last_on).slice(0, 10) : null,
+      lastBaseline: r.last_on ? (r.last_on as string) : null,
       consent: null,
     }),
   ).then(async (page) => {

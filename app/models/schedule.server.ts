@@ -50,7 +50,12 @@ export async function publishedSchedule(scope: Scope, limit = 20_000): Promise<S
       "u.serial",
       "tu.display_name as trainer",
     )
-    .orderBy([{ column: "s.scheduled_start" }, { column: "tu.display_name" }, { column: "workers.employee_number" }])
+    .orderBy([
+      { column: "s.scheduled_start" },
+      { column: "tu.display_name" },
+      { column: "workers.employee_number" },
+      { column: "s.id" },
+    ])
     .limit(limit);
   whereWorkerInScope(q, scope);
   return (await q).map((r) => {

@@ -62,8 +62,8 @@ export async function trainerList(scope: Scope) {
       .filter((l) => l.trainer_id === r.id)
       .map((l) => ({
         id: l.id as number,
-        startsOn: String(l.starts_on).slice(0, 10),
-        endsOn: String(l.ends_on).slice(0, 10),
+        startsOn: l.starts_on as string,
+        endsOn: l.ends_on as string,
         reason: (l.reason as string) ?? "",
       })),
   }));
@@ -209,6 +209,7 @@ export function traineeTable(scope: Scope, q: TableQuery) {
       stage: "workers.stage",
     },
     "worker",
+    "workers.id",
     (r): TraineeRow => ({
       workerId: r.id as number,
       employeeNumber: r.employee_number as string,
@@ -258,7 +259,7 @@ export async function traineeDetail(scope: Scope, workerId: number) {
     .whereNotNull("s.allocation_run_id")
     .where("s.status", "scheduled")
     .select("s.scheduled_start", "s.scheduled_end", "t.name as device", "u.serial", "tu.display_name as trainer")
-    .orderBy("s.scheduled_start");
+    .orderBy(["s.scheduled_start", "s.id"]);
   return {
     workerId: w.id as number,
     employeeNumber: w.employee_number as string,
@@ -271,8 +272,8 @@ export async function traineeDetail(scope: Scope, workerId: number) {
     priorityReason: (f?.priority_reason as string) ?? null,
     leave: leave.map((l) => ({
       id: l.id as number,
-      startsOn: String(l.starts_on).slice(0, 10),
-      endsOn: String(l.ends_on).slice(0, 10),
+      startsOn: l.starts_on as string,
+      endsOn: l.ends_on as string,
       reason: (l.reason as string) ?? "",
     })),
     sessions: sessions.map((s) => ({

@@ -172,7 +172,7 @@ export async function everythingAbout(workerId: number) {
       recordedBy: c.recorded_by ?? null,
     })),
     assessments: assessments.map((a) => ({
-      assessedOn: String(a.assessed_on).slice(0, 10),
+      assessedOn: a.assessed_on as string,
       assessor: a.assessor ?? null,
       notes: a.notes ?? null,
       results: results
@@ -219,7 +219,7 @@ export async function everythingAbout(workerId: number) {
       forecastLowerHours: Number(o.forecast_lower_hours),
       forecastUpperHours: Number(o.forecast_upper_hours),
       actualHours: Number(o.actual_hours),
-      reachedOn: String(o.reached_on).slice(0, 10),
+      reachedOn: o.reached_on as string,
     })),
     courses: courses.map((c) => ({
       deviceType: c.device_type,
