@@ -135,7 +135,9 @@ export function planningFigureCoverage(courses: PlannedCourse[], options?: Calib
   const followedToFigure = ratio.some((u) => u >= 1);
   if (!finished.some(Boolean)) {
     // Nobody has finished: the share within the figure is 0 if someone has been followed past it.
-    return followedToFigure ? { ...base, coverage: 0, standardError: 0 } : { ...base, coverage: null, standardError: null };
+    return followedToFigure
+      ? { ...base, coverage: 0, standardError: 0 }
+      : { ...base, coverage: null, standardError: null };
   }
   const km = kaplanMeier(ratio, finished);
   let survival = 1;

@@ -134,9 +134,7 @@ function independentLogLikelihood(x: number[][], time: number[], event: boolean[
     let mean = params[0];
     for (let j = 1; j < p; j++) mean += params[j] * x[i][j - 1];
     const z = (Math.log(time[i]) - mean) / sigma;
-    total += event[i]
-      ? -0.5 * z * z - 0.5 * Math.log(2 * Math.PI) - Math.log(sigma)
-      : Math.log(normalCdf(-z)); // fine for the moderate z of these cohorts
+    total += event[i] ? -0.5 * z * z - 0.5 * Math.log(2 * Math.PI) - Math.log(sigma) : Math.log(normalCdf(-z)); // fine for the moderate z of these cohorts
   }
   return total;
 }
@@ -159,7 +157,9 @@ function nelderMeadMaximise(f: (v: number[]) => number, start: number[]): number
       const order = values.map((_, i) => i).sort((a, b) => values[a] - values[b]);
       simplex = order.map((i) => simplex[i]);
       values = order.map((i) => values[i]);
-      const spread = Math.max(...simplex.slice(1).map((v) => Math.max(...v.map((c, j) => Math.abs(c - simplex[0][j])))));
+      const spread = Math.max(
+        ...simplex.slice(1).map((v) => Math.max(...v.map((c, j) => Math.abs(c - simplex[0][j])))),
+      );
       if (spread < 1e-11) break;
       const centroid = Array.from({ length: d }, (_, j) => simplex.slice(0, d).reduce((s, v) => s + v[j], 0) / d);
       const along = (t: number) => centroid.map((c, j) => c + t * (simplex[d][j] - c));
@@ -242,7 +242,12 @@ function invert(matrix: number[][]): number[][] {
 }
 
 describe("fitLognormalAft without censoring equals least squares on log hours", () => {
-  const { x, trueTime } = censoredCohort(120, 11, { beta: [3.2, 0.3, -0.2, 0.1], sigma: 0.4, censorShift: 0, censorSpread: 0 });
+  const { x, trueTime } = censoredCohort(120, 11, {
+    beta: [3.2, 0.3, -0.2, 0.1],
+    sigma: 0.4,
+    censorShift: 0,
+    censorSpread: 0,
+  });
   const allFinished = trueTime.map(() => true);
   const fit = fitLognormalAft(x, trueTime, allFinished);
   const ols = fitLinearModel(
@@ -391,7 +396,9 @@ describe("coverage of the 80th-percentile planning figure with 35 % of courses s
   // Target from the product design: 0.80 ± 0.03. Monte-Carlo SE of the pooled share over 40,000 fresh
   // trainees is √(0.16/40000) = 0.002, so the band is not eaten by simulation noise.
   it("covers 0.80 ± 0.03 of fresh trainees when fitted as censored data", () => {
-    console.info(`censored ${censoredShare.toFixed(3)}; coverage censored fit ${coverage.toFixed(4)}, dropped ${oldCoverage.toFixed(4)}`);
+    console.info(
+      `censored ${censoredShare.toFixed(3)}; coverage censored fit ${coverage.toFixed(4)}, dropped ${oldCoverage.toFixed(4)}`,
+    );
     expect(Math.abs(coverage - 0.8)).toBeLessThan(0.03);
   });
 
@@ -408,8 +415,16 @@ describe("fitLognormalAft and kaplanMeier refuse bad input with a plain message"
     ["no completed course", () => kaplanMeier([1, 2], [false, false]), /no completed course/],
     ["no completed course (fit)", () => fitLognormalAft([[1], [2]], [1, 2], [false, false]), /no completed course/],
     ["rows vs hours", () => fitLognormalAft([[1], [2]], [1, 2, 3], [true, true, true]), /2 rows .* 3 values/],
-    ["ragged measures", () => fitLognormalAft([[1], [2, 3], [4]], [1, 2, 3], [true, true, true]), /course 2 has 2 measures/],
-    ["constant measure", () => fitLognormalAft([[1], [1], [1]], [1, 2, 3], [true, true, true]), /measure 1 is the same/],
+    [
+      "ragged measures",
+      () => fitLognormalAft([[1], [2, 3], [4]], [1, 2, 3], [true, true, true]),
+      /course 2 has 2 measures/,
+    ],
+    [
+      "constant measure",
+      () => fitLognormalAft([[1], [1], [1]], [1, 2, 3], [true, true, true]),
+      /measure 1 is the same/,
+    ],
   ])("%s", (_label, run, message) => {
     expect(run).toThrowError(message);
   });
