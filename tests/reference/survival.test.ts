@@ -42,7 +42,9 @@ describe("kaplanMeier on the Gehan (1965) 6-MP remission data", () => {
     expect(sixMp.times).toEqual(textbook.map((r) => r[0]));
     expect(sixMp.atRisk).toEqual(textbook.map((r) => r[1]));
     expect(sixMp.events).toEqual(textbook.map((r) => r[2]));
-    sixMp.survival.forEach((s, j) => expect(s).toBeCloseTo(textbook[j][3], 3));
+    sixMp.survival.forEach((s, j) => {
+      expect(s).toBeCloseTo(textbook[j][3], 3);
+    });
   });
 
   // Greenwood SE at t = 6 is 0.076 (from memory of the same textbook); exactly (18/21)·√(3/(21·18)).
@@ -258,7 +260,9 @@ describe("fitLognormalAft without censoring equals least squares on log hours", 
 
   it("has the least-squares coefficients (to 1e-8) and σ̂ = √(RSS/n)", () => {
     expect(fit.converged).toBe(true);
-    fit.coefficients.forEach((b, j) => expect(Math.abs(b - ols.coefficients[j])).toBeLessThan(1e-8));
+    fit.coefficients.forEach((b, j) => {
+      expect(Math.abs(b - ols.coefficients[j])).toBeLessThan(1e-8);
+    });
     expect(Math.abs(fit.sigma - Math.sqrt(ols.residualSS / n))).toBeLessThan(1e-10);
   });
 
@@ -268,9 +272,9 @@ describe("fitLognormalAft without censoring equals least squares on log hours", 
   it("has the normal-theory log likelihood and standard errors", () => {
     expect(fit.logLikelihood).toBeCloseTo((-n / 2) * (Math.log(2 * Math.PI * fit.sigma ** 2) + 1), 9);
     const p = ols.coefficients.length;
-    fit.standardErrors.forEach((se, j) =>
-      expect(Math.abs(se / (ols.standardErrors[j] * Math.sqrt((n - p) / n)) - 1)).toBeLessThan(1e-8),
-    );
+    fit.standardErrors.forEach((se, j) => {
+      expect(Math.abs(se / (ols.standardErrors[j] * Math.sqrt((n - p) / n)) - 1)).toBeLessThan(1e-8);
+    });
     expect(fit.logSigmaStandardError).toBeCloseTo(1 / Math.sqrt(2 * n), 10);
   });
 
@@ -307,7 +311,9 @@ describe("fitLognormalAft with censoring agrees with an independent maximisation
       time.map((t) => Math.log(t)),
     );
     const direct = nelderMeadMaximise(ll, [...ols.coefficients, Math.log(ols.residualSD)]);
-    fit.coefficients.forEach((b, j) => expect(Math.abs(b - direct[j])).toBeLessThan(1e-6));
+    fit.coefficients.forEach((b, j) => {
+      expect(Math.abs(b - direct[j])).toBeLessThan(1e-6);
+    });
     expect(Math.abs(fit.sigma - Math.exp(direct[3]))).toBeLessThan(1e-6);
     const mine = [...fit.coefficients, Math.log(fit.sigma)];
     expect(fit.logLikelihood).toBeCloseTo(ll(mine), 9);
@@ -315,7 +321,9 @@ describe("fitLognormalAft with censoring agrees with an independent maximisation
 
     // Observed information = −(numerical Hessian of the independent log likelihood) at the estimate.
     const covariance = invert(numericalHessian(ll, mine, 1e-3).map((row) => row.map((v) => -v)));
-    fit.standardErrors.forEach((se, j) => expect(Math.abs(se / Math.sqrt(covariance[j][j]) - 1)).toBeLessThan(1e-4));
+    fit.standardErrors.forEach((se, j) => {
+      expect(Math.abs(se / Math.sqrt(covariance[j][j]) - 1)).toBeLessThan(1e-4);
+    });
     expect(Math.abs(fit.logSigmaStandardError / Math.sqrt(covariance[3][3]) - 1)).toBeLessThan(1e-4);
   });
 
