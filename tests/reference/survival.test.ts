@@ -346,6 +346,23 @@ describe("fitLognormalAft with censoring agrees with an independent maximisation
     expect(shifted.quantile([1000 + 100 * 0.7, -0.3], 0.8)).toBeCloseTo(fit.quantile([0.7, -0.3], 0.8), 8);
   });
 
+  // Rounding in a 5,000-term log likelihood floors the Newton decrement; the stopping rule must sit above it.
+  it("converges on a cohort of 5,000 courses × 8 measures, and reports when it ran out of iterations", () => {
+    const big = censoredCohort(5000, 24, {
+      beta: [3.2, 0.25, -0.18, 0.12, 0.08, -0.05, 0.04, 0.02, 0],
+      sigma: 0.35,
+      censorShift: 0.25,
+      censorSpread: 0.4,
+    });
+    const fit = fitLognormalAft(big.x, big.time, big.event);
+    expect(fit.converged).toBe(true);
+    expect(fit.iterations).toBeLessThan(10);
+    expect(Math.abs(fit.sigma - 0.35)).toBeLessThan(4 * 0.35 * fit.logSigmaStandardError);
+    const stopped = fitLognormalAft(big.x, big.time, big.event, { maxIterations: 1 });
+    expect(stopped.converged).toBe(false);
+    expect(stopped.iterations).toBe(1);
+  });
+
   it("leaves its inputs alone", () => {
     const { x, time, event } = censoredCohort(40, 23, {
       beta: [3, 0.2],
