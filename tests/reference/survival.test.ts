@@ -255,7 +255,7 @@ describe("fitLognormalAft without censoring equals least squares on log hours", 
   const ols = fitLinearModel(
     x,
     trueTime.map((t) => Math.log(t)),
-  ) as ReturnType<typeof fitLinearModel> & { residualSS: number };
+  );
   const n = trueTime.length;
 
   it("has the least-squares coefficients (to 1e-8) and σ̂ = √(RSS/n)", () => {
