@@ -1,9 +1,8 @@
 import { db } from "~/db.server";
+import { conflict } from "~/errors";
 
 export type ConsentPurpose = "assessment" | "planning" | "model";
 export const CONSENT_PURPOSES: ConsentPurpose[] = ["assessment", "planning", "model"];
-
-export class DuplicateVersionError extends Error {}
 
 export async function listConsentTexts() {
   const rows = await db()("consent_text_versions as c")
@@ -34,8 +33,9 @@ export async function createConsentText(v: {
 }) {
   return db().transaction(async (trx) => {
     if (await trx("consent_text_versions").where({ purpose: v.purpose, version: v.version }).first("id")) {
-      throw new DuplicateVersionError(
+      throw conflict(
         `Version ${v.version} of the ${v.purpose} text already exists; texts are never edited, add a new version.`,
+        "version",
       );
     }
     const [r] = await trx("consent_text_versions")

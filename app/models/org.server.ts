@@ -1,11 +1,10 @@
 import { db } from "~/db.server";
-
-export class DuplicateCodeError extends Error {}
+import { conflict, notFound } from "~/errors";
 
 export async function createSite(v: { code: string; name: string }): Promise<number> {
   return db().transaction(async (trx) => {
     if (await trx("sites").where({ code: v.code }).first("id"))
-      throw new DuplicateCodeError(`Site code ${v.code} is already used.`);
+      throw conflict(`Site code ${v.code} is already used.`, "code");
     const org = await trx("organisations").first("id");
     if (!org) throw new Error("No organisation is set up.");
     const [r] = await trx("sites")
@@ -18,9 +17,9 @@ export async function createSite(v: { code: string; name: string }): Promise<num
 export async function createDepartment(v: { siteId: number; code: string; name: string }): Promise<number> {
   return db().transaction(async (trx) => {
     if (!(await trx("sites").where({ id: v.siteId }).first("id")))
-      throw new DuplicateCodeError("That site does not exist.");
+      throw notFound("That site does not exist.", "siteId");
     if (await trx("departments").where({ site_id: v.siteId, code: v.code }).first("id"))
-      throw new DuplicateCodeError(`Department code ${v.code} is already used at this site.`);
+      throw conflict(`Department code ${v.code} is already used at this site.`, "code");
     const [r] = await trx("departments")
       .insert({ site_id: v.siteId, code: v.code, name: v.name, created_at: new Date().toISOString() })
       .returning("id");

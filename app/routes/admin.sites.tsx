@@ -1,11 +1,11 @@
-import { data, Form, useActionData } from "react-router";
+import { useActionData } from "react-router";
 import { requireUser } from "~/auth/guard.server";
-import { Notice, SelectField, TextField } from "~/components/fields";
+import { ActionForm, ActionNotice, SelectField, TextField } from "~/components/fields";
 import { siteOptions } from "~/components/scope-options";
-import { createDepartment, createSite, DuplicateCodeError, departmentHeadcounts } from "~/models/org.server";
+import { formAction } from "~/forms.server";
+import { createDepartment, createSite, departmentHeadcounts } from "~/models/org.server";
 import { listDepartments, listSites } from "~/models/sites.server";
-import { departmentSchema, siteSchema } from "~/schemas/admin";
-import { formToObject, parseWith } from "~/schemas/form";
+import { sitesFormSchema } from "~/schemas/admin";
 import type { Route } from "./+types/admin.sites";
 
 export const meta: Route.MetaFunction = () => [{ title: "Sites and departments · Limberly" }];
@@ -18,29 +18,23 @@ export async function loader({ request }: Route.LoaderArgs) {
 
 export async function action({ request }: Route.ActionArgs) {
   await requireUser(request, "admin.sites");
-  const form = formToObject(await request.formData());
-  const intent = form.intent === "department" ? "department" : "site";
-  const p = intent === "site" ? parseWith(siteSchema, form) : parseWith(departmentSchema, form);
-  if (!p.ok) return data({ intent, errors: p.errors, done: null }, { status: 400 });
-  try {
-    if (intent === "site") await createSite(p.data as { code: string; name: string });
-    else await createDepartment(p.data as { siteId: number; code: string; name: string });
-    return { intent, errors: null, done: `${intent === "site" ? "Site" : "Department"} added.` };
-  } catch (e) {
-    if (e instanceof DuplicateCodeError)
-      return data({ intent, errors: { code: e.message }, done: null }, { status: 409 });
-    throw e;
-  }
+  return formAction(await request.formData(), sitesFormSchema, async (v) => {
+    if (v.intent === "site") {
+      await createSite(v);
+      return "Site added.";
+    }
+    await createDepartment(v);
+    return "Department added.";
+  });
 }
 
 export default function AdminSites({ loaderData }: Route.ComponentProps) {
   const { sites, departments, headcounts } = loaderData;
   const r = useActionData<typeof action>();
-  const errs = (i: string) => (r?.intent === i ? (r.errors ?? {}) : {}) as Record<string, string>;
   return (
     <div className="grid gap-6">
       <h1 className="page-title">Sites and departments</h1>
-      {r?.done && <Notice>{r.done}</Notice>}
+      <ActionNotice result={r} />
       <div className="grid gap-4 md:grid-cols-3">
         {sites.map((s) => (
           <section key={s.id} className="card" aria-labelledby={`site-${s.id}`}>
@@ -67,30 +61,22 @@ export default function AdminSites({ loaderData }: Route.ComponentProps) {
           <h2 id="add-site" className="text-lg font-semibold">
             Add a site
           </h2>
-          <Form method="post" className="mt-3 grid gap-3">
-            <input type="hidden" name="intent" value="site" />
-            <TextField name="code" label="Code" required error={errs("site").code} />
-            <TextField name="name" label="Name" required error={errs("site").name} />
+          <ActionForm intent="site" result={r} className="mt-3 grid gap-3">
+            <TextField name="code" label="Code" required />
+            <TextField name="name" label="Name" required />
             <button className="btn-primary justify-self-start">Add site</button>
-          </Form>
+          </ActionForm>
         </section>
         <section className="card" aria-labelledby="add-dept">
           <h2 id="add-dept" className="text-lg font-semibold">
             Add a department
           </h2>
-          <Form method="post" className="mt-3 grid gap-3">
-            <input type="hidden" name="intent" value="department" />
-            <SelectField
-              name="siteId"
-              label="Site"
-              required
-              error={errs("department").siteId}
-              options={siteOptions(sites)}
-            />
-            <TextField name="code" label="Code" required error={errs("department").code} />
-            <TextField name="name" label="Name" required error={errs("department").name} />
+          <ActionForm intent="department" result={r} className="mt-3 grid gap-3">
+            <SelectField name="siteId" label="Site" required options={siteOptions(sites)} />
+            <TextField name="code" label="Code" required />
+            <TextField name="name" label="Name" required />
             <button className="btn-primary justify-self-start">Add department</button>
-          </Form>
+          </ActionForm>
         </section>
       </div>
     </div>

@@ -1,6 +1,7 @@
 import { z } from "zod";
 import { MEASURE_DIRECTIONS } from "~/compute/features";
 import { TRACE_KINDS, type TraceKind } from "~/compute/trace-parsing";
+import { intents } from "~/schemas/form";
 
 // Forms of the baseline battery (issue 3): measures, sessions, manual results, uploads, norm sets.
 
@@ -78,6 +79,16 @@ const isoDate = z
   .string()
   .regex(/^\d{4}-\d{2}-\d{2}$/, "Date: use the form YYYY-MM-DD.")
   .refine((s) => !Number.isNaN(Date.parse(s)), "Date: not a real date.");
+
+/** The measures page: add a measure, or switch one on or off. */
+export const measuresFormSchema = intents(
+  measureSchema.safeExtend({ intent: z.literal("create") }),
+  z.object({
+    intent: z.literal("toggle"),
+    id: z.coerce.number().int().positive(),
+    active: z.enum(["true", "false"]).transform((v) => v === "true"),
+  }),
+);
 
 export const sessionSchema = z.object({
   assessedOn: isoDate.refine(
