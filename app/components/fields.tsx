@@ -14,10 +14,18 @@ type ActionFormProps = Omit<ComponentProps<typeof Form>, "id" | "onSubmit" | "no
   intent?: string;
   /** The route's action data; shown only when it answers this form's intent. */
   result?: ActionResult<unknown> | null;
+  /** For several forms with one intent (one per row): the hidden values that tell this one apart. */
+  match?: Record<string, string>;
 };
 
-export function ActionForm({ intent, result, children, method = "post", ...rest }: ActionFormProps) {
-  const mine = result && (intent === undefined || result.intent === intent) ? result.result : undefined;
+function answers(result: ActionResult<unknown>, intent?: string, match?: Record<string, string>): boolean {
+  if (intent !== undefined && result.intent !== intent) return false;
+  const sent = (result.result.initialValue ?? {}) as Record<string, unknown>;
+  return Object.entries(match ?? {}).every(([k, v]) => sent[k] === v);
+}
+
+export function ActionForm({ intent, result, match, children, method = "post", ...rest }: ActionFormProps) {
+  const mine = result && answers(result, intent, match) ? result.result : undefined;
   const [form] = useForm({ lastResult: mine });
   const errors = form.allErrors;
   const formErrors = [...(form.errors ?? []), ...(errors.intent ?? [])];
@@ -104,9 +112,10 @@ export function TextField(
     defaultValue?: string;
     required?: boolean;
     autoComplete?: string;
+    inputMode?: "numeric" | "decimal";
   },
 ) {
-  const { name, label, error, hint, type = "text", defaultValue, required, autoComplete } = props;
+  const { name, label, error, hint, type = "text", defaultValue, required, autoComplete, inputMode } = props;
   const f = useField(name, error, hint);
   return (
     <div>
@@ -118,6 +127,7 @@ export function TextField(
         defaultValue={defaultValue}
         required={required}
         autoComplete={autoComplete}
+        inputMode={inputMode}
         {...f.aria}
         className="field-input"
       />
@@ -201,6 +211,42 @@ export function CheckboxField(props: BaseProps & { defaultChecked?: boolean; val
       </div>
       <Extras id={f.id} message={f.message} hint={hint} />
     </div>
+  );
+}
+
+/** A set of checkboxes sharing one name (several values), with one legend and one error. */
+export function CheckboxGroup(props: {
+  name: string;
+  legend: string;
+  options: { value: string; label: ReactNode }[];
+  defaultValues?: string[];
+  error?: string;
+  hint?: string;
+  children?: ReactNode;
+}) {
+  const { name, legend, options, defaultValues = [], error, hint, children } = props;
+  const f = useField(name, error, hint);
+  return (
+    <fieldset aria-describedby={f.aria["aria-describedby"]}>
+      <legend className="field-label">{legend}</legend>
+      {children}
+      <div className="mt-1 grid gap-1 sm:grid-cols-2">
+        {options.map((o) => (
+          <label key={o.value} className="flex min-h-11 items-center gap-2 rounded-md border border-line px-3">
+            <input
+              type="checkbox"
+              name={name}
+              value={o.value}
+              defaultChecked={defaultValues.includes(o.value)}
+              aria-invalid={f.aria["aria-invalid"]}
+              className="h-5 w-5"
+            />
+            <span>{o.label}</span>
+          </label>
+        ))}
+      </div>
+      <Extras id={f.id} message={f.message} hint={hint} />
+    </fieldset>
   );
 }
 

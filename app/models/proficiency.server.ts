@@ -1,5 +1,6 @@
 import type { ProficiencyCriterion } from "~/compute/proficiency-rule";
 import { type Db, db } from "~/db.server";
+import { notFound } from "~/errors";
 
 // Proficiency criteria per device type (issue 4, item 2), set by an assessor.
 export interface CriterionRow extends ProficiencyCriterion {
@@ -19,9 +20,7 @@ export async function listDeviceTypes(k: Db = db()): Promise<{ id: number; code:
 }
 
 /** Every device type with its criterion (null fields when none is set yet). */
-export async function listCriteria(
-  k: Db = db(),
-): Promise<
+export async function listCriteria(k: Db = db()): Promise<
   (Omit<CriterionRow, "scoreThreshold" | "consecutiveSessions"> & {
     scoreThreshold: number | null;
     consecutiveSessions: number | null;
@@ -48,15 +47,13 @@ export async function getCriterion(deviceTypeId: number, k: Db = db()): Promise<
   return r ? { scoreThreshold: Number(r.score_threshold), consecutiveSessions: Number(r.consecutive_sessions) } : null;
 }
 
-export class UnknownDeviceTypeError extends Error {}
-
 export async function setCriterion(
   input: { deviceTypeId: number } & ProficiencyCriterion,
   userId: number,
 ): Promise<void> {
   await db().transaction(async (trx) => {
     if (!(await trx("device_types").where({ id: input.deviceTypeId }).first("id")))
-      throw new UnknownDeviceTypeError("That device type does not exist.");
+      throw notFound("That device type does not exist.");
     const row = {
       score_threshold: input.scoreThreshold,
       consecutive_sessions: input.consecutiveSessions,
