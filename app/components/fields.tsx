@@ -16,6 +16,8 @@ type ActionFormProps = Omit<ComponentProps<typeof Form>, "id" | "onSubmit" | "no
   result?: ActionResult<unknown> | null;
   /** For several forms with one intent (one per row): the hidden values that tell this one apart. */
   match?: Record<string, string>;
+  /** Show the success notice at the end of the form (for forms in rows, where a page notice is far away). */
+  notice?: boolean;
 };
 
 function answers(result: ActionResult<unknown>, intent?: string, match?: Record<string, string>): boolean {
@@ -24,7 +26,7 @@ function answers(result: ActionResult<unknown>, intent?: string, match?: Record<
   return Object.entries(match ?? {}).every(([k, v]) => sent[k] === v);
 }
 
-export function ActionForm({ intent, result, match, children, method = "post", ...rest }: ActionFormProps) {
+export function ActionForm({ intent, result, match, notice, children, method = "post", ...rest }: ActionFormProps) {
   const mine = result && answers(result, intent, match) ? result.result : undefined;
   const [form] = useForm({ lastResult: mine });
   const errors = form.allErrors;
@@ -39,6 +41,7 @@ export function ActionForm({ intent, result, match, children, method = "post", .
           </div>
         )}
         {children}
+        {notice && mine?.status === "success" && result?.notice && <Notice>{result.notice}</Notice>}
       </Form>
     </FieldErrors.Provider>
   );
@@ -54,9 +57,16 @@ export function ActionErrors({ result, intent }: { result?: ActionResult<unknown
   return <FormError message={messages.join(" ") || undefined} />;
 }
 
-/** The success notice of an action, if any. */
-export function ActionNotice({ result }: { result?: ActionResult<unknown> | null }) {
-  return result?.notice ? <Notice>{result.notice}</Notice> : null;
+/**
+ * The success notice of an action, if any (only for `intent`, when given). Without an intent it also
+ * shows a refused intent, which no form on the page answers to.
+ */
+export function ActionNotice({ result, intent }: { result?: ActionResult<unknown> | null; intent?: string }) {
+  if (!result) return null;
+  const refused = intent === undefined ? result.result.error?.intent : undefined;
+  if (refused?.length) return <FormError message={refused.join(" ")} />;
+  if (!result.notice || (intent !== undefined && result.intent !== intent)) return null;
+  return <Notice>{result.notice}</Notice>;
 }
 
 interface BaseProps {
@@ -113,9 +123,10 @@ export function TextField(
     required?: boolean;
     autoComplete?: string;
     inputMode?: "numeric" | "decimal";
+    step?: string;
   },
 ) {
-  const { name, label, error, hint, type = "text", defaultValue, required, autoComplete, inputMode } = props;
+  const { name, label, error, hint, type = "text", defaultValue, required, autoComplete, inputMode, step } = props;
   const f = useField(name, error, hint);
   return (
     <div>
@@ -128,6 +139,7 @@ export function TextField(
         required={required}
         autoComplete={autoComplete}
         inputMode={inputMode}
+        step={step}
         {...f.aria}
         className="field-input"
       />
