@@ -1,6 +1,7 @@
 import { sampleStandardDeviation, mean as ssMean } from "simple-statistics";
 import type { Scope } from "~/auth/scope";
 import { type Db, db } from "~/db.server";
+import { UserError } from "~/errors";
 
 // Norm sets (DESIGN §3.1): mean and SD per measure, cohort-derived or entered from a published table,
 // with source and date. Every stored z-score records which norm set it used.
@@ -149,7 +150,12 @@ export async function createCohortNormSet(
   });
 }
 
-export class NormInputError extends Error {}
+/** A UserError (400); routes not yet on formAction still tell it apart by name. */
+export class NormInputError extends UserError {
+  constructor(message: string) {
+    super(message, { status: 400 });
+  }
+}
 
 export function scopeSiteIds(scope: Scope, allSiteIds: number[]): number[] {
   return scope.allSites ? allSiteIds : scope.siteIds;

@@ -2,6 +2,7 @@ import type { Principal } from "~/auth/guard.server";
 import { firstProficientIndex } from "~/compute/proficiency-rule";
 import { curvePoints } from "~/compute/progress-update";
 import { type Db, db } from "~/db.server";
+import { UserError } from "~/errors";
 import {
   forecastViewFor,
   latestConsent,
@@ -18,12 +19,10 @@ import { whereWorkerInScope } from "./workers.server";
 // logSessionResult is shared with the trainer portal: cumulative hours, the course, proficiency, the stage
 // and the forecast all change in the same transaction.
 
-export class SessionLogError extends Error {
-  constructor(
-    message: string,
-    readonly field?: string,
-  ) {
-    super(message);
+/** A UserError (409); routes not yet on formAction still tell it apart by name. */
+export class SessionLogError extends UserError {
+  constructor(message: string, field?: string) {
+    super(message, { status: 409, field });
   }
 }
 

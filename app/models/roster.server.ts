@@ -6,6 +6,7 @@ import type { Knex } from "knex";
 import type { Principal } from "~/auth/guard.server";
 import type { Scope } from "~/auth/scope";
 import { type Db, db } from "~/db.server";
+import { UserError } from "~/errors";
 import {
   guessMapping,
   MAX_ROSTER_ROWS,
@@ -24,7 +25,12 @@ import { whereWorkerInScope } from "./workers.server";
 
 // Roster import and export, and the worker list (issue 3 §1–2).
 
-export class RosterFileError extends Error {}
+/** A UserError (400); routes not yet on formAction still tell it apart by name. */
+export class RosterFileError extends UserError {
+  constructor(message: string) {
+    super(message, { status: 400 });
+  }
+}
 
 export interface RosterTable {
   headers: string[];
@@ -338,7 +344,12 @@ export async function applyRosterPlan(
   };
 }
 
-export class RosterStateError extends Error {}
+/** A UserError (409); routes not yet on formAction still tell it apart by name. */
+export class RosterStateError extends UserError {
+  constructor(message: string) {
+    super(message, { status: 409 });
+  }
+}
 
 /** Imports the valid rows of an upload in one transaction, records the summary and clears the rows. */
 export async function importRosterUpload(id: number, principal: Principal & { kind: "user" }): Promise<RosterSummary> {

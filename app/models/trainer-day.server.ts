@@ -1,4 +1,5 @@
 import { type Db, db } from "~/db.server";
+import { UserError } from "~/errors";
 import { wallClockIso } from "~/schemas/portal";
 import type { TrainerLogInput } from "~/schemas/session-log";
 import { adverseEventsFrom } from "~/schemas/session-log";
@@ -161,12 +162,10 @@ export async function sessionExists(sessionId: number, k: Db = db()): Promise<bo
   return Boolean(await k("training_sessions").where({ id: sessionId }).first("id"));
 }
 
-export class TrainerDayError extends Error {
-  constructor(
-    message: string,
-    readonly field?: string,
-  ) {
-    super(message);
+/** A UserError (409); routes not yet on formAction still tell it apart by name. */
+export class TrainerDayError extends UserError {
+  constructor(message: string, field?: string) {
+    super(message, { status: 409, field });
   }
 }
 
