@@ -262,6 +262,51 @@ export function CheckboxGroup(props: {
   );
 }
 
+/** One choice among a few, as large radio buttons (touch-friendly), with a legend and one error. */
+export function RadioGroup(props: {
+  name: string;
+  legend: string;
+  options: { value: string; label: ReactNode }[];
+  defaultValue?: string;
+  error?: string;
+  className?: string;
+  children?: ReactNode;
+}) {
+  const { name, legend, options, defaultValue, error, className, children } = props;
+  const f = useField(name, error, undefined);
+  return (
+    <fieldset className={className} aria-describedby={f.aria["aria-describedby"]}>
+      <legend className="font-medium">{legend}</legend>
+      <div className="flex flex-wrap gap-2">
+        {options.map((o) => (
+          <label
+            key={o.value}
+            className="flex min-h-12 min-w-24 cursor-pointer items-center gap-2 rounded-md border border-line px-3 has-[:checked]:border-spruce-700 has-[:checked]:bg-spruce-50"
+          >
+            <input
+              type="radio"
+              name={name}
+              value={o.value}
+              defaultChecked={o.value === defaultValue}
+              aria-invalid={f.aria["aria-invalid"]}
+              className="size-5"
+            />
+            <span className="capitalize">{o.label}</span>
+          </label>
+        ))}
+      </div>
+      <Extras id={f.id} message={f.message} />
+      {children}
+    </fieldset>
+  );
+}
+
+/** The message for a name that has no control of its own (e.g. a duration computed from two fields). */
+export function FieldMessage({ name, className }: { name: string; className?: string }) {
+  const message = useContext(FieldErrors)[name]?.[0];
+  return message ? <p className={`field-error ${className ?? ""}`}>{message}</p> : null;
+}
+
 export function FormError({ message }: { message?: string }) {
   if (!message) return null;
   return (
