@@ -1,5 +1,5 @@
 import { type Db, db } from "~/db.server";
-import { UserError } from "~/errors";
+import { conflict } from "~/errors";
 import { wallClockIso } from "~/schemas/portal";
 import type { TrainerLogInput } from "~/schemas/session-log";
 import { adverseEventsFrom } from "~/schemas/session-log";
@@ -162,19 +162,11 @@ export async function sessionExists(sessionId: number, k: Db = db()): Promise<bo
   return Boolean(await k("training_sessions").where({ id: sessionId }).first("id"));
 }
 
-/** A UserError (409); routes not yet on formAction still tell it apart by name. */
-export class TrainerDayError extends UserError {
-  constructor(message: string, field?: string) {
-    super(message, { status: 409, field });
-  }
-}
-
 export async function markNoShow(trainerId: number, sessionId: number, userId: number): Promise<void> {
   await db().transaction(async (trx) => {
     const s = await trx("training_sessions").where({ id: sessionId, trainer_id: trainerId }).first("id", "status");
-    if (!s) throw new TrainerDayError("This session is not on your schedule.");
-    if (s.status !== "scheduled")
-      throw new TrainerDayError(`This session is already recorded as ${s.status.replace("_", "-")}.`);
+    if (!s) throw conflict("This session is not on your schedule.");
+    if (s.status !== "scheduled") throw conflict(`This session is already recorded as ${s.status.replace("_", "-")}.`);
     await trx("training_sessions")
       .where({ id: s.id })
       .update({ status: "no_show", logged_by: userId, logged_at: new Date().toISOString() });
@@ -208,9 +200,9 @@ export async function logTrainerSession(input: {
     const s = await trx("training_sessions")
       .where({ id: input.sessionId, trainer_id: input.trainer.id })
       .first("id", "worker_id", "device_type_id", "status");
-    if (!s) throw new TrainerDayError("This session is not on your schedule.");
+    if (!s) throw conflict("This session is not on your schedule.");
     if (s.status !== "scheduled")
-      throw new TrainerDayError(`This session is already recorded as ${String(s.status).replace("_", "-")}.`);
+      throw conflict(`This session is already recorded as ${String(s.status).replace("_", "-")}.`);
     const r = await logSessionResult(
       {
         workerId: s.worker_id,
