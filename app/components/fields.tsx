@@ -77,8 +77,8 @@ interface BaseProps {
   hint?: string;
 }
 
-/** Ids, error and aria wiring of one field. */
-function useField(name: string, error: string | undefined, hint: string | undefined) {
+/** Ids, error and aria wiring of one field, for a control a page lays out itself. */
+export function useFieldWiring(name: string, error: string | undefined, hint: string | undefined) {
   const id = useId();
   const fromForm = useContext(FieldErrors)[name]?.[0];
   const message = error ?? fromForm;
@@ -127,7 +127,7 @@ export function TextField(
   },
 ) {
   const { name, label, error, hint, type = "text", defaultValue, required, autoComplete, inputMode, step } = props;
-  const f = useField(name, error, hint);
+  const f = useFieldWiring(name, error, hint);
   return (
     <div>
       <Label id={f.id} label={label} required={required} />
@@ -150,7 +150,7 @@ export function TextField(
 
 export function TextArea(props: BaseProps & { defaultValue?: string; required?: boolean; rows?: number }) {
   const { name, label, error, hint, defaultValue, required, rows = 5 } = props;
-  const f = useField(name, error, hint);
+  const f = useFieldWiring(name, error, hint);
   return (
     <div>
       <Label id={f.id} label={label} required={required} />
@@ -178,7 +178,7 @@ export function SelectField(
   },
 ) {
   const { name, label, error, hint, options, defaultValue, required, multiple } = props;
-  const f = useField(name, error, hint);
+  const f = useFieldWiring(name, error, hint);
   return (
     <div>
       <Label id={f.id} label={label} required={required} />
@@ -204,7 +204,7 @@ export function SelectField(
 
 export function CheckboxField(props: BaseProps & { defaultChecked?: boolean; value?: string }) {
   const { name, label, error, hint, defaultChecked, value } = props;
-  const f = useField(name, error, hint);
+  const f = useFieldWiring(name, error, hint);
   return (
     <div>
       <div className="flex items-center gap-2">
@@ -237,7 +237,7 @@ export function CheckboxGroup(props: {
   children?: ReactNode;
 }) {
   const { name, legend, options, defaultValues = [], error, hint, children } = props;
-  const f = useField(name, error, hint);
+  const f = useFieldWiring(name, error, hint);
   return (
     <fieldset aria-describedby={f.aria["aria-describedby"]}>
       <legend className="field-label">{legend}</legend>
@@ -273,7 +273,7 @@ export function RadioGroup(props: {
   children?: ReactNode;
 }) {
   const { name, legend, options, defaultValue, error, className, children } = props;
-  const f = useField(name, error, undefined);
+  const f = useFieldWiring(name, error, undefined);
   return (
     <fieldset className={className} aria-describedby={f.aria["aria-describedby"]}>
       <legend className="font-medium">{legend}</legend>
