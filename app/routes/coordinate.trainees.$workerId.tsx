@@ -3,7 +3,8 @@ import { Form, Link } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { StageBadge } from "~/components/badges";
 import { DeviceCautions } from "~/components/device-cautions";
-import { ActionErrors, ActionForm, ActionNotice, TextArea, TextField } from "~/components/fields";
+import { ActionForm, ActionNotice, TextArea, TextField } from "~/components/fields";
+import { LeaveForm } from "~/components/leave-form";
 import { formAction } from "~/forms.server";
 import { recordAccess } from "~/models/access-log.server";
 import { addWorkerLeave, removeWorkerLeave, saveTrainingFields, traineeDetail } from "~/models/trainers-admin.server";
@@ -115,17 +116,7 @@ export default function Trainee({ loaderData, actionData }: Route.ComponentProps
             </li>
           ))}
         </ul>
-        <ActionErrors result={actionData} intent="remove-leave" />
-        <ActionNotice result={actionData} intent="remove-leave" />
-        <ActionForm intent="add-leave" result={actionData} className="grid gap-3 md:grid-cols-4 md:items-end">
-          <TextField name="startsOn" label="From" type="date" />
-          <TextField name="endsOn" label="To (inclusive)" type="date" />
-          <TextField name="reason" label="Reason (optional)" />
-          <button className="btn-quiet" type="submit">
-            Add leave
-          </button>
-        </ActionForm>
-        <ActionNotice result={actionData} intent="add-leave" />
+        <LeaveForm result={actionData} />
       </section>
       <section aria-labelledby="sessions" className="card grid gap-2">
         <h2 id="sessions" className="text-lg font-semibold">

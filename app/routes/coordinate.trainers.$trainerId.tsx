@@ -2,6 +2,7 @@ import { invariantResponse } from "@epic-web/invariant";
 import { Form, Link } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { ActionErrors, ActionForm, ActionNotice, CheckboxGroup, SelectField, TextField } from "~/components/fields";
+import { LeaveForm } from "~/components/leave-form";
 import { WEEKDAY_NAMES } from "~/compute/plan-calendar";
 import { formAction } from "~/forms.server";
 import { planningChoices } from "~/models/fleet-admin.server";
@@ -167,17 +168,7 @@ export default function TrainerPage({ loaderData, actionData }: Route.ComponentP
             </li>
           ))}
         </ul>
-        <ActionErrors result={actionData} intent="remove-leave" />
-        <ActionNotice result={actionData} intent="remove-leave" />
-        <ActionForm intent="add-leave" result={actionData} className="grid gap-3 md:grid-cols-4 md:items-end">
-          <TextField name="startsOn" label="From" type="date" />
-          <TextField name="endsOn" label="To (inclusive)" type="date" />
-          <TextField name="reason" label="Reason (optional)" />
-          <button className="btn-quiet" type="submit">
-            Add leave
-          </button>
-        </ActionForm>
-        <ActionNotice result={actionData} intent="add-leave" />
+        <LeaveForm result={actionData} />
       </section>
     </div>
   );
