@@ -129,7 +129,7 @@ export async function createCohortNormSet(
       .map(([measureId, vs]) => ({ measureId, mean: ssMean(vs), sd: sampleStandardDeviation(vs), n: vs.length }))
       .filter((v) => v.sd > 0);
     if (values.length === 0)
-      throw new NormInputError(
+      throw new UserError(
         `No measure has first baselines from at least ${MIN_COHORT_N} consented workers at ${input.siteLabel} yet.`,
       );
     const today = new Date().toISOString().slice(0, 10);
@@ -148,13 +148,6 @@ export async function createCohortNormSet(
     );
     return { id: r.id as number, measures: values.length };
   });
-}
-
-/** A UserError (400); routes not yet on formAction still tell it apart by name. */
-export class NormInputError extends UserError {
-  constructor(message: string) {
-    super(message, { status: 400 });
-  }
 }
 
 export function scopeSiteIds(scope: Scope, allSiteIds: number[]): number[] {

@@ -43,9 +43,14 @@ describe("admin sites: one schema per intent, the model's clash on the field", (
     expect(await count("sites")).toBe(before);
 
     const ok = await client.postForm("/admin/sites", { intent: "site", code: "fm-1", name: "Forms test site" });
-    expect(ok.status).toBe(200);
-    expect(await ok.text()).toContain("Site added.");
-    expect(await k("sites").where({ code: "FM-1" }).first()).toBeDefined();
+    try {
+      expect(ok.status).toBe(200);
+      expect(await ok.text()).toContain("Site added.");
+      expect(await k("sites").where({ code: "FM-1" }).first()).toBeDefined();
+    } finally {
+      // Other test files share this database: leave the sites as the seed made them.
+      await k("sites").where({ code: "FM-1" }).del();
+    }
   });
 });
 
@@ -67,10 +72,16 @@ describe("a coordinator's trainer page", () => {
     expect(await count("trainer_leave", { trainer_id: trainer.id })).toBe(leaveBefore);
 
     const window = { intent: "add-pattern", weekday: "7", startTime: "06:00", endTime: "07:00" };
-    expect((await client.postForm(path, window)).status).toBe(200);
-    const overlap = await client.postForm(path, { ...window, startTime: "06:30", endTime: "07:30" });
-    expect(overlap.status).toBe(409);
-    expectFieldError(await overlap.text(), "This time overlaps another working window on the same weekday.");
+    const patternsBefore = await k("trainer_working_pattern").where({ trainer_id: trainer.id }).pluck("id");
+    try {
+      expect((await client.postForm(path, window)).status).toBe(200);
+      const overlap = await client.postForm(path, { ...window, startTime: "06:30", endTime: "07:30" });
+      expect(overlap.status).toBe(409);
+      expectFieldError(await overlap.text(), "This time overlaps another working window on the same weekday.");
+    } finally {
+      // The allocation tests plan with these trainers: take the test's window out again.
+      await k("trainer_working_pattern").where({ trainer_id: trainer.id }).whereNotIn("id", patternsBefore).del();
+    }
 
     const elsewhere = await client.postForm("/coordinate/trainers/987654", { intent: "remove-leave", id: "1" });
     expect(elsewhere.status).toBe(404);
@@ -122,5 +133,50 @@ describe("the baseline measures page", () => {
     expect(res.status).toBe(409);
     expectFieldError(await res.text(), `Code: a measure with code ${m.code} exists already.`);
     expect(await count("measures")).toBe(before);
+  });
+});
+
+describe("the norm sets page", () => {
+  it("names the bad cell of a published table, asks for at least one measure, refuses a site out of scope", async () => {
+    const { client } = await signIn(PERSONA.assessor);
+    const m = await k("measures").where({ active: true }).orderBy("id").first("id", "name");
+    const before = await count("norm_sets");
+    const head = {
+      intent: "published",
+      name: "Forms test norms",
+      source: "Invented table for a test",
+      sourceDate: "2026-01-05",
+    };
+
+    const bad = await client.postForm("/assess/norms", { ...head, [`mean.${m.id}`]: "twelve", [`sd.${m.id}`]: "0" });
+    expect(bad.status).toBe(400);
+    const html = await bad.text();
+    expectFieldError(html, `${m.name}: mean must be a number.`);
+    expectFieldError(html, `${m.name}: SD must be a number above 0.`);
+
+    const empty = await client.postForm("/assess/norms", { ...head, name: "X" });
+    expect(empty.status).toBe(400);
+    const emptyHtml = await empty.text();
+    expect(emptyHtml).toContain("Enter a mean and SD for at least one measure.");
+    expectFieldError(emptyHtml, "Name: at least 2 characters.");
+
+    const site = await client.postForm("/assess/norms", { intent: "cohort", name: "Cohort", siteId: "987654" });
+    expect(site.status).toBe(400);
+    expectFieldError(await site.text(), "Site: choose one of your sites.");
+    expect(await count("norm_sets")).toBe(before);
+
+    const ok = await client.postForm("/assess/norms", { ...head, [`mean.${m.id}`]: "12.5", [`sd.${m.id}`]: "2.1" });
+    const saved = await k("norm_sets").where({ name: head.name }).first("id");
+    try {
+      expect(ok.status).toBe(200);
+      const values = await k("norm_values").where({ norm_set_id: saved.id }).select("measure_id", "mean", "sd", "n");
+      expect(values.map((v) => [v.measure_id, Number(v.mean), Number(v.sd), v.n])).toEqual([[m.id, 12.5, 2.1, null]]);
+    } finally {
+      // New results are scored against the newest norm set: remove this one so other tests keep the seed's.
+      if (saved) {
+        await k("norm_values").where({ norm_set_id: saved.id }).del();
+        await k("norm_sets").where({ id: saved.id }).del();
+      }
+    }
   });
 });
