@@ -124,9 +124,23 @@ export function TextField(
     autoComplete?: string;
     inputMode?: "numeric" | "decimal";
     step?: string;
+    /** The id of a <datalist> of suggestions. */
+    list?: string;
   },
 ) {
-  const { name, label, error, hint, type = "text", defaultValue, required, autoComplete, inputMode, step } = props;
+  const {
+    name,
+    label,
+    error,
+    hint,
+    type = "text",
+    defaultValue,
+    required,
+    autoComplete,
+    inputMode,
+    step,
+    list,
+  } = props;
   const f = useFieldWiring(name, error, hint);
   return (
     <div>
@@ -140,6 +154,7 @@ export function TextField(
         autoComplete={autoComplete}
         inputMode={inputMode}
         step={step}
+        list={list}
         {...f.aria}
         className="field-input"
       />

@@ -1,4 +1,4 @@
-// Background jobs (issue 5): allocation solves run one at a time in a worker_threads Worker, so the server keeps
+// Background jobs: allocation solves run one at a time in a worker_threads Worker, so the server keeps
 // answering (progress polling included) while javascript-lp-solver works. Started lazily: the first request
 // that touches allocation runs calls ensureJobsStarted(), which fails runs a stopped server left "running" and
 // picks up queued ones.
@@ -27,7 +27,8 @@ interface JobState {
   idleWaiters: (() => void)[];
 }
 const g = globalThis as unknown as { __limberlyJobs?: JobState };
-const state: JobState = (g.__limberlyJobs ??= { started: false, queue: [], busy: false, idleWaiters: [] });
+g.__limberlyJobs ??= { started: false, queue: [], busy: false, idleWaiters: [] };
+const state: JobState = g.__limberlyJobs;
 
 export async function ensureJobsStarted(): Promise<void> {
   if (state.started) return;

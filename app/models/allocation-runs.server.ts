@@ -1,11 +1,11 @@
 import type { Principal } from "~/auth/guard.server";
 import type { Scope } from "~/auth/scope";
 import type { AllocationPlan } from "~/compute/allocation";
-import { type Db, db } from "~/db.server";
+import { type Db, db, type Row } from "~/db.server";
 import type { RunParameters } from "~/schemas/allocation";
 import { buildProblem, type ProblemSnapshot } from "./allocation-problem.server";
 
-// Allocation runs (issue 5): parameters, the problem snapshot the solver sees, progress and the result.
+// Allocation runs: parameters, the problem snapshot the solver sees, progress and the result.
 // The solve itself runs in app/jobs (worker thread); this module only reads and writes rows.
 
 export type RunStatus = "queued" | "running" | "done" | "failed";
@@ -34,7 +34,7 @@ export interface RunDetail extends RunRow {
   plan: AllocationPlan | null;
 }
 
-function toRow(r: Record<string, any>): RunRow {
+function toRow(r: Row): RunRow {
   return {
     id: r.id,
     label: r.label ?? null,
@@ -209,14 +209,12 @@ export async function markFailed(id: number, message: string): Promise<void> {
 
 /** On server start: runs left "running" by a stopped server failed; queued ones are picked up again. */
 export async function recoverRuns(): Promise<number[]> {
-  await db()("allocation_runs")
-    .where({ status: "running" })
-    .update({
-      status: "failed",
-      phase: "failed",
-      error: "The server stopped while this run was solving; start it again.",
-      finished_at: new Date().toISOString(),
-    });
+  await db()("allocation_runs").where({ status: "running" }).update({
+    status: "failed",
+    phase: "failed",
+    error: "The server stopped while this run was solving; start it again.",
+    finished_at: new Date().toISOString(),
+  });
   return (await db()("allocation_runs").where({ status: "queued" }).orderBy("id").select("id")).map(
     (r) => r.id as number,
   );

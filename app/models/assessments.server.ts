@@ -11,8 +11,8 @@ import { listMeasures, type Measure } from "./measures.server";
 import { defaultNorms, normsOf } from "./norms.server";
 import { whereWorkerInScope } from "./workers.server";
 
-// Assessment sessions, manual results and trace uploads (issue 3 §4–5). Every write checks
-// `assessment` consent inside its own transaction, whatever the caller (DESIGN §4).
+// Assessment sessions, manual results and trace uploads. Every write checks
+// `assessment` consent inside its own transaction, whatever the caller (docs/consent-and-disclosure.md).
 
 /** A UserError (400); routes not yet on formAction still tell it apart by name. */
 export class AssessmentInputError extends UserError {
@@ -146,7 +146,7 @@ export async function sessionsForWorker(workerId: number, k: Db = db()): Promise
   const uploads = await k("trace_uploads").whereIn("session_id", ids).select("*").orderBy("id");
   return sessions.map((s) => ({
     id: s.id,
-    assessedOn: String(s.assessed_on).slice(0, 10),
+    assessedOn: s.assessed_on as string,
     assessor: s.assessor ?? null,
     notes: s.notes ?? null,
     results: results
@@ -372,9 +372,4 @@ export async function rescoreSession(input: { workerId: number; sessionId: numbe
     }
     return { scored, total: rows.length };
   });
-}
-
-/** Last baseline date per worker (for lists). */
-export function lastBaselineSubquery(k: Db = db()) {
-  return k("assessment_sessions").select("worker_id").max({ last_on: "assessed_on" }).groupBy("worker_id").as("b");
 }

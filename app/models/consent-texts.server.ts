@@ -1,8 +1,6 @@
 import { db } from "~/db.server";
+import type { ConsentPurpose } from "~/domain/consent-purposes";
 import { conflict } from "~/errors";
-
-export type ConsentPurpose = "assessment" | "planning" | "model";
-export const CONSENT_PURPOSES: ConsentPurpose[] = ["assessment", "planning", "model"];
 
 export async function listConsentTexts() {
   const rows = await db()("consent_text_versions as c")
@@ -21,7 +19,7 @@ export async function listConsentTexts() {
       { column: "c.effective_from", order: "desc" },
       { column: "c.id", order: "desc" },
     ]);
-  return rows.map((r) => ({ ...r, effective_from: String(r.effective_from).slice(0, 10) }));
+  return rows;
 }
 
 export async function createConsentText(v: {

@@ -3,7 +3,7 @@ import type { Scope } from "~/auth/scope";
 import { db } from "~/db.server";
 import { notFound } from "~/errors";
 
-// Fleet administration for coordinators (issue 5 item 1): device types with fit rules and wear-time limits,
+// Fleet administration for coordinators: device types with fit rules and wear-time limits,
 // units with status and bookable hours, maintenance windows. Units are limited to the coordinator's sites.
 
 const unitSites = (scope: Scope) => (scope.allSites ? null : scope.siteIds.length ? scope.siteIds : [-1]);
@@ -64,8 +64,8 @@ export async function fleetAdminView(scope: Scope) {
           .filter((w) => w.device_unit_id === u.id)
           .map((w) => ({
             id: w.id as number,
-            startsOn: String(w.starts_on).slice(0, 10),
-            endsOn: String(w.ends_on).slice(0, 10),
+            startsOn: w.starts_on as string,
+            endsOn: w.ends_on as string,
             reason: (w.reason as string) ?? "",
           })),
       })),
@@ -75,8 +75,7 @@ export async function fleetAdminView(scope: Scope) {
 
 async function unitInScope(scope: Scope, unitId: number) {
   const u = await db()("device_units").where({ id: unitId }).first("id", "site_id");
-  if (!u || (!scope.allSites && !scope.siteIds.includes(u.site_id)))
-    throw notFound("No such unit at your sites.");
+  if (!u || (!scope.allSites && !scope.siteIds.includes(u.site_id))) throw notFound("No such unit at your sites.");
   return u;
 }
 
@@ -85,13 +84,11 @@ export async function updateDeviceType(
   id: number,
   v: { wearTimeLimitMinutes: number; defaultMaxHoursPerWeek: number; fitRules: string | null },
 ) {
-  const n = await db()("device_types")
-    .where({ id })
-    .update({
-      wear_time_limit_minutes: v.wearTimeLimitMinutes,
-      default_max_hours_per_week: v.defaultMaxHoursPerWeek,
-      fit_rules: v.fitRules,
-    });
+  const n = await db()("device_types").where({ id }).update({
+    wear_time_limit_minutes: v.wearTimeLimitMinutes,
+    default_max_hours_per_week: v.defaultMaxHoursPerWeek,
+    fit_rules: v.fitRules,
+  });
   if (!n) throw notFound("No such device type.");
 }
 

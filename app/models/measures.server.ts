@@ -2,7 +2,7 @@ import type { TraceKind } from "~/compute/trace-parsing";
 import { type Db, db } from "~/db.server";
 import { conflict } from "~/errors";
 
-// The baseline battery's measures, configured by an assessor (issue 3 §4).
+// The baseline battery's measures, configured by an assessor.
 export interface Measure {
   id: number;
   code: string;

@@ -1,9 +1,10 @@
 import { sampleStandardDeviation, mean as ssMean } from "simple-statistics";
-import type { Scope } from "~/auth/scope";
+import { todayIn } from "~/dates";
 import { type Db, db } from "~/db.server";
 import { UserError } from "~/errors";
+import { organisationTimeZone } from "./sites.server";
 
-// Norm sets (DESIGN §3.1): mean and SD per measure, cohort-derived or entered from a published table,
+// Norm sets (docs/methods.md): mean and SD per measure, cohort-derived or entered from a published table,
 // with source and date. Every stored z-score records which norm set it used.
 
 /** Fewest workers a cohort-derived norm needs for one measure (below that the measure is left out). */
@@ -34,7 +35,7 @@ export async function listNormSets(k: Db = db()): Promise<NormSet[]> {
     name: s.name,
     origin: s.origin,
     source: s.source,
-    sourceDate: String(s.source_date).slice(0, 10),
+    sourceDate: s.source_date as string,
     createdBy: s.creator ?? null,
     createdAt: String(s.created_at),
     values: values
@@ -132,7 +133,7 @@ export async function createCohortNormSet(
       throw new UserError(
         `No measure has first baselines from at least ${MIN_COHORT_N} consented workers at ${input.siteLabel} yet.`,
       );
-    const today = new Date().toISOString().slice(0, 10);
+    const today = todayIn(await organisationTimeZone(trx));
     const [r] = await trx("norm_sets")
       .insert({
         name: input.name,
@@ -148,8 +149,4 @@ export async function createCohortNormSet(
     );
     return { id: r.id as number, measures: values.length };
   });
-}
-
-export function scopeSiteIds(scope: Scope, allSiteIds: number[]): number[] {
-  return scope.allSites ? allSiteIds : scope.siteIds;
 }

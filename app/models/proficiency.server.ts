@@ -2,7 +2,7 @@ import type { ProficiencyCriterion } from "~/compute/proficiency-rule";
 import { type Db, db } from "~/db.server";
 import { notFound } from "~/errors";
 
-// Proficiency criteria per device type (issue 4, item 2), set by an assessor.
+// Proficiency criteria per device type, set by an assessor.
 export interface CriterionRow extends ProficiencyCriterion {
   deviceTypeId: number;
   deviceTypeCode: string;

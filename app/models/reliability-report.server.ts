@@ -2,7 +2,7 @@ import { sampleStandardDeviation } from "simple-statistics";
 import { intraclassCorrelation, minimalDetectableChange, standardErrorOfMeasurement } from "~/compute/reliability";
 import { type Db, db } from "~/db.server";
 
-// Test–retest reliability per measure from repeated baselines (DESIGN §3.2, issue 3 §6).
+// Test–retest reliability per measure from repeated baselines (docs/methods.md).
 // Ratings: each worker's first two sessions holding the measure (rows = workers, columns = sessions),
 // counted only when they are at most MAX_RETEST_DAYS apart (a test–retest interval short enough that
 // true change is unlikely; sessions further apart measure change, not reliability).
@@ -67,7 +67,7 @@ export async function reliabilityByMeasure(k: Db = db()): Promise<MeasureReliabi
     const key = `${r.measure_id}:${r.worker_id}`;
     const list = series.get(key) ?? [];
     if (list.length < 2)
-      list.push({ value: r.value, day: Date.parse(`${String(r.assessed_on).slice(0, 10)}T00:00:00Z`) / 86_400_000 });
+      list.push({ value: r.value, day: Date.parse(`${r.assessed_on as string}T00:00:00Z`) / 86_400_000 });
     series.set(key, list);
   }
   const pairsByMeasure = new Map<number, [number, number][]>();

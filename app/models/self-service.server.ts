@@ -1,5 +1,6 @@
 import type { Principal } from "~/auth/guard.server";
 import { appUrl } from "~/config.server";
+import { type Instant, instantToWallClock, todayIn, wallClock } from "~/dates";
 import { type Db, db } from "~/db.server";
 import { sendMail } from "~/mail.server";
 import { roleEmailsCovering } from "./adverse-events.server";
@@ -9,19 +10,14 @@ import {
   consentHistory,
   consentState,
   currentConsentTexts,
-  erasePlanEntries,
-  setStage,
-  type WithdrawalResult,
-  withdrawConsent,
+  recordConsent,
 } from "./consent.server";
-
-export { erasePlanEntries };
-
-import { wallClockIso } from "~/schemas/portal";
 import { refreshForecastsForWorker } from "./forecast.server";
 import { type ProgressView, progressView } from "./progress.server";
+import { workerTimeZone } from "./sites.server";
+import { type WithdrawalResult, withdrawConsent } from "./withdrawal.server";
 
-// The worker's own portal (issue 7). Every function takes the worker id that the route read from the
+// The worker's own portal. Every function takes the worker id that the route read from the
 // signed-in session (AppUser.workerId), never one from the URL, and reads only rows of that worker.
 
 export { ConsentInputError };
@@ -60,8 +56,10 @@ export async function ownWorker(workerId: number, k: Db = db()) {
 
 export interface MySession {
   id: number;
+  /** Wall-clock times of the worker's site ("2026-12-07T09:00:00"), in `timeZone`. */
   start: string;
   end: string | null;
+  timeZone: string;
   deviceType: string;
   deviceTypeId: number;
   unit: string | null;
@@ -70,12 +68,13 @@ export interface MySession {
   status: string;
 }
 
-/** My sessions from `from` on (scheduled ones; cancelled ones are left out). */
+/** My sessions from the instant `from` (default now) on the site's clock (scheduled ones; cancelled ones are left out). */
 export async function mySessions(
   workerId: number,
-  opts: { from?: string; limit?: number; includePast?: boolean } = {},
+  opts: { from?: Instant | Date; limit?: number; includePast?: boolean } = {},
   k: Db = db(),
 ): Promise<MySession[]> {
+  const timeZone = await workerTimeZone(workerId, k);
   const q = k("training_sessions as ts")
     .join("device_types as d", "d.id", "ts.device_type_id")
     .leftJoin("device_units as u", "u.id", "ts.device_unit_id")
@@ -102,13 +101,18 @@ export async function mySessions(
     )
     .orderBy("ts.scheduled_start");
   if (!opts.includePast)
-    q.where("ts.status", "scheduled").where("ts.scheduled_start", ">=", opts.from ?? new Date().toISOString());
+    q.where("ts.status", "scheduled").where(
+      "ts.scheduled_start",
+      ">=",
+      instantToWallClock(opts.from ?? new Date(), timeZone),
+    );
   else q.whereNot("ts.status", "cancelled");
   if (opts.limit) q.limit(opts.limit);
   return (await q).map((r) => ({
     id: r.id,
-    start: wallClockIso(r.scheduled_start),
-    end: r.scheduled_end ? wallClockIso(r.scheduled_end) : null,
+    start: wallClock(r.scheduled_start),
+    end: r.scheduled_end ? wallClock(r.scheduled_end) : null,
+    timeZone,
     deviceType: r.device_name,
     deviceTypeId: r.device_type_id,
     unit: r.serial ?? null,
@@ -172,7 +176,7 @@ export async function myForecasts(workerId: number, k: Db = db()): Promise<MyFor
 export async function workerHome(p: Principal, workerId: number, now = new Date()) {
   const me = await ownWorker(workerId);
   if (!me) return null;
-  const next = await mySessions(workerId, { from: now.toISOString(), limit: 8 });
+  const next = await mySessions(workerId, { from: now, limit: 8 });
   const attended = await db()("training_sessions")
     .where({ worker_id: workerId, status: "attended" })
     .count<{ n: number }[]>({ n: "*" });
@@ -218,33 +222,7 @@ export async function myConsent(workerId: number) {
  */
 export async function giveOwnConsent(workerId: number, purpose: ConsentPurpose, userId: number): Promise<void> {
   await db().transaction(async (trx) => {
-    const texts = await currentConsentTexts(trx);
-    const text = texts[purpose];
-    if (!text)
-      throw new ConsentInputError(`There is no ${purpose} consent text in force yet; nothing was recorded.`, "purpose");
-    const last = await trx("consent_records")
-      .where({ worker_id: workerId, purpose })
-      .orderBy("id", "desc")
-      .first("status", "text_version_id");
-    if (last?.status === "given" && last.text_version_id === text.id)
-      throw new ConsentInputError(
-        `You have already given ${purpose} consent on the current text (v${text.version}).`,
-        "purpose",
-      );
-    const at = new Date().toISOString();
-    await trx("consent_records").insert({
-      worker_id: workerId,
-      purpose,
-      text_version_id: text.id,
-      status: "given",
-      given_at: at,
-      witness_user_id: null,
-      recorded_by: userId,
-      created_at: at,
-    });
-    const w = await trx("workers").where({ id: workerId }).first("stage");
-    if (purpose === "assessment" && (w.stage === "invited" || w.stage === "withdrawn"))
-      await setStage(trx, workerId, "consented", userId, at);
+    await recordConsent({ workerId, purposes: [purpose], recordedBy: userId, selfGiven: true }, trx);
     if (purpose === "planning") await refreshForecastsForWorker(trx, workerId, userId);
   });
 }
@@ -259,44 +237,22 @@ export interface OwnWithdrawal extends WithdrawalResult {
  * transaction), then — for planning or assessment — the worker leaves the plans (future scheduled sessions
  * cancelled, planned courses dropped) and the coordinators of the worker's site are e-mailed.
  *
- * Plan removal is an ERASURE_STEPS step of consent.server.ts, so it happens inside the withdrawal's own
- * transaction (for assessor-recorded withdrawals too); dropFromPlans below then finds nothing left and only
- * repairs records written before that step existed.
+ * Plan removal is an ERASURE_STEPS step of withdrawal.server.ts, so it happens inside the withdrawal's own
+ * transaction (for assessor-recorded withdrawals too).
  */
 export async function withdrawOwnConsent(
   workerId: number,
   purpose: ConsentPurpose,
   userId: number,
-  now = new Date(),
 ): Promise<OwnWithdrawal> {
   const result = await withdrawConsent({ workerId, purpose, recordedBy: userId });
   let sessionsCancelled = 0;
   let coordinatorsNotified: string[] = [];
   if (purpose === "planning" || purpose === "assessment") {
-    sessionsCancelled = (result.erased["plan entries"] ?? 0) + (await dropFromPlans(workerId, userId, now));
+    sessionsCancelled = result.erased["plan entries"] ?? 0;
     coordinatorsNotified = await notifyCoordinatorsOfWithdrawal(workerId, purpose, sessionsCancelled);
   }
   return { ...result, sessionsCancelled, coordinatorsNotified };
-}
-
-/** erasePlanEntries in its own transaction (idempotent). */
-export async function dropFromPlans(workerId: number, userId: number | null, now = new Date()): Promise<number> {
-  return db().transaction((trx) => erasePlanEntries(trx, workerId, userId, now));
-}
-
-/** True when withdrawn planning/assessment consent still leaves future scheduled sessions (a failed second step). */
-export async function plansNeedDropping(workerId: number, now = new Date()): Promise<boolean> {
-  const planning = await db()("consent_records")
-    .where({ worker_id: workerId, purpose: "planning" })
-    .orderBy("id", "desc")
-    .first("status");
-  if (planning?.status !== "withdrawn") return false;
-  return Boolean(
-    await db()("training_sessions")
-      .where({ worker_id: workerId, status: "scheduled" })
-      .where("scheduled_start", ">=", now.toISOString())
-      .first("id"),
-  );
 }
 
 /** E-mails the coordinators whose scope covers the worker that the worker left the plans. Returns the addresses. */
@@ -316,7 +272,7 @@ export async function notifyCoordinatorsOfWithdrawal(
     to,
     subject: `Consent withdrawn: ${w.employee_number} leaves training plans`,
     text: [
-      `${w.given_name} ${w.family_name} (${w.employee_number}, ${w.site}) withdrew ${purpose} consent in Limberly on ${new Date().toISOString().slice(0, 10)}.`,
+      `${w.given_name} ${w.family_name} (${w.employee_number}, ${w.site}) withdrew ${purpose} consent in Limberly on ${todayIn(await workerTimeZone(workerId))}.`,
       "",
       `Their forecasts are erased and they are no longer in any plan. ${cancelled} future scheduled session${cancelled === 1 ? " was" : "s were"} cancelled; the device and trainer time is free again.`,
       "Do not plan this worker until they give consent again.",

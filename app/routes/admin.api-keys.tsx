@@ -74,7 +74,7 @@ export default function AdminApiKeys({ loaderData }: Route.ComponentProps) {
         </div>
       )}
       <ActionErrors result={r} intent="revoke" />
-      <div className="card overflow-x-auto p-0" tabIndex={0} role="region" aria-label="API keys">
+      <section className="card overflow-x-auto p-0" tabIndex={0} aria-label="API keys">
         <table className="table-base">
           <caption className="sr-only">API keys</caption>
           <thead>
@@ -105,17 +105,17 @@ export default function AdminApiKeys({ loaderData }: Route.ComponentProps) {
                 <td>{ROLE_LABELS[k.role as keyof typeof ROLE_LABELS]}</td>
                 <td>{k.sites}</td>
                 <td>
-                  {String(k.created_at).slice(0, 10)} by {k.created_by ?? "—"}
+                  {(k.created_at as string).slice(0, 10)} by {k.created_by ?? "—"}
                 </td>
                 <td>{k.last_used_at ? String(k.last_used_at).slice(0, 16).replace("T", " ") : "never"}</td>
                 <td>
                   {k.revoked_at ? (
-                    `Revoked ${String(k.revoked_at).slice(0, 10)}`
+                    `Revoked ${(k.revoked_at as string).slice(0, 10)}`
                   ) : (
                     <Form method="post">
                       <input type="hidden" name="intent" value="revoke" />
                       <input type="hidden" name="keyId" value={k.id} />
-                      <button className="btn-quiet" aria-label={`Revoke key ${k.name}`}>
+                      <button type="submit" className="btn-quiet" aria-label={`Revoke key ${k.name}`}>
                         Revoke
                       </button>
                     </Form>
@@ -125,7 +125,7 @@ export default function AdminApiKeys({ loaderData }: Route.ComponentProps) {
             ))}
           </tbody>
         </table>
-      </div>
+      </section>
       <section className="card" aria-labelledby="new-key">
         <h2 id="new-key" className="text-lg font-semibold">
           Create a key
@@ -147,7 +147,9 @@ export default function AdminApiKeys({ loaderData }: Route.ComponentProps) {
             hint="Hold Ctrl or ⌘ to choose several."
           />
           <div className="sm:col-span-3">
-            <button className="btn-primary">Create key</button>
+            <button type="submit" className="btn-primary">
+              Create key
+            </button>
           </div>
         </ActionForm>
       </section>

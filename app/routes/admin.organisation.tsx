@@ -54,7 +54,7 @@ export default function OrganisationSettingsPage({ loaderData }: Route.Component
           hint={`At least 5, at most ${MAX_THRESHOLD}. Counts of 1 to this number minus 1 are hidden, together with any number that would give them away; medians and shares need a group at least this large.`}
         />
         <Groupings chosen={loaderData.groupings} />
-        <button className="btn-primary justify-self-start" disabled={nav.state === "submitting"}>
+        <button type="submit" className="btn-primary justify-self-start" disabled={nav.state === "submitting"}>
           Save settings
         </button>
       </ActionForm>

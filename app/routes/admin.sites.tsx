@@ -2,9 +2,17 @@ import { useActionData } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { ActionForm, ActionNotice, SelectField, TextField } from "~/components/fields";
 import { siteOptions } from "~/components/scope-options";
+import { timeZoneNames } from "~/dates";
+import { notFound } from "~/errors";
 import { formAction } from "~/forms.server";
-import { createDepartment, createSite, departmentHeadcounts } from "~/models/org.server";
-import { listDepartments, listSites } from "~/models/sites.server";
+import {
+  createDepartment,
+  createSite,
+  departmentHeadcounts,
+  setOrganisationTimeZone,
+  setSiteTimeZone,
+} from "~/models/org.server";
+import { listDepartments, listSites, organisationTimeZone } from "~/models/sites.server";
 import { sitesFormSchema } from "~/schemas/admin";
 import type { Route } from "./+types/admin.sites";
 
@@ -12,29 +20,47 @@ export const meta: Route.MetaFunction = () => [{ title: "Sites and departments Â
 
 export async function loader({ request }: Route.LoaderArgs) {
   await requireUser(request, "admin.sites");
-  const [sites, departments, headcounts] = await Promise.all([listSites(), listDepartments(), departmentHeadcounts()]);
-  return { sites, departments, headcounts };
+  const [sites, departments, headcounts, defaultZone] = await Promise.all([
+    listSites(),
+    listDepartments(),
+    departmentHeadcounts(),
+    organisationTimeZone(),
+  ]);
+  return { sites, departments, headcounts, defaultZone, zones: timeZoneNames() };
 }
 
 export async function action({ request }: Route.ActionArgs) {
   await requireUser(request, "admin.sites");
   return formAction(await request.formData(), sitesFormSchema, async (v) => {
-    if (v.intent === "site") {
-      await createSite(v);
-      return "Site added.";
+    switch (v.intent) {
+      case "site":
+        await createSite(v);
+        return "Site added.";
+      case "department":
+        await createDepartment(v);
+        return "Department added.";
+      case "siteZone":
+        if (!(await setSiteTimeZone(v.siteId, v.timeZone))) throw notFound("That site does not exist.", "timeZone");
+        return `Time zone set to ${v.timeZone}.`;
+      case "orgZone":
+        await setOrganisationTimeZone(v.timeZone);
+        return `New sites start with ${v.timeZone}.`;
     }
-    await createDepartment(v);
-    return "Department added.";
   });
 }
 
 export default function AdminSites({ loaderData }: Route.ComponentProps) {
-  const { sites, departments, headcounts } = loaderData;
+  const { sites, departments, headcounts, defaultZone, zones } = loaderData;
   const r = useActionData<typeof action>();
   return (
     <div className="grid gap-6">
       <h1 className="page-title">Sites and departments</h1>
       <ActionNotice result={r} />
+      <datalist id="time-zones">
+        {zones.map((z) => (
+          <option key={z} value={z} />
+        ))}
+      </datalist>
       <div className="grid gap-4 md:grid-cols-3">
         {sites.map((s) => (
           <section key={s.id} className="card" aria-labelledby={`site-${s.id}`}>
@@ -53,9 +79,36 @@ export default function AdminSites({ loaderData }: Route.ComponentProps) {
                   </li>
                 ))}
             </ul>
+            <ActionForm
+              intent="siteZone"
+              match={{ siteId: String(s.id) }}
+              result={r}
+              className="mt-3 flex flex-wrap items-end gap-2"
+            >
+              <input type="hidden" name="siteId" value={s.id} />
+              <ZoneInput label={`Time zone of ${s.name}`} defaultValue={s.timeZone} />
+              <button type="submit" className="btn-quiet">
+                Save zone
+              </button>
+            </ActionForm>
           </section>
         ))}
       </div>
+      <section className="card max-w-xl" aria-labelledby="org-zone">
+        <h2 id="org-zone" className="text-lg font-semibold">
+          Default time zone for new sites
+        </h2>
+        <p className="mt-1 text-sm text-ink-soft">
+          Session times are the site's wall-clock times: shown, exported and compared (today, this week) in the site's
+          zone. Sign-ins and access-log times are shown in the viewer's site zone, named beside the time.
+        </p>
+        <ActionForm intent="orgZone" result={r} className="mt-3 flex flex-wrap items-end gap-2">
+          <ZoneInput label="Default time zone" defaultValue={defaultZone} />
+          <button type="submit" className="btn-quiet">
+            Save default
+          </button>
+        </ActionForm>
+      </section>
       <div className="grid gap-4 md:grid-cols-2">
         <section className="card" aria-labelledby="add-site">
           <h2 id="add-site" className="text-lg font-semibold">
@@ -64,7 +117,10 @@ export default function AdminSites({ loaderData }: Route.ComponentProps) {
           <ActionForm intent="site" result={r} className="mt-3 grid gap-3">
             <TextField name="code" label="Code" required />
             <TextField name="name" label="Name" required />
-            <button className="btn-primary justify-self-start">Add site</button>
+            <ZoneInput label="Time zone" defaultValue={defaultZone} />
+            <button type="submit" className="btn-primary justify-self-start">
+              Add site
+            </button>
           </ActionForm>
         </section>
         <section className="card" aria-labelledby="add-dept">
@@ -75,10 +131,28 @@ export default function AdminSites({ loaderData }: Route.ComponentProps) {
             <SelectField name="siteId" label="Site" required options={siteOptions(sites)} />
             <TextField name="code" label="Code" required />
             <TextField name="name" label="Name" required />
-            <button className="btn-primary justify-self-start">Add department</button>
+            <button type="submit" className="btn-primary justify-self-start">
+              Add department
+            </button>
           </ActionForm>
         </section>
       </div>
+    </div>
+  );
+}
+
+/** An IANA zone name, typed or picked from the shared list; the server checks it against the same list. */
+function ZoneInput({ label, defaultValue }: { label: string; defaultValue: string }) {
+  return (
+    <div className="grow">
+      <TextField
+        name="timeZone"
+        label={label}
+        list="time-zones"
+        defaultValue={defaultValue}
+        required
+        autoComplete="off"
+      />
     </div>
   );
 }

@@ -65,7 +65,9 @@ export default function AdminUser({ loaderData }: Route.ComponentProps) {
             <CheckboxField name="active" label="Active (may sign in)" defaultChecked={user.active} />
           </div>
           <div className="sm:col-span-2">
-            <button className="btn-primary">Save details</button>
+            <button type="submit" className="btn-primary">
+              Save details
+            </button>
           </div>
         </ActionForm>
       </section>
@@ -86,7 +88,11 @@ export default function AdminUser({ loaderData }: Route.ComponentProps) {
               <Form method="post">
                 <input type="hidden" name="intent" value="remove-role" />
                 <input type="hidden" name="assignmentId" value={a.id} />
-                <button className="btn-quiet" aria-label={`Remove ${ROLE_LABELS[a.role]} role for ${a.scope}`}>
+                <button
+                  type="submit"
+                  className="btn-quiet"
+                  aria-label={`Remove ${ROLE_LABELS[a.role]} role for ${a.scope}`}
+                >
                   Remove
                 </button>
               </Form>
@@ -103,7 +109,9 @@ export default function AdminUser({ loaderData }: Route.ComponentProps) {
           <SelectField name="siteId" label="Site" options={siteOptions(sites)} />
           <SelectField name="departmentId" label="Department" options={departmentOptions(departments)} />
           <div className="sm:col-span-3">
-            <button className="btn-primary">Add role</button>
+            <button type="submit" className="btn-primary">
+              Add role
+            </button>
           </div>
         </ActionForm>
       </section>

@@ -114,7 +114,9 @@ export default function Norms({ loaderData }: Route.ComponentProps) {
             ]}
           />
           <div className="sm:col-span-2">
-            <button className="btn-primary">Compute and save</button>
+            <button type="submit" className="btn-primary">
+              Compute and save
+            </button>
           </div>
         </ActionForm>
       </section>
@@ -142,7 +144,9 @@ export default function Norms({ loaderData }: Route.ComponentProps) {
             ))}
           </fieldset>
           <div>
-            <button className="btn-primary">Save published norms</button>
+            <button type="submit" className="btn-primary">
+              Save published norms
+            </button>
           </div>
         </ActionForm>
       </section>

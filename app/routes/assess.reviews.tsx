@@ -1,9 +1,11 @@
 import { Link, useActionData, useNavigation } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { ActionForm, ActionNotice, TextArea } from "~/components/fields";
+import { formatInstantDay } from "~/dates";
 import { formAction } from "~/forms.server";
 import { answerReview, reviewQueue } from "~/models/reviews.server";
-import { formatDay, REVIEW_SUBJECT_LABELS, reviewAnswerSchema } from "~/schemas/portal";
+import { viewerTimeZone } from "~/models/sites.server";
+import { REVIEW_SUBJECT_LABELS, reviewAnswerSchema } from "~/schemas/portal";
 import type { Route } from "./+types/assess.reviews";
 
 export const meta: Route.MetaFunction = () => [{ title: "Review requests · Limberly" }];
@@ -13,7 +15,7 @@ export async function loader({ request }: Route.LoaderArgs) {
   const p = await requireUser(request, "reviews.answer");
   const url = new URL(request.url);
   const show = url.searchParams.get("show") === "answered" ? "answered" : "open";
-  return { show, requests: await reviewQueue(p, show) };
+  return { show, requests: await reviewQueue(p, show), timeZone: await viewerTimeZone(p) };
 }
 
 export async function action({ request }: Route.ActionArgs) {
@@ -27,7 +29,8 @@ export async function action({ request }: Route.ActionArgs) {
 }
 
 export default function ReviewQueue({ loaderData }: Route.ComponentProps) {
-  const { show, requests } = loaderData;
+  const { show, requests, timeZone } = loaderData;
+  const formatDay = (at: string) => formatInstantDay(at, timeZone);
   const result = useActionData<typeof action>();
   const busy = useNavigation().state === "submitting";
   return (
@@ -97,7 +100,7 @@ export default function ReviewQueue({ loaderData }: Route.ComponentProps) {
                   <input type="hidden" name="reviewId" value={r.id} />
                   <TextArea name="answer" label={`Answer to ${r.name}`} rows={3} required />
                   <div>
-                    <button className="btn-primary min-h-11" disabled={busy}>
+                    <button type="submit" className="btn-primary min-h-11" disabled={busy}>
                       Send answer
                     </button>
                   </div>

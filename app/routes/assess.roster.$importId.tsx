@@ -160,7 +160,7 @@ export default function RosterPreview({ loaderData }: Route.ComponentProps) {
                 />
               ))}
               <div className="sm:col-span-3">
-                <button className="btn-quiet" disabled={busy}>
+                <button type="submit" className="btn-quiet" disabled={busy}>
                   Apply mapping and preview
                 </button>
               </div>
@@ -198,13 +198,17 @@ export default function RosterPreview({ loaderData }: Route.ComponentProps) {
                 <div className="flex flex-wrap gap-3">
                   <Form method="post">
                     <input type="hidden" name="intent" value="import" />
-                    <button className="btn-primary" disabled={busy || d.preview.creates + d.preview.updates === 0}>
+                    <button
+                      type="submit"
+                      className="btn-primary"
+                      disabled={busy || d.preview.creates + d.preview.updates === 0}
+                    >
                       Import {d.preview.creates + d.preview.updates} valid row(s)
                     </button>
                   </Form>
                   <Form method="post">
                     <input type="hidden" name="intent" value="discard" />
-                    <button className="btn-quiet" disabled={busy}>
+                    <button type="submit" className="btn-quiet" disabled={busy}>
                       Discard upload
                     </button>
                   </Form>

@@ -1,9 +1,11 @@
 import { data, Form, Link, redirect, useActionData, useNavigation } from "react-router";
 import { requireUser } from "~/auth/guard.server";
-import { roleAllows } from "~/auth/permissions";
+import { can } from "~/auth/permissions";
 import { consentText, StageBadge } from "~/components/badges";
 import { FormError, Notice, SelectField, TextArea, TextField } from "~/components/fields";
 import { ProfileChart, type ProfilePoint } from "~/components/profile-chart";
+import { todayIn } from "~/dates";
+import { CONSENT_PURPOSES } from "~/domain/consent-purposes";
 import { recordAccess } from "~/models/access-log.server";
 import { AssessmentInputError, createSession, sessionsForWorker, workerForStaff } from "~/models/assessments.server";
 import {
@@ -14,16 +16,15 @@ import {
   currentConsentTexts,
   listWitnesses,
   recordConsent,
-  withdrawConsent,
 } from "~/models/consent.server";
 import { listNormSets } from "~/models/norms.server";
 import { changesSincePrevious, reliabilityByMeasure } from "~/models/reliability-report.server";
+import { workerTimeZone } from "~/models/sites.server";
+import { withdrawConsent } from "~/models/withdrawal.server";
 import { sessionSchema } from "~/schemas/assessment";
 import { PURPOSE_LABELS, recordConsentSchema, withdrawConsentSchema } from "~/schemas/consent";
 import { formToObject, parseWith } from "~/schemas/form";
 import type { Route } from "./+types/assess.workers.$workerId";
-
-const CONSENT_PURPOSES = ["assessment", "planning", "model"] as const;
 
 export const meta: Route.MetaFunction = ({ data: d }) => [
   { title: `${d?.worker.employeeNumber ?? "Worker"} · Limberly` },
@@ -73,6 +74,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       };
     });
   return {
+    // The assessment form's default date: today on the worker's site clock.
+    today: todayIn(await workerTimeZone(worker.id)),
     worker,
     consent,
     history,
@@ -94,8 +97,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     texts: Object.fromEntries(
       CONSENT_PURPOSES.map((pp) => [pp, texts[pp] ? { version: texts[pp]!.version, body: texts[pp]!.body } : null]),
     ),
-    canConsent: p.user.roles.some((r) => roleAllows(r, "consent.manage")),
-    canWrite: p.user.roles.some((r) => roleAllows(r, "assessments.write")),
+    canConsent: can(p.user, "consent.manage"),
+    canWrite: can(p.user, "assessments.write"),
   };
 }
 
@@ -158,13 +161,25 @@ export async function action({ request, params }: Route.ActionArgs) {
 const fmt = (v: number) => (Math.abs(v) >= 100 ? v.toFixed(1) : v.toPrecision(3));
 
 export default function WorkerRecord({ loaderData }: Route.ComponentProps) {
-  const { worker, consent, history, points, latestOn, sessions, changes, witnesses, me, texts, canConsent, canWrite } =
-    loaderData;
+  const {
+    today,
+    worker,
+    consent,
+    history,
+    points,
+    latestOn,
+    sessions,
+    changes,
+    witnesses,
+    me,
+    texts,
+    canConsent,
+    canWrite,
+  } = loaderData;
   const r = useActionData<typeof action>();
   const busy = useNavigation().state === "submitting";
   const errors = (r && "errors" in r && r.errors ? r.errors : {}) as Record<string, string>;
   const assessmentGiven = consent.assessment.status === "given";
-  const today = new Date().toISOString().slice(0, 10);
   return (
     <div className="grid gap-6">
       <div>
@@ -271,7 +286,7 @@ export default function WorkerRecord({ loaderData }: Route.ComponentProps) {
               </p>
             )}
             <div>
-              <button className="btn-primary" disabled={busy}>
+              <button type="submit" className="btn-primary" disabled={busy}>
                 Record consent
               </button>
             </div>
@@ -302,7 +317,7 @@ export default function WorkerRecord({ loaderData }: Route.ComponentProps) {
                 autoComplete="off"
               />
               <div>
-                <button className="btn-danger" disabled={busy}>
+                <button type="submit" className="btn-danger" disabled={busy}>
                   Withdraw {pp} consent
                 </button>
               </div>
@@ -451,7 +466,7 @@ export default function WorkerRecord({ loaderData }: Route.ComponentProps) {
                 <TextArea name="notes" label="Notes (optional)" rows={2} error={errors.notes} />
               </div>
               <div className="sm:col-span-2">
-                <button className="btn-primary" disabled={busy}>
+                <button type="submit" className="btn-primary" disabled={busy}>
                   Start assessment session
                 </button>
               </div>

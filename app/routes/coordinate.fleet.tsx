@@ -101,12 +101,7 @@ export default function Fleet({ loaderData, actionData }: Route.ComponentProps) 
                 </button>
               </div>
             </ActionForm>
-            <div
-              className="overflow-x-auto"
-              tabIndex={0}
-              role="region"
-              aria-label={`${t.name} units (scrolls sideways)`}
-            >
+            <section className="overflow-x-auto" tabIndex={0} aria-label={`${t.name} units (scrolls sideways)`}>
               <table className="table-base">
                 <caption className="sr-only">{t.name} units</caption>
                 <thead>
@@ -200,7 +195,7 @@ export default function Fleet({ loaderData, actionData }: Route.ComponentProps) 
                   })}
                 </tbody>
               </table>
-            </div>
+            </section>
           </section>
         );
       })}

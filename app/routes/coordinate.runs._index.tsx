@@ -3,11 +3,13 @@ import { requireUser } from "~/auth/guard.server";
 import { DeviceCautions } from "~/components/device-cautions";
 import { FormError, TextField } from "~/components/fields";
 import { addDays, isoWeekday } from "~/compute/plan-calendar";
+import { todayIn } from "~/dates";
 import { enqueueRun, ensureJobsStarted } from "~/jobs/runner.server";
 import { createRun, getRunStatus, listRuns, RunInputError } from "~/models/allocation-runs.server";
 import { planningChoices } from "~/models/fleet-admin.server";
 import { planningQuantile } from "~/models/forecast.server";
 import { planState } from "~/models/publish.server";
+import { viewerTimeZone } from "~/models/sites.server";
 import { runFormSchema } from "~/schemas/allocation";
 import { formToObject, parseWith } from "~/schemas/form";
 import type { Route } from "./+types/coordinate.runs._index";
@@ -31,7 +33,7 @@ export async function loader({ request }: Route.LoaderArgs) {
     planningQuantile(),
     planState(),
   ]);
-  return { runs, choices, quantile, base, defaultStart: nextMonday(new Date().toISOString().slice(0, 10)), plan };
+  return { runs, choices, quantile, base, defaultStart: nextMonday(todayIn(await viewerTimeZone(p))), plan };
 }
 
 export async function action({ request }: Route.ActionArgs) {
@@ -293,12 +295,7 @@ export default function RunsIndex({ loaderData, actionData }: Route.ComponentPro
         {runs.length === 0 ? (
           <p className="text-ink-soft">No runs yet.</p>
         ) : (
-          <div
-            className="card overflow-x-auto p-0"
-            tabIndex={0}
-            role="region"
-            aria-label="Allocation runs (scrolls sideways)"
-          >
+          <section className="card overflow-x-auto p-0" tabIndex={0} aria-label="Allocation runs (scrolls sideways)">
             <table className="table-base">
               <caption className="sr-only">Allocation runs, newest first</caption>
               <thead>
@@ -336,7 +333,7 @@ export default function RunsIndex({ loaderData, actionData }: Route.ComponentPro
                 ))}
               </tbody>
             </table>
-          </div>
+          </section>
         )}
       </section>
       <DeviceCautions compact />

@@ -1,9 +1,11 @@
 import { useActionData, useNavigation } from "react-router";
 import { ActionForm, ActionNotice, SelectField, TextArea } from "~/components/fields";
+import { formatInstantDay } from "~/dates";
 import { formAction } from "~/forms.server";
 import { createReviewRequest, myReviewRequests } from "~/models/reviews.server";
 import { myForecasts } from "~/models/self-service.server";
-import { formatDay, REVIEW_SUBJECT_LABELS, REVIEW_SUBJECTS, reviewRequestSchema } from "~/schemas/portal";
+import { workerTimeZone } from "~/models/sites.server";
+import { REVIEW_SUBJECT_LABELS, REVIEW_SUBJECTS, reviewRequestSchema } from "~/schemas/portal";
 import type { Route } from "./+types/me.review";
 import { requireOwnWorker } from "./me.guard.server";
 
@@ -12,7 +14,7 @@ export const meta: Route.MetaFunction = () => [{ title: "Ask for a review · Lim
 export async function loader({ request }: Route.LoaderArgs) {
   const { workerId } = await requireOwnWorker(request, "self.read");
   const devices = (await myForecasts(workerId)).map((f) => ({ id: f.deviceTypeId, name: f.deviceType }));
-  return { requests: await myReviewRequests(workerId), devices };
+  return { requests: await myReviewRequests(workerId), devices, timeZone: await workerTimeZone(workerId) };
 }
 
 export async function action({ request }: Route.ActionArgs) {
@@ -24,7 +26,8 @@ export async function action({ request }: Route.ActionArgs) {
 }
 
 export default function MyReview({ loaderData }: Route.ComponentProps) {
-  const { requests, devices } = loaderData;
+  const { requests, devices, timeZone } = loaderData;
+  const formatDay = (at: string) => formatInstantDay(at, timeZone);
   const result = useActionData<typeof action>();
   const busy = useNavigation().state === "submitting";
   return (
@@ -65,7 +68,7 @@ export default function MyReview({ loaderData }: Route.ComponentProps) {
             hint="For example: the hours look too high for me, or the session times clash with my shifts."
           />
           <div>
-            <button className="btn-primary min-h-11" disabled={busy}>
+            <button type="submit" className="btn-primary min-h-11" disabled={busy}>
               {busy ? "Sending…" : "Send request"}
             </button>
           </div>

@@ -102,11 +102,11 @@ export default function ModelVersionPage({ loaderData }: Route.ComponentProps) {
           )}
           <ActionForm result={result} className="mt-3 flex flex-wrap gap-3">
             {canApprove && (
-              <button className="btn-primary" name="intent" value="approve" disabled={busy}>
+              <button type="submit" className="btn-primary" name="intent" value="approve" disabled={busy}>
                 Approve version {v.versionNumber}
               </button>
             )}
-            <button className="btn-quiet" name="intent" value="retire" disabled={busy}>
+            <button type="submit" className="btn-quiet" name="intent" value="retire" disabled={busy}>
               Discard (retire)
             </button>
           </ActionForm>
@@ -135,7 +135,7 @@ export default function ModelVersionPage({ loaderData }: Route.ComponentProps) {
             <p className="text-xs text-ink-soft">Too few outcomes to judge drift (needs {DRIFT_MINIMUM_OUTCOMES}).</p>
           )}
           <ActionForm result={result} className="mt-3">
-            <button className="btn-quiet" name="intent" value="retire" disabled={busy}>
+            <button type="submit" className="btn-quiet" name="intent" value="retire" disabled={busy}>
               Retire this version
             </button>
           </ActionForm>

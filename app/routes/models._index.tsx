@@ -186,7 +186,7 @@ export default function ModelsIndex({ loaderData }: Route.ComponentProps) {
                   />
                 </div>
                 <div>
-                  <button className="btn-quiet" disabled={busy}>
+                  <button type="submit" className="btn-quiet" disabled={busy}>
                     Save criterion
                   </button>
                 </div>
@@ -216,7 +216,7 @@ export default function ModelsIndex({ loaderData }: Route.ComponentProps) {
             inputMode="decimal"
             defaultValue={quantile.toFixed(2)}
           />
-          <button className="btn-quiet" disabled={busy}>
+          <button type="submit" className="btn-quiet" disabled={busy}>
             Save and recompute
           </button>
         </ActionForm>

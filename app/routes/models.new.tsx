@@ -88,11 +88,11 @@ export default function Workbench({ loaderData }: Route.ComponentProps) {
           <TextArea name="notes" label="Notes for the reviewer" rows={2} defaultValue={sent?.notes ?? ""} />
         </div>
         <div className="flex flex-wrap gap-3">
-          <button className="btn-primary" name="intent" value="fit" disabled={busy}>
+          <button type="submit" className="btn-primary" name="intent" value="fit" disabled={busy}>
             {busy && nav.formData?.get("intent") === "fit" ? "Fitting…" : "Fit model"}
           </button>
           {fit && (
-            <button className="btn-quiet" name="intent" value="save" disabled={busy}>
+            <button type="submit" className="btn-quiet" name="intent" value="save" disabled={busy}>
               Save as draft version
             </button>
           )}

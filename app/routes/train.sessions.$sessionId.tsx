@@ -2,10 +2,10 @@ import { data, Link, redirect, useActionData, useNavigation } from "react-router
 import { requireUser } from "~/auth/guard.server";
 import { DeviceCautions } from "~/components/device-cautions";
 import { ActionForm, ActionNotice, FieldMessage, RadioGroup, TextArea, TextField } from "~/components/fields";
+import { addMinutesToWallClock, formatDay, formatSpan, toLocalInput, wallClockNow } from "~/dates";
 import { formAction } from "~/forms.server";
 import { recordAccess } from "~/models/access-log.server";
 import { logTrainerSession, markNoShow, trainerForUser, trainerSession } from "~/models/trainer-day.server";
-import { formatDay, formatSpan, toLocalInput } from "~/schemas/portal";
 import { ADVERSE_KINDS, ADVERSE_LABELS, attendanceSchema, SEVERITIES, trainerLogSchema } from "~/schemas/session-log";
 import type { Route } from "./+types/train.sessions.$sessionId";
 
@@ -27,9 +27,9 @@ async function load(request: Request, params: { sessionId?: string }, action: "s
 }
 
 export async function loader({ request, params }: Route.LoaderArgs) {
-  const { p, session } = await load(request, params, "sessions.own");
+  const { p, trainer, session } = await load(request, params, "sessions.own");
   await recordAccess(p, request, session.workerId, "sessions");
-  return { session };
+  return { session, timeZone: trainer.timeZone, now: wallClockNow(trainer.timeZone) };
 }
 
 export async function action({ request, params }: Route.ActionArgs) {
@@ -58,13 +58,13 @@ export async function action({ request, params }: Route.ActionArgs) {
 }
 
 export default function TrainerSession({ loaderData }: Route.ComponentProps) {
-  const { session: s } = loaderData;
+  const { session: s, timeZone, now } = loaderData;
   const result = useActionData<typeof action>();
   const busy = useNavigation().state === "submitting";
   const done = Boolean(result?.notice);
   const open = s.status === "scheduled" && s.courseStatus !== "paused" && !done;
-  const defaultStart = s.start ?? new Date().toISOString();
-  const defaultEnd = s.end ?? new Date(new Date(defaultStart).getTime() + 3_600_000).toISOString();
+  const defaultStart = s.start ?? now;
+  const defaultEnd = s.end ?? addMinutesToWallClock(defaultStart, 60);
   return (
     <div className="grid gap-6">
       <div>
@@ -79,7 +79,7 @@ export default function TrainerSession({ loaderData }: Route.ComponentProps) {
         <p className="text-ink-soft">
           {s.employeeNumber} · {s.start ? `${formatDay(s.start)} ${formatSpan(s.start, s.end)}` : "unscheduled"} ·{" "}
           {s.place}
-          {s.unit ? ` · unit ${s.unit}` : ""}
+          {s.unit ? ` · unit ${s.unit}` : ""} · {timeZone} time
         </p>
         <p className="text-sm">
           <Link to={`/progress/${s.workerId}/${s.deviceTypeId}`} className="text-spruce-700 underline">
@@ -175,7 +175,13 @@ export default function TrainerSession({ loaderData }: Route.ComponentProps) {
               ))}
             </section>
             <div className="flex flex-wrap gap-3">
-              <button className="btn-primary min-h-12 min-w-40 text-lg" name="intent" value="log" disabled={busy}>
+              <button
+                type="submit"
+                className="btn-primary min-h-12 min-w-40 text-lg"
+                name="intent"
+                value="log"
+                disabled={busy}
+              >
                 {busy ? "Saving…" : "Save session"}
               </button>
               <Link to="/train" className="btn-quiet inline-flex min-h-12 items-center">

@@ -1,5 +1,7 @@
 import { z } from "zod";
 import { ROLES } from "~/auth/permissions";
+import { isTimeZone } from "~/dates/calendar";
+import { CONSENT_PURPOSES } from "~/domain/consent-purposes";
 import { intents } from "~/schemas/form";
 
 // Shared by the admin forms, their actions and any API that takes the same input.
@@ -38,6 +40,12 @@ export const updateUserSchema = z.object({
   active: z.preprocess((v) => v === "on" || v === "true" || v === true, z.boolean()),
 });
 
+/** An IANA time-zone name ("Europe/Berlin"), as the runtime's copy of the IANA tz database knows it. */
+export const timeZoneField = z
+  .string({ message: "Time zone: choose one from the list." })
+  .trim()
+  .refine(isTimeZone, "Time zone: choose a zone name from the list (IANA names such as Europe/London).");
+
 export const siteSchema = z.object({
   code: z
     .string()
@@ -45,7 +53,15 @@ export const siteSchema = z.object({
     .toUpperCase()
     .regex(/^[A-Z0-9-]{2,20}$/, "Code: 2–20 letters, digits or dashes."),
   name: z.string().trim().min(2, "Enter the site's name.").max(200),
+  timeZone: timeZoneField,
 });
+
+export const siteTimeZoneSchema = z.object({
+  siteId: z.coerce.number({ message: "Site: not found." }).int().positive("Site: not found."),
+  timeZone: timeZoneField,
+});
+
+export const organisationTimeZoneSchema = z.object({ timeZone: timeZoneField });
 
 export const departmentSchema = z.object({
   siteId: z.coerce.number({ message: "Choose a site." }).int().positive("Choose a site."),
@@ -62,12 +78,6 @@ export const userFormSchema = intents(
   updateUserSchema.extend({ intent: z.literal("update") }),
   roleAssignmentSchema.safeExtend({ intent: z.literal("add-role") }),
   z.object({ intent: z.literal("remove-role"), assignmentId: z.coerce.number().int().positive() }),
-);
-
-/** The two forms of the sites page. */
-export const sitesFormSchema = intents(
-  siteSchema.extend({ intent: z.literal("site") }),
-  departmentSchema.extend({ intent: z.literal("department") }),
 );
 
 export const apiKeySchema = z.object({
@@ -88,7 +98,7 @@ export const apiKeyFormSchema = intents(
 );
 
 export const consentTextSchema = z.object({
-  purpose: z.enum(["assessment", "planning", "model"], { message: "Choose a purpose." }),
+  purpose: z.enum(CONSENT_PURPOSES, { message: "Choose a purpose." }),
   version: z
     .string()
     .trim()
@@ -109,3 +119,11 @@ export const accessLogFilterSchema = z.object({
     .optional()
     .or(z.literal("").transform(() => undefined)),
 });
+
+/** The forms of the sites page: add a site or a department, a site's time zone, the default zone. */
+export const sitesFormSchema = intents(
+  siteSchema.extend({ intent: z.literal("site") }),
+  departmentSchema.extend({ intent: z.literal("department") }),
+  siteTimeZoneSchema.extend({ intent: z.literal("siteZone") }),
+  organisationTimeZoneSchema.extend({ intent: z.literal("orgZone") }),
+);

@@ -1,7 +1,7 @@
 import { z } from "zod";
 import { intents } from "~/schemas/form";
 
-// Roster rows (issue 3): one zod schema per row, shared by the import preview, the import itself and
+// Roster rows: one zod schema per row, shared by the import preview, the import itself and
 // the tests. Pure: sites and departments are passed in, so this runs without a database.
 
 export const ROSTER_FIELDS = ["employeeNumber", "givenName", "familyName", "email", "site", "department"] as const;

@@ -1,4 +1,4 @@
-// Worker portal (issue 7) in the browser: a worker sees their plan, downloads their data, withdraws planning
+// Worker portal in the browser: a worker sees their plan, downloads their data, withdraws planning
 // consent and leaves the plans (future sessions cancelled, forecasts gone, coordinator e-mailed); the home page
 // at 390 px; a review request answered by an assessor. Invented demo people (seeds/07_portals_demo.ts).
 import fs from "node:fs";
@@ -56,7 +56,13 @@ test("a worker sees their plan, downloads their data, withdraws planning consent
   );
   const data = JSON.parse(fs.readFileSync(await json.path(), "utf8"));
   expect(data.worker.employeeNumber).toBe(me.employeeNumber);
-  expect(data.sessions.some((x: { scheduledStart: string }) => x.scheduledStart === start.toISOString())).toBe(true);
+  // Session times are the site's wall-clock times, exported without a zone and with the site's zone named.
+  expect(
+    data.sessions.some(
+      (x: { scheduledStart: string; timeZone: string }) =>
+        x.scheduledStart === start.toISOString().slice(0, 19) && x.timeZone === "Europe/London",
+    ),
+  ).toBe(true);
   expect(new Set(JSON.stringify(data).match(/HV-\d{5}/g))).toEqual(new Set([me.employeeNumber]));
   const [xlsx] = await Promise.all([
     page.waitForEvent("download"),
@@ -76,7 +82,8 @@ test("a worker sees their plan, downloads their data, withdraws planning consent
   const cal = fs.readFileSync(await ics.path(), "utf8");
   // Same UID scheme as the allocation area's publish e-mails (one event per session in the worker's calendar).
   expect(cal).toContain(`UID:w${me.id}-${start.toISOString().slice(0, 10)}-1000-${arm.id}@limberly`);
-  expect(cal).toContain(`DTSTART:${start.toISOString().slice(0, 10).replace(/-/g, "")}T100000`);
+  // Wall-clock digits with the site's zone (the demo sites keep UK time).
+  expect(cal).toContain(`DTSTART;TZID=Europe/London:${start.toISOString().slice(0, 10).replace(/-/g, "")}T100000`);
 
   // Withdraw planning consent.
   await page.getByRole("navigation").getByRole("link", { name: "My consent" }).click();
@@ -100,7 +107,7 @@ test("a worker sees their plan, downloads their data, withdraws planning consent
     (m) => m.subject === `Consent withdrawn: ${me.employeeNumber} leaves training plans`,
   );
   expect(mail.to).toContain(persona("coordinator").email);
-  // The allocation pool takes only workers with planning consent in force and a forecast (DESIGN §4); both are gone.
+  // The allocation pool takes only workers with planning consent in force and a forecast (docs/consent-and-disclosure.md); both are gone.
   // (tests/integration/portals.test.ts builds the next run's pool with the allocation area's buildProblem and
   // checks the worker is gone from it.)
   const api = await page.request.get("/api/v1/me/plan");

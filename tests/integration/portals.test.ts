@@ -3,9 +3,9 @@ import { describe, expect, inject, it } from "vitest";
 import { buildProblem } from "~/models/allocation-problem.server";
 import { runParametersSchema } from "~/schemas/allocation";
 import { readOutbox } from "../../scripts/smtp-catcher";
-import { type Browserless, PERSONA, signIn, testDb } from "./helpers";
+import { PERSONA, signIn, testDb } from "./helpers";
 
-// Worker and trainer portals (issue 7) against the running stack and the invented demo (seeds/07_portals_demo.ts:
+// Worker and trainer portals against the running stack and the invented demo (seeds/07_portals_demo.ts:
 // two worker accounts among Ines Calloway's trainees, her scheduled sessions). Each test makes the rows it
 // changes (sessions dated from now) so that the shared database stays usable by other files.
 const k = testDb();
@@ -43,7 +43,10 @@ async function portalAccount(i: 0 | 1) {
 }
 const hoursFromNow = (h: number) => new Date(Date.now() + h * 3_600_000).toISOString();
 
-/** A start `hoursAgo` before now, but never before this week's Monday 00:00 UTC (the trainer's week view). */
+/**
+ * A start `hoursAgo` before now, but never before this week's Monday 00:00 (UTC digits, stored as the site's
+ * wall-clock time: inside the trainer's week on the demo's UK clock, which is UTC or an hour ahead).
+ */
 function startThisWeek(hoursAgo: number): Date {
   const now = new Date();
   const monday = new Date(
@@ -222,7 +225,8 @@ describe("the worker home", () => {
     expect(html).toContain("09:30–10:30");
     expect(html).toContain("14:15–15:00");
     const ics = await (await client.request("/me/calendar.ics")).text();
-    expect(ics).toContain(`DTSTART:${day2.replace(/-/g, "")}T141500`);
+    // The demo sites keep UK time: the calendar names the zone beside the wall-clock digits.
+    expect(ics).toContain(`DTSTART;TZID=Europe/London:${day2.replace(/-/g, "")}T141500`);
     expect(html).toContain("Foot-driven supernumerary finger");
     expect(html).toContain("Trainer: Ines Calloway");
     expect(html).toContain(
@@ -342,7 +346,7 @@ describe("consent from the worker portal", () => {
     expect((await k("training_sessions").where({ id: otherFuture }).first()).status).toBe("scheduled");
     expect(await k("consent_records").where({ worker_id: other.id }).orderBy("id")).toEqual(otherConsentBefore);
     expect(await k("forecasts").where({ worker_id: other.id }).orderBy("id")).toEqual(otherForecastsBefore);
-    // …and the next run's pool no longer has them at all (issue 5's pool: planning consent in force).
+    // …and the next run's pool no longer has them at all (planning consent in force).
     expect(inPool(await buildProblem(params, scope, k))).toBe(false);
 
     // The North Yard coordinator (organisation-wide Tobias Renn included) is told.
