@@ -2,14 +2,21 @@ import { nowInstant } from "~/dates";
 import { db } from "~/db.server";
 import { conflict, notFound } from "~/errors";
 
-export async function createSite(v: { code: string; name: string; timeZone: string }): Promise<number> {
+/** Adds a site; without a zone it takes the organisation's default zone. */
+export async function createSite(v: { code: string; name: string; timeZone?: string }): Promise<number> {
   return db().transaction(async (trx) => {
     if (await trx("sites").where({ code: v.code }).first("id"))
       throw conflict(`Site code ${v.code} is already used.`, "code");
-    const org = await trx("organisations").first("id");
+    const org = await trx("organisations").orderBy("id").first("id", "time_zone");
     if (!org) throw new Error("No organisation is set up.");
     const [r] = await trx("sites")
-      .insert({ organisation_id: org.id, code: v.code, name: v.name, time_zone: v.timeZone, created_at: nowInstant() })
+      .insert({
+        organisation_id: org.id,
+        code: v.code,
+        name: v.name,
+        time_zone: v.timeZone ?? org.time_zone,
+        created_at: nowInstant(),
+      })
       .returning("id");
     return r.id as number;
   });
