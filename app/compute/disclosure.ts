@@ -64,7 +64,7 @@ export function protectTable(
   const primary = system.entries.map((entry) => isSmallCount(entry.value, threshold));
   // Fast graph heuristic first; the LP audit then confirms (and would repair) the pattern.
   const pattern = protectByCycles(system, m, n, primary);
-  const suppressed = auditUntilSafe(system, pattern, (e) => suppressionCost(system, e, grand));
+  const suppressed = auditUntilSafe(system, pattern, (e) => suppressionCost(system, e, grand), threshold);
   return flatResult(rows, columns, system, suppressed, threshold);
 }
 
@@ -114,7 +114,7 @@ export function protectLinkedTables(input: LinkedTablesInput): ProtectedLinkedTa
   const cost = (e: number) => suppressionCost(system, e, grand);
   const primary = system.entries.map((entry) => isSmallCount(entry.value, threshold));
   const pattern = protectAlgebraically(system, primary, cost);
-  const suppressed = auditUntilSafe(system, pattern, cost);
+  const suppressed = auditUntilSafe(system, pattern, cost, threshold);
   const show = (e: number) => (suppressed[e] ? null : system.entries[e].value);
   const totals = layout.columnTotalIndex.slice(0, columns.length).map(show);
   const grandTotal = show(layout.columnTotalIndex[columns.length]);
