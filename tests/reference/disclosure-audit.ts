@@ -1,11 +1,16 @@
 // Independent attacker audit for the disclosure tests, solved with HiGHS (npm `highs`, reference only).
 // It reads ONLY what is published (nulls are unknown), writes every additivity relation — redundant
 // ones included, which HiGHS tolerates — as a CPLEX LP-format model, and asks for the min and max of
-// each hidden number over all non-negative tables that agree (Hundepool et al. 2012, Statistical
-// Disclosure Control, Wiley, ch. 7: the "attacker problem" — from memory). It shares no code with
+// each hidden number over all tables that agree (Hundepool et al. 2012, Statistical Disclosure Control,
+// Wiley, ch. 7: the "attacker problem" — from memory). The reader is the informed one: they know zeros
+// are always shown, so every hidden number is at least 1 (HIDDEN_AT_LEAST). It shares no code with
 // app/compute/disclosure*, so agreement with the product's javascript-lp-solver audit is a real check.
 
 import loadHighs from "highs";
+import { mulberry32 } from "../../app/compute/seeded-random";
+
+/** What the informed reader knows of every hidden number: zeros are shown, so it is ≥ 1. */
+export const HIDDEN_AT_LEAST = 1;
 
 type Highs = Awaited<ReturnType<typeof loadHighs>>;
 let highsPromise: Promise<Highs> | null = null;
@@ -51,7 +56,7 @@ function lpModel(
     lines.push(` e${r}: ${terms.join(" ")} = ${-constant}`);
   });
   lines.push("Bounds");
-  for (const q of quantities.values()) if (q.shown === null) lines.push(` ${q.name} >= 0`);
+  for (const q of quantities.values()) if (q.shown === null) lines.push(` ${q.name} >= ${HIDDEN_AT_LEAST}`);
   lines.push("End");
   return lines.join("\n");
 }
@@ -166,7 +171,7 @@ export async function highsLinkedBounds(
 /** Names the helpers use, so tests can map product audit rows onto HiGHS rows. */
 export const auditNames = { cellName, rowTotalName, columnTotalName, GRAND };
 
-export { mulberry32 as seeded } from "../../app/compute/seeded-random";
+export const seeded = mulberry32;
 
 /** Counts with many small cells: ~20 % zeros, ~40 % 1–4, ~40 % 5–24. */
 export function smallCountTable(random: () => number, m: number, n: number): number[][] {
@@ -178,4 +183,17 @@ export function smallCountTable(random: () => number, m: number, n: number): num
       return 5 + Math.floor(random() * 20);
     }),
   );
+}
+
+/**
+ * The seeded random tables of the informed-attacker check: `count` tables of 2–8 rows × 2–6 columns
+ * with zeros, many small counts and some large ones (smallCountTable).
+ */
+export function randomTables(seed: number, count: number): number[][][] {
+  const random = mulberry32(seed);
+  return Array.from({ length: count }, () => {
+    const m = 2 + Math.floor(random() * 7);
+    const n = 2 + Math.floor(random() * 5);
+    return smallCountTable(random, m, n);
+  });
 }
