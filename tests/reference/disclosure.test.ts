@@ -61,7 +61,7 @@ const flatName = (a: SuppressedInterval) =>
         : auditNames.GRAND;
 
 /** True value of a HiGHS-named quantity of a flat table (cell, row/column total or grand total). */
-function valueOf(counts: number[][], name: string): number {
+function trueValue(counts: number[][], name: string): number {
   const parts = name.split("_");
   if (parts[0] === "c") return counts[Number(parts[1])][Number(parts[2])];
   if (parts[0] === "r") return sum(counts[Number(parts[1])]);
@@ -371,7 +371,7 @@ describe("the informed reader (knows the threshold, that zeros show, and every p
     expect(audit.length).toBeGreaterThan(0);
     expectProtected(audit);
     const reference = await highsFlatBounds(t);
-    expectProtected(reference.map((b) => ({ ...b, value: valueOf(counts, b.name) })));
+    expectProtected(reference.map((b) => ({ ...b, value: trueValue(counts, b.name) })));
     expectSameBounds(audit, reference, flatName);
   });
 
@@ -398,7 +398,7 @@ describe("the informed reader (knows the threshold, that zeros show, and every p
       });
       for (const b of await highsFlatBounds(t)) {
         hidden++;
-        const value = valueOf(counts, b.name);
+        const value = trueValue(counts, b.name);
         if (wholeValues(b.min, b.max) < 2) exact++;
         if (value < 5 && b.max < 5 - 1e-6) provablySmall++;
       }
