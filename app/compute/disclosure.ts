@@ -221,3 +221,13 @@ function flatResult(
     threshold,
   };
 }
+
+export {
+  auditLinked,
+  type LinkedInterval,
+  type LinkedTable,
+  type ProtectedLinked,
+  type PublishedCounts,
+  protectLinked,
+  type TableLink,
+} from "./disclosure/linked";
