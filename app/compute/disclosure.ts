@@ -11,7 +11,7 @@
 
 import { attackerBounds } from "./disclosure/attacker";
 import { protectByCycles, suppressionCost } from "./disclosure/cycle-heuristic";
-import { auditUntilSafe, protectAlgebraically } from "./disclosure/protection-lp";
+import { auditUntilSafe, dropUnneeded, protectAlgebraically } from "./disclosure/protection-lp";
 import {
   type EntryKind,
   flatTableSystem,
@@ -64,7 +64,9 @@ export function protectTable(
   const primary = system.entries.map((entry) => isSmallCount(entry.value, threshold));
   // Fast graph heuristic first; the LP audit then confirms (and would repair) the pattern.
   const pattern = protectByCycles(system, m, n, primary);
-  const suppressed = auditUntilSafe(system, pattern, (e) => suppressionCost(system, e, grand), threshold);
+  const cost = (e: number) => suppressionCost(system, e, grand);
+  const safe = auditUntilSafe(system, pattern, cost, threshold);
+  const suppressed = dropUnneeded(system, safe, primary, cost, threshold);
   return flatResult(rows, columns, system, suppressed, threshold);
 }
 

@@ -141,3 +141,30 @@ export function auditUntilSafe(system: TableSystem, start: boolean[], cost: Cost
     for (const e of added) suppressed[e] = true;
   }
 }
+
+/**
+ * Removes complementary suppressions that turn out not to be needed: tries to publish each hidden
+ * number that is not a primary suppression again, dearest first, and keeps it published when the
+ * audit still passes. Suppression stays as small as the rule allows for the greedy order; the
+ * result passes the audit by construction. At most `maxTries` numbers are tried (each try is one audit).
+ */
+export function dropUnneeded(
+  system: TableSystem,
+  suppressed: boolean[],
+  primary: boolean[],
+  cost: CostOf,
+  threshold: number,
+  maxTries = 40,
+): boolean[] {
+  const result = [...suppressed];
+  const candidates = result
+    .map((hidden, e) => (hidden && !primary[e] ? e : -1))
+    .filter((e) => e >= 0)
+    .sort((a, b) => cost(b) - cost(a) || a - b)
+    .slice(0, maxTries);
+  for (const e of candidates) {
+    result[e] = false;
+    if (firstUnsafeEntry(system, result, threshold) !== null) result[e] = true;
+  }
+  return result;
+}
