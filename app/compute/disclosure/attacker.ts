@@ -89,8 +89,15 @@ export function attackerBounds(system: TableSystem, suppressed: boolean[]): Atta
  * the known interval of every hidden number of its group at once; the true table is one such table
  * too. An LP is solved only for numbers the witnesses so far do not already prove safe, the maximum
  * first (it settles small counts and most others), the minimum only when still needed.
+ * `provenSafe` (optional, updated) lists entries already proven safe under a pattern that hid no more
+ * than this one: hiding more only removes constraints, so they stay safe and are skipped.
  */
-export function firstUnsafeEntry(system: TableSystem, suppressed: boolean[], threshold: number): number | null {
+export function firstUnsafeEntry(
+  system: TableSystem,
+  suppressed: boolean[],
+  threshold: number,
+  provenSafe?: Set<number>,
+): number | null {
   for (const group of shiftedGroups(system, suppressed)) {
     const value = group.entries.map((e) => system.entries[e].value);
     const low = [...value];
@@ -103,6 +110,7 @@ export function firstUnsafeEntry(system: TableSystem, suppressed: boolean[], thr
       ) && values.every((x) => x > HIDDEN_LOWER_BOUND - EPS);
     for (let local = 0; local < group.entries.length; local++) {
       if (group.rows.length === 0) continue; // unconstrained: [1, ∞)
+      if (provenSafe?.has(group.entries[local])) continue;
       for (const sense of ["max", "min"] as const) {
         if (safe(local)) break;
         const answer = extreme(group, local, sense);
@@ -121,6 +129,7 @@ export function firstUnsafeEntry(system: TableSystem, suppressed: boolean[], thr
         }
       }
       if (!safe(local)) return group.entries[local];
+      provenSafe?.add(group.entries[local]);
     }
   }
   return null;

@@ -127,8 +127,9 @@ export function protectAlgebraically(system: TableSystem, start: boolean[], cost
  */
 export function auditUntilSafe(system: TableSystem, start: boolean[], cost: CostOf, threshold: number): boolean[] {
   const suppressed = [...start];
+  const provenSafe = new Set<number>(); // hiding more never makes a safe number unsafe
   for (;;) {
-    const weak = firstUnsafeEntry(system, suppressed, threshold);
+    const weak = firstUnsafeEntry(system, suppressed, threshold, provenSafe);
     if (weak === null) return suppressed;
     const rise = requiredRise(system.entries[weak].value, threshold);
     let added = protectionSet(system, suppressed, weak, rise, cost);
