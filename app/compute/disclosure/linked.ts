@@ -299,7 +299,7 @@ function quantities(layout: Layout, hidden: boolean[]): Quantity[] {
 
 const snap = (x: number) => (Math.abs(x - Math.round(x)) < EPS ? Math.round(x) : x);
 
-function safeQuantity(layout: Layout, q: Quantity, value: number, min: number, max: number, threshold: number) {
+function safeQuantity(q: Quantity, value: number, min: number, max: number, threshold: number) {
   if (q.change !== null) return min <= EPS && max >= -EPS;
   return isSafeInterval(value, min, max, threshold);
 }
@@ -323,7 +323,7 @@ function bound(layout: Layout, hidden: boolean[], threshold: number, onlyUnsafe:
   };
   const out: { q: Quantity; value: number; min: number; max: number }[] = [];
   for (let k = 0; k < qs.length; k++) {
-    const safe = () => safeQuantity(layout, qs[k], values[k], low[k], high[k], threshold);
+    const safe = () => safeQuantity(qs[k], values[k], low[k], high[k], threshold);
     for (const sense of ["max", "min"] as const) {
       if (onlyUnsafe && safe()) break;
       const answer = model.solve(qs[k], sense);
@@ -438,7 +438,7 @@ export function protectLinked(
     // Could anything more help? Hide every free number and look again.
     const all = hidden.map((h, e) => h || free(e));
     const best = bound(layout, all, threshold, false, skip).find((r) => key(r.q) === key(weak.q));
-    if (best && !safeQuantity(layout, weak.q, best.value, best.min, best.max, threshold)) {
+    if (best && !safeQuantity(weak.q, best.value, best.min, best.max, threshold)) {
       skip.add(key(weak.q));
       unprotectable.push(toInterval(layout, best));
       continue;
