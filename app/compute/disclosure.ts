@@ -1,13 +1,13 @@
 // Statistical disclosure control for managers' readiness tables (docs/consent-and-disclosure.md).
 //
 // Primary suppression hides every count of 1 … threshold−1 (cells and totals; zeros show).
-// Complementary suppression then hides further numbers until no hidden number can be recovered from
-// everything published together: cells, row totals, column totals and grand total at once, with
-// non-negativity (Hundepool et al. 2012, Statistical Disclosure Control, Wiley, ch. 7 — from memory).
-// The guarantee is checked by the attacker LP (javascript-lp-solver) before a table is returned:
-// every hidden number's feasible interval is at least 1 wide, and for two-way tables it reaches at
-// least value − 1 and value + 1. Threshold: default 5, a smaller value is raised to 5 (common practice
-// in health statistics; no single published source).
+// Complementary suppression then hides further numbers until the informed reader — who knows the
+// threshold, that zeros show (so every hidden number is ≥ 1) and every published number at once —
+// can neither recover a hidden number exactly nor prove a hidden small count is below the threshold
+// (Hundepool et al. 2012, Statistical Disclosure Control, Wiley, ch. 7 — from memory). The attacker LP
+// (javascript-lp-solver) checks this before a table is returned (disclosure/attacker.ts). Several
+// tables published to one reader, also over time: disclosure/linked.ts. Threshold: default 5, a
+// smaller value is raised to 5 (common practice in health statistics; no single published source).
 
 import { attackerBounds } from "./disclosure/attacker";
 import { protectByCycles, suppressionCost } from "./disclosure/cycle-heuristic";
