@@ -142,6 +142,8 @@ describe("permissions on the server", () => {
     const ok = await client.postForm("/admin/sites", fields);
     expect(ok.status).toBe(200);
     expect(await testDb()("sites").where({ code: "ZZ" }).first()).toBeDefined();
+    // Other files share this database and list the sites by name: remove the one added here.
+    await testDb()("sites").where({ code: "ZZ" }).del();
   });
 });
 
