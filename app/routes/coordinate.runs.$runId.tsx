@@ -15,7 +15,6 @@ import { DeviceCautions } from "~/components/device-cautions";
 import { FormError, Notice } from "~/components/fields";
 import { ProgressBar } from "~/components/progress-bar";
 import { addDays } from "~/compute/plan-calendar";
-import { ensureJobsStarted } from "~/jobs/runner.server";
 import { recordAccess } from "~/models/access-log.server";
 import { getRun, listRuns } from "~/models/allocation-runs.server";
 import {
@@ -50,7 +49,6 @@ export interface WorkerPlanRow {
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const p = await requireUser(request, "allocation.run");
-  await ensureJobsStarted();
   const id = Number(params.runId);
   const run = Number.isInteger(id) && id > 0 ? await getRun(p.scope, id) : null;
   if (!run) throw data({ error: "No such allocation run in your scope." }, { status: 404 });
