@@ -7,7 +7,7 @@
 // in the runs table with one conditional update, so a job delivered twice never solves a run twice.
 // SQLite (one machine): the runs table is the queue; enqueue only wakes this process's runner.
 import PgBoss from "pg-boss";
-import { db } from "~/db.server";
+import { knexConfig } from "../../knexfile";
 
 export const ALLOCATION_QUEUE = "allocation-solve";
 export const RETENTION_QUEUE = "retention-purge";
@@ -21,13 +21,13 @@ if (!g.__limberlyQueue) g.__limberlyQueue = { boss: null, wakeLocal: null };
 const state: QueueState = g.__limberlyQueue;
 
 export function usesPgBoss(): boolean {
-  return /^(pg|postgres)/.test(String(db().client.config.client));
+  return knexConfig().client === "pg";
 }
 
 /** This process's pg-boss, started once (creates or upgrades its schema; maintenance is cluster-safe). */
 export function boss(): Promise<PgBoss> {
   if (!state.boss) {
-    const url = String(db().client.config.connection);
+    const url = String(knexConfig().connection);
     const b = new PgBoss({ connectionString: url, max: 4, application_name: "limberly-jobs" });
     b.on("error", (e) => console.error("job queue:", e));
     state.boss = b

@@ -1,0 +1,123 @@
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import type { Browserless } from "../integration/helpers";
+import { PERSONA } from "../integration/helpers";
+import { type Cluster, signInAt, startCluster, waitFor } from "./cluster";
+
+// Two app processes (the built server) on one PostgreSQL database, jobs on pg-boss. A run started on one
+// instance is polled on the other; SIGKILL on the instance solving a run makes the other instance take it
+// over once its heartbeat is stale, and finish it — never stuck in "running", never solved twice (the claim
+// counter `attempts` says how many times an instance started solving it).
+const HEARTBEAT_MS = 250;
+const STALE_MS = 2_000;
+
+interface RunDbRow {
+  id: number;
+  status: string;
+  phase: string | null;
+  fraction: number;
+  error: string | null;
+  claimed_by: string | null;
+  attempts: number;
+  result: string | null;
+}
+
+describe("several app instances on one PostgreSQL database", () => {
+  let c: Cluster;
+  const clients: Browserless[] = [];
+  const run = (id: number) => c.db<RunDbRow>("allocation_runs").where({ id }).first();
+  const pidOf = (claimedBy: string | null) => Number(claimedBy?.split(":")[1]);
+
+  beforeAll(async () => {
+    c = await startCluster(2, {
+      LIMBERLY_JOB_HEARTBEAT_MS: String(HEARTBEAT_MS),
+      LIMBERLY_JOB_STALE_MS: String(STALE_MS),
+    });
+    for (const app of c.apps) clients.push(await signInAt(app.appUrl, PERSONA.coordinator));
+  }, 300_000);
+  afterAll(async () => {
+    await c?.stop();
+  });
+
+  async function startRunAt(client: Browserless, fields: Record<string, string>): Promise<number> {
+    const res = await client.postForm("/coordinate/runs", fields);
+    expect(res.status, (await res.clone().text()).slice(0, 300)).toBe(302);
+    return Number(/\/coordinate\/runs\/(\d+)$/.exec(res.headers.get("Location") ?? "")?.[1]);
+  }
+  async function statusAt(client: Browserless, id: number) {
+    const res = await client.request(`/coordinate/runs/${id}/status`);
+    expect(res.status).toBe(200);
+    return (await res.json()) as { status: string; phase: string; fraction: number; error: string | null };
+  }
+
+  it("solves every queued run exactly once, whichever instance takes it", async () => {
+    const small = { startDate: "2026-12-07", horizonWeeks: "4", planningQuantile: "80", fairnessShare: "20" };
+    // Four runs started at once, two on each instance: both instances' workers compete for the jobs.
+    const ids = await Promise.all([0, 1, 0, 1].map((i, n) => startRunAt(clients[i], { ...small, label: `race ${n}` })));
+    expect(new Set(ids).size).toBe(4);
+    for (const id of ids) {
+      const s = await waitFor(`run ${id} to finish`, async () => {
+        const r = await statusAt(clients[1 - (id % 2)], id);
+        return r.status === "done" || r.status === "failed" ? r : null;
+      });
+      expect(s.status).toBe("done");
+      expect(s.error).toBeNull();
+      const row = (await run(id))!;
+      expect(row.attempts, `run ${id} was claimed once`).toBe(1);
+      expect(c.apps.map((a) => a.child.pid)).toContain(pidOf(row.claimed_by));
+      expect(JSON.parse(row.result!).assignments.length).toBeGreaterThan(0);
+    }
+  });
+
+  it("finishes a run on the other instance when the solving instance is killed mid-solve", async () => {
+    const big = {
+      startDate: "2026-12-07",
+      horizonWeeks: "26",
+      planningQuantile: "90",
+      fairnessShare: "30",
+      includeProficientElsewhere: "on",
+      label: "killed mid-solve",
+    };
+    const id = await startRunAt(clients[0], big);
+    // Wait until an instance is solving it (claimed, progress written by the solver).
+    const solving = await waitFor("the run to be mid-solve", async () => {
+      const r = await run(id);
+      return r?.status === "running" && r.claimed_by && r.phase !== "starting" ? r : null;
+    });
+    const victim = c.apps.find((a) => a.child.pid === pidOf(solving.claimed_by))!;
+    const survivorIndex = c.apps.indexOf(victim) === 0 ? 1 : 0;
+    const survivor = c.apps[survivorIndex];
+    expect(victim).toBeDefined();
+    // Progress is in the runs table, so the other instance reports it too.
+    const seenElsewhere = await statusAt(clients[survivorIndex], id);
+    expect(seenElsewhere.status).toBe("running");
+
+    const exited = new Promise((r) => victim.child.once("exit", r));
+    victim.child.kill("SIGKILL");
+    await exited;
+
+    // The survivor takes the run back once the heartbeat is stale and solves it again from the snapshot.
+    const requeued = await waitFor(
+      "the survivor to take the run over",
+      async () => {
+        const r = await run(id);
+        return r && r.attempts >= 2 ? r : null;
+      },
+      60_000,
+    );
+    expect(pidOf(requeued.claimed_by)).toBe(survivor.child.pid);
+    const final = await waitFor(
+      "the run to finish on the survivor",
+      async () => {
+        const s = await statusAt(clients[survivorIndex], id);
+        return s.status === "done" || s.status === "failed" ? s : null;
+      },
+      180_000,
+    );
+    expect(final.status).toBe("done");
+    expect(final.error).toBeNull();
+    const row = (await run(id))!;
+    expect(row.attempts).toBe(2); // the killed attempt and the one that finished: never a third, never parallel
+    expect(pidOf(row.claimed_by)).toBe(survivor.child.pid);
+    expect(JSON.parse(row.result!).assignments.length).toBeGreaterThan(0);
+  });
+});
