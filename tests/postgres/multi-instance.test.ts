@@ -21,6 +21,30 @@ interface RunDbRow {
   result: string | null;
 }
 
+/**
+ * Makes the demo's planning pool bigger (so a solve takes long enough to be killed half-way): each worker
+ * with a forecast gets `copies` invented twins with the same site, department, consent and forecasts.
+ */
+async function growPool(db: Cluster["db"], copies: number): Promise<void> {
+  await db.transaction(async (trx) => {
+    await trx.raw(
+      `INSERT INTO workers (employee_number, given_name, family_name, site_id, department_id, stage, created_at, updated_at)
+       SELECT w.employee_number || '-T' || g, w.given_name, w.family_name, w.site_id, w.department_id, w.stage, w.created_at, w.updated_at
+       FROM workers w CROSS JOIN generate_series(1, ?) g
+       WHERE w.id IN (SELECT worker_id FROM forecasts)`,
+      [copies],
+    );
+    const twin =
+      "JOIN workers o ON o.id = x.worker_id JOIN workers n ON n.employee_number LIKE o.employee_number || '-T%'";
+    for (const table of ["consent_records", "forecasts"]) {
+      const cols = Object.keys(await trx(table).columnInfo()).filter((col) => col !== "id" && col !== "worker_id");
+      const list = cols.map((col) => `"${col}"`).join(", ");
+      const from = cols.map((col) => `x."${col}"`).join(", ");
+      await trx.raw(`INSERT INTO ${table} (worker_id, ${list}) SELECT n.id, ${from} FROM ${table} x ${twin}`);
+    }
+  });
+}
+
 describe("several app instances on one PostgreSQL database", () => {
   let c: Cluster;
   const clients: Browserless[] = [];
@@ -77,6 +101,7 @@ describe("several app instances on one PostgreSQL database", () => {
       includeProficientElsewhere: "on",
       label: "killed mid-solve",
     };
+    await growPool(c.db, 2);
     const id = await startRunAt(clients[0], big);
     // Wait until an instance is solving it (claimed, progress written by the solver).
     const solving = await waitFor("the run to be mid-solve", async () => {
