@@ -53,7 +53,8 @@ export interface RunnerOptions {
 export type RunOutcome = "solved" | "failed" | "not-queued" | "lost" | "released";
 
 export class AllocationRunner {
-  private current: { abort: AbortController; release: boolean; done: Promise<RunOutcome> } | null = null;
+  private current: { abort: AbortController; release: boolean } | null = null;
+  private busy: Promise<RunOutcome> | null = null;
   private stopping = false;
   private draining: Promise<void> | null = null;
 
@@ -63,17 +64,24 @@ export class AllocationRunner {
     return this.o.k ?? db();
   }
 
-  /** Claims run `id` and solves it. */
-  async process(id: number): Promise<RunOutcome> {
-    if (this.stopping || this.current) return "not-queued";
-    const snapshot = await claimRun(id, this.o.instanceId, this.k);
-    if (!snapshot) return "not-queued";
-    const cur = { abort: new AbortController(), release: false, done: Promise.resolve<RunOutcome>("not-queued") };
-    this.current = cur;
-    cur.done = this.solveClaimed(id, snapshot, cur).finally(() => {
+  /** Claims run `id` and solves it. One run at a time per runner. */
+  process(id: number): Promise<RunOutcome> {
+    if (this.stopping || this.busy) return Promise.resolve("not-queued");
+    const busy = this.claimAndSolve(id).finally(() => {
+      this.busy = null;
       this.current = null;
     });
-    return cur.done;
+    this.busy = busy;
+    return busy;
+  }
+
+  private async claimAndSolve(id: number): Promise<RunOutcome> {
+    const snapshot = await claimRun(id, this.o.instanceId, this.k);
+    if (!snapshot) return "not-queued";
+    if (this.stopping) return (await releaseRun(id, this.o.instanceId, this.k)) ? "released" : "lost";
+    const cur = { abort: new AbortController(), release: false };
+    this.current = cur;
+    return this.solveClaimed(id, snapshot, cur);
   }
 
   /** Takes queued runs from the table, oldest first, until none is left (SQLite). One drain at a time. */
@@ -96,14 +104,14 @@ export class AllocationRunner {
     return recoverStaleRuns({ staleMs: this.o.staleMs, maxAttempts: this.o.maxAttempts }, this.k);
   }
 
-  /** Shutting down: stops the solve in progress and gives its run back to the queue; returns its id. */
+  /** Shutting down: stops the solve in progress and gives its run back to the queue. */
   async stop(): Promise<void> {
     this.stopping = true;
-    const cur = this.current;
-    if (!cur) return;
-    cur.release = true;
-    cur.abort.abort();
-    await cur.done.catch(() => undefined);
+    if (this.current) {
+      this.current.release = true;
+      this.current.abort.abort();
+    }
+    await this.busy?.catch(() => undefined);
   }
 
   private async solveClaimed(
