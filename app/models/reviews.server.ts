@@ -5,6 +5,7 @@ import { type Db, db } from "~/db.server";
 import { sendMail } from "~/mail.server";
 import type { ReviewRequestInput } from "~/schemas/portal";
 import { REVIEW_SUBJECT_LABELS } from "~/schemas/portal";
+import { lockWorker } from "./locks.server";
 import { whereWorkerInScope } from "./workers.server";
 
 // Review requests (issue 7, DESIGN §4): a worker contests their forecast or plan; assessors whose scope covers
@@ -25,6 +26,7 @@ export async function createReviewRequest(
   input: ReviewRequestInput,
 ): Promise<number> {
   return db().transaction(async (trx) => {
+    await lockWorker(trx, workerId); // the open-request cap is counted, then written
     if (input.deviceTypeId != null && !(await trx("device_types").where({ id: input.deviceTypeId }).first("id"))) {
       throw new ReviewError("Device: choose one of your devices or leave it empty.", "deviceTypeId");
     }
@@ -148,9 +150,12 @@ export async function answerReview(
     const r = await whereWorkerInScope(q as Knex.QueryBuilder, p.scope).first();
     if (!r) throw new ReviewError("This review request is not in your scope.", "_form");
     if (r.status !== "open") throw new ReviewError("This request has already been answered.", "_form");
-    await trx("review_requests")
-      .where({ id: r.id })
+    // Only an open request is answered: of two assessors answering at once, the second one's update finds
+    // the row answered (PostgreSQL re-reads it after the first commits) and gets the same message.
+    const n = await trx("review_requests")
+      .where({ id: r.id, status: "open" })
       .update({ status: "answered", answer, answered_by: p.user.id, answered_at: new Date().toISOString() });
+    if (n !== 1) throw new ReviewError("This request has already been answered.", "_form");
     const u = r.user_id ? await trx("users").where({ id: r.user_id }).first("email") : null;
     return { r, to: (u?.email as string) ?? (r.worker_email as string) ?? null };
   });
