@@ -212,7 +212,7 @@ export function startBackgroundWork(): void {
             await runner.process(Number(job.data.runId));
           },
         );
-        await b.work(RETENTION_QUEUE, { batchSize: 1, pollingIntervalSeconds: 30 }, async () => {
+        await b.work(RETENTION_QUEUE, { batchSize: 1, pollingIntervalSeconds: 10 }, async () => {
           const s = await purgeExpiredAssessments(new Date().toISOString().slice(0, 10));
           console.log(`retention purge (cut-off ${s.cutoff}): ${s.assessmentSessions} assessment sessions deleted`);
         });

@@ -1,3 +1,4 @@
+import PgBoss from "pg-boss";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { Browserless } from "../integration/helpers";
 import { PERSONA } from "../integration/helpers";
@@ -144,5 +145,31 @@ describe("several app instances on one PostgreSQL database", () => {
     expect(row.attempts).toBe(2); // the killed attempt and the one that finished: never a third, never parallel
     expect(pidOf(row.claimed_by)).toBe(survivor.child.pid);
     expect(JSON.parse(row.result!).assignments.length).toBeGreaterThan(0);
+  });
+
+  it("schedules the retention purge once for the cluster, and an instance runs it from the queue", async () => {
+    const schedules = await c.db("pgboss.schedule").where({ name: "retention-purge" }).select("cron", "timezone");
+    expect(schedules).toEqual([{ cron: "15 3 * * *", timezone: "UTC" }]);
+    // An assessment far older than the retention period (the organisation keeps 10 years by default).
+    const w = await c.db("workers").orderBy("id").first("id");
+    const [old] = await c
+      .db("assessment_sessions")
+      .insert({ worker_id: w.id, assessed_on: "2001-03-05", created_at: new Date().toISOString() })
+      .returning("id");
+    // Run the scheduled job now instead of waiting for 03:15: any instance's worker takes it.
+    const boss = new PgBoss({ connectionString: c.pg.url, supervise: false, schedule: false, max: 2 });
+    await boss.start();
+    try {
+      const jobId = await boss.send("retention-purge", {});
+      expect(jobId).toBeTruthy();
+      const job = await waitFor("the purge job to complete", async () => {
+        const j = await boss.getJobById("retention-purge", jobId!, { includeArchive: true });
+        return j && (j.state === "completed" || j.state === "failed") ? j : null;
+      });
+      expect(job.state).toBe("completed");
+    } finally {
+      await boss.stop({ graceful: false, close: true, wait: true });
+    }
+    expect(await c.db("assessment_sessions").where({ id: old.id }).first("id")).toBeUndefined();
   });
 });
