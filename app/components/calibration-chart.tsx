@@ -1,5 +1,6 @@
 import { CartesianGrid, ComposedChart, ErrorBar, ReferenceLine, Scatter, Tooltip, XAxis, YAxis } from "recharts";
 import { EXCLUSION_LABELS } from "~/schemas/forecast";
+import { ChartFrame } from "./chart-frame";
 import { CoefficientChart, type CoefficientDatum } from "./coefficient-chart";
 
 // Leave-one-out calibration (predicted vs actual hours, each trainee predicted by a model fitted without
@@ -20,7 +21,7 @@ export function CalibrationChart({ points }: { points: CalibrationDatum[] }) {
   }));
   return (
     <figure className="grid gap-2" aria-labelledby="cal-caption">
-      <div role="img" aria-label={`Predicted against actual hours for ${points.length} past trainees.`}>
+      <ChartFrame label={`Predicted against actual hours for ${points.length} past trainees.`}>
         <ComposedChart
           responsive
           data={data}
@@ -56,7 +57,7 @@ export function CalibrationChart({ points }: { points: CalibrationDatum[] }) {
             <ErrorBar dataKey="err" direction="x" width={3} stroke="#94a3b8" />
           </Scatter>
         </ComposedChart>
-      </div>
+      </ChartFrame>
       <figcaption id="cal-caption" className="text-sm text-ink-soft">
         Each dot is one past trainee, predicted by a model fitted without them; grey bars are their 80 % intervals. Dots
         on the dashed line were predicted exactly.
@@ -68,10 +69,7 @@ export function CalibrationChart({ points }: { points: CalibrationDatum[] }) {
 export function ResidualChart({ points }: { points: { fitted: number; residual: number }[] }) {
   return (
     <figure className="grid gap-2" aria-labelledby="res-caption">
-      <div
-        role="img"
-        aria-label={`Residuals on the log scale against fitted hours for ${points.length} past trainees.`}
-      >
+      <ChartFrame label={`Residuals on the log scale against fitted hours for ${points.length} past trainees.`}>
         <ComposedChart
           responsive
           data={points}
@@ -97,7 +95,7 @@ export function ResidualChart({ points }: { points: { fitted: number; residual: 
           <ReferenceLine y={0} stroke="#4a5565" />
           <Scatter dataKey="residual" fill="#1f6b5c" name="Residual" />
         </ComposedChart>
-      </div>
+      </ChartFrame>
       <figcaption id="res-caption" className="text-sm text-ink-soft">
         Residuals (actual minus fitted, log-hours) should scatter evenly around 0 with no funnel or curve.
       </figcaption>

@@ -1,4 +1,5 @@
 import { Bar, CartesianGrid, ComposedChart, Line, Tooltip, XAxis, YAxis } from "recharts";
+import { ChartFrame } from "./chart-frame";
 
 // Capacity use per week of one resource (a device type at a site, or a trainer): bars = hours used,
 // line = hours available. A table with the same numbers follows for screen readers and keyboard users.
@@ -17,7 +18,7 @@ export function CapacityChart({ title, unit, points }: { title: string; unit: st
     <figure className="card grid gap-1 p-3">
       <figcaption className="text-sm font-semibold">{title}</figcaption>
       <p className="text-xs text-ink-soft">{summary}</p>
-      <div role="img" aria-label={summary}>
+      <ChartFrame label={summary}>
         <ComposedChart
           responsive
           data={data}
@@ -38,7 +39,7 @@ export function CapacityChart({ title, unit, points }: { title: string; unit: st
             isAnimationActive={false}
           />
         </ComposedChart>
-      </div>
+      </ChartFrame>
       <details className="text-xs">
         <summary className="cursor-pointer">Numbers</summary>
         <table className="table-base mt-1">

@@ -1,4 +1,5 @@
 import { CartesianGrid, ErrorBar, ReferenceLine, Scatter, ScatterChart, Tooltip, XAxis, YAxis } from "recharts";
+import { ChartFrame } from "./chart-frame";
 
 // Forest plot of a model's measure coefficients (log-hours per cohort SD) with 95 % intervals.
 // The intercept is left out: it sits on another scale (the cohort's average log-hours).
@@ -20,10 +21,7 @@ export function CoefficientChart({ rows }: { rows: CoefficientDatum[] }) {
   const height = 80 + 44 * data.length;
   return (
     <figure className="grid gap-2" aria-labelledby="coef-caption">
-      <div
-        role="img"
-        aria-label="Coefficient estimates with 95 % intervals; the same numbers are in the coefficient table."
-      >
+      <ChartFrame label="Coefficient estimates with 95 % intervals; the same numbers are in the coefficient table.">
         <ScatterChart responsive style={{ width: "100%", height }} margin={{ top: 8, right: 16, bottom: 24, left: 8 }}>
           <CartesianGrid strokeDasharray="3 3" horizontal={false} />
           <XAxis
@@ -58,7 +56,7 @@ export function CoefficientChart({ rows }: { rows: CoefficientDatum[] }) {
             <ErrorBar dataKey="err" direction="x" width={6} stroke="#17574a" />
           </Scatter>
         </ScatterChart>
-      </div>
+      </ChartFrame>
       <figcaption id="coef-caption" className="text-sm text-ink-soft">
         Each dot is a measure's effect on log(hours) for one SD better than the cohort average; the bar is its 95 %
         confidence interval. A bar crossing 0 means the cohort cannot tell the effect from none.

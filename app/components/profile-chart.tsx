@@ -1,14 +1,5 @@
-import {
-  Bar,
-  BarChart,
-  CartesianGrid,
-  Cell,
-  ReferenceLine,
-  ResponsiveContainer,
-  Tooltip,
-  XAxis,
-  YAxis,
-} from "recharts";
+import { Bar, BarChart, CartesianGrid, Cell, ReferenceLine, Tooltip, XAxis, YAxis } from "recharts";
+import { ChartFrame } from "./chart-frame";
 
 // A worker's coordination profile: each measure's z-score (turned so positive = better) with its
 // minimal detectable change (MDC95) drawn as a band in z units (MDC95 / norm SD) around the score.
@@ -38,50 +29,54 @@ export function ProfileChart({ points, title }: { points: ProfilePoint[]; title:
       <figcaption id="profile-caption" className="font-semibold">
         {title}
       </figcaption>
-      <div
-        role="img"
-        aria-label={`Bar chart of ${points.length} z-scores; the table below lists the same values.`}
-        style={{ width: "100%", height }}
+      <ChartFrame
+        label={`Bar chart of ${points.length} z-scores; the table below lists the same values.`}
+        height={height}
       >
-        <ResponsiveContainer width="100%" height={height} initialDimension={{ width: 360, height }}>
-          <BarChart data={data} layout="vertical" barGap={-16} margin={{ top: 8, right: 16, bottom: 8, left: 8 }}>
-            <CartesianGrid horizontal={false} strokeDasharray="3 3" />
-            <XAxis
-              type="number"
-              domain={[-limit, limit]}
-              tickCount={2 * limit + 1}
-              label={{ value: "z (positive = better)", position: "insideBottom", offset: -4 }}
-              height={40}
-            />
-            <YAxis type="category" dataKey="measure" width={140} tick={{ fontSize: 11 }} interval={0} />
-            <ReferenceLine x={0} stroke="#1c2430" />
-            <Tooltip
-              formatter={(v: unknown, name: unknown, item: { payload?: ProfilePoint }) =>
-                name === "band"
-                  ? [null, null]
-                  : [
-                      `z = ${fmt(Number(v))}${item.payload?.mdcZ != null ? ` ± ${fmt(item.payload.mdcZ)} (MDC95)` : ""}`,
-                      "score",
-                    ]
-              }
-            />
-            <Bar dataKey="z" isAnimationActive={false} barSize={16}>
-              {data.map((d, i) => (
-                <Cell key={i} fill={d.z >= 0 ? "#1f6b5c" : "#8a5a00"} />
-              ))}
-            </Bar>
-            {/* MDC95 band drawn over the bar's tip: a change of the score inside it is within measurement error. */}
-            <Bar
-              dataKey="band"
-              isAnimationActive={false}
-              barSize={16}
-              fill="rgba(211,233,228,0.55)"
-              stroke="#1c2430"
-              strokeDasharray="3 2"
-            />
-          </BarChart>
-        </ResponsiveContainer>
-      </div>
+        <BarChart
+          responsive
+          style={{ width: "100%", height }}
+          data={data}
+          layout="vertical"
+          barGap={-16}
+          margin={{ top: 8, right: 16, bottom: 8, left: 8 }}
+        >
+          <CartesianGrid horizontal={false} strokeDasharray="3 3" />
+          <XAxis
+            type="number"
+            domain={[-limit, limit]}
+            tickCount={2 * limit + 1}
+            label={{ value: "z (positive = better)", position: "insideBottom", offset: -4 }}
+            height={40}
+          />
+          <YAxis type="category" dataKey="measure" width={140} tick={{ fontSize: 11 }} interval={0} />
+          <ReferenceLine x={0} stroke="#1c2430" />
+          <Tooltip
+            formatter={(v: unknown, name: unknown, item: { payload?: ProfilePoint }) =>
+              name === "band"
+                ? [null, null]
+                : [
+                    `z = ${fmt(Number(v))}${item.payload?.mdcZ != null ? ` ± ${fmt(item.payload.mdcZ)} (MDC95)` : ""}`,
+                    "score",
+                  ]
+            }
+          />
+          <Bar dataKey="z" isAnimationActive={false} barSize={16}>
+            {data.map((d, i) => (
+              <Cell key={i} fill={d.z >= 0 ? "#1f6b5c" : "#8a5a00"} />
+            ))}
+          </Bar>
+          {/* MDC95 band drawn over the bar's tip: a change of the score inside it is within measurement error. */}
+          <Bar
+            dataKey="band"
+            isAnimationActive={false}
+            barSize={16}
+            fill="rgba(211,233,228,0.55)"
+            stroke="#1c2430"
+            strokeDasharray="3 2"
+          />
+        </BarChart>
+      </ChartFrame>
       <p className="text-sm text-ink-soft">
         Solid bar: z-score against the norm set (positive = better). Dashed box: ± MDC95 in z units; a later score
         inside it is within measurement error.

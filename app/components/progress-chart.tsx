@@ -10,6 +10,7 @@ import {
   XAxis,
   YAxis,
 } from "recharts";
+import { ChartFrame } from "./chart-frame";
 
 // Session scores against cumulative hours, the fitted progress curve, the criterion line and the
 // predicted crossing with its interval.
@@ -26,7 +27,7 @@ export function ProgressChart({ sessions, curve, threshold, crossing }: Progress
   const summary = `${sessions.length} session scores${threshold != null ? `, criterion ${threshold}` : ""}${crossing ? `, predicted to reach it at about ${crossing.hours.toFixed(1)} h (80 % interval ${crossing.lower.toFixed(1)}–${crossing.upper.toFixed(1)} h)` : ""}.`;
   return (
     <figure className="grid gap-2" aria-labelledby="progress-caption">
-      <div role="img" aria-label={summary} data-testid="progress-chart">
+      <ChartFrame label={summary} testId="progress-chart">
         <ComposedChart
           responsive
           style={{ width: "100%", height: 320 }}
@@ -98,7 +99,7 @@ export function ProgressChart({ sessions, curve, threshold, crossing }: Progress
             isAnimationActive={false}
           />
         </ComposedChart>
-      </div>
+      </ChartFrame>
       <figcaption id="progress-caption" className="text-sm text-ink-soft">
         Dots: logged session scores. Line: fitted progress curve. Red dashed line: the proficiency criterion. Amber
         band: the 80 % interval of when the criterion is reached; the dashed amber line is its median.

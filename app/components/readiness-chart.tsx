@@ -1,5 +1,6 @@
-import { CartesianGrid, Legend, Line, LineChart, ResponsiveContainer, Tooltip, XAxis, YAxis } from "recharts";
+import { CartesianGrid, Legend, Line, LineChart, Tooltip, XAxis, YAxis } from "recharts";
 import type { ReadinessBoard } from "~/models/readiness.server";
+import { ChartFrame } from "./chart-frame";
 import { ProtectedTableView } from "./protected-table";
 
 // Cumulative "planned ready" by week, drawn only from running totals that follow exactly from the
@@ -41,35 +42,37 @@ export function ReadinessChart({
           x axis: the last week of each period (month-day)
         </span>
       </figcaption>
-      <div
-        role="img"
-        aria-label={`Line chart of cumulative planned ready counts over ${weeks.length} weeks${last != null ? `, reaching ${last} by the last week` : ""}; the table below lists the weekly numbers.`}
-        style={{ width: "100%", height: 300 }}
+      <ChartFrame
+        label={`Line chart of cumulative planned ready counts over ${weeks.length} weeks${last != null ? `, reaching ${last} by the last week` : ""}; the table below lists the weekly numbers.`}
+        height={300}
       >
-        <ResponsiveContainer width="100%" height={300} initialDimension={{ width: 360, height: 300 }}>
-          <LineChart data={data} margin={{ top: 8, right: 16, bottom: 8, left: 0 }}>
-            <CartesianGrid strokeDasharray="3 3" />
-            <XAxis dataKey="week" tick={{ fontSize: 11 }} height={30} />
-            <YAxis allowDecimals={false} width={40} tick={{ fontSize: 11 }} />
-            <Tooltip formatter={(v: unknown) => (v == null ? "hidden" : String(v))} />
-            <Legend wrapperStyle={{ fontSize: 12 }} />
-            {lines.map((l, k) => (
-              <Line
-                key={l.label}
-                type="stepAfter"
-                dataKey={`s${k}`}
-                name={l.label}
-                stroke={COLOURS[k % COLOURS.length]}
-                strokeWidth={k === 0 ? 3 : 2}
-                strokeDasharray={k === 0 ? undefined : "5 3"}
-                dot={false}
-                connectNulls={false}
-                isAnimationActive={false}
-              />
-            ))}
-          </LineChart>
-        </ResponsiveContainer>
-      </div>
+        <LineChart
+          responsive
+          style={{ width: "100%", height: 300 }}
+          data={data}
+          margin={{ top: 8, right: 16, bottom: 8, left: 0 }}
+        >
+          <CartesianGrid strokeDasharray="3 3" />
+          <XAxis dataKey="week" tick={{ fontSize: 11 }} height={30} />
+          <YAxis allowDecimals={false} width={40} tick={{ fontSize: 11 }} />
+          <Tooltip formatter={(v: unknown) => (v == null ? "hidden" : String(v))} />
+          <Legend wrapperStyle={{ fontSize: 12 }} />
+          {lines.map((l, k) => (
+            <Line
+              key={l.label}
+              type="stepAfter"
+              dataKey={`s${k}`}
+              name={l.label}
+              stroke={COLOURS[k % COLOURS.length]}
+              strokeWidth={k === 0 ? 3 : 2}
+              strokeDasharray={k === 0 ? undefined : "5 3"}
+              dot={false}
+              connectNulls={false}
+              isAnimationActive={false}
+            />
+          ))}
+        </LineChart>
+      </ChartFrame>
       {gaps && (
         <p className="text-sm text-ink-soft">
           Gaps in a line are weeks whose running total would give away a hidden number.

@@ -1,4 +1,5 @@
 import { expect, persona, test } from "./fixtures";
+import { expectNoSidewaysScroll } from "./layout";
 
 // Issue 5, done-when: in the browser a coordinator runs an allocation on the demo scenario, watches progress,
 // reads the result and the binding resources, compares two runs, publishes, and the e-mails with .ics files
@@ -80,9 +81,6 @@ test("the run page works at 390 px wide", async ({ page, signInAs }, testInfo) =
   await page.getByRole("button", { name: "Start the run" }).click();
   await page.waitForURL(/\/coordinate\/runs\/\d+$/);
   await expect(page.getByRole("heading", { name: "Result" })).toBeVisible({ timeout: 60_000 });
-  const overflow = await page.evaluate(
-    () => document.documentElement.scrollWidth - document.documentElement.clientWidth,
-  );
-  expect(overflow).toBeLessThanOrEqual(0);
+  await expectNoSidewaysScroll(page, 390);
   await page.screenshot({ path: testInfo.outputPath("run-390.png"), fullPage: false });
 });

@@ -2,6 +2,7 @@
 // assessor approves it, a worker's forecast shows hours, interval and explanation; logging a session
 // moves the remaining-hours forecast and the progress chart. Demo data: seeds/03_forecast_demo.ts (invented).
 import { expect, persona, test } from "./fixtures";
+import { expectNoSidewaysScroll } from "./layout";
 
 const second = "rhea.lindqvist@harrowvale.example";
 
@@ -112,7 +113,6 @@ test("the progress page works at 390 px with the chart and the logging form", as
   await page.getByRole("row").filter({ hasText: "Review" }).first().getByRole("link").click();
   await expect(page.getByTestId("review-flag")).toContainText("levels off");
   await expect(page.getByTestId("progress-chart").getByRole("application")).toBeVisible();
-  const width = await page.evaluate(() => document.documentElement.scrollWidth);
-  expect(width).toBeLessThanOrEqual(390);
+  await expectNoSidewaysScroll(page, 390);
   await page.screenshot({ path: testInfo.outputPath("progress-390.png"), fullPage: true });
 });

@@ -1,4 +1,5 @@
 import { expect, persona, test } from "./fixtures";
+import { expectNoSidewaysScroll } from "./layout";
 
 // The manager persona (Declan Hartley: North Yard Cable Harness and Final Assembly) in a real browser:
 // sees their departments' protected readiness, the hidden symbol with its explanation, downloads the
@@ -30,8 +31,7 @@ test("manager sees protected readiness for their departments and exports it", as
 
   await page.setViewportSize({ width: 390, height: 900 });
   await expect(page.getByRole("heading", { name: "People by readiness stage" })).toBeVisible();
-  const width = await page.evaluate(() => document.documentElement.scrollWidth);
-  expect(width).toBeLessThanOrEqual(390);
+  await expectNoSidewaysScroll(page, 390);
   await page.screenshot({ path: testInfo.outputPath("manager-home-390.png"), fullPage: true });
 });
 

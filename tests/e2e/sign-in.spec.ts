@@ -5,6 +5,7 @@ import AxeBuilder from "@axe-core/playwright";
 import { request as playwrightRequest } from "@playwright/test";
 import { DEMO_PERSONAS, type DemoPersona } from "../../seeds/lib/personas";
 import { expect, persona, SESSION_COOKIE, sessionCookie, test } from "./fixtures";
+import { expectNoSidewaysScroll } from "./layout";
 
 const HOME: Record<DemoPersona["role"], string> = {
   assessor: "/assess",
@@ -70,14 +71,7 @@ test.describe("sign-in and sign-out for each demo persona", () => {
 test.describe("at 390 px wide", () => {
   test.use({ viewport: { width: 390, height: 844 } });
 
-  async function expectNoHorizontalScroll(page: import("@playwright/test").Page) {
-    const widths = await page.evaluate(() => ({
-      scroll: document.scrollingElement!.scrollWidth,
-      client: document.documentElement.clientWidth,
-    }));
-    expect(widths.client).toBe(390);
-    expect(widths.scroll, "document.scrollingElement.scrollWidth").toBeLessThanOrEqual(390);
-  }
+  const expectNoHorizontalScroll = (page: import("@playwright/test").Page) => expectNoSidewaysScroll(page, 390);
 
   test("the sign-in page and the admin home do not scroll sideways", async ({ page, signInAs }, testInfo) => {
     await page.goto("/sign-in");

@@ -3,6 +3,7 @@
 // another trainer's session is refused. Invented demo people (seeds/07_portals_demo.ts).
 import type { Knex } from "knex";
 import { expect, persona, test } from "./fixtures";
+import { expectNoSidewaysScroll } from "./layout";
 import { closeSql, inesTrainerId, portalAccount, seriousViolations, sql } from "./portal-accounts";
 
 test.afterAll(closeSql);
@@ -66,7 +67,7 @@ test("a trainer logs a score and the worker's chart moves; a severe event pauses
   const card = page.getByTestId(`session-${first}`);
   await expect(card).toContainText(w.employeeNumber);
   await expect(card).toContainText(foot.name);
-  expect(await page.evaluate(() => document.documentElement.scrollWidth)).toBeLessThanOrEqual(390);
+  await expectNoSidewaysScroll(page, 390);
   const target = await card.getByRole("link", { name: "Attended: log it" }).boundingBox();
   expect(target!.height).toBeGreaterThanOrEqual(44); // large touch targets
   await page.screenshot({ path: testInfo.outputPath("trainer-day-390.png"), fullPage: true });
@@ -75,7 +76,7 @@ test("a trainer logs a score and the worker's chart moves; a severe event pauses
   await expect(page.getByLabel("Device safety cautions")).toBeVisible();
   await page.getByLabel("Task score (0–1)").fill("0.66");
   await page.getByLabel("Notes").fill("Good toe control today.");
-  expect(await page.evaluate(() => document.documentElement.scrollWidth)).toBeLessThanOrEqual(390);
+  await expectNoSidewaysScroll(page, 390);
   await page.screenshot({ path: testInfo.outputPath("trainer-log-390.png"), fullPage: true });
   await page.getByRole("button", { name: "Save session" }).click();
   await expect(page.getByRole("status")).toContainText("Session logged");

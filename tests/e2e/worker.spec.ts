@@ -3,6 +3,7 @@
 // at 390 px; a review request answered by an assessor. Invented demo people (seeds/07_portals_demo.ts).
 import fs from "node:fs";
 import { expect, persona, test } from "./fixtures";
+import { expectNoSidewaysScroll } from "./layout";
 import { closeSql, inesTrainerId, portalAccount, seriousViolations, sql } from "./portal-accounts";
 
 test.afterAll(closeSql);
@@ -121,7 +122,7 @@ test("the worker home fits 390 px: next sessions, stage, forecast in words, prog
   await expect(page.getByTestId("forecasts")).toContainText(/between \d/);
   await expect(page.getByTestId("my-progress-SRF-FOOT").locator(".recharts-scatter-symbol").first()).toBeVisible();
   await expect(page.getByLabel("Device safety cautions")).toBeVisible();
-  expect(await page.evaluate(() => document.documentElement.scrollWidth)).toBeLessThanOrEqual(390);
+  await expectNoSidewaysScroll(page, 390);
   await page.screenshot({ path: testInfo.outputPath("worker-home-390.png"), fullPage: true });
   await page.setViewportSize({ width: 1280, height: 900 });
   await page.screenshot({ path: testInfo.outputPath("worker-home-desktop.png"), fullPage: true });
