@@ -36,6 +36,8 @@ describe("concurrent writes on PostgreSQL", () => {
     expect(res.status).toBe(302);
     return res.headers.get("Location")!;
   }
+  const signedInWorker = () =>
+    c.db("workers as w").join("users as u", "u.id", "w.user_id").where("u.email", PERSONA.worker).first("w.id");
   const importAt = (client: Browserless, url: string) => client.postForm(url, { intent: "import" });
   const countLike = async (prefix: string) =>
     Number((await c.db("workers").where("employee_number", "like", `${prefix}-%`).count({ n: "*" }).first())?.n ?? 0);
@@ -70,11 +72,7 @@ describe("concurrent writes on PostgreSQL", () => {
   });
 
   it("holds the open-review cap of 5 when 8 requests arrive at once", async () => {
-    const me = await c
-      .db("workers as w")
-      .join("users as u", "u.id", "w.user_id")
-      .where("u.email", PERSONA.worker)
-      .first("w.id");
+    const me = await signedInWorker();
     await c.db("review_requests").where({ worker_id: me.id }).del();
     const results = await Promise.all(
       Array.from({ length: 8 }, (_, i) =>
@@ -93,11 +91,7 @@ describe("concurrent writes on PostgreSQL", () => {
   });
 
   it("lets one of two assessors answer a request answered by both at the same moment", async () => {
-    const me = await c
-      .db("workers as w")
-      .join("users as u", "u.id", "w.user_id")
-      .where("u.email", PERSONA.worker)
-      .first("w.id");
+    const me = await signedInWorker();
     const row = await c.db("review_requests").where({ worker_id: me.id, status: "open" }).orderBy("id").first("id");
     const answers = [
       "First assessor's answer to the parallel request.",
