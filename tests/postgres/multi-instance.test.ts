@@ -9,6 +9,14 @@ import { type Cluster, signInAt, startCluster, waitFor } from "./cluster";
 // over once its heartbeat is stale, and finish it — never stuck in "running", never solved twice (the claim
 // counter `attempts` says how many times an instance started solving it).
 const HEARTBEAT_MS = 250;
+/** With the grown pool (growPool), a solve of several seconds on the test machine. */
+const BIG = {
+  startDate: "2026-12-07",
+  horizonWeeks: "26",
+  planningQuantile: "90",
+  fairnessShare: "30",
+  includeProficientElsewhere: "on",
+};
 const STALE_MS = 2_000;
 
 interface RunDbRow {
@@ -27,6 +35,7 @@ interface RunDbRow {
  * with a forecast gets `copies` invented twins with the same site, department, consent and forecasts.
  */
 async function growPool(db: Cluster["db"], copies: number): Promise<void> {
+  if (await db("workers").where("employee_number", "like", "%-T1").first("id")) return; // grown already
   await db.transaction(async (trx) => {
     await trx.raw(
       `INSERT INTO workers (employee_number, given_name, family_name, site_id, department_id, stage, created_at, updated_at)
@@ -94,16 +103,8 @@ describe("several app instances on one PostgreSQL database", () => {
   });
 
   it("finishes a run on the other instance when the solving instance is killed mid-solve", async () => {
-    const big = {
-      startDate: "2026-12-07",
-      horizonWeeks: "26",
-      planningQuantile: "90",
-      fairnessShare: "30",
-      includeProficientElsewhere: "on",
-      label: "killed mid-solve",
-    };
     await growPool(c.db, 2);
-    const id = await startRunAt(clients[0], big);
+    const id = await startRunAt(clients[0], { ...BIG, label: "killed mid-solve" });
     // Wait until an instance is solving it (claimed, progress written by the solver).
     const solving = await waitFor("the run to be mid-solve", async () => {
       const r = await run(id);
@@ -171,5 +172,43 @@ describe("several app instances on one PostgreSQL database", () => {
       await boss.stop({ graceful: false, close: true, wait: true });
     }
     expect(await c.db("assessment_sessions").where({ id: old.id }).first("id")).toBeUndefined();
+  });
+
+  it("gives its run back when stopped with SIGTERM, and a newly started instance finishes it", async () => {
+    await growPool(c.db, 2);
+    const live = c.apps.filter((a) => a.child.exitCode === null && a.child.signalCode === null);
+    expect(live).toHaveLength(1); // the survivor of the previous test: nobody else can take the run
+    const [only] = live;
+    const client = await signInAt(only.appUrl, PERSONA.coordinator);
+    const id = await startRunAt(client, { ...BIG, label: "stopped mid-solve" });
+    await waitFor("the run to be mid-solve", async () => {
+      const r = await run(id);
+      return r?.status === "running" && r.phase !== "starting" ? r : null;
+    });
+    const exited = new Promise((r) => only.child.once("exit", r));
+    await only.stop(); // SIGTERM (SIGKILL only if it does not end within the grace period)
+    await exited;
+    const released = (await run(id))!;
+    expect([released.status, released.claimed_by, released.phase]).toEqual([
+      "queued",
+      null,
+      "queued again (instance stopped)",
+    ]);
+    expect(released.attempts).toBe(1);
+    // A new instance on the same database picks the queued run up from the queue and solves it.
+    const fresh = await c.addApp();
+    const freshClient = await signInAt(fresh.appUrl, PERSONA.coordinator);
+    const final = await waitFor(
+      "the run to finish on the new instance",
+      async () => {
+        const st = await statusAt(freshClient, id);
+        return st.status === "done" || st.status === "failed" ? st : null;
+      },
+      180_000,
+    );
+    expect(final.status).toBe("done");
+    const row = (await run(id))!;
+    expect(row.attempts).toBe(2);
+    expect(pidOf(row.claimed_by)).toBe(fresh.child.pid);
   });
 });
