@@ -34,6 +34,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       phase: run.phase,
       fraction: run.fraction,
       error: run.error,
+      attempts: run.attempts,
       parameters: run.parameters,
       createdAt: run.createdAt,
       finishedAt: run.finishedAt,

@@ -8,7 +8,14 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const run = await getRunStatus(p.scope, Number(params.runId));
   if (!run) return Response.json({ error: "No such run in your scope." }, { status: 404 });
   return Response.json(
-    { id: run.id, status: run.status, phase: run.phase, fraction: run.fraction, error: run.error },
+    {
+      id: run.id,
+      status: run.status,
+      phase: run.phase,
+      fraction: run.fraction,
+      error: run.error,
+      attempts: run.attempts,
+    },
     { headers: { "Cache-Control": "no-store" } },
   );
 }
