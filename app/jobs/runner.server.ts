@@ -178,14 +178,41 @@ export function startBackgroundWork(): void {
   const pg = usesPgBoss();
   const log = (what: string) => (e: unknown) => console.error(`background jobs: ${what}:`, e);
 
+  // PostgreSQL: this instance's pg-boss workers, registered once (retried by the sweep if the database was
+  // not reachable at start-up).
+  let working: Promise<void> | null = null;
+  const ensureWorking = () => {
+    working ??= boss()
+      .then(async (b) => {
+        await b.work<{ runId: number }>(
+          ALLOCATION_QUEUE,
+          { batchSize: 1, pollingIntervalSeconds: 1 },
+          async ([job]) => {
+            await runner.process(Number(job.data.runId));
+          },
+        );
+        await b.work(RETENTION_QUEUE, { batchSize: 1, pollingIntervalSeconds: 10 }, async () => {
+          const s = await purgeExpiredAssessments(new Date().toISOString().slice(0, 10));
+          console.log(`retention purge (cut-off ${s.cutoff}): ${s.assessmentSessions} assessment sessions deleted`);
+        });
+        await b.schedule(RETENTION_QUEUE, jobs.retentionCron, {}, { tz: "UTC" });
+      })
+      .catch((e) => {
+        working = null;
+        throw e;
+      });
+    return working;
+  };
+
   const tick = async () => {
     const recovered = await runner.sweep();
     for (const id of recovered.failed) console.error(`allocation run ${id}: failed, its solver stopped answering`);
     if (pg) {
+      await ensureWorking();
       // Requeued runs, and queued runs whose job may have been lost (singleton key: no duplicates waiting).
       const ids = new Set([...recovered.requeued, ...(await queuedRunIds(db(), 2 * jobs.heartbeatMs, 50))]);
       for (const id of ids) await enqueueAllocation(id);
-    } else await runner.drain();
+    } else void runner.drain().catch(log("drain"));
   };
   let ticking = false;
   const timer = setInterval(
@@ -202,24 +229,8 @@ export function startBackgroundWork(): void {
   );
   timer.unref();
 
-  if (pg) {
-    boss()
-      .then(async (b) => {
-        await b.work<{ runId: number }>(
-          ALLOCATION_QUEUE,
-          { batchSize: 1, pollingIntervalSeconds: 1 },
-          async ([job]) => {
-            await runner.process(Number(job.data.runId));
-          },
-        );
-        await b.work(RETENTION_QUEUE, { batchSize: 1, pollingIntervalSeconds: 10 }, async () => {
-          const s = await purgeExpiredAssessments(new Date().toISOString().slice(0, 10));
-          console.log(`retention purge (cut-off ${s.cutoff}): ${s.assessmentSessions} assessment sessions deleted`);
-        });
-        await b.schedule(RETENTION_QUEUE, jobs.retentionCron, {}, { tz: "UTC" });
-      })
-      .catch(log("start"));
-  } else {
+  if (pg) ensureWorking().catch(log("start"));
+  else {
     onLocalEnqueue(() => void runner.drain().catch(log("drain")));
     void runner.drain().catch(log("drain"));
   }
