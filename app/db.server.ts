@@ -19,3 +19,10 @@ export function db(): Knex {
 }
 
 export type Db = Knex | Knex.Transaction;
+
+/**
+ * A row as Knex returns it while the tables are not declared for its type inference: the models map it
+ * to a typed shape straight away. The one place where `any` is allowed.
+ */
+// biome-ignore lint/suspicious/noExplicitAny: untyped query rows until the tables are declared for Knex's inference.
+export type Row = Record<string, any>;

@@ -1,11 +1,8 @@
 import { index, layout, type RouteConfig, route } from "@react-router/dev/routes";
-import * as allocation from "./route-groups/allocation";
-import * as assessment from "./route-groups/assessment";
-import * as forecast from "./route-groups/forecast";
-import * as portals from "./route-groups/portals";
-import * as readiness from "./route-groups/readiness";
+import { AREAS } from "./route-groups";
+import type { RouteSpec } from "./route-groups/types";
 
-const areas = [assessment, forecast, allocation, readiness, portals];
+const routesOf = (specs: RouteSpec[]) => specs.map(([path, file]) => route(path, file));
 
 // Every route here is walked by tests/integration/route-guard.test.ts: it must be on the public
 // allow-list there, or refuse anonymous access.
@@ -31,9 +28,9 @@ export default [
     route("admin/consent-texts", "routes/admin.consent-texts.tsx"),
     route("admin/access-log", "routes/admin.access-log.tsx"),
     route("admin/outbox", "routes/admin.outbox.tsx"),
-    ...areas.flatMap((a) => a.routes),
+    ...AREAS.flatMap((a) => routesOf(a.routes)),
   ]),
-  ...areas.flatMap((a) => a.outsideShell),
+  ...AREAS.flatMap((a) => routesOf(a.outsideShell)),
   route("admin/access-log/export.xlsx", "routes/admin.access-log.export.ts"),
 
   route("api/v1/health", "routes/api.v1.health.ts"),

@@ -1,4 +1,4 @@
-// Benchmark: importing a 10,000-row roster (issue 3: target under 5 s), end to end through the same code
+// Benchmark: importing a 10,000-row roster (target under 5 s), end to end through the same code
 // the import page uses — CSV read (csv-parse, streamed), zod row checks, upsert plan against the workers
 // on file, and the one-transaction write — on a fresh SQLite file with the demo sites. Also the second
 // import of the same people with changes (10,000 updates), an XLSX read of the same roster, and a
@@ -37,7 +37,7 @@ function rosterLines(rows: number, variant: number): string[][] {
 }
 const HEADER = ["Employee number", "First name", "Last name", "E-mail", "Site", "Department"];
 const toCsv = (rows: string[][]) =>
-  new TextEncoder().encode([HEADER, ...rows].map((r) => r.join(",")).join("\n") + "\n");
+  new TextEncoder().encode(`${[HEADER, ...rows].map((r) => r.join(",")).join("\n")}\n`);
 
 export async function main() {
   const dir = fs.mkdtempSync(path.join(os.tmpdir(), "limberly-bench-roster-"));

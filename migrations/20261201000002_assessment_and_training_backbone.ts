@@ -1,6 +1,6 @@
 import type { Knex } from "knex";
 
-// Shared backbone for baseline assessment (DESIGN §3.1), proficiency and logged training (§3.4),
+// Shared backbone for baseline assessment (docs/methods.md), proficiency and logged training,
 // used by the assessment, forecast, allocation and portal areas. Schema builder only (SQLite and PostgreSQL).
 export async function up(knex: Knex): Promise<void> {
   // A measure of the baseline battery, configured by an assessor.

@@ -1,6 +1,6 @@
 import type { Knex } from "knex";
 
-// Roster import batches (issue 3): an uploaded roster waits here between upload, column mapping and
+// Roster import batches: an uploaded roster waits here between upload, column mapping and
 // preview; once imported (or discarded) its rows are cleared and only the summary stays.
 // Plus indexes for the worker list (sorted and filtered by name on 10,000 workers).
 // Schema builder only, so the same migration runs on SQLite and PostgreSQL.

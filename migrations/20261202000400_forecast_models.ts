@@ -1,10 +1,10 @@
 import type { Knex } from "knex";
 
-// Forecast area (DESIGN §3.3–3.4, issue 4): versioned hours-to-proficiency models, per-worker forecasts,
+// Forecast area (docs/methods.md): versioned hours-to-proficiency models, per-worker forecasts,
 // drift records (actual vs forecast once a worker reaches the criterion) and review flags (plateaus).
 // Schema builder only, so the same migration runs on SQLite and PostgreSQL. JSON is stored as text.
 export async function up(knex: Knex): Promise<void> {
-  // The planning figure is this quantile of the forecast distribution (DESIGN §3.3: default 80th percentile).
+  // The planning figure is this quantile of the forecast distribution (default 80th percentile, docs/methods.md).
   await knex.schema.alterTable("organisations", (t) => {
     t.float("planning_quantile").notNullable().defaultTo(0.8);
   });

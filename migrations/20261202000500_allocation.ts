@@ -1,6 +1,6 @@
 import type { Knex } from "knex";
 
-// Allocator (issue 5, DESIGN §3.5): fleet availability (unit maintenance windows), trainers' weekly working
+// Allocator (docs/methods.md): fleet availability (unit maintenance windows), trainers' weekly working
 // pattern and leave, workers' training fields and leave, allocation runs with their progress and result, and
 // the published-plan version counter used for the optimistic publish check. Schema builder only, so the same
 // migration runs on SQLite and PostgreSQL. JSON is stored as text.

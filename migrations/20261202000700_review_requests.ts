@@ -1,7 +1,7 @@
 import type { Knex } from "knex";
 
-// Portals (issue 7): a worker asks for a person to review their forecast or their plan (DESIGN §4: a person
-// can always contest an automated figure). Assessors of the worker's site answer in the app; the worker is
+// Portals: a worker asks for a person to review their forecast or their plan (a person
+// can always contest an automated figure, docs/consent-and-disclosure.md). Assessors of the worker's site answer in the app; the worker is
 // e-mailed. Schema builder only, so the same migration runs on SQLite and PostgreSQL.
 export async function up(knex: Knex): Promise<void> {
   await knex.schema.createTable("review_requests", (t) => {

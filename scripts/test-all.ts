@@ -1,5 +1,5 @@
 // `npm test`: everything a newcomer and CI run. Makes sure Debian's Chromium is there (installs it when
-// running as root, otherwise prints the command), type-checks, builds, then runs the unit and reference
+// running as root, otherwise prints the command), type-checks, lints (Biome), builds, then runs the unit and reference
 // tests, the integration tests against the real stack, and the Playwright end-to-end tests.
 // Ends with one line "N passed, N failed" over all suites.
 import { spawnSync } from "node:child_process";
@@ -35,6 +35,8 @@ ensureChromium();
 const failures: string[] = [];
 if (run("typegen", [bin("@react-router/dev/bin.js"), "typegen"]) !== 0) failures.push("typegen");
 if (run("tsc --noEmit", [bin("typescript/bin/tsc"), "--noEmit"]) !== 0) failures.push("tsc");
+if (run("biome check", [bin("@biomejs/biome/bin/biome"), "check", "--error-on-warnings", "."]) !== 0)
+  failures.push("biome");
 if (run("build", [bin("@react-router/dev/bin.js"), "build"]) !== 0) {
   console.error("The build failed; the integration and end-to-end tests need it.");
   console.log("\n0 passed, 1 failed");

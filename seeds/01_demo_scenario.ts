@@ -1,11 +1,11 @@
 import type { Knex } from "knex";
-import { DEMO_PERSONAS } from "./lib/personas";
+import { DEMO_PERSONAS } from "../app/auth/demo-personas";
 import { mulberry32, pick } from "./lib/prng";
 import { emptyAllTables } from "./lib/reset";
 
 // ─────────────────────────────────────────────────────────────────────────────────────────────
 // INVENTED DEMO DATA. "Harrow & Vale Fabrication", its sites, departments, people and devices are
-// fictional (DESIGN §6). Names are drawn at random from generic first/last-name lists; any match with
+// fictional. Names are drawn at random from generic first/last-name lists; any match with
 // a real person is coincidence. Deterministic: seeded PRNG and fixed dates.
 // ─────────────────────────────────────────────────────────────────────────────────────────────
 

@@ -4,11 +4,11 @@ import { zScore } from "../app/compute/features";
 import { mulberry32 } from "./lib/prng";
 
 // ─────────────────────────────────────────────────────────────────────────────────────────────
-// INVENTED DEMO DATA for "Harrow & Vale Fabrication" (DESIGN §6): the baseline battery, baseline
+// INVENTED DEMO DATA for "Harrow & Vale Fabrication": the baseline battery, baseline
 // results for consented demo workers (a subset assessed twice, so test–retest reliability has data),
 // and a norm set derived from this invented cohort. The values come from a documented synthetic
 // model, not from any study or real person:
-//   value = mean + sd · (0.6 · ability + 0.8 · trait) + sd · 0.4 · sessionNoise,
+// value = mean + sd · (0.6 · ability + 0.8 · trait) + sd · 0.4 · sessionNoise,
 // ability, trait and noise independent standard normals (seeded), so the expected test–retest
 // ICC is 1 / (1 + 0.16) ≈ 0.86. The four measures 03_forecast_demo.ts also uses share its means and SDs. Runs after 01_demo_scenario.ts; deterministic (seeded PRNG, fixed dates).
 // ─────────────────────────────────────────────────────────────────────────────────────────────

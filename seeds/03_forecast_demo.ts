@@ -7,16 +7,16 @@ import { approveModelVersion, saveModelVersion } from "../app/models/model-versi
 import { logSessionResult } from "../app/models/progress.server";
 
 // ─────────────────────────────────────────────────────────────────────────────────────────────
-// INVENTED DEMO DATA for the forecast area (issue 4). Every outcome below is generated from the documented
+// INVENTED DEMO DATA for the forecast area. Every outcome below is generated from the documented
 // synthetic model, not observed on anyone:
 //
-//   log(hours to proficiency) = ln(H₀) + Σ_j b_j · z_j + σ · ε,   z_j, ε ~ N(0, 1) independent
+// log(hours to proficiency) = ln(H₀) + Σ_j b_j · z_j + σ · ε, z_j, ε ~ N(0, 1) independent
 //
 // with z_j the baseline z-score (positive = better) on four trace measures, and per device type:
-//   SRF-FOOT      H₀ = 22 h  b = tracking −0.30, timing −0.15, hand −0.10, sway −0.03   σ = 0.22
-//   SRA-WAIST     H₀ = 16 h  b = tracking −0.05, timing −0.20, hand −0.25, sway −0.08   σ = 0.25
-//   EXO-SHOULDER  H₀ = 7 h   b = tracking −0.04, timing −0.05, hand −0.02, sway −0.22   σ = 0.24
-//   EXO-BACK      H₀ = 6 h   b = tracking −0.06, timing −0.03, hand  0.00, sway −0.26   σ = 0.24
+// SRF-FOOT H₀ = 22 h b = tracking −0.30, timing −0.15, hand −0.10, sway −0.03 σ = 0.22
+// SRA-WAIST H₀ = 16 h b = tracking −0.05, timing −0.20, hand −0.25, sway −0.08 σ = 0.25
+// EXO-SHOULDER H₀ = 7 h b = tracking −0.04, timing −0.05, hand −0.02, sway −0.22 σ = 0.24
+// EXO-BACK H₀ = 6 h b = tracking −0.06, timing −0.03, hand 0.00, sway −0.26 σ = 0.24
 // Sessions last 1 h (finger, exoskeletons) or 1.5 h (arm), inside each device's wear-time limit.
 // Each past trainee's sessions follow a saturating curve score = a − (a − s)·e^(−c·hours) that reaches the
 // criterion near the drawn hours, plus N(0, 0.025) noise; the recorded hours to proficiency are where the
@@ -71,7 +71,7 @@ export async function seed(knex: Knex): Promise<void> {
     const rhea = await user("rhea.lindqvist@harrowvale.example");
     if (!morwenna || !rhea) throw new Error("03_forecast_demo needs the personas from 01_demo_scenario");
 
-    // Measures (issue 3's seed may already have created them) and an invented norm set for them.
+    // Measures (the baseline seed may already have created them) and an invented norm set for them.
     for (const m of MEASURES) {
       const dir = MEASURE_DIRECTIONS[m.code];
       await trx("measures")

@@ -1,9 +1,9 @@
 import type { Knex } from "knex";
 
 // ─────────────────────────────────────────────────────────────────────────────────────────────
-// INVENTED DEMO DATA for the allocator (issue 5): fit rules of the device types, maintenance windows of a
+// INVENTED DEMO DATA for the allocator: fit rules of the device types, maintenance windows of a
 // few units, every trainer's weekly working pattern, some leave, and a few workers' training priorities.
-// Everything here is fictional ("Harrow & Vale Fabrication", DESIGN §6). Deterministic: fixed dates and a
+// Everything here is fictional ("Harrow & Vale Fabrication"). Deterministic: fixed dates and a
 // fixed choice of people (by employee number), no randomness. Runs after 01–03.
 // ─────────────────────────────────────────────────────────────────────────────────────────────
 

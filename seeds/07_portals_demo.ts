@@ -1,15 +1,15 @@
 import type { Knex } from "knex";
 
 // ─────────────────────────────────────────────────────────────────────────────────────────────
-// INVENTED DEMO DATA for the worker and trainer portals (issue 7). "Harrow & Vale Fabrication" and all its
-// people are fictional (DESIGN §6). Deterministic: fixed dates, fixed people (by employee number), no
+// INVENTED DEMO DATA for the worker and trainer portals. "Harrow & Vale Fabrication" and all its
+// people are fictional. Deterministic: fixed dates, fixed people (by employee number), no
 // randomness. Runs after 01–04.
 //
 // - Sign-in accounts (role worker; their roster e-mail is the identity) for the first two of Ines Calloway's
-//   trainees still in training at North Yard after seeds 01–04, by employee number, Amara Quist (HV-00001)
-//   left out, so that demo and tests can show a withdrawal and a logged session without touching her.
+// trainees still in training at North Yard after seeds 01–04, by employee number, Amara Quist (HV-00001)
+// left out, so that demo and tests can show a withdrawal and a logged session without touching her.
 // - Scheduled sessions, Monday 30 November to Friday 18 December 2026, for Ines Calloway's trainees in
-//   training on the North Yard units (Amara Quist included), inside the devices' wear-time limits.
+// training on the North Yard units (Amara Quist included), inside the devices' wear-time limits.
 // - One answered and one open review request, so the assessors' queue and the worker page are not empty.
 // ─────────────────────────────────────────────────────────────────────────────────────────────
 

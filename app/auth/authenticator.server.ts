@@ -2,7 +2,7 @@ import { createRemoteJWKSet, jwtVerify } from "jose";
 import { Authenticator } from "remix-auth";
 import { CodeChallengeMethod, OAuth2Strategy } from "remix-auth-oauth2";
 import { appUrl, isProduction, oidc } from "~/config.server";
-import { type AppUser, findUserByEmail } from "~/models/users.server";
+import { type AppUser, findUserByEmail } from "./users.server";
 
 // OpenID Connect sign-in: authorization-code flow with PKCE against the configured issuer (in
 // development, demo and tests the project's own stand-in, scripts/idp.ts). The ID token's signature,
@@ -62,7 +62,7 @@ async function build(): Promise<Authenticator<SignInResult>> {
         const email =
           typeof payload.email === "string" ? payload.email : typeof payload.sub === "string" ? payload.sub : "";
         const user = email ? await findUserByEmail(email) : null;
-        if (!user || !user.active || user.roles.length === 0) return { kind: "unprovisioned", email };
+        if (!user?.active || user.roles.length === 0) return { kind: "unprovisioned", email };
         return { kind: "ok", user };
       },
     ),

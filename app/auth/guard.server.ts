@@ -1,10 +1,10 @@
 import { data, redirect } from "react-router";
 import { appUrl } from "~/config.server";
-import { type AppUser, findUserById } from "~/models/users.server";
 import { type ApiKeyRecord, verifyApiKey } from "./api-keys.server";
 import { type Action, type Role, roleAllows } from "./permissions";
 import { type Scope, scopeFrom } from "./scope";
 import { getSession } from "./session.server";
+import { type AppUser, findUserById } from "./users.server";
 
 // Every protected loader, action and API route goes through requireUser or requireApiAccess.
 export type Principal =
@@ -38,7 +38,7 @@ export async function currentUser(request: Request): Promise<AppUser | null> {
   const userId = session.get("userId");
   if (!userId) return null;
   const user = await findUserById(userId);
-  return user && user.active ? user : null;
+  return user?.active ? user : null;
 }
 
 function grantingRoles(roles: Role[], action: Action): Role[] {

@@ -1,5 +1,6 @@
 // The one role × action table. Every loader, action and API route asks it through requireUser /
-// requireApiAccess (guard.server.ts); the UI only uses it to decide what to show.
+// requireApiAccess (guard.server.ts); every other decision — server views and what the UI offers — asks
+// can(). No code outside this file decides by a role's name.
 export const ROLES = ["assessor", "coordinator", "trainer", "manager", "worker", "admin"] as const;
 export type Role = (typeof ROLES)[number];
 
@@ -12,8 +13,11 @@ export const ACTIONS = [
   "assessments.write",
   "norms.manage",
   "forecast.read",
+  "forecast.clinical", // the clinical forecast view: z-scores and how each moved the forecast
   "models.manage",
   "progress.read",
+  "progress.all", // progress of every worker in scope; without it, only the trainer's own trainees
+  "progress.notes", // session notes on the progress page
   "fleet.manage",
   "allocation.run",
   "allocation.publish",
@@ -45,8 +49,11 @@ const TABLE: Record<Role, readonly Action[]> = {
     "assessments.write",
     "norms.manage",
     "forecast.read",
+    "forecast.clinical",
     "models.manage",
     "progress.read",
+    "progress.all",
+    "progress.notes",
     "sessions.log",
     "reviews.answer",
   ],
@@ -54,15 +61,16 @@ const TABLE: Record<Role, readonly Action[]> = {
     "workers.read",
     "forecast.read",
     "progress.read",
+    "progress.all",
     "fleet.manage",
     "allocation.run",
     "allocation.publish",
     "sessions.plan",
   ],
-  trainer: ["sessions.own", "sessions.log", "progress.read"],
+  trainer: ["sessions.own", "sessions.log", "progress.read", "progress.notes"],
   manager: ["readiness.read"],
   worker: ["self.read", "self.consent", "self.review"],
-  // Admin runs the system but never sees health data (DESIGN §1).
+  // Admin runs the system but never sees health data (docs/architecture.md, roles).
   admin: [
     "roster.import",
     "workers.write",
@@ -78,6 +86,15 @@ const TABLE: Record<Role, readonly Action[]> = {
 
 export function roleAllows(role: Role, action: Action): boolean {
   return TABLE[role].includes(action);
+}
+
+/**
+ * May `who` do `action`? `who` is anything with roles: a Principal (the roles that granted this request,
+ * so the answer fits the request's scope), an AppUser (all of a person's roles: what a page may offer), or
+ * the roles a loader handed to the browser.
+ */
+export function can(who: { readonly roles: readonly Role[] }, action: Action): boolean {
+  return who.roles.some((r) => roleAllows(r, action));
 }
 
 export function actionsFor(role: Role): readonly Action[] {

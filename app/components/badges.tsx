@@ -1,4 +1,5 @@
-import { STAGE_LABELS, type Stage } from "./stage";
+import { CONSENT_PURPOSES, type ConsentPurpose } from "~/domain/consent-purposes";
+import { STAGE_LABELS, type Stage } from "~/domain/stages";
 
 // Stage and consent badges for lists and records. Text carries the meaning; colour only helps.
 const STAGE_TONE: Partial<Record<Stage, string>> = {
@@ -34,15 +35,11 @@ export function consentText(s: PurposeBadgeState): string {
   return "not given";
 }
 
-export function ConsentBadges({
-  consent,
-}: {
-  consent: Record<"assessment" | "planning" | "model", PurposeBadgeState> | null;
-}) {
+export function ConsentBadges({ consent }: { consent: Record<ConsentPurpose, PurposeBadgeState> | null }) {
   if (!consent) return null;
   return (
     <span className="flex flex-wrap gap-1">
-      {(["assessment", "planning", "model"] as const).map((p) => {
+      {CONSENT_PURPOSES.map((p) => {
         const s = consent[p];
         const mark = s.status === "given" ? (s.needsRenewal ? "↻" : "✓") : s.status === "withdrawn" ? "✕" : "–";
         const tone =

@@ -1,4 +1,5 @@
 import { Bar, CartesianGrid, ComposedChart, Line, Tooltip, XAxis, YAxis } from "recharts";
+import { round1 } from "~/compute/rounding";
 import { ChartFrame } from "./chart-frame";
 
 // Capacity use per week of one resource (a device type at a site, or a trainer): bars = hours used,
@@ -65,5 +66,3 @@ export function CapacityChart({ title, unit, points }: { title: string; unit: st
     </figure>
   );
 }
-
-const round1 = (x: number) => Math.round(x * 10) / 10;

@@ -1,4 +1,4 @@
-// The usual cautions shown wherever devices are planned or worn (DESIGN §4). They defer to the
+// The usual cautions shown wherever devices are planned or worn (docs/consent-and-disclosure.md). They defer to the
 // manufacturer, local occupational-safety rules and licensed practice.
 export function DeviceCautions({ compact = false }: { compact?: boolean }) {
   return (

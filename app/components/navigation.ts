@@ -1,14 +1,10 @@
 import type { Role } from "~/auth/permissions";
-import * as allocation from "~/route-groups/allocation";
-import * as assessment from "~/route-groups/assessment";
-import * as forecast from "~/route-groups/forecast";
-import * as portals from "~/route-groups/portals";
-import * as readiness from "~/route-groups/readiness";
+import { AREAS } from "~/route-groups";
 import type { NavItem } from "~/route-groups/types";
 
 export type { NavItem };
 
-// Each role's own navigation: the foundation's entries, then each area's (app/route-groups/*).
+// Each role's own navigation: the foundation's entries, then each area's (app/route-groups/index.ts).
 const BASE: Record<Role, NavItem[]> = {
   assessor: [{ to: "/assess", label: "Assessment home" }],
   coordinator: [{ to: "/coordinate", label: "Coordination home" }],
@@ -24,7 +20,6 @@ const BASE: Record<Role, NavItem[]> = {
     { to: "/admin/access-log", label: "Access log" },
   ],
 };
-const AREAS = [assessment, forecast, allocation, readiness, portals];
 
 export function navFor(roles: Role[], showOutbox: boolean): { role: Role; items: NavItem[] }[] {
   return roles.map((role) => {

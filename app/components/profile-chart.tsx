@@ -63,6 +63,7 @@ export function ProfileChart({ points, title }: { points: ProfilePoint[]; title:
           />
           <Bar dataKey="z" isAnimationActive={false} barSize={16}>
             {data.map((d, i) => (
+              // biome-ignore lint/suspicious/noArrayIndexKey: the bars follow the measures in a fixed order and are never reordered
               <Cell key={i} fill={d.z >= 0 ? "#1f6b5c" : "#8a5a00"} />
             ))}
           </Bar>

@@ -70,10 +70,9 @@ export function ProtectedTableView(props: ProtectedTableViewProps) {
   const withTotals = rowTotals !== undefined;
   return (
     <div className="min-w-0">
-      <div
+      <section
         className="relative overflow-x-auto rounded-md border border-line"
         tabIndex={0}
-        role="region"
         aria-labelledby={`${id}-caption`}
       >
         <table
@@ -138,7 +137,7 @@ export function ProtectedTableView(props: ProtectedTableViewProps) {
             </tfoot>
           )}
         </table>
-      </div>
+      </section>
       {anyHidden && <HiddenLegend id={`${id}-legend`} threshold={threshold} meaning={hiddenMeaning} />}
     </div>
   );

@@ -35,12 +35,7 @@ export function RunCompare({ a, b }: { a: CompareSide; b: CompareSide }) {
   ];
   return (
     <div className="grid gap-4">
-      <div
-        className="card overflow-x-auto p-0"
-        tabIndex={0}
-        role="region"
-        aria-label="Runs compared (scrolls sideways)"
-      >
+      <section className="card overflow-x-auto p-0" tabIndex={0} aria-label="Runs compared (scrolls sideways)">
         <table className="table-base" data-testid="run-compare">
           <caption className="sr-only">
             Run #{a.id} and run #{b.id} side by side
@@ -102,7 +97,7 @@ export function RunCompare({ a, b }: { a: CompareSide; b: CompareSide }) {
             </tr>
           </tbody>
         </table>
-      </div>
+      </section>
       <div className="grid gap-4 md:grid-cols-2">
         <section aria-labelledby="only-a" className="card">
           <h2 id="only-a" className="font-semibold">

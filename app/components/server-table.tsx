@@ -59,10 +59,9 @@ export function ServerTable<T>(props: ServerTableProps<T>) {
           </button>
         </Form>
       )}
-      <div
+      <section
         className="overflow-x-auto"
         tabIndex={0}
-        role="region"
         aria-label={`${caption} (scrolls sideways)`}
         aria-busy={navigation.state === "loading"}
       >
@@ -120,7 +119,7 @@ export function ServerTable<T>(props: ServerTableProps<T>) {
             )}
           </tbody>
         </table>
-      </div>
+      </section>
       <nav
         aria-label={`${caption} pages`}
         className="flex flex-wrap items-center justify-between gap-2 border-t border-line p-3 text-sm"

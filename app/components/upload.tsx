@@ -62,6 +62,7 @@ export function IssueList({ issues, title }: { issues: IssueLike[]; title: strin
       <p className="font-semibold">{title}</p>
       <ul className="mt-2 list-disc pl-5 text-sm">
         {issues.map((i, n) => (
+          // biome-ignore lint/suspicious/noArrayIndexKey: a fixed list of problems for one upload, never reordered
           <li key={n}>
             {i.row != null && <span className="font-medium">Row {i.row}</span>}
             {(i.column ?? i.field) && (

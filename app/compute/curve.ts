@@ -1,5 +1,5 @@
-// Progress curve (DESIGN §3.4): task score against cumulative practice hours,
-//   score = asymptote − (asymptote − start) · exp(−rate · hours),
+// Progress curve (docs/methods.md): task score against cumulative practice hours,
+// score = asymptote − (asymptote − start) · exp(−rate · hours),
 // fitted by Levenberg–Marquardt. With fixStart = 0 this is y = a(1 − e^(−c·x)), NIST StRD "Misra1a".
 //
 // The solver is our own small LM on ml-matrix: each step solves the damped problem
@@ -317,7 +317,7 @@ type CurveParameters = { asymptote: number; start: number; rate: number };
 
 /**
  * Cumulative hours at which the curve reaches `threshold`:
- *   t = ln((asymptote − start) / (asymptote − threshold)) / rate.
+ * t = ln((asymptote − start) / (asymptote − threshold)) / rate.
  * null when the curve never gets there (asymptote not above the threshold, or rate ≤ 0);
  * 0 when it already starts at or above the threshold.
  */
@@ -331,7 +331,7 @@ export function timeToReach(fit: CurveParameters, threshold: number): number | n
 /**
  * Time to reach with its delta-method standard deviation, Var(t) ≈ ∇tᵀ Σ ∇t (Casella & Berger 2002, §5.5.4),
  * using the fit's parameter covariance. Gradient of t = ln((a − s)/(a − T))/c:
- *   ∂t/∂a = (1/(a − s) − 1/(a − T))/c,  ∂t/∂s = −1/((a − s)c),  ∂t/∂c = −t/c.
+ * ∂t/∂a = (1/(a − s) − 1/(a − T))/c, ∂t/∂s = −1/((a − s)c), ∂t/∂c = −t/c.
  */
 export function timeToReachWithUncertainty(
   fit: SaturatingExponentialFit,

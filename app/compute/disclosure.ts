@@ -1,4 +1,4 @@
-// Statistical disclosure control for managers' readiness tables (DESIGN §3.6).
+// Statistical disclosure control for managers' readiness tables (docs/consent-and-disclosure.md).
 //
 // Primary suppression hides every count of 1 … threshold−1 (cells and totals; zeros show).
 // Complementary suppression then hides further numbers until no hidden number can be recovered from
@@ -153,10 +153,14 @@ export function auditLinkedTables(
     [layout.parentIndex, published.parent],
   ] as const) {
     index.forEach((line, r) => {
-      line.slice(0, n).forEach((e, j) => mark(e, tab.cells[r][j]));
+      line.slice(0, n).forEach((e, j) => {
+        mark(e, tab.cells[r][j]);
+      });
       mark(line[n], tab.rowTotals[r]);
     });
-    layout.columnTotalIndex.slice(0, n).forEach((e, j) => mark(e, tab.columnTotals[j]));
+    layout.columnTotalIndex.slice(0, n).forEach((e, j) => {
+      mark(e, tab.columnTotals[j]);
+    });
     mark(layout.columnTotalIndex[n], tab.grandTotal);
   }
   return intervals(
@@ -168,10 +172,14 @@ export function auditLinkedTables(
 function flatPublished(table: ProtectedTable): boolean[] {
   const hidden: boolean[] = [];
   table.cells.forEach((line, i) => {
-    line.forEach((v) => hidden.push(v === null));
+    line.forEach((v) => {
+      hidden.push(v === null);
+    });
     hidden.push(table.rowTotals[i] === null);
   });
-  table.columnTotals.forEach((v) => hidden.push(v === null));
+  table.columnTotals.forEach((v) => {
+    hidden.push(v === null);
+  });
   hidden.push(table.grandTotal === null);
   return hidden;
 }

@@ -1,4 +1,4 @@
-// Baseline measures (DESIGN §3.1). The contract lives here; each measure sits in its own file under ./features/.
+// Baseline measures (docs/methods.md). The contract lives here; each measure sits in its own file under ./features/.
 
 export { MEASURE_DIRECTIONS, type MeasureDirection, type MeasureKey, zScore } from "./features/directions";
 export { type ForceGrading, forceGrading } from "./features/force-grading";

@@ -1,12 +1,12 @@
-// Remaining-hours forecast during training (DESIGN §3.4, last paragraph).
+// Remaining-hours forecast during training (docs/methods.md).
 //
 // Two estimates of log(remaining hours) are combined:
-//   • the prior — the baseline regression forecast, conditioned on the hours already trained;
-//   • the evidence — the progress curve's time to reach the criterion, minus hours done, with its SD
-//     from the delta method on the curve parameters.
+// • the prior — the baseline regression forecast, conditioned on the hours already trained;
+// • the evidence — the progress curve's time to reach the criterion, minus hours done, with its SD
+// from the delta method on the curve parameters.
 // Both are treated as normal on the log scale and combined by inverse-variance weighting, which is the
 // normal–normal posterior with known variances (Gelman et al., Bayesian Data Analysis, 3rd ed., §2.5):
-//   mean = (m₁/v₁ + m₂/v₂)/(1/v₁ + 1/v₂),  variance = 1/(1/v₁ + 1/v₂).
+// mean = (m₁/v₁ + m₂/v₂)/(1/v₁ + 1/v₂), variance = 1/(1/v₁ + 1/v₂).
 // When the curve plateaus below the criterion the result is a review flag; the curve is never
 // extrapolated past its plateau and no combined number is produced.
 

@@ -1,4 +1,4 @@
-// Worker-level forecast from a stored model version (DESIGN §3.3) and its plain-words explanation.
+// Worker-level forecast from a stored model version (docs/methods.md) and its plain-words explanation.
 // The model is log(hours) = b₀ + Σ b_j·x_j with x_j the worker's baseline z-score on measure j,
 // standardised again with the cohort's mean and SD of that z-score (so x = 0 is the cohort average).
 // Pure: no database, no clock.

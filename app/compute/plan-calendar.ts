@@ -1,4 +1,4 @@
-// Pure date helpers for allocation plans (issue 5): weeks of a horizon, weekdays, date ranges.
+// Pure date helpers for allocation plans: weeks of a horizon, weekdays, date ranges.
 // Dates are ISO "YYYY-MM-DD" strings in the organisation's local calendar; no clock is read here.
 
 export function addDays(iso: string, n: number): string {

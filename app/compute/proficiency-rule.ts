@@ -1,4 +1,4 @@
-// Proficiency criterion (issue 4, item 2): a worker is proficient on a device type at the first session
+// Proficiency criterion: a worker is proficient on a device type at the first session
 // that completes a run of `consecutiveSessions` consecutive logged sessions whose task score is at or
 // above `scoreThreshold`. Pure: no database, no clock.
 

@@ -1,4 +1,4 @@
-// Progress update for one trainee (DESIGN §3.4, issue 4 item 5): fit the saturating-exponential curve to
+// Progress update for one trainee (docs/methods.md): fit the saturating-exponential curve to
 // the logged sessions, turn the baseline forecast into remaining hours given the hours already done, and
 // combine the two by their uncertainties (forecast-combine.ts). A plateau below the criterion is a review
 // flag, never an extrapolated number. Pure: no database, no clock.

@@ -1,4 +1,4 @@
-// Pure helpers for the managers' readiness views (DESIGN §3.6). Everything here works only on tables
+// Pure helpers for the managers' readiness views (docs/consent-and-disclosure.md). Everything here works only on tables
 // that have already been through disclosure control, so whatever it derives is computable from the
 // published numbers alone and reveals nothing more than they do.
 
@@ -57,16 +57,6 @@ export function transposeProtected(table: ProtectedTable): ProtectedTable {
     grandTotal: table.grandTotal,
     threshold: table.threshold,
   };
-}
-
-/** Counts of hidden numbers in a protected table (cells, totals), for the explanation under it. */
-export function hiddenCount(table: ProtectedTable): { cells: number; totals: number } {
-  const cells = table.cells.reduce((n, line) => n + line.filter((v) => v === null).length, 0);
-  const totals =
-    table.rowTotals.filter((v) => v === null).length +
-    table.columnTotals.filter((v) => v === null).length +
-    (table.grandTotal === null ? 1 : 0);
-  return { cells, totals };
 }
 
 /** Monday (UTC) of the ISO week containing a YYYY-MM-DD date, as YYYY-MM-DD. */

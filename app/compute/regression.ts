@@ -1,4 +1,4 @@
-// Forecast model (DESIGN §3.3): linear regression of log(hours to proficiency) on standardised
+// Forecast model (docs/methods.md): linear regression of log(hours to proficiency) on standardised
 // baseline measures, with optional ridge penalty, t-based prediction intervals and leave-one-out
 // cross-validation.
 //
@@ -11,17 +11,17 @@
 // penalty applies to the coefficients on the scale of X as given (pass standardised measures, as the
 // product does). It is solved as ordinary least squares on rows augmented with √λ·I (stable QR, no
 // normal equations). Under ridge:
-//   • hat matrix H = X(XᵀX + λI)⁻¹Xᵀ (plus 1/n for the intercept); effective parameters = tr(H);
-//   • dfResidual = n − tr(H) (may be non-integer; jStat's t accepts that);
-//   • residualSD = √(RSS / dfResidual);
-//   • standard errors are the square roots of the sandwich covariance
-//     σ²·(XᵀX + λI)⁻¹XᵀX(XᵀX + λI)⁻¹ (Hoerl & Kennard 1970) — they describe sampling spread around the
-//     shrunken estimate and ignore its bias, so ridge intervals are somewhat optimistic.
+// • hat matrix H = X(XᵀX + λI)⁻¹Xᵀ (plus 1/n for the intercept); effective parameters = tr(H);
+// • dfResidual = n − tr(H) (may be non-integer; jStat's t accepts that);
+// • residualSD = √(RSS / dfResidual);
+// • standard errors are the square roots of the sandwich covariance
+// σ²·(XᵀX + λI)⁻¹XᵀX(XᵀX + λI)⁻¹ (Hoerl & Kennard 1970) — they describe sampling spread around the
+// shrunken estimate and ignore its bias, so ridge intervals are somewhat optimistic.
 
 import { Matrix, QrDecomposition } from "ml-matrix";
 import { studentTQuantile } from "./student-t";
 
-/** The binding contract (DESIGN §3.3). */
+/** The binding contract (docs/methods.md). */
 export interface LinearFit {
   coefficients: number[]; // intercept first when intercept = true
   standardErrors: number[];
@@ -228,7 +228,7 @@ export function fitLinearModel(
   const intercept = options?.intercept ?? true;
   const ridge = options?.ridge ?? 0;
   const core = fitCore(X, y, intercept, ridge);
-  const { n, k, means, slopes, slopeCov } = core;
+  const { n, means, slopes, slopeCov } = core;
 
   const fittedValues = X.map((row) => centredPredict(core, row));
   const residuals = y.map((yi, i) => yi - fittedValues[i]);
@@ -312,9 +312,9 @@ export interface LeaveOneOutResult {
 
 /**
  * Leave-one-out cross-validation. Under OLS it uses the exact identities from one QR:
- *   held-out residual  e_(i) = e_i / (1 − h_ii)
- *   held-out variance  s²_(i) = ((n − p)s² − e_i²/(1 − h_ii)) / (n − p − 1)
- *   interval           ŷ_(i) ± t_{(1+level)/2, n−p−1} · s_(i) / √(1 − h_ii)
+ * held-out residual e_(i) = e_i / (1 − h_ii)
+ * held-out variance s²_(i) = ((n − p)s² − e_i²/(1 − h_ii)) / (n − p − 1)
+ * interval ŷ_(i) ± t_{(1+level)/2, n−p−1} · s_(i) / √(1 − h_ii)
  * (the last because x_iᵀ(X_(i)ᵀX_(i))⁻¹x_i = h_ii/(1 − h_ii), Sherman–Morrison; Belsley, Kuh & Welsch 1980).
  * Under ridge those variance identities no longer hold (tr H changes with the row left out), so each record
  * is refitted explicitly: O(n²p²), fine for the small cohorts ridge is meant for.

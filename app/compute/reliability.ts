@@ -1,11 +1,9 @@
-// Test–retest reliability (DESIGN §3.2): intraclass correlations from a two-way ANOVA table
+// Test–retest reliability (docs/methods.md): intraclass correlations from a two-way ANOVA table
 // (Shrout & Fleiss 1979, Psychological Bulletin 86:420–428), and the standard error of measurement
 // and minimal detectable change that turn a reliability into "is this change real?" (Weir 2005,
 // J Strength Cond Res 19:231–240).
-// @ts-expect-error -- jstat ships without type declarations; only normal.inv is used, typed below.
-import jstatModule from "jstat";
 
-const jstat = jstatModule as { normal: { inv(p: number, mean: number, sd: number): number } };
+import { normalQuantile } from "./student-t";
 
 export type IccForm = "ICC(1,1)" | "ICC(2,1)" | "ICC(3,1)" | "ICC(1,k)" | "ICC(2,k)" | "ICC(3,k)";
 
@@ -151,5 +149,5 @@ export function minimalDetectableChange(sem: number, confidence = 0.95): number 
 
 /** Normal quantile for a two-sided interval: z with P(|Z| ≤ z) = confidence. */
 export function twoSidedZ(confidence: number): number {
-  return jstat.normal.inv(1 - (1 - confidence) / 2, 0, 1);
+  return normalQuantile(1 - (1 - confidence) / 2);
 }

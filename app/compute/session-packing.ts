@@ -1,4 +1,4 @@
-// Second stage of the allocator (DESIGN §3.5): the weekly hours of a plan become dated sessions — day, time,
+// Second stage of the allocator (docs/methods.md): the weekly hours of a plan become dated sessions — day, time,
 // device unit, trainer — inside the trainers' working hours and the units' bookable hours. Pure and
 // deterministic (no clock): greedy packing per week. Trainees of the same trainer and device type share a
 // session slot up to the trainer's trainees-per-session; each trainee in a slot wears their own unit.
@@ -169,7 +169,10 @@ function packWith(
       ub.push({ from, to });
       unitBusy.set(`${key}|${date}`, ub);
       let days = workerDays.get(worker.id);
-      if (!days) workerDays.set(worker.id, (days = new Set()));
+      if (!days) {
+        days = new Set();
+        workerDays.set(worker.id, days);
+      }
       days.add(date);
       workerMinutes.set(worker.id, (workerMinutes.get(worker.id) ?? 0) + (to - from));
       sessions.push({

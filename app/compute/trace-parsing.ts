@@ -2,6 +2,7 @@
 // The CSV text has already been split into cells (rows of strings, header first); this module only
 // judges the content and says exactly where a file is wrong, so an assessor can fix and re-upload it.
 // Row numbers in messages are 1-based file rows with the header as row 1, as a spreadsheet shows them.
+import { median } from "simple-statistics";
 import { forceGrading, handDimensionality, swayMetrics, timingMetrics, trackingError } from "./features";
 
 export type TraceKind = "sway" | "tracking" | "glove" | "timing" | "force";
@@ -311,7 +312,7 @@ export function computeTrace(
   parsed: ParsedTrace,
   options: ComputeTraceOptions = {},
 ): Record<string, number> {
-  if (!parsed || parsed.ok !== true) throw new RangeError("computeTrace needs a successfully parsed trace");
+  if (parsed?.ok !== true) throw new RangeError("computeTrace needs a successfully parsed trace");
   if (parsed.kind !== kind) throw new RangeError(`trace was parsed as "${parsed.kind}", not "${kind}"`);
   switch (parsed.kind) {
     case "sway": {
@@ -396,12 +397,6 @@ function countFilled(cells: string[]): number {
     if (String(c ?? "").trim() !== "") last = i + 1;
   });
   return last;
-}
-
-function median(values: number[]): number {
-  const s = [...values].sort((a, b) => a - b);
-  const mid = s.length >> 1;
-  return s.length % 2 === 1 ? s[mid] : (s[mid - 1] + s[mid]) / 2;
 }
 
 function round(v: number): number {

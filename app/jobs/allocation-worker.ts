@@ -1,4 +1,4 @@
-// The worker-thread side of an allocation solve (issue 5). This module is bundled into the built server
+// The worker-thread side of an allocation solve. This module is bundled into the built server
 // (build/server/index.js) because the job runner imports it; the runner starts a worker_threads Worker on
 // that same bundle file with `workerData.limberlyJob = "allocation-solve"`, and the check below makes this
 // code run only there — on the main thread it does nothing. In development (Vite, sources in .ts) the

@@ -1,7 +1,7 @@
 import type { Knex } from "knex";
 import { db } from "~/db.server";
 
-// Retention (DESIGN §4): assessments — with their results and uploaded traces — older than the
+// Retention (docs/consent-and-disclosure.md): assessments — with their results and uploaded traces — older than the
 // organisation's retention period are deleted. Runs as `npm run jobs:retention` (schedule it daily).
 export interface PurgeSummary {
   cutoff: string;

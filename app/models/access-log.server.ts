@@ -3,7 +3,7 @@ import { type Db, db } from "~/db.server";
 import type { TableQuery } from "~/schemas/table-query";
 import { paged } from "./paging.server";
 
-// Every staff read of an individual's health data is recorded here (DESIGN §4); the worker sees it.
+// Every staff read of an individual's health data is recorded here (docs/consent-and-disclosure.md); the worker sees it.
 export type HealthResource =
   | "assessment"
   | "trace"

@@ -4,7 +4,7 @@ import { sendMail } from "~/mail.server";
 import { ADVERSE_LABELS, type AdverseEventInput, type AdverseKind } from "~/schemas/session-log";
 import { setStage } from "./consent.server";
 
-// Adverse events logged with a training session (issue 7). A severe event pauses the worker's course on that
+// Adverse events logged with a training session. A severe event pauses the worker's course on that
 // device and the worker's training (stage `paused`, with a stage_changes row), inside the session log's
 // transaction; the assessors of the worker's site are e-mailed after it commits.
 

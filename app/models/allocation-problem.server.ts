@@ -3,12 +3,12 @@ import type { AllocationProblem } from "~/compute/allocation";
 import { addDays, inRange, isoWeekday, minutesOf, weekDates } from "~/compute/plan-calendar";
 import { plannedHoursFromLogScale } from "~/compute/regression";
 import type { CalendarUnit, PlanCalendar } from "~/compute/session-packing";
-import { type Db, db } from "~/db.server";
+import { type Db, db, type Row } from "~/db.server";
 import type { RunParameters } from "~/schemas/allocation";
-import { latestConsent } from "./forecast.server";
+import { latestConsent } from "./consent.server";
 import { whereWorkerInScope } from "./workers.server";
 
-// Builds the solver input (DESIGN §3.5) for a run from the database: the pool, device-type capacity per week
+// Builds the solver input (docs/methods.md) for a run from the database: the pool, device-type capacity per week
 // (units × bookable hours, less maintenance days) and trainer hours per week (weekly working pattern, less
 // leave), with the run's what-if changes applied. The solver works per device type AT A SITE, since a worker
 // trains at their own site with a trainer of that site; ids are the readable names people see.
@@ -201,10 +201,10 @@ export async function buildProblem(params: RunParameters, scope: Scope, k: Db = 
   const candidates = await wq;
   const ids = candidates.map((w) => w.id as number);
   const consent = await latestConsent(k, ids, "planning");
-  const forecasts: Record<string, any>[] = [];
-  const courses: Record<string, any>[] = [];
-  const fields: Record<string, any>[] = [];
-  const wleave: Record<string, any>[] = [];
+  const forecasts: Row[] = [];
+  const courses: Row[] = [];
+  const fields: Row[] = [];
+  const wleave: Row[] = [];
   for (let i = 0; i < ids.length; i += 500) {
     const chunk = ids.slice(i, i + 500);
     forecasts.push(

@@ -2,12 +2,12 @@ import type { Knex } from "knex";
 import type { Principal } from "~/auth/guard.server";
 import type { Scope } from "~/auth/scope";
 import type { AllocationPlan } from "~/compute/allocation";
-import { type Db, db } from "~/db.server";
+import { type Db, db, type Row } from "~/db.server";
 import { enqueueAllocation } from "~/jobs/queue.server";
 import type { RunParameters } from "~/schemas/allocation";
 import { buildProblem, type ProblemSnapshot } from "./allocation-problem.server";
 
-// Allocation runs (issue 5): parameters, the problem snapshot the solver sees, progress and the result.
+// Allocation runs: parameters, the problem snapshot the solver sees, progress and the result.
 // The solve itself runs in app/jobs (worker thread); this module reads and writes rows and hands new runs to
 // the queue (app/jobs/queue.server.ts).
 
@@ -39,7 +39,7 @@ export interface RunDetail extends RunRow {
   plan: AllocationPlan | null;
 }
 
-function toRow(r: Record<string, any>): RunRow {
+function toRow(r: Row): RunRow {
   return {
     id: r.id,
     label: r.label ?? null,

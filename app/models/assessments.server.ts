@@ -10,8 +10,8 @@ import { listMeasures, type Measure } from "./measures.server";
 import { defaultNorms, normsOf } from "./norms.server";
 import { whereWorkerInScope } from "./workers.server";
 
-// Assessment sessions, manual results and trace uploads (issue 3 §4–5). Every write checks
-// `assessment` consent inside its own transaction, whatever the caller (DESIGN §4).
+// Assessment sessions, manual results and trace uploads. Every write checks
+// `assessment` consent inside its own transaction, whatever the caller (docs/consent-and-disclosure.md).
 
 export class AssessmentInputError extends Error {
   constructor(
@@ -373,9 +373,4 @@ export async function rescoreSession(input: { workerId: number; sessionId: numbe
     }
     return { scored, total: rows.length };
   });
-}
-
-/** Last baseline date per worker (for lists). */
-export function lastBaselineSubquery(k: Db = db()) {
-  return k("assessment_sessions").select("worker_id").max({ last_on: "assessed_on" }).groupBy("worker_id").as("b");
 }

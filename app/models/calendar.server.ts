@@ -1,6 +1,6 @@
 import { createEvents, type EventAttributes } from "ics";
 
-// Calendar files (.ics) for published training sessions (issue 5). Times are the site's local wall-clock
+// Calendar files (.ics) for published training sessions. Times are the site's local wall-clock
 // times, written as floating local times so calendars show them as planned. A UID is made from what the
 // session is (person, day, time, device), so an unchanged session keeps its UID across republishing.
 

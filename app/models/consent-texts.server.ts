@@ -1,7 +1,5 @@
 import { db } from "~/db.server";
-
-export type ConsentPurpose = "assessment" | "planning" | "model";
-export const CONSENT_PURPOSES: ConsentPurpose[] = ["assessment", "planning", "model"];
+import type { ConsentPurpose } from "~/domain/consent-purposes";
 
 export class DuplicateVersionError extends Error {}
 

@@ -1,11 +1,10 @@
-import type { Knex } from "knex";
 import { type Db, db } from "~/db.server";
-import { CONSENT_PURPOSES, type ConsentPurpose } from "./consent-texts.server";
-import { eraseForecasts } from "./forecast.server";
+import { CONSENT_PURPOSES, type ConsentPurpose } from "~/domain/consent-purposes";
 
-// Consent per purpose (DESIGN §4): recorded against the text version in force, witnessed by an
-// assessor, with history. Withdrawal is the ONE place where a worker's identifiable data are erased:
-// see withdrawConsent() and ERASURE_STEPS below — later areas add their tables there.
+// Consent per purpose (docs/consent-and-disclosure.md): recorded against the text version in force,
+// witnessed by an assessor or given by the worker, with history. This module is the only one that reads
+// or writes consent records; the latest record per worker and purpose decides (latestRecords below).
+// Withdrawal with its erasure is orchestrated in withdrawal.server.ts on top of these functions.
 
 export { CONSENT_PURPOSES, type ConsentPurpose };
 
@@ -61,6 +60,74 @@ export async function currentConsentTexts(k: Db = db()) {
   return currentTexts(k);
 }
 
+interface LatestRecord {
+  id: number;
+  worker_id: number;
+  purpose: ConsentPurpose;
+  status: "given" | "withdrawn";
+  given_at: unknown;
+  withdrawn_at: unknown;
+  text_version_id: number;
+  version: string;
+}
+
+/**
+ * The rule, written once: the latest record (highest id) per worker and purpose decides. Keyed
+ * `${workerId}:${purpose}`; `workerIds` null = every worker with a record.
+ */
+async function latestRecords(
+  k: Db,
+  workerIds: number[] | null,
+  purpose?: ConsentPurpose,
+): Promise<Map<string, LatestRecord>> {
+  const out = new Map<string, LatestRecord>();
+  const chunks: (number[] | null)[] = workerIds === null ? [null] : [];
+  for (let i = 0; workerIds !== null && i < workerIds.length; i += 500) chunks.push(workerIds.slice(i, i + 500));
+  for (const chunk of chunks) {
+    const q = k("consent_records as c")
+      .join("consent_text_versions as t", "t.id", "c.text_version_id")
+      .select(
+        "c.id",
+        "c.worker_id",
+        "c.purpose",
+        "c.status",
+        "c.given_at",
+        "c.withdrawn_at",
+        "c.text_version_id",
+        "t.version",
+      )
+      .orderBy("c.id", "desc");
+    if (chunk) q.whereIn("c.worker_id", chunk);
+    if (purpose) q.where("c.purpose", purpose);
+    for (const r of (await q) as LatestRecord[]) {
+      const key = `${r.worker_id}:${r.purpose}`;
+      if (!out.has(key)) out.set(key, r);
+    }
+  }
+  return out;
+}
+
+/** The consent in force per worker for one purpose; `workerIds` null = every worker with a record. */
+export async function latestConsent(
+  k: Db,
+  workerIds: number[] | null,
+  purpose: ConsentPurpose,
+): Promise<Map<number, "given" | "withdrawn">> {
+  const out = new Map<number, "given" | "withdrawn">();
+  if (workerIds !== null && workerIds.length === 0) return out;
+  for (const r of (await latestRecords(k, workerIds, purpose)).values()) out.set(r.worker_id, r.status);
+  return out;
+}
+
+/** The latest record of one worker for one purpose (undefined when there is none). */
+export async function latestConsentRecord(
+  workerId: number,
+  purpose: ConsentPurpose,
+  k: Db = db(),
+): Promise<LatestRecord | undefined> {
+  return (await latestRecords(k, [workerId], purpose)).get(`${workerId}:${purpose}`);
+}
+
 /** Consent state per purpose for many workers at once (the latest record per purpose decides). */
 export async function consentStates(workerIds: number[], k: Db = db()): Promise<Map<number, ConsentState>> {
   const current = await currentTexts(k);
@@ -76,36 +143,16 @@ export async function consentStates(workerIds: number[], k: Db = db()): Promise<
       ) as ConsentState,
     );
   }
-  for (let i = 0; i < workerIds.length; i += 500) {
-    const rows = await k("consent_records as c")
-      .join("consent_text_versions as t", "t.id", "c.text_version_id")
-      .whereIn("c.worker_id", workerIds.slice(i, i + 500))
-      .select(
-        "c.id",
-        "c.worker_id",
-        "c.purpose",
-        "c.status",
-        "c.given_at",
-        "c.withdrawn_at",
-        "c.text_version_id",
-        "t.version",
-      )
-      .orderBy("c.id", "desc");
-    const seen = new Set<string>();
-    for (const r of rows) {
-      const key = `${r.worker_id}:${r.purpose}`;
-      if (seen.has(key)) continue;
-      seen.add(key);
-      const p = r.purpose as ConsentPurpose;
-      const cur = current[p];
-      out.get(r.worker_id)![p] = {
-        status: r.status,
-        version: r.version,
-        currentVersion: cur?.version ?? null,
-        needsRenewal: r.status === "given" && cur != null && cur.id !== r.text_version_id,
-        at: String(r.status === "given" ? r.given_at : r.withdrawn_at),
-      };
-    }
+  for (const r of (await latestRecords(k, workerIds)).values()) {
+    const p = r.purpose;
+    const cur = current[p];
+    out.get(r.worker_id)![p] = {
+      status: r.status,
+      version: r.version,
+      currentVersion: cur?.version ?? null,
+      needsRenewal: r.status === "given" && cur != null && cur.id !== r.text_version_id,
+      at: String(r.status === "given" ? r.given_at : r.withdrawn_at),
+    };
   }
   return out;
 }
@@ -116,8 +163,7 @@ export async function consentState(workerId: number, k: Db = db()): Promise<Cons
 
 /** True when the worker's latest record for the purpose is a given consent. */
 export async function hasConsent(workerId: number, purpose: ConsentPurpose, k: Db = db()): Promise<boolean> {
-  const last = await k("consent_records").where({ worker_id: workerId, purpose }).orderBy("id", "desc").first("status");
-  return last?.status === "given";
+  return (await latestConsentRecord(workerId, purpose, k))?.status === "given";
 }
 
 /** The data layer's gate: throws ConsentRequiredError unless consent for the purpose is given. */
@@ -153,7 +199,26 @@ export async function consentHistory(workerId: number, k: Db = db()) {
   }));
 }
 
-/** Records a readiness stage change with actor and time (DESIGN §2). No-op when the stage is unchanged. */
+/** Every consent record of one worker, oldest first, for the worker's data export. */
+export async function consentRecordsForExport(workerId: number, k: Db = db()) {
+  return k("consent_records as c")
+    .join("consent_text_versions as t", "t.id", "c.text_version_id")
+    .leftJoin("users as wi", "wi.id", "c.witness_user_id")
+    .leftJoin("users as rb", "rb.id", "c.recorded_by")
+    .where("c.worker_id", workerId)
+    .orderBy("c.id")
+    .select(
+      "c.purpose",
+      "c.status",
+      "t.version",
+      "c.given_at",
+      "c.withdrawn_at",
+      "wi.display_name as witness",
+      "rb.display_name as recorded_by",
+    );
+}
+
+/** Records a readiness stage change with actor and time. No-op when the stage is unchanged. */
 export async function setStage(
   trx: Db,
   workerId: number,
@@ -193,18 +258,23 @@ export async function listWitnesses(k: Db = db()) {
 }
 
 /**
- * Records given consent for each purpose against the text version in force today, in one transaction.
- * Recording again for a purpose already given (e.g. after a new text version) adds a renewal row.
+ * Records given consent for each purpose against the text version in force today, in one transaction
+ * (the caller's, when `k` is a transaction). Witnessed by an assessor (`witnessUserId`), or given by the
+ * worker in the portal (`selfGiven`: no witness, and giving again on the same text is refused). Recording
+ * again for a purpose already given (e.g. after a new text version) adds a renewal row. Assessment consent
+ * moves an invited or withdrawn worker to `consented`.
  */
-export async function recordConsent(input: {
-  workerId: number;
-  purposes: ConsentPurpose[];
-  witnessUserId: number;
-  recordedBy: number;
-}) {
-  if (input.purposes.length === 0) throw new ConsentInputError("Choose at least one purpose.", "purposes");
-  return db().transaction(async (trx) => {
-    if (!(await isAssessor(trx, input.witnessUserId)))
+export async function recordConsent(
+  input: { workerId: number; purposes: ConsentPurpose[]; recordedBy: number } & (
+    | { witnessUserId: number; selfGiven?: false }
+    | { witnessUserId?: null; selfGiven: true }
+  ),
+  k?: Db,
+): Promise<void> {
+  const field = input.selfGiven ? "purpose" : "purposes";
+  if (input.purposes.length === 0) throw new ConsentInputError("Choose at least one purpose.", field);
+  const run = async (trx: Db) => {
+    if (!input.selfGiven && !(await isAssessor(trx, input.witnessUserId)))
       throw new ConsentInputError("The witness must be an active assessor.", "witnessUserId");
     const texts = await currentTexts(trx);
     const at = new Date().toISOString();
@@ -212,16 +282,26 @@ export async function recordConsent(input: {
       const text = texts[purpose];
       if (!text)
         throw new ConsentInputError(
-          `There is no ${purpose} consent text in force; an admin must add one first.`,
-          "purposes",
+          input.selfGiven
+            ? `There is no ${purpose} consent text in force yet; nothing was recorded.`
+            : `There is no ${purpose} consent text in force; an admin must add one first.`,
+          field,
         );
+      if (input.selfGiven) {
+        const last = await latestConsentRecord(input.workerId, purpose, trx);
+        if (last?.status === "given" && last.text_version_id === text.id)
+          throw new ConsentInputError(
+            `You have already given ${purpose} consent on the current text (v${text.version}).`,
+            field,
+          );
+      }
       await trx("consent_records").insert({
         worker_id: input.workerId,
         purpose,
         text_version_id: text.id,
         status: "given",
         given_at: at,
-        witness_user_id: input.witnessUserId,
+        witness_user_id: input.selfGiven ? null : input.witnessUserId,
         recorded_by: input.recordedBy,
         created_at: at,
       });
@@ -230,136 +310,31 @@ export async function recordConsent(input: {
     if (input.purposes.includes("assessment") && (w.stage === "invited" || w.stage === "withdrawn")) {
       await setStage(trx, input.workerId, "consented", input.recordedBy, at);
     }
-  });
-}
-
-// ── Erasure on withdrawal ───────────────────────────────────────────────────────────────────────
-// Each step deletes rows (never flags them) inside the withdrawal's transaction. Later areas add
-// their steps here (forecasts, plan entries, cohort rows, …) so that one call erases everything.
-export interface ErasureStep {
-  /** Which withdrawn purpose triggers this step. */
-  purposes: ConsentPurpose[];
-  /** What it erases, as counted in the result. */
-  label: string;
-  run: (trx: Knex.Transaction, workerId: number) => Promise<number>;
-}
-
-async function deleteIfTable(
-  trx: Knex.Transaction,
-  table: string,
-  where: (q: Knex.QueryBuilder) => Knex.QueryBuilder,
-): Promise<number> {
-  if (!(await trx.schema.hasTable(table))) return 0;
-  return Number(await where(trx(table)).del());
+  };
+  await (k ? run(k) : db().transaction(run));
 }
 
 /**
- * Takes the worker out of the plans inside a transaction: future scheduled sessions cancelled, courses that
- * were only planned dropped, a forecast/planned stage set back to baselined. Runs as an ERASURE_STEPS
- * step, inside the withdrawal's transaction. Returns sessions cancelled.
+ * Replaces a purpose's consent history by a single withdrawal record (when, and who recorded it), inside
+ * the withdrawal's transaction. Returns false when the latest record is not a given consent.
  */
-export async function erasePlanEntries(
+export async function replaceWithWithdrawal(
   trx: Db,
-  workerId: number,
-  userId: number | null = null,
-  now = new Date(),
-): Promise<number> {
-  const at = now.toISOString();
-  const n = Number(
-    await trx("training_sessions")
-      .where({ worker_id: workerId, status: "scheduled" })
-      .where("scheduled_start", ">=", at)
-      .update({
-        status: "cancelled",
-        notes: "Cancelled: the worker withdrew consent.",
-        logged_by: userId,
-        logged_at: at,
-      }),
-  );
-  await trx("device_courses").where({ worker_id: workerId, status: "planned" }).del();
-  const w = await trx("workers").where({ id: workerId }).first("stage");
-  if (w && (w.stage === "planned" || w.stage === "forecast")) await setStage(trx, workerId, "baselined", userId, at);
-  return n;
-}
-
-export const ERASURE_STEPS: ErasureStep[] = [
-  {
-    purposes: ["assessment"],
-    label: "assessment results",
-    run: (trx, id) =>
-      deleteIfTable(trx, "assessment_results", (q) =>
-        q.whereIn("session_id", trx("assessment_sessions").where({ worker_id: id }).select("id")),
-      ),
-  },
-  {
-    purposes: ["assessment"],
-    label: "trace uploads",
-    run: (trx, id) =>
-      deleteIfTable(trx, "trace_uploads", (q) =>
-        q.whereIn("session_id", trx("assessment_sessions").where({ worker_id: id }).select("id")),
-      ),
-  },
-  {
-    purposes: ["assessment"],
-    label: "assessment sessions",
-    run: (trx, id) => deleteIfTable(trx, "assessment_sessions", (q) => q.where({ worker_id: id })),
-  },
-  // Forecasts are computed from the baseline: identifiable, so they go with the assessment data.
-  {
-    purposes: ["assessment", "planning"],
-    label: "forecasts",
-    run: (trx, id) => eraseForecasts(trx, id), // also drift records and review flags
-  },
-  // Plans drop the worker: future scheduled sessions cancelled, planned courses removed.
-  {
-    purposes: ["assessment", "planning"],
-    label: "plan entries",
-    run: (trx, id) => erasePlanEntries(trx, id),
-  },
-];
-
-export interface WithdrawalResult {
-  purpose: ConsentPurpose;
-  erased: Record<string, number>;
-  at: string;
-}
-
-/**
- * Withdraws consent for one purpose, at once and in one transaction: erases what the purpose covered
- * (ERASURE_STEPS), replaces the purpose's consent history by a single withdrawal record (when, and
- * who recorded it), and moves the worker to the `withdrawn` stage when assessment consent goes.
- */
-export async function withdrawConsent(input: {
-  workerId: number;
-  purpose: ConsentPurpose;
-  recordedBy: number | null;
-}): Promise<WithdrawalResult> {
-  return db().transaction(async (trx) => {
-    const last = await trx("consent_records")
-      .where({ worker_id: input.workerId, purpose: input.purpose })
-      .orderBy("id", "desc")
-      .first();
-    if (!last || last.status !== "given")
-      throw new ConsentInputError(`There is no given ${input.purpose} consent to withdraw.`, "purpose");
-    const at = new Date().toISOString();
-    const erased: Record<string, number> = {};
-    for (const step of ERASURE_STEPS) {
-      if (step.purposes.includes(input.purpose))
-        erased[step.label] = (erased[step.label] ?? 0) + (await step.run(trx, input.workerId));
-    }
-    await trx("consent_records").where({ worker_id: input.workerId, purpose: input.purpose }).del();
-    await trx("consent_records").insert({
-      worker_id: input.workerId,
-      purpose: input.purpose,
-      text_version_id: last.text_version_id,
-      status: "withdrawn",
-      given_at: null,
-      withdrawn_at: at,
-      witness_user_id: null,
-      recorded_by: input.recordedBy,
-      created_at: at,
-    });
-    if (input.purpose === "assessment") await setStage(trx, input.workerId, "withdrawn", input.recordedBy, at);
-    return { purpose: input.purpose, erased, at };
+  input: { workerId: number; purpose: ConsentPurpose; recordedBy: number | null; at: string },
+): Promise<boolean> {
+  const last = await latestConsentRecord(input.workerId, input.purpose, trx);
+  if (last?.status !== "given") return false;
+  await trx("consent_records").where({ worker_id: input.workerId, purpose: input.purpose }).del();
+  await trx("consent_records").insert({
+    worker_id: input.workerId,
+    purpose: input.purpose,
+    text_version_id: last.text_version_id,
+    status: "withdrawn",
+    given_at: null,
+    withdrawn_at: input.at,
+    witness_user_id: null,
+    recorded_by: input.recordedBy,
+    created_at: input.at,
   });
+  return true;
 }

@@ -2,7 +2,7 @@ import type { Principal } from "~/auth/guard.server";
 import type { Scope } from "~/auth/scope";
 import { db } from "~/db.server";
 
-// Fleet administration for coordinators (issue 5 item 1): device types with fit rules and wear-time limits,
+// Fleet administration for coordinators: device types with fit rules and wear-time limits,
 // units with status and bookable hours, maintenance windows. Units are limited to the coordinator's sites.
 
 const unitSites = (scope: Scope) => (scope.allSites ? null : scope.siteIds.length ? scope.siteIds : [-1]);
@@ -86,13 +86,11 @@ export async function updateDeviceType(
   id: number,
   v: { wearTimeLimitMinutes: number; defaultMaxHoursPerWeek: number; fitRules: string | null },
 ) {
-  const n = await db()("device_types")
-    .where({ id })
-    .update({
-      wear_time_limit_minutes: v.wearTimeLimitMinutes,
-      default_max_hours_per_week: v.defaultMaxHoursPerWeek,
-      fit_rules: v.fitRules,
-    });
+  const n = await db()("device_types").where({ id }).update({
+    wear_time_limit_minutes: v.wearTimeLimitMinutes,
+    default_max_hours_per_week: v.defaultMaxHoursPerWeek,
+    fit_rules: v.fitRules,
+  });
   if (!n) throw new FleetError("No such device type.");
 }
 

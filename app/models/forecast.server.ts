@@ -1,17 +1,19 @@
 import type { Knex } from "knex";
 import type { Principal } from "~/auth/guard.server";
+import { can } from "~/auth/permissions";
 import type { Scope } from "~/auth/scope";
 import { MEASURE_DIRECTIONS } from "~/compute/features";
 import { forecastFromModel, type StoredModel } from "~/compute/forecast-explain";
 import { type ProgressUpdate, progressUpdate } from "~/compute/progress-update";
-import { type Db, db } from "~/db.server";
+import { type Db, db, type Row } from "~/db.server";
 import { type DeviceForecast, type WorkerForecast, workerForecastSchema } from "~/schemas/forecast";
 import type { TableQuery } from "~/schemas/table-query";
+import { latestConsent } from "./consent.server";
 import { lockWorker } from "./locks.server";
 import { paged } from "./paging.server";
 import { whereWorkerInScope } from "./workers.server";
 
-// Worker forecasts (DESIGN §3.3–3.4, issue 4 items 4–5): computed from the approved model version of each
+// Worker forecasts (docs/methods.md): computed from the approved model version of each
 // device type for workers whose `planning` consent is in force, refreshed as sessions are logged, erased on
 // withdrawal. Coordinators receive hours and intervals only; the clinical view (z-scores and how each moved
 // the forecast) is built for assessors alone, here in the data layer.
@@ -22,29 +24,9 @@ export function labelFor(code: string, name?: string | null): string {
   return name || (MEASURE_DIRECTIONS as Record<string, { label: string }>)[code]?.label || code;
 }
 
-type Purpose = "assessment" | "planning" | "model";
-
-/** The consent in force per worker for one purpose: the latest record decides. */
-export async function latestConsent(
-  k: Db,
-  workerIds: number[],
-  purpose: Purpose,
-): Promise<Map<number, "given" | "withdrawn">> {
-  const out = new Map<number, "given" | "withdrawn">();
-  for (let i = 0; i < workerIds.length; i += 500) {
-    const rows = await k("consent_records")
-      .whereIn("worker_id", workerIds.slice(i, i + 500))
-      .where({ purpose })
-      .select("worker_id", "status")
-      .orderBy("id");
-    for (const r of rows) out.set(r.worker_id, r.status);
-  }
-  return out;
-}
-
 /**
  * Each worker's latest baseline z-score per measure, from assessment sessions on or before the worker's
- * cutoff date (none = any date). Positive = better (DESIGN §3.1).
+ * cutoff date (none = any date). Positive = better (docs/methods.md).
  */
 export async function baselineZScores(
   k: Db,
@@ -66,7 +48,10 @@ export async function baselineZScores(
       const cutoff = cutoffs?.get(r.worker_id);
       if (cutoff && String(r.assessed_on).slice(0, 10) > cutoff) continue;
       let m = out.get(r.worker_id);
-      if (!m) out.set(r.worker_id, (m = new Map()));
+      if (!m) {
+        m = new Map();
+        out.set(r.worker_id, m);
+      }
       m.set(r.measure_id, Number(r.z_score));
     }
   }
@@ -93,7 +78,7 @@ export async function loadApprovedModel(k: Db, deviceTypeId: number): Promise<Ap
   return v ? toApprovedModel(k, v) : null;
 }
 
-async function toApprovedModel(k: Db, v: Record<string, any>): Promise<ApprovedModel> {
+async function toApprovedModel(k: Db, v: Row): Promise<ApprovedModel> {
   const measureIds: number[] = JSON.parse(v.measure_ids);
   const codes: string[] = JSON.parse(v.measure_codes);
   const names = new Map(
@@ -331,13 +316,10 @@ export async function refreshForecastsForDeviceType(
     await k("forecasts").where({ device_type_id: deviceTypeId }).del();
     return 0;
   }
-  const ids = (await k("consent_records").where({ purpose: "planning" }).distinct("worker_id")).map(
-    (r) => r.worker_id as number,
-  );
-  const consent = await latestConsent(k, ids, "planning");
+  const consent = await latestConsent(k, null, "planning");
   let n = 0;
-  for (const id of ids) {
-    if (consent.get(id) !== "given") {
+  for (const [id, status] of consent) {
+    if (status !== "given") {
       await k("forecasts").where({ worker_id: id, device_type_id: deviceTypeId }).del();
       continue;
     }
@@ -351,7 +333,7 @@ export async function refreshForecastsForWorker(k: Db, workerId: number, actor: 
 }
 
 /**
- * Erase a worker's forecasts, drift records and review flags (DESIGN §4: on withdrawal, at once). Call it
+ * Erase a worker's forecasts, drift records and review flags (on withdrawal, at once, docs/consent-and-disclosure.md). Call it
  * inside the withdrawal's transaction; returns how many forecasts were erased.
  */
 export async function eraseForecasts(trx: Db, workerId: number): Promise<number> {
@@ -417,9 +399,9 @@ export async function workerInScope(scope: Scope, workerId: number, k: Db = db()
     : null;
 }
 
-/** Clinical view for assessors (z-scores and contributions); planning view for everyone else. */
+/** Clinical view (z-scores and contributions) for who may see it; planning view for everyone else. */
 export function forecastViewFor(p: Principal): "clinical" | "planning" {
-  return p.roles.includes("assessor") ? "clinical" : "planning";
+  return can(p, "forecast.clinical") ? "clinical" : "planning";
 }
 
 /**
@@ -485,19 +467,18 @@ export async function workerForecastView(p: Principal, workerId: number, k: Db =
               hoursToProficiency: course.hours_to_proficiency == null ? null : Number(course.hours_to_proficiency),
             }
           : null,
-        progress:
-          f && f.progress_status
-            ? {
-                hoursDone: Number(f.hours_done),
-                status: f.progress_status,
-                remainingHours: f.remaining_hours == null ? null : Number(f.remaining_hours),
-                remainingLower: f.remaining_lower == null ? null : Number(f.remaining_lower),
-                remainingUpper: f.remaining_upper == null ? null : Number(f.remaining_upper),
-                remainingPlanningHours: f.remaining_planning_hours == null ? null : Number(f.remaining_planning_hours),
-                curveWeight: progressJson?.curveWeight ?? null,
-                reason: progressJson?.reason ?? null,
-              }
-            : null,
+        progress: f?.progress_status
+          ? {
+              hoursDone: Number(f.hours_done),
+              status: f.progress_status,
+              remainingHours: f.remaining_hours == null ? null : Number(f.remaining_hours),
+              remainingLower: f.remaining_lower == null ? null : Number(f.remaining_lower),
+              remainingUpper: f.remaining_upper == null ? null : Number(f.remaining_upper),
+              remainingPlanningHours: f.remaining_planning_hours == null ? null : Number(f.remaining_planning_hours),
+              curveWeight: progressJson?.curveWeight ?? null,
+              reason: progressJson?.reason ?? null,
+            }
+          : null,
         reviewFlags: flags.map((r) => ({ kind: r.kind, reason: r.reason, raisedAt: String(r.raised_at) })),
       });
     }

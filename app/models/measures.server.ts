@@ -1,7 +1,7 @@
 import type { TraceKind } from "~/compute/trace-parsing";
 import { type Db, db } from "~/db.server";
 
-// The baseline battery's measures, configured by an assessor (issue 3 §4).
+// The baseline battery's measures, configured by an assessor.
 export interface Measure {
   id: number;
   code: string;

@@ -1,7 +1,8 @@
 import { columnStandardizer, fitLinearModel, leaveOneOut } from "~/compute/regression";
 import { studentTQuantile } from "~/compute/student-t";
-import { type Db, db } from "~/db.server";
-import { baselineZScores, labelFor, latestConsent, refreshForecastsForDeviceType } from "./forecast.server";
+import { type Db, db, type Row } from "~/db.server";
+import { latestConsent } from "./consent.server";
+import { baselineZScores, labelFor, refreshForecastsForDeviceType } from "./forecast.server";
 
 export { labelFor };
 
@@ -12,7 +13,7 @@ import {
   type ExclusionReason,
 } from "~/schemas/forecast";
 
-// Forecast model versions (DESIGN §3.3, issue 4 item 3): the cohort, the fit and its diagnostics, the saved
+// Forecast model versions (docs/methods.md): the cohort, the fit and its diagnostics, the saved
 // version, and approval by a second assessor. Cohort rows are de-identified: nothing here returns a worker id
 // or name to a page, only counts, coefficients and (actual, predicted) pairs sorted by hours.
 
@@ -153,7 +154,7 @@ export function fitCohort(
   }
   const X = cohort.rows.map((r) => r.z);
   const y = cohort.rows.map((r) => Math.log(r.hours));
-  let std;
+  let std: ReturnType<typeof columnStandardizer>;
   try {
     std = columnStandardizer(X);
   } catch (e) {
@@ -165,8 +166,8 @@ export function fitCohort(
     );
   }
   const Z = X.map((row) => std.apply(row));
-  let fit;
-  let loo;
+  let fit: ReturnType<typeof fitLinearModel>;
+  let loo: ReturnType<typeof leaveOneOut>;
   try {
     fit = fitLinearModel(Z, y, { ridge });
     loo = leaveOneOut(Z, y, { ridge, level: 0.8, logOutcome: true });
@@ -400,7 +401,7 @@ function summaryQuery(k: Db) {
     );
 }
 
-function toSummary(r: Record<string, any>, drift: Map<number, DriftStats>): VersionSummary {
+function toSummary(r: Row, drift: Map<number, DriftStats>): VersionSummary {
   const codes: string[] = JSON.parse(r.measure_codes);
   return {
     id: r.id,

@@ -1,8 +1,7 @@
 import { sampleStandardDeviation, mean as ssMean } from "simple-statistics";
-import type { Scope } from "~/auth/scope";
 import { type Db, db } from "~/db.server";
 
-// Norm sets (DESIGN §3.1): mean and SD per measure, cohort-derived or entered from a published table,
+// Norm sets (docs/methods.md): mean and SD per measure, cohort-derived or entered from a published table,
 // with source and date. Every stored z-score records which norm set it used.
 
 /** Fewest workers a cohort-derived norm needs for one measure (below that the measure is left out). */
@@ -150,7 +149,3 @@ export async function createCohortNormSet(
 }
 
 export class NormInputError extends Error {}
-
-export function scopeSiteIds(scope: Scope, allSiteIds: number[]): number[] {
-  return scope.allSites ? allSiteIds : scope.siteIds;
-}

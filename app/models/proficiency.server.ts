@@ -1,7 +1,7 @@
 import type { ProficiencyCriterion } from "~/compute/proficiency-rule";
 import { type Db, db } from "~/db.server";
 
-// Proficiency criteria per device type (issue 4, item 2), set by an assessor.
+// Proficiency criteria per device type, set by an assessor.
 export interface CriterionRow extends ProficiencyCriterion {
   deviceTypeId: number;
   deviceTypeCode: string;
@@ -19,9 +19,7 @@ export async function listDeviceTypes(k: Db = db()): Promise<{ id: number; code:
 }
 
 /** Every device type with its criterion (null fields when none is set yet). */
-export async function listCriteria(
-  k: Db = db(),
-): Promise<
+export async function listCriteria(k: Db = db()): Promise<
   (Omit<CriterionRow, "scoreThreshold" | "consecutiveSessions"> & {
     scoreThreshold: number | null;
     consecutiveSessions: number | null;

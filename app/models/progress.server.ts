@@ -1,20 +1,14 @@
 import type { Principal } from "~/auth/guard.server";
+import { can } from "~/auth/permissions";
 import { firstProficientIndex } from "~/compute/proficiency-rule";
 import { curvePoints } from "~/compute/progress-update";
 import { type Db, db } from "~/db.server";
-import {
-  forecastViewFor,
-  latestConsent,
-  loggedSessions,
-  recordOutcome,
-  type UpsertResult,
-  upsertForecast,
-  workerInScope,
-} from "./forecast.server";
+import { latestConsent } from "./consent.server";
+import { loggedSessions, recordOutcome, type UpsertResult, upsertForecast, workerInScope } from "./forecast.server";
 import { getCriterion } from "./proficiency.server";
 import { whereWorkerInScope } from "./workers.server";
 
-// Training progress on one device type (issue 4, item 5) and the one way a session result is logged.
+// Training progress on one device type and the one way a session result is logged.
 // logSessionResult is shared with the trainer portal: cumulative hours, the course, proficiency, the stage
 // and the forecast all change in the same transaction.
 
@@ -177,6 +171,14 @@ export async function logSessionResult(input: LogSessionInput, k?: Db): Promise<
 }
 
 /** The trainer record of a user, if they are a trainer. */
+/**
+ * A trainer without a wider progress right reaches only the trainees on their own schedule (the caller
+ * checks that); everyone else is held to their scope.
+ */
+export function reachesOnlyOwnTrainees(p: Principal): boolean {
+  return can(p, "sessions.own") && !can(p, "progress.all");
+}
+
 export async function trainerIdFor(userId: number, k: Db = db()): Promise<number | null> {
   const t = await k("trainers").where({ user_id: userId }).first("id");
   return t?.id ?? null;
@@ -249,9 +251,7 @@ export async function progressView(
   k: Db = db(),
 ): Promise<ProgressView | null> {
   const worker = await workerInScope(
-    p.roles.includes("trainer") && !p.roles.includes("assessor") && !p.roles.includes("coordinator")
-      ? { allSites: true, siteIds: [], departmentIds: [] }
-      : p.scope,
+    reachesOnlyOwnTrainees(p) ? { allSites: true, siteIds: [], departmentIds: [] } : p.scope,
     workerId,
     k,
   );
@@ -272,7 +272,7 @@ export async function progressView(
     .select("kind", "reason", "raised_at");
   const lastHours = sessions.length ? sessions[sessions.length - 1].cumulativeHours : 0;
   const toHours = Math.max(lastHours, pj?.crossing?.upper ?? 0, f ? Number(f.upper_hours) : 0, 1) * 1.05;
-  const showNotes = forecastViewFor(p) === "clinical" || p.roles.includes("trainer");
+  const showNotes = can(p, "progress.notes");
   return {
     worker: { id: worker.id, employeeNumber: worker.employeeNumber, name: worker.name, stage: worker.stage },
     deviceType: { id: d.id, code: d.code, name: d.name, wearTimeLimitMinutes: d.wear_time_limit_minutes },
@@ -343,8 +343,7 @@ export async function listCoursesInScope(p: Principal, k: Db = db()) {
     )
     .orderBy([{ column: "c.status", order: "desc" }, { column: "workers.employee_number" }])
     .limit(300);
-  const onlyTrainer = p.roles.includes("trainer") && !p.roles.includes("assessor") && !p.roles.includes("coordinator");
-  if (onlyTrainer) {
+  if (reachesOnlyOwnTrainees(p)) {
     const tid = p.kind === "user" ? await trainerIdFor(p.user.id, k) : null;
     q.whereExists((e) =>
       e

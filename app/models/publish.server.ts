@@ -6,7 +6,7 @@ import type { RunDetail } from "./allocation-runs.server";
 import { getRun } from "./allocation-runs.server";
 import { type CalendarSession, icsFile } from "./calendar.server";
 
-// Publishing a plan (issue 5 item 4): a coordinator's decision. The run's weekly hours become dated sessions
+// Publishing a plan: a coordinator's decision. The run's weekly hours become dated sessions
 // (app/compute/session-packing.ts); every scheduled session of the previously published plan is replaced in
 // ONE transaction, guarded by the published-plan version (optimistic check: of two coordinators publishing
 // from the same version, the second is refused and told who won). After the commit, e-mail with an .ics file
@@ -136,7 +136,7 @@ export async function publishRun(
         published_plan_version: expectedPlanVersion + 1,
         version: trx.raw("version + 1"),
       });
-    // Readiness stage: workers with sessions are now "in a plan" (DESIGN §2), recorded with time and actor.
+    // Readiness stage: workers with sessions are now "in a plan" (docs/architecture.md), recorded with time and actor.
     const planned = [...new Set(rows.map((r) => r.worker_id))];
     for (let i = 0; i < planned.length; i += 500) {
       const chunk = planned.slice(i, i + 500);

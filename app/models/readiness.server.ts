@@ -1,6 +1,5 @@
 import type { Knex } from "knex";
 import type { Scope } from "~/auth/scope";
-import { STAGE_LABELS, STAGES } from "~/components/stage";
 import {
   effectiveThreshold,
   type ProtectedTable,
@@ -20,11 +19,13 @@ import {
   weekRange,
   weekStart,
 } from "~/compute/readiness-views";
+import { round1 } from "~/compute/rounding";
 import { type Db, db } from "~/db.server";
+import { STAGE_LABELS, STAGES } from "~/domain/stages";
 import { type Grouping, type OrganisationSettings, parseStoredGroupings } from "~/schemas/readiness";
 import { whereWorkerInScope } from "./workers.server";
 
-// Readiness for managers (DESIGN §1, §3.6). Every number leaves this module only after disclosure
+// Readiness for managers (docs/architecture.md, docs/consent-and-disclosure.md). Every number leaves this module only after disclosure
 // control. The database does the counting (GROUP BY); the only per-person values read here are
 // forecast hours for medians, without any identifier, and they never leave the function that reads them.
 // Labels are site and department names; no worker id, name, e-mail or employee number is selected.
@@ -34,11 +35,7 @@ export interface LinkedViews {
   site: ProtectedTable | null;
 }
 
-export type Panel<T> =
-  | { status: "off" }
-  | { status: "unavailable"; reason: string }
-  | { status: "empty"; reason: string }
-  | ({ status: "ok" } & T);
+export type Panel<T> = { status: "off" } | { status: "empty"; reason: string } | ({ status: "ok" } & T);
 
 export interface MedianTable {
   rows: string[];
@@ -214,18 +211,6 @@ async function readyCounts(g: Groups, devices: { id: number }[]): Promise<number
   return counts;
 }
 
-/** Only sessions of published runs count (allocation_runs.published_at set), once the allocation area's table exists. */
-async function publishedRunFilter(): Promise<((q: Knex.QueryBuilder) => void) | null> {
-  const k = db();
-  if (!(await k.schema.hasTable("allocation_runs"))) return null;
-  if (await k.schema.hasColumn("allocation_runs", "published_at")) {
-    return (q) => {
-      q.whereIn("ts.allocation_run_id", k("allocation_runs").select("id").whereNotNull("published_at"));
-    };
-  }
-  return null;
-}
-
 /**
  * Planned ready week per worker × device type = week of the last scheduled session of the latest
  * published plan (sessions created by publishing carry allocation_run_id). Counted in SQL per
@@ -233,7 +218,6 @@ async function publishedRunFilter(): Promise<((q: Knex.QueryBuilder) => void) | 
  */
 async function plannedCounts(g: Groups): Promise<{ weeks: string[]; counts: number[][] }> {
   const k = db();
-  const runFilter = await publishedRunFilter();
   const lastSession = k("training_sessions as ts")
     .select("ts.worker_id", "ts.device_type_id")
     .max({ last: "ts.scheduled_start" })
@@ -244,7 +228,8 @@ async function plannedCounts(g: Groups): Promise<{ weeks: string[]; counts: numb
       "ts.allocation_run_id = (select max(t2.allocation_run_id) from training_sessions t2 where t2.worker_id = ts.worker_id and t2.device_type_id = ts.device_type_id and t2.allocation_run_id is not null and t2.status <> 'cancelled')",
     )
     .groupBy("ts.worker_id", "ts.device_type_id");
-  if (runFilter) runFilter(lastSession);
+  // Only sessions of published runs count.
+  lastSession.whereIn("ts.allocation_run_id", k("allocation_runs").select("id").whereNotNull("published_at"));
   const day = isSqlite(k)
     ? "case when typeof(p.last) in ('integer', 'real') then date(p.last / 1000, 'unixepoch') else substr(p.last, 1, 10) end"
     : "to_char(p.last, 'YYYY-MM-DD')";
@@ -276,10 +261,9 @@ async function plannedCounts(g: Groups): Promise<{ weeks: string[]; counts: numb
 }
 
 /** Current forecast median hours per department × device type of the viewer, read without identifiers. */
-async function forecastValues(scope: Scope, g: Groups): Promise<Map<string, number[]> | null> {
+async function forecastValues(scope: Scope, g: Groups): Promise<Map<string, number[]>> {
   const k = db();
-  if (!(await k.schema.hasTable("forecasts"))) return null;
-  // Only forecasts of an approved model version count: drafts are not for decisions (DESIGN §3.3).
+  // Only forecasts of an approved model version count: drafts are not for decisions (docs/methods.md).
   const q = k("forecasts as f")
     .join("workers", "workers.id", "f.worker_id")
     .join("model_versions as mv", "mv.id", "f.model_version_id")
@@ -303,7 +287,7 @@ async function forecastValues(scope: Scope, g: Groups): Promise<Map<string, numb
 
 /** Medians are published to 0.1 h: enough for planning, no more precision than that. */
 function roundHours(v: number | null): number | null {
-  return v === null ? null : Math.round(v * 10) / 10;
+  return v === null ? null : round1(v);
 }
 
 function medianTables(
@@ -424,12 +408,7 @@ export async function readinessBoard(scope: Scope): Promise<ReadinessBoard> {
         ),
       };
     const values = devices.length ? await forecastValues(scope, g) : new Map<string, number[]>();
-    if (values === null)
-      board.medians = {
-        status: "unavailable",
-        reason: "Forecasts are not set up in this installation yet, so there are no forecast hours to summarise.",
-      };
-    else if (values.size === 0)
+    if (values.size === 0)
       board.medians = { status: "empty", reason: "No forecasts have been made for people in your departments yet." };
     else board.medians = { status: "ok", ...medianTables(g, devices, values, groupings, threshold) };
   }

@@ -2,7 +2,7 @@ import { sampleStandardDeviation } from "simple-statistics";
 import { intraclassCorrelation, minimalDetectableChange, standardErrorOfMeasurement } from "~/compute/reliability";
 import { type Db, db } from "~/db.server";
 
-// Test–retest reliability per measure from repeated baselines (DESIGN §3.2, issue 3 §6).
+// Test–retest reliability per measure from repeated baselines (docs/methods.md).
 // Ratings: each worker's first two sessions holding the measure (rows = workers, columns = sessions),
 // counted only when they are at most MAX_RETEST_DAYS apart (a test–retest interval short enough that
 // true change is unlikely; sessions further apart measure change, not reliability).

@@ -1,14 +1,14 @@
 import type { Knex } from "knex";
 import type { Principal } from "~/auth/guard.server";
 import { appUrl } from "~/config.server";
-import { type Db, db } from "~/db.server";
+import { type Db, db, type Row } from "~/db.server";
 import { sendMail } from "~/mail.server";
 import type { ReviewRequestInput } from "~/schemas/portal";
 import { REVIEW_SUBJECT_LABELS } from "~/schemas/portal";
 import { lockWorker } from "./locks.server";
 import { whereWorkerInScope } from "./workers.server";
 
-// Review requests (issue 7, DESIGN §4): a worker contests their forecast or plan; assessors whose scope covers
+// Review requests (docs/consent-and-disclosure.md): a worker contests their forecast or plan; assessors whose scope covers
 // the worker answer in the app and the worker is e-mailed the answer.
 
 export class ReviewError extends Error {
@@ -88,7 +88,7 @@ function base(k: Db) {
       "r.answered_at",
     );
 }
-function toRow(r: Record<string, any>): ReviewRow {
+function toRow(r: Row): ReviewRow {
   return {
     id: r.id,
     workerId: r.worker_id,

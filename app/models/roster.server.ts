@@ -23,7 +23,7 @@ import { isUniqueViolation } from "./locks.server";
 import { paged } from "./paging.server";
 import { whereWorkerInScope } from "./workers.server";
 
-// Roster import and export, and the worker list (issue 3 §1–2).
+// Roster import and export, and the worker list.
 
 export class RosterFileError extends Error {}
 

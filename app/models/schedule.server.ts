@@ -2,7 +2,7 @@ import type { Scope } from "~/auth/scope";
 import { db } from "~/db.server";
 import { whereWorkerInScope } from "./workers.server";
 
-// The published schedule (issue 5): scheduled sessions that came from a published allocation run, for the
+// The published schedule: scheduled sessions that came from a published allocation run, for the
 // coordinator's view and the XLSX export. Workers outside the reader's scope are left out.
 export interface ScheduleRow {
   id: number;

@@ -2,6 +2,7 @@ import type { Principal } from "~/auth/guard.server";
 import { appUrl } from "~/config.server";
 import { type Db, db } from "~/db.server";
 import { sendMail } from "~/mail.server";
+import { wallClockIso } from "~/schemas/portal";
 import { roleEmailsCovering } from "./adverse-events.server";
 import {
   ConsentInputError,
@@ -9,19 +10,13 @@ import {
   consentHistory,
   consentState,
   currentConsentTexts,
-  erasePlanEntries,
-  setStage,
-  type WithdrawalResult,
-  withdrawConsent,
+  recordConsent,
 } from "./consent.server";
-
-export { erasePlanEntries };
-
-import { wallClockIso } from "~/schemas/portal";
 import { refreshForecastsForWorker } from "./forecast.server";
 import { type ProgressView, progressView } from "./progress.server";
+import { type WithdrawalResult, withdrawConsent } from "./withdrawal.server";
 
-// The worker's own portal (issue 7). Every function takes the worker id that the route read from the
+// The worker's own portal. Every function takes the worker id that the route read from the
 // signed-in session (AppUser.workerId), never one from the URL, and reads only rows of that worker.
 
 export { ConsentInputError };
@@ -218,33 +213,7 @@ export async function myConsent(workerId: number) {
  */
 export async function giveOwnConsent(workerId: number, purpose: ConsentPurpose, userId: number): Promise<void> {
   await db().transaction(async (trx) => {
-    const texts = await currentConsentTexts(trx);
-    const text = texts[purpose];
-    if (!text)
-      throw new ConsentInputError(`There is no ${purpose} consent text in force yet; nothing was recorded.`, "purpose");
-    const last = await trx("consent_records")
-      .where({ worker_id: workerId, purpose })
-      .orderBy("id", "desc")
-      .first("status", "text_version_id");
-    if (last?.status === "given" && last.text_version_id === text.id)
-      throw new ConsentInputError(
-        `You have already given ${purpose} consent on the current text (v${text.version}).`,
-        "purpose",
-      );
-    const at = new Date().toISOString();
-    await trx("consent_records").insert({
-      worker_id: workerId,
-      purpose,
-      text_version_id: text.id,
-      status: "given",
-      given_at: at,
-      witness_user_id: null,
-      recorded_by: userId,
-      created_at: at,
-    });
-    const w = await trx("workers").where({ id: workerId }).first("stage");
-    if (purpose === "assessment" && (w.stage === "invited" || w.stage === "withdrawn"))
-      await setStage(trx, workerId, "consented", userId, at);
+    await recordConsent({ workerId, purposes: [purpose], recordedBy: userId, selfGiven: true }, trx);
     if (purpose === "planning") await refreshForecastsForWorker(trx, workerId, userId);
   });
 }
@@ -259,44 +228,22 @@ export interface OwnWithdrawal extends WithdrawalResult {
  * transaction), then — for planning or assessment — the worker leaves the plans (future scheduled sessions
  * cancelled, planned courses dropped) and the coordinators of the worker's site are e-mailed.
  *
- * Plan removal is an ERASURE_STEPS step of consent.server.ts, so it happens inside the withdrawal's own
- * transaction (for assessor-recorded withdrawals too); dropFromPlans below then finds nothing left and only
- * repairs records written before that step existed.
+ * Plan removal is an ERASURE_STEPS step of withdrawal.server.ts, so it happens inside the withdrawal's own
+ * transaction (for assessor-recorded withdrawals too).
  */
 export async function withdrawOwnConsent(
   workerId: number,
   purpose: ConsentPurpose,
   userId: number,
-  now = new Date(),
 ): Promise<OwnWithdrawal> {
   const result = await withdrawConsent({ workerId, purpose, recordedBy: userId });
   let sessionsCancelled = 0;
   let coordinatorsNotified: string[] = [];
   if (purpose === "planning" || purpose === "assessment") {
-    sessionsCancelled = (result.erased["plan entries"] ?? 0) + (await dropFromPlans(workerId, userId, now));
+    sessionsCancelled = result.erased["plan entries"] ?? 0;
     coordinatorsNotified = await notifyCoordinatorsOfWithdrawal(workerId, purpose, sessionsCancelled);
   }
   return { ...result, sessionsCancelled, coordinatorsNotified };
-}
-
-/** erasePlanEntries in its own transaction (idempotent). */
-export async function dropFromPlans(workerId: number, userId: number | null, now = new Date()): Promise<number> {
-  return db().transaction((trx) => erasePlanEntries(trx, workerId, userId, now));
-}
-
-/** True when withdrawn planning/assessment consent still leaves future scheduled sessions (a failed second step). */
-export async function plansNeedDropping(workerId: number, now = new Date()): Promise<boolean> {
-  const planning = await db()("consent_records")
-    .where({ worker_id: workerId, purpose: "planning" })
-    .orderBy("id", "desc")
-    .first("status");
-  if (planning?.status !== "withdrawn") return false;
-  return Boolean(
-    await db()("training_sessions")
-      .where({ worker_id: workerId, status: "scheduled" })
-      .where("scheduled_start", ">=", now.toISOString())
-      .first("id"),
-  );
 }
 
 /** E-mails the coordinators whose scope covers the worker that the worker left the plans. Returns the addresses. */

@@ -1,11 +1,11 @@
-import { type Db, db } from "~/db.server";
+import { type Db, db, type Row } from "~/db.server";
 import { wallClockIso } from "~/schemas/portal";
 import type { TrainerLogInput } from "~/schemas/session-log";
 import { adverseEventsFrom } from "~/schemas/session-log";
 import { eventsForSessions, notifyAssessorsOfSevereEvents, recordAdverseEvents } from "./adverse-events.server";
 import { logSessionResult, SessionLogError } from "./progress.server";
 
-// The trainer's day (issue 7): sessions on the trainer's own schedule only. Every function here takes the
+// The trainer's day: sessions on the trainer's own schedule only. Every function here takes the
 // trainer id resolved from the signed-in user (trainers.user_id), never from the URL.
 
 export { SessionLogError };
@@ -81,7 +81,7 @@ function sessionQuery(k: Db, trainerId: number) {
     );
 }
 
-function toSession(r: Record<string, any>): ScheduledSession {
+function toSession(r: Row): ScheduledSession {
   return {
     id: r.id,
     workerId: r.worker_id,
@@ -122,7 +122,7 @@ export function dayAndWeek(now: Date) {
 }
 
 /** The schedule view leaves out results (scores, practice time): those are read, and logged, on the session page. */
-function scheduleOnly(r: Record<string, any>): ScheduledSession {
+function scheduleOnly(r: Row): ScheduledSession {
   return { ...toSession(r), taskScore: null, durationHours: null };
 }
 
@@ -156,11 +156,6 @@ export async function trainerSession(trainerId: number, sessionId: number, k: Db
   return { ...s, events: await eventsForSessions([s.id], k) };
 }
 
-/** Whether a session with this id exists at all (to tell 404 from 403). */
-export async function sessionExists(sessionId: number, k: Db = db()): Promise<boolean> {
-  return Boolean(await k("training_sessions").where({ id: sessionId }).first("id"));
-}
-
 export class TrainerDayError extends Error {
   constructor(
     message: string,
@@ -192,7 +187,7 @@ export interface TrainerLogResult {
 }
 
 /**
- * Logs a scheduled session as attended: the result goes through logSessionResult (issue 4: cumulative hours,
+ * Logs a scheduled session as attended: the result goes through logSessionResult (cumulative hours,
  * course, proficiency, stage and forecast), the adverse events and any pause in the SAME transaction.
  * Severe events then e-mail the worker's assessors.
  */

@@ -5,7 +5,7 @@ import type { TableQuery } from "~/schemas/table-query";
 import { paged } from "./paging.server";
 import { whereWorkerInScope } from "./workers.server";
 
-// People on the training side (issue 5 item 1), for coordinators: trainers (certifications per device type,
+// People on the training side, for coordinators: trainers (certifications per device type,
 // weekly working pattern, leave, trainees per session) and trainees' training fields (max hours per week,
 // priority with a reason, leave). No health data here: forecast hours are shown on the run pages.
 

@@ -2,9 +2,10 @@ import { db } from "~/db.server";
 import type { SheetSpec } from "~/xlsx.server";
 import { accessLogForWorker } from "./access-log.server";
 import { type CalendarSession, icsFile } from "./calendar.server";
+import { consentRecordsForExport } from "./consent.server";
 import { mySessions } from "./self-service.server";
 
-// "Download everything held about me" (DESIGN §4, issue 7): every row about one worker, by the worker id from
+// "Download everything held about me" (docs/consent-and-disclosure.md): every row about one worker, by the worker id from
 // the session. Each query below is filtered by that id; nothing here reads another worker's rows.
 
 const iso = (v: unknown) => (v == null ? null : String(v));
@@ -28,21 +29,7 @@ export async function everythingAbout(workerId: number) {
       "d.name as department",
     );
   if (!w) return null;
-  const consent = await k("consent_records as c")
-    .join("consent_text_versions as t", "t.id", "c.text_version_id")
-    .leftJoin("users as wi", "wi.id", "c.witness_user_id")
-    .leftJoin("users as rb", "rb.id", "c.recorded_by")
-    .where("c.worker_id", workerId)
-    .orderBy("c.id")
-    .select(
-      "c.purpose",
-      "c.status",
-      "t.version",
-      "c.given_at",
-      "c.withdrawn_at",
-      "wi.display_name as witness",
-      "rb.display_name as recorded_by",
-    );
+  const consent = await consentRecordsForExport(workerId, k);
   const assessments = await k("assessment_sessions as s")
     .leftJoin("users as u", "u.id", "s.assessor_user_id")
     .where("s.worker_id", workerId)

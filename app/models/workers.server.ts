@@ -21,39 +21,3 @@ export async function stageCountsBySite(scope: Scope) {
   const rows: { site: string; stage: string; n: number | string }[] = await whereWorkerInScope(q, scope);
   return rows.map((r) => ({ site: r.site, stage: r.stage, n: Number(r.n) }));
 }
-
-export async function ownWorkerRecord(workerId: number) {
-  const w = await db()("workers as w")
-    .join("sites as s", "s.id", "w.site_id")
-    .join("departments as d", "d.id", "w.department_id")
-    .where("w.id", workerId)
-    .first(
-      "w.id",
-      "w.employee_number",
-      "w.given_name",
-      "w.family_name",
-      "w.email",
-      "w.stage",
-      "s.name as site",
-      "d.name as department",
-    );
-  if (!w) return null;
-  const consents = await db()("consent_records as c")
-    .join("consent_text_versions as t", "t.id", "c.text_version_id")
-    .where("c.worker_id", workerId)
-    .select("c.purpose", "c.status", "c.given_at", "c.withdrawn_at", "t.version")
-    .orderBy("c.id", "desc");
-  const latest: Record<string, { status: string; at: string; version: string }> = {};
-  for (const c of consents)
-    if (!latest[c.purpose])
-      latest[c.purpose] = { status: c.status, at: String(c.withdrawn_at ?? c.given_at ?? ""), version: c.version };
-  return {
-    employeeNumber: w.employee_number as string,
-    name: `${w.given_name} ${w.family_name}`,
-    email: w.email as string | null,
-    stage: w.stage as string,
-    site: w.site as string,
-    department: w.department as string,
-    consent: latest,
-  };
-}

@@ -77,7 +77,9 @@ export default function AdminAccessLog({ loaderData }: Route.ComponentProps) {
           </label>
           <input id="f-to" name="to" type="date" defaultValue={f.to ?? ""} className="field-input" />
         </div>
-        <button className="btn-primary">Apply filters</button>
+        <button type="submit" className="btn-primary">
+          Apply filters
+        </button>
       </Form>
       <ServerTable
         caption="Access log"

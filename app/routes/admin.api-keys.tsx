@@ -79,7 +79,7 @@ export default function AdminApiKeys({ loaderData }: Route.ComponentProps) {
         </div>
       )}
       <FormError message={errors._form} />
-      <div className="card overflow-x-auto p-0" tabIndex={0} role="region" aria-label="API keys">
+      <section className="card overflow-x-auto p-0" tabIndex={0} aria-label="API keys">
         <table className="table-base">
           <caption className="sr-only">API keys</caption>
           <thead>
@@ -120,7 +120,7 @@ export default function AdminApiKeys({ loaderData }: Route.ComponentProps) {
                     <Form method="post">
                       <input type="hidden" name="intent" value="revoke" />
                       <input type="hidden" name="keyId" value={k.id} />
-                      <button className="btn-quiet" aria-label={`Revoke key ${k.name}`}>
+                      <button type="submit" className="btn-quiet" aria-label={`Revoke key ${k.name}`}>
                         Revoke
                       </button>
                     </Form>
@@ -130,7 +130,7 @@ export default function AdminApiKeys({ loaderData }: Route.ComponentProps) {
             ))}
           </tbody>
         </table>
-      </div>
+      </section>
       <section className="card" aria-labelledby="new-key">
         <h2 id="new-key" className="text-lg font-semibold">
           Create a key
@@ -155,7 +155,9 @@ export default function AdminApiKeys({ loaderData }: Route.ComponentProps) {
             hint="Hold Ctrl or ⌘ to choose several."
           />
           <div className="sm:col-span-3">
-            <button className="btn-primary">Create key</button>
+            <button type="submit" className="btn-primary">
+              Create key
+            </button>
           </div>
         </Form>
       </section>

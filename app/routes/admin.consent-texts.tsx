@@ -79,7 +79,9 @@ export default function AdminConsentTexts({ loaderData }: Route.ComponentProps) 
             <TextArea name="body" label="Text shown to the worker" required error={errors.body} rows={6} />
           </div>
           <div className="sm:col-span-3">
-            <button className="btn-primary">Save version</button>
+            <button type="submit" className="btn-primary">
+              Save version
+            </button>
           </div>
         </Form>
       </section>

@@ -90,7 +90,7 @@ export default function OrganisationSettingsPage({ loaderData }: Route.Component
             </p>
           )}
         </fieldset>
-        <button className="btn-primary justify-self-start" disabled={nav.state === "submitting"}>
+        <button type="submit" className="btn-primary justify-self-start" disabled={nav.state === "submitting"}>
           Save settings
         </button>
       </Form>

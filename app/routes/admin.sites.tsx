@@ -71,7 +71,9 @@ export default function AdminSites({ loaderData }: Route.ComponentProps) {
             <input type="hidden" name="intent" value="site" />
             <TextField name="code" label="Code" required error={errs("site").code} />
             <TextField name="name" label="Name" required error={errs("site").name} />
-            <button className="btn-primary justify-self-start">Add site</button>
+            <button type="submit" className="btn-primary justify-self-start">
+              Add site
+            </button>
           </Form>
         </section>
         <section className="card" aria-labelledby="add-dept">
@@ -89,7 +91,9 @@ export default function AdminSites({ loaderData }: Route.ComponentProps) {
             />
             <TextField name="code" label="Code" required error={errs("department").code} />
             <TextField name="name" label="Name" required error={errs("department").name} />
-            <button className="btn-primary justify-self-start">Add department</button>
+            <button type="submit" className="btn-primary justify-self-start">
+              Add department
+            </button>
           </Form>
         </section>
       </div>

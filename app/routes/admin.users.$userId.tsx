@@ -99,7 +99,9 @@ export default function AdminUser({ loaderData }: Route.ComponentProps) {
             </p>
           )}
           <div className="sm:col-span-2">
-            <button className="btn-primary">Save details</button>
+            <button type="submit" className="btn-primary">
+              Save details
+            </button>
           </div>
         </Form>
       </section>
@@ -120,7 +122,11 @@ export default function AdminUser({ loaderData }: Route.ComponentProps) {
               <Form method="post">
                 <input type="hidden" name="intent" value="remove-role" />
                 <input type="hidden" name="assignmentId" value={a.id} />
-                <button className="btn-quiet" aria-label={`Remove ${ROLE_LABELS[a.role]} role for ${a.scope}`}>
+                <button
+                  type="submit"
+                  className="btn-quiet"
+                  aria-label={`Remove ${ROLE_LABELS[a.role]} role for ${a.scope}`}
+                >
                   Remove
                 </button>
               </Form>
@@ -144,7 +150,9 @@ export default function AdminUser({ loaderData }: Route.ComponentProps) {
             options={departmentOptions(departments)}
           />
           <div className="sm:col-span-3">
-            <button className="btn-primary">Add role</button>
+            <button type="submit" className="btn-primary">
+              Add role
+            </button>
           </div>
         </Form>
       </section>

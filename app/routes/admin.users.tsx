@@ -112,7 +112,7 @@ export default function AdminUsers({ loaderData }: Route.ComponentProps) {
             options={departmentOptions(departments)}
           />
           <div className="sm:col-span-2">
-            <button className="btn-primary" disabled={busy}>
+            <button type="submit" className="btn-primary" disabled={busy}>
               {busy ? "Adding…" : "Add user"}
             </button>
           </div>

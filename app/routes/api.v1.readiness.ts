@@ -68,7 +68,7 @@ export async function loader({ request }: Route.LoaderArgs) {
   }
   const notes = Object.fromEntries(
     (["stage", "ready", "planned", "medians"] as const)
-      .filter((k) => board[k].status === "empty" || board[k].status === "unavailable")
+      .filter((k) => board[k].status === "empty")
       .map((k) => [k, (board[k] as { reason: string }).reason]),
   );
   return Response.json(

@@ -1,4 +1,5 @@
 import { authenticateApi } from "~/auth/guard.server";
+import { can } from "~/auth/permissions";
 import { scopeFrom } from "~/auth/scope";
 import { listSites, sitesInScope } from "~/models/sites.server";
 import type { Route } from "./+types/api.v1.sites";
@@ -10,6 +11,6 @@ export async function loader({ request }: Route.LoaderArgs) {
     who.kind === "apiKey"
       ? { allSites: false, siteIds: who.key.siteIds, departmentIds: [] }
       : scopeFrom(who.user.assignments, who.user.roles);
-  const sites = who.kind === "user" && who.user.roles.includes("admin") ? await listSites() : await sitesInScope(scope);
+  const sites = who.kind === "user" && can(who.user, "admin.sites") ? await listSites() : await sitesInScope(scope);
   return Response.json({ sites });
 }

@@ -1,6 +1,6 @@
 import { Link } from "react-router";
 import { requireUser } from "~/auth/guard.server";
-import { STAGE_LABELS, STAGES, type Stage } from "~/components/stage";
+import { STAGE_LABELS, STAGES, type Stage } from "~/domain/stages";
 import { stageCountsBySite } from "~/models/workers.server";
 import type { Route } from "./+types/assess._index";
 
@@ -38,7 +38,7 @@ export default function AssessHome({ loaderData }: Route.ComponentProps) {
           </Link>
         ))}
       </nav>
-      <div className="card overflow-x-auto p-0" tabIndex={0} role="region" aria-label="Workers by site and stage">
+      <section className="card overflow-x-auto p-0" tabIndex={0} aria-label="Workers by site and stage">
         <table className="table-base">
           <caption className="sr-only">Workers by site and stage</caption>
           <thead>
@@ -62,7 +62,7 @@ export default function AssessHome({ loaderData }: Route.ComponentProps) {
             ))}
           </tbody>
         </table>
-      </div>
+      </section>
     </div>
   );
 }

@@ -82,6 +82,7 @@ export default function Measures({ loaderData }: Route.ComponentProps) {
                     <input type="hidden" name="id" value={m.id} />
                     <input type="hidden" name="active" value={String(!m.active)} />
                     <button
+                      type="submit"
                       className="btn-quiet min-h-9 px-2 py-1 text-xs"
                       aria-label={`${m.active ? "Switch off" : "Switch on"} ${m.name}`}
                     >
@@ -142,7 +143,9 @@ export default function Measures({ loaderData }: Route.ComponentProps) {
             <TextArea name="description" label="Description (optional)" rows={2} />
           </div>
           <div className="sm:col-span-2">
-            <button className="btn-primary">Add measure</button>
+            <button type="submit" className="btn-primary">
+              Add measure
+            </button>
           </div>
         </Form>
         <details className="mt-4 text-sm">

@@ -143,7 +143,9 @@ export default function Norms({ loaderData }: Route.ComponentProps) {
             ]}
           />
           <div className="sm:col-span-2">
-            <button className="btn-primary">Compute and save</button>
+            <button type="submit" className="btn-primary">
+              Compute and save
+            </button>
           </div>
         </Form>
       </section>
@@ -185,7 +187,9 @@ export default function Norms({ loaderData }: Route.ComponentProps) {
             ))}
           </fieldset>
           <div>
-            <button className="btn-primary">Save published norms</button>
+            <button type="submit" className="btn-primary">
+              Save published norms
+            </button>
           </div>
         </Form>
       </section>

@@ -116,7 +116,7 @@ export default function ReviewQueue({ loaderData }: Route.ComponentProps) {
                     error={errors.answer}
                   />
                   <div>
-                    <button className="btn-primary min-h-11" disabled={busy}>
+                    <button type="submit" className="btn-primary min-h-11" disabled={busy}>
                       Send answer
                     </button>
                   </div>

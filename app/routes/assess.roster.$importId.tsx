@@ -170,6 +170,7 @@ export default function RosterPreview({ loaderData }: Route.ComponentProps) {
                   >
                     <option value="">— not in the file —</option>
                     {d.headers.map((h, i) => (
+                      // biome-ignore lint/suspicious/noArrayIndexKey: the column index is the option's identity (it is also its value)
                       <option key={i} value={i}>
                         {h || `(column ${i + 1})`}
                         {d.sample[0]?.[i] ? ` — e.g. ${d.sample[0][i]}` : ""}
@@ -184,7 +185,7 @@ export default function RosterPreview({ loaderData }: Route.ComponentProps) {
                 </div>
               ))}
               <div className="sm:col-span-3">
-                <button className="btn-quiet" disabled={busy}>
+                <button type="submit" className="btn-quiet" disabled={busy}>
                   Apply mapping and preview
                 </button>
               </div>
@@ -222,13 +223,17 @@ export default function RosterPreview({ loaderData }: Route.ComponentProps) {
                 <div className="flex flex-wrap gap-3">
                   <Form method="post">
                     <input type="hidden" name="intent" value="import" />
-                    <button className="btn-primary" disabled={busy || d.preview.creates + d.preview.updates === 0}>
+                    <button
+                      type="submit"
+                      className="btn-primary"
+                      disabled={busy || d.preview.creates + d.preview.updates === 0}
+                    >
                       Import {d.preview.creates + d.preview.updates} valid row(s)
                     </button>
                   </Form>
                   <Form method="post">
                     <input type="hidden" name="intent" value="discard" />
-                    <button className="btn-quiet" disabled={busy}>
+                    <button type="submit" className="btn-quiet" disabled={busy}>
                       Discard upload
                     </button>
                   </Form>

@@ -63,7 +63,7 @@ export default function RosterHome({ loaderData }: Route.ComponentProps) {
           <FormError message={r?.error} />
           <FileField name="roster" label="Roster file" accept=".csv,.xlsx" maxBytes={MAX_ROSTER_BYTES} required />
           <div>
-            <button className="btn-primary" disabled={busy}>
+            <button type="submit" className="btn-primary" disabled={busy}>
               {busy ? "Reading…" : "Upload and map columns"}
             </button>
           </div>

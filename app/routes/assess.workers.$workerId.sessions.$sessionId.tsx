@@ -1,6 +1,6 @@
 import { data, Form, Link, useActionData, useNavigation } from "react-router";
 import { requireUser } from "~/auth/guard.server";
-import { roleAllows } from "~/auth/permissions";
+import { can } from "~/auth/permissions";
 import { DeviceCautions } from "~/components/device-cautions";
 import { FormError, Notice, SelectField, TextField } from "~/components/fields";
 import { FileField, IssueList } from "~/components/upload";
@@ -59,7 +59,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     manual: measures.filter((m) => m.entry === "manual"),
     traceMeasures: measures.filter((m) => m.entry === "trace"),
     normSets: normSets.map((n) => ({ id: n.id, name: n.name })),
-    canWrite: p.user.roles.some((r) => roleAllows(r, "assessments.write")),
+    canWrite: can(p.user, "assessments.write"),
   };
 }
 
@@ -219,7 +219,7 @@ export default function SessionPage({ loaderData }: Route.ComponentProps) {
                 ]}
               />
             </div>
-            <button className="btn-quiet" disabled={busy}>
+            <button type="submit" className="btn-quiet" disabled={busy}>
               Re-score
             </button>
           </Form>
@@ -252,7 +252,7 @@ export default function SessionPage({ loaderData }: Route.ComponentProps) {
                 />
               ))}
               <div className="sm:col-span-2">
-                <button className="btn-primary" disabled={busy}>
+                <button type="submit" className="btn-primary" disabled={busy}>
                   Save scores
                 </button>
               </div>
@@ -296,7 +296,7 @@ export default function SessionPage({ loaderData }: Route.ComponentProps) {
               />
             </div>
             <div className="sm:col-span-2">
-              <button className="btn-primary" disabled={busy}>
+              <button type="submit" className="btn-primary" disabled={busy}>
                 {busy ? "Computing…" : "Upload and compute"}
               </button>
             </div>
@@ -307,7 +307,7 @@ export default function SessionPage({ loaderData }: Route.ComponentProps) {
               issues={upload.errors}
             />
           )}
-          {upload && upload.ok && (
+          {upload?.ok && (
             <div
               className="grid gap-2 rounded-md border border-spruce-100 bg-spruce-50 p-3"
               data-testid="upload-result"

@@ -1,9 +1,10 @@
 import { data, Form, Link, redirect, useActionData, useNavigation } from "react-router";
 import { requireUser } from "~/auth/guard.server";
-import { roleAllows } from "~/auth/permissions";
+import { can } from "~/auth/permissions";
 import { consentText, StageBadge } from "~/components/badges";
 import { FormError, Notice, SelectField, TextArea, TextField } from "~/components/fields";
 import { ProfileChart, type ProfilePoint } from "~/components/profile-chart";
+import { CONSENT_PURPOSES } from "~/domain/consent-purposes";
 import { recordAccess } from "~/models/access-log.server";
 import { AssessmentInputError, createSession, sessionsForWorker, workerForStaff } from "~/models/assessments.server";
 import {
@@ -14,16 +15,14 @@ import {
   currentConsentTexts,
   listWitnesses,
   recordConsent,
-  withdrawConsent,
 } from "~/models/consent.server";
 import { listNormSets } from "~/models/norms.server";
 import { changesSincePrevious, reliabilityByMeasure } from "~/models/reliability-report.server";
+import { withdrawConsent } from "~/models/withdrawal.server";
 import { sessionSchema } from "~/schemas/assessment";
 import { PURPOSE_LABELS, recordConsentSchema, withdrawConsentSchema } from "~/schemas/consent";
 import { formToObject, parseWith } from "~/schemas/form";
 import type { Route } from "./+types/assess.workers.$workerId";
-
-const CONSENT_PURPOSES = ["assessment", "planning", "model"] as const;
 
 export const meta: Route.MetaFunction = ({ data: d }) => [
   { title: `${d?.worker.employeeNumber ?? "Worker"} · Limberly` },
@@ -94,8 +93,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     texts: Object.fromEntries(
       CONSENT_PURPOSES.map((pp) => [pp, texts[pp] ? { version: texts[pp]!.version, body: texts[pp]!.body } : null]),
     ),
-    canConsent: p.user.roles.some((r) => roleAllows(r, "consent.manage")),
-    canWrite: p.user.roles.some((r) => roleAllows(r, "assessments.write")),
+    canConsent: can(p.user, "consent.manage"),
+    canWrite: can(p.user, "assessments.write"),
   };
 }
 
@@ -271,7 +270,7 @@ export default function WorkerRecord({ loaderData }: Route.ComponentProps) {
               </p>
             )}
             <div>
-              <button className="btn-primary" disabled={busy}>
+              <button type="submit" className="btn-primary" disabled={busy}>
                 Record consent
               </button>
             </div>
@@ -302,7 +301,7 @@ export default function WorkerRecord({ loaderData }: Route.ComponentProps) {
                 autoComplete="off"
               />
               <div>
-                <button className="btn-danger" disabled={busy}>
+                <button type="submit" className="btn-danger" disabled={busy}>
                   Withdraw {pp} consent
                 </button>
               </div>
@@ -451,7 +450,7 @@ export default function WorkerRecord({ loaderData }: Route.ComponentProps) {
                 <TextArea name="notes" label="Notes (optional)" rows={2} error={errors.notes} />
               </div>
               <div className="sm:col-span-2">
-                <button className="btn-primary" disabled={busy}>
+                <button type="submit" className="btn-primary" disabled={busy}>
                   Start assessment session
                 </button>
               </div>

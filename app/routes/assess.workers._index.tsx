@@ -1,10 +1,10 @@
 import type { ColumnDef } from "@tanstack/react-table";
 import { Form, Link } from "react-router";
 import { requireUser } from "~/auth/guard.server";
-import { roleAllows } from "~/auth/permissions";
+import { can } from "~/auth/permissions";
 import { ConsentBadges, StageBadge } from "~/components/badges";
 import { ServerTable } from "~/components/server-table";
-import { STAGE_LABELS, STAGES } from "~/components/stage";
+import { STAGE_LABELS, STAGES } from "~/domain/stages";
 import { listWorkers, type WorkerListRow } from "~/models/roster.server";
 import { sitesInScope } from "~/models/sites.server";
 import { readTableQuery } from "~/schemas/table-query";
@@ -22,8 +22,8 @@ export async function loader({ request }: Route.LoaderArgs) {
     q: q.q ?? "",
     filters: q.filters,
     sites,
-    canOpen: p.user.roles.some((r) => roleAllows(r, "assessments.read")),
-    canExport: p.user.roles.some((r) => roleAllows(r, "roster.import")),
+    canOpen: can(p.user, "assessments.read"),
+    canExport: can(p.user, "roster.import"),
   };
 }
 

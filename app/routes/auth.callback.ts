@@ -2,14 +2,14 @@ import { redirect } from "react-router";
 import { getAuthenticator } from "~/auth/authenticator.server";
 import { homeFor } from "~/auth/homes";
 import { getSession, sessionStorage } from "~/auth/session.server";
-import { markSignedIn } from "~/models/users.server";
+import { markSignedIn } from "~/auth/users.server";
 import type { Route } from "./+types/auth.callback";
 
 // The identity provider returns here with a code; the strategy exchanges it (with the PKCE verifier)
 // and verifies the ID token. A provisioned person gets a brand-new session; anyone else gets none.
 export async function loader({ request }: Route.LoaderArgs) {
   const authenticator = await getAuthenticator();
-  let result;
+  let result: Awaited<ReturnType<typeof authenticator.authenticate>>;
   try {
     result = await authenticator.authenticate("oidc", request);
   } catch (e) {

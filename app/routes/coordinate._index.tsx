@@ -90,7 +90,7 @@ export default function CoordinateHome({ loaderData }: Route.ComponentProps) {
         <h2 id="fleet" className="text-lg font-semibold">
           Device fleet at your sites
         </h2>
-        <div className="card overflow-x-auto p-0" tabIndex={0} role="region" aria-label="Device types">
+        <section className="card overflow-x-auto p-0" tabIndex={0} aria-label="Device types">
           <table className="table-base">
             <caption className="sr-only">Device types</caption>
             <thead>
@@ -114,7 +114,7 @@ export default function CoordinateHome({ loaderData }: Route.ComponentProps) {
               ))}
             </tbody>
           </table>
-        </div>
+        </section>
       </section>
       <section aria-labelledby="trainers" className="grid gap-2">
         <h2 id="trainers" className="text-lg font-semibold">

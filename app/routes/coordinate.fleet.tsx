@@ -137,12 +137,7 @@ export default function Fleet({ loaderData, actionData }: Route.ComponentProps) 
                 <FormError message={err(tk, "_form")} />
               </div>
             </Form>
-            <div
-              className="overflow-x-auto"
-              tabIndex={0}
-              role="region"
-              aria-label={`${t.name} units (scrolls sideways)`}
-            >
+            <section className="overflow-x-auto" tabIndex={0} aria-label={`${t.name} units (scrolls sideways)`}>
               <table className="table-base">
                 <caption className="sr-only">{t.name} units</caption>
                 <thead>
@@ -262,7 +257,7 @@ export default function Fleet({ loaderData, actionData }: Route.ComponentProps) 
                   })}
                 </tbody>
               </table>
-            </div>
+            </section>
           </section>
         );
       })}

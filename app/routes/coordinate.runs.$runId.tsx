@@ -9,12 +9,13 @@ import {
 import { useEffect, useState } from "react";
 import { data, Form, Link, useFetcher, useNavigation, useRevalidator } from "react-router";
 import { requireUser } from "~/auth/guard.server";
-import { roleAllows } from "~/auth/permissions";
+import { can } from "~/auth/permissions";
 import { CapacityChart } from "~/components/capacity-chart";
 import { DeviceCautions } from "~/components/device-cautions";
 import { FormError, Notice } from "~/components/fields";
 import { ProgressBar } from "~/components/progress-bar";
 import { addDays } from "~/compute/plan-calendar";
+import { round1 } from "~/compute/rounding";
 import { recordAccess } from "~/models/access-log.server";
 import { getRun, listRuns } from "~/models/allocation-runs.server";
 import {
@@ -150,7 +151,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     planVersion: state.version,
     currentRunId: state.runId,
     refusal: run.status === "done" ? publishRefusal(run) : "Only a finished run can be published.",
-    canPublish: p.roles.some((r) => roleAllows(r, "allocation.publish")),
+    canPublish: can(p.user, "allocation.publish"),
     others,
   };
 }
@@ -168,8 +169,6 @@ export async function action({ request, params }: Route.ActionArgs) {
     throw e;
   }
 }
-
-const round1 = (x: number) => Math.round(x * 10) / 10;
 
 const columns: ColumnDef<WorkerPlanRow>[] = [
   {
@@ -222,12 +221,7 @@ function PlanTable({ rows }: { rows: WorkerPlanRow[] }) {
     getSortedRowModel: getSortedRowModel(),
   });
   return (
-    <div
-      className="card overflow-x-auto p-0"
-      tabIndex={0}
-      role="region"
-      aria-label="Per-worker plan (scrolls sideways)"
-    >
+    <section className="card overflow-x-auto p-0" tabIndex={0} aria-label="Per-worker plan (scrolls sideways)">
       <table className="table-base" data-testid="plan-table">
         <caption className="sr-only">
           Per-worker plan: device type, trainers, hours per week and the week each worker is ready
@@ -271,7 +265,7 @@ function PlanTable({ rows }: { rows: WorkerPlanRow[] }) {
           ))}
         </tbody>
       </table>
-    </div>
+    </section>
   );
 }
 
@@ -285,6 +279,7 @@ function Progress({
   const fetcher = useFetcher<{ status: string; fraction: number; phase: string | null }>();
   const revalidator = useRevalidator();
   const current = fetcher.data ?? initial;
+  // biome-ignore lint/correctness/useExhaustiveDependencies: re-arms on each new status report and on the fetcher's state; fetcher and revalidator are new objects on every render and must not re-arm it.
   useEffect(() => {
     if (current.status === "done" || current.status === "failed") {
       if (revalidator.state === "idle") void revalidator.revalidate();
@@ -294,7 +289,7 @@ function Progress({
       if (fetcher.state === "idle") fetcher.load(`/coordinate/runs/${runId}/status`);
     }, 700);
     return () => clearTimeout(t);
-  }, [current.status, current.fraction, current.phase, fetcher.state]); // eslint-disable-line react-hooks/exhaustive-deps
+  }, [current.status, current.fraction, current.phase, fetcher.state]);
   return (
     <div className="card grid gap-2" aria-live="polite">
       <ProgressBar
@@ -521,6 +516,7 @@ export default function RunPage({ loaderData, actionData }: Route.ComponentProps
             {preview.unplaced.length > 0 && (
               <ul className="list-disc pl-5 text-sm">
                 {preview.unplaced.map((u, i) => (
+                  // biome-ignore lint/suspicious/noArrayIndexKey: a fixed list per preview, never reordered
                   <li key={i}>
                     {u.name}: {u.hours} h — {u.reason}
                   </li>

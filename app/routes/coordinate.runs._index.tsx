@@ -285,12 +285,7 @@ export default function RunsIndex({ loaderData, actionData }: Route.ComponentPro
         {runs.length === 0 ? (
           <p className="text-ink-soft">No runs yet.</p>
         ) : (
-          <div
-            className="card overflow-x-auto p-0"
-            tabIndex={0}
-            role="region"
-            aria-label="Allocation runs (scrolls sideways)"
-          >
+          <section className="card overflow-x-auto p-0" tabIndex={0} aria-label="Allocation runs (scrolls sideways)">
             <table className="table-base">
               <caption className="sr-only">Allocation runs, newest first</caption>
               <thead>
@@ -328,7 +323,7 @@ export default function RunsIndex({ loaderData, actionData }: Route.ComponentPro
                 ))}
               </tbody>
             </table>
-          </div>
+          </section>
         )}
       </section>
       <DeviceCautions compact />

@@ -163,6 +163,7 @@ export default function Trainee({ loaderData, actionData }: Route.ComponentProps
         ) : (
           <ul className="grid gap-1 text-sm">
             {w.sessions.map((s, i) => (
+              // biome-ignore lint/suspicious/noArrayIndexKey: a fixed list per load, never reordered
               <li key={i}>
                 {s.start}–{s.end} · {s.device}
                 {s.unit ? ` (unit ${s.unit})` : ""}

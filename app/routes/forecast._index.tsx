@@ -107,7 +107,9 @@ export default function ForecastIndex({ loaderData }: Route.ComponentProps) {
           for review
         </label>
         <input type="hidden" name="q" value={q} />
-        <button className="btn-quiet">Apply</button>
+        <button type="submit" className="btn-quiet">
+          Apply
+        </button>
       </Form>
       <ServerTable
         caption="Worker forecasts"

@@ -1,7 +1,7 @@
 import { data, Link } from "react-router";
 import { DeviceCautions } from "~/components/device-cautions";
 import { ProgressChart } from "~/components/progress-chart";
-import { STAGE_LABELS, type Stage } from "~/components/stage";
+import { STAGE_LABELS, type Stage } from "~/domain/stages";
 import { type MyForecast, workerHome } from "~/models/self-service.server";
 import { formatDay, formatSpan } from "~/schemas/portal";
 import type { Route } from "./+types/me._index";

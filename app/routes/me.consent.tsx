@@ -1,22 +1,16 @@
 import { data, Form, useActionData, useNavigation } from "react-router";
 import { FormError, Notice } from "~/components/fields";
-import {
-  ConsentInputError,
-  dropFromPlans,
-  giveOwnConsent,
-  myConsent,
-  plansNeedDropping,
-  withdrawOwnConsent,
-} from "~/models/self-service.server";
+import { CONSENT_PURPOSES, type ConsentPurpose } from "~/domain/consent-purposes";
+import { ConsentInputError, giveOwnConsent, myConsent, withdrawOwnConsent } from "~/models/self-service.server";
 import { PURPOSE_LABELS } from "~/schemas/consent";
 import { formToObject, parseWith } from "~/schemas/form";
-import { CONSENT_PURPOSE_VALUES, formatDay, giveOwnConsentSchema, withdrawOwnConsentSchema } from "~/schemas/portal";
+import { formatDay, giveOwnConsentSchema, withdrawOwnConsentSchema } from "~/schemas/portal";
 import type { Route } from "./+types/me.consent";
 import { requireOwnWorker } from "./me.guard.server";
 
 export const meta: Route.MetaFunction = () => [{ title: "My consent · Limberly" }];
 
-const WHAT_GOES: Record<(typeof CONSENT_PURPOSE_VALUES)[number], string> = {
+const WHAT_GOES: Record<ConsentPurpose, string> = {
   assessment:
     "Your baseline assessments, uploaded traces and forecasts are erased at once, and you leave every training plan.",
   planning:
@@ -26,10 +20,7 @@ const WHAT_GOES: Record<(typeof CONSENT_PURPOSE_VALUES)[number], string> = {
 
 export async function loader({ request }: Route.LoaderArgs) {
   const { workerId } = await requireOwnWorker(request, "self.read");
-  const c = await myConsent(workerId);
-  // A withdrawal whose plan removal did not finish is completed here (dropFromPlans is idempotent).
-  if (await plansNeedDropping(workerId)) await dropFromPlans(workerId, null);
-  return c;
+  return myConsent(workerId);
 }
 
 export async function action({ request }: Route.ActionArgs) {
@@ -76,7 +67,7 @@ export default function MyConsent({ loaderData }: Route.ComponentProps) {
         </p>
       </div>
       {result?.done && <Notice>{result.done}</Notice>}
-      {CONSENT_PURPOSE_VALUES.map((purpose) => {
+      {CONSENT_PURPOSES.map((purpose) => {
         const s = state[purpose];
         const text = texts[purpose];
         const errors = (result?.purpose === purpose ? (result?.errors ?? {}) : {}) as Record<string, string>;
@@ -138,7 +129,7 @@ export default function MyConsent({ loaderData }: Route.ComponentProps) {
                   </p>
                 )}
                 <div>
-                  <button className="btn-primary min-h-11" name="intent" value="give" disabled={busy}>
+                  <button type="submit" className="btn-primary min-h-11" name="intent" value="give" disabled={busy}>
                     Give {purpose} consent
                   </button>
                 </div>
@@ -164,6 +155,7 @@ export default function MyConsent({ loaderData }: Route.ComponentProps) {
                 )}
                 <div>
                   <button
+                    type="submit"
                     className="btn-quiet min-h-11 border-alert text-alert"
                     name="intent"
                     value="withdraw"

@@ -70,6 +70,7 @@ export default function MyRecord({ loaderData }: Route.ComponentProps) {
               </tr>
             )}
             {log.map((r, i) => (
+              // biome-ignore lint/suspicious/noArrayIndexKey: a fixed page of the log per load, never reordered
               <tr key={i}>
                 <td>
                   {formatDay(r.at)} {formatTime(r.at)}

@@ -78,7 +78,7 @@ export default function MyReview({ loaderData }: Route.ComponentProps) {
             hint="For example: the hours look too high for me, or the session times clash with my shifts."
           />
           <div>
-            <button className="btn-primary min-h-11" disabled={busy}>
+            <button type="submit" className="btn-primary min-h-11" disabled={busy}>
               {busy ? "Sending…" : "Send request"}
             </button>
           </div>

@@ -111,11 +111,11 @@ export default function ModelVersionPage({ loaderData }: Route.ComponentProps) {
           )}
           <Form method="post" className="mt-3 flex flex-wrap gap-3">
             {canApprove && (
-              <button className="btn-primary" name="intent" value="approve" disabled={busy}>
+              <button type="submit" className="btn-primary" name="intent" value="approve" disabled={busy}>
                 Approve version {v.versionNumber}
               </button>
             )}
-            <button className="btn-quiet" name="intent" value="retire" disabled={busy}>
+            <button type="submit" className="btn-quiet" name="intent" value="retire" disabled={busy}>
               Discard (retire)
             </button>
           </Form>
@@ -144,7 +144,7 @@ export default function ModelVersionPage({ loaderData }: Route.ComponentProps) {
             <p className="text-xs text-ink-soft">Too few outcomes to judge drift (needs {DRIFT_MINIMUM_OUTCOMES}).</p>
           )}
           <Form method="post" className="mt-3">
-            <button className="btn-quiet" name="intent" value="retire" disabled={busy}>
+            <button type="submit" className="btn-quiet" name="intent" value="retire" disabled={busy}>
               Retire this version
             </button>
           </Form>

@@ -243,7 +243,7 @@ export default function ModelsIndex({ loaderData }: Route.ComponentProps) {
                   </div>
                 </div>
                 <div>
-                  <button className="btn-quiet" disabled={busy}>
+                  <button type="submit" className="btn-quiet" disabled={busy}>
                     Save criterion
                   </button>
                 </div>
@@ -287,7 +287,7 @@ export default function ModelsIndex({ loaderData }: Route.ComponentProps) {
               </p>
             )}
           </div>
-          <button className="btn-quiet" disabled={busy}>
+          <button type="submit" className="btn-quiet" disabled={busy}>
             Save and recompute
           </button>
         </Form>

@@ -141,11 +141,11 @@ export default function Workbench({ loaderData }: Route.ComponentProps) {
           />
         </div>
         <div className="flex flex-wrap gap-3">
-          <button className="btn-primary" name="intent" value="fit" disabled={busy}>
+          <button type="submit" className="btn-primary" name="intent" value="fit" disabled={busy}>
             {busy && nav.formData?.get("intent") === "fit" ? "Fitting…" : "Fit model"}
           </button>
           {result?.fit && (
-            <button className="btn-quiet" name="intent" value="save" disabled={busy}>
+            <button type="submit" className="btn-quiet" name="intent" value="save" disabled={busy}>
               Save as draft version
             </button>
           )}

@@ -1,6 +1,6 @@
 import { data, Form, Link, useActionData, useNavigation } from "react-router";
 import { type Principal, requireUser } from "~/auth/guard.server";
-import { roleAllows } from "~/auth/permissions";
+import { can } from "~/auth/permissions";
 import { DeviceCautions } from "~/components/device-cautions";
 import { FormError, Notice, TextArea, TextField } from "~/components/fields";
 import { ProgressChart } from "~/components/progress-chart";
@@ -9,6 +9,7 @@ import { resolveFlags } from "~/models/forecast.server";
 import {
   logSessionResult,
   progressView,
+  reachesOnlyOwnTrainees,
   SessionLogError,
   trainerHasTrainee,
   trainerIdFor,
@@ -25,13 +26,9 @@ export const meta: Route.MetaFunction = ({ data: d }) => [
   },
 ];
 
-function onlyTrainer(p: Principal) {
-  return p.roles.includes("trainer") && !p.roles.includes("assessor") && !p.roles.includes("coordinator");
-}
-
 /** Trainers reach only trainees on their own schedule; everyone else is held to their scope by progressView. */
 async function assertTrainerReach(p: Principal & { kind: "user" }, workerId: number, deviceTypeId: number) {
-  if (!onlyTrainer(p)) return null;
+  if (!reachesOnlyOwnTrainees(p)) return null;
   const trainerId = await trainerIdFor(p.user.id);
   if (!trainerId || !(await trainerHasTrainee(trainerId, workerId, deviceTypeId)))
     throw data({ error: "This worker is not on your schedule for this device." }, { status: 404 });
@@ -53,8 +50,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const view = await progressView(p, workerId, deviceTypeId);
   if (!view) throw data({ error: "No such worker or device type in your scope." }, { status: 404 });
   await recordAccess(p, request, workerId, "progress");
-  const canLog = p.user.roles.some((r) => roleAllows(r, "sessions.log"));
-  return { view, canLog, canResolve: p.user.roles.includes("assessor") };
+  return { view, canLog: can(p.user, "sessions.log"), canResolve: can(p.user, "models.manage") };
 }
 
 export async function action({ request, params }: Route.ActionArgs) {
@@ -68,7 +64,7 @@ export async function action({ request, params }: Route.ActionArgs) {
   }
   const p = await requireUser(request, "sessions.log");
   const trainerId = await assertTrainerReach(p, workerId, deviceTypeId);
-  if (!onlyTrainer(p) && !(await progressView(p, workerId, deviceTypeId)))
+  if (!reachesOnlyOwnTrainees(p) && !(await progressView(p, workerId, deviceTypeId)))
     throw data({ error: "No such worker in your scope." }, { status: 404 });
   const parsed = parseWith(logSessionFormSchema, form);
   if (!parsed.ok) return data({ errors: parsed.errors, done: null }, { status: 400 });
@@ -142,7 +138,7 @@ export default function ProgressPage({ loaderData }: Route.ComponentProps) {
           </p>
           {canResolve && (
             <Form method="post" className="mt-2">
-              <button className="btn-quiet" name="intent" value="resolve">
+              <button type="submit" className="btn-quiet" name="intent" value="resolve">
                 Mark as reviewed
               </button>
             </Form>
@@ -237,7 +233,7 @@ export default function ProgressPage({ loaderData }: Route.ComponentProps) {
               <TextArea name="notes" label="Notes" rows={2} error={errors.notes} />
             </div>
             <div className="sm:col-span-2">
-              <button className="btn-primary" name="intent" value="log" disabled={busy}>
+              <button type="submit" className="btn-primary" name="intent" value="log" disabled={busy}>
                 {busy ? "Saving…" : "Log session"}
               </button>
             </div>

@@ -63,6 +63,7 @@ function SessionCard({ s, showDay }: { s: ScheduledSession; showDay?: boolean })
           </Link>
           <Form method="post" action={`/train/sessions/${s.id}`}>
             <button
+              type="submit"
               className="btn-quiet min-h-12 min-w-32 text-lg"
               name="intent"
               value="no_show"

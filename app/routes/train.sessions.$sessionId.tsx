@@ -217,7 +217,13 @@ export default function TrainerSession({ loaderData }: Route.ComponentProps) {
               ))}
             </section>
             <div className="flex flex-wrap gap-3">
-              <button className="btn-primary min-h-12 min-w-40 text-lg" name="intent" value="log" disabled={busy}>
+              <button
+                type="submit"
+                className="btn-primary min-h-12 min-w-40 text-lg"
+                name="intent"
+                value="log"
+                disabled={busy}
+              >
                 {busy ? "Saving…" : "Save session"}
               </button>
               <Link to="/train" className="btn-quiet inline-flex min-h-12 items-center">

@@ -1,5 +1,6 @@
 import { z } from "zod";
 import { ROLES } from "~/auth/permissions";
+import { CONSENT_PURPOSES } from "~/domain/consent-purposes";
 
 // Shared by the admin forms, their actions and any API that takes the same input.
 const optionalId = z.preprocess(
@@ -68,7 +69,7 @@ export const apiKeySchema = z.object({
 });
 
 export const consentTextSchema = z.object({
-  purpose: z.enum(["assessment", "planning", "model"], { message: "Choose a purpose." }),
+  purpose: z.enum(CONSENT_PURPOSES, { message: "Choose a purpose." }),
   version: z
     .string()
     .trim()

@@ -1,6 +1,6 @@
 import { z } from "zod";
 
-// Shared by the allocation forms, their actions and /api/v1/allocation-runs (issue 5).
+// Shared by the allocation forms, their actions and /api/v1/allocation-runs.
 
 const isoDate = z
   .string()

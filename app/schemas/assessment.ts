@@ -2,7 +2,7 @@ import { z } from "zod";
 import { MEASURE_DIRECTIONS } from "~/compute/features";
 import { TRACE_KINDS, type TraceKind } from "~/compute/trace-parsing";
 
-// Forms of the baseline battery (issue 3): measures, sessions, manual results, uploads, norm sets.
+// Forms of the baseline battery: measures, sessions, manual results, uploads, norm sets.
 
 /** computeTrace output keys start with these prefixes, per trace kind. */
 export const TRACE_KEY_PREFIX: Record<TraceKind, string> = {

@@ -1,13 +1,14 @@
 import { z } from "zod";
+import { CONSENT_PURPOSES, type ConsentPurpose } from "~/domain/consent-purposes";
 
-export const PURPOSE_LABELS = {
+export const PURPOSE_LABELS: Record<ConsentPurpose, string> = {
   assessment: "Assessment: baseline may be recorded",
   planning: "Planning: forecast may be used to allocate training",
   model: "Model: de-identified record may join a model cohort",
-} as const;
+};
 
-// Consent forms (DESIGN §4): purposes ticked by the worker, witnessed by an assessor.
-const purpose = z.enum(["assessment", "planning", "model"], { message: "Purpose: assessment, planning or model." });
+// Consent forms (docs/consent-and-disclosure.md): purposes ticked by the worker, witnessed by an assessor.
+const purpose = z.enum(CONSENT_PURPOSES, { message: "Purpose: assessment, planning or model." });
 
 export const recordConsentSchema = z.object({
   purposes: z.preprocess(

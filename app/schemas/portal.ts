@@ -1,8 +1,8 @@
 import { z } from "zod";
+import { CONSENT_PURPOSES } from "~/domain/consent-purposes";
 
-// Worker portal forms (issue 7): own consent, review requests; and the assessors' answer to a review.
-export const CONSENT_PURPOSE_VALUES = ["assessment", "planning", "model"] as const;
-const purpose = z.enum(CONSENT_PURPOSE_VALUES, { message: "Purpose: choose assessment, planning or model." });
+// Worker portal forms: own consent, review requests; and the assessors' answer to a review.
+const purpose = z.enum(CONSENT_PURPOSES, { message: "Purpose: choose assessment, planning or model." });
 
 export const giveOwnConsentSchema = z.object({
   intent: z.literal("give"),

@@ -1,6 +1,6 @@
 import { z } from "zod";
 
-// Fixed groupings a manager may see (DESIGN §3.6). No free filters: an organisation only switches
+// Fixed groupings a manager may see (docs/consent-and-disclosure.md). No free filters: an organisation only switches
 // whole groupings on or off.
 export const GROUPINGS = ["site", "department", "deviceType", "stage", "week"] as const;
 export type Grouping = (typeof GROUPINGS)[number];

@@ -1,6 +1,6 @@
 import { z } from "zod";
 
-// Roster rows (issue 3): one zod schema per row, shared by the import preview, the import itself and
+// Roster rows: one zod schema per row, shared by the import preview, the import itself and
 // the tests. Pure: sites and departments are passed in, so this runs without a database.
 
 export const ROSTER_FIELDS = ["employeeNumber", "givenName", "familyName", "email", "site", "department"] as const;
@@ -43,11 +43,6 @@ export function guessMapping(headers: string[]): RosterMapping {
   }
   return m;
 }
-
-/** Mapping as posted by the mapping form (`map.<field>` = column index or ""). */
-export const mappingFormSchema = z.object(
-  Object.fromEntries(ROSTER_FIELDS.map((f) => [`map.${f}`, z.string().regex(/^\d*$/, "Choose a column").optional()])),
-);
 
 export function mappingFromForm(
   form: Record<string, unknown>,

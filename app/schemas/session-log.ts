@@ -1,6 +1,6 @@
 import { z } from "zod";
 
-// The trainer's session log (issue 7): start and end, task score on the device's standard task, notes and
+// The trainer's session log: start and end, task score on the device's standard task, notes and
 // adverse events. Shared by the form and the action; field names match the form controls.
 export const ADVERSE_KINDS = ["pain", "numbness", "skin", "fatigue", "other"] as const;
 export type AdverseKind = (typeof ADVERSE_KINDS)[number];

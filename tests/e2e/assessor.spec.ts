@@ -1,4 +1,4 @@
-// Assessor e2e (issue 3, "done when"): in the browser an assessor imports a roster file with bad rows and
+// Assessor e2e ("done when"): in the browser an assessor imports a roster file with bad rows and
 // sees them named, records consent, enters a manual test, uploads each of the five trace kinds and sees
 // the computed values and the profile chart, then withdraws consent — and the worker's assessment rows
 // are gone, in the page and in the database. Uses the generated files in seeds/traces (invented data).

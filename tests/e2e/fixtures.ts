@@ -22,7 +22,7 @@
  *                             outbox.all(), outbox.to(address), outbox.waitFor(predicate, { timeoutMs }).
  *   stack                     Where the stack is: { baseURL, issuer, smtpPort, outboxDir, databaseUrl, tempDir }.
  *
- * Helpers: persona(role) / personaByEmail(email) from seeds/lib/personas.ts (invented people);
+ * Helpers: persona(role) / personaByEmail(email) from app/auth/demo-personas.ts (invented people);
  *   SESSION_COOKIE ("__limberly") and sessionCookie(context) to check whether a browser holds a session;
  *   signInAs / signOut / readOutbox / waitForMail are also exported as plain functions.
  *
@@ -30,8 +30,8 @@
  * Screenshots you take with testInfo.outputPath("name.png") land in test-results/e2e/ (git-ignored).
  */
 import { type BrowserContext, test as base, type Cookie, expect, type Page } from "@playwright/test";
+import { DEMO_PERSONAS, type DemoPersona } from "../../app/auth/demo-personas";
 import { type CaughtMessage, readOutbox as readOutboxDir } from "../../scripts/smtp-catcher";
-import { DEMO_PERSONAS, type DemoPersona } from "../../seeds/lib/personas";
 import { type E2eState, e2eState } from "./state";
 
 export type { CaughtMessage, DemoPersona, E2eState };
@@ -39,7 +39,7 @@ export { expect };
 
 export const SESSION_COOKIE = "__limberly";
 
-/** The first demo persona with this role (seeds/lib/personas.ts). */
+/** The first demo persona with this role (app/auth/demo-personas.ts). */
 export function persona(role: DemoPersona["role"]): DemoPersona {
   const p = DEMO_PERSONAS.find((x) => x.role === role);
   if (!p) throw new Error(`No demo persona has the role "${role}".`);

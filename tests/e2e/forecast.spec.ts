@@ -1,4 +1,4 @@
-// Forecast area (issue 4) in the browser: an assessor fits a model and reads its diagnostics, a second
+// Forecast area in the browser: an assessor fits a model and reads its diagnostics, a second
 // assessor approves it, a worker's forecast shows hours, interval and explanation; logging a session
 // moves the remaining-hours forecast and the progress chart. Demo data: seeds/03_forecast_demo.ts (invented).
 import { expect, persona, test } from "./fixtures";

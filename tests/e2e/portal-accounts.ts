@@ -1,4 +1,4 @@
-// Shared by worker.spec.ts and trainer.spec.ts (issue 7): direct reads of the e2e database, and the worker
+// Shared by worker.spec.ts and trainer.spec.ts: direct reads of the e2e database, and the worker
 // accounts that seeds/07_portals_demo.ts gives two of Ines Calloway's trainees (invented people).
 import AxeBuilder from "@axe-core/playwright";
 import type { Page } from "@playwright/test";

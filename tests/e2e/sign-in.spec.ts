@@ -1,9 +1,9 @@
 // Foundation e2e: sign-in through the real OAuth2/OIDC round trip for every demo persona, sign-out,
 // an unprovisioned identity, the 390 px layout, accessibility (axe) and the admin users / API-key flow.
-// Expected homes are the ones DESIGN.md and the foundation issue name for each role.
+// Expected homes: ROLE_HOMES in app/auth/permissions.ts, one per role.
 import AxeBuilder from "@axe-core/playwright";
 import { request as playwrightRequest } from "@playwright/test";
-import { DEMO_PERSONAS, type DemoPersona } from "../../seeds/lib/personas";
+import { DEMO_PERSONAS, type DemoPersona } from "../../app/auth/demo-personas";
 import { expect, persona, SESSION_COOKIE, sessionCookie, test } from "./fixtures";
 import { expectNoSidewaysScroll } from "./layout";
 
@@ -50,7 +50,7 @@ test.describe("sign-in and sign-out for each demo persona", () => {
       // …and after sign-out the same cookie is worthless: the session was deleted on the server.
       const after = await replay.get(HOME[p.role], { headers: cookieHeader, maxRedirects: 0 });
       expect(after.status()).toBe(302);
-      expect(after.headers()["location"]).toMatch(/^\/sign-in(\?|$)/);
+      expect(after.headers().location).toMatch(/^\/sign-in(\?|$)/);
       await replay.dispose();
     });
   }

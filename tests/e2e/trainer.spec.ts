@@ -1,4 +1,4 @@
-// Trainer portal (issue 7) in the browser at tablet-in-one-hand width (390 px): the day's sessions, logging a
+// Trainer portal in the browser at tablet-in-one-hand width (390 px): the day's sessions, logging a
 // score moves the worker's progress chart, a severe adverse event pauses the worker and e-mails the assessors,
 // another trainer's session is refused. Invented demo people (seeds/07_portals_demo.ts).
 import type { Knex } from "knex";

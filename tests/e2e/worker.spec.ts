@@ -1,4 +1,4 @@
-// Worker portal (issue 7) in the browser: a worker sees their plan, downloads their data, withdraws planning
+// Worker portal in the browser: a worker sees their plan, downloads their data, withdraws planning
 // consent and leaves the plans (future sessions cancelled, forecasts gone, coordinator e-mailed); the home page
 // at 390 px; a review request answered by an assessor. Invented demo people (seeds/07_portals_demo.ts).
 import fs from "node:fs";
@@ -100,7 +100,7 @@ test("a worker sees their plan, downloads their data, withdraws planning consent
     (m) => m.subject === `Consent withdrawn: ${me.employeeNumber} leaves training plans`,
   );
   expect(mail.to).toContain(persona("coordinator").email);
-  // The allocation pool takes only workers with planning consent in force and a forecast (DESIGN §4); both are gone.
+  // The allocation pool takes only workers with planning consent in force and a forecast (docs/consent-and-disclosure.md); both are gone.
   // (tests/integration/portals.test.ts builds the next run's pool with the allocation area's buildProblem and
   // checks the worker is gone from it.)
   const api = await page.request.get("/api/v1/me/plan");

@@ -3,7 +3,7 @@ import { describe, expect, inject, it } from "vitest";
 import { readOutbox } from "../../scripts/smtp-catcher";
 import { type Browserless, baseUrl, PERSONA, signIn, testDb } from "./helpers";
 
-// Allocator application (issue 5) against the real built server and the seeded demo database: runs solve in
+// Allocator application against the real built server and the seeded demo database: runs solve in
 // the background (worker thread) and report progress; publishing writes dated sessions that keep every rule
 // of the second stage (checked here session by session from the database, not from the app's own code);
 // two publishes from the same plan version: exactly one wins; republishing e-mails only the people whose
@@ -60,7 +60,7 @@ const sessionsOf = (runId: number): Promise<SessionRow[]> =>
     .where({ allocation_run_id: runId, status: "scheduled" })
     .select("id", "worker_id", "trainer_id", "device_unit_id", "device_type_id", "scheduled_start", "scheduled_end");
 
-/** Independent check of every published session against the rules of DESIGN §3.5, second stage. */
+/** Independent check of every published session against the second-stage rules of docs/methods.md. */
 async function checkSessions(rows: SessionRow[]) {
   const isoWeekday = (d: string) => {
     const x = new Date(`${d}T00:00:00Z`).getUTCDay();
@@ -218,7 +218,7 @@ describe("allocation runs", () => {
     const plan = JSON.parse(stored.result);
     const problem = JSON.parse(stored.problem).problem;
     expect(plan.bound).toBeGreaterThanOrEqual(plan.objective - 1e-9);
-    // objective = Σ priority of workers made ready (DESIGN §3.5), recomputed from the snapshot
+    // objective = Σ priority of workers made ready (docs/methods.md), recomputed from the snapshot
     const prio = new Map(problem.workers.map((w: { id: string; priority: number }) => [w.id, w.priority]));
     expect(plan.objective).toBeCloseTo(
       plan.assignments.reduce((t: number, a: { workerId: string }) => t + (prio.get(a.workerId) as number), 0),
@@ -433,7 +433,13 @@ describe("API /api/v1/allocation-runs", () => {
     const res = await post(key, params);
     expect(res.status).toBe(202);
     const { id } = await res.json();
-    let body: any;
+    let body: {
+      status?: string;
+      error?: string | null;
+      attempts?: number;
+      parameters: { pool: { siteIds: number[] } };
+      result: { bound: number; objective: number; assignments: { workerId: number }[] };
+    } = { parameters: { pool: { siteIds: [] } }, result: { bound: 0, objective: 0, assignments: [] } };
     for (let i = 0; i < 600; i++) {
       body = await (
         await fetch(`${baseUrl()}/api/v1/allocation-runs/${id}`, { headers: { Authorization: `Bearer ${key}` } })

@@ -6,7 +6,7 @@ import { afterAll, beforeAll, describe, expect, inject, it } from "vitest";
 import { computeTrace, parseTrace } from "~/compute/trace-parsing";
 import { type Browserless, PERSONA, signIn, testDb } from "./helpers";
 
-// Assessment area (issue 3) against the running stack and the seeded demo (seeds/01, 02).
+// Assessment area against the running stack and the seeded demo (seeds/01, 02).
 // Outside references named beside the checks: Node's crypto for SHA-256, exceljs for reading the export,
 // the shared trace parser (itself checked against published references in tests/reference) for values.
 const k = testDb();

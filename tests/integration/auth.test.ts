@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { DEMO_PERSONAS } from "../../seeds/lib/personas";
+import { DEMO_PERSONAS } from "../../app/auth/demo-personas";
 import { Browserless, baseUrl, PERSONA, signIn, testDb } from "./helpers";
 
 // Sign-in through the real OAuth2 authorization-code flow with PKCE against the identity-provider

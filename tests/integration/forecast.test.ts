@@ -1,12 +1,12 @@
 import crypto from "node:crypto";
 import { inverse, Matrix } from "ml-matrix";
 import { afterAll, describe, expect, it } from "vitest";
-import { ERASURE_STEPS } from "~/models/consent.server";
 import { eraseForecasts } from "~/models/forecast.server";
+import { ERASURE_STEPS } from "~/models/withdrawal.server";
 import { workerForecastSchema } from "~/schemas/forecast";
 import { baseUrl, PERSONA, signIn, testDb } from "./helpers";
 
-// Forecast area (issue 4) against the running stack and the seeded demo (seeds/03_forecast_demo.ts).
+// Forecast area against the running stack and the seeded demo (seeds/03_forecast_demo.ts).
 const k = testDb();
 
 async function device(code: string) {
@@ -124,7 +124,9 @@ describe("model workbench: cohort and censoring", () => {
       included.map((r) => r.z),
       included.map((r) => Math.log(r.hours)),
     );
-    shown.forEach((b, i) => expect(Math.abs(b - reference[i])).toBeLessThan(6e-5));
+    shown.forEach((b, i) => {
+      expect(Math.abs(b - reference[i])).toBeLessThan(6e-5);
+    });
     // …and not of the cohort with the censored trainees' hours-so-far mixed in as if they were outcomes.
     const mixed = normalEquations(
       [...included, ...censored].map((r) => r.z),
@@ -139,7 +141,7 @@ describe("model workbench: cohort and censoring", () => {
       (await k("model_versions").where({ device_type_id: deviceTypeId, status: "approved" }).first()).measure_ids,
     );
     const { client } = await signIn(PERSONA.assessor);
-    const fit = async () =>
+    const fitModel = async () =>
       await (
         await client.postForm("/models/new", {
           intent: "fit",
@@ -148,14 +150,14 @@ describe("model workbench: cohort and censoring", () => {
           ridge: "0",
         })
       ).text();
-    const before = await fit();
+    const before = await fitModel();
     const training = await k("device_courses")
       .where({ device_type_id: deviceTypeId, status: "training" })
       .orderBy("worker_id")
       .first();
     await k("device_courses").where({ id: training.id }).update({ hours_to_proficiency: 999 });
     try {
-      const after = await fit();
+      const after = await fitModel();
       expect(text(after, "cohort-size")).toBe(text(before, "cohort-size"));
       expect(coefficientTable(after)).toEqual(coefficientTable(before));
     } finally {

@@ -1,7 +1,7 @@
 import { describe, expect, it } from "vitest";
 import { PERSONA, signIn, testDb } from "./helpers";
 
-// DESIGN §4: withdrawal recorded by an assessor also drops the worker from plans, in the same transaction
+// docs/consent-and-disclosure.md: withdrawal recorded by an assessor also drops the worker from plans, in the same transaction
 // as the erasure — not only withdrawals made in the worker portal.
 describe("assessor-recorded planning withdrawal", () => {
   it("cancels the worker's future scheduled sessions and erases their forecasts", async () => {

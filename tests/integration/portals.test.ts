@@ -3,9 +3,9 @@ import { describe, expect, inject, it } from "vitest";
 import { buildProblem } from "~/models/allocation-problem.server";
 import { runParametersSchema } from "~/schemas/allocation";
 import { readOutbox } from "../../scripts/smtp-catcher";
-import { type Browserless, PERSONA, signIn, testDb } from "./helpers";
+import { PERSONA, signIn, testDb } from "./helpers";
 
-// Worker and trainer portals (issue 7) against the running stack and the invented demo (seeds/07_portals_demo.ts:
+// Worker and trainer portals against the running stack and the invented demo (seeds/07_portals_demo.ts:
 // two worker accounts among Ines Calloway's trainees, her scheduled sessions). Each test makes the rows it
 // changes (sessions dated from now) so that the shared database stays usable by other files.
 const k = testDb();
@@ -342,7 +342,7 @@ describe("consent from the worker portal", () => {
     expect((await k("training_sessions").where({ id: otherFuture }).first()).status).toBe("scheduled");
     expect(await k("consent_records").where({ worker_id: other.id }).orderBy("id")).toEqual(otherConsentBefore);
     expect(await k("forecasts").where({ worker_id: other.id }).orderBy("id")).toEqual(otherForecastsBefore);
-    // …and the next run's pool no longer has them at all (issue 5's pool: planning consent in force).
+    // …and the next run's pool no longer has them at all (planning consent in force).
     expect(inPool(await buildProblem(params, scope, k))).toBe(false);
 
     // The North Yard coordinator (organisation-wide Tobias Renn included) is told.

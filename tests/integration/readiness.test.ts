@@ -1,15 +1,15 @@
 import crypto from "node:crypto";
 import ExcelJS from "exceljs";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { STAGES } from "../../app/components/stage";
 import { auditLinkedTables } from "../../app/compute/disclosure";
+import { STAGES } from "../../app/domain/stages";
 import routes from "../../app/routes";
 import { type Browserless, baseUrl, PERSONA, signIn, testDb } from "./helpers";
 import { concretePath, flattenRoutes, type RouteEntry } from "./route-walk";
 
 // Issue 6: what a manager's pages, export and API send contains nothing personal; department and site
 // views together cannot be differenced; manager API keys reach no worker-level route.
-// Reference for the disclosure rule: DESIGN §3.6 (counts of 1 … threshold−1 hidden, and nothing hidden
+// Reference for the disclosure rule: docs/consent-and-disclosure.md (counts of 1 … threshold−1 hidden, and nothing hidden
 // recoverable exactly from what is published together); audited with the LP attacker in
 // app/compute/disclosure.ts, itself checked against HiGHS in tests/reference/disclosure.test.ts.
 
@@ -75,17 +75,15 @@ beforeAll(async () => {
       })),
     );
   for (let i = 0; i < rows.length; i += 100) await db("training_sessions").insert(rows.slice(i, i + 100));
-  // Sessions count only when their run is published (once the allocation area's table exists).
-  if (await db.schema.hasTable("allocation_runs")) {
-    await db("allocation_runs").insert({
-      id: RUN_ID,
-      label: "readiness test plan",
-      parameters: "{}",
-      status: "done",
-      created_at: "2026-12-01T00:00:00.000Z",
-      published_at: "2026-12-01T00:00:00.000Z",
-    });
-  }
+  // Sessions count only when their run is published.
+  await db("allocation_runs").insert({
+    id: RUN_ID,
+    label: "readiness test plan",
+    parameters: "{}",
+    status: "done",
+    created_at: "2026-12-01T00:00:00.000Z",
+    published_at: "2026-12-01T00:00:00.000Z",
+  });
   ({ client: manager } = await signIn(PERSONA.manager));
   ({ key: nyKey, id: nyKeyId } = await insertKey("manager", [ny.id]));
 });
@@ -93,7 +91,7 @@ beforeAll(async () => {
 afterAll(async () => {
   const db = testDb();
   await db("training_sessions").where({ allocation_run_id: RUN_ID }).delete();
-  if (await db.schema.hasTable("allocation_runs")) await db("allocation_runs").where({ id: RUN_ID }).delete();
+  await db("allocation_runs").where({ id: RUN_ID }).delete();
   for (const w of pausedIds) await db("workers").where({ id: w.id }).update({ stage: w.stage });
   await db("api_keys").where({ id: nyKeyId }).update({ revoked_at: new Date().toISOString() });
 });
@@ -217,14 +215,14 @@ describe("department and site views published together", () => {
     expect(small).toBeGreaterThan(0); // the two paused Kitting workers at least
 
     // Every shown department number is the truth and not a small count.
-    dept.cells.forEach((line, i) =>
+    dept.cells.forEach((line, i) => {
       line.forEach((v, j) => {
         if (v !== null) {
           expect(v).toBe(counts[i][j]);
           expect(v === 0 || v >= THRESHOLD).toBe(true);
         }
-      }),
-    );
+      });
+    });
     const published = {
       detail: { ...dept, rows: dept.rows, threshold: THRESHOLD },
       parent: { ...site, threshold: THRESHOLD },

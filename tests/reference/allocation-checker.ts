@@ -1,5 +1,5 @@
 /**
- * Independent plan checker for DESIGN §3.5. It re-derives every rule from the problem text and the plan
+ * Independent plan checker for the allocation rules of docs/methods.md. It re-derives every rule from the problem text and the plan
  * alone (it imports only the types), so a solver bug cannot hide behind shared code.
  * Returns a list of violations; an empty list means the plan is valid.
  */

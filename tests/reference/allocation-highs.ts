@@ -25,11 +25,20 @@ export interface HighsReference {
   timeMs: number;
 }
 
-type HighsSolver = { solve: (lp: string, options?: Record<string, unknown>) => any };
+interface HighsResult {
+  Status: string;
+  Columns: Record<string, { Primal: number }>;
+  Rows: { Name: string; Dual: number }[];
+}
+type HighsSolver = { solve: (lp: string, options?: Record<string, unknown>) => HighsResult };
 let loader: Promise<HighsSolver> | null = null;
 
 export function loadHighs(): Promise<HighsSolver> {
-  if (!loader) loader = import("highs").then((m: any) => (m.default ?? m)());
+  if (!loader)
+    loader = import("highs").then((m) => {
+      const load = ((m as { default?: unknown }).default ?? m) as () => Promise<HighsSolver>;
+      return load();
+    });
   return loader;
 }
 

@@ -1,5 +1,5 @@
 /**
- * Training allocator (DESIGN §3.5). Every plan goes through the independent checker; optima are compared
+ * Training allocator (docs/methods.md). Every plan goes through the independent checker; optima are compared
  * with HiGHS on the time-indexed MIP (tests/reference/allocation-highs.ts).
  */
 import { describe, expect, it } from "vitest";
@@ -172,7 +172,7 @@ describe("hand-made instances with an answer found by hand", () => {
   });
 
   it("group sessions: a trainer with two trainees per session supervises twice the trainee-hours", async () => {
-    // DESIGN §3.5: k trainees for h hours use h·k / traineesPerSession trainer-hours.
+    // docs/methods.md: k trainees for h hours use h·k / traineesPerSession trainer-hours.
     const make = (traineesPerSession: number): AllocationProblem => ({
       weeks: 1,
       deviceTypes: [{ id: "exo", hoursPerWeek: [20] }],
@@ -266,7 +266,7 @@ describe("hand-made instances with an answer found by hand", () => {
       { output_flag: false },
     );
     expect(relaxed.Status).toBe("Optimal");
-    const dual = Math.abs(relaxed.Rows.find((r: { Name: string }) => r.Name === "dev_0_0").Dual);
+    const dual = Math.abs(relaxed.Rows.find((r) => r.Name === "dev_0_0")!.Dual);
     expect(dual).toBeCloseTo(0.15, 9);
 
     const plan = await solveChecked(problem);

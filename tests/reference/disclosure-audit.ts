@@ -80,10 +80,18 @@ const GRAND = "g";
 
 function tableQuantities(prefix: string, t: PublishedTable, withMargins: boolean): Quantity[] {
   const qs: Quantity[] = [];
-  t.cells.forEach((line, i) => line.forEach((v, j) => qs.push({ name: cellName(prefix, i, j), shown: v })));
-  t.rowTotals.forEach((v, i) => qs.push({ name: rowTotalName(prefix, i), shown: v }));
+  t.cells.forEach((line, i) => {
+    line.forEach((v, j) => {
+      qs.push({ name: cellName(prefix, i, j), shown: v });
+    });
+  });
+  t.rowTotals.forEach((v, i) => {
+    qs.push({ name: rowTotalName(prefix, i), shown: v });
+  });
   if (withMargins) {
-    t.columnTotals.forEach((v, j) => qs.push({ name: columnTotalName(j), shown: v }));
+    t.columnTotals.forEach((v, j) => {
+      qs.push({ name: columnTotalName(j), shown: v });
+    });
     qs.push({ name: GRAND, shown: t.grandTotal });
   }
   return qs;

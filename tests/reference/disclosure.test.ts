@@ -1,4 +1,4 @@
-// Disclosure control for managers' readiness tables (DESIGN §3.6).
+// Disclosure control for managers' readiness tables (docs/consent-and-disclosure.md).
 // References: Hundepool et al. (2012) Statistical Disclosure Control, Wiley, ch. 7 (primary and
 // secondary cell suppression; auditing a pattern by the attacker LP) — details from memory; the
 // threshold of 5 is common practice in health statistics (no single published source); interval
@@ -24,7 +24,6 @@ import {
   type HiddenBound,
   highsFlatBounds,
   highsLinkedBounds,
-  type PublishedTable,
   seeded,
   smallCountTable,
 } from "./disclosure-audit";
@@ -120,8 +119,14 @@ describe("primary suppression", () => {
   it("publishes unchanged numbers wherever it publishes", () => {
     const counts = smallCountTable(seeded(11), 6, 5);
     const t = protectTable(labels("r", 6), labels("c", 5), counts);
-    t.cells.forEach((line, i) => line.forEach((v, j) => v !== null && expect(v).toBe(counts[i][j])));
-    t.rowTotals.forEach((v, i) => v !== null && expect(v).toBe(sum(counts[i])));
+    t.cells.forEach((line, i) => {
+      line.forEach((v, j) => {
+        v !== null && expect(v).toBe(counts[i][j]);
+      });
+    });
+    t.rowTotals.forEach((v, i) => {
+      v !== null && expect(v).toBe(sum(counts[i]));
+    });
   });
 
   it("is deterministic", () => {
@@ -277,8 +282,14 @@ describe("audit: javascript-lp-solver (product) and HiGHS (reference) on 50 seed
       const counts = smallCountTable(random, m, n);
       const t = protectTable(labels("r", m), labels("c", n), counts);
       // Every small count is hidden.
-      counts.forEach((line, i) => line.forEach((v, j) => v > 0 && v < 5 && expect(t.cells[i][j]).toBeNull()));
-      counts.forEach((line, i) => sum(line) > 0 && sum(line) < 5 && expect(t.rowTotals[i]).toBeNull());
+      counts.forEach((line, i) => {
+        line.forEach((v, j) => {
+          v > 0 && v < 5 && expect(t.cells[i][j]).toBeNull();
+        });
+      });
+      counts.forEach((line, i) => {
+        sum(line) > 0 && sum(line) < 5 && expect(t.rowTotals[i]).toBeNull();
+      });
       const audit = auditProtectedTable(counts, t);
       hiddenTotal += audit.length;
       expectProtected(audit);
@@ -322,9 +333,11 @@ describe("linked views: department × stage and site × stage published together
     expectProtected(audit);
     expectSameBounds(audit, await highsLinkedBounds(linked.detail, linked.parent, [0, 0, 1, 1]), linkedName);
     // Shown site numbers are the department sums.
-    linked.parent.cells.forEach((line, p) =>
-      line.forEach((v, j) => v !== null && expect(v).toBe(counts[2 * p][j] + counts[2 * p + 1][j])),
-    );
+    linked.parent.cells.forEach((line, p) => {
+      line.forEach((v, j) => {
+        v !== null && expect(v).toBe(counts[2 * p][j] + counts[2 * p + 1][j]);
+      });
+    });
   });
 
   it("20 seeded linked tables: no hidden number is recoverable from both tables together", async () => {
@@ -343,9 +356,11 @@ describe("linked views: department × stage and site × stage published together
         parentOf,
       };
       const linked = protectLinkedTables(input);
-      detailCounts.forEach((line, i) =>
-        line.forEach((v, j) => v > 0 && v < 5 && expect(linked.detail.cells[i][j]).toBeNull()),
-      );
+      detailCounts.forEach((line, i) => {
+        line.forEach((v, j) => {
+          v > 0 && v < 5 && expect(linked.detail.cells[i][j]).toBeNull();
+        });
+      });
       const audit = auditLinkedTables(input, linked);
       expectProtected(audit);
       const parentOfRow = parentOf.map((p) => Number(p.split(" ")[1]) - 1);
@@ -365,7 +380,7 @@ describe("shares and medians", () => {
     expect(protectMedian([1, 2, 3, 4, 5, 6], 8)).toBeNull();
   });
 
-  // Rule of DESIGN §3.6 (threshold 5: common practice); a share with its group size gives the count
+  // Rule of docs/consent-and-disclosure.md (threshold 5: common practice); a share with its group size gives the count
   // back, so numerator and remainder follow the cell rule (1–4 hidden, 0 shown).
   it("shares hidden for small groups and small numerators or remainders", () => {
     expect(suppressedShare(3, 4)).toBeNull(); // group of 4
@@ -378,7 +393,7 @@ describe("shares and medians", () => {
   });
 });
 
-// Threshold of 5: common practice in health statistics, no single published source (DESIGN §3.6).
+// Threshold of 5: common practice in health statistics, no single published source (docs/consent-and-disclosure.md).
 describe("threshold", () => {
   const counts = [
     [4, 6, 9],

@@ -30,7 +30,9 @@ describe("handDimensionality", () => {
   it("reproduces the iris explained-variance ratios to 1e-6", () => {
     const result = handDimensionality(getNumbers());
     expect(result.explainedVarianceRatio).toHaveLength(4);
-    result.explainedVarianceRatio.forEach((r, i) => expect(Math.abs(r - IRIS_RATIOS[i])).toBeLessThan(1e-6));
+    result.explainedVarianceRatio.forEach((r, i) => {
+      expect(Math.abs(r - IRIS_RATIOS[i])).toBeLessThan(1e-6);
+    });
   });
 
   it("counts components to the threshold and the participation ratio from the iris shares", () => {
@@ -51,7 +53,9 @@ describe("handDimensionality", () => {
     for (let j = 0; j < p; j++)
       for (const s of [1, -1]) rows.push(Array.from({ length: p }, (_, c) => (c === j ? s : 0)));
     const result = handDimensionality(rows);
-    result.explainedVarianceRatio.forEach((r) => expect(r).toBeCloseTo(1 / p, 12));
+    result.explainedVarianceRatio.forEach((r) => {
+      expect(r).toBeCloseTo(1 / p, 12);
+    });
     expect(result.participationRatio).toBeCloseTo(p, 9);
     expect(result.componentsToThreshold).toBe(Math.ceil(0.9 * p)); // 19.8 → 20
   });
@@ -77,10 +81,16 @@ describe("handDimensionality", () => {
     const lambdas = singular.map((s) => (s * s) / (n - 1)).sort((a, b) => b - a);
     const total = ss.sum(lambdas);
     const result = handDimensionality(rows);
-    result.explainedVarianceRatio.forEach((r, i) => expect(r).toBeCloseTo(lambdas[i] / total, 10));
+    result.explainedVarianceRatio.forEach((r, i) => {
+      expect(r).toBeCloseTo(lambdas[i] / total, 10);
+    });
     expect(result.participationRatio).toBeCloseTo(total ** 2 / ss.sum(lambdas.map((l) => l * l)), 9);
     let cumulative = 0;
-    const needed = lambdas.findIndex((l) => (cumulative += l / total) >= 0.9) + 1;
+    const needed =
+      lambdas.findIndex((l) => {
+        cumulative += l / total;
+        return cumulative >= 0.9;
+      }) + 1;
     expect(result.componentsToThreshold).toBe(needed);
     expect(needed).toBeGreaterThan(1);
   });

@@ -55,11 +55,15 @@ describe("fitLinearModel against NIST StRD Longley", () => {
   // The DESIGN bar is 7 significant digits (relative error < 1e-7); we hold the QR to 1e-9.
   it("reproduces all 7 certified coefficients", () => {
     expect(fit.coefficients).toHaveLength(7);
-    fit.coefficients.forEach((b, j) => expect(relativeError(b, LONGLEY_COEFFICIENTS[j])).toBeLessThan(1e-9));
+    fit.coefficients.forEach((b, j) => {
+      expect(relativeError(b, LONGLEY_COEFFICIENTS[j])).toBeLessThan(1e-9);
+    });
   });
 
   it("reproduces all 7 certified standard errors", () => {
-    fit.standardErrors.forEach((se, j) => expect(relativeError(se, LONGLEY_STANDARD_ERRORS[j])).toBeLessThan(1e-9));
+    fit.standardErrors.forEach((se, j) => {
+      expect(relativeError(se, LONGLEY_STANDARD_ERRORS[j])).toBeLessThan(1e-9);
+    });
   });
 
   it("reproduces the certified residual SD, R² and 9 residual degrees of freedom", () => {
@@ -270,7 +274,9 @@ describe("ridge against the closed-form solution (XcᵀXc + λI)⁻¹Xcᵀyc", (
 
   it("coefficients agree to 1e-10", () => {
     expect(Math.abs(fit.coefficients[0] - b0)).toBeLessThan(1e-10);
-    b.forEach((v, j) => expect(Math.abs(fit.coefficients[j + 1] - v)).toBeLessThan(1e-10));
+    b.forEach((v, j) => {
+      expect(Math.abs(fit.coefficients[j + 1] - v)).toBeLessThan(1e-10);
+    });
   });
 
   it("df = n − 1 − tr(Xc(XcᵀXc + λI)⁻¹Xcᵀ) and sandwich standard errors agree", () => {
@@ -288,7 +294,9 @@ describe("ridge against the closed-form solution (XcᵀXc + λI)⁻¹Xcᵀyc", (
   it("a vanishing penalty gives the OLS fit back", () => {
     const ols = fitLinearModel(X, y);
     const tiny = fitLinearModel(X, y, { ridge: 1e-12 });
-    ols.coefficients.forEach((c, j) => expect(Math.abs(tiny.coefficients[j] - c)).toBeLessThan(1e-9));
+    ols.coefficients.forEach((c, j) => {
+      expect(Math.abs(tiny.coefficients[j] - c)).toBeLessThan(1e-9);
+    });
     expect(tiny.dfResidual).toBeCloseTo(ols.dfResidual, 9);
   });
 });

@@ -21,7 +21,7 @@ const SHROUT_FLEISS = [
   [10, 5, 6, 9],
   [6, 2, 4, 7],
 ];
-// ICCs published with that example (as quoted in DESIGN §3.2; their ICC(·,4) = ICC(·,k) here).
+// ICCs published with that example (as quoted in docs/methods.md; their ICC(·,4) = ICC(·,k) here).
 const PUBLISHED: Record<IccForm, number> = {
   "ICC(1,1)": 0.17,
   "ICC(2,1)": 0.29,

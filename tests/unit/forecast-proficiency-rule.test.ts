@@ -1,7 +1,7 @@
 import { describe, expect, it } from "vitest";
 import { firstProficientIndex } from "~/compute/proficiency-rule";
 
-// The criterion rule (issue 4, item 2): the first session completing a run of N consecutive sessions at or
+// The criterion rule: the first session completing a run of N consecutive sessions at or
 // above the threshold. Expected indices are worked out by hand from the score lists.
 describe("firstProficientIndex", () => {
   const c = { scoreThreshold: 0.8, consecutiveSessions: 2 };

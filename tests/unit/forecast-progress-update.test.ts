@@ -1,7 +1,7 @@
 import { describe, expect, it } from "vitest";
 import { progressUpdate } from "~/compute/progress-update";
 
-// Progress update (DESIGN §3.4): baseline prior + progress curve, plateau → review.
+// Progress update (docs/methods.md): baseline prior + progress curve, plateau → review.
 const base = { logMean: Math.log(20), logScale: 0.3, df: 30 };
 
 describe("progressUpdate", () => {

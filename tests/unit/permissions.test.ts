@@ -1,9 +1,18 @@
 import { describe, expect, it } from "vitest";
-import { ACTIONS, ROLES, roleAllows } from "../../app/auth/permissions";
+import { ACTIONS, can, ROLES, roleAllows } from "../../app/auth/permissions";
 import { scopeFrom } from "../../app/auth/scope";
 
-// DESIGN §1: who may do what. Health-data actions never reach admin or manager.
-const HEALTH = ["assessments.read", "assessments.write", "forecast.read", "models.manage", "sessions.log"] as const;
+// Who may do what (docs/architecture.md, roles). Health-data actions never reach admin or manager.
+const HEALTH = [
+  "assessments.read",
+  "assessments.write",
+  "forecast.read",
+  "forecast.clinical",
+  "models.manage",
+  "progress.all",
+  "progress.notes",
+  "sessions.log",
+] as const;
 
 describe("role × action table", () => {
   it("admin and manager hold no health-data action", () => {
@@ -26,6 +35,22 @@ describe("role × action table", () => {
         ACTIONS.some((a) => roleAllows(r, a)),
         r,
       ).toBe(true);
+  });
+});
+
+describe("can", () => {
+  it("is true when any of the roles allows the action, false for none", () => {
+    expect(can({ roles: ["manager", "assessor"] }, "forecast.clinical")).toBe(true);
+    expect(can({ roles: ["coordinator"] }, "forecast.clinical")).toBe(false);
+    expect(can({ roles: [] }, "self.read")).toBe(false);
+  });
+  it("only assessors see the clinical forecast view", () => {
+    expect(ROLES.filter((r) => can({ roles: [r] }, "forecast.clinical"))).toEqual(["assessor"]);
+  });
+  it("a trainer reaches progress of own trainees only; assessors and coordinators of their whole scope", () => {
+    expect(ROLES.filter((r) => can({ roles: [r] }, "progress.all"))).toEqual(["assessor", "coordinator"]);
+    expect(ROLES.filter((r) => can({ roles: [r] }, "progress.notes"))).toEqual(["assessor", "trainer"]);
+    expect(ROLES.filter((r) => can({ roles: [r] }, "sessions.own"))).toEqual(["trainer"]);
   });
 });
 

@@ -2,7 +2,7 @@ import { describe, expect, it } from "vitest";
 import { guessMapping, mappingFromForm, type RosterSite, validateRoster } from "~/schemas/roster";
 
 // Roster row checks (app/schemas/roster.ts): pure, no database. The expected outcomes are written out
-// by hand from the rules in issue 3 (missing employee number, bad e-mail, unknown site or department,
+// by hand from the roster rules (missing employee number, bad e-mail, unknown site or department,
 // duplicates inside the file, rows numbered as a spreadsheet shows them with the header as row 1).
 const SITES: RosterSite[] = [
   {

@@ -2,9 +2,10 @@
  * Binding resources from the Lagrangian multipliers, which play the part of LP duals: the price of a
  * device-week or trainer-week is the objective gained per extra hour there (to first order).
  */
-import type { BindingResource } from "../allocation";
+
 import type { Instance } from "./instance";
 import type { LagrangianResult } from "./lagrangian";
+import type { BindingResource } from "./types";
 
 const MIN_PRICE = 1e-4;
 

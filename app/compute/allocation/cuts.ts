@@ -46,7 +46,9 @@ export class WeekCapacity {
 
 export function makeCut(masks: number[], weekCapacity: WeekCapacity): CapacityCut {
   let rhs = 0;
-  masks.forEach((m, k) => (rhs += weekCapacity.get(k, m)));
+  masks.forEach((m, k) => {
+    rhs += weekCapacity.get(k, m);
+  });
   return { masks, rhs, key: masks.join(",") };
 }
 

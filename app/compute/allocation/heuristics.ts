@@ -4,7 +4,7 @@
  * Effort is bounded by a deterministic budget of max-flow phases.
  */
 
-import type { Instance } from "./instance";
+import { type Instance, minHours } from "./instance";
 import type { Selection } from "./selection";
 
 export interface Budget {
@@ -34,12 +34,6 @@ export function meetGroupMinimums(sel: Selection, preference: number[]): void {
       sel.tryWorker(w, optionsByHours(inst, w));
     }
   });
-}
-
-function minHours(inst: Instance, w: number): number {
-  let h = Infinity;
-  for (const c of inst.workers[w].candidates) h = Math.min(h, inst.candidates[c].hours);
-  return h;
 }
 
 export function fill(sel: Selection, order: number[], optionOrder: (w: number) => number[], budget: Budget): void {

@@ -2,7 +2,8 @@
  * Indexed form of an allocation problem: integer ids, per-week capacities as arrays, and the list of
  * candidate (worker, device type) pairs that could possibly be completed inside the horizon.
  */
-import type { AllocationProblem } from "../allocation";
+import { round1 } from "../rounding";
+import type { AllocationProblem } from "./types";
 
 export const EPS = 1e-7;
 
@@ -128,7 +129,9 @@ export function buildInstance(problem: AllocationProblem): Instance {
   });
 
   const groupMembers = groupIds.map(() => [] as number[]);
-  workers.forEach((w, i) => groupMembers[w.group].push(i));
+  workers.forEach((w, i) => {
+    groupMembers[w.group].push(i);
+  });
   const share = Math.min(1, Math.max(0, problem.minimumSharePerGroup ?? 0));
   const groupMinimum = groupMembers.map((m) => Math.floor(share * m.length + 1e-9));
 
@@ -150,4 +153,9 @@ export function buildInstance(problem: AllocationProblem): Instance {
   };
 }
 
-export const round1 = (x: number) => Math.round(x * 10) / 10;
+/** Fewest hours any of the worker's options needs (Infinity without options). */
+export function minHours(inst: Instance, w: number): number {
+  let h = Infinity;
+  for (const c of inst.workers[w].candidates) h = Math.min(h, inst.candidates[c].hours);
+  return h;
+}

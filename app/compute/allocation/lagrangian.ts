@@ -103,7 +103,9 @@ function evaluate(inst: Instance, lam: number[][], mu: number[][], nu: number[])
   }
   for (let d = 0; d < D; d++) for (let k = 0; k < H; k++) value += lam[d][k] * inst.deviceCap[d][k];
   for (let t = 0; t < T; t++) for (let k = 0; k < H; k++) value += mu[t][k] * inst.trainerCap[t][k];
-  inst.groupMinimum.forEach((m, g) => (value -= nu[g] * m));
+  inst.groupMinimum.forEach((m, g) => {
+    value -= nu[g] * m;
+  });
   return { value, deviceUse, trainerUse, groupReady, reduced };
 }
 

@@ -4,9 +4,9 @@
  * ones are left out. Objective values are recomputed from the returned variable values.
  */
 
+import { type LpColumn, type LpRow, solveLp } from "../lp-solver";
 import { type CapacityCut, cutCoefficient } from "./cuts";
 import type { Instance } from "./instance";
-import { type LpColumn, type LpRow, maximise } from "./lp";
 
 export interface Fixing {
   one: Set<number>;
@@ -82,10 +82,10 @@ export function solveMaster(inst: Instance, cuts: CapacityCut[], fix: Fixing): M
   }
   if (!feasibleByFixing) return { feasible: false, z, objective: -Infinity };
   if (columns.length === 0) return { feasible: !rows.some((r) => r.min !== undefined), z, objective };
-  const res = maximise(rows, columns);
+  const res = solveLp({ sense: "max", rows, columns, options: { presolve: false } });
   if (!res.feasible) return { feasible: false, z, objective: -Infinity };
   free.forEach((c) => {
-    const v = Math.min(1, res.values.get(`c${c.index}`) ?? 0);
+    const v = Math.min(1, Math.max(0, res.values.get(`c${c.index}`) ?? 0));
     if (v > 1e-9) {
       z.set(c.index, v);
       objective += v * inst.workers[c.worker].priority;

@@ -100,8 +100,7 @@ export class FlowNetwork {
     while (this.bfs(s, t)) {
       this.work += this.to.length;
       for (let v = 0; v < this.nodeCount; v++) this.iter[v] = this.head[v];
-      let f: number;
-      while ((f = this.dfs(s, t, Infinity)) > FLOW_EPS) added += f;
+      for (let f = this.dfs(s, t, Infinity); f > FLOW_EPS; f = this.dfs(s, t, Infinity)) added += f;
     }
     return added;
   }

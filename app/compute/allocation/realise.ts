@@ -3,11 +3,11 @@
  * as the others allow (highest priority first, binary search on a deadline week, each step re-checked
  * by the max-flow), then split each device-week's flow among the certified trainers that carry it.
  */
-import type { AllocationAssignment, CapacityUse } from "../allocation";
+
 import { type Budget, outOfBudget } from "./heuristics";
-import { EPS, type Instance } from "./instance";
+import { EPS } from "./instance";
 import type { Selection } from "./selection";
-import type { Problem } from "./types";
+import type { AllocationAssignment, AllocationProblem, CapacityUse } from "./types";
 
 export function tightenDeadlines(sel: Selection, budget: Budget): void {
   const { inst, net } = sel;
@@ -54,7 +54,7 @@ function lastWeekOf(hours: number[]): number {
   return 0;
 }
 
-export function extractAssignments(sel: Selection, problem: Problem): AllocationAssignment[] {
+export function extractAssignments(sel: Selection, problem: AllocationProblem): AllocationAssignment[] {
   const { inst, net } = sel;
   const H = inst.weeks;
   // remaining trainer flow per device-week
@@ -89,7 +89,7 @@ export function extractAssignments(sel: Selection, problem: Problem): Allocation
   return out;
 }
 
-export function capacityUse(sel: Selection, problem: Problem): CapacityUse[] {
+export function capacityUse(sel: Selection, problem: AllocationProblem): CapacityUse[] {
   const { inst, net } = sel;
   const use: CapacityUse[] = [];
   inst.deviceIds.forEach((id, d) => {

@@ -1,14 +1,16 @@
 /**
  * Orchestration of one allocation solve: construct, bound, improve, prove (when small), realise.
  */
-import type { AllocationOptions, AllocationPlan, AllocationProblem } from "../allocation";
+
+import { round1 } from "../rounding";
 import { bindingResources } from "./binding";
 import { branchAndCut, CutPool } from "./branch-and-cut";
 import { type Budget, fill, improveBySwaps, meetGroupMinimums, optionsByHours } from "./heuristics";
-import { buildInstance, type Instance, round1 } from "./instance";
+import { buildInstance, type Instance, minHours } from "./instance";
 import { lagrangianBound } from "./lagrangian";
 import { capacityUse, extractAssignments, tightenDeadlines } from "./realise";
 import { Selection } from "./selection";
+import type { AllocationOptions, AllocationPlan, AllocationProblem } from "./types";
 
 /** Edges scanned per millisecond on a modest machine: turns a time limit into a work budget. */
 const EDGES_PER_MS = 40_000;
@@ -26,13 +28,12 @@ export function solveWithBranchAndCut(problem: AllocationProblem, options: Alloc
   const inst = buildInstance(problem);
   const sel = new Selection(inst);
   const budget: Budget = { limit: timeLimitMs * EDGES_PER_MS * 0.6, expired };
-  const minHours = (w: number) => Math.min(...inst.workers[w].candidates.map((c) => inst.candidates[c].hours));
   const workersWithOptions = inst.workers.map((_, i) => i).filter((w) => inst.workers[w].candidates.length > 0);
 
   // 1. value-density greedy: priority per hour of the cheapest option
   const byDensity = [...workersWithOptions].sort(
     (a, b) =>
-      inst.workers[b].priority / minHours(b) - inst.workers[a].priority / minHours(a) ||
+      inst.workers[b].priority / minHours(inst, b) - inst.workers[a].priority / minHours(inst, a) ||
       inst.workers[b].priority - inst.workers[a].priority ||
       a - b,
   );
@@ -73,7 +74,7 @@ export function solveWithBranchAndCut(problem: AllocationProblem, options: Alloc
     // also priority first, least hours first
     sel.restore(new Array(inst.workers.length).fill(-1));
     const byPriority = [...workersWithOptions].sort(
-      (a, b) => inst.workers[b].priority - inst.workers[a].priority || minHours(a) - minHours(b) || a - b,
+      (a, b) => inst.workers[b].priority - inst.workers[a].priority || minHours(inst, a) - minHours(inst, b) || a - b,
     );
     meetGroupMinimums(sel, byPriority);
     fill(sel, byPriority, hoursFirst, budget);

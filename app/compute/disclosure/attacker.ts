@@ -3,8 +3,8 @@
 // suppression pattern — from memory). Integrality is ignored on purpose: the LP interval is what a
 // careful reader can prove, and for two-way tables its end points are whole numbers anyway.
 
+import { solveLinearProgram } from "../lp-solver";
 import { connectedGroups, hiddenSystem } from "./linear-algebra";
-import { solveLinearProgram } from "./lp-solver";
 import type { TableSystem } from "./table-system";
 
 export interface AttackerBound {

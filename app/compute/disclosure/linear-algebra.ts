@@ -1,7 +1,7 @@
 // What an attacker can derive from a published table by linear algebra alone: the hidden entries
 // satisfy A·y = b, where b collects the published numbers. Redundant rows are dropped so that the LP
 // solver only ever sees independent equalities (javascript-lp-solver 1.0.3 can misreport with redundant
-// equality rows, DESIGN §3.5).
+// equality rows, docs/methods.md).
 
 import type { TableSystem } from "./table-system";
 
@@ -116,7 +116,10 @@ export function linearlyDetermined(hidden: HiddenSystem): number[] {
 /** Unknowns grouped by the equalities that connect them; independent groups are audited separately. */
 export function connectedGroups(hidden: HiddenSystem): { unknowns: number[]; rows: number[] }[] {
   const parent = hidden.unknowns.map((_, u) => u);
-  const find = (u: number): number => (parent[u] === u ? u : (parent[u] = find(parent[u])));
+  const find = (u: number): number => {
+    if (parent[u] !== u) parent[u] = find(parent[u]);
+    return parent[u];
+  };
   hidden.rows.forEach((row) => {
     let first = -1;
     row.forEach((c, u) => {

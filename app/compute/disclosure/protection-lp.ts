@@ -7,9 +7,9 @@
 // Salazar-González 2000 and the network heuristics before it, reduced to one cell — from memory).
 // The LP is always feasible: δ = table / value_k scales the whole table and satisfies every relation.
 
+import { solveLinearProgram } from "../lp-solver";
 import { firstNarrowEntry } from "./attacker";
 import { echelon, hiddenSystem, linearlyDetermined } from "./linear-algebra";
-import { solveLinearProgram } from "./lp-solver";
 import type { TableSystem } from "./table-system";
 
 /**
@@ -36,7 +36,9 @@ export function protectionSet(system: TableSystem, suppressed: boolean[], target
     }
   });
   const byEntry = new Map<number, number[]>();
-  columns.forEach((col, v) => byEntry.set(col.entry, [...(byEntry.get(col.entry) ?? []), v]));
+  columns.forEach((col, v) => {
+    byEntry.set(col.entry, [...(byEntry.get(col.entry) ?? []), v]);
+  });
   const rows: Float64Array[] = [];
   const rhs: number[] = [];
   for (const relation of system.relations) {

@@ -1,5 +1,6 @@
 // Shares and medians for manager views: shown only for groups of at least the threshold.
 
+import { median as medianOf } from "simple-statistics";
 import { effectiveThreshold, isSmallCount } from "./threshold";
 
 /**
@@ -31,9 +32,7 @@ export function protectMedian(
     const values = input as readonly number[];
     if (values.some((v) => !Number.isFinite(v))) throw new RangeError("median needs finite values");
     if (values.length < t) return null;
-    const sorted = [...values].sort((a, b) => a - b);
-    const mid = sorted.length >> 1;
-    return sorted.length % 2 === 1 ? sorted[mid] : (sorted[mid - 1] + sorted[mid]) / 2;
+    return medianOf([...values]);
   }
   const { count, median } = input as { count: number; median: number };
   if (!Number.isInteger(count) || count < 0) throw new RangeError(`group count must be a whole number, got ${count}`);

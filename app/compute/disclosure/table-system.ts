@@ -1,6 +1,7 @@
 // A published table seen as numbers tied together by additivity: every total is the sum of its parts.
 // An attacker who sees some numbers and knows these relations can bound the hidden ones
 // (Hundepool et al. 2012, Statistical Disclosure Control, Wiley, ch. 7 — from memory).
+import { sum } from "simple-statistics";
 
 export type EntryKind = "cell" | "rowTotal" | "columnTotal" | "grandTotal";
 
@@ -101,7 +102,6 @@ export function linkedTableSystem(
   const n = columnCount;
   const entries: TableEntry[] = [];
   const add = (entry: TableEntry) => entries.push(entry) - 1;
-  const sum = (xs: number[]) => xs.reduce((a, b) => a + b, 0);
 
   const detailIndex = counts.map((line, d) => [
     ...line.map((value, j) => add({ kind: "cell", table: "detail", row: d, column: j, value })),

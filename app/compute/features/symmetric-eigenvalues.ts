@@ -7,5 +7,6 @@ import { EigenvalueDecomposition, Matrix } from "ml-matrix";
  */
 export function symmetricEigenvaluesDescending(covariance: number[][]): number[] {
   const decomposition = new EigenvalueDecomposition(new Matrix(covariance), { assumeSymmetric: true });
+  // biome-ignore lint/complexity/useMathMinMax: the comparison also turns a NaN into 0; Math.max would pass it on.
   return decomposition.realEigenvalues.map((v) => (v > 0 ? v : 0)).sort((a, b) => b - a);
 }

@@ -1,4 +1,5 @@
 // Timing: synchronising responses (taps, presses) to a sequence of cues (beeps, lights).
+import { median } from "simple-statistics";
 import { assertFiniteSeries, assertMinimumLength, mean } from "./input-checks";
 
 export interface TimingMetrics {
@@ -40,12 +41,8 @@ export function matchCuesToOnsets(
     }
   }
   const onsets = [...onsetTimesMs].sort((p, q) => p - q);
-  const intervals = cueTimesMs
-    .slice(1)
-    .map((c, i) => c - cueTimesMs[i])
-    .sort((p, q) => p - q);
-  const mid = intervals.length >> 1;
-  const medianInterval = intervals.length % 2 === 1 ? intervals[mid] : (intervals[mid - 1] + intervals[mid]) / 2;
+  const intervals = cueTimesMs.slice(1).map((c, i) => c - cueTimesMs[i]);
+  const medianInterval = median(intervals);
   const windowMs = medianInterval / 2;
 
   const candidates: { cue: number; onset: number; distance: number }[] = [];

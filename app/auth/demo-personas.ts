@@ -1,9 +1,11 @@
-// INVENTED demo personas for "Harrow & Vale Fabrication" (DESIGN §6). No real people.
-// Used by the seed, by the sign-in page outside production, and by the e2e tests.
+// INVENTED demo personas for the invented firm "Harrow & Vale Fabrication". No real people.
+// Used by the seed, by the sign-in page outside production, and by the tests.
+import type { Role } from "./permissions";
+
 export interface DemoPersona {
   email: string;
   displayName: string;
-  role: "assessor" | "coordinator" | "trainer" | "manager" | "worker" | "admin";
+  role: Role;
   title: string;
 }
 

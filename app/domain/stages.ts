@@ -1,4 +1,4 @@
-// Readiness stages (DESIGN §2) with the words people read.
+// Readiness stages of a worker, in order, with the words people read (docs/consent-and-disclosure.md).
 export const STAGES = [
   "invited",
   "consented",

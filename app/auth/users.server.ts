@@ -1,5 +1,5 @@
-import type { Role } from "~/auth/permissions";
 import { type Db, db } from "~/db.server";
+import type { Role } from "./permissions";
 
 export interface RoleAssignment {
   id: number;
