@@ -1,4 +1,6 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { db } from "../../app/db.server";
+import { upsertForecast } from "../../app/models/forecast.server";
 import { readOutbox } from "../../scripts/smtp-catcher";
 import type { Browserless } from "../integration/helpers";
 import { PERSONA } from "../integration/helpers";
@@ -21,6 +23,7 @@ describe("concurrent writes on PostgreSQL", () => {
     worker = await signInAt(url, PERSONA.worker);
   }, 300_000);
   afterAll(async () => {
+    if (process.env.DATABASE_URL === c?.pg.url) await db().destroy();
     await c?.stop();
   });
 
@@ -112,5 +115,21 @@ describe("concurrent writes on PostgreSQL", () => {
       (m) => m.subject === "Your review request has been answered" && answers.some((a) => m.text.includes(a)),
     );
     expect(mails).toHaveLength(1);
+  });
+
+  it("keeps one forecast row when a worker's forecast is recomputed by four requests at once", async () => {
+    // The app's own model code, in this process, on the cluster's database (its pool: real parallel
+    // transactions). Each recompute checks for the worker's forecast row, then inserts or updates it (and the
+    // open review flags the same way) while holding the worker's row lock.
+    process.env.DATABASE_URL = c.pg.url;
+    const { worker_id, device_type_id } = await c.db("forecasts").orderBy("id").first("worker_id", "device_type_id");
+    await c.db("forecasts").where({ worker_id, device_type_id }).del();
+    const results = await Promise.all(
+      Array.from({ length: 4 }, () =>
+        db().transaction((trx) => upsertForecast(trx, worker_id, device_type_id, { actor: null })),
+      ),
+    );
+    expect(results.map((r) => r.status)).toEqual(["ready", "ready", "ready", "ready"]);
+    expect(await c.db("forecasts").where({ worker_id, device_type_id }).select("id")).toHaveLength(1);
   });
 });
