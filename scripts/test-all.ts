@@ -1,11 +1,13 @@
-// `npm test`: everything a newcomer and CI run. Makes sure Debian's Chromium is there (installs it when
-// running as root, otherwise prints the command), type-checks, lints (Biome), builds, then runs the unit and reference
-// tests, the integration tests against the real stack, and the Playwright end-to-end tests.
+// `npm test`: everything a newcomer and CI run. Makes sure Debian's Chromium and PostgreSQL packages are there
+// (installs them when running as root, otherwise prints the command), type-checks, lints (Biome), builds, then
+// runs the unit and reference tests, the integration tests against the real stack twice (on SQLite, then on a
+// throwaway PostgreSQL cluster), and the Playwright end-to-end tests.
 // Ends with one line "N passed, N failed" over all suites.
 import { spawnSync } from "node:child_process";
 import fs from "node:fs";
 import os from "node:os";
 import path from "node:path";
+import { ensurePostgres } from "./postgres";
 
 const root = path.resolve(path.dirname(new URL(import.meta.url).pathname), "..");
 const out = fs.mkdtempSync(path.join(os.tmpdir(), "limberly-test-"));
@@ -32,6 +34,12 @@ function ensureChromium(): void {
 }
 
 ensureChromium();
+try {
+  ensurePostgres();
+} catch (e) {
+  console.error(`\n${(e as Error).message}\n`);
+  process.exit(1);
+}
 const failures: string[] = [];
 if (run("typegen", [bin("@react-router/dev/bin.js"), "typegen"]) !== 0) failures.push("typegen");
 if (run("tsc --noEmit", [bin("typescript/bin/tsc"), "--noEmit"]) !== 0) failures.push("tsc");
@@ -43,16 +51,34 @@ if (run("build", [bin("@react-router/dev/bin.js"), "build"]) !== 0) {
   process.exit(1);
 }
 
-const vitestJson = path.join(out, "vitest.json");
-const vitestCode = run("unit, reference and integration tests (vitest)", [
-  bin("vitest/vitest.mjs"),
-  "run",
-  "--config",
-  "tests/vitest.config.ts",
-  "--reporter=default",
-  "--reporter=json",
-  `--outputFile.json=${vitestJson}`,
-]);
+// Vitest: unit + reference and the integration project on SQLite in one run, then the integration project
+// again on PostgreSQL (LIMBERLY_TEST_DB, see tests/integration/global-setup.ts).
+const vitestRuns = [
+  { label: "unit, reference and integration tests on SQLite (vitest)", file: "vitest-sqlite.json", db: "sqlite" },
+  { label: "integration tests on PostgreSQL (vitest)", file: "vitest-postgres.json", db: "postgres" },
+].map((v) => {
+  const json = path.join(out, v.file);
+  // The engine-parity test seeds both engines itself; it runs once, in the PostgreSQL pass.
+  const projects =
+    v.db === "sqlite"
+      ? ["--project", "unit", "--project", "integration", "--exclude", "tests/integration/engine-parity.test.ts"]
+      : ["--project", "integration"];
+  const code = run(
+    v.label,
+    [
+      bin("vitest/vitest.mjs"),
+      "run",
+      "--config",
+      "tests/vitest.config.ts",
+      ...projects,
+      "--reporter=default",
+      "--reporter=json",
+      `--outputFile.json=${json}`,
+    ],
+    { LIMBERLY_TEST_DB: v.db },
+  );
+  return { json, code };
+});
 const e2eJson = path.join(out, "e2e.json");
 const e2eCode = run(
   "end-to-end tests (Playwright, Debian Chromium)",
@@ -62,17 +88,19 @@ const e2eCode = run(
 
 let passed = 0;
 let failed = 0;
-if (fs.existsSync(vitestJson)) {
-  const v = JSON.parse(fs.readFileSync(vitestJson, "utf8"));
-  passed += v.numPassedTests ?? 0;
-  failed += (v.numFailedTests ?? 0) + (v.numFailedTestSuites ?? 0);
-} else failed += 1;
+for (const v of vitestRuns) {
+  if (fs.existsSync(v.json)) {
+    const r = JSON.parse(fs.readFileSync(v.json, "utf8"));
+    passed += r.numPassedTests ?? 0;
+    failed += (r.numFailedTests ?? 0) + (r.numFailedTestSuites ?? 0);
+  } else failed += 1;
+  if (v.code !== 0 && failed === 0) failed += 1;
+}
 if (fs.existsSync(e2eJson)) {
   const e = JSON.parse(fs.readFileSync(e2eJson, "utf8"));
   passed += e.stats?.expected ?? 0;
   failed += (e.stats?.unexpected ?? 0) + (e.stats?.flaky ?? 0) + (e.errors?.length ?? 0);
 } else failed += 1;
-if (vitestCode !== 0 && failed === 0) failed += 1;
 if (e2eCode !== 0 && failed === 0) failed += 1;
 failed += failures.length;
 if (failures.length) console.log(`\nChecks that failed: ${failures.join(", ")}`);

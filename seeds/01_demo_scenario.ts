@@ -11,6 +11,7 @@ import { emptyAllTables } from "./lib/reset";
 
 export const SEED_NOW = "2026-11-30T09:00:00.000Z";
 
+const DEMO_TIME_ZONE = "Europe/London";
 const SITES = [
   { code: "NY", name: "North Yard" },
   { code: "RS", name: "Riverside" },
@@ -137,6 +138,8 @@ export async function seed(knex: Knex): Promise<void> {
         name: "Harrow & Vale Fabrication (invented)",
         disclosure_threshold: 5,
         retention_days: 3650,
+        // The invented sites keep UK time (GMT in winter, BST in summer).
+        time_zone: DEMO_TIME_ZONE,
         created_at: SEED_NOW,
       })
       .returning("id");
@@ -146,7 +149,7 @@ export async function seed(knex: Knex): Promise<void> {
     const deptIds: Record<string, number> = {};
     for (const s of SITES) {
       const [row] = await trx("sites")
-        .insert({ organisation_id: orgId, code: s.code, name: s.name, created_at: SEED_NOW })
+        .insert({ organisation_id: orgId, code: s.code, name: s.name, time_zone: DEMO_TIME_ZONE, created_at: SEED_NOW })
         .returning("id");
       siteIds[s.code] = row.id;
       for (const d of DEPARTMENTS) {

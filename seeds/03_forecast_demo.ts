@@ -237,7 +237,7 @@ export async function seed(knex: Knex): Promise<void> {
           worker_id: workerId,
           device_type_id: deviceTypeId,
           trainer_id: trainerId,
-          scheduled_start: at,
+          scheduled_start: at.slice(0, 19), // wall-clock, without zone
           status: "attended",
           duration_hours: spec.session,
           task_score: scores[i],

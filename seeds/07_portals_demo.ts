@@ -89,8 +89,9 @@ export async function seed(knex: Knex): Promise<void> {
       for (let wk = 0; wk < WEEKS; wk++) {
         for (const d of days) {
           const date = day(wk * 7 + d);
-          const start = `${date}T${String(hour).padStart(2, "0")}:00:00.000Z`;
-          const end = new Date(new Date(start).getTime() + minutes * 60_000).toISOString();
+          // Wall-clock times, stored without zone.
+          const start = `${date}T${String(hour).padStart(2, "0")}:00:00`;
+          const end = new Date(new Date(`${start}Z`).getTime() + minutes * 60_000).toISOString().slice(0, 19);
           rows.push({
             worker_id: t.worker_id,
             device_type_id: t.device_type_id,

@@ -1,17 +1,9 @@
 // Pure date helpers for allocation plans: weeks of a horizon, weekdays, date ranges.
-// Dates are ISO "YYYY-MM-DD" strings in the organisation's local calendar; no clock is read here.
+// Dates are ISO "YYYY-MM-DD" strings in the site's calendar; the day arithmetic is the dates module's
+// (app/dates/calendar.ts, pure); no clock is read here.
+import { addDays } from "../dates/calendar";
 
-export function addDays(iso: string, n: number): string {
-  const d = new Date(`${iso}T00:00:00Z`);
-  d.setUTCDate(d.getUTCDate() + n);
-  return d.toISOString().slice(0, 10);
-}
-
-/** ISO weekday: 1 = Monday … 7 = Sunday. */
-export function isoWeekday(iso: string): number {
-  const d = new Date(`${iso}T00:00:00Z`).getUTCDay();
-  return d === 0 ? 7 : d;
-}
+export { addDays, isoWeekday } from "../dates/calendar";
 
 export const WEEKDAY_NAMES = [
   "",

@@ -2,6 +2,7 @@
 // that have already been through disclosure control, so whatever it derives is computable from the
 // published numbers alone and reveals nothing more than they do.
 
+import { addWeeks, isIsoDate, weekStart as isoWeekStart } from "../dates/calendar";
 import type { ProtectedTable } from "./disclosure";
 
 /** The symbol a hidden (suppressed) number reads as, on screen and in exports. */
@@ -59,24 +60,18 @@ export function transposeProtected(table: ProtectedTable): ProtectedTable {
   };
 }
 
-/** Monday (UTC) of the ISO week containing a YYYY-MM-DD date, as YYYY-MM-DD. */
+/** Monday of the ISO week containing a YYYY-MM-DD date (or the day of a wall-clock time), as YYYY-MM-DD. */
 export function weekStart(day: string): string {
-  const d = new Date(`${day.slice(0, 10)}T00:00:00Z`);
-  if (Number.isNaN(d.getTime())) throw new RangeError(`not a date: ${day}`);
-  const back = (d.getUTCDay() + 6) % 7;
-  d.setUTCDate(d.getUTCDate() - back);
-  return d.toISOString().slice(0, 10);
+  const d = day.slice(0, 10);
+  if (!isIsoDate(d)) throw new RangeError(`not a date: ${day}`);
+  return isoWeekStart(d);
 }
 
 /** Every week start from `first` to `last` inclusive (both Mondays), so empty weeks show as zero. */
 export function weekRange(first: string, last: string): string[] {
   const out: string[] = [];
-  const d = new Date(`${weekStart(first)}T00:00:00Z`);
   const end = weekStart(last);
-  while (d.toISOString().slice(0, 10) <= end) {
-    out.push(d.toISOString().slice(0, 10));
-    d.setUTCDate(d.getUTCDate() + 7);
-  }
+  for (let d = weekStart(first); d <= end; d = addWeeks(d, 1)) out.push(d);
   return out;
 }
 

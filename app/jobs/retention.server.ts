@@ -1,4 +1,5 @@
 import type { Knex } from "knex";
+import { addDays } from "~/dates";
 import { db } from "~/db.server";
 
 // Retention (docs/consent-and-disclosure.md): assessments — with their results and uploaded traces — older than the
@@ -11,9 +12,7 @@ export interface PurgeSummary {
 }
 
 export function retentionCutoff(today: string, retentionDays: number): string {
-  const d = new Date(`${today}T00:00:00.000Z`);
-  d.setUTCDate(d.getUTCDate() - retentionDays);
-  return d.toISOString().slice(0, 10);
+  return addDays(today, -retentionDays);
 }
 
 export async function purgeExpiredAssessments(today: string, k: Knex = db()): Promise<PurgeSummary> {

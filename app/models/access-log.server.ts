@@ -95,7 +95,14 @@ function toRow(r: Record<string, unknown>): AccessLogRow {
 }
 
 export function listAccessLog(q: TableQuery, filters: { worker?: string; actor?: string; from?: string; to?: string }) {
-  return paged(baseQuery(filters), q, { at: "a.at", worker: "w.employee_number", resource: "a.resource" }, "at", toRow);
+  return paged(
+    baseQuery(filters),
+    q,
+    { at: "a.at", worker: "w.employee_number", resource: "a.resource" },
+    "at",
+    "a.id",
+    toRow,
+  );
 }
 
 export async function exportAccessLog(

@@ -26,6 +26,7 @@ export async function listUsers(q: TableQuery) {
     q,
     { name: "u.display_name", email: "u.email", lastSignIn: "u.last_sign_in_at" },
     "name",
+    "u.id",
     (r) => ({
       id: r.id as number,
       email: r.email as string,

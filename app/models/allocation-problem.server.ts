@@ -44,12 +44,13 @@ export async function buildProblem(params: RunParameters, scope: Scope, k: Db = 
   const units = await k("device_units")
     .whereIn("site_id", poolSites.length ? poolSites : [-1])
     .select("id", "device_type_id", "site_id", "serial", "status", "bookable_hours_per_week")
-    .orderBy("serial");
+    .orderBy(["serial", "id"]);
   const windows = await k("unit_maintenance_windows")
     .whereIn("device_unit_id", units.map((u) => u.id as number).concat(-1))
     .where("starts_on", "<=", endDate)
     .where("ends_on", ">=", startDate)
-    .select("device_unit_id", "starts_on", "ends_on");
+    .select("device_unit_id", "starts_on", "ends_on")
+    .orderBy(["device_unit_id", "starts_on", "id"]);
   const deviceId = (dtName: string, site: string) => `${dtName} at ${site}`;
   const calendarDevices: PlanCalendar["devices"] = [];
   const problemDevices: AllocationProblem["deviceTypes"] = [];
@@ -63,10 +64,7 @@ export async function buildProblem(params: RunParameters, scope: Scope, k: Db = 
         serial: u.serial as string,
         bookableHoursPerWeek: Number(u.bookable_hours_per_week),
         unavailableDates: allDates.filter((d) =>
-          windows.some(
-            (w) =>
-              w.device_unit_id === u.id && inRange(d, String(w.starts_on).slice(0, 10), String(w.ends_on).slice(0, 10)),
-          ),
+          windows.some((w) => w.device_unit_id === u.id && inRange(d, w.starts_on, w.ends_on)),
         ),
       }));
       for (const add of params.whatIf.addUnits.filter((a) => a.siteId === siteId && a.deviceTypeId === dt.id)) {
@@ -112,18 +110,22 @@ export async function buildProblem(params: RunParameters, scope: Scope, k: Db = 
     .join("users as u", "u.id", "t.user_id")
     .whereIn("t.site_id", poolSites.length ? poolSites : [-1])
     .select("t.id", "t.site_id", "t.hours_per_week", "t.trainees_per_session", "u.display_name", "u.email")
-    .orderBy("u.display_name");
+    .orderBy(["u.display_name", "t.id"]);
   const tIds = trainerRows.map((t) => t.id as number).concat(-1);
-  const certs = await k("trainer_certifications").whereIn("trainer_id", tIds).select("trainer_id", "device_type_id");
+  const certs = await k("trainer_certifications")
+    .whereIn("trainer_id", tIds)
+    .select("trainer_id", "device_type_id")
+    .orderBy(["trainer_id", "device_type_id"]);
   const patterns = await k("trainer_working_pattern")
     .whereIn("trainer_id", tIds)
     .select("trainer_id", "weekday", "start_time", "end_time")
-    .orderBy(["trainer_id", "weekday", "start_time"]);
+    .orderBy(["trainer_id", "weekday", "start_time", "id"]);
   const leave = await k("trainer_leave")
     .whereIn("trainer_id", tIds)
     .where("starts_on", "<=", endDate)
     .where("ends_on", ">=", startDate)
-    .select("trainer_id", "starts_on", "ends_on");
+    .select("trainer_id", "starts_on", "ends_on")
+    .orderBy(["trainer_id", "starts_on", "id"]);
   const calendarTrainers: PlanCalendar["trainers"] = [];
   const problemTrainers: AllocationProblem["trainers"] = [];
   const removed = new Set(params.whatIf.removeTrainerIds);
@@ -137,10 +139,7 @@ export async function buildProblem(params: RunParameters, scope: Scope, k: Db = 
       .filter((c) => c.trainer_id === t.id)
       .map((c) => deviceTypes.find((d) => d.id === c.device_type_id))
       .filter(Boolean);
-    const onLeave = (d: string) =>
-      leave.some(
-        (l) => l.trainer_id === t.id && inRange(d, String(l.starts_on).slice(0, 10), String(l.ends_on).slice(0, 10)),
-      );
+    const onLeave = (d: string) => leave.some((l) => l.trainer_id === t.id && inRange(d, l.starts_on, l.ends_on));
     const mine = patterns.filter((p) => p.trainer_id === t.id);
     const tw = allDates.flatMap((date) =>
       onLeave(date)
@@ -195,7 +194,7 @@ export async function buildProblem(params: RunParameters, scope: Scope, k: Db = 
       "s.name as site",
       "d.name as department",
     )
-    .orderBy("workers.employee_number");
+    .orderBy(["workers.employee_number", "workers.id"]);
   if (params.pool.departmentIds.length) wq.whereIn("workers.department_id", params.pool.departmentIds);
   whereWorkerInScope(wq, scope);
   const candidates = await wq;
@@ -212,22 +211,28 @@ export async function buildProblem(params: RunParameters, scope: Scope, k: Db = 
         .join("model_versions as m", "m.id", "f.model_version_id")
         .whereIn("f.worker_id", chunk)
         .where("m.status", "approved")
-        .select("f.worker_id", "f.device_type_id", "f.log_mean", "f.log_scale", "f.df", "f.hours_done")),
+        .select("f.worker_id", "f.device_type_id", "f.log_mean", "f.log_scale", "f.df", "f.hours_done")
+        .orderBy(["f.worker_id", "f.device_type_id", "f.id"])),
     );
     courses.push(
-      ...(await k("device_courses").whereIn("worker_id", chunk).select("worker_id", "device_type_id", "status")),
+      ...(await k("device_courses")
+        .whereIn("worker_id", chunk)
+        .select("worker_id", "device_type_id", "status")
+        .orderBy(["worker_id", "device_type_id", "id"])),
     );
     fields.push(
       ...(await k("worker_training_fields")
         .whereIn("worker_id", chunk)
-        .select("worker_id", "max_hours_per_week", "priority")),
+        .select("worker_id", "max_hours_per_week", "priority")
+        .orderBy("worker_id")),
     );
     wleave.push(
       ...(await k("worker_leave")
         .whereIn("worker_id", chunk)
         .where("starts_on", "<=", endDate)
         .where("ends_on", ">=", startDate)
-        .select("worker_id", "starts_on", "ends_on")),
+        .select("worker_id", "starts_on", "ends_on")
+        .orderBy(["worker_id", "starts_on", "id"])),
     );
   }
   const excluded: ProblemSnapshot["excluded"] = [];
@@ -278,9 +283,7 @@ export async function buildProblem(params: RunParameters, scope: Scope, k: Db = 
     const maxHoursPerWeek =
       f?.max_hours_per_week != null ? Number(f.max_hours_per_week) : Math.min(...options.map((o) => o.dtMax));
     const leaveDates = allDates.filter((d) =>
-      wleave.some(
-        (l) => l.worker_id === w.id && inRange(d, String(l.starts_on).slice(0, 10), String(l.ends_on).slice(0, 10)),
-      ),
+      wleave.some((l) => l.worker_id === w.id && inRange(d, l.starts_on, l.ends_on)),
     );
     const availableWeeks = Array.from({ length: weeks }, (_, i) => i).filter(
       (i) =>

@@ -147,7 +147,7 @@ export async function sessionsForWorker(workerId: number, k: Db = db()): Promise
   const uploads = await k("trace_uploads").whereIn("session_id", ids).select("*").orderBy("id");
   return sessions.map((s) => ({
     id: s.id,
-    assessedOn: String(s.assessed_on).slice(0, 10),
+    assessedOn: s.assessed_on as string,
     assessor: s.assessor ?? null,
     notes: s.notes ?? null,
     results: results

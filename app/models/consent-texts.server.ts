@@ -20,7 +20,7 @@ export async function listConsentTexts() {
       { column: "c.effective_from", order: "desc" },
       { column: "c.id", order: "desc" },
     ]);
-  return rows.map((r) => ({ ...r, effective_from: String(r.effective_from).slice(0, 10) }));
+  return rows;
 }
 
 export async function createConsentText(v: {

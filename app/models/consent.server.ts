@@ -52,7 +52,7 @@ async function currentTexts(k: Db, on = today()) {
         id: r.id,
         version: r.version,
         body: r.body,
-        effectiveFrom: String(r.effective_from).slice(0, 10),
+        effectiveFrom: r.effective_from as string,
       };
   return out;
 }

@@ -63,8 +63,8 @@ export async function fleetAdminView(scope: Scope) {
           .filter((w) => w.device_unit_id === u.id)
           .map((w) => ({
             id: w.id as number,
-            startsOn: String(w.starts_on).slice(0, 10),
-            endsOn: String(w.ends_on).slice(0, 10),
+            startsOn: w.starts_on as string,
+            endsOn: w.ends_on as string,
             reason: (w.reason as string) ?? "",
           })),
       })),

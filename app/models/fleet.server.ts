@@ -63,6 +63,6 @@ export async function trainerProfileForUser(userId: number) {
     site: t.site as string,
     hoursPerWeek: Number(t.hours_per_week),
     traineesPerSession: Number(t.trainees_per_session),
-    certifications: certs.map((c) => ({ name: c.name as string, since: String(c.certified_on ?? "").slice(0, 10) })),
+    certifications: certs.map((c) => ({ name: c.name as string, since: (c.certified_on as string | null) ?? "" })),
   };
 }

@@ -46,7 +46,7 @@ export async function baselineZScores(
       .orderBy([{ column: "s.assessed_on" }, { column: "s.id" }]);
     for (const r of rows) {
       const cutoff = cutoffs?.get(r.worker_id);
-      if (cutoff && String(r.assessed_on).slice(0, 10) > cutoff) continue;
+      if (cutoff && (r.assessed_on as string) > cutoff) continue;
       let m = out.get(r.worker_id);
       if (!m) {
         m = new Map();
@@ -182,7 +182,7 @@ export async function upsertForecast(
     return { status: "no_model" };
   }
   const course = await k("device_courses").where({ worker_id: workerId, device_type_id: deviceTypeId }).first();
-  const cutoff = course?.started_on ? String(course.started_on).slice(0, 10) : null;
+  const cutoff = course?.started_on ? (course.started_on as string) : null;
   const z = (await baselineZScores(k, [workerId], model.measureIds, new Map([[workerId, cutoff]]))).get(workerId);
   const values = model.measureIds.map((m) => z?.get(m));
   if (values.some((v) => v === undefined)) {
@@ -463,7 +463,7 @@ export async function workerForecastView(p: Principal, workerId: number, k: Db =
           ? {
               status: course.status,
               cumulativeHours: Number(course.cumulative_hours),
-              proficientOn: course.proficient_on ? String(course.proficient_on).slice(0, 10) : null,
+              proficientOn: course.proficient_on ? (course.proficient_on as string) : null,
               hoursToProficiency: course.hours_to_proficiency == null ? null : Number(course.hours_to_proficiency),
             }
           : null,
@@ -573,6 +573,7 @@ export function listForecastTable(scope: Scope, q: TableQuery, filters: { device
       remaining: "f.remaining_hours",
     },
     "worker",
+    "f.id",
     (r): ForecastListRow => ({
       workerId: r.worker_id as number,
       employeeNumber: r.employee_number as string,

@@ -85,7 +85,7 @@ export async function buildCohort(deviceTypeId: number, measureIds: number[], k:
     eligible.push(c);
   }
   const cutoffs = new Map<number, string | null>(
-    eligible.map((c) => [c.worker_id, c.started_on ? String(c.started_on).slice(0, 10) : null]),
+    eligible.map((c) => [c.worker_id, c.started_on ? (c.started_on as string) : null]),
   );
   const baselines = await baselineZScores(
     k,
@@ -348,7 +348,7 @@ export async function driftByVersion(k: Db = db()): Promise<Map<number, DriftSta
     const a = acc.get(r.model_version_id) ?? { n: 0, abs: 0, covered: 0 };
     a.n++;
     a.abs += Math.abs(Number(r.actual_hours) - Number(r.forecast_median_hours));
-    if (r.covered === true || Number(r.covered) === 1) a.covered++;
+    if (r.covered) a.covered++; // 1 on SQLite, true on PostgreSQL
     acc.set(r.model_version_id, a);
   }
   const out = new Map<number, DriftStats>();

@@ -1,5 +1,7 @@
 import { sampleStandardDeviation, mean as ssMean } from "simple-statistics";
+import { todayIn } from "~/dates";
 import { type Db, db } from "~/db.server";
+import { organisationTimeZone } from "./sites.server";
 
 // Norm sets (docs/methods.md): mean and SD per measure, cohort-derived or entered from a published table,
 // with source and date. Every stored z-score records which norm set it used.
@@ -32,7 +34,7 @@ export async function listNormSets(k: Db = db()): Promise<NormSet[]> {
     name: s.name,
     origin: s.origin,
     source: s.source,
-    sourceDate: String(s.source_date).slice(0, 10),
+    sourceDate: s.source_date as string,
     createdBy: s.creator ?? null,
     createdAt: String(s.created_at),
     values: values
@@ -130,7 +132,7 @@ export async function createCohortNormSet(
       throw new NormInputError(
         `No measure has first baselines from at least ${MIN_COHORT_N} consented workers at ${input.siteLabel} yet.`,
       );
-    const today = new Date().toISOString().slice(0, 10);
+    const today = todayIn(await organisationTimeZone(trx));
     const [r] = await trx("norm_sets")
       .insert({
         name: input.name,

@@ -1,18 +1,29 @@
+import { nowInstant } from "~/dates";
 import { db } from "~/db.server";
 
 export class DuplicateCodeError extends Error {}
 
-export async function createSite(v: { code: string; name: string }): Promise<number> {
+export async function createSite(v: { code: string; name: string; timeZone: string }): Promise<number> {
   return db().transaction(async (trx) => {
     if (await trx("sites").where({ code: v.code }).first("id"))
       throw new DuplicateCodeError(`Site code ${v.code} is already used.`);
     const org = await trx("organisations").first("id");
     if (!org) throw new Error("No organisation is set up.");
     const [r] = await trx("sites")
-      .insert({ organisation_id: org.id, code: v.code, name: v.name, created_at: new Date().toISOString() })
+      .insert({ organisation_id: org.id, code: v.code, name: v.name, time_zone: v.timeZone, created_at: nowInstant() })
       .returning("id");
     return r.id as number;
   });
+}
+
+/** Sets a site's time zone; false when there is no such site. */
+export async function setSiteTimeZone(siteId: number, timeZone: string): Promise<boolean> {
+  return Number(await db()("sites").where({ id: siteId }).update({ time_zone: timeZone })) === 1;
+}
+
+/** Sets the organisation's default zone (for new sites; existing sites keep theirs). */
+export async function setOrganisationTimeZone(timeZone: string): Promise<void> {
+  await db()("organisations").update({ time_zone: timeZone });
 }
 
 export async function createDepartment(v: { siteId: number; code: string; name: string }): Promise<number> {
@@ -22,7 +33,7 @@ export async function createDepartment(v: { siteId: number; code: string; name: 
     if (await trx("departments").where({ site_id: v.siteId, code: v.code }).first("id"))
       throw new DuplicateCodeError(`Department code ${v.code} is already used at this site.`);
     const [r] = await trx("departments")
-      .insert({ site_id: v.siteId, code: v.code, name: v.name, created_at: new Date().toISOString() })
+      .insert({ site_id: v.siteId, code: v.code, name: v.name, created_at: nowInstant() })
       .returning("id");
     return r.id as number;
   });

@@ -10,12 +10,15 @@ export interface Page<T> {
   dir: "asc" | "desc";
 }
 
-// Applies a whitelisted sort, then counts and pages in SQL. `sortable` maps public column ids to SQL columns.
+// Applies a whitelisted sort, then counts and pages in SQL. `sortable` maps public column ids to SQL columns;
+// `tieBreaker` is a unique column of the listed table (its id), sorted after the chosen column so that rows with
+// equal sort values keep one order on every engine and no row repeats or goes missing between pages.
 export async function paged<T>(
   query: Knex.QueryBuilder,
   q: TableQuery,
   sortable: Record<string, string>,
   defaultSort: string,
+  tieBreaker: string,
   map: (row: Record<string, unknown>) => T,
 ): Promise<Page<T>> {
   const sort = q.sort && sortable[q.sort] ? q.sort : defaultSort;
@@ -25,7 +28,10 @@ export async function paged<T>(
   const page = Math.min(q.page, lastPage);
   const rows = await query
     .clone()
-    .orderBy(sortable[sort], q.dir)
+    .orderBy([
+      { column: sortable[sort], order: q.dir },
+      { column: tieBreaker, order: q.dir },
+    ])
     .limit(q.size)
     .offset((page - 1) * q.size);
   return { rows: rows.map(map), total, page, size: q.size, sort, dir: q.dir };

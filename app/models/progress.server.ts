@@ -115,7 +115,7 @@ export async function logSessionResult(input: LogSessionInput, k?: Db): Promise<
           worker_id: input.workerId,
           device_type_id: input.deviceTypeId,
           trainer_id: input.trainerId ?? null,
-          scheduled_start: at,
+          scheduled_start: at.slice(0, 19), // wall-clock, stored without zone
           created_at: at,
           ...values,
         })
@@ -282,8 +282,8 @@ export async function progressView(
       ? {
           status: course.status,
           cumulativeHours: Number(course.cumulative_hours),
-          startedOn: course.started_on ? String(course.started_on).slice(0, 10) : null,
-          proficientOn: course.proficient_on ? String(course.proficient_on).slice(0, 10) : null,
+          startedOn: course.started_on ? (course.started_on as string) : null,
+          proficientOn: course.proficient_on ? (course.proficient_on as string) : null,
           hoursToProficiency: course.hours_to_proficiency == null ? null : Number(course.hours_to_proficiency),
         }
       : null,

@@ -1,10 +1,12 @@
 import type { Principal } from "~/auth/guard.server";
 import { type PackedSession, packSessions, type UnplacedHours } from "~/compute/session-packing";
+import { DEFAULT_TIME_ZONE, dayOf, hhmmOfWallClock, nowInstant, wallClock, wallClockAt } from "~/dates";
 import { db } from "~/db.server";
 import { sendMail } from "~/mail.server";
 import type { RunDetail } from "./allocation-runs.server";
 import { getRun } from "./allocation-runs.server";
 import { type CalendarSession, icsFile } from "./calendar.server";
+import { workerTimeZones } from "./sites.server";
 
 // Publishing a plan: a coordinator's decision. The run's weekly hours become dated sessions
 // (app/compute/session-packing.ts); every scheduled session of the previously published plan is replaced in
@@ -74,8 +76,6 @@ interface OldSession {
   scheduled_end: string;
 }
 
-const localStamp = (date: string, hhmm: string) => `${date}T${hhmm}:00`;
-
 export async function publishRun(
   principal: Principal,
   runId: number,
@@ -91,7 +91,7 @@ export async function publishRun(
   const trainers = new Map(snapshot.calendar.trainers.map((t) => [t.id, t]));
   const workers = new Map(snapshot.calendar.workers.map((w) => [w.id, w]));
   const userId = principal.kind === "user" ? principal.user.id : null;
-  const now = new Date().toISOString();
+  const now = nowInstant();
   await planState(); // makes sure the counter row exists
 
   const rows = sessions.map((s) => ({
@@ -100,8 +100,8 @@ export async function publishRun(
     trainer_id: trainers.get(s.trainerId)!.trainerId,
     device_unit_id: s.unitId,
     allocation_run_id: runId,
-    scheduled_start: localStamp(s.date, s.start),
-    scheduled_end: localStamp(s.date, s.end),
+    scheduled_start: wallClockAt(s.date, s.start),
+    scheduled_end: wallClockAt(s.date, s.end),
     status: "scheduled",
     created_at: now,
   }));
@@ -170,7 +170,7 @@ export async function publishRun(
   const oldWorker = new Map<number, string[]>();
   const oldTrainer = new Map<number, string[]>();
   for (const o of old) {
-    const key = `${String(o.scheduled_start)}|${String(o.scheduled_end)}|${o.device_type_id}|${o.device_unit_id}`;
+    const key = `${wallClock(o.scheduled_start)}|${wallClock(o.scheduled_end)}|${o.device_type_id}|${o.device_unit_id}`;
     (oldWorker.get(o.worker_id) ?? oldWorker.set(o.worker_id, []).get(o.worker_id)!).push(`${key}|${o.trainer_id}`);
     if (o.trainer_id != null)
       (oldTrainer.get(o.trainer_id) ?? oldTrainer.set(o.trainer_id, []).get(o.trainer_id)!).push(
@@ -198,6 +198,9 @@ export async function publishRun(
   const mails: (() => Promise<void>)[] = [];
 
   const workerIds = [...new Set([...oldWorker.keys(), ...newWorker.keys()])].sort((a, b) => a - b);
+  // Session times are wall-clock times of the worker's site; calendar files name that site's zone.
+  const zones = await workerTimeZones(workerIds);
+  const zoneOf = (workerDbId: number) => zones.get(workerDbId) ?? DEFAULT_TIME_ZONE;
   const missingWorkers = workerIds.filter((id) => !byWorkerDb.has(id));
   const extraWorkers = new Map<number, { name: string; email: string | null }>();
   if (missingWorkers.length) {
@@ -222,6 +225,7 @@ export async function publishRun(
         ? cancelledEvents(
             old.filter((o) => o.worker_id === id),
             `w${id}`,
+            zoneOf,
           )
         : null;
     mails.push(() =>
@@ -239,6 +243,7 @@ export async function publishRun(
             title: `Device training: ${devices.get(s.deviceId)!.name}`,
             description: `Trainer: ${trainers.get(s.trainerId)!.name}. Unit ${s.serial}. Wear-time limit ${devices.get(s.deviceId)!.wearTimeLimitMinutes} min per session. Check skin and fatigue before and after; stop at once on pain or numbness.`,
             location: `${devices.get(s.deviceId)!.site} training area`,
+            timeZone: zoneOf(id),
           })),
         run.id,
       ),
@@ -271,6 +276,7 @@ export async function publishRun(
         ? cancelledEvents(
             old.filter((o) => o.trainer_id === id),
             `t${id}`,
+            zoneOf,
             true,
           )
         : null;
@@ -300,6 +306,7 @@ export async function publishRun(
               title: `Training session: ${devices.get(s.deviceId)!.name} (${group.length} trainee${group.length > 1 ? "s" : ""})`,
               description: `Trainees: ${group.map((g) => `${workers.get(g.workerId)!.name} (unit ${g.serial}, until ${g.end})`).join("; ")}. Keep to the wear-time limit; check skin and fatigue; stop on pain or numbness.`,
               location: `${devices.get(s.deviceId)!.site} training area`,
+              timeZone: zoneOf(workers.get(s.workerId)!.workerId),
             };
           }),
         run.id,
@@ -324,13 +331,18 @@ export async function publishRun(
 }
 
 /** Cancellation events for sessions of the previous plan, with the same UIDs they were sent with. */
-function cancelledEvents(old: OldSession[], who: string, grouped = false): CalendarSession[] {
+function cancelledEvents(
+  old: OldSession[],
+  who: string,
+  zoneOf: (workerId: number) => string,
+  grouped = false,
+): CalendarSession[] {
   const seen = new Set<string>();
   const out: CalendarSession[] = [];
   for (const o of old) {
-    const [date, time] = String(o.scheduled_start).split("T");
-    const start = time.slice(0, 5);
-    const end = String(o.scheduled_end).split("T")[1].slice(0, 5);
+    const date = dayOf(wallClock(o.scheduled_start));
+    const start = hhmmOfWallClock(wallClock(o.scheduled_start));
+    const end = hhmmOfWallClock(wallClock(o.scheduled_end));
     const uid = `${who}-${date}-${start.replace(":", "")}-${o.device_type_id}@limberly`;
     if (grouped && seen.has(uid)) continue;
     seen.add(uid);
@@ -342,6 +354,7 @@ function cancelledEvents(old: OldSession[], who: string, grouped = false): Calen
       title: "Device training (cancelled)",
       description: "This session is no longer in the published plan.",
       location: "",
+      timeZone: zoneOf(o.worker_id),
     });
   }
   return out;

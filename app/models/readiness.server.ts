@@ -230,9 +230,8 @@ async function plannedCounts(g: Groups): Promise<{ weeks: string[]; counts: numb
     .groupBy("ts.worker_id", "ts.device_type_id");
   // Only sessions of published runs count.
   lastSession.whereIn("ts.allocation_run_id", k("allocation_runs").select("id").whereNotNull("published_at"));
-  const day = isSqlite(k)
-    ? "case when typeof(p.last) in ('integer', 'real') then date(p.last / 1000, 'unixepoch') else substr(p.last, 1, 10) end"
-    : "to_char(p.last, 'YYYY-MM-DD')";
+  // Session times are zone-less wall-clock times on both engines (text on SQLite, timestamp on PostgreSQL).
+  const day = isSqlite(k) ? "substr(p.last, 1, 10)" : "to_char(p.last, 'YYYY-MM-DD')";
   const rows = (await k
     .from(lastSession.as("p"))
     .join("workers", "workers.id", "p.worker_id")

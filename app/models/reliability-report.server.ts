@@ -67,7 +67,7 @@ export async function reliabilityByMeasure(k: Db = db()): Promise<MeasureReliabi
     const key = `${r.measure_id}:${r.worker_id}`;
     const list = series.get(key) ?? [];
     if (list.length < 2)
-      list.push({ value: r.value, day: Date.parse(`${String(r.assessed_on).slice(0, 10)}T00:00:00Z`) / 86_400_000 });
+      list.push({ value: r.value, day: Date.parse(`${r.assessed_on as string}T00:00:00Z`) / 86_400_000 });
     series.set(key, list);
   }
   const pairsByMeasure = new Map<number, [number, number][]>();

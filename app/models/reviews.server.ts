@@ -166,7 +166,7 @@ export async function answerReview(
       text: [
         `Hello ${done.r.given_name},`,
         "",
-        `${p.user.displayName} has answered your request of ${String(done.r.created_at).slice(0, 10)} about ${REVIEW_SUBJECT_LABELS[done.r.subject as "forecast" | "plan"].toLowerCase()}:`,
+        `${p.user.displayName} has answered your request of ${(done.r.created_at as string).slice(0, 10)} about ${REVIEW_SUBJECT_LABELS[done.r.subject as "forecast" | "plan"].toLowerCase()}:`,
         "",
         answer,
         "",

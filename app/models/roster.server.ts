@@ -5,6 +5,7 @@ import ExcelJS from "exceljs";
 import type { Knex } from "knex";
 import type { Principal } from "~/auth/guard.server";
 import type { Scope } from "~/auth/scope";
+import { dateIn } from "~/dates";
 import { type Db, db } from "~/db.server";
 import {
   guessMapping,
@@ -34,7 +35,8 @@ export interface RosterTable {
 
 function cellText(v: ExcelJS.CellValue): string {
   if (v == null) return "";
-  if (v instanceof Date) return v.toISOString().slice(0, 10);
+  // Spreadsheet date cells come back as Dates at UTC midnight of the day typed.
+  if (v instanceof Date) return dateIn(v, "UTC");
   if (typeof v === "object") {
     if ("richText" in v) return v.richText.map((t) => t.text).join("");
     if ("text" in v) return String((v as { text: unknown }).text ?? "");
@@ -429,6 +431,7 @@ export function listWorkers(scope: Scope, q: TableQuery, filters: { site?: strin
       lastBaseline: "last_on",
     },
     "employeeNumber",
+    "workers.id",
     (r): WorkerListRow => ({
       id: r.id as number,
       employeeNumber: r.employee_number as string,
@@ -436,7 +439,7 @@ export function listWorkers(scope: Scope, q: TableQuery, filters: { site?: strin
       site: r.site as string,
       department: r.department as string,
       stage: r.stage as string,
-      lastBaseline: r.last_on ? String(r.last_on).slice(0, 10) : null,
+      lastBaseline: r.last_on ? (r.last_on as string) : null,
       consent: null,
     }),
   ).then(async (page) => {

@@ -1,4 +1,5 @@
 import type { Scope } from "~/auth/scope";
+import { dayOf, hhmmOfWallClock, wallClock } from "~/dates";
 import { db } from "~/db.server";
 import { whereWorkerInScope } from "./workers.server";
 
@@ -14,6 +15,8 @@ export interface ScheduleRow {
   worker: string;
   department: string;
   site: string;
+  /** The site's IANA zone: date, start and end are its wall-clock times. */
+  timeZone: string;
   deviceType: string;
   unit: string | null;
   trainer: string | null;
@@ -41,26 +44,33 @@ export async function publishedSchedule(scope: Scope, limit = 20_000): Promise<S
       "workers.given_name",
       "workers.family_name",
       "site.name as site",
+      "site.time_zone",
       "d.name as department",
       "t.name as device",
       "u.serial",
       "tu.display_name as trainer",
     )
-    .orderBy([{ column: "s.scheduled_start" }, { column: "tu.display_name" }, { column: "workers.employee_number" }])
+    .orderBy([
+      { column: "s.scheduled_start" },
+      { column: "tu.display_name" },
+      { column: "workers.employee_number" },
+      { column: "s.id" },
+    ])
     .limit(limit);
   whereWorkerInScope(q, scope);
   return (await q).map((r) => {
-    const [date, st] = String(r.scheduled_start).split("T");
+    const start = wallClock(r.scheduled_start);
     return {
       id: r.id,
       workerId: r.worker_id,
-      date,
-      start: (st ?? "").slice(0, 5),
-      end: (String(r.scheduled_end).split("T")[1] ?? "").slice(0, 5),
+      date: dayOf(start),
+      start: hhmmOfWallClock(start),
+      end: hhmmOfWallClock(wallClock(r.scheduled_end)),
       employeeNumber: r.employee_number,
       worker: `${r.given_name} ${r.family_name}`,
       department: r.department,
       site: r.site,
+      timeZone: r.time_zone,
       deviceType: r.device,
       unit: r.serial ?? null,
       trainer: r.trainer ?? null,

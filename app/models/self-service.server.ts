@@ -1,8 +1,8 @@
 import type { Principal } from "~/auth/guard.server";
 import { appUrl } from "~/config.server";
+import { type Instant, instantToWallClock, todayIn, wallClock } from "~/dates";
 import { type Db, db } from "~/db.server";
 import { sendMail } from "~/mail.server";
-import { wallClockIso } from "~/schemas/portal";
 import { roleEmailsCovering } from "./adverse-events.server";
 import {
   ConsentInputError,
@@ -14,6 +14,7 @@ import {
 } from "./consent.server";
 import { refreshForecastsForWorker } from "./forecast.server";
 import { type ProgressView, progressView } from "./progress.server";
+import { workerTimeZone } from "./sites.server";
 import { type WithdrawalResult, withdrawConsent } from "./withdrawal.server";
 
 // The worker's own portal. Every function takes the worker id that the route read from the
@@ -55,8 +56,10 @@ export async function ownWorker(workerId: number, k: Db = db()) {
 
 export interface MySession {
   id: number;
+  /** Wall-clock times of the worker's site ("2026-12-07T09:00:00"), in `timeZone`. */
   start: string;
   end: string | null;
+  timeZone: string;
   deviceType: string;
   deviceTypeId: number;
   unit: string | null;
@@ -65,12 +68,13 @@ export interface MySession {
   status: string;
 }
 
-/** My sessions from `from` on (scheduled ones; cancelled ones are left out). */
+/** My sessions from the instant `from` (default now) on the site's clock (scheduled ones; cancelled ones are left out). */
 export async function mySessions(
   workerId: number,
-  opts: { from?: string; limit?: number; includePast?: boolean } = {},
+  opts: { from?: Instant | Date; limit?: number; includePast?: boolean } = {},
   k: Db = db(),
 ): Promise<MySession[]> {
+  const timeZone = await workerTimeZone(workerId, k);
   const q = k("training_sessions as ts")
     .join("device_types as d", "d.id", "ts.device_type_id")
     .leftJoin("device_units as u", "u.id", "ts.device_unit_id")
@@ -97,13 +101,18 @@ export async function mySessions(
     )
     .orderBy("ts.scheduled_start");
   if (!opts.includePast)
-    q.where("ts.status", "scheduled").where("ts.scheduled_start", ">=", opts.from ?? new Date().toISOString());
+    q.where("ts.status", "scheduled").where(
+      "ts.scheduled_start",
+      ">=",
+      instantToWallClock(opts.from ?? new Date(), timeZone),
+    );
   else q.whereNot("ts.status", "cancelled");
   if (opts.limit) q.limit(opts.limit);
   return (await q).map((r) => ({
     id: r.id,
-    start: wallClockIso(r.scheduled_start),
-    end: r.scheduled_end ? wallClockIso(r.scheduled_end) : null,
+    start: wallClock(r.scheduled_start),
+    end: r.scheduled_end ? wallClock(r.scheduled_end) : null,
+    timeZone,
     deviceType: r.device_name,
     deviceTypeId: r.device_type_id,
     unit: r.serial ?? null,
@@ -167,7 +176,7 @@ export async function myForecasts(workerId: number, k: Db = db()): Promise<MyFor
 export async function workerHome(p: Principal, workerId: number, now = new Date()) {
   const me = await ownWorker(workerId);
   if (!me) return null;
-  const next = await mySessions(workerId, { from: now.toISOString(), limit: 8 });
+  const next = await mySessions(workerId, { from: now, limit: 8 });
   const attended = await db()("training_sessions")
     .where({ worker_id: workerId, status: "attended" })
     .count<{ n: number }[]>({ n: "*" });
@@ -263,7 +272,7 @@ export async function notifyCoordinatorsOfWithdrawal(
     to,
     subject: `Consent withdrawn: ${w.employee_number} leaves training plans`,
     text: [
-      `${w.given_name} ${w.family_name} (${w.employee_number}, ${w.site}) withdrew ${purpose} consent in Limberly on ${new Date().toISOString().slice(0, 10)}.`,
+      `${w.given_name} ${w.family_name} (${w.employee_number}, ${w.site}) withdrew ${purpose} consent in Limberly on ${todayIn(await workerTimeZone(workerId))}.`,
       "",
       `Their forecasts are erased and they are no longer in any plan. ${cancelled} future scheduled session${cancelled === 1 ? " was" : "s were"} cancelled; the device and trainer time is free again.`,
       "Do not plan this worker until they give consent again.",

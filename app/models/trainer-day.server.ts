@@ -1,5 +1,13 @@
+import {
+  dayAndWeekIn,
+  hoursBetween,
+  type Instant,
+  nowInstant,
+  wallClock,
+  wallClockExists,
+  wallClockToInstant,
+} from "~/dates";
 import { type Db, db, type Row } from "~/db.server";
-import { wallClockIso } from "~/schemas/portal";
 import type { TrainerLogInput } from "~/schemas/session-log";
 import { adverseEventsFrom } from "~/schemas/session-log";
 import { eventsForSessions, notifyAssessorsOfSevereEvents, recordAdverseEvents } from "./adverse-events.server";
@@ -14,6 +22,8 @@ export interface TrainerRef {
   id: number;
   siteId: number;
   site: string;
+  /** The site's IANA zone: session times are its wall-clock times. */
+  timeZone: string;
   name: string;
 }
 
@@ -22,8 +32,8 @@ export async function trainerForUser(userId: number, k: Db = db()): Promise<Trai
     .join("sites as s", "s.id", "t.site_id")
     .join("users as u", "u.id", "t.user_id")
     .where("t.user_id", userId)
-    .first("t.id", "t.site_id", "s.name as site", "u.display_name");
-  return t ? { id: t.id, siteId: t.site_id, site: t.site, name: t.display_name } : null;
+    .first("t.id", "t.site_id", "s.name as site", "s.time_zone", "u.display_name");
+  return t ? { id: t.id, siteId: t.site_id, site: t.site, timeZone: t.time_zone, name: t.display_name } : null;
 }
 
 export interface ScheduledSession {
@@ -92,8 +102,8 @@ function toSession(r: Row): ScheduledSession {
     deviceCode: r.device_code,
     unit: r.serial ?? null,
     place: r.unit_site ?? r.trainer_site,
-    start: r.scheduled_start ? wallClockIso(r.scheduled_start) : null,
-    end: r.scheduled_end ? wallClockIso(r.scheduled_end) : null,
+    start: r.scheduled_start ? wallClock(r.scheduled_start) : null,
+    end: r.scheduled_end ? wallClock(r.scheduled_end) : null,
     status: r.status,
     taskScore: r.task_score == null ? null : Number(r.task_score),
     durationHours: r.duration_hours == null ? null : Number(r.duration_hours),
@@ -103,32 +113,22 @@ function toSession(r: Row): ScheduledSession {
   };
 }
 
-/** UTC day and Monday-to-Sunday week around `now`. */
-export function dayAndWeek(now: Date) {
-  const day = new Date(Date.UTC(now.getUTCFullYear(), now.getUTCMonth(), now.getUTCDate()));
-  const monday = new Date(day);
-  monday.setUTCDate(day.getUTCDate() - ((day.getUTCDay() + 6) % 7));
-  const next = (d: Date, n: number) => {
-    const x = new Date(d);
-    x.setUTCDate(d.getUTCDate() + n);
-    return x;
-  };
-  return {
-    dayStart: day.toISOString(),
-    dayEnd: next(day, 1).toISOString(),
-    weekStart: monday.toISOString(),
-    weekEnd: next(monday, 7).toISOString(),
-  };
-}
-
 /** The schedule view leaves out results (scores, practice time): those are read, and logged, on the session page. */
 function scheduleOnly(r: Row): ScheduledSession {
   return { ...toSession(r), taskScore: null, durationHours: null };
 }
 
-/** The trainer's sessions for today and this week, and earlier scheduled sessions still waiting to be logged. */
-export async function trainerDay(trainerId: number, now = new Date(), k: Db = db()) {
-  const w = dayAndWeek(now);
+/**
+ * The trainer's sessions for today and this week (Monday to Sunday) on the clock of the trainer's site, and
+ * earlier scheduled sessions still waiting to be logged.
+ */
+export async function trainerDay(trainerId: number, now: Instant | Date = new Date(), k: Db = db()) {
+  const site = await k("trainers as t")
+    .join("sites as s", "s.id", "t.site_id")
+    .where("t.id", trainerId)
+    .first("s.time_zone");
+  const timeZone: string = site.time_zone;
+  const w = { ...dayAndWeekIn(timeZone, now), timeZone };
   const week = (
     await sessionQuery(k, trainerId)
       .where("ts.scheduled_start", ">=", w.weekStart)
@@ -173,7 +173,7 @@ export async function markNoShow(trainerId: number, sessionId: number, userId: n
       throw new TrainerDayError(`This session is already recorded as ${s.status.replace("_", "-")}.`);
     await trx("training_sessions")
       .where({ id: s.id })
-      .update({ status: "no_show", logged_by: userId, logged_at: new Date().toISOString() });
+      .update({ status: "no_show", logged_by: userId, logged_at: nowInstant() });
   });
 }
 
@@ -198,8 +198,19 @@ export async function logTrainerSession(input: {
   form: TrainerLogInput;
 }): Promise<TrainerLogResult> {
   const events = adverseEventsFrom(input.form);
-  const at = input.form.start.toISOString();
-  const durationHours = Math.round(((input.form.end.getTime() - input.form.start.getTime()) / 3_600_000) * 1000) / 1000;
+  const zone = input.trainer.timeZone;
+  for (const [field, w] of [
+    ["start", input.form.start],
+    ["end", input.form.end],
+  ] as const)
+    if (!wallClockExists(w, zone))
+      throw new TrainerDayError(
+        `${field === "start" ? "Start" : "End"}: ${w.slice(11, 16)} does not exist on ${w.slice(0, 10)} in ${zone} (the clocks go forward then).`,
+        field,
+      );
+  // The wall-clock times are the site's; the log records the instant and the time elapsed (DST-aware).
+  const at = wallClockToInstant(input.form.start, zone);
+  const durationHours = Math.round(hoursBetween(input.form.start, input.form.end, zone) * 1000) / 1000;
   const done = await db().transaction(async (trx) => {
     const s = await trx("training_sessions")
       .where({ id: input.sessionId, trainer_id: input.trainer.id })

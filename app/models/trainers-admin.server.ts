@@ -1,5 +1,6 @@
 import type { Principal } from "~/auth/guard.server";
 import type { Scope } from "~/auth/scope";
+import { dayOf, hhmmOfWallClock, todayIn, wallClock } from "~/dates";
 import { db } from "~/db.server";
 import type { TableQuery } from "~/schemas/table-query";
 import { paged } from "./paging.server";
@@ -61,8 +62,8 @@ export async function trainerList(scope: Scope) {
       .filter((l) => l.trainer_id === r.id)
       .map((l) => ({
         id: l.id as number,
-        startsOn: String(l.starts_on).slice(0, 10),
-        endsOn: String(l.ends_on).slice(0, 10),
+        startsOn: l.starts_on as string,
+        endsOn: l.ends_on as string,
         reason: (l.reason as string) ?? "",
       })),
   }));
@@ -94,12 +95,15 @@ export async function updateTrainer(
     if (drop.length)
       await trx("trainer_certifications").where({ trainer_id: trainerId }).whereIn("device_type_id", drop).del();
     const add = known.filter((d) => !had.includes(d));
+    const zone = (
+      await trx("trainers as t").join("sites as s", "s.id", "t.site_id").where("t.id", trainerId).first("s.time_zone")
+    ).time_zone as string;
     if (add.length)
       await trx("trainer_certifications").insert(
         add.map((d) => ({
           trainer_id: trainerId,
           device_type_id: d,
-          certified_on: new Date().toISOString().slice(0, 10),
+          certified_on: todayIn(zone),
         })),
       );
   });
@@ -205,6 +209,7 @@ export function traineeTable(scope: Scope, q: TableQuery) {
       stage: "workers.stage",
     },
     "worker",
+    "workers.id",
     (r): TraineeRow => ({
       workerId: r.id as number,
       employeeNumber: r.employee_number as string,
@@ -254,7 +259,7 @@ export async function traineeDetail(scope: Scope, workerId: number) {
     .whereNotNull("s.allocation_run_id")
     .where("s.status", "scheduled")
     .select("s.scheduled_start", "s.scheduled_end", "t.name as device", "u.serial", "tu.display_name as trainer")
-    .orderBy("s.scheduled_start");
+    .orderBy(["s.scheduled_start", "s.id"]);
   return {
     workerId: w.id as number,
     employeeNumber: w.employee_number as string,
@@ -267,13 +272,14 @@ export async function traineeDetail(scope: Scope, workerId: number) {
     priorityReason: (f?.priority_reason as string) ?? null,
     leave: leave.map((l) => ({
       id: l.id as number,
-      startsOn: String(l.starts_on).slice(0, 10),
-      endsOn: String(l.ends_on).slice(0, 10),
+      startsOn: l.starts_on as string,
+      endsOn: l.ends_on as string,
       reason: (l.reason as string) ?? "",
     })),
     sessions: sessions.map((s) => ({
-      start: String(s.scheduled_start).replace("T", " ").slice(0, 16),
-      end: String(s.scheduled_end).split("T")[1]?.slice(0, 5) ?? "",
+      // Wall-clock times of the worker's site.
+      start: `${dayOf(wallClock(s.scheduled_start))} ${hhmmOfWallClock(wallClock(s.scheduled_start))}`,
+      end: s.scheduled_end ? hhmmOfWallClock(wallClock(s.scheduled_end)) : "",
       device: s.device as string,
       unit: (s.serial as string) ?? null,
       trainer: (s.trainer as string) ?? null,

@@ -3,6 +3,7 @@ import { type Db, db } from "~/db.server";
 import type { ConsentPurpose } from "~/domain/consent-purposes";
 import { ConsentInputError, latestConsentRecord, replaceWithWithdrawal, setStage } from "./consent.server";
 import { eraseForecasts } from "./forecast.server";
+import { workerWallClockAt } from "./sites.server";
 
 // Withdrawal of consent is the ONE place where a worker's identifiable data are erased
 // (docs/consent-and-disclosure.md). Each step deletes rows (never flags them) inside the withdrawal's
@@ -30,7 +31,8 @@ export async function erasePlanEntries(
   const n = Number(
     await trx("training_sessions")
       .where({ worker_id: workerId, status: "scheduled" })
-      .where("scheduled_start", ">=", at)
+      // Session times are wall-clock times of the worker's site: "from now" on that clock.
+      .where("scheduled_start", ">=", await workerWallClockAt(workerId, now, trx))
       .update({
         status: "cancelled",
         notes: "Cancelled: the worker withdrew consent.",

@@ -1,9 +1,11 @@
+import { addMinutesToWallClock, dayOf, hhmmOfWallClock, wallClock } from "~/dates";
 import { db } from "~/db.server";
 import type { SheetSpec } from "~/xlsx.server";
 import { accessLogForWorker } from "./access-log.server";
 import { type CalendarSession, icsFile } from "./calendar.server";
 import { consentRecordsForExport } from "./consent.server";
 import { mySessions } from "./self-service.server";
+import { workerTimeZone } from "./sites.server";
 
 // "Download everything held about me" (docs/consent-and-disclosure.md): every row about one worker, by the worker id from
 // the session. Each query below is filtered by that id; nothing here reads another worker's rows.
@@ -12,6 +14,7 @@ const iso = (v: unknown) => (v == null ? null : String(v));
 
 export async function everythingAbout(workerId: number) {
   const k = db();
+  const timeZone = await workerTimeZone(workerId, k);
   const w = await k("workers as w")
     .join("sites as s", "s.id", "w.site_id")
     .join("departments as d", "d.id", "w.department_id")
@@ -169,7 +172,7 @@ export async function everythingAbout(workerId: number) {
       recordedBy: c.recorded_by ?? null,
     })),
     assessments: assessments.map((a) => ({
-      assessedOn: String(a.assessed_on).slice(0, 10),
+      assessedOn: a.assessed_on as string,
       assessor: a.assessor ?? null,
       notes: a.notes ?? null,
       results: results
@@ -216,7 +219,7 @@ export async function everythingAbout(workerId: number) {
       forecastLowerHours: Number(o.forecast_lower_hours),
       forecastUpperHours: Number(o.forecast_upper_hours),
       actualHours: Number(o.actual_hours),
-      reachedOn: String(o.reached_on).slice(0, 10),
+      reachedOn: o.reached_on as string,
     })),
     courses: courses.map((c) => ({
       deviceType: c.device_type,
@@ -231,8 +234,10 @@ export async function everythingAbout(workerId: number) {
       deviceType: s.device_type,
       unit: s.unit ?? null,
       trainer: s.trainer ?? null,
-      scheduledStart: iso(s.scheduled_start),
-      scheduledEnd: iso(s.scheduled_end),
+      // Wall-clock times of the worker's site, in timeZone.
+      scheduledStart: s.scheduled_start == null ? null : wallClock(s.scheduled_start),
+      scheduledEnd: s.scheduled_end == null ? null : wallClock(s.scheduled_end),
+      timeZone,
       status: s.status,
       durationHours: s.duration_hours == null ? null : Number(s.duration_hours),
       taskScore: s.task_score == null ? null : Number(s.task_score),
@@ -312,13 +317,13 @@ export function exportSheets(d: EverythingAbout): SheetSpec[] {
  * icsFile (calendar.server.ts) with the same UIDs as its publish e-mails, so a calendar keeps one event each.
  */
 export async function myCalendar(workerId: number, now = new Date()): Promise<string> {
-  const sessions = await mySessions(workerId, { from: new Date(now.getTime() - 7 * 86_400_000).toISOString() });
-  const hhmm = (iso: string) => iso.slice(11, 16);
+  const sessions = await mySessions(workerId, { from: new Date(now.getTime() - 7 * 86_400_000) });
   const events: CalendarSession[] = sessions.map((s) => ({
-    uid: `w${workerId}-${s.start.slice(0, 10)}-${hhmm(s.start).replace(":", "")}-${s.deviceTypeId}@limberly`,
-    date: s.start.slice(0, 10),
-    start: hhmm(s.start),
-    end: hhmm(s.end ?? new Date(new Date(s.start).getTime() + 3_600_000).toISOString()),
+    uid: `w${workerId}-${dayOf(s.start)}-${hhmmOfWallClock(s.start).replace(":", "")}-${s.deviceTypeId}@limberly`,
+    date: dayOf(s.start),
+    start: hhmmOfWallClock(s.start),
+    end: hhmmOfWallClock(s.end ?? addMinutesToWallClock(s.start, 60)),
+    timeZone: s.timeZone,
     title: `Device training: ${s.deviceType}`,
     description: [
       `Device: ${s.deviceType}${s.unit ? ` (unit ${s.unit})` : ""}.`,

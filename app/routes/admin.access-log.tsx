@@ -2,7 +2,9 @@ import type { ColumnDef } from "@tanstack/react-table";
 import { Form } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { ServerTable } from "~/components/server-table";
+import { formatInstant } from "~/dates";
 import { type AccessLogRow, listAccessLog } from "~/models/access-log.server";
+import { viewerTimeZone } from "~/models/sites.server";
 import { accessLogFilterSchema } from "~/schemas/admin";
 import { readTableQuery } from "~/schemas/table-query";
 import type { Route } from "./+types/admin.access-log";
@@ -10,7 +12,7 @@ import type { Route } from "./+types/admin.access-log";
 export const meta: Route.MetaFunction = () => [{ title: "Access log · Limberly" }];
 
 export async function loader({ request }: Route.LoaderArgs) {
-  await requireUser(request, "admin.accesslog");
+  const p = await requireUser(request, "admin.accesslog");
   const url = new URL(request.url);
   const q = readTableQuery(url, ["worker", "actor", "from", "to"]);
   const parsed = accessLogFilterSchema.safeParse(q.filters);
@@ -21,11 +23,12 @@ export async function loader({ request }: Route.LoaderArgs) {
     filters,
     filterError: parsed.success ? null : "A filter value was not understood and was ignored (dates as YYYY-MM-DD).",
     search: url.search,
+    timeZone: await viewerTimeZone(p),
   };
 }
 
-const columns: ColumnDef<AccessLogRow, unknown>[] = [
-  { id: "at", header: "When (UTC)", cell: ({ row }) => row.original.at.slice(0, 19).replace("T", " ") },
+const columnsIn = (zone: string): ColumnDef<AccessLogRow, unknown>[] => [
+  { id: "at", header: `When (${zone})`, cell: ({ row }) => formatInstant(row.original.at, zone) },
   { id: "actor", header: "Who", cell: ({ row }) => row.original.actor },
   { id: "role", header: "Role", cell: ({ row }) => row.original.actorRole ?? "—" },
   { id: "worker", header: "Worker", cell: ({ row }) => row.original.employeeNumber },
@@ -34,7 +37,8 @@ const columns: ColumnDef<AccessLogRow, unknown>[] = [
 ];
 
 export default function AdminAccessLog({ loaderData }: Route.ComponentProps) {
-  const { page, filters, filterError, search } = loaderData;
+  const { page, filters, filterError, search, timeZone } = loaderData;
+  const columns = columnsIn(timeZone);
   const f = filters as Record<string, string | undefined>;
   return (
     <div className="grid gap-6">

@@ -110,12 +110,12 @@ export default function AdminApiKeys({ loaderData }: Route.ComponentProps) {
                 <td>{ROLE_LABELS[k.role as keyof typeof ROLE_LABELS]}</td>
                 <td>{k.sites}</td>
                 <td>
-                  {String(k.created_at).slice(0, 10)} by {k.created_by ?? "—"}
+                  {(k.created_at as string).slice(0, 10)} by {k.created_by ?? "—"}
                 </td>
                 <td>{k.last_used_at ? String(k.last_used_at).slice(0, 16).replace("T", " ") : "never"}</td>
                 <td>
                   {k.revoked_at ? (
-                    `Revoked ${String(k.revoked_at).slice(0, 10)}`
+                    `Revoked ${(k.revoked_at as string).slice(0, 10)}`
                   ) : (
                     <Form method="post">
                       <input type="hidden" name="intent" value="revoke" />

@@ -5,8 +5,9 @@ import { ROLE_LABELS, ROLES } from "~/auth/permissions";
 import { FormError, Notice, SelectField, TextField } from "~/components/fields";
 import { departmentOptions, siteOptions } from "~/components/scope-options";
 import { ServerTable } from "~/components/server-table";
+import { formatInstant } from "~/dates";
 import { createUser, DuplicateEmailError, listUsers, type UserListRow } from "~/models/admin-users.server";
-import { listDepartments, listSites } from "~/models/sites.server";
+import { listDepartments, listSites, viewerTimeZone } from "~/models/sites.server";
 import { createUserSchema } from "~/schemas/admin";
 import { formToObject, parseWith } from "~/schemas/form";
 import { readTableQuery } from "~/schemas/table-query";
@@ -15,10 +16,15 @@ import type { Route } from "./+types/admin.users";
 export const meta: Route.MetaFunction = () => [{ title: "Users and roles · Limberly" }];
 
 export async function loader({ request }: Route.LoaderArgs) {
-  await requireUser(request, "admin.users");
+  const p = await requireUser(request, "admin.users");
   const q = readTableQuery(new URL(request.url));
-  const [page, sites, departments] = await Promise.all([listUsers(q), listSites(), listDepartments()]);
-  return { page, q: q.q ?? "", sites, departments };
+  const [page, sites, departments, timeZone] = await Promise.all([
+    listUsers(q),
+    listSites(),
+    listDepartments(),
+    viewerTimeZone(p),
+  ]);
+  return { page, q: q.q ?? "", sites, departments, timeZone };
 }
 
 export async function action({ request }: Route.ActionArgs) {
@@ -34,7 +40,7 @@ export async function action({ request }: Route.ActionArgs) {
   }
 }
 
-const columns: ColumnDef<UserListRow, unknown>[] = [
+const columnsIn = (zone: string): ColumnDef<UserListRow, unknown>[] => [
   {
     id: "name",
     header: "Name",
@@ -50,12 +56,13 @@ const columns: ColumnDef<UserListRow, unknown>[] = [
   {
     id: "lastSignIn",
     header: "Last sign-in",
-    cell: ({ row }) => row.original.lastSignInAt?.slice(0, 16).replace("T", " ") ?? "never",
+    cell: ({ row }) => (row.original.lastSignInAt ? formatInstant(row.original.lastSignInAt, zone) : "never"),
   },
 ];
 
 export default function AdminUsers({ loaderData }: Route.ComponentProps) {
-  const { page, q, sites, departments } = loaderData;
+  const { page, q, sites, departments, timeZone } = loaderData;
+  const columns = columnsIn(timeZone);
   const result = useActionData<typeof action>();
   const busy = useNavigation().state === "submitting";
   const errors = (result?.errors ?? {}) as Record<string, string>;

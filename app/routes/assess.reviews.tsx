@@ -1,9 +1,11 @@
 import { data, Form, Link, useActionData, useNavigation } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { FormError, Notice, TextArea } from "~/components/fields";
+import { formatInstantDay } from "~/dates";
 import { answerReview, ReviewError, reviewQueue } from "~/models/reviews.server";
+import { viewerTimeZone } from "~/models/sites.server";
 import { formToObject, parseWith } from "~/schemas/form";
-import { formatDay, REVIEW_SUBJECT_LABELS, reviewAnswerSchema } from "~/schemas/portal";
+import { REVIEW_SUBJECT_LABELS, reviewAnswerSchema } from "~/schemas/portal";
 import type { Route } from "./+types/assess.reviews";
 
 export const meta: Route.MetaFunction = () => [{ title: "Review requests · Limberly" }];
@@ -13,7 +15,7 @@ export async function loader({ request }: Route.LoaderArgs) {
   const p = await requireUser(request, "reviews.answer");
   const url = new URL(request.url);
   const show = url.searchParams.get("show") === "answered" ? "answered" : "open";
-  return { show, requests: await reviewQueue(p, show) };
+  return { show, requests: await reviewQueue(p, show), timeZone: await viewerTimeZone(p) };
 }
 
 export async function action({ request }: Route.ActionArgs) {
@@ -39,7 +41,8 @@ export async function action({ request }: Route.ActionArgs) {
 }
 
 export default function ReviewQueue({ loaderData }: Route.ComponentProps) {
-  const { show, requests } = loaderData;
+  const { show, requests, timeZone } = loaderData;
+  const formatDay = (at: string) => formatInstantDay(at, timeZone);
   const result = useActionData<typeof action>();
   const busy = useNavigation().state === "submitting";
   return (

@@ -1,5 +1,7 @@
 import { requireUser } from "~/auth/guard.server";
+import { todayIn } from "~/dates";
 import { ROSTER_EXPORT_COLUMNS, rosterExportRows } from "~/models/roster.server";
+import { viewerTimeZone } from "~/models/sites.server";
 import { workbookBuffer, xlsxResponse } from "~/xlsx.server";
 import type { Route } from "./+types/assess.roster.export";
 
@@ -8,5 +10,5 @@ export async function loader({ request }: Route.LoaderArgs) {
   const p = await requireUser(request, "roster.import");
   const rows = await rosterExportRows(p.scope);
   const buf = await workbookBuffer([{ name: "Roster", columns: ROSTER_EXPORT_COLUMNS, rows }]);
-  return xlsxResponse(buf, `limberly-roster-${new Date().toISOString().slice(0, 10)}.xlsx`);
+  return xlsxResponse(buf, `limberly-roster-${todayIn(await viewerTimeZone(p))}.xlsx`);
 }

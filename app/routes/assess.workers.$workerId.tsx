@@ -4,6 +4,7 @@ import { can } from "~/auth/permissions";
 import { consentText, StageBadge } from "~/components/badges";
 import { FormError, Notice, SelectField, TextArea, TextField } from "~/components/fields";
 import { ProfileChart, type ProfilePoint } from "~/components/profile-chart";
+import { todayIn } from "~/dates";
 import { CONSENT_PURPOSES } from "~/domain/consent-purposes";
 import { recordAccess } from "~/models/access-log.server";
 import { AssessmentInputError, createSession, sessionsForWorker, workerForStaff } from "~/models/assessments.server";
@@ -18,6 +19,7 @@ import {
 } from "~/models/consent.server";
 import { listNormSets } from "~/models/norms.server";
 import { changesSincePrevious, reliabilityByMeasure } from "~/models/reliability-report.server";
+import { workerTimeZone } from "~/models/sites.server";
 import { withdrawConsent } from "~/models/withdrawal.server";
 import { sessionSchema } from "~/schemas/assessment";
 import { PURPOSE_LABELS, recordConsentSchema, withdrawConsentSchema } from "~/schemas/consent";
@@ -72,6 +74,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       };
     });
   return {
+    // The assessment form's default date: today on the worker's site clock.
+    today: todayIn(await workerTimeZone(worker.id)),
     worker,
     consent,
     history,
@@ -157,13 +161,25 @@ export async function action({ request, params }: Route.ActionArgs) {
 const fmt = (v: number) => (Math.abs(v) >= 100 ? v.toFixed(1) : v.toPrecision(3));
 
 export default function WorkerRecord({ loaderData }: Route.ComponentProps) {
-  const { worker, consent, history, points, latestOn, sessions, changes, witnesses, me, texts, canConsent, canWrite } =
-    loaderData;
+  const {
+    today,
+    worker,
+    consent,
+    history,
+    points,
+    latestOn,
+    sessions,
+    changes,
+    witnesses,
+    me,
+    texts,
+    canConsent,
+    canWrite,
+  } = loaderData;
   const r = useActionData<typeof action>();
   const busy = useNavigation().state === "submitting";
   const errors = (r && "errors" in r && r.errors ? r.errors : {}) as Record<string, string>;
   const assessmentGiven = consent.assessment.status === "given";
-  const today = new Date().toISOString().slice(0, 10);
   return (
     <div className="grid gap-6">
       <div>

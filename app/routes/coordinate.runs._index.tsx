@@ -3,10 +3,12 @@ import { requireUser } from "~/auth/guard.server";
 import { DeviceCautions } from "~/components/device-cautions";
 import { FormError, TextField } from "~/components/fields";
 import { addDays, isoWeekday } from "~/compute/plan-calendar";
+import { todayIn } from "~/dates";
 import { getRunStatus, listRuns, startRun } from "~/models/allocation-runs.server";
 import { planningChoices } from "~/models/fleet-admin.server";
 import { planningQuantile } from "~/models/forecast.server";
 import { planState } from "~/models/publish.server";
+import { viewerTimeZone } from "~/models/sites.server";
 import { runFormSchema } from "~/schemas/allocation";
 import { formToObject, parseWith } from "~/schemas/form";
 import type { Route } from "./+types/coordinate.runs._index";
@@ -29,7 +31,7 @@ export async function loader({ request }: Route.LoaderArgs) {
     planningQuantile(),
     planState(),
   ]);
-  return { runs, choices, quantile, base, defaultStart: nextMonday(new Date().toISOString().slice(0, 10)), plan };
+  return { runs, choices, quantile, base, defaultStart: nextMonday(todayIn(await viewerTimeZone(p))), plan };
 }
 
 export async function action({ request }: Route.ActionArgs) {

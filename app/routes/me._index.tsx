@@ -1,9 +1,9 @@
 import { data, Link } from "react-router";
 import { DeviceCautions } from "~/components/device-cautions";
 import { ProgressChart } from "~/components/progress-chart";
+import { formatDay, formatSpan } from "~/dates";
 import { STAGE_LABELS, type Stage } from "~/domain/stages";
 import { type MyForecast, workerHome } from "~/models/self-service.server";
-import { formatDay, formatSpan } from "~/schemas/portal";
 import type { Route } from "./+types/me._index";
 import { requireOwnWorker } from "./me.guard.server";
 
@@ -90,23 +90,26 @@ export default function MeHome({ loaderData }: Route.ComponentProps) {
             No sessions are planned for you at the moment.
           </p>
         ) : (
-          <ul className="mt-3 grid gap-3" data-testid="next-sessions">
-            {next.map((s) => (
-              <li key={s.id} className="rounded-md border border-line p-3">
-                <p className="font-semibold">
-                  {formatDay(s.start)} · {formatSpan(s.start, s.end)}
-                </p>
-                <p>
-                  {s.deviceType}
-                  {s.unit ? <span className="text-ink-soft"> · unit {s.unit}</span> : null}
-                </p>
-                <p className="text-sm text-ink-soft">
-                  Where: {s.place}
-                  {s.trainer ? ` · Trainer: ${s.trainer}` : ""}
-                </p>
-              </li>
-            ))}
-          </ul>
+          <>
+            <p className="mt-1 text-sm text-ink-soft">Times are {next[0].timeZone} time, the clock of your site.</p>
+            <ul className="mt-3 grid gap-3" data-testid="next-sessions">
+              {next.map((s) => (
+                <li key={s.id} className="rounded-md border border-line p-3">
+                  <p className="font-semibold">
+                    {formatDay(s.start)} · {formatSpan(s.start, s.end)}
+                  </p>
+                  <p>
+                    {s.deviceType}
+                    {s.unit ? <span className="text-ink-soft"> · unit {s.unit}</span> : null}
+                  </p>
+                  <p className="text-sm text-ink-soft">
+                    Where: {s.place}
+                    {s.trainer ? ` · Trainer: ${s.trainer}` : ""}
+                  </p>
+                </li>
+              ))}
+            </ul>
+          </>
         )}
       </section>
 

@@ -1,10 +1,12 @@
 import { data, Form, useActionData, useNavigation } from "react-router";
 import { FormError, Notice } from "~/components/fields";
+import { formatInstantDay } from "~/dates";
 import { CONSENT_PURPOSES, type ConsentPurpose } from "~/domain/consent-purposes";
 import { ConsentInputError, giveOwnConsent, myConsent, withdrawOwnConsent } from "~/models/self-service.server";
+import { workerTimeZone } from "~/models/sites.server";
 import { PURPOSE_LABELS } from "~/schemas/consent";
 import { formToObject, parseWith } from "~/schemas/form";
-import { formatDay, giveOwnConsentSchema, withdrawOwnConsentSchema } from "~/schemas/portal";
+import { giveOwnConsentSchema, withdrawOwnConsentSchema } from "~/schemas/portal";
 import type { Route } from "./+types/me.consent";
 import { requireOwnWorker } from "./me.guard.server";
 
@@ -20,7 +22,7 @@ const WHAT_GOES: Record<ConsentPurpose, string> = {
 
 export async function loader({ request }: Route.LoaderArgs) {
   const { workerId } = await requireOwnWorker(request, "self.read");
-  return myConsent(workerId);
+  return { ...(await myConsent(workerId)), timeZone: await workerTimeZone(workerId) };
 }
 
 export async function action({ request }: Route.ActionArgs) {
@@ -54,7 +56,8 @@ export async function action({ request }: Route.ActionArgs) {
 }
 
 export default function MyConsent({ loaderData }: Route.ComponentProps) {
-  const { texts, state, history } = loaderData;
+  const { texts, state, history, timeZone } = loaderData;
+  const formatDay = (at: string) => formatInstantDay(at, timeZone);
   const result = useActionData<typeof action>();
   const nav = useNavigation();
   const busy = nav.state === "submitting";

@@ -1,5 +1,6 @@
+import { formatInstant } from "~/dates";
 import { accessLogForWorker } from "~/models/access-log.server";
-import { formatDay, formatTime } from "~/schemas/portal";
+import { workerTimeZone } from "~/models/sites.server";
 import type { Route } from "./+types/me.record";
 import { requireOwnWorker } from "./me.guard.server";
 
@@ -18,11 +19,11 @@ const RESOURCE_WORDS: Record<string, string> = {
 
 export async function loader({ request }: Route.LoaderArgs) {
   const { workerId } = await requireOwnWorker(request, "self.read");
-  return { log: await accessLogForWorker(workerId) };
+  return { log: await accessLogForWorker(workerId), timeZone: await workerTimeZone(workerId) };
 }
 
 export default function MyRecord({ loaderData }: Route.ComponentProps) {
-  const { log } = loaderData;
+  const { log, timeZone } = loaderData;
   return (
     <div className="grid gap-6">
       <h1 className="page-title">My record and downloads</h1>
@@ -72,9 +73,7 @@ export default function MyRecord({ loaderData }: Route.ComponentProps) {
             {log.map((r, i) => (
               // biome-ignore lint/suspicious/noArrayIndexKey: a fixed page of the log per load, never reordered
               <tr key={i}>
-                <td>
-                  {formatDay(r.at)} {formatTime(r.at)}
-                </td>
+                <td>{formatInstant(r.at, timeZone)}</td>
                 <td>{r.who}</td>
                 <td>{r.role ?? ""}</td>
                 <td>

@@ -1,9 +1,11 @@
 import { data, Form, useActionData, useNavigation } from "react-router";
 import { FormError, Notice, SelectField, TextArea } from "~/components/fields";
+import { formatInstantDay } from "~/dates";
 import { createReviewRequest, myReviewRequests, ReviewError } from "~/models/reviews.server";
 import { myForecasts } from "~/models/self-service.server";
+import { workerTimeZone } from "~/models/sites.server";
 import { formToObject, parseWith } from "~/schemas/form";
-import { formatDay, REVIEW_SUBJECT_LABELS, REVIEW_SUBJECTS, reviewRequestSchema } from "~/schemas/portal";
+import { REVIEW_SUBJECT_LABELS, REVIEW_SUBJECTS, reviewRequestSchema } from "~/schemas/portal";
 import type { Route } from "./+types/me.review";
 import { requireOwnWorker } from "./me.guard.server";
 
@@ -12,7 +14,7 @@ export const meta: Route.MetaFunction = () => [{ title: "Ask for a review · Lim
 export async function loader({ request }: Route.LoaderArgs) {
   const { workerId } = await requireOwnWorker(request, "self.read");
   const devices = (await myForecasts(workerId)).map((f) => ({ id: f.deviceTypeId, name: f.deviceType }));
-  return { requests: await myReviewRequests(workerId), devices };
+  return { requests: await myReviewRequests(workerId), devices, timeZone: await workerTimeZone(workerId) };
 }
 
 export async function action({ request }: Route.ActionArgs) {
@@ -33,7 +35,8 @@ export async function action({ request }: Route.ActionArgs) {
 }
 
 export default function MyReview({ loaderData }: Route.ComponentProps) {
-  const { requests, devices } = loaderData;
+  const { requests, devices, timeZone } = loaderData;
+  const formatDay = (at: string) => formatInstantDay(at, timeZone);
   const result = useActionData<typeof action>();
   const busy = useNavigation().state === "submitting";
   const errors = (result?.errors ?? {}) as Record<string, string>;

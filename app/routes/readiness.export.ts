@@ -1,7 +1,9 @@
 import { requireUser } from "~/auth/guard.server";
 import type { ProtectedTable } from "~/compute/disclosure";
 import { HIDDEN_SYMBOL } from "~/compute/readiness-views";
+import { todayIn } from "~/dates";
 import { type MedianTable, type ReadinessBoard, readinessBoard } from "~/models/readiness.server";
+import { viewerTimeZone } from "~/models/sites.server";
 import { type SheetSpec, workbookBuffer, xlsxResponse } from "~/xlsx.server";
 import type { Route } from "./+types/readiness.export";
 
@@ -77,5 +79,5 @@ export async function loader({ request }: Route.LoaderArgs) {
   const p = await requireUser(request, "readiness.read");
   const board = await readinessBoard(p.scope);
   const buffer = await workbookBuffer(boardSheets(board));
-  return xlsxResponse(buffer, `limberly-readiness-${new Date().toISOString().slice(0, 10)}.xlsx`);
+  return xlsxResponse(buffer, `limberly-readiness-${todayIn(await viewerTimeZone(p))}.xlsx`);
 }

@@ -1,9 +1,9 @@
 import { Form, Link } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { DeviceCautions } from "~/components/device-cautions";
+import { formatDay, formatSpan } from "~/dates";
 import { trainerProfileForUser } from "~/models/fleet.server";
 import { type ScheduledSession, trainerDay, trainerForUser } from "~/models/trainer-day.server";
-import { formatDay, formatSpan } from "~/schemas/portal";
 import type { Route } from "./+types/train._index";
 
 export const meta: Route.MetaFunction = () => [{ title: "My training days · Limberly" }];
@@ -109,8 +109,9 @@ export default function TrainHome({ loaderData }: Route.ComponentProps) {
         <>
           <section aria-labelledby="today-h" className="grid gap-3">
             <h2 id="today-h" className="text-xl font-semibold">
-              Today · {formatDay(day.dayStart)}
+              Today · {formatDay(day.date)}
             </h2>
+            <p className="text-sm text-ink-soft">Times are {day.timeZone} time, the clock of your site.</p>
             {day.today.length === 0 ? (
               <p className="card text-ink-soft">No sessions today.</p>
             ) : (

@@ -2,6 +2,7 @@ import { data, Form, Link, redirect, useActionData, useNavigation } from "react-
 import { requireUser } from "~/auth/guard.server";
 import { DeviceCautions } from "~/components/device-cautions";
 import { FormError, Notice, TextArea, TextField } from "~/components/fields";
+import { addMinutesToWallClock, formatDay, formatSpan, toLocalInput, wallClockNow } from "~/dates";
 import { recordAccess } from "~/models/access-log.server";
 import {
   logTrainerSession,
@@ -12,7 +13,6 @@ import {
   trainerSession,
 } from "~/models/trainer-day.server";
 import { formToObject, parseWith } from "~/schemas/form";
-import { formatDay, formatSpan, toLocalInput } from "~/schemas/portal";
 import { ADVERSE_KINDS, ADVERSE_LABELS, attendanceSchema, SEVERITIES, trainerLogSchema } from "~/schemas/session-log";
 import type { Route } from "./+types/train.sessions.$sessionId";
 
@@ -34,9 +34,9 @@ async function load(request: Request, params: { sessionId?: string }, action: "s
 }
 
 export async function loader({ request, params }: Route.LoaderArgs) {
-  const { p, session } = await load(request, params, "sessions.own");
+  const { p, trainer, session } = await load(request, params, "sessions.own");
   await recordAccess(p, request, session.workerId, "sessions");
-  return { session };
+  return { session, timeZone: trainer.timeZone, now: wallClockNow(trainer.timeZone) };
 }
 
 export async function action({ request, params }: Route.ActionArgs) {
@@ -75,13 +75,13 @@ export async function action({ request, params }: Route.ActionArgs) {
 }
 
 export default function TrainerSession({ loaderData }: Route.ComponentProps) {
-  const { session: s } = loaderData;
+  const { session: s, timeZone, now } = loaderData;
   const result = useActionData<typeof action>();
   const busy = useNavigation().state === "submitting";
   const errors = (result?.errors ?? {}) as Record<string, string>;
   const open = s.status === "scheduled" && s.courseStatus !== "paused" && !result?.done;
-  const defaultStart = s.start ?? new Date().toISOString();
-  const defaultEnd = s.end ?? new Date(new Date(defaultStart).getTime() + 3_600_000).toISOString();
+  const defaultStart = s.start ?? now;
+  const defaultEnd = s.end ?? addMinutesToWallClock(defaultStart, 60);
   return (
     <div className="grid gap-6">
       <div>
@@ -96,7 +96,7 @@ export default function TrainerSession({ loaderData }: Route.ComponentProps) {
         <p className="text-ink-soft">
           {s.employeeNumber} · {s.start ? `${formatDay(s.start)} ${formatSpan(s.start, s.end)}` : "unscheduled"} ·{" "}
           {s.place}
-          {s.unit ? ` · unit ${s.unit}` : ""}
+          {s.unit ? ` · unit ${s.unit}` : ""} · {timeZone} time
         </p>
         <p className="text-sm">
           <Link to={`/progress/${s.workerId}/${s.deviceTypeId}`} className="text-spruce-700 underline">

@@ -1,5 +1,6 @@
 import { z } from "zod";
 import { ROLES } from "~/auth/permissions";
+import { isTimeZone } from "~/dates/calendar";
 import { CONSENT_PURPOSES } from "~/domain/consent-purposes";
 
 // Shared by the admin forms, their actions and any API that takes the same input.
@@ -38,6 +39,12 @@ export const updateUserSchema = z.object({
   active: z.preprocess((v) => v === "on" || v === "true" || v === true, z.boolean()),
 });
 
+/** An IANA time-zone name ("Europe/Berlin"), as the runtime's copy of the IANA tz database knows it. */
+export const timeZoneField = z
+  .string({ message: "Time zone: choose one from the list." })
+  .trim()
+  .refine(isTimeZone, "Time zone: choose a zone name from the list (IANA names such as Europe/London).");
+
 export const siteSchema = z.object({
   code: z
     .string()
@@ -45,7 +52,15 @@ export const siteSchema = z.object({
     .toUpperCase()
     .regex(/^[A-Z0-9-]{2,20}$/, "Code: 2–20 letters, digits or dashes."),
   name: z.string().trim().min(2, "Enter the site's name.").max(200),
+  timeZone: timeZoneField,
 });
+
+export const siteTimeZoneSchema = z.object({
+  siteId: z.coerce.number({ message: "Site: not found." }).int().positive("Site: not found."),
+  timeZone: timeZoneField,
+});
+
+export const organisationTimeZoneSchema = z.object({ timeZone: timeZoneField });
 
 export const departmentSchema = z.object({
   siteId: z.coerce.number({ message: "Choose a site." }).int().positive("Choose a site."),

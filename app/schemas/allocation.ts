@@ -1,4 +1,5 @@
 import { z } from "zod";
+import { isIsoDate, isoWeekday } from "~/dates/calendar";
 
 // Shared by the allocation forms, their actions and /api/v1/allocation-runs.
 
@@ -6,13 +7,10 @@ const isoDate = z
   .string()
   .trim()
   .regex(/^\d{4}-\d{2}-\d{2}$/, "Use a date like 2027-01-04.")
-  .refine(
-    (s) => !Number.isNaN(Date.parse(`${s}T00:00:00Z`)) && new Date(`${s}T00:00:00Z`).toISOString().slice(0, 10) === s,
-    "Not a real calendar date.",
-  );
+  .refine(isIsoDate, "Not a real calendar date.");
 
 export const mondayDate = isoDate.refine(
-  (s) => new Date(`${s}T00:00:00Z`).getUTCDay() === 1,
+  (s) => isIsoDate(s) && isoWeekday(s) === 1,
   "The start date must be a Monday.",
 );
 

@@ -1,6 +1,7 @@
 import { z } from "zod";
 import { MEASURE_DIRECTIONS } from "~/compute/features";
 import { TRACE_KINDS, type TraceKind } from "~/compute/trace-parsing";
+import { addDays, todayIn } from "~/dates";
 
 // Forms of the baseline battery: measures, sessions, manual results, uploads, norm sets.
 
@@ -81,7 +82,8 @@ const isoDate = z
 
 export const sessionSchema = z.object({
   assessedOn: isoDate.refine(
-    (s) => s <= new Date(Date.now() + 86_400_000).toISOString().slice(0, 10),
+    // A day of slack: "today" on a site clock ahead of UTC is already tomorrow in UTC.
+    (s) => s <= addDays(todayIn("UTC"), 1),
     "Date: an assessment cannot be in the future.",
   ),
   notes: z.string().trim().max(4000).optional(),

@@ -50,29 +50,3 @@ export const reviewAnswerSchema = z.object({
     .min(5, "Answer: write your answer to the worker (at least 5 characters).")
     .max(4000, "Answer: at most 4,000 characters."),
 });
-
-// Session times are the site's wall-clock times. The allocation area stores them without a zone
-// ("2026-12-07T09:00:00"), older rows carry a "Z"; both are read here as the same wall-clock time and
-// formatted in UTC on the server and in the browser alike (no hydration drift, no shift by the server's zone).
-// SEAM: the day boundaries of "today" and "this week" use UTC, i.e. they assume the site clock is UTC (as for
-// the invented demo sites); a per-site time zone would change only wallClockIso and the bounds.
-export function wallClockIso(v: unknown): string {
-  const s = v instanceof Date ? v.toISOString() : String(v);
-  return /(Z|[+-]\d\d:?\d\d)$/.test(s)
-    ? new Date(s).toISOString()
-    : new Date(`${s.length === 16 ? `${s}:00` : s}Z`).toISOString();
-}
-const DAY = new Intl.DateTimeFormat("en-GB", {
-  weekday: "short",
-  day: "numeric",
-  month: "short",
-  year: "numeric",
-  timeZone: "UTC",
-});
-const TIME = new Intl.DateTimeFormat("en-GB", { hour: "2-digit", minute: "2-digit", hour12: false, timeZone: "UTC" });
-export const formatDay = (iso: string) => DAY.format(new Date(iso));
-export const formatTime = (iso: string) => TIME.format(new Date(iso));
-export const formatSpan = (start: string, end: string | null) =>
-  `${formatTime(start)}${end ? `–${formatTime(end)}` : ""}`;
-/** "2026-12-02T09:30" for a datetime-local control (UTC). */
-export const toLocalInput = (iso: string) => new Date(iso).toISOString().slice(0, 16);

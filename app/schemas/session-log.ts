@@ -1,4 +1,5 @@
 import { z } from "zod";
+import { hoursBetween, isIsoDate, wallClock } from "~/dates/calendar";
 
 // The trainer's session log: start and end, task score on the device's standard task, notes and
 // adverse events. Shared by the form and the action; field names match the form controls.
@@ -14,14 +15,19 @@ export const ADVERSE_LABELS: Record<AdverseKind, string> = {
 export const SEVERITIES = ["mild", "moderate", "severe"] as const;
 export type Severity = (typeof SEVERITIES)[number];
 
-/** "2026-12-02T09:30" from a datetime-local control: the site's wall-clock time (see wallClockIso in portal.ts). */
+/** "2026-12-02T09:30" from a datetime-local control: the site's wall-clock time, kept as a WallClock string. */
 const localDateTime = (label: string) =>
   z
     .string({ message: `${label}: enter a date and time.` })
     .trim()
     .regex(/^\d{4}-\d{2}-\d{2}T\d{2}:\d{2}(:\d{2})?$/, `${label}: enter a date and time (YYYY-MM-DD HH:MM).`)
-    .transform((s) => new Date(`${s.length === 16 ? `${s}:00` : s}.000Z`))
-    .refine((d) => !Number.isNaN(d.getTime()), `${label}: that is not a real date and time.`);
+    .transform((s) => wallClock(s))
+    .refine(realWallClock, `${label}: that is not a real date and time.`);
+const realWallClock = (w: string) =>
+  isIsoDate(w.slice(0, 10)) &&
+  Number(w.slice(11, 13)) < 24 &&
+  Number(w.slice(14, 16)) < 60 &&
+  Number(w.slice(17, 19)) < 60;
 
 const severityField = z.preprocess(
   (v) => (v === "" || v === "none" || v == null ? undefined : v),
@@ -52,7 +58,8 @@ export const trainerLogSchema = z
     ) as Record<`ae_${AdverseKind}`, typeof severityField> & Record<`ae_${AdverseKind}_notes`, typeof noteField>),
   })
   .superRefine((v, ctx) => {
-    const hours = (v.end.getTime() - v.start.getTime()) / 3_600_000;
+    // On the wall clock; the model checks the elapsed time in the site's zone.
+    const hours = realWallClock(v.start) && realWallClock(v.end) ? hoursBetween(v.start, v.end, "UTC") : Number.NaN;
     if (!(hours > 0)) ctx.addIssue({ code: "custom", path: ["end"], message: "End: must be after the start." });
     else if (hours > 8)
       ctx.addIssue({ code: "custom", path: ["end"], message: "End: a session lasts at most 8 hours." });

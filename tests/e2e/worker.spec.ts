@@ -56,7 +56,13 @@ test("a worker sees their plan, downloads their data, withdraws planning consent
   );
   const data = JSON.parse(fs.readFileSync(await json.path(), "utf8"));
   expect(data.worker.employeeNumber).toBe(me.employeeNumber);
-  expect(data.sessions.some((x: { scheduledStart: string }) => x.scheduledStart === start.toISOString())).toBe(true);
+  // Session times are the site's wall-clock times, exported without a zone and with the site's zone named.
+  expect(
+    data.sessions.some(
+      (x: { scheduledStart: string; timeZone: string }) =>
+        x.scheduledStart === start.toISOString().slice(0, 19) && x.timeZone === "Europe/London",
+    ),
+  ).toBe(true);
   expect(new Set(JSON.stringify(data).match(/HV-\d{5}/g))).toEqual(new Set([me.employeeNumber]));
   const [xlsx] = await Promise.all([
     page.waitForEvent("download"),
@@ -76,7 +82,8 @@ test("a worker sees their plan, downloads their data, withdraws planning consent
   const cal = fs.readFileSync(await ics.path(), "utf8");
   // Same UID scheme as the allocation area's publish e-mails (one event per session in the worker's calendar).
   expect(cal).toContain(`UID:w${me.id}-${start.toISOString().slice(0, 10)}-1000-${arm.id}@limberly`);
-  expect(cal).toContain(`DTSTART:${start.toISOString().slice(0, 10).replace(/-/g, "")}T100000`);
+  // Wall-clock digits with the site's zone (the demo sites keep UK time).
+  expect(cal).toContain(`DTSTART;TZID=Europe/London:${start.toISOString().slice(0, 10).replace(/-/g, "")}T100000`);
 
   // Withdraw planning consent.
   await page.getByRole("navigation").getByRole("link", { name: "My consent" }).click();

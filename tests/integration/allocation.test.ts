@@ -293,7 +293,14 @@ describe("publishing", () => {
       rows.filter((r) => r.worker_id === one.worker_id).length,
     );
     const [d, t] = one.scheduled_start.split("T");
-    expect(icsText).toContain(`DTSTART:${d.replace(/-/g, "")}T${t.replace(/:/g, "").slice(0, 6)}`);
+    const zone = (
+      await k()("workers as w")
+        .join("sites as s", "s.id", "w.site_id")
+        .where("w.id", one.worker_id)
+        .first("s.time_zone")
+    ).time_zone;
+    const digits = `${d.replace(/-/g, "")}T${t.replace(/:/g, "").slice(0, 6)}`;
+    expect(icsText).toContain(zone === "UTC" ? `DTSTART:${digits}Z` : `DTSTART;TZID=${zone}:${digits}`);
     const trainerEmails = await k()("trainers as t")
       .join("users as u", "u.id", "t.user_id")
       .whereIn("t.id", [...new Set(rows.map((r) => r.trainer_id))])

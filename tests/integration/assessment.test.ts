@@ -4,7 +4,7 @@ import path from "node:path";
 import ExcelJS from "exceljs";
 import { afterAll, beforeAll, describe, expect, inject, it } from "vitest";
 import { computeTrace, parseTrace } from "~/compute/trace-parsing";
-import { type Browserless, PERSONA, signIn, testDb } from "./helpers";
+import { type Browserless, PERSONA, signIn, testDb, useStackDatabaseInProcess } from "./helpers";
 
 // Assessment area against the running stack and the seeded demo (seeds/01, 02).
 // Outside references named beside the checks: Node's crypto for SHA-256, exceljs for reading the export,
@@ -277,7 +277,7 @@ describe("roster import", () => {
 
 describe("consent, baseline battery and withdrawal", () => {
   it("refuses an assessment without assessment consent in the data layer, whatever the caller", async () => {
-    process.env.DATABASE_URL = inject("databaseFile");
+    useStackDatabaseInProcess();
     const { createSession, saveManualResults, saveTrace } = await import("~/models/assessments.server");
     const { ConsentRequiredError } = await import("~/models/consent.server");
     const invited = await k("workers")
@@ -574,7 +574,7 @@ describe("reliability", () => {
 });
 
 afterAll(async () => {
-  if (process.env.DATABASE_URL !== inject("databaseFile")) return;
+  if (process.env.DATABASE_URL !== inject("databaseUrl")) return;
   const { db } = await import("~/db.server");
   await db()
     .destroy()

@@ -1,5 +1,9 @@
+import fs from "node:fs";
+import os from "node:os";
+import path from "node:path";
 import knex, { type Knex } from "knex";
 import { inject } from "vitest";
+import { knexConfig } from "../../knexfile";
 
 // Helpers for integration tests against the running stack (see global-setup.ts).
 // signIn runs the real OAuth2 authorization-code round trip with fetch, following each redirect by hand
@@ -81,15 +85,67 @@ export async function signIn(email: string): Promise<{ client: Browserless; land
 }
 
 let shared: Knex | null = null;
-/** Direct access to the test database, for asserting what the server wrote. */
+/** Direct access to the stack's database (SQLite or PostgreSQL, see global-setup.ts), for asserting what the
+ * server wrote. Same Knex configuration, and so the same value model, as the app. */
 export function testDb(): Knex {
-  if (!shared)
-    shared = knex({
-      client: "better-sqlite3",
-      connection: { filename: inject("databaseFile") },
-      useNullAsDefault: true,
-    });
+  if (!shared) shared = knex(knexConfig({ DATABASE_URL: inject("databaseUrl") }));
   return shared;
+}
+
+export const engine = () => inject("engine");
+
+/** Runs model code in this process against the stack's database (the models read DATABASE_URL). */
+export function useStackDatabaseInProcess(): void {
+  process.env.DATABASE_URL = inject("databaseUrl");
+}
+
+/** An empty database of its own on the engine under test: a temporary SQLite file or a new PostgreSQL
+ * database in the test cluster. drop() removes it again. */
+export async function freshDatabase(
+  label: string,
+  on: "sqlite" | "postgres" = engine(),
+): Promise<{ url: string; knex: Knex; drop: () => Promise<void> }> {
+  if (on === "sqlite") {
+    const dir = fs.mkdtempSync(path.join(os.tmpdir(), `limberly-${label}-`));
+    const url = path.join(dir, `${label}.sqlite`);
+    const k = knex(knexConfig({ DATABASE_URL: url }));
+    return {
+      url,
+      knex: k,
+      drop: async () => {
+        await k.destroy();
+        fs.rmSync(dir, { recursive: true, force: true });
+      },
+    };
+  }
+  const admin = knex(knexConfig({ DATABASE_URL: inject("adminUrl") }));
+  const name = `${label.replace(/[^a-z0-9_]/gi, "_").toLowerCase()}_${process.pid}_${Date.now() % 1e6}`;
+  await admin.raw(`create database ${name}`);
+  const url = inject("adminUrl").replace(/\/[^/]+$/, `/${name}`);
+  const k = knex(knexConfig({ DATABASE_URL: url }));
+  return {
+    url,
+    knex: k,
+    drop: async () => {
+      await k.destroy();
+      await admin.raw(`drop database if exists ${name}`);
+      await admin.destroy();
+    },
+  };
+}
+
+/** Application tables of a database, sorted (either engine). */
+export async function tableNames(k: Knex): Promise<string[]> {
+  if (String(k.client.config.client) === "pg") {
+    const r = await k.raw(
+      "select tablename as name from pg_tables where schemaname = current_schema() and tablename not like 'knex_%' order by tablename",
+    );
+    return r.rows.map((x: { name: string }) => x.name);
+  }
+  const rows = await k.raw(
+    "select name from sqlite_master where type='table' and name not like 'knex_%' and name not like 'sqlite_%' order by name",
+  );
+  return rows.map((r: { name: string }) => r.name);
 }
 
 export const PERSONA = {

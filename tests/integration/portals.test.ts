@@ -43,7 +43,10 @@ async function portalAccount(i: 0 | 1) {
 }
 const hoursFromNow = (h: number) => new Date(Date.now() + h * 3_600_000).toISOString();
 
-/** A start `hoursAgo` before now, but never before this week's Monday 00:00 UTC (the trainer's week view). */
+/**
+ * A start `hoursAgo` before now, but never before this week's Monday 00:00 (UTC digits, stored as the site's
+ * wall-clock time: inside the trainer's week on the demo's UK clock, which is UTC or an hour ahead).
+ */
 function startThisWeek(hoursAgo: number): Date {
   const now = new Date();
   const monday = new Date(
@@ -222,7 +225,8 @@ describe("the worker home", () => {
     expect(html).toContain("09:30–10:30");
     expect(html).toContain("14:15–15:00");
     const ics = await (await client.request("/me/calendar.ics")).text();
-    expect(ics).toContain(`DTSTART:${day2.replace(/-/g, "")}T141500`);
+    // The demo sites keep UK time: the calendar names the zone beside the wall-clock digits.
+    expect(ics).toContain(`DTSTART;TZID=Europe/London:${day2.replace(/-/g, "")}T141500`);
     expect(html).toContain("Foot-driven supernumerary finger");
     expect(html).toContain("Trainer: Ines Calloway");
     expect(html).toContain(

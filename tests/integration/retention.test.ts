@@ -1,10 +1,6 @@
-import fs from "node:fs";
-import os from "node:os";
-import path from "node:path";
-import knex from "knex";
 import { describe, expect, it } from "vitest";
 import { purgeExpiredAssessments, retentionCutoff } from "../../app/jobs/retention.server";
-import { knexConfig } from "../../knexfile";
+import { freshDatabase } from "./helpers";
 import { migrationSource, runSeed } from "./migration-source";
 
 // Retention purge on its own database (it deletes rows, so not on the shared test stack).
@@ -15,8 +11,8 @@ describe("retention purge", () => {
   });
 
   it("deletes only assessments older than the retention period, with their results and traces", async () => {
-    const dir = fs.mkdtempSync(path.join(os.tmpdir(), "limberly-ret-"));
-    const k = knex(knexConfig({ DATABASE_URL: path.join(dir, "r.sqlite") }));
+    const fresh = await freshDatabase("ret");
+    const k = fresh.knex;
     try {
       await k.migrate.latest({ migrationSource });
       await runSeed(k);
@@ -67,8 +63,7 @@ describe("retention purge", () => {
       expect(await k("assessment_sessions").pluck("id")).toEqual([recent]);
       expect(await k("assessment_results").count({ n: "*" }).first()).toEqual({ n: 1 });
     } finally {
-      await k.destroy();
-      fs.rmSync(dir, { recursive: true, force: true });
+      await fresh.drop();
     }
   });
 });
