@@ -27,8 +27,8 @@ export function usesPgBoss(): boolean {
 /** This process's pg-boss, started once (creates or upgrades its schema; maintenance is cluster-safe). */
 export function boss(): Promise<PgBoss> {
   if (!state.boss) {
-    const url = String(knexConfig().connection);
-    const b = new PgBoss({ connectionString: url, max: 4, application_name: "limberly-jobs" });
+    const { connectionString } = knexConfig().connection as { connectionString: string };
+    const b = new PgBoss({ connectionString, max: 4, application_name: "limberly-jobs" });
     b.on("error", (e) => console.error("job queue:", e));
     state.boss = b
       .start()
