@@ -3,14 +3,15 @@ import { db } from "~/db.server";
 
 export class DuplicateCodeError extends Error {}
 
-export async function createSite(v: { code: string; name: string; timeZone: string }): Promise<number> {
+/** Adds a site; without a zone it takes the organisation's default zone. */
+export async function createSite(v: { code: string; name: string; timeZone?: string }): Promise<number> {
   return db().transaction(async (trx) => {
     if (await trx("sites").where({ code: v.code }).first("id"))
       throw new DuplicateCodeError(`Site code ${v.code} is already used.`);
-    const org = await trx("organisations").first("id");
+    const org = await trx("organisations").orderBy("id").first("id", "time_zone");
     if (!org) throw new Error("No organisation is set up.");
     const [r] = await trx("sites")
-      .insert({ organisation_id: org.id, code: v.code, name: v.name, time_zone: v.timeZone, created_at: nowInstant() })
+      .insert({ organisation_id: org.id, code: v.code, name: v.name, time_zone: v.timeZone ?? org.time_zone, created_at: nowInstant() })
       .returning("id");
     return r.id as number;
   });

@@ -55,7 +55,7 @@ export async function action({ request }: Route.ActionArgs) {
   const p = intent === "site" ? parseWith(siteSchema, form) : parseWith(departmentSchema, form);
   if (!p.ok) return fail(p.errors);
   try {
-    if (intent === "site") await createSite(p.data as { code: string; name: string; timeZone: string });
+    if (intent === "site") await createSite(p.data as { code: string; name: string; timeZone?: string });
     else await createDepartment(p.data as { siteId: number; code: string; name: string });
     return { intent, errors: null, done: `${intent === "site" ? "Site" : "Department"} added.` };
   } catch (e) {

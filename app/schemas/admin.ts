@@ -52,7 +52,8 @@ export const siteSchema = z.object({
     .toUpperCase()
     .regex(/^[A-Z0-9-]{2,20}$/, "Code: 2–20 letters, digits or dashes."),
   name: z.string().trim().min(2, "Enter the site's name.").max(200),
-  timeZone: timeZoneField,
+  // Left out or empty: the site takes the organisation's default zone.
+  timeZone: z.preprocess((v) => (v === "" || v === null ? undefined : v), timeZoneField.optional()),
 });
 
 export const siteTimeZoneSchema = z.object({

@@ -354,6 +354,7 @@ describe("consent from the worker portal", () => {
       await k("role_assignments as a")
         .join("users as u", "u.id", "a.user_id")
         .where("a.role", "coordinator")
+        .where("u.active", true) // a deactivated coordinator (another test adds one) is not told
         .where((q) =>
           q
             .where((o) => o.whereNull("a.site_id").whereNull("a.department_id"))
