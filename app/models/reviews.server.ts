@@ -2,6 +2,7 @@ import type { Knex } from "knex";
 import type { Principal } from "~/auth/guard.server";
 import { appUrl } from "~/config.server";
 import { type Db, db, type Row } from "~/db.server";
+import { conflict, notFound } from "~/errors";
 import { sendMail } from "~/mail.server";
 import type { ReviewRequestInput } from "~/schemas/portal";
 import { REVIEW_SUBJECT_LABELS } from "~/schemas/portal";
@@ -11,15 +12,6 @@ import { whereWorkerInScope } from "./workers.server";
 // Review requests (docs/consent-and-disclosure.md): a worker contests their forecast or plan; assessors whose scope covers
 // the worker answer in the app and the worker is e-mailed the answer.
 
-export class ReviewError extends Error {
-  constructor(
-    message: string,
-    readonly field?: string,
-  ) {
-    super(message);
-  }
-}
-
 export async function createReviewRequest(
   workerId: number,
   userId: number,
@@ -28,13 +20,13 @@ export async function createReviewRequest(
   return db().transaction(async (trx) => {
     await lockWorker(trx, workerId); // the open-request cap is counted, then written
     if (input.deviceTypeId != null && !(await trx("device_types").where({ id: input.deviceTypeId }).first("id"))) {
-      throw new ReviewError("Device: choose one of your devices or leave it empty.", "deviceTypeId");
+      throw conflict("Device: choose one of your devices or leave it empty.", "deviceTypeId");
     }
     const open = await trx("review_requests")
       .where({ worker_id: workerId, status: "open" })
       .count<{ n: number }[]>({ n: "*" });
     if (Number(open[0]?.n ?? 0) >= 5)
-      throw new ReviewError("You already have 5 open requests; please wait for an answer first.", "_form");
+      throw conflict("You already have 5 open requests; please wait for an answer first.");
     const [row] = await trx("review_requests")
       .insert({
         worker_id: workerId,
@@ -148,14 +140,14 @@ export async function answerReview(
         "workers.given_name",
       );
     const r = await whereWorkerInScope(q as Knex.QueryBuilder, p.scope).first();
-    if (!r) throw new ReviewError("This review request is not in your scope.", "_form");
-    if (r.status !== "open") throw new ReviewError("This request has already been answered.", "_form");
+    if (!r) throw notFound("This review request is not in your scope.");
+    if (r.status !== "open") throw conflict("This request has already been answered.");
     // Only an open request is answered: of two assessors answering at once, the second one's update finds
     // the row answered (PostgreSQL re-reads it after the first commits) and gets the same message.
     const n = await trx("review_requests")
       .where({ id: r.id, status: "open" })
       .update({ status: "answered", answer, answered_by: p.user.id, answered_at: new Date().toISOString() });
-    if (n !== 1) throw new ReviewError("This request has already been answered.", "_form");
+    if (n !== 1) throw conflict("This request has already been answered.");
     const u = r.user_id ? await trx("users").where({ id: r.user_id }).first("email") : null;
     return { r, to: (u?.email as string) ?? (r.worker_email as string) ?? null };
   });

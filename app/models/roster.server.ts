@@ -7,6 +7,7 @@ import type { Principal } from "~/auth/guard.server";
 import type { Scope } from "~/auth/scope";
 import { dateIn } from "~/dates";
 import { type Db, db } from "~/db.server";
+import { conflict, notFound, UserError } from "~/errors";
 import {
   guessMapping,
   MAX_ROSTER_ROWS,
@@ -26,7 +27,12 @@ import { whereWorkerInScope } from "./workers.server";
 
 // Roster import and export, and the worker list.
 
-export class RosterFileError extends Error {}
+/** A UserError (400); routes not yet on formAction still tell it apart by name. */
+export class RosterFileError extends UserError {
+  constructor(message: string) {
+    super(message, { status: 400 });
+  }
+}
 
 export interface RosterTable {
   headers: string[];
@@ -341,8 +347,6 @@ export async function applyRosterPlan(
   };
 }
 
-export class RosterStateError extends Error {}
-
 /**
  * Imports the valid rows of an upload in one transaction, records the summary and clears the rows. The
  * upload's row is locked first, so the same upload imported twice at once runs once (the second finds it
@@ -354,9 +358,8 @@ export async function importRosterUpload(id: number, principal: Principal & { ki
     return await db().transaction(async (trx) => {
       await trx("roster_imports").where({ id, created_by: principal.user.id }).forUpdate().first("id");
       const up = await getRosterUpload(id, principal.user.id, trx);
-      if (!up) throw new RosterStateError("That roster upload does not exist.");
-      if (up.status !== "uploaded" || !up.rows)
-        throw new RosterStateError(`That roster upload was already ${up.status}.`);
+      if (!up) throw notFound("That roster upload does not exist.");
+      if (up.status !== "uploaded" || !up.rows) throw conflict(`That roster upload was already ${up.status}.`);
       const plan = await planRoster(up.rows, up.mapping, principal.scope, trx);
       const summary = await applyRosterPlan(trx, plan, principal.user.id);
       await trx("roster_imports")
@@ -371,7 +374,7 @@ export async function importRosterUpload(id: number, principal: Principal & { ki
     });
   } catch (e) {
     if (isUniqueViolation(e))
-      throw new RosterStateError(
+      throw conflict(
         "Another import added some of these employee numbers at the same moment, so nothing from this file was imported. Open the preview again: it now shows what is still new.",
       );
     throw e;
