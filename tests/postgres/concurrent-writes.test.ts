@@ -102,7 +102,7 @@ describe("concurrent writes on PostgreSQL", () => {
     ];
     const results = await Promise.all(
       [assessor, assessor2].map((a, i) =>
-        a.postForm("/assess/reviews", { reviewId: String(row.id), [`answer_${row.id}`]: answers[i] }),
+        a.postForm("/assess/reviews", { reviewId: String(row.id), answer: answers[i] }),
       ),
     );
     const statuses = results.map((r) => r.status);
