@@ -6,5 +6,5 @@ import { defineConfig } from "vite";
 export default defineConfig({
   plugins: [tailwindcss(), reactRouter()],
   resolve: { alias: { "~": path.resolve(__dirname, "app") } },
-  ssr: { external: ["better-sqlite3", "knex", "exceljs", "nodemailer", "pg"] },
+  ssr: { external: ["better-sqlite3", "knex", "exceljs", "nodemailer", "pg", "pg-boss"] },
 });

@@ -33,3 +33,16 @@ export const mail = {
 };
 
 export const outboxDir = process.env.OUTBOX_DIR ?? "data/outbox";
+
+// Background jobs (allocation solves): a solving instance writes a heartbeat every heartbeatMs; a run whose
+// heartbeat is older than staleMs is taken back (queued again, or failed after maxAttempts claims).
+const positive = (v: string | undefined, fallback: number) => (Number(v) > 0 ? Number(v) : fallback);
+export const jobs = {
+  heartbeatMs: positive(process.env.LIMBERLY_JOB_HEARTBEAT_MS, 5_000),
+  staleMs: positive(process.env.LIMBERLY_JOB_STALE_MS, 60_000),
+  maxAttempts: positive(process.env.LIMBERLY_JOB_MAX_ATTEMPTS, 2),
+  /** cron (UTC) of the daily retention purge on PostgreSQL */
+  retentionCron: process.env.LIMBERLY_RETENTION_CRON ?? "15 3 * * *",
+};
+if (jobs.staleMs < 3 * jobs.heartbeatMs)
+  throw new Error("LIMBERLY_JOB_STALE_MS must be at least three heartbeats (LIMBERLY_JOB_HEARTBEAT_MS).");

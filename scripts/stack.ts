@@ -56,10 +56,16 @@ export async function waitForHttp(url: string, timeoutMs = 60_000): Promise<void
   throw new Error(`${url} did not answer within ${timeoutMs} ms: ${String(last)}`);
 }
 
-export async function startStack(o: StackOptions): Promise<Stack> {
-  const idp = await startIdp(o.idpPort);
-  const smtp = await startSmtpCatcher(o.smtpPort, o.outboxDir);
-  const env = stackEnv(o);
+export interface AppServer {
+  appUrl: string;
+  child: ChildProcess;
+  /** SIGTERM, then SIGKILL after a grace period. */
+  stop: () => Promise<void>;
+}
+
+/** Starts one app server process (built, or Vite dev) and waits until it answers. */
+export async function startApp(o: StackOptions, extraEnv: NodeJS.ProcessEnv = {}): Promise<AppServer> {
+  const env = { ...stackEnv(o), ...extraEnv };
   const watch = ["--require", path.join(root, "scripts/exit-with-parent.cjs")];
   const args = o.dev
     ? [
@@ -86,18 +92,30 @@ export async function startStack(o: StackOptions): Promise<Stack> {
   ]);
   return {
     appUrl,
-    issuer: idp.issuer,
-    env,
+    child,
     stop: async () => {
-      if (child.exitCode === null) {
-        child.kill("SIGTERM");
-        // The server may keep its database pool open after SIGTERM; give it a moment, then end it.
-        const grace = new Promise<"late">((r) => setTimeout(() => r("late"), 3000).unref());
-        if ((await Promise.race([exited.then(() => "done" as const), grace])) === "late") {
-          child.kill("SIGKILL");
-          await exited;
-        }
+      if (child.exitCode !== null || child.signalCode !== null) return;
+      child.kill("SIGTERM");
+      // The server may keep its database pool open after SIGTERM; give it a moment, then end it.
+      const grace = new Promise<"late">((r) => setTimeout(() => r("late"), 3000).unref());
+      if ((await Promise.race([exited.then(() => "done" as const), grace])) === "late") {
+        child.kill("SIGKILL");
+        await exited;
       }
+    },
+  };
+}
+
+export async function startStack(o: StackOptions): Promise<Stack> {
+  const idp = await startIdp(o.idpPort);
+  const smtp = await startSmtpCatcher(o.smtpPort, o.outboxDir);
+  const app = await startApp(o);
+  return {
+    appUrl: app.appUrl,
+    issuer: idp.issuer,
+    env: stackEnv(o),
+    stop: async () => {
+      await app.stop();
       await smtp.stop();
       await idp.stop();
     },

@@ -58,11 +58,12 @@ const vitestRuns = [
   { label: "integration tests on PostgreSQL (vitest)", file: "vitest-postgres.json", db: "postgres" },
 ].map((v) => {
   const json = path.join(out, v.file);
-  // The engine-parity test seeds both engines itself; it runs once, in the PostgreSQL pass.
+  // The engine-parity test seeds both engines itself; it runs once, in the PostgreSQL pass, as do the
+  // several-instance and parallel-write tests (tests/postgres: each file starts its own clusters).
   const projects =
     v.db === "sqlite"
       ? ["--project", "unit", "--project", "integration", "--exclude", "tests/integration/engine-parity.test.ts"]
-      : ["--project", "integration"];
+      : ["--project", "integration", "--project", "postgres"];
   const code = run(
     v.label,
     [

@@ -34,6 +34,18 @@ export default defineConfig({
           fileParallelism: false,
         },
       },
+      {
+        // Each file starts its own PostgreSQL cluster and app processes (several instances on one database).
+        resolve: { alias },
+        test: {
+          name: "postgres",
+          root,
+          include: ["tests/postgres/**/*.test.ts"],
+          testTimeout: 300_000,
+          hookTimeout: 300_000,
+          fileParallelism: false,
+        },
+      },
     ],
   },
 });

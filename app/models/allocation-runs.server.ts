@@ -1,12 +1,15 @@
+import type { Knex } from "knex";
 import type { Principal } from "~/auth/guard.server";
 import type { Scope } from "~/auth/scope";
 import type { AllocationPlan } from "~/compute/allocation";
 import { type Db, db, type Row } from "~/db.server";
+import { enqueueAllocation } from "~/jobs/queue.server";
 import type { RunParameters } from "~/schemas/allocation";
 import { buildProblem, type ProblemSnapshot } from "./allocation-problem.server";
 
 // Allocation runs: parameters, the problem snapshot the solver sees, progress and the result.
-// The solve itself runs in app/jobs (worker thread); this module only reads and writes rows.
+// The solve itself runs in app/jobs (worker thread); this module reads and writes rows and hands new runs to
+// the queue (app/jobs/queue.server.ts).
 
 export type RunStatus = "queued" | "running" | "done" | "failed";
 
@@ -27,6 +30,8 @@ export interface RunRow {
   publishedAt: string | null;
   publishedBy: string | null;
   publishedPlanVersion: number | null;
+  /** How many times an instance claimed the run (more than 1: an instance stopped while solving it). */
+  attempts: number;
 }
 
 export interface RunDetail extends RunRow {
@@ -52,6 +57,7 @@ function toRow(r: Row): RunRow {
     publishedAt: r.published_at ? String(r.published_at) : null,
     publishedBy: r.published_by_name ?? null,
     publishedPlanVersion: r.published_plan_version == null ? null : Number(r.published_plan_version),
+    attempts: Number(r.attempts ?? 0),
   };
 }
 
@@ -79,6 +85,7 @@ function baseQuery(k: Db) {
       "r.version",
       "r.published_at",
       "r.published_plan_version",
+      "r.attempts",
       "c.display_name as created_by_name",
       "p.display_name as published_by_name",
     );
@@ -158,64 +165,185 @@ export async function createRun(principal: Principal, params: RunParameters): Pr
   });
 }
 
-// Written by the job runner.
-export async function markRunning(id: number): Promise<ProblemSnapshot | null> {
-  return db().transaction(async (trx) => {
-    const r = await trx("allocation_runs").where({ id, status: "queued" }).first("problem");
-    if (!r) return null;
-    await trx("allocation_runs")
-      .where({ id })
-      .update({
-        status: "running",
-        phase: "starting",
-        fraction: 0,
-        started_at: new Date().toISOString(),
-        version: db().raw("version + 1"),
-      });
-    return JSON.parse(r.problem) as ProblemSnapshot;
+/**
+ * What the UI and the API call to start a run: creates the queued run (one transaction) and hands it to the
+ * job queue. Input problems come back as a field and a message; each caller shapes its own response.
+ */
+export async function startRun(
+  principal: Principal,
+  params: RunParameters,
+): Promise<{ ok: true; id: number } | { ok: false; field: string; message: string }> {
+  let id: number;
+  try {
+    id = await createRun(principal, params);
+  } catch (e) {
+    if (e instanceof RunInputError) return { ok: false, field: e.field, message: e.message };
+    throw e;
+  }
+  // The run is committed; if handing it over fails, the queue's sweep picks queued runs up again.
+  await enqueueAllocation(id).catch((e) => console.error(`allocation run ${id}: enqueue failed, the sweep retries`, e));
+  return { ok: true, id };
+}
+
+// ── Claims, written by the job runner (app/jobs) ─────────────────────────────────────────────────
+// Every state change below is one conditional UPDATE: a run is claimed only while queued, and only the
+// instance holding the claim (claimed_by) may write progress, the result or a failure. A finished run never
+// keeps an error text; a run another instance owns is never overwritten.
+
+function isPg(k: Db): boolean {
+  return /^(pg|postgres)/.test(String(k.client.config.client));
+}
+
+/** "Now" for heartbeats: the database's clock on PostgreSQL (instances' clocks may differ), ours on SQLite. */
+function nowValue(k: Db) {
+  return isPg(k) ? k.raw("now()") : new Date().toISOString();
+}
+function agoValue(k: Db, ms: number) {
+  return isPg(k) ? k.raw("now() - (? * interval '1 millisecond')", [ms]) : new Date(Date.now() - ms).toISOString();
+}
+
+/** Claims a queued run for this instance (one conditional update); null when it is not queued any more. */
+export async function claimRun(id: number, instanceId: string, k: Db = db()): Promise<ProblemSnapshot | null> {
+  const n = await k("allocation_runs")
+    .where({ id, status: "queued" })
+    .update({
+      status: "running",
+      phase: "starting",
+      fraction: 0,
+      error: null,
+      claimed_by: instanceId.slice(0, 120),
+      heartbeat_at: nowValue(k),
+      started_at: new Date().toISOString(),
+      attempts: k.raw("attempts + 1"),
+      version: k.raw("version + 1"),
+    });
+  if (n !== 1) return null;
+  const r = await k("allocation_runs")
+    .where({ id, claimed_by: instanceId.slice(0, 120) })
+    .first("problem");
+  return r?.problem ? (JSON.parse(r.problem) as ProblemSnapshot) : null;
+}
+
+/** The oldest queued runs, for runners that take work from the table itself (SQLite) and for the sweep. */
+export async function queuedRunIds(k: Db = db(), olderThanMs = 0, limit = 20): Promise<number[]> {
+  const q = k("allocation_runs").where({ status: "queued" }).orderBy("id").limit(limit);
+  if (olderThanMs > 0) q.where("created_at", "<", new Date(Date.now() - olderThanMs).toISOString());
+  return (await q.select("id")).map((r) => r.id as number);
+}
+
+function owned(k: Db, id: number, instanceId: string) {
+  return k("allocation_runs").where({ id, status: "running", claimed_by: instanceId.slice(0, 120) });
+}
+
+/** The solving instance says it is alive; false when the run is no longer its own (then it stops solving). */
+export async function heartbeat(id: number, instanceId: string, k: Db = db()): Promise<boolean> {
+  return (await owned(k, id, instanceId).update({ heartbeat_at: nowValue(k) })) === 1;
+}
+
+export async function writeProgress(
+  id: number,
+  instanceId: string,
+  phase: string,
+  fraction: number,
+  k: Db = db(),
+): Promise<boolean> {
+  const n = await owned(k, id, instanceId).update({
+    phase: phase.slice(0, 60),
+    fraction: Math.max(0, Math.min(1, fraction)),
+    heartbeat_at: nowValue(k),
   });
+  return n === 1;
 }
 
-export async function writeProgress(id: number, phase: string, fraction: number): Promise<void> {
-  await db()("allocation_runs")
-    .where({ id, status: "running" })
-    .update({ phase: phase.slice(0, 60), fraction: Math.max(0, Math.min(1, fraction)) });
+export async function markDone(id: number, instanceId: string, plan: AllocationPlan, k: Db = db()): Promise<boolean> {
+  const n = await owned(k, id, instanceId).update({
+    status: "done",
+    phase: "done",
+    fraction: 1,
+    error: null,
+    result: JSON.stringify(plan),
+    finished_at: new Date().toISOString(),
+    version: k.raw("version + 1"),
+  });
+  return n === 1;
 }
 
-export async function markDone(id: number, plan: AllocationPlan): Promise<void> {
-  await db()("allocation_runs")
-    .where({ id })
-    .update({
-      status: "done",
-      phase: "done",
-      fraction: 1,
-      result: JSON.stringify(plan),
-      finished_at: new Date().toISOString(),
-      version: db().raw("version + 1"),
-    });
-}
-
-export async function markFailed(id: number, message: string): Promise<void> {
-  await db()("allocation_runs")
-    .where({ id })
-    .update({
-      status: "failed",
-      phase: "failed",
-      error: message.slice(0, 2000),
-      finished_at: new Date().toISOString(),
-      version: db().raw("version + 1"),
-    });
-}
-
-/** On server start: runs left "running" by a stopped server failed; queued ones are picked up again. */
-export async function recoverRuns(): Promise<number[]> {
-  await db()("allocation_runs").where({ status: "running" }).update({
+export async function markFailed(id: number, instanceId: string, message: string, k: Db = db()): Promise<boolean> {
+  const n = await owned(k, id, instanceId).update({
     status: "failed",
     phase: "failed",
-    error: "The server stopped while this run was solving; start it again.",
+    error: message.slice(0, 2000),
     finished_at: new Date().toISOString(),
+    version: k.raw("version + 1"),
   });
-  return (await db()("allocation_runs").where({ status: "queued" }).orderBy("id").select("id")).map(
-    (r) => r.id as number,
-  );
+  return n === 1;
+}
+
+/** The owner gives a run back (its instance is shutting down): queued again for any instance. */
+export async function releaseRun(id: number, instanceId: string, k: Db = db()): Promise<boolean> {
+  const n = await owned(k, id, instanceId).update({
+    status: "queued",
+    phase: "queued again (instance stopped)",
+    fraction: 0,
+    claimed_by: null,
+    heartbeat_at: null,
+    version: k.raw("version + 1"),
+  });
+  return n === 1;
+}
+
+export interface StaleRecovery {
+  requeued: number[];
+  failed: number[];
+}
+
+/**
+ * Runs whose solving instance stopped answering (no heartbeat for staleMs) go back to the queue, or fail
+ * with the reason once they were claimed maxAttempts times. Only the heartbeat's age decides: a live run
+ * of another instance is never touched, also not at start-up. Each change repeats the stale condition and
+ * the claim it saw, so two instances recovering at once change a run only once.
+ */
+export async function recoverStaleRuns(
+  opts: { staleMs: number; maxAttempts: number },
+  k: Db = db(),
+): Promise<StaleRecovery> {
+  const stale = (q: Knex.QueryBuilder) =>
+    q
+      .where("status", "running")
+      .where((w) =>
+        w
+          .where("heartbeat_at", "<", agoValue(k, opts.staleMs))
+          .orWhere((x) =>
+            x.whereNull("heartbeat_at").where("started_at", "<", new Date(Date.now() - opts.staleMs).toISOString()),
+          ),
+      );
+  const rows = await stale(k("allocation_runs")).orderBy("id").select("id", "claimed_by", "attempts");
+  const out: StaleRecovery = { requeued: [], failed: [] };
+  for (const r of rows) {
+    const again = stale(k("allocation_runs").where({ id: r.id }));
+    if (r.claimed_by == null) again.whereNull("claimed_by");
+    else again.where("claimed_by", r.claimed_by);
+    const who = r.claimed_by ? `the app instance solving it (${r.claimed_by})` : "the server solving it";
+    if (Number(r.attempts) >= opts.maxAttempts) {
+      const n = await again.update({
+        status: "failed",
+        phase: "failed",
+        error: `The run was stopped because ${who} stopped answering, after ${r.attempts} attempt(s); start it again.`,
+        finished_at: new Date().toISOString(),
+        version: k.raw("version + 1"),
+      });
+      if (n === 1) out.failed.push(r.id);
+    } else {
+      const n = await again.update({
+        status: "queued",
+        phase: "queued again (solver stopped answering)",
+        fraction: 0,
+        claimed_by: null,
+        heartbeat_at: null,
+        version: k.raw("version + 1"),
+      });
+      if (n === 1) out.requeued.push(r.id);
+    }
+  }
+  return out;
 }

@@ -10,6 +10,7 @@ import { notFound } from "~/errors";
 import { type DeviceForecast, type WorkerForecast, workerForecastSchema } from "~/schemas/forecast";
 import type { TableQuery } from "~/schemas/table-query";
 import { latestConsent } from "./consent.server";
+import { lockWorker } from "./locks.server";
 import { paged } from "./paging.server";
 import { whereWorkerInScope } from "./workers.server";
 
@@ -170,6 +171,7 @@ export async function upsertForecast(
   cached?: { model?: ApprovedModel | null },
 ): Promise<UpsertResult> {
   const now = ctx.now ?? new Date().toISOString();
+  await lockWorker(k, workerId); // the forecast row and open flags are checked, then written
   const drop = () => k("forecasts").where({ worker_id: workerId, device_type_id: deviceTypeId }).del();
   if ((await latestConsent(k, [workerId], "planning")).get(workerId) !== "given") {
     await drop();

@@ -6,6 +6,7 @@ import { conflict, notFound } from "~/errors";
 import { sendMail } from "~/mail.server";
 import type { ReviewRequestInput } from "~/schemas/portal";
 import { REVIEW_SUBJECT_LABELS } from "~/schemas/portal";
+import { lockWorker } from "./locks.server";
 import { whereWorkerInScope } from "./workers.server";
 
 // Review requests (docs/consent-and-disclosure.md): a worker contests their forecast or plan; assessors whose scope covers
@@ -17,6 +18,7 @@ export async function createReviewRequest(
   input: ReviewRequestInput,
 ): Promise<number> {
   return db().transaction(async (trx) => {
+    await lockWorker(trx, workerId); // the open-request cap is counted, then written
     if (input.deviceTypeId != null && !(await trx("device_types").where({ id: input.deviceTypeId }).first("id"))) {
       throw conflict("Device: choose one of your devices or leave it empty.", "deviceTypeId");
     }
@@ -140,9 +142,12 @@ export async function answerReview(
     const r = await whereWorkerInScope(q as Knex.QueryBuilder, p.scope).first();
     if (!r) throw notFound("This review request is not in your scope.");
     if (r.status !== "open") throw conflict("This request has already been answered.");
-    await trx("review_requests")
-      .where({ id: r.id })
+    // Only an open request is answered: of two assessors answering at once, the second one's update finds
+    // the row answered (PostgreSQL re-reads it after the first commits) and gets the same message.
+    const n = await trx("review_requests")
+      .where({ id: r.id, status: "open" })
       .update({ status: "answered", answer, answered_by: p.user.id, answered_at: new Date().toISOString() });
+    if (n !== 1) throw conflict("This request has already been answered.");
     const u = r.user_id ? await trx("users").where({ id: r.user_id }).first("email") : null;
     return { r, to: (u?.email as string) ?? (r.worker_email as string) ?? null };
   });

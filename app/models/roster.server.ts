@@ -21,6 +21,7 @@ import {
 } from "~/schemas/roster";
 import type { TableQuery } from "~/schemas/table-query";
 import { type ConsentState, consentStates } from "./consent.server";
+import { isUniqueViolation } from "./locks.server";
 import { paged } from "./paging.server";
 import { whereWorkerInScope } from "./workers.server";
 
@@ -346,24 +347,38 @@ export async function applyRosterPlan(
   };
 }
 
-/** Imports the valid rows of an upload in one transaction, records the summary and clears the rows. */
+/**
+ * Imports the valid rows of an upload in one transaction, records the summary and clears the rows. The
+ * upload's row is locked first, so the same upload imported twice at once runs once (the second finds it
+ * imported); two different uploads adding the same employee numbers at once end with one import and a 409
+ * for the other (the unique key on employee numbers decides), never with half of either.
+ */
 export async function importRosterUpload(id: number, principal: Principal & { kind: "user" }): Promise<RosterSummary> {
-  return db().transaction(async (trx) => {
-    const up = await getRosterUpload(id, principal.user.id, trx);
-    if (!up) throw notFound("That roster upload does not exist.");
-    if (up.status !== "uploaded" || !up.rows) throw conflict(`That roster upload was already ${up.status}.`);
-    const plan = await planRoster(up.rows, up.mapping, principal.scope, trx);
-    const summary = await applyRosterPlan(trx, plan, principal.user.id);
-    await trx("roster_imports")
-      .where({ id })
-      .update({
-        status: "imported",
-        rows: null,
-        summary: JSON.stringify(summary),
-        finished_at: new Date().toISOString(),
-      });
-    return summary;
-  });
+  try {
+    return await db().transaction(async (trx) => {
+      await trx("roster_imports").where({ id, created_by: principal.user.id }).forUpdate().first("id");
+      const up = await getRosterUpload(id, principal.user.id, trx);
+      if (!up) throw notFound("That roster upload does not exist.");
+      if (up.status !== "uploaded" || !up.rows) throw conflict(`That roster upload was already ${up.status}.`);
+      const plan = await planRoster(up.rows, up.mapping, principal.scope, trx);
+      const summary = await applyRosterPlan(trx, plan, principal.user.id);
+      await trx("roster_imports")
+        .where({ id })
+        .update({
+          status: "imported",
+          rows: null,
+          summary: JSON.stringify(summary),
+          finished_at: new Date().toISOString(),
+        });
+      return summary;
+    });
+  } catch (e) {
+    if (isUniqueViolation(e))
+      throw conflict(
+        "Another import added some of these employee numbers at the same moment, so nothing from this file was imported. Open the preview again: it now shows what is still new.",
+      );
+    throw e;
+  }
 }
 
 // ── Worker list ────────────────────────────────────────────────────────────────────────────────

@@ -1,5 +1,4 @@
 import { requireApiAccess } from "~/auth/guard.server";
-import { ensureJobsStarted } from "~/jobs/runner.server";
 import { recordAccess } from "~/models/access-log.server";
 import { getRun } from "~/models/allocation-runs.server";
 import type { Route } from "./+types/api.v1.allocation-runs.$runId";
@@ -8,7 +7,6 @@ import type { Route } from "./+types/api.v1.allocation-runs.$runId";
 // worker ids mapped to employee numbers and names (coordinators see consented workers' planning numbers).
 export async function loader({ request, params }: Route.LoaderArgs) {
   const p = await requireApiAccess(request, "allocation.run");
-  await ensureJobsStarted();
   const id = Number(params.runId);
   if (!Number.isInteger(id) || id <= 0)
     return Response.json({ error: "runId must be a positive whole number." }, { status: 400 });
@@ -36,6 +34,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       phase: run.phase,
       fraction: run.fraction,
       error: run.error,
+      attempts: run.attempts,
       parameters: run.parameters,
       createdAt: run.createdAt,
       finishedAt: run.finishedAt,

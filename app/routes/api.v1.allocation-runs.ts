@@ -1,6 +1,5 @@
 import { requireApiAccess } from "~/auth/guard.server";
-import { enqueueRun, ensureJobsStarted } from "~/jobs/runner.server";
-import { createRun, listRuns, RunInputError } from "~/models/allocation-runs.server";
+import { listRuns, startRun } from "~/models/allocation-runs.server";
 import { runParametersSchema } from "~/schemas/allocation";
 import { parseWith } from "~/schemas/form";
 import type { Route } from "./+types/api.v1.allocation-runs";
@@ -11,7 +10,6 @@ import type { Route } from "./+types/api.v1.allocation-runs";
 // GET lists recent runs (status only).
 export async function loader({ request }: Route.LoaderArgs) {
   const p = await requireApiAccess(request, "allocation.run");
-  await ensureJobsStarted();
   const runs = await listRuns(p.scope);
   return Response.json(
     {
@@ -32,7 +30,6 @@ export async function loader({ request }: Route.LoaderArgs) {
 export async function action({ request }: Route.ActionArgs) {
   if (request.method !== "POST") return Response.json({ error: "Use POST to start a run." }, { status: 405 });
   const p = await requireApiAccess(request, "allocation.run");
-  await ensureJobsStarted();
   let body: unknown;
   try {
     body = await request.json();
@@ -41,16 +38,12 @@ export async function action({ request }: Route.ActionArgs) {
   }
   const parsed = parseWith(runParametersSchema, body);
   if (!parsed.ok) return Response.json({ error: "Invalid run parameters.", fields: parsed.errors }, { status: 400 });
-  try {
-    const id = await createRun(p, parsed.data);
-    enqueueRun(id);
-    return Response.json(
-      { id, status: "queued", href: `/api/v1/allocation-runs/${id}` },
-      { status: 202, headers: { Location: `/api/v1/allocation-runs/${id}` } },
-    );
-  } catch (e) {
-    if (e instanceof RunInputError)
-      return Response.json({ error: e.message, fields: { [e.field]: e.message } }, { status: 400 });
-    throw e;
-  }
+  const started = await startRun(p, parsed.data);
+  if (!started.ok)
+    return Response.json({ error: started.message, fields: { [started.field]: started.message } }, { status: 400 });
+  const { id } = started;
+  return Response.json(
+    { id, status: "queued", href: `/api/v1/allocation-runs/${id}` },
+    { status: 202, headers: { Location: `/api/v1/allocation-runs/${id}` } },
+  );
 }

@@ -16,7 +16,6 @@ import { FormError, Notice } from "~/components/fields";
 import { ProgressBar } from "~/components/progress-bar";
 import { addDays } from "~/compute/plan-calendar";
 import { round1 } from "~/compute/rounding";
-import { ensureJobsStarted } from "~/jobs/runner.server";
 import { recordAccess } from "~/models/access-log.server";
 import { getRun, listRuns } from "~/models/allocation-runs.server";
 import {
@@ -51,7 +50,6 @@ export interface WorkerPlanRow {
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const p = await requireUser(request, "allocation.run");
-  await ensureJobsStarted();
   const id = Number(params.runId);
   const run = Number.isInteger(id) && id > 0 ? await getRun(p.scope, id) : null;
   if (!run) throw data({ error: "No such allocation run in your scope." }, { status: 404 });

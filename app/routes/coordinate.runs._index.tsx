@@ -4,8 +4,7 @@ import { DeviceCautions } from "~/components/device-cautions";
 import { FormError, TextField } from "~/components/fields";
 import { addDays, isoWeekday } from "~/compute/plan-calendar";
 import { todayIn } from "~/dates";
-import { enqueueRun, ensureJobsStarted } from "~/jobs/runner.server";
-import { createRun, getRunStatus, listRuns, RunInputError } from "~/models/allocation-runs.server";
+import { getRunStatus, listRuns, startRun } from "~/models/allocation-runs.server";
 import { planningChoices } from "~/models/fleet-admin.server";
 import { planningQuantile } from "~/models/forecast.server";
 import { planState } from "~/models/publish.server";
@@ -23,7 +22,6 @@ function nextMonday(today: string): string {
 
 export async function loader({ request }: Route.LoaderArgs) {
   const p = await requireUser(request, "allocation.run");
-  await ensureJobsStarted();
   const url = new URL(request.url);
   const fromId = Number(url.searchParams.get("from")) || null;
   const base = fromId ? await getRunStatus(p.scope, fromId) : null;
@@ -38,17 +36,11 @@ export async function loader({ request }: Route.LoaderArgs) {
 
 export async function action({ request }: Route.ActionArgs) {
   const p = await requireUser(request, "allocation.run");
-  await ensureJobsStarted();
   const parsed = parseWith(runFormSchema, formToObject(await request.formData()));
   if (!parsed.ok) return { errors: parsed.errors };
-  try {
-    const id = await createRun(p, parsed.data);
-    enqueueRun(id);
-    return redirect(`/coordinate/runs/${id}`);
-  } catch (e) {
-    if (e instanceof RunInputError) return { errors: { [e.field]: e.message } as Record<string, string> };
-    throw e;
-  }
+  const started = await startRun(p, parsed.data);
+  if (!started.ok) return { errors: { [started.field]: started.message } as Record<string, string> };
+  return redirect(`/coordinate/runs/${started.id}`);
 }
 
 const STATUS_TEXT: Record<string, string> = { queued: "Queued", running: "Solving", done: "Done", failed: "Failed" };

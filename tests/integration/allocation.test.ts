@@ -442,6 +442,8 @@ describe("API /api/v1/allocation-runs", () => {
     const { id } = await res.json();
     let body: {
       status?: string;
+      error?: string | null;
+      attempts?: number;
       parameters: { pool: { siteIds: number[] } };
       result: { bound: number; objective: number; assignments: { workerId: number }[] };
     } = { parameters: { pool: { siteIds: [] } }, result: { bound: 0, objective: 0, assignments: [] } };
@@ -453,6 +455,8 @@ describe("API /api/v1/allocation-runs", () => {
       await new Promise((r) => setTimeout(r, 100));
     }
     expect(body.status).toBe("done");
+    expect(body.error).toBeNull();
+    expect(body.attempts).toBe(1); // claimed once, by the one server of the test stack
     const ny = await k()("sites").where({ code: "NY" }).first("id");
     expect(body.parameters.pool.siteIds).toEqual([ny.id]);
     expect(body.result.bound).toBeGreaterThanOrEqual(body.result.objective);

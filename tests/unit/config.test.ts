@@ -26,4 +26,10 @@ describe("configuration", () => {
     expect(load({ LIMBERLY_MODE: "production", SESSION_SECRET: "x".repeat(40) }).stdout).toContain("loaded");
     expect(load({ LIMBERLY_MODE: "demo" }).stdout).toContain("loaded");
   });
+  it("refuses a stale limit shorter than three heartbeats (a live run would be taken back)", () => {
+    const r = load({ LIMBERLY_MODE: "demo", LIMBERLY_JOB_HEARTBEAT_MS: "5000", LIMBERLY_JOB_STALE_MS: "10000" });
+    expect(r.status).not.toBe(0);
+    expect(r.stderr).toContain("LIMBERLY_JOB_STALE_MS must be at least three heartbeats");
+    expect(load({ LIMBERLY_MODE: "demo", LIMBERLY_JOB_STALE_MS: "15000" }).stdout).toContain("loaded");
+  });
 });
