@@ -51,11 +51,16 @@ export interface Spread {
 }
 
 /**
- * Wall times of an async `run` over `repeats` calls after one warm-up call (statement caches, JIT): median
- * (mean of the middle two for an even count) and 95th percentile by nearest rank (the max below 20 runs).
+ * Wall times of an async `run` over `repeats` calls after one warm-up call (statement caches, JIT; pass
+ * `warmUp: false` when the caller has just made that call): median (mean of the middle two for an even
+ * count) and 95th percentile by nearest rank (the max below 20 runs).
  */
-export async function timeAsync(run: () => Promise<unknown>, repeats: number): Promise<Spread> {
-  await run();
+export async function timeAsync(
+  run: () => Promise<unknown>,
+  repeats: number,
+  { warmUp = true }: { warmUp?: boolean } = {},
+): Promise<Spread> {
+  if (warmUp) await run();
   const times: number[] = [];
   for (let i = 0; i < repeats; i++) {
     const start = performance.now();

@@ -3,7 +3,8 @@
 // loaded into a temporary SQLite file and into a throwaway PostgreSQL cluster (scripts/postgres.ts), both
 // migrated with the project's Knex config. Each engine runs in its own child process (the app's db() reads
 // DATABASE_URL once per process), one after the other so they do not share the CPU.
-// Run: npx tsx bench/engines.ts [board runs] [problem runs]   (defaults 20 and 10)
+// Run: npx tsx bench/engines.ts [board runs] [problem runs]   (defaults 20 and 5;
+// each case's first call, whose result is compared across engines, is the untimed warm-up)
 // Target (ours, not published): readinessBoard median under 300 ms on both engines, as for bench/manager-home.ts.
 // The problem builder has no target here; its times are reported for both engines.
 import { spawnSync } from "node:child_process";
@@ -59,7 +60,7 @@ async function child(boardRuns: number, problemRuns: number): Promise<EngineResu
   for (const { name, scope } of boards) {
     const board = await readinessBoard(scope);
     const panels = (["stage", "ready", "planned", "medians"] as const).filter((p) => board[p].status === "ok");
-    const spread = await timeAsync(() => readinessBoard(scope), boardRuns);
+    const spread = await timeAsync(() => readinessBoard(scope), boardRuns, { warmUp: false });
     cases.push({ name, ...spread, digest: digest(board), size: `panels: ${panels.join(" ")}` });
   }
   const params = {
@@ -78,7 +79,7 @@ async function child(boardRuns: number, problemRuns: number): Promise<EngineResu
   for (const { name, pool } of problems) {
     const p = { ...params, pool };
     const snap = await buildProblem(p, everywhere);
-    const spread = await timeAsync(() => buildProblem(p, everywhere), problemRuns);
+    const spread = await timeAsync(() => buildProblem(p, everywhere), problemRuns, { warmUp: false });
     const { workers, deviceTypes, trainers } = snap.problem;
     cases.push({
       name,
@@ -134,6 +135,13 @@ async function parent(boardRuns: number, problemRuns: number): Promise<number> {
   });
   console.table(rows);
   console.log(`fill (migrate + 20,000 workers): SQLite ${lite.fillSeconds} s, PostgreSQL ${post.fillSeconds} s`);
+  // Other work on the machine inflates every time: the load average says how busy it was.
+  console.log(
+    `machine: ${os.cpus().length} cores, load average ${os
+      .loadavg()
+      .map((l) => l.toFixed(1))
+      .join(" / ")} (1 / 5 / 15 min)`,
+  );
   const cols = Object.keys(rows[0]) as (keyof (typeof rows)[0])[];
   console.log(`\n| ${cols.join(" | ")} |\n|${cols.map(() => "---").join("|")}|`);
   for (const r of rows) console.log(`| ${cols.map((c) => r[c]).join(" | ")} |`);
@@ -146,5 +154,5 @@ if (mode === CHILD) {
   console.log(JSON.stringify(result));
   process.exit(0);
 } else {
-  process.exit(await parent(Number(mode ?? 20), Number(rest[0] ?? 10)));
+  process.exit(await parent(Number(mode ?? 20), Number(rest[0] ?? 5)));
 }

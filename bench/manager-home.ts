@@ -4,8 +4,8 @@
 import fs from "node:fs";
 import os from "node:os";
 import path from "node:path";
-import { performance } from "node:perf_hooks";
 import { fillBenchOrganisation } from "./_org";
+import { timeAsync } from "./_timing";
 
 const dir = fs.mkdtempSync(path.join(os.tmpdir(), "limberly-bench-manager-"));
 process.env.DATABASE_URL = path.join(dir, "bench.sqlite");
@@ -29,23 +29,15 @@ const rows: Record<string, string | number>[] = [];
 for (const { name, scope } of scopes) {
   const board = await readinessBoard(scope); // warm-up (statement cache, JIT); also shows the work is real
   const panels = (["stage", "ready", "planned", "medians"] as const).filter((p) => board[p].status === "ok").join(" ");
-  const times: number[] = [];
-  for (let i = 0; i < runs; i++) {
-    const t0 = performance.now();
-    await readinessBoard(scope);
-    times.push(performance.now() - t0);
-  }
-  times.sort((a, b) => a - b);
-  const median =
-    times.length % 2 ? times[times.length >> 1] : (times[times.length / 2 - 1] + times[times.length / 2]) / 2;
+  const { medianMs: median, maxMs } = await timeAsync(() => readinessBoard(scope), runs, { warmUp: false });
   rows.push({
     scope: name,
     workers: WORKERS,
     departments: deptIds.length,
     runs,
     "panels computed": panels,
-    "median ms": +median.toFixed(1),
-    "max ms": +times[times.length - 1].toFixed(1),
+    "median ms": median,
+    "max ms": maxMs,
     "target ms": 300,
     ok: median < 300 ? "yes" : "NO",
   });
