@@ -1,4 +1,5 @@
-import { isRouteErrorResponse, Links, Meta, Outlet, Scripts, ScrollRestoration, useRouteError } from "react-router";
+import { Links, Meta, Outlet, Scripts, ScrollRestoration, useRouteError } from "react-router";
+import { ErrorPanel, errorText } from "~/components/error-panel";
 import type { Route } from "./+types/root";
 import "./app.css";
 
@@ -34,32 +35,10 @@ export default function App() {
 }
 
 export function ErrorBoundary() {
-  const error = useRouteError();
-  let title = "Something went wrong";
-  let detail =
-    "An unexpected error stopped this page. Nothing you entered was half-saved: each action is one transaction.";
-  if (isRouteErrorResponse(error)) {
-    if (error.status === 404) {
-      title = "Page not found";
-      detail = "There is no page at this address. Check the link, or go back to your home page.";
-    } else if (error.status === 403) {
-      title = "Not allowed";
-      detail =
-        typeof error.data?.error === "string" ? error.data.error : "Your role does not give access to this page.";
-    } else {
-      title = `Error ${error.status}`;
-      detail = typeof error.data?.error === "string" ? error.data.error : error.statusText || detail;
-    }
-  }
+  const { title, detail } = errorText(useRouteError());
   return (
     <main className="mx-auto max-w-xl p-6">
-      <div className="card mt-12">
-        <h1 className="page-title">{title}</h1>
-        <p className="mt-3 text-ink-soft">{detail}</p>
-        <a className="btn-primary mt-6" href="/">
-          Go to my home page
-        </a>
-      </div>
+      <ErrorPanel title={title} detail={detail} />
     </main>
   );
 }

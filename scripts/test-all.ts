@@ -92,7 +92,13 @@ for (const v of vitestRuns) {
   if (fs.existsSync(v.json)) {
     const r = JSON.parse(fs.readFileSync(v.json, "utf8"));
     passed += r.numPassedTests ?? 0;
-    failed += (r.numFailedTests ?? 0) + (r.numFailedTestSuites ?? 0);
+    // Failed tests, plus files that failed without a failing test (an error while loading or in a hook);
+    // numFailedTestSuites would count each describe block of a failing test again.
+    const brokenFiles = (r.testResults ?? []).filter(
+      (f: { status: string; assertionResults?: { status: string }[] }) =>
+        f.status === "failed" && !(f.assertionResults ?? []).some((a) => a.status === "failed"),
+    ).length;
+    failed += (r.numFailedTests ?? 0) + brokenFiles;
   } else failed += 1;
   if (v.code !== 0 && failed === 0) failed += 1;
 }

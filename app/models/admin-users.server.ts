@@ -1,5 +1,6 @@
 import type { Role } from "~/auth/permissions";
 import { db } from "~/db.server";
+import { conflict } from "~/errors";
 import type { TableQuery } from "~/schemas/table-query";
 import { paged } from "./paging.server";
 
@@ -43,8 +44,6 @@ export async function listUsers(q: TableQuery) {
   return page;
 }
 
-export class DuplicateEmailError extends Error {}
-
 export async function createUser(input: {
   email: string;
   displayName: string;
@@ -54,7 +53,7 @@ export async function createUser(input: {
 }): Promise<number> {
   return db().transaction(async (trx) => {
     const exists = await trx("users").whereRaw("lower(email) = ?", [input.email]).first("id");
-    if (exists) throw new DuplicateEmailError(`A user with e-mail ${input.email} already exists.`);
+    if (exists) throw conflict(`A user with e-mail ${input.email} already exists.`, "email");
     const now = new Date().toISOString();
     const [u] = await trx("users")
       .insert({ email: input.email, display_name: input.displayName, active: true, created_at: now })

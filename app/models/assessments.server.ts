@@ -4,6 +4,7 @@ import type { Scope } from "~/auth/scope";
 import { zScore } from "~/compute/features";
 import { computeTrace, parseTrace, type TraceIssue, type TraceKind } from "~/compute/trace-parsing";
 import { type Db, db } from "~/db.server";
+import { UserError } from "~/errors";
 import { MAX_TRACE_ROWS } from "~/schemas/assessment";
 import { assertConsent, setStage } from "./consent.server";
 import { listMeasures, type Measure } from "./measures.server";
@@ -13,12 +14,10 @@ import { whereWorkerInScope } from "./workers.server";
 // Assessment sessions, manual results and trace uploads. Every write checks
 // `assessment` consent inside its own transaction, whatever the caller (docs/consent-and-disclosure.md).
 
-export class AssessmentInputError extends Error {
-  constructor(
-    message: string,
-    readonly field?: string,
-  ) {
-    super(message);
+/** A UserError (400); routes not yet on formAction still tell it apart by name. */
+export class AssessmentInputError extends UserError {
+  constructor(message: string, field?: string) {
+    super(message, { status: 400, field });
   }
 }
 

@@ -1,7 +1,6 @@
 import { db } from "~/db.server";
 import type { ConsentPurpose } from "~/domain/consent-purposes";
-
-export class DuplicateVersionError extends Error {}
+import { conflict } from "~/errors";
 
 export async function listConsentTexts() {
   const rows = await db()("consent_text_versions as c")
@@ -32,8 +31,9 @@ export async function createConsentText(v: {
 }) {
   return db().transaction(async (trx) => {
     if (await trx("consent_text_versions").where({ purpose: v.purpose, version: v.version }).first("id")) {
-      throw new DuplicateVersionError(
+      throw conflict(
         `Version ${v.version} of the ${v.purpose} text already exists; texts are never edited, add a new version.`,
+        "version",
       );
     }
     const [r] = await trx("consent_text_versions")

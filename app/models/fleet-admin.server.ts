@@ -1,6 +1,7 @@
 import type { Principal } from "~/auth/guard.server";
 import type { Scope } from "~/auth/scope";
 import { db } from "~/db.server";
+import { notFound } from "~/errors";
 
 // Fleet administration for coordinators: device types with fit rules and wear-time limits,
 // units with status and bookable hours, maintenance windows. Units are limited to the coordinator's sites.
@@ -72,12 +73,9 @@ export async function fleetAdminView(scope: Scope) {
   });
 }
 
-export class FleetError extends Error {}
-
 async function unitInScope(scope: Scope, unitId: number) {
   const u = await db()("device_units").where({ id: unitId }).first("id", "site_id");
-  if (!u || (!scope.allSites && !scope.siteIds.includes(u.site_id)))
-    throw new FleetError("No such unit at your sites.");
+  if (!u || (!scope.allSites && !scope.siteIds.includes(u.site_id))) throw notFound("No such unit at your sites.");
   return u;
 }
 
@@ -91,7 +89,7 @@ export async function updateDeviceType(
     default_max_hours_per_week: v.defaultMaxHoursPerWeek,
     fit_rules: v.fitRules,
   });
-  if (!n) throw new FleetError("No such device type.");
+  if (!n) throw notFound("No such device type.");
 }
 
 export async function updateUnit(p: Principal, id: number, v: { status: string; bookableHoursPerWeek: number }) {
@@ -119,7 +117,7 @@ export async function addMaintenance(
 
 export async function removeMaintenance(p: Principal, windowId: number) {
   const w = await db()("unit_maintenance_windows").where({ id: windowId }).first("device_unit_id");
-  if (!w) throw new FleetError("No such maintenance window.");
+  if (!w) throw notFound("No such maintenance window.");
   await unitInScope(p.scope, w.device_unit_id);
   await db()("unit_maintenance_windows").where({ id: windowId }).del();
 }

@@ -6,6 +6,7 @@ import { MEASURE_DIRECTIONS } from "~/compute/features";
 import { forecastFromModel, type StoredModel } from "~/compute/forecast-explain";
 import { type ProgressUpdate, progressUpdate } from "~/compute/progress-update";
 import { type Db, db, type Row } from "~/db.server";
+import { notFound } from "~/errors";
 import { type DeviceForecast, type WorkerForecast, workerForecastSchema } from "~/schemas/forecast";
 import type { TableQuery } from "~/schemas/table-query";
 import { latestConsent } from "./consent.server";
@@ -367,8 +368,6 @@ export async function recordOutcome(
   });
 }
 
-export class NotInScopeError extends Error {}
-
 /** The worker row if it is inside the scope, else null (callers answer 404: no hint that it exists). */
 export async function workerInScope(scope: Scope, workerId: number, k: Db = db()) {
   const q = k("workers")
@@ -404,11 +403,11 @@ export function forecastViewFor(p: Principal): "clinical" | "planning" {
 
 /**
  * The forecast payload for one worker, shaped by the reader's view and checked against the shared schema.
- * Throws NotInScopeError when the worker is outside the principal's scope.
+ * Throws a 404 UserError when the worker is outside the principal's scope.
  */
 export async function workerForecastView(p: Principal, workerId: number, k: Db = db()): Promise<WorkerForecast> {
   const worker = await workerInScope(p.scope, workerId, k);
-  if (!worker) throw new NotInScopeError("No such worker in your scope.");
+  if (!worker) throw notFound("No such worker in your scope.");
   const view = forecastViewFor(p);
   const planningConsent = (await latestConsent(k, [workerId], "planning")).get(workerId) === "given";
   const quantile = await planningQuantile(k);

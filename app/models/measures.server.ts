@@ -1,5 +1,6 @@
 import type { TraceKind } from "~/compute/trace-parsing";
 import { type Db, db } from "~/db.server";
+import { conflict } from "~/errors";
 
 // The baseline battery's measures, configured by an assessor.
 export interface Measure {
@@ -13,8 +14,6 @@ export interface Measure {
   description: string | null;
   active: boolean;
 }
-
-export class DuplicateMeasureError extends Error {}
 
 function toMeasure(r: Record<string, unknown>): Measure {
   return {
@@ -52,7 +51,7 @@ export async function createMeasure(
 ) {
   return db().transaction(async (trx) => {
     if (await trx("measures").where({ code: m.code }).first("id"))
-      throw new DuplicateMeasureError(`Code: a measure with code ${m.code} exists already.`);
+      throw conflict(`Code: a measure with code ${m.code} exists already.`, "code");
     const [r] = await trx("measures")
       .insert({
         code: m.code,

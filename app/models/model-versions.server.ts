@@ -6,6 +6,7 @@ import { baselineZScores, labelFor, refreshForecastsForDeviceType } from "./fore
 
 export { labelFor };
 
+import { conflict, notFound, UserError } from "~/errors";
 import {
   DRIFT_COVERAGE_WARNING,
   DRIFT_MINIMUM_OUTCOMES,
@@ -136,7 +137,8 @@ export interface WorkbenchFit {
   residuals: { fitted: number; residual: number }[];
 }
 
-export class FitError extends Error {}
+/** The choices cannot be fitted (unknown device or measure, too few records, a constant measure): 422. */
+const unfit = (message: string) => new UserError(message, { status: 422 });
 
 /** Fit log(hours) on the cohort's standardised z-scores, with LOOCV diagnostics. */
 export function fitCohort(
@@ -148,7 +150,7 @@ export function fitCohort(
   const n = cohort.rows.length;
   const k = measures.length;
   if (n < k + 3) {
-    throw new FitError(
+    throw unfit(
       `Only ${n} usable past trainee${n === 1 ? "" : "s"} for ${k} measure${k === 1 ? "" : "s"}: at least ${k + 3} are needed (measures + 3) for the fit and its leave-one-out check.`,
     );
   }
@@ -159,7 +161,7 @@ export function fitCohort(
     std = columnStandardizer(X);
   } catch (e) {
     const j = Number(/measure (\d+)/.exec((e as Error).message)?.[1]);
-    throw new FitError(
+    throw unfit(
       Number.isInteger(j)
         ? `${measures[j].label} has the same value for every past trainee, so it cannot explain differences.`
         : (e as Error).message,
@@ -172,7 +174,7 @@ export function fitCohort(
     fit = fitLinearModel(Z, y, { ridge });
     loo = leaveOneOut(Z, y, { ridge, level: 0.8, logOutcome: true });
   } catch (e) {
-    throw new FitError(`The model could not be fitted: ${(e as Error).message}.`);
+    throw unfit(`The model could not be fitted: ${(e as Error).message}.`);
   }
   const t975 = studentTQuantile(0.975, fit.dfResidual);
   const names = ["Intercept (cohort average)", ...measures.map((m) => m.label)];
@@ -221,7 +223,7 @@ async function measuresById(measureIds: number[], k: Db) {
   const byId = new Map(rows.map((r) => [r.id as number, r]));
   return measureIds.map((id) => {
     const r = byId.get(id);
-    if (!r) throw new FitError(`Measure ${id} does not exist.`);
+    if (!r) throw unfit(`Measure ${id} does not exist.`);
     return { id, code: r.code as string, label: labelFor(r.code, r.name) };
   });
 }
@@ -233,7 +235,7 @@ export async function fitWorkbench(
 ): Promise<WorkbenchFit> {
   const measureIds = [...new Set(input.measureIds)];
   if (!(await k("device_types").where({ id: input.deviceTypeId }).first("id")))
-    throw new FitError("That device type does not exist.");
+    throw unfit("That device type does not exist.");
   const measures = await measuresById(measureIds, k);
   const cohort = await buildCohort(input.deviceTypeId, measureIds, k);
   return fitCohort(cohort, measures, input.deviceTypeId, input.ridge);
@@ -284,8 +286,6 @@ export async function saveModelVersion(
   return k ? run(k) : db().transaction(run);
 }
 
-export class ApprovalError extends Error {}
-
 /**
  * Approve a draft: only an assessor other than the one who fitted it. The previously approved version of
  * the device type is retired, and every planning-consented worker's forecast is recomputed — one transaction.
@@ -298,11 +298,11 @@ export async function approveModelVersion(
 ): Promise<{ forecasts: number }> {
   const run = async (trx: Db) => {
     const v = await trx("model_versions").where({ id: versionId }).first();
-    if (!v) throw new ApprovalError("That model version does not exist.");
+    if (!v) throw notFound("That model version does not exist.");
     if (v.status !== "draft")
-      throw new ApprovalError(`Version ${v.version_number} is ${v.status}; only a draft can be approved.`);
+      throw conflict(`Version ${v.version_number} is ${v.status}; only a draft can be approved.`);
     if (v.fitted_by === userId)
-      throw new ApprovalError("A version must be approved by an assessor other than the one who fitted it.");
+      throw conflict("A version must be approved by an assessor other than the one who fitted it.");
     const now = opts?.now ?? new Date().toISOString();
     await trx("model_versions")
       .where({ device_type_id: v.device_type_id, status: "approved" })
@@ -319,8 +319,8 @@ export async function approveModelVersion(
 export async function retireModelVersion(versionId: number, userId: number): Promise<void> {
   await db().transaction(async (trx) => {
     const v = await trx("model_versions").where({ id: versionId }).first();
-    if (!v) throw new ApprovalError("That model version does not exist.");
-    if (v.status === "retired") throw new ApprovalError(`Version ${v.version_number} is already retired.`);
+    if (!v) throw notFound("That model version does not exist.");
+    if (v.status === "retired") throw conflict(`Version ${v.version_number} is already retired.`);
     await trx("model_versions")
       .where({ id: versionId })
       .update({ status: "retired", retired_by: userId, retired_at: new Date().toISOString() });

@@ -1,6 +1,7 @@
 import { sampleStandardDeviation, mean as ssMean } from "simple-statistics";
 import { todayIn } from "~/dates";
 import { type Db, db } from "~/db.server";
+import { UserError } from "~/errors";
 import { organisationTimeZone } from "./sites.server";
 
 // Norm sets (docs/methods.md): mean and SD per measure, cohort-derived or entered from a published table,
@@ -129,7 +130,7 @@ export async function createCohortNormSet(
       .map(([measureId, vs]) => ({ measureId, mean: ssMean(vs), sd: sampleStandardDeviation(vs), n: vs.length }))
       .filter((v) => v.sd > 0);
     if (values.length === 0)
-      throw new NormInputError(
+      throw new UserError(
         `No measure has first baselines from at least ${MIN_COHORT_N} consented workers at ${input.siteLabel} yet.`,
       );
     const today = todayIn(await organisationTimeZone(trx));
@@ -149,5 +150,3 @@ export async function createCohortNormSet(
     return { id: r.id as number, measures: values.length };
   });
 }
-
-export class NormInputError extends Error {}

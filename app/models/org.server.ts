@@ -1,16 +1,22 @@
 import { nowInstant } from "~/dates";
 import { db } from "~/db.server";
+import { conflict, notFound } from "~/errors";
 
-export class DuplicateCodeError extends Error {}
-
-export async function createSite(v: { code: string; name: string; timeZone: string }): Promise<number> {
+/** Adds a site; without a zone it takes the organisation's default zone. */
+export async function createSite(v: { code: string; name: string; timeZone?: string }): Promise<number> {
   return db().transaction(async (trx) => {
     if (await trx("sites").where({ code: v.code }).first("id"))
-      throw new DuplicateCodeError(`Site code ${v.code} is already used.`);
-    const org = await trx("organisations").first("id");
+      throw conflict(`Site code ${v.code} is already used.`, "code");
+    const org = await trx("organisations").orderBy("id").first("id", "time_zone");
     if (!org) throw new Error("No organisation is set up.");
     const [r] = await trx("sites")
-      .insert({ organisation_id: org.id, code: v.code, name: v.name, time_zone: v.timeZone, created_at: nowInstant() })
+      .insert({
+        organisation_id: org.id,
+        code: v.code,
+        name: v.name,
+        time_zone: v.timeZone ?? org.time_zone,
+        created_at: nowInstant(),
+      })
       .returning("id");
     return r.id as number;
   });
@@ -29,9 +35,9 @@ export async function setOrganisationTimeZone(timeZone: string): Promise<void> {
 export async function createDepartment(v: { siteId: number; code: string; name: string }): Promise<number> {
   return db().transaction(async (trx) => {
     if (!(await trx("sites").where({ id: v.siteId }).first("id")))
-      throw new DuplicateCodeError("That site does not exist.");
+      throw notFound("That site does not exist.", "siteId");
     if (await trx("departments").where({ site_id: v.siteId, code: v.code }).first("id"))
-      throw new DuplicateCodeError(`Department code ${v.code} is already used at this site.`);
+      throw conflict(`Department code ${v.code} is already used at this site.`, "code");
     const [r] = await trx("departments")
       .insert({ site_id: v.siteId, code: v.code, name: v.name, created_at: nowInstant() })
       .returning("id");

@@ -1,5 +1,6 @@
 import type { ProficiencyCriterion } from "~/compute/proficiency-rule";
 import { type Db, db } from "~/db.server";
+import { notFound } from "~/errors";
 
 // Proficiency criteria per device type, set by an assessor.
 export interface CriterionRow extends ProficiencyCriterion {
@@ -46,15 +47,13 @@ export async function getCriterion(deviceTypeId: number, k: Db = db()): Promise<
   return r ? { scoreThreshold: Number(r.score_threshold), consecutiveSessions: Number(r.consecutive_sessions) } : null;
 }
 
-export class UnknownDeviceTypeError extends Error {}
-
 export async function setCriterion(
   input: { deviceTypeId: number } & ProficiencyCriterion,
   userId: number,
 ): Promise<void> {
   await db().transaction(async (trx) => {
     if (!(await trx("device_types").where({ id: input.deviceTypeId }).first("id")))
-      throw new UnknownDeviceTypeError("That device type does not exist.");
+      throw notFound("That device type does not exist.");
     const row = {
       score_threshold: input.scoreThreshold,
       consecutive_sessions: input.consecutiveSessions,

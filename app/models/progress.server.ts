@@ -3,6 +3,7 @@ import { can } from "~/auth/permissions";
 import { firstProficientIndex } from "~/compute/proficiency-rule";
 import { curvePoints } from "~/compute/progress-update";
 import { type Db, db } from "~/db.server";
+import { UserError } from "~/errors";
 import { latestConsent } from "./consent.server";
 import { loggedSessions, recordOutcome, type UpsertResult, upsertForecast, workerInScope } from "./forecast.server";
 import { getCriterion } from "./proficiency.server";
@@ -12,12 +13,10 @@ import { whereWorkerInScope } from "./workers.server";
 // logSessionResult is shared with the trainer portal: cumulative hours, the course, proficiency, the stage
 // and the forecast all change in the same transaction.
 
-export class SessionLogError extends Error {
-  constructor(
-    message: string,
-    readonly field?: string,
-  ) {
-    super(message);
+/** A UserError (409); routes not yet on formAction still tell it apart by name. */
+export class SessionLogError extends UserError {
+  constructor(message: string, field?: string) {
+    super(message, { status: 409, field });
   }
 }
 

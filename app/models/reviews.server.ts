@@ -2,6 +2,7 @@ import type { Knex } from "knex";
 import type { Principal } from "~/auth/guard.server";
 import { appUrl } from "~/config.server";
 import { type Db, db, type Row } from "~/db.server";
+import { conflict, notFound } from "~/errors";
 import { sendMail } from "~/mail.server";
 import type { ReviewRequestInput } from "~/schemas/portal";
 import { REVIEW_SUBJECT_LABELS } from "~/schemas/portal";
@@ -10,15 +11,6 @@ import { whereWorkerInScope } from "./workers.server";
 // Review requests (docs/consent-and-disclosure.md): a worker contests their forecast or plan; assessors whose scope covers
 // the worker answer in the app and the worker is e-mailed the answer.
 
-export class ReviewError extends Error {
-  constructor(
-    message: string,
-    readonly field?: string,
-  ) {
-    super(message);
-  }
-}
-
 export async function createReviewRequest(
   workerId: number,
   userId: number,
@@ -26,13 +18,13 @@ export async function createReviewRequest(
 ): Promise<number> {
   return db().transaction(async (trx) => {
     if (input.deviceTypeId != null && !(await trx("device_types").where({ id: input.deviceTypeId }).first("id"))) {
-      throw new ReviewError("Device: choose one of your devices or leave it empty.", "deviceTypeId");
+      throw conflict("Device: choose one of your devices or leave it empty.", "deviceTypeId");
     }
     const open = await trx("review_requests")
       .where({ worker_id: workerId, status: "open" })
       .count<{ n: number }[]>({ n: "*" });
     if (Number(open[0]?.n ?? 0) >= 5)
-      throw new ReviewError("You already have 5 open requests; please wait for an answer first.", "_form");
+      throw conflict("You already have 5 open requests; please wait for an answer first.");
     const [row] = await trx("review_requests")
       .insert({
         worker_id: workerId,
@@ -146,8 +138,8 @@ export async function answerReview(
         "workers.given_name",
       );
     const r = await whereWorkerInScope(q as Knex.QueryBuilder, p.scope).first();
-    if (!r) throw new ReviewError("This review request is not in your scope.", "_form");
-    if (r.status !== "open") throw new ReviewError("This request has already been answered.", "_form");
+    if (!r) throw notFound("This review request is not in your scope.");
+    if (r.status !== "open") throw conflict("This request has already been answered.");
     await trx("review_requests")
       .where({ id: r.id })
       .update({ status: "answered", answer, answered_by: p.user.id, answered_at: new Date().toISOString() });

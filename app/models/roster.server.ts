@@ -7,6 +7,7 @@ import type { Principal } from "~/auth/guard.server";
 import type { Scope } from "~/auth/scope";
 import { dateIn } from "~/dates";
 import { type Db, db } from "~/db.server";
+import { conflict, notFound, UserError } from "~/errors";
 import {
   guessMapping,
   MAX_ROSTER_ROWS,
@@ -25,7 +26,12 @@ import { whereWorkerInScope } from "./workers.server";
 
 // Roster import and export, and the worker list.
 
-export class RosterFileError extends Error {}
+/** A UserError (400); routes not yet on formAction still tell it apart by name. */
+export class RosterFileError extends UserError {
+  constructor(message: string) {
+    super(message, { status: 400 });
+  }
+}
 
 export interface RosterTable {
   headers: string[];
@@ -340,15 +346,12 @@ export async function applyRosterPlan(
   };
 }
 
-export class RosterStateError extends Error {}
-
 /** Imports the valid rows of an upload in one transaction, records the summary and clears the rows. */
 export async function importRosterUpload(id: number, principal: Principal & { kind: "user" }): Promise<RosterSummary> {
   return db().transaction(async (trx) => {
     const up = await getRosterUpload(id, principal.user.id, trx);
-    if (!up) throw new RosterStateError("That roster upload does not exist.");
-    if (up.status !== "uploaded" || !up.rows)
-      throw new RosterStateError(`That roster upload was already ${up.status}.`);
+    if (!up) throw notFound("That roster upload does not exist.");
+    if (up.status !== "uploaded" || !up.rows) throw conflict(`That roster upload was already ${up.status}.`);
     const plan = await planRoster(up.rows, up.mapping, principal.scope, trx);
     const summary = await applyRosterPlan(trx, plan, principal.user.id);
     await trx("roster_imports")

@@ -8,6 +8,7 @@ import {
   wallClockToInstant,
 } from "~/dates";
 import { type Db, db, type Row } from "~/db.server";
+import { conflict } from "~/errors";
 import type { TrainerLogInput } from "~/schemas/session-log";
 import { adverseEventsFrom } from "~/schemas/session-log";
 import { eventsForSessions, notifyAssessorsOfSevereEvents, recordAdverseEvents } from "./adverse-events.server";
@@ -156,21 +157,11 @@ export async function trainerSession(trainerId: number, sessionId: number, k: Db
   return { ...s, events: await eventsForSessions([s.id], k) };
 }
 
-export class TrainerDayError extends Error {
-  constructor(
-    message: string,
-    readonly field?: string,
-  ) {
-    super(message);
-  }
-}
-
 export async function markNoShow(trainerId: number, sessionId: number, userId: number): Promise<void> {
   await db().transaction(async (trx) => {
     const s = await trx("training_sessions").where({ id: sessionId, trainer_id: trainerId }).first("id", "status");
-    if (!s) throw new TrainerDayError("This session is not on your schedule.");
-    if (s.status !== "scheduled")
-      throw new TrainerDayError(`This session is already recorded as ${s.status.replace("_", "-")}.`);
+    if (!s) throw conflict("This session is not on your schedule.");
+    if (s.status !== "scheduled") throw conflict(`This session is already recorded as ${s.status.replace("_", "-")}.`);
     await trx("training_sessions")
       .where({ id: s.id })
       .update({ status: "no_show", logged_by: userId, logged_at: nowInstant() });
@@ -204,7 +195,7 @@ export async function logTrainerSession(input: {
     ["end", input.form.end],
   ] as const)
     if (!wallClockExists(w, zone))
-      throw new TrainerDayError(
+      throw conflict(
         `${field === "start" ? "Start" : "End"}: ${w.slice(11, 16)} does not exist on ${w.slice(0, 10)} in ${zone} (the clocks go forward then).`,
         field,
       );
@@ -215,9 +206,9 @@ export async function logTrainerSession(input: {
     const s = await trx("training_sessions")
       .where({ id: input.sessionId, trainer_id: input.trainer.id })
       .first("id", "worker_id", "device_type_id", "status");
-    if (!s) throw new TrainerDayError("This session is not on your schedule.");
+    if (!s) throw conflict("This session is not on your schedule.");
     if (s.status !== "scheduled")
-      throw new TrainerDayError(`This session is already recorded as ${String(s.status).replace("_", "-")}.`);
+      throw conflict(`This session is already recorded as ${String(s.status).replace("_", "-")}.`);
     const r = await logSessionResult(
       {
         workerId: s.worker_id,

@@ -2,6 +2,7 @@ import type { Principal } from "~/auth/guard.server";
 import type { Scope } from "~/auth/scope";
 import { dayOf, hhmmOfWallClock, todayIn, wallClock } from "~/dates";
 import { db } from "~/db.server";
+import { conflict, notFound } from "~/errors";
 import type { TableQuery } from "~/schemas/table-query";
 import { paged } from "./paging.server";
 import { whereWorkerInScope } from "./workers.server";
@@ -10,12 +11,9 @@ import { whereWorkerInScope } from "./workers.server";
 // weekly working pattern, leave, trainees per session) and trainees' training fields (max hours per week,
 // priority with a reason, leave). No health data here: forecast hours are shown on the run pages.
 
-export class TrainingAdminError extends Error {}
-
 async function trainerInScope(scope: Scope, trainerId: number) {
   const t = await db()("trainers").where({ id: trainerId }).first("id", "site_id");
-  if (!t || (!scope.allSites && !scope.siteIds.includes(t.site_id)))
-    throw new TrainingAdminError("No such trainer at your sites.");
+  if (!t || (!scope.allSites && !scope.siteIds.includes(t.site_id))) throw notFound("No such trainer at your sites.");
   return t;
 }
 
@@ -84,7 +82,7 @@ export async function updateTrainer(
       (d) => d.id as number,
     );
     if (known.length !== new Set(v.deviceTypeIds).size)
-      throw new TrainingAdminError("A chosen device type does not exist.");
+      throw notFound("A chosen device type does not exist.", "deviceTypeIds");
     await trx("trainers")
       .where({ id: trainerId })
       .update({ hours_per_week: v.hoursPerWeek, trainees_per_session: v.traineesPerSession });
@@ -120,7 +118,7 @@ export async function addPattern(
       .where({ trainer_id: trainerId, weekday: v.weekday })
       .select("start_time", "end_time");
     if (same.some((s) => v.startTime < s.end_time && s.start_time < v.endTime))
-      throw new TrainingAdminError("This time overlaps another working window on the same weekday.");
+      throw conflict("This time overlaps another working window on the same weekday.", "startTime");
     await trx("trainer_working_pattern").insert({
       trainer_id: trainerId,
       weekday: v.weekday,
@@ -292,7 +290,7 @@ export async function saveTrainingFields(
   workerId: number,
   v: { maxHoursPerWeek: number | null; priority: number; priorityReason: string | null },
 ) {
-  if (!(await workerRow(p.scope, workerId))) throw new TrainingAdminError("No such worker in your scope.");
+  if (!(await workerRow(p.scope, workerId))) throw notFound("No such worker in your scope.");
   const row = {
     max_hours_per_week: v.maxHoursPerWeek,
     priority: v.priority,
@@ -311,7 +309,7 @@ export async function addWorkerLeave(
   workerId: number,
   v: { startsOn: string; endsOn: string; reason: string | null },
 ) {
-  if (!(await workerRow(p.scope, workerId))) throw new TrainingAdminError("No such worker in your scope.");
+  if (!(await workerRow(p.scope, workerId))) throw notFound("No such worker in your scope.");
   await db()("worker_leave").insert({
     worker_id: workerId,
     starts_on: v.startsOn,
@@ -322,6 +320,6 @@ export async function addWorkerLeave(
 }
 
 export async function removeWorkerLeave(p: Principal, workerId: number, id: number) {
-  if (!(await workerRow(p.scope, workerId))) throw new TrainingAdminError("No such worker in your scope.");
+  if (!(await workerRow(p.scope, workerId))) throw notFound("No such worker in your scope.");
   await db()("worker_leave").where({ id, worker_id: workerId }).del();
 }

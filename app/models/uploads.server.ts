@@ -4,10 +4,16 @@ import {
   MultipartParseError,
   parseFormData,
 } from "@remix-run/form-data-parser";
+import { UserError } from "~/errors";
 
 // Multipart uploads (@remix-run/form-data-parser) with a size cap: the file is read into memory only
 // up to `maxBytes`; a larger file is refused with a message naming the limit.
-export class UploadError extends Error {}
+/** A UserError (413); routes not yet on formAction still tell it apart by name. */
+export class UploadError extends UserError {
+  constructor(message: string) {
+    super(message, { status: 413 });
+  }
+}
 
 export interface UploadedFile {
   name: string;

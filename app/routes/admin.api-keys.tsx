@@ -1,12 +1,13 @@
-import { data, Form, useActionData } from "react-router";
+import { Form, useActionData } from "react-router";
 import { createApiKey, revokeApiKey } from "~/auth/api-keys.server";
 import { requireUser } from "~/auth/guard.server";
 import { ROLE_LABELS, ROLES } from "~/auth/permissions";
-import { FormError, SelectField, TextField } from "~/components/fields";
+import { ActionErrors, ActionForm, ActionNotice, SelectField, TextField } from "~/components/fields";
 import { db } from "~/db.server";
+import { notFound } from "~/errors";
+import { formAction } from "~/forms.server";
 import { listSites } from "~/models/sites.server";
-import { apiKeySchema } from "~/schemas/admin";
-import { formToObject, parseWith } from "~/schemas/form";
+import { apiKeyFormSchema } from "~/schemas/admin";
 import type { Route } from "./+types/admin.api-keys";
 
 export const meta: Route.MetaFunction = () => [{ title: "API keys · Limberly" }];
@@ -43,26 +44,19 @@ export async function loader({ request }: Route.LoaderArgs) {
 
 export async function action({ request }: Route.ActionArgs) {
   const me = await requireUser(request, "admin.apikeys");
-  const form = formToObject(await request.formData());
-  if (form.intent === "revoke") {
-    const ok = await revokeApiKey(Number(form.keyId));
-    return ok
-      ? { errors: null, created: null, revoked: true }
-      : data(
-          { errors: { _form: "That key is already revoked or does not exist." }, created: null, revoked: false },
-          { status: 404 },
-        );
-  }
-  const p = parseWith(apiKeySchema, form);
-  if (!p.ok) return data({ errors: p.errors, created: null, revoked: false }, { status: 400 });
-  const created = await createApiKey({ ...p.data, createdBy: me.user.id });
-  return { errors: null, created, revoked: false };
+  return formAction(await request.formData(), apiKeyFormSchema, async (v) => {
+    if (v.intent === "revoke") {
+      if (!(await revokeApiKey(v.keyId))) throw notFound("That key is already revoked or does not exist.");
+      return { notice: "Key revoked.", payload: null };
+    }
+    const created = await createApiKey({ ...v, createdBy: me.user.id });
+    return { notice: null, payload: created };
+  });
 }
 
 export default function AdminApiKeys({ loaderData }: Route.ComponentProps) {
   const { keys, sites } = loaderData;
   const r = useActionData<typeof action>();
-  const errors = (r?.errors ?? {}) as Record<string, string>;
   return (
     <div className="grid gap-6">
       <h1 className="page-title">API keys</h1>
@@ -70,15 +64,16 @@ export default function AdminApiKeys({ loaderData }: Route.ComponentProps) {
         Keys let other systems call <code>/api/v1</code> with <code>Authorization: Bearer &lt;key&gt;</code>. Each key
         has one role and the sites it may reach.
       </p>
-      {r?.created && (
+      <ActionNotice result={r} />
+      {r?.payload && (
         <div role="status" className="card border-spruce-600">
           <p className="font-semibold">New key — copy it now, it will not be shown again:</p>
           <code className="mt-2 block break-all rounded bg-spruce-50 p-2" data-testid="new-api-key">
-            {r.created.key}
+            {r.payload.key}
           </code>
         </div>
       )}
-      <FormError message={errors._form} />
+      <ActionErrors result={r} intent="revoke" />
       <section className="card overflow-x-auto p-0" tabIndex={0} aria-label="API keys">
         <table className="table-base">
           <caption className="sr-only">API keys</caption>
@@ -135,14 +130,12 @@ export default function AdminApiKeys({ loaderData }: Route.ComponentProps) {
         <h2 id="new-key" className="text-lg font-semibold">
           Create a key
         </h2>
-        <Form method="post" className="mt-3 grid gap-4 sm:grid-cols-3">
-          <input type="hidden" name="intent" value="create" />
-          <TextField name="name" label="Name (the calling system)" required error={errors.name} />
+        <ActionForm intent="create" result={r} className="mt-3 grid gap-4 sm:grid-cols-3">
+          <TextField name="name" label="Name (the calling system)" required />
           <SelectField
             name="role"
             label="Role"
             required
-            error={errors.role}
             options={ROLES.filter((x) => x !== "worker").map((x) => ({ value: x, label: ROLE_LABELS[x] }))}
           />
           <SelectField
@@ -150,7 +143,6 @@ export default function AdminApiKeys({ loaderData }: Route.ComponentProps) {
             label="Sites"
             multiple
             required
-            error={errors.siteIds}
             options={sites.map((s) => ({ value: String(s.id), label: s.name }))}
             hint="Hold Ctrl or ⌘ to choose several."
           />
@@ -159,7 +151,7 @@ export default function AdminApiKeys({ loaderData }: Route.ComponentProps) {
               Create key
             </button>
           </div>
-        </Form>
+        </ActionForm>
       </section>
     </div>
   );

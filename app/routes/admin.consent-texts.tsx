@@ -1,9 +1,9 @@
-import { data, Form, useActionData } from "react-router";
+import { useActionData } from "react-router";
 import { requireUser } from "~/auth/guard.server";
-import { Notice, SelectField, TextArea, TextField } from "~/components/fields";
-import { createConsentText, DuplicateVersionError, listConsentTexts } from "~/models/consent-texts.server";
+import { ActionForm, ActionNotice, SelectField, TextArea, TextField } from "~/components/fields";
+import { formAction } from "~/forms.server";
+import { createConsentText, listConsentTexts } from "~/models/consent-texts.server";
 import { consentTextSchema } from "~/schemas/admin";
-import { formToObject, parseWith } from "~/schemas/form";
 import type { Route } from "./+types/admin.consent-texts";
 
 export const meta: Route.MetaFunction = () => [{ title: "Consent texts · Limberly" }];
@@ -21,24 +21,14 @@ export async function loader({ request }: Route.LoaderArgs) {
 
 export async function action({ request }: Route.ActionArgs) {
   const me = await requireUser(request, "admin.consenttexts");
-  const p = parseWith(consentTextSchema, formToObject(await request.formData()));
-  if (!p.ok) return data({ errors: p.errors, done: null }, { status: 400 });
-  try {
-    await createConsentText({ ...p.data, createdBy: me.user.id });
-    return {
-      errors: null,
-      done: `Version ${p.data.version} of the ${p.data.purpose} text saved. Workers will be asked to renew consent from ${p.data.effectiveFrom}.`,
-    };
-  } catch (e) {
-    if (e instanceof DuplicateVersionError)
-      return data({ errors: { version: e.message }, done: null }, { status: 409 });
-    throw e;
-  }
+  return formAction(await request.formData(), consentTextSchema, async (v) => {
+    await createConsentText({ ...v, createdBy: me.user.id });
+    return `Version ${v.version} of the ${v.purpose} text saved. Workers will be asked to renew consent from ${v.effectiveFrom}.`;
+  });
 }
 
 export default function AdminConsentTexts({ loaderData }: Route.ComponentProps) {
   const r = useActionData<typeof action>();
-  const errors = (r?.errors ?? {}) as Record<string, string>;
   return (
     <div className="grid gap-6">
       <h1 className="page-title">Consent texts</h1>
@@ -46,7 +36,7 @@ export default function AdminConsentTexts({ loaderData }: Route.ComponentProps) 
         Each purpose is consented to separately. Texts are versioned, never edited: a new version asks every worker to
         renew consent.
       </p>
-      {r?.done && <Notice>{r.done}</Notice>}
+      <ActionNotice result={r} />
       <div className="grid gap-3">
         {loaderData.texts.map((t) => (
           <article key={t.id} className="card">
@@ -65,25 +55,24 @@ export default function AdminConsentTexts({ loaderData }: Route.ComponentProps) 
         <h2 id="new-text" className="text-lg font-semibold">
           Add a version
         </h2>
-        <Form method="post" className="mt-3 grid gap-4 sm:grid-cols-3">
+        <ActionForm result={r} className="mt-3 grid gap-4 sm:grid-cols-3">
           <SelectField
             name="purpose"
             label="Purpose"
             required
-            error={errors.purpose}
             options={Object.entries(PURPOSE_LABEL).map(([value, label]) => ({ value, label }))}
           />
-          <TextField name="version" label="Version" required error={errors.version} hint="e.g. 1.1" />
-          <TextField name="effectiveFrom" label="In force from" type="date" required error={errors.effectiveFrom} />
+          <TextField name="version" label="Version" required hint="e.g. 1.1" />
+          <TextField name="effectiveFrom" label="In force from" type="date" required />
           <div className="sm:col-span-3">
-            <TextArea name="body" label="Text shown to the worker" required error={errors.body} rows={6} />
+            <TextArea name="body" label="Text shown to the worker" required rows={6} />
           </div>
           <div className="sm:col-span-3">
             <button type="submit" className="btn-primary">
               Save version
             </button>
           </div>
-        </Form>
+        </ActionForm>
       </section>
     </div>
   );

@@ -1,8 +1,8 @@
-import { data, Form, useActionData, useNavigation } from "react-router";
+import { useActionData, useNavigation } from "react-router";
 import { requireUser } from "~/auth/guard.server";
-import { FormError, Notice, TextField } from "~/components/fields";
+import { ActionForm, ActionNotice, FormError, TextField, useFieldWiring } from "~/components/fields";
+import { formAction } from "~/forms.server";
 import { organisationSettings, updateOrganisationSettings } from "~/models/readiness.server";
-import { formToObject, parseWith } from "~/schemas/form";
 import { GROUPING_LABELS, GROUPINGS, MAX_THRESHOLD, organisationSettingsSchema } from "~/schemas/readiness";
 import type { Route } from "./+types/admin.organisation";
 
@@ -16,11 +16,10 @@ export async function loader({ request }: Route.LoaderArgs) {
 
 export async function action({ request }: Route.ActionArgs) {
   await requireUser(request, "admin.settings");
-  const form = formToObject(await request.formData());
-  const p = parseWith(organisationSettingsSchema, form);
-  if (!p.ok) return data({ errors: p.errors, done: null }, { status: 400 });
-  await updateOrganisationSettings(p.data);
-  return { errors: null, done: "Settings saved. Managers' pages, exports and the API use them from now on." };
+  return formAction(await request.formData(), organisationSettingsSchema, async (v) => {
+    await updateOrganisationSettings(v);
+    return "Settings saved. Managers' pages, exports and the API use them from now on.";
+  });
 }
 
 const HINTS: Record<(typeof GROUPINGS)[number], string> = {
@@ -34,7 +33,6 @@ const HINTS: Record<(typeof GROUPINGS)[number], string> = {
 export default function OrganisationSettingsPage({ loaderData }: Route.ComponentProps) {
   const r = useActionData<typeof action>();
   const nav = useNavigation();
-  const errors = (r?.errors ?? {}) as Record<string, string>;
   return (
     <div className="grid max-w-3xl gap-6">
       <div>
@@ -44,56 +42,65 @@ export default function OrganisationSettingsPage({ loaderData }: Route.Component
           fixed groupings, never filters or individual records.
         </p>
       </div>
-      {r?.done && <Notice>{r.done}</Notice>}
-      <FormError message={r?.errors ? "Please correct the fields marked below." : undefined} />
-      <Form method="post" className="card grid gap-5" noValidate>
+      <ActionNotice result={r} />
+      <FormError message={r?.result.status === "error" ? "Please correct the fields marked below." : undefined} />
+      <ActionForm result={r} className="card grid gap-5">
         <TextField
           name="disclosureThreshold"
           label="Smallest group size shown to managers"
           type="number"
           required
           defaultValue={String(loaderData.threshold)}
-          error={errors.disclosureThreshold}
           hint={`At least 5, at most ${MAX_THRESHOLD}. Counts of 1 to this number minus 1 are hidden, together with any number that would give them away; medians and shares need a group at least this large.`}
         />
-        <fieldset aria-describedby={errors.groupings ? "groupings-error" : "groupings-hint"}>
-          <legend className="field-label">Groupings managers see</legend>
-          <p id="groupings-hint" className="mt-1 text-sm text-ink-soft">
-            At least one of site or department, and at least one of the others.
-          </p>
-          <div className="mt-2 grid gap-2">
-            {GROUPINGS.map((g) => (
-              <div key={g} className="flex items-start gap-3">
-                <input
-                  id={`grouping-${g}`}
-                  type="checkbox"
-                  name="groupings"
-                  value={g}
-                  defaultChecked={loaderData.groupings.includes(g)}
-                  className="mt-1 h-5 w-5 accent-spruce-700"
-                  aria-describedby={`grouping-${g}-hint`}
-                />
-                <div>
-                  <label htmlFor={`grouping-${g}`} className="font-medium">
-                    {GROUPING_LABELS[g]}
-                  </label>
-                  <p id={`grouping-${g}-hint`} className="text-sm text-ink-soft">
-                    {HINTS[g]}
-                  </p>
-                </div>
-              </div>
-            ))}
-          </div>
-          {errors.groupings && (
-            <p id="groupings-error" className="field-error">
-              {errors.groupings}
-            </p>
-          )}
-        </fieldset>
+        <Groupings chosen={loaderData.groupings} />
         <button type="submit" className="btn-primary justify-self-start" disabled={nav.state === "submitting"}>
           Save settings
         </button>
-      </Form>
+      </ActionForm>
     </div>
+  );
+}
+
+/** The groupings as checkboxes, each with its own hint; one error for the set. */
+function Groupings({ chosen }: { chosen: readonly string[] }) {
+  const hint = "At least one of site or department, and at least one of the others.";
+  const f = useFieldWiring("groupings", undefined, hint);
+  return (
+    <fieldset aria-describedby={f.aria["aria-describedby"]}>
+      <legend className="field-label">Groupings managers see</legend>
+      <p id={`${f.id}-hint`} className="mt-1 text-sm text-ink-soft">
+        {hint}
+      </p>
+      <div className="mt-2 grid gap-2">
+        {GROUPINGS.map((g) => (
+          <div key={g} className="flex items-start gap-3">
+            <input
+              id={`${f.id}-${g}`}
+              type="checkbox"
+              name="groupings"
+              value={g}
+              defaultChecked={chosen.includes(g)}
+              className="mt-1 h-5 w-5 accent-spruce-700"
+              aria-invalid={f.aria["aria-invalid"]}
+              aria-describedby={`${f.id}-${g}-hint`}
+            />
+            <div>
+              <label htmlFor={`${f.id}-${g}`} className="font-medium">
+                {GROUPING_LABELS[g]}
+              </label>
+              <p id={`${f.id}-${g}-hint`} className="text-sm text-ink-soft">
+                {HINTS[g]}
+              </p>
+            </div>
+          </div>
+        ))}
+      </div>
+      {f.message && (
+        <p id={`${f.id}-error`} className="field-error">
+          {f.message}
+        </p>
+      )}
+    </fieldset>
   );
 }

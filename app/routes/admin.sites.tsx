@@ -1,19 +1,19 @@
-import { data, Form, useActionData } from "react-router";
+import { useActionData } from "react-router";
 import { requireUser } from "~/auth/guard.server";
-import { Notice, SelectField, TextField } from "~/components/fields";
+import { ActionForm, ActionNotice, SelectField, TextField } from "~/components/fields";
 import { siteOptions } from "~/components/scope-options";
 import { timeZoneNames } from "~/dates";
+import { notFound } from "~/errors";
+import { formAction } from "~/forms.server";
 import {
   createDepartment,
   createSite,
-  DuplicateCodeError,
   departmentHeadcounts,
   setOrganisationTimeZone,
   setSiteTimeZone,
 } from "~/models/org.server";
 import { listDepartments, listSites, organisationTimeZone } from "~/models/sites.server";
-import { departmentSchema, organisationTimeZoneSchema, siteSchema, siteTimeZoneSchema } from "~/schemas/admin";
-import { formToObject, parseWith } from "~/schemas/form";
+import { sitesFormSchema } from "~/schemas/admin";
 import type { Route } from "./+types/admin.sites";
 
 export const meta: Route.MetaFunction = () => [{ title: "Sites and departments · Limberly" }];
@@ -29,50 +29,33 @@ export async function loader({ request }: Route.LoaderArgs) {
   return { sites, departments, headcounts, defaultZone, zones: timeZoneNames() };
 }
 
-const INTENTS = ["site", "department", "siteZone", "orgZone"] as const;
-type Intent = (typeof INTENTS)[number];
-
 export async function action({ request }: Route.ActionArgs) {
   await requireUser(request, "admin.sites");
-  const form = formToObject(await request.formData());
-  const intent: Intent = INTENTS.find((i) => i === form.intent) ?? "site";
-  // Per-site forms report their errors under their own site id.
-  const key = intent === "siteZone" ? `siteZone-${form.siteId}` : intent;
-  const fail = (errors: Record<string, string>, status = 400) => data({ intent: key, errors, done: null }, { status });
-  if (intent === "siteZone") {
-    const p = parseWith(siteTimeZoneSchema, form);
-    if (!p.ok) return fail(p.errors);
-    if (!(await setSiteTimeZone(p.data.siteId, p.data.timeZone)))
-      return fail({ timeZone: "That site does not exist." }, 404);
-    return { intent: key, errors: null, done: `Time zone set to ${p.data.timeZone}.` };
-  }
-  if (intent === "orgZone") {
-    const p = parseWith(organisationTimeZoneSchema, form);
-    if (!p.ok) return fail(p.errors);
-    await setOrganisationTimeZone(p.data.timeZone);
-    return { intent: key, errors: null, done: `New sites start with ${p.data.timeZone}.` };
-  }
-  const p = intent === "site" ? parseWith(siteSchema, form) : parseWith(departmentSchema, form);
-  if (!p.ok) return fail(p.errors);
-  try {
-    if (intent === "site") await createSite(p.data as { code: string; name: string; timeZone: string });
-    else await createDepartment(p.data as { siteId: number; code: string; name: string });
-    return { intent, errors: null, done: `${intent === "site" ? "Site" : "Department"} added.` };
-  } catch (e) {
-    if (e instanceof DuplicateCodeError)
-      return data({ intent, errors: { code: e.message }, done: null }, { status: 409 });
-    throw e;
-  }
+  return formAction(await request.formData(), sitesFormSchema, async (v) => {
+    switch (v.intent) {
+      case "site":
+        await createSite(v);
+        return "Site added.";
+      case "department":
+        await createDepartment(v);
+        return "Department added.";
+      case "siteZone":
+        if (!(await setSiteTimeZone(v.siteId, v.timeZone))) throw notFound("That site does not exist.", "timeZone");
+        return `Time zone set to ${v.timeZone}.`;
+      case "orgZone":
+        await setOrganisationTimeZone(v.timeZone);
+        return `New sites start with ${v.timeZone}.`;
+    }
+  });
 }
 
 export default function AdminSites({ loaderData }: Route.ComponentProps) {
   const { sites, departments, headcounts, defaultZone, zones } = loaderData;
   const r = useActionData<typeof action>();
-  const errs = (i: string) => (r?.intent === i ? (r.errors ?? {}) : {}) as Record<string, string>;
   return (
     <div className="grid gap-6">
       <h1 className="page-title">Sites and departments</h1>
-      {r?.done && <Notice>{r.done}</Notice>}
+      <ActionNotice result={r} />
       <datalist id="time-zones">
         {zones.map((z) => (
           <option key={z} value={z} />
@@ -96,19 +79,18 @@ export default function AdminSites({ loaderData }: Route.ComponentProps) {
                   </li>
                 ))}
             </ul>
-            <Form method="post" className="mt-3 flex flex-wrap items-end gap-2">
-              <input type="hidden" name="intent" value="siteZone" />
+            <ActionForm
+              intent="siteZone"
+              match={{ siteId: String(s.id) }}
+              result={r}
+              className="mt-3 flex flex-wrap items-end gap-2"
+            >
               <input type="hidden" name="siteId" value={s.id} />
-              <ZoneInput
-                id={`zone-${s.id}`}
-                label={`Time zone of ${s.name}`}
-                defaultValue={s.timeZone}
-                error={errs(`siteZone-${s.id}`).timeZone}
-              />
+              <ZoneInput label={`Time zone of ${s.name}`} defaultValue={s.timeZone} />
               <button type="submit" className="btn-quiet">
                 Save zone
               </button>
-            </Form>
+            </ActionForm>
           </section>
         ))}
       </div>
@@ -120,53 +102,39 @@ export default function AdminSites({ loaderData }: Route.ComponentProps) {
           Session times are the site's wall-clock times: shown, exported and compared (today, this week) in the site's
           zone. Sign-ins and access-log times are shown in the viewer's site zone, named beside the time.
         </p>
-        <Form method="post" className="mt-3 flex flex-wrap items-end gap-2">
-          <input type="hidden" name="intent" value="orgZone" />
-          <ZoneInput
-            id="zone-org"
-            label="Default time zone"
-            defaultValue={defaultZone}
-            error={errs("orgZone").timeZone}
-          />
+        <ActionForm intent="orgZone" result={r} className="mt-3 flex flex-wrap items-end gap-2">
+          <ZoneInput label="Default time zone" defaultValue={defaultZone} />
           <button type="submit" className="btn-quiet">
             Save default
           </button>
-        </Form>
+        </ActionForm>
       </section>
       <div className="grid gap-4 md:grid-cols-2">
         <section className="card" aria-labelledby="add-site">
           <h2 id="add-site" className="text-lg font-semibold">
             Add a site
           </h2>
-          <Form method="post" className="mt-3 grid gap-3">
-            <input type="hidden" name="intent" value="site" />
-            <TextField name="code" label="Code" required error={errs("site").code} />
-            <TextField name="name" label="Name" required error={errs("site").name} />
-            <ZoneInput id="zone-new" label="Time zone" defaultValue={defaultZone} error={errs("site").timeZone} />
+          <ActionForm intent="site" result={r} className="mt-3 grid gap-3">
+            <TextField name="code" label="Code" required />
+            <TextField name="name" label="Name" required />
+            <ZoneInput label="Time zone" defaultValue={defaultZone} />
             <button type="submit" className="btn-primary justify-self-start">
               Add site
             </button>
-          </Form>
+          </ActionForm>
         </section>
         <section className="card" aria-labelledby="add-dept">
           <h2 id="add-dept" className="text-lg font-semibold">
             Add a department
           </h2>
-          <Form method="post" className="mt-3 grid gap-3">
-            <input type="hidden" name="intent" value="department" />
-            <SelectField
-              name="siteId"
-              label="Site"
-              required
-              error={errs("department").siteId}
-              options={siteOptions(sites)}
-            />
-            <TextField name="code" label="Code" required error={errs("department").code} />
-            <TextField name="name" label="Name" required error={errs("department").name} />
+          <ActionForm intent="department" result={r} className="mt-3 grid gap-3">
+            <SelectField name="siteId" label="Site" required options={siteOptions(sites)} />
+            <TextField name="code" label="Code" required />
+            <TextField name="name" label="Name" required />
             <button type="submit" className="btn-primary justify-self-start">
               Add department
             </button>
-          </Form>
+          </ActionForm>
         </section>
       </div>
     </div>
@@ -174,38 +142,17 @@ export default function AdminSites({ loaderData }: Route.ComponentProps) {
 }
 
 /** An IANA zone name, typed or picked from the shared list; the server checks it against the same list. */
-function ZoneInput({
-  id,
-  label,
-  defaultValue,
-  error,
-}: {
-  id: string;
-  label: string;
-  defaultValue: string;
-  error?: string;
-}) {
+function ZoneInput({ label, defaultValue }: { label: string; defaultValue: string }) {
   return (
     <div className="grow">
-      <label htmlFor={id} className="field-label">
-        {label}
-      </label>
-      <input
-        id={id}
+      <TextField
         name="timeZone"
+        label={label}
         list="time-zones"
         defaultValue={defaultValue}
         required
         autoComplete="off"
-        aria-invalid={error ? true : undefined}
-        aria-describedby={error ? `${id}-error` : undefined}
-        className="field-input"
       />
-      {error && (
-        <p id={`${id}-error`} className="field-error">
-          {error}
-        </p>
-      )}
     </div>
   );
 }

@@ -1,15 +1,15 @@
 import type { ColumnDef } from "@tanstack/react-table";
-import { data, Form, Link, useActionData, useNavigation } from "react-router";
+import { Link, useActionData, useNavigation } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { ROLE_LABELS, ROLES } from "~/auth/permissions";
-import { FormError, Notice, SelectField, TextField } from "~/components/fields";
+import { ActionForm, ActionNotice, SelectField, TextField } from "~/components/fields";
 import { departmentOptions, siteOptions } from "~/components/scope-options";
 import { ServerTable } from "~/components/server-table";
 import { formatInstant } from "~/dates";
-import { createUser, DuplicateEmailError, listUsers, type UserListRow } from "~/models/admin-users.server";
+import { formAction } from "~/forms.server";
+import { createUser, listUsers, type UserListRow } from "~/models/admin-users.server";
 import { listDepartments, listSites, viewerTimeZone } from "~/models/sites.server";
 import { createUserSchema } from "~/schemas/admin";
-import { formToObject, parseWith } from "~/schemas/form";
 import { readTableQuery } from "~/schemas/table-query";
 import type { Route } from "./+types/admin.users";
 
@@ -29,15 +29,10 @@ export async function loader({ request }: Route.LoaderArgs) {
 
 export async function action({ request }: Route.ActionArgs) {
   await requireUser(request, "admin.users");
-  const parsed = parseWith(createUserSchema, formToObject(await request.formData()));
-  if (!parsed.ok) return data({ errors: parsed.errors, created: null }, { status: 400 });
-  try {
-    const id = await createUser(parsed.data);
-    return { errors: null, created: { id, email: parsed.data.email } };
-  } catch (e) {
-    if (e instanceof DuplicateEmailError) return data({ errors: { email: e.message }, created: null }, { status: 409 });
-    throw e;
-  }
+  return formAction(await request.formData(), createUserSchema, async (v) => {
+    await createUser(v);
+    return `Added ${v.email}.`;
+  });
 }
 
 const columnsIn = (zone: string): ColumnDef<UserListRow, unknown>[] => [
@@ -65,7 +60,6 @@ export default function AdminUsers({ loaderData }: Route.ComponentProps) {
   const columns = columnsIn(timeZone);
   const result = useActionData<typeof action>();
   const busy = useNavigation().state === "submitting";
-  const errors = (result?.errors ?? {}) as Record<string, string>;
   return (
     <div className="grid gap-6">
       <h1 className="page-title">Users and roles</h1>
@@ -87,35 +81,29 @@ export default function AdminUsers({ loaderData }: Route.ComponentProps) {
           Add a user
         </h2>
         <p className="text-sm text-ink-soft">The e-mail must match the person's identity at your identity provider.</p>
-        {result?.created && (
+        {result?.notice && (
           <div className="mt-3">
-            <Notice>Added {result.created.email}.</Notice>
+            <ActionNotice result={result} />
           </div>
         )}
-        <Form method="post" className="mt-4 grid gap-4 sm:grid-cols-2" noValidate>
-          <div className="sm:col-span-2">
-            <FormError message={errors._form} />
-          </div>
-          <TextField name="email" label="E-mail" type="email" required error={errors.email} autoComplete="off" />
-          <TextField name="displayName" label="Name" required error={errors.displayName} />
+        <ActionForm result={result} className="mt-4 grid gap-4 sm:grid-cols-2">
+          <TextField name="email" label="E-mail" type="email" required autoComplete="off" />
+          <TextField name="displayName" label="Name" required />
           <SelectField
             name="role"
             label="Role"
             required
-            error={errors.role}
             options={ROLES.map((r) => ({ value: r, label: ROLE_LABELS[r] }))}
           />
           <SelectField
             name="siteId"
             label="Site"
-            error={errors.siteId}
             options={siteOptions(sites)}
             hint="Scope of the role. Admin may be organisation-wide."
           />
           <SelectField
             name="departmentId"
             label="Department (narrower scope)"
-            error={errors.departmentId}
             options={departmentOptions(departments)}
           />
           <div className="sm:col-span-2">
@@ -123,7 +111,7 @@ export default function AdminUsers({ loaderData }: Route.ComponentProps) {
               {busy ? "Adding…" : "Add user"}
             </button>
           </div>
-        </Form>
+        </ActionForm>
       </section>
     </div>
   );

@@ -1,6 +1,7 @@
 import { requireApiAccess } from "~/auth/guard.server";
+import { userErrorResponse } from "~/forms.server";
 import { recordAccess } from "~/models/access-log.server";
-import { NotInScopeError, workerForecastView } from "~/models/forecast.server";
+import { workerForecastView } from "~/models/forecast.server";
 import type { Route } from "./+types/api.v1.workers.$workerId.forecast";
 
 // GET /api/v1/workers/:workerId/forecast — for assessor- or coordinator-scoped keys (forecast.read).
@@ -15,8 +16,6 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     await recordAccess(p, request, workerId, "forecast");
     return Response.json(view, { headers: { "Cache-Control": "no-store" } });
   } catch (e) {
-    if (e instanceof NotInScopeError)
-      return Response.json({ error: "No such worker in this key's scope." }, { status: 404 });
-    throw e;
+    return userErrorResponse(e);
   }
 }

@@ -1,10 +1,10 @@
-import { data, Form, useActionData } from "react-router";
+import { Form, useActionData } from "react-router";
 import { requireUser } from "~/auth/guard.server";
-import { Notice, SelectField, TextArea, TextField } from "~/components/fields";
+import { ActionForm, ActionNotice, SelectField, TextArea, TextField } from "~/components/fields";
 import { TRACE_KINDS } from "~/compute/trace-parsing";
-import { createMeasure, DuplicateMeasureError, listMeasures, setMeasureActive } from "~/models/measures.server";
-import { measureSchema, scorableOutputs, TRACE_KIND_LABELS } from "~/schemas/assessment";
-import { formToObject, parseWith } from "~/schemas/form";
+import { formAction } from "~/forms.server";
+import { createMeasure, listMeasures, setMeasureActive } from "~/models/measures.server";
+import { measuresFormSchema, scorableOutputs, TRACE_KIND_LABELS } from "~/schemas/assessment";
 import type { Route } from "./+types/assess.measures";
 
 export const meta: Route.MetaFunction = () => [{ title: "Baseline measures · Limberly" }];
@@ -19,29 +19,19 @@ export async function loader({ request }: Route.LoaderArgs) {
 
 export async function action({ request }: Route.ActionArgs) {
   const p = await requireUser(request, "norms.manage");
-  const form = formToObject(await request.formData());
-  if (form.intent === "toggle") {
-    await setMeasureActive(Number(form.id), form.active === "true");
-    return {
-      errors: null,
-      done: form.active === "true" ? "Measure switched on." : "Measure switched off; stored results stay.",
-    };
-  }
-  const v = parseWith(measureSchema, form);
-  if (!v.ok) return data({ errors: v.errors, done: null }, { status: 400 });
-  try {
-    await createMeasure({ ...v.data, traceKind: v.data.traceKind || undefined }, p.user.id);
-  } catch (e) {
-    if (e instanceof DuplicateMeasureError) return data({ errors: { code: e.message }, done: null }, { status: 409 });
-    throw e;
-  }
-  return { errors: null, done: `Measure ${v.data.name} added.` };
+  return formAction(await request.formData(), measuresFormSchema, async (v) => {
+    if (v.intent === "toggle") {
+      await setMeasureActive(v.id, v.active);
+      return v.active ? "Measure switched on." : "Measure switched off; stored results stay.";
+    }
+    await createMeasure({ ...v, traceKind: v.traceKind || undefined }, p.user.id);
+    return `Measure ${v.name} added.`;
+  });
 }
 
 export default function Measures({ loaderData }: Route.ComponentProps) {
   const { measures, outputs } = loaderData;
   const r = useActionData<typeof action>();
-  const errors = (r?.errors ?? {}) as Record<string, string>;
   return (
     <div className="grid gap-6">
       <div>
@@ -50,7 +40,7 @@ export default function Measures({ loaderData }: Route.ComponentProps) {
           The battery: standardised tests entered by hand, and measures computed from uploaded traces.
         </p>
       </div>
-      {r?.done && <Notice>{r.done}</Notice>}
+      <ActionNotice result={r} />
       <div className="card overflow-x-auto p-0">
         <table className="table-base">
           <caption className="sr-only">Measures</caption>
@@ -99,22 +89,19 @@ export default function Measures({ loaderData }: Route.ComponentProps) {
         <h2 id="add-m" className="text-lg font-semibold">
           Add a measure
         </h2>
-        <Form method="post" className="mt-3 grid gap-4 sm:grid-cols-2" noValidate>
-          <input type="hidden" name="intent" value="create" />
-          <TextField name="name" label="Name" required error={errors.name} />
+        <ActionForm intent="create" result={r} className="mt-3 grid gap-4 sm:grid-cols-2">
+          <TextField name="name" label="Name" required />
           <TextField
             name="code"
             label="Code"
             required
-            error={errors.code}
             hint="Manual: e.g. pegboard.right. Trace: one of the outputs listed below."
           />
-          <TextField name="unit" label="Unit" required error={errors.unit} />
+          <TextField name="unit" label="Unit" required />
           <SelectField
             name="direction"
             label="Better is"
             required
-            error={errors.direction}
             options={[
               { value: "higher", label: "higher" },
               { value: "lower", label: "lower" },
@@ -124,7 +111,6 @@ export default function Measures({ loaderData }: Route.ComponentProps) {
             name="entry"
             label="Entry"
             required
-            error={errors.entry}
             options={[
               { value: "manual", label: "Manual score" },
               { value: "trace", label: "Computed from a trace" },
@@ -133,7 +119,6 @@ export default function Measures({ loaderData }: Route.ComponentProps) {
           <SelectField
             name="traceKind"
             label="Trace format (trace measures)"
-            error={errors.traceKind}
             options={[
               { value: "", label: "— manual —" },
               ...TRACE_KINDS.map((k) => ({ value: k, label: TRACE_KIND_LABELS[k] })),
@@ -147,7 +132,7 @@ export default function Measures({ loaderData }: Route.ComponentProps) {
               Add measure
             </button>
           </div>
-        </Form>
+        </ActionForm>
         <details className="mt-4 text-sm">
           <summary className="cursor-pointer text-spruce-700">Trace outputs that can be scored</summary>
           <ul className="mt-2 grid gap-1">

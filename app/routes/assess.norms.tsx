@@ -1,17 +1,12 @@
-import { data, Form, useActionData } from "react-router";
+import { useActionData } from "react-router";
 import { requireUser } from "~/auth/guard.server";
-import { FormError, Notice, SelectField, TextArea, TextField } from "~/components/fields";
+import { ActionForm, ActionNotice, SelectField, TextArea, TextField } from "~/components/fields";
+import { UserError } from "~/errors";
+import { formAction } from "~/forms.server";
 import { listMeasures } from "~/models/measures.server";
-import {
-  createCohortNormSet,
-  createPublishedNormSet,
-  listNormSets,
-  MIN_COHORT_N,
-  NormInputError,
-} from "~/models/norms.server";
+import { createCohortNormSet, createPublishedNormSet, listNormSets, MIN_COHORT_N } from "~/models/norms.server";
 import { sitesInScope } from "~/models/sites.server";
-import { cohortNormSchema, normValuesFromForm, publishedNormSchema } from "~/schemas/assessment";
-import { formToObject, parseWith } from "~/schemas/form";
+import { normsPageSchema, normValues } from "~/schemas/assessment";
 import type { Route } from "./+types/assess.norms";
 
 export const meta: Route.MetaFunction = () => [{ title: "Norm sets · Limberly" }];
@@ -28,53 +23,32 @@ export async function loader({ request }: Route.LoaderArgs) {
 
 export async function action({ request }: Route.ActionArgs) {
   const p = await requireUser(request, "norms.manage");
-  const form = formToObject(await request.formData());
-  if (form.intent === "cohort") {
-    const v = parseWith(cohortNormSchema, form);
-    if (!v.ok) return data({ intent: "cohort", errors: v.errors, done: null }, { status: 400 });
-    const sites = await sitesInScope(p.scope);
-    const site = v.data.siteId ? sites.find((s) => s.id === v.data.siteId) : null;
-    if (v.data.siteId && !site)
-      return data(
-        { intent: "cohort", errors: { siteId: "Site: choose one of your sites." }, done: null },
-        { status: 400 },
-      );
-    try {
+  const measures = await listMeasures({ activeOnly: true });
+  return formAction(await request.formData(), normsPageSchema(measures), async (v) => {
+    if (v.intent === "cohort") {
+      const sites = await sitesInScope(p.scope);
+      const site = v.siteId ? sites.find((s) => s.id === v.siteId) : null;
+      if (v.siteId && !site) throw new UserError("Site: choose one of your sites.", { field: "siteId" });
       const r = await createCohortNormSet(
         {
-          name: v.data.name,
+          name: v.name,
           siteId: site?.id ?? null,
           siteIds: sites.map((s) => s.id),
           siteLabel: site ? site.name : sites.map((s) => s.name).join(", "),
         },
         p.user.id,
       );
-      return {
-        intent: "cohort",
-        errors: null,
-        done: `Cohort norm set saved with ${r.measures} measure(s). New results are scored against it.`,
-      };
-    } catch (e) {
-      if (e instanceof NormInputError)
-        return data({ intent: "cohort", errors: { _form: e.message }, done: null }, { status: 400 });
-      throw e;
+      return `Cohort norm set saved with ${r.measures} measure(s). New results are scored against it.`;
     }
-  }
-  const head = parseWith(publishedNormSchema, form);
-  const vals = normValuesFromForm(form, await listMeasures({ activeOnly: true }));
-  if (!head.ok || !vals.ok)
-    return data(
-      { intent: "published", errors: { ...(head.ok ? {} : head.errors), ...(vals.ok ? {} : vals.errors) }, done: null },
-      { status: 400 },
-    );
-  await createPublishedNormSet({ ...head.data, values: vals.values }, p.user.id);
-  return { intent: "published", errors: null, done: `Published norm set ${head.data.name} saved.` };
+    const { values } = normValues(v, measures);
+    await createPublishedNormSet({ name: v.name, source: v.source, sourceDate: v.sourceDate, values }, p.user.id);
+    return `Published norm set ${v.name} saved.`;
+  });
 }
 
 export default function Norms({ loaderData }: Route.ComponentProps) {
   const { normSets, measures, sites, minCohortN } = loaderData;
   const r = useActionData<typeof action>();
-  const errors = (r?.errors ?? {}) as Record<string, string>;
   const mName = new Map(measures.map((m) => [m.id, m.name]));
   return (
     <div className="grid gap-6">
@@ -85,7 +59,7 @@ export default function Norms({ loaderData }: Route.ComponentProps) {
           most recent norm set holding its measure.
         </p>
       </div>
-      {r?.done && <Notice>{r.done}</Notice>}
+      <ActionNotice result={r} />
       {normSets.map((n) => (
         <article key={n.id} className="card">
           <h2 className="font-semibold">
@@ -129,14 +103,11 @@ export default function Norms({ loaderData }: Route.ComponentProps) {
         <p className="text-sm text-ink-soft">
           Uses each worker's first baseline; a measure needs at least {minCohortN} workers.
         </p>
-        {r?.intent === "cohort" && <FormError message={errors._form} />}
-        <Form method="post" className="mt-3 grid gap-3 sm:grid-cols-2">
-          <input type="hidden" name="intent" value="cohort" />
-          <TextField name="name" label="Name" required error={r?.intent === "cohort" ? errors.name : undefined} />
+        <ActionForm intent="cohort" result={r} className="mt-3 grid gap-3 sm:grid-cols-2">
+          <TextField name="name" label="Name" required />
           <SelectField
             name="siteId"
             label="Cohort"
-            error={r?.intent === "cohort" ? errors.siteId : undefined}
             options={[
               { value: "", label: "All my sites" },
               ...sites.map((s) => ({ value: String(s.id), label: s.name })),
@@ -147,32 +118,18 @@ export default function Norms({ loaderData }: Route.ComponentProps) {
               Compute and save
             </button>
           </div>
-        </Form>
+        </ActionForm>
       </section>
       <section className="card" aria-labelledby="pub-h">
         <h2 id="pub-h" className="text-lg font-semibold">
           Enter a published norm table
         </h2>
-        {r?.intent === "published" && <FormError message={errors._form} />}
-        <Form method="post" className="mt-3 grid gap-3" noValidate>
-          <input type="hidden" name="intent" value="published" />
+        <ActionForm intent="published" result={r} className="mt-3 grid gap-3">
           <div className="grid gap-3 sm:grid-cols-2">
-            <TextField name="name" label="Name" required error={r?.intent === "published" ? errors.name : undefined} />
-            <TextField
-              name="sourceDate"
-              label="Date of the source"
-              type="date"
-              required
-              error={r?.intent === "published" ? errors.sourceDate : undefined}
-            />
+            <TextField name="name" label="Name" required />
+            <TextField name="sourceDate" label="Date of the source" type="date" required />
           </div>
-          <TextArea
-            name="source"
-            label="Source (authors, year, title, table)"
-            rows={2}
-            required
-            error={r?.intent === "published" ? errors.source : undefined}
-          />
+          <TextArea name="source" label="Source (authors, year, title, table)" rows={2} required />
           <fieldset className="grid gap-2">
             <legend className="field-label">Values (leave a measure blank to skip it)</legend>
             {measures.map((m) => (
@@ -180,9 +137,9 @@ export default function Norms({ loaderData }: Route.ComponentProps) {
                 <p className="col-span-3 text-sm font-medium">
                   {m.name} ({m.unit})
                 </p>
-                <TextField name={`mean.${m.id}`} label="Mean" error={errors[`mean.${m.id}`]} />
-                <TextField name={`sd.${m.id}`} label="SD" error={errors[`sd.${m.id}`]} />
-                <TextField name={`n.${m.id}`} label="n" error={errors[`n.${m.id}`]} />
+                <TextField name={`mean.${m.id}`} label="Mean" />
+                <TextField name={`sd.${m.id}`} label="SD" />
+                <TextField name={`n.${m.id}`} label="n" />
               </div>
             ))}
           </fieldset>
@@ -191,7 +148,7 @@ export default function Norms({ loaderData }: Route.ComponentProps) {
               Save published norms
             </button>
           </div>
-        </Form>
+        </ActionForm>
       </section>
     </div>
   );

@@ -1,10 +1,10 @@
-import { data, Form, Link, useActionData, useNavigation } from "react-router";
+import { Link, useActionData, useNavigation } from "react-router";
 import { requireUser } from "~/auth/guard.server";
-import { FormError, Notice, TextArea } from "~/components/fields";
+import { ActionForm, ActionNotice, TextArea } from "~/components/fields";
 import { formatInstantDay } from "~/dates";
-import { answerReview, ReviewError, reviewQueue } from "~/models/reviews.server";
+import { formAction } from "~/forms.server";
+import { answerReview, reviewQueue } from "~/models/reviews.server";
 import { viewerTimeZone } from "~/models/sites.server";
-import { formToObject, parseWith } from "~/schemas/form";
 import { REVIEW_SUBJECT_LABELS, reviewAnswerSchema } from "~/schemas/portal";
 import type { Route } from "./+types/assess.reviews";
 
@@ -20,24 +20,12 @@ export async function loader({ request }: Route.LoaderArgs) {
 
 export async function action({ request }: Route.ActionArgs) {
   const p = await requireUser(request, "reviews.answer");
-  const form = formToObject(await request.formData());
-  const reviewId = Number(form.reviewId) || null;
-  // Each request has its own answer field (unique ids on the page): answer_<id>.
-  const parsed = parseWith(reviewAnswerSchema, { reviewId: form.reviewId, answer: form[`answer_${reviewId}`] });
-  if (!parsed.ok) return data({ reviewId, errors: parsed.errors, done: null }, { status: 400 });
-  try {
-    const r = await answerReview(p, parsed.data.reviewId, parsed.data.answer);
-    return {
-      reviewId,
-      errors: null,
-      done: r.mailedTo
-        ? "Answer saved and e-mailed to the worker."
-        : "Answer saved. The worker has no e-mail address on file; they will see it in the app.",
-    };
-  } catch (e) {
-    if (e instanceof ReviewError) return data({ reviewId, errors: { _form: e.message }, done: null }, { status: 409 });
-    throw e;
-  }
+  return formAction(await request.formData(), reviewAnswerSchema, async (v) => {
+    const r = await answerReview(p, v.reviewId, v.answer);
+    return r.mailedTo
+      ? "Answer saved and e-mailed to the worker."
+      : "Answer saved. The worker has no e-mail address on file; they will see it in the app.";
+  });
 }
 
 export default function ReviewQueue({ loaderData }: Route.ComponentProps) {
@@ -70,11 +58,10 @@ export default function ReviewQueue({ loaderData }: Route.ComponentProps) {
           </Link>
         </nav>
       </div>
-      {result?.done && <Notice>{result.done}</Notice>}
+      <ActionNotice result={result} />
       {requests.length === 0 && <p className="card text-ink-soft">No {show} requests for workers at your sites.</p>}
       <ul className="grid gap-4" data-testid="review-queue">
         {requests.map((r) => {
-          const errors = (result?.reviewId === r.id ? (result?.errors ?? {}) : {}) as Record<string, string>;
           return (
             <li key={r.id} className="card grid gap-2" data-testid={`review-${r.id}`}>
               <p className="font-semibold">
@@ -108,22 +95,16 @@ export default function ReviewQueue({ loaderData }: Route.ComponentProps) {
                   <p className="whitespace-pre-line">{r.answer}</p>
                 </div>
               ) : (
-                <Form method="post" className="grid gap-2" noValidate>
-                  <FormError message={errors._form} />
+                // One form per request, told apart by its reviewId; field ids come from useId.
+                <ActionForm result={result} match={{ reviewId: String(r.id) }} className="grid gap-2">
                   <input type="hidden" name="reviewId" value={r.id} />
-                  <TextArea
-                    name={`answer_${r.id}`}
-                    label={`Answer to ${r.name}`}
-                    rows={3}
-                    required
-                    error={errors.answer}
-                  />
+                  <TextArea name="answer" label={`Answer to ${r.name}`} rows={3} required />
                   <div>
                     <button type="submit" className="btn-primary min-h-11" disabled={busy}>
                       Send answer
                     </button>
                   </div>
-                </Form>
+                </ActionForm>
               )}
             </li>
           );

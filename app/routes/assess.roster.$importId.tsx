@@ -1,18 +1,18 @@
-import { data, Form, Link, useActionData, useNavigation } from "react-router";
+import { invariantResponse } from "@epic-web/invariant";
+import { Form, Link, useActionData, useNavigation } from "react-router";
 import { requireUser } from "~/auth/guard.server";
-import { FormError, Notice } from "~/components/fields";
+import { ActionErrors, ActionForm, ActionNotice, SelectField } from "~/components/fields";
 import { IssueList } from "~/components/upload";
+import { formAction } from "~/forms.server";
 import {
   discardRosterUpload,
   getRosterUpload,
   importRosterUpload,
   planRoster,
-  RosterStateError,
   type RosterSummary,
   saveMapping,
 } from "~/models/roster.server";
-import { formToObject } from "~/schemas/form";
-import { mappingFromForm, ROSTER_FIELD_LABELS, ROSTER_FIELDS } from "~/schemas/roster";
+import { ROSTER_FIELD_LABELS, ROSTER_FIELDS, rosterPageSchema } from "~/schemas/roster";
 import type { Route } from "./+types/assess.roster.$importId";
 
 export const meta: Route.MetaFunction = () => [{ title: "Roster preview · Limberly" }];
@@ -20,14 +20,14 @@ const SHOWN = 200;
 
 function idOf(params: { importId?: string }) {
   const id = Number(params.importId);
-  if (!Number.isInteger(id) || id <= 0) throw data({ error: "No such import." }, { status: 404 });
+  invariantResponse(Number.isInteger(id) && id > 0, "No such import.", { status: 404 });
   return id;
 }
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const p = await requireUser(request, "roster.import");
   const up = await getRosterUpload(idOf(params), p.user.id);
-  if (!up) throw data({ error: "No such roster upload of yours." }, { status: 404 });
+  invariantResponse(up, "No such roster upload of yours.", { status: 404 });
   const base = {
     id: up.id,
     filename: up.filename,
@@ -64,30 +64,20 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 export async function action({ request, params }: Route.ActionArgs) {
   const p = await requireUser(request, "roster.import");
   const id = idOf(params);
-  const form = formToObject(await request.formData());
   const up = await getRosterUpload(id, p.user.id);
-  if (!up) throw data({ error: "No such roster upload of yours." }, { status: 404 });
-  try {
-    if (form.intent === "map") {
-      const m = mappingFromForm(form, up.headers.length);
-      if (!m.ok) return data({ errors: m.errors, summary: null as RosterSummary | null, done: null }, { status: 400 });
-      await saveMapping(id, p.user.id, m.mapping);
-      return { errors: null, summary: null, done: "Column mapping saved; the preview below uses it." };
+  invariantResponse(up, "No such roster upload of yours.", { status: 404 });
+  return formAction(await request.formData(), rosterPageSchema(up.headers.length), async (v) => {
+    switch (v.intent) {
+      case "map":
+        await saveMapping(id, p.user.id, v.map);
+        return "Column mapping saved; the preview below uses it.";
+      case "import":
+        return { notice: "Roster imported.", payload: await importRosterUpload(id, p) };
+      case "discard":
+        await discardRosterUpload(id, p.user.id);
+        return { notice: "Upload discarded; nothing was imported.", payload: null };
     }
-    if (form.intent === "import") {
-      const summary = await importRosterUpload(id, p);
-      return { errors: null, summary, done: "Roster imported." };
-    }
-    if (form.intent === "discard") {
-      await discardRosterUpload(id, p.user.id);
-      return { errors: null, summary: null, done: "Upload discarded; nothing was imported." };
-    }
-  } catch (e) {
-    if (e instanceof RosterStateError)
-      return data({ errors: { _form: e.message }, summary: null, done: null }, { status: 409 });
-    throw e;
-  }
-  return data({ errors: { _form: "Unknown action." }, summary: null, done: null }, { status: 400 });
+  });
 }
 
 function Summary({ s }: { s: RosterSummary }) {
@@ -128,8 +118,7 @@ export default function RosterPreview({ loaderData }: Route.ComponentProps) {
   const d = loaderData;
   const r = useActionData<typeof action>();
   const busy = useNavigation().state === "submitting";
-  const errors = (r?.errors ?? {}) as Record<string, string>;
-  const summary = r?.summary ?? d.summary;
+  const summary = r?.payload ?? d.summary;
   return (
     <div className="grid gap-6">
       <div>
@@ -143,8 +132,9 @@ export default function RosterPreview({ loaderData }: Route.ComponentProps) {
           {d.rowCount} data rows · {d.headers.length} columns · {d.status}
         </p>
       </div>
-      {r?.done && <Notice>{r.done}</Notice>}
-      <FormError message={errors._form} />
+      <ActionNotice result={r} />
+      <ActionErrors result={r} intent="import" />
+      <ActionErrors result={r} intent="discard" />
       {summary && <Summary s={summary} />}
       {d.status === "uploaded" && (
         <>
@@ -152,44 +142,29 @@ export default function RosterPreview({ loaderData }: Route.ComponentProps) {
             <h2 id="map-h" className="text-lg font-semibold">
               2. Map the columns
             </h2>
-            <Form method="post" className="grid gap-3 sm:grid-cols-3">
-              <input type="hidden" name="intent" value="map" />
+            <ActionForm intent="map" result={r} className="grid gap-3 sm:grid-cols-3">
               {ROSTER_FIELDS.map((f) => (
-                <div key={f}>
-                  <label htmlFor={`map-${f}`} className="field-label">
-                    {ROSTER_FIELD_LABELS[f]}
-                    {f !== "email" && <span aria-hidden="true"> *</span>}
-                  </label>
-                  <select
-                    id={`map-${f}`}
-                    name={`map.${f}`}
-                    defaultValue={d.mapping[f] == null ? "" : String(d.mapping[f])}
-                    className="field-input"
-                    aria-invalid={errors[`map.${f}`] ? true : undefined}
-                    aria-describedby={errors[`map.${f}`] ? `map-${f}-error` : undefined}
-                  >
-                    <option value="">— not in the file —</option>
-                    {d.headers.map((h, i) => (
-                      // biome-ignore lint/suspicious/noArrayIndexKey: the column index is the option's identity (it is also its value)
-                      <option key={i} value={i}>
-                        {h || `(column ${i + 1})`}
-                        {d.sample[0]?.[i] ? ` — e.g. ${d.sample[0][i]}` : ""}
-                      </option>
-                    ))}
-                  </select>
-                  {errors[`map.${f}`] && (
-                    <p id={`map-${f}-error`} className="field-error">
-                      {errors[`map.${f}`]}
-                    </p>
-                  )}
-                </div>
+                <SelectField
+                  key={f}
+                  name={`map.${f}`}
+                  label={ROSTER_FIELD_LABELS[f]}
+                  required={f !== "email"}
+                  defaultValue={d.mapping[f] == null ? "" : String(d.mapping[f])}
+                  options={[
+                    { value: "", label: "— not in the file —" },
+                    ...d.headers.map((h, i) => ({
+                      value: String(i),
+                      label: `${h || `(column ${i + 1})`}${d.sample[0]?.[i] ? ` — e.g. ${d.sample[0][i]}` : ""}`,
+                    })),
+                  ]}
+                />
               ))}
               <div className="sm:col-span-3">
                 <button type="submit" className="btn-quiet" disabled={busy}>
                   Apply mapping and preview
                 </button>
               </div>
-            </Form>
+            </ActionForm>
           </section>
           <section className="card grid gap-3" aria-labelledby="prev-h" data-testid="roster-preview">
             <h2 id="prev-h" className="text-lg font-semibold">

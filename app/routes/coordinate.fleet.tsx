@@ -1,17 +1,16 @@
 import { Form, useNavigation } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { DeviceCautions } from "~/components/device-cautions";
-import { FormError, Notice } from "~/components/fields";
+import { ActionErrors, ActionForm, ActionNotice, SelectField, TextArea, TextField } from "~/components/fields";
+import { formAction } from "~/forms.server";
 import {
   addMaintenance,
-  FleetError,
   fleetAdminView,
   removeMaintenance,
   updateDeviceType,
   updateUnit,
 } from "~/models/fleet-admin.server";
-import { deviceTypeFormSchema, maintenanceFormSchema, removeByIdSchema, unitFormSchema } from "~/schemas/allocation";
-import { formToObject, parseWith } from "~/schemas/form";
+import { fleetPageSchema } from "~/schemas/allocation";
 import type { Route } from "./+types/coordinate.fleet";
 
 export const meta: Route.MetaFunction = () => [{ title: "Fleet · Limberly" }];
@@ -21,43 +20,24 @@ export async function loader({ request }: Route.LoaderArgs) {
   return { types: await fleetAdminView(p.scope) };
 }
 
-type Result = { ok?: string; errors?: Record<string, string>; target?: string };
-
-export async function action({ request }: Route.ActionArgs): Promise<Result> {
+export async function action({ request }: Route.ActionArgs) {
   const p = await requireUser(request, "fleet.manage");
-  const raw = formToObject(await request.formData());
-  const intent = String(raw.intent ?? "");
-  const target = `${intent}-${raw.deviceTypeId ?? raw.unitId ?? raw.id ?? ""}`;
-  try {
-    if (intent === "device-type") {
-      const r = parseWith(deviceTypeFormSchema, raw);
-      if (!r.ok) return { errors: r.errors, target };
-      await updateDeviceType(p, r.data.deviceTypeId, r.data);
-      return { ok: "Device type saved.", target };
+  return formAction(await request.formData(), fleetPageSchema, async (v) => {
+    switch (v.intent) {
+      case "device-type":
+        await updateDeviceType(p, v.deviceTypeId, v);
+        return "Device type saved.";
+      case "unit":
+        await updateUnit(p, v.unitId, v);
+        return "Unit saved.";
+      case "add-maintenance":
+        await addMaintenance(p, v.unitId, v);
+        return "Maintenance window added.";
+      case "remove-maintenance":
+        await removeMaintenance(p, v.id);
+        return "Maintenance window removed.";
     }
-    if (intent === "unit") {
-      const r = parseWith(unitFormSchema, raw);
-      if (!r.ok) return { errors: r.errors, target };
-      await updateUnit(p, r.data.unitId, r.data);
-      return { ok: "Unit saved.", target };
-    }
-    if (intent === "add-maintenance") {
-      const r = parseWith(maintenanceFormSchema, raw);
-      if (!r.ok) return { errors: r.errors, target };
-      await addMaintenance(p, r.data.unitId, r.data);
-      return { ok: "Maintenance window added.", target };
-    }
-    if (intent === "remove-maintenance") {
-      const r = parseWith(removeByIdSchema, raw);
-      if (!r.ok) return { errors: r.errors, target };
-      await removeMaintenance(p, r.data.id);
-      return { ok: "Maintenance window removed.", target };
-    }
-    return { errors: { _form: "Unknown action." }, target };
-  } catch (e) {
-    if (e instanceof FleetError) return { errors: { _form: e.message }, target };
-    throw e;
-  }
+  });
 }
 
 const STATUS_LABEL = { in_service: "In service", maintenance: "In maintenance", retired: "Retired" } as const;
@@ -65,9 +45,6 @@ const STATUS_LABEL = { in_service: "In service", maintenance: "In maintenance", 
 export default function Fleet({ loaderData, actionData }: Route.ComponentProps) {
   const { types } = loaderData;
   const nav = useNavigation();
-  const err = (target: string, field: string) =>
-    actionData?.target === target ? actionData.errors?.[field] : undefined;
-  const msg = (target: string) => (actionData?.target === target ? actionData : undefined);
   return (
     <div className="grid gap-6">
       <div>
@@ -78,9 +55,9 @@ export default function Fleet({ loaderData, actionData }: Route.ComponentProps) 
           maintenance window.
         </p>
       </div>
-      {actionData?.target === "" && <FormError message={actionData.errors?._form} />}
+      <ActionErrors result={actionData} intent="remove-maintenance" />
+      <ActionNotice result={actionData} intent="remove-maintenance" />
       {types.map((t) => {
-        const tk = `device-type-${t.id}`;
         return (
           <section key={t.id} aria-labelledby={`dt-${t.id}`} className="card grid gap-4">
             <div>
@@ -93,50 +70,37 @@ export default function Fleet({ loaderData, actionData }: Route.ComponentProps) 
                 sites · <strong>{t.bookableHoursPerWeek} h</strong> bookable per week before maintenance
               </p>
             </div>
-            <Form method="post" className="grid gap-3 md:grid-cols-4" noValidate>
-              <input type="hidden" name="intent" value="device-type" />
+            <ActionForm
+              intent="device-type"
+              match={{ deviceTypeId: String(t.id) }}
+              result={actionData}
+              notice
+              className="grid gap-3 md:grid-cols-4"
+            >
               <input type="hidden" name="deviceTypeId" value={t.id} />
-              <FieldNum
-                id={`wear-${t.id}`}
+              <TextField
                 name="wearTimeLimitMinutes"
                 label="Wear-time limit (min per session)"
-                value={t.wearTimeLimitMinutes}
-                error={err(tk, "wearTimeLimitMinutes")}
+                type="number"
+                step="1"
+                defaultValue={String(t.wearTimeLimitMinutes)}
               />
-              <FieldNum
-                id={`maxh-${t.id}`}
+              <TextField
                 name="defaultMaxHoursPerWeek"
                 label="Default max hours per week"
-                value={t.defaultMaxHoursPerWeek}
+                type="number"
                 step="0.5"
-                error={err(tk, "defaultMaxHoursPerWeek")}
+                defaultValue={String(t.defaultMaxHoursPerWeek)}
               />
               <div className="md:col-span-2">
-                <label htmlFor={`fit-${t.id}`} className="field-label">
-                  Fit rules
-                </label>
-                <textarea
-                  id={`fit-${t.id}`}
-                  name="fitRules"
-                  rows={2}
-                  defaultValue={t.fitRules}
-                  className="field-input"
-                  aria-describedby={err(tk, "fitRules") ? `fit-${t.id}-error` : undefined}
-                />
-                {err(tk, "fitRules") && (
-                  <p id={`fit-${t.id}-error`} className="field-error">
-                    {err(tk, "fitRules")}
-                  </p>
-                )}
+                <TextArea name="fitRules" label="Fit rules" rows={2} defaultValue={t.fitRules ?? ""} />
               </div>
               <div className="md:col-span-4 flex flex-wrap items-center gap-3">
                 <button className="btn-quiet" type="submit" disabled={nav.state === "submitting"}>
                   Save {t.name}
                 </button>
-                {msg(tk)?.ok && <Notice>{msg(tk)!.ok}</Notice>}
-                <FormError message={err(tk, "_form")} />
               </div>
-            </Form>
+            </ActionForm>
             <section className="overflow-x-auto" tabIndex={0} aria-label={`${t.name} units (scrolls sideways)`}>
               <table className="table-base">
                 <caption className="sr-only">{t.name} units</caption>
@@ -150,8 +114,6 @@ export default function Fleet({ loaderData, actionData }: Route.ComponentProps) 
                 </thead>
                 <tbody>
                   {t.units.map((u) => {
-                    const uk = `unit-${u.id}`;
-                    const mk = `add-maintenance-${u.id}`;
                     return (
                       <tr key={u.id}>
                         <th scope="row" className="whitespace-nowrap">
@@ -159,44 +121,31 @@ export default function Fleet({ loaderData, actionData }: Route.ComponentProps) 
                         </th>
                         <td>{u.site}</td>
                         <td>
-                          <Form method="post" className="flex flex-wrap items-end gap-2" noValidate>
-                            <input type="hidden" name="intent" value="unit" />
+                          <ActionForm
+                            intent="unit"
+                            match={{ unitId: String(u.id) }}
+                            result={actionData}
+                            notice
+                            className="flex flex-wrap items-end gap-2"
+                          >
                             <input type="hidden" name="unitId" value={u.id} />
-                            <div>
-                              <label htmlFor={`status-${u.id}`} className="field-label">
-                                Status
-                              </label>
-                              <select
-                                id={`status-${u.id}`}
-                                name="status"
-                                defaultValue={u.status}
-                                className="field-input"
-                              >
-                                {Object.entries(STATUS_LABEL).map(([v, l]) => (
-                                  <option key={v} value={v}>
-                                    {l}
-                                  </option>
-                                ))}
-                              </select>
-                            </div>
-                            <FieldNum
-                              id={`book-${u.id}`}
+                            <SelectField
+                              name="status"
+                              label="Status"
+                              defaultValue={u.status}
+                              options={Object.entries(STATUS_LABEL).map(([value, label]) => ({ value, label }))}
+                            />
+                            <TextField
                               name="bookableHoursPerWeek"
                               label="Bookable h/week"
-                              value={u.bookableHoursPerWeek}
+                              type="number"
                               step="0.5"
-                              error={err(uk, "bookableHoursPerWeek")}
+                              defaultValue={String(u.bookableHoursPerWeek)}
                             />
                             <button className="btn-quiet" type="submit" aria-label={`Save unit ${u.serial}`}>
                               Save
                             </button>
-                            {msg(uk)?.ok && (
-                              <span role="status" className="text-sm text-spruce-800">
-                                {msg(uk)!.ok}
-                              </span>
-                            )}
-                            <FormError message={err(uk, "_form")} />
-                          </Form>
+                          </ActionForm>
                         </td>
                         <td>
                           <ul className="grid gap-1 text-sm">
@@ -224,32 +173,21 @@ export default function Fleet({ loaderData, actionData }: Route.ComponentProps) 
                             <summary className="cursor-pointer text-sm text-spruce-700">
                               Add a maintenance window
                             </summary>
-                            <Form method="post" className="mt-2 grid gap-2" noValidate>
-                              <input type="hidden" name="intent" value="add-maintenance" />
+                            <ActionForm
+                              intent="add-maintenance"
+                              match={{ unitId: String(u.id) }}
+                              result={actionData}
+                              notice
+                              className="mt-2 grid gap-2"
+                            >
                               <input type="hidden" name="unitId" value={u.id} />
-                              <DateField id={`ms-${u.id}`} name="startsOn" label="From" error={err(mk, "startsOn")} />
-                              <DateField
-                                id={`me-${u.id}`}
-                                name="endsOn"
-                                label="To (inclusive)"
-                                error={err(mk, "endsOn")}
-                              />
-                              <div>
-                                <label htmlFor={`mr-${u.id}`} className="field-label">
-                                  Reason
-                                </label>
-                                <input id={`mr-${u.id}`} name="reason" className="field-input" />
-                              </div>
+                              <TextField name="startsOn" label="From" type="date" />
+                              <TextField name="endsOn" label="To (inclusive)" type="date" />
+                              <TextField name="reason" label="Reason" />
                               <button className="btn-quiet" type="submit">
                                 Add window to {u.serial}
                               </button>
-                              {msg(mk)?.ok && (
-                                <span role="status" className="text-sm text-spruce-800">
-                                  {msg(mk)!.ok}
-                                </span>
-                              )}
-                              <FormError message={err(mk, "_form")} />
-                            </Form>
+                            </ActionForm>
                           </details>
                         </td>
                       </tr>
@@ -262,68 +200,6 @@ export default function Fleet({ loaderData, actionData }: Route.ComponentProps) 
         );
       })}
       <DeviceCautions />
-    </div>
-  );
-}
-
-function FieldNum({
-  id,
-  name,
-  label,
-  value,
-  error,
-  step,
-}: {
-  id: string;
-  name: string;
-  label: string;
-  value: number;
-  error?: string;
-  step?: string;
-}) {
-  return (
-    <div>
-      <label htmlFor={id} className="field-label">
-        {label}
-      </label>
-      <input
-        id={id}
-        name={name}
-        type="number"
-        step={step ?? "1"}
-        defaultValue={value}
-        className="field-input"
-        aria-invalid={error ? true : undefined}
-        aria-describedby={error ? `${id}-error` : undefined}
-      />
-      {error && (
-        <p id={`${id}-error`} className="field-error">
-          {error}
-        </p>
-      )}
-    </div>
-  );
-}
-
-function DateField({ id, name, label, error }: { id: string; name: string; label: string; error?: string }) {
-  return (
-    <div>
-      <label htmlFor={id} className="field-label">
-        {label}
-      </label>
-      <input
-        id={id}
-        name={name}
-        type="date"
-        className="field-input"
-        aria-invalid={error ? true : undefined}
-        aria-describedby={error ? `${id}-error` : undefined}
-      />
-      {error && (
-        <p id={`${id}-error`} className="field-error">
-          {error}
-        </p>
-      )}
     </div>
   );
 }

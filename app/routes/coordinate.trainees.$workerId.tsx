@@ -1,18 +1,14 @@
-import { data, Form, Link } from "react-router";
+import { invariantResponse } from "@epic-web/invariant";
+import { Form, Link } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { StageBadge } from "~/components/badges";
 import { DeviceCautions } from "~/components/device-cautions";
-import { FormError, Notice, TextArea, TextField } from "~/components/fields";
+import { ActionForm, ActionNotice, TextArea, TextField } from "~/components/fields";
+import { LeaveForm } from "~/components/leave-form";
+import { formAction } from "~/forms.server";
 import { recordAccess } from "~/models/access-log.server";
-import {
-  addWorkerLeave,
-  removeWorkerLeave,
-  saveTrainingFields,
-  TrainingAdminError,
-  traineeDetail,
-} from "~/models/trainers-admin.server";
-import { leaveFormSchema, removeByIdSchema, workerTrainingFormSchema } from "~/schemas/allocation";
-import { formToObject, parseWith } from "~/schemas/form";
+import { addWorkerLeave, removeWorkerLeave, saveTrainingFields, traineeDetail } from "~/models/trainers-admin.server";
+import { traineePageSchema } from "~/schemas/allocation";
 import type { Route } from "./+types/coordinate.trainees.$workerId";
 
 export const meta: Route.MetaFunction = () => [{ title: "Trainee · Limberly" }];
@@ -20,48 +16,31 @@ export const meta: Route.MetaFunction = () => [{ title: "Trainee · Limberly" }]
 export async function loader({ request, params }: Route.LoaderArgs) {
   const p = await requireUser(request, "allocation.run");
   const w = await traineeDetail(p.scope, Number(params.workerId));
-  if (!w) throw data({ error: "No such worker in your scope." }, { status: 404 });
+  invariantResponse(w, "No such worker in your scope.", { status: 404 });
   if (w.sessions.length) await recordAccess(p, request, w.workerId, "sessions");
   return { w };
 }
 
-type Result = { ok?: string; errors?: Record<string, string>; intent?: string };
-
-export async function action({ request, params }: Route.ActionArgs): Promise<Result> {
+export async function action({ request, params }: Route.ActionArgs) {
   const p = await requireUser(request, "allocation.run");
   const id = Number(params.workerId);
-  const raw = formToObject(await request.formData());
-  const intent = String(raw.intent ?? "");
-  try {
-    if (intent === "training-fields") {
-      const r = parseWith(workerTrainingFormSchema, raw);
-      if (!r.ok) return { errors: r.errors, intent };
-      await saveTrainingFields(p, id, r.data);
-      return { ok: "Training fields saved.", intent };
+  return formAction(await request.formData(), traineePageSchema, async (v) => {
+    switch (v.intent) {
+      case "training-fields":
+        await saveTrainingFields(p, id, v);
+        return "Training fields saved.";
+      case "add-leave":
+        await addWorkerLeave(p, id, v);
+        return "Leave added.";
+      case "remove-leave":
+        await removeWorkerLeave(p, id, v.id);
+        return "Leave removed.";
     }
-    if (intent === "add-leave") {
-      const r = parseWith(leaveFormSchema, raw);
-      if (!r.ok) return { errors: r.errors, intent };
-      await addWorkerLeave(p, id, r.data);
-      return { ok: "Leave added.", intent };
-    }
-    if (intent === "remove-leave") {
-      const r = parseWith(removeByIdSchema, raw);
-      if (!r.ok) return { errors: r.errors, intent };
-      await removeWorkerLeave(p, id, r.data.id);
-      return { ok: "Leave removed.", intent };
-    }
-    return { errors: { _form: "Unknown action." }, intent };
-  } catch (e) {
-    if (e instanceof TrainingAdminError) return { errors: { _form: e.message }, intent };
-    throw e;
-  }
+  });
 }
 
 export default function Trainee({ loaderData, actionData }: Route.ComponentProps) {
   const { w } = loaderData;
-  const e = (intent: string, f: string) => (actionData?.intent === intent ? actionData.errors?.[f] : undefined);
-  const ok = (intent: string) => (actionData?.intent === intent ? actionData.ok : undefined);
   return (
     <div className="grid gap-6">
       <div>
@@ -81,15 +60,13 @@ export default function Trainee({ loaderData, actionData }: Route.ComponentProps
         <h2 id="fields" className="text-lg font-semibold">
           Training fields
         </h2>
-        <Form method="post" className="grid gap-3" noValidate>
-          <input type="hidden" name="intent" value="training-fields" />
+        <ActionForm intent="training-fields" result={actionData} className="grid gap-3">
           <div className="grid gap-3 md:grid-cols-2">
             <TextField
               name="priority"
               label="Priority"
               type="number"
               defaultValue={String(w.priority)}
-              error={e("training-fields", "priority")}
               hint="1 is the default; higher means more value in being ready soon."
             />
             <TextField
@@ -97,7 +74,6 @@ export default function Trainee({ loaderData, actionData }: Route.ComponentProps
               label="Max hours per week"
               type="number"
               defaultValue={w.maxHoursPerWeek == null ? "" : String(w.maxHoursPerWeek)}
-              error={e("training-fields", "maxHoursPerWeek")}
               hint="Empty = the device type's default."
             />
           </div>
@@ -106,16 +82,14 @@ export default function Trainee({ loaderData, actionData }: Route.ComponentProps
             label="Reason for the priority"
             rows={2}
             defaultValue={w.priorityReason ?? ""}
-            error={e("training-fields", "priorityReason")}
           />
           <div className="flex flex-wrap items-center gap-3">
             <button className="btn-quiet" type="submit">
               Save training fields
             </button>
-            {ok("training-fields") && <Notice>{ok("training-fields")}</Notice>}
+            <ActionNotice result={actionData} intent="training-fields" />
           </div>
-          <FormError message={e("training-fields", "_form")} />
-        </Form>
+        </ActionForm>
       </section>
       <section aria-labelledby="leave" className="card grid gap-3">
         <h2 id="leave" className="text-lg font-semibold">
@@ -142,17 +116,7 @@ export default function Trainee({ loaderData, actionData }: Route.ComponentProps
             </li>
           ))}
         </ul>
-        <Form method="post" className="grid gap-3 md:grid-cols-4 md:items-end" noValidate>
-          <input type="hidden" name="intent" value="add-leave" />
-          <TextField name="startsOn" label="From" type="date" error={e("add-leave", "startsOn")} />
-          <TextField name="endsOn" label="To (inclusive)" type="date" error={e("add-leave", "endsOn")} />
-          <TextField name="reason" label="Reason (optional)" error={e("add-leave", "reason")} />
-          <button className="btn-quiet" type="submit">
-            Add leave
-          </button>
-        </Form>
-        {ok("add-leave") && <Notice>{ok("add-leave")}</Notice>}
-        <FormError message={e("add-leave", "_form")} />
+        <LeaveForm result={actionData} />
       </section>
       <section aria-labelledby="sessions" className="card grid gap-2">
         <h2 id="sessions" className="text-lg font-semibold">

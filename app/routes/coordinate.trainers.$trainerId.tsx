@@ -1,19 +1,20 @@
-import { data, Form, Link } from "react-router";
+import { invariantResponse } from "@epic-web/invariant";
+import { Form, Link } from "react-router";
 import { requireUser } from "~/auth/guard.server";
-import { FormError, Notice } from "~/components/fields";
+import { ActionErrors, ActionForm, ActionNotice, CheckboxGroup, SelectField, TextField } from "~/components/fields";
+import { LeaveForm } from "~/components/leave-form";
 import { WEEKDAY_NAMES } from "~/compute/plan-calendar";
+import { formAction } from "~/forms.server";
 import { planningChoices } from "~/models/fleet-admin.server";
 import {
   addPattern,
   addTrainerLeave,
   removePattern,
   removeTrainerLeave,
-  TrainingAdminError,
   trainerDetail,
   updateTrainer,
 } from "~/models/trainers-admin.server";
-import { leaveFormSchema, patternFormSchema, removeByIdSchema, trainerFormSchema } from "~/schemas/allocation";
-import { formToObject, parseWith } from "~/schemas/form";
+import { trainerPageSchema } from "~/schemas/allocation";
 import type { Route } from "./+types/coordinate.trainers.$trainerId";
 
 export const meta: Route.MetaFunction = () => [{ title: "Trainer · Limberly" }];
@@ -21,81 +22,36 @@ export const meta: Route.MetaFunction = () => [{ title: "Trainer · Limberly" }]
 export async function loader({ request, params }: Route.LoaderArgs) {
   const p = await requireUser(request, "fleet.manage");
   const trainer = await trainerDetail(p.scope, Number(params.trainerId));
-  if (!trainer) throw data({ error: "No such trainer at your sites." }, { status: 404 });
+  invariantResponse(trainer, "No such trainer at your sites.", { status: 404 });
   return { trainer, deviceTypes: (await planningChoices(p.scope)).deviceTypes };
 }
 
-type Result = { ok?: string; errors?: Record<string, string>; intent?: string };
-
-export async function action({ request, params }: Route.ActionArgs): Promise<Result> {
+export async function action({ request, params }: Route.ActionArgs) {
   const p = await requireUser(request, "fleet.manage");
   const id = Number(params.trainerId);
-  const raw = formToObject(await request.formData());
-  const intent = String(raw.intent ?? "");
-  try {
-    if (intent === "trainer") {
-      const r = parseWith(trainerFormSchema, raw);
-      if (!r.ok) return { errors: r.errors, intent };
-      await updateTrainer(p, id, r.data);
-      return { ok: "Trainer saved.", intent };
+  return formAction(await request.formData(), trainerPageSchema, async (v) => {
+    switch (v.intent) {
+      case "trainer":
+        await updateTrainer(p, id, v);
+        return "Trainer saved.";
+      case "add-pattern":
+        await addPattern(p, id, v);
+        return "Working window added.";
+      case "add-leave":
+        await addTrainerLeave(p, id, v);
+        return "Leave added.";
+      case "remove-pattern":
+        await removePattern(p, id, v.id);
+        return "Removed.";
+      case "remove-leave":
+        await removeTrainerLeave(p, id, v.id);
+        return "Removed.";
     }
-    if (intent === "add-pattern") {
-      const r = parseWith(patternFormSchema, raw);
-      if (!r.ok) return { errors: r.errors, intent };
-      await addPattern(p, id, r.data);
-      return { ok: "Working window added.", intent };
-    }
-    if (intent === "add-leave") {
-      const r = parseWith(leaveFormSchema, raw);
-      if (!r.ok) return { errors: r.errors, intent };
-      await addTrainerLeave(p, id, r.data);
-      return { ok: "Leave added.", intent };
-    }
-    if (intent === "remove-pattern" || intent === "remove-leave") {
-      const r = parseWith(removeByIdSchema, raw);
-      if (!r.ok) return { errors: r.errors, intent };
-      if (intent === "remove-pattern") await removePattern(p, id, r.data.id);
-      else await removeTrainerLeave(p, id, r.data.id);
-      return { ok: "Removed.", intent };
-    }
-    return { errors: { _form: "Unknown action." }, intent };
-  } catch (e) {
-    if (e instanceof TrainingAdminError) return { errors: { _form: e.message }, intent };
-    throw e;
-  }
-}
-
-function Field({
-  id,
-  label,
-  error,
-  ...rest
-}: { id: string; label: string; error?: string } & React.InputHTMLAttributes<HTMLInputElement>) {
-  return (
-    <div>
-      <label htmlFor={id} className="field-label">
-        {label}
-      </label>
-      <input
-        id={id}
-        className="field-input"
-        aria-invalid={error ? true : undefined}
-        aria-describedby={error ? `${id}-error` : undefined}
-        {...rest}
-      />
-      {error && (
-        <p id={`${id}-error`} className="field-error">
-          {error}
-        </p>
-      )}
-    </div>
-  );
+  });
 }
 
 export default function TrainerPage({ loaderData, actionData }: Route.ComponentProps) {
   const { trainer: t, deviceTypes } = loaderData;
-  const e = (intent: string, f: string) => (actionData?.intent === intent ? actionData.errors?.[f] : undefined);
-  const ok = (intent: string) => (actionData?.intent === intent ? actionData.ok : undefined);
   return (
     <div className="grid gap-6">
       <div>
@@ -113,50 +69,35 @@ export default function TrainerPage({ loaderData, actionData }: Route.ComponentP
         <h2 id="basics" className="text-lg font-semibold">
           Hours, group size and certifications
         </h2>
-        <Form method="post" className="grid gap-3" noValidate>
-          <input type="hidden" name="intent" value="trainer" />
+        <ActionForm intent="trainer" result={actionData} className="grid gap-3">
           <div className="grid gap-3 md:grid-cols-2">
-            <Field
-              id="hoursPerWeek"
+            <TextField
               name="hoursPerWeek"
               label="Hours per week (contracted)"
               type="number"
               step="0.5"
-              defaultValue={t.hoursPerWeek}
-              error={e("trainer", "hoursPerWeek")}
+              defaultValue={String(t.hoursPerWeek)}
             />
-            <Field
-              id="traineesPerSession"
+            <TextField
               name="traineesPerSession"
               label="Trainees per session"
               type="number"
-              defaultValue={t.traineesPerSession}
-              error={e("trainer", "traineesPerSession")}
+              defaultValue={String(t.traineesPerSession)}
             />
           </div>
-          <fieldset>
-            <legend className="field-label">Certified device types</legend>
-            {deviceTypes.map((d) => (
-              <label key={d.id} className="flex min-h-11 items-center gap-2">
-                <input
-                  type="checkbox"
-                  name="deviceTypeIds"
-                  value={d.id}
-                  defaultChecked={t.certifications.some((c) => c.id === d.id)}
-                  className="h-5 w-5"
-                />{" "}
-                {d.name}
-              </label>
-            ))}
-          </fieldset>
+          <CheckboxGroup
+            name="deviceTypeIds"
+            legend="Certified device types"
+            defaultValues={t.certifications.map((c) => String(c.id))}
+            options={deviceTypes.map((d) => ({ value: String(d.id), label: d.name }))}
+          />
           <div className="flex flex-wrap items-center gap-3">
             <button className="btn-quiet" type="submit">
               Save trainer
             </button>
-            {ok("trainer") && <Notice>{ok("trainer")}</Notice>}
+            <ActionNotice result={actionData} intent="trainer" />
           </div>
-          <FormError message={e("trainer", "_form")} />
-        </Form>
+        </ActionForm>
       </section>
       <section aria-labelledby="pattern" className="card grid gap-3">
         <h2 id="pattern" className="text-lg font-semibold">
@@ -186,52 +127,21 @@ export default function TrainerPage({ loaderData, actionData }: Route.ComponentP
             ))}
           </ul>
         )}
-        <Form method="post" className="grid gap-3 md:grid-cols-4 md:items-end" noValidate>
-          <input type="hidden" name="intent" value="add-pattern" />
-          <div>
-            <label htmlFor="weekday" className="field-label">
-              Weekday
-            </label>
-            <select
-              id="weekday"
-              name="weekday"
-              className="field-input"
-              aria-describedby={e("add-pattern", "weekday") ? "weekday-error" : undefined}
-            >
-              {WEEKDAY_NAMES.slice(1).map((n, i) => (
-                <option key={n} value={i + 1}>
-                  {n}
-                </option>
-              ))}
-            </select>
-            {e("add-pattern", "weekday") && (
-              <p id="weekday-error" className="field-error">
-                {e("add-pattern", "weekday")}
-              </p>
-            )}
-          </div>
-          <Field
-            id="startTime"
-            name="startTime"
-            label="From"
-            type="time"
-            defaultValue="08:00"
-            error={e("add-pattern", "startTime")}
+        <ActionErrors result={actionData} intent="remove-pattern" />
+        <ActionNotice result={actionData} intent="remove-pattern" />
+        <ActionForm intent="add-pattern" result={actionData} className="grid gap-3 md:grid-cols-4 md:items-end">
+          <SelectField
+            name="weekday"
+            label="Weekday"
+            options={WEEKDAY_NAMES.slice(1).map((n, i) => ({ value: String(i + 1), label: n }))}
           />
-          <Field
-            id="endTime"
-            name="endTime"
-            label="To"
-            type="time"
-            defaultValue="12:00"
-            error={e("add-pattern", "endTime")}
-          />
+          <TextField name="startTime" label="From" type="time" defaultValue="08:00" />
+          <TextField name="endTime" label="To" type="time" defaultValue="12:00" />
           <button className="btn-quiet" type="submit">
             Add window
           </button>
-        </Form>
-        {ok("add-pattern") && <Notice>{ok("add-pattern")}</Notice>}
-        <FormError message={e("add-pattern", "_form")} />
+        </ActionForm>
+        <ActionNotice result={actionData} intent="add-pattern" />
       </section>
       <section aria-labelledby="leave" className="card grid gap-3">
         <h2 id="leave" className="text-lg font-semibold">
@@ -258,17 +168,7 @@ export default function TrainerPage({ loaderData, actionData }: Route.ComponentP
             </li>
           ))}
         </ul>
-        <Form method="post" className="grid gap-3 md:grid-cols-4 md:items-end" noValidate>
-          <input type="hidden" name="intent" value="add-leave" />
-          <Field id="startsOn" name="startsOn" label="From" type="date" error={e("add-leave", "startsOn")} />
-          <Field id="endsOn" name="endsOn" label="To (inclusive)" type="date" error={e("add-leave", "endsOn")} />
-          <Field id="reason" name="reason" label="Reason (optional)" error={e("add-leave", "reason")} />
-          <button className="btn-quiet" type="submit">
-            Add leave
-          </button>
-        </Form>
-        {ok("add-leave") && <Notice>{ok("add-leave")}</Notice>}
-        <FormError message={e("add-leave", "_form")} />
+        <LeaveForm result={actionData} />
       </section>
     </div>
   );

@@ -1,9 +1,11 @@
-import { data, Link } from "react-router";
+import { invariantResponse } from "@epic-web/invariant";
+import { Link } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { DeviceCautions } from "~/components/device-cautions";
 import { ForecastExplanation } from "~/components/forecast-explanation";
+import { userErrorResponse } from "~/forms.server";
 import { recordAccess } from "~/models/access-log.server";
-import { NotInScopeError, workerForecastView } from "~/models/forecast.server";
+import { workerForecastView } from "~/models/forecast.server";
 import type { Route } from "./+types/forecast.$workerId";
 
 export const meta: Route.MetaFunction = ({ data: d }) => [
@@ -15,15 +17,12 @@ export const meta: Route.MetaFunction = ({ data: d }) => [
 export async function loader({ request, params }: Route.LoaderArgs) {
   const p = await requireUser(request, "forecast.read");
   const workerId = Number(params.workerId);
-  if (!Number.isInteger(workerId)) throw data({ error: "No such worker." }, { status: 404 });
-  try {
-    const view = await workerForecastView(p, workerId);
-    await recordAccess(p, request, workerId, "forecast");
-    return view;
-  } catch (e) {
-    if (e instanceof NotInScopeError) throw data({ error: "No such worker in your scope." }, { status: 404 });
-    throw e;
-  }
+  invariantResponse(Number.isInteger(workerId), "No such worker.", { status: 404 });
+  const view = await workerForecastView(p, workerId).catch((e) => {
+    throw userErrorResponse(e);
+  });
+  await recordAccess(p, request, workerId, "forecast");
+  return view;
 }
 
 const h = (v: number | null) => (v == null ? "—" : `${v.toFixed(1)} h`);

@@ -1,10 +1,10 @@
-import { data, Form, useActionData, useNavigation } from "react-router";
-import { FormError, Notice, SelectField, TextArea } from "~/components/fields";
+import { useActionData, useNavigation } from "react-router";
+import { ActionForm, ActionNotice, SelectField, TextArea } from "~/components/fields";
 import { formatInstantDay } from "~/dates";
-import { createReviewRequest, myReviewRequests, ReviewError } from "~/models/reviews.server";
+import { formAction } from "~/forms.server";
+import { createReviewRequest, myReviewRequests } from "~/models/reviews.server";
 import { myForecasts } from "~/models/self-service.server";
 import { workerTimeZone } from "~/models/sites.server";
-import { formToObject, parseWith } from "~/schemas/form";
 import { REVIEW_SUBJECT_LABELS, REVIEW_SUBJECTS, reviewRequestSchema } from "~/schemas/portal";
 import type { Route } from "./+types/me.review";
 import { requireOwnWorker } from "./me.guard.server";
@@ -19,19 +19,10 @@ export async function loader({ request }: Route.LoaderArgs) {
 
 export async function action({ request }: Route.ActionArgs) {
   const { p, workerId } = await requireOwnWorker(request, "self.review");
-  const parsed = parseWith(reviewRequestSchema, formToObject(await request.formData()));
-  if (!parsed.ok) return data({ errors: parsed.errors, done: null }, { status: 400 });
-  try {
-    await createReviewRequest(workerId, p.user.id, parsed.data);
-    return {
-      errors: null,
-      done: "Your request is with the assessors. You will get an e-mail when a person has answered.",
-    };
-  } catch (e) {
-    if (e instanceof ReviewError)
-      return data({ errors: { [e.field ?? "_form"]: e.message }, done: null }, { status: 409 });
-    throw e;
-  }
+  return formAction(await request.formData(), reviewRequestSchema, async (v) => {
+    await createReviewRequest(workerId, p.user.id, v);
+    return "Your request is with the assessors. You will get an e-mail when a person has answered.";
+  });
 }
 
 export default function MyReview({ loaderData }: Route.ComponentProps) {
@@ -39,7 +30,6 @@ export default function MyReview({ loaderData }: Route.ComponentProps) {
   const formatDay = (at: string) => formatInstantDay(at, timeZone);
   const result = useActionData<typeof action>();
   const busy = useNavigation().state === "submitting";
-  const errors = (result?.errors ?? {}) as Record<string, string>;
   return (
     <div className="grid gap-6">
       <div>
@@ -49,24 +39,22 @@ export default function MyReview({ loaderData }: Route.ComponentProps) {
           assessor — to look at yours again.
         </p>
       </div>
-      {result?.done && <Notice>{result.done}</Notice>}
+      <ActionNotice result={result} />
       <section className="card" aria-labelledby="ask-h">
         <h2 id="ask-h" className="text-lg font-semibold">
           New request
         </h2>
-        <Form method="post" className="mt-3 grid gap-4" noValidate key={result?.done ?? "form"}>
-          <FormError message={errors._form} />
+        {/* A new key after each success starts an empty form. */}
+        <ActionForm result={result} className="mt-3 grid gap-4" key={result?.notice ?? "form"}>
           <SelectField
             name="subject"
             label="What should be reviewed?"
             required
-            error={errors.subject}
             options={REVIEW_SUBJECTS.map((s) => ({ value: s, label: REVIEW_SUBJECT_LABELS[s] }))}
           />
           <SelectField
             name="deviceTypeId"
             label="Which device (optional)"
-            error={errors.deviceTypeId}
             options={[
               { value: "", label: "Not about one device" },
               ...devices.map((d) => ({ value: String(d.id), label: d.name })),
@@ -77,7 +65,6 @@ export default function MyReview({ loaderData }: Route.ComponentProps) {
             label="What would you like a person to look at?"
             required
             rows={4}
-            error={errors.message}
             hint="For example: the hours look too high for me, or the session times clash with my shifts."
           />
           <div>
@@ -85,7 +72,7 @@ export default function MyReview({ loaderData }: Route.ComponentProps) {
               {busy ? "Sending…" : "Send request"}
             </button>
           </div>
-        </Form>
+        </ActionForm>
       </section>
       <section className="card" aria-labelledby="mine-h">
         <h2 id="mine-h" className="text-lg font-semibold">

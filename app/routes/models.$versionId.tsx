@@ -1,14 +1,11 @@
-import { data, Form, useActionData, useNavigation, useSearchParams } from "react-router";
+import { invariantResponse } from "@epic-web/invariant";
+import { useActionData, useNavigation, useSearchParams } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { ModelDiagnostics } from "~/components/calibration-chart";
-import { FormError, Notice } from "~/components/fields";
-import {
-  ApprovalError,
-  approveModelVersion,
-  getModelVersion,
-  retireModelVersion,
-} from "~/models/model-versions.server";
-import { DRIFT_COVERAGE_WARNING, DRIFT_MINIMUM_OUTCOMES } from "~/schemas/forecast";
+import { ActionErrors, ActionForm, ActionNotice, Notice } from "~/components/fields";
+import { formAction } from "~/forms.server";
+import { approveModelVersion, getModelVersion, retireModelVersion } from "~/models/model-versions.server";
+import { DRIFT_COVERAGE_WARNING, DRIFT_MINIMUM_OUTCOMES, versionFormSchema } from "~/schemas/forecast";
 import type { Route } from "./+types/models.$versionId";
 
 export const meta: Route.MetaFunction = ({ data: d }) => [
@@ -21,7 +18,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const p = await requireUser(request, "models.manage");
   const id = Number(params.versionId);
   const version = Number.isInteger(id) ? await getModelVersion(id) : null;
-  if (!version) throw data({ error: "No such model version." }, { status: 404 });
+  invariantResponse(version, "No such model version.", { status: 404 });
   return {
     version,
     canApprove: version.status === "draft" && version.fittedById !== p.user.id,
@@ -32,21 +29,14 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 export async function action({ request, params }: Route.ActionArgs) {
   const p = await requireUser(request, "models.manage");
   const id = Number(params.versionId);
-  const intent = (await request.formData()).get("intent");
-  try {
-    if (intent === "approve") {
+  return formAction(await request.formData(), versionFormSchema, async (v) => {
+    if (v.intent === "approve") {
       const r = await approveModelVersion(id, p.user.id);
-      return { error: null, done: `Approved. ${r.forecasts} worker forecasts now use this version.` };
+      return `Approved. ${r.forecasts} worker forecasts now use this version.`;
     }
-    if (intent === "retire") {
-      await retireModelVersion(id, p.user.id);
-      return { error: null, done: "Retired. Forecasts made with it were withdrawn." };
-    }
-  } catch (e) {
-    if (e instanceof ApprovalError) return data({ error: e.message, done: null }, { status: 409 });
-    throw e;
-  }
-  return data({ error: "Unknown request.", done: null }, { status: 400 });
+    await retireModelVersion(id, p.user.id);
+    return "Retired. Forecasts made with it were withdrawn.";
+  });
 }
 
 export default function ModelVersionPage({ loaderData }: Route.ComponentProps) {
@@ -69,8 +59,9 @@ export default function ModelVersionPage({ loaderData }: Route.ComponentProps) {
       {search.get("saved") && !result && (
         <Notice>Saved as draft version {v.versionNumber}. Ask another assessor to review and approve it.</Notice>
       )}
-      {result?.done && <Notice>{result.done}</Notice>}
-      <FormError message={result?.error ?? undefined} />
+      <ActionNotice result={result} />
+      {/* A retired version has no form left to show an error in (e.g. retired twice from two tabs). */}
+      {v.status === "retired" && <ActionErrors result={result} intent="retire" />}
       <section className="card grid gap-2 sm:grid-cols-3" aria-label="Who and when">
         <div>
           <p className="text-sm text-ink-soft">Fitted by</p>
@@ -109,7 +100,7 @@ export default function ModelVersionPage({ loaderData }: Route.ComponentProps) {
               forecasts and plans on this device type and retires the one in use.
             </p>
           )}
-          <Form method="post" className="mt-3 flex flex-wrap gap-3">
+          <ActionForm result={result} className="mt-3 flex flex-wrap gap-3">
             {canApprove && (
               <button type="submit" className="btn-primary" name="intent" value="approve" disabled={busy}>
                 Approve version {v.versionNumber}
@@ -118,7 +109,7 @@ export default function ModelVersionPage({ loaderData }: Route.ComponentProps) {
             <button type="submit" className="btn-quiet" name="intent" value="retire" disabled={busy}>
               Discard (retire)
             </button>
-          </Form>
+          </ActionForm>
         </section>
       )}
       {v.status === "approved" && (
@@ -143,11 +134,11 @@ export default function ModelVersionPage({ loaderData }: Route.ComponentProps) {
           {v.drift.n > 0 && v.drift.n < DRIFT_MINIMUM_OUTCOMES && (
             <p className="text-xs text-ink-soft">Too few outcomes to judge drift (needs {DRIFT_MINIMUM_OUTCOMES}).</p>
           )}
-          <Form method="post" className="mt-3">
+          <ActionForm result={result} className="mt-3">
             <button type="submit" className="btn-quiet" name="intent" value="retire" disabled={busy}>
               Retire this version
             </button>
-          </Form>
+          </ActionForm>
         </section>
       )}
       <ModelDiagnostics fit={v} />

@@ -1,16 +1,11 @@
-import { data, Form, Link, useActionData, useNavigation } from "react-router";
+import { Link, useActionData, useNavigation } from "react-router";
 import { requireUser } from "~/auth/guard.server";
-import { FormError, Notice } from "~/components/fields";
+import { ActionForm, Notice, TextField } from "~/components/fields";
+import { formAction } from "~/forms.server";
 import { planningQuantile, setPlanningQuantile } from "~/models/forecast.server";
 import { listModelVersions } from "~/models/model-versions.server";
-import { listCriteria, setCriterion, UnknownDeviceTypeError } from "~/models/proficiency.server";
-import {
-  criterionFormSchema,
-  DRIFT_COVERAGE_WARNING,
-  DRIFT_MINIMUM_OUTCOMES,
-  planningQuantileSchema,
-} from "~/schemas/forecast";
-import { formToObject, parseWith } from "~/schemas/form";
+import { listCriteria, setCriterion } from "~/models/proficiency.server";
+import { DRIFT_COVERAGE_WARNING, DRIFT_MINIMUM_OUTCOMES, modelsFormSchema } from "~/schemas/forecast";
 import type { Route } from "./+types/models._index";
 
 export const meta: Route.MetaFunction = () => [{ title: "Forecast models · Limberly" }];
@@ -25,39 +20,14 @@ export async function loader({ request }: Route.LoaderArgs) {
 
 export async function action({ request }: Route.ActionArgs) {
   const p = await requireUser(request, "models.manage");
-  const form = formToObject(await request.formData());
-  if (form.intent === "criterion") {
-    const parsed = parseWith(criterionFormSchema, form);
-    if (!parsed.ok)
-      return data(
-        { intent: "criterion", deviceTypeId: Number(form.deviceTypeId), errors: parsed.errors, done: null },
-        { status: 400 },
-      );
-    try {
-      await setCriterion(parsed.data, p.user.id);
-    } catch (e) {
-      if (e instanceof UnknownDeviceTypeError)
-        return data(
-          { intent: "criterion", deviceTypeId: parsed.data.deviceTypeId, errors: { _form: e.message }, done: null },
-          { status: 404 },
-        );
-      throw e;
+  return formAction(await request.formData(), modelsFormSchema, async (v) => {
+    if (v.intent === "criterion") {
+      await setCriterion(v, p.user.id);
+      return "Criterion saved.";
     }
-    return { intent: "criterion", deviceTypeId: parsed.data.deviceTypeId, errors: null, done: "Criterion saved." };
-  }
-  if (form.intent === "quantile") {
-    const parsed = parseWith(planningQuantileSchema, form);
-    if (!parsed.ok)
-      return data({ intent: "quantile", deviceTypeId: null, errors: parsed.errors, done: null }, { status: 400 });
-    const n = await setPlanningQuantile(parsed.data.planningQuantile);
-    return {
-      intent: "quantile",
-      deviceTypeId: null,
-      errors: null,
-      done: `Planning quantile set to ${parsed.data.planningQuantile.toFixed(2)}; ${n} forecasts recomputed.`,
-    };
-  }
-  return data({ intent: null, deviceTypeId: null, errors: { _form: "Unknown request." }, done: null }, { status: 400 });
+    const n = await setPlanningQuantile(v.planningQuantile);
+    return `Planning quantile set to ${v.planningQuantile.toFixed(2)}; ${n} forecasts recomputed.`;
+  });
 }
 
 const pct = (v: number | null) => (v == null ? "—" : `${Math.round(v * 100)} %`);
@@ -71,7 +41,6 @@ export default function ModelsIndex({ loaderData }: Route.ComponentProps) {
   const { versions, criteria, quantile } = loaderData;
   const result = useActionData<typeof action>();
   const busy = useNavigation().state === "submitting";
-  const errors = (result?.errors ?? {}) as Record<string, string>;
   const warnings = versions.filter((v) => v.drift.warn);
   return (
     <div className="grid gap-6">
@@ -179,15 +148,17 @@ export default function ModelsIndex({ loaderData }: Route.ComponentProps) {
         </p>
         <div className="mt-3 grid gap-4 md:grid-cols-2">
           {criteria.map((c) => {
-            const mine = result?.intent === "criterion" && result.deviceTypeId === c.deviceTypeId;
-            const e = mine ? errors : {};
+            const which = { deviceTypeId: String(c.deviceTypeId) };
+            const mine =
+              result?.intent === "criterion" && result.result.initialValue?.deviceTypeId === which.deviceTypeId;
             const idp = `crit-${c.deviceTypeId}`;
             return (
-              <Form
+              <ActionForm
                 key={c.deviceTypeId}
-                method="post"
+                intent="criterion"
+                match={which}
+                result={result}
                 className="grid gap-2 rounded-md border border-line p-3"
-                noValidate
                 aria-labelledby={`${idp}-h`}
               >
                 <h3 id={`${idp}-h`} className="font-semibold">
@@ -198,56 +169,28 @@ export default function ModelsIndex({ loaderData }: Route.ComponentProps) {
                     ? `Set by ${c.setBy ?? "unknown"} on ${c.setAt.slice(0, 10)}`
                     : "No criterion yet: nobody can be marked proficient on this device."}
                 </p>
-                {mine && <FormError message={e._form} />}
-                {mine && result?.done && <Notice>{result.done}</Notice>}
-                <input type="hidden" name="intent" value="criterion" />
+                {mine && result?.notice && <Notice>{result.notice}</Notice>}
                 <input type="hidden" name="deviceTypeId" value={c.deviceTypeId} />
                 <div className="grid grid-cols-2 gap-2">
-                  <div>
-                    <label className="field-label" htmlFor={`${idp}-t`}>
-                      Score threshold (0–1)
-                    </label>
-                    <input
-                      id={`${idp}-t`}
-                      name="scoreThreshold"
-                      className="field-input"
-                      inputMode="decimal"
-                      defaultValue={c.scoreThreshold ?? ""}
-                      aria-invalid={e.scoreThreshold ? true : undefined}
-                      aria-describedby={e.scoreThreshold ? `${idp}-te` : undefined}
-                    />
-                    {e.scoreThreshold && (
-                      <p id={`${idp}-te`} className="field-error">
-                        {e.scoreThreshold}
-                      </p>
-                    )}
-                  </div>
-                  <div>
-                    <label className="field-label" htmlFor={`${idp}-n`}>
-                      Consecutive sessions
-                    </label>
-                    <input
-                      id={`${idp}-n`}
-                      name="consecutiveSessions"
-                      className="field-input"
-                      inputMode="numeric"
-                      defaultValue={c.consecutiveSessions ?? 2}
-                      aria-invalid={e.consecutiveSessions ? true : undefined}
-                      aria-describedby={e.consecutiveSessions ? `${idp}-ne` : undefined}
-                    />
-                    {e.consecutiveSessions && (
-                      <p id={`${idp}-ne`} className="field-error">
-                        {e.consecutiveSessions}
-                      </p>
-                    )}
-                  </div>
+                  <TextField
+                    name="scoreThreshold"
+                    label="Score threshold (0–1)"
+                    inputMode="decimal"
+                    defaultValue={c.scoreThreshold == null ? "" : String(c.scoreThreshold)}
+                  />
+                  <TextField
+                    name="consecutiveSessions"
+                    label="Consecutive sessions"
+                    inputMode="numeric"
+                    defaultValue={String(c.consecutiveSessions ?? 2)}
+                  />
                 </div>
                 <div>
                   <button type="submit" className="btn-quiet" disabled={busy}>
                     Save criterion
                   </button>
                 </div>
-              </Form>
+              </ActionForm>
             );
           })}
         </div>
@@ -261,36 +204,22 @@ export default function ModelsIndex({ loaderData }: Route.ComponentProps) {
           Plans use this quantile of each worker's forecast so that they run short only rarely (0.80: one time in five).
           Changing it recomputes every forecast.
         </p>
-        {result?.intent === "quantile" && result.done && (
+        {result?.intent === "quantile" && result.notice && (
           <div className="mt-2">
-            <Notice>{result.done}</Notice>
+            <Notice>{result.notice}</Notice>
           </div>
         )}
-        <Form method="post" className="mt-3 flex flex-wrap items-end gap-3" noValidate>
-          <input type="hidden" name="intent" value="quantile" />
-          <div>
-            <label className="field-label" htmlFor="planningQuantile">
-              Planning quantile (0.50–0.95)
-            </label>
-            <input
-              id="planningQuantile"
-              name="planningQuantile"
-              className="field-input"
-              inputMode="decimal"
-              defaultValue={quantile.toFixed(2)}
-              aria-invalid={result?.intent === "quantile" && errors.planningQuantile ? true : undefined}
-              aria-describedby={result?.intent === "quantile" && errors.planningQuantile ? "pq-error" : undefined}
-            />
-            {result?.intent === "quantile" && errors.planningQuantile && (
-              <p id="pq-error" className="field-error">
-                {errors.planningQuantile}
-              </p>
-            )}
-          </div>
+        <ActionForm intent="quantile" result={result} className="mt-3 flex flex-wrap items-end gap-3">
+          <TextField
+            name="planningQuantile"
+            label="Planning quantile (0.50–0.95)"
+            inputMode="decimal"
+            defaultValue={quantile.toFixed(2)}
+          />
           <button type="submit" className="btn-quiet" disabled={busy}>
             Save and recompute
           </button>
-        </Form>
+        </ActionForm>
       </section>
     </div>
   );

@@ -1,18 +1,11 @@
-import { data, Form, redirect, useActionData, useNavigation } from "react-router";
+import { redirect, useActionData, useNavigation } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { ModelDiagnostics } from "~/components/calibration-chart";
-import { FormError, TextArea, TextField } from "~/components/fields";
-import {
-  FitError,
-  fitWorkbench,
-  listModelMeasures,
-  listModelVersions,
-  saveModelVersion,
-  type WorkbenchFit,
-} from "~/models/model-versions.server";
+import { ActionForm, CheckboxGroup, SelectField, TextArea, TextField } from "~/components/fields";
+import { formAction } from "~/forms.server";
+import { fitWorkbench, listModelMeasures, listModelVersions, saveModelVersion } from "~/models/model-versions.server";
 import { listDeviceTypes } from "~/models/proficiency.server";
-import { workbenchFormSchema } from "~/schemas/forecast";
-import { formToObject, parseWith } from "~/schemas/form";
+import { workbenchIntentSchema } from "~/schemas/forecast";
 import type { Route } from "./+types/models.new";
 
 export const meta: Route.MetaFunction = () => [{ title: "Model workbench · Limberly" }];
@@ -31,39 +24,28 @@ export async function loader({ request }: Route.LoaderArgs) {
   return { devices, measures, defaultMeasureIds: measures.filter((m) => inUse.has(m.id)).map((m) => m.id) };
 }
 
-type ActionResult = {
-  errors: Record<string, string> | null;
-  fit: WorkbenchFit | null;
-  input: { deviceTypeId: number; measureIds: number[]; ridge: number; notes?: string } | null;
-};
-
 export async function action({ request }: Route.ActionArgs) {
   const p = await requireUser(request, "models.manage");
-  const form = formToObject(await request.formData());
-  const parsed = parseWith(workbenchFormSchema, form);
-  if (!parsed.ok) return data<ActionResult>({ errors: parsed.errors, fit: null, input: null }, { status: 400 });
-  try {
-    if (form.intent === "save") {
-      const v = await saveModelVersion(parsed.data, p.user.id);
-      return redirect(`/models/${v.id}?saved=1`);
+  return formAction(await request.formData(), workbenchIntentSchema, async (v) => {
+    if (v.intent === "save") {
+      const saved = await saveModelVersion(v, p.user.id);
+      throw redirect(`/models/${saved.id}?saved=1`);
     }
-    const fit = await fitWorkbench(parsed.data);
-    return data<ActionResult>({ errors: null, fit, input: parsed.data });
-  } catch (e) {
-    if (e instanceof FitError)
-      return data<ActionResult>({ errors: { _form: e.message }, fit: null, input: parsed.data }, { status: 422 });
-    throw e;
-  }
+    return { notice: null, payload: await fitWorkbench(v) };
+  });
 }
 
 export default function Workbench({ loaderData }: Route.ComponentProps) {
   const { devices, measures, defaultMeasureIds } = loaderData;
-  const result = useActionData<typeof action>() as ActionResult | undefined;
+  const result = useActionData<typeof action>();
   const nav = useNavigation();
   const busy = nav.state === "submitting";
-  const errors = result?.errors ?? {};
-  const input = result?.input;
-  const chosen = new Set(input?.measureIds ?? defaultMeasureIds);
+  // The choices as sent, so a page rendered after an error (or without JavaScript) keeps them.
+  const sent = result?.result.initialValue as
+    | { deviceTypeId?: string; measureIds?: string | string[]; ridge?: string; notes?: string }
+    | undefined;
+  const fit = result?.payload;
+  const chosen = sent ? ([] as string[]).concat(sent.measureIds ?? []) : defaultMeasureIds.map(String);
   return (
     <div className="grid gap-6">
       <div>
@@ -73,91 +55,56 @@ export default function Workbench({ loaderData }: Route.ComponentProps) {
           censored and never used as outcomes; they are counted below with every other exclusion.
         </p>
       </div>
-      <Form method="post" className="card grid gap-4" noValidate>
-        <FormError message={errors._form} />
-        <div>
-          <label htmlFor="deviceTypeId" className="field-label">
-            Device type<span aria-hidden="true"> *</span>
-          </label>
-          <select
-            id="deviceTypeId"
-            name="deviceTypeId"
-            className="field-input"
-            defaultValue={input?.deviceTypeId ?? devices[0]?.id}
-            aria-invalid={errors.deviceTypeId ? true : undefined}
-            aria-describedby={errors.deviceTypeId ? "deviceTypeId-error" : undefined}
-          >
-            {devices.map((d) => (
-              <option key={d.id} value={d.id}>
-                {d.name}
-              </option>
-            ))}
-          </select>
-          {errors.deviceTypeId && (
-            <p id="deviceTypeId-error" className="field-error">
-              {errors.deviceTypeId}
-            </p>
-          )}
-        </div>
-        <fieldset aria-describedby={errors.measureIds ? "measureIds-error" : undefined}>
-          <legend className="field-label">Baseline measures</legend>
+      <ActionForm result={result} className="card grid gap-4">
+        <SelectField
+          name="deviceTypeId"
+          label="Device type"
+          required
+          defaultValue={sent?.deviceTypeId ?? (devices[0] ? String(devices[0].id) : undefined)}
+          options={devices.map((d) => ({ value: String(d.id), label: d.name }))}
+        />
+        <CheckboxGroup
+          name="measureIds"
+          legend="Baseline measures"
+          defaultValues={chosen}
+          options={measures.map((m) => ({
+            value: String(m.id),
+            label: (
+              <>
+                {m.label} <span className="text-xs text-ink-soft">({m.unit})</span>
+              </>
+            ),
+          }))}
+        >
           {measures.length === 0 && <p className="text-sm text-ink-soft">No measures are configured yet.</p>}
-          <div className="mt-1 grid gap-1 sm:grid-cols-2">
-            {measures.map((m) => (
-              <label key={m.id} className="flex min-h-11 items-center gap-2 rounded-md border border-line px-3">
-                <input
-                  type="checkbox"
-                  name="measureIds"
-                  value={m.id}
-                  defaultChecked={chosen.has(m.id)}
-                  className="h-5 w-5"
-                />
-                <span>
-                  {m.label} <span className="text-xs text-ink-soft">({m.unit})</span>
-                </span>
-              </label>
-            ))}
-          </div>
-          {errors.measureIds && (
-            <p id="measureIds-error" className="field-error">
-              {errors.measureIds}
-            </p>
-          )}
-        </fieldset>
+        </CheckboxGroup>
         <div className="grid gap-4 sm:grid-cols-2">
           <TextField
             name="ridge"
             label="Ridge penalty (0 = ordinary least squares)"
-            defaultValue={String(input?.ridge ?? 0)}
-            error={errors.ridge}
+            defaultValue={sent?.ridge ?? "0"}
             hint="A small penalty (e.g. 1–5) steadies small cohorts; intervals are then slightly optimistic."
           />
-          <TextArea
-            name="notes"
-            label="Notes for the reviewer"
-            rows={2}
-            defaultValue={input?.notes ?? ""}
-            error={errors.notes}
-          />
+          <TextArea name="notes" label="Notes for the reviewer" rows={2} defaultValue={sent?.notes ?? ""} />
         </div>
         <div className="flex flex-wrap gap-3">
           <button type="submit" className="btn-primary" name="intent" value="fit" disabled={busy}>
             {busy && nav.formData?.get("intent") === "fit" ? "Fitting…" : "Fit model"}
           </button>
-          {result?.fit && (
+          {fit && (
             <button type="submit" className="btn-quiet" name="intent" value="save" disabled={busy}>
               Save as draft version
             </button>
           )}
         </div>
-        {result?.fit && (
+        {fit && (
           <p className="text-sm text-ink-soft">
             Saving refits on the server with the same choices and stores the version as a draft; another assessor must
             approve it before it is used.
           </p>
         )}
-      </Form>
-      {result?.fit && <ModelDiagnostics fit={result.fit} />}
+      </ActionForm>
+      {fit && <ModelDiagnostics fit={fit} />}
     </div>
   );
 }

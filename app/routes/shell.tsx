@@ -1,6 +1,8 @@
-import { Form, NavLink, Outlet } from "react-router";
+import type { ReactNode } from "react";
+import { Form, NavLink, Outlet, useRouteLoaderData } from "react-router";
 import { requireSignedIn } from "~/auth/guard.server";
 import { ROLE_LABELS } from "~/auth/permissions";
+import { ErrorPanel, errorText } from "~/components/error-panel";
 import { navFor } from "~/components/navigation";
 import { isProduction } from "~/config.server";
 import type { Route } from "./+types/shell";
@@ -16,7 +18,23 @@ export async function loader({ request }: Route.LoaderArgs) {
 }
 
 export default function Shell({ loaderData }: Route.ComponentProps) {
-  const { user, nav } = loaderData;
+  return (
+    <Frame {...loaderData}>
+      <Outlet />
+    </Frame>
+  );
+}
+
+// An error in a page inside the shell: the page's own message (e.g. "No such worker in your scope."),
+// with the header and navigation kept so the user can go on from there.
+export function ErrorBoundary({ error }: Route.ErrorBoundaryProps) {
+  const frame = useRouteLoaderData<typeof loader>("routes/shell");
+  const { title, detail } = errorText(error);
+  const panel = <ErrorPanel title={title} detail={detail} />;
+  return frame ? <Frame {...frame}>{panel}</Frame> : <main className="mx-auto max-w-xl p-6">{panel}</main>;
+}
+
+function Frame({ user, nav, children }: Awaited<ReturnType<typeof loader>> & { children: ReactNode }) {
   return (
     <div className="min-h-screen">
       <a
@@ -66,7 +84,7 @@ export default function Shell({ loaderData }: Route.ComponentProps) {
         </nav>
       </header>
       <main id="main" className="mx-auto max-w-6xl px-4 py-6">
-        <Outlet />
+        {children}
       </main>
     </div>
   );

@@ -1,18 +1,11 @@
-import { data, Form, Link, redirect, useActionData, useNavigation } from "react-router";
+import { data, Link, redirect, useActionData, useNavigation } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { DeviceCautions } from "~/components/device-cautions";
-import { FormError, Notice, TextArea, TextField } from "~/components/fields";
+import { ActionForm, ActionNotice, FieldMessage, RadioGroup, TextArea, TextField } from "~/components/fields";
 import { addMinutesToWallClock, formatDay, formatSpan, toLocalInput, wallClockNow } from "~/dates";
+import { formAction } from "~/forms.server";
 import { recordAccess } from "~/models/access-log.server";
-import {
-  logTrainerSession,
-  markNoShow,
-  SessionLogError,
-  TrainerDayError,
-  trainerForUser,
-  trainerSession,
-} from "~/models/trainer-day.server";
-import { formToObject, parseWith } from "~/schemas/form";
+import { logTrainerSession, markNoShow, trainerForUser, trainerSession } from "~/models/trainer-day.server";
 import { ADVERSE_KINDS, ADVERSE_LABELS, attendanceSchema, SEVERITIES, trainerLogSchema } from "~/schemas/session-log";
 import type { Route } from "./+types/train.sessions.$sessionId";
 
@@ -40,24 +33,18 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 }
 
 export async function action({ request, params }: Route.ActionArgs) {
-  const form = formToObject(await request.formData());
-  if (form.intent === "no_show") {
+  const formData = await request.formData();
+  // Marking a no-show and logging a session need different permissions: the intent picks which, before parsing.
+  if (formData.get("intent") === "no_show") {
     const { p, trainer, session } = await load(request, params, "sessions.own");
-    const parsed = parseWith(attendanceSchema, form);
-    if (!parsed.ok) return data({ errors: parsed.errors, done: null }, { status: 400 });
-    try {
+    return formAction(formData, attendanceSchema, async () => {
       await markNoShow(trainer.id, session.id, p.user.id);
-    } catch (e) {
-      if (e instanceof TrainerDayError) return data({ errors: { _form: e.message }, done: null }, { status: 409 });
-      throw e;
-    }
-    return redirect("/train");
+      throw redirect("/train");
+    });
   }
   const { p, trainer, session } = await load(request, params, "sessions.log");
-  const parsed = parseWith(trainerLogSchema, form);
-  if (!parsed.ok) return data({ errors: parsed.errors, done: null }, { status: 400 });
-  try {
-    const r = await logTrainerSession({ trainer, sessionId: session.id, userId: p.user.id, form: parsed.data });
+  return formAction(formData, trainerLogSchema, async (v) => {
+    const r = await logTrainerSession({ trainer, sessionId: session.id, userId: p.user.id, form: v });
     const parts = [`Session logged: ${r.cumulativeHours.toFixed(1)} h practised so far.`];
     if (r.proficient) parts.push("The proficiency criterion is met.");
     else if (r.remainingHours != null) parts.push(`About ${r.remainingHours.toFixed(1)} h to go.`);
@@ -66,20 +53,16 @@ export async function action({ request, params }: Route.ActionArgs) {
       parts.push(
         `Training is paused for a severe event; ${r.notified.length ? `the assessors (${r.notified.length}) have been e-mailed` : "no assessor covers this worker's site: tell occupational health directly"}.`,
       );
-    return { errors: null, done: parts.join(" "), paused: r.paused };
-  } catch (e) {
-    if (e instanceof SessionLogError || e instanceof TrainerDayError)
-      return data({ errors: { [(e as { field?: string }).field ?? "_form"]: e.message }, done: null }, { status: 409 });
-    throw e;
-  }
+    return parts.join(" ");
+  });
 }
 
 export default function TrainerSession({ loaderData }: Route.ComponentProps) {
   const { session: s, timeZone, now } = loaderData;
   const result = useActionData<typeof action>();
   const busy = useNavigation().state === "submitting";
-  const errors = (result?.errors ?? {}) as Record<string, string>;
-  const open = s.status === "scheduled" && s.courseStatus !== "paused" && !result?.done;
+  const done = Boolean(result?.notice);
+  const open = s.status === "scheduled" && s.courseStatus !== "paused" && !done;
   const defaultStart = s.start ?? now;
   const defaultEnd = s.end ?? addMinutesToWallClock(defaultStart, 60);
   return (
@@ -104,14 +87,14 @@ export default function TrainerSession({ loaderData }: Route.ComponentProps) {
           </Link>
         </p>
       </div>
-      {result?.done && <Notice>{result.done}</Notice>}
-      {s.courseStatus === "paused" && !result?.done && (
+      <ActionNotice result={result} />
+      {s.courseStatus === "paused" && !done && (
         <p role="alert" className="rounded-md bg-alert-wash p-3 text-alert">
           Training on this device is paused{s.pauseReason ? `: ${s.pauseReason}` : ""}. Do not train until an assessor
           resumes it.
         </p>
       )}
-      {s.status !== "scheduled" && !result?.done && (
+      {s.status !== "scheduled" && !done && (
         <section className="card">
           <p>
             Recorded as <strong>{s.status.replace("_", "-")}</strong>
@@ -133,8 +116,7 @@ export default function TrainerSession({ loaderData }: Route.ComponentProps) {
       {open && (
         <>
           <DeviceCautions compact />
-          <Form method="post" className="grid gap-5" noValidate>
-            <FormError message={errors._form} />
+          <ActionForm result={result} className="grid gap-5">
             <section className="card grid gap-4 sm:grid-cols-2" aria-labelledby="when-h">
               <h2 id="when-h" className="text-lg font-semibold sm:col-span-2">
                 Session
@@ -145,7 +127,6 @@ export default function TrainerSession({ loaderData }: Route.ComponentProps) {
                 label="Start"
                 required
                 defaultValue={toLocalInput(defaultStart)}
-                error={errors.start}
               />
               <TextField
                 name="end"
@@ -153,20 +134,18 @@ export default function TrainerSession({ loaderData }: Route.ComponentProps) {
                 label="End"
                 required
                 defaultValue={toLocalInput(defaultEnd)}
-                error={errors.end}
                 hint={`Practice time within the wear-time limit: ${s.wearTimeLimitMinutes} minutes.`}
               />
-              {errors.durationHours && <p className="field-error sm:col-span-2">{errors.durationHours}</p>}
+              <FieldMessage name="durationHours" className="sm:col-span-2" />
               <TextField
                 name="taskScore"
                 type="text"
                 label="Task score (0–1)"
                 required
-                error={errors.taskScore}
                 hint={`Score on the ${s.deviceType}'s standard task, e.g. 0.72.`}
               />
               <div className="sm:col-span-2">
-                <TextArea name="notes" label="Notes" rows={3} error={errors.notes} />
+                <TextArea name="notes" label="Notes" rows={3} />
               </div>
             </section>
             <section className="card grid gap-4" aria-labelledby="ae-h">
@@ -180,40 +159,19 @@ export default function TrainerSession({ loaderData }: Route.ComponentProps) {
                 </p>
               </div>
               {ADVERSE_KINDS.map((kind) => (
-                <fieldset
+                <RadioGroup
                   key={kind}
+                  name={`ae_${kind}`}
+                  legend={ADVERSE_LABELS[kind]}
+                  options={(["none", ...SEVERITIES] as const).map((sev) => ({ value: sev, label: sev }))}
+                  defaultValue="none"
                   className="grid gap-2 border-t border-line pt-3"
-                  aria-describedby={errors[`ae_${kind}`] ? `ae_${kind}-error` : undefined}
                 >
-                  <legend className="font-medium">{ADVERSE_LABELS[kind]}</legend>
-                  <div className="flex flex-wrap gap-2">
-                    {(["none", ...SEVERITIES] as const).map((sev) => (
-                      <label
-                        key={sev}
-                        className="flex min-h-12 min-w-24 cursor-pointer items-center gap-2 rounded-md border border-line px-3 has-[:checked]:border-spruce-700 has-[:checked]:bg-spruce-50"
-                      >
-                        <input
-                          type="radio"
-                          name={`ae_${kind}`}
-                          value={sev}
-                          defaultChecked={sev === "none"}
-                          className="size-5"
-                        />
-                        <span className="capitalize">{sev}</span>
-                      </label>
-                    ))}
-                  </div>
-                  {errors[`ae_${kind}`] && (
-                    <p id={`ae_${kind}-error`} className="field-error">
-                      {errors[`ae_${kind}`]}
-                    </p>
-                  )}
                   <TextField
                     name={`ae_${kind}_notes`}
                     label={`${ADVERSE_LABELS[kind]}: what happened (optional${kind === "other" ? ", required for other" : ""})`}
-                    error={errors[`ae_${kind}_notes`]}
                   />
-                </fieldset>
+                </RadioGroup>
               ))}
             </section>
             <div className="flex flex-wrap gap-3">
@@ -230,7 +188,7 @@ export default function TrainerSession({ loaderData }: Route.ComponentProps) {
                 Cancel
               </Link>
             </div>
-          </Form>
+          </ActionForm>
         </>
       )}
       {!open && <DeviceCautions compact />}

@@ -2,6 +2,7 @@ import { z } from "zod";
 import { ROLES } from "~/auth/permissions";
 import { isTimeZone } from "~/dates/calendar";
 import { CONSENT_PURPOSES } from "~/domain/consent-purposes";
+import { intents } from "~/schemas/form";
 
 // Shared by the admin forms, their actions and any API that takes the same input.
 const optionalId = z.preprocess(
@@ -52,7 +53,8 @@ export const siteSchema = z.object({
     .toUpperCase()
     .regex(/^[A-Z0-9-]{2,20}$/, "Code: 2–20 letters, digits or dashes."),
   name: z.string().trim().min(2, "Enter the site's name.").max(200),
-  timeZone: timeZoneField,
+  // Left out or empty: the site takes the organisation's default zone.
+  timeZone: z.preprocess((v) => (v === "" || v === null ? undefined : v), timeZoneField.optional()),
 });
 
 export const siteTimeZoneSchema = z.object({
@@ -72,6 +74,13 @@ export const departmentSchema = z.object({
   name: z.string().trim().min(2, "Enter the department's name.").max(200),
 });
 
+/** The forms of a user's page: details, add a role, remove a role. */
+export const userFormSchema = intents(
+  updateUserSchema.extend({ intent: z.literal("update") }),
+  roleAssignmentSchema.safeExtend({ intent: z.literal("add-role") }),
+  z.object({ intent: z.literal("remove-role"), assignmentId: z.coerce.number().int().positive() }),
+);
+
 export const apiKeySchema = z.object({
   name: z.string().trim().min(3, "Name the key after the system that will use it (at least 3 characters).").max(120),
   role: z
@@ -82,6 +91,12 @@ export const apiKeySchema = z.object({
     z.array(z.coerce.number().int().positive()).min(1, "Choose at least one site the key may reach."),
   ),
 });
+
+/** The two forms of the API keys page. */
+export const apiKeyFormSchema = intents(
+  apiKeySchema.extend({ intent: z.literal("create") }),
+  z.object({ intent: z.literal("revoke"), keyId: z.coerce.number().int().positive() }),
+);
 
 export const consentTextSchema = z.object({
   purpose: z.enum(CONSENT_PURPOSES, { message: "Choose a purpose." }),
@@ -105,3 +120,11 @@ export const accessLogFilterSchema = z.object({
     .optional()
     .or(z.literal("").transform(() => undefined)),
 });
+
+/** The forms of the sites page: add a site or a department, a site's time zone, the default zone. */
+export const sitesFormSchema = intents(
+  siteSchema.extend({ intent: z.literal("site") }),
+  departmentSchema.extend({ intent: z.literal("department") }),
+  siteTimeZoneSchema.extend({ intent: z.literal("siteZone") }),
+  organisationTimeZoneSchema.extend({ intent: z.literal("orgZone") }),
+);

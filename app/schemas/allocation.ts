@@ -1,5 +1,6 @@
 import { z } from "zod";
 import { isIsoDate, isoWeekday } from "~/dates/calendar";
+import { intents } from "~/schemas/form";
 
 // Shared by the allocation forms, their actions and /api/v1/allocation-runs.
 
@@ -189,21 +190,20 @@ export const unitFormSchema = z.object({
     .max(168, "At most 168 h."),
 });
 
-export const dateRange = z
-  .object({
-    startsOn: isoDate,
-    endsOn: isoDate,
-    reason: optionalText(300),
-  })
-  .refine((r) => r.endsOn >= r.startsOn, {
-    path: ["endsOn"],
-    message: "The end date must be on or after the start date.",
-  });
+// A leave or maintenance period: its fields, and the check that it does not end before it starts.
+const dateFields = { startsOn: isoDate, endsOn: isoDate, reason: optionalText(300) };
+const endsOnOrAfterStart: [(r: { startsOn: string; endsOn: string }) => boolean, { path: string[]; message: string }] =
+  [(r) => r.endsOn >= r.startsOn, { path: ["endsOn"], message: "The end date must be on or after the start date." }];
+
+export const dateRange = z.object(dateFields).refine(...endsOnOrAfterStart);
 
 export const maintenanceFormSchema = z
-  .object({ intent: z.literal("add-maintenance"), unitId: z.coerce.number().int().positive() })
-  .and(dateRange);
-export const removeByIdSchema = z.object({ intent: z.string(), id: z.coerce.number().int().positive() });
+  .object({ intent: z.literal("add-maintenance"), unitId: z.coerce.number().int().positive(), ...dateFields })
+  .refine(...endsOnOrAfterStart);
+
+/** A row's remove button: the intent names what is removed. */
+export const removeById = <I extends string>(intent: I) =>
+  z.object({ intent: z.literal(intent), id: z.coerce.number().int().positive() });
 
 export const trainerFormSchema = z.object({
   intent: z.literal("trainer"),
@@ -232,7 +232,9 @@ export const patternFormSchema = z
   })
   .refine((r) => r.endTime > r.startTime, { path: ["endTime"], message: "The end time must be after the start time." });
 
-export const leaveFormSchema = z.object({ intent: z.literal("add-leave") }).and(dateRange);
+export const leaveFormSchema = z
+  .object({ intent: z.literal("add-leave"), ...dateFields })
+  .refine(...endsOnOrAfterStart);
 
 export const workerTrainingFormSchema = z
   .object({
@@ -263,3 +265,23 @@ export const workerTrainingFormSchema = z
     path: ["priorityReason"],
     message: "Give a reason when the priority is not the default 1.",
   });
+
+/** The forms of the fleet page. */
+export const fleetPageSchema = intents(
+  deviceTypeFormSchema,
+  unitFormSchema,
+  maintenanceFormSchema,
+  removeById("remove-maintenance"),
+);
+
+/** The forms of a trainer's page. */
+export const trainerPageSchema = intents(
+  trainerFormSchema,
+  patternFormSchema,
+  leaveFormSchema,
+  removeById("remove-pattern"),
+  removeById("remove-leave"),
+);
+
+/** The forms of a trainee's page. */
+export const traineePageSchema = intents(workerTrainingFormSchema, leaveFormSchema, removeById("remove-leave"));

@@ -2,6 +2,7 @@ import { z } from "zod";
 import { MEASURE_DIRECTIONS } from "~/compute/features";
 import { TRACE_KINDS, type TraceKind } from "~/compute/trace-parsing";
 import { addDays, todayIn } from "~/dates";
+import { intents } from "~/schemas/form";
 
 // Forms of the baseline battery: measures, sessions, manual results, uploads, norm sets.
 
@@ -80,6 +81,16 @@ const isoDate = z
   .regex(/^\d{4}-\d{2}-\d{2}$/, "Date: use the form YYYY-MM-DD.")
   .refine((s) => !Number.isNaN(Date.parse(s)), "Date: not a real date.");
 
+/** The measures page: add a measure, or switch one on or off. */
+export const measuresFormSchema = intents(
+  measureSchema.safeExtend({ intent: z.literal("create") }),
+  z.object({
+    intent: z.literal("toggle"),
+    id: z.coerce.number().int().positive(),
+    active: z.enum(["true", "false"]).transform((v) => v === "true"),
+  }),
+);
+
 export const sessionSchema = z.object({
   assessedOn: isoDate.refine(
     // A day of slack: "today" on a site clock ahead of UTC is already tomorrow in UTC.
@@ -131,33 +142,61 @@ export const publishedNormSchema = z.object({
   sourceDate: isoDate,
 });
 
-/** Published norm values: `mean.<measureId>`, `sd.<measureId>`, `n.<measureId>`; a measure is skipped when both are blank. */
-export function normValuesFromForm(
-  form: Record<string, unknown>,
+export interface NormValue {
+  measureId: number;
+  mean: number;
+  sd: number;
+  n: number | null;
+}
+
+type NormCells = { mean?: unknown; sd?: unknown; n?: unknown };
+
+/**
+ * Published norm values, posted as `mean.<measureId>`, `sd.<measureId>`, `n.<measureId>`; a measure is
+ * skipped when its mean and SD are both blank. Returns the values and, per bad cell, an issue on that cell.
+ */
+export function normValues(
+  cells: NormCells,
   measures: { id: number; name: string }[],
-):
-  | { ok: true; values: { measureId: number; mean: number; sd: number; n: number | null }[] }
-  | { ok: false; errors: Record<string, string> } {
-  const errors: Record<string, string> = {};
-  const values: { measureId: number; mean: number; sd: number; n: number | null }[] = [];
+): { values: NormValue[]; issues: { path: string[]; message: string }[] } {
+  const cell = (group: unknown, id: number) =>
+    group && typeof group === "object" ? String((group as Record<string, unknown>)[id] ?? "").trim() : "";
   const num = (s: string) => (/^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/.test(s) ? Number(s) : NaN);
+  const values: NormValue[] = [];
+  const issues: { path: string[]; message: string }[] = [];
   for (const m of measures) {
-    const mean = String(form[`mean.${m.id}`] ?? "").trim();
-    const sd = String(form[`sd.${m.id}`] ?? "").trim();
-    const n = String(form[`n.${m.id}`] ?? "").trim();
+    const [mean, sd, n] = [cell(cells.mean, m.id), cell(cells.sd, m.id), cell(cells.n, m.id)];
     if (mean === "" && sd === "") continue;
-    if (Number.isNaN(num(mean))) errors[`mean.${m.id}`] = `${m.name}: mean must be a number.`;
-    if (!(num(sd) > 0)) errors[`sd.${m.id}`] = `${m.name}: SD must be a number above 0.`;
+    if (Number.isNaN(num(mean)))
+      issues.push({ path: ["mean", String(m.id)], message: `${m.name}: mean must be a number.` });
+    if (!(num(sd) > 0)) issues.push({ path: ["sd", String(m.id)], message: `${m.name}: SD must be a number above 0.` });
     if (n !== "" && !(Number.isInteger(num(n)) && num(n) >= 2))
-      errors[`n.${m.id}`] = `${m.name}: n must be a whole number of at least 2.`;
+      issues.push({ path: ["n", String(m.id)], message: `${m.name}: n must be a whole number of at least 2.` });
     values.push({ measureId: m.id, mean: num(mean), sd: num(sd), n: n === "" ? null : num(n) });
   }
-  if (Object.keys(errors).length) return { ok: false, errors };
-  if (values.length === 0) return { ok: false, errors: { _form: "Enter a mean and SD for at least one measure." } };
-  return { ok: true, values };
+  if (issues.length === 0 && values.length === 0)
+    issues.push({ path: [], message: "Enter a mean and SD for at least one measure." });
+  return { values, issues };
 }
 
 export const cohortNormSchema = z.object({
   name: z.string().trim().min(2, "Name: at least 2 characters.").max(200),
   siteId: z.preprocess((v) => (v === "" || v == null ? null : v), z.coerce.number().int().positive().nullable()),
 });
+
+/** The norm sets page: derive from the cohort, or enter a published table for these measures. */
+export function normsPageSchema(measures: { id: number; name: string }[]) {
+  const cells = z.record(z.string(), z.string()).optional();
+  return intents(
+    cohortNormSchema.extend({ intent: z.literal("cohort") }),
+    publishedNormSchema
+      .extend({ intent: z.literal("published"), mean: cells, sd: cells, n: cells })
+      // Checked even when the name or source is wrong, so every problem is named at once.
+      .superRefine(
+        (v, ctx) => {
+          for (const issue of normValues(v, measures).issues) ctx.addIssue({ code: "custom", ...issue });
+        },
+        { when: () => true },
+      ),
+  );
+}

@@ -1,4 +1,5 @@
 import { z } from "zod";
+import { intents } from "~/schemas/form";
 
 // Forms and payloads of the forecast area. The worker-forecast payload is one schema for the page loader
 // and for GET /api/v1/workers/:workerId/forecast.
@@ -72,6 +73,24 @@ export const planningQuantileSchema = z.object({
     .min(0.5, "Planning quantile must be at least 0.50.")
     .max(0.95, "Planning quantile must be at most 0.95."),
 });
+
+/** The models page: a device type's proficiency criterion, or the planning quantile. */
+export const modelsFormSchema = intents(
+  criterionFormSchema.extend({ intent: z.literal("criterion") }),
+  planningQuantileSchema.extend({ intent: z.literal("quantile") }),
+);
+
+/** The workbench posts the same choices to fit them or to save the fit as a draft version. */
+export const workbenchIntentSchema = intents(
+  workbenchFormSchema.extend({ intent: z.literal("fit") }),
+  workbenchFormSchema.extend({ intent: z.literal("save") }),
+);
+
+/** A model version's page: approve it, or retire it. */
+export const versionFormSchema = intents(
+  z.object({ intent: z.literal("approve") }),
+  z.object({ intent: z.literal("retire") }),
+);
 
 const contributionSchema = z.object({
   measureCode: z.string(),

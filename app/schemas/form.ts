@@ -1,4 +1,16 @@
-import type { z } from "zod";
+import type { SubmissionResult } from "@conform-to/react";
+import { z } from "zod";
+
+/**
+ * The one shape every form action answers with: which form (`intent`) it was, conform's result
+ * (field and form errors, the values sent) and, on success, the notice to show and any data for the page.
+ */
+export interface ActionResult<T = undefined> {
+  intent: string | null;
+  result: SubmissionResult<string[]>;
+  notice: string | null;
+  payload?: T;
+}
 
 // One way to read a form through a zod schema, returning field-level messages the form can show.
 export type FieldErrors = Record<string, string>;
@@ -25,4 +37,14 @@ export function parseWith<S extends z.ZodType>(
     if (!errors[key]) errors[key] = issue.message;
   }
   return { ok: false, errors };
+}
+
+/**
+ * The schema of a page with several forms: one object schema per form, told apart by its `intent`
+ * literal, so an action parses its input once and switches on `value.intent`.
+ */
+export function intents<const O extends readonly [z.ZodObject, ...z.ZodObject[]]>(...options: O) {
+  return z.discriminatedUnion("intent", options as unknown as [z.ZodObject, ...z.ZodObject[]], {
+    error: "This form's action is not known; reload the page and try again.",
+  }) as unknown as z.ZodDiscriminatedUnion<O>;
 }

@@ -1,4 +1,5 @@
 import { z } from "zod";
+import { intents } from "~/schemas/form";
 
 // Roster rows: one zod schema per row, shared by the import preview, the import itself and
 // the tests. Pure: sites and departments are passed in, so this runs without a database.
@@ -44,33 +45,61 @@ export function guessMapping(headers: string[]): RosterMapping {
   return m;
 }
 
+/**
+ * The column mapping (field → column index, "" for "not in the file") of a file with `columnCount`
+ * columns: required fields need a column, an index must exist, and no column serves two fields.
+ */
+export function mappingSchema(columnCount: number) {
+  const raw = z.object(Object.fromEntries(ROSTER_FIELDS.map((f) => [f, z.string().optional()])));
+  return z.preprocess(
+    (v) => v ?? {},
+    raw.transform((form, ctx): RosterMapping => {
+      const mapping = {} as RosterMapping;
+      const seen = new Map<number, RosterField>();
+      const problem = (f: RosterField, message: string) => ctx.addIssue({ code: "custom", path: [f], message });
+      for (const f of ROSTER_FIELDS) {
+        const text = String(form[f] ?? "").trim();
+        mapping[f] = null;
+        if (text === "") {
+          if (REQUIRED_FIELDS.includes(f)) problem(f, `${ROSTER_FIELD_LABELS[f]}: choose the column that holds it`);
+          continue;
+        }
+        const i = Number(text);
+        if (!Number.isInteger(i) || i < 0 || i >= columnCount) {
+          problem(f, `${ROSTER_FIELD_LABELS[f]}: no such column`);
+          continue;
+        }
+        const other = seen.get(i);
+        if (other)
+          problem(f, `${ROSTER_FIELD_LABELS[f]}: that column is already mapped to ${ROSTER_FIELD_LABELS[other]}`);
+        seen.set(i, f);
+        mapping[f] = i;
+      }
+      return mapping;
+    }),
+  );
+}
+
+/** The roster preview page: save the mapping (`map.<field>`), import the valid rows, or discard the upload. */
+export function rosterPageSchema(columnCount: number) {
+  return intents(
+    z.object({ intent: z.literal("map"), map: mappingSchema(columnCount) }),
+    z.object({ intent: z.literal("import") }),
+    z.object({ intent: z.literal("discard") }),
+  );
+}
+
+/** The mapping from flat `map.<field>` form values; errors keyed by those names. */
 export function mappingFromForm(
   form: Record<string, unknown>,
   columnCount: number,
 ): { ok: true; mapping: RosterMapping } | { ok: false; errors: Record<string, string> } {
-  const mapping = {} as RosterMapping;
+  const nested = Object.fromEntries(ROSTER_FIELDS.map((f) => [f, form[`map.${f}`]]));
+  const r = mappingSchema(columnCount).safeParse(nested);
+  if (r.success) return { ok: true, mapping: r.data };
   const errors: Record<string, string> = {};
-  const seen = new Map<number, RosterField>();
-  for (const f of ROSTER_FIELDS) {
-    const raw = String(form[`map.${f}`] ?? "").trim();
-    if (raw === "") {
-      mapping[f] = null;
-      if (REQUIRED_FIELDS.includes(f))
-        errors[`map.${f}`] = `${ROSTER_FIELD_LABELS[f]}: choose the column that holds it`;
-      continue;
-    }
-    const i = Number(raw);
-    if (!Number.isInteger(i) || i < 0 || i >= columnCount) {
-      errors[`map.${f}`] = `${ROSTER_FIELD_LABELS[f]}: no such column`;
-      continue;
-    }
-    const other = seen.get(i);
-    if (other)
-      errors[`map.${f}`] = `${ROSTER_FIELD_LABELS[f]}: that column is already mapped to ${ROSTER_FIELD_LABELS[other]}`;
-    seen.set(i, f);
-    mapping[f] = i;
-  }
-  return Object.keys(errors).length ? { ok: false, errors } : { ok: true, mapping };
+  for (const issue of r.error.issues) errors[`map.${issue.path.join(".")}`] ??= issue.message;
+  return { ok: false, errors };
 }
 
 export const rosterRowSchema = z.object({

@@ -138,6 +138,8 @@ test.describe("admin: users and API keys", () => {
     const emailField = form.getByRole("textbox", { name: "E-mail", exact: true });
     await expect(emailField).toHaveAttribute("aria-invalid", "true");
     await expect(emailField).toHaveAccessibleDescription("Enter a valid e-mail address.");
+    // Focus moves to the first invalid field, so keyboard and screen-reader users land on the problem.
+    await expect(emailField).toBeFocused();
     await expect(form.getByRole("textbox", { name: "Name", exact: true })).not.toHaveAttribute("aria-invalid", "true");
     await expect(form.getByRole("status")).toHaveCount(0);
 

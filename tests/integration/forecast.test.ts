@@ -301,7 +301,37 @@ describe("worker forecast: views, API and access log", () => {
     expect(workerForecastSchema.parse(await assess.json()).view).toBe("clinical");
     expect((await get(await makeKey("manager", ny))).status).toBe(403);
     expect((await get(await makeKey("trainer", ny))).status).toBe(403);
-    expect((await get(await makeKey("coordinator", rs))).status).toBe(404);
+    const elsewhere = await get(await makeKey("coordinator", rs));
+    expect(elsewhere.status).toBe(404);
+    expect(await elsewhere.json()).toEqual({ error: "No such worker in your scope." });
+  });
+});
+
+describe("a worker outside the reader's scope", () => {
+  it("answers 404 with the page's own message inside the signed-in shell, keeping the navigation", async () => {
+    // A coordinator given only Eastgate asks for a North Yard worker.
+    const eg = await k("sites").where({ code: "EG" }).first("id");
+    const email = "scoped.coordinator@harrowvale.example";
+    const [u] = await k("users")
+      .insert({ email, display_name: "Scoped Coordinator", active: true, created_at: new Date().toISOString() })
+      .returning("id");
+    await k("role_assignments").insert({
+      user_id: u.id,
+      role: "coordinator",
+      site_id: eg.id,
+      created_at: new Date().toISOString(),
+    });
+    const { client } = await signIn(email);
+    const outside = await k("workers as w").join("sites as s", "s.id", "w.site_id").where("s.code", "NY").first("w.id");
+    const res = await client.request(`/forecast/${outside.id}`);
+    expect(res.status).toBe(404);
+    const html = await res.text();
+    expect(html).toContain("No such worker in your scope.");
+    // The shell stays: navigation and who is signed in.
+    expect(html).toContain('aria-label="Main"');
+    expect(html).toContain('data-testid="signed-in-as"');
+    const data = await client.request(`/forecast/${outside.id}.data`);
+    expect(data.status).toBe(404);
   });
 });
 

@@ -1,0 +1,65 @@
+import type { Submission } from "@conform-to/react";
+import { parseWithZod } from "@conform-to/zod/v4";
+import { data } from "react-router";
+import type { z } from "zod";
+import { UserError } from "~/errors";
+import type { ActionResult } from "~/schemas/form";
+
+// One way for every action to read a form, run the change and answer: the zod schema (for a page
+// with several forms, a discriminated union on `intent`) is parsed once; schema issues and a thrown
+// UserError both come back as conform's SubmissionResult, so the form shows them at the field.
+
+/** What a successful action hands back: the notice to show, or the notice plus data for the page. */
+export type Done<T> = string | { notice: string | null; payload: T };
+
+/** Parse form data with the shared schema. Values stay strings: the schemas do their own coercion. */
+export function parseSubmission<S extends z.ZodType>(formData: FormData | URLSearchParams, schema: S) {
+  return parseWithZod(formData, { schema, disableAutoCoercion: true });
+}
+
+function intentOf(formData: FormData | URLSearchParams): string | null {
+  const v = formData.get("intent");
+  return typeof v === "string" ? v : null;
+}
+
+function failed<T>(intent: string | null, submission: Submission<unknown, string[], unknown>, e: unknown) {
+  if (!(e instanceof UserError)) throw e;
+  const result = e.field
+    ? submission.reply({ fieldErrors: { [e.field]: [e.message] } })
+    : submission.reply({ formErrors: [e.message] });
+  return data<ActionResult<T>>({ intent, result, notice: null }, { status: e.status });
+}
+
+/**
+ * Parse `formData` with `schema`, then `run` the change with the parsed value. Bad input answers 400
+ * with the schema's messages; a UserError answers its own status and message; anything else is a bug
+ * and propagates (500).
+ */
+export async function formAction<S extends z.ZodType, T = undefined>(
+  formData: FormData | URLSearchParams,
+  schema: S,
+  run: (value: z.output<S>) => Promise<Done<T>>,
+) {
+  const intent = intentOf(formData);
+  const submission = parseSubmission(formData, schema);
+  if (submission.status !== "success")
+    return data<ActionResult<T>>({ intent, result: submission.reply(), notice: null }, { status: 400 });
+  try {
+    const done = await run(submission.value as z.output<S>);
+    const result = submission.reply();
+    return typeof done === "string"
+      ? ({ intent, result, notice: done } satisfies ActionResult<T>)
+      : ({ intent, result, notice: done.notice, payload: done.payload } satisfies ActionResult<T>);
+  } catch (e) {
+    return failed<T>(intent, submission, e);
+  }
+}
+
+/**
+ * A UserError as a JSON response `{ error, field? }` with its status: returned by API routes, thrown
+ * by loaders (the error boundary shows `error`). Anything else is rethrown.
+ */
+export function userErrorResponse(e: unknown): Response {
+  if (!(e instanceof UserError)) throw e;
+  return Response.json({ error: e.message, ...(e.field ? { field: e.field } : {}) }, { status: e.status });
+}
