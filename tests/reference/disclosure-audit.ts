@@ -1,11 +1,16 @@
 // Independent attacker audit for the disclosure tests, solved with HiGHS (npm `highs`, reference only).
 // It reads ONLY what is published (nulls are unknown), writes every additivity relation — redundant
 // ones included, which HiGHS tolerates — as a CPLEX LP-format model, and asks for the min and max of
-// each hidden number over all non-negative tables that agree (Hundepool et al. 2012, Statistical
-// Disclosure Control, Wiley, ch. 7: the "attacker problem" — from memory). It shares no code with
+// each hidden number over all tables that agree (Hundepool et al. 2012, Statistical Disclosure Control,
+// Wiley, ch. 7: the "attacker problem" — from memory). The reader is the informed one: they know zeros
+// are always shown, so every hidden number is at least 1 (HIDDEN_AT_LEAST). It shares no code with
 // app/compute/disclosure*, so agreement with the product's javascript-lp-solver audit is a real check.
 
 import loadHighs from "highs";
+import { mulberry32 } from "../../app/compute/seeded-random";
+
+/** What the informed reader knows of every hidden number: zeros are shown, so it is ≥ 1. */
+export const HIDDEN_AT_LEAST = 1;
 
 type Highs = Awaited<ReturnType<typeof loadHighs>>;
 let highsPromise: Promise<Highs> | null = null;
@@ -51,7 +56,7 @@ function lpModel(
     lines.push(` e${r}: ${terms.join(" ")} = ${-constant}`);
   });
   lines.push("Bounds");
-  for (const q of quantities.values()) if (q.shown === null) lines.push(` ${q.name} >= 0`);
+  for (const q of quantities.values()) if (q.shown === null) lines.push(` ${q.name} >= ${HIDDEN_AT_LEAST}`);
   lines.push("End");
   return lines.join("\n");
 }
@@ -166,7 +171,7 @@ export async function highsLinkedBounds(
 /** Names the helpers use, so tests can map product audit rows onto HiGHS rows. */
 export const auditNames = { cellName, rowTotalName, columnTotalName, GRAND };
 
-export { mulberry32 as seeded } from "../../app/compute/seeded-random";
+export const seeded = mulberry32;
 
 /** Counts with many small cells: ~20 % zeros, ~40 % 1–4, ~40 % 5–24. */
 export function smallCountTable(random: () => number, m: number, n: number): number[][] {
@@ -178,4 +183,114 @@ export function smallCountTable(random: () => number, m: number, n: number): num
       return 5 + Math.floor(random() * 20);
     }),
   );
+}
+
+/**
+ * The seeded random tables of the informed-attacker check: `count` tables of 2–8 rows × 2–6 columns
+ * with zeros, many small counts and some large ones (smallCountTable).
+ */
+export function randomTables(seed: number, count: number): number[][][] {
+  const random = mulberry32(seed);
+  return Array.from({ length: count }, () => {
+    const m = 2 + Math.floor(random() * 7);
+    const n = 2 + Math.floor(random() * 5);
+    return smallCountTable(random, m, n);
+  });
+}
+
+/**
+ * HiGHS bounds for two publications of the same table at two times (prefixes "b" before, "a" after),
+ * when the reader knows Σ |after − before| over the cells is at most `budget`. Returns the bounds of
+ * every hidden number of both tables and, per cell hidden in `after`, of its change ("dc_i_j").
+ */
+export async function highsTwoTimesBounds(
+  before: PublishedTable,
+  after: PublishedTable,
+  budget: number,
+): Promise<HiddenBound[]> {
+  const solver = await highs();
+  const m = before.cells.length;
+  const n = before.columnTotals.length;
+  const named = (prefix: string, t: PublishedTable): Quantity[] => [
+    ...t.cells.flatMap((line, i) => line.map((v, j) => ({ name: `${prefix}c_${i}_${j}`, shown: v }))),
+    ...t.rowTotals.map((v, i) => ({ name: `${prefix}r_${i}`, shown: v })),
+    ...t.columnTotals.map((v, j) => ({ name: `${prefix}k_${j}`, shown: v })),
+    { name: `${prefix}g`, shown: t.grandTotal },
+  ];
+  const quantities = [...named("b", before), ...named("a", after)];
+  const byName = new Map(quantities.map((q) => [q.name, q]));
+  // Each table's own sums, with its own margins.
+  const relations: Relation[] = [];
+  for (const p of ["b", "a"]) {
+    for (let i = 0; i < m; i++)
+      relations.push([
+        ...Array.from({ length: n }, (_, j) => ({ name: `${p}c_${i}_${j}`, coefficient: 1 })),
+        { name: `${p}r_${i}`, coefficient: -1 },
+      ]);
+    for (let j = 0; j < n; j++)
+      relations.push([
+        ...Array.from({ length: m }, (_, i) => ({ name: `${p}c_${i}_${j}`, coefficient: 1 })),
+        { name: `${p}k_${j}`, coefficient: -1 },
+      ]);
+    relations.push([
+      ...Array.from({ length: m }, (_, i) => ({ name: `${p}r_${i}`, coefficient: 1 })),
+      { name: `${p}g`, coefficient: -1 },
+    ]);
+  }
+  const term = (name: string, coefficient: number, constant: { value: number }) => {
+    const q = byName.get(name)!;
+    if (q.shown === null) return `${coefficient < 0 ? "-" : "+"} ${Math.abs(coefficient)} ${name}`;
+    constant.value += coefficient * q.shown;
+    return "";
+  };
+  const body: string[] = [];
+  relations.forEach((relation, r) => {
+    const constant = { value: 0 };
+    const terms = relation.map((x) => term(x.name, x.coefficient, constant)).filter(Boolean);
+    if (terms.length) body.push(` s${r}: ${terms.join(" ")} = ${-constant.value}`);
+  });
+  // after − before = up − down per cell; Σ up + down ≤ budget.
+  const moves: string[] = [];
+  for (let i = 0; i < m; i++)
+    for (let j = 0; j < n; j++) {
+      const constant = { value: 0 };
+      const terms = [term(`ac_${i}_${j}`, 1, constant), term(`bc_${i}_${j}`, -1, constant)].filter(Boolean);
+      body.push(` m_${i}_${j}: ${terms.join(" ")} - up_${i}_${j} + dn_${i}_${j} = ${-constant.value}`);
+      moves.push(`up_${i}_${j}`, `dn_${i}_${j}`);
+    }
+  body.push(` budget: ${moves.join(" + ")} <= ${budget}`);
+  const bounds = [
+    "Bounds",
+    ...quantities.filter((q) => q.shown === null).map((q) => ` ${q.name} >= ${HIDDEN_AT_LEAST}`),
+  ];
+  const solve = (
+    sense: "Maximize" | "Minimize",
+    objective: string,
+    column: (c: Record<string, { Primal: number }>) => number,
+  ) => {
+    const model = [sense, ` obj: ${objective}`, "Subject To", ...body, ...bounds, "End"].join("\n");
+    const result = solver.solve(model, { output_flag: false });
+    if (result.Status === "Unbounded") return sense === "Maximize" ? Infinity : -Infinity;
+    if (result.Status !== "Optimal") throw new Error(`HiGHS status ${result.Status} for ${objective}`);
+    return column(result.Columns as Record<string, { Primal: number }>);
+  };
+  const out: HiddenBound[] = [];
+  for (const q of quantities) {
+    if (q.shown !== null) continue;
+    const value = (c: Record<string, { Primal: number }>) => c[q.name].Primal;
+    out.push({ name: q.name, min: solve("Minimize", q.name, value), max: solve("Maximize", q.name, value) });
+  }
+  for (let i = 0; i < m; i++)
+    for (let j = 0; j < n; j++) {
+      if (after.cells[i][j] !== null) continue;
+      const change = (c: Record<string, { Primal: number }>) =>
+        (c[`up_${i}_${j}`]?.Primal ?? 0) - (c[`dn_${i}_${j}`]?.Primal ?? 0);
+      const objective = `up_${i}_${j} - dn_${i}_${j}`;
+      out.push({
+        name: `dc_${i}_${j}`,
+        min: solve("Minimize", objective, change),
+        max: solve("Maximize", objective, change),
+      });
+    }
+  return out;
 }

@@ -17,13 +17,14 @@ import {
   type SuppressedInterval,
   suppressedShare,
 } from "~/compute/disclosure";
-import { firstNarrowEntry } from "~/compute/disclosure/attacker";
+import { firstUnsafeEntry } from "~/compute/disclosure/attacker";
 import { flatTableSystem } from "~/compute/disclosure/table-system";
 import {
   auditNames,
   type HiddenBound,
   highsFlatBounds,
   highsLinkedBounds,
+  randomTables,
   seeded,
   smallCountTable,
 } from "./disclosure-audit";
@@ -59,6 +60,15 @@ const flatName = (a: SuppressedInterval) =>
         ? auditNames.columnTotalName(a.column!)
         : auditNames.GRAND;
 
+/** True value of a HiGHS-named quantity of a flat table (cell, row/column total or grand total). */
+function trueValue(counts: number[][], name: string): number {
+  const parts = name.split("_");
+  if (parts[0] === "c") return counts[Number(parts[1])][Number(parts[2])];
+  if (parts[0] === "r") return sum(counts[Number(parts[1])]);
+  if (parts[0] === "k") return sum(counts.map((line) => line[Number(parts[1])]));
+  return sum(counts.flat());
+}
+
 const linkedName = (a: SuppressedInterval) => {
   const prefix = a.table === "detail" ? "d" : "p";
   if (a.kind === "cell") return auditNames.cellName(prefix, a.row!, a.column!);
@@ -77,18 +87,25 @@ function expectSameBounds(
   for (const a of product) {
     const b = byName.get(name(a))!;
     expect(b, name(a)).toBeDefined();
-    expect(Math.max(0, b.min)).toBeCloseTo(a.min, 6);
+    expect(b.min).toBeCloseTo(a.min, 6);
     if (a.max === Infinity) expect(b.max).toBe(Infinity);
     else expect(b.max).toBeCloseTo(a.max, 6);
   }
 }
 
-/** Protected: interval at least 1 wide and, for these tables, reaching value − 1 and value + 1. */
-function expectProtected(audit: SuppressedInterval[]) {
+/** Whole numbers in an LP interval (with a little tolerance for solver round-off). */
+const wholeValues = (min: number, max: number) =>
+  max === Infinity ? Infinity : Math.floor(max + 1e-6) - Math.ceil(min - 1e-6) + 1;
+
+/**
+ * Protected against the informed reader: no hidden number is recoverable exactly (its interval holds at
+ * least two whole numbers) and no hidden small count is provably small (its maximum reaches t).
+ */
+function expectProtected(audit: { min: number; max: number; value: number }[], t = 5) {
   for (const a of audit) {
-    expect(a.max - a.min, JSON.stringify(a)).toBeGreaterThanOrEqual(1);
-    expect(a.min).toBeLessThanOrEqual(a.value - 1);
-    expect(a.max).toBeGreaterThanOrEqual(a.value + 1);
+    expect(wholeValues(a.min, a.max), JSON.stringify(a)).toBeGreaterThanOrEqual(2);
+    expect(a.min).toBeGreaterThanOrEqual(1 - 1e-6);
+    if (a.value < t) expect(a.max, JSON.stringify(a)).toBeGreaterThanOrEqual(t - 1e-6);
   }
 }
 
@@ -163,13 +180,14 @@ describe("complementary suppression on hand-made tables", () => {
       [1, 2],
     ]);
     expect(t.rowTotals.every((v) => v !== null)).toBe(true);
-    // One cycle: x01 = 3+s, x02 = 15−s, x12 = 9+s, x11 = 14−s ≥ 0 ⇒ s ∈ [−3, 14], by hand.
+    // One cycle: x01 = 3+s, x02 = 15−s, x12 = 9+s, x11 = 14−s, all ≥ 1 (zeros show) ⇒ s ∈ [−2, 13],
+    // by hand; x01 can reach 16 ≥ 5, so the reader cannot prove the group is small.
     const audit = auditProtectedTable(counts, t);
     expect(audit.map((a) => [a.row, a.column, a.min, a.max])).toEqual([
-      [0, 1, 0, 17],
-      [0, 2, 1, 18],
-      [1, 1, 0, 17],
-      [1, 2, 6, 23],
+      [0, 1, 1, 16],
+      [0, 2, 2, 17],
+      [1, 1, 1, 16],
+      [1, 2, 7, 22],
     ]);
     expectSameBounds(audit, await highsFlatBounds(t), flatName);
   });
@@ -187,21 +205,30 @@ describe("complementary suppression on hand-made tables", () => {
       [0, 1, 3, 3],
     ]);
     const t = protectTable(labels("r", 3), labels("c", 4), counts);
-    // Cheapest closing pair by hand: (1,0)+(1,1) = 20 beats (2,0)+(2,1) = 30.
+    // The rectangle through (1,0) and (1,1) is no longer enough for the informed reader, by hand:
+    // x00 = 2+s, x01 = 3−s ≥ 1 ⇒ s ≤ 2, so x00 ≤ 4 < 5 would prove "fewer than 5". A third column
+    // (column 3 of rows 0 and 1) lets x00 rise while x01 stays ≥ 1.
     expect(hiddenCells(t)).toEqual([
       [0, 0],
       [0, 1],
+      [0, 3],
       [1, 0],
       [1, 1],
+      [1, 3],
     ]);
-    // x00 = 2+s, x01 = 3−s, x11 = 9+s, x10 = 11−s ≥ 0 ⇒ s ∈ [−2, 3], by hand.
+    // Hidden sums by hand: row 0 = 40 − 20 = 20, row 1 = 62 − 30 = 32; column 0 = 27 − 14 = 13,
+    // column 1 = 28 − 16 = 12, column 3 = 52 − 25 = 27; every hidden number ≥ 1. E.g. x00 ≤ 13 − 1,
+    // x13 = 27 − x03 ≤ 26 and x13 = 32 − x10 − x11 ≥ 32 − 12 − 11 = 9.
     const audit = auditProtectedTable(counts, t);
     expect(audit.map((a) => [a.row, a.column, a.min, a.max])).toEqual([
-      [0, 0, 0, 5],
-      [0, 1, 0, 5],
-      [1, 0, 8, 13],
-      [1, 1, 7, 12],
+      [0, 0, 1, 12],
+      [0, 1, 1, 11],
+      [0, 3, 1, 18],
+      [1, 0, 1, 12],
+      [1, 1, 1, 11],
+      [1, 3, 9, 26],
     ]);
+    expectProtected(audit);
     expectSameBounds(audit, await highsFlatBounds(t), flatName);
   });
 
@@ -222,16 +249,18 @@ describe("complementary suppression on hand-made tables", () => {
     expect(exact).toEqual([{ kind: "cell", table: "detail", row: 1, column: 2, value: 1, min: 1, max: 1 }]);
     expectSameBounds(naive, await highsFlatBounds(naivePublished), flatName);
 
-    // The product's fast check (witness tables from LP optima) finds the same cell: grid index 1·5 + 2.
+    // The product's fast check (witness tables from LP optima) flags the first unsafe number: cell (0,0)
+    // = 2, which the informed reader can also prove is below 5 (its HiGHS maximum, asserted here).
     const system = flatTableSystem(counts, 4);
     const mask = (p: ProtectedTable) =>
       [...p.cells.flatMap((line, i) => [...line, p.rowTotals[i]]), ...p.columnTotals, p.grandTotal].map(
         (v) => v === null,
       );
-    expect(firstNarrowEntry(system, mask(naivePublished), 1)).toBe(7);
+    expect(firstUnsafeEntry(system, mask(naivePublished), 5)).toBe(0);
+    expect(naive.find((a) => a.row === 0 && a.column === 0)!.max).toBeLessThan(5);
 
     const t = protectTable(labels("r", 4), labels("c", 4), counts);
-    expect(firstNarrowEntry(system, mask(t), 1)).toBeNull();
+    expect(firstUnsafeEntry(system, mask(t), 5)).toBeNull();
     const audit = auditProtectedTable(counts, t);
     expect(audit.length).toBeGreaterThan(naive.length);
     expectProtected(audit);
@@ -243,10 +272,10 @@ describe("complementary suppression on hand-made tables", () => {
     expect(t).toMatchObject({ cells: [[null]], rowTotals: [null], columnTotals: [null], grandTotal: null });
     const audit = auditProtectedTable([[3]], t);
     expect(audit.map((a) => [a.min, a.max])).toEqual([
-      [0, Infinity],
-      [0, Infinity],
-      [0, Infinity],
-      [0, Infinity],
+      [1, Infinity],
+      [1, Infinity],
+      [1, Infinity],
+      [1, Infinity],
     ]);
     expectSameBounds(audit, await highsFlatBounds(t), flatName);
   });
@@ -273,7 +302,7 @@ describe("complementary suppression on hand-made tables", () => {
 });
 
 describe("audit: javascript-lp-solver (product) and HiGHS (reference) on 50 seeded tables", () => {
-  it("every hidden number has min < max, ±1 cover, and both solvers agree", async () => {
+  it("every hidden number meets the informed-reader rule and both solvers agree", async () => {
     const random = seeded(20240611);
     let hiddenTotal = 0;
     for (let k = 0; k < 50; k++) {
@@ -297,6 +326,88 @@ describe("audit: javascript-lp-solver (product) and HiGHS (reference) on 50 seed
     }
     expect(hiddenTotal).toBeGreaterThan(200); // the tables really had many small counts
   });
+});
+
+describe("the informed reader (knows the threshold, that zeros show, and every published number)", () => {
+  it("regression: two hidden cells of one row that must sum to 2 are both exactly 1", async () => {
+    const counts = [
+      [5, 1, 14, 1],
+      [0, 1, 0, 14],
+      [22, 3, 0, 15],
+      [15, 0, 11, 20],
+      [3, 0, 3, 0],
+    ];
+    // The pattern the audit used to accept (it assumed hidden ≥ 0). By hand: column 1 gives
+    // x01 + x11 + x21 = 5, column 3 gives x03 + x13 + x23 = 50 − 20 = 30, rows 1 and 2 give
+    // x11 + x13 = 15 and x21 + x23 = 40 − 22 = 18; so x01 + x03 = 35 − 33 = 2, and with both ≥ 1
+    // (zeros show) both are exactly 1. Under "hidden ≥ 0" they only lay in [0, 2].
+    const leaky: ProtectedTable = {
+      rows: labels("r", 5),
+      columns: labels("c", 4),
+      cells: [
+        [null, null, null, null],
+        [0, null, 0, null],
+        [22, null, 0, null],
+        [15, 0, 11, 20],
+        [null, 0, null, 0],
+      ],
+      rowTotals: [21, 15, 40, 46, 6],
+      columnTotals: [45, 5, 28, 50],
+      grandTotal: 128,
+      threshold: 5,
+    };
+    const informed = await highsFlatBounds(leaky);
+    for (const j of [1, 3]) {
+      const b = informed.find((x) => x.name === auditNames.cellName("", 0, j))!;
+      expect([b.min, b.max]).toEqual([1, 1]);
+    }
+    const product = auditProtectedTable(counts, leaky);
+    expect(product.find((a) => a.row === 0 && a.column === 1)).toMatchObject({ min: 1, max: 1 });
+    expect(product.find((a) => a.row === 0 && a.column === 3)).toMatchObject({ min: 1, max: 1 });
+    expectSameBounds(product, informed, flatName);
+
+    const t = protectTable(labels("r", 5), labels("c", 4), counts);
+    const audit = auditProtectedTable(counts, t);
+    expect(audit.length).toBeGreaterThan(0);
+    expectProtected(audit);
+    const reference = await highsFlatBounds(t);
+    expectProtected(reference.map((b) => ({ ...b, value: trueValue(counts, b.name) })));
+    expectSameBounds(audit, reference, flatName);
+  });
+
+  it("200 seeded tables (2×2 … 8×6): HiGHS finds 0 exact recoveries and 0 provably small groups", async () => {
+    const tables = randomTables(20261203, 200);
+    let hidden = 0;
+    let exact = 0;
+    let provablySmall = 0;
+    let primary = 0;
+    let cells = 0;
+    for (const counts of tables) {
+      const m = counts.length;
+      const n = counts[0].length;
+      const t = protectTable(labels("r", m), labels("c", n), counts);
+      cells += m * n;
+      counts.forEach((line, i) => {
+        line.forEach((v, j) => {
+          if (v > 0 && v < 5) {
+            primary++;
+            expect(t.cells[i][j]).toBeNull();
+          }
+          if (v === 0) expect(t.cells[i][j]).toBe(0);
+        });
+      });
+      for (const b of await highsFlatBounds(t)) {
+        hidden++;
+        const value = trueValue(counts, b.name);
+        if (wholeValues(b.min, b.max) < 2) exact++;
+        if (value < 5 && b.max < 5 - 1e-6) provablySmall++;
+      }
+    }
+    expect({ exact, provablySmall }).toEqual({ exact: 0, provablySmall: 0 });
+    expect(primary).toBeGreaterThan(1000); // the tables really had many small counts
+    expect(hidden).toBeGreaterThan(primary);
+    expect(cells).toBeGreaterThan(3000);
+  }, 900_000);
 });
 
 describe("linked views: department × stage and site × stage published together", () => {

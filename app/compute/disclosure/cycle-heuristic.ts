@@ -4,9 +4,10 @@
 // grid column, one edge per number. After flipping the sign of the totals every line of the grid sums
 // to zero, so the hidden numbers can move together exactly along cycles of hidden edges (alternating
 // +1/−1). A hidden number that lies on no such cycle — a bridge — is pinned by what is published.
-// If every hidden number is ≥ 1, moving ±1 round a cycle keeps the table non-negative, so a number on
-// a cycle can be anything in at least [value − 1, value + 1]. Protecting a bridge therefore means
-// closing a cycle through it, and the cheapest cycle is a shortest path between its two ends with
+// Every hidden number must at least lie on such a cycle, so closing a cycle through each bridge is a
+// cheap first pattern. It is not enough for the informed reader (hidden ≥ 1: a cycle through two 1s
+// of opposite sign cannot move; small counts must reach the threshold), so the LP audit and repair in
+// protection-lp.ts always follow. The cheapest cycle is a shortest path between its two ends with
 // already-hidden edges free (the "network flow" view of two-way cell suppression; Kelly, Golden &
 // Assad 1992 and Castro 2002 — from memory).
 

@@ -1,39 +1,48 @@
 // Complementary suppression for any additive table structure (linked views included), by LP.
 //
-// To protect a hidden number k, look for a direction δ in which the whole table can move without
-// changing anything published: every additivity relation holds for δ, δ_k = 1, and δ is zero on all
-// published numbers — so every number with δ ≠ 0 must be hidden. Minimising the cost of the published
-// numbers that δ touches picks a cheap set of complementary cells (the protection LP of Fischetti &
-// Salazar-González 2000 and the network heuristics before it, reduced to one cell — from memory).
-// The LP is always feasible: δ = table / value_k scales the whole table and satisfies every relation.
+// To protect a hidden number k, look for a second table that agrees with everything still published
+// and in which k is larger by `rise`: a movement δ with δ_k = rise, every additivity relation holding
+// for δ, and every hidden number staying ≥ 1 (the informed reader knows zeros show). Published numbers
+// that δ touches must be hidden too; minimising their cost picks a cheap complementary set (the
+// protection LP of Fischetti & Salazar-González 2000 with an upper protection level, relaxed to one
+// cell at a time — from memory). The LP is always feasible: scaling every positive number by
+// (1 + rise / value_k) satisfies every relation, keeps every count ≥ 1 and leaves zeros at zero.
 
-import { solveLinearProgram } from "../lp-solver";
-import { firstNarrowEntry } from "./attacker";
+import { type LpRow, solveLp } from "../lp-solver";
+import { firstUnsafeEntry, HIDDEN_LOWER_BOUND } from "./attacker";
 import { echelon, hiddenSystem, linearlyDetermined } from "./linear-algebra";
 import type { TableSystem } from "./table-system";
 
 /**
- * An audited hidden number is accepted when its interval is at least this wide, i.e. it admits at
- * least two whole-number values. With all hidden counts ≥ 1 the true value then lies strictly inside
- * (see cycle-heuristic.ts), so for two-way tables value ± 1 are both possible.
+ * Every hidden number must admit at least this many whole values besides its own (so a ± 1 is
+ * possible and it is never recoverable exactly); small counts must moreover reach the threshold.
  */
 export const REQUIRED_WIDTH = 1;
 
 export type CostOf = (entry: number) => number;
 
-/** Published entries that must also be hidden so that `target` can move. */
-export function protectionSet(system: TableSystem, suppressed: boolean[], target: number, cost: CostOf): number[] {
-  // Column layout: one free column per other hidden entry, an up and a down column per published
-  // positive entry. Published zeros get no column: they stay fixed and are never hidden.
-  type Column = { entry: number; sign: 1 | -1; cost: number; free: boolean };
+/** How far up the target must be able to move: to the threshold for a small count, else by one. */
+export function requiredRise(value: number, threshold: number): number {
+  return value < threshold ? threshold - value : REQUIRED_WIDTH;
+}
+
+/** Published entries that must also be hidden so that `target` can rise by `rise`. */
+export function protectionSet(
+  system: TableSystem,
+  suppressed: boolean[],
+  target: number,
+  rise: number,
+  cost: CostOf,
+): number[] {
+  // Columns: per positive entry other than the target an up and (if it can fall at all) a down
+  // movement, free of cost when already hidden. Published zeros get no column: they stay zero.
+  type Column = { entry: number; sign: 1 | -1; cost: number };
   const columns: Column[] = [];
   system.entries.forEach((entry, e) => {
-    if (e === target) return;
-    if (suppressed[e]) columns.push({ entry: e, sign: 1, cost: 0, free: true });
-    else if (entry.value > 0) {
-      const c = cost(e);
-      columns.push({ entry: e, sign: 1, cost: c, free: false }, { entry: e, sign: -1, cost: c, free: false });
-    }
+    if (e === target || entry.value <= 0) return;
+    const c = suppressed[e] ? 0 : cost(e);
+    columns.push({ entry: e, sign: 1, cost: c });
+    if (entry.value > HIDDEN_LOWER_BOUND) columns.push({ entry: e, sign: -1, cost: c });
   });
   const byEntry = new Map<number, number[]>();
   columns.forEach((col, v) => {
@@ -47,7 +56,7 @@ export function protectionSet(system: TableSystem, suppressed: boolean[], target
     let used = false;
     relation.entries.forEach((e, t) => {
       const coefficient = relation.coefficients[t];
-      if (e === target) b -= coefficient;
+      if (e === target) b -= coefficient * rise;
       for (const v of byEntry.get(e) ?? []) {
         row[v] += coefficient * columns[v].sign;
         used = true;
@@ -59,17 +68,28 @@ export function protectionSet(system: TableSystem, suppressed: boolean[], target
     }
   }
   const { kept } = echelon(rows, rhs);
-  const answer = solveLinearProgram({
-    sense: "min",
-    objective: columns.map((c) => c.cost),
-    rows: kept.map((r) => rows[r]),
-    rhs: kept.map((r) => rhs[r]),
-    free: columns.map((c) => c.free),
+  const lpRows: LpRow[] = kept.map((r, k) => ({ name: `r${k}`, equal: rhs[r] }));
+  // A number may fall by at most value − 1: it stays ≥ 1.
+  columns.forEach((col, v) => {
+    if (col.sign < 0) lpRows.push({ name: `b${v}`, max: system.entries[col.entry].value - HIDDEN_LOWER_BOUND });
   });
-  if (answer.status !== "optimal") return [];
+  const answer = solveLp({
+    sense: "min",
+    rows: lpRows,
+    columns: columns.map((col, v) => {
+      const coefficients: Record<string, number> = {};
+      kept.forEach((r, k) => {
+        if (rows[r][v] !== 0) coefficients[`r${k}`] = rows[r][v];
+      });
+      if (col.sign < 0) coefficients[`b${v}`] = 1;
+      return { name: `x${v}`, objective: col.cost, coefficients };
+    }),
+  });
+  if (!answer.feasible || !answer.bounded) return [];
   const movement = new Map<number, number>();
   columns.forEach((col, v) => {
-    if (!col.free) movement.set(col.entry, (movement.get(col.entry) ?? 0) + col.sign * answer.values[v]);
+    if (!suppressed[col.entry])
+      movement.set(col.entry, (movement.get(col.entry) ?? 0) + col.sign * (answer.values.get(`x${v}`) ?? 0));
   });
   return [...movement.entries()]
     .filter(([, d]) => Math.abs(d) > 1e-7)
@@ -93,7 +113,7 @@ export function protectAlgebraically(system: TableSystem, start: boolean[], cost
   for (;;) {
     const pinned = linearlyDetermined(hiddenSystem(system, suppressed));
     if (pinned.length === 0) return suppressed;
-    let added = protectionSet(system, suppressed, pinned[0], cost);
+    let added = protectionSet(system, suppressed, pinned[0], REQUIRED_WIDTH, cost);
     if (added.length === 0) added = neighbours(system, suppressed, pinned[0]);
     if (added.length === 0) return suppressed; // nothing left to hide; the LP audit reports it
     for (const e of added) suppressed[e] = true;
@@ -101,16 +121,18 @@ export function protectAlgebraically(system: TableSystem, start: boolean[], cost
 }
 
 /**
- * Audits with the attacker LP and keeps adding suppressions until every hidden number's interval is
- * at least REQUIRED_WIDTH wide. Each round hides at least one more positive number, so it ends; with
+ * Audits with the informed attacker LP and keeps adding suppressions until every hidden number meets
+ * the rule (firstUnsafeEntry). Each round hides at least one more positive number, so it ends; with
  * every positive number hidden the published values are all zero and any table can be scaled up.
  */
-export function auditUntilSafe(system: TableSystem, start: boolean[], cost: CostOf): boolean[] {
+export function auditUntilSafe(system: TableSystem, start: boolean[], cost: CostOf, threshold: number): boolean[] {
   const suppressed = [...start];
+  const provenSafe = new Set<number>(); // hiding more never makes a safe number unsafe
   for (;;) {
-    const weak = firstNarrowEntry(system, suppressed, REQUIRED_WIDTH);
+    const weak = firstUnsafeEntry(system, suppressed, threshold, provenSafe);
     if (weak === null) return suppressed;
-    let added = protectionSet(system, suppressed, weak, cost);
+    const rise = requiredRise(system.entries[weak].value, threshold);
+    let added = protectionSet(system, suppressed, weak, rise, cost);
     if (added.length === 0) added = neighbours(system, suppressed, weak);
     if (added.length === 0) {
       const left = system.entries.findIndex((entry, e) => !suppressed[e] && entry.value > 0);
@@ -119,4 +141,31 @@ export function auditUntilSafe(system: TableSystem, start: boolean[], cost: Cost
     }
     for (const e of added) suppressed[e] = true;
   }
+}
+
+/**
+ * Removes complementary suppressions that turn out not to be needed: tries to publish each hidden
+ * number that is not a primary suppression again, dearest first, and keeps it published when the
+ * audit still passes. Suppression stays as small as the rule allows for the greedy order; the
+ * result passes the audit by construction. At most `maxTries` numbers are tried (each try is one audit).
+ */
+export function dropUnneeded(
+  system: TableSystem,
+  suppressed: boolean[],
+  primary: boolean[],
+  cost: CostOf,
+  threshold: number,
+  maxTries = 40,
+): boolean[] {
+  const result = [...suppressed];
+  const candidates = result
+    .map((hidden, e) => (hidden && !primary[e] ? e : -1))
+    .filter((e) => e >= 0)
+    .sort((a, b) => cost(b) - cost(a) || a - b)
+    .slice(0, maxTries);
+  for (const e of candidates) {
+    result[e] = false;
+    if (firstUnsafeEntry(system, result, threshold) !== null) result[e] = true;
+  }
+  return result;
 }
