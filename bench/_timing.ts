@@ -42,3 +42,39 @@ export function timeCases(cases: TimedCase[], repeats = 7): TimedResult[] {
   );
   return results;
 }
+
+export interface Spread {
+  runs: number;
+  medianMs: number;
+  p95Ms: number;
+  maxMs: number;
+}
+
+/**
+ * Wall times of an async `run` over `repeats` calls after one warm-up call (statement caches, JIT; pass
+ * `warmUp: false` when the caller has just made that call): median (mean of the middle two for an even
+ * count) and 95th percentile by nearest rank (the max below 20 runs).
+ */
+export async function timeAsync(
+  run: () => Promise<unknown>,
+  repeats: number,
+  { warmUp = true }: { warmUp?: boolean } = {},
+): Promise<Spread> {
+  if (warmUp) await run();
+  const times: number[] = [];
+  for (let i = 0; i < repeats; i++) {
+    const start = performance.now();
+    await run();
+    times.push(performance.now() - start);
+  }
+  times.sort((a, b) => a - b);
+  const n = times.length;
+  const median = n % 2 ? times[n >> 1] : (times[n / 2 - 1] + times[n / 2]) / 2;
+  const round = (x: number) => Number(x.toFixed(1));
+  return {
+    runs: n,
+    medianMs: round(median),
+    p95Ms: round(times[Math.ceil(0.95 * n) - 1]),
+    maxMs: round(times[n - 1]),
+  };
+}

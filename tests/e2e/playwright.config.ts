@@ -22,7 +22,8 @@ export default defineConfig({
   retries: 0,
   forbidOnly: true,
   timeout: 45_000,
-  globalTimeout: 5 * 60_000,
+  // A bound on the whole run (a hung stack), with room for a busy 2-core machine.
+  globalTimeout: 15 * 60_000,
   expect: { timeout: 10_000 },
   reporter: "list",
   use: {
