@@ -161,7 +161,8 @@ describe("API keys", () => {
     const key = /data-testid="new-api-key">([^<]+)</.exec(await res.text())![1];
     expect(key).toMatch(/^lbk_[0-9a-f]{12}_/);
     const stored = await testDb()("api_keys").where({ name: "Payroll bridge" }).first();
-    expect(JSON.stringify(stored)).not.toContain(key.split("_")[2]);
+    // The secret is everything after the second underscore (it may itself contain "_").
+    expect(JSON.stringify(stored)).not.toContain(key.split("_").slice(2).join("_"));
 
     const me = await fetch(`${baseUrl()}/api/v1/me`, { headers: { Authorization: `Bearer ${key}` } });
     expect(me.status).toBe(200);
