@@ -1,4 +1,4 @@
-import { data, Form, Link, useActionData, useNavigation } from "react-router";
+import { data, Form, Link, type ShouldRevalidateFunction, useActionData, useNavigation } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { can } from "~/auth/permissions";
 import { DeviceCautions } from "~/components/device-cautions";
@@ -38,6 +38,12 @@ function ids(params: { workerId?: string; sessionId?: string }) {
     throw data({ error: "No such session." }, { status: 404 });
   return { workerId, sessionId };
 }
+
+// After any form on this page the results are reloaded, also when the action refused its input (4xx skips
+// revalidation by default): a refused upload sent while the previous upload's reload was still on its way
+// would otherwise leave the results table one upload behind.
+export const shouldRevalidate: ShouldRevalidateFunction = ({ formMethod, defaultShouldRevalidate }) =>
+  formMethod ? true : defaultShouldRevalidate;
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const p = await requireUser(request, "assessments.read");

@@ -74,13 +74,16 @@ test("assessor: roster with bad rows, consent, manual test, five traces, profile
     timing: /Timing: missed cues\s*1 count/,
     force: /Force grading R²/,
   };
-  for (const kind of ["sway", "tracking", "glove", "timing", "force"]) {
+  const results = page.getByTestId("results-table").locator("tbody tr");
+  for (const [i, kind] of ["sway", "tracking", "glove", "timing", "force"].entries()) {
     await page.getByLabel("Trace kind").selectOption(kind);
     await page.getByLabel("Trace file").setInputFiles(path.join(TRACES, `${kind}.csv`));
     await page.getByRole("button", { name: "Upload and compute" }).click();
     const result = page.getByTestId("upload-result");
     await expect(result).toContainText(`${kind}.csv: ${kind} trace`);
     await expect(result).toContainText(expected[kind]);
+    // Two measures per trace kind join the manual score: wait for the reloaded table before the next upload.
+    await expect(results).toHaveCount(1 + 2 * (i + 1));
     if (kind === "glove") await page.screenshot({ path: testInfo.outputPath("upload-result.png"), fullPage: true });
   }
   // A bad file: the parse error names row and column, nothing stored.
@@ -90,7 +93,7 @@ test("assessor: roster with bad rows, consent, manual test, five traces, profile
   await expect(page.getByTestId("issue-list")).toContainText(
     "Row 502, t: time 4.9 is not after the previous time 4.99 (row 501); times must increase",
   );
-  await expect(page.getByTestId("results-table").locator("tbody tr")).toHaveCount(11);
+  await expect(results).toHaveCount(11);
 
   // Back to the record: profile chart and its table.
   await page.getByRole("link", { name: /Dmitri Quayle \(HV-90004\)/ }).click();
