@@ -25,7 +25,7 @@ export interface SaturatingExponentialFit {
   residualSS: number;
   converged: boolean;
   iterations: number;
-  // --- extensions beyond the DESIGN contract ---
+  // --- extensions beyond the public contract (docs/methods.md) ---
   n: number;
   dfResidual: number;
   residualSD: number;

@@ -238,13 +238,7 @@ export default function WorkerRecord({ loaderData }: Route.ComponentProps) {
               {CONSENT_PURPOSES.map((pp) => (
                 <div key={pp} className="rounded-md border border-line p-2">
                   <label className="flex min-h-11 items-center gap-2">
-                    <input
-                      type="checkbox"
-                      name="purposes"
-                      value={pp}
-                      defaultChecked={consent[pp].status !== "given" || consent[pp].needsRenewal}
-                      className="size-5"
-                    />
+                    <input type="checkbox" name="purposes" value={pp} className="size-5" />
                     <span>
                       {PURPOSE_LABELS[pp]} {texts[pp] ? `(text v${texts[pp]!.version})` : "(no text in force)"}
                     </span>

@@ -52,6 +52,11 @@ test("assessor: roster with bad rows, consent, manual test, five traces, profile
 
   // Consent, witnessed by the second assessor.
   await page.getByLabel("Witnessed by (assessor)").selectOption({ label: persona("assessor").displayName });
+  // Each purpose is ticked by hand: consent is an affirmative act, nothing is pre-ticked.
+  for (const box of await page.getByRole("checkbox", { name: /text v\d/ }).all()) {
+    await expect(box).not.toBeChecked();
+    await box.check();
+  }
   await page.getByLabel("The worker was shown the current text of each ticked purpose and agreed.").check();
   await page.getByRole("button", { name: "Record consent" }).click();
   await expect(page.getByRole("status")).toContainText("Consent recorded for: assessment, planning, model.");

@@ -7,7 +7,7 @@ import routes from "../../app/routes";
 import { type Browserless, baseUrl, PERSONA, signIn, testDb } from "./helpers";
 import { concretePath, flattenRoutes, type RouteEntry } from "./route-walk";
 
-// Issue 6: what a manager's pages, export and API send contains nothing personal; department and site
+// What a manager's pages, export and API send contains nothing personal; department and site
 // views together cannot be differenced; manager API keys reach no worker-level route.
 // Reference for the disclosure rule: docs/consent-and-disclosure.md (counts of 1 … threshold−1 hidden, and nothing hidden
 // recoverable exactly from what is published together); audited with the LP attacker in
