@@ -20,6 +20,9 @@ export function db(): Knex {
 
 export type Db = Knex | Knex.Transaction;
 
+// The tables are declared for Knex's type inference in ./db-tables.ts.
+export type { DbBoolean, TableInsert, TableRow } from "./db-tables";
+
 /**
  * A row as Knex returns it while the tables are not declared for its type inference: the models map it
  * to a typed shape straight away. The one place where `any` is allowed.

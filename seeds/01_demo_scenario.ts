@@ -1,5 +1,8 @@
 import type { Knex } from "knex";
 import { DEMO_PERSONAS } from "../app/auth/demo-personas";
+import type { Role } from "../app/auth/permissions";
+import type { TableInsert, TableRow } from "../app/db.server";
+import { CONSENT_PURPOSES } from "../app/domain/consent-purposes";
 import { mulberry32, pick } from "./lib/prng";
 import { emptyAllTables } from "./lib/reset";
 
@@ -24,7 +27,14 @@ const DEPARTMENTS = [
   { code: "IN", name: "Inspection" },
   { code: "PP", name: "Paint Prep" },
 ];
-export const DEVICE_TYPES = [
+export const DEVICE_TYPES: {
+  code: string;
+  name: string;
+  category: TableRow<"device_types">["category"];
+  wear: number;
+  maxh: number;
+  description: string;
+}[] = [
   {
     code: "SRF-FOOT",
     name: "Foot-driven supernumerary finger",
@@ -168,7 +178,7 @@ export async function seed(knex: Knex): Promise<void> {
         .returning("id");
       userIds[p.email] = u.id;
     }
-    const assign = (email: string, role: string, site?: string, dept?: string) =>
+    const assign = (email: string, role: Role, site?: string, dept?: string) =>
       trx("role_assignments").insert({
         user_id: userIds[email],
         role,
@@ -196,7 +206,8 @@ export async function seed(knex: Knex): Promise<void> {
         "I agree that a de-identified copy of my baseline and training outcome may join the cohort used to fit forecast models. I can withdraw at any time; my record then leaves future cohorts.",
     };
     const textIds: Record<string, number> = {};
-    for (const [purpose, body] of Object.entries(texts)) {
+    for (const purpose of CONSENT_PURPOSES) {
+      const body = texts[purpose];
       const [r] = await trx("consent_text_versions")
         .insert({
           purpose,
@@ -278,7 +289,7 @@ export async function seed(knex: Knex): Promise<void> {
 
     // ~300 workers: 20 per department per site. Amara Quist (the worker persona) is HV-00001.
     let n = 0;
-    const workers: Record<string, unknown>[] = [];
+    const workers: TableInsert<"workers">[] = [];
     for (const s of SITES) {
       for (const d of DEPARTMENTS) {
         for (let k = 0; k < 20; k++) {
@@ -309,25 +320,29 @@ export async function seed(knex: Knex): Promise<void> {
     const consented = await trx("workers").where({ stage: "consented" }).select("id");
     const witness = userIds["morwenna.pike@harrowvale.example"];
     const rows = consented.flatMap((w: { id: number }) =>
-      (["assessment", "planning", "model"] as const).map((purpose) => ({
-        worker_id: w.id,
-        purpose,
-        text_version_id: textIds[purpose],
-        status: "given",
-        given_at: "2026-10-05T10:00:00.000Z",
-        witness_user_id: witness,
-        recorded_by: witness,
-        created_at: "2026-10-05T10:00:00.000Z",
-      })),
+      (["assessment", "planning", "model"] as const).map(
+        (purpose): TableInsert<"consent_records"> => ({
+          worker_id: w.id,
+          purpose,
+          text_version_id: textIds[purpose],
+          status: "given",
+          given_at: "2026-10-05T10:00:00.000Z",
+          witness_user_id: witness,
+          recorded_by: witness,
+          created_at: "2026-10-05T10:00:00.000Z",
+        }),
+      ),
     );
     for (let i = 0; i < rows.length; i += 100) await trx("consent_records").insert(rows.slice(i, i + 100));
-    const stageRows = consented.map((w: { id: number }) => ({
-      worker_id: w.id,
-      from_stage: "invited",
-      to_stage: "consented",
-      actor_user_id: witness,
-      at: "2026-10-05T10:00:00.000Z",
-    }));
+    const stageRows = consented.map(
+      (w: { id: number }): TableInsert<"stage_changes"> => ({
+        worker_id: w.id,
+        from_stage: "invited",
+        to_stage: "consented",
+        actor_user_id: witness,
+        at: "2026-10-05T10:00:00.000Z",
+      }),
+    );
     for (let i = 0; i < stageRows.length; i += 100) await trx("stage_changes").insert(stageRows.slice(i, i + 100));
   });
 }

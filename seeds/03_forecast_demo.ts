@@ -2,6 +2,8 @@ import type { Knex } from "knex";
 import { MEASURE_DIRECTIONS, zScore } from "../app/compute/features";
 import { firstProficientIndex } from "../app/compute/proficiency-rule";
 import { gaussianSource, mulberry32 } from "../app/compute/seeded-random";
+import { CONSENT_PURPOSES } from "../app/domain/consent-purposes";
+import type { Stage } from "../app/domain/stages";
 import { upsertForecast } from "../app/models/forecast.server";
 import { approveModelVersion, saveModelVersion } from "../app/models/model-versions.server";
 import { logSessionResult } from "../app/models/progress.server";
@@ -89,7 +91,7 @@ export async function seed(knex: Knex): Promise<void> {
         .ignore();
     }
     const measureIds: number[] = [];
-    for (const m of MEASURES) measureIds.push((await trx("measures").where({ code: m.code }).first("id")).id);
+    for (const m of MEASURES) measureIds.push((await trx("measures").where({ code: m.code }).first("id"))!.id);
     const [norm] = await trx("norm_sets")
       .insert({
         name: "Forecast demo norms (invented)",
@@ -146,7 +148,7 @@ export async function seed(knex: Knex): Promise<void> {
           (r) => r.purpose,
         ),
       );
-      for (const purpose of ["assessment", "planning", "model"]) {
+      for (const purpose of CONSENT_PURPOSES) {
         if (have.has(purpose)) continue;
         await trx("consent_records").insert({
           worker_id: workerId,
@@ -160,7 +162,7 @@ export async function seed(knex: Knex): Promise<void> {
         });
       }
     };
-    const setStage = async (workerId: number, from: string, to: string, deviceTypeId: number | null, at: string) => {
+    const setStage = async (workerId: number, from: Stage, to: Stage, deviceTypeId: number | null, at: string) => {
       if (from === to) return;
       await trx("workers").where({ id: workerId }).update({ stage: to, updated_at: at });
       await trx("stage_changes").insert({

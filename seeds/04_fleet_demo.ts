@@ -1,4 +1,5 @@
 import type { Knex } from "knex";
+import type { TableInsert } from "../app/db.server";
 
 // ─────────────────────────────────────────────────────────────────────────────────────────────
 // INVENTED DEMO DATA for the allocator: fit rules of the device types, maintenance windows of a
@@ -59,7 +60,7 @@ export async function seed(knex: Knex): Promise<void> {
       .join("users as u", "u.id", "t.user_id")
       .select("t.id", "t.hours_per_week", "u.display_name")
       .orderBy("t.id");
-    const pattern: Record<string, unknown>[] = [];
+    const pattern: TableInsert<"trainer_working_pattern">[] = [];
     for (const t of trainers) {
       if (Number(t.hours_per_week) <= 20) {
         for (const weekday of [1, 2, 3, 4])

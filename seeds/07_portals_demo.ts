@@ -1,4 +1,5 @@
 import type { Knex } from "knex";
+import type { TableInsert } from "../app/db.server";
 
 // ─────────────────────────────────────────────────────────────────────────────────────────────
 // INVENTED DEMO DATA for the worker and trainer portals. "Harrow & Vale Fabrication" and all its
@@ -79,7 +80,7 @@ export async function seed(knex: Knex): Promise<void> {
 
     // Slots: each trainee twice a week (Mon/Wed or Tue/Thu), Ines's day 08:00–16:00 with a lunch break.
     const hours = [8, 9, 10, 11, 13, 14, 15];
-    const rows: Record<string, unknown>[] = [];
+    const rows: TableInsert<"training_sessions">[] = [];
     trainees.forEach((t, i) => {
       const unitsOfType = units.filter((u) => u.device_type_id === t.device_type_id);
       if (unitsOfType.length === 0) return;

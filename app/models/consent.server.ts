@@ -1,5 +1,6 @@
 import { type Db, db } from "~/db.server";
 import { CONSENT_PURPOSES, type ConsentPurpose } from "~/domain/consent-purposes";
+import type { Stage } from "~/domain/stages";
 
 // Consent per purpose (docs/consent-and-disclosure.md): recorded against the text version in force,
 // witnessed by an assessor or given by the worker, with history. This module is the only one that reads
@@ -222,7 +223,7 @@ export async function consentRecordsForExport(workerId: number, k: Db = db()) {
 export async function setStage(
   trx: Db,
   workerId: number,
-  to: string,
+  to: Stage,
   actorUserId: number | null,
   at = new Date().toISOString(),
 ): Promise<void> {
@@ -307,7 +308,7 @@ export async function recordConsent(
       });
     }
     const w = await trx("workers").where({ id: input.workerId }).first("stage");
-    if (input.purposes.includes("assessment") && (w.stage === "invited" || w.stage === "withdrawn")) {
+    if (input.purposes.includes("assessment") && w && (w.stage === "invited" || w.stage === "withdrawn")) {
       await setStage(trx, input.workerId, "consented", input.recordedBy, at);
     }
   };

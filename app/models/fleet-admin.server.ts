@@ -1,6 +1,6 @@
 import type { Principal } from "~/auth/guard.server";
 import type { Scope } from "~/auth/scope";
-import { db } from "~/db.server";
+import { db, type TableRow } from "~/db.server";
 import { notFound } from "~/errors";
 
 // Fleet administration for coordinators: device types with fit rules and wear-time limits,
@@ -92,7 +92,11 @@ export async function updateDeviceType(
   if (!n) throw notFound("No such device type.");
 }
 
-export async function updateUnit(p: Principal, id: number, v: { status: string; bookableHoursPerWeek: number }) {
+export async function updateUnit(
+  p: Principal,
+  id: number,
+  v: { status: TableRow<"device_units">["status"]; bookableHoursPerWeek: number },
+) {
   await unitInScope(p.scope, id);
   await db()("device_units")
     .where({ id })

@@ -5,7 +5,7 @@ import type { Scope } from "~/auth/scope";
 import { MEASURE_DIRECTIONS } from "~/compute/features";
 import { forecastFromModel, type StoredModel } from "~/compute/forecast-explain";
 import { type ProgressUpdate, progressUpdate } from "~/compute/progress-update";
-import { type Db, db, type Row } from "~/db.server";
+import { type Db, db, type Row, type TableRow } from "~/db.server";
 import { notFound } from "~/errors";
 import { type DeviceForecast, type WorkerForecast, workerForecastSchema } from "~/schemas/forecast";
 import type { TableQuery } from "~/schemas/table-query";
@@ -197,7 +197,7 @@ export async function upsertForecast(
   });
 
   let progress: ProgressUpdate | null = null;
-  let progressStatus: string | null = null;
+  let progressStatus: TableRow<"forecasts">["progress_status"] = null;
   const hoursDone = Number(course?.cumulative_hours ?? 0);
   if (course?.status === "proficient") {
     progressStatus = "proficient";

@@ -2,7 +2,8 @@ import type { Principal } from "~/auth/guard.server";
 import { can } from "~/auth/permissions";
 import { firstProficientIndex } from "~/compute/proficiency-rule";
 import { curvePoints } from "~/compute/progress-update";
-import { type Db, db } from "~/db.server";
+import { type Db, db, type TableRow } from "~/db.server";
+import type { Stage } from "~/domain/stages";
 import { UserError } from "~/errors";
 import { latestConsent } from "./consent.server";
 import { loggedSessions, recordOutcome, type UpsertResult, upsertForecast, workerInScope } from "./forecast.server";
@@ -98,7 +99,7 @@ export async function logSessionResult(input: LogSessionInput, k?: Db): Promise<
       notes: input.notes || null,
       logged_by: input.loggedBy,
       logged_at: at,
-    };
+    } satisfies Partial<TableRow<"training_sessions">>;
     let sessionId: number;
     if (input.sessionId) {
       const s = await trx("training_sessions")
@@ -129,8 +130,8 @@ export async function logSessionResult(input: LogSessionInput, k?: Db): Promise<
         started_on: course.started_on ?? day,
         updated_at: at,
       });
-    let stage = worker.stage as string;
-    const setStage = async (to: string) => {
+    let stage: Stage = worker.stage;
+    const setStage = async (to: Stage) => {
       if (stage === to) return;
       await trx("workers").where({ id: input.workerId }).update({ stage: to, updated_at: at });
       await trx("stage_changes").insert({

@@ -1,7 +1,7 @@
 import type { Principal } from "~/auth/guard.server";
 import { type PackedSession, packSessions, type UnplacedHours } from "~/compute/session-packing";
 import { DEFAULT_TIME_ZONE, dayOf, hhmmOfWallClock, nowInstant, wallClock, wallClockAt } from "~/dates";
-import { db } from "~/db.server";
+import { db, type TableInsert } from "~/db.server";
 import { sendMail } from "~/mail.server";
 import type { RunDetail } from "./allocation-runs.server";
 import { getRun } from "./allocation-runs.server";
@@ -94,17 +94,20 @@ export async function publishRun(
   const now = nowInstant();
   await planState(); // makes sure the counter row exists
 
-  const rows = sessions.map((s) => ({
-    worker_id: workers.get(s.workerId)!.workerId,
-    device_type_id: devices.get(s.deviceId)!.deviceTypeId,
-    trainer_id: trainers.get(s.trainerId)!.trainerId,
-    device_unit_id: s.unitId,
-    allocation_run_id: runId,
-    scheduled_start: wallClockAt(s.date, s.start),
-    scheduled_end: wallClockAt(s.date, s.end),
-    status: "scheduled",
-    created_at: now,
-  }));
+  const rows = sessions.map(
+    (s) =>
+      ({
+        worker_id: workers.get(s.workerId)!.workerId,
+        device_type_id: devices.get(s.deviceId)!.deviceTypeId,
+        trainer_id: trainers.get(s.trainerId)!.trainerId,
+        device_unit_id: s.unitId,
+        allocation_run_id: runId,
+        scheduled_start: wallClockAt(s.date, s.start),
+        scheduled_end: wallClockAt(s.date, s.end),
+        status: "scheduled",
+        created_at: now,
+      }) satisfies TableInsert<"training_sessions">,
+  );
 
   const { version, old } = await db().transaction(async (trx) => {
     const won = await trx("published_plan_state")

@@ -6,7 +6,7 @@ import type { Knex } from "knex";
 import type { Principal } from "~/auth/guard.server";
 import type { Scope } from "~/auth/scope";
 import { dateIn } from "~/dates";
-import { type Db, db } from "~/db.server";
+import { type Db, db, type TableInsert } from "~/db.server";
 import { conflict, notFound, UserError } from "~/errors";
 import {
   guessMapping,
@@ -172,7 +172,7 @@ export async function getRosterUpload(id: number, userId: number, k: Db = db()):
     rowCount: r.row_count,
     headers: JSON.parse(r.headers),
     rows: r.rows ? JSON.parse(r.rows) : null,
-    mapping: JSON.parse(r.mapping),
+    mapping: JSON.parse(r.mapping ?? "null"),
     status: r.status,
     summary: r.summary ? JSON.parse(r.summary) : null,
     createdAt: String(r.created_at),
@@ -301,21 +301,23 @@ export async function applyRosterPlan(
   actorUserId: number | null,
 ): Promise<RosterSummary> {
   const at = new Date().toISOString();
-  const newRows = plan.creates.map((r) => ({
-    employee_number: r.employeeNumber,
-    given_name: r.givenName,
-    family_name: r.familyName,
-    email: r.email,
-    site_id: r.siteId,
-    department_id: r.departmentId,
-    stage: "invited",
-    created_at: at,
-    updated_at: at,
-  }));
+  const newRows = plan.creates.map(
+    (r): TableInsert<"workers"> => ({
+      employee_number: r.employeeNumber,
+      given_name: r.givenName,
+      family_name: r.familyName,
+      email: r.email,
+      site_id: r.siteId,
+      department_id: r.departmentId,
+      stage: "invited",
+      created_at: at,
+      updated_at: at,
+    }),
+  );
   for (let i = 0; i < newRows.length; i += 200) await trx("workers").insert(newRows.slice(i, i + 200));
   if (plan.creates.length) {
     const numbers = plan.creates.map((r) => r.employeeNumber);
-    const stageRows: Record<string, unknown>[] = [];
+    const stageRows: TableInsert<"stage_changes">[] = [];
     for (let i = 0; i < numbers.length; i += 500) {
       const ids = await trx("workers")
         .whereIn("employee_number", numbers.slice(i, i + 500))

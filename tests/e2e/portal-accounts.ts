@@ -2,12 +2,14 @@
 // accounts that seeds/07_portals_demo.ts gives two of Ines Calloway's trainees (invented people).
 import AxeBuilder from "@axe-core/playwright";
 import type { Page } from "@playwright/test";
-import knex, { type Knex } from "knex";
+import knex from "knex";
+import type { TestDb } from "../integration/helpers";
 import { persona } from "./fixtures";
 
-let k: Knex | null = null;
-export function sql(databaseUrl: string): Knex {
-  if (!k) k = knex({ client: "better-sqlite3", connection: { filename: databaseUrl }, useNullAsDefault: true });
+let k: TestDb | null = null;
+export function sql(databaseUrl: string): TestDb {
+  if (!k)
+    k = knex({ client: "better-sqlite3", connection: { filename: databaseUrl }, useNullAsDefault: true }) as TestDb;
   return k;
 }
 export async function closeSql(): Promise<void> {
@@ -25,7 +27,7 @@ export interface PortalAccount {
 }
 
 /** The seed's accounts besides Amara Quist, by employee number: [0] has sessions logged, [1] withdraws consent. */
-export async function portalAccount(db: Knex, i: 0 | 1): Promise<PortalAccount> {
+export async function portalAccount(db: TestDb, i: 0 | 1): Promise<PortalAccount> {
   const ines = await db("trainers as t")
     .join("users as u", "u.id", "t.user_id")
     .where("u.email", persona("trainer").email)
@@ -66,7 +68,7 @@ export async function portalAccount(db: Knex, i: 0 | 1): Promise<PortalAccount> 
   };
 }
 
-export async function inesTrainerId(db: Knex): Promise<number> {
+export async function inesTrainerId(db: TestDb): Promise<number> {
   return (
     await db("trainers as t")
       .join("users as u", "u.id", "t.user_id")

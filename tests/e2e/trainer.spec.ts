@@ -1,7 +1,7 @@
 // Trainer portal in the browser at tablet-in-one-hand width (390 px): the day's sessions, logging a
 // score moves the worker's progress chart, a severe adverse event pauses the worker and e-mails the assessors,
 // another trainer's session is refused. Invented demo people (seeds/07_portals_demo.ts).
-import type { Knex } from "knex";
+import type { TestDb } from "../integration/helpers";
 import { expect, persona, test } from "./fixtures";
 import { expectNoSidewaysScroll } from "./layout";
 import { closeSql, inesTrainerId, portalAccount, seriousViolations, sql } from "./portal-accounts";
@@ -20,7 +20,7 @@ function startThisWeek(hoursAgo: number): Date {
 }
 
 async function schedule(
-  db: Knex,
+  db: TestDb,
   workerId: number,
   deviceTypeId: number,
   trainerId: number,

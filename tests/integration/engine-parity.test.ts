@@ -12,7 +12,7 @@ import { reliabilityByMeasure } from "~/models/reliability-report.server";
 import { everythingAbout, exportSheets, myCalendar } from "~/models/worker-export.server";
 import { runParametersSchema } from "~/schemas/allocation";
 import { startPostgres, type ThrowawayPostgres } from "../../scripts/postgres";
-import { freshDatabase } from "./helpers";
+import { freshDatabase, type TestDb } from "./helpers";
 
 // The same demo seeded on SQLite and on PostgreSQL must give the same numbers: the value model (dates, instants,
 // wall-clock times, numbers) and the order of every list the computations read are engine-independent.
@@ -42,7 +42,7 @@ async function migrateAndSeed(url: string): Promise<void> {
 }
 
 /** Runs app model code that uses the process-wide connection against one of the two databases. */
-async function onDb<T>(k: Knex, fn: () => Promise<T>): Promise<T> {
+async function onDb<T>(k: TestDb, fn: () => Promise<T>): Promise<T> {
   const g = globalThis as unknown as { __limberlyDb?: Knex };
   const before = g.__limberlyDb;
   g.__limberlyDb = k;
@@ -73,7 +73,7 @@ function expectSame(a: unknown, b: unknown, where = "value"): void {
   expect(b, where).toEqual(a);
 }
 
-async function both<T>(fn: (k: Knex) => Promise<T>): Promise<[T, T]> {
+async function both<T>(fn: (k: TestDb) => Promise<T>): Promise<[T, T]> {
   return [await fn(sqlite.knex), await fn(postgres.knex)];
 }
 
@@ -85,7 +85,7 @@ beforeAll(async () => {
     const { knexConfig } = await import("../../knexfile");
     const knex = (await import("knex")).default;
     const url = ownCluster.createDatabase("parity");
-    const k = knex(knexConfig({ DATABASE_URL: url }));
+    const k = knex(knexConfig({ DATABASE_URL: url })) as TestDb;
     postgres = { url, knex: k, drop: () => k.destroy() };
   }
   await Promise.all([migrateAndSeed(sqlite.url), migrateAndSeed(postgres.url)]);

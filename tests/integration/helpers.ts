@@ -84,11 +84,25 @@ export async function signIn(email: string): Promise<{ client: Browserless; land
   return { client, landedAt: new URL(url).pathname, hops };
 }
 
-let shared: Knex | null = null;
+let shared: TestDb | null = null;
 /** Direct access to the stack's database (SQLite or PostgreSQL, see global-setup.ts), for asserting what the
  * server wrote. Same Knex configuration, and so the same value model, as the app. */
-export function testDb(): Knex {
-  if (!shared) shared = knex(knexConfig({ DATABASE_URL: inject("databaseUrl") }));
+/**
+ * The database as tests read and write it directly: rows untyped (the app's models get typed rows from
+ * app/db-tables.ts; a test checks what a request wrote, so it reads rows as they are).
+ */
+export type TestDb = ((table: string) => UntypedQuery) & Knex;
+// A table name typed as plain string takes Knex's untyped overload: the query builder of rows as they come.
+const untypedQuery = (k: Knex, table: string) => k(table);
+type UntypedQuery = ReturnType<typeof untypedQuery>;
+
+/** A Knex handle on `url` with the app's own configuration (the same value model), rows untyped. */
+export function testKnex(url: string): TestDb {
+  return knex(knexConfig({ DATABASE_URL: url })) as TestDb;
+}
+
+export function testDb(): TestDb {
+  if (!shared) shared = testKnex(inject("databaseUrl"));
   return shared;
 }
 
@@ -104,11 +118,11 @@ export function useStackDatabaseInProcess(): void {
 export async function freshDatabase(
   label: string,
   on: "sqlite" | "postgres" = engine(),
-): Promise<{ url: string; knex: Knex; drop: () => Promise<void> }> {
+): Promise<{ url: string; knex: TestDb; drop: () => Promise<void> }> {
   if (on === "sqlite") {
     const dir = fs.mkdtempSync(path.join(os.tmpdir(), `limberly-${label}-`));
     const url = path.join(dir, `${label}.sqlite`);
-    const k = knex(knexConfig({ DATABASE_URL: url }));
+    const k = testKnex(url);
     return {
       url,
       knex: k,
@@ -122,7 +136,7 @@ export async function freshDatabase(
   const name = `${label.replace(/[^a-z0-9_]/gi, "_").toLowerCase()}_${process.pid}_${Date.now() % 1e6}`;
   await admin.raw(`create database ${name}`);
   const url = inject("adminUrl").replace(/\/[^/]+$/, `/${name}`);
-  const k = knex(knexConfig({ DATABASE_URL: url }));
+  const k = testKnex(url);
   return {
     url,
     knex: k,

@@ -1,7 +1,6 @@
 import fs from "node:fs";
 import os from "node:os";
 import path from "node:path";
-import knex, { type Knex } from "knex";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { AllocationPlan } from "../../app/compute/allocation";
 import { AllocationRunner } from "../../app/jobs/runner.server";
@@ -14,7 +13,7 @@ import {
   recoverStaleRuns,
   writeProgress,
 } from "../../app/models/allocation-runs.server";
-import { knexConfig } from "../../knexfile";
+import { type TestDb, testKnex } from "./helpers";
 import { migrationSource } from "./migration-source";
 
 // The single-machine (SQLite) job runner's guarantees, on its own database file opened through two
@@ -32,13 +31,13 @@ const PLAN = {
 
 describe("job runner on SQLite", () => {
   let dir = "";
-  let a: Knex; // "instance A"
-  let b: Knex; // "instance B", a second connection to the same file
+  let a: TestDb; // "instance A"
+  let b: TestDb; // "instance B", a second connection to the same file
   beforeAll(async () => {
     dir = fs.mkdtempSync(path.join(os.tmpdir(), "limberly-jobs-"));
     const file = path.join(dir, "jobs.sqlite");
-    a = knex(knexConfig({ DATABASE_URL: file }));
-    b = knex(knexConfig({ DATABASE_URL: file }));
+    a = testKnex(file);
+    b = testKnex(file);
     await a.migrate.latest({ migrationSource });
   });
   afterAll(async () => {

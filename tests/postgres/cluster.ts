@@ -2,12 +2,12 @@ import { execFileSync } from "node:child_process";
 import fs from "node:fs";
 import os from "node:os";
 import path from "node:path";
-import knex, { type Knex } from "knex";
+import knex from "knex";
 import { startIdp } from "../../scripts/idp";
 import { freePort, startPostgres, type ThrowawayPostgres } from "../../scripts/postgres";
 import { startSmtpCatcher } from "../../scripts/smtp-catcher";
 import { type AppServer, type StackOptions, startApp } from "../../scripts/stack";
-import { Browserless } from "../integration/helpers";
+import { Browserless, type TestDb } from "../integration/helpers";
 
 // Several real app processes (the built server) on one throwaway PostgreSQL database, with the shared
 // identity-provider stand-in and SMTP catcher: what a deployment with more than one instance looks like.
@@ -15,7 +15,7 @@ const root = path.resolve(__dirname, "../..");
 
 export interface Cluster {
   pg: ThrowawayPostgres;
-  db: Knex;
+  db: TestDb;
   outboxDir: string;
   apps: AppServer[];
   /** Starts one more app instance on the same database. */
@@ -61,7 +61,7 @@ export async function startCluster(instances: number, extraEnv: NodeJS.ProcessEn
     apps.push(app);
     return app;
   };
-  const db = knex({ client: "pg", connection: pg.url, pool: { min: 0, max: 10 } });
+  const db = knex({ client: "pg", connection: pg.url, pool: { min: 0, max: 10 } }) as TestDb;
   try {
     for (let i = 0; i < instances; i++) await addApp();
   } catch (e) {
