@@ -65,7 +65,7 @@ export async function createUser(input: {
       department_id: input.departmentId,
       created_at: now,
     });
-    return u.id as number;
+    return u.id;
   });
 }
 
@@ -110,9 +110,9 @@ export async function userDetail(userId: number) {
     .select("r.id", "r.role", "s.name as site_name", "d.name as dept_name", "ds.name as dept_site_name")
     .orderBy("r.id");
   return {
-    id: u.id as number,
-    email: u.email as string,
-    displayName: u.display_name as string,
+    id: u.id,
+    email: u.email,
+    displayName: u.display_name,
     active: Boolean(u.active),
     assignments: assignments.map((a) => ({
       id: a.id as number,

@@ -1,7 +1,7 @@
 import { appUrl } from "~/config.server";
 import { type Db, db } from "~/db.server";
 import { sendMail } from "~/mail.server";
-import { ADVERSE_LABELS, type AdverseEventInput, type AdverseKind } from "~/schemas/session-log";
+import { ADVERSE_LABELS, type AdverseEventInput } from "~/schemas/session-log";
 import { setStage } from "./consent.server";
 
 // Adverse events logged with a training session. A severe event pauses the worker's course on that
@@ -90,9 +90,7 @@ export async function notifyAssessorsOfSevereEvents(input: {
     .where("w.id", input.workerId)
     .first("w.employee_number", "w.given_name", "w.family_name", "s.name as site");
   const d = await db()("device_types").where({ id: input.deviceTypeId }).first("name");
-  const lines = input.events.map(
-    (e) => `- ${ADVERSE_LABELS[e.kind as AdverseKind]}: ${e.severity}${e.notes ? ` (${e.notes})` : ""}`,
-  );
+  const lines = input.events.map((e) => `- ${ADVERSE_LABELS[e.kind]}: ${e.severity}${e.notes ? ` (${e.notes})` : ""}`);
   await sendMail({
     to,
     subject: `Training paused: severe adverse event for ${w.employee_number}`,
@@ -118,11 +116,11 @@ export async function eventsForSessions(sessionIds: number[], k: Db = db()) {
     .select("id", "session_id", "kind", "severity", "notes", "at")
     .orderBy("id");
   return rows.map((r) => ({
-    id: r.id as number,
-    sessionId: r.session_id as number,
-    kind: r.kind as AdverseKind,
-    severity: r.severity as string,
-    notes: (r.notes as string) ?? null,
+    id: r.id,
+    sessionId: r.session_id,
+    kind: r.kind,
+    severity: r.severity,
+    notes: r.notes ?? null,
     at: String(r.at),
   }));
 }

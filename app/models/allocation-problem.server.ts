@@ -31,11 +31,11 @@ export async function buildProblem(params: RunParameters, scope: Scope, k: Db = 
   const notes: string[] = [];
 
   const sites = await k("sites").select("id", "name").orderBy("id");
-  const siteName = new Map(sites.map((s) => [s.id as number, s.name as string]));
+  const siteName = new Map(sites.map((s) => [s.id, s.name]));
   const allowedSite = (siteId: number) => scope.allSites || scope.siteIds.includes(siteId);
   const poolSites = params.pool.siteIds.length
     ? params.pool.siteIds.filter(allowedSite)
-    : sites.map((s) => s.id as number).filter(allowedSite);
+    : sites.map((s) => s.id).filter(allowedSite);
   const deviceTypes = await k("device_types")
     .select("id", "name", "wear_time_limit_minutes", "default_max_hours_per_week")
     .orderBy("id");
@@ -46,7 +46,7 @@ export async function buildProblem(params: RunParameters, scope: Scope, k: Db = 
     .select("id", "device_type_id", "site_id", "serial", "status", "bookable_hours_per_week")
     .orderBy(["serial", "id"]);
   const windows = await k("unit_maintenance_windows")
-    .whereIn("device_unit_id", units.map((u) => u.id as number).concat(-1))
+    .whereIn("device_unit_id", units.map((u) => u.id).concat(-1))
     .where("starts_on", "<=", endDate)
     .where("ends_on", ">=", startDate)
     .select("device_unit_id", "starts_on", "ends_on")
@@ -60,8 +60,8 @@ export async function buildProblem(params: RunParameters, scope: Scope, k: Db = 
       const id = deviceId(dt.name, site);
       const mine = units.filter((u) => u.site_id === siteId && u.device_type_id === dt.id && u.status === "in_service");
       const calUnits: CalendarUnit[] = mine.map((u) => ({
-        unitId: u.id as number,
-        serial: u.serial as string,
+        unitId: u.id,
+        serial: u.serial,
         bookableHoursPerWeek: Number(u.bookable_hours_per_week),
         unavailableDates: allDates.filter((d) =>
           windows.some((w) => w.device_unit_id === u.id && inRange(d, w.starts_on, w.ends_on)),
@@ -146,7 +146,7 @@ export async function buildProblem(params: RunParameters, scope: Scope, k: Db = 
         ? []
         : mine
             .filter((p) => p.weekday === isoWeekday(date))
-            .map((p) => ({ date, start: p.start_time as string, end: p.end_time as string })),
+            .map((p) => ({ date, start: p.start_time, end: p.end_time })),
     );
     const hoursPerWeek = Array.from({ length: weeks }, (_, w) => {
       const ds = new Set(weekDates(startDate, w));

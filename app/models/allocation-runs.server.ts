@@ -135,7 +135,7 @@ export class RunInputError extends Error {
 export async function createRun(principal: Principal, params: RunParameters): Promise<number> {
   const scope = principal.scope;
   return db().transaction(async (trx) => {
-    const allSites = (await trx("sites").select("id").orderBy("id")).map((s) => s.id as number);
+    const allSites = (await trx("sites").select("id").orderBy("id")).map((s) => s.id);
     for (const s of params.pool.siteIds)
       if (!allSites.includes(s)) throw new RunInputError("siteIds", `Site ${s} does not exist.`);
     const inScope = allSites.filter((s) => scope.allSites || scope.siteIds.includes(s));
@@ -228,7 +228,7 @@ export async function claimRun(id: number, instanceId: string, k: Db = db()): Pr
 export async function queuedRunIds(k: Db = db(), olderThanMs = 0, limit = 20): Promise<number[]> {
   const q = k("allocation_runs").where({ status: "queued" }).orderBy("id").limit(limit);
   if (olderThanMs > 0) q.where("created_at", "<", new Date(Date.now() - olderThanMs).toISOString());
-  return (await q.select("id")).map((r) => r.id as number);
+  return (await q.select("id")).map((r) => r.id);
 }
 
 function owned(k: Db, id: number, instanceId: string) {

@@ -80,7 +80,7 @@ export async function createSession(input: {
         created_at: new Date().toISOString(),
       })
       .returning("id");
-    return r.id as number;
+    return r.id;
   });
 }
 
@@ -342,7 +342,7 @@ export async function saveTrace(input: {
     if (measures.length) await markBaselined(trx, input.workerId, input.userId);
     return {
       ok: true as const,
-      uploadId: u.id as number,
+      uploadId: u.id,
       kind: input.kind,
       computed,
       scored: measures.map((m) => m.code),

@@ -46,6 +46,6 @@ export async function createConsentText(v: {
         created_at: new Date().toISOString(),
       })
       .returning("id");
-    return r.id as number;
+    return r.id;
   });
 }

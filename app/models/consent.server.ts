@@ -48,12 +48,12 @@ async function currentTexts(k: Db, on = today()) {
     .select("id", "purpose", "version", "body", "effective_from");
   const out: Partial<Record<ConsentPurpose, { id: number; version: string; body: string; effectiveFrom: string }>> = {};
   for (const r of rows)
-    if (!out[r.purpose as ConsentPurpose])
-      out[r.purpose as ConsentPurpose] = {
+    if (!out[r.purpose])
+      out[r.purpose] = {
         id: r.id,
         version: r.version,
         body: r.body,
-        effectiveFrom: r.effective_from as string,
+        effectiveFrom: r.effective_from,
       };
   return out;
 }

@@ -43,12 +43,12 @@ export async function fleetAdminView(scope: Scope) {
   return types.map((t) => {
     const mine = units.filter((u) => u.device_type_id === t.id);
     return {
-      id: t.id as number,
-      code: t.code as string,
-      name: t.name as string,
-      category: t.category as string,
-      description: (t.description as string) ?? "",
-      fitRules: (t.fit_rules as string) ?? "",
+      id: t.id,
+      code: t.code,
+      name: t.name,
+      category: t.category,
+      description: t.description ?? "",
+      fitRules: t.fit_rules ?? "",
       wearTimeLimitMinutes: Number(t.wear_time_limit_minutes),
       defaultMaxHoursPerWeek: Number(t.default_max_hours_per_week),
       bookableHoursPerWeek: mine
@@ -63,10 +63,10 @@ export async function fleetAdminView(scope: Scope) {
         maintenance: windows
           .filter((w) => w.device_unit_id === u.id)
           .map((w) => ({
-            id: w.id as number,
-            startsOn: w.starts_on as string,
-            endsOn: w.ends_on as string,
-            reason: (w.reason as string) ?? "",
+            id: w.id,
+            startsOn: w.starts_on,
+            endsOn: w.ends_on,
+            reason: w.reason ?? "",
           })),
       })),
     };
@@ -142,11 +142,11 @@ export async function planningChoices(scope: Scope) {
   if (!scope.allSites) tq.whereIn("t.site_id", scope.siteIds.length ? scope.siteIds : [-1]);
   const inScope = (siteId: number) => scope.allSites || scope.siteIds.includes(siteId);
   return {
-    sites: sites.filter((s) => inScope(s.id)).map((s) => ({ id: s.id as number, name: s.name as string })),
+    sites: sites.filter((s) => inScope(s.id)).map((s) => ({ id: s.id, name: s.name })),
     departments: departments
       .filter((d) => inScope(d.site_id))
       .map((d) => ({ id: d.id as number, name: `${d.site} · ${d.name}` })),
-    deviceTypes: types.map((t) => ({ id: t.id as number, name: t.name as string })),
+    deviceTypes: types.map((t) => ({ id: t.id, name: t.name })),
     trainers: (await tq).map((t) => ({ id: t.id as number, name: `${t.display_name} (${t.site})` })),
   };
 }
@@ -159,7 +159,7 @@ export async function nameMaps() {
         (t) => [t.id as number, t.display_name as string],
       ),
     ),
-    devices: new Map((await db()("device_types").select("id", "name")).map((d) => [d.id as number, d.name as string])),
-    sites: new Map((await db()("sites").select("id", "name")).map((s) => [s.id as number, s.name as string])),
+    devices: new Map((await db()("device_types").select("id", "name")).map((d) => [d.id, d.name])),
+    sites: new Map((await db()("sites").select("id", "name")).map((s) => [s.id, s.name])),
   };
 }

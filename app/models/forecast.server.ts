@@ -83,7 +83,7 @@ async function toApprovedModel(k: Db, v: Row): Promise<ApprovedModel> {
   const measureIds: number[] = JSON.parse(v.measure_ids);
   const codes: string[] = JSON.parse(v.measure_codes);
   const names = new Map(
-    (await k("measures").whereIn("id", measureIds).select("id", "name")).map((m) => [m.id as number, m.name as string]),
+    (await k("measures").whereIn("id", measureIds).select("id", "name")).map((m) => [m.id, m.name]),
   );
   const std = JSON.parse(v.standardisation) as { means: number[]; sds: number[] };
   return {
@@ -145,13 +145,13 @@ export async function loggedSessions(k: Db, workerId: number, deviceTypeId: numb
     )
     .orderBy([{ column: "cumulative_hours" }, { column: "id" }]);
   return rows.map((r) => ({
-    id: r.id as number,
+    id: r.id,
     durationHours: Number(r.duration_hours),
     score: Number(r.task_score),
     cumulativeHours: Number(r.cumulative_hours),
     at: String(r.logged_at ?? r.scheduled_start ?? ""),
-    notes: (r.notes as string) ?? null,
-    loggedBy: r.logged_by as number | null,
+    notes: r.notes ?? null,
+    loggedBy: r.logged_by,
   }));
 }
 
@@ -183,7 +183,7 @@ export async function upsertForecast(
     return { status: "no_model" };
   }
   const course = await k("device_courses").where({ worker_id: workerId, device_type_id: deviceTypeId }).first();
-  const cutoff = course?.started_on ? (course.started_on as string) : null;
+  const cutoff = course?.started_on ? course.started_on : null;
   const z = (await baselineZScores(k, [workerId], model.measureIds, new Map([[workerId, cutoff]]))).get(workerId);
   const values = model.measureIds.map((m) => z?.get(m));
   if (values.some((v) => v === undefined)) {
@@ -462,7 +462,7 @@ export async function workerForecastView(p: Principal, workerId: number, k: Db =
           ? {
               status: course.status,
               cumulativeHours: Number(course.cumulative_hours),
-              proficientOn: course.proficient_on ? (course.proficient_on as string) : null,
+              proficientOn: course.proficient_on ? course.proficient_on : null,
               hoursToProficiency: course.hours_to_proficiency == null ? null : Number(course.hours_to_proficiency),
             }
           : null,

@@ -66,7 +66,7 @@ export async function createMeasure(
         created_at: new Date().toISOString(),
       })
       .returning("id");
-    return r.id as number;
+    return r.id;
   });
 }
 

@@ -86,7 +86,7 @@ export async function buildCohort(deviceTypeId: number, measureIds: number[], k:
     eligible.push(c);
   }
   const cutoffs = new Map<number, string | null>(
-    eligible.map((c) => [c.worker_id, c.started_on ? (c.started_on as string) : null]),
+    eligible.map((c) => [c.worker_id, c.started_on ? c.started_on : null]),
   );
   const baselines = await baselineZScores(
     k,
@@ -220,11 +220,11 @@ export function fitCohort(
 
 async function measuresById(measureIds: number[], k: Db) {
   const rows = await k("measures").whereIn("id", measureIds).select("id", "code", "name");
-  const byId = new Map(rows.map((r) => [r.id as number, r]));
+  const byId = new Map(rows.map((r) => [r.id, r]));
   return measureIds.map((id) => {
     const r = byId.get(id);
     if (!r) throw unfit(`Measure ${id} does not exist.`);
-    return { id, code: r.code as string, label: labelFor(r.code, r.name) };
+    return { id, code: r.code, label: labelFor(r.code, r.name) };
   });
 }
 
@@ -281,7 +281,7 @@ export async function saveModelVersion(
         fitted_at: now,
       })
       .returning("id");
-    return { id: row.id as number, versionNumber };
+    return { id: row.id, versionNumber };
   };
   return k ? run(k) : db().transaction(run);
 }

@@ -95,7 +95,7 @@ export async function createPublishedNormSet(
     await trx("norm_values").insert(
       input.values.map((v) => ({ norm_set_id: r.id, measure_id: v.measureId, mean: v.mean, sd: v.sd, n: v.n })),
     );
-    return r.id as number;
+    return r.id;
   });
 }
 
@@ -147,6 +147,6 @@ export async function createCohortNormSet(
     await trx("norm_values").insert(
       values.map((v) => ({ norm_set_id: r.id, measure_id: v.measureId, mean: v.mean, sd: v.sd, n: v.n })),
     );
-    return { id: r.id as number, measures: values.length };
+    return { id: r.id, measures: values.length };
   });
 }

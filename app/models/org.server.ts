@@ -18,7 +18,7 @@ export async function createSite(v: { code: string; name: string; timeZone?: str
         created_at: nowInstant(),
       })
       .returning("id");
-    return r.id as number;
+    return r.id;
   });
 }
 
@@ -41,7 +41,7 @@ export async function createDepartment(v: { siteId: number; code: string; name: 
     const [r] = await trx("departments")
       .insert({ site_id: v.siteId, code: v.code, name: v.name, created_at: nowInstant() })
       .returning("id");
-    return r.id as number;
+    return r.id;
   });
 }
 

@@ -282,8 +282,8 @@ export async function progressView(
       ? {
           status: course.status,
           cumulativeHours: Number(course.cumulative_hours),
-          startedOn: course.started_on ? (course.started_on as string) : null,
-          proficientOn: course.proficient_on ? (course.proficient_on as string) : null,
+          startedOn: course.started_on ? course.started_on : null,
+          proficientOn: course.proficient_on ? course.proficient_on : null,
           hoursToProficiency: course.hours_to_proficiency == null ? null : Number(course.hours_to_proficiency),
         }
       : null,

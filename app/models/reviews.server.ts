@@ -38,7 +38,7 @@ export async function createReviewRequest(
         created_at: new Date().toISOString(),
       })
       .returning("id");
-    return row.id as number;
+    return row.id;
   });
 }
 
@@ -149,7 +149,7 @@ export async function answerReview(
       .update({ status: "answered", answer, answered_by: p.user.id, answered_at: new Date().toISOString() });
     if (n !== 1) throw conflict("This request has already been answered.");
     const u = r.user_id ? await trx("users").where({ id: r.user_id }).first("email") : null;
-    return { r, to: (u?.email as string) ?? (r.worker_email as string) ?? null };
+    return { r, to: u?.email ?? (r.worker_email as string) ?? null };
   });
   if (done.to) {
     await sendMail({

@@ -143,7 +143,7 @@ export async function saveRosterUpload(
       created_at: new Date().toISOString(),
     })
     .returning("id");
-  return r.id as number;
+  return r.id;
 }
 
 export interface RosterUpload {
@@ -186,10 +186,10 @@ export async function recentRosterUploads(userId: number, limit = 10) {
     .limit(limit)
     .select("id", "filename", "row_count", "status", "summary", "created_at");
   return rows.map((r) => ({
-    id: r.id as number,
-    filename: r.filename as string,
-    rowCount: r.row_count as number,
-    status: r.status as string,
+    id: r.id,
+    filename: r.filename,
+    rowCount: r.row_count,
+    status: r.status,
     summary: r.summary ? (JSON.parse(r.summary) as RosterSummary) : null,
     createdAt: String(r.created_at),
   }));
@@ -243,7 +243,7 @@ export async function planRoster(
     const found = await k("workers")
       .whereIn("employee_number", numbers.slice(i, i + 500))
       .select("id", "employee_number", "given_name", "family_name", "email", "site_id", "department_id");
-    for (const w of found) existing.set(w.employee_number as string, w);
+    for (const w of found) existing.set(w.employee_number, w);
   }
   const issues = [...v.issues];
   const creates: ValidRosterRow[] = [];

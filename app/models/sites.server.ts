@@ -80,7 +80,7 @@ export async function viewerTimeZone(p: Principal, k: Db = db()): Promise<string
 
 /** Every site's zone by site id. */
 export async function siteTimeZones(k: Db = db()): Promise<Map<number, string>> {
-  return new Map((await k("sites").select("id", "time_zone")).map((r) => [r.id as number, r.time_zone as string]));
+  return new Map((await k("sites").select("id", "time_zone")).map((r) => [r.id, r.time_zone]));
 }
 
 /** The zone of each worker's site, by worker id. */

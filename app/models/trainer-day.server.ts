@@ -232,7 +232,7 @@ export async function logTrainerSession(input: {
       userId: input.userId,
       at,
     });
-    return { r, ev, workerId: s.worker_id as number, deviceTypeId: s.device_type_id as number };
+    return { r, ev, workerId: s.worker_id, deviceTypeId: s.device_type_id };
   });
   const notified = done.ev.paused
     ? await notifyAssessorsOfSevereEvents({

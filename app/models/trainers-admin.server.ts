@@ -51,18 +51,18 @@ export async function trainerList(scope: Scope) {
     pattern: pattern
       .filter((p) => p.trainer_id === r.id)
       .map((p) => ({
-        id: p.id as number,
+        id: p.id,
         weekday: Number(p.weekday),
-        start: p.start_time as string,
-        end: p.end_time as string,
+        start: p.start_time,
+        end: p.end_time,
       })),
     leave: leave
       .filter((l) => l.trainer_id === r.id)
       .map((l) => ({
-        id: l.id as number,
-        startsOn: l.starts_on as string,
-        endsOn: l.ends_on as string,
-        reason: (l.reason as string) ?? "",
+        id: l.id,
+        startsOn: l.starts_on,
+        endsOn: l.ends_on,
+        reason: l.reason ?? "",
       })),
   }));
 }
@@ -78,16 +78,14 @@ export async function updateTrainer(
 ) {
   await trainerInScope(p.scope, trainerId);
   await db().transaction(async (trx) => {
-    const known = (await trx("device_types").whereIn("id", v.deviceTypeIds.concat(-1)).select("id")).map(
-      (d) => d.id as number,
-    );
+    const known = (await trx("device_types").whereIn("id", v.deviceTypeIds.concat(-1)).select("id")).map((d) => d.id);
     if (known.length !== new Set(v.deviceTypeIds).size)
       throw notFound("A chosen device type does not exist.", "deviceTypeIds");
     await trx("trainers")
       .where({ id: trainerId })
       .update({ hours_per_week: v.hoursPerWeek, trainees_per_session: v.traineesPerSession });
     const had = (await trx("trainer_certifications").where({ trainer_id: trainerId }).select("device_type_id")).map(
-      (c) => c.device_type_id as number,
+      (c) => c.device_type_id,
     );
     const drop = had.filter((d) => !known.includes(d));
     if (drop.length)
@@ -267,12 +265,12 @@ export async function traineeDetail(scope: Scope, workerId: number) {
     stage: w.stage as string,
     maxHoursPerWeek: f?.max_hours_per_week == null ? null : Number(f.max_hours_per_week),
     priority: f ? Number(f.priority) : 1,
-    priorityReason: (f?.priority_reason as string) ?? null,
+    priorityReason: f?.priority_reason ?? null,
     leave: leave.map((l) => ({
-      id: l.id as number,
-      startsOn: l.starts_on as string,
-      endsOn: l.ends_on as string,
-      reason: (l.reason as string) ?? "",
+      id: l.id,
+      startsOn: l.starts_on,
+      endsOn: l.ends_on,
+      reason: l.reason ?? "",
     })),
     sessions: sessions.map((s) => ({
       // Wall-clock times of the worker's site.
