@@ -24,8 +24,8 @@ export type Db = Knex | Knex.Transaction;
 export type { DbBoolean, TableInsert, TableRow } from "./db-tables";
 
 /**
- * A row as Knex returns it while the tables are not declared for its type inference: the models map it
- * to a typed shape straight away. The one place where `any` is allowed.
+ * A row of a query Knex cannot infer (an aliased table, a join, a computed column): the models map it to a
+ * typed shape straight away. The one place where `any` is allowed.
  */
-// biome-ignore lint/suspicious/noExplicitAny: untyped query rows until the tables are declared for Knex's inference.
+// biome-ignore lint/suspicious/noExplicitAny: rows of queries outside Knex's inference (aliases, joins, raw columns).
 export type Row = Record<string, any>;

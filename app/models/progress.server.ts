@@ -4,7 +4,7 @@ import { firstProficientIndex } from "~/compute/proficiency-rule";
 import { curvePoints } from "~/compute/progress-update";
 import { type Db, db, type TableRow } from "~/db.server";
 import type { Stage } from "~/domain/stages";
-import { UserError } from "~/errors";
+import { conflict } from "~/errors";
 import { latestConsent } from "./consent.server";
 import { loggedSessions, recordOutcome, type UpsertResult, upsertForecast, workerInScope } from "./forecast.server";
 import { getCriterion } from "./proficiency.server";
@@ -13,13 +13,6 @@ import { whereWorkerInScope } from "./workers.server";
 // Training progress on one device type and the one way a session result is logged.
 // logSessionResult is shared with the trainer portal: cumulative hours, the course, proficiency, the stage
 // and the forecast all change in the same transaction.
-
-/** A UserError (409); routes not yet on formAction still tell it apart by name. */
-export class SessionLogError extends UserError {
-  constructor(message: string, field?: string) {
-    super(message, { status: 409, field });
-  }
-}
 
 export interface LogSessionInput {
   workerId: number;
@@ -46,20 +39,19 @@ export interface LogSessionResult {
 
 export async function logSessionResult(input: LogSessionInput, k?: Db): Promise<LogSessionResult> {
   if (!(input.durationHours > 0 && input.durationHours <= 8))
-    throw new SessionLogError("Duration must be more than 0 and at most 8 hours.", "durationHours");
+    throw conflict("Duration must be more than 0 and at most 8 hours.", "durationHours");
   if (!(input.taskScore >= 0 && input.taskScore <= 1))
-    throw new SessionLogError("Task score must be between 0 and 1.", "taskScore");
+    throw conflict("Task score must be between 0 and 1.", "taskScore");
   const run = async (trx: Db): Promise<LogSessionResult> => {
     const at = input.at ?? new Date().toISOString();
     const day = at.slice(0, 10);
     const worker = await trx("workers").where({ id: input.workerId }).first("id", "stage");
-    if (!worker) throw new SessionLogError("That worker does not exist.");
-    if (worker.stage === "withdrawn")
-      throw new SessionLogError("This worker has withdrawn; sessions can no longer be logged.");
+    if (!worker) throw conflict("That worker does not exist.");
+    if (worker.stage === "withdrawn") throw conflict("This worker has withdrawn; sessions can no longer be logged.");
     const device = await trx("device_types").where({ id: input.deviceTypeId }).first("id", "wear_time_limit_minutes");
-    if (!device) throw new SessionLogError("That device type does not exist.");
+    if (!device) throw conflict("That device type does not exist.");
     if (input.durationHours * 60 > Number(device.wear_time_limit_minutes) + 1e-9) {
-      throw new SessionLogError(
+      throw conflict(
         `Practice time exceeds this device's wear-time limit of ${device.wear_time_limit_minutes} minutes per session; log separate sessions with breaks.`,
         "durationHours",
       );
@@ -68,13 +60,12 @@ export async function logSessionResult(input: LogSessionInput, k?: Db): Promise<
       .where({ worker_id: input.workerId, device_type_id: input.deviceTypeId })
       .first();
     if (course?.status === "proficient")
-      throw new SessionLogError(
+      throw conflict(
         "This worker has already reached proficiency on this device; no further sessions are logged here.",
       );
-    if (course?.status === "stopped")
-      throw new SessionLogError("This course was stopped; restart it before logging sessions.");
+    if (course?.status === "stopped") throw conflict("This course was stopped; restart it before logging sessions.");
     if (course?.status === "paused")
-      throw new SessionLogError(
+      throw conflict(
         `This course is paused${course.pause_reason ? ` (${course.pause_reason})` : ""}; resume it before logging sessions.`,
       );
     if (!course) {
@@ -105,8 +96,8 @@ export async function logSessionResult(input: LogSessionInput, k?: Db): Promise<
       const s = await trx("training_sessions")
         .where({ id: input.sessionId, worker_id: input.workerId, device_type_id: input.deviceTypeId })
         .first("id", "status");
-      if (!s) throw new SessionLogError("That scheduled session is not this worker's session on this device.");
-      if (s.status === "attended") throw new SessionLogError("That session has already been logged.");
+      if (!s) throw conflict("That scheduled session is not this worker's session on this device.");
+      if (s.status === "attended") throw conflict("That session has already been logged.");
       await trx("training_sessions").where({ id: s.id }).update(values);
       sessionId = s.id;
     } else {

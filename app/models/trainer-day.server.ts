@@ -12,12 +12,10 @@ import { conflict } from "~/errors";
 import type { TrainerLogInput } from "~/schemas/session-log";
 import { adverseEventsFrom } from "~/schemas/session-log";
 import { eventsForSessions, notifyAssessorsOfSevereEvents, recordAdverseEvents } from "./adverse-events.server";
-import { logSessionResult, SessionLogError } from "./progress.server";
+import { logSessionResult } from "./progress.server";
 
 // The trainer's day: sessions on the trainer's own schedule only. Every function here takes the
 // trainer id resolved from the signed-in user (trainers.user_id), never from the URL.
-
-export { SessionLogError };
 
 export interface TrainerRef {
   id: number;

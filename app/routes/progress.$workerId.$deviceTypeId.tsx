@@ -1,21 +1,20 @@
-import { data, Form, Link, useActionData, useNavigation } from "react-router";
+import { data, Link, useNavigation } from "react-router";
 import { type Principal, requireUser } from "~/auth/guard.server";
 import { can } from "~/auth/permissions";
 import { DeviceCautions } from "~/components/device-cautions";
-import { FormError, Notice, TextArea, TextField } from "~/components/fields";
+import { ActionForm, ActionNotice, TextArea, TextField } from "~/components/fields";
 import { ProgressChart } from "~/components/progress-chart";
+import { formAction } from "~/forms.server";
 import { recordAccess } from "~/models/access-log.server";
 import { resolveFlags } from "~/models/forecast.server";
 import {
   logSessionResult,
   progressView,
   reachesOnlyOwnTrainees,
-  SessionLogError,
   trainerHasTrainee,
   trainerIdFor,
 } from "~/models/progress.server";
-import { logSessionFormSchema } from "~/schemas/forecast";
-import { formToObject, parseWith } from "~/schemas/form";
+import { progressPageSchema } from "~/schemas/forecast";
 import type { Route } from "./+types/progress.$workerId.$deviceTypeId";
 
 export const meta: Route.MetaFunction = ({ data: d }) => [
@@ -54,25 +53,24 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 }
 
 export async function action({ request, params }: Route.ActionArgs) {
-  const form = formToObject(await request.formData());
+  const formData = await request.formData();
   const { workerId, deviceTypeId } = ids(params);
-  if (form.intent === "resolve") {
-    const p = await requireUser(request, "models.manage");
-    if (!(await progressView(p, workerId, deviceTypeId))) throw data({ error: "Not found." }, { status: 404 });
-    const n = await resolveFlags(workerId, deviceTypeId, p.user.id);
-    return { errors: null, done: `${n} review flag${n === 1 ? "" : "s"} marked as reviewed.` };
-  }
-  const p = await requireUser(request, "sessions.log");
-  const trainerId = await assertTrainerReach(p, workerId, deviceTypeId);
-  if (!reachesOnlyOwnTrainees(p) && !(await progressView(p, workerId, deviceTypeId)))
-    throw data({ error: "No such worker in your scope." }, { status: 404 });
-  const parsed = parseWith(logSessionFormSchema, form);
-  if (!parsed.ok) return data({ errors: parsed.errors, done: null }, { status: 400 });
-  try {
+  const resolving = formData.get("intent") === "resolve";
+  const p = await requireUser(request, resolving ? "models.manage" : "sessions.log");
+  const trainerId = resolving ? null : await assertTrainerReach(p, workerId, deviceTypeId);
+  if ((resolving || !reachesOnlyOwnTrainees(p)) && !(await progressView(p, workerId, deviceTypeId)))
+    throw data({ error: resolving ? "Not found." : "No such worker in your scope." }, { status: 404 });
+  return formAction(formData, progressPageSchema, async (v) => {
+    if (v.intent === "resolve") {
+      const n = await resolveFlags(workerId, deviceTypeId, p.user.id);
+      return `${n} review flag${n === 1 ? "" : "s"} marked as reviewed.`;
+    }
     const r = await logSessionResult({
       workerId,
       deviceTypeId,
-      ...parsed.data,
+      durationHours: v.durationHours,
+      taskScore: v.taskScore,
+      notes: v.notes,
       loggedBy: p.user.id,
       trainerId: trainerId ?? (await trainerIdFor(p.user.id)),
     });
@@ -80,27 +78,18 @@ export async function action({ request, params }: Route.ActionArgs) {
       r.forecast.status === "ready" && r.forecast.progress?.remainingHours != null
         ? ` About ${r.forecast.progress.remainingHours.toFixed(1)} h to go.`
         : "";
-    return {
-      errors: null,
-      done: r.proficient
-        ? `Session logged. The criterion is met: proficient on ${r.proficientOn} after ${r.cumulativeHours.toFixed(1)} h.`
-        : `Session logged: ${r.cumulativeHours.toFixed(1)} h so far.${f}`,
-    };
-  } catch (e) {
-    if (e instanceof SessionLogError)
-      return data({ errors: { [e.field ?? "_form"]: e.message }, done: null }, { status: 409 });
-    throw e;
-  }
+    return r.proficient
+      ? `Session logged. The criterion is met: proficient on ${r.proficientOn} after ${r.cumulativeHours.toFixed(1)} h.`
+      : `Session logged: ${r.cumulativeHours.toFixed(1)} h so far.${f}`;
+  });
 }
 
 const h = (v: number | null | undefined) => (v == null ? "—" : `${v.toFixed(1)} h`);
 
-export default function ProgressPage({ loaderData }: Route.ComponentProps) {
+export default function ProgressPage({ loaderData, actionData }: Route.ComponentProps) {
   const { view: v, canLog, canResolve } = loaderData;
-  const result = useActionData<typeof action>();
   const nav = useNavigation();
   const busy = nav.state === "submitting";
-  const errors = (result?.errors ?? {}) as Record<string, string>;
   const f = v.forecast;
   const proficient = v.course?.status === "proficient";
   return (
@@ -123,7 +112,7 @@ export default function ProgressPage({ loaderData }: Route.ComponentProps) {
             ` · criterion: ${v.criterion.consecutiveSessions} consecutive sessions at ≥ ${v.criterion.scoreThreshold}`}
         </p>
       </div>
-      {result?.done && <Notice>{result.done}</Notice>}
+      <ActionNotice result={actionData} />
       {v.reviewFlags.length > 0 && (
         <div role="alert" className="rounded-md bg-alert-wash p-3 text-alert" data-testid="review-flag">
           <p className="font-semibold">Flagged for review</p>
@@ -137,11 +126,11 @@ export default function ProgressPage({ loaderData }: Route.ComponentProps) {
             trainer.
           </p>
           {canResolve && (
-            <Form method="post" className="mt-2">
-              <button type="submit" className="btn-quiet" name="intent" value="resolve">
+            <ActionForm intent="resolve" result={actionData} className="mt-2">
+              <button type="submit" className="btn-quiet">
                 Mark as reviewed
               </button>
-            </Form>
+            </ActionForm>
           )}
         </div>
       )}
@@ -211,33 +200,28 @@ export default function ProgressPage({ loaderData }: Route.ComponentProps) {
           <p className="text-sm text-ink-soft">
             Cumulative hours, the course, proficiency and the forecast are updated together.
           </p>
-          <Form method="post" className="mt-3 grid gap-4 sm:grid-cols-2" noValidate key={result?.done ?? "form"}>
-            <div className="sm:col-span-2">
-              <FormError message={errors._form} />
-            </div>
+          <ActionForm
+            intent="log"
+            result={actionData}
+            className="mt-3 grid gap-4 sm:grid-cols-2"
+            key={actionData?.notice ?? "form"}
+          >
             <TextField
               name="durationHours"
               label="Practice time (hours)"
               required
-              error={errors.durationHours}
               hint={`Wear-time limit for this device: ${v.deviceType.wearTimeLimitMinutes} minutes per session.`}
             />
-            <TextField
-              name="taskScore"
-              label="Task score (0–1)"
-              required
-              error={errors.taskScore}
-              hint="Score on the device's standard task."
-            />
+            <TextField name="taskScore" label="Task score (0–1)" required hint="Score on the device's standard task." />
             <div className="sm:col-span-2">
-              <TextArea name="notes" label="Notes" rows={2} error={errors.notes} />
+              <TextArea name="notes" label="Notes" rows={2} />
             </div>
             <div className="sm:col-span-2">
-              <button type="submit" className="btn-primary" name="intent" value="log" disabled={busy}>
+              <button type="submit" className="btn-primary" disabled={busy}>
                 {busy ? "Saving…" : "Log session"}
               </button>
             </div>
-          </Form>
+          </ActionForm>
         </section>
       )}
       <section className="card overflow-x-auto p-0" aria-labelledby="sessions-h">

@@ -67,6 +67,12 @@ export const logSessionFormSchema = z.object({
 });
 export type LogSessionForm = z.infer<typeof logSessionFormSchema>;
 
+/** The progress page: log a session, or mark the review flags as reviewed. */
+export const progressPageSchema = intents(
+  logSessionFormSchema.extend({ intent: z.literal("log") }),
+  z.object({ intent: z.literal("resolve") }),
+);
+
 export const planningQuantileSchema = z.object({
   planningQuantile: z.coerce
     .number({ message: "Planning quantile must be a number." })
