@@ -14,13 +14,6 @@ import { whereWorkerInScope } from "./workers.server";
 // Assessment sessions, manual results and trace uploads. Every write checks
 // `assessment` consent inside its own transaction, whatever the caller (docs/consent-and-disclosure.md).
 
-/** A UserError (400); routes not yet on formAction still tell it apart by name. */
-export class AssessmentInputError extends UserError {
-  constructor(message: string, field?: string) {
-    super(message, { status: 400, field });
-  }
-}
-
 export interface StaffWorker {
   id: number;
   employeeNumber: string;
@@ -181,7 +174,7 @@ export async function sessionsForWorker(workerId: number, k: Db = db()): Promise
 
 async function sessionOf(trx: Db, workerId: number, sessionId: number) {
   const s = await trx("assessment_sessions").where({ id: sessionId, worker_id: workerId }).first("id");
-  if (!s) throw new AssessmentInputError("That assessment session does not exist for this worker.");
+  if (!s) throw new UserError("That assessment session does not exist for this worker.");
 }
 
 function scoreOf(measure: Measure, value: number, norm: { normSetId: number; mean: number; sd: number } | undefined) {
@@ -229,9 +222,9 @@ export async function saveManualResults(input: {
     );
     const rows = input.values.map((v) => {
       const m = measures.get(v.measureId);
-      if (!m) throw new AssessmentInputError(`Measure ${v.measureId} is not an active manual measure.`);
+      if (!m) throw new UserError(`Measure ${v.measureId} is not an active manual measure.`);
       if (!Number.isFinite(v.value))
-        throw new AssessmentInputError(`${m.name}: the score must be a finite number.`, `m.${m.id}`);
+        throw new UserError(`${m.name}: the score must be a finite number.`, { field: `m.${m.id}` });
       return { measure: m, value: v.value, traceUploadId: null };
     });
     await upsertResults(trx, input.sessionId, rows);

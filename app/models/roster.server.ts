@@ -27,13 +27,6 @@ import { whereWorkerInScope } from "./workers.server";
 
 // Roster import and export, and the worker list.
 
-/** A UserError (400); routes not yet on formAction still tell it apart by name. */
-export class RosterFileError extends UserError {
-  constructor(message: string) {
-    super(message, { status: 400 });
-  }
-}
-
 export interface RosterTable {
   headers: string[];
   rows: string[][];
@@ -66,14 +59,12 @@ export async function readRosterFile(
     try {
       await wb.xlsx.load(Buffer.from(bytes) as unknown as ArrayBuffer);
     } catch {
-      throw new RosterFileError("The file is not a readable XLSX workbook. Save it again as .xlsx or as CSV.");
+      throw new UserError("The file is not a readable XLSX workbook. Save it again as .xlsx or as CSV.");
     }
     const ws = wb.worksheets[0];
-    if (!ws) throw new RosterFileError("The workbook has no sheet.");
+    if (!ws) throw new UserError("The workbook has no sheet.");
     if (ws.actualRowCount > maxRows + 1)
-      throw new RosterFileError(
-        `The sheet has more than ${maxRows} data rows, the most one import takes; split the file.`,
-      );
+      throw new UserError(`The sheet has more than ${maxRows} data rows, the most one import takes; split the file.`);
     ws.eachRow({ includeEmpty: true }, (row) => {
       const vals = (row.values as ExcelJS.CellValue[]).slice(1); // exceljs rows are 1-based
       rows.push(vals.map(cellText).map((s) => s.trim()));
@@ -87,22 +78,20 @@ export async function readRosterFile(
         rows.push(record);
         if (rows.length > maxRows + 1) {
           parser.destroy();
-          throw new RosterFileError(
+          throw new UserError(
             `The file has more than ${maxRows} data rows, the most one import takes; split the file.`,
           );
         }
       }
     } catch (e) {
-      if (e instanceof RosterFileError) throw e;
+      if (e instanceof UserError) throw e;
       const err = e as { lines?: number; message: string };
-      throw new RosterFileError(
-        `The file is not readable CSV${err.lines ? ` (line ${err.lines})` : ""}: ${err.message}`,
-      );
+      throw new UserError(`The file is not readable CSV${err.lines ? ` (line ${err.lines})` : ""}: ${err.message}`);
     }
   }
   while (rows.length && rows[rows.length - 1].every((c) => c === "")) rows.pop();
   if (rows.length === 0 || rows[0].every((c) => c === ""))
-    throw new RosterFileError("The file is empty; the first row must name the columns.");
+    throw new UserError("The file is empty; the first row must name the columns.");
   const headers = rows[0].map((h) => h.replace(/^\uFEFF/, "").trim());
   return { headers, rows: rows.slice(1) };
 }

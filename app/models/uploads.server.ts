@@ -8,13 +8,6 @@ import { UserError } from "~/errors";
 
 // Multipart uploads (@remix-run/form-data-parser) with a size cap: the file is read into memory only
 // up to `maxBytes`; a larger file is refused with a message naming the limit.
-/** A UserError (413); routes not yet on formAction still tell it apart by name. */
-export class UploadError extends UserError {
-  constructor(message: string) {
-    super(message, { status: 413 });
-  }
-}
-
 export interface UploadedFile {
   name: string;
   bytes: Uint8Array;
@@ -40,9 +33,10 @@ export async function readMultipart(
     return { form, file };
   } catch (e) {
     if (e instanceof MaxFileSizeExceededError)
-      throw new UploadError(`The file is larger than ${formatBytes(opts.maxBytes)}, the most accepted.`);
-    if (e instanceof MaxFilesExceededError) throw new UploadError("Upload one file at a time.");
-    if (e instanceof MultipartParseError) throw new UploadError(`The upload could not be read: ${e.message}`);
+      throw new UserError(`The file is larger than ${formatBytes(opts.maxBytes)}, the most accepted.`, { status: 413 });
+    if (e instanceof MaxFilesExceededError) throw new UserError("Upload one file at a time.", { status: 413 });
+    if (e instanceof MultipartParseError)
+      throw new UserError(`The upload could not be read: ${e.message}`, { status: 413 });
     throw e;
   }
 }

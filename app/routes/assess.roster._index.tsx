@@ -2,8 +2,9 @@ import { data, Form, Link, redirect, useActionData, useNavigation } from "react-
 import { requireUser } from "~/auth/guard.server";
 import { FormError } from "~/components/fields";
 import { FileField } from "~/components/upload";
-import { RosterFileError, recentRosterUploads, saveRosterUpload } from "~/models/roster.server";
-import { readMultipart, UploadError } from "~/models/uploads.server";
+import { UserError } from "~/errors";
+import { recentRosterUploads, saveRosterUpload } from "~/models/roster.server";
+import { readMultipart } from "~/models/uploads.server";
 import { MAX_ROSTER_BYTES, MAX_ROSTER_ROWS } from "~/schemas/roster";
 import type { Route } from "./+types/assess.roster._index";
 
@@ -28,8 +29,7 @@ export async function action({ request }: Route.ActionArgs) {
     const id = await saveRosterUpload(p, file.name, file.bytes);
     return redirect(`/assess/roster/${id}`);
   } catch (e) {
-    if (e instanceof UploadError) return data({ error: `Roster file: ${e.message}` }, { status: 413 });
-    if (e instanceof RosterFileError) return data({ error: `Roster file: ${e.message}` }, { status: 400 });
+    if (e instanceof UserError) return data({ error: `Roster file: ${e.message}` }, { status: e.status });
     throw e;
   }
 }

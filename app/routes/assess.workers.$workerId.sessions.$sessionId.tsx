@@ -6,9 +6,9 @@ import { FormError, Notice, SelectField, TextField } from "~/components/fields";
 import { FileField, IssueList } from "~/components/upload";
 import { MEASURE_DIRECTIONS } from "~/compute/features";
 import { TRACE_KINDS } from "~/compute/trace-parsing";
+import { UserError } from "~/errors";
 import { recordAccess } from "~/models/access-log.server";
 import {
-  AssessmentInputError,
   rescoreSession,
   saveManualResults,
   saveTrace,
@@ -18,7 +18,7 @@ import {
 import { ConsentRequiredError, hasConsent } from "~/models/consent.server";
 import { listMeasures } from "~/models/measures.server";
 import { listNormSets } from "~/models/norms.server";
-import { readMultipart, UploadError } from "~/models/uploads.server";
+import { readMultipart } from "~/models/uploads.server";
 import {
   MAX_TRACE_BYTES,
   MAX_TRACE_ROWS,
@@ -79,8 +79,8 @@ export async function action({ request, params }: Route.ActionArgs) {
   try {
     ({ form, file } = await readMultipart(request, { fileField: "trace", maxBytes: MAX_TRACE_BYTES }));
   } catch (e) {
-    if (e instanceof UploadError)
-      return data({ intent: "upload", errors: { trace: e.message }, done: null, upload: null }, { status: 413 });
+    if (e instanceof UserError)
+      return data({ intent: "upload", errors: { trace: e.message }, done: null, upload: null }, { status: e.status });
     throw e;
   }
   const obj = formToObject(form);
@@ -138,8 +138,11 @@ export async function action({ request, params }: Route.ActionArgs) {
   } catch (e) {
     if (e instanceof ConsentRequiredError)
       return data({ intent, errors: { _form: e.message }, done: null, upload: null }, { status: 409 });
-    if (e instanceof AssessmentInputError)
-      return data({ intent, errors: { [e.field ?? "_form"]: e.message }, done: null, upload: null }, { status: 400 });
+    if (e instanceof UserError)
+      return data(
+        { intent, errors: { [e.field ?? "_form"]: e.message }, done: null, upload: null },
+        { status: e.status },
+      );
     throw e;
   }
   return data({ intent, errors: { _form: "Unknown action." }, done: null, upload: null }, { status: 400 });

@@ -6,8 +6,9 @@ import { FormError, Notice, SelectField, TextArea, TextField } from "~/component
 import { ProfileChart, type ProfilePoint } from "~/components/profile-chart";
 import { todayIn } from "~/dates";
 import { CONSENT_PURPOSES } from "~/domain/consent-purposes";
+import { UserError } from "~/errors";
 import { recordAccess } from "~/models/access-log.server";
-import { AssessmentInputError, createSession, sessionsForWorker, workerForStaff } from "~/models/assessments.server";
+import { createSession, sessionsForWorker, workerForStaff } from "~/models/assessments.server";
 import {
   ConsentInputError,
   ConsentRequiredError,
@@ -151,7 +152,7 @@ export async function action({ request, params }: Route.ActionArgs) {
   } catch (e) {
     if (e instanceof ConsentRequiredError)
       return data({ intent, errors: { _form: e.message }, done: null }, { status: 409 });
-    if (e instanceof ConsentInputError || e instanceof AssessmentInputError)
+    if (e instanceof ConsentInputError || e instanceof UserError)
       return data({ intent, errors: { [e.field ?? "_form"]: e.message }, done: null }, { status: 400 });
     throw e;
   }
