@@ -1,3 +1,4 @@
+import { Form } from "react-router";
 import type { ActionResult } from "~/schemas/form";
 import { ActionErrors, ActionForm, ActionNotice, TextField } from "./fields";
 
@@ -17,5 +18,46 @@ export function LeaveForm({ result }: { result?: ActionResult<unknown> | null })
       </ActionForm>
       <ActionNotice result={result} intent="add-leave" />
     </>
+  );
+}
+
+/** A person's leave periods (trainer or trainee), each with its remove button, and the form to add one. */
+export function LeaveSection({
+  heading,
+  leave,
+  result,
+}: {
+  heading: string;
+  leave: { id: number; startsOn: string; endsOn: string; reason: string }[];
+  result?: ActionResult<unknown> | null;
+}) {
+  return (
+    <section aria-labelledby="leave" className="card grid gap-3">
+      <h2 id="leave" className="text-lg font-semibold">
+        {heading}
+      </h2>
+      <ul className="grid gap-1">
+        {leave.map((l) => (
+          <li key={l.id} className="flex flex-wrap items-center gap-2">
+            <span>
+              {l.startsOn} – {l.endsOn}
+              {l.reason ? `: ${l.reason}` : ""}
+            </span>
+            <Form method="post">
+              <input type="hidden" name="intent" value="remove-leave" />
+              <input type="hidden" name="id" value={l.id} />
+              <button
+                className="text-sm text-alert underline"
+                type="submit"
+                aria-label={`Remove leave ${l.startsOn} to ${l.endsOn}`}
+              >
+                Remove
+              </button>
+            </Form>
+          </li>
+        ))}
+      </ul>
+      <LeaveForm result={result} />
+    </section>
   );
 }

@@ -6,7 +6,7 @@ import type { CalendarUnit, PlanCalendar } from "~/compute/session-packing";
 import { type Db, db, type Row } from "~/db.server";
 import type { RunParameters } from "~/schemas/allocation";
 import { latestConsent } from "./consent.server";
-import { whereWorkerInScope } from "./workers.server";
+import { whereWorkerInScope, workersWithPlace } from "./workers.server";
 
 // Builds the solver input (docs/methods.md) for a run from the database: the pool, device-type capacity per week
 // (units × bookable hours, less maintenance days) and trainer hours per week (weekly working pattern, less
@@ -179,9 +179,7 @@ export async function buildProblem(params: RunParameters, scope: Scope, k: Db = 
 
   // The pool: workers in scope and the chosen sites/departments with planning consent in force and a forecast
   // from an approved model version.
-  const wq = k("workers")
-    .join("sites as s", "s.id", "workers.site_id")
-    .join("departments as d", "d.id", "workers.department_id")
+  const wq = workersWithPlace(k)
     .whereIn("workers.site_id", poolSites.length ? poolSites : [-1])
     .select(
       "workers.id",

@@ -9,7 +9,7 @@ import { MAX_TRACE_ROWS } from "~/schemas/assessment";
 import { assertConsent, setStage } from "./consent.server";
 import { listMeasures, type Measure } from "./measures.server";
 import { defaultNorms, normsOf } from "./norms.server";
-import { whereWorkerInScope } from "./workers.server";
+import { whereWorkerInScope, workersWithPlace } from "./workers.server";
 
 // Assessment sessions, manual results and trace uploads. Every write checks
 // `assessment` consent inside its own transaction, whatever the caller (docs/consent-and-disclosure.md).
@@ -27,9 +27,7 @@ export interface StaffWorker {
 
 /** A worker as staff see the header of the record; null when outside the principal's scope. */
 export async function workerForStaff(scope: Scope, workerId: number, k: Db = db()): Promise<StaffWorker | null> {
-  const q = k("workers")
-    .join("sites as s", "s.id", "workers.site_id")
-    .join("departments as d", "d.id", "workers.department_id")
+  const q = workersWithPlace(k)
     .where("workers.id", workerId)
     .first(
       "workers.id",

@@ -12,7 +12,7 @@ import type { TableQuery } from "~/schemas/table-query";
 import { latestConsent } from "./consent.server";
 import { lockWorker } from "./locks.server";
 import { paged } from "./paging.server";
-import { whereWorkerInScope } from "./workers.server";
+import { WORKER_HEADER, whereWorkerInScope, workersWithPlace } from "./workers.server";
 
 // Worker forecasts (docs/methods.md): computed from the approved model version of each
 // device type for workers whose `planning` consent is in force, refreshed as sessions are logged, erased on
@@ -372,19 +372,7 @@ export async function recordOutcome(
 
 /** The worker row if it is inside the scope, else null (callers answer 404: no hint that it exists). */
 export async function workerInScope(scope: Scope, workerId: number, k: Db = db()) {
-  const q = k("workers")
-    .join("sites as s", "s.id", "workers.site_id")
-    .join("departments as d", "d.id", "workers.department_id")
-    .where("workers.id", workerId)
-    .select(
-      "workers.id",
-      "workers.employee_number",
-      "workers.given_name",
-      "workers.family_name",
-      "workers.stage",
-      "s.name as site",
-      "d.name as department",
-    );
+  const q = workersWithPlace(k).where("workers.id", workerId).select(WORKER_HEADER);
   const row = await whereWorkerInScope(q, scope).first();
   return row
     ? {

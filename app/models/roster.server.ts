@@ -23,7 +23,7 @@ import type { TableQuery } from "~/schemas/table-query";
 import { type ConsentState, consentStates } from "./consent.server";
 import { isUniqueViolation } from "./locks.server";
 import { paged } from "./paging.server";
-import { whereWorkerInScope } from "./workers.server";
+import { WORKER_HEADER, whereWorkerInScope, workersWithPlace } from "./workers.server";
 
 // Roster import and export, and the worker list.
 
@@ -388,19 +388,10 @@ export function listWorkers(scope: Scope, q: TableQuery, filters: { site?: strin
   const k = db();
   // Last baseline as a correlated subquery (index assessment_sessions(worker_id, assessed_on)): computed only
   // for the page's rows, and the count query (which drops the select) does not touch sessions at all.
-  const query = k("workers")
-    .join("sites as s", "s.id", "workers.site_id")
-    .join("departments as d", "d.id", "workers.department_id")
-    .select(
-      "workers.id",
-      "workers.employee_number",
-      "workers.given_name",
-      "workers.family_name",
-      "workers.stage",
-      "s.name as site",
-      "d.name as department",
-      k("assessment_sessions").max("assessed_on").whereRaw("assessment_sessions.worker_id = workers.id").as("last_on"),
-    );
+  const query = workersWithPlace(k).select(
+    ...WORKER_HEADER,
+    k("assessment_sessions").max("assessed_on").whereRaw("assessment_sessions.worker_id = workers.id").as("last_on"),
+  );
   whereWorkerInScope(query, scope);
   if (q.q) {
     const like = `%${q.q.toLowerCase()}%`;
@@ -456,9 +447,7 @@ export const ROSTER_EXPORT_COLUMNS = [
 
 /** Roster rows in the import's own column names (site and department codes), so an export re-imports as is. */
 export async function rosterExportRows(scope: Scope): Promise<Record<string, unknown>[]> {
-  const q = db()("workers")
-    .join("sites as s", "s.id", "workers.site_id")
-    .join("departments as d", "d.id", "workers.department_id")
+  const q = workersWithPlace()
     .select(
       "workers.employee_number",
       "workers.given_name",

@@ -22,8 +22,9 @@ import { type WithdrawalResult, withdrawConsent } from "./withdrawal.server";
 
 export { ConsentInputError };
 
-export async function ownWorker(workerId: number, k: Db = db()) {
-  const w = await k("workers as w")
+/** The worker's own row with the names of their site and department (undefined when there is no such worker). */
+export function workerWithSite(workerId: number, k: Db = db()) {
+  return k("workers as w")
     .join("sites as s", "s.id", "w.site_id")
     .join("departments as d", "d.id", "w.department_id")
     .where("w.id", workerId)
@@ -36,9 +37,15 @@ export async function ownWorker(workerId: number, k: Db = db()) {
       "w.stage",
       "w.site_id",
       "w.department_id",
+      "w.created_at",
+      "w.updated_at",
       "s.name as site",
       "d.name as department",
     );
+}
+
+export async function ownWorker(workerId: number, k: Db = db()) {
+  const w = await workerWithSite(workerId, k);
   if (!w) return null;
   return {
     id: w.id as number,

@@ -5,7 +5,7 @@ import { db } from "~/db.server";
 import { conflict, notFound } from "~/errors";
 import type { TableQuery } from "~/schemas/table-query";
 import { paged } from "./paging.server";
-import { whereWorkerInScope } from "./workers.server";
+import { WORKER_HEADER, whereWorkerInScope, workersWithPlace } from "./workers.server";
 
 // People on the training side, for coordinators: trainers (certifications per device type,
 // weekly working pattern, leave, trainees per session) and trainees' training fields (max hours per week,
@@ -166,23 +166,10 @@ export interface TraineeRow {
 }
 
 export function traineeTable(scope: Scope, q: TableQuery) {
-  const query = db()("workers")
-    .join("sites as s", "s.id", "workers.site_id")
-    .join("departments as d", "d.id", "workers.department_id")
+  const query = workersWithPlace()
     .leftJoin("worker_training_fields as f", "f.worker_id", "workers.id")
     .whereIn("workers.stage", ["forecast", "planned", "training", "consented", "baselined", "paused", "proficient"])
-    .select(
-      "workers.id",
-      "workers.employee_number",
-      "workers.given_name",
-      "workers.family_name",
-      "workers.stage",
-      "s.name as site",
-      "d.name as department",
-      "f.max_hours_per_week",
-      "f.priority",
-      "f.priority_reason",
-    )
+    .select(...WORKER_HEADER, "f.max_hours_per_week", "f.priority", "f.priority_reason")
     .select(db().raw("(select count(*) from worker_leave l where l.worker_id = workers.id) as leave_count"));
   whereWorkerInScope(query, scope);
   if (q.q) {
@@ -222,19 +209,7 @@ export function traineeTable(scope: Scope, q: TableQuery) {
 }
 
 async function workerRow(scope: Scope, workerId: number) {
-  const q = db()("workers")
-    .join("sites as s", "s.id", "workers.site_id")
-    .join("departments as d", "d.id", "workers.department_id")
-    .where("workers.id", workerId)
-    .select(
-      "workers.id",
-      "workers.employee_number",
-      "workers.given_name",
-      "workers.family_name",
-      "workers.stage",
-      "s.name as site",
-      "d.name as department",
-    );
+  const q = workersWithPlace().where("workers.id", workerId).select(WORKER_HEADER);
   return whereWorkerInScope(q, scope).first();
 }
 

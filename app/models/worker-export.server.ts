@@ -4,7 +4,7 @@ import type { SheetSpec } from "~/xlsx.server";
 import { accessLogForWorker } from "./access-log.server";
 import { type CalendarSession, icsFile } from "./calendar.server";
 import { consentRecordsForExport } from "./consent.server";
-import { mySessions } from "./self-service.server";
+import { mySessions, workerWithSite } from "./self-service.server";
 import { workerTimeZone } from "./sites.server";
 
 // "Download everything held about me" (docs/consent-and-disclosure.md): every row about one worker, by the worker id from
@@ -15,22 +15,7 @@ const iso = (v: unknown) => (v == null ? null : String(v));
 export async function everythingAbout(workerId: number) {
   const k = db();
   const timeZone = await workerTimeZone(workerId, k);
-  const w = await k("workers as w")
-    .join("sites as s", "s.id", "w.site_id")
-    .join("departments as d", "d.id", "w.department_id")
-    .where("w.id", workerId)
-    .first(
-      "w.id",
-      "w.employee_number",
-      "w.given_name",
-      "w.family_name",
-      "w.email",
-      "w.stage",
-      "w.created_at",
-      "w.updated_at",
-      "s.name as site",
-      "d.name as department",
-    );
+  const w = await workerWithSite(workerId, k);
   if (!w) return null;
   const consent = await consentRecordsForExport(workerId, k);
   const assessments = await k("assessment_sessions as s")

@@ -1,6 +1,24 @@
 import type { Knex } from "knex";
 import type { Scope } from "~/auth/scope";
-import { db } from "~/db.server";
+import { type Db, db } from "~/db.server";
+
+/** `workers` joined with the worker's site (alias `s`) and department (alias `d`). */
+export function workersWithPlace(k: Db = db()) {
+  return k("workers")
+    .join("sites as s", "s.id", "workers.site_id")
+    .join("departments as d", "d.id", "workers.department_id");
+}
+
+/** The columns that name a worker on staff pages (with `workersWithPlace`): number, names, stage, site, department. */
+export const WORKER_HEADER = [
+  "workers.id",
+  "workers.employee_number",
+  "workers.given_name",
+  "workers.family_name",
+  "workers.stage",
+  "s.name as site",
+  "d.name as department",
+];
 
 // Restricts a query on `workers` (aliased) to a principal's scope. An empty scope matches nothing.
 export function whereWorkerInScope(q: Knex.QueryBuilder, scope: Scope, alias = "workers"): Knex.QueryBuilder {

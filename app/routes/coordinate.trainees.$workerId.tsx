@@ -1,10 +1,10 @@
 import { invariantResponse } from "@epic-web/invariant";
-import { Form, Link } from "react-router";
+import { Link } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { StageBadge } from "~/components/badges";
 import { DeviceCautions } from "~/components/device-cautions";
 import { ActionForm, ActionNotice, TextArea, TextField } from "~/components/fields";
-import { LeaveForm } from "~/components/leave-form";
+import { LeaveSection } from "~/components/leave-form";
 import { formAction } from "~/forms.server";
 import { recordAccess } from "~/models/access-log.server";
 import { addWorkerLeave, removeWorkerLeave, saveTrainingFields, traineeDetail } from "~/models/trainers-admin.server";
@@ -91,33 +91,7 @@ export default function Trainee({ loaderData, actionData }: Route.ComponentProps
           </div>
         </ActionForm>
       </section>
-      <section aria-labelledby="leave" className="card grid gap-3">
-        <h2 id="leave" className="text-lg font-semibold">
-          Leave (weeks not available for training)
-        </h2>
-        <ul className="grid gap-1">
-          {w.leave.map((l) => (
-            <li key={l.id} className="flex flex-wrap items-center gap-2">
-              <span>
-                {l.startsOn} – {l.endsOn}
-                {l.reason ? `: ${l.reason}` : ""}
-              </span>
-              <Form method="post">
-                <input type="hidden" name="intent" value="remove-leave" />
-                <input type="hidden" name="id" value={l.id} />
-                <button
-                  className="text-sm text-alert underline"
-                  type="submit"
-                  aria-label={`Remove leave ${l.startsOn} to ${l.endsOn}`}
-                >
-                  Remove
-                </button>
-              </Form>
-            </li>
-          ))}
-        </ul>
-        <LeaveForm result={actionData} />
-      </section>
+      <LeaveSection heading="Leave (weeks not available for training)" leave={w.leave} result={actionData} />
       <section aria-labelledby="sessions" className="card grid gap-2">
         <h2 id="sessions" className="text-lg font-semibold">
           Published sessions

@@ -2,7 +2,7 @@ import { invariantResponse } from "@epic-web/invariant";
 import { Form, Link } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { ActionErrors, ActionForm, ActionNotice, CheckboxGroup, SelectField, TextField } from "~/components/fields";
-import { LeaveForm } from "~/components/leave-form";
+import { LeaveSection } from "~/components/leave-form";
 import { WEEKDAY_NAMES } from "~/compute/plan-calendar";
 import { formAction } from "~/forms.server";
 import { planningChoices } from "~/models/fleet-admin.server";
@@ -143,33 +143,7 @@ export default function TrainerPage({ loaderData, actionData }: Route.ComponentP
         </ActionForm>
         <ActionNotice result={actionData} intent="add-pattern" />
       </section>
-      <section aria-labelledby="leave" className="card grid gap-3">
-        <h2 id="leave" className="text-lg font-semibold">
-          Leave
-        </h2>
-        <ul className="grid gap-1">
-          {t.leave.map((l) => (
-            <li key={l.id} className="flex flex-wrap items-center gap-2">
-              <span>
-                {l.startsOn} – {l.endsOn}
-                {l.reason ? `: ${l.reason}` : ""}
-              </span>
-              <Form method="post">
-                <input type="hidden" name="intent" value="remove-leave" />
-                <input type="hidden" name="id" value={l.id} />
-                <button
-                  className="text-sm text-alert underline"
-                  type="submit"
-                  aria-label={`Remove leave ${l.startsOn} to ${l.endsOn}`}
-                >
-                  Remove
-                </button>
-              </Form>
-            </li>
-          ))}
-        </ul>
-        <LeaveForm result={actionData} />
-      </section>
+      <LeaveSection heading="Leave" leave={t.leave} result={actionData} />
     </div>
   );
 }
