@@ -3,6 +3,7 @@ import type { Principal } from "~/auth/guard.server";
 import type { Scope } from "~/auth/scope";
 import type { AllocationPlan } from "~/compute/allocation";
 import { type Db, db, type Row } from "~/db.server";
+import { UserError } from "~/errors";
 import { enqueueAllocation } from "~/jobs/queue.server";
 import type { RunParameters } from "~/schemas/allocation";
 import { buildProblem, type ProblemSnapshot } from "./allocation-problem.server";
@@ -119,15 +120,6 @@ export async function getRun(scope: Scope, id: number, k: Db = db()): Promise<Ru
   };
 }
 
-export class RunInputError extends Error {
-  constructor(
-    readonly field: string,
-    message: string,
-  ) {
-    super(message);
-  }
-}
-
 /**
  * Creates a queued run: the pool is restricted to the principal's sites, the problem snapshot is built now
  * (so the solve sees the data as they were when the coordinator pressed Start). One transaction.
@@ -137,14 +129,14 @@ export async function createRun(principal: Principal, params: RunParameters): Pr
   return db().transaction(async (trx) => {
     const allSites = (await trx("sites").select("id").orderBy("id")).map((s) => s.id);
     for (const s of params.pool.siteIds)
-      if (!allSites.includes(s)) throw new RunInputError("siteIds", `Site ${s} does not exist.`);
+      if (!allSites.includes(s)) throw new UserError(`Site ${s} does not exist.`, { field: "siteIds" });
     const inScope = allSites.filter((s) => scope.allSites || scope.siteIds.includes(s));
     const siteIds = params.pool.siteIds.length ? params.pool.siteIds.filter((s) => inScope.includes(s)) : inScope;
     if (params.pool.siteIds.some((s) => !inScope.includes(s)))
-      throw new RunInputError("siteIds", "The pool includes a site outside your scope.");
-    if (siteIds.length === 0) throw new RunInputError("siteIds", "Your scope has no sites to plan for.");
+      throw new UserError("The pool includes a site outside your scope.", { field: "siteIds" });
+    if (siteIds.length === 0) throw new UserError("Your scope has no sites to plan for.", { field: "siteIds" });
     if (params.baseRunId && !(await trx("allocation_runs").where({ id: params.baseRunId }).first("id")))
-      throw new RunInputError("baseRunId", "The run to compare with does not exist.");
+      throw new UserError("The run to compare with does not exist.", { field: "baseRunId" });
     const stored: RunParameters = { ...params, pool: { ...params.pool, siteIds } };
     const snapshot = await buildProblem(stored, scope, trx);
     const [row] = await trx("allocation_runs")
@@ -177,7 +169,7 @@ export async function startRun(
   try {
     id = await createRun(principal, params);
   } catch (e) {
-    if (e instanceof RunInputError) return { ok: false, field: e.field, message: e.message };
+    if (e instanceof UserError) return { ok: false, field: e.field ?? "_form", message: e.message };
     throw e;
   }
   // The run is committed; if handing it over fails, the queue's sweep picks queued runs up again.
