@@ -157,6 +157,17 @@ export async function createRun(principal: Principal, params: RunParameters): Pr
   });
 }
 
+/** The head of a solver's plan as the run page and the API show it. */
+export function planSummary(plan: AllocationPlan) {
+  return {
+    status: plan.status,
+    objective: plan.objective,
+    bound: plan.bound,
+    gap: plan.gap ?? null,
+    message: plan.message ?? null,
+  };
+}
+
 /**
  * What the UI and the API call to start a run: creates the queued run (one transaction) and hands it to the
  * job queue. Input problems come back as a field and a message; each caller shapes its own response.

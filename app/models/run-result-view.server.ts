@@ -2,7 +2,7 @@ import type { Principal } from "~/auth/guard.server";
 import { addDays } from "~/compute/plan-calendar";
 import { round1 } from "~/compute/rounding";
 import { recordAccess } from "./access-log.server";
-import { getRun, listRuns } from "./allocation-runs.server";
+import { getRun, listRuns, planSummary } from "./allocation-runs.server";
 import { planState, previewSessions, publishRefusal } from "./publish.server";
 
 // What the run page shows of one allocation run: the per-worker plan, what stayed unassigned, resource use
@@ -100,11 +100,7 @@ export async function runResultView(p: Principal, request: Request, runId: numbe
     },
     result: plan
       ? {
-          status: plan.status,
-          objective: plan.objective,
-          bound: plan.bound,
-          gap: plan.gap ?? null,
-          message: plan.message ?? null,
+          ...planSummary(plan),
           binding: (plan.bindingResources ?? []).map((b) => b.description),
         }
       : null,

@@ -1,6 +1,6 @@
 import { requireApiAccess } from "~/auth/guard.server";
 import { recordAccess } from "~/models/access-log.server";
-import { getRun } from "~/models/allocation-runs.server";
+import { getRun, planSummary } from "~/models/allocation-runs.server";
 import type { Route } from "./+types/api.v1.allocation-runs.$runId";
 
 // GET /api/v1/allocation-runs/:runId — status, progress and (when done) the result: the solver's plan with
@@ -42,11 +42,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       publishedPlanVersion: run.publishedPlanVersion,
       result: plan
         ? {
-            status: plan.status,
-            objective: plan.objective,
-            bound: plan.bound,
-            gap: plan.gap ?? null,
-            message: plan.message ?? null,
+            ...planSummary(plan),
             assignments: plan.assignments.map((a) => ({
               ...label(a.workerId),
               deviceType: a.deviceTypeId,
