@@ -4,7 +4,7 @@ import { requireUser } from "~/auth/guard.server";
 import { ROLE_LABELS, ROLES } from "~/auth/permissions";
 import { ActionErrors, ActionForm, ActionNotice, CheckboxField, SelectField, TextField } from "~/components/fields";
 import { departmentOptions, siteOptions } from "~/components/scope-options";
-import { notFound, UserError } from "~/errors";
+import { UserError } from "~/errors";
 import { formAction } from "~/forms.server";
 import { addAssignment, removeAssignment, updateUser, userDetail } from "~/models/admin-users.server";
 import { listDepartments, listSites } from "~/models/sites.server";
@@ -33,10 +33,9 @@ export async function action({ request, params }: Route.ActionArgs) {
         await updateUser(userId, v);
         return "Saved.";
       case "add-role":
-        await addAssignment(userId, v);
-        return "Role added.";
+        return addAssignment(me.user, userId, v);
       case "remove-role":
-        if (!(await removeAssignment(userId, v.assignmentId))) throw notFound("That role assignment no longer exists.");
+        await removeAssignment(me.user, userId, v.assignmentId);
         return "Role removed.";
     }
   });
@@ -77,9 +76,17 @@ export default function AdminUser({ loaderData }: Route.ComponentProps) {
         </h2>
         <ActionErrors result={r} intent="remove-role" />
         <ul className="mt-3 divide-y divide-line">
-          {user.assignments.length === 0 && (
+          {user.assignments.length === 0 && user.pending.length === 0 && (
             <li className="py-2 text-ink-soft">No roles: this person cannot sign in.</li>
           )}
+          {user.pending.map((p) => (
+            <li key={`pending-${p.id}`} className="py-2 text-ink-soft">
+              Waiting for a second admin: {p.subject} (asked by {p.requestedBy}) —{" "}
+              <a href="/admin/approvals" className="text-spruce-700 underline">
+                approvals
+              </a>
+            </li>
+          ))}
           {user.assignments.map((a) => (
             <li key={a.id} className="flex flex-wrap items-center justify-between gap-2 py-2">
               <span>

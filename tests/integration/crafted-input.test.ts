@@ -93,7 +93,7 @@ describe("uploads", () => {
     const sessionUrl = await freshSession();
     const before = { traces: await count("trace_uploads"), rosters: await count("roster_imports") };
     const bodies: [string, string][] = [
-      ["multipart/form-data; boundary=----x", "------x\r\nContent-Disposition: form-data; name=\"intent\"\r\n\r\nupl"],
+      ["multipart/form-data; boundary=----x", '------x\r\nContent-Disposition: form-data; name="intent"\r\n\r\nupl'],
       ["multipart/form-data; boundary=----x", "no boundary here at all"],
       ["multipart/form-data", "------x\r\n\r\n"],
       ["text/plain", "intent=upload&kind=force"],

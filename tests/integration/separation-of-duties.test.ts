@@ -118,7 +118,9 @@ describe("clinical roles and keys take a second admin", () => {
     expect(requested.map((m) => m.subject)).toEqual(
       expect.arrayContaining([
         expect.stringContaining("asked a second admin to approve — Assessor for Tamsin Velde at North Yard"),
-        expect.stringContaining("asked a second admin to approve — API key “Clinic record bridge” (Assessor; North Yard)"),
+        expect.stringContaining(
+          "asked a second admin to approve — API key “Clinic record bridge” (Assessor; North Yard)",
+        ),
       ]),
     );
     expect(requested.find((m) => m.subject.includes("Tamsin"))!.text).toContain("/admin/approvals");
@@ -127,10 +129,12 @@ describe("clinical roles and keys take a second admin", () => {
     for (const r of pending) {
       const self = await admin.postForm("/admin/approvals", { intent: "approve", requestId: String(r.id) });
       expect(self.status).toBe(403);
-      expect(text(await self.text())).toContain("You asked for this yourself: another admin must approve or refuse it.");
-      expect((await admin.postForm("/admin/approvals.data", { intent: "approve", requestId: String(r.id) })).status).toBe(
-        403,
+      expect(text(await self.text())).toContain(
+        "You asked for this yourself: another admin must approve or refuse it.",
       );
+      expect(
+        (await admin.postForm("/admin/approvals.data", { intent: "approve", requestId: String(r.id) })).status,
+      ).toBe(403);
     }
     expect(await rolesOf(tamsin.id)).toEqual([]);
     expect((await fetch(`${baseUrl()}/api/v1/me`, bearer(key))).status).toBe(401);
@@ -156,7 +160,13 @@ describe("clinical roles and keys take a second admin", () => {
     const again = await priya.postForm("/admin/approvals", { intent: "refuse", requestId: String(pending[0].id) });
     expect(again.status).toBe(409);
 
-    const decided = await k("privilege_requests").whereIn("id", pending.map((r) => r.id)).orderBy("id").select("*");
+    const decided = await k("privilege_requests")
+      .whereIn(
+        "id",
+        pending.map((r) => r.id),
+      )
+      .orderBy("id")
+      .select("*");
     expect(decided.map((r) => [r.status, r.decided_by])).toEqual([
       ["approved", second.id],
       ["approved", second.id],
@@ -195,7 +205,9 @@ describe("clinical roles and keys take a second admin", () => {
       departmentId: "",
     });
     expect(asked.status).toBe(200);
-    expect(text(await asked.text())).toContain("Requested. The Trainer role takes effect when another admin approves it.");
+    expect(text(await asked.text())).toContain(
+      "Requested. The Trainer role takes effect when another admin approves it.",
+    );
     // Asking twice for the same grant is refused, naming the role field.
     const twice = await admin.postForm(`/admin/users/${tamsin.id}`, {
       intent: "add-role",
@@ -215,9 +227,9 @@ describe("clinical roles and keys take a second admin", () => {
     expect(pending).toHaveLength(2);
     // The person a grant is for cannot decide it either: Tamsin holds no admin role, so she is refused outright.
     const hers = (await signIn(NEW_STAFF)).client;
-    expect((await hers.postForm("/admin/approvals", { intent: "approve", requestId: String(pending[0].id) })).status).toBe(
-      403,
-    );
+    expect(
+      (await hers.postForm("/admin/approvals", { intent: "approve", requestId: String(pending[0].id) })).status,
+    ).toBe(403);
     for (const r of pending) {
       const no = await priya.postForm("/admin/approvals", { intent: "refuse", requestId: String(r.id) });
       expect(no.status).toBe(200);
@@ -228,7 +240,10 @@ describe("clinical roles and keys take a second admin", () => {
     expect(await k("api_keys").where({ name: "Training log bridge" }).whereNotNull("revoked_at").first()).toBeDefined();
     const refused = await k("privilege_audit").where({ event: "refused" }).pluck("subject");
     expect(refused).toEqual(
-      expect.arrayContaining(["Trainer for Tamsin Velde at North Yard", "API key “Training log bridge” (Trainer; North Yard)"]),
+      expect.arrayContaining([
+        "Trainer for Tamsin Velde at North Yard",
+        "API key “Training log bridge” (Trainer; North Yard)",
+      ]),
     );
   });
 
