@@ -19,6 +19,9 @@ export async function loader({ request }: Route.LoaderArgs) {
     workers: await count("workers"),
     activeKeys,
     accessReads: await count("access_log"),
+    pendingApprovals: Number(
+      (await k("privilege_requests").where({ status: "pending" }).count<{ n: number }[]>({ n: "*" }).first())?.n ?? 0,
+    ),
   };
 }
 
@@ -30,6 +33,7 @@ export default function AdminHome({ loaderData: d }: Route.ComponentProps) {
     { label: "Workers on roster", value: d.workers, to: "/admin/sites" },
     { label: "Active API keys", value: d.activeKeys, to: "/admin/api-keys" },
     { label: "Health-data reads logged", value: d.accessReads, to: "/admin/access-log" },
+    { label: "Roles and keys waiting for approval", value: d.pendingApprovals, to: "/admin/approvals" },
   ];
   return (
     <div className="grid gap-6">

@@ -14,11 +14,11 @@ import type { Route } from "./+types/admin.users.$userId";
 export const meta: Route.MetaFunction = () => [{ title: "User · Limberly" }];
 
 export async function loader({ request, params }: Route.LoaderArgs) {
-  await requireUser(request, "admin.users");
+  const me = await requireUser(request, "admin.users");
   const user = await userDetail(Number(params.userId));
   invariantResponse(user, "No such user.", { status: 404 });
   const [sites, departments] = await Promise.all([listSites(), listDepartments()]);
-  return { user, sites, departments };
+  return { user, sites, departments, own: user.id === me.user.id };
 }
 
 export async function action({ request, params }: Route.ActionArgs) {
@@ -42,7 +42,7 @@ export async function action({ request, params }: Route.ActionArgs) {
 }
 
 export default function AdminUser({ loaderData }: Route.ComponentProps) {
-  const { user, sites, departments } = loaderData;
+  const { user, sites, departments, own } = loaderData;
   const r = useActionData<typeof action>();
   return (
     <div className="grid gap-6">
@@ -75,6 +75,7 @@ export default function AdminUser({ loaderData }: Route.ComponentProps) {
           Role assignments
         </h2>
         <ActionErrors result={r} intent="remove-role" />
+        {own && <p className="mt-2 text-ink-soft">These are your own roles: another admin must change them.</p>}
         <ul className="mt-3 divide-y divide-line">
           {user.assignments.length === 0 && user.pending.length === 0 && (
             <li className="py-2 text-ink-soft">No roles: this person cannot sign in.</li>
@@ -92,7 +93,7 @@ export default function AdminUser({ loaderData }: Route.ComponentProps) {
               <span>
                 <strong>{ROLE_LABELS[a.role]}</strong> · {a.scope}
               </span>
-              <Form method="post">
+              <Form method="post" hidden={own}>
                 <input type="hidden" name="intent" value="remove-role" />
                 <input type="hidden" name="assignmentId" value={a.id} />
                 <button
@@ -106,7 +107,7 @@ export default function AdminUser({ loaderData }: Route.ComponentProps) {
             </li>
           ))}
         </ul>
-        <ActionForm intent="add-role" result={r} className="mt-4 grid gap-4 sm:grid-cols-3">
+        <ActionForm intent="add-role" result={r} className="mt-4 grid gap-4 sm:grid-cols-3" hidden={own}>
           <SelectField
             name="role"
             label="Role"
