@@ -131,7 +131,18 @@ describe("parseTrace: accepted files", () => {
 describe("parseTrace: refused files name the row and column", () => {
   it("values beyond ±1e12 (which would overflow sums of squares into Infinity/NaN)", () => {
     const errors = errorsOf(
-      parseTrace("force", table(["target", "produced"], [[10, 11], ["1e200", 20], [30, "-1e309"], [40, 1e12]])),
+      parseTrace(
+        "force",
+        table(
+          ["target", "produced"],
+          [
+            [10, 11],
+            ["1e200", 20],
+            [30, "-1e309"],
+            [40, 1e12],
+          ],
+        ),
+      ),
     );
     expect(errors).toEqual([
       { row: 3, column: "target", message: '"1e200" is outside the accepted range (±1e12)' },
