@@ -48,7 +48,9 @@ describe("without censoring the censored fit is least squares on log hours", () 
   const ols = fitLinearModel(Z, y);
 
   it("has the least-squares coefficients, σ̂ = √(RSS/n) and the least-squares R²", () => {
-    fit.model.coefficients.forEach((b, j) => expect(Math.abs(b - ols.coefficients[j])).toBeLessThan(1e-8));
+    fit.model.coefficients.forEach((b, j) => {
+      expect(Math.abs(b - ols.coefficients[j])).toBeLessThan(1e-8);
+    });
     expect(fit.model.residualSD).toBeCloseTo(Math.sqrt(ols.residualSS / courses.length), 9);
     expect(fit.rSquared).toBeCloseTo(ols.rSquared, 9);
     expect(fit.model.dfResidual).toBe(courses.length - 4);
