@@ -587,7 +587,7 @@ export async function driftByVersion(k: Db = db()): Promise<Map<number, DriftSta
     .join("device_courses as c", function () {
       this.on("c.worker_id", "=", "f.worker_id").andOn("c.device_type_id", "=", "f.device_type_id");
     })
-    .whereIn("c.status", ["training", "stopped"])
+    .whereNot("c.status", "proficient")
     .select(
       "f.model_version_id",
       "f.worker_id",

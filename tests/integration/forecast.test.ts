@@ -1,4 +1,6 @@
 import crypto from "node:crypto";
+// @ts-expect-error -- jstat ships no type declarations; used here only as the outside binomial reference
+import jStatLib from "jstat";
 import { inverse, Matrix } from "ml-matrix";
 import { afterAll, describe, expect, it } from "vitest";
 import { eraseForecasts } from "~/models/forecast.server";
@@ -6,6 +8,8 @@ import { ERASURE_STEPS } from "~/models/withdrawal.server";
 import { workerForecastSchema } from "~/schemas/forecast";
 import { independentLogLikelihood, nelderMeadMaximise } from "../reference/censored-likelihood";
 import { baseUrl, PERSONA, signIn, testDb } from "./helpers";
+
+const jStat = jStatLib as { binomial: { cdf(x: number, n: number, p: number): number } };
 
 // Forecast area against the running stack and the seeded demo (seeds/03_forecast_demo.ts).
 const k = testDb();
@@ -512,22 +516,51 @@ describe("logging sessions: cumulative hours, proficiency, stage and forecast in
 });
 
 describe("drift", () => {
-  it("warns assessors when fewer than 70 % of actual outcomes fell inside the version's 80 % interval", async () => {
+  it("counts a course as a miss once its hours pass the planning figure, and alarms by an exact binomial test", async () => {
     const deviceTypeId = await device("SRA-WAIST");
     const v = await k("model_versions")
       .where({ device_type_id: deviceTypeId, status: "approved" })
       .first("id", "version_number");
+    const q = Number((await k("organisations").first("planning_quantile")).planning_quantile);
+    /** Within / miss among the resolved courses of the version, straight from SQL. */
+    const resolved = async () => {
+      let within = 0;
+      let missed = 0;
+      const done = new Set<number>();
+      for (const o of await k("forecast_outcomes").where({ model_version_id: v.id })) {
+        if (o.forecast_planning_hours == null || Math.abs(Number(o.planning_quantile) - q) > 1e-9) continue;
+        done.add(o.worker_id);
+        if (Number(o.actual_hours) <= Number(o.forecast_planning_hours)) within++;
+        else missed++;
+      }
+      const running = await k("forecasts as f")
+        .join("device_courses as c", function () {
+          this.on("c.worker_id", "=", "f.worker_id").andOn("c.device_type_id", "=", "f.device_type_id");
+        })
+        .where("f.model_version_id", v.id)
+        .whereNot("c.status", "proficient")
+        .select("f.worker_id", "f.planning_hours", "c.cumulative_hours");
+      for (const r of running)
+        if (!done.has(r.worker_id) && Number(r.cumulative_hours) >= Number(r.planning_hours)) missed++;
+      return { within, missed };
+    };
     const { client } = await signIn(PERSONA.assessor);
-    expect(await (await client.request("/models")).text()).not.toMatch(
-      /data-testid="drift-warning"[^>]*>Drift: Waist-mounted/,
-    );
+    const warningOf = (html: string) =>
+      /data-testid="drift-warning"[^>]*>([^<]*Waist-mounted[^<]*)</.exec(html.replace(/<!-- -->/g, ""))?.[1] ?? null;
+    // Outside reference for the exact binomial tail: jStat's binomial CDF.
+    const pOf = (r: { within: number; missed: number }) => jStat.binomial.cdf(r.within, r.within + r.missed, q);
+    const start = await resolved();
+    const before = warningOf(await (await client.request("/models")).text());
+    expect(before !== null).toBe(start.within + start.missed > 0 && pOf(start) <= 0.05);
+
+    // Courses that ran past their figure: finished late, and one still training beyond it (not finished).
     const free = await k("workers")
-      .whereNotIn("id", k("forecast_outcomes").where({ device_type_id: deviceTypeId }).select("worker_id"))
+      .whereNotIn("id", k("device_courses").where({ device_type_id: deviceTypeId }).select("worker_id"))
       .orderBy("id", "desc")
-      .limit(5)
+      .limit(8)
       .select("id");
-    const ids: number[] = [];
-    for (const w of free) {
+    const outcomeIds: number[] = [];
+    for (const w of free.slice(0, 7)) {
       const [row] = await k("forecast_outcomes")
         .insert({
           model_version_id: v.id,
@@ -535,25 +568,99 @@ describe("drift", () => {
           device_type_id: deviceTypeId,
           forecast_median_hours: 10,
           forecast_lower_hours: 8,
-          forecast_upper_hours: 12,
+          forecast_upper_hours: 14,
+          forecast_planning_hours: 12,
+          planning_quantile: q,
           actual_hours: 20,
           covered: false,
           reached_on: "2026-11-29",
           recorded_at: "2026-11-29T10:00:00.000Z",
         })
         .returning("id");
-      ids.push(row.id);
+      outcomeIds.push(row.id);
     }
+    const runner = free[7].id as number;
+    const template = await k("forecasts").where({ model_version_id: v.id }).first();
+    const { id: _id, worker_id: _w, ...rest } = template;
+    await k("device_courses").insert({
+      worker_id: runner,
+      device_type_id: deviceTypeId,
+      status: "training",
+      cumulative_hours: Number(template.planning_hours) + 1,
+      started_on: "2026-11-02",
+      updated_at: "2026-11-29T10:00:00.000Z",
+    });
+    await k("forecasts").insert({ ...rest, worker_id: runner });
     try {
-      const all = await k("forecast_outcomes").where({ model_version_id: v.id }).select("covered");
-      const coverage = all.filter((r) => Number(r.covered) === 1).length / all.length;
-      expect(coverage).toBeLessThan(0.7);
-      const html = await (await client.request("/models")).text();
-      const warning =
-        /data-testid="drift-warning"[^>]*>([^<]*Waist-mounted[^<]*)</.exec(html.replace(/<!-- -->/g, ""))?.[1] ?? "";
-      expect(warning).toContain(`only ${Math.round(coverage * 100)} % of ${all.length} workers`);
+      const now = await resolved();
+      expect(now.missed).toBe(start.missed + 8);
+      expect(pOf(now)).toBeLessThanOrEqual(0.05);
+      const warning = warningOf(await (await client.request("/models")).text());
+      expect(warning).toContain(`${now.missed} of ${now.within + now.missed} courses went past their planning figure`);
+      const page = (await (await client.request(`/models/${v.id}`)).text()).replace(/<!-- -->/g, "");
+      expect(page).toContain(`p = ${pOf(now).toPrecision(2)}`);
     } finally {
-      await k("forecast_outcomes").whereIn("id", ids).del();
+      await k("forecasts").where({ worker_id: runner, device_type_id: deviceTypeId }).del();
+      await k("device_courses").where({ worker_id: runner, device_type_id: deviceTypeId }).del();
+      await k("forecast_outcomes").whereIn("id", outcomeIds).del();
+    }
+  });
+});
+
+describe("norm set pinning", () => {
+  it("a newer norm set, and results rescored with it, leave the forecasts of an existing version unchanged", async () => {
+    const deviceTypeId = await device("SRF-FOOT");
+    const v = await k("model_versions").where({ device_type_id: deviceTypeId, status: "approved" }).first();
+    const measureIds: number[] = JSON.parse(v.measure_ids);
+    const pinned = await k("norm_values").where({ norm_set_id: v.norm_set_id }).whereIn("measure_id", measureIds);
+    const snapshot = async () =>
+      new Map(
+        (await k("forecasts").where({ device_type_id: deviceTypeId }).select("worker_id", "planning_hours")).map(
+          (f) => [f.worker_id as number, Number(f.planning_hours)],
+        ),
+      );
+    const before = await snapshot();
+    expect(before.size).toBeGreaterThan(0);
+    const [set] = await k("norm_sets")
+      .insert({
+        name: "IT newer norms",
+        origin: "published",
+        source: "integration test (invented)",
+        source_date: "2026-12-02",
+        created_at: "2026-12-02T09:00:00.000Z",
+      })
+      .returning("id");
+    await k("norm_values").insert(
+      pinned.map((n) => ({ norm_set_id: set.id, measure_id: n.measure_id, mean: n.mean + n.sd, sd: n.sd * 2, n: 50 })),
+    );
+    // Every stored z-score of these measures is rescored with the newer set (what a reassessment would get).
+    const results = await k("assessment_results")
+      .whereIn("measure_id", measureIds)
+      .select("id", "z_score", "norm_set_id");
+    await k("assessment_results")
+      .whereIn("measure_id", measureIds)
+      .update({ z_score: k.raw("z_score / 2 - 0.5"), norm_set_id: set.id });
+    const { client } = await signIn(PERSONA.assessor);
+    try {
+      // Recompute every forecast (saving the planning percentile unchanged does that).
+      const q = Math.round(Number((await k("organisations").first("planning_quantile")).planning_quantile) * 100);
+      const res = await client.postForm("/models", { intent: "quantile", planningQuantile: String(q) });
+      expect(res.status).toBe(200);
+      const after = await snapshot();
+      expect(after.size).toBe(before.size);
+      for (const [w, hours] of before) expect(Math.abs((after.get(w) ?? 0) - hours)).toBeLessThan(1e-9);
+      // A new fit is pinned to the newest set holding every measure, and says so.
+      const fit = await client.postForm("/models/new", {
+        intent: "fit",
+        deviceTypeId: String(deviceTypeId),
+        measureIds: measureIds.map(String),
+      });
+      expect(text(await fit.text(), "norm-set")).toBe("IT newer norms");
+    } finally {
+      for (const r of results)
+        await k("assessment_results").where({ id: r.id }).update({ z_score: r.z_score, norm_set_id: r.norm_set_id });
+      await k("norm_values").where({ norm_set_id: set.id }).del();
+      await k("norm_sets").where({ id: set.id }).del();
     }
   });
 });
