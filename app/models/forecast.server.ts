@@ -496,7 +496,7 @@ export async function workerForecastView(p: Principal, workerId: number, k: Db =
     }
   }
   const howComputed =
-    "Hours to proficiency are forecast from past trainees who agreed to model use: log(hours) is a linear function of the worker's baseline measures (standardised against the cohort), fitted by least squares. The median is the middle forecast, the 80 % interval holds the actual hours four times in five when the model is right, and the planning figure is the chosen upper quantile so that plans rarely run short. Once sessions are logged, the progress curve's own estimate of the remaining hours is combined with the baseline forecast, weighted by how certain each is.";
+    "Hours to proficiency are forecast from past trainees who agreed to model use, including those still in training when the data was taken (they count for the hours they reached): log(hours) is a linear function of the worker's baseline measures (scored with the model's own norm set and standardised against the cohort), fitted by censored maximum likelihood. The median is the middle forecast, the 80 % interval holds the actual hours four times in five when the model is right, and the planning figure is the chosen upper quantile so that plans rarely run short. Once sessions are logged, the progress curve's own estimate of the remaining hours is combined with the baseline forecast, weighted by how certain each is.";
   return workerForecastSchema.parse({
     worker: {
       id: worker.id,
