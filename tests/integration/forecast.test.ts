@@ -4,6 +4,7 @@ import jStatLib from "jstat";
 import { inverse, Matrix } from "ml-matrix";
 import { afterAll, describe, expect, it } from "vitest";
 import { eraseForecasts } from "~/models/forecast.server";
+import { reliabilityByMeasure } from "~/models/reliability-report.server";
 import { ERASURE_STEPS } from "~/models/withdrawal.server";
 import { workerForecastSchema } from "~/schemas/forecast";
 import { independentLogLikelihood, nelderMeadMaximise } from "../reference/censored-likelihood";
@@ -211,6 +212,32 @@ describe("model workbench: cohort with censored courses", () => {
     } finally {
       await k("device_courses").where({ id: training.id }).update({ hours_to_proficiency: null });
     }
+  });
+
+  it("warns on every chosen measure whose test–retest reliability is poor (ICC(2,1) < 0.5) or not known", async () => {
+    const deviceTypeId = await device("SRF-FOOT");
+    const measures = await k("measures").where({ active: true }).select("id", "name").orderBy("id");
+    const ids = measures.map((m) => m.id as number);
+    const { client } = await signIn(PERSONA.assessor);
+    const res = await client.postForm("/models/new", {
+      intent: "fit",
+      deviceTypeId: String(deviceTypeId),
+      measureIds: ids.slice(0, 6).map(String),
+    });
+    expect(res.status).toBe(200);
+    const html = (await res.text()).replace(/<!-- -->/g, "");
+    const block = /data-testid="reliability-warnings"[\s\S]*?<\/section>/.exec(html)?.[0] ?? "";
+    const warned = [...block.matchAll(/<li>([^<:]+):/g)].map((m) => m[1]);
+    const reliability = new Map((await reliabilityByMeasure(k)).map((r) => [r.measureId, r]));
+    const expected = measures
+      .slice(0, 6)
+      .filter((m) => {
+        const icc = reliability.get(m.id)?.icc21 ?? null;
+        return icc === null || icc < 0.5;
+      })
+      .map((m) => m.name);
+    expect(expected.length).toBeGreaterThan(0);
+    expect(warned).toEqual(expected);
   });
 
   it("shows completed and censored courses per device type", async () => {
