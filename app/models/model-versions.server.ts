@@ -237,7 +237,7 @@ export async function reliabilityWarnings(
         label: m.label,
         n: r?.n ?? 0,
         icc,
-        message: `${m.label}: poor repeatability (ICC ${icc.toFixed(2)} from ${r?.n} workers tested twice); much of its spread is measurement noise.`,
+        message: `${m.label}: poor repeatability (ICC ${icc.toFixed(2)}${r?.icc21Lower != null && r.icc21Upper != null ? `, 95 % CI ${r.icc21Lower.toFixed(2)} to ${r.icc21Upper.toFixed(2)}` : ""}, from ${r?.n} workers tested twice); much of its spread is measurement noise.`,
       },
     ];
   });

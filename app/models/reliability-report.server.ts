@@ -1,5 +1,12 @@
 import { sampleStandardDeviation } from "simple-statistics";
-import { intraclassCorrelation, minimalDetectableChange, standardErrorOfMeasurement } from "~/compute/reliability";
+import {
+  iccConfidenceInterval,
+  intraclassCorrelation,
+  minimalDetectableChange,
+  type ReliabilityLabel,
+  reliabilityLabel,
+  standardErrorOfMeasurement,
+} from "~/compute/reliability";
 import { type Db, db } from "~/db.server";
 
 // Test–retest reliability per measure from repeated baselines (docs/methods.md).
@@ -22,6 +29,11 @@ export interface MeasureReliability {
   unit: string;
   n: number;
   icc21: number | null;
+  /** 95 % confidence interval of ICC(2,1) (McGraw & Wong 1996, case 2A). */
+  icc21Lower?: number | null;
+  icc21Upper?: number | null;
+  /** Koo & Li (2016) reading of ICC(2,1). */
+  label?: ReliabilityLabel | null;
   icc31: number | null;
   sd: number | null;
   sem: number | null;
@@ -47,9 +59,37 @@ export function retestSummary(
     const icc21 = intraclassCorrelation(pairs, "ICC(2,1)");
     const icc31 = intraclassCorrelation(pairs, "ICC(3,1)");
     const sd = sampleStandardDeviation(pairs.map((p) => p[0]));
-    if (icc21 < 0) return { n, icc21, icc31, sd, sem: null, mdc95: null, note: "ICC below 0: no usable reliability" };
+    let interval: { lower: number; upper: number } | null = null;
+    try {
+      const ci = iccConfidenceInterval(pairs, "ICC(2,1)", 0.95);
+      if (Number.isFinite(ci.lower) && Number.isFinite(ci.upper)) interval = ci;
+    } catch {
+      interval = null; // e.g. ICC of exactly 1: no interval, the estimate still stands
+    }
+    const spread = { icc21Lower: interval?.lower ?? null, icc21Upper: interval?.upper ?? null };
+    if (icc21 < 0)
+      return {
+        n,
+        icc21,
+        ...spread,
+        label: "poor",
+        icc31,
+        sd,
+        sem: null,
+        mdc95: null,
+        note: "ICC below 0: no usable reliability",
+      };
     const sem = standardErrorOfMeasurement(sd, icc21);
-    return { n, icc21, icc31, sd, sem, mdc95: minimalDetectableChange(sem, 0.95) };
+    return {
+      n,
+      icc21,
+      ...spread,
+      label: reliabilityLabel(icc21),
+      icc31,
+      sd,
+      sem,
+      mdc95: minimalDetectableChange(sem, 0.95),
+    };
   } catch (e) {
     return { n, icc21: null, icc31: null, sd: null, sem: null, mdc95: null, note: (e as Error).message };
   }
