@@ -1,10 +1,12 @@
 import { sampleStandardDeviation } from "simple-statistics";
+import { holm } from "~/compute/multiplicity";
 import {
   iccConfidenceInterval,
   intraclassCorrelation,
   minimalDetectableChange,
   type ReliabilityLabel,
   reliabilityLabel,
+  reliableChangeIndex,
   standardErrorOfMeasurement,
 } from "~/compute/reliability";
 import { type Db, db } from "~/db.server";
@@ -134,10 +136,21 @@ export interface ChangeRow {
   latest: number;
   change: number;
   mdc95: number | null;
+  /** Reliable change index (Jacobson & Truax 1991) and its p-value after Holm's correction over the measures compared. */
+  rci: number | null;
+  adjustedP: number | null;
   verdict: "better" | "worse" | "within error" | "no MDC yet";
 }
 
-/** For one worker: change of each measure from the previous to the latest session, judged against MDC95. */
+/** Family-wise error rate of the "real change" verdicts of one comparison (Holm over its measures). */
+export const CHANGE_ALPHA = 0.05;
+
+/**
+ * For one worker: change of each measure from the previous to the latest session. A change is real when its
+ * reliable change index (change / √2·SEM, SEM from ICC(2,1) and the first-baseline SD) stays significant
+ * after Holm's correction over all measures compared here, at family-wise level CHANGE_ALPHA. Without the
+ * correction this is the MDC95 rule (|change| > 1.96·√2·SEM) applied to each measure separately.
+ */
 export function changesSincePrevious(
   sessions: { results: { measureId: number; name: string; unit: string; higherIsBetter: boolean; value: number }[] }[],
   reliability: Map<number, MeasureReliability>,
@@ -155,20 +168,18 @@ export function changesSincePrevious(
       h.values.push(r.value);
       history.set(r.measureId, h);
     }
+  const tested: { row: number; p: number; rci: number }[] = [];
   for (const [measureId, h] of history) {
     if (h.values.length < 2) continue;
     const previous = h.values[h.values.length - 2];
     const latest = h.values[h.values.length - 1];
     const change = latest - previous;
-    const mdc = reliability.get(measureId)?.mdc95 ?? null;
-    const verdict: ChangeRow["verdict"] =
-      mdc == null
-        ? "no MDC yet"
-        : Math.abs(change) <= mdc
-          ? "within error"
-          : change > 0 === h.higherIsBetter
-            ? "better"
-            : "worse";
+    const rel = reliability.get(measureId);
+    const usable = rel?.mdc95 != null && rel.sd != null && rel.icc21 != null && rel.sem != null && rel.sem > 0;
+    if (usable) {
+      const r = reliableChangeIndex(previous, latest, rel.sd as number, rel.icc21 as number);
+      tested.push({ row: out.length, p: r.pValue, rci: r.rci });
+    }
     out.push({
       measureId,
       name: h.name,
@@ -177,8 +188,22 @@ export function changesSincePrevious(
       previous,
       latest,
       change,
-      mdc95: mdc,
-      verdict,
+      mdc95: rel?.mdc95 ?? null,
+      rci: null,
+      adjustedP: null,
+      verdict: usable ? "within error" : "no MDC yet",
+    });
+  }
+  if (tested.length > 0) {
+    const h = holm(
+      tested.map((t) => t.p),
+      CHANGE_ALPHA,
+    );
+    tested.forEach((t, i) => {
+      const row = out[t.row];
+      row.rci = t.rci;
+      row.adjustedP = h.adjusted[i];
+      if (h.rejected[i]) row.verdict = row.change > 0 === row.higherIsBetter ? "better" : "worse";
     });
   }
   return out;
