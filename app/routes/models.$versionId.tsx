@@ -111,8 +111,9 @@ export default function ModelVersionPage({ loaderData }: Route.ComponentProps) {
             <p className="text-sm">You fitted this version, so another assessor must approve it.</p>
           ) : (
             <p className="text-sm">
-              Check the cohort, what was left out and how the planning figure held when each past trainee was left out in turn (below). Approving makes this the version used for
-              forecasts and plans on this device type and retires the one in use.
+              Check the cohort, what was left out and how the planning figure held when each past trainee was left out
+              in turn (below). Approving makes this the version used for forecasts and plans on this device type and
+              retires the one in use.
             </p>
           )}
           {inUse && <Comparison draft={v} inUse={inUse} />}
