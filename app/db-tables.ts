@@ -3,6 +3,7 @@ import type { Tables } from "knex/types/tables";
 import type { Role } from "~/auth/permissions";
 import type { TraceKind } from "~/compute/trace-parsing";
 import type { ConsentPurpose } from "~/domain/consent-purposes";
+import type { AuditEvent } from "~/domain/privilege-events";
 import type { Stage } from "~/domain/stages";
 
 // The tables as Knex's type inference sees them, so `db()("workers").where(…).first("id", "stage")` is typed
@@ -97,8 +98,9 @@ declare module "knex/types/tables" {
         created_at: string;
         revoked_at: string | null;
         last_used_at: string | null;
+        awaiting_approval: DbBoolean;
       },
-      "id"
+      "id" | "awaiting_approval"
     >;
     assessment_results: Table<
       {
@@ -215,6 +217,8 @@ declare module "knex/types/tables" {
         covered: DbBoolean;
         reached_on: string;
         recorded_at: string;
+        forecast_planning_hours: number | null;
+        planning_quantile: number | null;
       },
       "id"
     >;
@@ -289,8 +293,18 @@ declare module "knex/types/tables" {
         approved_at: string | null;
         retired_by: number | null;
         retired_at: string | null;
+        norm_set_id: number | null;
+        method: string;
+        completed_courses: number | null;
+        still_training_courses: number | null;
+        stopped_courses: number | null;
+        planning_quantile: number | null;
+        loocv_planning_coverage: number | null;
+        loocv_planning_coverage_se: number | null;
+        loocv_coverage_stopped_as_miss: number | null;
+        risk_groups: string | null;
       },
-      "id" | "ridge" | "status"
+      "id" | "ridge" | "status" | "method"
     >;
     norm_sets: Table<
       {
@@ -323,6 +337,39 @@ declare module "knex/types/tables" {
         time_zone: string;
       },
       "id" | "disclosure_threshold" | "retention_days" | "manager_groupings" | "planning_quantile" | "time_zone"
+    >;
+    privilege_audit: Table<
+      {
+        id: number;
+        at: string;
+        actor_id: number | null;
+        actor_name: string;
+        event: AuditEvent;
+        request_id: number | null;
+        target_user_id: number | null;
+        api_key_id: number | null;
+        subject: string;
+        role: string;
+      },
+      "id"
+    >;
+    privilege_requests: Table<
+      {
+        id: number;
+        kind: "role" | "api_key";
+        role: Role;
+        target_user_id: number | null;
+        site_id: number | null;
+        department_id: number | null;
+        api_key_id: number | null;
+        subject: string;
+        requested_by: number | null;
+        created_at: string;
+        status: "pending" | "approved" | "refused";
+        decided_by: number | null;
+        decided_at: string | null;
+      },
+      "id" | "status"
     >;
     proficiency_criteria: Table<
       {

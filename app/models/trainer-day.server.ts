@@ -1,10 +1,14 @@
 import {
+  addDays,
   dayAndWeekIn,
+  dayAndWeekOf,
   hoursBetween,
   type Instant,
+  type IsoDate,
   nowInstant,
   wallClock,
   wallClockExists,
+  wallClockNow,
   wallClockToInstant,
 } from "~/dates";
 import { type Db, db, type Row } from "~/db.server";
@@ -118,16 +122,17 @@ function scheduleOnly(r: Row): ScheduledSession {
 }
 
 /**
- * The trainer's sessions for today and this week (Monday to Sunday) on the clock of the trainer's site, and
- * earlier scheduled sessions still waiting to be logged.
+ * The trainer's sessions for one day (today unless `shown` names another) and the rest of its week (Monday to
+ * Sunday) on the clock of the trainer's site, and sessions before this week still waiting to be logged.
  */
-export async function trainerDay(trainerId: number, now: Instant | Date = new Date(), k: Db = db()) {
+export async function trainerDay(trainerId: number, now: Instant | Date = new Date(), k: Db = db(), shown?: IsoDate) {
   const site = await k("trainers as t")
     .join("sites as s", "s.id", "t.site_id")
     .where("t.id", trainerId)
     .first("s.time_zone");
   const timeZone: string = site.time_zone;
-  const w = { ...dayAndWeekIn(timeZone, now), timeZone };
+  const real = dayAndWeekIn(timeZone, now);
+  const w = { ...(shown ? dayAndWeekOf(shown) : real), timeZone };
   const week = (
     await sessionQuery(k, trainerId)
       .where("ts.scheduled_start", ">=", w.weekStart)
@@ -138,13 +143,26 @@ export async function trainerDay(trainerId: number, now: Instant | Date = new Da
   const waiting = (
     await sessionQuery(k, trainerId)
       .where("ts.status", "scheduled")
-      .where("ts.scheduled_start", "<", w.weekStart)
+      .where("ts.scheduled_start", "<", real.weekStart)
       .orderBy("ts.scheduled_start")
       .limit(50)
   ).map(scheduleOnly);
   const today = week.filter((s) => s.start != null && s.start >= w.dayStart && s.start < w.dayEnd);
   const rest = week.filter((s) => !today.includes(s));
-  return { ...w, today, rest, waiting };
+  return {
+    ...w,
+    today,
+    rest,
+    waiting,
+    isToday: w.date === real.date,
+    todayDate: real.date,
+    /** Now on the site's clock: a session still to do that ended before it is overdue. */
+    now: wallClockNow(timeZone, now),
+    previousDay: addDays(w.date, -1),
+    nextDay: addDays(w.date, 1),
+    previousWeek: addDays(w.date, -7),
+    nextWeek: addDays(w.date, 7),
+  };
 }
 
 /** One session, only if it is on this trainer's schedule (else null: the caller answers 403). */
