@@ -22,8 +22,9 @@ import {
   PublishConflict,
   type PublishOutcome,
   PublishRefused,
+  placement,
   planState,
-  previewSessions,
+  publishPreview,
   publishRefusal,
   publishRun,
 } from "~/models/publish.server";
@@ -57,34 +58,43 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const plan = run.plan;
   const workerLabel = new Map((snap?.calendar.workers ?? []).map((w) => [w.id, w]));
   const problemWorker = new Map((snap?.problem.workers ?? []).map((w) => [w.id, w]));
-  const rows: WorkerPlanRow[] = (plan?.assignments ?? []).map((a) => {
-    const w = workerLabel.get(a.workerId);
-    const byWeek = new Map<number, number>();
-    for (const s of a.sessions) byWeek.set(s.week, (byWeek.get(s.week) ?? 0) + s.hours);
-    const weeks = [...byWeek.entries()].sort((x, y) => x[0] - y[0]);
-    const total = weeks.reduce((s, [, h]) => s + h, 0);
-    return {
-      workerId: a.workerId,
-      employeeNumber: w?.employeeNumber ?? a.workerId,
-      name: w?.name ?? a.workerId,
-      department: w ? `${w.site} · ${w.department}` : "",
-      deviceType: a.deviceTypeId,
-      trainers: [...new Set(a.sessions.map((s) => s.trainerId))].join(", "),
-      hoursPerWeek: weeks.map(([k, h]) => `W${k + 1}: ${h.toFixed(1)}`).join(" · "),
-      totalHours: round1(total),
-      hoursNeeded: round1(
-        problemWorker.get(a.workerId)?.options.find((o) => o.deviceTypeId === a.deviceTypeId)?.hoursNeeded ?? total,
-      ),
-      completionWeek: a.completionWeek + 1,
-      completionDate: snap ? addDays(snap.calendar.startDate, a.completionWeek * 7 + 4) : "",
-      priority: problemWorker.get(a.workerId)?.priority ?? 1,
-    };
-  });
-  const unassigned = (plan?.unassigned ?? []).map((u) => ({
-    name: workerLabel.get(u.workerId)?.name ?? u.workerId,
-    employeeNumber: workerLabel.get(u.workerId)?.employeeNumber ?? "",
-    reason: u.reason,
-  }));
+  // Ready means every planned hour got a session: the rest are "not ready in this horizon" (with the reason).
+  const publishView = run.status === "done" && !publishRefusal(run) ? await publishPreview(run) : null;
+  const placed = publishView ?? (run.status === "done" ? placement(run) : null);
+  const notReady = new Map((placed?.notReady ?? []).map((n) => [n.workerId, n]));
+  const rows: WorkerPlanRow[] = (plan?.assignments ?? [])
+    .filter((a) => !notReady.has(a.workerId))
+    .map((a) => {
+      const w = workerLabel.get(a.workerId);
+      const byWeek = new Map<number, number>();
+      for (const s of a.sessions) byWeek.set(s.week, (byWeek.get(s.week) ?? 0) + s.hours);
+      const weeks = [...byWeek.entries()].sort((x, y) => x[0] - y[0]);
+      const total = weeks.reduce((s, [, h]) => s + h, 0);
+      return {
+        workerId: a.workerId,
+        employeeNumber: w?.employeeNumber ?? a.workerId,
+        name: w?.name ?? a.workerId,
+        department: w ? `${w.site} · ${w.department}` : "",
+        deviceType: a.deviceTypeId,
+        trainers: [...new Set(a.sessions.map((s) => s.trainerId))].join(", "),
+        hoursPerWeek: weeks.map(([k, h]) => `W${k + 1}: ${h.toFixed(1)}`).join(" · "),
+        totalHours: round1(total),
+        hoursNeeded: round1(
+          problemWorker.get(a.workerId)?.options.find((o) => o.deviceTypeId === a.deviceTypeId)?.hoursNeeded ?? total,
+        ),
+        completionWeek: a.completionWeek + 1,
+        completionDate: snap ? addDays(snap.calendar.startDate, a.completionWeek * 7 + 4) : "",
+        priority: problemWorker.get(a.workerId)?.priority ?? 1,
+      };
+    });
+  const unassigned = [
+    ...(placed?.notReady ?? []).map((n) => ({ name: n.name, employeeNumber: n.employeeNumber, reason: n.reason })),
+    ...(plan?.unassigned ?? []).map((u) => ({
+      name: workerLabel.get(u.workerId)?.name ?? u.workerId,
+      employeeNumber: workerLabel.get(u.workerId)?.employeeNumber ?? "",
+      reason: u.reason,
+    })),
+  ];
   const usage = new Map<
     string,
     { kind: string; id: string; points: { week: number; used: number; capacity: number }[] }
@@ -95,7 +105,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     usage.get(key)!.points.push({ week: u.week, used: u.used, capacity: u.capacity });
   }
   for (const u of usage.values()) u.points.sort((a, b) => a.week - b.week);
-  const preview = run.status === "done" ? previewSessions(run) : { sessions: [], unplaced: [] };
+  const preview = placed ?? { sessions: [], unplaced: [] };
   const lastWeek = new Map<string, number>();
   for (const s of preview.sessions) lastWeek.set(s.workerId, Math.max(lastWeek.get(s.workerId) ?? 0, s.week));
   const slipped = rows
@@ -147,6 +157,11 @@ export async function loader({ request, params }: Route.LoaderArgs) {
         reason: u.reason,
       })),
       slipped,
+      plannedBySolver: plan?.assignments.length ?? 0,
+      continuing: placed?.continuing ?? { total: 0, finishing: 0 },
+      recipients: publishView?.recipients ?? null,
+      withoutEmail: publishView?.withoutEmail ?? 0,
+      replaces: publishView?.replaces ?? 0,
     },
     planVersion: state.version,
     currentRunId: state.runId,
@@ -159,7 +174,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 export async function action({ request, params }: Route.ActionArgs) {
   const p = await requireUser(request, "allocation.publish");
   const parsed = parseWith(publishSchema, formToObject(await request.formData()));
-  if (!parsed.ok) return { error: Object.values(parsed.errors)[0] };
+  if (!parsed.ok) return data({ error: Object.values(parsed.errors)[0] }, { status: 400 });
   try {
     const outcome = await publishRun(p, Number(params.runId), parsed.data.expectedPlanVersion);
     return { published: outcome };
@@ -491,37 +506,72 @@ export default function RunPage({ loaderData, actionData }: Route.ComponentProps
             </h2>
             <p>
               Publishing turns this plan into dated sessions (day, time, device unit, trainer) inside the trainers'
-              working hours and the units' bookable hours, replaces the sessions of the currently published plan
-              {currentRunId ? ` (run #${currentRunId})` : ""}, and e-mails a calendar file to each worker and trainer
-              whose sessions change.
+              working hours and the units' bookable hours, replaces the scheduled sessions from {pr.startDate} on of the
+              people this run plans{currentRunId ? ` (the published plan is from run #${currentRunId})` : ""}, and
+              e-mails a calendar file to each worker and trainer whose sessions change.
             </p>
-            <p className="text-sm">
-              Preview: {preview.sessions} sessions.
-              {preview.unplaced.length
-                ? ` ${preview.unplaced.length} blocks of hours could not be placed (listed below).`
-                : " Every planned hour has a place."}
-            </p>
+            <dl className="grid grid-cols-2 gap-3 md:grid-cols-4" data-testid="publish-summary">
+              <div>
+                <dt className="text-sm text-ink-soft">Ready after placing sessions</dt>
+                <dd className="text-xl font-semibold" data-testid="ready-after-placement">
+                  {rows.length}
+                </dd>
+                {preview.plannedBySolver !== rows.length && (
+                  <dd className="text-sm text-ink-soft">
+                    of {preview.plannedBySolver} in the weekly plan; {preview.plannedBySolver - rows.length} not ready
+                    in this horizon
+                  </dd>
+                )}
+              </div>
+              <div>
+                <dt className="text-sm text-ink-soft">Sessions</dt>
+                <dd className="text-xl font-semibold">{preview.sessions}</dd>
+                <dd className="text-sm text-ink-soft">replacing {preview.replaces} scheduled</dd>
+              </div>
+              <div>
+                <dt className="text-sm text-ink-soft">Already in training, continuing</dt>
+                <dd className="text-xl font-semibold">{preview.continuing.total}</dd>
+                <dd className="text-sm text-ink-soft">{preview.continuing.finishing} finish in this horizon</dd>
+              </div>
+              {preview.recipients && (
+                <div>
+                  <dt className="text-sm text-ink-soft">Will be e-mailed</dt>
+                  <dd className="text-xl font-semibold" data-testid="will-be-emailed">
+                    {preview.recipients.workers + preview.recipients.trainers}
+                  </dd>
+                  <dd className="text-sm text-ink-soft">
+                    {preview.recipients.workers} workers, {preview.recipients.trainers} trainers whose sessions change
+                    {preview.withoutEmail ? `; ${preview.withoutEmail} without an e-mail address` : ""}
+                  </dd>
+                </div>
+              )}
+            </dl>
             {preview.slipped.length > 0 && (
               <details className="text-sm">
                 <summary className="cursor-pointer">
                   {preview.slipped.length} workers finish later than planned because hours moved to a later week
                 </summary>
                 <ul className="list-disc pl-5">
-                  {preview.slipped.map((s) => (
-                    <li key={s}>{s}</li>
+                  {preview.slipped.map((x) => (
+                    <li key={x}>{x}</li>
                   ))}
                 </ul>
               </details>
             )}
             {preview.unplaced.length > 0 && (
-              <ul className="list-disc pl-5 text-sm">
-                {preview.unplaced.map((u, i) => (
-                  // biome-ignore lint/suspicious/noArrayIndexKey: a fixed list per preview, never reordered
-                  <li key={i}>
-                    {u.name}: {u.hours} h — {u.reason}
-                  </li>
-                ))}
-              </ul>
+              <details className="text-sm">
+                <summary className="cursor-pointer">
+                  {preview.unplaced.length} blocks of hours could not be placed on the calendar
+                </summary>
+                <ul className="list-disc pl-5">
+                  {preview.unplaced.map((u, i) => (
+                    // biome-ignore lint/suspicious/noArrayIndexKey: a fixed list per preview, never reordered
+                    <li key={i}>
+                      {u.name}: {u.hours} h — {u.reason}
+                    </li>
+                  ))}
+                </ul>
+              </details>
             )}
             {a?.published && (
               <Notice>
@@ -532,7 +582,10 @@ export default function RunPage({ loaderData, actionData }: Route.ComponentProps
                 unchanged, not e-mailed.
                 {a.published.mailFailures.length
                   ? ` ${a.published.mailFailures.length} e-mails could not be sent.`
-                  : ""}
+                  : ""}{" "}
+                <Link className="text-spruce-700 underline" to="/coordinate/schedule">
+                  Open the published schedule
+                </Link>
               </Notice>
             )}
             {a?.conflict && <FormError message={a.conflict} />}
@@ -547,19 +600,39 @@ export default function RunPage({ loaderData, actionData }: Route.ComponentProps
             {refusal ? (
               <p className="text-sm text-ink-soft">{refusal}</p>
             ) : canPublish ? (
-              <Form method="post">
+              <Form method="post" className="grid gap-2">
                 <input type="hidden" name="intent" value="publish" />
                 <input type="hidden" name="expectedPlanVersion" value={planVersion} />
-                <button className="btn-primary" type="submit" disabled={nav.state === "submitting"}>
-                  {nav.state === "submitting" ? "Publishing…" : run.publishedAt ? "Publish again" : "Publish this plan"}
-                </button>
+                <label className="flex items-start gap-2">
+                  <input type="checkbox" name="confirm" value="yes" className="mt-1 size-5" required />
+                  <span>
+                    I have checked the numbers: {rows.length} people ready after placing sessions
+                    {preview.recipients
+                      ? `, ${preview.recipients.workers + preview.recipients.trainers} people will be e-mailed`
+                      : ""}
+                    .
+                  </span>
+                </label>
+                <p>
+                  <button className="btn-primary" type="submit" disabled={nav.state === "submitting"}>
+                    {nav.state === "submitting"
+                      ? "Publishing…"
+                      : run.publishedAt
+                        ? "Publish again"
+                        : "Publish this plan"}
+                  </button>
+                </p>
               </Form>
             ) : (
               <p className="text-sm">Only a coordinator with publish permission can publish.</p>
             )}
             <p className="text-sm">
+              <Link className="text-spruce-700 underline" to="/coordinate/schedule">
+                The published schedule
+              </Link>{" "}
+              ·{" "}
               <a className="text-spruce-700 underline" href="/coordinate/schedule.xlsx">
-                Download the published schedule (XLSX)
+                download it (XLSX)
               </a>
             </p>
           </section>
