@@ -16,11 +16,11 @@ export async function loader({ request }: Route.LoaderArgs) {
   const rows = await publishedSchedule(p.scope);
   const shown = rows.slice(0, SHOWN);
   if (shown.length) await recordAccess(p, request, [...new Set(shown.map((r) => r.workerId))], "sessions");
-  return { rows: shown, total: rows.length, plan: await planState() };
+  return { rows: shown, total: rows.length, plan: await planState(), note: SCHEDULE_NOTE };
 }
 
 export default function Schedule({ loaderData }: Route.ComponentProps) {
-  const { rows, total, plan } = loaderData;
+  const { rows, total, plan, note } = loaderData;
   return (
     <div className="grid gap-4">
       <h1 className="page-title">Published schedule</h1>
@@ -58,7 +58,7 @@ export default function Schedule({ loaderData }: Route.ComponentProps) {
             </thead>
             <tbody>
               {rows.map((r) => (
-                <tr key={r.id}>
+                <tr key={r.id} data-session-id={r.id}>
                   <td className="whitespace-nowrap">{r.date}</td>
                   <td className="whitespace-nowrap">
                     {r.start}–{r.end}
@@ -78,7 +78,7 @@ export default function Schedule({ loaderData }: Route.ComponentProps) {
           </table>
         </section>
       )}
-      <p className="text-sm text-ink-soft">{SCHEDULE_NOTE} Times are each site's local time.</p>
+      <p className="text-sm text-ink-soft">{note} Times are each site's local time.</p>
       <DeviceCautions compact />
     </div>
   );

@@ -127,7 +127,7 @@ export default function Trainee({ loaderData, actionData }: Route.ComponentProps
         ) : (
           <ul className="grid gap-1 text-sm" data-testid="trainee-sessions">
             {w.sessions.map((s) => (
-              <li key={s.id}>
+              <li key={s.id} data-session-id={s.id}>
                 {s.start}–{s.end} · {s.device}
                 {s.unit ? ` (unit ${s.unit})` : ""}
                 {s.trainer ? ` with ${s.trainer}` : ""}

@@ -181,7 +181,7 @@ export default function TrainerPage({ loaderData, actionData }: Route.ComponentP
         ) : (
           <ul className="grid gap-1 text-sm" data-testid="trainer-sessions">
             {t.sessions.map((s) => (
-              <li key={s.id}>
+              <li key={s.id} data-session-id={s.id}>
                 {s.start}–{s.end} · {s.device}
                 {s.unit ? ` (unit ${s.unit})` : ""} · {s.worker}
               </li>
