@@ -1,5 +1,6 @@
 import type { Principal } from "~/auth/guard.server";
-import { type PackedSession, packSessions, type UnplacedHours } from "~/compute/session-packing";
+import { type NotReady, type Placement, placePlan } from "~/compute/placement";
+import type { PackedSession, UnplacedHours } from "~/compute/session-packing";
 import { DEFAULT_TIME_ZONE, dayOf, hhmmOfWallClock, nowInstant, startOfDay, wallClock, wallClockAt } from "~/dates";
 import { type Db, db } from "~/db.server";
 import { sendMail } from "~/mail.server";
@@ -46,13 +47,6 @@ export async function planState(): Promise<PlanState> {
   };
 }
 
-/** Dated sessions the run would publish: the commitments of workers already in training first, then the plan. */
-export function previewSessions(run: RunDetail): { sessions: PackedSession[]; unplaced: UnplacedHours[] } {
-  if (!run.snapshot || !run.plan) return { sessions: [], unplaced: [] };
-  const committed = (run.snapshot.commitments ?? []).map((c) => c.assignment);
-  return packSessions(run.snapshot.calendar, [...committed, ...run.plan.assignments]);
-}
-
 export function publishRefusal(run: RunDetail): string | null {
   if (run.status !== "done" || !run.plan || !run.snapshot) return "Only a finished run can be published.";
   if (run.plan.status === "infeasible") return "This run has no feasible plan to publish.";
@@ -61,60 +55,13 @@ export function publishRefusal(run: RunDetail): string | null {
   return null;
 }
 
-export interface NotReady {
-  workerId: string;
-  name: string;
-  employeeNumber: string;
-  hoursUnplaced: number;
-  reason: string;
-}
+export type { NotReady, Placement };
 
-/**
- * What the run delivers once its hours are placed on the calendar: a worker of the plan is ready only when
- * every one of their hours got a session; the others are "not ready in this horizon", with the reason the
- * second stage gave. Workers already in training are counted apart (they continue either way).
- */
-export interface Placement {
-  sessions: PackedSession[];
-  unplaced: UnplacedHours[];
-  /** plan workers with every hour placed */
-  readyIds: string[];
-  notReady: NotReady[];
-  /** workers already in training carried into the run, and how many of them finish inside the horizon */
-  continuing: { total: number; finishing: number };
-}
-
+/** What the run delivers once its hours are placed on the calendar (app/compute/placement.ts). */
 export function placement(run: RunDetail): Placement {
-  const { sessions, unplaced } = previewSessions(run);
-  const lost = new Map<string, UnplacedHours[]>();
-  for (const u of unplaced) lost.set(u.workerId, [...(lost.get(u.workerId) ?? []), u]);
-  const label = new Map((run.snapshot?.calendar.workers ?? []).map((w) => [w.id, w]));
-  const planned = run.plan?.assignments ?? [];
-  const notReady: NotReady[] = planned
-    .filter((a) => lost.has(a.workerId))
-    .map((a) => {
-      const mine = lost.get(a.workerId)!;
-      const w = label.get(a.workerId);
-      const hours = Math.round((mine.reduce((m, u) => m + u.minutes, 0) / 60) * 10) / 10;
-      return {
-        workerId: a.workerId,
-        name: w?.name ?? a.workerId,
-        employeeNumber: w?.employeeNumber ?? "",
-        hoursUnplaced: hours,
-        reason: `${hours} h could not be placed on the calendar. ${mine[0].reason}`,
-      };
-    });
-  const commitments = run.snapshot?.commitments ?? [];
-  return {
-    sessions,
-    unplaced,
-    readyIds: planned.filter((a) => !lost.has(a.workerId)).map((a) => a.workerId),
-    notReady,
-    continuing: {
-      total: commitments.length,
-      finishing: commitments.filter((c) => c.hoursLeft === 0 && !lost.has(c.workerId)).length,
-    },
-  };
+  if (!run.snapshot || !run.plan)
+    return { sessions: [], unplaced: [], readyIds: [], notReady: [], continuing: { total: 0, finishing: 0 } };
+  return placePlan(run.snapshot.calendar, run.snapshot.commitments ?? [], run.plan);
 }
 
 export interface PublishOutcome {
@@ -283,7 +230,7 @@ export async function publishRun(
   const refusal = publishRefusal(run);
   if (refusal) throw new PublishRefused(refusal);
   const snapshot = run.snapshot!;
-  const { sessions, unplaced } = previewSessions(run);
+  const { sessions, unplaced } = placement(run);
   const devices = new Map(snapshot.calendar.devices.map((d) => [d.id, d]));
   const trainers = new Map(snapshot.calendar.trainers.map((t) => [t.id, t]));
   const workers = new Map(snapshot.calendar.workers.map((w) => [w.id, w]));

@@ -133,6 +133,13 @@ describe("a new run and its publish step", () => {
         a.sessions.reduce((m: number, s: { hours: number }) => m + Math.round(s.hours * 60), 0),
     );
     expect(ready).toBe(fullyPlaced.length);
+    // the runs list shows the same count over the pool, and the value = Σ priority of those ready
+    const problem = JSON.parse((await k()("allocation_runs").where({ id: runId }).first("problem")).problem).problem;
+    const list = await (await client.request("/coordinate/runs")).text();
+    expect(list).toMatch(new RegExp(`data-testid="run-ready-${runId}"[^>]*>${ready} / ${problem.workers.length}<`));
+    const prio = new Map(problem.workers.map((w: { id: string; priority: number }) => [w.id, w.priority]));
+    const value = fullyPlaced.reduce((s: number, a: { workerId: string }) => s + (prio.get(a.workerId) as number), 0);
+    expect(list).toMatch(new RegExp(`data-testid="run-value-${runId}"[^>]*>${Math.round(value * 100) / 100}<`));
   });
 });
 
