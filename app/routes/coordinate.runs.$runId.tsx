@@ -10,7 +10,7 @@ import { useEffect, useState } from "react";
 import { data, Form, Link, useFetcher, useNavigation, useRevalidator } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { can } from "~/auth/permissions";
-import { CapacityChart } from "~/components/capacity-chart";
+import { CapacityExplorer } from "~/components/capacity-chart";
 import { DeviceCautions } from "~/components/device-cautions";
 import { FormError, Notice } from "~/components/fields";
 import { ProgressBar } from "~/components/progress-bar";
@@ -337,8 +337,6 @@ export default function RunPage({ loaderData, actionData }: Route.ComponentProps
   const nav = useNavigation();
   const a = actionData as { published?: PublishOutcome; conflict?: string; error?: string } | undefined;
   const pr = run.parameters;
-  const devices = usage.filter((u) => u.kind === "device");
-  const trainers = usage.filter((u) => u.kind === "trainer");
   return (
     <div className="grid gap-6">
       <div>
@@ -375,129 +373,41 @@ export default function RunPage({ loaderData, actionData }: Route.ComponentProps
 
       {result && (
         <>
-          <section aria-labelledby="outcome" className="grid gap-3">
+          <section aria-labelledby="outcome" className="card grid gap-2" data-testid="decision">
             <h2 id="outcome" className="text-lg font-semibold">
-              Result
-            </h2>
-            <dl className="grid grid-cols-2 gap-3 md:grid-cols-5" data-testid="run-summary">
-              <div className="card">
-                <dt className="text-sm text-ink-soft">Status</dt>
-                <dd className="text-xl font-semibold">{result.status}</dd>
-              </div>
-              <div className="card">
-                <dt className="text-sm text-ink-soft">Objective</dt>
-                <dd className="text-xl font-semibold">{result.objective.toFixed(1)}</dd>
-              </div>
-              <div className="card">
-                <dt className="text-sm text-ink-soft">Proven bound</dt>
-                <dd className="text-xl font-semibold">{result.bound.toFixed(1)}</dd>
-              </div>
-              <div className="card">
-                <dt className="text-sm text-ink-soft">Gap</dt>
-                <dd className="text-xl font-semibold">
-                  {result.gap == null ? "—" : `${(result.gap * 100).toFixed(1)} %`}
-                </dd>
-              </div>
-              <div className="card">
-                <dt className="text-sm text-ink-soft">Ready / pool</dt>
-                <dd className="text-xl font-semibold">
-                  {rows.length} / {poolSize}
-                </dd>
-              </div>
-            </dl>
-            <p className="text-sm text-ink-soft">
-              Objective = the sum of the priorities of the workers made ready inside the horizon. The bound is proven:
-              no plan can do better than it, so the gap says how far from the best possible this plan can at most be.
-            </p>
-            {result.message && <Notice>{result.message}</Notice>}
-          </section>
-
-          <section aria-labelledby="binding" className="card grid gap-2">
-            <h2 id="binding" className="text-lg font-semibold">
-              What limits the plan
+              Result: who is ready when
             </h2>
             {result.status === "infeasible" ? (
-              <p>
-                No plan meets the run's conditions (see the reason above). Lower the fairness share, lengthen the
-                horizon or add capacity, then start a new run.
-              </p>
-            ) : result.binding.length === 0 ? (
-              <p>
-                No device or trainer time binds: every worker in the pool who can be made ready is ready. Extra capacity
-                would not change this plan.
-              </p>
+              <p>No plan meets this run's conditions. {result.message}</p>
             ) : (
-              <div data-testid="binding-resources">
-                <ul className="list-disc pl-5">
-                  {result.binding.slice(0, 5).map((b) => (
-                    <li key={b}>{b}</li>
-                  ))}
-                </ul>
-                {result.binding.length > 5 && (
-                  <details className="mt-1">
-                    <summary className="cursor-pointer text-sm text-spruce-700">
-                      {result.binding.length - 5} more, week by week
-                    </summary>
-                    <ul className="list-disc pl-5 text-sm">
-                      {result.binding.slice(5).map((b) => (
-                        <li key={b}>{b}</li>
-                      ))}
-                    </ul>
-                  </details>
+              <>
+                <p className="text-xl">
+                  <strong>{rows.length}</strong> of {poolSize} people in the pool can be ready within {pr.horizonWeeks}{" "}
+                  weeks from {pr.startDate}
+                  {rows.length > 0
+                    ? `, the first in week ${Math.min(...rows.map((r) => r.completionWeek))} and the last in week ${Math.max(...rows.map((r) => r.completionWeek))}`
+                    : ""}
+                  .
+                </p>
+                <p>
+                  {unassigned.length > 0 ? `${unassigned.length} are not ready in this horizon (reasons below). ` : ""}
+                  {preview.continuing.total > 0
+                    ? `${preview.continuing.total} already in training continue first; ${preview.continuing.finishing} of them finish in this horizon. `
+                    : ""}
+                  {result.binding.length > 0
+                    ? `What holds the plan back most: ${result.binding[0]}`
+                    : "No device or trainer time holds the plan back."}
+                </p>
+                {result.gap != null && (
+                  <p className="text-sm text-ink-soft">
+                    {result.gap <= 0.0005
+                      ? "No plan can make a more valuable set of people ready: this one is the best possible."
+                      : `No plan can be more than ${(result.gap * 100).toFixed(1)} % more valuable than this one.`}
+                  </p>
                 )}
-              </div>
+              </>
             )}
-            <p className="text-sm text-ink-soft">
-              Estimated from the solver's dual prices: first-order estimates, good for comparing resources, not exact
-              promises.
-            </p>
-          </section>
-
-          <section aria-labelledby="plan" className="grid gap-2">
-            <h2 id="plan" className="text-lg font-semibold">
-              Per-worker plan ({rows.length})
-            </h2>
-            {rows.length ? (
-              <PlanTable rows={rows} />
-            ) : (
-              <p className="text-ink-soft">Nobody can be made ready in this horizon.</p>
-            )}
-          </section>
-
-          {unassigned.length > 0 && (
-            <section aria-labelledby="unassigned" className="card grid gap-2">
-              <h2 id="unassigned" className="text-lg font-semibold">
-                Not ready in this horizon ({unassigned.length})
-              </h2>
-              <ul className="grid gap-1 text-sm" data-testid="unassigned">
-                {unassigned.map((u) => (
-                  <li key={u.employeeNumber + u.name}>
-                    <strong>
-                      {u.employeeNumber} · {u.name}
-                    </strong>
-                    : {u.reason}
-                  </li>
-                ))}
-              </ul>
-            </section>
-          )}
-
-          <section aria-labelledby="capacity" className="grid gap-3">
-            <h2 id="capacity" className="text-lg font-semibold">
-              Capacity use per week
-            </h2>
-            <h3 className="font-semibold">Device types (device-hours)</h3>
-            <div className="grid gap-3 md:grid-cols-2 xl:grid-cols-3">
-              {devices.map((u) => (
-                <CapacityChart key={u.id} title={u.id} unit="h" points={u.points} />
-              ))}
-            </div>
-            <h3 className="font-semibold">Trainers (trainer-hours)</h3>
-            <div className="grid gap-3 md:grid-cols-2 xl:grid-cols-3">
-              {trainers.map((u) => (
-                <CapacityChart key={u.id} title={u.id} unit="h" points={u.points} />
-              ))}
-            </div>
+            {result.message && result.status !== "infeasible" && <Notice>{result.message}</Notice>}
           </section>
 
           <section aria-labelledby="publish" className="card grid gap-3">
@@ -635,6 +545,123 @@ export default function RunPage({ loaderData, actionData }: Route.ComponentProps
                 download it (XLSX)
               </a>
             </p>
+          </section>
+          <details className="card text-sm" data-testid="how-computed">
+            <summary className="cursor-pointer font-semibold">How this was computed (exact terms)</summary>
+            <dl className="mt-2 grid grid-cols-2 gap-3 md:grid-cols-5" data-testid="run-summary">
+              <div>
+                <dt className="text-ink-soft">Solver status</dt>
+                <dd className="font-semibold">{result.status}</dd>
+              </div>
+              <div>
+                <dt className="text-ink-soft">Objective</dt>
+                <dd className="font-semibold">{result.objective.toFixed(1)}</dd>
+              </div>
+              <div>
+                <dt className="text-ink-soft">Proven bound</dt>
+                <dd className="font-semibold">{result.bound.toFixed(1)}</dd>
+              </div>
+              <div>
+                <dt className="text-ink-soft">Gap</dt>
+                <dd className="font-semibold">{result.gap == null ? "—" : `${(result.gap * 100).toFixed(1)} %`}</dd>
+              </div>
+              <div>
+                <dt className="text-ink-soft">Ready after placement / pool</dt>
+                <dd className="font-semibold">
+                  {rows.length} / {poolSize}
+                </dd>
+              </div>
+            </dl>
+            <ul className="mt-2 list-disc pl-5">
+              <li>
+                Objective = the sum of the priorities (priority points) of the workers the weekly plan makes ready
+                inside the horizon; the value in the runs list counts only those ready after placing sessions.
+              </li>
+              <li>
+                The bound is proven: no plan can do better than it, so the gap = (bound − objective) ÷ bound says how
+                far from the best possible this plan can at most be.
+              </li>
+              <li>
+                "One more hour … is worth" comes from the solver's dual prices (shadow prices of the capacity rows):
+                first-order estimates, good for comparing resources, not exact promises.
+              </li>
+            </ul>
+          </details>
+
+          <section aria-labelledby="binding" className="card grid gap-2">
+            <h2 id="binding" className="text-lg font-semibold">
+              What limits the plan
+            </h2>
+            {result.status === "infeasible" ? (
+              <p>
+                No plan meets the run's conditions (see the reason above). Lower the fairness share, lengthen the
+                horizon or add capacity, then start a new run.
+              </p>
+            ) : result.binding.length === 0 ? (
+              <p>
+                No device or trainer time binds: every worker in the pool who can be made ready is ready. Extra capacity
+                would not change this plan.
+              </p>
+            ) : (
+              <div data-testid="binding-resources">
+                <ul className="list-disc pl-5">
+                  {result.binding.slice(0, 5).map((b) => (
+                    <li key={b}>{b}</li>
+                  ))}
+                </ul>
+                {result.binding.length > 5 && (
+                  <details className="mt-1">
+                    <summary className="cursor-pointer text-sm text-spruce-700">
+                      {result.binding.length - 5} more, week by week
+                    </summary>
+                    <ul className="list-disc pl-5 text-sm">
+                      {result.binding.slice(5).map((b) => (
+                        <li key={b}>{b}</li>
+                      ))}
+                    </ul>
+                  </details>
+                )}
+              </div>
+            )}
+            <p className="text-sm text-ink-soft">
+              What one more hour of a resource is worth is an estimate, good for comparing resources, not a promise.
+            </p>
+          </section>
+
+          <section aria-labelledby="plan" className="grid gap-2">
+            <h2 id="plan" className="text-lg font-semibold">
+              Per-worker plan ({rows.length})
+            </h2>
+            {rows.length ? (
+              <PlanTable rows={rows} />
+            ) : (
+              <p className="text-ink-soft">Nobody can be made ready in this horizon.</p>
+            )}
+          </section>
+
+          {unassigned.length > 0 && (
+            <section aria-labelledby="unassigned" className="card grid gap-2">
+              <h2 id="unassigned" className="text-lg font-semibold">
+                Not ready in this horizon ({unassigned.length})
+              </h2>
+              <ul className="grid gap-1 text-sm" data-testid="unassigned">
+                {unassigned.map((u) => (
+                  <li key={u.employeeNumber + u.name}>
+                    <strong>
+                      {u.employeeNumber} · {u.name}
+                    </strong>
+                    : {u.reason}
+                  </li>
+                ))}
+              </ul>
+            </section>
+          )}
+
+          <section aria-labelledby="capacity" className="grid gap-3">
+            <h2 id="capacity" className="text-lg font-semibold">
+              Capacity use per week
+            </h2>
+            <CapacityExplorer resources={usage} />
           </section>
         </>
       )}

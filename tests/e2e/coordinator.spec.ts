@@ -26,7 +26,13 @@ test("coordinator runs, compares and publishes an allocation; workers and traine
   const result = page.getByRole("heading", { name: "Result" });
   await expect(progress.or(result).first()).toBeVisible();
   await expect(result).toBeVisible({ timeout: 60_000 });
+  await expect(page.getByTestId("decision")).toContainText("people in the pool can be ready within 6 weeks");
   await expect(page.getByTestId("run-summary")).toContainText("Proven bound");
+  // One capacity chart with a selector: choosing another resource redraws it with that resource's title.
+  const select = page.getByTestId("capacity-select");
+  const second = await select.locator("option").nth(1).getAttribute("value");
+  await select.selectOption(second!);
+  await expect(page.locator("figure figcaption").first()).toContainText(second!.split("|")[1]);
   await expect(page.getByRole("heading", { name: "What limits the plan" })).toBeVisible();
   await expect(page.getByTestId("plan-table")).toBeVisible();
   await expect(page.getByRole("complementary", { name: "Device safety cautions" })).toBeVisible();
