@@ -260,18 +260,27 @@ export async function writeProgress(
   return n === 1;
 }
 
-export async function markDone(id: number, instanceId: string, plan: AllocationPlan, k: Db = db()): Promise<boolean> {
+/** Ready after placement / pool and value for the runs list; a run is marked done even if this cannot be made. */
+async function summaryFor(id: number, plan: AllocationPlan, k: Db): Promise<RunSummary | null> {
   const stored = await k("allocation_runs").where({ id }).first("problem");
   const snap: ProblemSnapshot | null = stored?.problem ? JSON.parse(stored.problem) : null;
-  const summary = snap
-    ? runSummary(
-        snap.calendar,
-        snap.commitments ?? [],
-        plan,
-        new Map(snap.problem.workers.map((w) => [w.id, w.priority])),
-        snap.problem.workers.length,
-      )
-    : null;
+  if (!snap?.calendar?.devices || !snap.problem?.workers) return null;
+  try {
+    return runSummary(
+      snap.calendar,
+      snap.commitments ?? [],
+      plan,
+      new Map(snap.problem.workers.map((w) => [w.id, w.priority])),
+      snap.problem.workers.length,
+    );
+  } catch (e) {
+    console.error(`allocation run ${id}: no summary for the runs list`, e);
+    return null;
+  }
+}
+
+export async function markDone(id: number, instanceId: string, plan: AllocationPlan, k: Db = db()): Promise<boolean> {
+  const summary = await summaryFor(id, plan, k);
   const n = await owned(k, id, instanceId).update({
     status: "done",
     phase: "done",
