@@ -80,11 +80,7 @@ export function ProtectedTableView(props: ProtectedTableViewProps) {
         className="relative hidden rounded-md border border-line sm:block print:block"
         aria-labelledby={`${id}-caption`}
       >
-        <table
-          className="table-base"
-          data-testid={id}
-          aria-describedby={anyHidden ? `${id}-legend` : undefined}
-        >
+        <table className="table-base" data-testid={id} aria-describedby={anyHidden ? `${id}-legend` : undefined}>
           <caption id={`${id}-caption`} className="px-3 py-2 text-left font-semibold text-ink">
             {caption}
           </caption>
