@@ -1,14 +1,14 @@
 // One allocation solve off the main thread: a worker_threads Worker runs the pure solver, so the server keeps
 // answering (progress polling and heartbeats included) while javascript-lp-solver works.
 //
-// Where the worker code comes from: see workerTarget (app/jobs/allocation-worker.ts is imported below, so
+// Where the worker code comes from: see startWorker (app/jobs/allocation-worker.ts is imported below, so
 // it is inside the built bundle). If a Worker cannot be started at all, the solve runs in-process after
 // yielding to the event loop (the result is the same; the solver is deterministic), and the progress phase
 // says so.
-import { Worker } from "node:worker_threads";
+import type { Worker } from "node:worker_threads";
 import { type AllocationPlan, type AllocationProblem, solveAllocation } from "~/compute/allocation";
 import { ALLOCATION_JOB, type WorkerMessage } from "./allocation-worker";
-import { workerTarget } from "./worker-target.server";
+import { startWorker } from "./worker-target.server";
 
 export const SOLVE_TIME_LIMIT_MS = 30_000;
 
@@ -47,10 +47,8 @@ function solveOnThread(
     }
     let worker: Worker;
     try {
-      const target = workerTarget(import.meta.url, "allocation-worker.ts");
-      worker = new Worker(target.file, {
+      worker = startWorker(import.meta.url, "allocation-worker.ts", {
         workerData: { limberlyJob: ALLOCATION_JOB, problem, timeLimitMs: SOLVE_TIME_LIMIT_MS },
-        execArgv: target.execArgv,
       });
     } catch (e) {
       reject(new WorkerUnavailable(e instanceof Error ? e.message : String(e)));

@@ -3,11 +3,10 @@
 // the server's responsiveness; the worker is stopped at the limit and the upload refused with a message
 // naming it. At most MAX_READS_AT_ONCE files are read at once; a deployment holds one organisation, so this
 // is the organisation's cap on this instance, and a further upload is refused with 429 until one finishes.
-import { Worker } from "node:worker_threads";
 import { UserError } from "~/errors";
 import type { RosterTable } from "~/models/roster-file.server";
 import { UPLOAD_READ_JOB, type UploadReadMessage } from "./upload-read-worker";
-import { workerTarget } from "./worker-target.server";
+import { startWorker } from "./worker-target.server";
 
 export const READ_TIME_LIMIT_MS = 30_000;
 /** The worker's V8 heap (old generation); the built server's own code takes some 60 MB of it. */
@@ -44,10 +43,8 @@ export function readRosterFileOffThread(
   const timeLimitMs = limits.timeLimitMs ?? READ_TIME_LIMIT_MS;
   const heapLimitMb = limits.heapLimitMb ?? READ_HEAP_LIMIT_MB;
   return new Promise((resolve, reject) => {
-    const target = workerTarget(import.meta.url, "upload-read-worker.ts");
-    const worker = new Worker(target.file, {
+    const worker = startWorker(import.meta.url, "upload-read-worker.ts", {
       workerData: { limberlyJob: UPLOAD_READ_JOB, filename, bytes },
-      execArgv: target.execArgv,
       resourceLimits: { maxOldGenerationSizeMb: heapLimitMb, maxYoungGenerationSizeMb: 32 },
     });
     let settled = false;
@@ -87,6 +84,8 @@ export function readRosterFileOffThread(
         ),
       ),
     );
-    worker.on("exit", (code) => finish(() => reject(new Error(`The upload-reading thread ended early (exit ${code}).`))));
+    worker.on("exit", (code) =>
+      finish(() => reject(new Error(`The upload-reading thread ended early (exit ${code}).`))),
+    );
   });
 }
