@@ -83,8 +83,8 @@ export function xlsxResponse(buffer: Buffer, filename: string): Response {
 
 /**
  * One sheet written while its rows are read: exceljs's streaming writer (inline strings, each row committed
- * as it is added) into the response body, one page of rows at a time. When the client reads slower than the
- * rows come, the next page waits until the body has drained, so memory stays flat whatever the row count.
+ * as it is added) into the response body, one page of rows at a time. The next page waits until the last one
+ * has been zipped and the body has drained (the client reads slower), so memory stays flat whatever the row count.
  * A client that goes away stops the reading.
  */
 export function streamedXlsxResponse(
@@ -101,13 +101,35 @@ export function streamedXlsxResponse(
     for await (const page of spec.pages) {
       if (out.destroyed) return;
       for (const r of page) addSafeRow(ws, spec.columns, r).commit();
-      if (out.writableNeedDrain) await once(out, "drain");
+      await drained(ws, out);
     }
     ws.commit();
     await wb.commit();
   })().catch((e: unknown) => out.destroy(e instanceof Error ? e : new Error(String(e))));
   return new Response(Readable.toWeb(out) as ReadableStream<Uint8Array>, { headers: xlsxHeaders(filename) });
 }
+
+/**
+ * Waits until the committed rows have moved on. exceljs's sheet stream hands its data to the zip archiver
+ * without waiting (exceljs 4.4 internals: the sheet's `stream.pipes[0]`), so the rows would pile up in front
+ * of the deflate step; waiting for that pipe (and for the response body) to drain keeps the backlog to one page.
+ */
+async function drained(ws: ExcelJS.Worksheet, out: PassThrough) {
+  const pipe = (ws as unknown as { stream?: { pipes?: (NodeJS.EventEmitter & WithState)[] } }).stream?.pipes?.[0];
+  const waiting = () => !out.destroyed && (pipe?._writableState?.needDrain || out.writableNeedDrain);
+  if (!waiting()) return;
+  const stop = new AbortController();
+  const closed = once(out, "close", { signal: stop.signal }).catch(() => undefined);
+  try {
+    while (waiting()) {
+      const target = pipe?._writableState?.needDrain ? pipe : out;
+      await Promise.race([once(target, "drain", { signal: stop.signal }).catch(() => undefined), closed]);
+    }
+  } finally {
+    stop.abort();
+  }
+}
+type WithState = { _writableState?: { needDrain?: boolean } };
 
 // ── Uploaded workbooks: zip limits ─────────────────────────────────────────────────────────────────
 // An XLSX file is a zip archive. Its central directory states each entry's packed and unpacked size, so an
