@@ -260,30 +260,29 @@ export async function verifyXlsxEntries(bytes: Uint8Array): Promise<void> {
 }
 
 /**
- * The first sheet's rows as cell values, read with exceljs's streaming reader (rows are not kept by the
- * reader); stops with `tooMany` at a row numbered past `maxRows`.
+ * The first sheet's rows as cell values (1-based rows, empty ones included), or `tooMany` when it has more
+ * than `maxRows` rows with values. exceljs's whole-workbook reader, run inside the upload-reading worker, so
+ * its memory is bounded by that worker's heap limit. Its streaming reader is not used: it spools every sheet
+ * that comes before the shared strings in the archive (as in files saved by Excel and by exceljs itself) to
+ * a temporary file, and roster data is not to be written to the server's disks.
  */
 export async function readFirstSheetRows(
   bytes: Uint8Array,
   maxRows: number,
   tooMany: () => Error,
 ): Promise<ExcelJS.CellValue[][]> {
-  const reader = new ExcelJS.stream.xlsx.WorkbookReader(Readable.from([Buffer.from(bytes)]), {
-    sharedStrings: "cache",
-    hyperlinks: "ignore",
-    styles: "cache", // date cells come back as dates
-    worksheets: "emit",
-    entries: "ignore",
-  });
-  const rows: ExcelJS.CellValue[][] = [];
-  for await (const sheet of reader) {
-    for await (const row of sheet) {
-      // Rows are 1-based and empty ones are skipped: pad, so that issues name the sheet's own row numbers.
-      if (row.number > maxRows) throw tooMany();
-      while (rows.length < row.number - 1) rows.push([]);
-      rows.push((row.values as ExcelJS.CellValue[]).slice(1));
-    }
-    break; // the first sheet only
+  const wb = new ExcelJS.Workbook();
+  try {
+    await wb.xlsx.load(Buffer.from(bytes) as unknown as ArrayBuffer);
+  } catch {
+    throw new UserError(UNREADABLE_XLSX);
   }
+  const ws = wb.worksheets[0];
+  if (!ws) throw new UserError("The workbook has no sheet.");
+  if (ws.actualRowCount > maxRows) throw tooMany();
+  const rows: ExcelJS.CellValue[][] = [];
+  ws.eachRow({ includeEmpty: true }, (row) => {
+    rows.push((row.values as ExcelJS.CellValue[]).slice(1)); // exceljs rows are 1-based
+  });
   return rows;
 }

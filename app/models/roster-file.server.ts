@@ -41,7 +41,7 @@ function cellText(v: ExcelJS.CellValue): string {
 const tooMany = (maxRows: number, what: string) =>
   new RosterFileError(`The ${what} has more than ${maxRows} data rows, the most one import takes; split the file.`);
 
-/** Reads CSV (streamed through csv-parse) or XLSX (exceljs's streaming reader, first sheet); stops past the row cap. */
+/** Reads CSV (streamed through csv-parse, stops past the row cap) or XLSX (first sheet, after verifying its entries). */
 export async function readRosterFile(
   filename: string,
   bytes: Uint8Array,

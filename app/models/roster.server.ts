@@ -423,7 +423,7 @@ export const ROSTER_EXPORT_COLUMNS = [
  * one page at a time in employee-number order (keyset paging on the unique number), so that an export of
  * any size holds only a page in memory.
  */
-export async function* rosterExportPages(scope: Scope, pageSize = 2000): AsyncGenerator<Record<string, unknown>[]> {
+export async function* rosterExportPages(scope: Scope, pageSize = 1000): AsyncGenerator<Record<string, unknown>[]> {
   let after: string | null = null;
   for (;;) {
     const q = db()("workers")
