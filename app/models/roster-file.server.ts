@@ -6,8 +6,9 @@ import { UserError } from "~/errors";
 import { MAX_ROSTER_ROWS } from "~/schemas/roster";
 import { readFirstSheetRows, UNREADABLE_XLSX, unescapeCellText, verifyXlsxEntries } from "~/xlsx.server";
 
-// Reading an uploaded roster file into a table of strings. No database: this runs in the upload-reading
-// worker thread (app/jobs/upload-read.server.ts), after the request checked the XLSX zip directory.
+// Reading an uploaded roster file into a table of strings. No database: a workbook is read in the
+// upload-reading worker thread (app/jobs/upload-read.server.ts), after the request checked its zip directory;
+// CSV is read on the request thread in chunks.
 
 /** A UserError (400); routes not yet on formAction still tell it apart by name. */
 export class RosterFileError extends UserError {
@@ -38,6 +39,8 @@ function cellText(v: ExcelJS.CellValue): string {
   return String(v);
 }
 
+const CHUNK = 64 * 1024;
+
 const tooMany = (maxRows: number, what: string) =>
   new RosterFileError(`The ${what} has more than ${maxRows} data rows, the most one import takes; split the file.`);
 
@@ -59,7 +62,11 @@ export async function readRosterFile(
     }
     rows = cells.map((r) => Array.from(r, (v) => unescapeCellText(cellText(v).trim())));
   } else {
-    const parser = Readable.from([Buffer.from(bytes)]).pipe(
+    // 64 kB chunks, so that parsing a large file yields to other requests between them.
+    const chunks = Array.from({ length: Math.ceil(bytes.byteLength / CHUNK) }, (_, i) =>
+      Buffer.from(bytes.buffer, bytes.byteOffset + i * CHUNK, Math.min(CHUNK, bytes.byteLength - i * CHUNK)),
+    );
+    const parser = Readable.from(chunks).pipe(
       parseCsv({ bom: true, relax_column_count: true, skip_empty_lines: true, trim: true }),
     );
     try {

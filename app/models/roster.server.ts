@@ -21,7 +21,7 @@ import { checkXlsxArchive } from "~/xlsx.server";
 import { type ConsentState, consentStates } from "./consent.server";
 import { isUniqueViolation } from "./locks.server";
 import { paged } from "./paging.server";
-import { isXlsx } from "./roster-file.server";
+import { isXlsx, readRosterFile } from "./roster-file.server";
 import { viewerTimeZone } from "./sites.server";
 import { whereWorkerInScope } from "./workers.server";
 
@@ -51,10 +51,14 @@ export async function saveRosterUpload(
   filename: string,
   bytes: Uint8Array,
 ): Promise<number> {
-  // A workbook's zip directory is checked here, before anything is inflated; the file is then parsed in a
-  // worker thread within time and memory limits, in one of the organisation's reading slots.
-  if (isXlsx(filename, bytes)) await checkXlsxArchive(bytes);
-  const table = await withUploadReadSlot(() => readRosterFileOffThread(filename, bytes));
+  // A workbook's zip directory is checked here, before anything is inflated; the workbook is then parsed in
+  // a worker thread within time and memory limits. CSV (no compression, capped in size and rows) is parsed
+  // here in small chunks. Either way in one of the organisation's reading slots.
+  const xlsx = isXlsx(filename, bytes);
+  if (xlsx) await checkXlsxArchive(bytes);
+  const table = await withUploadReadSlot(() =>
+    xlsx ? readRosterFileOffThread(filename, bytes) : readRosterFile(filename, bytes),
+  );
   const [r] = await db()("roster_imports")
     .insert({
       filename: filename.slice(0, 255),
