@@ -185,9 +185,9 @@ export const UNREADABLE_XLSX = "The file is not a readable XLSX workbook. Save i
 
 /**
  * Checks an uploaded workbook's zip directory against XLSX_LIMITS without inflating anything; throws a
- * UserError (413) naming the limit. Returns the directory's unpacked size per entry name.
+ * UserError (413) naming the limit.
  */
-export async function checkXlsxArchive(bytes: Uint8Array): Promise<Map<string, number>> {
+export async function checkXlsxArchive(bytes: Uint8Array): Promise<void> {
   let zip: yauzl.ZipFile;
   try {
     zip = await openZip(bytes);
@@ -202,13 +202,11 @@ export async function checkXlsxArchive(bytes: Uint8Array): Promise<Map<string, n
       { status: 413 },
     );
   }
-  const sizes = new Map<string, number>();
   let total = 0;
   let worst: { name: string; ratio: number } | null = null;
   try {
     await walkEntries(zip, (e) => {
       total += e.uncompressedSize;
-      sizes.set(e.fileName, e.uncompressedSize);
       const ratio = e.uncompressedSize / Math.max(1, e.compressedSize);
       if (e.uncompressedSize > L.ratioFloorBytes && ratio > L.maxRatio && (!worst || ratio > worst.ratio))
         worst = { name: e.fileName, ratio };
@@ -228,7 +226,6 @@ export async function checkXlsxArchive(bytes: Uint8Array): Promise<Map<string, n
       `The workbook's entry ${w.name} expands ${Math.round(w.ratio).toLocaleString("en")} times its packed size; the most accepted is ${L.maxRatio} times, so it is refused as a possible zip bomb. Save the sheet again or as CSV. ${NOTHING_SAVED}`,
       { status: 413 },
     );
-  return sizes;
 }
 
 /**
