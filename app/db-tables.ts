@@ -80,6 +80,7 @@ declare module "knex/types/tables" {
         claimed_by: string | null;
         heartbeat_at: string | null;
         attempts: number;
+        summary: string | null;
       },
       "id" | "status" | "fraction" | "version" | "attempts"
     >;
