@@ -217,7 +217,7 @@ export async function buildProblem(params: RunParameters, scope: Scope, k: Db = 
     courses.push(
       ...(await k("device_courses")
         .whereIn("worker_id", chunk)
-        .select("worker_id", "device_type_id", "status")
+        .select("worker_id", "device_type_id", "status", "wear_time_limit_minutes")
         .orderBy(["worker_id", "device_type_id", "id"])),
     );
     fields.push(
@@ -261,7 +261,9 @@ export async function buildProblem(params: RunParameters, scope: Scope, k: Db = 
     const mine = forecasts.filter(
       (f) =>
         f.worker_id === w.id &&
-        !mineCourses.some((c) => c.device_type_id === f.device_type_id && c.status === "proficient"),
+        !mineCourses.some(
+          (c) => c.device_type_id === f.device_type_id && (c.status === "proficient" || c.status === "stopped"),
+        ),
     );
     if (mine.length === 0) {
       excluded.push({ workerId: w.id, name, reason: "No forecast from an approved model yet." });
@@ -300,6 +302,15 @@ export async function buildProblem(params: RunParameters, scope: Scope, k: Db = 
       maxHoursPerWeek,
       ...(availableWeeks.length < weeks ? { availableWeeks } : {}),
     });
+    // A stricter wear-time limit an assessor set for this worker on a device type (on resuming a paused course).
+    const wearTimeLimits = Object.fromEntries(
+      mineCourses
+        .filter((c) => c.wear_time_limit_minutes != null)
+        .flatMap((c) => {
+          const dt = deviceTypes.find((d) => d.id === c.device_type_id);
+          return dt ? [[deviceId(dt.name, site), Number(c.wear_time_limit_minutes)]] : [];
+        }),
+    );
     calendarWorkers.push({
       id: wid,
       workerId: w.id,
@@ -310,11 +321,16 @@ export async function buildProblem(params: RunParameters, scope: Scope, k: Db = 
       site,
       maxHoursPerWeek,
       unavailableDates: leaveDates,
+      ...(Object.keys(wearTimeLimits).length ? { wearTimeLimits } : {}),
     });
   }
   notes.push(
     `Hours needed = the forecast's ${Math.round(params.planningQuantile * 100)}th percentile of total hours (from the approved model version), less hours already logged.`,
   );
+  if (calendarWorkers.some((w) => w.wearTimeLimits))
+    notes.push(
+      "Session length = at most the device type's wear-time limit, or the lower limit an assessor set for a worker on resuming a paused course.",
+    );
   notes.push(
     "Max hours per week = the coordinator's setting for the worker, else the strictest default among the device types that fit them. A week with leave on a working day is not available.",
   );

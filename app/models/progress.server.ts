@@ -5,6 +5,7 @@ import { curvePoints } from "~/compute/progress-update";
 import { type Db, db } from "~/db.server";
 import { UserError } from "~/errors";
 import { latestConsent } from "./consent.server";
+import { effectiveWearLimit } from "./course-reviews.server";
 import { loggedSessions, recordOutcome, type UpsertResult, upsertForecast, workerInScope } from "./forecast.server";
 import { getCriterion } from "./proficiency.server";
 import { whereWorkerInScope } from "./workers.server";
@@ -41,6 +42,8 @@ export interface LogSessionResult {
   proficient: boolean;
   proficientOn: string | null;
   forecast: UpsertResult;
+  /** The session ran over the worker's wear-time limit (saved all the same, with a safety finding). */
+  wearTimeBreach: { minutes: number; limitMinutes: number } | null;
 }
 
 export async function logSessionResult(input: LogSessionInput, k?: Db): Promise<LogSessionResult> {
@@ -57,12 +60,6 @@ export async function logSessionResult(input: LogSessionInput, k?: Db): Promise<
       throw new SessionLogError("This worker has withdrawn; sessions can no longer be logged.");
     const device = await trx("device_types").where({ id: input.deviceTypeId }).first("id", "wear_time_limit_minutes");
     if (!device) throw new SessionLogError("That device type does not exist.");
-    if (input.durationHours * 60 > Number(device.wear_time_limit_minutes) + 1e-9) {
-      throw new SessionLogError(
-        `Practice time exceeds this device's wear-time limit of ${device.wear_time_limit_minutes} minutes per session; log separate sessions with breaks.`,
-        "durationHours",
-      );
-    }
     let course = await trx("device_courses")
       .where({ worker_id: input.workerId, device_type_id: input.deviceTypeId })
       .first();
@@ -76,6 +73,11 @@ export async function logSessionResult(input: LogSessionInput, k?: Db): Promise<
       throw new SessionLogError(
         `This course is paused${course.pause_reason ? ` (${course.pause_reason})` : ""}; resume it before logging sessions.`,
       );
+    // A session longer than the wear-time limit still happened: it is saved (with any adverse event) and the
+    // breach is kept as a safety finding for the assessors, never a reason to refuse the log.
+    const limit = effectiveWearLimit(Number(device.wear_time_limit_minutes), course?.wear_time_limit_minutes);
+    const minutes = Math.round(input.durationHours * 60 * 10) / 10;
+    const wearTimeBreach = minutes > limit + 1e-9 ? { minutes, limitMinutes: limit } : null;
     if (!course) {
       const [c] = await trx("device_courses")
         .insert({
@@ -121,6 +123,16 @@ export async function logSessionResult(input: LogSessionInput, k?: Db): Promise<
         .returning("id");
       sessionId = s.id;
     }
+    if (wearTimeBreach)
+      await trx("safety_findings").insert({
+        worker_id: input.workerId,
+        device_type_id: input.deviceTypeId,
+        session_id: sessionId,
+        kind: "wear_time_breach",
+        detail: `Session of ${minutes} minutes, over the wear-time limit of ${limit} minutes${course.wear_time_limit_minutes != null && Number(course.wear_time_limit_minutes) === limit ? " set for this worker" : " of this device type"}.`,
+        recorded_by: input.loggedBy,
+        raised_at: at,
+      });
     await trx("device_courses")
       .where({ id: course.id })
       .update({
@@ -164,7 +176,7 @@ export async function logSessionResult(input: LogSessionInput, k?: Db): Promise<
       }
     }
     const forecast = await upsertForecast(trx, input.workerId, input.deviceTypeId, { actor: input.loggedBy, now: at });
-    return { sessionId, cumulativeHours, proficient, proficientOn: proficient ? day : null, forecast };
+    return { sessionId, cumulativeHours, proficient, proficientOn: proficient ? day : null, forecast, wearTimeBreach };
   };
   return k ? run(k) : db().transaction(run);
 }

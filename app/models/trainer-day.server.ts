@@ -12,6 +12,7 @@ import { conflict } from "~/errors";
 import type { TrainerLogInput } from "~/schemas/session-log";
 import { adverseEventsFrom } from "~/schemas/session-log";
 import { eventsForSessions, notifyAssessorsOfSevereEvents, recordAdverseEvents } from "./adverse-events.server";
+import { courseReviewStatus, effectiveWearLimit } from "./course-reviews.server";
 import { logSessionResult, SessionLogError } from "./progress.server";
 
 // The trainer's day: sessions on the trainer's own schedule only. Every function here takes the
@@ -89,6 +90,7 @@ function sessionQuery(k: Db, trainerId: number) {
       "ts.duration_hours",
       "c.status as course_status",
       "c.pause_reason",
+      "c.wear_time_limit_minutes as own_wear_limit",
     );
 }
 
@@ -110,7 +112,7 @@ function toSession(r: Row): ScheduledSession {
     durationHours: r.duration_hours == null ? null : Number(r.duration_hours),
     courseStatus: r.course_status ?? null,
     pauseReason: r.pause_reason ?? null,
-    wearTimeLimitMinutes: Number(r.wear_time_limit_minutes),
+    wearTimeLimitMinutes: effectiveWearLimit(Number(r.wear_time_limit_minutes), r.own_wear_limit),
   };
 }
 
@@ -154,7 +156,11 @@ export async function trainerSession(trainerId: number, sessionId: number, k: Db
   const r = await sessionQuery(k, trainerId).where("ts.id", sessionId).first();
   if (!r) return null;
   const s = toSession(r);
-  return { ...s, events: await eventsForSessions([s.id], k) };
+  return {
+    ...s,
+    events: await eventsForSessions([s.id], k),
+    review: await courseReviewStatus(s.workerId, s.deviceTypeId, k),
+  };
 }
 
 export async function markNoShow(trainerId: number, sessionId: number, userId: number): Promise<void> {
@@ -175,6 +181,8 @@ export interface TrainerLogResult {
   eventCount: number;
   paused: boolean;
   notified: string[];
+  /** Saved over the wear-time limit: the breach is a safety finding the assessors see. */
+  wearTimeBreach: { minutes: number; limitMinutes: number } | null;
 }
 
 /**
@@ -251,5 +259,6 @@ export async function logTrainerSession(input: {
     eventCount: done.ev.count,
     paused: done.ev.paused,
     notified,
+    wearTimeBreach: done.r.wearTimeBreach,
   };
 }

@@ -80,11 +80,14 @@ export async function action({ request, params }: Route.ActionArgs) {
       r.forecast.status === "ready" && r.forecast.progress?.remainingHours != null
         ? ` About ${r.forecast.progress.remainingHours.toFixed(1)} h to go.`
         : "";
+    const breach = r.wearTimeBreach
+      ? ` It ran ${r.wearTimeBreach.minutes} minutes, over the wear-time limit of ${r.wearTimeBreach.limitMinutes} minutes: saved as logged, and the breach is recorded as a safety finding for the assessors.`
+      : "";
     return {
       errors: null,
       done: r.proficient
-        ? `Session logged. The criterion is met: proficient on ${r.proficientOn} after ${r.cumulativeHours.toFixed(1)} h.`
-        : `Session logged: ${r.cumulativeHours.toFixed(1)} h so far.${f}`,
+        ? `Session logged. The criterion is met: proficient on ${r.proficientOn} after ${r.cumulativeHours.toFixed(1)} h.${breach}`
+        : `Session logged: ${r.cumulativeHours.toFixed(1)} h so far.${f}${breach}`,
     };
   } catch (e) {
     if (e instanceof SessionLogError)

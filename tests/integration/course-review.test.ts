@@ -1,0 +1,249 @@
+import { describe, expect, inject, it } from "vitest";
+import { packSessions } from "~/compute/session-packing";
+import { buildProblem } from "~/models/allocation-problem.server";
+import { runParametersSchema } from "~/schemas/allocation";
+import { readOutbox } from "../../scripts/smtp-catcher";
+import { PERSONA, signIn, testDb } from "./helpers";
+
+// A severe adverse event in a session over the wear-time limit, the assessor's review of the paused course
+// and its decision, through the app's own routes against the running stack (real SMTP catcher). The test
+// picks a trainee of Ines Calloway's without a portal account, so the portal tests' workers are untouched.
+const k = testDb();
+const outbox = () => readOutbox(inject("outboxDir"));
+const local = (d: Date) => d.toISOString().slice(0, 16);
+
+async function pickTrainee() {
+  const ines = await k("trainers as t")
+    .join("users as u", "u.id", "t.user_id")
+    .where("u.email", PERSONA.trainer)
+    .first("t.id", "t.site_id");
+  const row = await k("device_courses as c")
+    .join("workers as w", "w.id", "c.worker_id")
+    .join("trainer_certifications as tc", function () {
+      this.on("tc.device_type_id", "c.device_type_id").andOn("tc.trainer_id", k.raw("?", [ines.id]));
+    })
+    .join("forecasts as f", function () {
+      this.on("f.worker_id", "c.worker_id").andOn("f.device_type_id", "c.device_type_id");
+    })
+    .where("c.status", "training")
+    .where("w.site_id", ines.site_id)
+    .whereNull("w.user_id")
+    .whereNotNull("w.email")
+    .whereNot("w.stage", "withdrawn")
+    .select("w.id", "w.employee_number", "w.email", "w.site_id", "w.department_id", "c.device_type_id")
+    .orderBy("w.employee_number", "desc")
+    .first();
+  expect(row, "a trainee of Ines's with a forecast and no portal account").toBeTruthy();
+  const device = await k("device_types")
+    .where({ id: row.device_type_id })
+    .first("id", "name", "wear_time_limit_minutes");
+  return { trainerId: ines.id as number, w: row, device };
+}
+
+async function schedule(workerId: number, deviceTypeId: number, trainerId: number, start: Date, minutes: number) {
+  const [r] = await k("training_sessions")
+    .insert({
+      worker_id: workerId,
+      device_type_id: deviceTypeId,
+      trainer_id: trainerId,
+      scheduled_start: local(start),
+      scheduled_end: local(new Date(start.getTime() + minutes * 60_000)),
+      status: "scheduled",
+      created_at: new Date().toISOString(),
+    })
+    .returning("id");
+  return r.id as number;
+}
+
+const emailsOf = async (role: string, w: { site_id: number; department_id: number }) =>
+  (
+    await k("role_assignments as a")
+      .join("users as u", "u.id", "a.user_id")
+      .where("a.role", role)
+      .where("u.active", true)
+      .where((q) =>
+        q
+          .where((o) => o.whereNull("a.site_id").whereNull("a.department_id"))
+          .orWhere("a.site_id", w.site_id)
+          .orWhere("a.department_id", w.department_id),
+      )
+      .distinct("u.email")
+  )
+    .map((r) => r.email as string)
+    .sort();
+
+describe("a paused course is reviewed and resumed", () => {
+  it("saves a severe event over the wear-time limit with the breach as its own finding; only an assessor resumes; the worker returns to the pool under the lower limit", async () => {
+    const { trainerId, w, device } = await pickTrainee();
+    const limit = Number(device.wear_time_limit_minutes);
+    const start = new Date(Date.now() - 3 * 3_600_000);
+    start.setUTCSeconds(0, 0);
+    const s1 = await schedule(w.id, device.id, trainerId, start, 30);
+    const later = new Date(Date.now() + 48 * 3_600_000);
+    later.setUTCSeconds(0, 0);
+    const s2 = await schedule(w.id, device.id, trainerId, later, 30);
+    const trainer = (await signIn(PERSONA.trainer)).client;
+
+    // Over the limit, with a severe event: saved whole, the breach flagged, the trainer told what was saved.
+    const logged = await trainer.postForm(`/train/sessions/${s1}`, {
+      intent: "log",
+      start: local(start),
+      end: local(new Date(start.getTime() + (limit + 15) * 60_000)),
+      taskScore: "0.55",
+      ae_pain: "severe",
+      ae_pain_notes: "Sharp pain in the forearm; strap loosened, session ended.",
+    });
+    const text = (await logged.text()).replace(/<!-- -->/g, "");
+    expect(logged.status).toBe(200);
+    expect(text).toContain("Session saved");
+    expect(text).toContain(`It ran ${limit + 15} minutes, over the wear-time limit of ${limit} minutes`);
+    expect(text).toContain("Training is paused");
+    const session = await k("training_sessions").where({ id: s1 }).first();
+    expect(session.status).toBe("attended");
+    expect(Number(session.duration_hours) * 60).toBeCloseTo(limit + 15, 6);
+    expect((await k("adverse_events").where({ session_id: s1 })).map((e) => [e.kind, e.severity])).toEqual([
+      ["pain", "severe"],
+    ]);
+    const findings = await k("safety_findings").where({ session_id: s1 });
+    expect(findings.map((f) => f.kind)).toEqual(["wear_time_breach"]);
+    expect(findings[0].detail).toContain(`${limit + 15} minutes`);
+    expect((await k("device_courses").where({ worker_id: w.id, device_type_id: device.id }).first()).status).toBe(
+      "paused",
+    );
+    const reviewUrl = `/assess/workers/${w.id}/courses/${device.id}`;
+    const pauseMail = outbox().find(
+      (m) =>
+        m.subject === `Training paused: severe adverse event for ${w.employee_number}` && m.text.includes("Sharp pain"),
+    );
+    expect(pauseMail?.text).toContain(reviewUrl);
+
+    // The trainer can neither open the review nor decide.
+    expect((await trainer.request(reviewUrl)).status).toBe(403);
+    const refused = await trainer.postForm(reviewUrl, {
+      intent: "decide",
+      decision: "resume",
+      clinicalNote: "Trainer trying to resume the course.",
+    });
+    expect(refused.status).toBe(403);
+    expect(await k("course_reviews").where({ worker_id: w.id })).toEqual([]);
+
+    // The assessor's view: the event, the finding and the session log together, recorded in the access log.
+    const assessor = (await signIn(PERSONA.assessor)).client;
+    const me = await k("users").where({ email: PERSONA.assessor }).first("id");
+    const page = (await (await assessor.request(reviewUrl)).text()).replace(/<!-- -->/g, "");
+    expect(page).toContain("Paused: waiting for your decision");
+    expect(page).toContain("Sharp pain in the forearm");
+    expect(page).toContain("Wear-time breach");
+    expect(page).toContain(`${limit + 15} min`);
+    expect(page).toContain('data-testid="session-log"');
+    const record = await (await assessor.request(`/assess/workers/${w.id}`)).text();
+    expect(record).toContain(`href="${reviewUrl}"`);
+    expect(
+      await k("access_log").where({ worker_id: w.id, actor_user_id: me.id, resource: "sessions" }).first(),
+    ).toBeTruthy();
+
+    // Bad input names the fields; nothing is written.
+    const bad = await assessor.postForm(reviewUrl, {
+      intent: "decide",
+      decision: "resume_with_conditions",
+      clinicalNote: "ok",
+    });
+    expect(bad.status).toBe(400);
+    const badText = await bad.text();
+    expect(badText).toContain("Clinical note: describe what you reviewed");
+    expect(badText).toContain("Wear-time limit: set a lower limit for this worker");
+    const tooHigh = await assessor.postForm(reviewUrl, {
+      intent: "decide",
+      decision: "resume_with_conditions",
+      wearTimeLimitMinutes: String(limit),
+      clinicalNote: "Fit checked, strap replaced; shorter sessions for two weeks.",
+    });
+    expect(tooHigh.status).toBe(400);
+    expect(await tooHigh.text()).toContain(`must be below the ${device.name}'s own limit of ${limit} minutes`);
+    expect(await k("course_reviews").where({ worker_id: w.id })).toEqual([]);
+
+    // Resume with a lower limit.
+    const own = Math.max(5, Math.floor(limit / 3));
+    const mailsBefore = outbox().length;
+    const decided = await assessor.postForm(reviewUrl, {
+      intent: "decide",
+      decision: "resume_with_conditions",
+      wearTimeLimitMinutes: String(own),
+      conditions: "Skin check after every session.",
+      clinicalNote: "Fit checked, strap replaced; no pain at rest. Shorter sessions for this worker.",
+    });
+    expect(decided.status).toBe(200);
+    expect(await decided.text()).toContain(`Decision recorded: resume with conditions, wear-time limit ${own} minutes`);
+    const review = await k("course_reviews").where({ worker_id: w.id, device_type_id: device.id }).first();
+    expect(review).toMatchObject({
+      decision: "resume_with_conditions",
+      decided_by: me.id,
+      wear_time_limit_minutes: own,
+    });
+    expect(review.clinical_note).toContain("Fit checked");
+    expect(Number.isNaN(Date.parse(review.decided_at))).toBe(false);
+    const course = await k("device_courses").where({ worker_id: w.id, device_type_id: device.id }).first();
+    expect(course).toMatchObject({ status: "planned", wear_time_limit_minutes: own });
+    expect((await k("training_sessions").where({ id: s2 }).first()).status).toBe("cancelled");
+    expect((await k("safety_findings").where({ session_id: s1 }).first()).review_id).toBe(review.id);
+    expect((await k("workers").where({ id: w.id }).first("stage")).stage).toBe("forecast");
+
+    // E-mail to the worker and the coordinators covering them, and no one else; the coordinators' mail carries
+    // the limit but not the clinical note.
+    const coordinators = await emailsOf("coordinator", w);
+    expect(coordinators.length).toBeGreaterThan(0);
+    const sent = outbox().slice(mailsBefore);
+    expect(sent.flatMap((m) => m.to).sort()).toEqual([w.email, ...coordinators].sort());
+    const toWorker = sent.find((m) => m.to.includes(w.email))!;
+    expect(toWorker.subject).toBe(`Your training on the ${device.name} can resume`);
+    expect(toWorker.text).toContain(`${own} minutes per session`);
+    const toCoordinators = sent.find((m) => m.to.includes(coordinators[0]))!;
+    expect(toCoordinators.text).toContain(`${own} minutes per session`);
+    expect(toCoordinators.text).not.toContain("Fit checked");
+
+    // Deciding twice is refused.
+    const again = await assessor.postForm(reviewUrl, {
+      intent: "decide",
+      decision: "stop",
+      clinicalNote: "A second decision on the same pause.",
+    });
+    expect(again.status).toBe(409);
+    expect(await again.text()).toContain("This course is not paused");
+
+    // The trainer sees the status, with the limit.
+    const trainerPage = (await (await trainer.request(`/train/sessions/${s2}`)).text()).replace(/<!-- -->/g, "");
+    expect(trainerPage).toContain("Resume with conditions after a pause");
+    expect(trainerPage).toContain(`at most ${own} minutes per session for this trainee`);
+
+    // The next run's pool holds the worker, and every session packed for them keeps the lower limit.
+    const monday = new Date();
+    monday.setUTCDate(monday.getUTCDate() + ((8 - monday.getUTCDay()) % 7 || 7));
+    const params = runParametersSchema.parse({
+      startDate: monday.toISOString().slice(0, 10),
+      horizonWeeks: 4,
+      planningQuantile: 0.8,
+      fairnessShare: 0,
+      pool: { siteIds: [w.site_id] },
+    });
+    const snap = await buildProblem(params, { allSites: true, siteIds: [], departmentIds: [] }, k);
+    expect(snap.excluded.find((e) => e.workerId === w.id)).toBeUndefined();
+    const cw = snap.calendar.workers.find((x) => x.workerId === w.id)!;
+    const dev = snap.calendar.devices.find((d) => d.deviceTypeId === device.id && d.siteId === w.site_id)!;
+    expect(cw.wearTimeLimits).toEqual({ [dev.id]: own });
+    const trainerName = snap.problem.trainers.find((t) => t.deviceTypeIds.includes(dev.id))!.id;
+    const packed = packSessions(snap.calendar, [
+      {
+        workerId: cw.id,
+        deviceTypeId: dev.id,
+        completionWeek: 3,
+        sessions: [{ week: 0, trainerId: trainerName, hours: 2 }],
+      },
+    ]);
+    const mine = packed.sessions.filter((s) => s.workerId === cw.id);
+    expect(mine.length).toBeGreaterThan(0);
+    for (const s of mine) expect(s.minutes).toBeLessThanOrEqual(own);
+    const placed = mine.reduce((a, s) => a + s.minutes, 0);
+    const left = packed.unplaced.filter((u) => u.workerId === cw.id).reduce((a, u) => a + u.minutes, 0);
+    expect(placed + left).toBe(120);
+  });
+});
