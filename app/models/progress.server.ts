@@ -5,7 +5,7 @@ import { curvePoints } from "~/compute/progress-update";
 import { type Db, db } from "~/db.server";
 import { UserError } from "~/errors";
 import { latestConsent } from "./consent.server";
-import { effectiveWearLimit } from "./course-reviews.server";
+import { courseReviewStatus, effectiveWearLimit } from "./course-reviews.server";
 import { loggedSessions, recordOutcome, type UpsertResult, upsertForecast, workerInScope } from "./forecast.server";
 import { getCriterion } from "./proficiency.server";
 import { whereWorkerInScope } from "./workers.server";
@@ -248,6 +248,8 @@ export interface ProgressView {
   } | null;
   curvePoints: { hours: number; score: number }[];
   reviewFlags: { kind: string; reason: string; raisedAt: string }[];
+  /** The latest assessor decision on a pause of this course (status only, no clinical note). */
+  review: Awaited<ReturnType<typeof courseReviewStatus>>;
   showNotes: boolean;
 }
 
@@ -286,7 +288,12 @@ export async function progressView(
   const showNotes = can(p, "progress.notes");
   return {
     worker: { id: worker.id, employeeNumber: worker.employeeNumber, name: worker.name, stage: worker.stage },
-    deviceType: { id: d.id, code: d.code, name: d.name, wearTimeLimitMinutes: d.wear_time_limit_minutes },
+    deviceType: {
+      id: d.id,
+      code: d.code,
+      name: d.name,
+      wearTimeLimitMinutes: effectiveWearLimit(Number(d.wear_time_limit_minutes), course?.wear_time_limit_minutes),
+    },
     criterion,
     planningConsent: (await latestConsent(k, [workerId], "planning")).get(workerId) === "given",
     course: course
@@ -327,6 +334,7 @@ export async function progressView(
       : null,
     curvePoints: pj?.curve?.converged ? curvePoints(pj.curve, toHours) : [],
     reviewFlags: flags.map((r) => ({ kind: r.kind, reason: r.reason, raisedAt: String(r.raised_at) })),
+    review: await courseReviewStatus(workerId, deviceTypeId, k),
     showNotes,
   };
 }
