@@ -5,7 +5,9 @@ import { plannedHoursFromLogScale } from "~/compute/regression";
 import type { CalendarUnit, PlanCalendar } from "~/compute/session-packing";
 import { type Db, db, type Row } from "~/db.server";
 import type { RunParameters } from "~/schemas/allocation";
+import { noForecastText } from "~/schemas/forecast";
 import { latestConsent } from "./consent.server";
+import { type ApprovedModel, baselineZScores, loadApprovedModel } from "./forecast.server";
 import { whereWorkerInScope } from "./workers.server";
 
 // Builds the solver input (docs/methods.md) for a run from the database: the pool, device-type capacity per week
@@ -235,18 +237,33 @@ export async function buildProblem(params: RunParameters, scope: Scope, k: Db = 
         .orderBy(["worker_id", "starts_on", "id"])),
     );
   }
+  const models: { model: ApprovedModel; deviceType: string }[] = [];
+  for (const d of deviceTypes) {
+    const m = await loadApprovedModel(k, d.id);
+    if (m) models.push({ model: m, deviceType: d.name as string });
+  }
   const excluded: ProblemSnapshot["excluded"] = [];
+  const lacking: ProblemSnapshot["excluded"] = [];
   const problemWorkers: AllocationProblem["workers"] = [];
   const calendarWorkers: PlanCalendar["workers"] = [];
   for (const w of candidates) {
     const name = `${w.given_name} ${w.family_name}`;
     if (consent.get(w.id) !== "given") continue; // outside the pool by definition; not listed (no planning consent)
     const mineCourses = courses.filter((c) => c.worker_id === w.id);
-    if (mineCourses.some((c) => c.status === "training" || c.status === "paused")) {
+    if (mineCourses.some((c) => c.status === "paused")) {
       excluded.push({
         workerId: w.id,
         name,
-        reason: "Already in training (or paused) on a device; the trainer's schedule continues.",
+        reason:
+          "Paused after a severe adverse event: an assessor reviews the course before the worker is planned again.",
+      });
+      continue;
+    }
+    if (mineCourses.some((c) => c.status === "training")) {
+      excluded.push({
+        workerId: w.id,
+        name,
+        reason: "Already in training on a device; the trainer's schedule continues.",
       });
       continue;
     }
@@ -266,7 +283,15 @@ export async function buildProblem(params: RunParameters, scope: Scope, k: Db = 
         ),
     );
     if (mine.length === 0) {
-      excluded.push({ workerId: w.id, name, reason: "No forecast from an approved model yet." });
+      // Consent is given here, so the reason is the model, a stopped course or the baseline (named below).
+      const stopped = mineCourses.some((c) => c.status === "stopped");
+      const entry = {
+        workerId: w.id,
+        name,
+        reason: noForecastText(models.length === 0 ? "no_model" : stopped ? "stopped" : "missing_measures"),
+      };
+      excluded.push(entry);
+      if (models.length && !stopped) lacking.push(entry);
       continue;
     }
     const f = fields.find((x) => x.worker_id === w.id);
@@ -323,6 +348,24 @@ export async function buildProblem(params: RunParameters, scope: Scope, k: Db = 
       unavailableDates: leaveDates,
       ...(Object.keys(wearTimeLimits).length ? { wearTimeLimits } : {}),
     });
+  }
+  // Name the measures each approved model still needs from the workers left out for their baseline.
+  const zs: Map<number, Map<number, number>>[] = [];
+  for (const m of models)
+    zs.push(
+      await baselineZScores(
+        k,
+        lacking.map((e) => e.workerId),
+        m.model.measureIds,
+      ),
+    );
+  for (const e of lacking) {
+    const missing = models.flatMap((m, i) => {
+      const z = zs[i].get(e.workerId);
+      const labels = m.model.measureIds.flatMap((id, j) => (z?.has(id) ? [] : [m.model.measures[j].label]));
+      return labels.length ? [`${labels.join(", ")} (${m.deviceType} model)`] : [];
+    });
+    e.reason = noForecastText("missing_measures", missing);
   }
   notes.push(
     `Hours needed = the forecast's ${Math.round(params.planningQuantile * 100)}th percentile of total hours (from the approved model version), less hours already logged.`,

@@ -6,7 +6,15 @@ import { type Db, db } from "~/db.server";
 import { UserError } from "~/errors";
 import { latestConsent } from "./consent.server";
 import { courseReviewStatus, effectiveWearLimit } from "./course-reviews.server";
-import { loggedSessions, recordOutcome, type UpsertResult, upsertForecast, workerInScope } from "./forecast.server";
+import {
+  forecastGap,
+  gapText,
+  loggedSessions,
+  recordOutcome,
+  type UpsertResult,
+  upsertForecast,
+  workerInScope,
+} from "./forecast.server";
 import { getCriterion } from "./proficiency.server";
 import { whereWorkerInScope } from "./workers.server";
 
@@ -248,6 +256,8 @@ export interface ProgressView {
   } | null;
   curvePoints: { hours: number; score: number }[];
   reviewFlags: { kind: string; reason: string; raisedAt: string }[];
+  /** Why there is no forecast (null when there is one). */
+  noForecast: string | null;
   /** The latest assessor decision on a pause of this course (status only, no clinical note). */
   review: Awaited<ReturnType<typeof courseReviewStatus>>;
   showNotes: boolean;
@@ -334,6 +344,7 @@ export async function progressView(
       : null,
     curvePoints: pj?.curve?.converged ? curvePoints(pj.curve, toHours) : [],
     reviewFlags: flags.map((r) => ({ kind: r.kind, reason: r.reason, raisedAt: String(r.raised_at) })),
+    noForecast: f ? null : gapText(await forecastGap(k, workerId, deviceTypeId)),
     review: await courseReviewStatus(workerId, deviceTypeId, k),
     showNotes,
   };

@@ -214,8 +214,8 @@ export default function ProgressPage({ loaderData }: Route.ComponentProps) {
             </p>
           </>
         ) : (
-          <p className="sm:col-span-3 text-sm">
-            No forecast for this worker on this device (no approved model, missing baseline, or no planning consent).
+          <p className="sm:col-span-3 text-sm" data-testid="no-forecast">
+            {v.noForecast}
           </p>
         )}
       </section>
