@@ -2,6 +2,7 @@ import { describe, expect, inject, it } from "vitest";
 import { packSessions } from "~/compute/session-packing";
 import { buildProblem } from "~/models/allocation-problem.server";
 import { runParametersSchema } from "~/schemas/allocation";
+import { noForecastText } from "~/schemas/forecast";
 import { readOutbox } from "../../scripts/smtp-catcher";
 import { PERSONA, signIn, testDb } from "./helpers";
 
@@ -11,27 +12,34 @@ import { PERSONA, signIn, testDb } from "./helpers";
 const k = testDb();
 const outbox = () => readOutbox(inject("outboxDir"));
 const local = (d: Date) => d.toISOString().slice(0, 16);
+function nextMonday(): string {
+  const d = new Date();
+  d.setUTCDate(d.getUTCDate() + ((8 - d.getUTCDay()) % 7 || 7));
+  return d.toISOString().slice(0, 10);
+}
 
-async function pickTrainee() {
+/** A trainee of Ines's (her site, a device she is certified for), or with `anySite` any trainee, put on her schedule. */
+async function pickTrainee(anySite = false) {
   const ines = await k("trainers as t")
     .join("users as u", "u.id", "t.user_id")
     .where("u.email", PERSONA.trainer)
     .first("t.id", "t.site_id");
-  const row = await k("device_courses as c")
+  const q = k("device_courses as c")
     .join("workers as w", "w.id", "c.worker_id")
-    .join("trainer_certifications as tc", function () {
-      this.on("tc.device_type_id", "c.device_type_id").andOn("tc.trainer_id", k.raw("?", [ines.id]));
-    })
     .join("forecasts as f", function () {
       this.on("f.worker_id", "c.worker_id").andOn("f.device_type_id", "c.device_type_id");
-    })
+    });
+  if (!anySite)
+    q.join("trainer_certifications as tc", function () {
+      this.on("tc.device_type_id", "c.device_type_id").andOn("tc.trainer_id", k.raw("?", [ines.id]));
+    }).where("w.site_id", ines.site_id);
+  const row = await q
     .where("c.status", "training")
-    .where("w.site_id", ines.site_id)
     .whereNull("w.user_id")
     .whereNotNull("w.email")
     .whereNot("w.stage", "withdrawn")
     .select("w.id", "w.employee_number", "w.email", "w.site_id", "w.department_id", "c.device_type_id")
-    .orderBy("w.employee_number", "desc")
+    .orderBy("w.employee_number", anySite ? "asc" : "desc")
     .first();
   expect(row, "a trainee of Ines's with a forecast and no portal account").toBeTruthy();
   const device = await k("device_types")
@@ -116,6 +124,19 @@ describe("a paused course is reviewed and resumed", () => {
         m.subject === `Training paused: severe adverse event for ${w.employee_number}` && m.text.includes("Sharp pain"),
     );
     expect(pauseMail?.text).toContain(reviewUrl);
+
+    // Paused: out of the allocation pool, with the reason.
+    const params = runParametersSchema.parse({
+      startDate: nextMonday(),
+      horizonWeeks: 4,
+      planningQuantile: 0.8,
+      fairnessShare: 0,
+      pool: { siteIds: [w.site_id] },
+    });
+    const scope = { allSites: true, siteIds: [], departmentIds: [] };
+    expect((await buildProblem(params, scope, k)).excluded.find((e) => e.workerId === w.id)?.reason).toContain(
+      "Paused after a severe adverse event",
+    );
 
     // The trainer can neither open the review nor decide.
     expect((await trainer.request(reviewUrl)).status).toBe(403);
@@ -216,16 +237,7 @@ describe("a paused course is reviewed and resumed", () => {
     expect(trainerPage).toContain(`at most ${own} minutes per session for this trainee`);
 
     // The next run's pool holds the worker, and every session packed for them keeps the lower limit.
-    const monday = new Date();
-    monday.setUTCDate(monday.getUTCDate() + ((8 - monday.getUTCDay()) % 7 || 7));
-    const params = runParametersSchema.parse({
-      startDate: monday.toISOString().slice(0, 10),
-      horizonWeeks: 4,
-      planningQuantile: 0.8,
-      fairnessShare: 0,
-      pool: { siteIds: [w.site_id] },
-    });
-    const snap = await buildProblem(params, { allSites: true, siteIds: [], departmentIds: [] }, k);
+    const snap = await buildProblem(params, scope, k);
     expect(snap.excluded.find((e) => e.workerId === w.id)).toBeUndefined();
     const cw = snap.calendar.workers.find((x) => x.workerId === w.id)!;
     const dev = snap.calendar.devices.find((d) => d.deviceTypeId === device.id && d.siteId === w.site_id)!;
@@ -245,5 +257,58 @@ describe("a paused course is reviewed and resumed", () => {
     const placed = mine.reduce((a, s) => a + s.minutes, 0);
     const left = packed.unplaced.filter((u) => u.workerId === cw.id).reduce((a, u) => a + u.minutes, 0);
     expect(placed + left).toBe(120);
+  });
+
+  it("stops a device type: the course is stopped, its forecast gone with the reason stated, and the pool offers the worker other device types only", async () => {
+    const { trainerId, w, device } = await pickTrainee(true);
+    const start = new Date(Date.now() - 2 * 3_600_000);
+    start.setUTCSeconds(0, 0);
+    const s1 = await schedule(w.id, device.id, trainerId, start, 20);
+    const trainer = (await signIn(PERSONA.trainer)).client;
+    const logged = await trainer.postForm(`/train/sessions/${s1}`, {
+      intent: "log",
+      start: local(start),
+      end: local(new Date(start.getTime() + 20 * 60_000)),
+      taskScore: "0.4",
+      ae_skin: "severe",
+      ae_skin_notes: "Abrasion under the cuff.",
+    });
+    expect(logged.status).toBe(200);
+    expect(await k("safety_findings").where({ session_id: s1 })).toEqual([]); // within the limit: no breach
+    const assessor = (await signIn(PERSONA.assessor)).client;
+    const mailsBefore = outbox().length;
+    const res = await assessor.postForm(`/assess/workers/${w.id}/courses/${device.id}`, {
+      intent: "decide",
+      decision: "stop",
+      clinicalNote: "Recurrent abrasion despite refitting; this device type does not suit the worker.",
+    });
+    expect(res.status).toBe(200);
+    expect(await res.text()).toContain("Decision recorded: stop this device type.");
+    expect((await k("device_courses").where({ worker_id: w.id, device_type_id: device.id }).first()).status).toBe(
+      "stopped",
+    );
+    expect(await k("forecasts").where({ worker_id: w.id, device_type_id: device.id }).first()).toBeUndefined();
+    const sent = outbox().slice(mailsBefore);
+    expect(sent.find((m) => m.to.includes(w.email))?.subject).toBe(`Your training on the ${device.name} has stopped`);
+    const page = (await (await assessor.request(`/forecast/${w.id}`)).text()).replace(/<!-- -->/g, "");
+    expect(page).toContain(noForecastText("stopped"));
+
+    const snap = await buildProblem(
+      runParametersSchema.parse({
+        startDate: nextMonday(),
+        horizonWeeks: 4,
+        planningQuantile: 0.8,
+        fairnessShare: 0,
+        pool: { siteIds: [w.site_id] },
+      }),
+      { allSites: true, siteIds: [], departmentIds: [] },
+      k,
+    );
+    const dev = snap.calendar.devices.find((d) => d.deviceTypeId === device.id && d.siteId === w.site_id)!;
+    const inPool = snap.problem.workers.find((x) => x.id === String(w.id));
+    const left = snap.excluded.find((e) => e.workerId === w.id);
+    expect(Boolean(inPool) !== Boolean(left)).toBe(true);
+    if (inPool) expect(inPool.options.map((o) => o.deviceTypeId)).not.toContain(dev.id);
+    else expect(left!.reason).toBe(noForecastText("stopped"));
   });
 });
