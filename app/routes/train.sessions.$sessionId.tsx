@@ -45,7 +45,7 @@ export async function action({ request, params }: Route.ActionArgs) {
   const { p, trainer, session } = await load(request, params, "sessions.log");
   return formAction(formData, trainerLogSchema, async (v) => {
     const r = await logTrainerSession({ trainer, sessionId: session.id, userId: p.user.id, form: v });
-    const parts = [`Session saved: ${r.cumulativeHours.toFixed(1)} h practised so far.`];
+    const parts = [`Session logged: ${r.cumulativeHours.toFixed(1)} h practised so far.`];
     if (r.wearTimeBreach)
       parts.push(
         `It ran ${r.wearTimeBreach.minutes} minutes, over the wear-time limit of ${r.wearTimeBreach.limitMinutes} minutes: saved as logged, and the breach is recorded as a safety finding for the assessors.`,

@@ -103,7 +103,7 @@ describe("a paused course is reviewed and resumed", () => {
     });
     const text = (await logged.text()).replace(/<!-- -->/g, "");
     expect(logged.status).toBe(200);
-    expect(text).toContain("Session saved");
+    expect(text).toContain("Session logged");
     expect(text).toContain(`It ran ${limit + 15} minutes, over the wear-time limit of ${limit} minutes`);
     expect(text).toContain("Training is paused");
     const session = await k("training_sessions").where({ id: s1 }).first();
