@@ -17,6 +17,7 @@ import {
 import { reviewPath } from "~/schemas/course-review";
 import { logSessionFormSchema } from "~/schemas/forecast";
 import { formToObject, parseWith } from "~/schemas/form";
+import { scoreRead } from "~/schemas/session-log";
 import type { Route } from "./+types/progress.$workerId.$deviceTypeId";
 
 export const meta: Route.MetaFunction = ({ data: d }) => [
@@ -86,14 +87,15 @@ export async function action({ request, params }: Route.ActionArgs) {
       r.forecast.status === "ready" && r.forecast.progress?.remainingHours != null
         ? ` About ${r.forecast.progress.remainingHours.toFixed(1)} h to go.`
         : "";
+    const score = scoreRead(parsed.data.taskScore, typeof form.taskScore === "string" ? form.taskScore : null);
     const breach = r.wearTimeBreach
       ? ` It ran ${r.wearTimeBreach.minutes} minutes, over the wear-time limit of ${r.wearTimeBreach.limitMinutes} minutes: saved as logged, and the breach is recorded as a safety finding for the assessors.`
       : "";
     return {
       errors: null,
       done: r.proficient
-        ? `Session logged. The criterion is met: proficient on ${r.proficientOn} after ${r.cumulativeHours.toFixed(1)} h.${breach}`
-        : `Session logged: ${r.cumulativeHours.toFixed(1)} h so far.${f}${breach}`,
+        ? `Session logged with task score ${score}. The criterion is met: proficient on ${r.proficientOn} after ${r.cumulativeHours.toFixed(1)} h.${breach}`
+        : `Session logged with task score ${score}: ${r.cumulativeHours.toFixed(1)} h so far.${f}${breach}`,
     };
   } catch (e) {
     if (e instanceof SessionLogError)
@@ -251,10 +253,11 @@ export default function ProgressPage({ loaderData }: Route.ComponentProps) {
             />
             <TextField
               name="taskScore"
+              inputMode="decimal"
               label="Task score (0–1)"
               required
               error={errors.taskScore}
-              hint="Score on the device's standard task."
+              hint="Score on the device's standard task, e.g. 0.72 or 0,72."
             />
             <div className="sm:col-span-2">
               <TextArea name="notes" label="Notes" rows={2} error={errors.notes} />

@@ -6,7 +6,14 @@ import { addMinutesToWallClock, formatDay, formatInstantDay, formatSpan, toLocal
 import { formAction } from "~/forms.server";
 import { recordAccess } from "~/models/access-log.server";
 import { logTrainerSession, markNoShow, trainerForUser, trainerSession } from "~/models/trainer-day.server";
-import { ADVERSE_KINDS, ADVERSE_LABELS, attendanceSchema, SEVERITIES, trainerLogSchema } from "~/schemas/session-log";
+import {
+  ADVERSE_KINDS,
+  ADVERSE_LABELS,
+  attendanceSchema,
+  SEVERITIES,
+  scoreRead,
+  trainerLogSchema,
+} from "~/schemas/session-log";
 import type { Route } from "./+types/train.sessions.$sessionId";
 
 export const meta: Route.MetaFunction = ({ data: d }) => [
@@ -45,7 +52,9 @@ export async function action({ request, params }: Route.ActionArgs) {
   const { p, trainer, session } = await load(request, params, "sessions.log");
   return formAction(formData, trainerLogSchema, async (v) => {
     const r = await logTrainerSession({ trainer, sessionId: session.id, userId: p.user.id, form: v });
-    const parts = [`Session logged: ${r.cumulativeHours.toFixed(1)} h practised so far.`];
+    const parts = [
+      `Session logged with task score ${scoreRead(v.taskScore, formData.get("taskScore"))}: ${r.cumulativeHours.toFixed(1)} h practised so far.`,
+    ];
     if (r.wearTimeBreach)
       parts.push(
         `It ran ${r.wearTimeBreach.minutes} minutes, over the wear-time limit of ${r.wearTimeBreach.limitMinutes} minutes: saved as logged, and the breach is recorded as a safety finding for the assessors.`,
@@ -151,9 +160,10 @@ export default function TrainerSession({ loaderData }: Route.ComponentProps) {
               <TextField
                 name="taskScore"
                 type="text"
+                inputMode="decimal"
                 label="Task score (0–1)"
                 required
-                hint={`Score on the ${s.deviceType}'s standard task, e.g. 0.72.`}
+                hint={`Score on the ${s.deviceType}'s standard task, e.g. 0.72 or 0,72.`}
               />
               <div className="sm:col-span-2">
                 <TextArea name="notes" label="Notes" rows={3} />

@@ -1,5 +1,6 @@
 import { z } from "zod";
 import { intents } from "~/schemas/form";
+import { taskScoreField } from "./session-log";
 
 // Forms and payloads of the forecast area. The worker-forecast payload is one schema for the page loader
 // and for GET /api/v1/workers/:workerId/forecast.
@@ -59,10 +60,7 @@ export const logSessionFormSchema = z.object({
     .number({ message: "Duration must be a number of hours." })
     .gt(0, "Duration must be more than 0 hours.")
     .max(8, "Duration must be at most 8 hours in one session."),
-  taskScore: z.coerce
-    .number({ message: "Task score must be a number between 0 and 1." })
-    .min(0, "Task score must be between 0 and 1.")
-    .max(1, "Task score must be between 0 and 1."),
+  taskScore: taskScoreField("Task score must be between 0 and 1."),
   notes: z.string().trim().max(2000, "Notes are limited to 2,000 characters.").optional(),
 });
 export type LogSessionForm = z.infer<typeof logSessionFormSchema>;

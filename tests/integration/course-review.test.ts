@@ -97,17 +97,18 @@ describe("a paused course is reviewed and resumed", () => {
       intent: "log",
       start: local(start),
       end: local(new Date(start.getTime() + (limit + 15) * 60_000)),
-      taskScore: "0.55",
+      taskScore: "0,55", // a decimal comma reads as 0.55, and the notice says so
       ae_pain: "severe",
       ae_pain_notes: "Sharp pain in the forearm; strap loosened, session ended.",
     });
-    const text = (await logged.text()).replace(/<!-- -->/g, "");
+    const text = (await logged.text()).replace(/<!-- -->/g, "").replace(/&quot;/g, '"');
     expect(logged.status).toBe(200);
-    expect(text).toContain("Session logged");
+    expect(text).toContain('Session logged with task score 0.55 (typed "0,55")');
     expect(text).toContain(`It ran ${limit + 15} minutes, over the wear-time limit of ${limit} minutes`);
     expect(text).toContain("Training is paused");
     const session = await k("training_sessions").where({ id: s1 }).first();
     expect(session.status).toBe("attended");
+    expect(Number(session.task_score)).toBe(0.55);
     expect(Number(session.duration_hours) * 60).toBeCloseTo(limit + 15, 6);
     expect((await k("adverse_events").where({ session_id: s1 })).map((e) => [e.kind, e.severity])).toEqual([
       ["pain", "severe"],
