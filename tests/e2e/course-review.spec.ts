@@ -3,7 +3,7 @@
 // 390 px, resumes with a lower limit, and the trainer sees the status. Invented demo people.
 import { expect, persona, test } from "./fixtures";
 import { expectNoSidewaysScroll } from "./layout";
-import { closeSql, inesTrainerId, sql } from "./portal-accounts";
+import { closeSql, inesTrainerId, seriousViolations, sql } from "./portal-accounts";
 
 test.afterAll(closeSql);
 
@@ -81,6 +81,7 @@ test("the assessor reviews a paused course and resumes it with a lower wear-time
   await page.setViewportSize({ width: 390, height: 860 });
   await expectNoSidewaysScroll(page, 390);
   await expect(page.getByRole("region", { name: "Session log (scrolls sideways)" })).toHaveAttribute("tabindex", "0");
+  expect(await seriousViolations(page, "course review 390 px")).toEqual([]);
   // A missing note is named at the field.
   await page.getByLabel("Resume with conditions").check();
   await page.getByRole("button", { name: "Record decision" }).click();
