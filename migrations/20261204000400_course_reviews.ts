@@ -11,7 +11,8 @@ export async function up(knex: Knex): Promise<void> {
     t.increments("id");
     t.integer("worker_id").notNullable().references("workers.id").onDelete("CASCADE");
     t.integer("device_type_id").notNullable().references("device_types.id");
-    t.enu("decision", ["resume", "resume_with_conditions", "stop"], {
+    // acknowledge: an open safety finding on a course that is not paused was reviewed; the course is unchanged.
+    t.enu("decision", ["resume", "resume_with_conditions", "stop", "acknowledge"], {
       useNative: false,
       enumName: "course_review_decision",
     }).notNullable();

@@ -5,7 +5,13 @@ import { nowInstant } from "~/dates";
 import { type Db, db } from "~/db.server";
 import { conflict, UserError } from "~/errors";
 import { sendMail } from "~/mail.server";
-import { COURSE_DECISION_LABELS, type CourseDecision, type CourseDecisionInput } from "~/schemas/course-review";
+import {
+  COURSE_DECISION_LABELS,
+  COURSE_DECISIONS,
+  type CourseDecision,
+  type CourseDecisionInput,
+  type ReviewKind,
+} from "~/schemas/course-review";
 
 export { reviewPath } from "~/schemas/course-review";
 
@@ -29,7 +35,7 @@ export function effectiveWearLimit(deviceLimit: number, courseLimit: number | nu
 
 export interface CourseDecisionRow {
   id: number;
-  decision: CourseDecision;
+  decision: ReviewKind;
   wearTimeLimitMinutes: number | null;
   conditions: string | null;
   clinicalNote: string;
@@ -115,6 +121,7 @@ export async function coursesNeedingReview(workerId: number, k: Db = db()) {
 export async function courseReviewStatus(workerId: number, deviceTypeId: number, k: Db = db()) {
   const r = await k("course_reviews")
     .where({ worker_id: workerId, device_type_id: deviceTypeId })
+    .whereIn("decision", COURSE_DECISIONS)
     .orderBy([
       { column: "decided_at", order: "desc" },
       { column: "id", order: "desc" },
@@ -195,6 +202,41 @@ export async function courseReview(scope: Scope, workerId: number, deviceTypeId:
     findings: await findingsForCourse(k, workerId, deviceTypeId),
     decisions: await decisions(k, workerId, deviceTypeId),
   };
+}
+
+/** An assessor reviewed the open safety findings of a course that is not paused: recorded, findings closed. */
+export async function acknowledgeFindings(
+  p: Principal & { kind: "user" },
+  workerId: number,
+  deviceTypeId: number,
+  clinicalNote: string,
+): Promise<number> {
+  const at = nowInstant();
+  return db().transaction(async (trx) => {
+    if (!(await workerInScope(p.scope, workerId, trx)))
+      throw new UserError("No such worker at your sites.", { status: 404 });
+    await lockWorker(trx, workerId);
+    const course = await trx("device_courses")
+      .where({ worker_id: workerId, device_type_id: deviceTypeId })
+      .first("status");
+    if (course?.status === "paused")
+      throw conflict("This course is paused: decide on it with the decision form; that closes its findings too.");
+    const open = trx("safety_findings")
+      .where({ worker_id: workerId, device_type_id: deviceTypeId })
+      .whereNull("review_id");
+    if (!(await open.clone().first("id"))) throw conflict("There is no open safety finding on this course.");
+    const [review] = await trx("course_reviews")
+      .insert({
+        worker_id: workerId,
+        device_type_id: deviceTypeId,
+        decision: "acknowledge",
+        clinical_note: clinicalNote,
+        decided_by: p.user.id,
+        decided_at: at,
+      })
+      .returning("id");
+    return Number(await open.update({ review_id: typeof review === "object" ? review.id : review }));
+  });
 }
 
 export interface DecisionOutcome {

@@ -6,9 +6,9 @@ import { ActionForm, ActionNotice, RadioGroup, TextArea, TextField } from "~/com
 import { formatInstant } from "~/dates";
 import { formAction } from "~/forms.server";
 import { recordAccess } from "~/models/access-log.server";
-import { courseReview, decideCourse } from "~/models/course-reviews.server";
+import { acknowledgeFindings, courseReview, decideCourse } from "~/models/course-reviews.server";
 import { workerTimeZone } from "~/models/sites.server";
-import { COURSE_DECISION_LABELS, COURSE_DECISIONS, courseDecisionSchema } from "~/schemas/course-review";
+import { COURSE_DECISION_LABELS, COURSE_DECISIONS, courseReviewPageSchema } from "~/schemas/course-review";
 import type { Route } from "./+types/assess.workers.$workerId.courses.$deviceTypeId";
 
 // The assessor's review of one worker's course on one device type (linked from the pause e-mail and the
@@ -43,7 +43,11 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 export async function action({ request, params }: Route.ActionArgs) {
   const p = await requireUser(request, "courses.review");
   const { workerId, deviceTypeId } = ids(params);
-  return formAction(await request.formData(), courseDecisionSchema, async (v) => {
+  return formAction(await request.formData(), courseReviewPageSchema, async (v) => {
+    if (v.intent === "acknowledge") {
+      const n = await acknowledgeFindings(p, workerId, deviceTypeId, v.clinicalNote);
+      return `Recorded: ${n} safety finding${n === 1 ? "" : "s"} reviewed; the course is unchanged.`;
+    }
     const r = await decideCourse(p, workerId, deviceTypeId, v);
     const who = [
       ...(r.notified.worker.length ? ["the worker"] : []),
@@ -100,7 +104,7 @@ export default function CourseReview({ loaderData }: Route.ComponentProps) {
         <p className="font-semibold">
           {paused
             ? "Paused: waiting for your decision"
-            : r.decisions[0]
+            : r.decisions[0] && r.decisions[0].decision !== "acknowledge"
               ? `${COURSE_DECISION_LABELS[r.decisions[0].decision]} (${formatInstant(r.decisions[0].decidedAt, timeZone)}, ${r.decisions[0].decidedBy ?? "former user"})`
               : `Course status: ${r.course.status}`}
         </p>
@@ -213,6 +217,23 @@ export default function CourseReview({ loaderData }: Route.ComponentProps) {
           <div>
             <button type="submit" className="btn-primary min-w-40" disabled={busy}>
               {busy ? "Saving…" : "Record decision"}
+            </button>
+          </div>
+        </ActionForm>
+      )}
+
+      {!paused && r.findings.some((f) => !f.closedByReview) && (
+        <ActionForm intent="acknowledge" result={result} className="card grid gap-4" aria-labelledby="ack-h">
+          <h2 id="ack-h" className="text-lg font-semibold">
+            Review the open safety finding
+          </h2>
+          <p className="text-sm text-ink-soft">
+            The course is not paused. Record what you checked; the course and its wear-time limit stay as they are.
+          </p>
+          <TextArea name="clinicalNote" label="Clinical note" required rows={3} />
+          <div>
+            <button type="submit" className="btn-primary min-w-40" disabled={busy}>
+              {busy ? "Saving…" : "Mark as reviewed"}
             </button>
           </div>
         </ActionForm>

@@ -1,4 +1,5 @@
 import { z } from "zod";
+import { intents } from "./form";
 
 // An assessor's decision on a paused course: the form, the action and the model share this schema.
 /** The assessor's review page of one worker's course on one device type. */
@@ -7,10 +8,13 @@ export const reviewPath = (workerId: number, deviceTypeId: number) =>
 
 export const COURSE_DECISIONS = ["resume", "resume_with_conditions", "stop"] as const;
 export type CourseDecision = (typeof COURSE_DECISIONS)[number];
-export const COURSE_DECISION_LABELS: Record<CourseDecision, string> = {
+/** What a course_reviews row records: a decision on a pause, or a safety finding reviewed on a running course. */
+export type ReviewKind = CourseDecision | "acknowledge";
+export const COURSE_DECISION_LABELS: Record<ReviewKind, string> = {
   resume: "Resume",
   resume_with_conditions: "Resume with conditions",
   stop: "Stop this device type",
+  acknowledge: "Safety finding reviewed, course unchanged",
 };
 
 const optionalText = (label: string, max: number) =>
@@ -59,3 +63,16 @@ export const courseDecisionSchema = z
       });
   });
 export type CourseDecisionInput = z.infer<typeof courseDecisionSchema>;
+
+/** Closing the open safety findings of a course that is not paused, with a clinical note. */
+export const acknowledgeFindingsSchema = z.object({
+  intent: z.literal("acknowledge"),
+  clinicalNote: z
+    .string({ message: "Clinical note: say what you checked about the finding." })
+    .trim()
+    .min(10, "Clinical note: say what you checked about the finding (at least 10 characters).")
+    .max(4000, "Clinical note: at most 4,000 characters."),
+});
+
+/** The course review page's two forms. */
+export const courseReviewPageSchema = intents(courseDecisionSchema, acknowledgeFindingsSchema);

@@ -312,4 +312,59 @@ describe("a paused course is reviewed and resumed", () => {
     if (inPool) expect(inPool.options.map((o) => o.deviceTypeId)).not.toContain(dev.id);
     else expect(left!.reason).toBe(noForecastText("stopped"));
   });
+
+  it("a breach on a running course stays open on the worker record until an assessor reviews it; the course is unchanged", async () => {
+    const { trainerId, w, device } = await pickTrainee(true);
+    const limit = Number(device.wear_time_limit_minutes);
+    const start = new Date(Date.now() - 5 * 3_600_000);
+    start.setUTCSeconds(0, 0);
+    const s1 = await schedule(w.id, device.id, trainerId, start, limit);
+    const trainer = (await signIn(PERSONA.trainer)).client;
+    const logged = await trainer.postForm(`/train/sessions/${s1}`, {
+      intent: "log",
+      start: local(start),
+      end: local(new Date(start.getTime() + (limit + 5) * 60_000)),
+      taskScore: "0.6",
+    });
+    expect(logged.status).toBe(200);
+    expect(await logged.text()).toContain("recorded as a safety finding for the assessors");
+    expect((await k("training_sessions").where({ id: s1 }).first()).status).toBe("attended");
+    expect((await k("device_courses").where({ worker_id: w.id, device_type_id: device.id }).first()).status).toBe(
+      "training",
+    );
+    const reviewUrl = `/assess/workers/${w.id}/courses/${device.id}`;
+    const assessor = (await signIn(PERSONA.assessor)).client;
+    const record = (await (await assessor.request(`/assess/workers/${w.id}`)).text()).replace(/<!-- -->/g, "");
+    expect(record).toContain(`href="${reviewUrl}"`);
+    expect(record).toContain("safety finding to review");
+
+    const short = await assessor.postForm(reviewUrl, { intent: "acknowledge", clinicalNote: "ok" });
+    expect(short.status).toBe(400);
+    expect(await short.text()).toContain("Clinical note: say what you checked");
+    const resumeRunning = await assessor.postForm(reviewUrl, {
+      intent: "decide",
+      decision: "resume",
+      clinicalNote: "Trying to resume a course that is not paused.",
+    });
+    expect(resumeRunning.status).toBe(409);
+    const ok = await assessor.postForm(reviewUrl, {
+      intent: "acknowledge",
+      clinicalNote: "Spoke with the trainer: the end time was entered late; skin intact.",
+    });
+    expect(ok.status).toBe(200);
+    expect(await ok.text()).toContain("1 safety finding reviewed; the course is unchanged.");
+    const review = await k("course_reviews")
+      .where({ worker_id: w.id, device_type_id: device.id, decision: "acknowledge" })
+      .first();
+    expect(review.decided_by).toBe((await k("users").where({ email: PERSONA.assessor }).first("id")).id);
+    expect((await k("safety_findings").where({ session_id: s1 }).first()).review_id).toBe(review.id);
+    expect((await k("device_courses").where({ worker_id: w.id, device_type_id: device.id }).first()).status).toBe(
+      "training",
+    );
+    expect(await (await assessor.request(`/assess/workers/${w.id}`)).text()).not.toContain("safety finding to review");
+    expect(
+      (await assessor.postForm(reviewUrl, { intent: "acknowledge", clinicalNote: "A second review of nothing." }))
+        .status,
+    ).toBe(409);
+  });
 });
