@@ -8,7 +8,7 @@ export const meta: Route.MetaFunction = () => [{ title: "Admin · Limberly" }];
 
 // Counts only: admin runs the system but never sees health data.
 export async function loader({ request }: Route.LoaderArgs) {
-  await requireUser(request, "admin.users");
+  const p = await requireUser(request, "admin.users");
   const k = db();
   const count = async (t: string) => Number((await k(t).count<{ n: number }[]>({ n: "*" }).first())?.n ?? 0);
   const activeKeys = Number(
@@ -21,7 +21,7 @@ export async function loader({ request }: Route.LoaderArgs) {
     workers: await count("workers"),
     activeKeys,
     accessReads: await count("access_log"),
-    queue: await adminQueue(),
+    queue: await adminQueue(p.kind === "user" ? p.user.id : null),
   };
 }
 

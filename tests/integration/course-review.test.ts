@@ -136,7 +136,7 @@ describe("a paused course is reviewed and resumed", () => {
     });
     const scope = { allSites: true, siteIds: [], departmentIds: [] };
     expect((await buildProblem(params, scope, k)).excluded.find((e) => e.workerId === w.id)?.reason).toContain(
-      "Paused after a severe adverse event",
+      "Training is paused on a device; not planned until an assessor resumes it.",
     );
 
     // The trainer can neither open the review nor decide.
