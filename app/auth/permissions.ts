@@ -24,6 +24,7 @@ export const ACTIONS = [
   "sessions.plan",
   "sessions.own",
   "sessions.log",
+  "courses.review", // decide on a paused course: resume, resume with conditions, stop
   "readiness.read",
   "self.read",
   "self.consent",
@@ -56,6 +57,7 @@ const TABLE: Record<Role, readonly Action[]> = {
     "progress.all",
     "progress.notes",
     "sessions.log",
+    "courses.review",
     "reviews.answer",
   ],
   coordinator: [

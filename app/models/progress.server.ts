@@ -5,7 +5,16 @@ import { curvePoints } from "~/compute/progress-update";
 import { type Db, db } from "~/db.server";
 import { UserError } from "~/errors";
 import { latestConsent } from "./consent.server";
-import { loggedSessions, recordOutcome, type UpsertResult, upsertForecast, workerInScope } from "./forecast.server";
+import { courseReviewStatus, effectiveWearLimit } from "./course-reviews.server";
+import {
+  forecastGap,
+  gapText,
+  loggedSessions,
+  recordOutcome,
+  type UpsertResult,
+  upsertForecast,
+  workerInScope,
+} from "./forecast.server";
 import { getCriterion } from "./proficiency.server";
 import { whereWorkerInScope } from "./workers.server";
 
@@ -41,6 +50,8 @@ export interface LogSessionResult {
   proficient: boolean;
   proficientOn: string | null;
   forecast: UpsertResult;
+  /** The session ran over the worker's wear-time limit (saved all the same, with a safety finding). */
+  wearTimeBreach: { minutes: number; limitMinutes: number } | null;
 }
 
 export async function logSessionResult(input: LogSessionInput, k?: Db): Promise<LogSessionResult> {
@@ -57,12 +68,6 @@ export async function logSessionResult(input: LogSessionInput, k?: Db): Promise<
       throw new SessionLogError("This worker has withdrawn; sessions can no longer be logged.");
     const device = await trx("device_types").where({ id: input.deviceTypeId }).first("id", "wear_time_limit_minutes");
     if (!device) throw new SessionLogError("That device type does not exist.");
-    if (input.durationHours * 60 > Number(device.wear_time_limit_minutes) + 1e-9) {
-      throw new SessionLogError(
-        `Practice time exceeds this device's wear-time limit of ${device.wear_time_limit_minutes} minutes per session; log separate sessions with breaks.`,
-        "durationHours",
-      );
-    }
     let course = await trx("device_courses")
       .where({ worker_id: input.workerId, device_type_id: input.deviceTypeId })
       .first();
@@ -76,6 +81,11 @@ export async function logSessionResult(input: LogSessionInput, k?: Db): Promise<
       throw new SessionLogError(
         `This course is paused${course.pause_reason ? ` (${course.pause_reason})` : ""}; resume it before logging sessions.`,
       );
+    // A session longer than the wear-time limit still happened: it is saved (with any adverse event) and the
+    // breach is kept as a safety finding for the assessors, never a reason to refuse the log.
+    const limit = effectiveWearLimit(Number(device.wear_time_limit_minutes), course?.wear_time_limit_minutes);
+    const minutes = Math.round(input.durationHours * 60 * 10) / 10;
+    const wearTimeBreach = minutes > limit + 1e-9 ? { minutes, limitMinutes: limit } : null;
     if (!course) {
       const [c] = await trx("device_courses")
         .insert({
@@ -121,6 +131,16 @@ export async function logSessionResult(input: LogSessionInput, k?: Db): Promise<
         .returning("id");
       sessionId = s.id;
     }
+    if (wearTimeBreach)
+      await trx("safety_findings").insert({
+        worker_id: input.workerId,
+        device_type_id: input.deviceTypeId,
+        session_id: sessionId,
+        kind: "wear_time_breach",
+        detail: `Session of ${minutes} minutes, over the wear-time limit of ${limit} minutes${course.wear_time_limit_minutes != null && Number(course.wear_time_limit_minutes) === limit ? " set for this worker" : " of this device type"}.`,
+        recorded_by: input.loggedBy,
+        raised_at: at,
+      });
     await trx("device_courses")
       .where({ id: course.id })
       .update({
@@ -164,7 +184,7 @@ export async function logSessionResult(input: LogSessionInput, k?: Db): Promise<
       }
     }
     const forecast = await upsertForecast(trx, input.workerId, input.deviceTypeId, { actor: input.loggedBy, now: at });
-    return { sessionId, cumulativeHours, proficient, proficientOn: proficient ? day : null, forecast };
+    return { sessionId, cumulativeHours, proficient, proficientOn: proficient ? day : null, forecast, wearTimeBreach };
   };
   return k ? run(k) : db().transaction(run);
 }
@@ -236,6 +256,10 @@ export interface ProgressView {
   } | null;
   curvePoints: { hours: number; score: number }[];
   reviewFlags: { kind: string; reason: string; raisedAt: string }[];
+  /** Why there is no forecast (null when there is one). */
+  noForecast: string | null;
+  /** The latest assessor decision on a pause of this course (status only, no clinical note). */
+  review: Awaited<ReturnType<typeof courseReviewStatus>>;
   showNotes: boolean;
 }
 
@@ -274,7 +298,12 @@ export async function progressView(
   const showNotes = can(p, "progress.notes");
   return {
     worker: { id: worker.id, employeeNumber: worker.employeeNumber, name: worker.name, stage: worker.stage },
-    deviceType: { id: d.id, code: d.code, name: d.name, wearTimeLimitMinutes: d.wear_time_limit_minutes },
+    deviceType: {
+      id: d.id,
+      code: d.code,
+      name: d.name,
+      wearTimeLimitMinutes: effectiveWearLimit(Number(d.wear_time_limit_minutes), course?.wear_time_limit_minutes),
+    },
     criterion,
     planningConsent: (await latestConsent(k, [workerId], "planning")).get(workerId) === "given",
     course: course
@@ -315,6 +344,8 @@ export async function progressView(
       : null,
     curvePoints: pj?.curve?.converged ? curvePoints(pj.curve, toHours) : [],
     reviewFlags: flags.map((r) => ({ kind: r.kind, reason: r.reason, raisedAt: String(r.raised_at) })),
+    noForecast: f ? null : gapText(await forecastGap(k, workerId, deviceTypeId)),
+    review: await courseReviewStatus(workerId, deviceTypeId, k),
     showNotes,
   };
 }

@@ -16,6 +16,7 @@ import {
   workerForStaff,
 } from "~/models/assessments.server";
 import { ConsentRequiredError, hasConsent } from "~/models/consent.server";
+import { refreshSummary } from "~/models/forecast.server";
 import { listMeasures } from "~/models/measures.server";
 import { listNormSets } from "~/models/norms.server";
 import { readMultipart, UploadError } from "~/models/uploads.server";
@@ -93,8 +94,8 @@ export async function action({ request, params }: Route.ActionArgs) {
       const measures = (await listMeasures({ activeOnly: true })).filter((m) => m.entry === "manual");
       const v = manualValuesFromForm(obj, measures);
       if (!v.ok) return data({ intent, errors: v.errors, done: null, upload: null }, { status: 400 });
-      const n = await saveManualResults({ workerId, sessionId, values: v.values, userId: p.user.id });
-      return { intent, errors: null, done: `${n} score(s) saved.`, upload: null };
+      const r = await saveManualResults({ workerId, sessionId, values: v.values, userId: p.user.id });
+      return { intent, errors: null, done: `${r.count} score(s) saved. ${refreshSummary(r.forecasts)}`, upload: null };
     }
     if (intent === "upload") {
       const v = parseWith(traceUploadSchema, obj);
@@ -122,7 +123,7 @@ export async function action({ request, params }: Route.ActionArgs) {
         {
           intent,
           errors: null,
-          done: result.ok ? `${file.name} computed and stored.` : null,
+          done: result.ok ? `${file.name} computed and stored. ${refreshSummary(result.forecasts)}`.trim() : null,
           upload: { ...result, filename: file.name },
         },
         { status: result.ok ? 200 : 422 },
@@ -130,11 +131,11 @@ export async function action({ request, params }: Route.ActionArgs) {
     }
     if (intent === "rescore") {
       const normSetId = obj.normSetId ? Number(obj.normSetId) : null;
-      const r = await rescoreSession({ workerId, sessionId, normSetId });
+      const r = await rescoreSession({ workerId, sessionId, normSetId, userId: p.user.id });
       return {
         intent,
         errors: null,
-        done: `Re-scored: ${r.scored} of ${r.total} results have a z-score with the chosen norms.`,
+        done: `Re-scored: ${r.scored} of ${r.total} results have a z-score with the chosen norms. ${refreshSummary(r.forecasts)}`,
         upload: null,
       };
     }

@@ -14,8 +14,10 @@ import {
   trainerHasTrainee,
   trainerIdFor,
 } from "~/models/progress.server";
+import { reviewPath } from "~/schemas/course-review";
 import { logSessionFormSchema } from "~/schemas/forecast";
 import { formToObject, parseWith } from "~/schemas/form";
+import { scoreRead } from "~/schemas/session-log";
 import type { Route } from "./+types/progress.$workerId.$deviceTypeId";
 
 export const meta: Route.MetaFunction = ({ data: d }) => [
@@ -50,7 +52,12 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const view = await progressView(p, workerId, deviceTypeId);
   if (!view) throw data({ error: "No such worker or device type in your scope." }, { status: 404 });
   await recordAccess(p, request, workerId, "progress");
-  return { view, canLog: can(p.user, "sessions.log"), canResolve: can(p.user, "models.manage") };
+  return {
+    view,
+    canLog: can(p.user, "sessions.log"),
+    canResolve: can(p.user, "models.manage"),
+    canReview: can(p, "courses.review"),
+  };
 }
 
 export async function action({ request, params }: Route.ActionArgs) {
@@ -80,11 +87,15 @@ export async function action({ request, params }: Route.ActionArgs) {
       r.forecast.status === "ready" && r.forecast.progress?.remainingHours != null
         ? ` About ${r.forecast.progress.remainingHours.toFixed(1)} h to go.`
         : "";
+    const score = scoreRead(parsed.data.taskScore, typeof form.taskScore === "string" ? form.taskScore : null);
+    const breach = r.wearTimeBreach
+      ? ` It ran ${r.wearTimeBreach.minutes} minutes, over the wear-time limit of ${r.wearTimeBreach.limitMinutes} minutes: saved as logged, and the breach is recorded as a safety finding for the assessors.`
+      : "";
     return {
       errors: null,
       done: r.proficient
-        ? `Session logged. The criterion is met: proficient on ${r.proficientOn} after ${r.cumulativeHours.toFixed(1)} h.`
-        : `Session logged: ${r.cumulativeHours.toFixed(1)} h so far.${f}`,
+        ? `Session logged with task score ${score}. The criterion is met: proficient on ${r.proficientOn} after ${r.cumulativeHours.toFixed(1)} h.${breach}`
+        : `Session logged with task score ${score}: ${r.cumulativeHours.toFixed(1)} h so far.${f}${breach}`,
     };
   } catch (e) {
     if (e instanceof SessionLogError)
@@ -96,7 +107,7 @@ export async function action({ request, params }: Route.ActionArgs) {
 const h = (v: number | null | undefined) => (v == null ? "—" : `${v.toFixed(1)} h`);
 
 export default function ProgressPage({ loaderData }: Route.ComponentProps) {
-  const { view: v, canLog, canResolve } = loaderData;
+  const { view: v, canLog, canResolve, canReview } = loaderData;
   const result = useActionData<typeof action>();
   const nav = useNavigation();
   const busy = nav.state === "submitting";
@@ -124,6 +135,24 @@ export default function ProgressPage({ loaderData }: Route.ComponentProps) {
         </p>
       </div>
       {result?.done && <Notice>{result.done}</Notice>}
+      {(v.course?.status === "paused" || v.review) && (
+        <div
+          role={v.course?.status === "paused" ? "alert" : undefined}
+          className={`rounded-md p-3 ${v.course?.status === "paused" ? "bg-alert-wash text-alert" : "bg-spruce-50 text-spruce-800"}`}
+          data-testid="course-review-status"
+        >
+          <p>
+            {v.course?.status === "paused"
+              ? "Paused after a severe adverse event: an assessor reviews the course before training resumes."
+              : `${v.review!.label} after a pause${v.review!.wearTimeLimitMinutes != null ? `: at most ${v.review!.wearTimeLimitMinutes} minutes per session` : ""}${v.review!.conditions ? `; ${v.review!.conditions}` : ""}.`}
+          </p>
+          {canReview && (
+            <Link to={reviewPath(v.worker.id, v.deviceType.id)} className="text-sm underline">
+              {v.course?.status === "paused" ? "Review and decide" : "Course review"}
+            </Link>
+          )}
+        </div>
+      )}
       {v.reviewFlags.length > 0 && (
         <div role="alert" className="rounded-md bg-alert-wash p-3 text-alert" data-testid="review-flag">
           <p className="font-semibold">Flagged for review</p>
@@ -187,8 +216,8 @@ export default function ProgressPage({ loaderData }: Route.ComponentProps) {
             </p>
           </>
         ) : (
-          <p className="sm:col-span-3 text-sm">
-            No forecast for this worker on this device (no approved model, missing baseline, or no planning consent).
+          <p className="sm:col-span-3 text-sm" data-testid="no-forecast">
+            {v.noForecast}
           </p>
         )}
       </section>
@@ -203,7 +232,7 @@ export default function ProgressPage({ loaderData }: Route.ComponentProps) {
           crossing={proficient ? null : (f?.crossing ?? null)}
         />
       </section>
-      {canLog && !proficient && (
+      {canLog && !proficient && v.course?.status !== "paused" && v.course?.status !== "stopped" && (
         <section className="card" aria-labelledby="log-h">
           <h2 id="log-h" className="text-lg font-semibold">
             Log a session
@@ -220,14 +249,15 @@ export default function ProgressPage({ loaderData }: Route.ComponentProps) {
               label="Practice time (hours)"
               required
               error={errors.durationHours}
-              hint={`Wear-time limit for this device: ${v.deviceType.wearTimeLimitMinutes} minutes per session.`}
+              hint={`Wear-time limit for this worker on this device: ${v.deviceType.wearTimeLimitMinutes} minutes per session.`}
             />
             <TextField
               name="taskScore"
+              inputMode="decimal"
               label="Task score (0–1)"
               required
               error={errors.taskScore}
-              hint="Score on the device's standard task."
+              hint="Score on the device's standard task, e.g. 0.72 or 0,72."
             />
             <div className="sm:col-span-2">
               <TextArea name="notes" label="Notes" rows={2} error={errors.notes} />
