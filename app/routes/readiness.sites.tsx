@@ -1,7 +1,7 @@
 import { Link } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { ReadinessBoardView } from "~/components/readiness-chart";
-import { readinessBoard } from "~/models/readiness.server";
+import { boardViewer, readinessBoard } from "~/models/readiness.server";
 import type { Route } from "./+types/readiness.sites";
 
 export const meta: Route.MetaFunction = () => [{ title: "Site readiness · Limberly" }];
@@ -10,7 +10,7 @@ export const meta: Route.MetaFunction = () => [{ title: "Site readiness · Limbe
 // protected publication as the department view, so the two together reveal nothing more.
 export async function loader({ request }: Route.LoaderArgs) {
   const p = await requireUser(request, "readiness.read");
-  const board = await readinessBoard(p.scope);
+  const board = await readinessBoard(p.scope, boardViewer(p));
   const allowed = board.wholeSites.length > 0 && board.groupings.includes("site");
   return {
     allowed,
