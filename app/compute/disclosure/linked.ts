@@ -50,8 +50,6 @@ export interface LinkedTable {
 export type TableLink =
   /** Rows of table `parent` are sums of rows of table `detail` (parentOf[d] = parent row); same columns. */
   | { kind: "rollup"; detail: number; parent: number; parentOf: number[] }
-  /** Columns of table `parent` are sums of columns of table `detail` (groupOf[j] = parent column); same rows. */
-  | { kind: "columnRollup"; detail: number; parent: number; groupOf: number[] }
   /**
    * Tables `before` and `after` have the same rows and columns, counted at two times; the reader knows
    * Σ |after − before| over the cells is at most maxCellChange (2 per worker who changed stage, 1 per
@@ -147,39 +145,6 @@ function buildLayout(tables: LinkedTable[], links: TableLink[]): Layout {
             entryIndex(layout, tables, link.detail, d.rows.length, j),
             entryIndex(layout, tables, link.parent, p.rows.length, j),
           ],
-          coefficients: [1, -1],
-        });
-      }
-    } else if (link.kind === "columnRollup") {
-      check(link.detail);
-      check(link.parent);
-      const d = tables[link.detail];
-      const p = tables[link.parent];
-      const m = d.rows.length;
-      const n = d.columns.length;
-      const np = p.columns.length;
-      if (p.rows.length !== m) throw new RangeError("a column rollup's tables must have the same rows");
-      if (link.groupOf.length !== n)
-        throw new RangeError(`groupOf has ${link.groupOf.length} entries but there are ${n} detail columns`);
-      for (let q = 0; q < np; q++) {
-        const members = link.groupOf.flatMap((x, j) => (x === q ? [j] : []));
-        for (let i = 0; i < m; i++) {
-          const total = members.reduce((acc, j) => acc + d.counts[i][j], 0);
-          if (total !== p.counts[i][q])
-            throw new RangeError(`parent row ${i}, column ${q} is ${p.counts[i][q]} but its columns sum to ${total}`);
-        }
-        // Every row, the column-total row included (row index m).
-        for (let i = 0; i <= m; i++) {
-          const parts = members.map((j) => entryIndex(layout, tables, link.detail, i, j));
-          layout.relations.push({
-            entries: [...parts, entryIndex(layout, tables, link.parent, i, q)],
-            coefficients: [...parts.map(() => 1), -1],
-          });
-        }
-      }
-      for (let i = 0; i <= m; i++) {
-        layout.relations.push({
-          entries: [entryIndex(layout, tables, link.detail, i, n), entryIndex(layout, tables, link.parent, i, np)],
           coefficients: [1, -1],
         });
       }
