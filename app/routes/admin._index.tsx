@@ -1,12 +1,14 @@
 import { requireUser } from "~/auth/guard.server";
+import { WorkQueue } from "~/components/work-queue";
 import { db } from "~/db.server";
+import { adminQueue } from "~/models/work-queues.server";
 import type { Route } from "./+types/admin._index";
 
 export const meta: Route.MetaFunction = () => [{ title: "Admin · Limberly" }];
 
 // Counts only: admin runs the system but never sees health data.
 export async function loader({ request }: Route.LoaderArgs) {
-  await requireUser(request, "admin.users");
+  const p = await requireUser(request, "admin.users");
   const k = db();
   const count = async (t: string) => Number((await k(t).count<{ n: number }[]>({ n: "*" }).first())?.n ?? 0);
   const activeKeys = Number(
@@ -19,6 +21,7 @@ export async function loader({ request }: Route.LoaderArgs) {
     workers: await count("workers"),
     activeKeys,
     accessReads: await count("access_log"),
+    queue: await adminQueue(p.kind === "user" ? p.user.id : null),
   };
 }
 
@@ -36,6 +39,7 @@ export default function AdminHome({ loaderData: d }: Route.ComponentProps) {
       <h1 className="page-title" data-testid="role-home">
         Admin overview
       </h1>
+      <WorkQueue items={d.queue} />
       <ul className="grid grid-cols-2 gap-3 md:grid-cols-3">
         {tiles.map((t) => (
           <li key={t.label}>

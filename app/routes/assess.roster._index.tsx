@@ -28,7 +28,7 @@ export async function action({ request }: Route.ActionArgs) {
     const id = await saveRosterUpload(p, file.name, file.bytes);
     return redirect(`/assess/roster/${id}`);
   } catch (e) {
-    if (e instanceof UploadError) return data({ error: `Roster file: ${e.message}` }, { status: 413 });
+    if (e instanceof UploadError) return data({ error: `Roster file: ${e.message}` }, { status: e.status });
     if (e instanceof RosterFileError) return data({ error: `Roster file: ${e.message}` }, { status: 400 });
     throw e;
   }
