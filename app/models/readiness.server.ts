@@ -227,18 +227,14 @@ async function publishTable(
   const results: { c: Candidate; prev: StoredPublication | null; r: OverTimeResult; reused: boolean }[] = [];
   for (const c of candidates) {
     const prev = latest?.grouping === c.key ? latest : await latestPublication(tableKey, c.key);
-    if (prev && sameCounts(prev.counts, c.counts)) {
-      results.push({
-        c,
-        prev,
-        r: { status: "ok", published: prev.published, linkedTo: prev.id, note: null },
-        reused: true,
-      });
-      // The finest grouping unchanged and within the share: nothing coarser is needed.
-      if (hiddenShare(prev.published.detail) <= maxShare) break;
-      continue;
-    }
-    results.push({ c, prev, r: protectOverTime(c.counts, prev), reused: false });
+    const reused = prev !== null && sameCounts(prev.counts, c.counts);
+    const r: OverTimeResult =
+      reused && prev
+        ? { status: "ok", published: prev.published, linkedTo: prev.id, note: null }
+        : protectOverTime(c.counts, prev);
+    results.push({ c, prev, r, reused });
+    // The finest grouping within the share is the one used: nothing coarser needs computing.
+    if (r.status === "ok" && hiddenShare(r.published.detail) <= maxShare) break;
   }
   const ok: GroupingCandidate<(typeof results)[number] & { r: { status: "ok" } }>[] = results.flatMap((x) =>
     x.r.status === "ok"
