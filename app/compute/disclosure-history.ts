@@ -32,6 +32,8 @@ export interface StoredPublication {
   grouping: string;
   counts: TableCounts;
   published: PublishedPair;
+  /** What the publication said about itself (e.g. why it is not linked to the one before). */
+  note: string | null;
 }
 
 /**

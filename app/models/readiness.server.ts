@@ -195,19 +195,26 @@ interface Candidate {
   counts: TableCounts;
 }
 
-function parseStored(row: { id: number; grouping: string; counts: string; published: string }): StoredPublication {
+function parseStored(row: {
+  id: number;
+  grouping: string;
+  counts: string;
+  published: string;
+  note: string | null;
+}): StoredPublication {
   return {
     id: Number(row.id),
     grouping: row.grouping,
     counts: JSON.parse(row.counts),
     published: JSON.parse(row.published),
+    note: row.note ?? null,
   };
 }
 
 async function latestPublication(tableKey: string, grouping?: string): Promise<StoredPublication | null> {
   const q = db()("readiness_publications").where({ table_key: tableKey });
   if (grouping) q.where({ grouping });
-  const row = await q.orderBy("id", "desc").first("id", "grouping", "counts", "published");
+  const row = await q.orderBy("id", "desc").first("id", "grouping", "counts", "published", "note");
   return row ? parseStored(row) : null;
 }
 
@@ -230,7 +237,7 @@ async function publishTable(
     const reused = prev !== null && sameCounts(prev.counts, c.counts);
     const r: OverTimeResult =
       reused && prev
-        ? { status: "ok", published: prev.published, linkedTo: prev.id, note: null }
+        ? { status: "ok", published: prev.published, linkedTo: prev.id, note: prev.note }
         : protectOverTime(c.counts, prev);
     results.push({ c, prev, r, reused });
     // The finest grouping within the share is the one used: nothing coarser needs computing.

@@ -57,7 +57,13 @@ function productLeaks(bounds: LinkedInterval[]) {
 describe("a publication protected against the previous one", () => {
   const first = protectOverTime(table(week1), null);
   if (first.status !== "ok") throw new Error("the first publication must be publishable");
-  const stored: StoredPublication = { id: 1, grouping: "stages", counts: table(week1), published: first.published };
+  const stored: StoredPublication = {
+    id: 1,
+    grouping: "stages",
+    counts: table(week1),
+    published: first.published,
+    note: null,
+  };
 
   it("the first publication stands alone", () => {
     expect(first.linkedTo).toBeNull();
