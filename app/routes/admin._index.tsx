@@ -1,12 +1,15 @@
 import { requireUser } from "~/auth/guard.server";
+import { recentSecurityEvents } from "~/auth/throttle.server";
+import { formatInstant } from "~/dates";
 import { db } from "~/db.server";
+import { viewerTimeZone } from "~/models/sites.server";
 import type { Route } from "./+types/admin._index";
 
 export const meta: Route.MetaFunction = () => [{ title: "Admin · Limberly" }];
 
 // Counts only: admin runs the system but never sees health data.
 export async function loader({ request }: Route.LoaderArgs) {
-  await requireUser(request, "admin.users");
+  const p = await requireUser(request, "admin.users");
   const k = db();
   const count = async (t: string) => Number((await k(t).count<{ n: number }[]>({ n: "*" }).first())?.n ?? 0);
   const activeKeys = Number(
@@ -19,6 +22,8 @@ export async function loader({ request }: Route.LoaderArgs) {
     workers: await count("workers"),
     activeKeys,
     accessReads: await count("access_log"),
+    securityEvents: await recentSecurityEvents(),
+    timeZone: await viewerTimeZone(p),
   };
 }
 
@@ -46,6 +51,22 @@ export default function AdminHome({ loaderData: d }: Route.ComponentProps) {
           </li>
         ))}
       </ul>
+      <section aria-labelledby="security-alerts" className="card">
+        <h2 id="security-alerts" className="text-lg font-semibold">
+          Security alerts (last 7 days)
+        </h2>
+        {d.securityEvents.length === 0 ? (
+          <p className="mt-2 text-ink-soft">No limit was reached: no repeated failed sign-ins, API keys or uploads.</p>
+        ) : (
+          <ul className="mt-2 grid gap-2" data-testid="security-alerts">
+            {d.securityEvents.map((e) => (
+              <li key={e.id}>
+                <span className="font-medium">{formatInstant(e.at, d.timeZone)}</span> — {e.detail}
+              </li>
+            ))}
+          </ul>
+        )}
+      </section>
     </div>
   );
 }

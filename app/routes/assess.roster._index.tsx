@@ -1,5 +1,6 @@
 import { data, Form, Link, redirect, useActionData, useNavigation } from "react-router";
 import { requireUser } from "~/auth/guard.server";
+import { countUpload } from "~/auth/throttle.server";
 import { FormError } from "~/components/fields";
 import { FileField } from "~/components/upload";
 import { RosterFileError, recentRosterUploads, saveRosterUpload } from "~/models/roster.server";
@@ -16,6 +17,7 @@ export async function loader({ request }: Route.LoaderArgs) {
 
 export async function action({ request }: Route.ActionArgs) {
   const p = await requireUser(request, "roster.import");
+  await countUpload(request, p.user.id);
   try {
     const { file } = await readMultipart(request, { fileField: "roster", maxBytes: MAX_ROSTER_BYTES });
     if (!file || file.size === 0)

@@ -1,6 +1,7 @@
 import { data, Form, Link, type ShouldRevalidateFunction, useActionData, useNavigation } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { can } from "~/auth/permissions";
+import { countUpload } from "~/auth/throttle.server";
 import { DeviceCautions } from "~/components/device-cautions";
 import { FormError, Notice, SelectField, TextField } from "~/components/fields";
 import { FileField, IssueList } from "~/components/upload";
@@ -71,6 +72,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 
 export async function action({ request, params }: Route.ActionArgs) {
   const p = await requireUser(request, "assessments.write");
+  await countUpload(request, p.user.id);
   const { workerId, sessionId } = ids(params);
   if (!(await workerForStaff(p.scope, workerId)))
     throw data({ error: "No such worker at your sites." }, { status: 404 });
