@@ -51,7 +51,7 @@ app.use(
         // them, bars and gauges set widths); a policy without this would leave charts unsized until hydration.
         // Attributes cannot run script, and React escapes their values.
         styleSrcAttr: ["'unsafe-inline'"],
-        imgSrc: ["'self'", "data:"],
+        imgSrc: ["'self'"],
         fontSrc: ["'self'"],
         connectSrc: ["'self'"],
         manifestSrc: ["'self'"],
