@@ -3,6 +3,7 @@ import { ErrorPanel, errorText } from "~/components/error-panel";
 import { useNonce } from "~/components/nonce";
 import type { Route } from "./+types/root";
 import "./app.css";
+import { keepRetryAfter } from "~/http/headers";
 
 export function Layout({ children }: { children: React.ReactNode }) {
   const nonce = useNonce();
@@ -23,6 +24,8 @@ export function Layout({ children }: { children: React.ReactNode }) {
     </html>
   );
 }
+
+export const headers = keepRetryAfter;
 
 export const links: Route.LinksFunction = () => [
   { rel: "icon", href: "/favicon.ico", sizes: "32x32" },

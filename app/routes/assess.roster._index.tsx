@@ -3,6 +3,7 @@ import { requireUser } from "~/auth/guard.server";
 import { countUpload } from "~/auth/throttle.server";
 import { FormError } from "~/components/fields";
 import { FileField } from "~/components/upload";
+import { keepRetryAfter } from "~/http/headers";
 import { RosterFileError, recentRosterUploads, saveRosterUpload } from "~/models/roster.server";
 import { readMultipart, UploadError } from "~/models/uploads.server";
 import { MAX_ROSTER_BYTES, MAX_ROSTER_ROWS } from "~/schemas/roster";
@@ -14,6 +15,9 @@ export async function loader({ request }: Route.LoaderArgs) {
   const p = await requireUser(request, "roster.import");
   return { recent: await recentRosterUploads(p.user.id) };
 }
+
+// A refused upload (429) keeps its Retry-After on the `.data` answer.
+export const headers = keepRetryAfter;
 
 export async function action({ request }: Route.ActionArgs) {
   const p = await requireUser(request, "roster.import");

@@ -7,6 +7,7 @@ import { FormError, Notice, SelectField, TextField } from "~/components/fields";
 import { FileField, IssueList } from "~/components/upload";
 import { MEASURE_DIRECTIONS } from "~/compute/features";
 import { TRACE_KINDS } from "~/compute/trace-parsing";
+import { keepRetryAfter } from "~/http/headers";
 import { recordAccess } from "~/models/access-log.server";
 import {
   AssessmentInputError,
@@ -69,6 +70,9 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     canWrite: can(p.user, "assessments.write"),
   };
 }
+
+// A refused upload (429) keeps its Retry-After on the `.data` answer.
+export const headers = keepRetryAfter;
 
 export async function action({ request, params }: Route.ActionArgs) {
   const p = await requireUser(request, "assessments.write");
