@@ -4,7 +4,7 @@ import path from "node:path";
 import { afterAll, beforeAll, describe, expect, inject, it } from "vitest";
 import { type AppServer, startApp } from "../../scripts/stack";
 import { PORTS } from "./global-setup";
-import { Browserless, PERSONA, signIn, testDb, useStackDatabaseInProcess } from "./helpers";
+import { Browserless, engine, PERSONA, signIn, testDb, useStackDatabaseInProcess } from "./helpers";
 
 // Rate limits, on an app instance of its own with small limits (the shared test stack has roomy ones) and
 // TRUST_PROXY=loopback, so each request can name its client address in X-Forwarded-For. Same database as
@@ -74,6 +74,13 @@ describe("throttling", () => {
     // The window is 600 s: every refusal says to wait for (nearly all of) it.
     expect(Math.min(...retryAfter)).toBeGreaterThan(500);
     expect(Math.max(...retryAfter)).toBeLessThanOrEqual(600);
+    // On PostgreSQL the counter is a row every instance shares (on SQLite it lives in the one process).
+    if (engine() === "postgres") {
+      const counter = await testDb()("rate_limits")
+        .where({ key: `apiKeyFailuresPerAddress:${attacker}` })
+        .first();
+      expect(counter?.points).toBeGreaterThan(LIMITS.apiAddress);
+    }
     const rows = await events("api-key-failures", attacker);
     expect(rows.length).toBe(1);
     expect(rows[0].detail).toContain(`More than ${LIMITS.apiAddress} in 10 min`);
