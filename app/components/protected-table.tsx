@@ -68,31 +68,34 @@ export function ProtectedTableView(props: ProtectedTableViewProps) {
     (columnTotals ?? []).some((v) => v === null) ||
     grandTotal === null;
   const withTotals = rowTotals !== undefined;
+  const show = (v: number | null | undefined) => <Value v={v ?? null} threshold={threshold} format={format} />;
+  const lines = [
+    ...rows.map((r, i) => ({ label: r, values: cells[i], total: rowTotals?.[i], isTotal: false })),
+    ...(columnTotals ? [{ label: "Total", values: columnTotals, total: grandTotal, isTotal: true }] : []),
+  ];
   return (
     <div className="min-w-0">
+      {/* From the small breakpoint up: a table that fits its column (headings wrap between words). */}
       <section
-        className="relative overflow-x-auto rounded-md border border-line"
-        tabIndex={0}
+        className="relative hidden rounded-md border border-line sm:block print:block"
         aria-labelledby={`${id}-caption`}
       >
-        <table
-          className="table-base min-w-max"
-          data-testid={id}
-          aria-describedby={anyHidden ? `${id}-legend` : undefined}
-        >
+        <table className="table-base" data-testid={id} aria-describedby={anyHidden ? `${id}-legend` : undefined}>
           <caption id={`${id}-caption`} className="px-3 py-2 text-left font-semibold text-ink">
             {caption}
           </caption>
           <thead>
             <tr>
-              <th scope="col">{rowHeader}</th>
+              <th scope="col" className="align-bottom">
+                {rowHeader}
+              </th>
               {columns.map((c) => (
-                <th key={c} scope="col" className="text-right">
+                <th key={c} scope="col" className="text-right align-bottom">
                   {c}
                 </th>
               ))}
               {withTotals && (
-                <th scope="col" className="text-right">
+                <th scope="col" className="text-right align-bottom">
                   Total
                 </th>
               )}
@@ -106,14 +109,10 @@ export function ProtectedTableView(props: ProtectedTableViewProps) {
                 </th>
                 {columns.map((c, j) => (
                   <td key={c} className="text-right tabular-nums">
-                    <Value v={cells[i][j]} threshold={threshold} format={format} />
+                    {show(cells[i][j])}
                   </td>
                 ))}
-                {withTotals && (
-                  <td className="text-right font-semibold tabular-nums">
-                    <Value v={rowTotals[i]} threshold={threshold} format={format} />
-                  </td>
-                )}
+                {withTotals && <td className="text-right font-semibold tabular-nums">{show(rowTotals[i])}</td>}
               </tr>
             ))}
           </tbody>
@@ -125,18 +124,37 @@ export function ProtectedTableView(props: ProtectedTableViewProps) {
                 </th>
                 {columns.map((c, j) => (
                   <td key={c} className="text-right font-semibold tabular-nums">
-                    <Value v={columnTotals[j]} threshold={threshold} format={format} />
+                    {show(columnTotals[j])}
                   </td>
                 ))}
-                {withTotals && (
-                  <td className="text-right font-semibold tabular-nums">
-                    <Value v={grandTotal ?? null} threshold={threshold} format={format} />
-                  </td>
-                )}
+                {withTotals && <td className="text-right font-semibold tabular-nums">{show(grandTotal)}</td>}
               </tr>
             </tfoot>
           )}
         </table>
+      </section>
+      {/* On a phone: one card per row, each figure with its column name beside it. */}
+      <section className="grid gap-2 sm:hidden print:hidden" aria-label={caption} data-testid={`${id}-cards`}>
+        <h3 className="font-semibold text-ink">{caption}</h3>
+        {lines.map((line) => (
+          <div key={line.label} className="rounded-md border border-line p-3">
+            <h4 className={line.isTotal ? "font-semibold" : "font-medium"}>{line.label}</h4>
+            <dl className="mt-1 grid grid-cols-[1fr_auto] gap-x-3 gap-y-1 text-sm">
+              {columns.map((c, j) => (
+                <div key={c} className="contents">
+                  <dt className="text-ink-soft">{c}</dt>
+                  <dd className="text-right tabular-nums">{show(line.values[j])}</dd>
+                </div>
+              ))}
+              {withTotals && (
+                <div className="contents">
+                  <dt className="font-semibold text-ink-soft">Total</dt>
+                  <dd className="text-right font-semibold tabular-nums">{show(line.total)}</dd>
+                </div>
+              )}
+            </dl>
+          </div>
+        ))}
       </section>
       {anyHidden && <HiddenLegend id={`${id}-legend`} threshold={threshold} meaning={hiddenMeaning} />}
     </div>

@@ -34,6 +34,14 @@ export function ReadinessChart({
   });
   const gaps = lines.some((l) => l.values.some((v) => v === null));
   const last = total[total.length - 1];
+  // A chart with nothing to draw says so instead of showing an empty frame.
+  if (!lines.some((l) => l.values.some((v) => v !== null)))
+    return (
+      <PanelNote>
+        Every running total would give away a hidden number, so there is no line to draw yet. The table below shows the
+        periods whose figures can be shown.
+      </PanelNote>
+    );
   return (
     <figure className="grid gap-2" aria-labelledby="planned-chart-caption">
       <figcaption id="planned-chart-caption" className="font-semibold">

@@ -1,8 +1,10 @@
 import { requireUser } from "~/auth/guard.server";
 import { recentSecurityEvents } from "~/auth/throttle.server";
+import { WorkQueue } from "~/components/work-queue";
 import { formatInstant } from "~/dates";
 import { db } from "~/db.server";
 import { viewerTimeZone } from "~/models/sites.server";
+import { adminQueue } from "~/models/work-queues.server";
 import type { Route } from "./+types/admin._index";
 
 export const meta: Route.MetaFunction = () => [{ title: "Admin · Limberly" }];
@@ -24,6 +26,7 @@ export async function loader({ request }: Route.LoaderArgs) {
     accessReads: await count("access_log"),
     securityEvents: await recentSecurityEvents(),
     timeZone: await viewerTimeZone(p),
+    queue: await adminQueue(),
   };
 }
 
@@ -41,6 +44,7 @@ export default function AdminHome({ loaderData: d }: Route.ComponentProps) {
       <h1 className="page-title" data-testid="role-home">
         Admin overview
       </h1>
+      <WorkQueue items={d.queue} />
       <ul className="grid grid-cols-2 gap-3 md:grid-cols-3">
         {tiles.map((t) => (
           <li key={t.label}>

@@ -117,7 +117,7 @@ export default function AdminSites({ loaderData }: Route.ComponentProps) {
           <ActionForm intent="site" result={r} className="mt-3 grid gap-3">
             <TextField name="code" label="Code" required />
             <TextField name="name" label="Name" required />
-            <ZoneInput label="Time zone" defaultValue={defaultZone} />
+            <ZoneInput label="Time zone" defaultValue={defaultZone} optional />
             <button type="submit" className="btn-primary justify-self-start">
               Add site
             </button>
@@ -142,7 +142,16 @@ export default function AdminSites({ loaderData }: Route.ComponentProps) {
 }
 
 /** An IANA zone name, typed or picked from the shared list; the server checks it against the same list. */
-function ZoneInput({ label, defaultValue }: { label: string; defaultValue: string }) {
+function ZoneInput({
+  label,
+  defaultValue,
+  optional = false,
+}: {
+  label: string;
+  defaultValue: string;
+  /** A new site may leave it empty and take the organisation's default. */
+  optional?: boolean;
+}) {
   return (
     <div className="grow">
       <TextField
@@ -150,7 +159,8 @@ function ZoneInput({ label, defaultValue }: { label: string; defaultValue: strin
         label={label}
         list="time-zones"
         defaultValue={defaultValue}
-        required
+        required={!optional}
+        hint={optional ? "Leave empty to use the organisation's default time zone." : undefined}
         autoComplete="off"
       />
     </div>

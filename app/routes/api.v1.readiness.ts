@@ -6,9 +6,20 @@ import { GROUPING_LABELS, readinessApiQuerySchema } from "~/schemas/readiness";
 import type { Route } from "./+types/api.v1.readiness";
 
 // GET /api/v1/readiness?groupBy=site|department|deviceType|stage — protected tables only, the same
-// figures the manager's pages show (null = hidden by disclosure control). No other query parameters:
-// fixed groupings, no filters.
+// figures the manager's pages show. A hidden figure is null, and the parallel `reasons` entry gives its
+// reason code (see REASON_CODES); a shown figure has reason null. No other query parameters: fixed
+// groupings, no filters.
+const REASON_CODES = {
+  protected:
+    "hidden by disclosure control: a count of 1 to threshold − 1 people, or a number that would let one be worked out from the others",
+  "too-few-people": "fewer than threshold people in the group have a forecast",
+} as const;
+type ReasonCode = keyof typeof REASON_CODES;
+
+const reasonOf = (code: ReasonCode) => (v: number | null) => (v === null ? code : null);
+
 function plain(t: ProtectedTable) {
+  const reason = reasonOf("protected");
   return {
     rows: t.rows,
     columns: t.columns,
@@ -16,10 +27,24 @@ function plain(t: ProtectedTable) {
     rowTotals: t.rowTotals,
     columnTotals: t.columnTotals,
     grandTotal: t.grandTotal,
+    reasons: {
+      cells: t.cells.map((r) => r.map(reason)),
+      rowTotals: t.rowTotals.map(reason),
+      columnTotals: t.columnTotals.map(reason),
+      grandTotal: reason(t.grandTotal),
+    },
   };
 }
+function medians(rows: string[], columns: string[], cells: (number | null)[][]) {
+  const reason = reasonOf("too-few-people");
+  return { rows, columns, cells, reasons: { cells: cells.map((r) => r.map(reason)) } };
+}
 function transposeMedians(t: MedianTable) {
-  return { rows: t.columns, columns: t.rows, cells: t.columns.map((_, j) => t.rows.map((_, i) => t.cells[i][j])) };
+  return medians(
+    t.columns,
+    t.rows,
+    t.columns.map((_, j) => t.rows.map((_, i) => t.cells[i][j])),
+  );
 }
 
 export async function loader({ request }: Route.LoaderArgs) {
@@ -56,7 +81,7 @@ export async function loader({ request }: Route.LoaderArgs) {
     if (board.ready.status === "ok" && board.ready[groupBy]) tables.readyByDeviceType = plain(board.ready[groupBy]!);
     if (board.medians.status === "ok" && board.medians[groupBy]) {
       const m = board.medians[groupBy]!;
-      tables.medianForecastHours = { rows: m.rows, columns: m.columns, cells: m.cells };
+      tables.medianForecastHours = medians(m.rows, m.columns, m.cells);
     }
   } else if (groupBy === "deviceType") {
     if (board.ready.status === "ok" && board.ready[level])
@@ -75,7 +100,8 @@ export async function loader({ request }: Route.LoaderArgs) {
     {
       groupBy,
       threshold: board.threshold,
-      hidden: `null means hidden: a count of 1 to ${board.threshold - 1} people, or a number that would let one be worked out from the others`,
+      hidden: "null means hidden; each table's reasons give the code, reasonCodes what it means",
+      reasonCodes: REASON_CODES,
       scope: board.scopeLabel,
       tables,
       notes,

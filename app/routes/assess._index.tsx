@@ -1,6 +1,8 @@
 import { Link } from "react-router";
 import { requireUser } from "~/auth/guard.server";
+import { WorkQueue } from "~/components/work-queue";
 import { STAGE_LABELS, STAGES, type Stage } from "~/domain/stages";
+import { assessorQueue } from "~/models/work-queues.server";
 import { stageCountsBySite } from "~/models/workers.server";
 import type { Route } from "./+types/assess._index";
 
@@ -9,7 +11,8 @@ export const meta: Route.MetaFunction = () => [{ title: "Assessment home · Limb
 // The assessor's start: where the workers at their sites stand in the flow.
 export async function loader({ request }: Route.LoaderArgs) {
   const p = await requireUser(request, "workers.read");
-  return { name: p.user.displayName, counts: await stageCountsBySite(p.scope) };
+  const [counts, queue] = await Promise.all([stageCountsBySite(p.scope), assessorQueue(p)]);
+  return { name: p.user.displayName, counts, queue };
 }
 
 export default function AssessHome({ loaderData }: Route.ComponentProps) {
@@ -24,6 +27,7 @@ export default function AssessHome({ loaderData }: Route.ComponentProps) {
         </h1>
         <p className="text-ink-soft">Workers at your sites by readiness stage.</p>
       </div>
+      <WorkQueue items={loaderData.queue} />
       <nav aria-label="Assessment tasks" className="grid gap-3 sm:grid-cols-3">
         {[
           { to: "/assess/workers", title: "Workers", text: "Find a worker, record consent, start a baseline." },

@@ -1,22 +1,26 @@
 import { Link } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { DeviceCautions } from "~/components/device-cautions";
+import { WorkQueue } from "~/components/work-queue";
 import { listRuns } from "~/models/allocation-runs.server";
 import { fleetSummary, trainersSummary } from "~/models/fleet.server";
 import { planState } from "~/models/publish.server";
+import { coordinatorQueue } from "~/models/work-queues.server";
 import type { Route } from "./+types/coordinate._index";
 
 export const meta: Route.MetaFunction = () => [{ title: "Coordination home · Limberly" }];
 
 export async function loader({ request }: Route.LoaderArgs) {
   const p = await requireUser(request, "fleet.manage");
-  const [fleet, trainers, plan, runs] = await Promise.all([
+  const [fleet, trainers, plan, runs, queue] = await Promise.all([
     fleetSummary(p.scope),
     trainersSummary(p.scope),
     planState(),
     listRuns(p.scope, 5),
+    coordinatorQueue(p),
   ]);
   return {
+    queue,
     fleet,
     trainers,
     plan,
@@ -31,12 +35,13 @@ export async function loader({ request }: Route.LoaderArgs) {
 }
 
 export default function CoordinateHome({ loaderData }: Route.ComponentProps) {
-  const { fleet, trainers, plan, runs } = loaderData;
+  const { fleet, trainers, plan, runs, queue } = loaderData;
   return (
     <div className="grid gap-6">
       <h1 className="page-title" data-testid="role-home">
         Coordination home
       </h1>
+      <WorkQueue items={queue} />
       <section aria-labelledby="plan" className="card grid gap-2">
         <h2 id="plan" className="text-lg font-semibold">
           Training plan

@@ -1,6 +1,7 @@
 import { Link } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { DeviceCautions } from "~/components/device-cautions";
+import { PrintButton } from "~/components/print-button";
 import { ReadinessBoardView } from "~/components/readiness-chart";
 import { HIDDEN_SYMBOL } from "~/compute/readiness-views";
 import { readinessBoard } from "~/models/readiness.server";
@@ -35,11 +36,12 @@ export default function ReadinessHome({ loaderData }: Route.ComponentProps) {
           <span className="sr-only">the hidden symbol</span>; a few other numbers are hidden with them so that a small
           group cannot be worked out by subtraction. The figures are the same on every page, export and the API.
         </p>
-        <div className="flex flex-wrap gap-2">
+        <div className="flex flex-wrap gap-2 print:hidden">
           <a className="btn-quiet" href="/readiness/export.xlsx" download>
             Download these tables (XLSX)
           </a>
-          {board.wholeSites.length > 0 && board.groupings.includes("site") && (
+          <PrintButton />
+          {board.groupings.includes("site") && (
             <Link className="btn-quiet" to="/readiness/sites">
               Site view
             </Link>

@@ -1,15 +1,16 @@
 import { requireUser } from "~/auth/guard.server";
 import type { ProtectedTable } from "~/compute/disclosure";
-import { HIDDEN_SYMBOL } from "~/compute/readiness-views";
 import { todayIn } from "~/dates";
 import { type MedianTable, type ReadinessBoard, readinessBoard } from "~/models/readiness.server";
 import { viewerTimeZone } from "~/models/sites.server";
 import { type SheetSpec, workbookBuffer, xlsxResponse } from "~/xlsx.server";
 import type { Route } from "./+types/readiness.export";
 
-// XLSX download of exactly the protected tables the manager's pages show; hidden numbers are the
-// hidden symbol, never a value.
-const HIDDEN_TEXT = `${HIDDEN_SYMBOL} hidden`;
+// XLSX download of exactly the protected tables the manager's pages show. Every figure is a number
+// cell so sums work; a hidden figure is an empty cell, and the row's last column says which figures
+// of that row are hidden and why. One reason for every hidden count: saying which were hidden for
+// being small would tell the reader those are 1 to threshold − 1.
+const HIDDEN_COLUMN = "Hidden in this row";
 
 function sheet(name: string, rowHeader: string, t: ProtectedTable | MedianTable, note: string): SheetSpec {
   const protectedTable = "rowTotals" in t ? t : null;
@@ -18,25 +19,25 @@ function sheet(name: string, rowHeader: string, t: ProtectedTable | MedianTable,
     ...t.columns.map((c, j) => ({ header: c, key: `c${j}`, width: 16 })),
   ];
   if (protectedTable) columns.push({ header: "Total", key: "total", width: 12 });
-  const val = (v: number | null) => (v === null ? HIDDEN_TEXT : v);
-  const rows: Record<string, unknown>[] = t.rows.map((r, i) => ({
-    group: r,
-    ...Object.fromEntries(t.columns.map((_, j) => [`c${j}`, val(t.cells[i][j])])),
-    ...(protectedTable ? { total: val(protectedTable.rowTotals[i]) } : {}),
-  }));
-  if (protectedTable) {
-    rows.push({
-      group: "Total",
-      ...Object.fromEntries(t.columns.map((_, j) => [`c${j}`, val(protectedTable.columnTotals[j])])),
-      total: val(protectedTable.grandTotal),
-    });
-  }
+  columns.push({ header: HIDDEN_COLUMN, key: "hidden", width: 40 });
+  const row = (group: string, values: (number | null)[], total?: number | null): Record<string, unknown> => {
+    const hiddenNames = values.flatMap((v, j) => (v === null ? [t.columns[j]] : []));
+    if (total === null) hiddenNames.push("Total");
+    return {
+      group,
+      ...Object.fromEntries(values.map((v, j) => [`c${j}`, v])),
+      ...(protectedTable ? { total } : {}),
+      hidden: hiddenNames.join(", "),
+    };
+  };
+  const rows = t.rows.map((r, i) => row(r, t.cells[i], protectedTable?.rowTotals[i]));
+  if (protectedTable) rows.push(row("Total", protectedTable.columnTotals, protectedTable.grandTotal));
   return { name, columns, rows, note };
 }
 
 function boardSheets(board: ReadinessBoard): SheetSpec[] {
   const t = board.threshold;
-  const note = `${HIDDEN_TEXT}: a count of 1 to ${t - 1} people, or a number that would let one be worked out from the others. Zeros are shown.`;
+  const note = `An empty cell is hidden: a count of 1 to ${t - 1} people, or a number that would let one be worked out from the others. Zeros are shown.`;
   const sheets: SheetSpec[] = [];
   for (const level of ["department", "site"] as const) {
     const label = level === "department" ? "Department" : "Site";
@@ -52,7 +53,7 @@ function boardSheets(board: ReadinessBoard): SheetSpec[] {
           `Median hours (${level})`,
           label,
           board.medians[level]!,
-          `${HIDDEN_TEXT}: fewer than ${t} people in the group have a forecast. Median of current forecasts of total training hours.`,
+          `An empty cell is hidden: fewer than ${t} people in the group have a forecast. Median of current forecasts of total training hours.`,
         ),
       );
     }

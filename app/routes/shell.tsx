@@ -59,14 +59,14 @@ function Frame({ user, nav, children }: Awaited<ReturnType<typeof loader>> & { c
               {" · "}
               {user.roles.map((r) => ROLE_LABELS[r]).join(", ")}
             </span>
-            <Form method="post" action="/sign-out">
+            <Form method="post" action="/sign-out" className="print:hidden">
               <button type="submit" className="btn-quiet min-h-10 px-3 py-1">
                 Sign out
               </button>
             </Form>
           </div>
         </div>
-        <nav aria-label="Main" className="mx-auto max-w-6xl overflow-x-auto px-4 pb-2">
+        <nav aria-label="Main" className="mx-auto max-w-6xl overflow-x-auto px-4 pb-2 print:hidden">
           <ul className="flex gap-1 whitespace-nowrap md:flex-wrap">
             {nav.flatMap((group) =>
               group.items.map((item) => (

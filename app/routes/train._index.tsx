@@ -1,9 +1,11 @@
 import { Form, Link } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { DeviceCautions } from "~/components/device-cautions";
+import { WorkQueue } from "~/components/work-queue";
 import { formatDay, formatSpan } from "~/dates";
 import { trainerProfileForUser } from "~/models/fleet.server";
 import { type ScheduledSession, trainerDay, trainerForUser } from "~/models/trainer-day.server";
+import { trainerQueue } from "~/models/work-queues.server";
 import type { Route } from "./+types/train._index";
 
 export const meta: Route.MetaFunction = () => [{ title: "My training days · Limberly" }];
@@ -17,6 +19,7 @@ export async function loader({ request }: Route.LoaderArgs) {
     name: p.user.displayName,
     profile: await trainerProfileForUser(p.user.id),
     day: trainer ? await trainerDay(trainer.id) : null,
+    queue: trainer ? await trainerQueue(trainer.id) : null,
   };
 }
 
@@ -86,7 +89,7 @@ function SessionCard({ s, showDay }: { s: ScheduledSession; showDay?: boolean })
 }
 
 export default function TrainHome({ loaderData }: Route.ComponentProps) {
-  const { name, profile, day } = loaderData;
+  const { name, profile, day, queue } = loaderData;
   return (
     <div className="grid gap-6">
       <div>
@@ -100,6 +103,7 @@ export default function TrainHome({ loaderData }: Route.ComponentProps) {
             : ""}
         </p>
       </div>
+      {queue && <WorkQueue items={queue} />}
       {!profile && (
         <p className="card">
           You have the trainer role but no trainer profile yet. Ask your training coordinator to add you.

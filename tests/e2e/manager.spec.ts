@@ -35,9 +35,28 @@ test("manager sees protected readiness for their departments and exports it", as
   await page.screenshot({ path: testInfo.outputPath("manager-home-390.png"), fullPage: true });
 });
 
-test("a department manager's site view explains that it is for whole-site managers", async ({ page, signInAs }) => {
+test("a department manager's site view adds up their departments per site, and no table scrolls at 1366 px", async ({
+  page,
+  signInAs,
+}, testInfo) => {
   await signInAs(page, persona("manager").email);
-  await page.goto("/readiness/sites");
-  await expect(page.getByText("The site view is for managers responsible for a whole site.")).toBeVisible();
-  await expect(page.getByRole("table")).toHaveCount(0);
+  await page.setViewportSize({ width: 1366, height: 900 });
+  for (const path of ["/readiness", "/readiness/sites"]) {
+    await page.goto(path);
+    // Each table fits the card it sits in (common practice for dashboards: no sideways scrolling at a laptop width).
+    const overflowing = await page.evaluate(() =>
+      [...document.querySelectorAll("table")]
+        .filter((t) => t.scrollWidth > (t.parentElement?.clientWidth ?? 0) + 1)
+        .map((t) => t.caption?.textContent ?? "a table"),
+    );
+    expect(overflowing, path).toEqual([]);
+  }
+  await expect(page.getByRole("heading", { name: "Site readiness" })).toBeVisible();
+  const stage = page.getByTestId("stage-table-site");
+  await expect(stage.getByRole("rowheader", { name: "North Yard (your departments)" })).toBeVisible();
+  await expect(page.getByText("Kitting")).toHaveCount(0);
+  await page.screenshot({ path: testInfo.outputPath("manager-sites-desktop.png"), fullPage: true });
+  await page.setViewportSize({ width: 390, height: 900 });
+  await expect(page.getByTestId("stage-table-site-cards").getByText("North Yard (your departments)")).toBeVisible();
+  await expectNoSidewaysScroll(page, 390);
 });

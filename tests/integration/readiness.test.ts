@@ -161,6 +161,83 @@ describe("manager payloads contain nothing personal", () => {
   });
 });
 
+describe("exports that add up", () => {
+  // Spreadsheet convention (common practice): a figure is a number cell so SUM works; text in a
+  // number column breaks it. Checked by reading the file back with exceljs, a reader outside the app.
+  it("every XLSX figure is a number or empty, the hidden column names each empty one, and shown parts sum to shown totals", async () => {
+    const x = await manager.request("/readiness/export.xlsx");
+    expect(x.status).toBe(200);
+    const wb = new ExcelJS.Workbook();
+    await wb.xlsx.load(await x.arrayBuffer());
+    let hiddenSeen = 0;
+    let sumsChecked = 0;
+    for (const ws of wb.worksheets) {
+      const header = (ws.getRow(1).values as unknown[]).slice(1).map(String);
+      const hiddenCol = header.indexOf("Hidden in this row");
+      expect(hiddenCol, ws.name).toBeGreaterThan(0);
+      const totalCol = header.indexOf("Total");
+      const figureCols = header.slice(1, hiddenCol).map((_, k) => k + 1);
+      for (let r = 2; r <= ws.rowCount; r++) {
+        const row = ws.getRow(r);
+        const label = row.getCell(1).value;
+        if (label === null || label === undefined) break; // the note below the table
+        const values = figureCols.map((c) => row.getCell(c + 1).value);
+        const named = String(row.getCell(hiddenCol + 1).value ?? "")
+          .split(", ")
+          .filter(Boolean);
+        values.forEach((v, k) => {
+          const col = header[figureCols[k]];
+          if (v === null || v === undefined) {
+            hiddenSeen++;
+            expect(named, `${ws.name} ${label} ${col}`).toContain(col);
+          } else {
+            expect(typeof v, `${ws.name} ${label} ${col}`).toBe("number");
+            expect(named).not.toContain(col);
+          }
+        });
+        if (totalCol > 0) {
+          const parts = values.slice(0, totalCol - 1);
+          const total = values[totalCol - 1];
+          if (typeof total === "number" && parts.every((v) => typeof v === "number")) {
+            expect(
+              (parts as number[]).reduce((a, b) => a + b, 0),
+              `${ws.name} ${label}`,
+            ).toBe(total);
+            sumsChecked++;
+          }
+        }
+      }
+    }
+    expect(hiddenSeen).toBeGreaterThan(0); // the paused Kitting pair is hidden somewhere
+    expect(sumsChecked).toBeGreaterThan(0);
+    expect(await xlsxText(await (await manager.request("/readiness/export.xlsx")).arrayBuffer())).not.toMatch(
+      /hidden$/m,
+    );
+  });
+
+  it("the API gives null with a reason code for every hidden figure and none for a shown one", async () => {
+    const res = await manager.request("/api/v1/readiness?groupBy=department");
+    const body = (await res.json()) as {
+      reasonCodes: Record<string, string>;
+      tables: Record<string, { cells: (number | null)[][]; reasons: { cells: (string | null)[][] } }>;
+    };
+    expect(Object.keys(body.reasonCodes).sort()).toEqual(["protected", "too-few-people"]);
+    let hidden = 0;
+    for (const [name, t] of Object.entries(body.tables)) {
+      t.cells.forEach((line, i) => {
+        line.forEach((v, j) => {
+          const reason = t.reasons.cells[i][j];
+          if (v === null) {
+            hidden++;
+            expect(body.reasonCodes, `${name} r${i} c${j}`).toHaveProperty(reason as string);
+          } else expect(reason, `${name} r${i} c${j}`).toBeNull();
+        });
+      });
+    }
+    expect(hidden).toBeGreaterThan(0);
+  });
+});
+
 describe("the payload scan itself", () => {
   it("finds the worker persona in her own page (control: the scan can see a leak)", async () => {
     const workers: WorkerRow[] = await testDb()("workers").select(
