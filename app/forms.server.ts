@@ -63,3 +63,13 @@ export function userErrorResponse(e: unknown): Response {
   if (!(e instanceof UserError)) throw e;
   return Response.json({ error: e.message, ...(e.field ? { field: e.field } : {}) }, { status: e.status });
 }
+
+/** Runs a loader's body; a UserError it throws is answered as its JSON response (the error boundary shows it). */
+export async function answerUserErrors<T>(run: () => Promise<T>): Promise<T> {
+  try {
+    return await run();
+  } catch (e) {
+    if (e instanceof UserError) throw userErrorResponse(e);
+    throw e;
+  }
+}

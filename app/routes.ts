@@ -25,6 +25,7 @@ export default [
     route("admin/users/:userId", "routes/admin.users.$userId.tsx"),
     route("admin/sites", "routes/admin.sites.tsx"),
     route("admin/api-keys", "routes/admin.api-keys.tsx"),
+    route("admin/approvals", "routes/admin.approvals.tsx"),
     route("admin/consent-texts", "routes/admin.consent-texts.tsx"),
     route("admin/access-log", "routes/admin.access-log.tsx"),
     route("admin/outbox", "routes/admin.outbox.tsx"),

@@ -393,7 +393,7 @@ export async function seed(knex: Knex): Promise<void> {
     for (const d of devices) {
       if (!MODELS[d.code]) continue;
       const v = await saveModelVersion(
-        { deviceTypeId: d.id, measureIds, ridge: 0, notes: "Demo model on the synthetic cohort (invented data)." },
+        { deviceTypeId: d.id, measureIds, notes: "Demo model on the synthetic cohort (invented data)." },
         morwenna,
         trx,
         { now: FITTED_AT },

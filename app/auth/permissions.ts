@@ -101,6 +101,20 @@ export function actionsFor(role: Role): readonly Action[] {
   return TABLE[role];
 }
 
+// Actions that reach an individual's health data (scores, traces, clinical forecasts, session logs).
+const HEALTH_DATA_ACTIONS: readonly Action[] = [
+  "assessments.read",
+  "assessments.write",
+  "forecast.clinical",
+  "sessions.log",
+  "progress.notes",
+];
+
+/** A clinical role reaches health data: granting it (to a person or an API key) takes a second admin. */
+export function isClinicalRole(role: Role): boolean {
+  return TABLE[role].some((a) => HEALTH_DATA_ACTIONS.includes(a));
+}
+
 export const ROLE_LABELS: Record<Role, string> = {
   assessor: "Assessor",
   coordinator: "Coordinator",

@@ -21,6 +21,16 @@ const cookie = createCookie("__limberly", {
   secrets: [sessionSecret],
 });
 
+/** The identity-provider-confirmed e-mail of someone without a role, shown on the not-provisioned page. */
+export const unprovisionedEmail = createCookie("__limberly_unprovisioned", {
+  httpOnly: true,
+  sameSite: "lax",
+  secure: isProduction,
+  path: "/auth/not-provisioned",
+  maxAge: 5 * 60,
+  secrets: [sessionSecret],
+});
+
 export const sessionStorage = createSessionStorage<SessionData>({
   cookie,
   async createData(data, expires) {

@@ -1,3 +1,4 @@
+import { useId, useState } from "react";
 import { Bar, CartesianGrid, ComposedChart, Line, Tooltip, XAxis, YAxis } from "recharts";
 import { round1 } from "~/compute/rounding";
 import { ChartFrame } from "./chart-frame";
@@ -64,5 +65,63 @@ export function CapacityChart({ title, unit, points }: { title: string; unit: st
         </table>
       </details>
     </figure>
+  );
+}
+
+export interface CapacityResource {
+  kind: string;
+  id: string;
+  points: CapacityPoint[];
+}
+
+/**
+ * All resources' capacity use in one chart with a selector, opening on the fullest resource (highest share of
+ * its hours used), so the run page shows one chart instead of one per device type and trainer.
+ */
+export function CapacityExplorer({ resources }: { resources: CapacityResource[] }) {
+  const share = (r: CapacityResource) => {
+    const cap = r.points.reduce((s, p) => s + p.capacity, 0);
+    return cap > 0 ? r.points.reduce((s, p) => s + p.used, 0) / cap : 0;
+  };
+  const key = (r: CapacityResource) => `${r.kind}|${r.id}`;
+  const fullest = [...resources].sort((a, b) => share(b) - share(a))[0];
+  const [chosen, setChosen] = useState(fullest ? key(fullest) : "");
+  const id = useId();
+  if (!fullest) return <p className="text-ink-soft">No capacity use to show.</p>;
+  const current = resources.find((r) => key(r) === chosen) ?? fullest;
+  const label = (r: CapacityResource) =>
+    `${r.kind === "device" ? "Device type" : "Trainer"}: ${r.id} (${Math.round(share(r) * 100)} % used)`;
+  return (
+    <div className="grid gap-2">
+      <div>
+        <label htmlFor={id} className="field-label">
+          Resource
+        </label>
+        <select
+          id={id}
+          className="field-input max-w-full"
+          value={key(current)}
+          onChange={(e) => setChosen(e.target.value)}
+          data-testid="capacity-select"
+        >
+          {["device", "trainer"].map((kind) => (
+            <optgroup key={kind} label={kind === "device" ? "Device types (device-hours)" : "Trainers (trainer-hours)"}>
+              {resources
+                .filter((r) => r.kind === kind)
+                .map((r) => (
+                  <option key={key(r)} value={key(r)}>
+                    {label(r)}
+                  </option>
+                ))}
+            </optgroup>
+          ))}
+        </select>
+      </div>
+      <CapacityChart
+        title={`${current.kind === "device" ? "Device type" : "Trainer"} ${current.id}: hours used (bars) and available (line) per week`}
+        unit={current.kind === "device" ? "device-hours" : "trainer-hours"}
+        points={current.points}
+      />
+    </div>
   );
 }

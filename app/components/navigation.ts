@@ -16,6 +16,7 @@ const BASE: Record<Role, NavItem[]> = {
     { to: "/admin/users", label: "Users and roles" },
     { to: "/admin/sites", label: "Sites and departments" },
     { to: "/admin/api-keys", label: "API keys" },
+    { to: "/admin/approvals", label: "Approvals and role audit" },
     { to: "/admin/consent-texts", label: "Consent texts" },
     { to: "/admin/access-log", label: "Access log" },
   ],

@@ -3,7 +3,7 @@
 // and minimal detectable change that turn a reliability into "is this change real?" (Weir 2005,
 // J Strength Cond Res 19:231–240).
 
-import { normalQuantile } from "./student-t";
+import { fQuantile, normalCdf, normalQuantile } from "./student-t";
 
 export type IccForm = "ICC(1,1)" | "ICC(2,1)" | "ICC(3,1)" | "ICC(1,k)" | "ICC(2,k)" | "ICC(3,k)";
 
@@ -150,4 +150,74 @@ export function minimalDetectableChange(sem: number, confidence = 0.95): number 
 /** Normal quantile for a two-sided interval: z with P(|Z| ≤ z) = confidence. */
 export function twoSidedZ(confidence: number): number {
   return normalQuantile(1 - (1 - confidence) / 2);
+}
+
+export type SingleMeasureForm = "ICC(1,1)" | "ICC(2,1)" | "ICC(3,1)";
+
+/**
+ * Confidence interval of a single-measure ICC (McGraw & Wong 1996, Psychological Methods 1:30–46,
+ * Table 7: cases 1, 2A and 3C). ICC(1,1) and ICC(3,1) invert an exact F test; ICC(2,1) (absolute agreement)
+ * uses Satterthwaite's approximate degrees of freedom v for the combined denominator.
+ */
+export function iccConfidenceInterval(
+  ratings: number[][],
+  form: SingleMeasureForm,
+  level = 0.95,
+): { icc: number; lower: number; upper: number; level: number } {
+  if (!(level > 0 && level < 1)) throw new RangeError(`level must be between 0 and 1, got ${level}`);
+  const { subjects: n, raters: k, bms, wms, jms, ems } = iccMeanSquares(ratings);
+  const icc = intraclassCorrelation(ratings, form);
+  const p = 1 - (1 - level) / 2;
+  const fromF = (fl: number, fu: number) => ({ lower: (fl - 1) / (fl + k - 1), upper: (fu - 1) / (fu + k - 1) });
+  if (form === "ICC(1,1)") {
+    const f = bms / wms;
+    const df2 = n * (k - 1);
+    return { icc, level, ...fromF(f / fQuantile(p, n - 1, df2), f * fQuantile(p, df2, n - 1)) };
+  }
+  const dfE = (n - 1) * (k - 1);
+  if (form === "ICC(3,1)") {
+    const f = bms / ems;
+    return { icc, level, ...fromF(f / fQuantile(p, n - 1, dfE), f * fQuantile(p, dfE, n - 1)) };
+  }
+  if (form !== "ICC(2,1)") throw new RangeError(`unknown single-measure ICC form ${String(form)}`);
+  const a = (k * icc) / (n * (1 - icc));
+  const b = 1 + (k * icc * (n - 1)) / (n * (1 - icc));
+  const v = (a * jms + b * ems) ** 2 / ((a * jms) ** 2 / (k - 1) + (b * ems) ** 2 / dfE);
+  const fStar = fQuantile(p, n - 1, v);
+  const fStarLow = fQuantile(p, v, n - 1);
+  const c = k * jms + (k * n - k - n) * ems;
+  return {
+    icc,
+    level,
+    lower: (n * (bms - fStar * ems)) / (fStar * c + n * bms),
+    upper: (n * (fStarLow * bms - ems)) / (c + n * fStarLow * bms),
+  };
+}
+
+export type ReliabilityLabel = "poor" | "moderate" | "good" | "excellent";
+
+/** Koo & Li (2016, J Chiropr Med 15:155–163): < 0.5 poor, 0.5–0.75 moderate, 0.75–0.9 good, > 0.9 excellent. */
+export function reliabilityLabel(icc: number): ReliabilityLabel {
+  if (!Number.isFinite(icc)) throw new RangeError(`ICC must be a finite number, got ${icc}`);
+  if (icc < 0.5) return "poor";
+  if (icc < 0.75) return "moderate";
+  if (icc <= 0.9) return "good";
+  return "excellent";
+}
+
+/**
+ * Reliable change index (Jacobson & Truax 1991, J Consult Clin Psychol 59:12–19): the change divided by the
+ * standard error of a difference, √2·SEM, with its two-sided normal p-value.
+ */
+export function reliableChangeIndex(
+  before: number,
+  after: number,
+  sd: number,
+  reliability: number,
+): { rci: number; pValue: number } {
+  if (!Number.isFinite(before) || !Number.isFinite(after)) throw new RangeError("both values must be finite numbers");
+  const seDifference = Math.SQRT2 * standardErrorOfMeasurement(sd, reliability);
+  if (!(seDifference > 0)) throw new RangeError("the standard error of a difference is 0; the change cannot be judged");
+  const rci = (after - before) / seDifference;
+  return { rci, pValue: 2 * (1 - normalCdf(Math.abs(rci))) };
 }

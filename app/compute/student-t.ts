@@ -6,6 +6,7 @@ import jStatLib from "jstat";
 interface JStatLike {
   studentt: { inv(p: number, df: number): number; cdf(x: number, df: number): number };
   normal: { inv(p: number, mean: number, sd: number): number; cdf(x: number, mean: number, sd: number): number };
+  centralF: { inv(p: number, df1: number, df2: number): number };
 }
 
 const jStat = jStatLib as unknown as JStatLike;
@@ -32,4 +33,11 @@ export function normalQuantile(probability: number): number {
 /** Standard normal cumulative distribution. */
 export function normalCdf(z: number): number {
   return jStat.normal.cdf(z, 0, 1);
+}
+
+/** Quantile of the F distribution with (df1, df2) degrees of freedom (df may be non-integer). */
+export function fQuantile(probability: number, df1: number, df2: number): number {
+  if (!(probability > 0 && probability < 1)) throw new RangeError(`probability must be in (0, 1), got ${probability}`);
+  if (!(df1 > 0 && df2 > 0)) throw new RangeError(`degrees of freedom must be > 0, got ${df1} and ${df2}`);
+  return jStat.centralF.inv(probability, df1, df2);
 }

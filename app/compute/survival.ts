@@ -33,6 +33,7 @@ export interface KaplanMeierEstimate {
 export interface LognormalAftFit {
   coefficients: number[]; // intercept first, effects on log(time)
   standardErrors: number[]; // from the observed information matrix
+  covariance: number[][]; // of the coefficients (same order), from the observed information matrix
   sigma: number; // scale of log(time)
   logSigmaStandardError: number;
   logLikelihood: number; // Σ events [log φ(z) − log σ] + Σ censored log(1 − Φ(z)), on the log-time scale
@@ -294,10 +295,14 @@ export function fitLognormalAft(
   }
   const standardErrors = Array.from({ length: p }, (_, j) => Math.sqrt(covariance.get(j, j)));
   const logSigmaStandardError = Math.sqrt(covariance.get(p, p));
+  const coefficientCovariance = Array.from({ length: p }, (_, j) =>
+    Array.from({ length: p }, (_, l) => covariance.get(j, l)),
+  );
 
   return {
     coefficients,
     standardErrors,
+    covariance: coefficientCovariance,
     sigma,
     logSigmaStandardError,
     logLikelihood: current.logLikelihood,

@@ -73,6 +73,13 @@ const REQUIRED_COLUMNS: Record<TraceKind, readonly string[]> = {
   force: ["target", "produced"],
 };
 
+/**
+ * Largest magnitude accepted in a recording cell or a typed score. Far above any real unit used (ms timestamps
+ * of a day, newtons, millimetres), and small enough that sums of squares over the largest file stay finite
+ * (1e12² × 200,000 ≈ 2e29, far below Number.MAX_VALUE ≈ 1.8e308).
+ */
+export const MAX_ABS_VALUE = 1e12;
+
 /** Plain decimal or scientific notation; no thousands separators, no "NaN"/"Infinity". */
 const NUMBER_PATTERN = /^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/;
 
@@ -191,8 +198,13 @@ export function parseTrace<K extends TraceKind>(
         issues.add({ row: rowNumber, column: name, message: `"${raw}" is not a number${hint}` });
         return;
       }
+      const value = Number(raw);
+      if (!(Math.abs(value) <= MAX_ABS_VALUE)) {
+        issues.add({ row: rowNumber, column: name, message: `"${raw}" is outside the accepted range (±1e12)` });
+        return;
+      }
       const column = columns.get(name)!;
-      column.values.push(Number(raw));
+      column.values.push(value);
       column.rows.push(rowNumber);
     });
   }

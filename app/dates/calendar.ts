@@ -149,12 +149,16 @@ function zoned(instant: Instant | Date, zone: string) {
  * compare stored wall-clock times with.
  */
 export function dayAndWeekIn(zone: string, now: Instant | Date) {
-  const today = dateIn(now, zone);
-  const monday = weekStart(today);
+  return dayAndWeekOf(dateIn(now, zone));
+}
+
+/** The same bounds for a given calendar day and its week (Monday to Sunday). */
+export function dayAndWeekOf(date: IsoDate) {
+  const monday = weekStart(date);
   return {
-    date: today,
-    dayStart: startOfDay(today),
-    dayEnd: startOfDay(addDays(today, 1)),
+    date,
+    dayStart: startOfDay(date),
+    dayEnd: startOfDay(addDays(date, 1)),
     weekStart: startOfDay(monday),
     weekEnd: startOfDay(addDays(monday, 7)),
   };

@@ -1,18 +1,14 @@
 // One allocation solve off the main thread: a worker_threads Worker runs the pure solver, so the server keeps
 // answering (progress polling and heartbeats included) while javascript-lp-solver works.
 //
-// Where the worker code comes from: the built server is ONE bundle (build/server/index.js) and no TypeScript
-// is compiled at run time in production. app/jobs/allocation-worker.ts is imported below, so it is inside that
-// bundle; the Worker starts on the very file this code was loaded from (import.meta.url) with
-// workerData.limberlyJob, which is the only thing that makes the worker module's code run. Under Vite in
-// development the sources are .ts files, so the Worker starts allocation-worker.ts through tsx instead. If a
-// Worker cannot be started at all, the solve runs in-process after yielding to the event loop (the result is
-// the same; the solver is deterministic), and the progress phase says so.
-import path from "node:path";
-import { fileURLToPath } from "node:url";
-import { Worker } from "node:worker_threads";
+// Where the worker code comes from: see startWorker (app/jobs/allocation-worker.ts is imported below, so
+// it is inside the built bundle). If a Worker cannot be started at all, the solve runs in-process after
+// yielding to the event loop (the result is the same; the solver is deterministic), and the progress phase
+// says so.
+import type { Worker } from "node:worker_threads";
 import { type AllocationPlan, type AllocationProblem, solveAllocation } from "~/compute/allocation";
 import { ALLOCATION_JOB, type WorkerMessage } from "./allocation-worker";
+import { startWorker } from "./worker-target.server";
 
 export const SOLVE_TIME_LIMIT_MS = 30_000;
 
@@ -26,12 +22,6 @@ export type SolveFn = (
 export class SolveAborted extends Error {}
 
 class WorkerUnavailable extends Error {}
-
-function workerTarget(): { file: string; execArgv?: string[] } {
-  const here = fileURLToPath(import.meta.url);
-  if (/\.(c|m)?js$/.test(here)) return { file: here };
-  return { file: path.join(path.dirname(here), "allocation-worker.ts"), execArgv: ["--import", "tsx"] };
-}
 
 export const solveInWorker: SolveFn = async (problem, onProgress, signal) => {
   try {
@@ -57,10 +47,8 @@ function solveOnThread(
     }
     let worker: Worker;
     try {
-      const target = workerTarget();
-      worker = new Worker(target.file, {
+      worker = startWorker(import.meta.url, "allocation-worker.ts", {
         workerData: { limberlyJob: ALLOCATION_JOB, problem, timeLimitMs: SOLVE_TIME_LIMIT_MS },
-        execArgv: target.execArgv ?? [],
       });
     } catch (e) {
       reject(new WorkerUnavailable(e instanceof Error ? e.message : String(e)));

@@ -1,7 +1,19 @@
-import type { Role } from "~/auth/permissions";
+import type { Knex } from "knex";
+import { isClinicalRole, ROLE_LABELS, type Role } from "~/auth/permissions";
 import { db } from "~/db.server";
-import { conflict } from "~/errors";
+import { conflict, notFound } from "~/errors";
 import type { TableQuery } from "~/schemas/table-query";
+import {
+  type Actor,
+  type AuditNote,
+  assertNotOwnRoles,
+  assertScopeExists,
+  notifyOtherAdmins,
+  openRequest,
+  pendingRequests,
+  scopeLabel,
+  writeAudit,
+} from "./duties.server";
 import { paged } from "./paging.server";
 
 export interface UserListRow {
@@ -44,46 +56,89 @@ export async function listUsers(q: TableQuery) {
   return page;
 }
 
-export async function createUser(input: {
-  email: string;
-  displayName: string;
+export interface Assignment {
   role: Role;
   siteId: number | null;
   departmentId: number | null;
-}): Promise<number> {
-  return db().transaction(async (trx) => {
-    const exists = await trx("users").whereRaw("lower(email) = ?", [input.email]).first("id");
-    if (exists) throw conflict(`A user with e-mail ${input.email} already exists.`, "email");
-    const now = new Date().toISOString();
-    const [u] = await trx("users")
-      .insert({ email: input.email, display_name: input.displayName, active: true, created_at: now })
-      .returning("id");
-    await trx("role_assignments").insert({
-      user_id: u.id,
-      role: input.role,
-      site_id: input.siteId,
-      department_id: input.departmentId,
-      created_at: now,
-    });
-    return u.id as number;
-  });
 }
 
-export async function addAssignment(
-  userId: number,
-  a: { role: Role; siteId: number | null; departmentId: number | null },
-): Promise<void> {
-  await db()("role_assignments").insert({
-    user_id: userId,
+// Gives `userId` a role inside `trx`: a clinical role becomes a request for a second admin
+// (models/duties.server.ts), any other is granted at once. Both are audited.
+async function grantInside(
+  trx: Knex.Transaction,
+  actor: Actor,
+  user: { id: number; displayName: string },
+  a: Assignment,
+): Promise<{ note: AuditNote; pending: boolean }> {
+  assertNotOwnRoles(actor, user.id);
+  await assertScopeExists(trx, a);
+  const subject = `${ROLE_LABELS[a.role]} for ${user.displayName} at ${await scopeLabel(trx, a)}`;
+  if (isClinicalRole(a.role)) {
+    const note = await openRequest(trx, actor, { kind: "role", subject, targetUserId: user.id, ...a });
+    return { note, pending: true };
+  }
+  await trx("role_assignments").insert({
+    user_id: user.id,
     role: a.role,
     site_id: a.siteId,
     department_id: a.departmentId,
     created_at: new Date().toISOString(),
   });
+  return {
+    note: await writeAudit(trx, { actor, event: "granted", subject, role: a.role, targetUserId: user.id }),
+    pending: false,
+  };
 }
 
-export async function removeAssignment(userId: number, assignmentId: number): Promise<boolean> {
-  return (await db()("role_assignments").where({ id: assignmentId, user_id: userId }).del()) > 0;
+const pendingNotice = (role: Role) => `The ${ROLE_LABELS[role]} role takes effect when another admin approves it.`;
+
+/** Adds a user with one role; a clinical role waits for a second admin (the user exists meanwhile, without it). */
+export async function createUser(
+  actor: Actor,
+  input: { email: string; displayName: string } & Assignment,
+): Promise<{ id: number; notice: string }> {
+  const done = await db().transaction(async (trx) => {
+    const exists = await trx("users").whereRaw("lower(email) = ?", [input.email]).first("id");
+    if (exists) throw conflict(`A user with e-mail ${input.email} already exists.`, "email");
+    await assertScopeExists(trx, input);
+    const [u] = await trx("users")
+      .insert({
+        email: input.email,
+        display_name: input.displayName,
+        active: true,
+        created_at: new Date().toISOString(),
+      })
+      .returning("id");
+    const id = u.id as number;
+    return { id, ...(await grantInside(trx, actor, { id, displayName: input.displayName }, input)) };
+  });
+  await notifyOtherAdmins(done.note);
+  return { id: done.id, notice: `Added ${input.email}.${done.pending ? ` ${pendingNotice(input.role)}` : ""}` };
+}
+
+/** Adds a role to someone else; returns the notice to show. */
+export async function addAssignment(actor: Actor, userId: number, a: Assignment): Promise<string> {
+  const done = await db().transaction(async (trx) => {
+    const u = await trx("users").where({ id: userId }).first("id", "display_name");
+    if (!u) throw notFound("No such user.");
+    return grantInside(trx, actor, { id: userId, displayName: u.display_name }, a);
+  });
+  await notifyOtherAdmins(done.note);
+  return done.pending ? `Requested. ${pendingNotice(a.role)}` : "Role added.";
+}
+
+export async function removeAssignment(actor: Actor, userId: number, assignmentId: number): Promise<void> {
+  assertNotOwnRoles(actor, userId);
+  const note = await db().transaction(async (trx) => {
+    const a = await trx("role_assignments").where({ id: assignmentId, user_id: userId }).first();
+    if (!a) throw notFound("That role assignment no longer exists.");
+    const u = await trx("users").where({ id: userId }).first("display_name");
+    const scope = { siteId: a.site_id ?? null, departmentId: a.department_id ?? null };
+    const subject = `${ROLE_LABELS[a.role as Role]} for ${u.display_name} at ${await scopeLabel(trx, scope)}`;
+    await trx("role_assignments").where({ id: assignmentId }).del();
+    return writeAudit(trx, { actor, event: "removed", subject, role: a.role, targetUserId: userId });
+  });
+  await notifyOtherAdmins(note);
 }
 
 export async function updateUser(userId: number, v: { displayName: string; active: boolean }): Promise<void> {
@@ -109,11 +164,13 @@ export async function userDetail(userId: number) {
     .where("r.user_id", userId)
     .select("r.id", "r.role", "s.name as site_name", "d.name as dept_name", "ds.name as dept_site_name")
     .orderBy("r.id");
+  const pending = (await pendingRequests()).filter((r) => r.targetUserId === userId);
   return {
     id: u.id as number,
     email: u.email as string,
     displayName: u.display_name as string,
     active: Boolean(u.active),
+    pending,
     assignments: assignments.map((a) => ({
       id: a.id as number,
       role: a.role as Role,

@@ -1,8 +1,10 @@
 import type { Scope } from "~/auth/scope";
 import type { AllocationProblem } from "~/compute/allocation";
+import { bookCommitments, type Commitment, type CommittedPlan } from "~/compute/commitments";
 import { addDays, inRange, isoWeekday, minutesOf, weekDates } from "~/compute/plan-calendar";
 import { plannedHoursFromLogScale } from "~/compute/regression";
 import type { CalendarUnit, PlanCalendar } from "~/compute/session-packing";
+import { hhmmOfWallClock, startOfDay, wallClock } from "~/dates";
 import { type Db, db, type Row } from "~/db.server";
 import type { RunParameters } from "~/schemas/allocation";
 import { latestConsent } from "./consent.server";
@@ -20,6 +22,11 @@ export interface ProblemSnapshot {
   notes: string[];
   /** workers in the chosen pool who could not enter the solve, with a plain reason */
   excluded: { workerId: number; name: string; reason: string }[];
+  /**
+   * Workers already in training: fixed commitments booked before the solve (app/compute/commitments.ts); the
+   * problem's capacities are what is left after them. Absent in snapshots made before commitments existed.
+   */
+  commitments?: CommittedPlan[];
 }
 
 const WORKDAYS = 5;
@@ -204,6 +211,7 @@ export async function buildProblem(params: RunParameters, scope: Scope, k: Db = 
   const courses: Row[] = [];
   const fields: Row[] = [];
   const wleave: Row[] = [];
+  const trained: Row[] = [];
   for (let i = 0; i < ids.length; i += 500) {
     const chunk = ids.slice(i, i + 500);
     forecasts.push(
@@ -226,6 +234,16 @@ export async function buildProblem(params: RunParameters, scope: Scope, k: Db = 
         .select("worker_id", "max_hours_per_week", "priority")
         .orderBy("worker_id")),
     );
+    // Sessions on file, for workers already in training: who trained them last, and the hours scheduled before
+    // the run's start that are not logged yet (they stay on the schedule and count towards their hours).
+    trained.push(
+      ...(await k("training_sessions")
+        .whereIn("worker_id", chunk)
+        .whereNot("status", "cancelled")
+        .whereNotNull("scheduled_start")
+        .select("worker_id", "device_type_id", "trainer_id", "status", "scheduled_start", "scheduled_end")
+        .orderBy(["worker_id", "scheduled_start", "id"])),
+    );
     wleave.push(
       ...(await k("worker_leave")
         .whereIn("worker_id", chunk)
@@ -236,17 +254,19 @@ export async function buildProblem(params: RunParameters, scope: Scope, k: Db = 
     );
   }
   const excluded: ProblemSnapshot["excluded"] = [];
+  const commitments: (Commitment & { hoursScheduledBefore: number })[] = [];
   const problemWorkers: AllocationProblem["workers"] = [];
   const calendarWorkers: PlanCalendar["workers"] = [];
   for (const w of candidates) {
     const name = `${w.given_name} ${w.family_name}`;
     if (consent.get(w.id) !== "given") continue; // outside the pool by definition; not listed (no planning consent)
     const mineCourses = courses.filter((c) => c.worker_id === w.id);
-    if (mineCourses.some((c) => c.status === "training" || c.status === "paused")) {
+    const inTraining = mineCourses.find((c) => c.status === "training");
+    if (!inTraining && mineCourses.some((c) => c.status === "paused")) {
       excluded.push({
         workerId: w.id,
         name,
-        reason: "Already in training (or paused) on a device; the trainer's schedule continues.",
+        reason: "Training is paused on a device; not planned until an assessor resumes it.",
       });
       continue;
     }
@@ -261,7 +281,9 @@ export async function buildProblem(params: RunParameters, scope: Scope, k: Db = 
     const mine = forecasts.filter(
       (f) =>
         f.worker_id === w.id &&
-        !mineCourses.some((c) => c.device_type_id === f.device_type_id && c.status === "proficient"),
+        (inTraining
+          ? f.device_type_id === inTraining.device_type_id
+          : !mineCourses.some((c) => c.device_type_id === f.device_type_id && c.status === "proficient")),
     );
     if (mine.length === 0) {
       excluded.push({ workerId: w.id, name, reason: "No forecast from an approved model yet." });
@@ -292,14 +314,40 @@ export async function buildProblem(params: RunParameters, scope: Scope, k: Db = 
           .some((d) => leaveDates.includes(d)),
     );
     const wid = String(w.id);
-    problemWorkers.push({
-      id: wid,
-      group: `${site} · ${w.department}`,
-      priority: f ? Number(f.priority) : 1,
-      options: options.map(({ deviceTypeId, hoursNeeded }) => ({ deviceTypeId, hoursNeeded })),
-      maxHoursPerWeek,
-      ...(availableWeeks.length < weeks ? { availableWeeks } : {}),
-    });
+    if (inTraining) {
+      const own = trained.filter((x) => x.worker_id === w.id && x.device_type_id === inTraining.device_type_id);
+      const last = own.filter((x) => x.trainer_id != null).at(-1);
+      const lastTrainer = last ? trainerRows.find((t) => t.id === last.trainer_id) : null;
+      const before = own
+        .filter(
+          (x) => x.status === "scheduled" && x.scheduled_end && wallClock(x.scheduled_start) < startOfDay(startDate),
+        )
+        .reduce(
+          (h, x) =>
+            h +
+            (minutesOf(hhmmOfWallClock(wallClock(x.scheduled_end))) -
+              minutesOf(hhmmOfWallClock(wallClock(x.scheduled_start)))) /
+              60,
+          0,
+        );
+      commitments.push({
+        workerId: wid,
+        deviceTypeId: options[0].deviceTypeId,
+        hoursNeeded: round2(Math.max(0, options[0].hoursNeeded - before)),
+        hoursScheduledBefore: round2(before),
+        maxHoursPerWeek,
+        ...(availableWeeks.length < weeks ? { availableWeeks } : {}),
+        preferredTrainerId: lastTrainer ? (lastTrainer.display_name as string) : null,
+      });
+    } else
+      problemWorkers.push({
+        id: wid,
+        group: `${site} · ${w.department}`,
+        priority: f ? Number(f.priority) : 1,
+        options: options.map(({ deviceTypeId, hoursNeeded }) => ({ deviceTypeId, hoursNeeded })),
+        maxHoursPerWeek,
+        ...(availableWeeks.length < weeks ? { availableWeeks } : {}),
+      });
     calendarWorkers.push({
       id: wid,
       workerId: w.id,
@@ -323,17 +371,27 @@ export async function buildProblem(params: RunParameters, scope: Scope, k: Db = 
       `Fairness: each department (per site) gets at least ⌊${Math.round(params.fairnessShare * 100)} % × its pool size⌋ workers ready, where capacity allows.`,
     );
 
-  return {
-    problem: {
+  const booked = bookCommitments(
+    {
       weeks,
       deviceTypes: problemDevices,
       trainers: problemTrainers,
       workers: problemWorkers,
       minimumSharePerGroup: params.fairnessShare,
     },
+    commitments.filter((c) => c.hoursNeeded > 0),
+  );
+  if (commitments.length)
+    notes.push(
+      `${commitments.length} worker${commitments.length === 1 ? " is" : "s are"} already in training: they keep their device type and, where possible, their trainer, and their remaining hours (less hours already scheduled before the start) are booked first, ${round2(booked.committed.reduce((h, c) => h + c.hoursBooked, 0))} h in all. The device and trainer hours per week the solver plans against are what is left after them.`,
+    );
+
+  return {
+    problem: booked.problem,
     calendar: { startDate, weeks, devices: calendarDevices, trainers: calendarTrainers, workers: calendarWorkers },
     notes,
     excluded,
+    commitments: booked.committed,
   };
 }
 

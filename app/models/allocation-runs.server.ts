@@ -2,6 +2,7 @@ import type { Knex } from "knex";
 import type { Principal } from "~/auth/guard.server";
 import type { Scope } from "~/auth/scope";
 import type { AllocationPlan } from "~/compute/allocation";
+import { type RunSummary, runSummary } from "~/compute/placement";
 import { type Db, db, type Row } from "~/db.server";
 import { enqueueAllocation } from "~/jobs/queue.server";
 import type { RunParameters } from "~/schemas/allocation";
@@ -32,6 +33,8 @@ export interface RunRow {
   publishedPlanVersion: number | null;
   /** How many times an instance claimed the run (more than 1: an instance stopped while solving it). */
   attempts: number;
+  /** ready after placement / pool and value, stored when the run finished (null before, or for older runs) */
+  summary: RunSummary | null;
 }
 
 export interface RunDetail extends RunRow {
@@ -58,6 +61,7 @@ function toRow(r: Row): RunRow {
     publishedBy: r.published_by_name ?? null,
     publishedPlanVersion: r.published_plan_version == null ? null : Number(r.published_plan_version),
     attempts: Number(r.attempts ?? 0),
+    summary: r.summary ? JSON.parse(r.summary) : null,
   };
 }
 
@@ -86,6 +90,7 @@ function baseQuery(k: Db) {
       "r.published_at",
       "r.published_plan_version",
       "r.attempts",
+      "r.summary",
       "c.display_name as created_by_name",
       "p.display_name as published_by_name",
     );
@@ -255,13 +260,34 @@ export async function writeProgress(
   return n === 1;
 }
 
+/** Ready after placement / pool and value for the runs list; a run is marked done even if this cannot be made. */
+async function summaryFor(id: number, plan: AllocationPlan, k: Db): Promise<RunSummary | null> {
+  const stored = await k("allocation_runs").where({ id }).first("problem");
+  const snap: ProblemSnapshot | null = stored?.problem ? JSON.parse(stored.problem) : null;
+  if (!snap?.calendar?.devices || !snap.problem?.workers) return null;
+  try {
+    return runSummary(
+      snap.calendar,
+      snap.commitments ?? [],
+      plan,
+      new Map(snap.problem.workers.map((w) => [w.id, w.priority])),
+      snap.problem.workers.length,
+    );
+  } catch (e) {
+    console.error(`allocation run ${id}: no summary for the runs list`, e);
+    return null;
+  }
+}
+
 export async function markDone(id: number, instanceId: string, plan: AllocationPlan, k: Db = db()): Promise<boolean> {
+  const summary = await summaryFor(id, plan, k);
   const n = await owned(k, id, instanceId).update({
     status: "done",
     phase: "done",
     fraction: 1,
     error: null,
     result: JSON.stringify(plan),
+    summary: summary ? JSON.stringify(summary) : null,
     finished_at: new Date().toISOString(),
     version: k.raw("version + 1"),
   });

@@ -311,6 +311,16 @@ export async function saveTrace(input: {
       errors: [{ message: `the measures cannot be computed from this recording: ${(e as Error).message}` }],
     };
   }
+  // A value that overflows (NaN, ±Infinity) would reach the z-scores: refuse it, naming the measure.
+  const unusable = Object.keys(computed).filter((k) => !Number.isFinite(computed[k]));
+  if (unusable.length)
+    return {
+      ok: false,
+      errors: unusable.map((k) => ({
+        column: k,
+        message: `${k} cannot be computed from this recording (the values are too large or too close together)`,
+      })),
+    };
   const sha256 = createHash("sha256").update(input.bytes).digest("hex");
   const rowCount = cells.rows.length - 1;
   const sampleRateHz = "sampleRateHz" in parsed && parsed.sampleRateHz !== undefined ? parsed.sampleRateHz : null;

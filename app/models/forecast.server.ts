@@ -2,7 +2,8 @@ import type { Knex } from "knex";
 import type { Principal } from "~/auth/guard.server";
 import { can } from "~/auth/permissions";
 import type { Scope } from "~/auth/scope";
-import { MEASURE_DIRECTIONS } from "~/compute/features";
+import { INTERVAL_LEVEL } from "~/compute/censored-forecast";
+import { MEASURE_DIRECTIONS, zScore } from "~/compute/features";
 import { forecastFromModel, type StoredModel } from "~/compute/forecast-explain";
 import { type ProgressUpdate, progressUpdate } from "~/compute/progress-update";
 import { type Db, db, type Row } from "~/db.server";
@@ -11,6 +12,7 @@ import { type DeviceForecast, type WorkerForecast, workerForecastSchema } from "
 import type { TableQuery } from "~/schemas/table-query";
 import { latestConsent } from "./consent.server";
 import { lockWorker } from "./locks.server";
+import { type ScoringNorm, scoringNorms } from "./norms.server";
 import { paged } from "./paging.server";
 import { whereWorkerInScope } from "./workers.server";
 
@@ -19,7 +21,7 @@ import { whereWorkerInScope } from "./workers.server";
 // withdrawal. Coordinators receive hours and intervals only; the clinical view (z-scores and how each moved
 // the forecast) is built for assessors alone, here in the data layer.
 
-export const INTERVAL_LEVEL = 0.8;
+export { INTERVAL_LEVEL };
 
 export function labelFor(code: string, name?: string | null): string {
   return name || (MEASURE_DIRECTIONS as Record<string, { label: string }>)[code]?.label || code;
@@ -27,13 +29,15 @@ export function labelFor(code: string, name?: string | null): string {
 
 /**
  * Each worker's latest baseline z-score per measure, from assessment sessions on or before the worker's
- * cutoff date (none = any date). Positive = better (docs/methods.md).
+ * cutoff date (none = any date). Positive = better (docs/methods.md). With `norms` (a model version's
+ * pinned norm set) the raw values are scored with those norms; otherwise each result's stored z-score.
  */
 export async function baselineZScores(
   k: Db,
   workerIds: number[],
   measureIds: number[],
   cutoffs?: Map<number, string | null>,
+  norms?: Map<number, ScoringNorm> | null,
 ): Promise<Map<number, Map<number, number>>> {
   const out = new Map<number, Map<number, number>>();
   if (workerIds.length === 0 || measureIds.length === 0) return out;
@@ -42,18 +46,20 @@ export async function baselineZScores(
       .join("assessment_sessions as s", "s.id", "r.session_id")
       .whereIn("s.worker_id", workerIds.slice(i, i + 500))
       .whereIn("r.measure_id", measureIds)
-      .whereNotNull("r.z_score")
-      .select("s.worker_id", "r.measure_id", "r.z_score", "s.assessed_on")
+      .modify((q) => (norms ? q : q.whereNotNull("r.z_score")))
+      .select("s.worker_id", "r.measure_id", "r.value", "r.z_score", "s.assessed_on")
       .orderBy([{ column: "s.assessed_on" }, { column: "s.id" }]);
     for (const r of rows) {
       const cutoff = cutoffs?.get(r.worker_id);
       if (cutoff && (r.assessed_on as string) > cutoff) continue;
+      const norm = norms?.get(r.measure_id);
+      if (norms && !norm) continue;
       let m = out.get(r.worker_id);
       if (!m) {
         m = new Map();
         out.set(r.worker_id, m);
       }
-      m.set(r.measure_id, Number(r.z_score));
+      m.set(r.measure_id, norm ? zScore(Number(r.value), norm.mean, norm.sd, norm.higherIsBetter) : Number(r.z_score));
     }
   }
   return out;
@@ -69,6 +75,8 @@ export interface ApprovedModel {
   measureIds: number[];
   measures: { code: string; label: string }[];
   model: StoredModel;
+  /** The pinned norm set's norms (null for versions fitted before norm sets were pinned). */
+  norms: Map<number, ScoringNorm> | null;
 }
 
 export async function loadApprovedModel(k: Db, deviceTypeId: number): Promise<ApprovedModel | null> {
@@ -95,6 +103,7 @@ async function toApprovedModel(k: Db, v: Row): Promise<ApprovedModel> {
     loocvCoverage80: Number(v.loocv_coverage80),
     measureIds,
     measures: codes.map((c, i) => ({ code: c, label: labelFor(c, names.get(measureIds[i])) })),
+    norms: v.norm_set_id == null ? null : await scoringNorms(v.norm_set_id, measureIds, k),
     model: {
       coefficients: JSON.parse(v.coefficients),
       covariance: JSON.parse(v.covariance),
@@ -184,7 +193,9 @@ export async function upsertForecast(
   }
   const course = await k("device_courses").where({ worker_id: workerId, device_type_id: deviceTypeId }).first();
   const cutoff = course?.started_on ? (course.started_on as string) : null;
-  const z = (await baselineZScores(k, [workerId], model.measureIds, new Map([[workerId, cutoff]]))).get(workerId);
+  const z = (await baselineZScores(k, [workerId], model.measureIds, new Map([[workerId, cutoff]]), model.norms)).get(
+    workerId,
+  );
   const values = model.measureIds.map((m) => z?.get(m));
   if (values.some((v) => v === undefined)) {
     await drop();
@@ -364,6 +375,8 @@ export async function recordOutcome(
     forecast_lower_hours: f.lower_hours,
     forecast_upper_hours: f.upper_hours,
     actual_hours: actualHours,
+    forecast_planning_hours: f.planning_hours,
+    planning_quantile: f.planning_quantile,
     covered: actualHours >= Number(f.lower_hours) && actualHours <= Number(f.upper_hours),
     reached_on: reachedOn,
     recorded_at: now,
@@ -426,7 +439,7 @@ export async function workerForecastView(p: Principal, workerId: number, k: Db =
         .select("kind", "reason", "raised_at");
       let missingMeasures: string[] = [];
       if (model && !f) {
-        const z = (await baselineZScores(k, [workerId], model.measureIds)).get(workerId);
+        const z = (await baselineZScores(k, [workerId], model.measureIds, undefined, model.norms)).get(workerId);
         missingMeasures = model.measureIds.flatMap((m, i) => (z?.has(m) ? [] : [model.measures[i].label]));
       }
       const usedModel =
@@ -483,7 +496,7 @@ export async function workerForecastView(p: Principal, workerId: number, k: Db =
     }
   }
   const howComputed =
-    "Hours to proficiency are forecast from past trainees who agreed to model use: log(hours) is a linear function of the worker's baseline measures (standardised against the cohort), fitted by least squares. The median is the middle forecast, the 80 % interval holds the actual hours four times in five when the model is right, and the planning figure is the chosen upper quantile so that plans rarely run short. Once sessions are logged, the progress curve's own estimate of the remaining hours is combined with the baseline forecast, weighted by how certain each is.";
+    "Hours to proficiency are forecast from past trainees who agreed to model use, including those still in training when the data was taken (they count for the hours they reached): log(hours) is a linear function of the worker's baseline measures (scored with the model's own norm set and standardised against the cohort), fitted by censored maximum likelihood. The median is the middle forecast, the 80 % interval holds the actual hours four times in five when the model is right, and the planning figure is the chosen upper quantile so that plans rarely run short. Once sessions are logged, the progress curve's own estimate of the remaining hours is combined with the baseline forecast, weighted by how certain each is.";
   return workerForecastSchema.parse({
     worker: {
       id: worker.id,

@@ -150,3 +150,45 @@ export async function createCohortNormSet(
     return { id: r.id as number, measures: values.length };
   });
 }
+
+export interface ScoringNorm {
+  mean: number;
+  sd: number;
+  higherIsBetter: boolean;
+}
+
+/**
+ * One norm set's mean and SD per measure with the measure's direction: what a model version pinned to the
+ * set scores raw baseline values with, at fit and at prediction time. Measures the set lacks are absent.
+ */
+export async function scoringNorms(normSetId: number, measureIds: number[], k: Db = db()) {
+  const rows = await k("norm_values as v")
+    .join("measures as m", "m.id", "v.measure_id")
+    .where("v.norm_set_id", normSetId)
+    .whereIn("v.measure_id", measureIds)
+    .select("v.measure_id", "v.mean", "v.sd", "m.higher_is_better");
+  return new Map<number, ScoringNorm>(
+    rows
+      .filter((r) => Number(r.sd) > 0)
+      .map((r) => [
+        r.measure_id as number,
+        { mean: Number(r.mean), sd: Number(r.sd), higherIsBetter: Boolean(r.higher_is_better) },
+      ]),
+  );
+}
+
+/** Norm sets with the measures each holds, newest first (by source date, then id). */
+export async function normSetCoverage(k: Db = db()): Promise<{ id: number; name: string; measureIds: number[] }[]> {
+  const sets = await k("norm_sets")
+    .select("id", "name")
+    .orderBy([
+      { column: "source_date", order: "desc" },
+      { column: "id", order: "desc" },
+    ]);
+  const values = await k("norm_values").select("norm_set_id", "measure_id").orderBy(["norm_set_id", "measure_id"]);
+  return sets.map((s) => ({
+    id: s.id as number,
+    name: s.name as string,
+    measureIds: values.filter((v) => v.norm_set_id === s.id).map((v) => v.measure_id as number),
+  }));
+}

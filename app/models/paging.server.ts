@@ -1,4 +1,5 @@
 import type { Knex } from "knex";
+import { UserError } from "~/errors";
 import type { TableQuery } from "~/schemas/table-query";
 
 export interface Page<T> {
@@ -21,7 +22,12 @@ export async function paged<T>(
   tieBreaker: string,
   map: (row: Record<string, unknown>) => T,
 ): Promise<Page<T>> {
-  const sort = q.sort && sortable[q.sort] ? q.sort : defaultSort;
+  // Own keys only: "__proto__" or "constructor" must not find Object.prototype's members.
+  if (q.sort && !Object.hasOwn(sortable, q.sort))
+    throw new UserError(`Sort: not a column of this list; use one of ${Object.keys(sortable).join(", ")}.`, {
+      field: "sort",
+    });
+  const sort = q.sort ?? defaultSort;
   const countRow = await query.clone().clearSelect().clearOrder().count<{ n: number | string }[]>({ n: "*" }).first();
   const total = Number(countRow?.n ?? 0);
   const lastPage = Math.max(1, Math.ceil(total / q.size));

@@ -1,7 +1,8 @@
 import type { Principal } from "~/auth/guard.server";
-import { type PackedSession, packSessions, type UnplacedHours } from "~/compute/session-packing";
-import { DEFAULT_TIME_ZONE, dayOf, hhmmOfWallClock, nowInstant, wallClock, wallClockAt } from "~/dates";
-import { db } from "~/db.server";
+import { type NotReady, type Placement, placePlan } from "~/compute/placement";
+import type { PackedSession, UnplacedHours } from "~/compute/session-packing";
+import { DEFAULT_TIME_ZONE, dayOf, hhmmOfWallClock, nowInstant, startOfDay, wallClock, wallClockAt } from "~/dates";
+import { type Db, db } from "~/db.server";
 import { sendMail } from "~/mail.server";
 import type { RunDetail } from "./allocation-runs.server";
 import { getRun } from "./allocation-runs.server";
@@ -12,7 +13,9 @@ import { workerTimeZones } from "./sites.server";
 // (app/compute/session-packing.ts); every scheduled session of the previously published plan is replaced in
 // ONE transaction, guarded by the published-plan version (optimistic check: of two coordinators publishing
 // from the same version, the second is refused and told who won). After the commit, e-mail with an .ics file
-// goes to each worker and trainer whose sessions changed — and only to them.
+// goes to each worker and trainer whose sessions changed — and only to them. publishPreview counts, before the
+// coordinator confirms, the people ready after placement and the people who will be e-mailed, with the same
+// functions publishRun uses.
 
 export class PublishConflict extends Error {
   constructor(readonly current: { version: number; runId: number | null; by: string | null; at: string | null }) {
@@ -44,18 +47,21 @@ export async function planState(): Promise<PlanState> {
   };
 }
 
-/** Dated sessions the run would publish (pure packing of its plan over its snapshot's calendar). */
-export function previewSessions(run: RunDetail): { sessions: PackedSession[]; unplaced: UnplacedHours[] } {
-  if (!run.snapshot || !run.plan) return { sessions: [], unplaced: [] };
-  return packSessions(run.snapshot.calendar, run.plan.assignments);
-}
-
 export function publishRefusal(run: RunDetail): string | null {
   if (run.status !== "done" || !run.plan || !run.snapshot) return "Only a finished run can be published.";
   if (run.plan.status === "infeasible") return "This run has no feasible plan to publish.";
   if (run.parameters.whatIf.addUnits.length > 0)
     return "This what-if run adds device units that do not exist yet, so it cannot be published. Add the units to the fleet and start a new run.";
   return null;
+}
+
+export type { NotReady, Placement };
+
+/** What the run delivers once its hours are placed on the calendar (app/compute/placement.ts). */
+export function placement(run: RunDetail): Placement {
+  if (!run.snapshot || !run.plan)
+    return { sessions: [], unplaced: [], readyIds: [], notReady: [], continuing: { total: 0, finishing: 0 } };
+  return placePlan(run.snapshot.calendar, run.snapshot.commitments ?? [], run.plan);
 }
 
 export interface PublishOutcome {
@@ -76,6 +82,144 @@ interface OldSession {
   scheduled_end: string;
 }
 
+interface NewSession extends OldSession {
+  trainer_id: number;
+}
+
+/** The rows publishing writes for the run (pure: the run's placement over its snapshot). */
+function sessionRows(run: RunDetail, sessions: PackedSession[]): NewSession[] {
+  const cal = run.snapshot!.calendar;
+  const devices = new Map(cal.devices.map((d) => [d.id, d]));
+  const trainers = new Map(cal.trainers.map((t) => [t.id, t]));
+  const workers = new Map(cal.workers.map((w) => [w.id, w]));
+  return sessions.map((s) => ({
+    worker_id: workers.get(s.workerId)!.workerId,
+    device_type_id: devices.get(s.deviceId)!.deviceTypeId,
+    trainer_id: trainers.get(s.trainerId)!.trainerId,
+    device_unit_id: s.unitId,
+    scheduled_start: wallClockAt(s.date, s.start),
+    scheduled_end: wallClockAt(s.date, s.end),
+  }));
+}
+
+/**
+ * The scheduled sessions a publish replaces: from the run's start date on, those of every worker the run
+ * plans (its pool and the workers already in training it carries), and those an earlier run published for
+ * workers of the run's sites (and departments, when the pool names them). Sessions before the start date, and
+ * sessions of people the run does not plan that no run wrote, stay.
+ */
+function replacedSessions(k: Db, run: RunDetail) {
+  const pool = run.parameters.pool;
+  const planned = run.snapshot!.calendar.workers.map((w) => w.workerId);
+  return k("training_sessions as ts")
+    .where("ts.status", "scheduled")
+    .where("ts.scheduled_start", ">=", startOfDay(run.parameters.startDate))
+    .where((w) => {
+      w.whereIn("ts.worker_id", planned.length ? planned : [-1]).orWhere((x) => {
+        x.whereNotNull("ts.allocation_run_id").whereIn(
+          "ts.worker_id",
+          k("workers")
+            .whereIn("site_id", pool.siteIds.length ? pool.siteIds : [-1])
+            .modify((q) => {
+              if (pool.departmentIds.length) q.whereIn("department_id", pool.departmentIds);
+            })
+            .select("id"),
+        );
+      });
+    });
+}
+
+type Change = "new" | "changed" | "cancelled";
+
+/** Who changed: each person's sessions before and after, compared as sets. */
+function changes(old: OldSession[], rows: NewSession[]) {
+  const fp = (items: string[]) => [...items].sort().join("\n");
+  const add = (m: Map<number, string[]>, id: number, v: string) => {
+    const list = m.get(id);
+    if (list) list.push(v);
+    else m.set(id, [v]);
+  };
+  const oldWorker = new Map<number, string[]>();
+  const oldTrainer = new Map<number, string[]>();
+  const newWorker = new Map<number, string[]>();
+  const newTrainer = new Map<number, string[]>();
+  for (const [list, w, t] of [
+    [old, oldWorker, oldTrainer],
+    [rows, newWorker, newTrainer],
+  ] as const)
+    for (const o of list) {
+      const key = `${wallClock(o.scheduled_start)}|${wallClock(o.scheduled_end)}|${o.device_type_id}|${o.device_unit_id}`;
+      add(w, o.worker_id, `${key}|${o.trainer_id}`);
+      if (o.trainer_id != null) add(t, o.trainer_id, `${key}|${o.worker_id}`);
+    }
+  const diff = (before: Map<number, string[]>, after: Map<number, string[]>) => {
+    const changed = new Map<number, Change>();
+    let unchanged = 0;
+    for (const id of [...new Set([...before.keys(), ...after.keys()])].sort((a, b) => a - b)) {
+      if (fp(before.get(id) ?? []) === fp(after.get(id) ?? [])) unchanged++;
+      else changed.set(id, !after.has(id) ? "cancelled" : before.has(id) ? "changed" : "new");
+    }
+    return { changed, unchanged };
+  };
+  const workers = diff(oldWorker, newWorker);
+  const trainers = diff(oldTrainer, newTrainer);
+  return { workers: workers.changed, trainers: trainers.changed, unchanged: workers.unchanged + trainers.unchanged };
+}
+
+async function emails(k: Db, workerIds: number[], trainerIds: number[]) {
+  const w = await k("workers")
+    .whereIn("id", workerIds.length ? workerIds : [-1])
+    .select("id", "given_name", "family_name", "email");
+  const t = await k("trainers as t")
+    .join("users as u", "u.id", "t.user_id")
+    .whereIn("t.id", trainerIds.length ? trainerIds : [-1])
+    .select("t.id", "u.display_name", "u.email");
+  return {
+    workers: new Map(
+      w.map((r) => [r.id as number, { name: `${r.given_name} ${r.family_name}`, email: r.email ?? null }]),
+    ),
+    trainers: new Map(t.map((r) => [r.id as number, { name: r.display_name as string, email: r.email ?? null }])),
+  };
+}
+
+export interface PublishPreview extends Placement {
+  /** people whose sessions change and who have an e-mail address: exactly the people publishing e-mails */
+  recipients: { workers: number; trainers: number };
+  /** people whose sessions change but who have no e-mail address on file */
+  withoutEmail: number;
+  unchanged: number;
+  /** scheduled sessions the publish replaces */
+  replaces: number;
+}
+
+/** What publishing this run would do now, counted exactly as publishRun does it. */
+export async function publishPreview(run: RunDetail, k: Db = db()): Promise<PublishPreview | null> {
+  if (publishRefusal(run)) return null;
+  const place = placement(run);
+  const rows = sessionRows(run, place.sessions);
+  const old: OldSession[] = await replacedSessions(k, run).select(
+    "ts.worker_id",
+    "ts.trainer_id",
+    "ts.device_type_id",
+    "ts.device_unit_id",
+    "ts.scheduled_start",
+    "ts.scheduled_end",
+  );
+  const c = changes(old, rows);
+  const who = await emails(k, [...c.workers.keys()], [...c.trainers.keys()]);
+  const withEmail = (ids: Iterable<number>, m: Map<number, { email: string | null }>) =>
+    [...ids].filter((id) => m.get(id)?.email).length;
+  const workers = withEmail(c.workers.keys(), who.workers);
+  const trainers = withEmail(c.trainers.keys(), who.trainers);
+  return {
+    ...place,
+    recipients: { workers, trainers },
+    withoutEmail: c.workers.size + c.trainers.size - workers - trainers,
+    unchanged: c.unchanged,
+    replaces: old.length,
+  };
+}
+
 export async function publishRun(
   principal: Principal,
   runId: number,
@@ -86,7 +230,7 @@ export async function publishRun(
   const refusal = publishRefusal(run);
   if (refusal) throw new PublishRefused(refusal);
   const snapshot = run.snapshot!;
-  const { sessions, unplaced } = previewSessions(run);
+  const { sessions, unplaced } = placement(run);
   const devices = new Map(snapshot.calendar.devices.map((d) => [d.id, d]));
   const trainers = new Map(snapshot.calendar.trainers.map((t) => [t.id, t]));
   const workers = new Map(snapshot.calendar.workers.map((w) => [w.id, w]));
@@ -94,17 +238,7 @@ export async function publishRun(
   const now = nowInstant();
   await planState(); // makes sure the counter row exists
 
-  const rows = sessions.map((s) => ({
-    worker_id: workers.get(s.workerId)!.workerId,
-    device_type_id: devices.get(s.deviceId)!.deviceTypeId,
-    trainer_id: trainers.get(s.trainerId)!.trainerId,
-    device_unit_id: s.unitId,
-    allocation_run_id: runId,
-    scheduled_start: wallClockAt(s.date, s.start),
-    scheduled_end: wallClockAt(s.date, s.end),
-    status: "scheduled",
-    created_at: now,
-  }));
+  const rows = sessionRows(run, sessions);
 
   const { version, old } = await db().transaction(async (trx) => {
     const won = await trx("published_plan_state")
@@ -122,12 +256,22 @@ export async function publishRun(
         at: r?.published_at ? String(r.published_at) : null,
       });
     }
-    const old: OldSession[] = await trx("training_sessions")
-      .whereNotNull("allocation_run_id")
-      .where({ status: "scheduled" })
-      .select("worker_id", "trainer_id", "device_type_id", "device_unit_id", "scheduled_start", "scheduled_end");
-    await trx("training_sessions").whereNotNull("allocation_run_id").where({ status: "scheduled" }).del();
-    for (let i = 0; i < rows.length; i += 200) await trx("training_sessions").insert(rows.slice(i, i + 200));
+    const old: (OldSession & { id: number })[] = await replacedSessions(trx, run).select(
+      "ts.id",
+      "ts.worker_id",
+      "ts.trainer_id",
+      "ts.device_type_id",
+      "ts.device_unit_id",
+      "ts.scheduled_start",
+      "ts.scheduled_end",
+    );
+    const oldIds = old.map((o) => o.id);
+    for (let i = 0; i < oldIds.length; i += 500)
+      await trx("training_sessions")
+        .whereIn("id", oldIds.slice(i, i + 500))
+        .del();
+    const inserts = rows.map((r) => ({ ...r, allocation_run_id: runId, status: "scheduled", created_at: now }));
+    for (let i = 0; i < inserts.length; i += 200) await trx("training_sessions").insert(inserts.slice(i, i + 200));
     await trx("allocation_runs")
       .where({ id: runId })
       .update({
@@ -165,60 +309,24 @@ export async function publishRun(
     return { version: expectedPlanVersion + 1, old };
   });
 
-  // Who changed: compare each person's sessions before and after.
-  const fp = (items: string[]) => items.sort().join("\n");
-  const oldWorker = new Map<number, string[]>();
-  const oldTrainer = new Map<number, string[]>();
-  for (const o of old) {
-    const key = `${wallClock(o.scheduled_start)}|${wallClock(o.scheduled_end)}|${o.device_type_id}|${o.device_unit_id}`;
-    (oldWorker.get(o.worker_id) ?? oldWorker.set(o.worker_id, []).get(o.worker_id)!).push(`${key}|${o.trainer_id}`);
-    if (o.trainer_id != null)
-      (oldTrainer.get(o.trainer_id) ?? oldTrainer.set(o.trainer_id, []).get(o.trainer_id)!).push(
-        `${key}|${o.worker_id}`,
-      );
-  }
-  const newWorker = new Map<number, string[]>();
-  const newTrainer = new Map<number, string[]>();
-  for (const r of rows) {
-    const key = `${r.scheduled_start}|${r.scheduled_end}|${r.device_type_id}|${r.device_unit_id}`;
-    (newWorker.get(r.worker_id) ?? newWorker.set(r.worker_id, []).get(r.worker_id)!).push(`${key}|${r.trainer_id}`);
-    (newTrainer.get(r.trainer_id) ?? newTrainer.set(r.trainer_id, []).get(r.trainer_id)!).push(`${key}|${r.worker_id}`);
-  }
-
+  const c = changes(old, rows);
   const outcome: PublishOutcome = {
     version,
     sessions: rows.length,
     unplaced,
     notified: [],
-    unchanged: 0,
+    unchanged: c.unchanged,
     mailFailures: [],
   };
-  const byWorkerDb = new Map(snapshot.calendar.workers.map((w) => [w.workerId, w]));
-  const byTrainerDb = new Map(snapshot.calendar.trainers.map((t) => [t.trainerId, t]));
+  const who = await emails(db(), [...c.workers.keys()], [...c.trainers.keys()]);
   const mails: (() => Promise<void>)[] = [];
 
-  const workerIds = [...new Set([...oldWorker.keys(), ...newWorker.keys()])].sort((a, b) => a - b);
   // Session times are wall-clock times of the worker's site; calendar files name that site's zone.
-  const zones = await workerTimeZones(workerIds);
+  const zones = await workerTimeZones([...new Set([...c.workers.keys(), ...old.map((o) => o.worker_id)])]);
   const zoneOf = (workerDbId: number) => zones.get(workerDbId) ?? DEFAULT_TIME_ZONE;
-  const missingWorkers = workerIds.filter((id) => !byWorkerDb.has(id));
-  const extraWorkers = new Map<number, { name: string; email: string | null }>();
-  if (missingWorkers.length) {
-    for (const w of await db()("workers")
-      .whereIn("id", missingWorkers)
-      .select("id", "given_name", "family_name", "email"))
-      extraWorkers.set(w.id, { name: `${w.given_name} ${w.family_name}`, email: w.email });
-  }
-  for (const id of workerIds) {
-    const before = fp(oldWorker.get(id) ?? []);
-    const after = fp(newWorker.get(id) ?? []);
-    if (before === after) {
-      outcome.unchanged++;
-      continue;
-    }
-    const w = byWorkerDb.get(id) ?? extraWorkers.get(id);
+  for (const [id, change] of c.workers) {
+    const w = who.workers.get(id);
     if (!w?.email) continue;
-    const change = !newWorker.has(id) ? "cancelled" : oldWorker.has(id) ? "changed" : "new";
     const mine = sessions.filter((s) => workers.get(s.workerId)?.workerId === id);
     const events =
       change === "cancelled"
@@ -250,26 +358,9 @@ export async function publishRun(
     );
     outcome.notified.push({ email: w.email, kind: "worker", change });
   }
-  const trainerIds = [...new Set([...oldTrainer.keys(), ...newTrainer.keys()])].sort((a, b) => a - b);
-  const extraTrainers = new Map<number, { name: string; email: string | null }>();
-  const missingTrainers = trainerIds.filter((id) => !byTrainerDb.has(id));
-  if (missingTrainers.length) {
-    for (const t of await db()("trainers as t")
-      .join("users as u", "u.id", "t.user_id")
-      .whereIn("t.id", missingTrainers)
-      .select("t.id", "u.display_name", "u.email"))
-      extraTrainers.set(t.id, { name: t.display_name, email: t.email });
-  }
-  for (const id of trainerIds) {
-    const before = fp(oldTrainer.get(id) ?? []);
-    const after = fp(newTrainer.get(id) ?? []);
-    if (before === after) {
-      outcome.unchanged++;
-      continue;
-    }
-    const t = byTrainerDb.get(id) ?? extraTrainers.get(id);
+  for (const [id, change] of c.trainers) {
+    const t = who.trainers.get(id);
     if (!t?.email) continue;
-    const change = !newTrainer.has(id) ? "cancelled" : oldTrainer.has(id) ? "changed" : "new";
     // One event per shared slot: same day, time and device type.
     const cancelled =
       change === "cancelled"

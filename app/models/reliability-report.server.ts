@@ -1,5 +1,14 @@
 import { sampleStandardDeviation } from "simple-statistics";
-import { intraclassCorrelation, minimalDetectableChange, standardErrorOfMeasurement } from "~/compute/reliability";
+import { holm } from "~/compute/multiplicity";
+import {
+  iccConfidenceInterval,
+  intraclassCorrelation,
+  minimalDetectableChange,
+  type ReliabilityLabel,
+  reliabilityLabel,
+  reliableChangeIndex,
+  standardErrorOfMeasurement,
+} from "~/compute/reliability";
 import { type Db, db } from "~/db.server";
 
 // Test–retest reliability per measure from repeated baselines (docs/methods.md).
@@ -22,6 +31,11 @@ export interface MeasureReliability {
   unit: string;
   n: number;
   icc21: number | null;
+  /** 95 % confidence interval of ICC(2,1) (McGraw & Wong 1996, case 2A). */
+  icc21Lower?: number | null;
+  icc21Upper?: number | null;
+  /** Koo & Li (2016) reading of ICC(2,1). */
+  label?: ReliabilityLabel | null;
   icc31: number | null;
   sd: number | null;
   sem: number | null;
@@ -47,9 +61,37 @@ export function retestSummary(
     const icc21 = intraclassCorrelation(pairs, "ICC(2,1)");
     const icc31 = intraclassCorrelation(pairs, "ICC(3,1)");
     const sd = sampleStandardDeviation(pairs.map((p) => p[0]));
-    if (icc21 < 0) return { n, icc21, icc31, sd, sem: null, mdc95: null, note: "ICC below 0: no usable reliability" };
+    let interval: { lower: number; upper: number } | null = null;
+    try {
+      const ci = iccConfidenceInterval(pairs, "ICC(2,1)", 0.95);
+      if (Number.isFinite(ci.lower) && Number.isFinite(ci.upper)) interval = ci;
+    } catch {
+      interval = null; // e.g. ICC of exactly 1: no interval, the estimate still stands
+    }
+    const spread = { icc21Lower: interval?.lower ?? null, icc21Upper: interval?.upper ?? null };
+    if (icc21 < 0)
+      return {
+        n,
+        icc21,
+        ...spread,
+        label: "poor",
+        icc31,
+        sd,
+        sem: null,
+        mdc95: null,
+        note: "ICC below 0: no usable reliability",
+      };
     const sem = standardErrorOfMeasurement(sd, icc21);
-    return { n, icc21, icc31, sd, sem, mdc95: minimalDetectableChange(sem, 0.95) };
+    return {
+      n,
+      icc21,
+      ...spread,
+      label: reliabilityLabel(icc21),
+      icc31,
+      sd,
+      sem,
+      mdc95: minimalDetectableChange(sem, 0.95),
+    };
   } catch (e) {
     return { n, icc21: null, icc31: null, sd: null, sem: null, mdc95: null, note: (e as Error).message };
   }
@@ -94,10 +136,21 @@ export interface ChangeRow {
   latest: number;
   change: number;
   mdc95: number | null;
+  /** Reliable change index (Jacobson & Truax 1991) and its p-value after Holm's correction over the measures compared. */
+  rci: number | null;
+  adjustedP: number | null;
   verdict: "better" | "worse" | "within error" | "no MDC yet";
 }
 
-/** For one worker: change of each measure from the previous to the latest session, judged against MDC95. */
+/** Family-wise error rate of the "real change" verdicts of one comparison (Holm over its measures). */
+export const CHANGE_ALPHA = 0.05;
+
+/**
+ * For one worker: change of each measure from the previous to the latest session. A change is real when its
+ * reliable change index (change / √2·SEM, SEM from ICC(2,1) and the first-baseline SD) stays significant
+ * after Holm's correction over all measures compared here, at family-wise level CHANGE_ALPHA. Without the
+ * correction this is the MDC95 rule (|change| > 1.96·√2·SEM) applied to each measure separately.
+ */
 export function changesSincePrevious(
   sessions: { results: { measureId: number; name: string; unit: string; higherIsBetter: boolean; value: number }[] }[],
   reliability: Map<number, MeasureReliability>,
@@ -115,20 +168,18 @@ export function changesSincePrevious(
       h.values.push(r.value);
       history.set(r.measureId, h);
     }
+  const tested: { row: number; p: number; rci: number }[] = [];
   for (const [measureId, h] of history) {
     if (h.values.length < 2) continue;
     const previous = h.values[h.values.length - 2];
     const latest = h.values[h.values.length - 1];
     const change = latest - previous;
-    const mdc = reliability.get(measureId)?.mdc95 ?? null;
-    const verdict: ChangeRow["verdict"] =
-      mdc == null
-        ? "no MDC yet"
-        : Math.abs(change) <= mdc
-          ? "within error"
-          : change > 0 === h.higherIsBetter
-            ? "better"
-            : "worse";
+    const rel = reliability.get(measureId);
+    const usable = rel?.mdc95 != null && rel.sd != null && rel.icc21 != null && rel.sem != null && rel.sem > 0;
+    if (usable) {
+      const r = reliableChangeIndex(previous, latest, rel.sd as number, rel.icc21 as number);
+      tested.push({ row: out.length, p: r.pValue, rci: r.rci });
+    }
     out.push({
       measureId,
       name: h.name,
@@ -137,8 +188,22 @@ export function changesSincePrevious(
       previous,
       latest,
       change,
-      mdc95: mdc,
-      verdict,
+      mdc95: rel?.mdc95 ?? null,
+      rci: null,
+      adjustedP: null,
+      verdict: usable ? "within error" : "no MDC yet",
+    });
+  }
+  if (tested.length > 0) {
+    const h = holm(
+      tested.map((t) => t.p),
+      CHANGE_ALPHA,
+    );
+    tested.forEach((t, i) => {
+      const row = out[t.row];
+      row.rci = t.rci;
+      row.adjustedP = h.adjusted[i];
+      if (h.rejected[i]) row.verdict = row.change > 0 === row.higherIsBetter ? "better" : "worse";
     });
   }
   return out;

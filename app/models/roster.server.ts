@@ -1,16 +1,13 @@
 import { createHash } from "node:crypto";
-import { Readable } from "node:stream";
-import { parse as parseCsv } from "csv-parse";
-import ExcelJS from "exceljs";
 import type { Knex } from "knex";
 import type { Principal } from "~/auth/guard.server";
 import type { Scope } from "~/auth/scope";
-import { dateIn } from "~/dates";
+import { formatInstant } from "~/dates";
 import { type Db, db } from "~/db.server";
-import { conflict, notFound, UserError } from "~/errors";
+import { conflict, notFound } from "~/errors";
+import { readRosterFileOffThread, withUploadReadSlot } from "~/jobs/upload-read.server";
 import {
   guessMapping,
-  MAX_ROSTER_ROWS,
   ROSTER_FIELD_LABELS,
   ROSTER_FIELDS,
   type RosterMapping,
@@ -20,92 +17,18 @@ import {
   validateRoster,
 } from "~/schemas/roster";
 import type { TableQuery } from "~/schemas/table-query";
+import { checkXlsxArchive } from "~/xlsx.server";
 import { type ConsentState, consentStates } from "./consent.server";
 import { isUniqueViolation } from "./locks.server";
 import { paged } from "./paging.server";
+import { isXlsx, readRosterFile } from "./roster-file.server";
+import { viewerTimeZone } from "./sites.server";
 import { whereWorkerInScope } from "./workers.server";
 
 // Roster import and export, and the worker list.
 
-/** A UserError (400); routes not yet on formAction still tell it apart by name. */
-export class RosterFileError extends UserError {
-  constructor(message: string) {
-    super(message, { status: 400 });
-  }
-}
-
-export interface RosterTable {
-  headers: string[];
-  rows: string[][];
-}
-
-function cellText(v: ExcelJS.CellValue): string {
-  if (v == null) return "";
-  // Spreadsheet date cells come back as Dates at UTC midnight of the day typed.
-  if (v instanceof Date) return dateIn(v, "UTC");
-  if (typeof v === "object") {
-    if ("richText" in v) return v.richText.map((t) => t.text).join("");
-    if ("text" in v) return String((v as { text: unknown }).text ?? "");
-    if ("result" in v) return cellText((v as { result: ExcelJS.CellValue }).result);
-    if ("error" in v) return "";
-    return "";
-  }
-  return String(v);
-}
-
-/** Reads CSV (streamed through csv-parse, stops past the row cap) or XLSX (exceljs, first sheet). */
-export async function readRosterFile(
-  filename: string,
-  bytes: Uint8Array,
-  maxRows = MAX_ROSTER_ROWS,
-): Promise<RosterTable> {
-  const isXlsx = /\.xlsx$/i.test(filename) || (bytes[0] === 0x50 && bytes[1] === 0x4b);
-  const rows: string[][] = [];
-  if (isXlsx) {
-    const wb = new ExcelJS.Workbook();
-    try {
-      await wb.xlsx.load(Buffer.from(bytes) as unknown as ArrayBuffer);
-    } catch {
-      throw new RosterFileError("The file is not a readable XLSX workbook. Save it again as .xlsx or as CSV.");
-    }
-    const ws = wb.worksheets[0];
-    if (!ws) throw new RosterFileError("The workbook has no sheet.");
-    if (ws.actualRowCount > maxRows + 1)
-      throw new RosterFileError(
-        `The sheet has more than ${maxRows} data rows, the most one import takes; split the file.`,
-      );
-    ws.eachRow({ includeEmpty: true }, (row) => {
-      const vals = (row.values as ExcelJS.CellValue[]).slice(1); // exceljs rows are 1-based
-      rows.push(vals.map(cellText).map((s) => s.trim()));
-    });
-  } else {
-    const parser = Readable.from([Buffer.from(bytes)]).pipe(
-      parseCsv({ bom: true, relax_column_count: true, skip_empty_lines: true, trim: true }),
-    );
-    try {
-      for await (const record of parser as AsyncIterable<string[]>) {
-        rows.push(record);
-        if (rows.length > maxRows + 1) {
-          parser.destroy();
-          throw new RosterFileError(
-            `The file has more than ${maxRows} data rows, the most one import takes; split the file.`,
-          );
-        }
-      }
-    } catch (e) {
-      if (e instanceof RosterFileError) throw e;
-      const err = e as { lines?: number; message: string };
-      throw new RosterFileError(
-        `The file is not readable CSV${err.lines ? ` (line ${err.lines})` : ""}: ${err.message}`,
-      );
-    }
-  }
-  while (rows.length && rows[rows.length - 1].every((c) => c === "")) rows.pop();
-  if (rows.length === 0 || rows[0].every((c) => c === ""))
-    throw new RosterFileError("The file is empty; the first row must name the columns.");
-  const headers = rows[0].map((h) => h.replace(/^\uFEFF/, "").trim());
-  return { headers, rows: rows.slice(1) };
-}
+export type { RosterTable } from "./roster-file.server";
+export { RosterFileError, readRosterFile } from "./roster-file.server";
 
 export async function rosterSites(k: Db = db()): Promise<RosterSite[]> {
   const sites = await k("sites").select("id", "code", "name").orderBy("id");
@@ -128,7 +51,14 @@ export async function saveRosterUpload(
   filename: string,
   bytes: Uint8Array,
 ): Promise<number> {
-  const table = await readRosterFile(filename, bytes);
+  // A workbook's zip directory is checked here, before anything is inflated; the workbook is then parsed in
+  // a worker thread within time and memory limits. CSV (no compression, capped in size and rows) is parsed
+  // here in small chunks. Either way in one of the organisation's reading slots.
+  const xlsx = isXlsx(filename, bytes);
+  if (xlsx) await checkXlsxArchive(bytes);
+  const table = await withUploadReadSlot(() =>
+    xlsx ? readRosterFileOffThread(filename, bytes) : readRosterFile(filename, bytes),
+  );
   const [r] = await db()("roster_imports")
     .insert({
       filename: filename.slice(0, 255),
@@ -158,11 +88,18 @@ export interface RosterUpload {
   status: "uploaded" | "imported" | "discarded";
   summary: RosterSummary | null;
   createdAt: string;
+  /** When it was imported or discarded. */
+  finishedAt: string | null;
+  /** Who uploaded it; only they may import or discard it, so also who did. */
+  createdByName: string;
 }
 
 /** An upload, only for the person who made it. */
 export async function getRosterUpload(id: number, userId: number, k: Db = db()): Promise<RosterUpload | null> {
-  const r = await k("roster_imports").where({ id, created_by: userId }).first();
+  const r = await k("roster_imports as ri")
+    .join("users as u", "u.id", "ri.created_by")
+    .where({ "ri.id": id, "ri.created_by": userId })
+    .first("ri.*", "u.display_name as created_by_name");
   if (!r) return null;
   return {
     id: r.id,
@@ -176,7 +113,27 @@ export async function getRosterUpload(id: number, userId: number, k: Db = db()):
     status: r.status,
     summary: r.summary ? JSON.parse(r.summary) : null,
     createdAt: String(r.created_at),
+    finishedAt: r.finished_at ? String(r.finished_at) : null,
+    createdByName: r.created_by_name,
   };
+}
+
+/** What became of a finished upload, in the viewer's zone: "Imported on 3 Dec 2026, 14:05 CET by …". */
+export function rosterOutcome(up: RosterUpload, zone: string): string | null {
+  if (up.status === "uploaded" || !up.finishedAt) return null;
+  const when = formatInstant(up.finishedAt, zone);
+  return `${up.status === "imported" ? "Imported" : "Discarded"} on ${when} by ${up.createdByName}`;
+}
+
+/** The answer to importing an upload that is no longer waiting: what happened to it, and that nothing more was. */
+function alreadyFinished(up: RosterUpload, zone: string): string {
+  const when = up.finishedAt ? formatInstant(up.finishedAt, zone) : "an earlier date";
+  if (up.status === "imported") {
+    const s = up.summary;
+    const counts = s ? `: ${s.created} new, ${s.updated} updated, ${s.unchanged} unchanged, ${s.skipped} skipped` : "";
+    return `This import was already completed on ${when} by ${up.createdByName}${counts}. Nothing more was written.`;
+  }
+  return `This upload was discarded on ${when}, so nothing from it was imported; upload the file again to import it.`;
 }
 
 export async function recentRosterUploads(userId: number, limit = 10) {
@@ -184,7 +141,7 @@ export async function recentRosterUploads(userId: number, limit = 10) {
     .where({ created_by: userId })
     .orderBy("id", "desc")
     .limit(limit)
-    .select("id", "filename", "row_count", "status", "summary", "created_at");
+    .select("id", "filename", "row_count", "status", "summary", "created_at", "finished_at");
   return rows.map((r) => ({
     id: r.id as number,
     filename: r.filename as string,
@@ -192,6 +149,7 @@ export async function recentRosterUploads(userId: number, limit = 10) {
     status: r.status as string,
     summary: r.summary ? (JSON.parse(r.summary) as RosterSummary) : null,
     createdAt: String(r.created_at),
+    finishedAt: r.finished_at ? String(r.finished_at) : null,
   }));
 }
 
@@ -354,12 +312,13 @@ export async function applyRosterPlan(
  * for the other (the unique key on employee numbers decides), never with half of either.
  */
 export async function importRosterUpload(id: number, principal: Principal & { kind: "user" }): Promise<RosterSummary> {
+  const zone = await viewerTimeZone(principal);
   try {
     return await db().transaction(async (trx) => {
       await trx("roster_imports").where({ id, created_by: principal.user.id }).forUpdate().first("id");
       const up = await getRosterUpload(id, principal.user.id, trx);
       if (!up) throw notFound("That roster upload does not exist.");
-      if (up.status !== "uploaded" || !up.rows) throw conflict(`That roster upload was already ${up.status}.`);
+      if (up.status !== "uploaded" || !up.rows) throw conflict(alreadyFinished(up, zone));
       const plan = await planRoster(up.rows, up.mapping, principal.scope, trx);
       const summary = await applyRosterPlan(trx, plan, principal.user.id);
       await trx("roster_imports")
@@ -463,22 +422,34 @@ export const ROSTER_EXPORT_COLUMNS = [
   { header: "stage", key: "stage", width: 12 },
 ];
 
-/** Roster rows in the import's own column names (site and department codes), so an export re-imports as is. */
-export async function rosterExportRows(scope: Scope): Promise<Record<string, unknown>[]> {
-  const q = db()("workers")
-    .join("sites as s", "s.id", "workers.site_id")
-    .join("departments as d", "d.id", "workers.department_id")
-    .select(
-      "workers.employee_number",
-      "workers.given_name",
-      "workers.family_name",
-      "workers.email",
-      "s.code as site",
-      "d.code as department",
-      "workers.stage",
-    )
-    .orderBy("workers.employee_number");
-  return whereWorkerInScope(q, scope);
+/**
+ * Roster rows in the import's own column names (site and department codes), so an export re-imports as is:
+ * one page at a time in employee-number order (keyset paging on the unique number), so that an export of
+ * any size holds only a page in memory.
+ */
+export async function* rosterExportPages(scope: Scope, pageSize = 1000): AsyncGenerator<Record<string, unknown>[]> {
+  let after: string | null = null;
+  for (;;) {
+    const q = db()("workers")
+      .join("sites as s", "s.id", "workers.site_id")
+      .join("departments as d", "d.id", "workers.department_id")
+      .select(
+        "workers.employee_number",
+        "workers.given_name",
+        "workers.family_name",
+        "workers.email",
+        "s.code as site",
+        "d.code as department",
+        "workers.stage",
+      )
+      .orderBy("workers.employee_number")
+      .limit(pageSize);
+    if (after !== null) q.where("workers.employee_number", ">", after);
+    const page: Record<string, unknown>[] = await whereWorkerInScope(q, scope);
+    if (page.length) yield page;
+    if (page.length < pageSize) return;
+    after = page[page.length - 1].employee_number as string;
+  }
 }
 
 export { ROSTER_FIELDS };

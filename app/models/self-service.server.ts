@@ -1,6 +1,6 @@
 import type { Principal } from "~/auth/guard.server";
 import { appUrl } from "~/config.server";
-import { type Instant, instantToWallClock, todayIn, wallClock } from "~/dates";
+import { type Instant, todayIn } from "~/dates";
 import { type Db, db } from "~/db.server";
 import { sendMail } from "~/mail.server";
 import { roleEmailsCovering } from "./adverse-events.server";
@@ -14,6 +14,7 @@ import {
 } from "./consent.server";
 import { refreshForecastsForWorker } from "./forecast.server";
 import { type ProgressView, progressView } from "./progress.server";
+import { scheduleSessions } from "./schedule.server";
 import { workerTimeZone } from "./sites.server";
 import { type WithdrawalResult, withdrawConsent } from "./withdrawal.server";
 
@@ -68,56 +69,23 @@ export interface MySession {
   status: string;
 }
 
-/** My sessions from the instant `from` (default now) on the site's clock (scheduled ones; cancelled ones are left out). */
+/** My upcoming sessions from the instant `from` (default now) on the site's clock, read from the schedule. */
 export async function mySessions(
   workerId: number,
-  opts: { from?: Instant | Date; limit?: number; includePast?: boolean } = {},
+  opts: { from?: Instant | Date; limit?: number } = {},
   k: Db = db(),
 ): Promise<MySession[]> {
-  const timeZone = await workerTimeZone(workerId, k);
-  const q = k("training_sessions as ts")
-    .join("device_types as d", "d.id", "ts.device_type_id")
-    .leftJoin("device_units as u", "u.id", "ts.device_unit_id")
-    .leftJoin("sites as us", "us.id", "u.site_id")
-    .leftJoin("trainers as tr", "tr.id", "ts.trainer_id")
-    .leftJoin("users as tu", "tu.id", "tr.user_id")
-    .leftJoin("sites as trs", "trs.id", "tr.site_id")
-    .join("workers as w", "w.id", "ts.worker_id")
-    .join("sites as ws", "ws.id", "w.site_id")
-    .where("ts.worker_id", workerId)
-    .whereNotNull("ts.scheduled_start")
-    .select(
-      "ts.id",
-      "ts.scheduled_start",
-      "ts.scheduled_end",
-      "ts.status",
-      "d.id as device_type_id",
-      "d.name as device_name",
-      "u.serial",
-      "us.name as unit_site",
-      "trs.name as trainer_site",
-      "ws.name as worker_site",
-      "tu.display_name as trainer",
-    )
-    .orderBy("ts.scheduled_start");
-  if (!opts.includePast)
-    q.where("ts.status", "scheduled").where(
-      "ts.scheduled_start",
-      ">=",
-      instantToWallClock(opts.from ?? new Date(), timeZone),
-    );
-  else q.whereNot("ts.status", "cancelled");
-  if (opts.limit) q.limit(opts.limit);
-  return (await q).map((r) => ({
+  const rows = await scheduleSessions({ workerId, from: opts.from ?? new Date(), limit: opts.limit }, k);
+  return rows.map((r) => ({
     id: r.id,
-    start: wallClock(r.scheduled_start),
-    end: r.scheduled_end ? wallClock(r.scheduled_end) : null,
-    timeZone,
-    deviceType: r.device_name,
-    deviceTypeId: r.device_type_id,
-    unit: r.serial ?? null,
-    place: r.unit_site ?? r.trainer_site ?? r.worker_site,
-    trainer: r.trainer ?? null,
+    start: r.start,
+    end: r.end,
+    timeZone: r.timeZone,
+    deviceType: r.deviceType,
+    deviceTypeId: r.deviceTypeId,
+    unit: r.unit,
+    place: r.place,
+    trainer: r.trainer,
     status: r.status,
   }));
 }

@@ -1,18 +1,22 @@
 import {
+  addDays,
   dayAndWeekIn,
+  dayAndWeekOf,
   hoursBetween,
   type Instant,
+  type IsoDate,
   nowInstant,
-  wallClock,
   wallClockExists,
+  wallClockNow,
   wallClockToInstant,
 } from "~/dates";
-import { type Db, db, type Row } from "~/db.server";
+import { type Db, db } from "~/db.server";
 import { conflict } from "~/errors";
 import type { TrainerLogInput } from "~/schemas/session-log";
 import { adverseEventsFrom } from "~/schemas/session-log";
 import { eventsForSessions, notifyAssessorsOfSevereEvents, recordAdverseEvents } from "./adverse-events.server";
 import { logSessionResult, SessionLogError } from "./progress.server";
+import { type SessionOnSchedule, scheduleSessions } from "./schedule.server";
 
 // The trainer's day: sessions on the trainer's own schedule only. Every function here takes the
 // trainer id resolved from the signed-in user (trainers.user_id), never from the URL.
@@ -57,101 +61,74 @@ export interface ScheduledSession {
   wearTimeLimitMinutes: number;
 }
 
-function sessionQuery(k: Db, trainerId: number) {
-  return k("training_sessions as ts")
-    .join("workers as w", "w.id", "ts.worker_id")
-    .join("device_types as d", "d.id", "ts.device_type_id")
-    .leftJoin("device_units as u", "u.id", "ts.device_unit_id")
-    .leftJoin("sites as us", "us.id", "u.site_id")
-    .join("trainers as tr", "tr.id", "ts.trainer_id")
-    .join("sites as ts_site", "ts_site.id", "tr.site_id")
-    .leftJoin("device_courses as c", function () {
-      this.on("c.worker_id", "ts.worker_id").andOn("c.device_type_id", "ts.device_type_id");
-    })
-    .where("ts.trainer_id", trainerId)
-    .select(
-      "ts.id",
-      "ts.worker_id",
-      "w.employee_number",
-      "w.given_name",
-      "w.family_name",
-      "ts.device_type_id",
-      "d.name as device_name",
-      "d.code as device_code",
-      "d.wear_time_limit_minutes",
-      "u.serial",
-      "us.name as unit_site",
-      "ts_site.name as trainer_site",
-      "ts.scheduled_start",
-      "ts.scheduled_end",
-      "ts.status",
-      "ts.task_score",
-      "ts.duration_hours",
-      "c.status as course_status",
-      "c.pause_reason",
-    );
-}
-
-function toSession(r: Row): ScheduledSession {
+function toSession(r: SessionOnSchedule): ScheduledSession {
   return {
     id: r.id,
-    workerId: r.worker_id,
-    employeeNumber: r.employee_number,
-    trainee: `${r.given_name} ${r.family_name}`,
-    deviceTypeId: r.device_type_id,
-    deviceType: r.device_name,
-    deviceCode: r.device_code,
-    unit: r.serial ?? null,
-    place: r.unit_site ?? r.trainer_site,
-    start: r.scheduled_start ? wallClock(r.scheduled_start) : null,
-    end: r.scheduled_end ? wallClock(r.scheduled_end) : null,
+    workerId: r.workerId,
+    employeeNumber: r.employeeNumber,
+    trainee: r.worker,
+    deviceTypeId: r.deviceTypeId,
+    deviceType: r.deviceType,
+    deviceCode: r.deviceCode,
+    unit: r.unit,
+    place: r.place,
+    start: r.start,
+    end: r.end,
     status: r.status,
-    taskScore: r.task_score == null ? null : Number(r.task_score),
-    durationHours: r.duration_hours == null ? null : Number(r.duration_hours),
-    courseStatus: r.course_status ?? null,
-    pauseReason: r.pause_reason ?? null,
-    wearTimeLimitMinutes: Number(r.wear_time_limit_minutes),
+    taskScore: r.taskScore,
+    durationHours: r.durationHours,
+    courseStatus: r.courseStatus,
+    pauseReason: r.pauseReason,
+    wearTimeLimitMinutes: r.wearTimeLimitMinutes,
   };
 }
 
+const NOT_CANCELLED = ["scheduled", "attended", "no_show"];
+
 /** The schedule view leaves out results (scores, practice time): those are read, and logged, on the session page. */
-function scheduleOnly(r: Row): ScheduledSession {
+function scheduleOnly(r: SessionOnSchedule): ScheduledSession {
   return { ...toSession(r), taskScore: null, durationHours: null };
 }
 
 /**
- * The trainer's sessions for today and this week (Monday to Sunday) on the clock of the trainer's site, and
- * earlier scheduled sessions still waiting to be logged.
+ * The trainer's sessions for one day (today unless `shown` names another) and the rest of its week (Monday to
+ * Sunday) on the clock of the trainer's site, and sessions before this week still waiting to be logged.
  */
-export async function trainerDay(trainerId: number, now: Instant | Date = new Date(), k: Db = db()) {
+export async function trainerDay(trainerId: number, now: Instant | Date = new Date(), k: Db = db(), shown?: IsoDate) {
   const site = await k("trainers as t")
     .join("sites as s", "s.id", "t.site_id")
     .where("t.id", trainerId)
     .first("s.time_zone");
   const timeZone: string = site.time_zone;
-  const w = { ...dayAndWeekIn(timeZone, now), timeZone };
+  const real = dayAndWeekIn(timeZone, now);
+  const w = { ...(shown ? dayAndWeekOf(shown) : real), timeZone };
   const week = (
-    await sessionQuery(k, trainerId)
-      .where("ts.scheduled_start", ">=", w.weekStart)
-      .where("ts.scheduled_start", "<", w.weekEnd)
-      .whereNot("ts.status", "cancelled")
-      .orderBy("ts.scheduled_start")
+    await scheduleSessions({ trainerId, wallFrom: w.weekStart, wallTo: w.weekEnd, statuses: NOT_CANCELLED }, k)
   ).map(scheduleOnly);
-  const waiting = (
-    await sessionQuery(k, trainerId)
-      .where("ts.status", "scheduled")
-      .where("ts.scheduled_start", "<", w.weekStart)
-      .orderBy("ts.scheduled_start")
-      .limit(50)
-  ).map(scheduleOnly);
+  const waiting = (await scheduleSessions({ trainerId, from: null, wallTo: real.weekStart, limit: 50 }, k)).map(
+    scheduleOnly,
+  );
   const today = week.filter((s) => s.start != null && s.start >= w.dayStart && s.start < w.dayEnd);
   const rest = week.filter((s) => !today.includes(s));
-  return { ...w, today, rest, waiting };
+  return {
+    ...w,
+    today,
+    rest,
+    waiting,
+    isToday: w.date === real.date,
+    todayDate: real.date,
+    /** Now on the site's clock: a session still to do that ended before it is overdue. */
+    now: wallClockNow(timeZone, now),
+    previousDay: addDays(w.date, -1),
+    nextDay: addDays(w.date, 1),
+    previousWeek: addDays(w.date, -7),
+    nextWeek: addDays(w.date, 7),
+  };
 }
 
 /** One session, only if it is on this trainer's schedule (else null: the caller answers 403). */
 export async function trainerSession(trainerId: number, sessionId: number, k: Db = db()) {
-  const r = await sessionQuery(k, trainerId).where("ts.id", sessionId).first();
+  const [r] = await scheduleSessions({ trainerId, sessionId, statuses: [...NOT_CANCELLED, "cancelled"] }, k);
   if (!r) return null;
   const s = toSession(r);
   return { ...s, events: await eventsForSessions([s.id], k) };

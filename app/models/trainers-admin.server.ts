@@ -1,10 +1,11 @@
 import type { Principal } from "~/auth/guard.server";
 import type { Scope } from "~/auth/scope";
-import { dayOf, hhmmOfWallClock, todayIn, wallClock } from "~/dates";
+import { dayOf, hhmmOfWallClock, todayIn } from "~/dates";
 import { db } from "~/db.server";
 import { conflict, notFound } from "~/errors";
 import type { TableQuery } from "~/schemas/table-query";
 import { paged } from "./paging.server";
+import { type SessionOnSchedule, scheduleSessions } from "./schedule.server";
 import { whereWorkerInScope } from "./workers.server";
 
 // People on the training side, for coordinators: trainers (certifications per device type,
@@ -68,7 +69,23 @@ export async function trainerList(scope: Scope) {
 }
 
 export async function trainerDetail(scope: Scope, trainerId: number) {
-  return (await trainerList(scope)).find((t) => t.id === trainerId) ?? null;
+  const t = (await trainerList(scope)).find((x) => x.id === trainerId);
+  if (!t) return null;
+  const sessions = await scheduleSessions({ scope, trainerId });
+  return { ...t, sessions: sessions.map(sessionLine), traineeIds: [...new Set(sessions.map((s) => s.workerId))] };
+}
+
+/** A session as one line on the coordinator's pages (wall-clock times of the worker's site). */
+function sessionLine(s: SessionOnSchedule) {
+  return {
+    id: s.id,
+    start: `${dayOf(s.start)} ${hhmmOfWallClock(s.start)}`,
+    end: s.end ? hhmmOfWallClock(s.end) : "",
+    device: s.deviceType,
+    unit: s.unit,
+    trainer: s.trainer,
+    worker: `${s.employeeNumber} · ${s.worker}`,
+  };
 }
 
 export async function updateTrainer(
@@ -248,16 +265,7 @@ export async function traineeDetail(scope: Scope, workerId: number) {
     .where({ worker_id: workerId })
     .select("id", "starts_on", "ends_on", "reason")
     .orderBy("starts_on");
-  const sessions = await db()("training_sessions as s")
-    .join("device_types as t", "t.id", "s.device_type_id")
-    .leftJoin("device_units as u", "u.id", "s.device_unit_id")
-    .leftJoin("trainers as tr", "tr.id", "s.trainer_id")
-    .leftJoin("users as tu", "tu.id", "tr.user_id")
-    .where("s.worker_id", workerId)
-    .whereNotNull("s.allocation_run_id")
-    .where("s.status", "scheduled")
-    .select("s.scheduled_start", "s.scheduled_end", "t.name as device", "u.serial", "tu.display_name as trainer")
-    .orderBy(["s.scheduled_start", "s.id"]);
+  const sessions = await scheduleSessions({ scope, workerId });
   return {
     workerId: w.id as number,
     employeeNumber: w.employee_number as string,
@@ -274,14 +282,7 @@ export async function traineeDetail(scope: Scope, workerId: number) {
       endsOn: l.ends_on as string,
       reason: (l.reason as string) ?? "",
     })),
-    sessions: sessions.map((s) => ({
-      // Wall-clock times of the worker's site.
-      start: `${dayOf(wallClock(s.scheduled_start))} ${hhmmOfWallClock(wallClock(s.scheduled_start))}`,
-      end: s.scheduled_end ? hhmmOfWallClock(wallClock(s.scheduled_end)) : "",
-      device: s.device as string,
-      unit: (s.serial as string) ?? null,
-      trainer: (s.trainer as string) ?? null,
-    })),
+    sessions: sessions.map(sessionLine),
   };
 }
 

@@ -1,6 +1,10 @@
 import {
+  FormDataParseError,
   MaxFileSizeExceededError,
   MaxFilesExceededError,
+  MaxHeaderSizeExceededError,
+  MaxPartsExceededError,
+  MaxTotalSizeExceededError,
   MultipartParseError,
   parseFormData,
 } from "@remix-run/form-data-parser";
@@ -8,12 +12,15 @@ import { UserError } from "~/errors";
 
 // Multipart uploads (@remix-run/form-data-parser) with a size cap: the file is read into memory only
 // up to `maxBytes`; a larger file is refused with a message naming the limit.
-/** A UserError (413); routes not yet on formAction still tell it apart by name. */
+/** A UserError (413 too large, 400 unreadable); routes not yet on formAction still tell it apart by name. */
 export class UploadError extends UserError {
-  constructor(message: string) {
-    super(message, { status: 413 });
+  constructor(message: string, status = 413) {
+    super(message, { status });
   }
 }
+
+const UNREADABLE =
+  "The upload could not be read: the form body is malformed (send it as multipart/form-data from the upload form).";
 
 export interface UploadedFile {
   name: string;
@@ -27,7 +34,11 @@ export async function readMultipart(
 ): Promise<{ form: FormData; file: UploadedFile | null }> {
   const contentType = request.headers.get("Content-Type") ?? "";
   if (!contentType.startsWith("multipart/form-data")) {
-    return { form: await request.formData(), file: null };
+    try {
+      return { form: await request.formData(), file: null };
+    } catch {
+      throw new UploadError(UNREADABLE, 400);
+    }
   }
   let file: UploadedFile | null = null;
   try {
@@ -42,7 +53,11 @@ export async function readMultipart(
     if (e instanceof MaxFileSizeExceededError)
       throw new UploadError(`The file is larger than ${formatBytes(opts.maxBytes)}, the most accepted.`);
     if (e instanceof MaxFilesExceededError) throw new UploadError("Upload one file at a time.");
-    if (e instanceof MultipartParseError) throw new UploadError(`The upload could not be read: ${e.message}`);
+    if (e instanceof MaxPartsExceededError || e instanceof MaxTotalSizeExceededError)
+      throw new UploadError("The upload has more form fields or data than its form sends.");
+    if (e instanceof MaxHeaderSizeExceededError) throw new UploadError("A part of the upload has oversized headers.");
+    // The parser wraps a malformed body (bad boundary, truncated part) in FormDataParseError.
+    if (e instanceof FormDataParseError || e instanceof MultipartParseError) throw new UploadError(UNREADABLE, 400);
     throw e;
   }
 }

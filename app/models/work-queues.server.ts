@@ -220,7 +220,17 @@ export async function trainerQueue(
   ];
 }
 
-export async function adminQueue(k: Db = db()): Promise<QueueItem[]> {
+/** `me`: the signed-in admin, whose own requests wait for someone else and are not counted. */
+export async function adminQueue(me: number | null, k: Db = db()): Promise<QueueItem[]> {
+  const approvals = await k("privilege_requests")
+    .where("status", "pending")
+    .where((w) => {
+      w.whereNull("requested_by").orWhereNot("requested_by", me ?? -1);
+    })
+    .where((w) => {
+      w.whereNull("target_user_id").orWhereNot("target_user_id", me ?? -1);
+    })
+    .count({ n: "*" });
   // Consent given on a text version older than the newest one of its purpose: the worker may be asked to renew.
   const newest = k("consent_text_versions").select("purpose").max({ id: "id" }).groupBy("purpose");
   const latestRecord = k("consent_records")
@@ -239,6 +249,13 @@ export async function adminQueue(k: Db = db()): Promise<QueueItem[]> {
     .whereNotExists(k("role_assignments as a").select(k.raw("1")).whereRaw("a.user_id = users.id"))
     .count({ n: "*" });
   return [
+    {
+      key: "approvals",
+      label: "Role grants and API keys waiting for your approval",
+      count: n(approvals),
+      to: "/admin/approvals",
+      hint: "A second admin approves clinical roles and keys; you cannot approve your own.",
+    },
     {
       key: "consent-renewal",
       label: "Consents given on an older consent text",

@@ -12,6 +12,7 @@ export const allocation: Area = {
     ["coordinate/runs", "routes/coordinate.runs._index.tsx"],
     ["coordinate/runs/compare", "routes/coordinate.runs.compare.tsx"],
     ["coordinate/runs/:runId", "routes/coordinate.runs.$runId.tsx"],
+    ["coordinate/schedule", "routes/coordinate.schedule.tsx"],
   ],
   outsideShell: [
     ["coordinate/runs/:runId/status", "routes/coordinate.runs.$runId.status.ts"],
@@ -22,6 +23,7 @@ export const allocation: Area = {
   nav: {
     coordinator: [
       { to: "/coordinate/runs", label: "Allocation runs" },
+      { to: "/coordinate/schedule", label: "Schedule" },
       { to: "/coordinate/fleet", label: "Fleet" },
       { to: "/coordinate/trainers", label: "Trainers" },
       { to: "/coordinate/trainees", label: "Trainees" },

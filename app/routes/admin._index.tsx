@@ -26,7 +26,7 @@ export async function loader({ request }: Route.LoaderArgs) {
     accessReads: await count("access_log"),
     securityEvents: await recentSecurityEvents(),
     timeZone: await viewerTimeZone(p),
-    queue: await adminQueue(),
+    queue: await adminQueue(p.kind === "user" ? p.user.id : null),
   };
 }
 

@@ -3,6 +3,7 @@ import { Form } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { ServerTable } from "~/components/server-table";
 import { formatInstant } from "~/dates";
+import { answerUserErrors } from "~/forms.server";
 import { type AccessLogRow, listAccessLog } from "~/models/access-log.server";
 import { viewerTimeZone } from "~/models/sites.server";
 import { accessLogFilterSchema } from "~/schemas/admin";
@@ -12,19 +13,21 @@ import type { Route } from "./+types/admin.access-log";
 export const meta: Route.MetaFunction = () => [{ title: "Access log · Limberly" }];
 
 export async function loader({ request }: Route.LoaderArgs) {
-  const p = await requireUser(request, "admin.accesslog");
-  const url = new URL(request.url);
-  const q = readTableQuery(url, ["worker", "actor", "from", "to"]);
-  const parsed = accessLogFilterSchema.safeParse(q.filters);
-  const filters = parsed.success ? parsed.data : {};
-  const page = await listAccessLog({ ...q, dir: url.searchParams.has("dir") ? q.dir : "desc" }, filters);
-  return {
-    page,
-    filters,
-    filterError: parsed.success ? null : "A filter value was not understood and was ignored (dates as YYYY-MM-DD).",
-    search: url.search,
-    timeZone: await viewerTimeZone(p),
-  };
+  return answerUserErrors(async () => {
+    const p = await requireUser(request, "admin.accesslog");
+    const url = new URL(request.url);
+    const q = readTableQuery(url);
+    const parsed = accessLogFilterSchema.safeParse(Object.fromEntries(url.searchParams.entries()));
+    const filters = parsed.success ? parsed.data : {};
+    const page = await listAccessLog({ ...q, dir: url.searchParams.has("dir") ? q.dir : "desc" }, filters);
+    return {
+      page,
+      filters,
+      filterError: parsed.success ? null : "A filter value was not understood and was ignored (dates as YYYY-MM-DD).",
+      search: url.search,
+      timeZone: await viewerTimeZone(p),
+    };
+  });
 }
 
 const columnsIn = (zone: string): ColumnDef<AccessLogRow, unknown>[] => [

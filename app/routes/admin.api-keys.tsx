@@ -1,11 +1,10 @@
 import { Form, useActionData } from "react-router";
-import { createApiKey, revokeApiKey } from "~/auth/api-keys.server";
 import { requireUser } from "~/auth/guard.server";
 import { ROLE_LABELS, ROLES } from "~/auth/permissions";
 import { ActionErrors, ActionForm, ActionNotice, SelectField, TextField } from "~/components/fields";
 import { db } from "~/db.server";
-import { notFound } from "~/errors";
 import { formAction } from "~/forms.server";
+import { issueApiKey, revokeIssuedKey } from "~/models/duties.server";
 import { listSites } from "~/models/sites.server";
 import { apiKeyFormSchema } from "~/schemas/admin";
 import type { Route } from "./+types/admin.api-keys";
@@ -24,6 +23,7 @@ export async function loader({ request }: Route.LoaderArgs) {
       "k.created_at",
       "k.revoked_at",
       "k.last_used_at",
+      "k.awaiting_approval",
       "u.display_name as created_by",
     )
     .orderBy("k.id", "desc");
@@ -46,11 +46,16 @@ export async function action({ request }: Route.ActionArgs) {
   const me = await requireUser(request, "admin.apikeys");
   return formAction(await request.formData(), apiKeyFormSchema, async (v) => {
     if (v.intent === "revoke") {
-      if (!(await revokeApiKey(v.keyId))) throw notFound("That key is already revoked or does not exist.");
+      await revokeIssuedKey(me.user, v.keyId);
       return { notice: "Key revoked.", payload: null };
     }
-    const created = await createApiKey({ ...v, createdBy: me.user.id });
-    return { notice: null, payload: created };
+    const created = await issueApiKey(me.user, v);
+    return {
+      notice: created.pending
+        ? "The key is created but does not work yet: its role reaches health data, so another admin must approve it."
+        : null,
+      payload: created,
+    };
   });
 }
 
@@ -111,6 +116,10 @@ export default function AdminApiKeys({ loaderData }: Route.ComponentProps) {
                 <td>
                   {k.revoked_at ? (
                     `Revoked ${(k.revoked_at as string).slice(0, 10)}`
+                  ) : k.awaiting_approval ? (
+                    <a href="/admin/approvals" className="text-spruce-700 underline">
+                      Waiting for a second admin
+                    </a>
                   ) : (
                     <Form method="post">
                       <input type="hidden" name="intent" value="revoke" />

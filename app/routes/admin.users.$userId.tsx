@@ -4,7 +4,7 @@ import { requireUser } from "~/auth/guard.server";
 import { ROLE_LABELS, ROLES } from "~/auth/permissions";
 import { ActionErrors, ActionForm, ActionNotice, CheckboxField, SelectField, TextField } from "~/components/fields";
 import { departmentOptions, siteOptions } from "~/components/scope-options";
-import { notFound, UserError } from "~/errors";
+import { UserError } from "~/errors";
 import { formAction } from "~/forms.server";
 import { addAssignment, removeAssignment, updateUser, userDetail } from "~/models/admin-users.server";
 import { listDepartments, listSites } from "~/models/sites.server";
@@ -14,11 +14,11 @@ import type { Route } from "./+types/admin.users.$userId";
 export const meta: Route.MetaFunction = () => [{ title: "User · Limberly" }];
 
 export async function loader({ request, params }: Route.LoaderArgs) {
-  await requireUser(request, "admin.users");
+  const me = await requireUser(request, "admin.users");
   const user = await userDetail(Number(params.userId));
   invariantResponse(user, "No such user.", { status: 404 });
   const [sites, departments] = await Promise.all([listSites(), listDepartments()]);
-  return { user, sites, departments };
+  return { user, sites, departments, own: user.id === me.user.id };
 }
 
 export async function action({ request, params }: Route.ActionArgs) {
@@ -33,17 +33,16 @@ export async function action({ request, params }: Route.ActionArgs) {
         await updateUser(userId, v);
         return "Saved.";
       case "add-role":
-        await addAssignment(userId, v);
-        return "Role added.";
+        return addAssignment(me.user, userId, v);
       case "remove-role":
-        if (!(await removeAssignment(userId, v.assignmentId))) throw notFound("That role assignment no longer exists.");
+        await removeAssignment(me.user, userId, v.assignmentId);
         return "Role removed.";
     }
   });
 }
 
 export default function AdminUser({ loaderData }: Route.ComponentProps) {
-  const { user, sites, departments } = loaderData;
+  const { user, sites, departments, own } = loaderData;
   const r = useActionData<typeof action>();
   return (
     <div className="grid gap-6">
@@ -76,16 +75,25 @@ export default function AdminUser({ loaderData }: Route.ComponentProps) {
           Role assignments
         </h2>
         <ActionErrors result={r} intent="remove-role" />
+        {own && <p className="mt-2 text-ink-soft">These are your own roles: another admin must change them.</p>}
         <ul className="mt-3 divide-y divide-line">
-          {user.assignments.length === 0 && (
+          {user.assignments.length === 0 && user.pending.length === 0 && (
             <li className="py-2 text-ink-soft">No roles: this person cannot sign in.</li>
           )}
+          {user.pending.map((p) => (
+            <li key={`pending-${p.id}`} className="py-2 text-ink-soft">
+              Waiting for a second admin: {p.subject} (asked by {p.requestedBy}) —{" "}
+              <a href="/admin/approvals" className="text-spruce-700 underline">
+                approvals
+              </a>
+            </li>
+          ))}
           {user.assignments.map((a) => (
             <li key={a.id} className="flex flex-wrap items-center justify-between gap-2 py-2">
               <span>
                 <strong>{ROLE_LABELS[a.role]}</strong> · {a.scope}
               </span>
-              <Form method="post">
+              <Form method="post" hidden={own}>
                 <input type="hidden" name="intent" value="remove-role" />
                 <input type="hidden" name="assignmentId" value={a.id} />
                 <button
@@ -99,7 +107,7 @@ export default function AdminUser({ loaderData }: Route.ComponentProps) {
             </li>
           ))}
         </ul>
-        <ActionForm intent="add-role" result={r} className="mt-4 grid gap-4 sm:grid-cols-3">
+        <ActionForm intent="add-role" result={r} className="mt-4 grid gap-4 sm:grid-cols-3" hidden={own}>
           <SelectField
             name="role"
             label="Role"

@@ -6,7 +6,7 @@ import { ActionForm, ActionNotice, SelectField, TextField } from "~/components/f
 import { departmentOptions, siteOptions } from "~/components/scope-options";
 import { ServerTable } from "~/components/server-table";
 import { formatInstant } from "~/dates";
-import { formAction } from "~/forms.server";
+import { answerUserErrors, formAction } from "~/forms.server";
 import { createUser, listUsers, type UserListRow } from "~/models/admin-users.server";
 import { listDepartments, listSites, viewerTimeZone } from "~/models/sites.server";
 import { createUserSchema } from "~/schemas/admin";
@@ -16,23 +16,22 @@ import type { Route } from "./+types/admin.users";
 export const meta: Route.MetaFunction = () => [{ title: "Users and roles · Limberly" }];
 
 export async function loader({ request }: Route.LoaderArgs) {
-  const p = await requireUser(request, "admin.users");
-  const q = readTableQuery(new URL(request.url));
-  const [page, sites, departments, timeZone] = await Promise.all([
-    listUsers(q),
-    listSites(),
-    listDepartments(),
-    viewerTimeZone(p),
-  ]);
-  return { page, q: q.q ?? "", sites, departments, timeZone };
+  return answerUserErrors(async () => {
+    const p = await requireUser(request, "admin.users");
+    const q = readTableQuery(new URL(request.url));
+    const [page, sites, departments, timeZone] = await Promise.all([
+      listUsers(q),
+      listSites(),
+      listDepartments(),
+      viewerTimeZone(p),
+    ]);
+    return { page, q: q.q ?? "", sites, departments, timeZone };
+  });
 }
 
 export async function action({ request }: Route.ActionArgs) {
-  await requireUser(request, "admin.users");
-  return formAction(await request.formData(), createUserSchema, async (v) => {
-    await createUser(v);
-    return `Added ${v.email}.`;
-  });
+  const me = await requireUser(request, "admin.users");
+  return formAction(await request.formData(), createUserSchema, async (v) => (await createUser(me.user, v)).notice);
 }
 
 const columnsIn = (zone: string): ColumnDef<UserListRow, unknown>[] => [

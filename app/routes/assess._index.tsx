@@ -49,7 +49,7 @@ export default function AssessHome({ loaderData }: Route.ComponentProps) {
             <tr>
               <th scope="col">Site</th>
               {STAGES.map((s) => (
-                <th key={s} scope="col">
+                <th key={s} scope="col" className="text-right">
                   {STAGE_LABELS[s]}
                 </th>
               ))}
@@ -60,7 +60,9 @@ export default function AssessHome({ loaderData }: Route.ComponentProps) {
               <tr key={site}>
                 <th scope="row">{site}</th>
                 {STAGES.map((s) => (
-                  <td key={s}>{cell(site, s)}</td>
+                  <td key={s} className="text-right tabular-nums">
+                    {cell(site, s)}
+                  </td>
                 ))}
               </tr>
             ))}

@@ -21,7 +21,9 @@ export default function Reliability({ loaderData }: Route.ComponentProps) {
           From each worker's first two baselines of a measure, when at most {loaderData.maxDays} days apart (at least{" "}
           {loaderData.minN} workers). ICC(2,1): two-way random, absolute agreement; ICC(3,1): two-way mixed, consistency
           (Shrout &amp; Fleiss 1979). SEM = SD·√(1 − ICC(2,1)) with SD of the first baselines; MDC95 = 1.96·√2·SEM: a
-          change larger than this is unlikely to be measurement error.
+          change larger than this is unlikely to be measurement error. The 95 % confidence interval of ICC(2,1) follows
+          McGraw &amp; Wong (1996); the reading follows Koo &amp; Li (2016): below 0.5 poor, 0.5–0.75 moderate, 0.75–0.9
+          good, above 0.9 excellent. With few workers the interval is wide: read the label with it.
         </p>
       </div>
       <div className="card overflow-x-auto p-0">
@@ -36,6 +38,8 @@ export default function Reliability({ loaderData }: Route.ComponentProps) {
               <th scope="col">SD</th>
               <th scope="col">SEM</th>
               <th scope="col">MDC95</th>
+              <th scope="col">ICC(2,1) 95 % CI</th>
+              <th scope="col">Reading</th>
             </tr>
           </thead>
           <tbody>
@@ -51,6 +55,12 @@ export default function Reliability({ loaderData }: Route.ComponentProps) {
                 <td>{f(r.sd)}</td>
                 <td>{f(r.sem)}</td>
                 <td>{r.mdc95 == null ? "—" : `${f(r.mdc95)} ${r.unit}`}</td>
+                <td>
+                  {r.icc21Lower == null || r.icc21Upper == null
+                    ? "—"
+                    : `${f(r.icc21Lower, 2)} to ${f(r.icc21Upper, 2)}`}
+                </td>
+                <td data-testid="reliability-label">{r.label ?? "not enough data"}</td>
               </tr>
             ))}
           </tbody>

@@ -10,8 +10,10 @@ import {
   importRosterUpload,
   planRoster,
   type RosterSummary,
+  rosterOutcome,
   saveMapping,
 } from "~/models/roster.server";
+import { viewerTimeZone } from "~/models/sites.server";
 import { ROSTER_FIELD_LABELS, ROSTER_FIELDS, rosterPageSchema } from "~/schemas/roster";
 import type { Route } from "./+types/assess.roster.$importId";
 
@@ -37,6 +39,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     mapping: up.mapping,
     status: up.status,
     summary: up.summary,
+    outcome: rosterOutcome(up, await viewerTimeZone(p)),
   };
   if (up.status !== "uploaded" || !up.rows) return { ...base, preview: null, sample: [] as string[][] };
   const missing = ROSTER_FIELDS.filter((f) => f !== "email" && up.mapping[f] == null);
@@ -135,6 +138,11 @@ export default function RosterPreview({ loaderData }: Route.ComponentProps) {
       <ActionNotice result={r} />
       <ActionErrors result={r} intent="import" />
       <ActionErrors result={r} intent="discard" />
+      {d.outcome && (
+        <p className="card font-medium" role="status" data-testid="import-outcome">
+          {d.outcome}.{d.status === "imported" ? " Every valid row of this file was written in one transaction." : ""}
+        </p>
+      )}
       {summary && <Summary s={summary} />}
       {d.status === "uploaded" && (
         <>

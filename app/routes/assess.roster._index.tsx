@@ -3,9 +3,13 @@ import { requireUser } from "~/auth/guard.server";
 import { countUpload } from "~/auth/throttle.server";
 import { FormError } from "~/components/fields";
 import { FileField } from "~/components/upload";
+import { formatInstant } from "~/dates";
+import { UserError } from "~/errors";
 import { keepRetryAfter } from "~/http/headers";
-import { RosterFileError, recentRosterUploads, saveRosterUpload } from "~/models/roster.server";
-import { readMultipart, UploadError } from "~/models/uploads.server";
+import { retryAfterHeader } from "~/jobs/upload-read.server";
+import { recentRosterUploads, saveRosterUpload } from "~/models/roster.server";
+import { viewerTimeZone } from "~/models/sites.server";
+import { readMultipart } from "~/models/uploads.server";
 import { MAX_ROSTER_BYTES, MAX_ROSTER_ROWS } from "~/schemas/roster";
 import type { Route } from "./+types/assess.roster._index";
 
@@ -13,7 +17,16 @@ export const meta: Route.MetaFunction = () => [{ title: "Roster import · Limber
 
 export async function loader({ request }: Route.LoaderArgs) {
   const p = await requireUser(request, "roster.import");
-  return { recent: await recentRosterUploads(p.user.id) };
+  const zone = await viewerTimeZone(p);
+  const recent = await recentRosterUploads(p.user.id);
+  return {
+    recent: recent.map((u) => ({
+      ...u,
+      when: u.finishedAt
+        ? `${u.status} ${formatInstant(u.finishedAt, zone)}`
+        : `uploaded ${formatInstant(u.createdAt, zone)}`,
+    })),
+  };
 }
 
 // A refused upload (429) keeps its Retry-After on the `.data` answer.
@@ -34,8 +47,12 @@ export async function action({ request }: Route.ActionArgs) {
     const id = await saveRosterUpload(p, file.name, file.bytes);
     return redirect(`/assess/roster/${id}`);
   } catch (e) {
-    if (e instanceof UploadError) return data({ error: `Roster file: ${e.message}` }, { status: 413 });
-    if (e instanceof RosterFileError) return data({ error: `Roster file: ${e.message}` }, { status: 400 });
+    // Refusals (size, zip limits, unreadable file, reading slots taken) name the limit; nothing was saved.
+    if (e instanceof UserError)
+      return data(
+        { error: `Roster file: ${e.message}` },
+        { status: e.status, headers: e.status === 429 ? retryAfterHeader : undefined },
+      );
     throw e;
   }
 }
@@ -89,11 +106,10 @@ export default function RosterHome({ loaderData }: Route.ComponentProps) {
                   {u.filename}
                 </Link>
                 <span className="text-sm text-ink-soft">
-                  {u.rowCount} rows · {u.status}
+                  {`${u.rowCount} rows · ${u.when}`}
                   {u.summary
                     ? ` · ${u.summary.created} new, ${u.summary.updated} updated, ${u.summary.unchanged} unchanged, ${u.summary.skipped} skipped`
-                    : ""}{" "}
-                  · {u.createdAt.slice(0, 16).replace("T", " ")}
+                    : ""}
                 </span>
               </li>
             ))}

@@ -1,14 +1,16 @@
 import { requireUser } from "~/auth/guard.server";
 import { todayIn } from "~/dates";
-import { ROSTER_EXPORT_COLUMNS, rosterExportRows } from "~/models/roster.server";
+import { ROSTER_EXPORT_COLUMNS, rosterExportPages } from "~/models/roster.server";
 import { viewerTimeZone } from "~/models/sites.server";
-import { workbookBuffer, xlsxResponse } from "~/xlsx.server";
+import { streamedXlsxResponse } from "~/xlsx.server";
 import type { Route } from "./+types/assess.roster.export";
 
-// Roster export (no health data): the import's own columns, formula-like cells neutralised by workbookBuffer.
+// Roster export (no health data): the import's own columns, formula-like text as Text cells, streamed page by
+// page so that a roster of any size keeps the server's memory flat.
 export async function loader({ request }: Route.LoaderArgs) {
   const p = await requireUser(request, "roster.import");
-  const rows = await rosterExportRows(p.scope);
-  const buf = await workbookBuffer([{ name: "Roster", columns: ROSTER_EXPORT_COLUMNS, rows }]);
-  return xlsxResponse(buf, `limberly-roster-${todayIn(await viewerTimeZone(p))}.xlsx`);
+  return streamedXlsxResponse(
+    { name: "Roster", columns: ROSTER_EXPORT_COLUMNS, pages: rosterExportPages(p.scope) },
+    `limberly-roster-${todayIn(await viewerTimeZone(p))}.xlsx`,
+  );
 }

@@ -86,7 +86,10 @@ export async function action({ request, params }: Route.ActionArgs) {
     ({ form, file } = await readMultipart(request, { fileField: "trace", maxBytes: MAX_TRACE_BYTES }));
   } catch (e) {
     if (e instanceof UploadError)
-      return data({ intent: "upload", errors: { trace: e.message }, done: null, upload: null }, { status: 413 });
+      return data(
+        { intent: "upload", errors: { trace: `Trace file: ${e.message}` }, done: null, upload: null },
+        { status: e.status },
+      );
     throw e;
   }
   const obj = formToObject(form);
@@ -148,7 +151,15 @@ export async function action({ request, params }: Route.ActionArgs) {
       return data({ intent, errors: { [e.field ?? "_form"]: e.message }, done: null, upload: null }, { status: 400 });
     throw e;
   }
-  return data({ intent, errors: { _form: "Unknown action." }, done: null, upload: null }, { status: 400 });
+  return data(
+    {
+      intent,
+      errors: { _form: "Intent: this form's action is not known; reload the page and try again." },
+      done: null,
+      upload: null,
+    },
+    { status: 400 },
+  );
 }
 
 const label = (key: string) =>

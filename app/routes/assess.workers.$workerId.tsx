@@ -367,8 +367,9 @@ export default function WorkerRecord({ loaderData }: Route.ComponentProps) {
             Change since the previous baseline
           </h2>
           <p className="text-sm text-ink-soft">
-            A change counts as real only when it is larger than the measure's minimal detectable change (MDC95, from
-            repeated baselines).
+            A change counts as real only when it is clearly larger than measurement error (the reliable change index,
+            from repeated baselines) for this many measures at once: checked with Holm's correction so that, across all
+            measures compared, a false "real change" happens at most 5 % of the time.
           </p>
           <div className="overflow-x-auto">
             <table className="table-base" data-testid="change-table">
@@ -380,6 +381,7 @@ export default function WorkerRecord({ loaderData }: Route.ComponentProps) {
                   <th scope="col">Latest</th>
                   <th scope="col">Change</th>
                   <th scope="col">MDC95</th>
+                  <th scope="col">RCI (Holm p)</th>
                   <th scope="col">Verdict</th>
                 </tr>
               </thead>
@@ -396,6 +398,11 @@ export default function WorkerRecord({ loaderData }: Route.ComponentProps) {
                       {fmt(c.change)} {c.unit}
                     </td>
                     <td>{c.mdc95 != null ? fmt(c.mdc95) : "—"}</td>
+                    <td>
+                      {c.rci == null || c.adjustedP == null
+                        ? "—"
+                        : `${c.rci.toFixed(2)} (${c.adjustedP.toPrecision(2)})`}
+                    </td>
                     <td
                       className={
                         c.verdict === "better"
@@ -406,9 +413,9 @@ export default function WorkerRecord({ loaderData }: Route.ComponentProps) {
                       }
                     >
                       {c.verdict === "better"
-                        ? "Real improvement (exceeds MDC)"
+                        ? "Real improvement"
                         : c.verdict === "worse"
-                          ? "Real decline (exceeds MDC)"
+                          ? "Real decline"
                           : c.verdict === "within error"
                             ? "Within measurement error"
                             : "No MDC yet"}

@@ -1,30 +1,37 @@
 import type { ColumnDef } from "@tanstack/react-table";
 import { Form, Link } from "react-router";
+import { z } from "zod";
 import { requireUser } from "~/auth/guard.server";
 import { can } from "~/auth/permissions";
 import { ConsentBadges, StageBadge } from "~/components/badges";
 import { ServerTable } from "~/components/server-table";
 import { STAGE_LABELS, STAGES } from "~/domain/stages";
+import { answerUserErrors } from "~/forms.server";
 import { listWorkers, type WorkerListRow } from "~/models/roster.server";
 import { sitesInScope } from "~/models/sites.server";
-import { readTableQuery } from "~/schemas/table-query";
+import { idFilter, readTableQuery } from "~/schemas/table-query";
 import type { Route } from "./+types/assess.workers._index";
 
 export const meta: Route.MetaFunction = () => [{ title: "Workers · Limberly" }];
 
 // Sorting, filtering and paging happen in SQL (listWorkers); only one page reaches the browser.
 export async function loader({ request }: Route.LoaderArgs) {
-  const p = await requireUser(request, "workers.read");
-  const q = readTableQuery(new URL(request.url), ["site", "stage"]);
-  const [page, sites] = await Promise.all([listWorkers(p.scope, q, q.filters), sitesInScope(p.scope)]);
-  return {
-    page,
-    q: q.q ?? "",
-    filters: q.filters,
-    sites,
-    canOpen: can(p.user, "assessments.read"),
-    canExport: can(p.user, "roster.import"),
-  };
+  return answerUserErrors(async () => {
+    const p = await requireUser(request, "workers.read");
+    const q = readTableQuery(new URL(request.url), {
+      site: idFilter("Site"),
+      stage: z.enum(STAGES, { message: "Stage: choose a readiness stage from the list." }),
+    });
+    const [page, sites] = await Promise.all([listWorkers(p.scope, q, q.filters), sitesInScope(p.scope)]);
+    return {
+      page,
+      q: q.q ?? "",
+      filters: q.filters,
+      sites,
+      canOpen: can(p.user, "assessments.read"),
+      canExport: can(p.user, "roster.import"),
+    };
+  });
 }
 
 export default function Workers({ loaderData }: Route.ComponentProps) {

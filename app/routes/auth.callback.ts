@@ -1,7 +1,8 @@
 import { redirect } from "react-router";
 import { getAuthenticator } from "~/auth/authenticator.server";
 import { homeFor } from "~/auth/homes";
-import { getSession, sessionStorage } from "~/auth/session.server";
+import { getSession, sessionStorage, unprovisionedEmail } from "~/auth/session.server";
+import type { SignInErrorCode } from "~/auth/sign-in-messages";
 import { countSignInFailure, refuseBlockedSignIn } from "~/auth/throttle.server";
 import { markSignedIn } from "~/auth/users.server";
 import type { Route } from "./+types/auth.callback";
@@ -18,16 +19,21 @@ export async function loader({ request }: Route.LoaderArgs) {
   } catch (e) {
     if (e instanceof Response) throw e;
     await countSignInFailure(request);
+    // The page shows a fixed message for the code; the details go to the server log only.
     const message = e instanceof Error ? e.message : "unknown error";
-    throw redirect(`/sign-in?error=${encodeURIComponent(`Sign-in did not complete: ${message}`)}`);
+    console.error("sign-in callback failed:", message);
+    const code: SignInErrorCode = /state/i.test(message) ? "state-mismatch" : "callback-failed";
+    throw redirect(`/sign-in?error=${code}`);
   }
   const old = await getSession(request);
   const clearOld = await sessionStorage.destroySession(old);
   if (result.kind !== "ok") {
     await countSignInFailure(request);
-    throw redirect(`/auth/not-provisioned?email=${encodeURIComponent(result.email)}`, {
-      headers: { "Set-Cookie": clearOld },
-    });
+    // The e-mail the identity provider confirmed travels in a short-lived signed cookie, never in the URL.
+    const headers = new Headers();
+    headers.append("Set-Cookie", clearOld);
+    headers.append("Set-Cookie", await unprovisionedEmail.serialize(result.email));
+    throw redirect("/auth/not-provisioned", { headers });
   }
   const session = await sessionStorage.getSession();
   session.set("userId", result.user.id);

@@ -1,10 +1,12 @@
+import { unprovisionedEmail } from "~/auth/session.server";
 import type { Route } from "./+types/auth.not-provisioned";
 
 export const meta: Route.MetaFunction = () => [{ title: "Not provisioned · Limberly" }];
 
-export function loader({ request }: Route.LoaderArgs) {
-  const email = new URL(request.url).searchParams.get("email") ?? "";
-  return { email: email.slice(0, 320) };
+// The e-mail comes only from the signed cookie the sign-in callback set, never from the URL.
+export async function loader({ request }: Route.LoaderArgs) {
+  const email: unknown = await unprovisionedEmail.parse(request.headers.get("Cookie"));
+  return { email: typeof email === "string" ? email.slice(0, 320) : "" };
 }
 
 export default function NotProvisioned({ loaderData }: Route.ComponentProps) {

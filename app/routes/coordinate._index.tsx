@@ -101,20 +101,28 @@ export default function CoordinateHome({ loaderData }: Route.ComponentProps) {
             <thead>
               <tr>
                 <th scope="col">Device type</th>
-                <th scope="col">Units in service</th>
-                <th scope="col">In maintenance</th>
-                <th scope="col">Bookable h / week</th>
-                <th scope="col">Wear-time limit</th>
+                <th scope="col" className="text-right">
+                  Units in service
+                </th>
+                <th scope="col" className="text-right">
+                  In maintenance
+                </th>
+                <th scope="col" className="text-right">
+                  Bookable h / week
+                </th>
+                <th scope="col" className="text-right">
+                  Wear-time limit
+                </th>
               </tr>
             </thead>
             <tbody>
               {fleet.map((d) => (
                 <tr key={d.id}>
                   <th scope="row">{d.name}</th>
-                  <td>{d.inService}</td>
-                  <td>{d.inMaintenance}</td>
-                  <td>{d.bookableHours}</td>
-                  <td>{d.wearTimeLimitMinutes} min per session</td>
+                  <td className="text-right tabular-nums">{d.inService}</td>
+                  <td className="text-right tabular-nums">{d.inMaintenance}</td>
+                  <td className="text-right tabular-nums">{d.bookableHours}</td>
+                  <td className="text-right tabular-nums">{d.wearTimeLimitMinutes} min per session</td>
                 </tr>
               ))}
             </tbody>

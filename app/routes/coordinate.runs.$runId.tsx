@@ -10,7 +10,7 @@ import { useEffect, useState } from "react";
 import { data, Form, Link, useFetcher, useNavigation, useRevalidator } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { can } from "~/auth/permissions";
-import { CapacityChart } from "~/components/capacity-chart";
+import { CapacityExplorer } from "~/components/capacity-chart";
 import { DeviceCautions } from "~/components/device-cautions";
 import { FormError, Notice } from "~/components/fields";
 import { ProgressBar } from "~/components/progress-bar";
@@ -22,8 +22,9 @@ import {
   PublishConflict,
   type PublishOutcome,
   PublishRefused,
+  placement,
   planState,
-  previewSessions,
+  publishPreview,
   publishRefusal,
   publishRun,
 } from "~/models/publish.server";
@@ -57,34 +58,43 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const plan = run.plan;
   const workerLabel = new Map((snap?.calendar.workers ?? []).map((w) => [w.id, w]));
   const problemWorker = new Map((snap?.problem.workers ?? []).map((w) => [w.id, w]));
-  const rows: WorkerPlanRow[] = (plan?.assignments ?? []).map((a) => {
-    const w = workerLabel.get(a.workerId);
-    const byWeek = new Map<number, number>();
-    for (const s of a.sessions) byWeek.set(s.week, (byWeek.get(s.week) ?? 0) + s.hours);
-    const weeks = [...byWeek.entries()].sort((x, y) => x[0] - y[0]);
-    const total = weeks.reduce((s, [, h]) => s + h, 0);
-    return {
-      workerId: a.workerId,
-      employeeNumber: w?.employeeNumber ?? a.workerId,
-      name: w?.name ?? a.workerId,
-      department: w ? `${w.site} · ${w.department}` : "",
-      deviceType: a.deviceTypeId,
-      trainers: [...new Set(a.sessions.map((s) => s.trainerId))].join(", "),
-      hoursPerWeek: weeks.map(([k, h]) => `W${k + 1}: ${h.toFixed(1)}`).join(" · "),
-      totalHours: round1(total),
-      hoursNeeded: round1(
-        problemWorker.get(a.workerId)?.options.find((o) => o.deviceTypeId === a.deviceTypeId)?.hoursNeeded ?? total,
-      ),
-      completionWeek: a.completionWeek + 1,
-      completionDate: snap ? addDays(snap.calendar.startDate, a.completionWeek * 7 + 4) : "",
-      priority: problemWorker.get(a.workerId)?.priority ?? 1,
-    };
-  });
-  const unassigned = (plan?.unassigned ?? []).map((u) => ({
-    name: workerLabel.get(u.workerId)?.name ?? u.workerId,
-    employeeNumber: workerLabel.get(u.workerId)?.employeeNumber ?? "",
-    reason: u.reason,
-  }));
+  // Ready means every planned hour got a session: the rest are "not ready in this horizon" (with the reason).
+  const publishView = run.status === "done" && !publishRefusal(run) ? await publishPreview(run) : null;
+  const placed = publishView ?? (run.status === "done" ? placement(run) : null);
+  const notReady = new Map((placed?.notReady ?? []).map((n) => [n.workerId, n]));
+  const rows: WorkerPlanRow[] = (plan?.assignments ?? [])
+    .filter((a) => !notReady.has(a.workerId))
+    .map((a) => {
+      const w = workerLabel.get(a.workerId);
+      const byWeek = new Map<number, number>();
+      for (const s of a.sessions) byWeek.set(s.week, (byWeek.get(s.week) ?? 0) + s.hours);
+      const weeks = [...byWeek.entries()].sort((x, y) => x[0] - y[0]);
+      const total = weeks.reduce((s, [, h]) => s + h, 0);
+      return {
+        workerId: a.workerId,
+        employeeNumber: w?.employeeNumber ?? a.workerId,
+        name: w?.name ?? a.workerId,
+        department: w ? `${w.site} · ${w.department}` : "",
+        deviceType: a.deviceTypeId,
+        trainers: [...new Set(a.sessions.map((s) => s.trainerId))].join(", "),
+        hoursPerWeek: weeks.map(([k, h]) => `W${k + 1}: ${h.toFixed(1)}`).join(" · "),
+        totalHours: round1(total),
+        hoursNeeded: round1(
+          problemWorker.get(a.workerId)?.options.find((o) => o.deviceTypeId === a.deviceTypeId)?.hoursNeeded ?? total,
+        ),
+        completionWeek: a.completionWeek + 1,
+        completionDate: snap ? addDays(snap.calendar.startDate, a.completionWeek * 7 + 4) : "",
+        priority: problemWorker.get(a.workerId)?.priority ?? 1,
+      };
+    });
+  const unassigned = [
+    ...(placed?.notReady ?? []).map((n) => ({ name: n.name, employeeNumber: n.employeeNumber, reason: n.reason })),
+    ...(plan?.unassigned ?? []).map((u) => ({
+      name: workerLabel.get(u.workerId)?.name ?? u.workerId,
+      employeeNumber: workerLabel.get(u.workerId)?.employeeNumber ?? "",
+      reason: u.reason,
+    })),
+  ];
   const usage = new Map<
     string,
     { kind: string; id: string; points: { week: number; used: number; capacity: number }[] }
@@ -95,7 +105,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     usage.get(key)!.points.push({ week: u.week, used: u.used, capacity: u.capacity });
   }
   for (const u of usage.values()) u.points.sort((a, b) => a.week - b.week);
-  const preview = run.status === "done" ? previewSessions(run) : { sessions: [], unplaced: [] };
+  const preview = placed ?? { sessions: [], unplaced: [] };
   const lastWeek = new Map<string, number>();
   for (const s of preview.sessions) lastWeek.set(s.workerId, Math.max(lastWeek.get(s.workerId) ?? 0, s.week));
   const slipped = rows
@@ -147,6 +157,11 @@ export async function loader({ request, params }: Route.LoaderArgs) {
         reason: u.reason,
       })),
       slipped,
+      plannedBySolver: plan?.assignments.length ?? 0,
+      continuing: placed?.continuing ?? { total: 0, finishing: 0 },
+      recipients: publishView?.recipients ?? null,
+      withoutEmail: publishView?.withoutEmail ?? 0,
+      replaces: publishView?.replaces ?? 0,
     },
     planVersion: state.version,
     currentRunId: state.runId,
@@ -159,7 +174,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 export async function action({ request, params }: Route.ActionArgs) {
   const p = await requireUser(request, "allocation.publish");
   const parsed = parseWith(publishSchema, formToObject(await request.formData()));
-  if (!parsed.ok) return { error: Object.values(parsed.errors)[0] };
+  if (!parsed.ok) return data({ error: Object.values(parsed.errors)[0] }, { status: 400 });
   try {
     const outcome = await publishRun(p, Number(params.runId), parsed.data.expectedPlanVersion);
     return { published: outcome };
@@ -322,8 +337,6 @@ export default function RunPage({ loaderData, actionData }: Route.ComponentProps
   const nav = useNavigation();
   const a = actionData as { published?: PublishOutcome; conflict?: string; error?: string } | undefined;
   const pr = run.parameters;
-  const devices = usage.filter((u) => u.kind === "device");
-  const trainers = usage.filter((u) => u.kind === "trainer");
   return (
     <div className="grid gap-6">
       <div>
@@ -360,42 +373,220 @@ export default function RunPage({ loaderData, actionData }: Route.ComponentProps
 
       {result && (
         <>
-          <section aria-labelledby="outcome" className="grid gap-3">
+          <section aria-labelledby="outcome" className="card grid gap-2" data-testid="decision">
             <h2 id="outcome" className="text-lg font-semibold">
-              Result
+              Result: who is ready when
             </h2>
-            <dl className="grid grid-cols-2 gap-3 md:grid-cols-5" data-testid="run-summary">
-              <div className="card">
-                <dt className="text-sm text-ink-soft">Status</dt>
-                <dd className="text-xl font-semibold">{result.status}</dd>
-              </div>
-              <div className="card">
-                <dt className="text-sm text-ink-soft">Objective</dt>
-                <dd className="text-xl font-semibold">{result.objective.toFixed(1)}</dd>
-              </div>
-              <div className="card">
-                <dt className="text-sm text-ink-soft">Proven bound</dt>
-                <dd className="text-xl font-semibold">{result.bound.toFixed(1)}</dd>
-              </div>
-              <div className="card">
-                <dt className="text-sm text-ink-soft">Gap</dt>
-                <dd className="text-xl font-semibold">
-                  {result.gap == null ? "—" : `${(result.gap * 100).toFixed(1)} %`}
+            {result.status === "infeasible" ? (
+              <p>No plan meets this run's conditions. {result.message}</p>
+            ) : (
+              <>
+                <p className="text-xl">
+                  <strong>{rows.length}</strong> of {poolSize} people in the pool can be ready within {pr.horizonWeeks}{" "}
+                  weeks from {pr.startDate}
+                  {rows.length > 0
+                    ? `, the first in week ${Math.min(...rows.map((r) => r.completionWeek))} and the last in week ${Math.max(...rows.map((r) => r.completionWeek))}`
+                    : ""}
+                  .
+                </p>
+                <p>
+                  {unassigned.length > 0 ? `${unassigned.length} are not ready in this horizon (reasons below). ` : ""}
+                  {preview.continuing.total > 0
+                    ? `${preview.continuing.total} already in training continue first; ${preview.continuing.finishing} of them finish in this horizon. `
+                    : ""}
+                  {result.binding.length > 0
+                    ? `What holds the plan back most: ${result.binding[0]}`
+                    : "No device or trainer time holds the plan back."}
+                </p>
+                {result.gap != null && (
+                  <p className="text-sm text-ink-soft">
+                    {result.gap <= 0.0005
+                      ? "No plan can make a more valuable set of people ready: this one is the best possible."
+                      : `No plan can be more than ${(result.gap * 100).toFixed(1)} % more valuable than this one.`}
+                  </p>
+                )}
+              </>
+            )}
+            {result.message && result.status !== "infeasible" && <Notice>{result.message}</Notice>}
+          </section>
+
+          <section aria-labelledby="publish" className="card grid gap-3">
+            <h2 id="publish" className="text-lg font-semibold">
+              Publish
+            </h2>
+            <p>
+              Publishing turns this plan into dated sessions (day, time, device unit, trainer) inside the trainers'
+              working hours and the units' bookable hours, replaces the scheduled sessions from {pr.startDate} on of the
+              people this run plans{currentRunId ? ` (the published plan is from run #${currentRunId})` : ""}, and
+              e-mails a calendar file to each worker and trainer whose sessions change.
+            </p>
+            <dl className="grid grid-cols-2 gap-3 md:grid-cols-4" data-testid="publish-summary">
+              <div>
+                <dt className="text-sm text-ink-soft">Ready after placing sessions</dt>
+                <dd className="text-xl font-semibold" data-testid="ready-after-placement">
+                  {rows.length}
                 </dd>
+                {preview.plannedBySolver !== rows.length && (
+                  <dd className="text-sm text-ink-soft">
+                    of {preview.plannedBySolver} in the weekly plan; {preview.plannedBySolver - rows.length} not ready
+                    in this horizon
+                  </dd>
+                )}
               </div>
-              <div className="card">
-                <dt className="text-sm text-ink-soft">Ready / pool</dt>
-                <dd className="text-xl font-semibold">
+              <div>
+                <dt className="text-sm text-ink-soft">Sessions</dt>
+                <dd className="text-xl font-semibold">{preview.sessions}</dd>
+                <dd className="text-sm text-ink-soft">replacing {preview.replaces} scheduled</dd>
+              </div>
+              <div>
+                <dt className="text-sm text-ink-soft">Already in training, continuing</dt>
+                <dd className="text-xl font-semibold">{preview.continuing.total}</dd>
+                <dd className="text-sm text-ink-soft">{preview.continuing.finishing} finish in this horizon</dd>
+              </div>
+              {preview.recipients && (
+                <div>
+                  <dt className="text-sm text-ink-soft">Will be e-mailed</dt>
+                  <dd className="text-xl font-semibold" data-testid="will-be-emailed">
+                    {preview.recipients.workers + preview.recipients.trainers}
+                  </dd>
+                  <dd className="text-sm text-ink-soft">
+                    {preview.recipients.workers} workers, {preview.recipients.trainers} trainers whose sessions change
+                    {preview.withoutEmail ? `; ${preview.withoutEmail} without an e-mail address` : ""}
+                  </dd>
+                </div>
+              )}
+            </dl>
+            {preview.slipped.length > 0 && (
+              <details className="text-sm">
+                <summary className="cursor-pointer">
+                  {preview.slipped.length} workers finish later than planned because hours moved to a later week
+                </summary>
+                <ul className="list-disc pl-5">
+                  {preview.slipped.map((x) => (
+                    <li key={x}>{x}</li>
+                  ))}
+                </ul>
+              </details>
+            )}
+            {preview.unplaced.length > 0 && (
+              <details className="text-sm">
+                <summary className="cursor-pointer">
+                  {preview.unplaced.length} blocks of hours could not be placed on the calendar
+                </summary>
+                <ul className="list-disc pl-5">
+                  {preview.unplaced.map((u, i) => (
+                    // biome-ignore lint/suspicious/noArrayIndexKey: a fixed list per preview, never reordered
+                    <li key={i}>
+                      {u.name}: {u.hours} h — {u.reason}
+                    </li>
+                  ))}
+                </ul>
+              </details>
+            )}
+            {a?.published && (
+              <Notice>
+                Published as plan version {a.published.version}: {a.published.sessions} sessions. E-mailed{" "}
+                {a.published.notified.length} people whose sessions changed (
+                {a.published.notified.filter((n) => n.kind === "worker").length} workers,{" "}
+                {a.published.notified.filter((n) => n.kind === "trainer").length} trainers); {a.published.unchanged}{" "}
+                unchanged, not e-mailed.
+                {a.published.mailFailures.length
+                  ? ` ${a.published.mailFailures.length} e-mails could not be sent.`
+                  : ""}{" "}
+                <Link className="text-spruce-700 underline" to="/coordinate/schedule">
+                  Open the published schedule
+                </Link>
+              </Notice>
+            )}
+            {a?.conflict && <FormError message={a.conflict} />}
+            {a?.error && <FormError message={a.error} />}
+            {run.publishedAt && (
+              <p className="text-sm">
+                This run was published as version {run.publishedPlanVersion} on{" "}
+                {run.publishedAt.slice(0, 16).replace("T", " ")}
+                {run.publishedBy ? ` by ${run.publishedBy}` : ""}.
+              </p>
+            )}
+            {refusal ? (
+              <p className="text-sm text-ink-soft">{refusal}</p>
+            ) : canPublish ? (
+              <Form method="post" className="grid gap-2">
+                <input type="hidden" name="intent" value="publish" />
+                <input type="hidden" name="expectedPlanVersion" value={planVersion} />
+                <label className="flex items-start gap-2">
+                  <input type="checkbox" name="confirm" value="yes" className="mt-1 size-5" required />
+                  <span>
+                    I have checked the numbers: {rows.length} people ready after placing sessions
+                    {preview.recipients
+                      ? `, ${preview.recipients.workers + preview.recipients.trainers} people will be e-mailed`
+                      : ""}
+                    .
+                  </span>
+                </label>
+                <p>
+                  <button className="btn-primary" type="submit" disabled={nav.state === "submitting"}>
+                    {nav.state === "submitting"
+                      ? "Publishing…"
+                      : run.publishedAt
+                        ? "Publish again"
+                        : "Publish this plan"}
+                  </button>
+                </p>
+              </Form>
+            ) : (
+              <p className="text-sm">Only a coordinator with publish permission can publish.</p>
+            )}
+            <p className="text-sm">
+              <Link className="text-spruce-700 underline" to="/coordinate/schedule">
+                The published schedule
+              </Link>{" "}
+              ·{" "}
+              <a className="text-spruce-700 underline" href="/coordinate/schedule.xlsx">
+                download it (XLSX)
+              </a>
+            </p>
+          </section>
+          <details className="card text-sm" data-testid="how-computed">
+            <summary className="cursor-pointer font-semibold">How this was computed (exact terms)</summary>
+            <dl className="mt-2 grid grid-cols-2 gap-3 md:grid-cols-5" data-testid="run-summary">
+              <div>
+                <dt className="text-ink-soft">Solver status</dt>
+                <dd className="font-semibold">{result.status}</dd>
+              </div>
+              <div>
+                <dt className="text-ink-soft">Objective</dt>
+                <dd className="font-semibold">{result.objective.toFixed(1)}</dd>
+              </div>
+              <div>
+                <dt className="text-ink-soft">Proven bound</dt>
+                <dd className="font-semibold">{result.bound.toFixed(1)}</dd>
+              </div>
+              <div>
+                <dt className="text-ink-soft">Gap</dt>
+                <dd className="font-semibold">{result.gap == null ? "—" : `${(result.gap * 100).toFixed(1)} %`}</dd>
+              </div>
+              <div>
+                <dt className="text-ink-soft">Ready after placement / pool</dt>
+                <dd className="font-semibold">
                   {rows.length} / {poolSize}
                 </dd>
               </div>
             </dl>
-            <p className="text-sm text-ink-soft">
-              Objective = the sum of the priorities of the workers made ready inside the horizon. The bound is proven:
-              no plan can do better than it, so the gap says how far from the best possible this plan can at most be.
-            </p>
-            {result.message && <Notice>{result.message}</Notice>}
-          </section>
+            <ul className="mt-2 list-disc pl-5">
+              <li>
+                Objective = the sum of the priorities (priority points) of the workers the weekly plan makes ready
+                inside the horizon; the value in the runs list counts only those ready after placing sessions.
+              </li>
+              <li>
+                The bound is proven: no plan can do better than it, so the gap = (bound − objective) ÷ bound says how
+                far from the best possible this plan can at most be.
+              </li>
+              <li>
+                "One more hour … is worth" comes from the solver's dual prices (shadow prices of the capacity rows):
+                first-order estimates, good for comparing resources, not exact promises.
+              </li>
+            </ul>
+          </details>
 
           <section aria-labelledby="binding" className="card grid gap-2">
             <h2 id="binding" className="text-lg font-semibold">
@@ -433,8 +624,7 @@ export default function RunPage({ loaderData, actionData }: Route.ComponentProps
               </div>
             )}
             <p className="text-sm text-ink-soft">
-              Estimated from the solver's dual prices: first-order estimates, good for comparing resources, not exact
-              promises.
+              What one more hour of a resource is worth is an estimate, good for comparing resources, not a promise.
             </p>
           </section>
 
@@ -471,97 +661,7 @@ export default function RunPage({ loaderData, actionData }: Route.ComponentProps
             <h2 id="capacity" className="text-lg font-semibold">
               Capacity use per week
             </h2>
-            <h3 className="font-semibold">Device types (device-hours)</h3>
-            <div className="grid gap-3 md:grid-cols-2 xl:grid-cols-3">
-              {devices.map((u) => (
-                <CapacityChart key={u.id} title={u.id} unit="h" points={u.points} />
-              ))}
-            </div>
-            <h3 className="font-semibold">Trainers (trainer-hours)</h3>
-            <div className="grid gap-3 md:grid-cols-2 xl:grid-cols-3">
-              {trainers.map((u) => (
-                <CapacityChart key={u.id} title={u.id} unit="h" points={u.points} />
-              ))}
-            </div>
-          </section>
-
-          <section aria-labelledby="publish" className="card grid gap-3">
-            <h2 id="publish" className="text-lg font-semibold">
-              Publish
-            </h2>
-            <p>
-              Publishing turns this plan into dated sessions (day, time, device unit, trainer) inside the trainers'
-              working hours and the units' bookable hours, replaces the sessions of the currently published plan
-              {currentRunId ? ` (run #${currentRunId})` : ""}, and e-mails a calendar file to each worker and trainer
-              whose sessions change.
-            </p>
-            <p className="text-sm">
-              Preview: {preview.sessions} sessions.
-              {preview.unplaced.length
-                ? ` ${preview.unplaced.length} blocks of hours could not be placed (listed below).`
-                : " Every planned hour has a place."}
-            </p>
-            {preview.slipped.length > 0 && (
-              <details className="text-sm">
-                <summary className="cursor-pointer">
-                  {preview.slipped.length} workers finish later than planned because hours moved to a later week
-                </summary>
-                <ul className="list-disc pl-5">
-                  {preview.slipped.map((s) => (
-                    <li key={s}>{s}</li>
-                  ))}
-                </ul>
-              </details>
-            )}
-            {preview.unplaced.length > 0 && (
-              <ul className="list-disc pl-5 text-sm">
-                {preview.unplaced.map((u, i) => (
-                  // biome-ignore lint/suspicious/noArrayIndexKey: a fixed list per preview, never reordered
-                  <li key={i}>
-                    {u.name}: {u.hours} h — {u.reason}
-                  </li>
-                ))}
-              </ul>
-            )}
-            {a?.published && (
-              <Notice>
-                Published as plan version {a.published.version}: {a.published.sessions} sessions. E-mailed{" "}
-                {a.published.notified.length} people whose sessions changed (
-                {a.published.notified.filter((n) => n.kind === "worker").length} workers,{" "}
-                {a.published.notified.filter((n) => n.kind === "trainer").length} trainers); {a.published.unchanged}{" "}
-                unchanged, not e-mailed.
-                {a.published.mailFailures.length
-                  ? ` ${a.published.mailFailures.length} e-mails could not be sent.`
-                  : ""}
-              </Notice>
-            )}
-            {a?.conflict && <FormError message={a.conflict} />}
-            {a?.error && <FormError message={a.error} />}
-            {run.publishedAt && (
-              <p className="text-sm">
-                This run was published as version {run.publishedPlanVersion} on{" "}
-                {run.publishedAt.slice(0, 16).replace("T", " ")}
-                {run.publishedBy ? ` by ${run.publishedBy}` : ""}.
-              </p>
-            )}
-            {refusal ? (
-              <p className="text-sm text-ink-soft">{refusal}</p>
-            ) : canPublish ? (
-              <Form method="post">
-                <input type="hidden" name="intent" value="publish" />
-                <input type="hidden" name="expectedPlanVersion" value={planVersion} />
-                <button className="btn-primary" type="submit" disabled={nav.state === "submitting"}>
-                  {nav.state === "submitting" ? "Publishing…" : run.publishedAt ? "Publish again" : "Publish this plan"}
-                </button>
-              </Form>
-            ) : (
-              <p className="text-sm">Only a coordinator with publish permission can publish.</p>
-            )}
-            <p className="text-sm">
-              <a className="text-spruce-700 underline" href="/coordinate/schedule.xlsx">
-                Download the published schedule (XLSX)
-              </a>
-            </p>
+            <CapacityExplorer resources={usage} />
           </section>
         </>
       )}

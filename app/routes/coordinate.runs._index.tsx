@@ -294,6 +294,8 @@ export default function RunsIndex({ loaderData, actionData }: Route.ComponentPro
                 <tr>
                   <th scope="col">Run</th>
                   <th scope="col">Status</th>
+                  <th scope="col">Ready / pool</th>
+                  <th scope="col">Value (sum of priorities)</th>
                   <th scope="col">Start</th>
                   <th scope="col">Weeks</th>
                   <th scope="col">Quantile</th>
@@ -315,6 +317,10 @@ export default function RunsIndex({ loaderData, actionData }: Route.ComponentPro
                       {STATUS_TEXT[r.status]}
                       {r.status === "running" ? ` (${Math.round(r.fraction * 100)} %)` : ""}
                     </td>
+                    <td className="whitespace-nowrap" data-testid={`run-ready-${r.id}`}>
+                      {r.summary ? `${r.summary.ready} / ${r.summary.pool}` : "—"}
+                    </td>
+                    <td data-testid={`run-value-${r.id}`}>{r.summary ? r.summary.value : "—"}</td>
                     <td>{r.parameters.startDate}</td>
                     <td>{r.parameters.horizonWeeks}</td>
                     <td>{Math.round(r.parameters.planningQuantile * 100)} %</td>

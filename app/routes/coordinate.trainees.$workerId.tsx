@@ -120,15 +120,14 @@ export default function Trainee({ loaderData, actionData }: Route.ComponentProps
       </section>
       <section aria-labelledby="sessions" className="card grid gap-2">
         <h2 id="sessions" className="text-lg font-semibold">
-          Published sessions
+          Upcoming sessions in the published plan ({w.sessions.length})
         </h2>
         {w.sessions.length === 0 ? (
           <p className="text-ink-soft">None in the published plan.</p>
         ) : (
-          <ul className="grid gap-1 text-sm">
-            {w.sessions.map((s, i) => (
-              // biome-ignore lint/suspicious/noArrayIndexKey: a fixed list per load, never reordered
-              <li key={i}>
+          <ul className="grid gap-1 text-sm" data-testid="trainee-sessions">
+            {w.sessions.map((s) => (
+              <li key={s.id} data-session-id={s.id}>
                 {s.start}–{s.end} · {s.device}
                 {s.unit ? ` (unit ${s.unit})` : ""}
                 {s.trainer ? ` with ${s.trainer}` : ""}

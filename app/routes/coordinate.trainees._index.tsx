@@ -3,6 +3,7 @@ import { Link } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { StageBadge } from "~/components/badges";
 import { ServerTable } from "~/components/server-table";
+import { answerUserErrors } from "~/forms.server";
 import { type TraineeRow, traineeTable } from "~/models/trainers-admin.server";
 import { readTableQuery } from "~/schemas/table-query";
 import type { Route } from "./+types/coordinate.trainees._index";
@@ -10,9 +11,11 @@ import type { Route } from "./+types/coordinate.trainees._index";
 export const meta: Route.MetaFunction = () => [{ title: "Trainees · Limberly" }];
 
 export async function loader({ request }: Route.LoaderArgs) {
-  const p = await requireUser(request, "allocation.run");
-  const q = readTableQuery(new URL(request.url));
-  return { page: await traineeTable(p.scope, q), q: q.q ?? "" };
+  return answerUserErrors(async () => {
+    const p = await requireUser(request, "allocation.run");
+    const q = readTableQuery(new URL(request.url));
+    return { page: await traineeTable(p.scope, q), q: q.q ?? "" };
+  });
 }
 
 const columns: ColumnDef<TraineeRow, unknown>[] = [

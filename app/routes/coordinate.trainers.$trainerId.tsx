@@ -5,6 +5,7 @@ import { ActionErrors, ActionForm, ActionNotice, CheckboxGroup, SelectField, Tex
 import { LeaveForm } from "~/components/leave-form";
 import { WEEKDAY_NAMES } from "~/compute/plan-calendar";
 import { formAction } from "~/forms.server";
+import { recordAccess } from "~/models/access-log.server";
 import { planningChoices } from "~/models/fleet-admin.server";
 import {
   addPattern,
@@ -23,6 +24,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const p = await requireUser(request, "fleet.manage");
   const trainer = await trainerDetail(p.scope, Number(params.trainerId));
   invariantResponse(trainer, "No such trainer at your sites.", { status: 404 });
+  if (trainer.traineeIds.length) await recordAccess(p, request, trainer.traineeIds, "sessions");
   return { trainer, deviceTypes: (await planningChoices(p.scope)).deviceTypes };
 }
 
@@ -169,6 +171,23 @@ export default function TrainerPage({ loaderData, actionData }: Route.ComponentP
           ))}
         </ul>
         <LeaveForm result={actionData} />
+      </section>
+      <section aria-labelledby="sessions" className="card grid gap-2">
+        <h2 id="sessions" className="text-lg font-semibold">
+          Upcoming sessions in the published plan ({t.sessions.length})
+        </h2>
+        {t.sessions.length === 0 ? (
+          <p className="text-ink-soft">None in the published plan.</p>
+        ) : (
+          <ul className="grid gap-1 text-sm" data-testid="trainer-sessions">
+            {t.sessions.map((s) => (
+              <li key={s.id} data-session-id={s.id}>
+                {s.start}–{s.end} · {s.device}
+                {s.unit ? ` (unit ${s.unit})` : ""} · {s.worker}
+              </li>
+            ))}
+          </ul>
+        )}
       </section>
     </div>
   );

@@ -1,27 +1,34 @@
 import type { ColumnDef } from "@tanstack/react-table";
 import { Form, Link } from "react-router";
+import { z } from "zod";
 import { requireUser } from "~/auth/guard.server";
 import { ServerTable } from "~/components/server-table";
+import { answerUserErrors } from "~/forms.server";
 import { recordAccess } from "~/models/access-log.server";
 import { type ForecastListRow, listForecastTable, planningQuantile } from "~/models/forecast.server";
 import { listDeviceTypes } from "~/models/proficiency.server";
-import { readTableQuery } from "~/schemas/table-query";
+import { idFilter, readTableQuery } from "~/schemas/table-query";
 import type { Route } from "./+types/forecast._index";
 
 export const meta: Route.MetaFunction = () => [{ title: "Forecasts · Limberly" }];
 
 // Forecast hours of workers in scope (assessors and coordinators): hours and intervals only, no scores.
 export async function loader({ request }: Route.LoaderArgs) {
-  const p = await requireUser(request, "forecast.read");
-  const q = readTableQuery(new URL(request.url), ["device", "flagged"]);
-  const deviceTypeId = Number(q.filters.device) || undefined;
-  const [page, devices, quantile] = await Promise.all([
-    listForecastTable(p.scope, q, { deviceTypeId, flagged: q.filters.flagged === "1" }),
-    listDeviceTypes(),
-    planningQuantile(),
-  ]);
-  await recordAccess(p, request, [...new Set(page.rows.map((r) => r.workerId))], "forecast");
-  return { page, devices, quantile, q: q.q ?? "", device: deviceTypeId ?? null, flagged: q.filters.flagged === "1" };
+  return answerUserErrors(async () => {
+    const p = await requireUser(request, "forecast.read");
+    const q = readTableQuery(new URL(request.url), {
+      device: idFilter("Device"),
+      flagged: z.enum(["1"], { message: "Flagged: 1 or nothing." }),
+    });
+    const deviceTypeId = Number(q.filters.device) || undefined;
+    const [page, devices, quantile] = await Promise.all([
+      listForecastTable(p.scope, q, { deviceTypeId, flagged: q.filters.flagged === "1" }),
+      listDeviceTypes(),
+      planningQuantile(),
+    ]);
+    await recordAccess(p, request, [...new Set(page.rows.map((r) => r.workerId))], "forecast");
+    return { page, devices, quantile, q: q.q ?? "", device: deviceTypeId ?? null, flagged: q.filters.flagged === "1" };
+  });
 }
 
 const h = (v: number) => `${v.toFixed(1)} h`;

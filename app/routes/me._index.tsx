@@ -94,7 +94,7 @@ export default function MeHome({ loaderData }: Route.ComponentProps) {
             <p className="mt-1 text-sm text-ink-soft">Times are {next[0].timeZone} time, the clock of your site.</p>
             <ul className="mt-3 grid gap-3" data-testid="next-sessions">
               {next.map((s) => (
-                <li key={s.id} className="rounded-md border border-line p-3">
+                <li key={s.id} className="rounded-md border border-line p-3" data-session-id={s.id}>
                   <p className="font-semibold">
                     {formatDay(s.start)} · {formatSpan(s.start, s.end)}
                   </p>

@@ -2,10 +2,17 @@ import { invariantResponse } from "@epic-web/invariant";
 import { useActionData, useNavigation, useSearchParams } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { ModelDiagnostics } from "~/components/calibration-chart";
-import { ActionErrors, ActionForm, ActionNotice, Notice } from "~/components/fields";
+import { DriftSummary } from "~/components/drift-summary";
+import { ActionErrors, ActionForm, ActionNotice, CheckboxField, Notice } from "~/components/fields";
 import { formAction } from "~/forms.server";
-import { approveModelVersion, getModelVersion, retireModelVersion } from "~/models/model-versions.server";
-import { DRIFT_COVERAGE_WARNING, DRIFT_MINIMUM_OUTCOMES, versionFormSchema } from "~/schemas/forecast";
+import {
+  approvalPreview,
+  approveModelVersion,
+  getModelVersion,
+  listModelVersions,
+  retireModelVersion,
+} from "~/models/model-versions.server";
+import { versionFormSchema } from "~/schemas/forecast";
 import type { Route } from "./+types/models.$versionId";
 
 export const meta: Route.MetaFunction = ({ data: d }) => [
@@ -19,10 +26,18 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const id = Number(params.versionId);
   const version = Number.isInteger(id) ? await getModelVersion(id) : null;
   invariantResponse(version, "No such model version.", { status: 404 });
+  const canApprove = version.status === "draft" && version.fittedById !== p.user.id;
+  const inUse =
+    version.status === "draft"
+      ? ((await listModelVersions()).find((v) => v.deviceTypeId === version.deviceTypeId && v.status === "approved") ??
+        null)
+      : null;
   return {
     version,
-    canApprove: version.status === "draft" && version.fittedById !== p.user.id,
+    canApprove,
     isFitter: version.fittedById === p.user.id,
+    inUse,
+    preview: canApprove ? await approvalPreview(version.id) : null,
   };
 }
 
@@ -40,7 +55,7 @@ export async function action({ request, params }: Route.ActionArgs) {
 }
 
 export default function ModelVersionPage({ loaderData }: Route.ComponentProps) {
-  const { version: v, canApprove, isFitter } = loaderData;
+  const { version: v, canApprove, isFitter, inUse, preview } = loaderData;
   const result = useActionData<typeof action>();
   const busy = useNavigation().state === "submitting";
   const [search] = useSearchParams();
@@ -53,7 +68,7 @@ export default function ModelVersionPage({ loaderData }: Route.ComponentProps) {
         </h1>
         <p className="text-ink-soft">
           Status: <strong data-testid="version-status">{v.status}</strong>. Measures: {v.measures.join(", ")}.
-          {v.ridge > 0 ? ` Ridge penalty ${v.ridge}.` : ""}
+          {v.normSet ? ` Norm set: ${v.normSet.name}.` : ""}
         </p>
       </div>
       {search.get("saved") && !result && (
@@ -96,19 +111,30 @@ export default function ModelVersionPage({ loaderData }: Route.ComponentProps) {
             <p className="text-sm">You fitted this version, so another assessor must approve it.</p>
           ) : (
             <p className="text-sm">
-              Check the cohort, exclusions and cross-validated accuracy below. Approving makes this the version used for
-              forecasts and plans on this device type and retires the one in use.
+              Check the cohort, what was left out and how the planning figure held when each past trainee was left out
+              in turn (below). Approving makes this the version used for forecasts and plans on this device type and
+              retires the one in use.
             </p>
           )}
-          <ActionForm result={result} className="mt-3 flex flex-wrap gap-3">
-            {canApprove && (
-              <button type="submit" className="btn-primary" name="intent" value="approve" disabled={busy}>
-                Approve version {v.versionNumber}
-              </button>
+          {inUse && <Comparison draft={v} inUse={inUse} />}
+          <ActionForm result={result} className="mt-3 grid gap-3">
+            {canApprove && preview && (
+              <CheckboxField
+                name="confirm"
+                value="yes"
+                label={`I have compared the two versions: approving changes ${preview.changed} worker forecast${preview.changed === 1 ? "" : "s"} on this device type (${preview.added} new, ${preview.removed} withdrawn).`}
+              />
             )}
-            <button type="submit" className="btn-quiet" name="intent" value="retire" disabled={busy}>
-              Discard (retire)
-            </button>
+            <div className="flex flex-wrap gap-3">
+              {canApprove && (
+                <button type="submit" className="btn-primary" name="intent" value="approve" disabled={busy}>
+                  Approve version {v.versionNumber}
+                </button>
+              )}
+              <button type="submit" className="btn-quiet" name="intent" value="retire" disabled={busy}>
+                Discard (retire)
+              </button>
+            </div>
           </ActionForm>
         </section>
       )}
@@ -117,23 +143,7 @@ export default function ModelVersionPage({ loaderData }: Route.ComponentProps) {
           <h2 id="drift-h" className="text-lg font-semibold">
             Drift since approval
           </h2>
-          {v.drift.n === 0 ? (
-            <p className="text-sm">No worker forecast with this version has reached proficiency yet.</p>
-          ) : (
-            <p className="text-sm" data-testid="drift">
-              {v.drift.n} workers reached proficiency: mean absolute error {v.drift.maeHours!.toFixed(1)} h;{" "}
-              {Math.round(v.drift.coverage80! * 100)} % inside their 80 % interval.
-            </p>
-          )}
-          {v.drift.warn && (
-            <p role="alert" className="mt-2 rounded-md bg-alert-wash p-3 text-alert">
-              Coverage is below {Math.round(DRIFT_COVERAGE_WARNING * 100)} %: the intervals are too narrow for current
-              trainees. Consider refitting.
-            </p>
-          )}
-          {v.drift.n > 0 && v.drift.n < DRIFT_MINIMUM_OUTCOMES && (
-            <p className="text-xs text-ink-soft">Too few outcomes to judge drift (needs {DRIFT_MINIMUM_OUTCOMES}).</p>
-          )}
+          <DriftSummary drift={v.drift} />
           <ActionForm result={result} className="mt-3">
             <button type="submit" className="btn-quiet" name="intent" value="retire" disabled={busy}>
               Retire this version
@@ -142,6 +152,57 @@ export default function ModelVersionPage({ loaderData }: Route.ComponentProps) {
         </section>
       )}
       <ModelDiagnostics fit={v} />
+    </div>
+  );
+}
+
+type Summary = Route.ComponentProps["loaderData"]["version"];
+type InUse = NonNullable<Route.ComponentProps["loaderData"]["inUse"]>;
+
+const pct = (x: number | null | undefined) => (x == null ? "—" : `${Math.round(x * 100)} %`);
+
+/** The draft beside the version in use, on the figures an approver weighs. */
+function Comparison({ draft, inUse }: { draft: Summary; inUse: InUse }) {
+  const rows: [string, (v: Summary | InUse) => string][] = [
+    [
+      "Fitted on",
+      (v) => (v.method === "lognormal-aft" ? "everyone, still in training counted" : "finished trainees only"),
+    ],
+    ["Past trainees", (v) => String(v.cohortSize)],
+    [
+      "Still in training or stopped",
+      (v) => (v.stillTraining == null ? "left out" : String(v.stillTraining + (v.stopped ?? 0))),
+    ],
+    ["Finished within the planning figure", (v) => pct(v.loocvPlanningCoverage)],
+    ["Inside the 80 % range", (v) => pct(v.loocvCoverage80)],
+    ["Typical miss of the middle forecast", (v) => `${v.loocvMaeHours.toFixed(1)} h`],
+    ["Norm set", (v) => v.normSet?.name ?? "newest at each scoring"],
+  ];
+  return (
+    <div className="mt-3 overflow-x-auto">
+      <table className="table-base text-sm" data-testid="comparison">
+        <caption className="text-left font-semibold">
+          Compared with the version in use (checked by leaving out one past trainee at a time)
+        </caption>
+        <thead>
+          <tr>
+            <th scope="col">Figure</th>
+            <th scope="col">This draft (v{draft.versionNumber})</th>
+            <th scope="col">In use (v{inUse.versionNumber})</th>
+          </tr>
+        </thead>
+        <tbody>
+          {rows.map(([label, value]) => (
+            <tr key={label}>
+              <th scope="row" className="font-normal">
+                {label}
+              </th>
+              <td>{value(draft)}</td>
+              <td>{value(inUse)}</td>
+            </tr>
+          ))}
+        </tbody>
+      </table>
     </div>
   );
 }

@@ -1,11 +1,13 @@
 import { Link, useActionData, useNavigation } from "react-router";
 import { requireUser } from "~/auth/guard.server";
+import { percentileLabel } from "~/components/calibration-chart";
+import { driftSentence } from "~/components/drift-summary";
 import { ActionForm, Notice, TextField } from "~/components/fields";
 import { formAction } from "~/forms.server";
 import { planningQuantile, setPlanningQuantile } from "~/models/forecast.server";
 import { listModelVersions } from "~/models/model-versions.server";
 import { listCriteria, setCriterion } from "~/models/proficiency.server";
-import { DRIFT_COVERAGE_WARNING, DRIFT_MINIMUM_OUTCOMES, modelsFormSchema } from "~/schemas/forecast";
+import { modelsFormSchema } from "~/schemas/forecast";
 import type { Route } from "./+types/models._index";
 
 export const meta: Route.MetaFunction = () => [{ title: "Forecast models · Limberly" }];
@@ -26,7 +28,7 @@ export async function action({ request }: Route.ActionArgs) {
       return "Criterion saved.";
     }
     const n = await setPlanningQuantile(v.planningQuantile);
-    return `Planning quantile set to ${v.planningQuantile.toFixed(2)}; ${n} forecasts recomputed.`;
+    return `Planning figure set to the ${percentileLabel(v.planningQuantile)}; ${n} forecasts recomputed.`;
   });
 }
 
@@ -41,7 +43,7 @@ export default function ModelsIndex({ loaderData }: Route.ComponentProps) {
   const { versions, criteria, quantile } = loaderData;
   const result = useActionData<typeof action>();
   const busy = useNavigation().state === "submitting";
-  const warnings = versions.filter((v) => v.drift.warn);
+  const warnings = versions.filter((v) => v.drift.alarm);
   return (
     <div className="grid gap-6">
       <div className="flex flex-wrap items-end justify-between gap-3">
@@ -59,9 +61,9 @@ export default function ModelsIndex({ loaderData }: Route.ComponentProps) {
 
       {warnings.map((v) => (
         <p key={v.id} role="alert" className="rounded-md bg-alert-wash p-3 text-alert" data-testid="drift-warning">
-          Drift: {v.deviceTypeName} version {v.versionNumber} — only {pct(v.drift.coverage80)} of {v.drift.n} workers
-          who reached proficiency were inside their 80 % interval (warning below {pct(DRIFT_COVERAGE_WARNING)}).
-          Consider refitting.
+          Drift: {v.deviceTypeName} version {v.versionNumber} — {v.drift.missed} of {v.drift.within + v.drift.missed}{" "}
+          courses went past their planning figure, too many for the {percentileLabel(v.drift.target)} (one-sided exact
+          binomial test, false-alarm rate {pct(v.drift.alpha)}). Consider refitting.
         </p>
       ))}
 
@@ -77,9 +79,8 @@ export default function ModelsIndex({ loaderData }: Route.ComponentProps) {
               <th scope="col">Version</th>
               <th scope="col">Status</th>
               <th scope="col">Cohort</th>
-              <th scope="col">LOOCV MAE</th>
-              <th scope="col">R²</th>
-              <th scope="col">80 % coverage (LOOCV)</th>
+              <th scope="col">Typical miss</th>
+              <th scope="col">Within planning figure (one left out at a time)</th>
               <th scope="col">Fitted</th>
               <th scope="col">Approved</th>
               <th scope="col">Drift since approval</th>
@@ -88,7 +89,7 @@ export default function ModelsIndex({ loaderData }: Route.ComponentProps) {
           <tbody>
             {versions.length === 0 && (
               <tr>
-                <td colSpan={10}>No model versions yet. Fit one to start forecasting.</td>
+                <td colSpan={9}>No model versions yet. Fit one to start forecasting.</td>
               </tr>
             )}
             {versions.map((v) => (
@@ -104,10 +105,18 @@ export default function ModelsIndex({ loaderData }: Route.ComponentProps) {
                     {v.status}
                   </span>
                 </td>
-                <td>{v.cohortSize}</td>
+                <td>
+                  {v.cohortSize}
+                  {v.stillTraining != null && (
+                    <span className="block text-xs text-ink-soft">
+                      {v.stillTraining + (v.stopped ?? 0)} still in training or stopped
+                    </span>
+                  )}
+                </td>
                 <td>{v.loocvMaeHours.toFixed(1)} h</td>
-                <td>{v.rSquared.toFixed(2)}</td>
-                <td>{pct(v.loocvCoverage80)}</td>
+                <td>
+                  {v.loocvPlanningCoverage == null ? "not checked (older version)" : pct(v.loocvPlanningCoverage)}
+                </td>
                 <td>
                   {v.fittedBy ?? "—"}
                   <br />
@@ -122,16 +131,7 @@ export default function ModelsIndex({ loaderData }: Route.ComponentProps) {
                     </>
                   )}
                 </td>
-                <td>
-                  {v.drift.n === 0
-                    ? "no outcomes yet"
-                    : `${v.drift.n} outcomes · MAE ${v.drift.maeHours!.toFixed(1)} h · coverage ${pct(v.drift.coverage80)}`}
-                  {v.drift.n > 0 && v.drift.n < DRIFT_MINIMUM_OUTCOMES && (
-                    <span className="block text-xs text-ink-soft">
-                      too few to judge (needs {DRIFT_MINIMUM_OUTCOMES})
-                    </span>
-                  )}
-                </td>
+                <td>{v.status === "draft" ? "—" : driftSentence(v.drift)}</td>
               </tr>
             ))}
           </tbody>
@@ -201,8 +201,8 @@ export default function ModelsIndex({ loaderData }: Route.ComponentProps) {
           Planning figure
         </h2>
         <p className="text-sm text-ink-soft">
-          Plans use this quantile of each worker's forecast so that they run short only rarely (0.80: one time in five).
-          Changing it recomputes every forecast.
+          Plans use this percentile of each worker's forecast so that they run short only rarely (80th percentile: one
+          time in five). Changing it recomputes every forecast. Now: the {percentileLabel(quantile)}.
         </p>
         {result?.intent === "quantile" && result.notice && (
           <div className="mt-2">
@@ -212,9 +212,9 @@ export default function ModelsIndex({ loaderData }: Route.ComponentProps) {
         <ActionForm intent="quantile" result={result} className="mt-3 flex flex-wrap items-end gap-3">
           <TextField
             name="planningQuantile"
-            label="Planning quantile (0.50–0.95)"
-            inputMode="decimal"
-            defaultValue={quantile.toFixed(2)}
+            label="Planning percentile (50–95)"
+            inputMode="numeric"
+            defaultValue={String(Math.round(quantile * 100))}
           />
           <button type="submit" className="btn-quiet" disabled={busy}>
             Save and recompute

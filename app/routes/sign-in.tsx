@@ -1,8 +1,9 @@
-import { Form, redirect, useSearchParams } from "react-router";
+import { Form, redirect } from "react-router";
 import { currentUser } from "~/auth/guard.server";
 import { homeFor } from "~/auth/homes";
 import { ROLE_LABELS } from "~/auth/permissions";
 import { demoPersonas } from "~/auth/personas.server";
+import { signInErrorMessage } from "~/auth/sign-in-messages";
 import type { Route } from "./+types/sign-in";
 
 export const meta: Route.MetaFunction = () => [{ title: "Sign in · Limberly" }];
@@ -11,12 +12,11 @@ export async function loader({ request }: Route.LoaderArgs) {
   const user = await currentUser(request);
   if (user) throw redirect(homeFor(user.roles));
   // Outside production the page offers the invented demo personas; each still runs the full OAuth2 flow.
-  return { personas: demoPersonas() };
+  return { personas: demoPersonas(), error: signInErrorMessage(new URL(request.url).searchParams.get("error")) };
 }
 
 export default function SignIn({ loaderData }: Route.ComponentProps) {
-  const [params] = useSearchParams();
-  const error = params.get("error");
+  const { error } = loaderData;
   return (
     <main className="mx-auto flex min-h-screen max-w-lg flex-col justify-center p-4">
       <div className="card">

@@ -1,8 +1,11 @@
 import { Form, Link } from "react-router";
+import { z } from "zod";
 import { requireUser } from "~/auth/guard.server";
 import { DeviceCautions } from "~/components/device-cautions";
 import { WorkQueue } from "~/components/work-queue";
-import { formatDay, formatSpan } from "~/dates";
+import { formatDay, formatSpan, isIsoDate } from "~/dates";
+import { UserError } from "~/errors";
+import { answerUserErrors } from "~/forms.server";
 import { trainerProfileForUser } from "~/models/fleet.server";
 import { type ScheduledSession, trainerDay, trainerForUser } from "~/models/trainer-day.server";
 import { trainerQueue } from "~/models/work-queues.server";
@@ -12,15 +15,24 @@ export const meta: Route.MetaFunction = () => [{ title: "My training days · Lim
 
 // The trainer's own schedule only: the trainer is the signed-in user (trainers.user_id). The day view names
 // trainees, devices and times but no scores or events (those are on the session page, whose reads are logged).
+/** `?day=YYYY-MM-DD` shows that day and its week; without it, today. */
+const dayQuerySchema = z.object({
+  day: z.string().refine(isIsoDate, { message: "Day: give a date as YYYY-MM-DD." }).optional(),
+});
+
 export async function loader({ request }: Route.LoaderArgs) {
-  const p = await requireUser(request, "sessions.own");
-  const trainer = await trainerForUser(p.user.id);
-  return {
-    name: p.user.displayName,
-    profile: await trainerProfileForUser(p.user.id),
-    day: trainer ? await trainerDay(trainer.id) : null,
-    queue: trainer ? await trainerQueue(trainer.id) : null,
-  };
+  return answerUserErrors(async () => {
+    const p = await requireUser(request, "sessions.own");
+    const parsed = dayQuerySchema.safeParse(Object.fromEntries(new URL(request.url).searchParams));
+    if (!parsed.success) throw new UserError(parsed.error.issues[0].message, { field: "day" });
+    const trainer = await trainerForUser(p.user.id);
+    return {
+      name: p.user.displayName,
+      profile: await trainerProfileForUser(p.user.id),
+      day: trainer ? await trainerDay(trainer.id, new Date(), undefined, parsed.data.day) : null,
+      queue: trainer ? await trainerQueue(trainer.id) : null,
+    };
+  });
 }
 
 const STATUS_WORDS: Record<string, string> = {
@@ -30,16 +42,26 @@ const STATUS_WORDS: Record<string, string> = {
   cancelled: "Cancelled",
 };
 
-function SessionCard({ s, showDay }: { s: ScheduledSession; showDay?: boolean }) {
+function SessionCard({ s, showDay, now }: { s: ScheduledSession; showDay?: boolean; now: string }) {
   const paused = s.courseStatus === "paused";
+  // A session still to do whose time has passed is overdue: its log is missing.
+  const overdue = s.status === "scheduled" && (s.end ?? s.start ?? now) < now;
   return (
     <li className="rounded-lg border border-line bg-white p-4" data-testid={`session-${s.id}`}>
       <div className="flex flex-wrap items-baseline justify-between gap-2">
         <p className="text-lg font-semibold">
           {s.start ? `${showDay ? `${formatDay(s.start)} · ` : ""}${formatSpan(s.start, s.end)}` : "Unscheduled"}
         </p>
-        <p className={s.status === "scheduled" ? "font-semibold text-amber-caution" : "text-ink-soft"}>
-          {STATUS_WORDS[s.status] ?? s.status}
+        <p
+          className={
+            overdue
+              ? "font-semibold text-alert"
+              : s.status === "scheduled"
+                ? "font-semibold text-amber-caution"
+                : "text-ink-soft"
+          }
+        >
+          {overdue ? "Overdue: log it" : (STATUS_WORDS[s.status] ?? s.status)}
         </p>
       </div>
       <p className="mt-1">
@@ -111,31 +133,48 @@ export default function TrainHome({ loaderData }: Route.ComponentProps) {
       )}
       {day && (
         <>
+          <nav aria-label="Days and weeks" className="flex flex-wrap gap-2" data-testid="day-nav">
+            <Link className="btn-quiet" to={`?day=${day.previousWeek}`}>
+              ← Week
+            </Link>
+            <Link className="btn-quiet" to={`?day=${day.previousDay}`}>
+              ← Day
+            </Link>
+            <Link className="btn-quiet" to="/train" aria-current={day.isToday ? "page" : undefined}>
+              Today
+            </Link>
+            <Link className="btn-quiet" to={`?day=${day.nextDay}`}>
+              Day →
+            </Link>
+            <Link className="btn-quiet" to={`?day=${day.nextWeek}`}>
+              Week →
+            </Link>
+          </nav>
           <section aria-labelledby="today-h" className="grid gap-3">
             <h2 id="today-h" className="text-xl font-semibold">
-              Today · {formatDay(day.date)}
+              {day.isToday ? "Today" : "Day shown"} · {formatDay(day.date)}
             </h2>
             <p className="text-sm text-ink-soft">Times are {day.timeZone} time, the clock of your site.</p>
             {day.today.length === 0 ? (
-              <p className="card text-ink-soft">No sessions today.</p>
+              <p className="card text-ink-soft">{day.isToday ? "No sessions today." : "No sessions on this day."}</p>
             ) : (
               <ul className="grid gap-3" data-testid="today">
                 {day.today.map((s) => (
-                  <SessionCard key={s.id} s={s} />
+                  <SessionCard key={s.id} s={s} now={day.now} />
                 ))}
               </ul>
             )}
           </section>
           <section aria-labelledby="week-h" className="grid gap-3">
             <h2 id="week-h" className="text-xl font-semibold">
-              Rest of this week
+              {day.isToday ? "Rest of this week" : "Rest of that week"}
             </h2>
             {day.rest.length === 0 ? (
               <p className="card text-ink-soft">Nothing else this week.</p>
             ) : (
               <ul className="grid gap-3" data-testid="week">
                 {day.rest.map((s) => (
-                  <SessionCard key={s.id} s={s} showDay />
+                  <SessionCard key={s.id} s={s} showDay now={day.now} />
                 ))}
               </ul>
             )}
@@ -147,7 +186,7 @@ export default function TrainHome({ loaderData }: Route.ComponentProps) {
               </h2>
               <ul className="grid gap-3" data-testid="waiting">
                 {day.waiting.map((s) => (
-                  <SessionCard key={s.id} s={s} showDay />
+                  <SessionCard key={s.id} s={s} showDay now={day.now} />
                 ))}
               </ul>
             </section>

@@ -128,3 +128,9 @@ export const sitesFormSchema = intents(
   siteTimeZoneSchema.extend({ intent: z.literal("siteZone") }),
   organisationTimeZoneSchema.extend({ intent: z.literal("orgZone") }),
 );
+
+/** A second admin's decision on a pending role or key request. */
+export const approvalFormSchema = intents(
+  z.object({ intent: z.literal("approve"), requestId: z.coerce.number().int().positive() }),
+  z.object({ intent: z.literal("refuse"), requestId: z.coerce.number().int().positive() }),
+);

@@ -147,9 +147,13 @@ export const runFormSchema = z
     return out.data;
   });
 
+export const PUBLISH_CONFIRM_MESSAGE =
+  "Tick the box to confirm the numbers above before publishing; nothing was published and nobody was e-mailed.";
 export const publishSchema = z.object({
   intent: z.literal("publish"),
   expectedPlanVersion: z.coerce.number({ message: "The page is missing the plan version; reload it." }).int().min(0),
+  /** the second step: the coordinator has seen who will be ready and who will be e-mailed */
+  confirm: z.literal("yes", { message: PUBLISH_CONFIRM_MESSAGE }),
 });
 
 // Fleet and trainers forms.

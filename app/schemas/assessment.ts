@@ -1,6 +1,6 @@
 import { z } from "zod";
 import { MEASURE_DIRECTIONS } from "~/compute/features";
-import { TRACE_KINDS, type TraceKind } from "~/compute/trace-parsing";
+import { MAX_ABS_VALUE, TRACE_KINDS, type TraceKind } from "~/compute/trace-parsing";
 import { addDays, todayIn } from "~/dates";
 import { intents } from "~/schemas/form";
 
@@ -114,7 +114,12 @@ export function manualValuesFromForm(
       errors[`m.${m.id}`] = `${m.name}: "${raw}" is not a number${/,/.test(raw) ? " (use a decimal point)" : ""}.`;
       continue;
     }
-    values.push({ measureId: m.id, value: Number(raw) });
+    const value = Number(raw);
+    if (!(Math.abs(value) <= MAX_ABS_VALUE)) {
+      errors[`m.${m.id}`] = `${m.name}: the score is outside the accepted range (±1e12).`;
+      continue;
+    }
+    values.push({ measureId: m.id, value });
   }
   if (Object.keys(errors).length) return { ok: false, errors };
   if (values.length === 0) return { ok: false, errors: { _form: "Enter at least one score." } };

@@ -4,19 +4,25 @@ import { intents } from "~/schemas/form";
 // Forms and payloads of the forecast area. The worker-forecast payload is one schema for the page loader
 // and for GET /api/v1/workers/:workerId/forecast.
 
-export type ExclusionReason = "still_training" | "stopped" | "withdrawn" | "no_model_consent" | "missing_measures";
+export type ExclusionReason =
+  | "withdrawn"
+  | "no_model_consent"
+  | "missing_measures"
+  | "not_started"
+  // Versions fitted before courses were treated as censored data left these out too.
+  | "still_training"
+  | "stopped";
 export const EXCLUSION_LABELS: Record<ExclusionReason, string> = {
-  still_training: "Still training (not yet at the criterion: censored, never used as an outcome)",
-  stopped: "Stopped before reaching the criterion (censored)",
   withdrawn: "Model-use consent withdrawn",
   no_model_consent: "No model-use consent on record",
   missing_measures: "Missing one or more chosen baseline measures",
+  not_started: "No training hours logged yet (tells nothing about time to proficiency)",
+  still_training: "Still in training when the data was taken (left out by this older version)",
+  stopped: "Stopped before reaching the criterion (left out by this older version)",
 };
 
-/** Drift warnings need a few outcomes; below this the coverage is shown but not judged. */
-export const DRIFT_MINIMUM_OUTCOMES = 5;
-/** Warn assessors when the 80 % interval holds fewer than this share of actual outcomes. */
-export const DRIFT_COVERAGE_WARNING = 0.7;
+/** The drift alarm's false-alarm rate: one-sided exact binomial test at this level. */
+export const DRIFT_ALPHA = 0.05;
 
 const id = z.coerce.number({ message: "Choose a value." }).int("Choose a value.").positive("Choose a value.");
 
@@ -43,12 +49,13 @@ export const workbenchFormSchema = z.object({
       .min(1, "Choose at least one measure.")
       .max(12, "Choose at most 12 measures."),
   ),
-  ridge: z.preprocess(
-    (v) => (v === "" || v == null ? 0 : v),
+  normSetId: z.preprocess(
+    (v) => (v === "" || v == null ? undefined : v),
     z.coerce
-      .number({ message: "Ridge penalty must be a number." })
-      .min(0, "Ridge penalty cannot be negative.")
-      .max(100, "Ridge penalty must be at most 100."),
+      .number({ message: "Choose a norm set." })
+      .int("Choose a norm set.")
+      .positive("Choose a norm set.")
+      .optional(),
   ),
   notes: z.string().trim().max(2000, "Notes are limited to 2,000 characters.").optional(),
 });
@@ -67,11 +74,14 @@ export const logSessionFormSchema = z.object({
 });
 export type LogSessionForm = z.infer<typeof logSessionFormSchema>;
 
+/** The planning figure is entered as a percentile (80 = the 80th percentile) and stored as a share (0.80). */
 export const planningQuantileSchema = z.object({
   planningQuantile: z.coerce
-    .number({ message: "Planning quantile must be a number." })
-    .min(0.5, "Planning quantile must be at least 0.50.")
-    .max(0.95, "Planning quantile must be at most 0.95."),
+    .number({ message: "Planning percentile must be a whole number from 50 to 95." })
+    .int("Planning percentile must be a whole number from 50 to 95.")
+    .min(50, "Planning percentile must be at least 50.")
+    .max(95, "Planning percentile must be at most 95.")
+    .transform((p) => p / 100),
 });
 
 /** The models page: a device type's proficiency criterion, or the planning quantile. */
@@ -88,7 +98,10 @@ export const workbenchIntentSchema = intents(
 
 /** A model version's page: approve it, or retire it. */
 export const versionFormSchema = intents(
-  z.object({ intent: z.literal("approve") }),
+  z.object({
+    intent: z.literal("approve"),
+    confirm: z.literal("yes", { message: "Tick the box to confirm that these forecasts will change." }),
+  }),
   z.object({ intent: z.literal("retire") }),
 );
 

@@ -1,7 +1,9 @@
 import { expect, persona, test } from "./fixtures";
 import { expectNoSidewaysScroll } from "./layout";
 
-// Issue 5, done-when: in the browser a coordinator runs an allocation on the demo scenario, watches progress,
+test.use({ viewport: { width: 1366, height: 900 } });
+
+// In the browser a coordinator runs an allocation on the demo scenario, watches progress,
 // reads the result and the binding resources, compares two runs, publishes, and the e-mails with .ics files
 // arrive at the local catcher.
 test("coordinator runs, compares and publishes an allocation; workers and trainers get .ics e-mails", async ({
@@ -24,7 +26,13 @@ test("coordinator runs, compares and publishes an allocation; workers and traine
   const result = page.getByRole("heading", { name: "Result" });
   await expect(progress.or(result).first()).toBeVisible();
   await expect(result).toBeVisible({ timeout: 60_000 });
+  await expect(page.getByTestId("decision")).toContainText("people in the pool can be ready within 6 weeks");
   await expect(page.getByTestId("run-summary")).toContainText("Proven bound");
+  // One capacity chart with a selector: choosing another resource redraws it with that resource's title.
+  const select = page.getByTestId("capacity-select");
+  const second = await select.locator("option").nth(1).getAttribute("value");
+  await select.selectOption(second!);
+  await expect(page.locator("figure figcaption").first()).toContainText(second!.split("|")[1]);
   await expect(page.getByRole("heading", { name: "What limits the plan" })).toBeVisible();
   await expect(page.getByTestId("plan-table")).toBeVisible();
   await expect(page.getByRole("complementary", { name: "Device safety cautions" })).toBeVisible();
@@ -50,9 +58,24 @@ test("coordinator runs, compares and publishes an allocation; workers and traine
   // Publish the baseline.
   const before = outbox.all().length;
   await page.goto(baseUrl);
-  await page.getByRole("button", { name: /Publish this plan|Publish again/ }).click();
+  const summary = page.getByTestId("publish-summary");
+  await expect(summary).toContainText("Ready after placing sessions");
+  await expect(summary).toContainText("Will be e-mailed");
+  const toMail = Number(await page.getByTestId("will-be-emailed").textContent());
+  expect(toMail).toBeGreaterThan(0);
+  // The first press without the confirmation does nothing: the box must be ticked.
+  const publish = page.getByRole("button", { name: /Publish this plan|Publish again/ });
+  const confirm = page.getByLabel(/I have checked the numbers/);
+  await publish.click();
+  expect(await confirm.evaluate((e) => (e as HTMLInputElement).validity.valueMissing)).toBe(true);
+  await expect(page.getByRole("status").filter({ hasText: "Published as plan version" })).toHaveCount(0);
+  expect(outbox.all().length).toBe(before);
+  await confirm.check();
+  await page.screenshot({ path: testInfo.outputPath("publish-confirm.png"), fullPage: false });
+  await publish.click();
   const notice = page.getByRole("status").filter({ hasText: "Published as plan version" });
   await expect(notice).toBeVisible({ timeout: 60_000 });
+  await expect.poll(() => outbox.all().length - before, { timeout: 30_000 }).toBe(toMail);
   const workerMail = await outbox.waitFor(
     (m) =>
       m.subject === "Your device training schedule" &&
@@ -68,8 +91,10 @@ test("coordinator runs, compares and publishes an allocation; workers and traine
     (m) => m.text.includes("Your trainer sessions") && m.attachments.some((a) => a.filename.endsWith(".ics")),
   );
   expect(Buffer.from(trainerMail.attachments[0].content, "base64").toString("utf8")).toContain("Training session:");
-  expect(outbox.all().length).toBeGreaterThan(before);
   await page.screenshot({ path: testInfo.outputPath("published.png"), fullPage: false });
+  await notice.getByRole("link", { name: "Open the published schedule" }).click();
+  await expect(page.getByRole("heading", { name: "Published schedule" })).toBeVisible();
+  await expect(page.getByTestId("schedule-table")).toBeVisible();
 });
 
 test("the run page works at 390 px wide", async ({ page, signInAs }, testInfo) => {
@@ -82,5 +107,10 @@ test("the run page works at 390 px wide", async ({ page, signInAs }, testInfo) =
   await page.waitForURL(/\/coordinate\/runs\/\d+$/);
   await expect(page.getByRole("heading", { name: "Result" })).toBeVisible({ timeout: 60_000 });
   await expectNoSidewaysScroll(page, 390);
+  await expect(page.getByTestId("publish-summary")).toBeVisible();
   await page.screenshot({ path: testInfo.outputPath("run-390.png"), fullPage: false });
+  await page.goto("/coordinate/schedule");
+  await expect(page.getByRole("heading", { name: "Published schedule" })).toBeVisible();
+  await expectNoSidewaysScroll(page, 390);
+  await page.screenshot({ path: testInfo.outputPath("schedule-390.png"), fullPage: false });
 });

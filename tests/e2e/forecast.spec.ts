@@ -18,9 +18,15 @@ test("an assessor fits and saves a model, a second assessor approves it, and a w
   const diagnostics = page.getByTestId("diagnostics");
   await expect(diagnostics).toBeVisible();
   expect(Number(await page.getByTestId("cohort-size").textContent())).toBeGreaterThanOrEqual(30);
-  await expect(page.getByTestId("exclusions")).toContainText("Still training");
+  // Courses still in training count in the cohort (censored), not among the exclusions.
+  expect(Number(await page.getByTestId("still-training").textContent())).toBeGreaterThan(0);
+  await expect(page.getByTestId("exclusions")).not.toContainText("Still in training");
   await expect(page.getByTestId("mae")).toHaveText(/^\d+\.\d h$/);
   await expect(page.getByTestId("coverage")).toHaveText(/^\d+ %$/);
+  await expect(page.getByTestId("planning-coverage")).toHaveText(/^\d+ %$/);
+  await expect(page.getByTestId("stopped-as-miss")).toHaveText(/^\d+ %$/);
+  await expect(page.getByRole("heading", { name: "Checked by leaving out one past trainee at a time" })).toBeVisible();
+  await expect(page.getByTestId("risk-group-chart").locator(".recharts-bar-rectangle")).toHaveCount(3);
   await expect(page.getByTestId("coefficients").locator("tbody tr")).toHaveCount(5);
   await expect(page.locator(".recharts-surface").first()).toBeVisible();
   await page.screenshot({ path: testInfo.outputPath("workbench.png"), fullPage: true });
@@ -34,6 +40,11 @@ test("an assessor fits and saves a model, a second assessor approves it, and a w
 
   const reviewer = await pageAs(second);
   await reviewer.goto(versionUrl);
+  await expect(reviewer.getByTestId("comparison")).toBeVisible();
+  await reviewer.getByRole("button", { name: /^Approve version/ }).click();
+  await expect(reviewer.getByText("Tick the box to confirm that these forecasts will change.")).toBeVisible();
+  await expect(reviewer.getByTestId("version-status")).toHaveText("draft");
+  await reviewer.getByLabel(/approving changes \d+ worker forecasts? on this device type/).check();
   await reviewer.getByRole("button", { name: /^Approve version/ }).click();
   await expect(reviewer.getByRole("status")).toContainText("Approved.");
   await expect(reviewer.getByTestId("version-status")).toHaveText("approved");
@@ -53,6 +64,36 @@ test("an assessor fits and saves a model, a second assessor approves it, and a w
   await expect(card).toContainText(`Model v${versionNumber}`);
   await reviewer.screenshot({ path: testInfo.outputPath("worker-forecast.png"), fullPage: true });
 });
+
+for (const width of [1366, 390]) {
+  test(`the workbench reads in plain words at ${width} px, with the methods in their panel`, async ({
+    page,
+    signInAs,
+  }, testInfo) => {
+    await page.setViewportSize({ width, height: 900 });
+    await signInAs(page, persona("assessor").email);
+    await page.goto("/models/new");
+    const counts = page.getByTestId("course-counts");
+    await expect(counts).toContainText("Still in training when the data was taken");
+    expect(await counts.locator("tbody tr").count()).toBeGreaterThan(0);
+    await page.getByLabel("Device type").selectOption({ label: "Foot-driven supernumerary finger" });
+    await page.getByRole("button", { name: "Fit model" }).click();
+    await expect(page.getByTestId("diagnostics")).toBeVisible();
+    await expect(page.getByRole("heading", { name: "Cohort" })).toBeVisible();
+    await expect(page.getByTestId("diagnostics").getByText(/\d+ past trainees with model-use consent/)).toContainText(
+      "were still in training when the data was taken",
+    );
+    await expect(page.getByTestId("risk-group-chart")).toBeVisible();
+    // Exact terms stay in the panel until it is opened.
+    const panel = page.getByTestId("how-computed");
+    await expect(panel.getByText(/Kalbfleisch/)).toBeHidden();
+    await panel.getByText("How this was computed").click();
+    await expect(panel.getByText(/Kalbfleisch/)).toBeVisible();
+    await expect(panel).toContainText("Kaplan–Meier");
+    await expectNoSidewaysScroll(page, width);
+    await page.screenshot({ path: testInfo.outputPath(`workbench-${width}.png`), fullPage: true });
+  });
+}
 
 test("a coordinator sees the hours and interval but no scores or explanation", async ({ page, signInAs }) => {
   await signInAs(page, persona("coordinator").email);

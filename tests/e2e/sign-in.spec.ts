@@ -152,7 +152,8 @@ test.describe("admin: users and API keys", () => {
     const fill = async (email: string) => {
       await form.getByRole("textbox", { name: "E-mail", exact: true }).fill(email);
       await form.getByRole("textbox", { name: "Name", exact: true }).fill("Tamsin Velde");
-      await form.getByRole("combobox", { name: "Role", exact: true }).selectOption({ label: "Assessor" });
+      // A clinical role would wait for a second admin's approval (tests/integration/separation-of-duties.test.ts).
+      await form.getByRole("combobox", { name: "Role", exact: true }).selectOption({ label: "Coordinator" });
       await form.getByRole("combobox", { name: "Site", exact: true }).selectOption({ label: "Riverside" });
       await form.getByRole("button", { name: "Add user" }).click();
     };
@@ -177,11 +178,11 @@ test.describe("admin: users and API keys", () => {
     const row = page.getByRole("row").filter({ hasText: email });
     await expect(row).toHaveCount(1);
     await expect(row).toContainText("Tamsin Velde");
-    await expect(row).toContainText(/assessor/i);
+    await expect(row).toContainText(/coordinator/i);
 
-    // …and she can now sign in through the real flow and lands on the assessor's home.
+    // …and she can now sign in through the real flow and lands on the coordinator's home.
     const hers = await pageAs(email);
-    expect(new URL(hers.url()).pathname).toBe("/assess");
+    expect(new URL(hers.url()).pathname).toBe("/coordinate");
     await expect(hers.getByTestId("signed-in-as")).toHaveText("Tamsin Velde");
   });
 

@@ -255,8 +255,16 @@ describe("publishing", () => {
     const mailBefore = readOutbox(inject("outboxDir")).length;
 
     const [r1, r2] = await Promise.all([
-      a.client.postForm(`/coordinate/runs/${id}`, { intent: "publish", expectedPlanVersion: String(version) }),
-      b.client.postForm(`/coordinate/runs/${id}`, { intent: "publish", expectedPlanVersion: String(version) }),
+      a.client.postForm(`/coordinate/runs/${id}`, {
+        intent: "publish",
+        expectedPlanVersion: String(version),
+        confirm: "yes",
+      }),
+      b.client.postForm(`/coordinate/runs/${id}`, {
+        intent: "publish",
+        expectedPlanVersion: String(version),
+        confirm: "yes",
+      }),
     ]);
     const statuses = [r1.status, r2.status].sort();
     expect(statuses).toEqual([200, 409]);
@@ -335,6 +343,7 @@ describe("publishing", () => {
     const res = await client.postForm(`/coordinate/runs/${id}`, {
       intent: "publish",
       expectedPlanVersion: String(version),
+      confirm: "yes",
     });
     expect(res.status).toBe(200);
     const after = await sessionsOf(id);
@@ -369,7 +378,13 @@ describe("publishing", () => {
     const v2 = await planVersionOnPage(client, id);
     const mid = readOutbox(inject("outboxDir")).length;
     expect(
-      (await client.postForm(`/coordinate/runs/${id}`, { intent: "publish", expectedPlanVersion: String(v2) })).status,
+      (
+        await client.postForm(`/coordinate/runs/${id}`, {
+          intent: "publish",
+          expectedPlanVersion: String(v2),
+          confirm: "yes",
+        })
+      ).status,
     ).toBe(200);
     await new Promise((r) => setTimeout(r, 300));
     expect(readOutbox(inject("outboxDir")).slice(mid)).toHaveLength(0);
@@ -393,6 +408,7 @@ describe("publishing", () => {
     const res = await client.postForm(`/coordinate/runs/${id}`, {
       intent: "publish",
       expectedPlanVersion: String(version),
+      confirm: "yes",
     });
     expect(res.status).toBe(400);
     const assessor = await signIn(PERSONA.assessor);
@@ -401,6 +417,7 @@ describe("publishing", () => {
         await assessor.client.postForm(`/coordinate/runs/${id}`, {
           intent: "publish",
           expectedPlanVersion: String(version),
+          confirm: "yes",
         })
       ).status,
     ).toBe(403);

@@ -190,7 +190,7 @@ describe("roster import", () => {
     expect((await assessor.postForm(previewUrl, { intent: "import" })).status).toBe(409);
   });
 
-  it("reads XLSX, upserts by employee number and exports with formula-like cells neutralised", async () => {
+  it("reads XLSX, upserts by employee number and exports formula-like text as Text cells", async () => {
     const wb = new ExcelJS.Workbook();
     const ws = wb.addWorksheet("Staff");
     ws.addRow(["Staff ID", "Given name", "Surname", "Email", "Site", "Dept"]);
@@ -231,9 +231,15 @@ describe("roster import", () => {
     const rows: string[][] = [];
     sheet.eachRow((r) => rows.push((r.values as unknown[]).slice(1).map((v) => String(v ?? ""))));
     expect(rows[0]).toEqual(["employee_number", "given_name", "family_name", "email", "site", "department", "stage"]);
+    // Formula-like text is written as it is, in a string cell formatted as Text (never a formula).
     const nell = rows.find((r) => r[0] === "HV-91001")!;
-    expect(nell[2]).toBe('\'=HYPERLINK("http://x")');
-    expect(rows.find((r) => r[0] === "HV-91002")![1]).toBe("'@Otto");
+    expect(nell[2]).toBe('=HYPERLINK("http://x")');
+    expect(rows.find((r) => r[0] === "HV-91002")![1]).toBe("@Otto");
+    sheet.eachRow((r) => {
+      if (r.getCell(1).value !== "HV-91002") return;
+      expect(r.getCell(2).type).toBe(ExcelJS.ValueType.String);
+      expect(r.getCell(2).numFmt).toBe("@");
+    });
     // No cell of the export is a formula.
     let formulas = 0;
     sheet.eachRow((r) =>

@@ -1,10 +1,16 @@
 import crypto from "node:crypto";
+// @ts-expect-error -- jstat ships no type declarations; used here only as the outside binomial reference
+import jStatLib from "jstat";
 import { inverse, Matrix } from "ml-matrix";
 import { afterAll, describe, expect, it } from "vitest";
 import { eraseForecasts } from "~/models/forecast.server";
+import { reliabilityByMeasure } from "~/models/reliability-report.server";
 import { ERASURE_STEPS } from "~/models/withdrawal.server";
 import { workerForecastSchema } from "~/schemas/forecast";
+import { independentLogLikelihood, nelderMeadMaximise } from "../reference/censored-likelihood";
 import { baseUrl, PERSONA, signIn, testDb } from "./helpers";
+
+const jStat = jStatLib as { binomial: { cdf(x: number, n: number, p: number): number } };
 
 // Forecast area against the running stack and the seeded demo (seeds/03_forecast_demo.ts).
 const k = testDb();
@@ -21,32 +27,56 @@ async function consentByWorker(purpose: string): Promise<Map<number, string>> {
   return m;
 }
 
-/** z-scores per measure from baselines assessed on or before the cutoff day (latest wins). */
-async function zBefore(workerId: number, measureIds: number[], cutoff: string | null): Promise<number[] | null> {
+/**
+ * z-scores per measure from baselines assessed on or before the cutoff day (latest wins), computed here
+ * from the raw values and one norm set: (value − mean)/SD, sign turned so that positive = better.
+ */
+async function zBefore(
+  workerId: number,
+  measureIds: number[],
+  cutoff: string | null,
+  normSetId: number,
+): Promise<number[] | null> {
+  const norms = new Map(
+    (
+      await k("norm_values as v")
+        .join("measures as m", "m.id", "v.measure_id")
+        .where("v.norm_set_id", normSetId)
+        .select("v.measure_id", "v.mean", "v.sd", "m.higher_is_better")
+    ).map((r) => [r.measure_id, r]),
+  );
   const rows = await k("assessment_results as r")
     .join("assessment_sessions as s", "s.id", "r.session_id")
     .where("s.worker_id", workerId)
     .whereIn("r.measure_id", measureIds)
-    .whereNotNull("r.z_score")
-    .select("r.measure_id", "r.z_score", "s.assessed_on")
+    .select("r.measure_id", "r.value", "s.assessed_on")
     .orderBy([{ column: "s.assessed_on" }, { column: "s.id" }]);
   const m = new Map<number, number>();
-  for (const r of rows)
-    if (!cutoff || String(r.assessed_on).slice(0, 10) <= cutoff) m.set(r.measure_id, Number(r.z_score));
+  for (const r of rows) {
+    const n = norms.get(r.measure_id);
+    if (!n || (cutoff && String(r.assessed_on).slice(0, 10) > cutoff)) continue;
+    const z = (Number(r.value) - Number(n.mean)) / Number(n.sd);
+    m.set(r.measure_id, n.higher_is_better ? z : -z);
+  }
   const z = measureIds.map((id) => m.get(id));
   return z.some((v) => v === undefined) ? null : (z as number[]);
 }
 
-/**
- * Reference fit by the normal equations b = (XᵀX)⁻¹Xᵀy on cohort-standardised columns (the textbook
- * definition of least squares; the app uses QR, so the two agree only if both saw the same rows).
- */
-function normalEquations(Z: number[][], y: number[]): number[] {
+/** Columns standardised with their mean and (n − 1) SD, as the model stores them. */
+function standardiseColumns(Z: number[][]): number[][] {
   const n = Z.length;
   const p = Z[0].length;
   const means = Array.from({ length: p }, (_, j) => Z.reduce((s, r) => s + r[j], 0) / n);
   const sds = means.map((m, j) => Math.sqrt(Z.reduce((s, r) => s + (r[j] - m) ** 2, 0) / (n - 1)));
-  const X = new Matrix(Z.map((r) => [1, ...r.map((v, j) => (v - means[j]) / sds[j])]));
+  return Z.map((r) => r.map((v, j) => (v - means[j]) / sds[j]));
+}
+
+/**
+ * Reference least-squares fit by the normal equations b = (XᵀX)⁻¹Xᵀy on standardised columns (the
+ * textbook definition; the app never uses it).
+ */
+function normalEquations(Z: number[][], y: number[]): number[] {
+  const X = new Matrix(standardiseColumns(Z).map((r) => [1, ...r]));
   const Y = Matrix.columnVector(y);
   return inverse(X.transpose().mmul(X)).mmul(X.transpose()).mmul(Y).to1DArray();
 }
@@ -59,16 +89,17 @@ function coefficientTable(html: string): number[] {
 const text = (html: string, testId: string) =>
   new RegExp(`data-testid="${testId}"[^>]*>([^<]*)<`).exec(html)?.[1] ?? null;
 
-describe("model workbench: cohort and censoring", () => {
-  it("counts every exclusion, and fits only consented trainees who reached the criterion with every measure", async () => {
+describe("model workbench: cohort with censored courses", () => {
+  it("fits completed, still-training and stopped courses by censored likelihood, counting every exclusion", async () => {
     const deviceTypeId = await device("SRF-FOOT");
     const approved = await k("model_versions").where({ device_type_id: deviceTypeId, status: "approved" }).first();
     const measureIds: number[] = JSON.parse(approved.measure_ids);
+    const normSetId = approved.norm_set_id as number;
+    expect(normSetId).toBeTruthy();
     const consent = await consentByWorker("model");
     const courses = await k("device_courses").where({ device_type_id: deviceTypeId }).orderBy("worker_id");
-    const expected = { still_training: 0, stopped: 0, withdrawn: 0, no_model_consent: 0, missing_measures: 0 };
-    const included: { z: number[]; hours: number }[] = [];
-    const censored: { z: number[]; hours: number }[] = [];
+    const expected = { withdrawn: 0, no_model_consent: 0, not_started: 0, missing_measures: 0 };
+    const cohort: { z: number[]; hours: number; event: boolean; stopped: boolean }[] = [];
     for (const c of courses) {
       const state = consent.get(c.worker_id);
       if (state === "withdrawn") {
@@ -79,24 +110,28 @@ describe("model workbench: cohort and censoring", () => {
         expected.no_model_consent++;
         continue;
       }
-      if (c.status === "stopped") {
-        expected.stopped++;
+      const event = c.status === "proficient";
+      const hours = Number(event ? c.hours_to_proficiency : c.cumulative_hours);
+      if (!(hours > 0)) {
+        expected.not_started++;
         continue;
       }
-      const z = await zBefore(c.worker_id, measureIds, c.started_on ? String(c.started_on).slice(0, 10) : null);
-      if (c.status !== "proficient") {
-        expected.still_training++;
-        if (z) censored.push({ z, hours: Number(c.cumulative_hours) });
-        continue;
-      }
+      const z = await zBefore(
+        c.worker_id,
+        measureIds,
+        c.started_on ? String(c.started_on).slice(0, 10) : null,
+        normSetId,
+      );
       if (!z) {
         expected.missing_measures++;
         continue;
       }
-      included.push({ z, hours: Number(c.hours_to_proficiency) });
+      cohort.push({ z, hours, event, stopped: c.status === "stopped" });
     }
-    // The demo has censored records of every kind, so the check is not vacuous.
-    expect(expected.still_training).toBeGreaterThan(0);
+    const censored = cohort.filter((r) => !r.event);
+    // The demo has censored courses of both kinds and exclusions, so the check is not vacuous.
+    expect(censored.filter((r) => !r.stopped).length).toBeGreaterThan(0);
+    expect(censored.filter((r) => r.stopped).length).toBeGreaterThan(0);
     expect(expected.withdrawn).toBeGreaterThan(0);
     expect(expected.missing_measures).toBeGreaterThan(0);
 
@@ -105,37 +140,51 @@ describe("model workbench: cohort and censoring", () => {
       intent: "fit",
       deviceTypeId: String(deviceTypeId),
       measureIds: measureIds.map(String),
-      ridge: "0",
+      normSetId: String(normSetId),
     });
     expect(res.status).toBe(200);
-    const html = await res.text();
-    expect(Number(text(html, "cohort-size"))).toBe(included.length);
+    const html = (await res.text()).replace(/<!-- -->/g, "");
+    expect(Number(text(html, "cohort-size"))).toBe(cohort.length);
+    expect(Number(text(html, "completed"))).toBe(cohort.length - censored.length);
+    expect(Number(text(html, "still-training"))).toBe(censored.filter((r) => !r.stopped).length);
+    expect(Number(text(html, "stopped"))).toBe(censored.filter((r) => r.stopped).length);
     for (const [reason, n] of Object.entries(expected)) {
       const shown = new RegExp(`data-reason="${reason}"><strong>(\\d+)</strong>`).exec(html)?.[1];
       expect(Number(shown ?? 0), reason).toBe(n);
     }
+    expect(html).not.toContain('data-reason="still_training"');
     const total = Object.values(expected).reduce((s, n) => s + n, 0);
     expect(Number(text(html, "excluded-total"))).toBe(total);
 
-    // The page's coefficients (4 decimals) are the least-squares fit of exactly the included records…
+    // The page's coefficients (4 decimals) maximise the censored log-normal likelihood of exactly these
+    // courses: checked by a general optimiser (Nelder–Mead) on a likelihood written independently.
     const shown = coefficientTable(html);
     expect(shown.length).toBe(measureIds.length + 1);
-    const reference = normalEquations(
-      included.map((r) => r.z),
-      included.map((r) => Math.log(r.hours)),
+    const Z = standardiseColumns(cohort.map((r) => r.z));
+    const time = cohort.map((r) => r.hours);
+    const event = cohort.map((r) => r.event);
+    const start = normalEquations(
+      cohort.map((r) => r.z),
+      time.map((t) => Math.log(t)),
     );
+    const direct = nelderMeadMaximise((v) => independentLogLikelihood(Z, time, event, v), [...start, Math.log(0.4)]);
     shown.forEach((b, i) => {
-      expect(Math.abs(b - reference[i])).toBeLessThan(6e-5);
+      expect(Math.abs(b - direct[i])).toBeLessThan(6e-5);
     });
-    // …and not of the cohort with the censored trainees' hours-so-far mixed in as if they were outcomes.
-    const mixed = normalEquations(
-      [...included, ...censored].map((r) => r.z),
-      [...included, ...censored].map((r) => Math.log(r.hours)),
+    // …and not the old fit, least squares on the completed courses only.
+    const done = cohort.filter((r) => r.event);
+    const old = normalEquations(
+      done.map((r) => r.z),
+      done.map((r) => Math.log(r.hours)),
     );
-    expect(Math.max(...mixed.map((b, i) => Math.abs(b - shown[i])))).toBeGreaterThan(1e-3);
+    expect(Math.max(...old.map((b, i) => Math.abs(b - shown[i])))).toBeGreaterThan(1e-3);
+    // The planning figure's check, overall, by risk group and with stopped courses as misses, is shown.
+    expect(text(html, "planning-coverage")).toMatch(/^\d+ %$/);
+    expect(text(html, "stopped-as-miss")).toMatch(/^\d+ %$/);
+    expect([...html.matchAll(/data-testid="risk-share"/g)].length).toBe(3);
   });
 
-  it("a censored course with a stray outcome value still stays out of the fit", async () => {
+  it("a course still in training counts for its hours so far, never for a stray outcome value", async () => {
     const deviceTypeId = await device("SRF-FOOT");
     const measureIds: number[] = JSON.parse(
       (await k("model_versions").where({ device_type_id: deviceTypeId, status: "approved" }).first()).measure_ids,
@@ -147,12 +196,12 @@ describe("model workbench: cohort and censoring", () => {
           intent: "fit",
           deviceTypeId: String(deviceTypeId),
           measureIds: measureIds.map(String),
-          ridge: "0",
         })
       ).text();
     const before = await fitModel();
     const training = await k("device_courses")
       .where({ device_type_id: deviceTypeId, status: "training" })
+      .where("cumulative_hours", ">", 0)
       .orderBy("worker_id")
       .first();
     await k("device_courses").where({ id: training.id }).update({ hours_to_proficiency: 999 });
@@ -165,20 +214,63 @@ describe("model workbench: cohort and censoring", () => {
     }
   });
 
-  it("names the problem when too few records remain", async () => {
+  it("warns on every chosen measure whose test–retest reliability is poor (ICC(2,1) < 0.5) or not known", async () => {
+    const deviceTypeId = await device("SRF-FOOT");
+    const approved = await k("model_versions").where({ device_type_id: deviceTypeId, status: "approved" }).first();
+    const ids: number[] = JSON.parse(approved.measure_ids);
+    const byId = new Map((await k("measures").whereIn("id", ids).select("id", "name")).map((m) => [m.id, m.name]));
+    const measures = ids.map((id) => ({ id, name: byId.get(id) as string }));
+    const { client } = await signIn(PERSONA.assessor);
+    const res = await client.postForm("/models/new", {
+      intent: "fit",
+      deviceTypeId: String(deviceTypeId),
+      measureIds: ids.map(String),
+    });
+    expect(res.status).toBe(200);
+    const html = (await res.text()).replace(/<!-- -->/g, "");
+    const block = /data-testid="reliability-warnings"[\s\S]*?<\/section>/.exec(html)?.[0] ?? "";
+    const warned = [...block.matchAll(/<li>([^<:]+):/g)].map((m) => m[1]);
+    const reliability = new Map((await reliabilityByMeasure(k)).map((r) => [r.measureId, r]));
+    const expected = measures
+      .filter((m) => {
+        const icc = reliability.get(m.id)?.icc21 ?? null;
+        return icc === null || icc < 0.5;
+      })
+      .map((m) => m.name);
+    expect(expected.length).toBeGreaterThan(0);
+    expect(warned).toEqual(expected);
+  });
+
+  it("shows completed and censored courses per device type", async () => {
+    const { client } = await signIn(PERSONA.assessor);
+    const html = (await (await client.request("/models/new")).text()).replace(/<!-- -->/g, "");
+    const consent = await consentByWorker("model");
+    for (const d of await k("device_types").select("id", "name")) {
+      const courses = (await k("device_courses").where({ device_type_id: d.id })).filter(
+        (c) => consent.get(c.worker_id) === "given" && Number(c.cumulative_hours) > 0,
+      );
+      const row = new RegExp(`data-device="${d.name}"[\\s\\S]*?</tr>`).exec(html)?.[0] ?? "";
+      const count = (what: string) => Number(new RegExp(`data-count="${what}">(\\d+)<`).exec(row)?.[1]);
+      const completed = courses.filter((c) => c.status === "proficient").length;
+      const stopped = courses.filter((c) => c.status === "stopped").length;
+      expect(count("completed"), d.name).toBe(completed);
+      expect(count("stopped"), d.name).toBe(stopped);
+      expect(count("still-training"), d.name).toBe(courses.length - completed - stopped);
+    }
+  });
+
+  it("names the problem when the choices cannot be fitted", async () => {
     const { client } = await signIn(PERSONA.assessor);
     const res = await client.postForm("/models/new", {
       intent: "fit",
       deviceTypeId: "999999",
       measureIds: ["1"],
-      ridge: "0",
     });
     expect(res.status).toBe(422);
     expect(await res.text()).toContain("That device type does not exist.");
     const none = await client.postForm("/models/new", {
       intent: "fit",
       deviceTypeId: String(await device("EXO-BACK")),
-      ridge: "0",
     });
     expect(none.status).toBe(400);
     expect(await none.text()).toContain("Choose at least one measure.");
@@ -195,7 +287,6 @@ describe("model versions: approval by a second assessor", () => {
       intent: "save",
       deviceTypeId: String(deviceTypeId),
       measureIds: measureIds.slice(0, 3).map(String),
-      ridge: "0",
       notes: "integration test",
     });
     expect(saved.status).toBe(302);
@@ -204,14 +295,36 @@ describe("model versions: approval by a second assessor", () => {
     expect(draft.status).toBe("draft");
     expect(JSON.parse(draft.measure_ids)).toEqual(measureIds.slice(0, 3));
 
-    const self = await fitter.postForm(`/models/${id}`, { intent: "approve" });
+    const self = await fitter.postForm(`/models/${id}`, { intent: "approve", confirm: "yes" });
     expect(self.status).toBe(409);
     expect(await self.text()).toContain("approved by an assessor other than the one who fitted it");
     expect((await k("model_versions").where({ id }).first()).status).toBe("draft");
 
+    // The reviewer is told how many forecasts approval changes, and must confirm it.
     const reviewer = (await signIn(PERSONA.assessor2)).client;
-    const ok = await reviewer.postForm(`/models/${id}`, { intent: "approve" });
+    const page = (await (await reviewer.request(`/models/${id}`)).text()).replace(/<!-- -->/g, "");
+    const promised = Number(/approving changes (\d+) worker forecast/.exec(page)?.[1]);
+    expect(promised).toBeGreaterThan(0);
+    const snapshot = async () =>
+      new Map(
+        (
+          await k("forecasts")
+            .where({ device_type_id: deviceTypeId })
+            .select("worker_id", "median_hours", "planning_hours")
+        ).map((f) => [f.worker_id, `${Number(f.median_hours)} ${Number(f.planning_hours)}`]),
+      );
+    const before = await snapshot();
+    const unconfirmed = await reviewer.postForm(`/models/${id}`, { intent: "approve" });
+    expect(unconfirmed.status).toBe(400);
+    expect(await unconfirmed.text()).toContain("Tick the box to confirm that these forecasts will change.");
+    expect((await k("model_versions").where({ id }).first()).status).toBe("draft");
+    const ok = await reviewer.postForm(`/models/${id}`, { intent: "approve", confirm: "yes" });
     expect(ok.status).toBe(200);
+    const after = await snapshot();
+    const changed =
+      [...after].filter(([w, v]) => before.get(w) !== v).length +
+      [...before.keys()].filter((w) => !after.has(w)).length;
+    expect(changed).toBe(promised);
     const now = await k("model_versions").where({ id }).first();
     expect(now.status).toBe("approved");
     expect(now.approved_by).toBe((await k("users").where({ email: PERSONA.assessor2 }).first("id")).id);
@@ -431,22 +544,51 @@ describe("logging sessions: cumulative hours, proficiency, stage and forecast in
 });
 
 describe("drift", () => {
-  it("warns assessors when fewer than 70 % of actual outcomes fell inside the version's 80 % interval", async () => {
+  it("counts a course as a miss once its hours pass the planning figure, and alarms by an exact binomial test", async () => {
     const deviceTypeId = await device("SRA-WAIST");
     const v = await k("model_versions")
       .where({ device_type_id: deviceTypeId, status: "approved" })
       .first("id", "version_number");
+    const q = Number((await k("organisations").first("planning_quantile")).planning_quantile);
+    /** Within / miss among the resolved courses of the version, straight from SQL. */
+    const resolved = async () => {
+      let within = 0;
+      let missed = 0;
+      const done = new Set<number>();
+      for (const o of await k("forecast_outcomes").where({ model_version_id: v.id })) {
+        if (o.forecast_planning_hours == null || Math.abs(Number(o.planning_quantile) - q) > 1e-9) continue;
+        done.add(o.worker_id);
+        if (Number(o.actual_hours) <= Number(o.forecast_planning_hours)) within++;
+        else missed++;
+      }
+      const running = await k("forecasts as f")
+        .join("device_courses as c", function () {
+          this.on("c.worker_id", "=", "f.worker_id").andOn("c.device_type_id", "=", "f.device_type_id");
+        })
+        .where("f.model_version_id", v.id)
+        .whereNot("c.status", "proficient")
+        .select("f.worker_id", "f.planning_hours", "c.cumulative_hours");
+      for (const r of running)
+        if (!done.has(r.worker_id) && Number(r.cumulative_hours) >= Number(r.planning_hours)) missed++;
+      return { within, missed };
+    };
     const { client } = await signIn(PERSONA.assessor);
-    expect(await (await client.request("/models")).text()).not.toMatch(
-      /data-testid="drift-warning"[^>]*>Drift: Waist-mounted/,
-    );
+    const warningOf = (html: string) =>
+      /data-testid="drift-warning"[^>]*>([^<]*Waist-mounted[^<]*)</.exec(html.replace(/<!-- -->/g, ""))?.[1] ?? null;
+    // Outside reference for the exact binomial tail: jStat's binomial CDF.
+    const pOf = (r: { within: number; missed: number }) => jStat.binomial.cdf(r.within, r.within + r.missed, q);
+    const start = await resolved();
+    const before = warningOf(await (await client.request("/models")).text());
+    expect(before !== null).toBe(start.within + start.missed > 0 && pOf(start) <= 0.05);
+
+    // Courses that ran past their figure: finished late, and one still training beyond it (not finished).
     const free = await k("workers")
-      .whereNotIn("id", k("forecast_outcomes").where({ device_type_id: deviceTypeId }).select("worker_id"))
+      .whereNotIn("id", k("device_courses").where({ device_type_id: deviceTypeId }).select("worker_id"))
       .orderBy("id", "desc")
-      .limit(5)
+      .limit(8)
       .select("id");
-    const ids: number[] = [];
-    for (const w of free) {
+    const outcomeIds: number[] = [];
+    for (const w of free.slice(0, 7)) {
       const [row] = await k("forecast_outcomes")
         .insert({
           model_version_id: v.id,
@@ -454,25 +596,99 @@ describe("drift", () => {
           device_type_id: deviceTypeId,
           forecast_median_hours: 10,
           forecast_lower_hours: 8,
-          forecast_upper_hours: 12,
+          forecast_upper_hours: 14,
+          forecast_planning_hours: 12,
+          planning_quantile: q,
           actual_hours: 20,
           covered: false,
           reached_on: "2026-11-29",
           recorded_at: "2026-11-29T10:00:00.000Z",
         })
         .returning("id");
-      ids.push(row.id);
+      outcomeIds.push(row.id);
     }
+    const runner = free[7].id as number;
+    const template = await k("forecasts").where({ model_version_id: v.id }).first();
+    const { id: _id, worker_id: _w, ...rest } = template;
+    await k("device_courses").insert({
+      worker_id: runner,
+      device_type_id: deviceTypeId,
+      status: "training",
+      cumulative_hours: Number(template.planning_hours) + 1,
+      started_on: "2026-11-02",
+      updated_at: "2026-11-29T10:00:00.000Z",
+    });
+    await k("forecasts").insert({ ...rest, worker_id: runner });
     try {
-      const all = await k("forecast_outcomes").where({ model_version_id: v.id }).select("covered");
-      const coverage = all.filter((r) => Number(r.covered) === 1).length / all.length;
-      expect(coverage).toBeLessThan(0.7);
-      const html = await (await client.request("/models")).text();
-      const warning =
-        /data-testid="drift-warning"[^>]*>([^<]*Waist-mounted[^<]*)</.exec(html.replace(/<!-- -->/g, ""))?.[1] ?? "";
-      expect(warning).toContain(`only ${Math.round(coverage * 100)} % of ${all.length} workers`);
+      const now = await resolved();
+      expect(now.missed).toBe(start.missed + 8);
+      expect(pOf(now)).toBeLessThanOrEqual(0.05);
+      const warning = warningOf(await (await client.request("/models")).text());
+      expect(warning).toContain(`${now.missed} of ${now.within + now.missed} courses went past their planning figure`);
+      const page = (await (await client.request(`/models/${v.id}`)).text()).replace(/<!-- -->/g, "");
+      expect(page).toContain(`p = ${pOf(now).toPrecision(2)}`);
     } finally {
-      await k("forecast_outcomes").whereIn("id", ids).del();
+      await k("forecasts").where({ worker_id: runner, device_type_id: deviceTypeId }).del();
+      await k("device_courses").where({ worker_id: runner, device_type_id: deviceTypeId }).del();
+      await k("forecast_outcomes").whereIn("id", outcomeIds).del();
+    }
+  });
+});
+
+describe("norm set pinning", () => {
+  it("a newer norm set, and results rescored with it, leave the forecasts of an existing version unchanged", async () => {
+    const deviceTypeId = await device("SRF-FOOT");
+    const v = await k("model_versions").where({ device_type_id: deviceTypeId, status: "approved" }).first();
+    const measureIds: number[] = JSON.parse(v.measure_ids);
+    const pinned = await k("norm_values").where({ norm_set_id: v.norm_set_id }).whereIn("measure_id", measureIds);
+    const snapshot = async () =>
+      new Map(
+        (await k("forecasts").where({ device_type_id: deviceTypeId }).select("worker_id", "planning_hours")).map(
+          (f) => [f.worker_id as number, Number(f.planning_hours)],
+        ),
+      );
+    const before = await snapshot();
+    expect(before.size).toBeGreaterThan(0);
+    const [set] = await k("norm_sets")
+      .insert({
+        name: "IT newer norms",
+        origin: "published",
+        source: "integration test (invented)",
+        source_date: "2026-12-02",
+        created_at: "2026-12-02T09:00:00.000Z",
+      })
+      .returning("id");
+    await k("norm_values").insert(
+      pinned.map((n) => ({ norm_set_id: set.id, measure_id: n.measure_id, mean: n.mean + n.sd, sd: n.sd * 2, n: 50 })),
+    );
+    // Every stored z-score of these measures is rescored with the newer set (what a reassessment would get).
+    const results = await k("assessment_results")
+      .whereIn("measure_id", measureIds)
+      .select("id", "z_score", "norm_set_id");
+    await k("assessment_results")
+      .whereIn("measure_id", measureIds)
+      .update({ z_score: k.raw("z_score / 2 - 0.5"), norm_set_id: set.id });
+    const { client } = await signIn(PERSONA.assessor);
+    try {
+      // Recompute every forecast (saving the planning percentile unchanged does that).
+      const q = Math.round(Number((await k("organisations").first("planning_quantile")).planning_quantile) * 100);
+      const res = await client.postForm("/models", { intent: "quantile", planningQuantile: String(q) });
+      expect(res.status).toBe(200);
+      const after = await snapshot();
+      expect(after.size).toBe(before.size);
+      for (const [w, hours] of before) expect(Math.abs((after.get(w) ?? 0) - hours)).toBeLessThan(1e-9);
+      // A new fit is pinned to the newest set holding every measure, and says so.
+      const fit = await client.postForm("/models/new", {
+        intent: "fit",
+        deviceTypeId: String(deviceTypeId),
+        measureIds: measureIds.map(String),
+      });
+      expect(text(await fit.text(), "norm-set")).toBe("IT newer norms");
+    } finally {
+      for (const r of results)
+        await k("assessment_results").where({ id: r.id }).update({ z_score: r.z_score, norm_set_id: r.norm_set_id });
+      await k("norm_values").where({ norm_set_id: set.id }).del();
+      await k("norm_sets").where({ id: set.id }).del();
     }
   });
 });

@@ -15,7 +15,10 @@ import {
 import { gaussianSource, mulberry32 } from "~/compute/seeded-random";
 import { normalQuantile } from "~/compute/student-t";
 
-const jStat = jStatLib as { ibetainv(p: number, a: number, b: number): number };
+const jStat = jStatLib as {
+  ibetainv(p: number, a: number, b: number): number;
+  binomial: { cdf(x: number, n: number, p: number): number };
+};
 
 /** P(X ≤ x) for X ~ Binomial(n, num/den), by exact integer arithmetic, then one rounding to double. */
 function exactBinomialTail(x: number, n: number, num: number, den: number): number {
@@ -40,6 +43,18 @@ describe("exact binomial tail and the Clopper–Pearson bound", () => {
   ])("P(X ≤ %d | n = %d, p = %d/%d) matches exact rational arithmetic", (x, n, num, den) => {
     const exact = exactBinomialTail(x, n, num, den);
     expect(Math.abs(binomialLowerTail(x, n, num / den) / exact - 1)).toBeLessThan(1e-12);
+  });
+
+  // jStat's binomial CDF as a second, outside route to the same tail. jStat rounds the CDF it returns to
+  // 10 decimals (measured: 6.219776e-5 comes back as 6.21978e-5), so the agreement is absolute, to 1e-10.
+  it.each([
+    [20, 30, 0.8],
+    [3, 12, 0.8],
+    [45, 60, 0.8],
+    [90, 150, 0.65],
+    [160, 200, 0.8],
+  ])("P(X ≤ %d | n = %d, p = %d) matches jStat's binomial CDF", (x, n, p) => {
+    expect(Math.abs(binomialLowerTail(x, n, p) - jStat.binomial.cdf(x, n, p))).toBeLessThanOrEqual(1e-10);
   });
 
   // Clopper & Pearson (1934): with no successes the one-sided upper bound solves (1 − p)ⁿ = α, so it is

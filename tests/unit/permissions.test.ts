@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { ACTIONS, can, ROLES, roleAllows } from "../../app/auth/permissions";
+import { ACTIONS, can, isClinicalRole, ROLES, roleAllows } from "../../app/auth/permissions";
 import { scopeFrom } from "../../app/auth/scope";
 
 // Who may do what (docs/architecture.md, roles). Health-data actions never reach admin or manager.
@@ -15,6 +15,10 @@ const HEALTH = [
 ] as const;
 
 describe("role × action table", () => {
+  it("clinical roles (a second admin approves them) are exactly those reaching scores, traces or session logs", () => {
+    expect(ROLES.filter(isClinicalRole)).toEqual(["assessor", "trainer"]);
+  });
+
   it("admin and manager hold no health-data action", () => {
     for (const a of HEALTH) {
       expect(roleAllows("admin", a), a).toBe(false);

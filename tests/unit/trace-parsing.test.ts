@@ -129,6 +129,27 @@ describe("parseTrace: accepted files", () => {
 });
 
 describe("parseTrace: refused files name the row and column", () => {
+  it("values beyond ±1e12 (which would overflow sums of squares into Infinity/NaN)", () => {
+    const errors = errorsOf(
+      parseTrace(
+        "force",
+        table(
+          ["target", "produced"],
+          [
+            [10, 11],
+            ["1e200", 20],
+            [30, "-1e309"],
+            [40, 1e12],
+          ],
+        ),
+      ),
+    );
+    expect(errors).toEqual([
+      { row: 3, column: "target", message: '"1e200" is outside the accepted range (±1e12)' },
+      { row: 4, column: "produced", message: '"-1e309" is outside the accepted range (±1e12)' },
+    ]);
+  });
+
   it("missing column", () => {
     const errors = errorsOf(parseTrace("sway", table(["t", "x"], [[0, 1]])));
     expect(errors).toContainEqual(
