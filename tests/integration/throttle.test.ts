@@ -18,7 +18,11 @@ async function newKey(name: string): Promise<{ key: string; prefix: string }> {
   const { createApiKey } = await import("~/auth/api-keys.server");
   const admin = await testDb()("users").where({ email: PERSONA.admin }).first();
   const site = await testDb()("sites").orderBy("id").first();
-  const { key } = await createApiKey({ name, role: "coordinator", siteIds: [site.id], createdBy: admin.id });
+  // A coordinator key is not clinical, so it works at once (no second admin's approval).
+  const { db } = await import("~/db.server");
+  const { key } = await db().transaction((trx) =>
+    createApiKey(trx, { name, role: "coordinator", siteIds: [site.id], createdBy: admin.id, awaitingApproval: false }),
+  );
   return { key, prefix: key.split("_")[1] };
 }
 
