@@ -1,11 +1,13 @@
 import { data, Form, Link, type ShouldRevalidateFunction, useActionData, useNavigation } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { can } from "~/auth/permissions";
+import { countUpload } from "~/auth/throttle.server";
 import { DeviceCautions } from "~/components/device-cautions";
 import { FormError, Notice, SelectField, TextField } from "~/components/fields";
 import { FileField, IssueList } from "~/components/upload";
 import { MEASURE_DIRECTIONS } from "~/compute/features";
 import { TRACE_KINDS } from "~/compute/trace-parsing";
+import { keepRetryAfter } from "~/http/headers";
 import { recordAccess } from "~/models/access-log.server";
 import {
   AssessmentInputError,
@@ -70,8 +72,12 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   };
 }
 
+// A refused upload (429) keeps its Retry-After on the `.data` answer.
+export const headers = keepRetryAfter;
+
 export async function action({ request, params }: Route.ActionArgs) {
   const p = await requireUser(request, "assessments.write");
+  await countUpload(request, p.user.id);
   const { workerId, sessionId } = ids(params);
   if (!(await workerForStaff(p.scope, workerId)))
     throw data({ error: "No such worker at your sites." }, { status: 404 });
