@@ -135,7 +135,7 @@ export default function TrainerSession({ loaderData }: Route.ComponentProps) {
       )}
       {open && (
         <>
-          <DeviceCautions compact />
+          <DeviceCautions compact reader="trainer" />
           <ActionForm result={result} className="grid gap-5">
             <section className="card grid gap-4 sm:grid-cols-2" aria-labelledby="when-h">
               <h2 id="when-h" className="text-lg font-semibold sm:col-span-2">
@@ -212,7 +212,7 @@ export default function TrainerSession({ loaderData }: Route.ComponentProps) {
           </ActionForm>
         </>
       )}
-      {!open && <DeviceCautions compact />}
+      {!open && <DeviceCautions compact reader="trainer" />}
     </div>
   );
 }
