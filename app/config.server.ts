@@ -46,3 +46,39 @@ export const jobs = {
 };
 if (jobs.staleMs < 3 * jobs.heartbeatMs)
   throw new Error("LIMBERLY_JOB_STALE_MS must be at least three heartbeats (LIMBERLY_JOB_HEARTBEAT_MS).");
+
+// HTTP. TRUST_PROXY lists the reverse proxies (addresses, CIDR ranges, or express's names `loopback`,
+// `linklocal`, `uniquelocal`; comma-separated) whose X-Forwarded-For is believed. Empty (the default): the
+// client address is the socket's peer and X-Forwarded-For is ignored. HSTS is sent in production only.
+export const http = {
+  trustProxy: (process.env.TRUST_PROXY ?? "")
+    .split(",")
+    .map((s) => s.trim())
+    .filter(Boolean),
+  hsts: isProduction,
+};
+
+// Throttling: each limit is "attempts/seconds"; an address, key prefix or user over it is refused (429) for
+// the rest of that window.
+export interface Limit {
+  points: number;
+  seconds: number;
+}
+function readLimit(name: string, fallback: Limit): Limit {
+  const v = process.env[name];
+  if (v === undefined || v === "") return fallback;
+  const m = /^(\d+)\/(\d+)$/.exec(v.trim());
+  if (!m || Number(m[1]) < 1 || Number(m[2]) < 1)
+    throw new Error(`${name} must read "attempts/seconds" (for example "20/900"), not "${v}".`);
+  return { points: Number(m[1]), seconds: Number(m[2]) };
+}
+export const limits = {
+  /** failed sign-in callbacks (bad state or code, or a person who is not provisioned) per client address */
+  signInFailuresPerAddress: readLimit("LIMBERLY_LIMIT_SIGNIN_FAILURES", { points: 20, seconds: 900 }),
+  /** refused API keys per client address */
+  apiKeyFailuresPerAddress: readLimit("LIMBERLY_LIMIT_API_KEY_FAILURES", { points: 20, seconds: 900 }),
+  /** refused API keys per key prefix (guessing one key's secret from many addresses) */
+  apiKeyFailuresPerPrefix: readLimit("LIMBERLY_LIMIT_API_KEY_PREFIX_FAILURES", { points: 10, seconds: 900 }),
+  /** file uploads (roster imports, traces) per signed-in user */
+  uploadsPerUser: readLimit("LIMBERLY_LIMIT_UPLOADS", { points: 30, seconds: 600 }),
+};

@@ -154,6 +154,20 @@ declare module "knex/types/tables" {
       },
       "id"
     >;
+    course_reviews: Table<
+      {
+        id: number;
+        worker_id: number;
+        device_type_id: number;
+        decision: "resume" | "resume_with_conditions" | "stop" | "acknowledge";
+        wear_time_limit_minutes: number | null;
+        conditions: string | null;
+        clinical_note: string;
+        decided_by: number | null;
+        decided_at: string;
+      },
+      "id"
+    >;
     departments: Table<
       {
         id: number;
@@ -176,6 +190,8 @@ declare module "knex/types/tables" {
         hours_to_proficiency: number | null;
         pause_reason: string | null;
         updated_at: string;
+        /** Set by a course review; null: the device type's limit applies. */
+        wear_time_limit_minutes: number | null;
       },
       "id" | "cumulative_hours"
     >;
@@ -336,8 +352,15 @@ declare module "knex/types/tables" {
         created_at: string;
         planning_quantile: number;
         time_zone: string;
+        max_hidden_share: number;
       },
-      "id" | "disclosure_threshold" | "retention_days" | "manager_groupings" | "planning_quantile" | "time_zone"
+      | "id"
+      | "disclosure_threshold"
+      | "retention_days"
+      | "manager_groupings"
+      | "planning_quantile"
+      | "time_zone"
+      | "max_hidden_share"
     >;
     privilege_audit: Table<
       {
@@ -391,6 +414,38 @@ declare module "knex/types/tables" {
         published_at: string | null;
       },
       "version"
+    >;
+    rate_limits: Table<
+      {
+        key: string;
+        points: number;
+        /** Epoch milliseconds; a bigint, so PostgreSQL may hand it back as a string. */
+        expire: number | string | null;
+      },
+      "points"
+    >;
+    readiness_publications: Table<
+      {
+        id: number;
+        table_key: string;
+        grouping: string;
+        counts: string;
+        published: string;
+        linked_to: number | null;
+        note: string | null;
+        created_at: string;
+      },
+      "id"
+    >;
+    readiness_receipts: Table<
+      {
+        id: number;
+        publication_id: number;
+        viewer_kind: string;
+        viewer_id: number;
+        received_at: string;
+      },
+      "id"
     >;
     review_flags: Table<
       {
@@ -447,6 +502,30 @@ declare module "knex/types/tables" {
         created_by: number | null;
         created_at: string;
         finished_at: string | null;
+      },
+      "id"
+    >;
+    safety_findings: Table<
+      {
+        id: number;
+        worker_id: number;
+        device_type_id: number;
+        session_id: number | null;
+        kind: "wear_time_breach";
+        detail: string;
+        recorded_by: number | null;
+        raised_at: string;
+        review_id: number | null;
+      },
+      "id"
+    >;
+    security_events: Table<
+      {
+        id: number;
+        at: string;
+        kind: string;
+        subject: string;
+        detail: string;
       },
       "id"
     >;

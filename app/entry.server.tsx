@@ -5,10 +5,12 @@ import type { RenderToPipeableStreamOptions } from "react-dom/server";
 import { renderToPipeableStream } from "react-dom/server";
 import type { AppLoadContext, EntryContext } from "react-router";
 import { ServerRouter } from "react-router";
+import { NonceContext } from "./components/nonce";
 import { startBackgroundWork } from "./jobs/runner.server";
 
-// The server entry (React Router's default, revealed) plus one addition: this instance's background work
-// (allocation solves, the retention schedule) starts here, once per server process.
+// The server entry (React Router's default, revealed) plus two additions: this instance's background work
+// (allocation solves, the retention schedule) starts here, once per server process; and the document's inline
+// scripts carry the Content-Security-Policy nonce that scripts/serve.ts put in the load context.
 startBackgroundWork();
 
 export const streamTimeout = 5_000;
@@ -18,7 +20,7 @@ export default function handleRequest(
   responseStatusCode: number,
   responseHeaders: Headers,
   routerContext: EntryContext,
-  _loadContext: AppLoadContext,
+  loadContext: AppLoadContext,
 ) {
   // https://httpwg.org/specs/rfc9110.html#HEAD
   if (request.method.toUpperCase() === "HEAD") {
@@ -41,7 +43,14 @@ export default function handleRequest(
     // flush down the rejected boundaries
     let timeoutId: ReturnType<typeof setTimeout> | undefined = setTimeout(() => abort(), streamTimeout + 1000);
 
-    const { pipe, abort } = renderToPipeableStream(<ServerRouter context={routerContext} url={request.url} />, {
+    const nonce = loadContext?.cspNonce;
+    const app = (
+      <NonceContext value={nonce}>
+        <ServerRouter context={routerContext} url={request.url} nonce={nonce} />
+      </NonceContext>
+    );
+    const { pipe, abort } = renderToPipeableStream(app, {
+      nonce,
       [readyOption]() {
         shellRendered = true;
         const body = new PassThrough({

@@ -26,8 +26,18 @@ export interface Stack {
   stop: () => Promise<void>;
 }
 
+// The test suites sign in, present keys and upload many times from one address: their stacks get roomy limits
+// (tests of the limits start an app of their own with small ones).
+const TEST_LIMITS = {
+  LIMBERLY_LIMIT_SIGNIN_FAILURES: "100000/60",
+  LIMBERLY_LIMIT_API_KEY_FAILURES: "100000/60",
+  LIMBERLY_LIMIT_API_KEY_PREFIX_FAILURES: "100000/60",
+  LIMBERLY_LIMIT_UPLOADS: "100000/60",
+};
+
 export function stackEnv(o: StackOptions): NodeJS.ProcessEnv {
   return {
+    ...(o.mode === "test" ? TEST_LIMITS : {}),
     ...process.env,
     PORT: String(o.appPort),
     APP_URL: `http://localhost:${o.appPort}`,
@@ -76,7 +86,7 @@ export async function startApp(o: StackOptions, extraEnv: NodeJS.ProcessEnv = {}
         String(o.appPort),
         "--strictPort",
       ]
-    : [...watch, path.join(root, "node_modules/@react-router/serve/bin.js"), path.join(root, "build/server/index.js")];
+    : [...watch, "--import", "tsx", path.join(root, "scripts/serve.ts"), path.join(root, "build/server/index.js")];
   const child: ChildProcess = spawn(process.execPath, args, {
     cwd: root,
     env: o.dev ? env : { ...env, NODE_ENV: "production" },

@@ -47,8 +47,15 @@ export async function createApiKey(
   return { id: row.id as number, key: `lbk_${prefix}_${secret}` };
 }
 
+const KEY_FORMAT = /^lbk_([0-9a-f]{12})_([A-Za-z0-9_-]{20,})$/;
+
+/** The prefix of a presented key in the key format (the part that names the key), else null. */
+export function apiKeyPrefix(presented: string): string | null {
+  return KEY_FORMAT.exec(presented.trim())?.[1] ?? null;
+}
+
 export async function verifyApiKey(presented: string): Promise<ApiKeyRecord | null> {
-  const m = /^lbk_([0-9a-f]{12})_([A-Za-z0-9_-]{20,})$/.exec(presented.trim());
+  const m = KEY_FORMAT.exec(presented.trim());
   if (!m) return null;
   const row = await db()("api_keys").where({ prefix: m[1], awaiting_approval: false }).whereNull("revoked_at").first();
   if (!row) return null;

@@ -1,9 +1,10 @@
 import { data, redirect } from "react-router";
 import { appUrl } from "~/config.server";
-import { type ApiKeyRecord, verifyApiKey } from "./api-keys.server";
+import { type ApiKeyRecord, apiKeyPrefix, verifyApiKey } from "./api-keys.server";
 import { type Action, type Role, roleAllows } from "./permissions";
 import { type Scope, scopeFrom } from "./scope";
 import { getSession } from "./session.server";
+import { countApiKeyFailure, refuseBlockedApiKey } from "./throttle.server";
 import { type AppUser, findUserById } from "./users.server";
 
 // Every protected loader, action and API route goes through requireUser or requireApiAccess.
@@ -74,8 +75,13 @@ export async function authenticateApi(
 ): Promise<{ kind: "apiKey"; key: ApiKeyRecord } | { kind: "user"; user: AppUser }> {
   const auth = request.headers.get("Authorization");
   if (auth?.startsWith("Bearer ")) {
+    const prefix = apiKeyPrefix(auth.slice(7));
+    await refuseBlockedApiKey(request, prefix);
     const key = await verifyApiKey(auth.slice(7));
-    if (!key) throw Response.json({ error: "Invalid or revoked API key." }, { status: 401 });
+    if (!key) {
+      await countApiKeyFailure(request, prefix);
+      throw Response.json({ error: "Invalid or revoked API key." }, { status: 401 });
+    }
     return { kind: "apiKey", key };
   }
   const user = await currentUser(request);

@@ -1,6 +1,16 @@
 // The usual cautions shown wherever devices are planned or worn (docs/consent-and-disclosure.md). They defer to the
-// manufacturer, local occupational-safety rules and licensed practice.
-export function DeviceCautions({ compact = false }: { compact?: boolean }) {
+// manufacturer, local occupational-safety rules and licensed practice. The stop-and-report line is addressed
+// to the reader: a worker reports to their trainer, a trainer to the assessors, everyone else makes sure it is.
+type Reader = "worker" | "trainer" | "staff";
+const REPORT_TO: Record<Reader, string> = {
+  worker: "Stop at once on pain, numbness, tingling or skin damage, and report it to your trainer.",
+  trainer:
+    "Stop the session at once on pain, numbness, tingling or skin damage, and log it as an adverse event: the assessors are told and review it.",
+  staff:
+    "Training stops at once on pain, numbness, tingling or skin damage; the trainer logs it as an adverse event and the assessors review it.",
+};
+
+export function DeviceCautions({ compact = false, reader = "staff" }: { compact?: boolean; reader?: Reader }) {
   return (
     <aside
       aria-label="Device safety cautions"
@@ -10,7 +20,7 @@ export function DeviceCautions({ compact = false }: { compact?: boolean }) {
       <ul className={`mt-2 list-disc pl-5 ${compact ? "" : "grid gap-1"}`}>
         <li>Keep to the device's wear-time limit and take the planned breaks.</li>
         <li>Check skin under straps and contact points before and after each session; watch for fatigue.</li>
-        <li>Stop at once on pain, numbness, tingling or skin damage, and report it to your trainer.</li>
+        <li>{REPORT_TO[reader]}</li>
         <li>Fit is checked by a clinician before first use and after any change of size or settings.</li>
         <li>
           The manufacturer's instructions, local occupational-safety rules and licensed clinical practice take

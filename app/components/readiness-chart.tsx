@@ -1,6 +1,7 @@
 import { CartesianGrid, Legend, Line, LineChart, Tooltip, XAxis, YAxis } from "recharts";
 import type { ReadinessBoard } from "~/models/readiness.server";
 import { ChartFrame } from "./chart-frame";
+import { GroupingNote } from "./grouping-note";
 import { ProtectedTableView } from "./protected-table";
 
 // Cumulative "planned ready" by week, drawn only from running totals that follow exactly from the
@@ -113,6 +114,7 @@ export function ReadinessBoardView({ board, level }: { board: ReadinessBoard; le
           <h2 id={`stage-${level}`} className="text-lg font-semibold">
             People by readiness stage
           </h2>
+          {board.stage.status === "ok" && <GroupingNote grouping={board.stage.grouping} />}
           {board.stage.status === "ok" ? (
             pick(board.stage) ? (
               <ProtectedTableView
@@ -138,6 +140,7 @@ export function ReadinessBoardView({ board, level }: { board: ReadinessBoard; le
             People who have met the proficiency criterion on each device type. One person can be ready on several types,
             so the totals count person-device pairs.
           </p>
+          {board.ready.status === "ok" && <GroupingNote grouping={board.ready.grouping} />}
           {board.ready.status === "ok" ? (
             pick(board.ready) ? (
               <ProtectedTableView

@@ -5,7 +5,7 @@
 // Rules kept for every session: inside one of the trainer's working windows on that date (leave days have no
 // windows), no overlap for the trainer, no overlap on a unit, the unit not in a maintenance window that date,
 // each unit's weekly booked minutes within its bookable hours, each trainer's weekly minutes within their hours,
-// a session no longer than the device's wear-time limit (and never over two hours), at most one session per worker per day, none on the
+// a session no longer than the device's wear-time limit or the worker's own stricter one (and never over two hours), at most one session per worker per day, none on the
 // worker's leave days, a worker's weekly minutes within their max hours per week. Hours that do not fit in their
 // week move to the next week (the completion may then slip); what cannot be placed by the end is reported.
 import type { AllocationAssignment } from "./allocation";
@@ -46,6 +46,8 @@ export interface CalendarWorker {
   site: string;
   maxHoursPerWeek: number;
   unavailableDates: string[];
+  /** Stricter wear-time limits for this worker, minutes per session by device id (set by an assessor). */
+  wearTimeLimits?: Record<string, number>;
 }
 export interface PlanCalendar {
   startDate: string;
@@ -194,7 +196,8 @@ function packWith(
     const blocks: { workerId: string; deviceId: string; trainerId: string; minutes: number; fromWeek: number }[] = [];
     const pushBlocks = (workerId: string, deviceId: string, trainerId: string, total: number, fromWeek: number) => {
       const dev = devices.get(deviceId);
-      const limit = Math.min(dev?.wearTimeLimitMinutes ?? MAX_SESSION_MINUTES, MAX_SESSION_MINUTES);
+      const own = workers.get(workerId)?.wearTimeLimits?.[deviceId] ?? MAX_SESSION_MINUTES;
+      const limit = Math.min(dev?.wearTimeLimitMinutes ?? MAX_SESSION_MINUTES, own, MAX_SESSION_MINUTES);
       for (const m of splitMinutes(total, limit)) blocks.push({ workerId, deviceId, trainerId, minutes: m, fromWeek });
     };
     for (const c of carried) pushBlocks(c.workerId, c.deviceId, c.trainerId, c.minutes, c.fromWeek);

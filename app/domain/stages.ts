@@ -22,3 +22,24 @@ export const STAGE_LABELS: Record<Stage, string> = {
   paused: "Paused",
   withdrawn: "Withdrawn",
 };
+
+/** Coarser stage bands, for tables where single stages would have to be hidden too often. */
+export const STAGE_BANDS = ["notStarted", "inTraining", "ready", "pausedOrStopped"] as const;
+export type StageBand = (typeof STAGE_BANDS)[number];
+export const STAGE_BAND_LABELS: Record<StageBand, string> = {
+  notStarted: "Not started",
+  inTraining: "In training",
+  ready: "Ready",
+  pausedOrStopped: "Paused or stopped",
+};
+export const STAGE_BAND_OF: Record<Stage, StageBand> = {
+  invited: "notStarted",
+  consented: "notStarted",
+  baselined: "notStarted",
+  forecast: "notStarted",
+  planned: "inTraining",
+  training: "inTraining",
+  proficient: "ready",
+  paused: "pausedOrStopped",
+  withdrawn: "pausedOrStopped",
+};

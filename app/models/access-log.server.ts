@@ -1,5 +1,6 @@
 import type { Principal } from "~/auth/guard.server";
 import { type Db, db } from "~/db.server";
+import { clientAddress } from "~/http/client.server";
 import type { TableQuery } from "~/schemas/table-query";
 import { paged } from "./paging.server";
 
@@ -26,7 +27,7 @@ export async function recordAccess(
   if (ids.length === 0) return;
   const url = new URL(request.url);
   const at = new Date().toISOString();
-  const ip = request.headers.get("x-forwarded-for")?.split(",")[0]?.trim() ?? null;
+  const ip = clientAddress(request);
   const rows = ids.map((workerId) => ({
     at,
     worker_id: workerId,

@@ -1,6 +1,7 @@
 import { appUrl } from "~/config.server";
 import { type Db, db } from "~/db.server";
 import { sendMail } from "~/mail.server";
+import { reviewPath } from "~/schemas/course-review";
 import { ADVERSE_LABELS, type AdverseEventInput } from "~/schemas/session-log";
 import { setStage } from "./consent.server";
 
@@ -100,7 +101,7 @@ export async function notifyAssessorsOfSevereEvents(input: {
       ...lines,
       "",
       "The worker's training on this device is paused. Please review fit, settings and the worker's condition before training resumes.",
-      `Progress and sessions: ${appUrl}/progress/${input.workerId}/${input.deviceTypeId}`,
+      `Review the events and the session log, and decide: ${appUrl}${reviewPath(input.workerId, input.deviceTypeId)}`,
       "",
       "Stop on pain or numbness; the manufacturer's instructions, local occupational-safety rules and licensed practice prevail.",
     ].join("\n"),

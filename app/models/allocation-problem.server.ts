@@ -7,7 +7,9 @@ import type { CalendarUnit, PlanCalendar } from "~/compute/session-packing";
 import { hhmmOfWallClock, startOfDay, wallClock } from "~/dates";
 import { type Db, db, type Row } from "~/db.server";
 import type { RunParameters } from "~/schemas/allocation";
+import { noForecastText } from "~/schemas/forecast";
 import { latestConsent } from "./consent.server";
+import { type ApprovedModel, baselineZScores, loadApprovedModel } from "./forecast.server";
 import { whereWorkerInScope, workersWithPlace } from "./workers.server";
 
 // Builds the solver input (docs/methods.md) for a run from the database: the pool, device-type capacity per week
@@ -223,7 +225,7 @@ export async function buildProblem(params: RunParameters, scope: Scope, k: Db = 
     courses.push(
       ...(await k("device_courses")
         .whereIn("worker_id", chunk)
-        .select("worker_id", "device_type_id", "status")
+        .select("worker_id", "device_type_id", "status", "wear_time_limit_minutes")
         .orderBy(["worker_id", "device_type_id", "id"])),
     );
     fields.push(
@@ -251,7 +253,13 @@ export async function buildProblem(params: RunParameters, scope: Scope, k: Db = 
         .orderBy(["worker_id", "starts_on", "id"])),
     );
   }
+  const models: { model: ApprovedModel; deviceType: string }[] = [];
+  for (const d of deviceTypes) {
+    const m = await loadApprovedModel(k, d.id);
+    if (m) models.push({ model: m, deviceType: d.name as string });
+  }
   const excluded: ProblemSnapshot["excluded"] = [];
+  const lacking: ProblemSnapshot["excluded"] = [];
   const commitments: (Commitment & { hoursScheduledBefore: number })[] = [];
   const problemWorkers: AllocationProblem["workers"] = [];
   const calendarWorkers: PlanCalendar["workers"] = [];
@@ -281,10 +289,20 @@ export async function buildProblem(params: RunParameters, scope: Scope, k: Db = 
         f.worker_id === w.id &&
         (inTraining
           ? f.device_type_id === inTraining.device_type_id
-          : !mineCourses.some((c) => c.device_type_id === f.device_type_id && c.status === "proficient")),
+          : !mineCourses.some(
+              (c) => c.device_type_id === f.device_type_id && (c.status === "proficient" || c.status === "stopped"),
+            )),
     );
     if (mine.length === 0) {
-      excluded.push({ workerId: w.id, name, reason: "No forecast from an approved model yet." });
+      // Consent is given here, so the reason is the model, a stopped course or the baseline (named below).
+      const stopped = mineCourses.some((c) => c.status === "stopped");
+      const entry = {
+        workerId: w.id,
+        name,
+        reason: noForecastText(models.length === 0 ? "no_model" : stopped ? "stopped" : "missing_measures"),
+      };
+      excluded.push(entry);
+      if (models.length && !stopped) lacking.push(entry);
       continue;
     }
     const f = fields.find((x) => x.worker_id === w.id);
@@ -346,6 +364,15 @@ export async function buildProblem(params: RunParameters, scope: Scope, k: Db = 
         maxHoursPerWeek,
         ...(availableWeeks.length < weeks ? { availableWeeks } : {}),
       });
+    // A stricter wear-time limit an assessor set for this worker on a device type (on resuming a paused course).
+    const wearTimeLimits = Object.fromEntries(
+      mineCourses
+        .filter((c) => c.wear_time_limit_minutes != null)
+        .flatMap((c) => {
+          const dt = deviceTypes.find((d) => d.id === c.device_type_id);
+          return dt ? [[deviceId(dt.name, site), Number(c.wear_time_limit_minutes)]] : [];
+        }),
+    );
     calendarWorkers.push({
       id: wid,
       workerId: w.id,
@@ -356,11 +383,34 @@ export async function buildProblem(params: RunParameters, scope: Scope, k: Db = 
       site,
       maxHoursPerWeek,
       unavailableDates: leaveDates,
+      ...(Object.keys(wearTimeLimits).length ? { wearTimeLimits } : {}),
     });
+  }
+  // Name the measures each approved model still needs from the workers left out for their baseline.
+  const zs: Map<number, Map<number, number>>[] = [];
+  for (const m of models)
+    zs.push(
+      await baselineZScores(
+        k,
+        lacking.map((e) => e.workerId),
+        m.model.measureIds,
+      ),
+    );
+  for (const e of lacking) {
+    const missing = models.flatMap((m, i) => {
+      const z = zs[i].get(e.workerId);
+      const labels = m.model.measureIds.flatMap((id, j) => (z?.has(id) ? [] : [m.model.measures[j].label]));
+      return labels.length ? [`${labels.join(", ")} (${m.deviceType} model)`] : [];
+    });
+    e.reason = noForecastText("missing_measures", missing);
   }
   notes.push(
     `Hours needed = the forecast's ${Math.round(params.planningQuantile * 100)}th percentile of total hours (from the approved model version), less hours already logged.`,
   );
+  if (calendarWorkers.some((w) => w.wearTimeLimits))
+    notes.push(
+      "Session length = at most the device type's wear-time limit, or the lower limit an assessor set for a worker on resuming a paused course.",
+    );
   notes.push(
     "Max hours per week = the coordinator's setting for the worker, else the strictest default among the device types that fit them. A week with leave on a working day is not available.",
   );

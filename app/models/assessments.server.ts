@@ -7,12 +7,14 @@ import { type Db, db } from "~/db.server";
 import { UserError } from "~/errors";
 import { MAX_TRACE_ROWS } from "~/schemas/assessment";
 import { assertConsent, setStage } from "./consent.server";
+import { refreshForecastsForWorker, type WorkerForecastRefresh } from "./forecast.server";
 import { listMeasures, type Measure } from "./measures.server";
 import { defaultNorms, normsOf } from "./norms.server";
 import { whereWorkerInScope, workersWithPlace } from "./workers.server";
 
 // Assessment sessions, manual results and trace uploads. Every write checks
 // `assessment` consent inside its own transaction, whatever the caller (docs/consent-and-disclosure.md).
+// Saving or re-scoring baseline results recomputes the worker's forecasts in the same transaction.
 
 export interface StaffWorker {
   id: number;
@@ -227,7 +229,7 @@ export async function saveManualResults(input: {
     });
     await upsertResults(trx, input.sessionId, rows);
     await markBaselined(trx, input.workerId, input.userId);
-    return rows.length;
+    return { count: rows.length, forecasts: await refreshForecastsForWorker(trx, input.workerId, input.userId) };
   });
 }
 
@@ -259,6 +261,7 @@ export function csvCells(
 export type TraceSaveResult =
   | {
       ok: true;
+      forecasts: WorkerForecastRefresh[];
       uploadId: number;
       kind: TraceKind;
       computed: Record<string, number>;
@@ -341,8 +344,10 @@ export async function saveTrace(input: {
       measures.map((m) => ({ measure: m, value: computed[m.code], traceUploadId: u.id })),
     );
     if (measures.length) await markBaselined(trx, input.workerId, input.userId);
+    const forecasts = measures.length ? await refreshForecastsForWorker(trx, input.workerId, input.userId) : [];
     return {
       ok: true as const,
+      forecasts,
       uploadId: u.id,
       kind: input.kind,
       computed,
@@ -356,7 +361,12 @@ export async function saveTrace(input: {
 }
 
 /** Re-scores a session against one norm set (or the default per measure when null). */
-export async function rescoreSession(input: { workerId: number; sessionId: number; normSetId: number | null }) {
+export async function rescoreSession(input: {
+  workerId: number;
+  sessionId: number;
+  normSetId: number | null;
+  userId: number | null;
+}) {
   return db().transaction(async (trx) => {
     await assertConsent(input.workerId, "assessment", trx);
     await sessionOf(trx, input.workerId, input.sessionId);
@@ -371,6 +381,10 @@ export async function rescoreSession(input: { workerId: number; sessionId: numbe
       if (s.norm_set_id) scored++;
       await trx("assessment_results").where({ id: r.id }).update(s);
     }
-    return { scored, total: rows.length };
+    return {
+      scored,
+      total: rows.length,
+      forecasts: await refreshForecastsForWorker(trx, input.workerId, input.userId),
+    };
   });
 }

@@ -8,7 +8,13 @@ import { forecastFromModel, type StoredModel } from "~/compute/forecast-explain"
 import { type ProgressUpdate, progressUpdate } from "~/compute/progress-update";
 import { type Db, db, type Row, type TableRow } from "~/db.server";
 import { notFound } from "~/errors";
-import { type DeviceForecast, type WorkerForecast, workerForecastSchema } from "~/schemas/forecast";
+import {
+  type DeviceForecast,
+  type NoForecastReason,
+  noForecastText,
+  type WorkerForecast,
+  workerForecastSchema,
+} from "~/schemas/forecast";
 import type { TableQuery } from "~/schemas/table-query";
 import { latestConsent } from "./consent.server";
 import { lockWorker } from "./locks.server";
@@ -166,7 +172,8 @@ export async function loggedSessions(k: Db, workerId: number, deviceTypeId: numb
 
 export type UpsertResult =
   | { status: "ready"; progress: ProgressUpdate | null; medianHours: number }
-  | { status: "no_consent" | "no_model" | "missing_measures" };
+  | { status: "no_consent" | "no_model" | "stopped" }
+  | { status: "missing_measures"; missingMeasures: string[] };
 
 /**
  * Compute and store one worker's forecast on one device type from the approved version, including the
@@ -192,6 +199,10 @@ export async function upsertForecast(
     return { status: "no_model" };
   }
   const course = await k("device_courses").where({ worker_id: workerId, device_type_id: deviceTypeId }).first();
+  if (course?.status === "stopped") {
+    await drop();
+    return { status: "stopped" };
+  }
   const cutoff = course?.started_on ? course.started_on : null;
   const z = (await baselineZScores(k, [workerId], model.measureIds, new Map([[workerId, cutoff]]), model.norms)).get(
     workerId,
@@ -199,7 +210,7 @@ export async function upsertForecast(
   const values = model.measureIds.map((m) => z?.get(m));
   if (values.some((v) => v === undefined)) {
     await drop();
-    return { status: "missing_measures" };
+    return { status: "missing_measures", missingMeasures: missingOf(model, z) };
   }
   const quantile = ctx.quantile ?? (await planningQuantile(k));
   const numbers = forecastFromModel(model.model, model.measures, values as number[], {
@@ -340,8 +351,70 @@ export async function refreshForecastsForDeviceType(
   return n;
 }
 
-export async function refreshForecastsForWorker(k: Db, workerId: number, actor: number | null): Promise<void> {
-  for (const d of await k("device_types").select("id")) await upsertForecast(k, workerId, d.id, { actor });
+export interface WorkerForecastRefresh {
+  deviceTypeId: number;
+  deviceType: string;
+  result: UpsertResult;
+}
+
+/**
+ * Recompute one worker's forecast on every device type (on planning consent, on saving or re-scoring a
+ * baseline), inside the caller's transaction; says per device type what came of it.
+ */
+export async function refreshForecastsForWorker(
+  k: Db,
+  workerId: number,
+  actor: number | null,
+): Promise<WorkerForecastRefresh[]> {
+  const out: WorkerForecastRefresh[] = [];
+  for (const d of await k("device_types").select("id", "name").orderBy("id"))
+    out.push({ deviceTypeId: d.id, deviceType: d.name, result: await upsertForecast(k, workerId, d.id, { actor }) });
+  return out;
+}
+
+/** One line per device type for the notice after a baseline is saved: the forecast made, or the true reason for none. */
+export function refreshSummary(r: WorkerForecastRefresh[]): string {
+  if (r.length && r.every((x) => x.result.status === "no_consent")) return noForecastText("no_consent");
+  return r
+    .map((x) =>
+      x.result.status === "ready"
+        ? `${x.deviceType}: forecast median ${x.result.medianHours.toFixed(1)} h.`
+        : `${x.deviceType}: ${noForecastText(x.result.status, "missingMeasures" in x.result ? x.result.missingMeasures : [])}`,
+    )
+    .join(" ");
+}
+
+/** The sentence for a gap found by forecastGap. */
+export const gapText = (g: { reason: NoForecastReason; missingMeasures: string[] } | null) =>
+  noForecastText(g?.reason ?? "not_computed", g?.missingMeasures ?? []);
+
+const missingOf = (model: ApprovedModel, z: Map<number, number> | undefined) =>
+  model.measureIds.flatMap((m, i) => (z?.has(m) ? [] : [model.measures[i].label]));
+
+/**
+ * Why a worker has no stored forecast on a device type (null: nothing stops one; it has been computed or will
+ * be on the next save). The same checks, in the same order, as upsertForecast.
+ */
+export async function forecastGap(
+  k: Db,
+  workerId: number,
+  deviceTypeId: number,
+  cached?: { model?: ApprovedModel | null; planningConsent?: boolean },
+): Promise<{ reason: NoForecastReason; missingMeasures: string[] } | null> {
+  const consent = cached?.planningConsent ?? (await latestConsent(k, [workerId], "planning")).get(workerId) === "given";
+  if (!consent) return { reason: "no_consent", missingMeasures: [] };
+  const model = cached && "model" in cached ? (cached.model ?? null) : await loadApprovedModel(k, deviceTypeId);
+  if (!model) return { reason: "no_model", missingMeasures: [] };
+  const course = await k("device_courses").where({ worker_id: workerId, device_type_id: deviceTypeId }).first();
+  if (course?.status === "stopped") return { reason: "stopped", missingMeasures: [] };
+  const cutoff = course?.started_on ? (course.started_on as string) : null;
+  const z = (await baselineZScores(k, [workerId], model.measureIds, new Map([[workerId, cutoff]]), model.norms)).get(
+    workerId,
+  );
+  const missing = missingOf(model, z);
+  if (missing.length) return { reason: "missing_measures", missingMeasures: missing };
+  if (course?.status === "paused") return { reason: "paused", missingMeasures: [] };
+  return null;
 }
 
 /**
@@ -425,19 +498,15 @@ export async function workerForecastView(p: Principal, workerId: number, k: Db =
         .where({ worker_id: workerId, device_type_id: d.id })
         .whereNull("resolved_at")
         .select("kind", "reason", "raised_at");
-      let missingMeasures: string[] = [];
-      if (model && !f) {
-        const z = (await baselineZScores(k, [workerId], model.measureIds, undefined, model.norms)).get(workerId);
-        missingMeasures = model.measureIds.flatMap((m, i) => (z?.has(m) ? [] : [model.measures[i].label]));
-      }
+      const gap = f ? null : await forecastGap(k, workerId, d.id, { model, planningConsent });
       const usedModel =
         f && model && f.model_version_id === model.id ? model : f ? await modelById(k, f.model_version_id) : model;
       const progressJson = f?.progress ? JSON.parse(f.progress) : null;
       const explanation = f && view === "clinical" ? JSON.parse(f.explanation) : null;
       forecasts.push({
         deviceType: { id: d.id, code: d.code, name: d.name },
-        status: f ? "ready" : model ? "missing_measures" : "no_model",
-        missingMeasures,
+        status: f ? "ready" : (gap?.reason ?? "not_computed"),
+        missingMeasures: gap?.missingMeasures ?? [],
         modelVersion: usedModel
           ? {
               id: usedModel.id,

@@ -6,7 +6,16 @@ import { type Db, db, type TableRow } from "~/db.server";
 import type { Stage } from "~/domain/stages";
 import { conflict } from "~/errors";
 import { latestConsent } from "./consent.server";
-import { loggedSessions, recordOutcome, type UpsertResult, upsertForecast, workerInScope } from "./forecast.server";
+import { courseReviewStatus, effectiveWearLimit } from "./course-reviews.server";
+import {
+  forecastGap,
+  gapText,
+  loggedSessions,
+  recordOutcome,
+  type UpsertResult,
+  upsertForecast,
+  workerInScope,
+} from "./forecast.server";
 import { getCriterion } from "./proficiency.server";
 import { whereWorkerInScope } from "./workers.server";
 
@@ -35,6 +44,8 @@ export interface LogSessionResult {
   proficient: boolean;
   proficientOn: string | null;
   forecast: UpsertResult;
+  /** The session ran over the worker's wear-time limit (saved all the same, with a safety finding). */
+  wearTimeBreach: { minutes: number; limitMinutes: number } | null;
 }
 
 export async function logSessionResult(input: LogSessionInput, k?: Db): Promise<LogSessionResult> {
@@ -50,12 +61,6 @@ export async function logSessionResult(input: LogSessionInput, k?: Db): Promise<
     if (worker.stage === "withdrawn") throw conflict("This worker has withdrawn; sessions can no longer be logged.");
     const device = await trx("device_types").where({ id: input.deviceTypeId }).first("id", "wear_time_limit_minutes");
     if (!device) throw conflict("That device type does not exist.");
-    if (input.durationHours * 60 > Number(device.wear_time_limit_minutes) + 1e-9) {
-      throw conflict(
-        `Practice time exceeds this device's wear-time limit of ${device.wear_time_limit_minutes} minutes per session; log separate sessions with breaks.`,
-        "durationHours",
-      );
-    }
     let course = await trx("device_courses")
       .where({ worker_id: input.workerId, device_type_id: input.deviceTypeId })
       .first();
@@ -68,6 +73,11 @@ export async function logSessionResult(input: LogSessionInput, k?: Db): Promise<
       throw conflict(
         `This course is paused${course.pause_reason ? ` (${course.pause_reason})` : ""}; resume it before logging sessions.`,
       );
+    // A session longer than the wear-time limit still happened: it is saved (with any adverse event) and the
+    // breach is kept as a safety finding for the assessors, never a reason to refuse the log.
+    const limit = effectiveWearLimit(Number(device.wear_time_limit_minutes), course?.wear_time_limit_minutes);
+    const minutes = Math.round(input.durationHours * 60 * 10) / 10;
+    const wearTimeBreach = minutes > limit + 1e-9 ? { minutes, limitMinutes: limit } : null;
     if (!course) {
       const [c] = await trx("device_courses")
         .insert({
@@ -113,6 +123,16 @@ export async function logSessionResult(input: LogSessionInput, k?: Db): Promise<
         .returning("id");
       sessionId = s.id;
     }
+    if (wearTimeBreach)
+      await trx("safety_findings").insert({
+        worker_id: input.workerId,
+        device_type_id: input.deviceTypeId,
+        session_id: sessionId,
+        kind: "wear_time_breach",
+        detail: `Session of ${minutes} minutes, over the wear-time limit of ${limit} minutes${course.wear_time_limit_minutes != null && Number(course.wear_time_limit_minutes) === limit ? " set for this worker" : " of this device type"}.`,
+        recorded_by: input.loggedBy,
+        raised_at: at,
+      });
     await trx("device_courses")
       .where({ id: course.id })
       .update({
@@ -156,7 +176,7 @@ export async function logSessionResult(input: LogSessionInput, k?: Db): Promise<
       }
     }
     const forecast = await upsertForecast(trx, input.workerId, input.deviceTypeId, { actor: input.loggedBy, now: at });
-    return { sessionId, cumulativeHours, proficient, proficientOn: proficient ? day : null, forecast };
+    return { sessionId, cumulativeHours, proficient, proficientOn: proficient ? day : null, forecast, wearTimeBreach };
   };
   return k ? run(k) : db().transaction(run);
 }
@@ -228,6 +248,10 @@ export interface ProgressView {
   } | null;
   curvePoints: { hours: number; score: number }[];
   reviewFlags: { kind: string; reason: string; raisedAt: string }[];
+  /** Why there is no forecast (null when there is one). */
+  noForecast: string | null;
+  /** The latest assessor decision on a pause of this course (status only, no clinical note). */
+  review: Awaited<ReturnType<typeof courseReviewStatus>>;
   showNotes: boolean;
 }
 
@@ -266,7 +290,12 @@ export async function progressView(
   const showNotes = can(p, "progress.notes");
   return {
     worker: { id: worker.id, employeeNumber: worker.employeeNumber, name: worker.name, stage: worker.stage },
-    deviceType: { id: d.id, code: d.code, name: d.name, wearTimeLimitMinutes: d.wear_time_limit_minutes },
+    deviceType: {
+      id: d.id,
+      code: d.code,
+      name: d.name,
+      wearTimeLimitMinutes: effectiveWearLimit(Number(d.wear_time_limit_minutes), course?.wear_time_limit_minutes),
+    },
     criterion,
     planningConsent: (await latestConsent(k, [workerId], "planning")).get(workerId) === "given",
     course: course
@@ -307,6 +336,8 @@ export async function progressView(
       : null,
     curvePoints: pj?.curve?.converged ? curvePoints(pj.curve, toHours) : [],
     reviewFlags: flags.map((r) => ({ kind: r.kind, reason: r.reason, raisedAt: String(r.raised_at) })),
+    noForecast: f ? null : gapText(await forecastGap(k, workerId, deviceTypeId)),
+    review: await courseReviewStatus(workerId, deviceTypeId, k),
     showNotes,
   };
 }

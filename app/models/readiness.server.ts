@@ -1,12 +1,17 @@
 import type { Knex } from "knex";
 import type { Scope } from "~/auth/scope";
+import { effectiveThreshold, type ProtectedTable, protectMedian, protectTable } from "~/compute/disclosure";
 import {
-  effectiveThreshold,
-  type ProtectedTable,
-  protectLinkedTables,
-  protectMedian,
-  protectTable,
-} from "~/compute/disclosure";
+  chooseGrouping,
+  type GroupingCandidate,
+  hiddenShare,
+  type OverTimeResult,
+  type PublishedPair,
+  protectOverTime,
+  type StoredPublication,
+  sameCounts,
+  type TableCounts,
+} from "~/compute/disclosure-history";
 import {
   columnSlice,
   cumulativeFromProtected,
@@ -21,7 +26,7 @@ import {
 } from "~/compute/readiness-views";
 import { round1 } from "~/compute/rounding";
 import { type Db, db } from "~/db.server";
-import { STAGE_LABELS, STAGES } from "~/domain/stages";
+import { STAGE_BAND_LABELS, STAGE_BAND_OF, STAGE_BANDS, STAGE_LABELS, STAGES } from "~/domain/stages";
 import { type Grouping, type OrganisationSettings, parseStoredGroupings } from "~/schemas/readiness";
 import { whereWorkerInScope } from "./workers.server";
 
@@ -33,6 +38,29 @@ import { whereWorkerInScope } from "./workers.server";
 export interface LinkedViews {
   department: ProtectedTable | null;
   site: ProtectedTable | null;
+  /** Which grouping the figures use and why, and which stored publication they come from. */
+  grouping: GroupingUsed;
+}
+
+export interface GroupingUsed {
+  key: string;
+  label: string;
+  /** Set when the board chose a coarser grouping, or when even the chosen one hides a lot. */
+  reason: string | null;
+  /** Share of the organisation's cells hidden in this grouping. */
+  hiddenShare: number;
+  publicationId: number;
+  /** E.g. why this publication is not linked to the previous one. */
+  note: string | null;
+}
+
+/** Who received a publication (recorded so the over-time guarantee can be stated per viewer). */
+export type BoardViewer = { kind: "user" | "apiKey"; id: number };
+
+export function boardViewer(
+  p: { kind: "user"; user: { id: number } } | { kind: "apiKey"; key: { id: number } },
+): BoardViewer {
+  return p.kind === "user" ? { kind: "user", id: p.user.id } : { kind: "apiKey", id: p.key.id };
 }
 
 export type Panel<T> = { status: "off" } | { status: "empty"; reason: string } | ({ status: "ok" } & T);
@@ -63,12 +91,17 @@ export interface ReadinessBoard {
 
 // ── organisation settings ────────────────────────────────────────────────────────────────────────
 
-export async function organisationSettings(
-  conn: Db = db(),
-): Promise<{ id: number; name: string; threshold: number; storedThreshold: number; groupings: Grouping[] }> {
+export async function organisationSettings(conn: Db = db()): Promise<{
+  id: number;
+  name: string;
+  threshold: number;
+  storedThreshold: number;
+  groupings: Grouping[];
+  maxHiddenShare: number;
+}> {
   const org = await conn("organisations")
     .orderBy("id")
-    .first("id", "name", "disclosure_threshold", "manager_groupings");
+    .first("id", "name", "disclosure_threshold", "manager_groupings", "max_hidden_share");
   if (!org) throw new Error("No organisation is set up.");
   return {
     id: org.id,
@@ -76,8 +109,12 @@ export async function organisationSettings(
     storedThreshold: Number(org.disclosure_threshold),
     threshold: effectiveThreshold(Number(org.disclosure_threshold)),
     groupings: parseStoredGroupings(org.manager_groupings),
+    maxHiddenShare: Number(org.max_hidden_share ?? DEFAULT_MAX_HIDDEN_SHARE),
   };
 }
+
+/** Share of a table protection may hide before the board switches to a coarser grouping. */
+export const DEFAULT_MAX_HIDDEN_SHARE = 0.25;
 
 export async function updateOrganisationSettings(v: OrganisationSettings): Promise<void> {
   await db().transaction(async (trx) => {
@@ -136,27 +173,160 @@ function scopeLabelOf(g: Groups): string {
     .join("; ");
 }
 
-/**
- * Protects department × column counts of the WHOLE organisation, departments linked to their sites
- * (no department can be differenced out of its site), then cuts out the viewer's rows.
- */
-export function protectForViewer(
-  g: Groups,
-  columns: string[],
-  counts: number[][],
-  groupings: Grouping[],
-  threshold: number,
-): LinkedViews {
-  const linked = protectLinkedTables({
-    detail: { rows: g.org.departments.map((d) => d.label), columns, counts },
-    parentOf: g.org.departments.map((d) => d.siteKey),
-    threshold,
-  });
-  const pub = { ...linked, parent: { ...linked.parent, rows: g.org.sites.map((s) => s.label) } };
+/** The viewer's department and site rows of one organisation-wide publication. */
+export function sliceForViewer(g: Groups, pair: PublishedPair, groupings: Grouping[]): Omit<LinkedViews, "grouping"> {
+  const labelOf = new Map(g.org.sites.map((x) => [x.key, x.label]));
+  const pub = {
+    detail: pair.detail,
+    parent: { ...pair.parent, rows: pair.parent.rows.map((k) => labelOf.get(k) ?? k) },
+    threshold: pair.detail.threshold,
+  };
   return {
     department: groupings.includes("department") ? departmentSlice(g.org, pub, g.viewer) : null,
     site: groupings.includes("site") ? siteSlice(g.org, pub, g.viewer) : null,
   };
+}
+
+// ── publications over time ───────────────────────────────────────────────────────────────────────
+
+interface Candidate {
+  key: string;
+  label: string;
+  counts: TableCounts;
+}
+
+function parseStored(row: {
+  id: number;
+  grouping: string;
+  counts: string;
+  published: string;
+  note: string | null;
+}): StoredPublication {
+  return {
+    id: Number(row.id),
+    grouping: row.grouping,
+    counts: JSON.parse(row.counts),
+    published: JSON.parse(row.published),
+    note: row.note ?? null,
+  };
+}
+
+async function latestPublication(tableKey: string, grouping?: string): Promise<StoredPublication | null> {
+  const q = db()("readiness_publications").where({ table_key: tableKey });
+  if (grouping) q.where({ grouping });
+  const row = await q.orderBy("id", "desc").first("id", "grouping", "counts", "published", "note");
+  return row ? parseStored(row) : null;
+}
+
+/**
+ * The organisation-wide publication of one table: per candidate grouping (fine to coarse) the stored
+ * publication when its counts are unchanged, otherwise a new one protected against the latest earlier
+ * publication in that grouping; the finest within the organisation's hidden share is used (stored, and
+ * the viewer's receipt recorded). Withheld when no grouping can be published safely.
+ */
+async function publishTable(
+  tableKey: string,
+  candidates: Candidate[],
+  maxShare: number,
+  viewer: BoardViewer | undefined,
+): Promise<{ status: "ok"; pair: PublishedPair; grouping: GroupingUsed } | { status: "empty"; reason: string }> {
+  const latest = await latestPublication(tableKey);
+  const results: { c: Candidate; prev: StoredPublication | null; r: OverTimeResult; reused: boolean }[] = [];
+  for (const c of candidates) {
+    const prev = latest?.grouping === c.key ? latest : await latestPublication(tableKey, c.key);
+    const reused = prev !== null && sameCounts(prev.counts, c.counts);
+    const r: OverTimeResult =
+      reused && prev
+        ? { status: "ok", published: prev.published, linkedTo: prev.id, note: prev.note }
+        : protectOverTime(c.counts, prev);
+    results.push({ c, prev, r, reused });
+    // The finest grouping within the share is the one used: nothing coarser needs computing.
+    if (r.status === "ok" && hiddenShare(r.published.detail) <= maxShare) break;
+  }
+  const ok: GroupingCandidate<(typeof results)[number] & { r: { status: "ok" } }>[] = results.flatMap((x) =>
+    x.r.status === "ok"
+      ? [{ key: x.c.key, table: x as typeof x & { r: { status: "ok" } }, share: hiddenShare(x.r.published.detail) }]
+      : [],
+  );
+  if (ok.length === 0) {
+    const first = results.find((x) => x.r.status === "withheld")?.r;
+    return { status: "empty", reason: first && first.status === "withheld" ? first.reason : "Nothing can be shown." };
+  }
+  const { chosen, withinShare } = chooseGrouping(ok, maxShare);
+  const x = chosen.table;
+  const finest = candidates[0];
+  const pct = (v: number) => `${Math.round(v * 100)} %`;
+  const reasons: string[] = [];
+  if (x.c.key !== finest.key) {
+    const fine = results.find((y) => y.c.key === finest.key);
+    reasons.push(
+      fine?.r.status === "ok"
+        ? `${finest.label} would hide ${pct(hiddenShare(fine.r.published.detail))} of the cells (more than ${pct(maxShare)}), so the board shows ${x.c.label.toLowerCase()}.`
+        : `${finest.label} cannot be shown safely this time, so the board shows ${x.c.label.toLowerCase()}.`,
+    );
+  }
+  if (!withinShare) reasons.push(`Even so ${pct(chosen.share)} of the cells are hidden: the groups are small.`);
+  let id = x.prev?.id ?? 0;
+  let note = x.r.note;
+  if (!x.reused || latest?.id !== x.prev?.id) {
+    if (latest && latest.grouping !== x.c.key && !x.reused)
+      note =
+        note ??
+        "The grouping changed since the last publication; this one is linked to the last one in the same grouping only.";
+    if (!x.reused) {
+      const [row] = await db()("readiness_publications")
+        .insert({
+          table_key: tableKey,
+          grouping: x.c.key,
+          counts: JSON.stringify(x.c.counts),
+          published: JSON.stringify(x.r.published),
+          linked_to: x.r.linkedTo,
+          note,
+          created_at: new Date().toISOString(),
+        })
+        .returning("id");
+      id = Number(typeof row === "object" ? row.id : row);
+    }
+  }
+  if (viewer)
+    await db()("readiness_receipts")
+      .insert({
+        publication_id: id,
+        viewer_kind: viewer.kind,
+        viewer_id: viewer.id,
+        received_at: new Date().toISOString(),
+      })
+      .onConflict(["publication_id", "viewer_kind", "viewer_id"])
+      .ignore();
+  return {
+    status: "ok",
+    pair: x.r.published,
+    grouping: {
+      key: x.c.key,
+      label: x.c.label,
+      reason: reasons.join(" ") || null,
+      hiddenShare: chosen.share,
+      publicationId: id,
+      note,
+    },
+  };
+}
+
+function tableCounts(g: Groups, columns: string[], counts: number[][], threshold: number): TableCounts {
+  return {
+    rows: g.org.departments.map((d) => d.label),
+    parentOf: g.org.departments.map((d) => d.siteKey),
+    columns,
+    counts,
+    threshold,
+  };
+}
+
+/** Stage counts summed into the coarser bands. */
+function bandCounts(counts: number[][]): number[][] {
+  return counts.map((line) =>
+    STAGE_BANDS.map((b) => line.reduce((s, v, j) => s + (STAGE_BAND_OF[STAGES[j]] === b ? v : 0), 0)),
+  );
 }
 
 // ── grouped counts (SQL) ─────────────────────────────────────────────────────────────────────────
@@ -360,7 +530,7 @@ function siteColumns(g: Groups, t: ProtectedTable): ProtectedTable {
 // ── the board ────────────────────────────────────────────────────────────────────────────────────
 
 /** Everything a manager's pages, export and API publish: protected figures only. */
-export async function readinessBoard(scope: Scope): Promise<ReadinessBoard> {
+export async function readinessBoard(scope: Scope, viewer?: BoardViewer): Promise<ReadinessBoard> {
   const [org, g, devices] = await Promise.all([organisationSettings(), readinessGroups(scope), deviceTypes()]);
   const { threshold, groupings } = org;
   const board: ReadinessBoard = {
@@ -381,31 +551,51 @@ export async function readinessBoard(scope: Scope): Promise<ReadinessBoard> {
     };
     return { ...board, stage: empty, ready: empty, planned: empty, medians: empty };
   }
+  const show = async (tableKey: string, candidates: Candidate[]): Promise<Panel<LinkedViews>> => {
+    const p = await publishTable(tableKey, candidates, org.maxHiddenShare, viewer);
+    if (p.status === "empty") return p;
+    return { status: "ok", ...sliceForViewer(g, p.pair, groupings), grouping: p.grouping };
+  };
   if (groupings.includes("stage")) {
-    board.stage = {
-      status: "ok",
-      ...protectForViewer(
-        g,
-        STAGES.map((s) => STAGE_LABELS[s]),
-        await stageCounts(g),
-        groupings,
-        threshold,
-      ),
-    };
+    const counts = await stageCounts(g);
+    board.stage = await show("stage", [
+      {
+        key: "stages",
+        label: "Single stages",
+        counts: tableCounts(
+          g,
+          STAGES.map((s) => STAGE_LABELS[s]),
+          counts,
+          threshold,
+        ),
+      },
+      {
+        key: "stageBands",
+        label: "Stage bands",
+        counts: tableCounts(
+          g,
+          STAGE_BANDS.map((b) => STAGE_BAND_LABELS[b]),
+          bandCounts(counts),
+          threshold,
+        ),
+      },
+    ]);
   }
   if (groupings.includes("deviceType")) {
     if (devices.length === 0) board.ready = { status: "empty", reason: "No device types are set up yet." };
     else
-      board.ready = {
-        status: "ok",
-        ...protectForViewer(
-          g,
-          devices.map((d) => d.name),
-          await readyCounts(g, devices),
-          groupings,
-          threshold,
-        ),
-      };
+      board.ready = await show("ready", [
+        {
+          key: "deviceTypes",
+          label: "Device types",
+          counts: tableCounts(
+            g,
+            devices.map((d) => d.name),
+            await readyCounts(g, devices),
+            threshold,
+          ),
+        },
+      ]);
     const values = devices.length ? await forecastValues(scope, g) : new Map<string, number[]>();
     if (values.size === 0)
       board.medians = { status: "empty", reason: "No forecasts have been made for people in your departments yet." };

@@ -2,6 +2,7 @@ import type { Knex } from "knex";
 import type { Principal } from "~/auth/guard.server";
 import { appUrl } from "~/config.server";
 import { type Db, db, type Row } from "~/db.server";
+import { REVIEW_OWNER, REVIEW_QUEUE_PATH, type ReviewSubject, subjectsOwnedBy } from "~/domain/review-owners";
 import { conflict, notFound } from "~/errors";
 import { sendMail } from "~/mail.server";
 import type { ReviewRequestInput } from "~/schemas/portal";
@@ -9,37 +10,78 @@ import { REVIEW_SUBJECT_LABELS } from "~/schemas/portal";
 import { lockWorker } from "./locks.server";
 import { whereWorkerInScope } from "./workers.server";
 
-// Review requests (docs/consent-and-disclosure.md): a worker contests their forecast or plan; assessors whose scope covers
-// the worker answer in the app and the worker is e-mailed the answer.
+// Review requests (docs/consent-and-disclosure.md): a worker contests their forecast or plan. The owner of that
+// decision answers (a figure: the assessors; session timing: the coordinators, see domain/review-owners.ts):
+// those whose scope covers the worker are e-mailed that a request waits, and the worker is e-mailed the answer.
 
 export async function createReviewRequest(
   workerId: number,
   userId: number,
   input: ReviewRequestInput,
 ): Promise<number> {
-  return db().transaction(async (trx) => {
-    await lockWorker(trx, workerId); // the open-request cap is counted, then written
-    if (input.deviceTypeId != null && !(await trx("device_types").where({ id: input.deviceTypeId }).first("id"))) {
-      throw conflict("Device: choose one of your devices or leave it empty.", "deviceTypeId");
-    }
-    const open = await trx("review_requests")
-      .where({ worker_id: workerId, status: "open" })
-      .count<{ n: number }[]>({ n: "*" });
-    if (Number(open[0]?.n ?? 0) >= 5)
-      throw conflict("You already have 5 open requests; please wait for an answer first.");
-    const [row] = await trx("review_requests")
-      .insert({
-        worker_id: workerId,
-        subject: input.subject,
-        device_type_id: input.deviceTypeId ?? null,
-        message: input.message,
-        status: "open",
-        requested_by: userId,
-        created_at: new Date().toISOString(),
+  return db()
+    .transaction(async (trx) => {
+      await lockWorker(trx, workerId); // the open-request cap is counted, then written
+      if (input.deviceTypeId != null && !(await trx("device_types").where({ id: input.deviceTypeId }).first("id"))) {
+        throw conflict("Device: choose one of your devices or leave it empty.", "deviceTypeId");
+      }
+      const open = await trx("review_requests")
+        .where({ worker_id: workerId, status: "open" })
+        .count<{ n: number }[]>({ n: "*" });
+      if (Number(open[0]?.n ?? 0) >= 5)
+        throw conflict("You already have 5 open requests; please wait for an answer first.");
+      const [row] = await trx("review_requests")
+        .insert({
+          worker_id: workerId,
+          subject: input.subject,
+          device_type_id: input.deviceTypeId ?? null,
+          message: input.message,
+          status: "open",
+          requested_by: userId,
+          created_at: new Date().toISOString(),
+        })
+        .returning("id");
+      return row.id as number;
+    })
+    .then(async (id) => {
+      await notifyOwners(workerId, input.subject);
+      return id;
+    });
+}
+
+/** Active users holding the owning role with a scope that covers the worker (organisation, site or department). */
+async function ownersOf(workerId: number, subject: ReviewSubject, k: Db = db()): Promise<string[]> {
+  const w = await k("workers").where({ id: workerId }).first("site_id", "department_id");
+  if (!w) return [];
+  return k("users as u")
+    .join("role_assignments as a", "a.user_id", "u.id")
+    .where({ "u.active": true, "a.role": REVIEW_OWNER[subject] })
+    .where((q) => {
+      q.where((o) => {
+        o.whereNull("a.site_id").whereNull("a.department_id");
       })
-      .returning("id");
-    return row.id;
-  });
+        .orWhere("a.site_id", w.site_id)
+        .orWhere("a.department_id", w.department_id);
+    })
+    .distinct("u.email")
+    .orderBy("u.email")
+    .pluck("u.email");
+}
+
+/** Tells the owners a request waits; the message itself stays in the app (it may hold health details). */
+async function notifyOwners(workerId: number, subject: ReviewSubject): Promise<void> {
+  const about =
+    subject === "forecast" ? "their forecast (hours to proficiency)" : "their training plan (sessions and timing)";
+  for (const to of await ownersOf(workerId, subject))
+    await sendMail({
+      to,
+      subject: "A worker has asked for a review",
+      text: [
+        `A worker at one of your sites has asked a person to look at ${about}.`,
+        "",
+        `Read and answer it in Limberly: ${appUrl}${REVIEW_QUEUE_PATH[subject]}`,
+      ].join("\n"),
+    });
 }
 
 export interface ReviewRow {
@@ -111,6 +153,7 @@ export async function reviewQueue(
 ): Promise<ReviewRow[]> {
   const q = base(k);
   whereWorkerInScope(q as Knex.QueryBuilder, p.scope);
+  q.whereIn("r.subject", subjectsOwnedBy(p.roles));
   if (status !== "all") q.where("r.status", status);
   q.orderBy([
     { column: "r.status", order: "desc" },
@@ -140,7 +183,8 @@ export async function answerReview(
         "workers.given_name",
       );
     const r = await whereWorkerInScope(q as Knex.QueryBuilder, p.scope).first();
-    if (!r) throw notFound("This review request is not in your scope.");
+    if (!r || !subjectsOwnedBy(p.roles).includes(r.subject))
+      throw notFound("This review request is not in your scope.");
     if (r.status !== "open") throw conflict("This request has already been answered.");
     // Only an open request is answered: of two assessors answering at once, the second one's update finds
     // the row answered (PostgreSQL re-reads it after the first commits) and gets the same message.

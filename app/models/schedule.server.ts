@@ -1,6 +1,7 @@
 import type { Scope } from "~/auth/scope";
 import { dayOf, hhmmOfWallClock, type Instant, instantToWallClock, type WallClock, wallClock } from "~/dates";
 import { type Db, db, type Row } from "~/db.server";
+import { effectiveWearLimit } from "./course-reviews.server";
 import { whereWorkerInScope } from "./workers.server";
 
 // The schedule: the one reader of training sessions. Scheduled sessions are the published plan — written by
@@ -97,6 +98,7 @@ export async function scheduleSessions(filter: ScheduleFilter = {}, k: Db = db()
       "tu.display_name as trainer",
       "c.status as course_status",
       "c.pause_reason",
+      "c.wear_time_limit_minutes as own_wear_limit",
     )
     .orderBy([
       { column: "ts.scheduled_start" },
@@ -131,7 +133,8 @@ function toSession(r: Row): SessionOnSchedule {
     deviceTypeId: r.device_type_id,
     deviceType: r.device_name,
     deviceCode: r.device_code,
-    wearTimeLimitMinutes: Number(r.wear_time_limit_minutes),
+    // the worker's own stricter limit on this device type, where an assessor set one
+    wearTimeLimitMinutes: effectiveWearLimit(Number(r.wear_time_limit_minutes), r.own_wear_limit),
     unit: r.serial ?? null,
     place: r.unit_site ?? r.trainer_site ?? r.worker_site,
     trainerId: r.trainer_id ?? null,

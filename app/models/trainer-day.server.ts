@@ -15,6 +15,7 @@ import { conflict } from "~/errors";
 import type { TrainerLogInput } from "~/schemas/session-log";
 import { adverseEventsFrom } from "~/schemas/session-log";
 import { eventsForSessions, notifyAssessorsOfSevereEvents, recordAdverseEvents } from "./adverse-events.server";
+import { courseReviewStatus } from "./course-reviews.server";
 import { logSessionResult } from "./progress.server";
 import { type SessionOnSchedule, scheduleSessions } from "./schedule.server";
 
@@ -129,7 +130,11 @@ export async function trainerSession(trainerId: number, sessionId: number, k: Db
   const [r] = await scheduleSessions({ trainerId, sessionId, statuses: [...NOT_CANCELLED, "cancelled"] }, k);
   if (!r) return null;
   const s = toSession(r);
-  return { ...s, events: await eventsForSessions([s.id], k) };
+  return {
+    ...s,
+    events: await eventsForSessions([s.id], k),
+    review: await courseReviewStatus(s.workerId, s.deviceTypeId, k),
+  };
 }
 
 export async function markNoShow(trainerId: number, sessionId: number, userId: number): Promise<void> {
@@ -150,6 +155,8 @@ export interface TrainerLogResult {
   eventCount: number;
   paused: boolean;
   notified: string[];
+  /** Saved over the wear-time limit: the breach is a safety finding the assessors see. */
+  wearTimeBreach: { minutes: number; limitMinutes: number } | null;
 }
 
 /**
@@ -226,5 +233,6 @@ export async function logTrainerSession(input: {
     eventCount: done.ev.count,
     paused: done.ev.paused,
     notified,
+    wearTimeBreach: done.r.wearTimeBreach,
   };
 }

@@ -1,6 +1,7 @@
 import type { Principal } from "~/auth/guard.server";
 import { addDays, dayAndWeekIn, type Instant, todayIn, wallClockNow } from "~/dates";
 import { type Db, db } from "~/db.server";
+import { subjectsOwnedBy } from "~/domain/review-owners";
 import { viewerTimeZone } from "./sites.server";
 import { whereWorkerInScope } from "./workers.server";
 
@@ -36,10 +37,7 @@ export async function assessorQueue(
       w.whereNull("fitted_by").orWhereNot("fitted_by", me);
     })
     .count({ n: "*" });
-  const questions = whereWorkerInScope(
-    k("review_requests as r").join("workers", "workers.id", "r.worker_id").where("r.status", "open").count({ n: "*" }),
-    p.scope,
-  );
+  const questions = openQuestions(p, k);
   const flags = whereWorkerInScope(
     k("review_flags as f").join("workers", "workers.id", "f.worker_id").whereNull("f.resolved_at").count({ n: "*" }),
     p.scope,
@@ -96,6 +94,18 @@ export async function assessorQueue(
   ];
 }
 
+/** Open review requests this principal owns (domain/review-owners.ts), in scope. */
+function openQuestions(p: Principal, k: Db) {
+  return whereWorkerInScope(
+    k("review_requests as r")
+      .join("workers", "workers.id", "r.worker_id")
+      .where("r.status", "open")
+      .whereIn("r.subject", subjectsOwnedBy(p.roles))
+      .count({ n: "*" }),
+    p.scope,
+  );
+}
+
 export async function coordinatorQueue(
   p: Principal,
   now: Instant | Date = new Date(),
@@ -114,10 +124,11 @@ export async function coordinatorQueue(
       .countDistinct({ n: "c.worker_id" }),
     p.scope,
   );
-  const [runs, backRows, affected] = await Promise.all([
+  const [runs, backRows, affected, questions] = await Promise.all([
     toPublish.count({ n: "*" }),
     back,
     sessionsHitByAbsence(p, now, k),
+    openQuestions(p, k),
   ]);
   return [
     {
@@ -140,6 +151,13 @@ export async function coordinatorQueue(
       count: affected,
       to: "/coordinate/runs",
       hint: "Re-plan: these sessions cannot take place as published.",
+    },
+    {
+      key: "questions",
+      label: "Questions from workers about their plan",
+      count: n(questions),
+      to: "/coordinate/reviews",
+      hint: "Answer each one; the worker gets an e-mail.",
     },
   ];
 }

@@ -6,6 +6,7 @@ export const assessment: Area = {
     ["assess/workers", "routes/assess.workers._index.tsx"],
     ["assess/workers/:workerId", "routes/assess.workers.$workerId.tsx"],
     ["assess/workers/:workerId/sessions/:sessionId", "routes/assess.workers.$workerId.sessions.$sessionId.tsx"],
+    ["assess/workers/:workerId/courses/:deviceTypeId", "routes/assess.workers.$workerId.courses.$deviceTypeId.tsx"],
     ["assess/roster", "routes/assess.roster._index.tsx"],
     ["assess/roster/:importId", "routes/assess.roster.$importId.tsx"],
     ["assess/measures", "routes/assess.measures.tsx"],

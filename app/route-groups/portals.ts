@@ -10,6 +10,7 @@ export const portals: Area = {
     ["me/review", "routes/me.review.tsx"],
     ["train/sessions/:sessionId", "routes/train.sessions.$sessionId.tsx"],
     ["assess/reviews", "routes/assess.reviews.tsx"],
+    ["coordinate/reviews", "routes/coordinate.reviews.tsx"],
   ],
   outsideShell: [
     ["me/export.json", "routes/me.export.json.ts"],
@@ -24,5 +25,6 @@ export const portals: Area = {
       { to: "/me/review", label: "Ask for a review" },
     ],
     assessor: [{ to: "/assess/reviews", label: "Review requests" }],
+    coordinator: [{ to: "/coordinate/reviews", label: "Review requests" }],
   },
 };

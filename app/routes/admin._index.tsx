@@ -1,6 +1,9 @@
 import { requireUser } from "~/auth/guard.server";
+import { recentSecurityEvents } from "~/auth/throttle.server";
 import { WorkQueue } from "~/components/work-queue";
+import { formatInstant } from "~/dates";
 import { db } from "~/db.server";
+import { viewerTimeZone } from "~/models/sites.server";
 import { adminQueue } from "~/models/work-queues.server";
 import type { Route } from "./+types/admin._index";
 
@@ -21,6 +24,8 @@ export async function loader({ request }: Route.LoaderArgs) {
     workers: await count("workers"),
     activeKeys,
     accessReads: await count("access_log"),
+    securityEvents: await recentSecurityEvents(),
+    timeZone: await viewerTimeZone(p),
     queue: await adminQueue(p.kind === "user" ? p.user.id : null),
   };
 }
@@ -50,6 +55,22 @@ export default function AdminHome({ loaderData: d }: Route.ComponentProps) {
           </li>
         ))}
       </ul>
+      <section aria-labelledby="security-alerts" className="card">
+        <h2 id="security-alerts" className="text-lg font-semibold">
+          Security alerts (last 7 days)
+        </h2>
+        {d.securityEvents.length === 0 ? (
+          <p className="mt-2 text-ink-soft">No limit was reached: no repeated failed sign-ins, API keys or uploads.</p>
+        ) : (
+          <ul className="mt-2 grid gap-2" data-testid="security-alerts">
+            {d.securityEvents.map((e) => (
+              <li key={e.id}>
+                <span className="font-medium">{formatInstant(e.at, d.timeZone)}</span> — {e.detail}
+              </li>
+            ))}
+          </ul>
+        )}
+      </section>
     </div>
   );
 }

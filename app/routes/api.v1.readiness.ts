@@ -1,7 +1,7 @@
 import { requireApiAccess } from "~/auth/guard.server";
 import type { ProtectedTable } from "~/compute/disclosure";
 import { transposeProtected } from "~/compute/readiness-views";
-import { type MedianTable, readinessBoard } from "~/models/readiness.server";
+import { boardViewer, type MedianTable, readinessBoard } from "~/models/readiness.server";
 import { GROUPING_LABELS, readinessApiQuerySchema } from "~/schemas/readiness";
 import type { Route } from "./+types/api.v1.readiness";
 
@@ -65,7 +65,7 @@ export async function loader({ request }: Route.LoaderArgs) {
     );
   }
   const { groupBy } = parsed.data;
-  const board = await readinessBoard(p.scope);
+  const board = await readinessBoard(p.scope, boardViewer(p));
   if (!board.groupings.includes(groupBy)) {
     return Response.json(
       {

@@ -1,32 +1,16 @@
 import { Link, useActionData, useNavigation } from "react-router";
-import { requireUser } from "~/auth/guard.server";
 import { ActionForm, ActionNotice, TextArea } from "~/components/fields";
 import { formatInstantDay } from "~/dates";
-import { formAction } from "~/forms.server";
-import { answerReview, reviewQueue } from "~/models/reviews.server";
-import { viewerTimeZone } from "~/models/sites.server";
-import { REVIEW_SUBJECT_LABELS, reviewAnswerSchema } from "~/schemas/portal";
+import { reviewQueueAction, reviewQueueLoader } from "~/review-queue.server";
+import { REVIEW_SUBJECT_LABELS } from "~/schemas/portal";
 import type { Route } from "./+types/assess.reviews";
 
 export const meta: Route.MetaFunction = () => [{ title: "Review requests · Limberly" }];
 
-// The assessors' queue of workers' review requests, limited to workers in the assessor's scope.
-export async function loader({ request }: Route.LoaderArgs) {
-  const p = await requireUser(request, "reviews.answer");
-  const url = new URL(request.url);
-  const show = url.searchParams.get("show") === "answered" ? "answered" : "open";
-  return { show, requests: await reviewQueue(p, show), timeZone: await viewerTimeZone(p) };
-}
-
-export async function action({ request }: Route.ActionArgs) {
-  const p = await requireUser(request, "reviews.answer");
-  return formAction(await request.formData(), reviewAnswerSchema, async (v) => {
-    const r = await answerReview(p, v.reviewId, v.answer);
-    return r.mailedTo
-      ? "Answer saved and e-mailed to the worker."
-      : "Answer saved. The worker has no e-mail address on file; they will see it in the app.";
-  });
-}
+// The queue of workers' review requests that the signed-in person owns (assessors: figures; coordinators:
+// plans), limited to workers in their scope. The coordinators' page at /coordinate/reviews is this module.
+export const loader = ({ request }: Route.LoaderArgs) => reviewQueueLoader(request, "reviews.answer");
+export const action = ({ request }: Route.ActionArgs) => reviewQueueAction(request, "reviews.answer");
 
 export default function ReviewQueue({ loaderData }: Route.ComponentProps) {
   const { show, requests, timeZone } = loaderData;
@@ -43,14 +27,14 @@ export default function ReviewQueue({ loaderData }: Route.ComponentProps) {
         </p>
         <nav aria-label="Which requests" className="mt-2 flex gap-3">
           <Link
-            to="/assess/reviews"
+            to="."
             className={show === "open" ? "font-semibold underline" : "text-spruce-700 underline"}
             aria-current={show === "open" ? "page" : undefined}
           >
             Open
           </Link>
           <Link
-            to="/assess/reviews?show=answered"
+            to="?show=answered"
             className={show === "answered" ? "font-semibold underline" : "text-spruce-700 underline"}
             aria-current={show === "answered" ? "page" : undefined}
           >

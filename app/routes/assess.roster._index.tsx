@@ -1,9 +1,11 @@
 import { data, Form, Link, redirect, useActionData, useNavigation } from "react-router";
 import { requireUser } from "~/auth/guard.server";
+import { countUpload } from "~/auth/throttle.server";
 import { FormError } from "~/components/fields";
 import { FileField } from "~/components/upload";
 import { formatInstant } from "~/dates";
 import { UserError } from "~/errors";
+import { keepRetryAfter } from "~/http/headers";
 import { retryAfterHeader } from "~/jobs/upload-read.server";
 import { recentRosterUploads, saveRosterUpload } from "~/models/roster.server";
 import { viewerTimeZone } from "~/models/sites.server";
@@ -27,8 +29,12 @@ export async function loader({ request }: Route.LoaderArgs) {
   };
 }
 
+// A refused upload (429) keeps its Retry-After on the `.data` answer.
+export const headers = keepRetryAfter;
+
 export async function action({ request }: Route.ActionArgs) {
   const p = await requireUser(request, "roster.import");
+  await countUpload(request, p.user.id);
   try {
     const { file } = await readMultipart(request, { fileField: "roster", maxBytes: MAX_ROSTER_BYTES });
     if (!file || file.size === 0)

@@ -1,12 +1,14 @@
 import { data, Form, Link, type ShouldRevalidateFunction, useActionData, useNavigation } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { can } from "~/auth/permissions";
+import { countUpload } from "~/auth/throttle.server";
 import { DeviceCautions } from "~/components/device-cautions";
 import { FormError, Notice, SelectField, TextField } from "~/components/fields";
 import { FileField, IssueList } from "~/components/upload";
 import { MEASURE_DIRECTIONS } from "~/compute/features";
 import { TRACE_KINDS } from "~/compute/trace-parsing";
 import { UserError } from "~/errors";
+import { keepRetryAfter } from "~/http/headers";
 import { recordAccess } from "~/models/access-log.server";
 import {
   rescoreSession,
@@ -16,6 +18,7 @@ import {
   workerForStaff,
 } from "~/models/assessments.server";
 import { ConsentRequiredError, hasConsent } from "~/models/consent.server";
+import { refreshSummary } from "~/models/forecast.server";
 import { listMeasures } from "~/models/measures.server";
 import { listNormSets } from "~/models/norms.server";
 import { readMultipart } from "~/models/uploads.server";
@@ -69,8 +72,12 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   };
 }
 
+// A refused upload (429) keeps its Retry-After on the `.data` answer.
+export const headers = keepRetryAfter;
+
 export async function action({ request, params }: Route.ActionArgs) {
   const p = await requireUser(request, "assessments.write");
+  await countUpload(request, p.user.id);
   const { workerId, sessionId } = ids(params);
   if (!(await workerForStaff(p.scope, workerId)))
     throw data({ error: "No such worker at your sites." }, { status: 404 });
@@ -93,8 +100,8 @@ export async function action({ request, params }: Route.ActionArgs) {
       const measures = (await listMeasures({ activeOnly: true })).filter((m) => m.entry === "manual");
       const v = manualValuesFromForm(obj, measures);
       if (!v.ok) return data({ intent, errors: v.errors, done: null, upload: null }, { status: 400 });
-      const n = await saveManualResults({ workerId, sessionId, values: v.values, userId: p.user.id });
-      return { intent, errors: null, done: `${n} score(s) saved.`, upload: null };
+      const r = await saveManualResults({ workerId, sessionId, values: v.values, userId: p.user.id });
+      return { intent, errors: null, done: `${r.count} score(s) saved. ${refreshSummary(r.forecasts)}`, upload: null };
     }
     if (intent === "upload") {
       const v = parseWith(traceUploadSchema, obj);
@@ -122,7 +129,7 @@ export async function action({ request, params }: Route.ActionArgs) {
         {
           intent,
           errors: null,
-          done: result.ok ? `${file.name} computed and stored.` : null,
+          done: result.ok ? `${file.name} computed and stored. ${refreshSummary(result.forecasts)}`.trim() : null,
           upload: { ...result, filename: file.name },
         },
         { status: result.ok ? 200 : 422 },
@@ -130,11 +137,11 @@ export async function action({ request, params }: Route.ActionArgs) {
     }
     if (intent === "rescore") {
       const normSetId = obj.normSetId ? Number(obj.normSetId) : null;
-      const r = await rescoreSession({ workerId, sessionId, normSetId });
+      const r = await rescoreSession({ workerId, sessionId, normSetId, userId: p.user.id });
       return {
         intent,
         errors: null,
-        done: `Re-scored: ${r.scored} of ${r.total} results have a z-score with the chosen norms.`,
+        done: `Re-scored: ${r.scored} of ${r.total} results have a z-score with the chosen norms. ${refreshSummary(r.forecasts)}`,
         upload: null,
       };
     }

@@ -18,6 +18,7 @@ import {
   listWitnesses,
   recordConsent,
 } from "~/models/consent.server";
+import { coursesNeedingReview, reviewPath } from "~/models/course-reviews.server";
 import { listNormSets } from "~/models/norms.server";
 import { changesSincePrevious, reliabilityByMeasure } from "~/models/reliability-report.server";
 import { workerTimeZone } from "~/models/sites.server";
@@ -42,7 +43,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const workerId = workerIdOf(params);
   const worker = await workerForStaff(p.scope, workerId);
   if (!worker) throw data({ error: "No such worker at your sites." }, { status: 404 });
-  const [consent, history, sessions, reliability, normSets, witnesses, texts] = await Promise.all([
+  const [consent, history, sessions, reliability, normSets, witnesses, texts, toReview] = await Promise.all([
     consentState(workerId),
     consentHistory(workerId),
     sessionsForWorker(workerId),
@@ -50,6 +51,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     listNormSets(),
     listWitnesses(),
     currentConsentTexts(),
+    can(p, "courses.review") ? coursesNeedingReview(workerId) : Promise.resolve([]),
   ]);
   await recordAccess(p, request, workerId, "assessment");
   const relMap = new Map(reliability.map((r) => [r.measureId, r]));
@@ -100,6 +102,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     ),
     canConsent: can(p.user, "consent.manage"),
     canWrite: can(p.user, "assessments.write"),
+    toReview: toReview.map((c) => ({ ...c, href: reviewPath(workerId, c.deviceTypeId) })),
   };
 }
 
@@ -176,6 +179,7 @@ export default function WorkerRecord({ loaderData }: Route.ComponentProps) {
     texts,
     canConsent,
     canWrite,
+    toReview,
   } = loaderData;
   const r = useActionData<typeof action>();
   const busy = useNavigation().state === "submitting";
@@ -202,6 +206,24 @@ export default function WorkerRecord({ loaderData }: Route.ComponentProps) {
       {r?.done && <Notice>{r.done}</Notice>}
       {r?.errors && (r.errors as Record<string, string>)._form && (
         <FormError message={(r.errors as Record<string, string>)._form} />
+      )}
+
+      {toReview.length > 0 && (
+        <section className="card grid gap-2 border-alert" aria-labelledby="review-h" data-testid="courses-to-review">
+          <h2 id="review-h" className="text-lg font-semibold">
+            Courses to review
+          </h2>
+          <ul className="grid gap-2">
+            {toReview.map((c) => (
+              <li key={c.deviceTypeId}>
+                <Link to={c.href} className="font-medium text-spruce-700 underline">
+                  {c.deviceType}: {c.status === "paused" ? "paused, review and decide" : "safety finding to review"}
+                </Link>
+                {c.pauseReason && <p className="text-sm text-ink-soft">{c.pauseReason}</p>}
+              </li>
+            ))}
+          </ul>
+        </section>
       )}
 
       <section className="card grid gap-4" aria-labelledby="consent-h">

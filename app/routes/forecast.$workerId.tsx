@@ -6,6 +6,7 @@ import { ForecastExplanation } from "~/components/forecast-explanation";
 import { userErrorResponse } from "~/forms.server";
 import { recordAccess } from "~/models/access-log.server";
 import { workerForecastView } from "~/models/forecast.server";
+import { noForecastText } from "~/schemas/forecast";
 import type { Route } from "./+types/forecast.$workerId";
 
 export const meta: Route.MetaFunction = ({ data: d }) => [
@@ -46,7 +47,7 @@ export default function WorkerForecastPage({ loaderData }: Route.ComponentProps)
       </div>
       {!planningConsent && (
         <p role="status" className="rounded-md bg-amber-wash p-3">
-          No planning consent is in force for this worker, so no forecast is made or shown.
+          {noForecastText("no_consent")}
         </p>
       )}
       <div className="grid gap-4 lg:grid-cols-2">
@@ -60,12 +61,9 @@ export default function WorkerForecastPage({ loaderData }: Route.ComponentProps)
             <h2 id={`dev-${f.deviceType.id}`} className="text-lg font-semibold">
               {f.deviceType.name}
             </h2>
-            {f.status === "no_model" && (
-              <p className="text-sm text-ink-soft">No approved model for this device type yet.</p>
-            )}
-            {f.status === "missing_measures" && (
-              <p className="text-sm text-ink-soft">
-                No forecast: the baseline lacks {f.missingMeasures.join(", ") || "a measure the model needs"}.
+            {f.status !== "ready" && (
+              <p className="text-sm text-ink-soft" data-testid="no-forecast">
+                {noForecastText(f.status, f.missingMeasures)}
               </p>
             )}
             {f.status === "ready" && (

@@ -72,7 +72,7 @@ export default function MeHome({ loaderData }: Route.ComponentProps) {
           <h2 id="before-first" className="text-lg font-semibold">
             Before your first session
           </h2>
-          <DeviceCautions />
+          <DeviceCautions reader="worker" />
         </section>
       )}
 
@@ -177,7 +177,7 @@ export default function MeHome({ loaderData }: Route.ComponentProps) {
         </section>
       ))}
 
-      {!(firstSessionAhead && next.length > 0) && <DeviceCautions compact />}
+      {!(firstSessionAhead && next.length > 0) && <DeviceCautions compact reader="worker" />}
     </div>
   );
 }

@@ -21,7 +21,9 @@ export async function action({ request }: Route.ActionArgs) {
   const { p, workerId } = await requireOwnWorker(request, "self.review");
   return formAction(await request.formData(), reviewRequestSchema, async (v) => {
     await createReviewRequest(workerId, p.user.id, v);
-    return "Your request is with the assessors. You will get an e-mail when a person has answered.";
+    return v.subject === "plan"
+      ? "Your request is with the training coordinators. You will get an e-mail when a person has answered."
+      : "Your request is with the assessors. You will get an e-mail when a person has answered.";
   });
 }
 

@@ -1,10 +1,10 @@
-import { data, Link, useNavigation } from "react-router";
+import { data, Form, Link, useActionData, useNavigation } from "react-router";
 import { type Principal, requireUser } from "~/auth/guard.server";
 import { can } from "~/auth/permissions";
 import { DeviceCautions } from "~/components/device-cautions";
-import { ActionForm, ActionNotice, TextArea, TextField } from "~/components/fields";
+import { FormError, Notice, TextArea, TextField } from "~/components/fields";
 import { ProgressChart } from "~/components/progress-chart";
-import { formAction } from "~/forms.server";
+import { UserError } from "~/errors";
 import { recordAccess } from "~/models/access-log.server";
 import { resolveFlags } from "~/models/forecast.server";
 import {
@@ -14,7 +14,10 @@ import {
   trainerHasTrainee,
   trainerIdFor,
 } from "~/models/progress.server";
-import { progressPageSchema } from "~/schemas/forecast";
+import { reviewPath } from "~/schemas/course-review";
+import { logSessionFormSchema } from "~/schemas/forecast";
+import { formToObject, parseWith } from "~/schemas/form";
+import { scoreRead } from "~/schemas/session-log";
 import type { Route } from "./+types/progress.$workerId.$deviceTypeId";
 
 export const meta: Route.MetaFunction = ({ data: d }) => [
@@ -49,28 +52,34 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const view = await progressView(p, workerId, deviceTypeId);
   if (!view) throw data({ error: "No such worker or device type in your scope." }, { status: 404 });
   await recordAccess(p, request, workerId, "progress");
-  return { view, canLog: can(p.user, "sessions.log"), canResolve: can(p.user, "models.manage") };
+  return {
+    view,
+    canLog: can(p.user, "sessions.log"),
+    canResolve: can(p.user, "models.manage"),
+    canReview: can(p, "courses.review"),
+  };
 }
 
 export async function action({ request, params }: Route.ActionArgs) {
-  const formData = await request.formData();
+  const form = formToObject(await request.formData());
   const { workerId, deviceTypeId } = ids(params);
-  const resolving = formData.get("intent") === "resolve";
-  const p = await requireUser(request, resolving ? "models.manage" : "sessions.log");
-  const trainerId = resolving ? null : await assertTrainerReach(p, workerId, deviceTypeId);
-  if ((resolving || !reachesOnlyOwnTrainees(p)) && !(await progressView(p, workerId, deviceTypeId)))
-    throw data({ error: resolving ? "Not found." : "No such worker in your scope." }, { status: 404 });
-  return formAction(formData, progressPageSchema, async (v) => {
-    if (v.intent === "resolve") {
-      const n = await resolveFlags(workerId, deviceTypeId, p.user.id);
-      return `${n} review flag${n === 1 ? "" : "s"} marked as reviewed.`;
-    }
+  if (form.intent === "resolve") {
+    const p = await requireUser(request, "models.manage");
+    if (!(await progressView(p, workerId, deviceTypeId))) throw data({ error: "Not found." }, { status: 404 });
+    const n = await resolveFlags(workerId, deviceTypeId, p.user.id);
+    return { errors: null, done: `${n} review flag${n === 1 ? "" : "s"} marked as reviewed.` };
+  }
+  const p = await requireUser(request, "sessions.log");
+  const trainerId = await assertTrainerReach(p, workerId, deviceTypeId);
+  if (!reachesOnlyOwnTrainees(p) && !(await progressView(p, workerId, deviceTypeId)))
+    throw data({ error: "No such worker in your scope." }, { status: 404 });
+  const parsed = parseWith(logSessionFormSchema, form);
+  if (!parsed.ok) return data({ errors: parsed.errors, done: null }, { status: 400 });
+  try {
     const r = await logSessionResult({
       workerId,
       deviceTypeId,
-      durationHours: v.durationHours,
-      taskScore: v.taskScore,
-      notes: v.notes,
+      ...parsed.data,
       loggedBy: p.user.id,
       trainerId: trainerId ?? (await trainerIdFor(p.user.id)),
     });
@@ -78,18 +87,31 @@ export async function action({ request, params }: Route.ActionArgs) {
       r.forecast.status === "ready" && r.forecast.progress?.remainingHours != null
         ? ` About ${r.forecast.progress.remainingHours.toFixed(1)} h to go.`
         : "";
-    return r.proficient
-      ? `Session logged. The criterion is met: proficient on ${r.proficientOn} after ${r.cumulativeHours.toFixed(1)} h.`
-      : `Session logged: ${r.cumulativeHours.toFixed(1)} h so far.${f}`;
-  });
+    const score = scoreRead(parsed.data.taskScore, typeof form.taskScore === "string" ? form.taskScore : null);
+    const breach = r.wearTimeBreach
+      ? ` It ran ${r.wearTimeBreach.minutes} minutes, over the wear-time limit of ${r.wearTimeBreach.limitMinutes} minutes: saved as logged, and the breach is recorded as a safety finding for the assessors.`
+      : "";
+    return {
+      errors: null,
+      done: r.proficient
+        ? `Session logged with task score ${score}. The criterion is met: proficient on ${r.proficientOn} after ${r.cumulativeHours.toFixed(1)} h.${breach}`
+        : `Session logged with task score ${score}: ${r.cumulativeHours.toFixed(1)} h so far.${f}${breach}`,
+    };
+  } catch (e) {
+    if (e instanceof UserError && e.status === 409)
+      return data({ errors: { [e.field ?? "_form"]: e.message }, done: null }, { status: 409 });
+    throw e;
+  }
 }
 
 const h = (v: number | null | undefined) => (v == null ? "—" : `${v.toFixed(1)} h`);
 
-export default function ProgressPage({ loaderData, actionData }: Route.ComponentProps) {
-  const { view: v, canLog, canResolve } = loaderData;
+export default function ProgressPage({ loaderData }: Route.ComponentProps) {
+  const { view: v, canLog, canResolve, canReview } = loaderData;
+  const result = useActionData<typeof action>();
   const nav = useNavigation();
   const busy = nav.state === "submitting";
+  const errors = (result?.errors ?? {}) as Record<string, string>;
   const f = v.forecast;
   const proficient = v.course?.status === "proficient";
   return (
@@ -112,7 +134,25 @@ export default function ProgressPage({ loaderData, actionData }: Route.Component
             ` · criterion: ${v.criterion.consecutiveSessions} consecutive sessions at ≥ ${v.criterion.scoreThreshold}`}
         </p>
       </div>
-      <ActionNotice result={actionData} />
+      {result?.done && <Notice>{result.done}</Notice>}
+      {(v.course?.status === "paused" || v.review) && (
+        <div
+          role={v.course?.status === "paused" ? "alert" : undefined}
+          className={`rounded-md p-3 ${v.course?.status === "paused" ? "bg-alert-wash text-alert" : "bg-spruce-50 text-spruce-800"}`}
+          data-testid="course-review-status"
+        >
+          <p>
+            {v.course?.status === "paused"
+              ? "Paused after a severe adverse event: an assessor reviews the course before training resumes."
+              : `${v.review!.label} after a pause${v.review!.wearTimeLimitMinutes != null ? `: at most ${v.review!.wearTimeLimitMinutes} minutes per session` : ""}${v.review!.conditions ? `; ${v.review!.conditions}` : ""}.`}
+          </p>
+          {canReview && (
+            <Link to={reviewPath(v.worker.id, v.deviceType.id)} className="text-sm underline">
+              {v.course?.status === "paused" ? "Review and decide" : "Course review"}
+            </Link>
+          )}
+        </div>
+      )}
       {v.reviewFlags.length > 0 && (
         <div role="alert" className="rounded-md bg-alert-wash p-3 text-alert" data-testid="review-flag">
           <p className="font-semibold">Flagged for review</p>
@@ -126,11 +166,11 @@ export default function ProgressPage({ loaderData, actionData }: Route.Component
             trainer.
           </p>
           {canResolve && (
-            <ActionForm intent="resolve" result={actionData} className="mt-2">
-              <button type="submit" className="btn-quiet">
+            <Form method="post" className="mt-2">
+              <button type="submit" className="btn-quiet" name="intent" value="resolve">
                 Mark as reviewed
               </button>
-            </ActionForm>
+            </Form>
           )}
         </div>
       )}
@@ -176,8 +216,8 @@ export default function ProgressPage({ loaderData, actionData }: Route.Component
             </p>
           </>
         ) : (
-          <p className="sm:col-span-3 text-sm">
-            No forecast for this worker on this device (no approved model, missing baseline, or no planning consent).
+          <p className="sm:col-span-3 text-sm" data-testid="no-forecast">
+            {v.noForecast}
           </p>
         )}
       </section>
@@ -192,7 +232,7 @@ export default function ProgressPage({ loaderData, actionData }: Route.Component
           crossing={proficient ? null : (f?.crossing ?? null)}
         />
       </section>
-      {canLog && !proficient && (
+      {canLog && !proficient && v.course?.status !== "paused" && v.course?.status !== "stopped" && (
         <section className="card" aria-labelledby="log-h">
           <h2 id="log-h" className="text-lg font-semibold">
             Log a session
@@ -200,28 +240,34 @@ export default function ProgressPage({ loaderData, actionData }: Route.Component
           <p className="text-sm text-ink-soft">
             Cumulative hours, the course, proficiency and the forecast are updated together.
           </p>
-          <ActionForm
-            intent="log"
-            result={actionData}
-            className="mt-3 grid gap-4 sm:grid-cols-2"
-            key={actionData?.notice ?? "form"}
-          >
+          <Form method="post" className="mt-3 grid gap-4 sm:grid-cols-2" noValidate key={result?.done ?? "form"}>
+            <div className="sm:col-span-2">
+              <FormError message={errors._form} />
+            </div>
             <TextField
               name="durationHours"
               label="Practice time (hours)"
               required
-              hint={`Wear-time limit for this device: ${v.deviceType.wearTimeLimitMinutes} minutes per session.`}
+              error={errors.durationHours}
+              hint={`Wear-time limit for this worker on this device: ${v.deviceType.wearTimeLimitMinutes} minutes per session.`}
             />
-            <TextField name="taskScore" label="Task score (0–1)" required hint="Score on the device's standard task." />
+            <TextField
+              name="taskScore"
+              inputMode="decimal"
+              label="Task score (0–1)"
+              required
+              error={errors.taskScore}
+              hint="Score on the device's standard task, e.g. 0.72 or 0,72."
+            />
             <div className="sm:col-span-2">
-              <TextArea name="notes" label="Notes" rows={2} />
+              <TextArea name="notes" label="Notes" rows={2} error={errors.notes} />
             </div>
             <div className="sm:col-span-2">
-              <button type="submit" className="btn-primary" disabled={busy}>
+              <button type="submit" className="btn-primary" name="intent" value="log" disabled={busy}>
                 {busy ? "Saving…" : "Log session"}
               </button>
             </div>
-          </ActionForm>
+          </Form>
         </section>
       )}
       <section className="card overflow-x-auto p-0" aria-labelledby="sessions-h">

@@ -4,7 +4,7 @@ import { DeviceCautions } from "~/components/device-cautions";
 import { PrintButton } from "~/components/print-button";
 import { ReadinessBoardView } from "~/components/readiness-chart";
 import { HIDDEN_SYMBOL } from "~/compute/readiness-views";
-import { readinessBoard } from "~/models/readiness.server";
+import { boardViewer, readinessBoard } from "~/models/readiness.server";
 import type { Route } from "./+types/readiness._index";
 
 export const meta: Route.MetaFunction = () => [{ title: "Department readiness · Limberly" }];
@@ -13,7 +13,7 @@ export const meta: Route.MetaFunction = () => [{ title: "Department readiness ·
 // loader returns nothing else (what it returns is sent to the browser).
 export async function loader({ request }: Route.LoaderArgs) {
   const p = await requireUser(request, "readiness.read");
-  return { board: await readinessBoard(p.scope) };
+  return { board: await readinessBoard(p.scope, boardViewer(p)) };
 }
 
 export default function ReadinessHome({ loaderData }: Route.ComponentProps) {

@@ -1,7 +1,7 @@
 import { requireUser } from "~/auth/guard.server";
 import type { ProtectedTable } from "~/compute/disclosure";
 import { todayIn } from "~/dates";
-import { type MedianTable, type ReadinessBoard, readinessBoard } from "~/models/readiness.server";
+import { boardViewer, type MedianTable, type ReadinessBoard, readinessBoard } from "~/models/readiness.server";
 import { viewerTimeZone } from "~/models/sites.server";
 import { type SheetSpec, workbookBuffer, xlsxResponse } from "~/xlsx.server";
 import type { Route } from "./+types/readiness.export";
@@ -78,7 +78,7 @@ function boardSheets(board: ReadinessBoard): SheetSpec[] {
 
 export async function loader({ request }: Route.LoaderArgs) {
   const p = await requireUser(request, "readiness.read");
-  const board = await readinessBoard(p.scope);
+  const board = await readinessBoard(p.scope, boardViewer(p));
   const buffer = await workbookBuffer(boardSheets(board));
   return xlsxResponse(buffer, `limberly-readiness-${todayIn(await viewerTimeZone(p))}.xlsx`);
 }

@@ -2,7 +2,7 @@ import { Link } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { PrintButton } from "~/components/print-button";
 import { ReadinessBoardView } from "~/components/readiness-chart";
-import { readinessBoard } from "~/models/readiness.server";
+import { boardViewer, readinessBoard } from "~/models/readiness.server";
 import type { Route } from "./+types/readiness.sites";
 
 export const meta: Route.MetaFunction = () => [{ title: "Site readiness · Limberly" }];
@@ -12,7 +12,7 @@ export const meta: Route.MetaFunction = () => [{ title: "Site readiness · Limbe
 // manager of some departments sees their departments added up per site (only where every part is shown).
 export async function loader({ request }: Route.LoaderArgs) {
   const p = await requireUser(request, "readiness.read");
-  const board = await readinessBoard(p.scope);
+  const board = await readinessBoard(p.scope, boardViewer(p));
   const allowed = board.groupings.includes("site");
   return { allowed, board: allowed ? board : null, scopeLabel: board.scopeLabel };
 }

@@ -5,10 +5,13 @@ import { ROLE_LABELS } from "~/auth/permissions";
 import { ErrorPanel, errorText } from "~/components/error-panel";
 import { navFor } from "~/components/navigation";
 import { isProduction } from "~/config.server";
+import { keepRetryAfter } from "~/http/headers";
 import type { Route } from "./+types/shell";
 
 // The signed-in frame: who you are, your roles' navigation, sign-out. Each child route still
 // checks its own permission; this loader only makes sure someone is signed in.
+export const headers = keepRetryAfter;
+
 export async function loader({ request }: Route.LoaderArgs) {
   const user = await requireSignedIn(request);
   return {

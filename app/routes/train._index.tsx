@@ -205,7 +205,7 @@ export default function TrainHome({ loaderData }: Route.ComponentProps) {
           </ul>
         </section>
       )}
-      <DeviceCautions compact />
+      <DeviceCautions compact reader="trainer" />
     </div>
   );
 }

@@ -2,11 +2,18 @@ import { data, Link, redirect, useActionData, useNavigation } from "react-router
 import { requireUser } from "~/auth/guard.server";
 import { DeviceCautions } from "~/components/device-cautions";
 import { ActionForm, ActionNotice, FieldMessage, RadioGroup, TextArea, TextField } from "~/components/fields";
-import { addMinutesToWallClock, formatDay, formatSpan, toLocalInput, wallClockNow } from "~/dates";
+import { addMinutesToWallClock, formatDay, formatInstantDay, formatSpan, toLocalInput, wallClockNow } from "~/dates";
 import { formAction } from "~/forms.server";
 import { recordAccess } from "~/models/access-log.server";
 import { logTrainerSession, markNoShow, trainerForUser, trainerSession } from "~/models/trainer-day.server";
-import { ADVERSE_KINDS, ADVERSE_LABELS, attendanceSchema, SEVERITIES, trainerLogSchema } from "~/schemas/session-log";
+import {
+  ADVERSE_KINDS,
+  ADVERSE_LABELS,
+  attendanceSchema,
+  SEVERITIES,
+  scoreRead,
+  trainerLogSchema,
+} from "~/schemas/session-log";
 import type { Route } from "./+types/train.sessions.$sessionId";
 
 export const meta: Route.MetaFunction = ({ data: d }) => [
@@ -45,7 +52,13 @@ export async function action({ request, params }: Route.ActionArgs) {
   const { p, trainer, session } = await load(request, params, "sessions.log");
   return formAction(formData, trainerLogSchema, async (v) => {
     const r = await logTrainerSession({ trainer, sessionId: session.id, userId: p.user.id, form: v });
-    const parts = [`Session logged: ${r.cumulativeHours.toFixed(1)} h practised so far.`];
+    const parts = [
+      `Session logged with task score ${scoreRead(v.taskScore, formData.get("taskScore"))}: ${r.cumulativeHours.toFixed(1)} h practised so far.`,
+    ];
+    if (r.wearTimeBreach)
+      parts.push(
+        `It ran ${r.wearTimeBreach.minutes} minutes, over the wear-time limit of ${r.wearTimeBreach.limitMinutes} minutes: saved as logged, and the breach is recorded as a safety finding for the assessors.`,
+      );
     if (r.proficient) parts.push("The proficiency criterion is met.");
     else if (r.remainingHours != null) parts.push(`About ${r.remainingHours.toFixed(1)} h to go.`);
     if (r.eventCount) parts.push(`${r.eventCount} adverse event${r.eventCount === 1 ? "" : "s"} recorded.`);
@@ -94,6 +107,13 @@ export default function TrainerSession({ loaderData }: Route.ComponentProps) {
           resumes it.
         </p>
       )}
+      {s.courseStatus !== "paused" && s.review && (
+        <p className="rounded-md bg-spruce-50 p-3 text-spruce-800" data-testid="review-status">
+          {s.review.decision === "stop"
+            ? `An assessor stopped training on this device after reviewing the pause (${formatInstantDay(s.review.decidedAt, timeZone)}).`
+            : `${s.review.label} after a pause (${formatInstantDay(s.review.decidedAt, timeZone)})${s.review.wearTimeLimitMinutes != null ? `: at most ${s.review.wearTimeLimitMinutes} minutes per session for this trainee` : ""}${s.review.conditions ? `; ${s.review.conditions}` : ""}.`}
+        </p>
+      )}
       {s.status !== "scheduled" && !done && (
         <section className="card">
           <p>
@@ -115,7 +135,7 @@ export default function TrainerSession({ loaderData }: Route.ComponentProps) {
       )}
       {open && (
         <>
-          <DeviceCautions compact />
+          <DeviceCautions compact reader="trainer" />
           <ActionForm result={result} className="grid gap-5">
             <section className="card grid gap-4 sm:grid-cols-2" aria-labelledby="when-h">
               <h2 id="when-h" className="text-lg font-semibold sm:col-span-2">
@@ -140,9 +160,10 @@ export default function TrainerSession({ loaderData }: Route.ComponentProps) {
               <TextField
                 name="taskScore"
                 type="text"
+                inputMode="decimal"
                 label="Task score (0–1)"
                 required
-                hint={`Score on the ${s.deviceType}'s standard task, e.g. 0.72.`}
+                hint={`Score on the ${s.deviceType}'s standard task, e.g. 0.72 or 0,72.`}
               />
               <div className="sm:col-span-2">
                 <TextArea name="notes" label="Notes" rows={3} />
@@ -191,7 +212,7 @@ export default function TrainerSession({ loaderData }: Route.ComponentProps) {
           </ActionForm>
         </>
       )}
-      {!open && <DeviceCautions compact />}
+      {!open && <DeviceCautions compact reader="trainer" />}
     </div>
   );
 }

@@ -1,5 +1,6 @@
 import { z } from "zod";
 import { intents } from "~/schemas/form";
+import { taskScoreField } from "./session-log";
 
 // Forms and payloads of the forecast area. The worker-forecast payload is one schema for the page loader
 // and for GET /api/v1/workers/:workerId/forecast.
@@ -66,19 +67,10 @@ export const logSessionFormSchema = z.object({
     .number({ message: "Duration must be a number of hours." })
     .gt(0, "Duration must be more than 0 hours.")
     .max(8, "Duration must be at most 8 hours in one session."),
-  taskScore: z.coerce
-    .number({ message: "Task score must be a number between 0 and 1." })
-    .min(0, "Task score must be between 0 and 1.")
-    .max(1, "Task score must be between 0 and 1."),
+  taskScore: taskScoreField("Task score must be between 0 and 1."),
   notes: z.string().trim().max(2000, "Notes are limited to 2,000 characters.").optional(),
 });
 export type LogSessionForm = z.infer<typeof logSessionFormSchema>;
-
-/** The progress page: log a session, or mark the review flags as reviewed. */
-export const progressPageSchema = intents(
-  logSessionFormSchema.extend({ intent: z.literal("log") }),
-  z.object({ intent: z.literal("resolve") }),
-);
 
 /** The planning figure is entered as a percentile (80 = the 80th percentile) and stored as a share (0.80). */
 export const planningQuantileSchema = z.object({
@@ -122,10 +114,39 @@ const contributionSchema = z.object({
   sentence: z.string(),
 });
 
+/** Why a worker has no forecast on a device type; each reason has one sentence, noForecastText. */
+export const NO_FORECAST_REASONS = [
+  "no_consent",
+  "no_model",
+  "missing_measures",
+  "stopped",
+  "paused",
+  "not_computed",
+] as const;
+export type NoForecastReason = (typeof NO_FORECAST_REASONS)[number];
+
+/** The one wording of each reason (staff pages, the trainer's and assessor's notices, the allocation pool). */
+export function noForecastText(reason: NoForecastReason, missingMeasures: readonly string[] = []): string {
+  switch (reason) {
+    case "no_consent":
+      return "No forecast: no planning consent is in force for this worker.";
+    case "no_model":
+      return "No forecast: there is no approved model for this device type yet.";
+    case "missing_measures":
+      return `No forecast: the baseline lacks ${missingMeasures.length ? missingMeasures.join(", ") : "a measure the approved model needs"}.`;
+    case "stopped":
+      return "No forecast: an assessor stopped training on this device type after a pause.";
+    case "paused":
+      return "No forecast: training on this device type is paused until an assessor reviews it.";
+    case "not_computed":
+      return "No forecast stored yet, though nothing it needs is missing: it is made the next time the baseline, the consent or the model changes.";
+  }
+}
+
 export const deviceForecastSchema = z.object({
   deviceType: z.object({ id: z.number(), code: z.string(), name: z.string() }),
   /** ready: numbers below; otherwise why there is no forecast. */
-  status: z.enum(["ready", "no_model", "missing_measures"]),
+  status: z.enum(["ready", ...NO_FORECAST_REASONS]),
   missingMeasures: z.array(z.string()),
   modelVersion: z
     .object({

@@ -38,14 +38,31 @@ const noteField = z.preprocess(
   z.string().trim().max(1000, "Event notes: at most 1,000 characters.").optional(),
 );
 
+/**
+ * "0,62" reads as 0.62 (a decimal comma, as typed on many keyboards); an empty field is missing (not 0);
+ * anything else is left for zod to judge.
+ */
+export const decimalComma = (v: unknown) => {
+  if (typeof v !== "string") return v;
+  const t = v.trim();
+  return t === "" ? undefined : t.replace(/^(-?\d*),(\d+)$/, "$1.$2");
+};
+
+/** The score as read, naming what was typed when it differs (e.g. `0.62 (typed "0,62")`). */
+export function scoreRead(value: number, typed: FormDataEntryValue | null): string {
+  const t = typeof typed === "string" ? typed.trim() : "";
+  return t && t !== String(value) ? `${value} (typed "${t}")` : String(value);
+}
+
+/** A task score between 0 and 1, typed with a decimal point or comma. */
+export const taskScoreField = (message: string) =>
+  z.preprocess(decimalComma, z.coerce.number({ message }).min(0, message).max(1, message));
+
 export const trainerLogSchema = z
   .object({
     start: localDateTime("Start"),
     end: localDateTime("End"),
-    taskScore: z.coerce
-      .number({ message: "Task score: a number between 0 and 1." })
-      .min(0, "Task score: a number between 0 and 1.")
-      .max(1, "Task score: a number between 0 and 1."),
+    taskScore: taskScoreField("Task score: a number between 0 and 1."),
     notes: z.preprocess(
       (v) => (typeof v === "string" && v.trim() === "" ? undefined : v),
       z.string().trim().max(2000, "Notes: at most 2,000 characters.").optional(),

@@ -22,6 +22,9 @@
  *                             outbox.all(), outbox.to(address), outbox.waitFor(predicate, { timeoutMs }).
  *   stack                     Where the stack is: { baseURL, issuer, smtpPort, outboxDir, databaseUrl, tempDir }.
  *
+ * Every test's browser context (and each pageAs context) fails the test if the browser reported a
+ * Content-Security-Policy violation (a `securitypolicyviolation` event or the console's report of one).
+ *
  * Helpers: persona(role) / personaByEmail(email) from app/auth/demo-personas.ts (invented people);
  *   SESSION_COOKIE ("__limberly") and sessionCookie(context) to check whether a browser holds a session;
  *   signInAs / signOut / readOutbox / waitForMail are also exported as plain functions.
@@ -135,6 +138,23 @@ export interface Outbox {
   waitFor(predicate: (m: CaughtMessage) => boolean, options?: { timeoutMs?: number }): Promise<CaughtMessage>;
 }
 
+/** Collects the Content-Security-Policy violations of a context's pages: the DOM event and the console report. */
+export async function watchCsp(context: BrowserContext): Promise<string[]> {
+  const found: string[] = [];
+  await context.addInitScript(() => {
+    document.addEventListener("securitypolicyviolation", (e) => {
+      console.error(
+        `[csp-violation] ${e.effectiveDirective} refused ${e.blockedURI || "an inline script or style"} (${e.sourceFile}:${e.lineNumber})`,
+      );
+    });
+  });
+  context.on("console", (m) => {
+    if (m.text().startsWith("[csp-violation]") || m.text().includes("Content Security Policy"))
+      found.push(`${m.page()?.url() ?? "?"}: ${m.text()}`);
+  });
+  return found;
+}
+
 interface Fixtures {
   stack: E2eState;
   signInAs: (page: Page, email: string, options?: SignInOptions) => Promise<URL>;
@@ -144,6 +164,11 @@ interface Fixtures {
 }
 
 export const test = base.extend<Fixtures>({
+  context: async ({ context }, use) => {
+    const violations = await watchCsp(context);
+    await use(context);
+    expect(violations, "Content-Security-Policy violations in the browser").toEqual([]);
+  },
   // eslint-disable-next-line no-empty-pattern
   stack: async ({}, use) => {
     await use(e2eState());
@@ -158,14 +183,18 @@ export const test = base.extend<Fixtures>({
   },
   pageAs: async ({ browser, stack }, use) => {
     const contexts: BrowserContext[] = [];
+    const violations: string[] = [];
     await use(async (email) => {
       const context = await browser.newContext({ baseURL: stack.baseURL });
       contexts.push(context);
+      const found = await watchCsp(context);
+      context.on("close", () => violations.push(...found));
       const page = await context.newPage();
       await signInAs(page, email);
       return page;
     });
     for (const c of contexts) await c.close();
+    expect(violations, "Content-Security-Policy violations in the browser").toEqual([]);
   },
   // eslint-disable-next-line no-empty-pattern
   outbox: async ({}, use) => {

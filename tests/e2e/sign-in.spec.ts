@@ -4,7 +4,7 @@
 import AxeBuilder from "@axe-core/playwright";
 import { request as playwrightRequest } from "@playwright/test";
 import { DEMO_PERSONAS, type DemoPersona } from "../../app/auth/demo-personas";
-import { expect, persona, SESSION_COOKIE, sessionCookie, test } from "./fixtures";
+import { expect, persona, SESSION_COOKIE, sessionCookie, test, watchCsp } from "./fixtures";
 import { expectNoSidewaysScroll } from "./layout";
 
 const HOME: Record<DemoPersona["role"], string> = {
@@ -114,6 +114,29 @@ test.describe("accessibility (axe-core)", () => {
     await signInAs(page, persona("assessor").email);
     await expect(page.getByTestId("role-home")).toBeVisible();
     expect(await seriousViolations(page)).toEqual([]);
+  });
+});
+
+test.describe("Content-Security-Policy", () => {
+  // Every test's context fails on a violation (fixtures.ts); this one shows the watch sees one, and that an
+  // injected inline script does not run while the app's own nonced scripts do (the page hydrated).
+  test("an injected inline script is refused and reported; the app's own scripts run", async ({ browser, stack }) => {
+    const context = await browser.newContext({ baseURL: stack.baseURL });
+    const violations = await watchCsp(context);
+    const page = await context.newPage();
+    await page.goto("/sign-in");
+    await expect(page.getByRole("heading", { name: "Sign in", level: 1 })).toBeVisible();
+    await page.waitForFunction(() => "__reactRouterRouteModules" in window);
+    const ran = await page.evaluate(() => {
+      const s = document.createElement("script");
+      s.textContent = "window.__injected = true";
+      document.body.append(s);
+      return (window as unknown as { __injected?: boolean }).__injected === true;
+    });
+    expect(ran).toBe(false);
+    await expect.poll(() => violations.length).toBeGreaterThan(0);
+    expect(violations.join("\n")).toContain("script-src");
+    await context.close();
   });
 });
 

@@ -145,7 +145,7 @@ test("the worker home fits 390 px: next sessions, stage, forecast in words, prog
   }
 });
 
-test("a worker asks for a review; an assessor answers in the app and the worker is e-mailed", async ({
+test("a worker asks about their plan; a coordinator answers in the app and the worker is e-mailed", async ({
   page,
   signInAs,
   pageAs,
@@ -160,21 +160,26 @@ test("a worker asks for a review; an assessor answers in the app and the worker 
   await page.getByLabel("What should be reviewed?").selectOption("plan");
   await page.getByLabel("What would you like a person to look at?").fill(message);
   await page.getByRole("button", { name: "Send request" }).click();
-  await expect(page.getByRole("status")).toContainText("Your request is with the assessors");
+  // A question about session timing goes to the person who owns the plan: a training coordinator.
+  await expect(page.getByRole("status")).toContainText("Your request is with the training coordinators");
   await expect(page.getByTestId("my-reviews")).toContainText(message);
 
-  const assessor = await pageAs(persona("assessor").email);
-  await assessor.goto("/assess/reviews");
-  const item = assessor.getByTestId("review-queue").locator("li").filter({ hasText: message });
-  const answer = "We will move your sessions to Mondays; the coordinator has been asked.";
+  const coordinator = await pageAs(persona("coordinator").email);
+  await coordinator.goto("/coordinate/reviews");
+  const item = coordinator.getByTestId("review-queue").locator("li").filter({ hasText: message });
+  const answer = "We will move your sessions to Mondays from next week.";
   await item.getByLabel(`Answer to ${me.name}`).fill(answer);
   await item.getByRole("button", { name: "Send answer" }).click();
-  await expect(assessor.getByRole("status")).toContainText("Answer saved and e-mailed");
+  await expect(coordinator.getByRole("status")).toContainText("Answer saved and e-mailed");
+  // The coordinators of the worker's site were told a request waits; the assessors were not (it is not theirs).
+  await outbox.waitFor(
+    (m) => m.to.includes(persona("coordinator").email) && m.subject === "A worker has asked for a review",
+  );
 
   const mail = await outbox.waitFor(
     (m) => m.to.includes(me.email) && m.subject === "Your review request has been answered" && m.text.includes(answer),
   );
-  expect(mail.text).toContain("Morwenna Pike");
+  expect(mail.text).toContain(persona("coordinator").displayName);
   await page.reload();
   await expect(page.getByTestId("my-reviews")).toContainText(answer);
 });

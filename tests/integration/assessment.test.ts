@@ -367,6 +367,12 @@ describe("consent, baseline battery and withdrawal", () => {
     expect(await bad.text()).toContain("is not a number (use a decimal point)");
     expect((await assessor.postForm(sessionUrl, { intent: "manual", [`m.${peg.id}`]: "16" })).status).toBe(200);
 
+    // The demo's approved models (one per device type) need sway area, tracking RMSE, hand participation and
+    // timing SD: the forecast is made in the request whose upload completes them, and until then the notice
+    // names what is missing.
+    const approved = await k("model_versions").where({ status: "approved" }).select("device_type_id");
+    const forecastCount = async () =>
+      Number((await k("forecasts").where({ worker_id: worker.id }).count({ n: "*" }).first())!.n);
     for (const kind of ["sway", "tracking", "glove", "timing", "force"] as const) {
       const file = `${kind}.csv`;
       const bytes = fs.readFileSync(path.join(TRACES, file));
@@ -375,6 +381,16 @@ describe("consent, baseline battery and withdrawal", () => {
         body: multipart({ intent: "upload", kind }, { field: "trace", name: file, bytes }),
       });
       expect(res.status, file).toBe(200);
+      const notice = text(await res.text());
+      if (kind === "glove") {
+        expect(await forecastCount()).toBe(0);
+        expect(notice).toContain("No forecast: the baseline lacks Timing SD of asynchrony");
+      }
+      if (kind === "timing") {
+        expect(await forecastCount()).toBe(approved.length);
+        expect(notice).toMatch(/forecast median \d+\.\d h/);
+        expect(notice).not.toContain("No forecast");
+      }
       const up = await k("trace_uploads").where({ session_id: sessionId, kind }).first();
       expect(up.sha256).toBe(crypto.createHash("sha256").update(bytes).digest("hex")); // Node's crypto as the reference
       expect(up.size_bytes).toBe(bytes.byteLength);
@@ -404,7 +420,7 @@ describe("consent, baseline battery and withdrawal", () => {
       .where({ "v.norm_set_id": area.norm_set_id, "m.code": "sway.ellipseArea95" })
       .first("v.mean", "v.sd");
     expect(area.z_score).toBeCloseTo(-(area.value - norm.mean) / norm.sd, 12);
-    expect((await workerByNumber("HV-90003")).stage).toBe("baselined");
+    expect((await workerByNumber("HV-90003")).stage).toBe("forecast");
     const countLog = async () =>
       Number(
         (await k("access_log").where({ worker_id: worker.id, actor_user_id: me.id }).count({ n: "*" }).first())!.n,

@@ -32,4 +32,12 @@ describe("configuration", () => {
     expect(r.stderr).toContain("LIMBERLY_JOB_STALE_MS must be at least three heartbeats");
     expect(load({ LIMBERLY_MODE: "demo", LIMBERLY_JOB_STALE_MS: "15000" }).stdout).toContain("loaded");
   });
+  it("refuses a rate limit not written as attempts/seconds, naming the variable", () => {
+    for (const bad of ["20", "0/900", "20/0", "twenty/900", "20/900/1"]) {
+      const r = load({ LIMBERLY_MODE: "demo", LIMBERLY_LIMIT_API_KEY_FAILURES: bad });
+      expect(r.status, bad).not.toBe(0);
+      expect(r.stderr).toContain(`LIMBERLY_LIMIT_API_KEY_FAILURES must read "attempts/seconds"`);
+    }
+    expect(load({ LIMBERLY_MODE: "demo", LIMBERLY_LIMIT_API_KEY_FAILURES: "5/60" }).stdout).toContain("loaded");
+  });
 });

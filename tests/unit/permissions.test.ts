@@ -12,6 +12,7 @@ const HEALTH = [
   "progress.all",
   "progress.notes",
   "sessions.log",
+  "courses.review",
 ] as const;
 
 describe("role × action table", () => {
@@ -32,6 +33,9 @@ describe("role × action table", () => {
   it("coordinators see forecasts but not raw assessment scores", () => {
     expect(roleAllows("coordinator", "forecast.read")).toBe(true);
     expect(roleAllows("coordinator", "assessments.read")).toBe(false);
+  });
+  it("only assessors decide on a paused course", () => {
+    expect(ROLES.filter((r) => can({ roles: [r] }, "courses.review"))).toEqual(["assessor"]);
   });
   it("every role has at least one action", () => {
     for (const r of ROLES)

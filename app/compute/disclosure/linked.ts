@@ -308,9 +308,16 @@ function safeQuantity(q: Quantity, value: number, min: number, max: number, thre
  * Bounds every quantity; with `stopAtFirstUnsafe` it returns as soon as one is unsafe (witness tables
  * from earlier LP optima skip LPs that cannot change the verdict).
  */
-function bound(layout: Layout, hidden: boolean[], threshold: number, onlyUnsafe: boolean, skip: Set<string>) {
+function bound(
+  layout: Layout,
+  hidden: boolean[],
+  threshold: number,
+  onlyUnsafe: boolean,
+  skip: Set<string>,
+  only?: string,
+) {
   const model = attackerModel(layout, hidden);
-  const qs = quantities(layout, hidden).filter((q) => !skip.has(key(q)));
+  const qs = quantities(layout, hidden).filter((q) => !skip.has(key(q)) && (only === undefined || key(q) === only));
   const low = qs.map((q) => model.valueOf(q, null));
   const high = [...low];
   const values = [...low];
@@ -437,7 +444,7 @@ export function protectLinked(
     if (!weak) break;
     // Could anything more help? Hide every free number and look again.
     const all = hidden.map((h, e) => h || free(e));
-    const best = bound(layout, all, threshold, false, skip).find((r) => key(r.q) === key(weak.q));
+    const [best] = bound(layout, all, threshold, false, skip, key(weak.q));
     if (best && !safeQuantity(weak.q, best.value, best.min, best.max, threshold)) {
       skip.add(key(weak.q));
       unprotectable.push(toInterval(layout, best));

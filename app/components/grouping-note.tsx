@@ -1,0 +1,12 @@
+import type { GroupingUsed } from "~/models/readiness.server";
+
+/** Which grouping a protected table uses and why (set by the board's grouping rule). */
+export function GroupingNote({ grouping }: { grouping: GroupingUsed }) {
+  return (
+    <p className="text-sm text-ink-soft" data-testid="grouping-note">
+      {`Grouping: ${grouping.label}.`}
+      {grouping.reason ? ` ${grouping.reason}` : ""}
+      {grouping.note ? ` ${grouping.note}` : ""}
+    </p>
+  );
+}
