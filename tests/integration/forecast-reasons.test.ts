@@ -74,11 +74,22 @@ describe("the reason there is no forecast", () => {
   it("names a device type without an approved model, and re-scoring the baseline makes the forecast in that request", async () => {
     const { client } = await signIn(PERSONA.assessor);
     const device = await k("device_types").orderBy("id").first("id", "code", "name");
+    // Any worker with a forecast on this device and a baseline to re-score (other files move workers between
+    // stages, so the stage is not pinned).
     const f = await k("forecasts as f")
       .join("workers as w", "w.id", "f.worker_id")
-      .where({ "f.device_type_id": device.id, "w.stage": "forecast" })
+      .where({ "f.device_type_id": device.id })
+      .whereNotIn("w.stage", ["withdrawn", "paused"])
+      .whereExists(k("assessment_sessions as s").select("s.id").whereRaw("s.worker_id = w.id"))
+      .whereNotExists(
+        k("device_courses as c")
+          .select("c.id")
+          .whereRaw("c.worker_id = w.id and c.device_type_id = f.device_type_id")
+          .whereIn("c.status", ["paused", "stopped"]),
+      )
       .orderBy("w.id")
       .first("w.id");
+    expect(f, "a worker with a forecast on the first device type and a baseline").toBeDefined();
     const session = await k("assessment_sessions").where({ worker_id: f.id }).orderBy("id", "desc").first("id");
     const approved = await k("model_versions").where({ device_type_id: device.id, status: "approved" }).select("id");
     expect(approved).toHaveLength(1);

@@ -166,12 +166,19 @@ describe("client address and production-only headers (an app instance of their o
     expect(res.headers.get("Cache-Control")).toBe("no-store");
   });
 
-  /** The IP the access log recorded for one read of the forecast list by this client. */
+  /** One worker's forecast page: a read of an individual's health data, so the access log records it. */
+  async function forecastPath(): Promise<string> {
+    const w = await testDb()("workers").whereNot("stage", "withdrawn").orderBy("id").first("id");
+    return `/forecast/${w.id}`;
+  }
+
+  /** The IP the access log recorded for one read of a worker's forecast by this client. */
   async function loggedIp(client: Browserless, forwardedFor: string): Promise<string | null> {
     const before = Number((await testDb()("access_log").max({ id: "id" }).first())?.id ?? 0);
-    const res = await client.request("/forecast", { headers: { "X-Forwarded-For": forwardedFor } });
+    const path = await forecastPath();
+    const res = await client.request(path, { headers: { "X-Forwarded-For": forwardedFor } });
     expect(res.status).toBe(200);
-    const rows = await testDb()("access_log").where("id", ">", before).where({ route: "/forecast" }).select("ip");
+    const rows = await testDb()("access_log").where("id", ">", before).where({ route: path }).select("ip");
     expect(rows.length).toBeGreaterThan(0);
     expect(new Set(rows.map((r) => r.ip)).size).toBe(1);
     return rows[0].ip;
@@ -181,7 +188,7 @@ describe("client address and production-only headers (an app instance of their o
     const { client } = await signIn(PERSONA.assessor);
     expect(["127.0.0.1", "::1"]).toContain(await loggedIp(client, "6.6.6.6"));
     // A header with the server's own name for the address is overwritten too.
-    const res = await client.request("/forecast", { headers: { "X-Limberly-Client-Address": "6.6.6.6" } });
+    const res = await client.request(await forecastPath(), { headers: { "X-Limberly-Client-Address": "6.6.6.6" } });
     expect(res.status).toBe(200);
     const last = await testDb()("access_log").orderBy("id", "desc").first();
     expect(["127.0.0.1", "::1"]).toContain(last.ip);

@@ -8,7 +8,7 @@ import { PERSONA, signIn, testDb } from "./helpers";
 // in the worker's plan, in the XLSX schedule and in the .ics (TZID=Europe/Berlin); "today" follows the site's
 // clock. The site's zone is set through the admin page and put back afterwards.
 const k = testDb();
-const RUN_ID = 990_002;
+let RUN_ID = 0; // the published run this file inserts (id from the database: fixed ids collide with runs other files create)
 const BERLIN = "Europe/Berlin";
 let siteId: number;
 let originalZone: string;
@@ -31,14 +31,16 @@ beforeAll(async () => {
   expect(ines.site_id, "the demo trains Amara at her own site").toBe(siteId);
   const course = await k("device_courses").where({ worker_id: workerId }).orderBy("device_type_id").first();
   day = addDays(weekStart(todayIn(BERLIN)), 14);
-  await k("allocation_runs").insert({
-    id: RUN_ID,
-    label: "site time zone test plan",
-    parameters: JSON.stringify({ pool: { siteIds: [siteId], departmentIds: [] } }),
-    status: "done",
-    created_at: "2026-12-01T00:00:00.000Z",
-    published_at: "2026-12-01T00:00:00.000Z",
-  });
+  const [run] = await k("allocation_runs")
+    .insert({
+      label: "site time zone test plan",
+      parameters: JSON.stringify({ pool: { siteIds: [siteId], departmentIds: [] } }),
+      status: "done",
+      created_at: "2026-12-01T00:00:00.000Z",
+      published_at: "2026-12-01T00:00:00.000Z",
+    })
+    .returning("id");
+  RUN_ID = typeof run === "object" ? run.id : run;
   const [row] = await k("training_sessions")
     .insert({
       worker_id: workerId,
@@ -115,7 +117,8 @@ describe("site time zones", () => {
     ws.eachRow((r, i) => {
       if (i > 1) rows.push(r.values as unknown[]);
     });
-    const ours = rows.find((r) => r[col("Date")] === day && r[col("Employee number")] === "HV-00001");
+    // The row of this file's session: its run (other sessions of the same worker may share the day).
+    const ours = rows.find((r) => r[col("Run")] === RUN_ID && r[col("Date")] === day);
     expect(ours, "the test session is in the schedule").toBeDefined();
     expect(ours![col("Start")]).toBe("09:00");
     expect(ours![col("End")]).toBe("10:00");

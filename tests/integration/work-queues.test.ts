@@ -90,15 +90,16 @@ describe("work queues on each role's home", () => {
     const trainer = await k("trainers").orderBy("id").first("id", "site_id");
     const worker = await k("workers").where({ site_id: trainer.site_id }).whereNot("stage", "withdrawn").first("id");
     const device = await k("device_types").orderBy("id").first("id");
-    const RUN = 990_777;
-    await k("allocation_runs").insert({
-      id: RUN,
-      label: "work queue test",
-      parameters: JSON.stringify({ startDate: "2099-03-02", horizonWeeks: 1, pool: { siteIds: [trainer.site_id] } }),
-      status: "done",
-      created_at: "2020-01-01T00:00:00.000Z",
-      published_at: "2020-01-01T00:00:00.000Z",
-    });
+    const [run] = await k("allocation_runs")
+      .insert({
+        label: "work queue test",
+        parameters: JSON.stringify({ startDate: "2099-03-02", horizonWeeks: 1, pool: { siteIds: [trainer.site_id] } }),
+        status: "done",
+        created_at: "2020-01-01T00:00:00.000Z",
+        published_at: "2020-01-01T00:00:00.000Z",
+      })
+      .returning("id");
+    const RUN = typeof run === "object" ? run.id : run;
     cleanup.push(() => k("allocation_runs").where({ id: RUN }).delete());
     const [s] = await k("training_sessions")
       .insert({

@@ -51,7 +51,7 @@ describe("concurrent writes on PostgreSQL", () => {
     const statuses = results.map((r) => r.status).sort();
     expect(statuses).toEqual([200, 409]);
     const refused = results.find((r) => r.status === 409)!;
-    expect(await refused.text()).toContain("That roster upload was already imported.");
+    expect(await refused.text()).toContain("This import was already completed on");
     expect(await countLike("PGA")).toBe(300);
   });
 
@@ -80,8 +80,9 @@ describe("concurrent writes on PostgreSQL", () => {
     const results = await Promise.all(
       Array.from({ length: 8 }, (_, i) =>
         worker.postForm("/me/review", {
-          subject: "plan",
-          message: `Parallel request number ${i}: please look at my plan.`,
+          // About a figure: the assessors own these (the next test has two of them answer one at once).
+          subject: "forecast",
+          message: `Parallel request number ${i}: please look at my forecast.`,
         }),
       ),
     );
