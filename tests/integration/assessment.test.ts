@@ -4,7 +4,7 @@ import path from "node:path";
 import ExcelJS from "exceljs";
 import { afterAll, beforeAll, describe, expect, inject, it } from "vitest";
 import { computeTrace, parseTrace } from "~/compute/trace-parsing";
-import { type Browserless, PERSONA, signIn, testDb, useStackDatabaseInProcess } from "./helpers";
+import { type Browserless, PERSONA, pageText, signIn, testDb, useStackDatabaseInProcess } from "./helpers";
 
 // Assessment area against the running stack and the seeded demo (seeds/01, 02).
 // Outside references named beside the checks: Node's crypto for SHA-256, exceljs for reading the export,
@@ -17,17 +17,7 @@ beforeAll(async () => {
   assessor = (await signIn(PERSONA.assessor)).client;
 });
 
-/** Visible text of an HTML page: tags and React's text separators removed, entities decoded. */
-function text(html: string): string {
-  return html
-    .replace(/<!-- -->/g, "")
-    .replace(/<[^>]+>/g, "")
-    .replace(/&quot;/g, '"')
-    .replace(/&#x27;|&#39;/g, "'")
-    .replace(/&amp;/g, "&")
-    .replace(/&lt;/g, "<")
-    .replace(/&gt;/g, ">");
-}
+const text = (html: string) => pageText(html);
 
 function multipart(
   fields: Record<string, string>,

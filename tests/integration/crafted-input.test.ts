@@ -1,5 +1,5 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { type Browserless, baseUrl, PERSONA, signIn, testDb } from "./helpers";
+import { type Browserless, baseUrl, PERSONA, pageText, signIn, testDb } from "./helpers";
 
 // Crafted requests get a 400 (or 422 for a file's content) with a message naming the field or row, never a 500,
 // and change nothing: prototype keys as sort columns, malformed multipart bodies, out-of-range numbers in a
@@ -15,18 +15,7 @@ beforeAll(async () => {
   );
 });
 
-/** Visible text of an HTML page: tags and React's text separators removed, entities decoded. */
-function text(html: string): string {
-  return html
-    .replace(/<!-- -->/g, "")
-    .replace(/<script[\s\S]*?<\/script>/g, "")
-    .replace(/<[^>]+>/g, "")
-    .replace(/&quot;/g, '"')
-    .replace(/&#x27;|&#39;/g, "'")
-    .replace(/&amp;/g, "&")
-    .replace(/&lt;/g, "<")
-    .replace(/&gt;/g, ">");
-}
+const text = (html: string) => pageText(html, { dropScripts: true });
 
 const count = async (table: string) => Number((await k(table).count({ n: "*" }).first())!.n);
 

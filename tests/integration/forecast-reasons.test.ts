@@ -1,20 +1,12 @@
 import { describe, expect, it } from "vitest";
 import { noForecastText } from "~/schemas/forecast";
-import { PERSONA, signIn, testDb } from "./helpers";
+import { PERSONA, pageText, signIn, testDb } from "./helpers";
 
 // "No forecast" always states the true reason, and re-scoring a baseline makes the forecast in the same
 // request. Through the app's pages on the running stack; the expected reason is worked out here from the rows.
 const k = testDb();
 
-function text(html: string): string {
-  return html
-    .replace(/<!-- -->/g, "")
-    .replace(/<[^>]+>/g, " ")
-    .replace(/&#x27;|&#39;/g, "'")
-    .replace(/&quot;/g, '"')
-    .replace(/&amp;/g, "&")
-    .replace(/\s+/g, " ");
-}
+const text = (html: string) => pageText(html);
 
 const planning = async (workerId: number) =>
   (await k("consent_records").where({ worker_id: workerId, purpose: "planning" }).orderBy("id", "desc").first("status"))

@@ -2,7 +2,7 @@ import fc from "fast-check";
 import { UNSAFE_decodeViaTurboStream as decodeTurboStream } from "react-router";
 import { beforeAll, describe, expect, it } from "vitest";
 import { STAGES } from "~/domain/stages";
-import { type Browserless, PERSONA, signIn, tableNames, testDb } from "./helpers";
+import { type Browserless, PERSONA, pageText, signIn, tableNames, testDb } from "./helpers";
 
 // Generated crafted input (fast-check, fixed seeds so a failure replays) against every list page's query
 // parameters and every upload endpoint. For each request: never a 5xx; a refused request (4xx) changes no
@@ -18,17 +18,7 @@ async function counts(): Promise<Record<string, number>> {
   return Object.fromEntries(list.map((r) => [r.t, Number(r.n)]));
 }
 
-function text(html: string): string {
-  return html
-    .replace(/<!-- -->/g, "")
-    .replace(/<script[\s\S]*?<\/script>/g, "")
-    .replace(/<[^>]+>/g, "")
-    .replace(/&quot;/g, '"')
-    .replace(/&#x27;|&#39;/g, "'")
-    .replace(/&amp;/g, "&")
-    .replace(/&lt;/g, "<")
-    .replace(/&gt;/g, ">");
-}
+const text = (html: string) => pageText(html, { dropScripts: true });
 
 const clients: Record<"admin" | "assessor" | "coordinator", Browserless> = {} as never;
 beforeAll(async () => {

@@ -171,3 +171,19 @@ export const PERSONA = {
   worker: "amara.quist@harrowvale.example",
   admin: "sam.okafor@harrowvale.example",
 } as const;
+
+/**
+ * Visible text of an HTML page: tags and React's text separators removed, entities decoded.
+ * `dropScripts` also removes the hydration data React Router writes into <script> elements.
+ */
+export function pageText(html: string, options: { dropScripts?: boolean } = {}): string {
+  const body = options.dropScripts ? html.replace(/<script[\s\S]*?<\/script>/g, "") : html;
+  return body
+    .replace(/<!-- -->/g, "")
+    .replace(/<[^>]+>/g, "")
+    .replace(/&quot;/g, '"')
+    .replace(/&#x27;|&#39;/g, "'")
+    .replace(/&amp;/g, "&")
+    .replace(/&lt;/g, "<")
+    .replace(/&gt;/g, ">");
+}

@@ -1,6 +1,6 @@
 import { afterAll, beforeAll, describe, expect, inject, it } from "vitest";
 import { readOutbox } from "../../scripts/smtp-catcher";
-import { type Browserless, baseUrl, PERSONA, signIn, testDb } from "./helpers";
+import { type Browserless, baseUrl, PERSONA, pageText, signIn, testDb } from "./helpers";
 
 // Separation of duties: nobody changes their own roles; a clinical role (assessor, trainer) or an API key with
 // one takes a second admin's approval; every request, decision and grant is in the role and key audit log
@@ -11,17 +11,7 @@ const outbox = () => readOutbox(inject("outboxDir"));
 const SECOND_ADMIN = "priya.marsh@harrowvale.example";
 const NEW_STAFF = "tamsin.velde@harrowvale.example";
 
-function text(html: string): string {
-  return html
-    .replace(/<!-- -->/g, "")
-    .replace(/<script[\s\S]*?<\/script>/g, "")
-    .replace(/<[^>]+>/g, "")
-    .replace(/&quot;/g, '"')
-    .replace(/&#x27;|&#39;/g, "'")
-    .replace(/&amp;/g, "&")
-    .replace(/&lt;/g, "<")
-    .replace(/&gt;/g, ">");
-}
+const text = (html: string) => pageText(html, { dropScripts: true });
 
 const count = async (table: string) => Number((await k(table).count({ n: "*" }).first())!.n);
 const rolesOf = async (userId: number) => (await k("role_assignments").where({ user_id: userId }).pluck("role")).sort();

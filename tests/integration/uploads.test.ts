@@ -1,6 +1,6 @@
 import ExcelJS from "exceljs";
 import { beforeAll, describe, expect, it } from "vitest";
-import { type Browserless, PERSONA, signIn, testDb, useStackDatabaseInProcess } from "./helpers";
+import { type Browserless, PERSONA, pageText, signIn, testDb, useStackDatabaseInProcess } from "./helpers";
 import { declareUncompressedSize, rosterWorkbook, sharedStringsBomb, withManyEntries } from "./xlsx-fixtures";
 
 // Uploaded workbooks against the running stack: hostile archives are refused from their zip directory
@@ -23,17 +23,7 @@ function upload(name: string, bytes: Uint8Array, type = XLSX) {
   return assessor.request("/assess/roster", { method: "POST", body: fd });
 }
 
-/** Visible text of an HTML page: tags and React's text separators removed, entities decoded. */
-function text(html: string): string {
-  return html
-    .replace(/<!-- -->/g, "")
-    .replace(/<[^>]+>/g, "")
-    .replace(/&quot;/g, '"')
-    .replace(/&#x27;|&#39;/g, "'")
-    .replace(/&amp;/g, "&")
-    .replace(/&lt;/g, "<")
-    .replace(/&gt;/g, ">");
-}
+const text = (html: string) => pageText(html);
 
 async function rowCounts() {
   const [imports] = await k("roster_imports").count({ n: "*" });
