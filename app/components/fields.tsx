@@ -306,7 +306,7 @@ export function RadioGroup(props: {
               aria-invalid={f.aria["aria-invalid"]}
               className="size-5"
             />
-            <span className="capitalize">{o.label}</span>
+            <span>{o.label}</span>
           </label>
         ))}
       </div>

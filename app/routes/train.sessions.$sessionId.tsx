@@ -184,7 +184,10 @@ export default function TrainerSession({ loaderData }: Route.ComponentProps) {
                   key={kind}
                   name={`ae_${kind}`}
                   legend={ADVERSE_LABELS[kind]}
-                  options={(["none", ...SEVERITIES] as const).map((sev) => ({ value: sev, label: sev }))}
+                  options={(["none", ...SEVERITIES] as const).map((sev) => ({
+                    value: sev,
+                    label: `${sev[0].toUpperCase()}${sev.slice(1)}`,
+                  }))}
                   defaultValue="none"
                   className="grid gap-2 border-t border-line pt-3"
                 >
