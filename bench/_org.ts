@@ -6,18 +6,8 @@
 import type { Knex } from "knex";
 import { mulberry32 as seeded } from "../app/compute/seeded-random";
 import { addDays, addWeeks, wallClockAt } from "../app/dates/calendar";
+import { STAGES } from "../app/domain/stages";
 
-export const STAGES = [
-  "invited",
-  "consented",
-  "baselined",
-  "forecast",
-  "planned",
-  "training",
-  "proficient",
-  "paused",
-  "withdrawn",
-];
 const SITES = 4;
 const DEPTS = 6;
 const DEVICE_TYPES = 4;

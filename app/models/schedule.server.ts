@@ -28,6 +28,7 @@ export interface SessionOnSchedule {
   place: string;
   trainerId: number | null;
   trainer: string | null;
+  deviceUnitId: number | null;
   start: WallClock;
   end: WallClock | null;
   status: string;
@@ -82,6 +83,7 @@ export async function scheduleSessions(filter: ScheduleFilter = {}, k: Db = db()
       "ts.task_score",
       "ts.duration_hours",
       "ts.trainer_id",
+      "ts.device_unit_id",
       "w.employee_number",
       "w.given_name",
       "w.family_name",
@@ -139,6 +141,7 @@ function toSession(r: Row): SessionOnSchedule {
     place: r.unit_site ?? r.trainer_site ?? r.worker_site,
     trainerId: r.trainer_id ?? null,
     trainer: r.trainer ?? null,
+    deviceUnitId: r.device_unit_id ?? null,
     start: wallClock(r.scheduled_start),
     end: r.scheduled_end ? wallClock(r.scheduled_end) : null,
     status: r.status,

@@ -1,7 +1,8 @@
 import type { Principal } from "~/auth/guard.server";
-import { addDays, dayAndWeekIn, type Instant, todayIn, wallClockNow } from "~/dates";
+import { addDays, dayAndWeekIn, dayOf, type Instant, todayIn, wallClockNow } from "~/dates";
 import { type Db, db } from "~/db.server";
 import { subjectsOwnedBy } from "~/domain/review-owners";
+import { scheduleSessions } from "./schedule.server";
 import { viewerTimeZone } from "./sites.server";
 import { whereWorkerInScope } from "./workers.server";
 
@@ -164,24 +165,11 @@ export async function coordinatorQueue(
 
 /** Upcoming published sessions whose worker or trainer is on leave, or whose device unit is in maintenance, that day. */
 async function sessionsHitByAbsence(p: Principal, now: Instant | Date, k: Db): Promise<number> {
-  const zone = await viewerTimeZone(p, k);
-  const from = wallClockNow(zone, now);
-  const sessions: {
-    worker_id: number;
-    trainer_id: number | null;
-    device_unit_id: number | null;
-    scheduled_start: string;
-  }[] = await whereWorkerInScope(
-    k("training_sessions as ts")
-      .join("workers", "workers.id", "ts.worker_id")
-      .whereIn("ts.allocation_run_id", k("allocation_runs").select("id").whereNotNull("published_at"))
-      .where("ts.status", "scheduled")
-      .where("ts.scheduled_start", ">=", from)
-      .select("ts.worker_id", "ts.trainer_id", "ts.device_unit_id", "ts.scheduled_start"),
-    p.scope,
-  );
+  // Upcoming sessions from the one schedule reader; those a published run wrote (sessions carried from
+  // before the first run have no run).
+  const sessions = (await scheduleSessions({ scope: p.scope, from: now }, k)).filter((s) => s.runId !== null);
   if (sessions.length === 0) return 0;
-  const fromDay = from.slice(0, 10); // every session listed starts at or after `from`
+  const fromDay = dayOf(sessions[0].start); // sessions come in start order
   const [workerLeave, trainerLeave, maintenance] = await Promise.all([
     k("worker_leave").where("ends_on", ">=", fromDay).select("worker_id as id", "starts_on", "ends_on"),
     k("trainer_leave").where("ends_on", ">=", fromDay).select("trainer_id as id", "starts_on", "ends_on"),
@@ -198,8 +186,8 @@ async function sessionsHitByAbsence(p: Principal, now: Instant | Date, k: Db): P
   const hit = (m: Map<number, { starts_on: string; ends_on: string }[]>, id: number | null, day: string) =>
     id !== null && (m.get(id) ?? []).some((r) => r.starts_on <= day && day <= r.ends_on);
   return sessions.filter((s) => {
-    const day = String(s.scheduled_start).slice(0, 10);
-    return hit(wl, s.worker_id, day) || hit(tl, s.trainer_id, day) || hit(mw, s.device_unit_id, day);
+    const day = dayOf(s.start);
+    return hit(wl, s.workerId, day) || hit(tl, s.trainerId, day) || hit(mw, s.deviceUnitId, day);
   }).length;
 }
 
