@@ -4,7 +4,15 @@ import path from "node:path";
 import ExcelJS from "exceljs";
 import { afterAll, beforeAll, describe, expect, inject, it } from "vitest";
 import { computeTrace, parseTrace } from "~/compute/trace-parsing";
-import { type Browserless, PERSONA, pageText, signIn, testDb, useStackDatabaseInProcess } from "./helpers";
+import {
+  type Browserless,
+  freshConsentedWorker,
+  PERSONA,
+  pageText,
+  signIn,
+  testDb,
+  useStackDatabaseInProcess,
+} from "./helpers";
 
 // Assessment area against the running stack and the seeded demo (seeds/01, 02).
 // Outside references named beside the checks: Node's crypto for SHA-256, exceljs for reading the export,
@@ -33,25 +41,6 @@ async function workerByNumber(n: string) {
   return k("workers").where({ employee_number: n }).first();
 }
 
-/** A worker with no consent records and no assessment data, given assessment consent through the app. */
-async function freshConsentedWorker(): Promise<number> {
-  const w = await k("workers")
-    .where({ stage: "invited" })
-    .whereNotExists(k("consent_records").whereRaw("consent_records.worker_id = workers.id"))
-    .whereNotExists(k("assessment_sessions").whereRaw("assessment_sessions.worker_id = workers.id"))
-    .orderBy("id", "desc")
-    .first("id");
-  const me = await k("users").where({ email: PERSONA.assessor }).first("id");
-  const res = await assessor.postForm(`/assess/workers/${w.id}`, {
-    intent: "consent",
-    purposes: ["assessment"],
-    witnessUserId: String(me.id),
-    confirmRead: "on",
-  });
-  expect(res.status).toBe(200);
-  return w.id;
-}
-
 describe("refusals: coordinator, manager and admin never get assessment data", () => {
   it("answers 403 to coordinator, manager and admin on a worker record, a session page and the battery pages", async () => {
     const session = await k("assessment_sessions").orderBy("id").first("id", "worker_id");
@@ -74,7 +63,7 @@ describe("refusals: coordinator, manager and admin never get assessment data", (
   });
 
   it("refuses coordinator and manager actions on consent and assessments, and nothing is written", async () => {
-    const workerId = await freshConsentedWorker();
+    const workerId = await freshConsentedWorker(assessor);
     const before = await k("consent_records").where({ worker_id: workerId }).count({ n: "*" }).first();
     for (const who of [PERSONA.coordinator, PERSONA.manager]) {
       const { client } = await signIn(who);
@@ -466,7 +455,7 @@ describe("consent, baseline battery and withdrawal", () => {
   });
 
   it("shows the parse errors of a bad trace and stores nothing; refuses a file over the size cap", async () => {
-    const workerId = await freshConsentedWorker();
+    const workerId = await freshConsentedWorker(assessor);
     const s = await assessor.postForm(`/assess/workers/${workerId}`, { intent: "session", assessedOn: "2026-11-28" });
     const url = s.headers.get("Location")!;
     const sessionId = Number(url.split("/").pop());
@@ -516,7 +505,7 @@ describe("consent, baseline battery and withdrawal", () => {
   });
 
   it("asks for renewed consent when a new text version is in force", async () => {
-    const worker = { id: await freshConsentedWorker() };
+    const worker = { id: await freshConsentedWorker(assessor) };
     const me = await k("users").where({ email: PERSONA.assessor }).first("id");
     await assessor.postForm(`/assess/workers/${worker.id}`, {
       intent: "consent",

@@ -1,5 +1,5 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { type Browserless, baseUrl, PERSONA, pageText, signIn, testDb } from "./helpers";
+import { type Browserless, baseUrl, freshAssessmentSession, PERSONA, pageText, signIn, testDb } from "./helpers";
 
 // Crafted requests get a 400 (or 422 for a file's content) with a message naming the field or row, never a 500,
 // and change nothing: prototype keys as sort columns, malformed multipart bodies, out-of-range numbers in a
@@ -56,30 +56,9 @@ describe("list pages", () => {
   });
 });
 
-/** A worker given assessment consent through the app, with a new assessment session; returns its URL. */
-async function freshSession(): Promise<string> {
-  const w = await k("workers")
-    .where({ stage: "invited" })
-    .whereNotExists(k("consent_records").whereRaw("consent_records.worker_id = workers.id"))
-    .whereNotExists(k("assessment_sessions").whereRaw("assessment_sessions.worker_id = workers.id"))
-    .orderBy("id")
-    .first("id");
-  const me = await k("users").where({ email: PERSONA.assessor }).first("id");
-  const c = await assessor.postForm(`/assess/workers/${w.id}`, {
-    intent: "consent",
-    purposes: ["assessment"],
-    witnessUserId: String(me.id),
-    confirmRead: "on",
-  });
-  expect(c.status).toBe(200);
-  const s = await assessor.postForm(`/assess/workers/${w.id}`, { intent: "session", assessedOn: "2026-11-28" });
-  expect(s.status).toBe(302);
-  return s.headers.get("Location")!;
-}
-
 describe("uploads", () => {
   it("answer a malformed multipart body with 400 and a message naming the file field, writing nothing", async () => {
-    const sessionUrl = await freshSession();
+    const sessionUrl = await freshAssessmentSession(assessor, "first");
     const before = { traces: await count("trace_uploads"), rosters: await count("roster_imports") };
     const bodies: [string, string][] = [
       ["multipart/form-data; boundary=----x", '------x\r\nContent-Disposition: form-data; name="intent"\r\n\r\nupl'],
@@ -101,7 +80,7 @@ describe("uploads", () => {
   });
 
   it("refuses a force trace of huge values naming the row and column, and a huge typed score naming the measure", async () => {
-    const sessionUrl = await freshSession();
+    const sessionUrl = await freshAssessmentSession(assessor, "first");
     const sessionId = Number(sessionUrl.split("/").pop());
     const before = { traces: await count("trace_uploads"), results: await count("assessment_results") };
     const csv = "target,produced\n1e200,1e200\n2e200,2.1e200\n3e200,2.9e200\n4e200,4.2e200\n";

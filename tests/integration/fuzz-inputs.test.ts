@@ -2,7 +2,7 @@ import fc from "fast-check";
 import { UNSAFE_decodeViaTurboStream as decodeTurboStream } from "react-router";
 import { beforeAll, describe, expect, it } from "vitest";
 import { STAGES } from "~/domain/stages";
-import { type Browserless, PERSONA, pageText, signIn, tableNames, testDb } from "./helpers";
+import { type Browserless, freshAssessmentSession, PERSONA, pageText, signIn, tableNames, testDb } from "./helpers";
 
 // Generated crafted input (fast-check, fixed seeds so a failure replays) against every list page's query
 // parameters and every upload endpoint. For each request: never a 5xx; a refused request (4xx) changes no
@@ -124,28 +124,6 @@ describe("fuzz: list pages", () => {
   }, 120_000);
 });
 
-/** A consented worker's new assessment session (the trace upload endpoint), made through the app. */
-async function sessionUrl(): Promise<string> {
-  const w = await k("workers")
-    .where({ stage: "invited" })
-    .whereNotExists(k("consent_records").whereRaw("consent_records.worker_id = workers.id"))
-    .whereNotExists(k("assessment_sessions").whereRaw("assessment_sessions.worker_id = workers.id"))
-    .orderBy("id", "desc")
-    .first("id");
-  const me = await k("users").where({ email: PERSONA.assessor }).first("id");
-  const assessor = clients.assessor;
-  const c = await assessor.postForm(`/assess/workers/${w.id}`, {
-    intent: "consent",
-    purposes: ["assessment"],
-    witnessUserId: String(me.id),
-    confirmRead: "on",
-  });
-  expect(c.status).toBe(200);
-  const s = await assessor.postForm(`/assess/workers/${w.id}`, { intent: "session", assessedOn: "2026-11-28" });
-  expect(s.status).toBe(302);
-  return s.headers.get("Location")!;
-}
-
 const cell = fc.oneof(
   fc.double().map(String),
   fc.integer().map(String),
@@ -197,7 +175,7 @@ describe("fuzz: upload endpoints", () => {
   it("never answer 5xx to generated bodies; refusals write nothing and name the file, field or row", async () => {
     const endpoints = [
       {
-        path: await sessionUrl(),
+        path: await freshAssessmentSession(clients.assessor),
         field: "trace",
         names: /"row":\d+|"column":"|Trace file:|Trace kind:|Sample rate:|Intent:/,
       },

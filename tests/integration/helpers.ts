@@ -2,7 +2,7 @@ import fs from "node:fs";
 import os from "node:os";
 import path from "node:path";
 import knex, { type Knex } from "knex";
-import { inject } from "vitest";
+import { expect, inject } from "vitest";
 import { knexConfig } from "../../knexfile";
 
 // Helpers for integration tests against the running stack (see global-setup.ts).
@@ -186,4 +186,35 @@ export function pageText(html: string, options: { dropScripts?: boolean } = {}):
     .replace(/&amp;/g, "&")
     .replace(/&lt;/g, "<")
     .replace(/&gt;/g, ">");
+}
+
+/**
+ * A worker with no consent records and no assessment data, given assessment consent by `assessor` through the
+ * app (the demo assessor persona witnesses). `pick`: the first such worker by id, or the last.
+ */
+export async function freshConsentedWorker(assessor: Browserless, pick: "first" | "last" = "last"): Promise<number> {
+  const k = testDb();
+  const w = await k("workers")
+    .where({ stage: "invited" })
+    .whereNotExists(k("consent_records").whereRaw("consent_records.worker_id = workers.id"))
+    .whereNotExists(k("assessment_sessions").whereRaw("assessment_sessions.worker_id = workers.id"))
+    .orderBy("id", pick === "first" ? "asc" : "desc")
+    .first("id");
+  const me = await k("users").where({ email: PERSONA.assessor }).first("id");
+  const res = await assessor.postForm(`/assess/workers/${w.id}`, {
+    intent: "consent",
+    purposes: ["assessment"],
+    witnessUserId: String(me.id),
+    confirmRead: "on",
+  });
+  expect(res.status).toBe(200);
+  return w.id;
+}
+
+/** A new assessment session of a freshly consented worker, made through the app; returns its page URL. */
+export async function freshAssessmentSession(assessor: Browserless, pick: "first" | "last" = "last"): Promise<string> {
+  const id = await freshConsentedWorker(assessor, pick);
+  const s = await assessor.postForm(`/assess/workers/${id}`, { intent: "session", assessedOn: "2026-11-28" });
+  expect(s.status).toBe(302);
+  return s.headers.get("Location")!;
 }
