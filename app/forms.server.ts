@@ -10,8 +10,11 @@ import { type ActionResult, parseWith } from "~/schemas/form";
 // with several forms, a discriminated union on `intent`) is parsed once; schema issues and a thrown
 // UserError both come back as conform's SubmissionResult, so the form shows them at the field.
 
-/** What a successful action hands back: the notice to show, or the notice plus data for the page. */
-export type Done<T> = string | { notice: string | null; payload: T };
+/**
+ * What a successful action hands back: the notice to show, or the notice plus data for the page (with a
+ * status of its own where the data report a refusal, e.g. 422 for a file's row-by-row problems).
+ */
+export type Done<T> = string | { notice: string | null; payload: T; status?: number };
 
 /** Parse form data with the shared schema. Values stay strings: the schemas do their own coercion. */
 export function parseSubmission<S extends z.ZodType>(formData: FormData | URLSearchParams, schema: S) {
@@ -52,9 +55,11 @@ export async function formAction<S extends z.ZodType, T = undefined>(
   try {
     const done = await run(submission.value as z.output<S>);
     const result = submission.reply();
-    return typeof done === "string"
-      ? ({ intent, result, notice: done } satisfies ActionResult<T>)
-      : ({ intent, result, notice: done.notice, payload: done.payload } satisfies ActionResult<T>);
+    if (typeof done === "string") return data<ActionResult<T>>({ intent, result, notice: done });
+    return data<ActionResult<T>>(
+      { intent, result, notice: done.notice, payload: done.payload },
+      { status: done.status ?? 200 },
+    );
   } catch (e) {
     return failed<T>(intent, submission, e);
   }
