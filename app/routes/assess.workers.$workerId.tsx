@@ -4,6 +4,7 @@ import { can } from "~/auth/permissions";
 import { consentText, StageBadge } from "~/components/badges";
 import { FormError, Notice, SelectField, TextArea, TextField } from "~/components/fields";
 import { ProfileChart, type ProfilePoint } from "~/components/profile-chart";
+import { SwayMethod } from "~/components/sway-method";
 import { todayIn } from "~/dates";
 import { CONSENT_PURPOSES } from "~/domain/consent-purposes";
 import { UserError } from "~/errors";
@@ -83,6 +84,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     consent,
     history,
     points,
+    hasSway: (latest?.results ?? []).some((r) => r.code.startsWith("sway.")),
     latestOn: latest?.assessedOn ?? null,
     sessions: sessions
       .map((s) => ({
@@ -171,6 +173,7 @@ export default function WorkerRecord({ loaderData }: Route.ComponentProps) {
     consent,
     history,
     points,
+    hasSway,
     latestOn,
     sessions,
     changes,
@@ -383,6 +386,7 @@ export default function WorkerRecord({ loaderData }: Route.ComponentProps) {
           }
         />
       </section>
+      {hasSway && <SwayMethod />}
 
       {changes.length > 0 && (
         <section className="card grid gap-3" aria-labelledby="change-h">

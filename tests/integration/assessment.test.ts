@@ -420,6 +420,9 @@ describe("consent, baseline battery and withdrawal", () => {
     const html = await page.text();
     expect(html).toContain('data-testid="profile-table"');
     expect(text(html)).toContain("Sway 95 % ellipse area");
+    // Where sway measures appear, so does how they were computed, with its sources.
+    expect(text(html)).toContain("How the sway measures were computed");
+    expect(text(html)).toContain("Prieto et al. (1996), IEEE Transactions on Biomedical Engineering 43:956–966");
     expect(await countLog()).toBe(logged + 1);
     const readLog = await k("access_log")
       .where({ worker_id: worker.id, actor_user_id: me.id })
