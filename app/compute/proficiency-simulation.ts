@@ -12,6 +12,7 @@
 import { type CurveFit, curveScore } from "./curve";
 import { firstProficientIndex, type ProficiencyCriterion } from "./proficiency-rule";
 import { gaussianSource, mulberry32 } from "./seeded-random";
+import { normalCdf } from "./student-t";
 
 export interface SimulationInput {
   fit: CurveFit;
@@ -22,9 +23,9 @@ export interface SimulationInput {
   sessionHours: number;
   /** Task scores already logged, in order (their tail carries a run in progress). */
   loggedScores: number[];
-  draws?: number; // default 4000
+  draws?: number; // default 2000
   seed?: number; // default 20261205
-  /** Sessions simulated at most per course (default 500); courses not done by then count as not reached. */
+  /** Sessions simulated at most per course (default 300); courses not done by then count as not reached. */
   maxSessions?: number;
   /** Draw σ and the curve parameters per course (default true); false = the fitted curve and σ̂ only. */
   parameterUncertainty?: boolean;
@@ -41,14 +42,16 @@ export interface SimulatedRemaining {
   seed: number;
   /** Parameter draws refused for a non-positive rate (redrawn). */
   redrawn: number;
+  /** Courses counted as not done without simulation: their curve cannot meet the rule (bound below 1e-9). */
+  pruned: number;
 }
 
 export const DEFAULT_SIMULATION_SEED = 20261205;
 
 export function simulateRemaining(input: SimulationInput): SimulatedRemaining {
-  const draws = input.draws ?? 4000;
+  const draws = input.draws ?? 2000;
   const seed = input.seed ?? DEFAULT_SIMULATION_SEED;
-  const maxSessions = input.maxSessions ?? 500;
+  const maxSessions = input.maxSessions ?? 300;
   const { fit, criterion, hoursDone, sessionHours } = input;
   if (!Number.isInteger(draws) || draws < 1) throw new RangeError(`draws must be a whole number ≥ 1, got ${draws}`);
   if (!Number.isInteger(maxSessions) || maxSessions < 1)
@@ -77,14 +80,14 @@ export function simulateRemaining(input: SimulationInput): SimulatedRemaining {
 
   const remaining: number[] = [];
   let redrawn = 0;
+  let pruned = 0;
   const block = Math.max(16, 2 * k);
+  const sequence: number[] = []; // reused: carried scores, then one block of simulated sessions
   for (let d = 0; d < draws; d++) {
     let sigma = fit.residualSD;
     let curve = { kind: fit.kind, asymptote: fit.asymptote, start: fit.start, rate: fit.rate };
     if (chol) {
-      let chi2 = 0;
-      for (let i = 0; i < df; i++) chi2 += gauss() ** 2;
-      const scale = Math.sqrt(df / chi2); // σ/σ̂
+      const scale = Math.sqrt(df / chiSquare(df, uniform, gauss)); // σ/σ̂
       sigma = fit.residualSD * scale;
       for (let attempt = 0; ; attempt++) {
         const z = estimate.map(() => gauss());
@@ -105,26 +108,49 @@ export function simulateRemaining(input: SimulationInput): SimulatedRemaining {
         if (attempt >= 99) throw new RangeError("the curve's rate is not clearly positive; no simulation is possible");
       }
     }
+    // A rising curve stays below its asymptote, so each session clears the criterion with probability at
+    // most p = Φ((asymptote − T)/σ) and the run completes within the horizon with probability at most
+    // maxSessions·p^k. Below 1e-9 the course counts as not done without simulating it.
+    if (curve.start <= curve.asymptote && sigma > 0) {
+      const p = normalCdf((curve.asymptote - criterion.scoreThreshold) / sigma);
+      if (maxSessions * p ** k < 1e-9) {
+        pruned++;
+        continue;
+      }
+    }
     // Continue the log block by block; `carry` (at most k − 1 scores) carries a run in progress.
-    let carry = loggedTail;
+    let carried = loggedTail.length;
+    for (let i = 0; i < carried; i++) sequence[i] = loggedTail[i];
     let done = 0;
     while (done < maxSessions) {
       const count = Math.min(block, maxSessions - done);
-      const sequence = [...carry];
+      sequence.length = carried + count;
       for (let j = 1; j <= count; j++) {
-        sequence.push(curveScore(curve, hoursDone + (done + j) * sessionHours) + sigma * gauss());
+        sequence[carried + j - 1] = curveScore(curve, hoursDone + (done + j) * sessionHours) + sigma * gauss();
       }
       const at = firstProficientIndex(sequence, criterion);
       if (at >= 0) {
-        remaining.push((done + at - carry.length + 1) * sessionHours);
+        remaining.push((done + at - carried + 1) * sessionHours);
         break;
       }
       done += count;
-      carry = sequence.slice(sequence.length - (k - 1));
+      // The last k − 1 scores start the next block.
+      const keep = Math.min(k - 1, sequence.length);
+      for (let i = 0; i < keep; i++) sequence[i] = sequence[sequence.length - keep + i];
+      carried = keep;
     }
   }
   remaining.sort((a, b) => a - b);
-  return { remainingHours: remaining, draws, reachedShare: remaining.length / draws, sessionHours, maxSessions, seed, redrawn };
+  return {
+    remainingHours: remaining,
+    draws,
+    reachedShare: remaining.length / draws,
+    sessionHours,
+    maxSessions,
+    seed,
+    redrawn,
+    pruned,
+  };
 }
 
 /**
@@ -136,6 +162,30 @@ export function simulatedQuantile(sim: SimulatedRemaining, q: number): number | 
   if (!(q > 0 && q < 1)) throw new RangeError(`quantile must be strictly between 0 and 1, got ${q}`);
   const rank = Math.ceil(q * sim.draws); // 1-based
   return rank <= sim.remainingHours.length ? sim.remainingHours[rank - 1] : null;
+}
+
+/**
+ * A χ²(df) draw as 2·Gamma(df/2) by Marsaglia & Tsang (2000), ACM TOMS 26:363–372; for shape < 1 the
+ * boost Gamma(a) = Gamma(a + 1)·U^(1/a).
+ */
+export function chiSquare(df: number, uniform: () => number, gauss: () => number): number {
+  const shape = df / 2;
+  const a = shape < 1 ? shape + 1 : shape;
+  const d = a - 1 / 3;
+  const c = 1 / Math.sqrt(9 * d);
+  let gamma: number;
+  for (;;) {
+    const z = gauss();
+    const v = (1 + c * z) ** 3;
+    if (v <= 0) continue;
+    const u = uniform();
+    if (Math.log(u) < 0.5 * z * z + d - d * v + d * Math.log(v)) {
+      gamma = d * v;
+      break;
+    }
+  }
+  if (shape < 1) gamma *= uniform() ** (1 / shape);
+  return 2 * gamma;
 }
 
 /** Lower-triangular L with LLᵀ = S, or null when S is not positive definite (or has NaN). */

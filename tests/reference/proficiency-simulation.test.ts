@@ -1,6 +1,7 @@
 import { describe, expect, it } from "vitest";
 import type { CurveFit } from "~/compute/curve";
-import { simulatedQuantile, simulateRemaining } from "~/compute/proficiency-simulation";
+import { chiSquare, simulatedQuantile, simulateRemaining } from "~/compute/proficiency-simulation";
+import { gaussianSource, mulberry32 } from "~/compute/seeded-random";
 import { normalQuantile } from "~/compute/student-t";
 
 // A flat curve at score p with noise σ: each session is at or above the criterion T independently with
@@ -152,5 +153,21 @@ describe("simulateRemaining: seeded determinism and input checks", () => {
     const s = simulateRemaining({ ...base, fit: flatFit(0.6, 0.05), parameterUncertainty: false, maxSessions: 20 });
     expect(s.reachedShare).toBe(0);
     expect(simulatedQuantile(s, 0.5)).toBeNull();
+  });
+});
+
+describe("chiSquare (Marsaglia & Tsang 2000 gamma sampler, χ²(df) = 2·Gamma(df/2))", () => {
+  it.each([1, 3, 12])("χ²(%i) draws have mean df and variance 2·df (within 4 standard errors)", (df) => {
+    const uniform = mulberry32(100 + df);
+    const gauss = gaussianSource(uniform);
+    const n = 40000;
+    const draws = Array.from({ length: n }, () => chiSquare(df, uniform, gauss));
+    const mean = draws.reduce((s, v) => s + v, 0) / n;
+    const variance = draws.reduce((s, v) => s + (v - mean) ** 2, 0) / (n - 1);
+    expect(Math.abs(mean - df)).toBeLessThan(4 * Math.sqrt((2 * df) / n));
+    // SE of the sample variance ≈ √((μ₄ − σ⁴)/n), with χ²'s fourth central moment μ₄ = 12·df·(df + 4).
+    const seVariance = Math.sqrt((12 * df * (df + 4) - 4 * df * df) / n);
+    expect(Math.abs(variance - 2 * df)).toBeLessThan(4 * seVariance);
+    expect(draws.every((v) => v > 0)).toBe(true);
   });
 });
