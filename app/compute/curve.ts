@@ -336,9 +336,7 @@ export function fitPowerFunction(
     offset,
     levelFixed: !free,
     parameterNames: free ? ["level", "scale", "exponent"] : ["scale", "exponent"],
-    standardErrors: free
-      ? { level: se[0], scale: se[1], exponent: se[2] }
-      : { scale: se[0], exponent: se[1] },
+    standardErrors: free ? { level: se[0], scale: se[1], exponent: se[2] } : { scale: se[0], exponent: se[1] },
     covariance: solution.covariance,
     residualSS: solution.residualSS,
     residualSD: Math.sqrt(solution.dfResidual > 0 ? solution.residualSS / solution.dfResidual : NaN),
@@ -486,7 +484,13 @@ export function chooseProgressCurve(x: number[], y: number[]): CurveChoice {
   const weights = withAicc.length ? akaikeWeights(withAicc.map((s) => s.aicc as number)) : [];
   const candidates: CurveCandidate[] = scored.map((s) => {
     const at = withAicc.indexOf(s);
-    return { kind: s.kind, converged: s.converged, residualSS: s.residualSS, aicc: s.aicc, weight: at >= 0 ? weights[at] : null };
+    return {
+      kind: s.kind,
+      converged: s.converged,
+      residualSS: s.residualSS,
+      aicc: s.aicc,
+      weight: at >= 0 ? weights[at] : null,
+    };
   });
   if (withAicc.length === 2) {
     const [e, p] = withAicc;

@@ -239,8 +239,7 @@ export function combineRemainingHours(input: {
   }
   if (evidence.status === "uninformative") {
     // The prior alone: its own quantiles (t where the baseline is t), else the normal on the log scale.
-    const at =
-      prior.remainingAt ?? ((q: number) => Math.exp(prior.logMean + normalQuantile(q) * prior.logSD));
+    const at = prior.remainingAt ?? ((q: number) => Math.exp(prior.logMean + normalQuantile(q) * prior.logSD));
     return {
       status: "prior-only",
       remainingHours: at(0.5),

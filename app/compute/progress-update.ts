@@ -12,11 +12,7 @@ import {
   chooseProgressCurve,
   curveScore,
 } from "./curve";
-import {
-  type CurveSimulationSummary,
-  combineRemainingHours,
-  remainingFromBaseline,
-} from "./forecast-combine";
+import { type CurveSimulationSummary, combineRemainingHours, remainingFromBaseline } from "./forecast-combine";
 import type { ProficiencyCriterion } from "./proficiency-rule";
 
 export interface ProgressInput {
@@ -71,7 +67,9 @@ export function progressUpdate(input: ProgressInput): ProgressUpdate {
     if (!(s.cumulativeHours > 0) || !Number.isFinite(s.cumulativeHours))
       throw new RangeError(`session ${i + 1}: cumulative hours must be more than 0, got ${s.cumulativeHours}`);
     if (i > 0 && !(s.cumulativeHours >= input.sessions[i - 1].cumulativeHours))
-      throw new RangeError(`session ${i + 1}: cumulative hours go down (${s.cumulativeHours} after ${input.sessions[i - 1].cumulativeHours})`);
+      throw new RangeError(
+        `session ${i + 1}: cumulative hours go down (${s.cumulativeHours} after ${input.sessions[i - 1].cumulativeHours})`,
+      );
   });
   const prior = remainingFromBaseline(
     { logMean: input.baseline.logMean, logSD: input.baseline.logScale, df: input.baseline.df },

@@ -1,7 +1,8 @@
 import type { Principal } from "~/auth/guard.server";
 import { can } from "~/auth/permissions";
+import type { CurveKind } from "~/compute/curve";
 import { firstProficientIndex } from "~/compute/proficiency-rule";
-import { curvePoints } from "~/compute/progress-update";
+import { curvePoints, type ProgressUpdate } from "~/compute/progress-update";
 import { type Db, db, type TableRow } from "~/db.server";
 import type { Stage } from "~/domain/stages";
 import { conflict } from "~/errors";
@@ -243,7 +244,10 @@ export interface ProgressView {
     remainingPlanningHours: number | null;
     curveWeight: number | null;
     reason: string | null;
-    curve: { asymptote: number; start: number; rate: number; converged: boolean } | null;
+    curve: { kind: CurveKind; asymptote: number; start: number; rate: number; converged: boolean } | null;
+    /** Which progress curve was used and why (AICc of each candidate); null for forecasts stored before. */
+    curveChoice: ProgressUpdate["curveChoice"];
+    simulation: ProgressUpdate["simulation"];
     crossing: { hours: number; lower: number; upper: number } | null;
   } | null;
   curvePoints: { hours: number; score: number }[];
@@ -330,7 +334,9 @@ export async function progressView(
           remainingPlanningHours: f.remaining_planning_hours == null ? null : Number(f.remaining_planning_hours),
           curveWeight: pj?.curveWeight ?? null,
           reason: pj?.reason ?? null,
-          curve: pj?.curve ?? null,
+          curve: pj?.curve ? { kind: "exponential", ...pj.curve } : null,
+          curveChoice: pj?.curveChoice ?? null,
+          simulation: pj?.simulation ?? null,
           crossing: pj?.crossing ?? null,
         }
       : null,

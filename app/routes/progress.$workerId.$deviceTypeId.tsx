@@ -231,6 +231,7 @@ export default function ProgressPage({ loaderData }: Route.ComponentProps) {
           threshold={v.criterion?.scoreThreshold ?? null}
           crossing={proficient ? null : (f?.crossing ?? null)}
         />
+        {f?.curve && <CurveMethod forecast={f} criterion={v.criterion} />}
       </section>
       {canLog && !proficient && v.course?.status !== "paused" && v.course?.status !== "stopped" && (
         <section className="card" aria-labelledby="log-h">
@@ -307,5 +308,72 @@ export default function ProgressPage({ loaderData }: Route.ComponentProps) {
       </section>
       <DeviceCautions compact />
     </div>
+  );
+}
+
+const CURVE_NAMES = { exponential: "exponential", power: "power law" } as const;
+
+/** The "how this was computed" panel of the progress curve: which curve, why, and how remaining hours were found. */
+function CurveMethod({
+  forecast: f,
+  criterion,
+}: {
+  forecast: NonNullable<Route.ComponentProps["loaderData"]["view"]["forecast"]>;
+  criterion: { scoreThreshold: number; consecutiveSessions: number } | null;
+}) {
+  const curve = f.curve;
+  if (!curve) return null;
+  const choice = f.curveChoice;
+  const sim = f.simulation;
+  return (
+    <details className="mt-3 text-sm" data-testid="curve-method">
+      <summary className="cursor-pointer font-semibold">How this was computed</summary>
+      <div className="mt-2 grid gap-2">
+        <p data-testid="curve-chosen">
+          Curve used: <strong>{CURVE_NAMES[curve.kind]}</strong>
+          {choice ? ` (${choice.basis})` : ""}.{" "}
+          {curve.kind === "power"
+            ? "Score = asymptote − (asymptote − start) · (1 + hours)^(−rate)."
+            : "Score = asymptote − (asymptote − start) · e^(−rate · hours)."}{" "}
+          Fitted by least squares (Levenberg–Marquardt); asymptote {curve.asymptote.toFixed(3)}, start{" "}
+          {curve.start.toFixed(3)}, rate {curve.rate.toPrecision(3)}.
+        </p>
+        {choice?.candidates.some((c) => c.aicc !== null) && (
+          <ul className="list-disc pl-5">
+            {choice.candidates.map((c) => (
+              <li key={c.kind}>
+                {CURVE_NAMES[c.kind]}:{" "}
+                {c.aicc === null
+                  ? c.converged
+                    ? "no AICc"
+                    : "did not converge"
+                  : `AICc ${c.aicc.toFixed(1)}, Akaike weight ${(c.weight ?? 0).toFixed(2)}`}
+              </li>
+            ))}
+          </ul>
+        )}
+        <p>
+          Exponential and power-law learning curves are both fitted (Heathcote, Brown &amp; Mewhort 2000, Psychonomic
+          Bulletin &amp; Review 7:185–207) and the one with the lower AICc is used (Burnham &amp; Anderson 2002,{" "}
+          <em>Model Selection and Multimodel Inference</em>, ch. 2: AICc = n·ln(RSS/n) + 2K + 2K(K + 1)/(n − K − 1), K =
+          curve parameters + 1).
+        </p>
+        {sim ? (
+          <p data-testid="curve-simulation">
+            Remaining hours: {sim.draws.toLocaleString("en")} simulated courses (seed {sim.seed}) continue this log in
+            sessions of {sim.sessionHours.toFixed(2)} h until{" "}
+            {criterion
+              ? `${criterion.consecutiveSessions} session${criterion.consecutiveSessions === 1 ? "" : "s"} in a row score at least ${criterion.scoreThreshold}`
+              : "the proficiency rule is met"}
+            , with the session-to-session scatter of the scores around the curve and the uncertainty of the curve itself
+            drawn anew for each course; {Math.round(sim.reachedShare * 100)} % met the rule within {sim.maxSessions}{" "}
+            sessions. This is combined with the baseline forecast by inverse-variance weighting on the log scale (Gelman
+            et al., <em>Bayesian Data Analysis</em>, 3rd ed., §2.5).
+          </p>
+        ) : (
+          <p>The curve does not yet inform the remaining hours; the figures come from the baseline forecast alone.</p>
+        )}
+      </div>
+    </details>
   );
 }

@@ -115,7 +115,15 @@ describe("simulateRemaining: the k-in-a-row rule against the exact waiting time 
 });
 
 describe("simulateRemaining: seeded determinism and input checks", () => {
-  const fit = { ...flatFit(0.82, 0.05), covariance: [[1e-4, 0, 0], [0, 1e-4, 0], [0, 0, 1e-4]], dfResidual: 8 };
+  const fit = {
+    ...flatFit(0.82, 0.05),
+    covariance: [
+      [1e-4, 0, 0],
+      [0, 1e-4, 0],
+      [0, 0, 1e-4],
+    ],
+    dfResidual: 8,
+  };
   const base = {
     fit,
     criterion: { scoreThreshold: 0.8, consecutiveSessions: 2 },
