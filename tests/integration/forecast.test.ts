@@ -8,7 +8,7 @@ import { reliabilityByMeasure } from "~/models/reliability-report.server";
 import { ERASURE_STEPS } from "~/models/withdrawal.server";
 import { workerForecastSchema } from "~/schemas/forecast";
 import { independentLogLikelihood, nelderMeadMaximise } from "../reference/censored-likelihood";
-import { baseUrl, PERSONA, signIn, testDb } from "./helpers";
+import { baseUrl, PERSONA, pageText, signIn, testDb } from "./helpers";
 
 const jStat = jStatLib as { binomial: { cdf(x: number, n: number, p: number): number } };
 
@@ -526,6 +526,52 @@ describe("logging sessions: cumulative hours, proficiency, stage and forecast in
     const more = await client.postForm(path, { intent: "log", durationHours: "1", taskScore: "0.9" });
     expect(more.status).toBe(409);
     expect(await more.text()).toContain("already reached proficiency");
+  });
+
+  it("a course in training is forecast by the simulated k-in-a-row rule under the curve chosen by AICc, and the page says which", async () => {
+    // A seeded course whose curve informs the forecast (status "combined").
+    const row = await k("forecasts as f")
+      .join("device_courses as c", function () {
+        this.on("c.worker_id", "f.worker_id").andOn("c.device_type_id", "f.device_type_id");
+      })
+      .where({ "f.progress_status": "combined", "c.status": "training" })
+      .orderBy("f.id")
+      .first("f.*");
+    expect(row).toBeTruthy();
+    const stored = JSON.parse(row.progress);
+    // Both curves were fitted; the one kept has the lower AICc (recomputed here from each candidate's RSS,
+    // AICc = n·ln(RSS/n) + 2K + 2K(K + 1)/(n − K − 1), K = 4; Burnham & Anderson 2002).
+    const sessions = await k("training_sessions")
+      .where({ worker_id: row.worker_id, device_type_id: row.device_type_id, status: "attended" })
+      .whereNotNull("task_score")
+      .orderBy([{ column: "cumulative_hours" }, { column: "id" }])
+      .select("duration_hours", "cumulative_hours");
+    const n = sessions.length;
+    const candidates = stored.curveChoice.candidates as { kind: string; residualSS: number; aicc: number | null }[];
+    expect(candidates.map((c) => c.kind).sort()).toEqual(["exponential", "power"]);
+    for (const c of candidates) {
+      if (c.aicc !== null) expect(c.aicc).toBeCloseTo(n * Math.log(c.residualSS / n) + 8 + 40 / (n - 5), 8);
+    }
+    const scored = candidates.filter((c) => c.aicc !== null);
+    if (scored.length === 2) {
+      const best = scored.reduce((a, b) => ((a.aicc as number) <= (b.aicc as number) ? a : b));
+      expect(stored.curve.kind).toBe(best.kind);
+    }
+    // The simulation continued the log in sessions of the median logged length.
+    const lengths = sessions.map((s) => Number(s.duration_hours)).sort((a, b) => a - b);
+    const mid = lengths.length / 2;
+    const medianLength = lengths.length % 2 ? lengths[Math.floor(mid)] : (lengths[mid - 1] + lengths[mid]) / 2;
+    expect(stored.simulation.sessionHours).toBeCloseTo(medianLength, 9);
+    expect(stored.simulation.draws).toBe(2000);
+    expect(Number(row.remaining_planning_hours)).toBeGreaterThan(Number(row.remaining_hours));
+
+    const { client } = await signIn(PERSONA.assessor);
+    const text = pageText(await (await client.request(`/progress/${row.worker_id}/${row.device_type_id}`)).text());
+    expect(text).toContain(`Curve used: ${stored.curve.kind === "power" ? "power law" : "exponential"}`);
+    expect(text).toContain("2,000 simulated courses");
+    expect(text).toContain(
+      `${(await k("proficiency_criteria").where({ device_type_id: row.device_type_id }).first()).consecutive_sessions} sessions in a row score at least`,
+    );
   });
 
   it("trainers reach only trainees on their own schedule", async () => {
