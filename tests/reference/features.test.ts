@@ -15,6 +15,7 @@ import {
   trackingError,
   zScore,
 } from "~/compute/features";
+import { computeTrace, parseTrace } from "~/compute/trace-parsing";
 import { mulberry32 } from "../../app/compute/seeded-random";
 
 /** Standard normal draws by the Box–Muller transform (Box & Muller 1958). */
@@ -228,6 +229,28 @@ describe("trackingError", () => {
   it("reports a negative lag when the cursor leads", () => {
     const cursor = t.map((s) => Math.sin(2 * Math.PI * f * (s + 5 / fs)));
     expect(trackingError(target, cursor, fs).lagSeconds).toBeCloseTo(-0.1, 12);
+  });
+
+  it("scores the size of the lag: 0.1 s ahead of the target scores the same as 0.1 s behind it", () => {
+    // The signed lag has no better direction (anticipation is not skill); the scored output is |lag|.
+    expect(MEASURE_DIRECTIONS["tracking.lagSeconds"].higherIsBetter).toBeNull();
+    expect(MEASURE_DIRECTIONS["tracking.lagMagnitudeSeconds"].higherIsBetter).toBe(false);
+    const measured = (shift: number) => {
+      const rows = t.map((s, i) => [s, target[i], Math.sin(2 * Math.PI * f * (s - shift))]);
+      const parsed = parseTrace("tracking", [["t", "target", "cursor"], ...rows.map((r) => r.map(String))]);
+      if (!parsed.ok) throw new Error("trace did not parse");
+      return computeTrace("tracking", parsed);
+    };
+    const ahead = measured(-0.1);
+    const behind = measured(0.1);
+    expect(ahead["tracking.lagSeconds"]).toBeCloseTo(-0.1, 12);
+    expect(behind["tracking.lagSeconds"]).toBeCloseTo(0.1, 12);
+    expect(ahead["tracking.lagMagnitudeSeconds"]).toBeCloseTo(0.1, 12);
+    const z = (v: number) => zScore(v, 0.2, 0.06, false);
+    expect(z(ahead["tracking.lagMagnitudeSeconds"])).toBeCloseTo(z(behind["tracking.lagMagnitudeSeconds"]), 12);
+    // A bigger lead scores worse than a smaller delay.
+    const farAhead = measured(-0.3);
+    expect(z(farAhead["tracking.lagMagnitudeSeconds"])).toBeLessThan(z(behind["tracking.lagMagnitudeSeconds"]));
   });
 
   it("recovers the delay of a scaled, offset copy of an irregular target; RMSE as simple-statistics", () => {
