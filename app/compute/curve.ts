@@ -476,7 +476,8 @@ export function chooseProgressCurve(x: number[], y: number[]): CurveChoice {
     const kind: CurveKind = i === 0 ? "exponential" : "power";
     if (!f) return { kind, converged: false, residualSS: NaN, aicc: null as number | null, fit: null };
     const K = f.parameterNames.length + 1;
-    const usable = f.converged && Number.isFinite(f.residualSS);
+    // A learning curve rises towards its asymptote: a fit with a non-positive rate is not one.
+    const usable = f.converged && Number.isFinite(f.residualSS) && f.rate > 0;
     const value = usable && f.n > K + 1 ? aicc(leastSquaresAic(f.residualSS, f.n, K), f.n, K) : null;
     return { kind, converged: f.converged, residualSS: f.residualSS, aicc: value, fit: f as CurveFit };
   });
@@ -498,13 +499,21 @@ export function chooseProgressCurve(x: number[], y: number[]): CurveChoice {
       ? { fit: p.fit as CurveFit, candidates, basis: "lower AICc" }
       : { fit: exponential, candidates, basis: "lower AICc" };
   }
-  if (!exponential.converged && power?.converged) {
-    return { fit: power, candidates, basis: "the exponential fit did not converge" };
-  }
+  const isLearningCurve = (f: CurveFit | null) => Boolean(f?.converged && f.rate > 0);
   const K = exponential.parameterNames.length + 1;
-  const basis =
-    exponential.n <= K + 1
-      ? `too few sessions to compare curves by AICc (needs more than ${K + 1})`
-      : "the power-law fit did not converge";
-  return { fit: exponential, candidates, basis };
+  if (exponential.n <= K + 1) {
+    return {
+      fit: exponential,
+      candidates,
+      basis: `too few sessions to compare curves by AICc (needs more than ${K + 1})`,
+    };
+  }
+  if (!isLearningCurve(exponential) && power && isLearningCurve(power)) {
+    return { fit: power, candidates, basis: "the exponential fit did not converge to a rising curve" };
+  }
+  if (isLearningCurve(exponential)) {
+    return { fit: exponential, candidates, basis: "the power-law fit did not converge to a rising curve" };
+  }
+  // Neither is a learning curve: the exponential is returned marked as not converged, so it is not used.
+  return { fit: { ...exponential, converged: false }, candidates, basis: "neither curve converged to a rising curve" };
 }

@@ -106,6 +106,18 @@ describe("chooseProgressCurve", () => {
     expect(we + wp).toBeCloseTo(1, 14);
     expect(we).toBeGreaterThan(wp);
   });
+  it("a fit that bends upwards (rate ≤ 0) is not a learning curve and is never used", () => {
+    // Scores rising slightly faster than linearly: the power law fits it with a negative rate.
+    const x = [1, 2, 3, 4, 5, 6, 7, 8, 9, 10];
+    const y = x.map((h) => 0.3 + 0.004 * h ** 1.6);
+    const c = chooseProgressCurve(x, y);
+    const power = c.candidates.find((k) => k.kind === "power");
+    expect(fitPowerLaw(x, y).rate).toBeLessThan(0);
+    expect(power?.aicc).toBeNull();
+    expect(c.fit.kind === "power" && c.fit.converged).toBe(false);
+    if (c.fit.converged) expect(c.fit.rate).toBeGreaterThan(0);
+  });
+
   it("with 5 sessions AICc is undefined for K = 4 and the exponential is kept, saying why", () => {
     const few = chooseProgressCurve([1, 2, 3, 4, 5], [0.3, 0.45, 0.55, 0.62, 0.66]);
     expect(few.fit.kind).toBe("exponential");
