@@ -574,6 +574,20 @@ describe("logging sessions: cumulative hours, proficiency, stage and forecast in
     );
   });
 
+  it("a course whose chosen curve levels off below the criterion is flagged for review, with no number", async () => {
+    const flag = await k("review_flags").where({ kind: "plateau" }).whereNull("resolved_at").first();
+    expect(flag).toBeTruthy();
+    const f = await k("forecasts").where({ worker_id: flag.worker_id, device_type_id: flag.device_type_id }).first();
+    expect(f.progress_status).toBe("review");
+    expect(f.remaining_hours).toBeNull();
+    expect(f.remaining_planning_hours).toBeNull();
+    const stored = JSON.parse(f.progress);
+    const criterion = await k("proficiency_criteria").where({ device_type_id: flag.device_type_id }).first();
+    expect(stored.curve.asymptote).toBeLessThan(Number(criterion.score_threshold));
+    expect(flag.reason).toContain(`levels off at ${stored.curve.asymptote.toPrecision(3)}`);
+    expect(stored.simulation).toBeNull();
+  });
+
   it("trainers reach only trainees on their own schedule", async () => {
     const { client } = await signIn(PERSONA.trainer);
     const ines = (
