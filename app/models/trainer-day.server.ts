@@ -17,8 +17,7 @@ import {
 import { type Db, db, type TableRow } from "~/db.server";
 import type { Stage } from "~/domain/stages";
 import { conflict } from "~/errors";
-import type { NoShowInput, TrainerLogInput } from "~/schemas/session-log";
-import { adverseEventsFrom } from "~/schemas/session-log";
+import { adverseEventsFrom, type NoShowInput, SEVERE_STAYS, type TrainerLogInput } from "~/schemas/session-log";
 import { recordAccess } from "./access-log.server";
 import { eventsForSessions, notifyAssessorsOfSevereEvents, recordAdverseEvents } from "./adverse-events.server";
 import { setStage } from "./consent.server";
@@ -210,9 +209,6 @@ export interface UndoResult {
   eventsRemoved: number;
   findingsRemoved: number;
 }
-
-export const SEVERE_STAYS =
-  "This log reported a severe adverse event. Safety reports are never undone: the log, the event and the pause stay on record for the assessors' review. If something in it is wrong, tell the assessor who reviews the course.";
 
 /**
  * Why this trainer may not undo the mark on this session now (null: they may). The one owner of the undo

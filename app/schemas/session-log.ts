@@ -139,6 +139,10 @@ export function noShowText(reason: NoShowReason | null, note: string | null): st
   return reason === "other" && note ? `Other: ${note}` : NO_SHOW_LABELS[reason];
 }
 
+/** Why a log with a severe adverse event is never undone (said by the refusal and on the session page). */
+export const SEVERE_STAYS =
+  "This log reported a severe adverse event. Safety reports are never undone: the log, the event and the pause stay on record for the assessors' review. If something in it is wrong, tell the assessor who reviews the course.";
+
 /** Undo of the trainer's own last mark (log or no-show) of the day. */
 export const undoMarkSchema = z.object({
   intent: z.literal("undo", { message: "Choose what to record." }),
