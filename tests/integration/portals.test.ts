@@ -473,8 +473,9 @@ describe("the trainer's day and session log", () => {
     ).toBe(403);
     expect(await k("training_sessions").where({ id: notMine }).first()).toEqual(before);
     // Marking no-show on one of her own.
-    expect((await client.postForm(`/train/sessions/${mine}`, { intent: "no_show" })).status).toBe(302);
-    expect((await k("training_sessions").where({ id: mine }).first()).status).toBe("no_show");
+    expect((await client.postForm(`/train/sessions/${mine}`, { intent: "no_show", reason: "leave" })).status).toBe(200);
+    const marked = await k("training_sessions").where({ id: mine }).first();
+    expect([marked.status, marked.no_show_reason]).toEqual(["no_show", "leave"]);
   });
 
   it("logs a score through the forecast area's logSessionResult; a severe event pauses the worker and e-mails the site's assessors", async () => {
