@@ -3,7 +3,7 @@ import { describe, expect, inject, it } from "vitest";
 import { buildProblem } from "~/models/allocation-problem.server";
 import { runParametersSchema } from "~/schemas/allocation";
 import { readOutbox } from "../../scripts/smtp-catcher";
-import { PERSONA, signIn, testDb } from "./helpers";
+import { PERSONA, pageText, signIn, testDb, tickedBoxes } from "./helpers";
 
 // Worker and trainer portals against the running stack and the invented demo (seeds/07_portals_demo.ts:
 // two worker accounts among Ines Calloway's trainees, her scheduled sessions). Each test makes the rows it
@@ -303,16 +303,29 @@ describe("consent from the worker portal", () => {
     expect(page).toContain(text.body.slice(0, 40));
 
     // No confirmation: refused with the field named, nothing erased.
+    // Given: the form is a summary with "Change"; the withdrawal sits behind it, with the one confirmation pattern.
+    const planningCard = page.slice(
+      page.indexOf('data-testid="consent-planning"'),
+      page.indexOf('data-testid="consent-model"'),
+    );
+    expect(planningCard).toContain('data-testid="consent-change-planning"');
+    expect(planningCard).toContain('data-testid="withdraw-planning"');
+    expect(pageText(planningCard)).toContain(
+      "The erasure cannot be undone: erased data do not come back. Consent can be given again later",
+    );
+    expect(tickedBoxes(planningCard)).toEqual([]);
+
+    // No confirmation: refused with the field named, nothing erased.
     const unconfirmed = await client.postForm("/me/consent", { intent: "withdraw", purpose: "planning" });
     expect(unconfirmed.status).toBe(400);
-    expect(await unconfirmed.text()).toContain("Tick the box to confirm");
+    expect(pageText(await unconfirmed.text())).toContain("Confirm withdrawal: tick the box");
     expect(Number((await k("forecasts").where({ worker_id: me.id }).count({ n: "*" }).first())?.n)).toBeGreaterThan(0);
 
     // Confirmed, with another worker's id slipped into the form: only the signed-in worker is affected.
     const res = await client.postForm("/me/consent", {
       intent: "withdraw",
       purpose: "planning",
-      confirmErase: "on",
+      confirmWithdraw: "on",
       workerId: String(other.id),
     });
     expect(res.status).toBe(200);
@@ -374,9 +387,22 @@ describe("consent from the worker portal", () => {
     );
 
     // Withdrawing again: a clear refusal.
-    const again = await client.postForm("/me/consent", { intent: "withdraw", purpose: "planning", confirmErase: "on" });
+    const again = await client.postForm("/me/consent", {
+      intent: "withdraw",
+      purpose: "planning",
+      confirmWithdraw: "on",
+    });
     expect(again.status).toBe(409);
     expect(await again.text()).toContain("There is no given planning consent to withdraw.");
+
+    // Withdrawn: the give form is back, its box not ticked.
+    const regive = await (await client.request("/me/consent")).text();
+    const card = regive.slice(
+      regive.indexOf('data-testid="consent-planning"'),
+      regive.indexOf('data-testid="consent-model"'),
+    );
+    expect(card).toContain('name="confirmRead"');
+    expect(tickedBoxes(card)).toEqual([]);
 
     // Giving it again records a self-given consent (no witness) on the current text and brings the forecast back.
     const give = await client.postForm("/me/consent", { intent: "give", purpose: "planning", confirmRead: "on" });
