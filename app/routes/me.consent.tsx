@@ -3,9 +3,7 @@ import { ActionForm, ActionNotice, CheckboxField } from "~/components/fields";
 import { WithdrawConsent } from "~/components/withdraw-consent";
 import { formatInstantDay } from "~/dates";
 import { CONSENT_PURPOSES } from "~/domain/consent-purposes";
-import { conflict } from "~/errors";
 import { formAction } from "~/forms.server";
-import { ConsentInputError } from "~/models/consent.server";
 import { giveOwnConsent, myConsent, withdrawOwnConsent } from "~/models/self-service.server";
 import { workerTimeZone } from "~/models/sites.server";
 import { PURPOSE_LABELS } from "~/schemas/consent";
@@ -26,22 +24,16 @@ const consentForms = intents(giveOwnConsentSchema, withdrawOwnConsentSchema);
 export async function action({ request }: Route.ActionArgs) {
   const { p, workerId } = await requireOwnWorker(request, "self.consent");
   return formAction(await request.formData(), consentForms, async (v) => {
-    try {
-      if (v.intent === "give") {
-        await giveOwnConsent(workerId, v.purpose, p.user.id);
-        return `Thank you: ${v.purpose} consent is recorded.`;
-      }
-      const r = await withdrawOwnConsent(workerId, v.purpose, p.user.id);
-      const erased = Object.entries(r.erased)
-        .filter(([, n]) => n > 0)
-        .map(([k, n]) => `${n} ${k}`)
-        .join(", ");
-      return `Your ${v.purpose} consent is withdrawn.${erased ? ` Erased: ${erased}.` : ""}${r.sessionsCancelled ? ` ${r.sessionsCancelled} future session${r.sessionsCancelled === 1 ? "" : "s"} cancelled.` : ""}${r.coordinatorsNotified.length ? " Your training coordinator has been told." : ""} You can give it again at any time.`;
-    } catch (e) {
-      // The consent model still throws its own input error; it answers like any UserError.
-      if (e instanceof ConsentInputError) throw conflict(e.message, e.field);
-      throw e;
+    if (v.intent === "give") {
+      await giveOwnConsent(workerId, v.purpose, p.user.id);
+      return `Thank you: ${v.purpose} consent is recorded.`;
     }
+    const r = await withdrawOwnConsent(workerId, v.purpose, p.user.id);
+    const erased = Object.entries(r.erased)
+      .filter(([, n]) => n > 0)
+      .map(([k, n]) => `${n} ${k}`)
+      .join(", ");
+    return `Your ${v.purpose} consent is withdrawn.${erased ? ` Erased: ${erased}.` : ""}${r.sessionsCancelled ? ` ${r.sessionsCancelled} future session${r.sessionsCancelled === 1 ? "" : "s"} cancelled.` : ""}${r.coordinatorsNotified.length ? " Your training coordinator has been told." : ""} You can give it again at any time.`;
   });
 }
 

@@ -1,5 +1,7 @@
 import { z } from "zod";
 import { CONSENT_PURPOSES, type ConsentPurpose } from "~/domain/consent-purposes";
+import { sessionSchema } from "~/schemas/assessment";
+import { intents } from "~/schemas/form";
 
 export const PURPOSE_LABELS: Record<ConsentPurpose, string> = {
   assessment: "Assessment: baseline may be recorded",
@@ -59,3 +61,10 @@ export function withdrawalEffects(p: ConsentPurpose, reader: "worker" | "staff")
         : "I understand: this takes effect at once, and the erasure cannot be undone.",
   };
 }
+
+/** The forms of a worker's record (assessor): record consent, withdraw one purpose, start a session. */
+export const workerRecordSchema = intents(
+  recordConsentSchema.safeExtend({ intent: z.literal("consent") }),
+  withdrawConsentSchema.safeExtend({ intent: z.literal("withdraw") }),
+  sessionSchema.safeExtend({ intent: z.literal("session") }),
+);

@@ -624,3 +624,59 @@ describe("the trainer's day and session log", () => {
     expect(await (await workerClient.request("/me")).text()).toContain("Your training is paused");
   });
 });
+
+describe("consent on the assessor's worker page", () => {
+  it("renders no ticked box before consent, then collapses what is given behind Change with the one withdrawal confirmation", async () => {
+    const { client: assessor } = await signIn(PERSONA.assessor);
+    const w = await k("workers")
+      .where({ stage: "invited" })
+      .whereNotExists(k("consent_records").whereRaw("consent_records.worker_id = workers.id"))
+      .orderBy("id", "desc")
+      .offset(1) // freshConsentedWorker takes the last one
+      .first("id");
+    const section = async () => {
+      const html = await (await assessor.request(`/assess/workers/${w.id}`)).text();
+      return html.slice(html.indexOf('data-testid="consent-section"'), html.indexOf("Consent history"));
+    };
+    const before = await section();
+    expect(tickedBoxes(before)).toEqual([]);
+    for (const pp of ["assessment", "planning", "model"]) expect(before).toContain(`name="purposes" value="${pp}"`);
+    expect(before).not.toContain('data-testid="consent-change"');
+
+    const me = await k("users").where({ email: PERSONA.assessor }).first("id");
+    const res = await assessor.postForm(`/assess/workers/${w.id}`, {
+      intent: "consent",
+      purposes: ["assessment", "planning"],
+      witnessUserId: String(me.id),
+      confirmRead: "on",
+    });
+    expect(res.status).toBe(200);
+    const after = await section();
+    expect(tickedBoxes(after)).toEqual([]);
+    // Only model is still asked for; the given purposes sit behind "Change", each with the shared confirmation.
+    expect(after).toContain('name="purposes" value="model"');
+    expect(after).not.toContain('name="purposes" value="assessment"');
+    expect(after).toContain('data-testid="consent-change"');
+    expect(after).toContain('data-testid="withdraw-assessment"');
+    expect(after).toContain('data-testid="withdraw-planning"');
+    expect(after).toContain('name="confirmWithdraw"');
+    expect(pageText(after)).toContain(
+      "The erasure cannot be undone: erased data do not come back. Consent can be given again later",
+    );
+    // The same wording and field as on the worker's own page; without the box ticked, nothing is withdrawn.
+    const refused = await assessor.postForm(`/assess/workers/${w.id}`, { intent: "withdraw", purpose: "planning" });
+    expect(refused.status).toBe(400);
+    expect(pageText(await refused.text())).toContain("Confirm withdrawal: tick the box");
+    const ok = await assessor.postForm(`/assess/workers/${w.id}`, {
+      intent: "withdraw",
+      purpose: "planning",
+      confirmWithdraw: "on",
+    });
+    expect(ok.status).toBe(200);
+    const last = await k("consent_records")
+      .where({ worker_id: w.id, purpose: "planning" })
+      .orderBy("id", "desc")
+      .first();
+    expect(last.status).toBe("withdrawn");
+  });
+});
