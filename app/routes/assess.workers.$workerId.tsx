@@ -12,6 +12,7 @@ import {
   TextField,
 } from "~/components/fields";
 import { ProfileChart, type ProfilePoint } from "~/components/profile-chart";
+import { SwayMethod } from "~/components/sway-method";
 import { WithdrawConsent } from "~/components/withdraw-consent";
 import { todayIn } from "~/dates";
 import { CONSENT_PURPOSES } from "~/domain/consent-purposes";
@@ -88,6 +89,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     consent,
     history,
     points,
+    hasSway: (latest?.results ?? []).some((r) => r.code.startsWith("sway.")),
     latestOn: latest?.assessedOn ?? null,
     sessions: sessions
       .map((s) => ({
@@ -159,6 +161,7 @@ export default function WorkerRecord({ loaderData, actionData }: Route.Component
     consent,
     history,
     points,
+    hasSway,
     latestOn,
     sessions,
     changes,
@@ -334,6 +337,7 @@ export default function WorkerRecord({ loaderData, actionData }: Route.Component
           }
         />
       </section>
+      {hasSway && <SwayMethod />}
 
       {changes.length > 0 && (
         <section className="card grid gap-3" aria-labelledby="change-h">
