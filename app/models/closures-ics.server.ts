@@ -8,7 +8,7 @@ import { UserError } from "~/errors";
 // are skipped and counted: a closure is whole days. A file that cannot be read, or holds no all-day event,
 // is refused with the problem named.
 
-export const MAX_ICS_BYTES = 512 * 1024;
+export const MAX_ICS_BYTES = 1024 * 1024;
 export const MAX_IMPORTED_CLOSURES = 500;
 
 export interface ImportedClosure {
@@ -48,8 +48,8 @@ export function readClosuresIcs(
       const reason = (String(event.summary ?? "").trim() || "Closed").slice(0, 300);
       const closureFrom = (start: ICAL.Time, end: ICAL.Time | null): ImportedClosure => {
         const startsOn = start.toString().slice(0, 10);
-        const last = end ? addDays(end.toString().slice(0, 10), -1) : startsOn;
-        return { startsOn, endsOn: last < startsOn ? startsOn : last, reason };
+        const endDay = end?.toString().slice(0, 10);
+        return { startsOn, endsOn: endDay && endDay > startsOn ? addDays(endDay, -1) : startsOn, reason };
       };
       if (!event.isRecurring()) closures.push(closureFrom(event.startDate, event.endDate ?? null));
       else {
@@ -67,8 +67,6 @@ export function readClosuresIcs(
       if (e instanceof UserError) throw e;
       throw refuse(`${name} cannot be read (${e instanceof Error ? e.message : String(e)}).`);
     }
-    for (const c of closures)
-      if (!/^\d{4}-\d{2}-\d{2}$/.test(c.startsOn)) throw refuse(`${name} has a start date that is not a calendar day.`);
   });
   if (closures.length > MAX_IMPORTED_CLOSURES)
     throw refuse(`it gives more than ${MAX_IMPORTED_CLOSURES} closures; import a shorter calendar.`);

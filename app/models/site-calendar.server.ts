@@ -1,5 +1,7 @@
 import type { Principal } from "~/auth/guard.server";
-import type { SiteCalendar } from "~/compute/session-rules";
+import type { PlanCalendar } from "~/compute/session-packing";
+import type { RuleCalendar, SiteCalendar } from "~/compute/session-rules";
+import { addDays } from "~/dates/calendar";
 import { type Db, db } from "~/db.server";
 import { notFound } from "~/errors";
 import { type ImportedClosure, readClosuresIcs } from "./closures-ics.server";
@@ -159,4 +161,48 @@ export async function siteCalendars(
         .map((c) => ({ startsOn: c.starts_on, endsOn: c.ends_on, reason: c.reason })),
     };
   });
+}
+
+/**
+ * The session rules as they stand now for a run's calendar: its sites' working hours and closures, its device
+ * types' shortest and longest sessions and wear-time limits, its trainers' break rules. Publishing checks the
+ * packed sessions against these, so a change made after the run cannot slip through.
+ */
+export async function sessionRulesNow(calendar: PlanCalendar, k: Db = db()): Promise<RuleCalendar> {
+  const siteIds = [...new Set(calendar.devices.map((d) => d.siteId))];
+  const to = addDays(calendar.startDate, calendar.weeks * 7 - 1);
+  const types = new Map(
+    (
+      await k("device_types")
+        .whereIn("id", [...new Set(calendar.devices.map((d) => d.deviceTypeId))].concat(-1))
+        .select("id", "wear_time_limit_minutes", "min_session_minutes", "max_session_minutes")
+    ).map((t) => [t.id, t]),
+  );
+  const trainers = new Map(
+    (
+      await k("trainers")
+        .whereIn("id", calendar.trainers.map((t) => t.trainerId).concat(-1))
+        .select("id", "max_continuous_minutes", "break_minutes")
+    ).map((t) => [t.id, t]),
+  );
+  return {
+    sites: await siteCalendars(siteIds, calendar.startDate, to, k),
+    devices: calendar.devices.map((d) => {
+      const t = types.get(d.deviceTypeId);
+      return {
+        id: d.id,
+        site: d.site,
+        wearTimeLimitMinutes: t ? Number(t.wear_time_limit_minutes) : d.wearTimeLimitMinutes,
+        minSessionMinutes: t ? Number(t.min_session_minutes) : d.minSessionMinutes,
+        maxSessionMinutes: t ? Number(t.max_session_minutes) : d.maxSessionMinutes,
+      };
+    }),
+    trainers: calendar.trainers.map((t) => {
+      const now = trainers.get(t.trainerId);
+      return now
+        ? { id: t.id, maxContinuousMinutes: now.max_continuous_minutes, breakMinutes: now.break_minutes }
+        : { id: t.id, maxContinuousMinutes: t.maxContinuousMinutes, breakMinutes: t.breakMinutes };
+    }),
+    workers: calendar.workers,
+  };
 }
