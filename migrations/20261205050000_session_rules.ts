@@ -3,12 +3,19 @@ import type { Knex } from "knex";
 // Rules for realistic sessions (docs/methods.md, "Session rules"): per device type the shortest and longest
 // session; per trainer the longest continuous teaching and the break after it; per site the working hours of
 // each weekday and a calendar of closures (public holidays, shutdowns), typed in or imported from an .ics file.
-// Schema builder only (SQLite and PostgreSQL).
+// Schema builder and query builder only (SQLite and PostgreSQL).
 export async function up(knex: Knex): Promise<void> {
   await knex.schema.alterTable("device_types", (t) => {
     t.integer("min_session_minutes").notNullable().defaultTo(30);
     t.integer("max_session_minutes").notNullable().defaultTo(120);
   });
+  // shortest ≤ longest ≤ the wear-time limit
+  await knex("device_types")
+    .where("wear_time_limit_minutes", "<", 120)
+    .update({ max_session_minutes: knex.ref("wear_time_limit_minutes") });
+  await knex("device_types")
+    .where("wear_time_limit_minutes", "<", 30)
+    .update({ min_session_minutes: knex.ref("wear_time_limit_minutes") });
   await knex.schema.alterTable("trainers", (t) => {
     t.integer("max_continuous_minutes").notNullable().defaultTo(120);
     t.integer("break_minutes").notNullable().defaultTo(15);

@@ -50,6 +50,8 @@ export interface CalendarTrainer {
   email: string | null;
   traineesPerSession: number;
   hoursPerWeek: number;
+  /** the trainer's site (absent in older snapshots) */
+  site?: string;
   /** longest teaching without a break, and the break (absent in older snapshots: 120 and 15 minutes) */
   maxContinuousMinutes?: number;
   breakMinutes?: number;

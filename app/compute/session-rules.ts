@@ -1,7 +1,7 @@
 // The rules a dated session keeps (docs/methods.md, "Session rules"), written once: the second stage packs
 // with them, the first stage's weekly capacities are derived from them, and publishing checks the packed
 // sessions against them before anything is written. Pure: no clock, no database.
-import { isoWeekday, minutesOf } from "./plan-calendar";
+import { isoWeekday, minutesOf, weekDates } from "./plan-calendar";
 
 export const DEFAULT_MIN_SESSION_MINUTES = 30;
 export const DEFAULT_MAX_SESSION_MINUTES = 120;
@@ -215,4 +215,60 @@ export function sessionRuleViolations(calendar: RuleCalendar, sessions: RuledSes
         );
   }
   return out;
+}
+
+// ── the first stage's weekly capacities, from the same rules ──
+
+interface CapacityCalendar {
+  startDate: string;
+  sites?: SiteCalendar[];
+}
+
+/**
+ * Device hours a week for the first stage: each unit's bookable hours × the share of the site's working days
+ * it can be used (not closed, not in maintenance), at most the site's working hours on those days.
+ */
+export function deviceHoursInWeek(
+  calendar: CapacityCalendar,
+  device: { site: string; units: { bookableHoursPerWeek: number; unavailableDates: string[] }[] },
+  week: number,
+): number {
+  const site = calendar.sites?.find((s) => s.site === device.site);
+  const working = workingWeekdays(site);
+  const days = weekDates(calendar.startDate, week).filter((d) => working.includes(isoWeekday(d)));
+  const hours = device.units.reduce((sum, u) => {
+    const usable = days.filter((d) => !u.unavailableDates.includes(d) && !closureOn(site, d));
+    const share = (u.bookableHoursPerWeek * usable.length) / working.length;
+    const open = site?.hours
+      ? usable.reduce((m, d) => m + siteOpenOn(site, d).reduce((a, i) => a + i.to - i.from, 0), 0) / 60
+      : share;
+    return sum + Math.min(share, open);
+  }, 0);
+  return Math.round(hours * 100) / 100;
+}
+
+/**
+ * Trainer hours a week for the first stage: the working windows cut to the site's working hours and closures,
+ * less the breaks the trainer's rule needs, at most the contracted hours.
+ */
+export function trainerHoursInWeek(
+  calendar: CapacityCalendar,
+  trainer: {
+    site: string;
+    hoursPerWeek: number;
+    maxContinuousMinutes?: number;
+    breakMinutes?: number;
+    windows: { date: string; start: string; end: string }[];
+  },
+  week: number,
+): number {
+  const site = calendar.sites?.find((s) => s.site === trainer.site);
+  const rule = breakRuleOf(trainer);
+  const minutes = weekDates(calendar.startDate, week).reduce((sum, date) => {
+    const own = trainer.windows
+      .filter((x) => x.date === date)
+      .map((x) => ({ from: minutesOf(x.start), to: minutesOf(x.end) }));
+    return sum + teachableMinutes(clipToSite(site, date, own), rule);
+  }, 0);
+  return Math.round(Math.min(minutes / 60, trainer.hoursPerWeek) * 100) / 100;
 }

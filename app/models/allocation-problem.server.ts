@@ -4,14 +4,7 @@ import { bookCommitments, type Commitment, type CommittedPlan } from "~/compute/
 import { addDays, inRange, isoWeekday, minutesOf, weekDates } from "~/compute/plan-calendar";
 import { plannedHoursFromLogScale } from "~/compute/regression";
 import type { CalendarUnit, PlanCalendar } from "~/compute/session-packing";
-import {
-  breakRuleOf,
-  clipToSite,
-  closureOn,
-  siteOpenOn,
-  teachableMinutes,
-  workingWeekdays,
-} from "~/compute/session-rules";
+import { breakRuleOf, deviceHoursInWeek, trainerHoursInWeek } from "~/compute/session-rules";
 import { hhmmOfWallClock, startOfDay, wallClock } from "~/dates";
 import { type Db, db, type Row } from "~/db.server";
 import type { RunParameters } from "~/schemas/allocation";
@@ -67,7 +60,6 @@ export async function buildProblem(params: RunParameters, scope: Scope, k: Db = 
     )
     .orderBy("id");
   const sitesCal = await siteCalendars(poolSites, startDate, endDate, k);
-  const calendarOf = new Map(sitesCal.map((c) => [c.site, c]));
 
   // Devices per site and device type.
   const units = await k("device_units")
@@ -108,23 +100,9 @@ export async function buildProblem(params: RunParameters, scope: Scope, k: Db = 
           `What-if: ${add.count} extra ${dt.name} unit${add.count > 1 ? "s" : ""} at ${site}, ${add.bookableHoursPerWeek} bookable h/week each.`,
         );
       }
-      // A unit's hours in a week: its bookable hours × the share of the site's working days it can be used
-      // (not closed, not in maintenance), at most the site's working hours on those days.
-      const sc = calendarOf.get(site);
-      const working = workingWeekdays(sc);
-      const hoursPerWeek = Array.from({ length: weeks }, (_, w) => {
-        const workdays = weekDates(startDate, w).filter((d) => working.includes(isoWeekday(d)));
-        return round2(
-          calUnits.reduce((s, u) => {
-            const usable = workdays.filter((d) => !u.unavailableDates.includes(d) && !closureOn(sc, d));
-            const share = (u.bookableHoursPerWeek * usable.length) / working.length;
-            const open = sc?.hours
-              ? usable.reduce((m, d) => m + siteOpenOn(sc, d).reduce((a, i) => a + i.to - i.from, 0), 0) / 60
-              : share;
-            return s + Math.min(share, open);
-          }, 0),
-        );
-      });
+      const hoursPerWeek = Array.from({ length: weeks }, (_, w) =>
+        deviceHoursInWeek({ startDate, sites: sitesCal }, { site, units: calUnits }, w),
+      );
       calendarDevices.push({
         id,
         deviceTypeId: dt.id,
@@ -203,31 +181,22 @@ export async function buildProblem(params: RunParameters, scope: Scope, k: Db = 
             .filter((p) => p.weekday === isoWeekday(date))
             .map((p) => ({ date, start: p.start_time, end: p.end_time })),
     );
-    // Teaching hours a week: the pattern's windows cut to the site's working hours and closures, less the breaks
-    // the trainer's rule needs, at most the contracted hours.
-    const rule = breakRuleOf({
-      maxContinuousMinutes: Number(t.max_continuous_minutes),
-      breakMinutes: Number(t.break_minutes),
-    });
-    const sc = calendarOf.get(site);
-    const hoursPerWeek = Array.from({ length: weeks }, (_, w) => {
-      const teach = weekDates(startDate, w).reduce((s, date) => {
-        const own = tw.filter((x) => x.date === date).map((x) => ({ from: minutesOf(x.start), to: minutesOf(x.end) }));
-        return s + teachableMinutes(clipToSite(sc, date, own), rule);
-      }, 0);
-      return round2(Math.min(teach / 60, Number(t.hours_per_week)));
-    });
     const id = t.display_name as string;
-    calendarTrainers.push({
+    const calTrainer = {
       id,
       trainerId: t.id,
       name: id,
       email: t.email ?? null,
+      site,
       traineesPerSession: Number(t.trainees_per_session),
       hoursPerWeek: Number(t.hours_per_week),
-      ...rule,
+      ...breakRuleOf({ maxContinuousMinutes: Number(t.max_continuous_minutes), breakMinutes: Number(t.break_minutes) }),
       windows: tw,
-    });
+    };
+    calendarTrainers.push(calTrainer);
+    const hoursPerWeek = Array.from({ length: weeks }, (_, w) =>
+      trainerHoursInWeek({ startDate, sites: sitesCal }, calTrainer, w),
+    );
     problemTrainers.push({
       id,
       deviceTypeIds: dts.map((d) => deviceId(d!.name, site)),
