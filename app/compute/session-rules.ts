@@ -161,7 +161,8 @@ export interface RuleCalendar {
 /**
  * Every rule a set of sessions breaks, in plain words (empty: all kept). Length within the worker's bounds on
  * the device, on a day the site is open and inside its working hours, the trainer's breaks, and nobody and no
- * unit in two places at once (a trainer's shared session is one slot: same device, same start and end).
+ * unit in two places at once (a trainer's shared session is one slot: same device and start, as long as its
+ * longest session).
  */
 export function sessionRuleViolations(calendar: RuleCalendar, sessions: RuledSession[]): string[] {
   const out: string[] = [];
@@ -169,7 +170,7 @@ export function sessionRuleViolations(calendar: RuleCalendar, sessions: RuledSes
   const trainers = new Map(calendar.trainers.map((t) => [t.id, t]));
   const workers = new Map(calendar.workers.map((w) => [w.id, w]));
   const sites = new Map((calendar.sites ?? []).map((s) => [s.site, s]));
-  const byTrainerDay = new Map<string, (Interval & { deviceId: string })[]>();
+  const slots = new Map<string, Interval & { trainerId: string; date: string }>();
   const byWorkerDay = new Map<string, Interval[]>();
   const byUnitDay = new Map<string, Interval[]>();
   const clash = (list: Interval[] | undefined, i: Interval) => !!list?.some((x) => i.from < x.to && x.from < i.to);
@@ -196,14 +197,18 @@ export function sessionRuleViolations(calendar: RuleCalendar, sessions: RuledSes
     const uk = `${s.deviceId}#${s.serial}|${s.date}`;
     if (clash(byUnitDay.get(uk), i)) out.push(`${label}: unit ${s.serial} is booked twice at once.`);
     byUnitDay.set(uk, [...(byUnitDay.get(uk) ?? []), i]);
-    const tk = `${s.trainerId}|${s.date}`;
+    const sk = `${s.trainerId}|${s.date}|${s.deviceId}|${i.from}`;
+    const slot = slots.get(sk);
+    if (slot) slot.to = Math.max(slot.to, i.to);
+    else slots.set(sk, { ...i, trainerId: s.trainerId, date: s.date });
+  }
+  const byTrainerDay = new Map<string, Interval[]>();
+  for (const slot of slots.values()) {
+    const tk = `${slot.trainerId}|${slot.date}`;
     const mine = byTrainerDay.get(tk) ?? [];
-    const same = mine.find((x) => x.deviceId === s.deviceId && x.from === i.from && x.to === i.to);
-    if (!same) {
-      if (clash(mine, i)) out.push(`${label}: the trainer is booked twice at once.`);
-      mine.push({ ...i, deviceId: s.deviceId });
-      byTrainerDay.set(tk, mine);
-    }
+    if (clash(mine, slot)) out.push(`${slot.date}: ${slot.trainerId} is booked in two sessions at once.`);
+    mine.push({ from: slot.from, to: slot.to });
+    byTrainerDay.set(tk, mine);
   }
   for (const [key, list] of byTrainerDay) {
     const [trainerId, date] = key.split("|");
@@ -254,7 +259,7 @@ export function deviceHoursInWeek(
 export function trainerHoursInWeek(
   calendar: CapacityCalendar,
   trainer: {
-    site: string;
+    site?: string;
     hoursPerWeek: number;
     maxContinuousMinutes?: number;
     breakMinutes?: number;
