@@ -166,3 +166,71 @@ export function sessionInstance(
     },
   };
 }
+
+/**
+ * A calendar for a first-stage instance without one (bench/allocate.ts): one site open Mon–Fri 07:00–17:00 with
+ * a holiday on the second Monday, enough 30-hour units for each device type's hours, trainers working
+ * 07:30–12:00 and 12:30–17:00 with the default break rule, workers away in the weeks they are not available.
+ */
+export function calendarForProblem(problem: AllocationProblem, startDate = START): PlanCalendar {
+  const site = "Bench site";
+  const dates = (week: number) => Array.from({ length: 7 }, (_, i) => addDays(startDate, week * 7 + i));
+  const all = Array.from({ length: problem.weeks }, (_, w) => dates(w)).flat();
+  return {
+    startDate,
+    weeks: problem.weeks,
+    sites: [
+      {
+        site,
+        hours: [1, 2, 3, 4, 5].map((weekday) => ({ weekday, start: "07:00", end: "17:00" })),
+        closures: [{ startsOn: addDays(startDate, 7), endsOn: addDays(startDate, 7), reason: "Holiday (invented)" }],
+      },
+    ],
+    devices: problem.deviceTypes.map((d, i) => ({
+      id: d.id,
+      deviceTypeId: i + 1,
+      siteId: 1,
+      name: d.id,
+      site,
+      wearTimeLimitMinutes: 120,
+      minSessionMinutes: 30,
+      maxSessionMinutes: 120,
+      units: Array.from({ length: Math.max(1, Math.ceil(Math.max(...d.hoursPerWeek) / 30)) }, (_, u) => ({
+        unitId: i * 100 + u,
+        serial: `${d.id}-${u + 1}`,
+        bookableHoursPerWeek: 30,
+        unavailableDates: [],
+      })),
+    })),
+    trainers: problem.trainers.map((t, i) => ({
+      id: t.id,
+      trainerId: i + 1,
+      name: t.id,
+      email: null,
+      site,
+      traineesPerSession: t.traineesPerSession,
+      hoursPerWeek: Math.max(...t.hoursPerWeek),
+      windows: all
+        .filter((date) => weekday(date) <= 5)
+        .flatMap((date) => [
+          { date, start: "07:30", end: "12:00" },
+          { date, start: "12:30", end: "17:00" },
+        ]),
+    })),
+    workers: problem.workers.map((w, i) => ({
+      id: w.id,
+      workerId: i + 1,
+      name: w.id,
+      employeeNumber: w.id,
+      email: null,
+      department: w.group,
+      site,
+      maxHoursPerWeek: w.maxHoursPerWeek,
+      unavailableDates: w.availableWeeks
+        ? Array.from({ length: problem.weeks }, (_, k) => k)
+            .filter((k) => !w.availableWeeks!.includes(k))
+            .flatMap(dates)
+        : [],
+    })),
+  };
+}
