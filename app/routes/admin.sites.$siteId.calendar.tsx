@@ -2,7 +2,7 @@ import { invariantResponse } from "@epic-web/invariant";
 import { Form, Link } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { countUpload } from "~/auth/throttle.server";
-import { ActionErrors, ActionForm, ActionNotice, FieldMessage, TextField } from "~/components/fields";
+import { ActionErrors, ActionForm, ActionNotice, TextField } from "~/components/fields";
 import { FileField } from "~/components/upload";
 import { WEEKDAY_NAMES } from "~/compute/plan-calendar";
 import { addDays, todayIn } from "~/dates";
@@ -223,8 +223,14 @@ export default function SiteCalendar({ loaderData, actionData }: Route.Component
               Every all-day event becomes a closure of the days it covers; yearly holidays are repeated for the next{" "}
               {IMPORT_YEARS} years. Events with a time of day are skipped. Closures already on file are not added twice.
             </p>
-            <FileField name="ics" label="Calendar file" accept=".ics" maxBytes={MAX_ICS_BYTES} required />
-            <FieldMessage name="ics" />
+            <FileField
+              name="ics"
+              label="Calendar file"
+              accept=".ics"
+              maxBytes={MAX_ICS_BYTES}
+              required
+              error={actionData?.intent === "import-ics" ? actionData.result.error?.ics?.[0] : undefined}
+            />
             <div>
               <button className="btn-quiet" type="submit">
                 Import closures
