@@ -8,7 +8,6 @@ import { UserError } from "~/errors";
 // are skipped and counted: a closure is whole days. A file that cannot be read, or holds no all-day event,
 // is refused with the problem named.
 
-export const MAX_ICS_BYTES = 1024 * 1024;
 export const MAX_IMPORTED_CLOSURES = 500;
 
 export interface ImportedClosure {

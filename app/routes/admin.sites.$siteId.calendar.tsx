@@ -9,7 +9,6 @@ import { addDays, todayIn } from "~/dates";
 import { UserError } from "~/errors";
 import { answerUserErrors, formAction } from "~/forms.server";
 import { keepRetryAfter } from "~/http/headers";
-import { MAX_ICS_BYTES } from "~/models/closures-ics.server";
 import {
   addClosure,
   clearWorkingHours,
@@ -19,7 +18,7 @@ import {
   siteCalendarView,
 } from "~/models/site-calendar.server";
 import { readMultipart, type UploadedFile } from "~/models/uploads.server";
-import { siteCalendarFormSchema, workingDaysOf } from "~/schemas/admin";
+import { MAX_ICS_BYTES, siteCalendarFormSchema, workingDaysOf } from "~/schemas/admin";
 import type { Route } from "./+types/admin.sites.$siteId.calendar";
 
 export const meta: Route.MetaFunction = () => [{ title: "Working hours and closures · Limberly" }];

@@ -199,6 +199,9 @@ export const closureSchema = z
     message: "Last day: a closure is at most a year long.",
   });
 
+/** The largest .ics file a site's closures are imported from. */
+export const MAX_ICS_BYTES = 1024 * 1024;
+
 /** The forms of a site's calendar page. */
 export const siteCalendarFormSchema = intents(
   workingHoursSchema,
