@@ -454,6 +454,43 @@ describe("publishing", () => {
     expect(readOutbox(inject("outboxDir")).slice(mid)).toHaveLength(0);
   });
 
+  it("refuses to publish a run whose sessions fall on a closure added after it, and publishes nothing", async () => {
+    const { client } = await signIn(PERSONA.coordinator);
+    const id = await startRun(client, { ...RUN, label: "it-closed-later" });
+    expect((await waitDone(client, id)).status).toBe("done");
+    const version = await planVersionOnPage(client, id);
+    // the admin closes every site for the run's whole horizon through the calendar page
+    const admin = (await signIn(PERSONA.admin)).client;
+    const added: number[] = [];
+    try {
+      for (const site of await k()("sites").select("id")) {
+        const res = await admin.postForm(`/admin/sites/${site.id}/calendar`, {
+          intent: "closure",
+          startsOn: "2026-12-07",
+          endsOn: "2027-01-17",
+          reason: "Flood repairs (test)",
+        });
+        expect(res.status).toBe(200);
+        added.push(
+          ...(await k()("site_closures").where({ site_id: site.id, reason: "Flood repairs (test)" }).pluck("id")),
+        );
+      }
+      const res = await client.postForm(`/coordinate/runs/${id}`, {
+        intent: "publish",
+        expectedPlanVersion: String(version),
+        confirm: "yes",
+      });
+      expect(res.status).toBe(400);
+      const html = await res.text();
+      expect(html).toContain("break the session rules as they stand now");
+      expect(html).toContain("is closed (Flood repairs (test))");
+      expect((await k()("published_plan_state").where({ id: 1 }).first()).version).toBe(version);
+      expect(await sessionsOf(id)).toHaveLength(0);
+    } finally {
+      await k()("site_closures").whereIn("id", added.concat(-1)).del();
+    }
+  });
+
   it("refuses to publish a what-if run with units that do not exist, and non-coordinators cannot publish", async () => {
     const { client } = await signIn(PERSONA.coordinator);
     const dt = await k()("device_types").where({ code: "EXO-BACK" }).first("id");
