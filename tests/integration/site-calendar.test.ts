@@ -1,4 +1,6 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { buildProblem } from "~/models/allocation-problem.server";
+import { runParametersSchema } from "~/schemas/allocation";
 import { RFC5545_EXAMPLES } from "../reference/rfc5545-examples";
 import { type Browserless, PERSONA, pageText, signIn, testDb } from "./helpers";
 
@@ -133,5 +135,47 @@ describe("a site's closures", () => {
     const res = await upload(coordinator, "rfc5545.ics", RFC5545_EXAMPLES);
     expect(res.status).toBe(403);
     expect((await closures()).length).toBe(before);
+  });
+});
+
+describe("the first stage plans against the same closures and hours", () => {
+  it("Riverside's Christmas week has four working days and its shutdown week none (demo calendar)", async () => {
+    const rs = await k("sites").where({ code: "RS" }).first("id", "name");
+    const params = runParametersSchema.parse({
+      startDate: "2026-12-21",
+      horizonWeeks: 2,
+      planningQuantile: 0.8,
+      fairnessShare: 0,
+      pool: { siteIds: [rs.id] },
+    });
+    const snap = await buildProblem(params, { allSites: true, siteIds: [], departmentIds: [] }, k);
+    // by hand from the demo seed: Riverside works Mon–Fri 07:00–14:30 (7.5 h) and is closed on 25 December, so
+    // week 0 has 4 working days: a unit gives min(bookable × 4/5, 4 × 7.5 h) unless it is in maintenance then;
+    // 28–31 December (shutdown) and 1 January (holiday) close all of week 1
+    const units = await k("device_units as u")
+      .join("device_types as d", "d.id", "u.device_type_id")
+      .where({ "u.site_id": rs.id, "u.status": "in_service" })
+      .select("u.id", "u.bookable_hours_per_week", "d.name");
+    const maint = await k("unit_maintenance_windows").select("device_unit_id", "starts_on", "ends_on");
+    const days = ["2026-12-21", "2026-12-22", "2026-12-23", "2026-12-24"];
+    for (const d of snap.problem.deviceTypes) {
+      const mine = units.filter((u) => d.id.startsWith(`${u.name} at`));
+      const week0 = mine.reduce((h, u) => {
+        const free = days.filter(
+          (x) => !maint.some((m) => m.device_unit_id === u.id && x >= m.starts_on && x <= m.ends_on),
+        ).length;
+        return h + Math.min((Number(u.bookable_hours_per_week) * free) / 5, free * 7.5);
+      }, 0);
+      // the solver sees what is left after the hours booked for workers already in training
+      const committed = (snap.commitments ?? [])
+        .filter((c) => c.assignment.deviceTypeId === d.id)
+        .flatMap((c) => c.assignment.sessions)
+        .filter((x) => x.week === 0)
+        .reduce((h, x) => h + x.hours, 0);
+      expect(d.hoursPerWeek[0] + committed, d.id).toBeCloseTo(week0, 1);
+      expect(d.hoursPerWeek[1], d.id).toBe(0);
+    }
+    for (const t of snap.problem.trainers) expect(t.hoursPerWeek[1], t.id).toBe(0);
+    expect(snap.notes.join(" ")).toContain("Riverside is closed on 2026-12-25 to 2026-12-26");
   });
 });
