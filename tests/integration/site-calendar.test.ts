@@ -144,7 +144,6 @@ describe("the first stage plans against the same closures and hours", () => {
     const params = runParametersSchema.parse({
       startDate: "2026-12-21",
       horizonWeeks: 2,
-      planningQuantile: 0.8,
       fairnessShare: 0,
       pool: { siteIds: [rs.id] },
     });
