@@ -207,8 +207,10 @@ declare module "knex/types/tables" {
         default_max_hours_per_week: number;
         created_at: string;
         fit_rules: string | null;
+        min_session_minutes: number;
+        max_session_minutes: number;
       },
-      "id" | "wear_time_limit_minutes" | "default_max_hours_per_week"
+      "id" | "wear_time_limit_minutes" | "default_max_hours_per_week" | "min_session_minutes" | "max_session_minutes"
     >;
     device_units: Table<
       {
@@ -551,6 +553,29 @@ declare module "knex/types/tables" {
       expires_at: string | null;
       created_at: string;
     }>;
+    site_closures: Table<
+      {
+        id: number;
+        site_id: number;
+        starts_on: string;
+        ends_on: string;
+        reason: string;
+        source: "form" | "ics";
+        created_by: number | null;
+        created_at: string;
+      },
+      "id" | "created_by"
+    >;
+    site_working_hours: Table<
+      {
+        id: number;
+        site_id: number;
+        weekday: number;
+        start_time: string;
+        end_time: string;
+      },
+      "id"
+    >;
     sites: Table<
       {
         id: number;
@@ -630,8 +655,10 @@ declare module "knex/types/tables" {
         trainees_per_session: number;
         hours_per_week: number;
         created_at: string;
+        max_continuous_minutes: number;
+        break_minutes: number;
       },
-      "id" | "trainees_per_session" | "hours_per_week"
+      "id" | "trainees_per_session" | "hours_per_week" | "max_continuous_minutes" | "break_minutes"
     >;
     training_sessions: Table<
       {

@@ -173,20 +173,39 @@ const optionalText = (max: number) =>
     .optional()
     .transform((s) => (s ? s : null));
 
-export const deviceTypeFormSchema = z.object({
-  intent: z.literal("device-type"),
-  deviceTypeId: z.coerce.number().int().positive(),
-  wearTimeLimitMinutes: z.coerce
-    .number({ message: "Wear-time limit must be a number of minutes." })
-    .int("Whole minutes, please.")
-    .min(10, "At least 10 minutes.")
-    .max(600, "At most 600 minutes."),
-  defaultMaxHoursPerWeek: z.coerce
-    .number({ message: "Max hours per week must be a number." })
-    .min(0.5, "At least 0.5 h.")
-    .max(40, "At most 40 h."),
-  fitRules: optionalText(2000),
-});
+const wholeMinutes = (what: string, min: number, max: number) =>
+  z.coerce
+    .number({ message: `${what} must be a number of minutes.` })
+    .int(`${what}: whole minutes, please.`)
+    .min(min, `${what}: at least ${min} minutes.`)
+    .max(max, `${what}: at most ${max} minutes.`);
+
+// The shortest and longest session lie within the wear-time limit: shortest ≤ longest ≤ wear-time limit.
+export const deviceTypeFormSchema = z
+  .object({
+    intent: z.literal("device-type"),
+    deviceTypeId: z.coerce.number().int().positive(),
+    wearTimeLimitMinutes: z.coerce
+      .number({ message: "Wear-time limit must be a number of minutes." })
+      .int("Whole minutes, please.")
+      .min(10, "At least 10 minutes.")
+      .max(600, "At most 600 minutes."),
+    minSessionMinutes: wholeMinutes("Shortest session", 5, 600),
+    maxSessionMinutes: wholeMinutes("Longest session", 5, 600),
+    defaultMaxHoursPerWeek: z.coerce
+      .number({ message: "Max hours per week must be a number." })
+      .min(0.5, "At least 0.5 h.")
+      .max(40, "At most 40 h."),
+    fitRules: optionalText(2000),
+  })
+  .refine((v) => v.maxSessionMinutes <= v.wearTimeLimitMinutes, {
+    path: ["maxSessionMinutes"],
+    message: "Longest session: at most the wear-time limit.",
+  })
+  .refine((v) => v.minSessionMinutes <= v.maxSessionMinutes, {
+    path: ["minSessionMinutes"],
+    message: "Shortest session: at most the longest session.",
+  });
 
 export const unitFormSchema = z.object({
   intent: z.literal("unit"),
@@ -224,6 +243,8 @@ export const trainerFormSchema = z.object({
     .int("A whole number.")
     .min(1, "At least 1.")
     .max(8, "At most 8."),
+  maxContinuousMinutes: wholeMinutes("Longest teaching without a break", 30, 600),
+  breakMinutes: wholeMinutes("Break", 5, 120),
   deviceTypeIds: idList,
 });
 
