@@ -37,7 +37,9 @@ const HIGHS_LIMIT_S = 120;
 
 export async function main(): Promise<void> {
   const rows: Record<string, string | number>[] = [];
-  for (const s of sizes) {
+  // `npx tsx bench/allocate.ts M L` runs only the sizes named (the machine is shared; one size at a time)
+  const only = process.argv.slice(2);
+  for (const s of sizes.filter((x) => only.length === 0 || only.includes(x.name))) {
     const problem = randomInstance({
       workers: s.workers,
       deviceTypes: s.deviceTypes,

@@ -5,7 +5,7 @@
  */
 
 import { type LpColumn, type LpRow, solveLp } from "../lp-solver";
-import { type CapacityCut, cutCoefficient } from "./cuts";
+import { type CapacityCut, type CoverCut, cutCoefficient } from "./cuts";
 import type { Instance } from "./instance";
 
 export interface Fixing {
@@ -20,7 +20,7 @@ export interface MasterResult {
   objective: number;
 }
 
-export function solveMaster(inst: Instance, cuts: CapacityCut[], fix: Fixing): MasterResult {
+export function solveMaster(inst: Instance, cuts: CapacityCut[], fix: Fixing, covers: CoverCut[] = []): MasterResult {
   const fixedWorker = new Set<number>();
   for (const c of fix.one) fixedWorker.add(inst.candidates[c].worker);
   const free = inst.candidates.filter(
@@ -72,6 +72,21 @@ export function solveMaster(inst: Instance, cuts: CapacityCut[], fix: Fixing): M
       }
     });
     if (any) rows.push({ name: `k${j}`, max: Math.max(0, rhs) });
+  });
+
+  const columnOf = new Map(free.map((c, i) => [c.index, i] as const));
+  covers.forEach((cover, j) => {
+    let rhs = cover.rhs;
+    let any = false;
+    for (const c of cover.members) {
+      if (fix.one.has(c)) rhs -= 1;
+      const i = columnOf.get(c);
+      if (i === undefined) continue;
+      columns[i].coefficients[`v${j}`] = 1;
+      any = true;
+    }
+    if (rhs < -1e-7) feasibleByFixing = false;
+    if (any) rows.push({ name: `v${j}`, max: Math.max(0, rhs) });
   });
 
   const z = new Map<number, number>();
