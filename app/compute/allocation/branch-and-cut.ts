@@ -206,7 +206,7 @@ export function branchAndCut(inst: Instance, pool: CutPool, hooks: BranchAndCutH
     let score = -1;
     for (const [c, v] of result.z) {
       if (v <= 1e-6 || v >= 1 - 1e-6) continue;
-      const s = inst.workers[inst.candidates[c].worker].priority * Math.min(v, 1 - v) + 1e-9 * v;
+      const s = inst.candidates[c].value * Math.min(v, 1 - v) + 1e-9 * v;
       if (s > score + 1e-12) {
         score = s;
         pick = c;

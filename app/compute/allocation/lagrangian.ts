@@ -79,7 +79,7 @@ function evaluate(inst: Instance, lam: number[][], mu: number[][], nu: number[])
         spent += take * cost[k];
         left -= take;
       }
-      const v = w.priority + nu[w.group] - spent;
+      const v = c.value + nu[w.group] - spent;
       reduced[ci] = v;
       if (v > bestValue + 1e-12) {
         bestValue = v;

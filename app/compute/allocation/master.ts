@@ -30,7 +30,7 @@ export function solveMaster(inst: Instance, cuts: CapacityCut[], fix: Fixing, co
   const rows: LpRow[] = [];
   const columns: LpColumn[] = free.map((c) => ({
     name: `c${c.index}`,
-    objective: inst.workers[c.worker].priority,
+    objective: c.value,
     coefficients: { [`w${c.worker}`]: 1 },
   }));
   const seenWorker = new Set<number>();
@@ -93,7 +93,7 @@ export function solveMaster(inst: Instance, cuts: CapacityCut[], fix: Fixing, co
   let objective = 0;
   for (const c of fix.one) {
     z.set(c, 1);
-    objective += inst.workers[inst.candidates[c].worker].priority;
+    objective += inst.candidates[c].value;
   }
   if (!feasibleByFixing) return { feasible: false, z, objective: -Infinity };
   if (columns.length === 0) return { feasible: !rows.some((r) => r.min !== undefined), z, objective };
@@ -103,7 +103,7 @@ export function solveMaster(inst: Instance, cuts: CapacityCut[], fix: Fixing, co
     const v = Math.min(1, Math.max(0, res.values.get(`c${c.index}`) ?? 0));
     if (v > 1e-9) {
       z.set(c.index, v);
-      objective += v * inst.workers[c.worker].priority;
+      objective += v * c.value;
     }
   });
   return { feasible: true, z, objective };

@@ -174,6 +174,14 @@ export function solveWithBranchAndCut(problem: AllocationProblem, options: Alloc
     assignments,
     unassigned,
     bindingResources: bindingResources(inst, lag, sel.chosen),
+    ...(inst.candidates.some((c) => c.fixed)
+      ? {
+          kept: sel
+            .chosenWorkers()
+            .filter((w) => inst.candidates[sel.chosen[w]].fixed)
+            .map((w) => inst.workers[w].id),
+        }
+      : {}),
     usage: capacityUse(sel, problem),
   };
   progress("done", 1);
@@ -231,7 +239,9 @@ function infeasiblePlan(problem: AllocationProblem, inst: Instance, proven: bool
   return {
     status: "infeasible",
     objective: 0,
-    bound: proven ? 0 : inst.workers.reduce((s, w) => s + Math.max(0, w.priority), 0),
+    bound: proven
+      ? 0
+      : inst.workers.reduce((s, w) => s + Math.max(0, ...w.candidates.map((c) => inst.candidates[c].value)), 0),
     gap: proven ? 0 : 1,
     assignments: [],
     unassigned: problem.workers.map((w) => ({ workerId: w.id, reason: message })),
