@@ -3,7 +3,7 @@ import { parseWithZod } from "@conform-to/zod/v4";
 import { data } from "react-router";
 import type { z } from "zod";
 import { UserError } from "~/errors";
-import type { ActionResult } from "~/schemas/form";
+import { type ActionResult, parseWith } from "~/schemas/form";
 
 // One way for every action to read a form, run the change and answer: the zod schema (for a page
 // with several forms, a discriminated union on `intent`) is parsed once; schema issues and a thrown
@@ -56,12 +56,40 @@ export async function formAction<S extends z.ZodType, T = undefined>(
 }
 
 /**
- * A UserError as a JSON response `{ error, field? }` with its status: returned by API routes, thrown
- * by loaders (the error boundary shows `error`). Anything else is rethrown.
+ * A UserError as a JSON response `{ error, field?, fields? }` with its status (`fields` maps the field to
+ * the message, the shape an API body's schema errors have): returned by API routes, thrown by loaders (the
+ * error boundary shows `error`). Anything else is rethrown.
  */
 export function userErrorResponse(e: unknown): Response {
   if (!(e instanceof UserError)) throw e;
-  return Response.json({ error: e.message, ...(e.field ? { field: e.field } : {}) }, { status: e.status });
+  const named = e.field ? { field: e.field, fields: { [e.field]: e.message } } : {};
+  return Response.json({ error: e.message, ...named }, { status: e.status });
+}
+
+/**
+ * An API route's JSON body, parsed with the same schema as the form, then `run`: a body that is not JSON
+ * answers 400; one the schema refuses answers 400 `{ error: invalid, fields }` (the first message per
+ * field); a UserError answers as `userErrorResponse`; anything else is a bug and propagates (500).
+ */
+export async function apiAction<S extends z.ZodType>(
+  request: Request,
+  schema: S,
+  invalid: string,
+  run: (value: z.output<S>) => Promise<Response>,
+): Promise<Response> {
+  let body: unknown;
+  try {
+    body = await request.json();
+  } catch {
+    return Response.json({ error: "The body must be JSON." }, { status: 400 });
+  }
+  const parsed = parseWith(schema, body);
+  if (!parsed.ok) return Response.json({ error: invalid, fields: parsed.errors }, { status: 400 });
+  try {
+    return await run(parsed.data);
+  } catch (e) {
+    return userErrorResponse(e);
+  }
 }
 
 /** Runs a loader's body; a UserError it throws is answered as its JSON response (the error boundary shows it). */
