@@ -6,7 +6,7 @@
 // sessions are carried over unchanged; everyone else is packed around them. Pure and deterministic.
 import type { AllocationPlan, AllocationProblem } from "./allocation";
 import type { CommittedPlan } from "./commitments";
-import { type Placement, placePlan } from "./placement";
+import { type Placement, placePlan, type RunSummary } from "./placement";
 import { hhmmOf, minutesOf, weekDates } from "./plan-calendar";
 import type { PackedSession, PlanCalendar } from "./session-packing";
 
@@ -288,6 +288,34 @@ export function placeReplan(
       .sort((a, b) => a.localeCompare(b, "en", { numeric: true })),
     notReady,
     continuing: placed.continuing,
+  };
+}
+
+/** Placement of any run: a re-plan's (kept sessions first) or a plain one's. */
+export function placeRun(
+  calendar: PlanCalendar,
+  commitments: CommittedPlan[],
+  plan: AllocationPlan,
+  replan: ReplanDecision | undefined,
+): Placement {
+  return replan ? placeReplan(calendar, commitments, plan, replan) : placePlan(calendar, commitments, plan);
+}
+
+/** The runs list's numbers for a re-plan: the ready count and value after placing around the kept sessions. */
+export function replanSummary(
+  calendar: PlanCalendar,
+  commitments: CommittedPlan[],
+  plan: AllocationPlan,
+  replan: ReplanDecision,
+  priorities: Map<string, number>,
+  poolSize: number,
+): RunSummary {
+  const p = placeReplan(calendar, commitments, plan, replan);
+  return {
+    ready: p.readyIds.length,
+    pool: poolSize,
+    value: Math.round(p.readyIds.reduce((s, id) => s + (priorities.get(id) ?? 1), 0) * 100) / 100,
+    continuing: commitments.length,
   };
 }
 

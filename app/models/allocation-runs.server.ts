@@ -3,11 +3,13 @@ import type { Principal } from "~/auth/guard.server";
 import type { Scope } from "~/auth/scope";
 import type { AllocationPlan } from "~/compute/allocation";
 import { type RunSummary, runSummary } from "~/compute/placement";
+import { replanSummary } from "~/compute/replan";
 import { type Db, db, type Row } from "~/db.server";
 import { UserError } from "~/errors";
 import { enqueueAllocation } from "~/jobs/queue.server";
 import type { RunParameters } from "~/schemas/allocation";
 import { buildProblem, type ProblemSnapshot } from "./allocation-problem.server";
+import { fromPublishedPlan } from "./replan.server";
 
 // Allocation runs: parameters, the problem snapshot the solver sees, progress and the result.
 // The solve itself runs in app/jobs (worker thread); this module reads and writes rows and hands new runs to
@@ -143,7 +145,9 @@ async function createRun(principal: Principal, params: RunParameters): Promise<n
     if (params.baseRunId && !(await trx("allocation_runs").where({ id: params.baseRunId }).first("id")))
       throw new UserError("The run to compare with does not exist.", { field: "baseRunId" });
     const stored: RunParameters = { ...params, pool: { ...params.pool, siteIds } };
-    const snapshot = await buildProblem(stored, scope, trx);
+    const built = await buildProblem(stored, scope, trx);
+    const { fromPublished } = stored;
+    const snapshot = fromPublished ? await fromPublishedPlan(built, { ...stored, fromPublished }, trx) : built;
     const [row] = await trx("allocation_runs")
       .insert({
         label: params.label ?? null,
@@ -260,13 +264,11 @@ async function summaryFor(id: number, plan: AllocationPlan, k: Db): Promise<RunS
   const snap: ProblemSnapshot | null = stored?.problem ? JSON.parse(stored.problem) : null;
   if (!snap?.calendar?.devices || !snap.problem?.workers) return null;
   try {
-    return runSummary(
-      snap.calendar,
-      snap.commitments ?? [],
-      plan,
-      new Map(snap.problem.workers.map((w) => [w.id, w.priority])),
-      snap.problem.workers.length,
-    );
+    const priorities = new Map(snap.problem.workers.map((w) => [w.id, w.priority]));
+    const pool = snap.problem.workers.length;
+    return snap.replan
+      ? replanSummary(snap.calendar, snap.commitments ?? [], plan, snap.replan, priorities, pool)
+      : runSummary(snap.calendar, snap.commitments ?? [], plan, priorities, pool);
   } catch (e) {
     console.error(`allocation run ${id}: no summary for the runs list`, e);
     return null;

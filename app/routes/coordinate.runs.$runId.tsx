@@ -175,6 +175,7 @@ export default function RunPage({ loaderData, actionData }: Route.ComponentProps
   const {
     run,
     result,
+    disruption,
     poolSize,
     excluded,
     notes,
@@ -263,6 +264,55 @@ export default function RunPage({ loaderData, actionData }: Route.ComponentProps
             )}
             {result.message && result.status !== "infeasible" && <Notice>{result.message}</Notice>}
           </section>
+
+          {disruption && (
+            <section aria-labelledby="disruption" className="card grid gap-2" data-testid="disruption">
+              <h2 id="disruption" className="text-lg font-semibold">
+                Changes to the published plan
+              </h2>
+              <p>
+                <strong>{disruption.kept.length}</strong>{" "}
+                {disruption.kept.length === 1 ? "person keeps" : "people keep"} their published sessions unchanged;{" "}
+                <strong>{disruption.moved.length}</strong>{" "}
+                {disruption.moved.length === 1 ? "person's sessions move" : "people's sessions move"}. Moving one
+                person's sessions was counted as costing as much as one more person ready with priority{" "}
+                {disruption.keepWeight}. Publishing e-mails only the people whose sessions change.
+              </p>
+              {disruption.moved.length > 0 && (
+                <section className="overflow-x-auto" tabIndex={0} aria-label="Who moves (scrolls sideways)">
+                  <table className="table-base">
+                    <caption className="sr-only">People whose published sessions move, and why</caption>
+                    <thead>
+                      <tr>
+                        <th scope="col">Moves</th>
+                        <th scope="col">Why</th>
+                      </tr>
+                    </thead>
+                    <tbody>
+                      {disruption.moved.map((m) => (
+                        <tr key={m.workerId}>
+                          <td>{m.name}</td>
+                          <td>{m.reason}</td>
+                        </tr>
+                      ))}
+                    </tbody>
+                  </table>
+                </section>
+              )}
+              {disruption.kept.length > 0 && (
+                <details>
+                  <summary className="cursor-pointer">Who keeps their sessions ({disruption.kept.length})</summary>
+                  <ul className="mt-1 list-disc pl-5">
+                    {disruption.kept.map((k) => (
+                      <li key={k.workerId}>
+                        {k.name} ({k.sessions} session{k.sessions === 1 ? "" : "s"})
+                      </li>
+                    ))}
+                  </ul>
+                </details>
+              )}
+            </section>
+          )}
 
           <section aria-labelledby="publish" className="card grid gap-3">
             <h2 id="publish" className="text-lg font-semibold">

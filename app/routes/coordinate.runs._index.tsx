@@ -144,6 +144,23 @@ export default function RunsIndex({ loaderData, actionData }: Route.ComponentPro
               defaultChecked={bp?.pool.includeProficientElsewhere ?? false}
             />
           </fieldset>
+          {plan.runId && (
+            <fieldset className="grid gap-3 rounded-md border border-line p-3">
+              <legend className="field-label px-1">Re-plan from the published plan</legend>
+              <CheckboxField
+                name="fromPublished"
+                label="Keep people's published sessions unless a change forces them to move"
+                defaultChecked={Boolean(bp?.fromPublished)}
+              />
+              <TextField
+                name="keepWeight"
+                label="Moving one person's sessions costs as much as one more person ready with priority"
+                type="number"
+                defaultValue={String(bp?.fromPublished?.keepWeight ?? 3)}
+                hint="0 to 100. With 3, the plan moves someone's published sessions only when that makes more people ready than one priority-3 person is worth; leave, maintenance, a pause or withdrawal or a new priority always move them."
+              />
+            </fieldset>
+          )}
           <fieldset className="grid gap-3 rounded-md border border-line p-3">
             <legend className="field-label px-1">What-if changes (optional)</legend>
             <div className="grid gap-4 md:grid-cols-3">

@@ -66,6 +66,15 @@ export const runParametersSchema = z.object({
     .max(1, "Fairness share is at most 1."),
   whatIf: whatIfSchema,
   baseRunId: z.coerce.number().int().positive().optional(),
+  /** start from the published plan: keep published sessions unless a change forces a move */
+  fromPublished: z
+    .object({
+      keepWeight: z.coerce
+        .number({ message: "The value of keeping someone's sessions must be a number." })
+        .min(0, "The value of keeping someone's sessions is at least 0.")
+        .max(100, "The value of keeping someone's sessions is at most 100."),
+    })
+    .optional(),
 });
 export type RunParameters = z.infer<typeof runParametersSchema>;
 
@@ -88,6 +97,8 @@ export const runFormSchema = z
     addUnitCount: z.string().optional(),
     removeTrainerIds: idList,
     baseRunId: z.string().optional(),
+    fromPublished: checkbox,
+    keepWeight: z.string().optional(),
   })
   .transform((f, ctx) => {
     const pct = (s: string, field: string) => {
@@ -129,6 +140,7 @@ export const runFormSchema = z
       fairnessShare: pct(f.fairnessShare, "fairnessShare"),
       whatIf: { addUnits, removeTrainerIds: f.removeTrainerIds },
       baseRunId: f.baseRunId ? Number(f.baseRunId) : undefined,
+      fromPublished: f.fromPublished ? { keepWeight: f.keepWeight?.trim() || "3" } : undefined,
     });
     if (!out.success) {
       // Report the nested parameter errors under the form's flat field names.
@@ -137,6 +149,7 @@ export const runFormSchema = z
         "pool.departmentIds": "departmentIds",
         "whatIf.addUnits": "addUnitCount",
         "whatIf.removeTrainerIds": "removeTrainerIds",
+        "fromPublished.keepWeight": "keepWeight",
       };
       for (const issue of out.error.issues) {
         const key = issue.path.slice(0, 2).join(".");
