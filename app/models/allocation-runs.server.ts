@@ -38,6 +38,8 @@ export interface RunRow {
   attempts: number;
   /** ready after placement / pool and value, stored when the run finished (null before, or for older runs) */
   summary: RunSummary | null;
+  /** when the run was archived (hidden from the runs list by default); null when it is not */
+  archivedAt: string | null;
 }
 
 export interface RunDetail extends RunRow {
@@ -65,6 +67,7 @@ function toRow(r: Row): RunRow {
     publishedPlanVersion: r.published_plan_version == null ? null : Number(r.published_plan_version),
     attempts: Number(r.attempts ?? 0),
     summary: r.summary ? JSON.parse(r.summary) : null,
+    archivedAt: r.archived_at ? String(r.archived_at) : null,
   };
 }
 
@@ -94,15 +97,19 @@ function baseQuery(k: Db) {
       "r.published_plan_version",
       "r.attempts",
       "r.summary",
+      "r.archived_at",
       "c.display_name as created_by_name",
       "p.display_name as published_by_name",
     );
 }
 
-export async function listRuns(scope: Scope, limit = 50): Promise<RunRow[]> {
-  const rows = await baseQuery(db())
+/** Runs newest first; archived ones only when asked for. */
+export async function listRuns(scope: Scope, limit = 50, opts: { includeArchived?: boolean } = {}): Promise<RunRow[]> {
+  const q = baseQuery(db())
     .orderBy("r.id", "desc")
     .limit(limit * 3);
+  if (!opts.includeArchived) q.whereNull("r.archived_at");
+  const rows = await q;
   return rows
     .map(toRow)
     .filter((r) => visible(scope, r))
@@ -163,6 +170,28 @@ async function createRun(principal: Principal, params: RunParameters): Promise<n
       })
       .returning("id");
     return typeof row === "object" ? row.id : row;
+  });
+}
+
+/** How many runs in scope are archived (the runs list offers to show them). */
+export async function archivedCount(scope: Scope): Promise<number> {
+  const rows = await baseQuery(db()).whereNotNull("r.archived_at");
+  return rows.map(toRow).filter((r) => visible(scope, r)).length;
+}
+
+/** Archives or un-archives a run in the principal's scope; the run of the published plan stays in the list. */
+export async function setArchived(principal: Principal, id: number, archived: boolean): Promise<void> {
+  await db().transaction(async (trx) => {
+    const run = await getRunStatus(principal.scope, id, trx);
+    if (!run) throw new UserError("No such allocation run in your scope.", { status: 404 });
+    if (archived) {
+      const state = await trx("published_plan_state").where({ id: 1 }).first("current_run_id");
+      if (state?.current_run_id === id)
+        throw new UserError("This run is the published plan, so it stays in the list.", { status: 409 });
+    }
+    await trx("allocation_runs")
+      .where({ id })
+      .update({ archived_at: archived ? new Date().toISOString() : null, version: trx.raw("version + 1") });
   });
 }
 

@@ -110,6 +110,7 @@ export async function runResultView(p: Principal & { kind: "user" }, runId: numb
       publishedPlanVersion: run.publishedPlanVersion,
       parameters: run.parameters,
       baseRunId: run.baseRunId,
+      archivedAt: run.archivedAt,
     },
     result: plan
       ? {

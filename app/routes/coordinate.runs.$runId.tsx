@@ -16,9 +16,10 @@ import { ActionForm, CheckboxField, FieldMessage, FormError, Notice } from "~/co
 import { ProgressBar } from "~/components/progress-bar";
 import { formAction } from "~/forms.server";
 import { recordAccess } from "~/models/access-log.server";
+import { setArchived } from "~/models/allocation-runs.server";
 import { publishRun } from "~/models/publish.server";
 import { runResultView, type WorkerPlanRow } from "~/models/run-result.server";
-import { publishSchema } from "~/schemas/allocation";
+import { runPageSchema } from "~/schemas/allocation";
 import type { Route } from "./+types/coordinate.runs.$runId";
 
 export const meta: Route.MetaFunction = ({ params }) => [{ title: `Allocation run #${params.runId} · Limberly` }];
@@ -32,8 +33,17 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 }
 
 export async function action({ request, params }: Route.ActionArgs) {
-  const p = await requireUser(request, "allocation.publish");
-  return formAction(await request.formData(), publishSchema, async (v) => {
+  const form = await request.formData();
+  // archiving is part of running and comparing runs; publishing needs the publish permission
+  const p = await requireUser(request, form.get("intent") === "archive" ? "allocation.run" : "allocation.publish");
+  return formAction(form, runPageSchema, async (v) => {
+    if (v.intent === "archive") {
+      await setArchived(p, Number(params.runId), v.archived === "yes");
+      return {
+        notice: v.archived === "yes" ? "Archived: the runs list hides this run." : "Back in the runs list.",
+        payload: undefined,
+      };
+    }
     const published = await publishRun(p, Number(params.runId), v.expectedPlanVersion);
     return { notice: `Published as plan version ${published.version}.`, payload: published };
   });
@@ -219,6 +229,15 @@ export default function RunPage({ loaderData, actionData }: Route.ComponentProps
           ) : null}
           {run.createdBy ? ` · started by ${run.createdBy}` : ""}
         </p>
+        {run.status !== "queued" && run.status !== "running" && (
+          <ActionForm intent="archive" result={actionData} className="mt-2 flex flex-wrap items-center gap-2">
+            <input type="hidden" name="archived" value={run.archivedAt ? "no" : "yes"} />
+            {run.archivedAt && <span className="text-sm">Archived on {run.archivedAt.slice(0, 10)}.</span>}
+            <button className="btn-quiet" type="submit">
+              {run.archivedAt ? "Put back in the runs list" : "Archive this run"}
+            </button>
+          </ActionForm>
+        )}
       </div>
 
       {(run.status === "queued" || run.status === "running") && (

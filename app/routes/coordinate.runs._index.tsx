@@ -5,7 +5,7 @@ import { ActionForm, CheckboxField, FieldMessage, SelectField, TextField } from 
 import { addDays, isoWeekday } from "~/compute/plan-calendar";
 import { todayIn } from "~/dates";
 import { formAction } from "~/forms.server";
-import { getRunStatus, listRuns, startRun } from "~/models/allocation-runs.server";
+import { archivedCount, getRunStatus, listRuns, startRun } from "~/models/allocation-runs.server";
 import { planningChoices } from "~/models/fleet-admin.server";
 import { planningQuantile } from "~/models/forecast.server";
 import { planState } from "~/models/publish.server";
@@ -25,13 +25,24 @@ export async function loader({ request }: Route.LoaderArgs) {
   const url = new URL(request.url);
   const fromId = Number(url.searchParams.get("from")) || null;
   const base = fromId ? await getRunStatus(p.scope, fromId) : null;
-  const [runs, choices, quantile, plan] = await Promise.all([
-    listRuns(p.scope),
+  const showArchived = url.searchParams.get("archived") === "show";
+  const [runs, archived, choices, quantile, plan] = await Promise.all([
+    listRuns(p.scope, 50, { includeArchived: showArchived }),
+    archivedCount(p.scope),
     planningChoices(p.scope),
     planningQuantile(),
     planState(),
   ]);
-  return { runs, choices, quantile, base, defaultStart: nextMonday(todayIn(await viewerTimeZone(p))), plan };
+  return {
+    runs,
+    archived,
+    showArchived,
+    choices,
+    quantile,
+    base,
+    defaultStart: nextMonday(todayIn(await viewerTimeZone(p))),
+    plan,
+  };
 }
 
 export async function action({ request }: Route.ActionArgs) {
@@ -44,7 +55,7 @@ export async function action({ request }: Route.ActionArgs) {
 const STATUS_TEXT: Record<string, string> = { queued: "Queued", running: "Solving", done: "Done", failed: "Failed" };
 
 export default function RunsIndex({ loaderData, actionData }: Route.ComponentProps) {
-  const { runs, choices, quantile, base, defaultStart, plan } = loaderData;
+  const { runs, archived, showArchived, choices, quantile, base, defaultStart, plan } = loaderData;
   const nav = useNavigation();
   const bp = base?.parameters;
   return (
@@ -215,6 +226,19 @@ export default function RunsIndex({ loaderData, actionData }: Route.ComponentPro
         <h2 id="runs" className="text-lg font-semibold">
           Runs
         </h2>
+        {archived > 0 && (
+          <p className="text-sm">
+            {showArchived ? (
+              <Link className="text-spruce-700 underline" to="/coordinate/runs">
+                Hide the {archived} archived run{archived === 1 ? "" : "s"}
+              </Link>
+            ) : (
+              <Link className="text-spruce-700 underline" to="/coordinate/runs?archived=show">
+                Show the {archived} archived run{archived === 1 ? "" : "s"}
+              </Link>
+            )}
+          </p>
+        )}
         {runs.length === 0 ? (
           <p className="text-ink-soft">No runs yet.</p>
         ) : (
@@ -247,6 +271,7 @@ export default function RunsIndex({ loaderData, actionData }: Route.ComponentPro
                     <td>
                       {STATUS_TEXT[r.status]}
                       {r.status === "running" ? ` (${Math.round(r.fraction * 100)} %)` : ""}
+                      {r.archivedAt ? " · archived" : ""}
                     </td>
                     <td className="whitespace-nowrap" data-testid={`run-ready-${r.id}`}>
                       {r.summary ? `${r.summary.ready} / ${r.summary.pool}` : "—"}

@@ -170,6 +170,13 @@ export const publishSchema = z.object({
   confirm: z.literal("yes", { message: PUBLISH_CONFIRM_MESSAGE }),
 });
 
+/** Archive or un-archive a run (the run page). */
+export const archiveSchema = z.object({
+  intent: z.literal("archive"),
+  archived: z.enum(["yes", "no"], { message: "Say whether to archive the run." }),
+});
+export const runPageSchema = intents(publishSchema, archiveSchema);
+
 // Fleet and trainers forms.
 const hhmm = z
   .string()
