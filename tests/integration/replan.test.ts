@@ -152,3 +152,55 @@ describe("re-planning from the published plan", () => {
     }
   });
 });
+
+describe("archiving runs and comparing them", () => {
+  it("an archived run leaves the list until shown; the published plan's run cannot be archived", async () => {
+    const { client } = await signIn(PERSONA.coordinator);
+    const id = await startRun(client, { ...RUN, label: "it-archive" });
+    expect(await waitDone(client, id)).toBe("done");
+    const link = `href="/coordinate/runs/${id}"`;
+    expect(await (await client.request("/coordinate/runs")).text()).toContain(link);
+    const res = await client.postForm(`/coordinate/runs/${id}`, { intent: "archive", archived: "yes" });
+    expect(res.status).toBe(200);
+    expect(await res.text()).toContain("Archived: the runs list hides this run.");
+    expect(await (await client.request("/coordinate/runs")).text()).not.toContain(link);
+    const shown = await (await client.request("/coordinate/runs?archived=show")).text();
+    expect(shown).toContain(link);
+    expect(shown).toContain("· archived");
+    expect((await client.postForm(`/coordinate/runs/${id}`, { intent: "archive", archived: "no" })).status).toBe(200);
+    expect(await (await client.request("/coordinate/runs")).text()).toContain(link);
+
+    const state = await k()("published_plan_state").where({ id: 1 }).first();
+    const refused = await client.postForm(`/coordinate/runs/${state.current_run_id}`, {
+      intent: "archive",
+      archived: "yes",
+    });
+    expect(refused.status).toBe(409);
+    expect(await refused.text()).toContain("This run is the published plan, so it stays in the list.");
+    expect(
+      (await k()("allocation_runs").where({ id: state.current_run_id }).first("archived_at")).archived_at,
+    ).toBeNull();
+  });
+
+  it("the compare page marks only real differences, with a difference column", async () => {
+    const { client } = await signIn(PERSONA.coordinator);
+    const a = await startRun(client, { ...RUN, label: "it-compare-a" });
+    const b = await startRun(client, { ...RUN, horizonWeeks: "3", label: "it-compare-b" });
+    expect(await waitDone(client, a)).toBe("done");
+    expect(await waitDone(client, b)).toBe("done");
+    const same = await (await client.request(`/coordinate/runs/compare?a=${a}&b=${a}`)).text();
+    expect(same).toContain(`Difference (#${a} − #${a})`);
+    expect(same).not.toContain('data-differs="yes"');
+    const html = await (await client.request(`/coordinate/runs/compare?a=${a}&b=${b}`)).text();
+    const ready = async (id: number) =>
+      JSON.parse((await k()("allocation_runs").where({ id }).first("result")).result).assignments.length as number;
+    const [ra, rb] = [await ready(a), await ready(b)];
+    const row = /<tr data-differs="(yes|no)"><th scope="row">People ready<\/th>.*?<\/tr>/.exec(html);
+    expect(row).not.toBeNull();
+    expect(row![1]).toBe(ra === rb ? "no" : "yes");
+    if (ra !== rb) expect(row![0]).toContain(`${rb > ra ? "+" : "−"}${Math.abs(rb - ra)}`);
+    // plain words on screen; the exact terms only in the "how this was computed" panel
+    const table = html.slice(html.indexOf('data-testid="run-compare"'), html.indexOf("How this was computed"));
+    expect(table).not.toMatch(/objective|dual price|priority points/i);
+  });
+});
