@@ -61,9 +61,7 @@ export function RunCompare({ a, b }: { a: CompareSide; b: CompareSide }) {
               <th scope="col">
                 Run #{b.id}: {b.label}
               </th>
-              <th scope="col">
-                Difference (#{b.id} − #{a.id})
-              </th>
+              <th scope="col">{`Difference (#${b.id} − #${a.id})`}</th>
             </tr>
           </thead>
           <tbody>
