@@ -9,7 +9,7 @@ import { type Browserless, PERSONA, signIn, testDb } from "./helpers";
 // changed are e-mailed.
 
 const k = () => testDb();
-const RUN = { startDate: "2026-12-07", horizonWeeks: "6", planningQuantile: "80", fairnessShare: "20" };
+const RUN = { startDate: "2026-12-07", horizonWeeks: "6", fairnessShare: "20" };
 
 async function startRun(client: Browserless, fields: Record<string, string>): Promise<number> {
   const res = await client.postForm("/coordinate/runs", fields);
