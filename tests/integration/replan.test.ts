@@ -9,7 +9,8 @@ import { type Browserless, PERSONA, signIn, testDb } from "./helpers";
 // changed are e-mailed.
 
 const k = () => testDb();
-const RUN = { startDate: "2026-12-07", horizonWeeks: "6", fairnessShare: "20" };
+// a start of its own, so the plan it publishes does not stand in for the one other files publish from 2026-12-07
+const RUN = { startDate: "2027-01-04", horizonWeeks: "6", fairnessShare: "20" };
 
 async function startRun(client: Browserless, fields: Record<string, string>): Promise<number> {
   const res = await client.postForm("/coordinate/runs", fields);
