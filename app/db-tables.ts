@@ -82,6 +82,7 @@ declare module "knex/types/tables" {
         heartbeat_at: string | null;
         attempts: number;
         summary: string | null;
+        archived_at: string | null;
       },
       "id" | "status" | "fraction" | "version" | "attempts"
     >;

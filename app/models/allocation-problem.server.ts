@@ -3,6 +3,7 @@ import type { AllocationProblem } from "~/compute/allocation";
 import { bookCommitments, type Commitment, type CommittedPlan } from "~/compute/commitments";
 import { addDays, inRange, isoWeekday, minutesOf, weekDates } from "~/compute/plan-calendar";
 import { plannedHoursFromLogScale } from "~/compute/regression";
+import type { ReplanDecision } from "~/compute/replan";
 import type { CalendarUnit, PlanCalendar } from "~/compute/session-packing";
 import { breakRuleOf, deviceHoursInWeek, trainerHoursInWeek } from "~/compute/session-rules";
 import { hhmmOfWallClock, startOfDay, wallClock } from "~/dates";
@@ -33,6 +34,8 @@ export interface ProblemSnapshot {
    * problem's capacities are what is left after them. Absent in snapshots made before commitments existed.
    */
   commitments?: CommittedPlan[];
+  /** a run from the published plan: who may keep their sessions, who must move and why (app/compute/replan.ts) */
+  replan?: ReplanDecision;
   /**
    * The organisation's planning quantile the hours needed were taken at (a share, 0.80): every run plans at that
    * one setting. Absent in snapshots made before; their run's parameters hold it.

@@ -1,5 +1,6 @@
 import type { Principal } from "~/auth/guard.server";
-import { type NotReady, type Placement, placePlan } from "~/compute/placement";
+import type { NotReady, Placement } from "~/compute/placement";
+import { placeRun } from "~/compute/replan";
 import type { PackedSession, UnplacedHours } from "~/compute/session-packing";
 import { sessionRuleViolations } from "~/compute/session-rules";
 import { DEFAULT_TIME_ZONE, dayOf, hhmmOfWallClock, nowInstant, startOfDay, wallClock, wallClockAt } from "~/dates";
@@ -67,7 +68,7 @@ export type { NotReady, Placement };
 export function placement(run: RunDetail): Placement {
   if (!run.snapshot || !run.plan)
     return { sessions: [], unplaced: [], readyIds: [], notReady: [], continuing: { total: 0, finishing: 0 } };
-  return placePlan(run.snapshot.calendar, run.snapshot.commitments ?? [], run.plan);
+  return placeRun(run.snapshot.calendar, run.snapshot.commitments ?? [], run.plan, run.snapshot.replan);
 }
 
 export interface PublishOutcome {

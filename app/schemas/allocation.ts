@@ -69,6 +69,15 @@ export const runParametersSchema = z.object({
     .max(1, "Fairness share is at most 1."),
   whatIf: whatIfSchema,
   baseRunId: z.coerce.number().int().positive().optional(),
+  /** start from the published plan: keep published sessions unless a change forces a move */
+  fromPublished: z
+    .object({
+      keepWeight: z.coerce
+        .number({ message: "The value of keeping someone's sessions must be a number." })
+        .min(0, "The value of keeping someone's sessions is at least 0.")
+        .max(100, "The value of keeping someone's sessions is at most 100."),
+    })
+    .optional(),
 });
 export type RunParameters = z.infer<typeof runParametersSchema>;
 /** A run's parameters as stored: the input plus the organisation's planning quantile when it was made (a share, 0.80). */
@@ -92,6 +101,8 @@ export const runFormSchema = z
     addUnitCount: z.string().optional(),
     removeTrainerIds: idList,
     baseRunId: z.string().optional(),
+    fromPublished: checkbox,
+    keepWeight: z.string().optional(),
   })
   .transform((f, ctx) => {
     const pct = (s: string, field: string) => {
@@ -132,6 +143,7 @@ export const runFormSchema = z
       fairnessShare: pct(f.fairnessShare, "fairnessShare"),
       whatIf: { addUnits, removeTrainerIds: f.removeTrainerIds },
       baseRunId: f.baseRunId ? Number(f.baseRunId) : undefined,
+      fromPublished: f.fromPublished ? { keepWeight: f.keepWeight?.trim() || "3" } : undefined,
     });
     if (!out.success) {
       // Report the nested parameter errors under the form's flat field names.
@@ -140,6 +152,7 @@ export const runFormSchema = z
         "pool.departmentIds": "departmentIds",
         "whatIf.addUnits": "addUnitCount",
         "whatIf.removeTrainerIds": "removeTrainerIds",
+        "fromPublished.keepWeight": "keepWeight",
       };
       for (const issue of out.error.issues) {
         const key = issue.path.slice(0, 2).join(".");
@@ -159,6 +172,13 @@ export const publishSchema = z.object({
   /** the second step: the coordinator has seen who will be ready and who will be e-mailed */
   confirm: z.literal("yes", { message: PUBLISH_CONFIRM_MESSAGE }),
 });
+
+/** Archive or un-archive a run (the run page). */
+export const archiveSchema = z.object({
+  intent: z.literal("archive"),
+  archived: z.enum(["yes", "no"], { message: "Say whether to archive the run." }),
+});
+export const runPageSchema = intents(publishSchema, archiveSchema);
 
 // Fleet and trainers forms.
 const hhmm = z
