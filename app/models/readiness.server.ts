@@ -296,6 +296,9 @@ async function publishTable(
   if (!withinShare) reasons.push(`Even so ${pct(chosen.share)} of the cells are hidden: the groups are small.`);
   let id = x.prev?.id ?? 0;
   let note = x.r.note;
+  // In the background nothing new may be needed after all (the coarser grouping's counts did not
+  // change): the boards cached as "being updated" must still be dropped.
+  if (x.reused && background) await db().transaction(bumpReadinessGeneration);
   if (!x.reused) {
     if (latest && latest.grouping !== x.c.key)
       note =
@@ -364,7 +367,11 @@ function servePrevious(
 }
 
 // One background protection per table at a time on this instance; counts that arrive meanwhile run next.
-const refreshing = new Map<string, { next: { candidates: Candidate[]; maxShare: number } | null }>();
+interface Refresh {
+  next: { candidates: Candidate[]; maxShare: number } | null;
+  done: Promise<void>;
+}
+const refreshing = new Map<string, Refresh>();
 
 function refreshInBackground(tableKey: string, candidates: Candidate[], maxShare: number): void {
   const running = refreshing.get(tableKey);
@@ -372,9 +379,9 @@ function refreshInBackground(tableKey: string, candidates: Candidate[], maxShare
     running.next = { candidates, maxShare };
     return;
   }
-  const state: { next: { candidates: Candidate[]; maxShare: number } | null } = { next: { candidates, maxShare } };
+  const state: Refresh = { next: { candidates, maxShare }, done: Promise.resolve() };
   refreshing.set(tableKey, state);
-  void (async () => {
+  state.done = (async () => {
     while (state.next) {
       const job = state.next;
       state.next = null;
@@ -388,9 +395,9 @@ function refreshInBackground(tableKey: string, candidates: Candidate[], maxShare
   })();
 }
 
-/** Readiness publications this instance is still protecting in the background (for tests and benches). */
-export function readinessRefreshesRunning(): number {
-  return refreshing.size;
+/** Resolves once this instance protects no readiness table in the background (tests, benches). */
+export async function readinessRefreshesSettled(): Promise<void> {
+  while (refreshing.size > 0) await Promise.all([...refreshing.values()].map((r) => r.done));
 }
 
 function tableCounts(g: Groups, columns: string[], counts: number[][], threshold: number): TableCounts {
