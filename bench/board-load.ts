@@ -120,4 +120,11 @@ for (const [scenario, fill] of [
   }
 }
 console.log(`${CONNECTIONS} connections × ${SECONDS} s per path, built app on SQLite, one signed-in manager`);
+// Latency on a shared machine says as much about the other processes as about the app: state the load.
+console.log(
+  `${os.cpus().length} CPUs; load average (1, 5, 15 min) at the end: ${os
+    .loadavg()
+    .map((v) => v.toFixed(1))
+    .join(", ")}`,
+);
 console.table(rows);
