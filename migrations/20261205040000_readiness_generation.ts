@@ -3,8 +3,8 @@ import type { Knex } from "knex";
 // One number that changes whenever data under the readiness board changes, so every app instance can
 // keep the board's protected tables until then (app/models/readiness.server.ts). Database triggers bump
 // it inside the transaction of every write to the tables the board counts — whoever writes them, now or
-// later — so a cached board can never outlive a committed change. The value only grows and never comes
-// back after the table is emptied: each bump sets it to the larger of value + 1 and the clock in ms.
+// later — so a cached board can never outlive a committed change. The value only grows: each bump adds 1,
+// the demo seed's reset leaves the table alone, and a missing row starts again from the clock in ms.
 // On PostgreSQL the bump is a deferred constraint trigger, once per transaction at commit: the row lock it
 // takes is the last lock of the transaction, so writers never deadlock on it.
 
@@ -39,7 +39,7 @@ export async function up(knex: Knex): Promise<void> {
           insert into readiness_generation (id, value)
             values (1, (extract(epoch from clock_timestamp()) * 1000)::bigint)
             on conflict (id) do update
-              set value = greatest(readiness_generation.value + 1, excluded.value);
+              set value = readiness_generation.value + 1;
         end if;
         return null;
       end $$`);
@@ -57,7 +57,7 @@ export async function up(knex: Knex): Promise<void> {
     return;
   }
   const bump = `insert into readiness_generation (id, value) values (1, cast(unixepoch('subsec') * 1000 as integer))
-    on conflict (id) do update set value = max(readiness_generation.value + 1, excluded.value);`;
+    on conflict (id) do update set value = readiness_generation.value + 1;`;
   for (const [table, columns] of Object.entries(READINESS_SOURCES))
     for (const [op, event] of [
       ["ins", "insert"],

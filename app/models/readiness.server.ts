@@ -128,6 +128,7 @@ export async function updateOrganisationSettings(v: OrganisationSettings): Promi
       .update({
         disclosure_threshold: effectiveThreshold(v.disclosureThreshold),
         manager_groupings: JSON.stringify(v.groupings),
+        max_hidden_share: v.maxHiddenSharePercent / 100,
       });
   });
 }

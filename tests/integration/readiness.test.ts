@@ -451,22 +451,48 @@ describe("organisation settings", () => {
 
     const low = await admin.postForm("/admin/organisation", {
       disclosureThreshold: "3",
+      maxHiddenSharePercent: "25",
       groupings: ["site", "department", "stage"],
     });
     expect(low.status).toBe(400);
     expect(await low.text()).toContain("at least 5");
-    const noRows = await admin.postForm("/admin/organisation", { disclosureThreshold: "6", groupings: ["stage"] });
+    const noRows = await admin.postForm("/admin/organisation", {
+      disclosureThreshold: "6",
+      maxHiddenSharePercent: "25",
+      groupings: ["stage"],
+    });
     expect(noRows.status).toBe(400);
     expect(await noRows.text()).toContain("site or department");
 
+    for (const [share, message] of [
+      ["4", "at least 5 %"],
+      ["61", "at most 60 %"],
+      ["", "whole number of per cent"],
+      ["12.5", "whole number of per cent"],
+    ]) {
+      const refused = await admin.postForm("/admin/organisation", {
+        disclosureThreshold: "5",
+        maxHiddenSharePercent: share,
+        groupings: ["department", "stage"],
+      });
+      expect(refused.status, share).toBe(400);
+      expect(await refused.text()).toContain(message);
+    }
+    expect((await testDb()("organisations").first("max_hidden_share")).max_hidden_share).toBe(0.25);
     const ok = await admin.postForm("/admin/organisation", {
       disclosureThreshold: "8",
+      maxHiddenSharePercent: "40",
       groupings: ["department", "stage"],
     });
     expect(ok.status).toBe(200);
     try {
-      const org = await testDb()("organisations").first("disclosure_threshold", "manager_groupings");
+      const org = await testDb()("organisations").first(
+        "disclosure_threshold",
+        "manager_groupings",
+        "max_hidden_share",
+      );
       expect(org.disclosure_threshold).toBe(8);
+      expect(org.max_hidden_share).toBe(0.4);
       expect(JSON.parse(org.manager_groupings)).toEqual(["department", "stage"]);
       const stage = await (await manager.request("/api/v1/readiness?groupBy=department")).json();
       expect(stage.threshold).toBe(8);
@@ -478,6 +504,7 @@ describe("organisation settings", () => {
     } finally {
       const back = await admin.postForm("/admin/organisation", {
         disclosureThreshold: "5",
+        maxHiddenSharePercent: "25",
         groupings: ["site", "department", "deviceType", "stage", "week"],
       });
       expect(back.status).toBe(200);
