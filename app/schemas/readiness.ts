@@ -31,17 +31,20 @@ export const organisationSettingsSchema = z.object({
     .int("Enter the smallest group size as a whole number.")
     .min(5, "The smallest group size is at least 5: smaller groups could single people out.")
     .max(MAX_THRESHOLD, `The smallest group size can be at most ${MAX_THRESHOLD}.`),
-  maxHiddenSharePercent: z.coerce
-    .number({ message: "Enter the share of hidden cells as a whole number of per cent." })
-    .int("Enter the share of hidden cells as a whole number of per cent.")
-    .min(
-      HIDDEN_SHARE_PERCENT.min,
-      `The share of hidden cells is at least ${HIDDEN_SHARE_PERCENT.min} %: lower would always force the coarsest grouping.`,
-    )
-    .max(
-      HIDDEN_SHARE_PERCENT.max,
-      `The share of hidden cells is at most ${HIDDEN_SHARE_PERCENT.max} %: a table hiding more than that tells a manager little.`,
-    ),
+  maxHiddenSharePercent: z.preprocess(
+    (v) => (v === "" ? undefined : v),
+    z.coerce
+      .number({ message: "Enter the share of hidden cells as a whole number of per cent." })
+      .int("Enter the share of hidden cells as a whole number of per cent.")
+      .min(
+        HIDDEN_SHARE_PERCENT.min,
+        `The share of hidden cells is at least ${HIDDEN_SHARE_PERCENT.min} %: lower would always force the coarsest grouping.`,
+      )
+      .max(
+        HIDDEN_SHARE_PERCENT.max,
+        `The share of hidden cells is at most ${HIDDEN_SHARE_PERCENT.max} %: a table hiding more than that tells a manager little.`,
+      ),
+  ),
   groupings: groupingList
     .refine(
       (g) => g.some((x) => ROW_GROUPINGS.includes(x)),
