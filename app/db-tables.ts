@@ -569,7 +569,13 @@ declare module "knex/types/tables" {
         sha256: string;
         size_bytes: number;
         row_count: number;
+        /** As recorded (declared or estimated from the timestamps). */
         sample_rate_hz: number | null;
+        /** The common processing before the measures (sway traces; null for other kinds and older uploads). */
+        resampled_rate_hz: number | null;
+        filter: string | null;
+        cutoff_hz: number | null;
+        duration_seconds: number | null;
         computed: string;
         uploaded_by: number | null;
         created_at: string;

@@ -6,7 +6,7 @@ import { type RunSummary, runSummary } from "~/compute/placement";
 import { type Db, db, type Row } from "~/db.server";
 import { UserError } from "~/errors";
 import { enqueueAllocation } from "~/jobs/queue.server";
-import type { RunParameters } from "~/schemas/allocation";
+import type { RunParameters, StoredRunParameters } from "~/schemas/allocation";
 import { buildProblem, type ProblemSnapshot } from "./allocation-problem.server";
 
 // Allocation runs: parameters, the problem snapshot the solver sees, progress and the result.
@@ -19,7 +19,7 @@ export interface RunRow {
   id: number;
   label: string | null;
   baseRunId: number | null;
-  parameters: RunParameters & { pool: { siteIds: number[] } };
+  parameters: StoredRunParameters & { pool: { siteIds: number[] } };
   status: RunStatus;
   phase: string | null;
   fraction: number;
@@ -129,7 +129,7 @@ export async function getRun(scope: Scope, id: number, k: Db = db()): Promise<Ru
  * Creates a queued run: the pool is restricted to the principal's sites, the problem snapshot is built now
  * (so the solve sees the data as they were when the coordinator pressed Start). One transaction.
  */
-export async function createRun(principal: Principal, params: RunParameters): Promise<number> {
+async function createRun(principal: Principal, params: RunParameters): Promise<number> {
   const scope = principal.scope;
   return db().transaction(async (trx) => {
     const allSites = (await trx("sites").select("id").orderBy("id")).map((s) => s.id);
@@ -142,8 +142,10 @@ export async function createRun(principal: Principal, params: RunParameters): Pr
     if (siteIds.length === 0) throw new UserError("Your scope has no sites to plan for.", { field: "siteIds" });
     if (params.baseRunId && !(await trx("allocation_runs").where({ id: params.baseRunId }).first("id")))
       throw new UserError("The run to compare with does not exist.", { field: "baseRunId" });
-    const stored: RunParameters = { ...params, pool: { ...params.pool, siteIds } };
-    const snapshot = await buildProblem(stored, scope, trx);
+    const pooled: RunParameters = { ...params, pool: { ...params.pool, siteIds } };
+    const snapshot = await buildProblem(pooled, scope, trx);
+    // Kept with the run: the organisation's planning quantile the hours needed were taken at.
+    const stored: StoredRunParameters = { ...pooled, planningQuantile: snapshot.planningQuantile };
     const [row] = await trx("allocation_runs")
       .insert({
         label: params.label ?? null,
@@ -175,22 +177,13 @@ export function planSummary(plan: AllocationPlan) {
 
 /**
  * What the UI and the API call to start a run: creates the queued run (one transaction) and hands it to the
- * job queue. Input problems come back as a field and a message; each caller shapes its own response.
+ * job queue. Input problems are UserErrors naming the field (answered by app/forms.server.ts).
  */
-export async function startRun(
-  principal: Principal,
-  params: RunParameters,
-): Promise<{ ok: true; id: number } | { ok: false; field: string; message: string }> {
-  let id: number;
-  try {
-    id = await createRun(principal, params);
-  } catch (e) {
-    if (e instanceof UserError) return { ok: false, field: e.field ?? "_form", message: e.message };
-    throw e;
-  }
+export async function startRun(principal: Principal, params: RunParameters): Promise<number> {
+  const id = await createRun(principal, params);
   // The run is committed; if handing it over fails, the queue's sweep picks queued runs up again.
   await enqueueAllocation(id).catch((e) => console.error(`allocation run ${id}: enqueue failed, the sweep retries`, e));
-  return { ok: true, id };
+  return id;
 }
 
 // ── Claims, written by the job runner (app/jobs) ─────────────────────────────────────────────────

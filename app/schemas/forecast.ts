@@ -72,7 +72,18 @@ export const logSessionFormSchema = z.object({
 });
 export type LogSessionForm = z.infer<typeof logSessionFormSchema>;
 
-/** The planning figure is entered as a percentile (80 = the 80th percentile) and stored as a share (0.80). */
+/** "80th percentile": the one way the planning quantile (stored as a share, 0.80) is written on screen. */
+export function percentileLabel(q: number): string {
+  const n = Math.round(q * 100);
+  const suffix =
+    n % 10 === 1 && n !== 11 ? "st" : n % 10 === 2 && n !== 12 ? "nd" : n % 10 === 3 && n !== 13 ? "rd" : "th";
+  return `${n}${suffix} percentile`;
+}
+
+/**
+ * The planning figure is one organisation setting (models page), entered as a percentile (80 = the 80th
+ * percentile) and stored as a share (0.80); forecasts, drift and every allocation run use it.
+ */
 export const planningQuantileSchema = z.object({
   planningQuantile: z.coerce
     .number({ message: "Planning percentile must be a whole number from 50 to 95." })

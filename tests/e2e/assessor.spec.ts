@@ -89,6 +89,14 @@ test("assessor: roster with bad rows, consent, manual test, five traces, profile
     const result = page.getByTestId("upload-result");
     await expect(result).toContainText(`${kind}.csv: ${kind} trace`);
     await expect(result).toContainText(expected[kind]);
+    if (kind === "sway") {
+      // The processing before the measures is stated with the result, the method and sources beside it.
+      await expect(page.getByTestId("upload-processing")).toContainText(
+        "recorded at 100.0 Hz, resampled to 100 Hz, low-pass 10 Hz",
+      );
+      await page.getByText("How the sway measures were computed").click();
+      await expect(page.getByTestId("sway-how-computed")).toContainText("Prieto et al. (1996)");
+    }
     // Two measures per trace kind join the manual score: wait for the reloaded table before the next upload.
     await expect(results).toHaveCount(1 + 2 * (i + 1));
     if (kind === "glove") await page.screenshot({ path: testInfo.outputPath("upload-result.png"), fullPage: true });

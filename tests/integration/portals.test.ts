@@ -288,7 +288,6 @@ describe("consent from the worker portal", () => {
     const params = runParametersSchema.parse({
       startDate: nextMonday.toISOString().slice(0, 10),
       horizonWeeks: 4,
-      planningQuantile: 0.8,
       fairnessShare: 0.2,
       pool: { siteIds: [me.site_id] },
     });
