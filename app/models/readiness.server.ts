@@ -642,9 +642,22 @@ interface CachedBoard {
   publicationIds: number[];
 }
 
-/** Per scope, the board of the latest generation this instance computed (protected figures only). */
-const boards = new Map<string, CachedBoard>();
-const computing = new Map<string, Promise<CachedBoard>>();
+/**
+ * Per database handle (one in the app; tests may swap it) and scope, the board of the latest generation
+ * this instance computed (protected figures only), and the computations under way.
+ */
+const caches = new WeakMap<
+  object,
+  { boards: Map<string, CachedBoard>; computing: Map<string, Promise<CachedBoard>> }
+>();
+function cacheOf(conn: Db) {
+  let c = caches.get(conn);
+  if (!c) {
+    c = { boards: new Map(), computing: new Map() };
+    caches.set(conn, c);
+  }
+  return c;
+}
 /** Receipts this instance has already written (publication × viewer), so a cached board costs no write. */
 const receipted = new Set<string>();
 const MAX_CACHED_SCOPES = 1000;
@@ -681,6 +694,7 @@ async function recordReceipts(ids: number[], viewer: BoardViewer): Promise<void>
  * changes; requests in between read one row and get the stored board. The board is shared: never mutate it.
  */
 export async function readinessBoard(scope: Scope, viewer?: BoardViewer): Promise<ReadinessBoard> {
+  const { boards, computing } = cacheOf(db());
   const generation = await readinessGeneration();
   const key = scopeKey(scope);
   let entry = boards.get(key);
