@@ -375,7 +375,11 @@ function measuresWithoutProcessing(
   switch (parsed.kind) {
     case "tracking": {
       const m = trackingError(parsed.data.target, parsed.data.cursor, requireRate(parsed.sampleRateHz));
-      return { "tracking.rmse": m.rmse, "tracking.lagSeconds": m.lagSeconds };
+      return {
+        "tracking.rmse": m.rmse,
+        "tracking.lagSeconds": m.lagSeconds,
+        "tracking.lagMagnitudeSeconds": Math.abs(m.lagSeconds),
+      };
     }
     case "glove": {
       const m = handDimensionality(parsed.data.samples, options.handThreshold);

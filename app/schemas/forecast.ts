@@ -1,6 +1,5 @@
 import { z } from "zod";
 import { intents } from "~/schemas/form";
-import { taskScoreField } from "./session-log";
 
 // Forms and payloads of the forecast area. The worker-forecast payload is one schema for the page loader
 // and for GET /api/v1/workers/:workerId/forecast.
@@ -62,15 +61,10 @@ export const workbenchFormSchema = z.object({
 });
 export type WorkbenchForm = z.infer<typeof workbenchFormSchema>;
 
-export const logSessionFormSchema = z.object({
-  durationHours: z.coerce
-    .number({ message: "Duration must be a number of hours." })
-    .gt(0, "Duration must be more than 0 hours.")
-    .max(8, "Duration must be at most 8 hours in one session."),
-  taskScore: taskScoreField("Task score must be between 0 and 1."),
-  notes: z.string().trim().max(2000, "Notes are limited to 2,000 characters.").optional(),
+/** "Mark as reviewed" on a course's open review flags. */
+export const resolveFlagsSchema = z.object({
+  intent: z.literal("resolve", { message: "Choose what to record." }),
 });
-export type LogSessionForm = z.infer<typeof logSessionFormSchema>;
 
 /** "80th percentile": the one way the planning quantile (stored as a share, 0.80) is written on screen. */
 export function percentileLabel(q: number): string {

@@ -118,8 +118,16 @@ test("assessor: roster with bad rows, consent, manual test, five traces, profile
   const workerId = Number(new URL(page.url()).pathname.split("/").pop());
 
   // Withdraw assessment consent: erased at once.
-  await page.getByLabel("Type WITHDRAW to confirm (assessment)").fill("WITHDRAW");
-  await page.getByRole("button", { name: "Withdraw assessment consent" }).click();
+  // Given consent is a summary; the withdrawal is behind "Change", with the same confirmation the worker sees.
+  const consent = page.getByTestId("consent-section");
+  await consent.getByText("Change (withdraw a consent)").click();
+  const withdraw = consent.getByTestId("withdraw-assessment");
+  await withdraw.getByText("Withdraw assessment consent…").click();
+  await expect(withdraw).toContainText("The erasure cannot be undone: erased data do not come back.");
+  const box = withdraw.getByLabel("I understand: this takes effect at once, and the erasure cannot be undone.");
+  await expect(box).not.toBeChecked();
+  await box.check();
+  await withdraw.getByRole("button", { name: "Withdraw assessment consent" }).click();
   await expect(page.getByRole("status")).toContainText(
     "Assessment consent withdrawn. Erased at once (rows deleted): assessment results: 11, trace uploads: 5, assessment sessions: 1",
   );

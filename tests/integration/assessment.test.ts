@@ -71,7 +71,7 @@ describe("refusals: coordinator, manager and admin never get assessment data", (
       const w = await client.postForm(`/assess/workers/${workerId}`, {
         intent: "withdraw",
         purpose: "assessment",
-        confirm: "WITHDRAW",
+        confirmWithdraw: "on",
       });
       expect(w.status, `${who} withdraw`).toBe(403);
       const s = await client.postForm(`/assess/workers/${workerId}`, { intent: "session", assessedOn: "2026-11-20" });
@@ -446,7 +446,7 @@ describe("consent, baseline battery and withdrawal", () => {
     const w = await assessor.postForm(`/assess/workers/${worker.id}`, {
       intent: "withdraw",
       purpose: "assessment",
-      confirm: "WITHDRAW",
+      confirmWithdraw: "on",
     });
     expect(w.status).toBe(200);
     expect(await k("assessment_sessions").where({ worker_id: worker.id }).count({ n: "*" }).first()).toEqual({ n: 0 });
