@@ -4,6 +4,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { auditLinkedTables } from "../../app/compute/disclosure";
 import { STAGE_BAND_OF, STAGE_BANDS, STAGES, type Stage } from "../../app/domain/stages";
 import routes from "../../app/routes";
+import { READINESS_SOURCES } from "../../migrations/20261205040000_readiness_generation";
 import {
   type Browserless,
   baseUrl,
@@ -371,6 +372,24 @@ describe("manager API keys", () => {
 describe("the board is kept until the data under it changes", () => {
   const publications = async () => Number((await testDb()("readiness_publications").count({ n: "*" }))[0].n);
   const board = async () => (await manager.request("/api/v1/readiness?groupBy=department")).json();
+
+  it("every table the board counts still has its triggers after all migrations", async () => {
+    // A later migration that rebuilds a table (SQLite copies it for some changes) would drop them silently.
+    const k = testDb();
+    const tables: string[] =
+      process.env.LIMBERLY_TEST_DB === "postgres"
+        ? (
+            await k.raw(
+              "select distinct event_object_table as t from information_schema.triggers where trigger_name = 'readiness_bump'",
+            )
+          ).rows.map((r: { t: string }) => r.t)
+        : (
+            await k.raw(
+              "select tbl_name as t, count(*) as n from sqlite_master where type = 'trigger' and name like 'readiness_bump_%' group by tbl_name having count(*) = 3",
+            )
+          ).map((r: { t: string }) => r.t);
+    expect([...tables].sort()).toEqual(Object.keys(READINESS_SOURCES).sort());
+  });
 
   it("only a committed write moves the readiness generation, once per transaction", async () => {
     const before = await readinessGenerationNow();
