@@ -275,7 +275,7 @@ declare module "knex/types/tables" {
         unit: string;
         higher_is_better: DbBoolean;
         entry: "manual" | "trace";
-        trace_kind: string | null;
+        trace_kind: TraceKind | null;
         description: string | null;
         active: DbBoolean;
         created_by: number | null;
