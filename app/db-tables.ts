@@ -441,6 +441,8 @@ declare module "knex/types/tables" {
       },
       "id"
     >;
+    /** One row (id 1): bumped by database triggers on every write under the readiness board. */
+    readiness_generation: Table<{ id: number; value: number }>;
     readiness_receipts: Table<
       {
         id: number;
