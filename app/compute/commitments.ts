@@ -26,6 +26,8 @@ export interface CommittedPlan {
 
 const QUARTER = 0.25;
 const floorQuarter = (h: number) => Math.floor(h / QUARTER + 1e-9) * QUARTER;
+// hours are booked in quarters, so the need is rounded up to one: a remainder under a quarter would never be booked
+const ceilQuarter = (h: number) => Math.ceil(h / QUARTER - 1e-9) * QUARTER;
 const round2 = (x: number) => Math.round(x * 100) / 100;
 
 /**
@@ -44,7 +46,8 @@ export function bookCommitments(
   for (const c of ordered) {
     const cap = device.get(c.deviceTypeId);
     const certified = problem.trainers.filter((t) => t.deviceTypeIds.includes(c.deviceTypeId));
-    let left = c.hoursNeeded;
+    const need = ceilQuarter(c.hoursNeeded);
+    let left = need;
     let completion = problem.weeks - 1;
     const sessions: AllocationAssignment["sessions"] = [];
     for (let w = 0; w < problem.weeks && left > 1e-9 && cap; w++) {
@@ -75,7 +78,7 @@ export function bookCommitments(
       workerId: c.workerId,
       assignment: { workerId: c.workerId, deviceTypeId: c.deviceTypeId, completionWeek: completion, sessions },
       hoursBooked: booked,
-      hoursLeft: Math.max(0, round2(c.hoursNeeded - booked)),
+      hoursLeft: Math.max(0, round2(need - booked)),
     });
   }
   return {

@@ -67,4 +67,24 @@ describe("bookCommitments", () => {
     expect(c.hoursLeft).toBe(8); // 20 − 12: not ready in this horizon
     expect(c.assignment.completionWeek).toBe(2);
   });
+  it("rounds a need that is not a whole number of quarter hours up to the next quarter, so it can finish", () => {
+    const { committed } = bookCommitments(problem(), [
+      {
+        workerId: "3",
+        deviceTypeId: "Arm at North",
+        hoursNeeded: 3.22,
+        maxHoursPerWeek: 3,
+        preferredTrainerId: "Ines",
+      },
+    ]);
+    const [c] = committed;
+    // 3.22 h → 3.25 h booked in quarters: week 0 the weekly maximum 3, week 1 the last quarter
+    expect(c.assignment.sessions).toEqual([
+      { week: 0, trainerId: "Ines", hours: 3 },
+      { week: 1, trainerId: "Ines", hours: 0.25 },
+    ]);
+    expect(c.hoursBooked).toBe(3.25);
+    expect(c.hoursLeft).toBe(0);
+    expect(c.assignment.completionWeek).toBe(1);
+  });
 });
