@@ -2,6 +2,7 @@ import type { Principal } from "~/auth/guard.server";
 import { can } from "~/auth/permissions";
 import { firstProficientIndex } from "~/compute/proficiency-rule";
 import { curvePoints } from "~/compute/progress-update";
+import { nowInstant } from "~/dates";
 import { type Db, db, type TableRow } from "~/db.server";
 import type { Stage } from "~/domain/stages";
 import { conflict } from "~/errors";
@@ -54,7 +55,7 @@ export async function logSessionResult(input: LogSessionInput, k?: Db): Promise<
   if (!(input.taskScore >= 0 && input.taskScore <= 1))
     throw conflict("Task score must be between 0 and 1.", "taskScore");
   const run = async (trx: Db): Promise<LogSessionResult> => {
-    const at = input.at ?? new Date().toISOString();
+    const at = input.at ?? nowInstant();
     const day = at.slice(0, 10);
     const worker = await trx("workers").where({ id: input.workerId }).first("id", "stage");
     if (!worker) throw conflict("That worker does not exist.");

@@ -25,6 +25,7 @@ import {
   weekStart,
 } from "~/compute/readiness-views";
 import { round1 } from "~/compute/rounding";
+import { nowInstant } from "~/dates";
 import { type Db, db } from "~/db.server";
 import { STAGE_BAND_LABELS, STAGE_BAND_OF, STAGE_BANDS, STAGE_LABELS, STAGES } from "~/domain/stages";
 import { type Grouping, type OrganisationSettings, parseStoredGroupings } from "~/schemas/readiness";
@@ -282,7 +283,7 @@ async function publishTable(
           published: JSON.stringify(x.r.published),
           linked_to: x.r.linkedTo,
           note,
-          created_at: new Date().toISOString(),
+          created_at: nowInstant(),
         })
         .returning("id");
       id = Number(typeof row === "object" ? row.id : row);
@@ -294,7 +295,7 @@ async function publishTable(
         publication_id: id,
         viewer_kind: viewer.kind,
         viewer_id: viewer.id,
-        received_at: new Date().toISOString(),
+        received_at: nowInstant(),
       })
       .onConflict(["publication_id", "viewer_kind", "viewer_id"])
       .ignore();

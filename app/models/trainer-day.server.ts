@@ -5,6 +5,7 @@ import {
   hoursBetween,
   type Instant,
   type IsoDate,
+  nowDate,
   nowInstant,
   wallClockExists,
   wallClockNow,
@@ -93,7 +94,7 @@ function scheduleOnly(r: SessionOnSchedule): ScheduledSession {
  * The trainer's sessions for one day (today unless `shown` names another) and the rest of its week (Monday to
  * Sunday) on the clock of the trainer's site, and sessions before this week still waiting to be logged.
  */
-export async function trainerDay(trainerId: number, now: Instant | Date = new Date(), k: Db = db(), shown?: IsoDate) {
+export async function trainerDay(trainerId: number, now: Instant | Date = nowDate(), k: Db = db(), shown?: IsoDate) {
   const site = await k("trainers as t")
     .join("sites as s", "s.id", "t.site_id")
     .where("t.id", trainerId)

@@ -1,4 +1,5 @@
 import type { Knex } from "knex";
+import { nowDate, nowInstant } from "~/dates";
 import { type Db, db } from "~/db.server";
 import type { ConsentPurpose } from "~/domain/consent-purposes";
 import { ConsentInputError, latestConsentRecord, replaceWithWithdrawal, setStage } from "./consent.server";
@@ -25,7 +26,7 @@ export async function erasePlanEntries(
   trx: Db,
   workerId: number,
   userId: number | null = null,
-  now = new Date(),
+  now = nowDate(),
 ): Promise<number> {
   const at = now.toISOString();
   const n = Number(
@@ -107,7 +108,7 @@ export async function withdrawConsent(input: {
     const last = await latestConsentRecord(input.workerId, input.purpose, trx);
     if (last?.status !== "given")
       throw new ConsentInputError(`There is no given ${input.purpose} consent to withdraw.`, "purpose");
-    const at = new Date().toISOString();
+    const at = nowInstant();
     const erased: Record<string, number> = {};
     for (const step of ERASURE_STEPS) {
       if (step.purposes.includes(input.purpose))
