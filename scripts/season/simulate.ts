@@ -1,0 +1,448 @@
+// A season in the life of a training programme, run through the app's own HTTP routes as each person would:
+// signed in through the real OAuth2 flow, forms posted as the page's form posts them, the server's clock moved
+// week by week. The database is only READ here (to find ids a person would pick from a page, and for the
+// checks in report.ts); every change goes through a route. INVENTED people and data.
+import fs from "node:fs";
+import path from "node:path";
+import { fileURLToPath } from "node:url";
+import knex, { type Knex } from "knex";
+import { addDays } from "../../app/dates/calendar";
+import { knexConfig } from "../../knexfile";
+import { Browserless } from "../browserless";
+import { cohortSize, SEASON } from "./parameters";
+import type { SeasonStack } from "./stack";
+
+const root = path.resolve(path.dirname(fileURLToPath(import.meta.url)), "../..");
+
+export const STAFF = {
+  admin: "sam.okafor@harrowvale.example",
+  assessor: "morwenna.pike@harrowvale.example",
+  assessor2: "rhea.lindqvist@harrowvale.example",
+  coordinator: "tobias.renn@harrowvale.example",
+} as const;
+
+/** What the simulation did, for the checks of report.ts. */
+export interface SeasonLog {
+  hires: string[]; // employee numbers imported
+  runs: number[];
+  publishedTo: string[]; // every plan e-mail recipient the publish answers named, one entry per notice
+  sessionsLogged: number;
+  noShows: number;
+  individualReads: number; // pages of one person's health data opened
+  severe: { workerId: number; deviceTypeId: number; employeeNumber: string }[];
+  resumed: { workerId: number; deviceTypeId: number }[];
+  withdrawn: number[];
+  leave: { trainerId: number; startsOn: string; endsOn: string } | null;
+  maintenance: { unitId: number; startsOn: string; endsOn: string } | null;
+  modelVersionId: number | null;
+  weekTimings: number[]; // ms per simulated week
+  startedAt: string;
+}
+
+function mulberry32(seed: number) {
+  let a = seed >>> 0;
+  return () => {
+    a = (a + 0x6d2b79f5) >>> 0;
+    let t = a;
+    t = Math.imul(t ^ (t >>> 15), t | 1);
+    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
+    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
+  };
+}
+
+class Person {
+  constructor(
+    readonly email: string,
+    readonly client: Browserless,
+  ) {}
+
+  static async signIn(base: string, email: string): Promise<Person> {
+    const client = new Browserless(base);
+    const { url } = await client.follow(`/auth/start?login_hint=${encodeURIComponent(email)}`);
+    if (new URL(url).pathname.startsWith("/sign-in") || new URL(url).pathname.startsWith("/auth"))
+      throw new Error(`${email} could not sign in (landed at ${url})`);
+    return new Person(email, client);
+  }
+
+  async page(p: string): Promise<string> {
+    const res = await this.client.request(p);
+    const body = await res.text();
+    if (res.status !== 200) throw new Error(`GET ${p} as ${this.email}: ${res.status} ${body.slice(0, 300)}`);
+    return body;
+  }
+
+  /** Posts a form as the page's form does; `expect` the status the route answers on success. */
+  async post(p: string, fields: Record<string, string | string[]>, expect = 200): Promise<Response> {
+    const res = await this.client.postForm(p, fields);
+    if (res.status !== expect)
+      throw new Error(
+        `POST ${p} as ${this.email}: ${res.status}, expected ${expect}: ${(await res.text()).slice(0, 400)}`,
+      );
+    return res;
+  }
+
+  async upload(p: string, fields: Record<string, string>, file: { field: string; name: string; text: string }) {
+    const form = new FormData();
+    for (const [k, v] of Object.entries(fields)) form.append(k, v);
+    form.append(file.field, new Blob([file.text], { type: "text/csv" }), file.name);
+    return this.client.request(p, { method: "POST", body: form });
+  }
+}
+
+const inputValue = (html: string, name: string): string | null => {
+  const tag = new RegExp(`<input[^>]*name="${name}"[^>]*>`).exec(html)?.[0];
+  return tag ? (/value="([^"]*)"/.exec(tag)?.[1] ?? null) : null;
+};
+
+/** The demo trace files, varied per worker: scaling the sway and the tracking error moves those two measures. */
+function traces(rand: () => number) {
+  const read = (f: string) =>
+    fs
+      .readFileSync(path.join(root, "seeds/traces", f), "utf8")
+      .trim()
+      .split("\n");
+  const swayScale = 0.7 + 0.7 * rand();
+  const trackScale = 0.7 + 0.7 * rand();
+  const sway = read("sway.csv").map((l, i) => {
+    if (i === 0) return l;
+    const [t, x, y] = l.split(",");
+    return `${t},${(Number(x) * swayScale).toFixed(3)},${(Number(y) * swayScale).toFixed(3)}`;
+  });
+  const tracking = read("tracking.csv").map((l, i) => {
+    if (i === 0) return l;
+    const [t, target, cursor] = l.split(",");
+    const c = Number(target) + (Number(cursor) - Number(target)) * trackScale;
+    return `${t},${target},${c.toFixed(3)}`;
+  });
+  return [
+    { kind: "sway", text: `${sway.join("\n")}\n` },
+    { kind: "tracking", text: `${tracking.join("\n")}\n` },
+    { kind: "timing", text: `${read("timing.csv").join("\n")}\n` },
+    { kind: "glove", text: `${read("glove.csv").join("\n")}\n` },
+  ];
+}
+
+// Rows read untyped, as the tests read them (a table named by a plain string takes Knex's untyped overload).
+const untypedQuery = (k: Knex, table: string) => k(table);
+export type SeasonDb = ((table: string) => ReturnType<typeof untypedQuery>) & Knex;
+export function seasonDb(url: string): SeasonDb {
+  return knex(knexConfig({ DATABASE_URL: url })) as SeasonDb;
+}
+
+export async function runSeason(stack: SeasonStack, say: (s: string) => void = () => {}): Promise<SeasonLog> {
+  const k = seasonDb(stack.databaseUrl);
+  const rand = mulberry32(SEASON.seed);
+  const gauss = () => Math.sqrt(-2 * Math.log(1 - rand())) * Math.cos(2 * Math.PI * rand());
+  const log: SeasonLog = {
+    hires: [],
+    runs: [],
+    publishedTo: [],
+    sessionsLogged: 0,
+    noShows: 0,
+    individualReads: 0,
+    severe: [],
+    resumed: [],
+    withdrawn: [],
+    leave: null,
+    maintenance: null,
+    modelVersionId: null,
+    weekTimings: [],
+    startedAt: `${SEASON.startMonday}T06:00:00.000Z`,
+  };
+  try {
+    const base = stack.appUrl;
+    const admin = await Person.signIn(base, STAFF.admin);
+    const assessor = await Person.signIn(base, STAFF.assessor);
+    const assessor2 = await Person.signIn(base, STAFF.assessor2);
+    const coordinator = await Person.signIn(base, STAFF.coordinator);
+    const assessorId = (await k("users").where({ email: STAFF.assessor }).first("id")).id as number;
+    const sites = await k("sites")
+      .whereIn("code", [...SEASON.sites])
+      .orderBy("id")
+      .select("id", "code");
+
+    // The admin opens an intake department at each of the two sites.
+    for (const s of sites)
+      await admin.post("/admin/sites", {
+        intent: "department",
+        siteId: String(s.id),
+        code: SEASON.intakeDepartment.code,
+        name: SEASON.intakeDepartment.name,
+      });
+    const departments = await k("departments")
+      .where({ code: SEASON.intakeDepartment.code })
+      .whereIn(
+        "site_id",
+        sites.map((s) => s.id),
+      )
+      .orderBy("id")
+      .pluck("id");
+
+    const trainerRows = await k("trainers as t")
+      .join("users as u", "u.id", "t.user_id")
+      .whereIn(
+        "t.site_id",
+        sites.map((s) => s.id),
+      )
+      .orderBy("t.id")
+      .select("t.id", "u.email");
+    const trainers: { id: number; person: Person }[] = [];
+    for (const t of trainerRows) trainers.push({ id: t.id, person: await Person.signIn(base, t.email) });
+
+    // Each worker's own learning curve: score = a − (a − s₀)·e^(−c·hours) + noise; c sets the hours it takes.
+    const curves = new Map<number, { s0: number; c: number }>();
+    const curve = (workerId: number) => {
+      let c = curves.get(workerId);
+      if (!c) {
+        const s0 = 0.3 + 0.15 * rand();
+        const hours = 8 * Math.exp(0.3 * gauss());
+        c = { s0, c: Math.log((0.97 - s0) / (0.97 - 0.88)) / hours };
+        curves.set(workerId, c);
+      }
+      return c;
+    };
+    const practised = new Map<string, number>();
+
+    let hireNo = 0;
+    const intake = async (count: number, on: string) => {
+      const rows = ["Employee number,First name,Last name,E-mail,Site,Department"];
+      const batch: string[] = [];
+      for (let i = 0; i < count; i++) {
+        hireNo++;
+        const emp = `SE-${String(hireNo).padStart(4, "0")}`;
+        const site = SEASON.sites[hireNo % SEASON.sites.length];
+        rows.push(`${emp},Hire,Number ${hireNo},hire.${hireNo}@season.example,${site},${SEASON.intakeDepartment.code}`);
+        batch.push(emp);
+      }
+      const up = await assessor.upload(
+        "/assess/roster",
+        {},
+        { field: "roster", name: "intake.csv", text: `${rows.join("\n")}\n` },
+      );
+      if (up.status !== 302) throw new Error(`roster upload: ${up.status} ${(await up.text()).slice(0, 300)}`);
+      const importPath = up.headers.get("Location")!;
+      await assessor.page(importPath);
+      await assessor.post(importPath, { intent: "import" });
+      log.hires.push(...batch);
+      const ids = await k("workers").whereIn("employee_number", batch).orderBy("id").pluck("id");
+      if (ids.length !== count) throw new Error(`roster import: ${ids.length} of ${count} hires arrived`);
+      // Consent witnessed by the assessor, then the baseline battery: four traces per worker.
+      for (const id of ids) {
+        await assessor.post(`/assess/workers/${id}`, {
+          intent: "consent",
+          purposes: ["assessment", "planning", "model"],
+          witnessUserId: String(assessorId),
+          confirmRead: "on",
+        });
+        const s = await assessor.post(`/assess/workers/${id}`, { intent: "session", assessedOn: on }, 302);
+        const sessionPath = s.headers.get("Location")!;
+        for (const t of traces(rand)) {
+          const r = await assessor.upload(
+            sessionPath,
+            { intent: "upload", kind: t.kind, sampleRateHz: "" },
+            { field: "trace", name: `${t.kind}.csv`, text: t.text },
+          );
+          if (r.status !== 200)
+            throw new Error(`trace upload ${t.kind}: ${r.status} ${(await r.text()).slice(0, 300)}`);
+        }
+      }
+    };
+
+    for (let week = 0; week < SEASON.weeks; week++) {
+      const t0 = performance.now();
+      const monday = addDays(SEASON.startMonday, week * 7);
+      stack.setClock(`${monday}T06:00:00.000Z`);
+      say(`week ${week + 1}: ${monday}`);
+
+      for (const [w, n] of SEASON.intakes) if (w === week) await intake(n, monday);
+
+      if (week === SEASON.modelWeek) log.modelVersionId = await fitAndApprove(k, assessor, assessor2);
+
+      if (week === SEASON.leaveWeeks[0] - 1) {
+        const t = trainers[0];
+        const leave = {
+          trainerId: t.id,
+          startsOn: addDays(SEASON.startMonday, SEASON.leaveWeeks[0] * 7),
+          endsOn: addDays(SEASON.startMonday, SEASON.leaveWeeks[1] * 7 + 6),
+        };
+        await coordinator.post(`/coordinate/trainers/${t.id}`, {
+          intent: "add-leave",
+          startsOn: leave.startsOn,
+          endsOn: leave.endsOn,
+          reason: "Annual leave",
+        });
+        log.leave = leave;
+      }
+      if (week === SEASON.maintenanceWeeks[0] - 1) {
+        // The unit that carried the most sessions so far.
+        const unit = await k("training_sessions")
+          .whereNotNull("device_unit_id")
+          .whereIn("worker_id", k("workers").whereIn("department_id", departments).select("id"))
+          .groupBy("device_unit_id")
+          .orderByRaw("count(*) desc, device_unit_id")
+          .first("device_unit_id as id");
+        const m = {
+          unitId: unit.id as number,
+          startsOn: addDays(SEASON.startMonday, SEASON.maintenanceWeeks[0] * 7),
+          endsOn: addDays(SEASON.startMonday, SEASON.maintenanceWeeks[1] * 7 + 6),
+        };
+        await coordinator.post("/coordinate/fleet", {
+          intent: "add-maintenance",
+          unitId: String(m.unitId),
+          startsOn: m.startsOn,
+          endsOn: m.endsOn,
+          reason: "Actuator service",
+        });
+        log.maintenance = m;
+      }
+      if ((SEASON.withdrawalWeeks as readonly number[]).includes(week)) {
+        const w = await k("workers")
+          .whereIn("department_id", departments)
+          .where({ stage: "training" })
+          .whereNotIn("id", log.withdrawn)
+          .orderBy("id", "desc")
+          .first("id");
+        if (w) {
+          await assessor.post(`/assess/workers/${w.id}`, {
+            intent: "withdraw",
+            purpose: "planning",
+            confirm: "WITHDRAW",
+          });
+          log.withdrawn.push(w.id);
+        }
+      }
+
+      // The coordinator's weekly run from this Monday, published once it is solved.
+      const started = await coordinator.post(
+        "/coordinate/runs",
+        {
+          label: `Season week ${week + 1}`,
+          startDate: monday,
+          horizonWeeks: String(SEASON.horizonWeeks),
+          siteIds: sites.map((s) => String(s.id)),
+          departmentIds: departments.map(String),
+          planningQuantile: String(SEASON.planningQuantilePercent),
+          fairnessShare: String(SEASON.fairnessSharePercent),
+        },
+        302,
+      );
+      const runPath = started.headers.get("Location")!;
+      const runId = Number(runPath.split("/").pop());
+      log.runs.push(runId);
+      for (;;) {
+        const st = (await (await coordinator.client.request(`${runPath}/status`)).json()) as {
+          status: string;
+          error: string | null;
+        };
+        if (st.status === "done") break;
+        if (st.status === "failed") throw new Error(`run ${runId} failed: ${st.error}`);
+        await new Promise((r) => setTimeout(r, 50));
+      }
+      const runPage = await coordinator.page(runPath);
+      const version = inputValue(runPage, "expectedPlanVersion");
+      if (version == null) throw new Error(`run ${runId}: the page offers no publish form`);
+      const pub = await coordinator.post(`${runPath}.data`, {
+        intent: "publish",
+        expectedPlanVersion: version,
+        confirm: "yes",
+      });
+      const answer = await pub.text();
+      if (!answer.includes("notified")) throw new Error(`run ${runId}: publish answered ${answer.slice(0, 300)}`);
+      log.publishedTo.push(...(answer.match(/[\w.+-]+@[\w.-]+\.example/g) ?? []));
+
+      // Saturday morning: the trainers log the week's sessions.
+      stack.setClock(`${addDays(monday, 5)}T08:00:00.000Z`);
+      const severeThisWeek = (SEASON.severeEventWeeks as readonly number[]).includes(week);
+      let severeDone = false;
+      for (const t of trainers) {
+        const dayPage = await t.person.page(`/train?day=${monday}`);
+        const ids = [...new Set([...dayPage.matchAll(/href="\/train\/sessions\/(\d+)"/g)].map((m) => Number(m[1])))];
+        for (const id of ids) {
+          const html = await t.person.page(`/train/sessions/${id}`);
+          log.individualReads++;
+          const start = inputValue(html, "start");
+          const end = inputValue(html, "end");
+          if (!html.includes('name="taskScore"') || !start || !end) continue; // logged, cancelled or paused
+          if (start.slice(0, 10) > addDays(monday, 6)) continue; // next week's
+          const s = await k("training_sessions").where({ id }).first("worker_id", "device_type_id");
+          if (rand() < SEASON.noShowRate) {
+            await t.person.post(`/train/sessions/${id}`, { intent: "no_show" }, 302);
+            log.noShows++;
+            continue;
+          }
+          const key = `${s.worker_id}:${s.device_type_id}`;
+          const hours = practised.get(key) ?? 0;
+          const c = curve(s.worker_id);
+          const score = Math.min(1, Math.max(0, 0.97 - (0.97 - c.s0) * Math.exp(-c.c * hours) + 0.02 * gauss()));
+          const fields: Record<string, string> = { start, end, taskScore: score.toFixed(2).replace(".", ",") };
+          const severe = severeThisWeek && !severeDone;
+          if (severe) {
+            fields.ae_pain = "severe";
+            fields.ae_pain_notes = "Sharp pain at the strap; session stopped.";
+          }
+          const res = await t.person.post(`/train/sessions/${id}.data`, fields);
+          const text = await res.text();
+          if (!text.includes("Session logged")) throw new Error(`log session ${id}: ${text.slice(0, 300)}`);
+          log.sessionsLogged++;
+          const dur = (Date.parse(`${end}:00Z`) - Date.parse(`${start}:00Z`)) / 3_600_000;
+          practised.set(key, hours + dur);
+          if (severe) {
+            severeDone = true;
+            const w = await k("workers").where({ id: s.worker_id }).first("employee_number");
+            log.severe.push({
+              workerId: s.worker_id,
+              deviceTypeId: s.device_type_id,
+              employeeNumber: w.employee_number,
+            });
+          }
+        }
+      }
+      // The assessor reviews each course paused this week and resumes it.
+      for (const p of log.severe.filter((x) => !log.resumed.some((r) => r.workerId === x.workerId))) {
+        const reviewPath = `/assess/workers/${p.workerId}/courses/${p.deviceTypeId}`;
+        await assessor.page(reviewPath);
+        log.individualReads++;
+        await assessor.post(reviewPath, {
+          intent: "decide",
+          decision: "resume",
+          wearTimeLimitMinutes: "",
+          conditions: "",
+          clinicalNote: "Strap refitted and skin checked; no lasting injury. Resume with the usual limits.",
+        });
+        log.resumed.push({ workerId: p.workerId, deviceTypeId: p.deviceTypeId });
+      }
+      log.weekTimings.push(performance.now() - t0);
+    }
+    if (log.hires.length !== cohortSize()) throw new Error("not every intake ran");
+    return log;
+  } finally {
+    await k.destroy();
+  }
+}
+
+/** The first assessor fits and saves a new model version; the second approves it (two-person rule). */
+async function fitAndApprove(k: SeasonDb, fitter: Person, approver: Person): Promise<number> {
+  const device = await k("device_types").where({ code: SEASON.modelDevice }).first("id");
+  const current = await k("model_versions")
+    .where({ device_type_id: device.id, status: "approved" })
+    .orderBy("id", "desc")
+    .first("id", "norm_set_id", "measure_ids");
+  const measureIds = JSON.parse(current.measure_ids) as number[];
+  await fitter.post(
+    "/models/new",
+    {
+      intent: "save",
+      deviceTypeId: String(device.id),
+      measureIds: measureIds.map(String),
+      normSetId: String(current.norm_set_id),
+      notes: "Refit with the autumn cohort.",
+    },
+    302,
+  );
+  const v = await k("model_versions").where({ device_type_id: device.id }).orderBy("id", "desc").first("id", "status");
+  await approver.page(`/models/${v.id}`);
+  await approver.post(`/models/${v.id}`, { intent: "approve", confirm: "yes" });
+  const after = await k("model_versions").where({ id: v.id }).first("status");
+  if (after.status !== "approved") throw new Error(`model version ${v.id} is ${after.status} after approval`);
+  return v.id;
+}
