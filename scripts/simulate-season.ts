@@ -11,5 +11,7 @@ try {
   console.log(r.table);
   process.exitCode = r.checks.every((c) => c.ok) ? 0 : 1;
 } finally {
-  fs.rmSync(dir, { recursive: true, force: true });
+  // LIMBERLY_SEASON_KEEP=1 keeps the database and the outbox to look at afterwards.
+  if (process.env.LIMBERLY_SEASON_KEEP) console.error(`kept: ${dir}`);
+  else fs.rmSync(dir, { recursive: true, force: true });
 }

@@ -19,7 +19,8 @@ export interface ErasureStep {
 
 /**
  * Takes the worker out of the plans inside a transaction: future scheduled sessions cancelled, courses that
- * were only planned dropped, a forecast/planned stage set back to baselined. Runs as an ERASURE_STEPS
+ * were only planned dropped, a forecast/planned/training stage set back to baselined (a course in training keeps
+ * its hours for a later return). Runs as an ERASURE_STEPS
  * step, inside the withdrawal's transaction. Returns sessions cancelled.
  */
 export async function erasePlanEntries(
@@ -43,7 +44,9 @@ export async function erasePlanEntries(
   );
   await trx("device_courses").where({ worker_id: workerId, status: "planned" }).del();
   const w = await trx("workers").where({ id: workerId }).first("stage");
-  if (w && (w.stage === "planned" || w.stage === "forecast")) await setStage(trx, workerId, "baselined", userId, at);
+  // A worker in training leaves it too: nothing can plan them any more, so "Training" would never end.
+  if (w && (w.stage === "planned" || w.stage === "forecast" || w.stage === "training"))
+    await setStage(trx, workerId, "baselined", userId, at);
   return n;
 }
 

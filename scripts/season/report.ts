@@ -20,7 +20,7 @@ export async function seasonChecks(k: SeasonDb, outboxDir: string, log: SeasonLo
   const add = (c: SeasonCheck) => out.push(c);
   const cohort = await k("workers").whereIn("employee_number", log.hires).orderBy("id").select("id", "stage", "email");
   const ids = cohort.map((w) => w.id as number);
-  const seasonEnd = `${SEASON.startMonday}T00:00:00`;
+  const seasonStart = `${SEASON.startMonday}T00:00:00`;
 
   add({
     check: "cohort imported",
@@ -31,7 +31,16 @@ export async function seasonChecks(k: SeasonDb, outboxDir: string, log: SeasonLo
 
   // Final states: ready, stopped, withdrawn, or still training with sessions scheduled after the last week.
   const ready = new Set(cohort.filter((w) => w.stage === "proficient").map((w) => w.id));
-  const withdrawn = new Set(cohort.filter((w) => w.stage === "withdrawn").map((w) => w.id));
+  // Withdrawn: assessment consent withdrawn (stage) or planning consent withdrawn (its latest record).
+  const latestPlanning = await k("consent_records")
+    .whereIn("worker_id", ids)
+    .where({ purpose: "planning" })
+    .orderBy("id")
+    .select("worker_id", "status");
+  const planningNow = new Map(latestPlanning.map((r) => [r.worker_id as number, r.status as string]));
+  const withdrawn = new Set(
+    cohort.filter((w) => w.stage === "withdrawn" || planningNow.get(w.id) === "withdrawn").map((w) => w.id),
+  );
   const stopped = new Set(
     await k("device_courses").whereIn("worker_id", ids).where({ status: "stopped" }).pluck("worker_id"),
   );
@@ -69,27 +78,39 @@ export async function seasonChecks(k: SeasonDb, outboxDir: string, log: SeasonLo
       .join(", "),
   });
 
-  // No published session overlaps another for the same worker, trainer or device unit.
-  for (const col of ["worker_id", "trainer_id", "device_unit_id"] as const) {
-    const overlaps = await count(
-      k("training_sessions as a")
-        .join("training_sessions as b", function () {
-          this.on(`a.${col}`, "=", `b.${col}`).andOn("a.id", "<", "b.id");
-        })
-        .whereNotNull(`a.${col}`)
-        .whereNot("a.status", "cancelled")
-        .whereNot("b.status", "cancelled")
-        .whereNotNull("a.allocation_run_id")
-        .whereNotNull("b.allocation_run_id")
-        .where("a.scheduled_start", ">=", seasonEnd)
-        .whereRaw("a.scheduled_start < b.scheduled_end and b.scheduled_start < a.scheduled_end"),
+  // No published session overlaps another for the same worker or device unit. A trainer may teach a group:
+  // sessions at once on one device type, at most the trainer's trainees per session.
+  const sessions = await k("training_sessions as s")
+    .leftJoin("trainers as t", "t.id", "s.trainer_id")
+    .whereNot("s.status", "cancelled")
+    .whereNotNull("s.allocation_run_id")
+    .where("s.scheduled_start", ">=", seasonStart)
+    .orderBy([{ column: "s.scheduled_start" }, { column: "s.id" }])
+    .select(
+      "s.worker_id",
+      "s.trainer_id",
+      "s.device_unit_id",
+      "s.device_type_id",
+      "s.scheduled_start as start",
+      "s.scheduled_end as end",
+      "t.trainees_per_session as capacity",
     );
-    add({
-      check: `overlapping sessions, same ${col.replace("_id", "").replace("_", " ")}`,
-      found: overlaps,
-      expected: 0,
-      ok: overlaps === 0,
-    });
+  for (const [col, label] of [
+    ["worker_id", "worker"],
+    ["device_unit_id", "device unit"],
+    ["trainer_id", "trainer (beyond one group on one device type)"],
+  ] as const) {
+    const active = new Map<number, (typeof sessions)[number][]>();
+    let clashes = 0;
+    for (const x of sessions) {
+      const key = x[col] as number | null;
+      if (key == null) continue;
+      const now = (active.get(key) ?? []).filter((y) => y.end > x.start);
+      const group = col === "trainer_id" && now.every((y) => y.device_type_id === x.device_type_id);
+      if (now.length > 0 && !(group && now.length + 1 <= Number(x.capacity))) clashes++;
+      active.set(key, [...now, x]);
+    }
+    add({ check: `overlapping sessions, same ${label}`, found: clashes, expected: 0, ok: clashes === 0 });
   }
   const published = await count(
     k("training_sessions").whereIn("allocation_run_id", log.runs).whereNot("status", "cancelled"),
@@ -105,6 +126,49 @@ export async function seasonChecks(k: SeasonDb, outboxDir: string, log: SeasonLo
   );
   add({ check: "sessions of the season left unlogged", found: leftOpen, expected: 0, ok: leftOpen === 0 });
 
+  // Leave and maintenance keep the trainer and the unit free; the model has two assessors' names on it.
+  const during = (q: ReturnType<SeasonDb>, r: { startsOn: string; endsOn: string }) =>
+    q
+      .whereNot("status", "cancelled")
+      .where("scheduled_start", ">=", `${r.startsOn}T00:00:00`)
+      .where("scheduled_start", "<", `${addDays(r.endsOn, 1)}T00:00:00`);
+  const onLeave = log.leave
+    ? await count(during(k("training_sessions").where({ trainer_id: log.leave.trainerId }), log.leave))
+    : Number.NaN;
+  add({ check: "sessions of the trainer on leave (3 weeks)", found: onLeave, expected: 0, ok: onLeave === 0 });
+  const inMaintenance = log.maintenance
+    ? await count(during(k("training_sessions").where({ device_unit_id: log.maintenance.unitId }), log.maintenance))
+    : Number.NaN;
+  add({ check: "sessions on the unit in maintenance", found: inMaintenance, expected: 0, ok: inMaintenance === 0 });
+  const model = log.modelVersionId
+    ? await k("model_versions").where({ id: log.modelVersionId }).first("status", "fitted_by", "approved_by")
+    : null;
+  add({
+    check: "new model version approved by a second assessor",
+    found: model ? `${model.status}, ${model.fitted_by === model.approved_by ? "same" : "two"} assessors` : "none",
+    expected: "approved, two assessors",
+    ok: model?.status === "approved" && model.fitted_by !== model.approved_by,
+  });
+  const resumedBack = await Promise.all(
+    log.resumed.map((r) =>
+      count(
+        k("training_sessions")
+          .where({ worker_id: r.workerId, device_type_id: r.deviceTypeId, status: "attended" })
+          .whereExists(
+            k("course_reviews as cr")
+              .whereRaw("cr.worker_id = training_sessions.worker_id")
+              .whereRaw("cr.decided_at < training_sessions.logged_at"),
+          ),
+      ),
+    ),
+  );
+  add({
+    check: "resumed workers who trained again",
+    found: resumedBack.filter((n) => n > 0).length,
+    expected: log.resumed.length,
+    ok: log.resumed.length === SEASON.severeEventWeeks.length && resumedBack.every((n) => n > 0),
+  });
+
   // E-mail: each caught message is one the season's actions call for, to exactly the right people.
   const mail = readOutbox(outboxDir);
   const assessorsOf = new Set<string>([STAFF.assessor, STAFF.assessor2]);
@@ -118,6 +182,12 @@ export async function seasonChecks(k: SeasonDb, outboxDir: string, log: SeasonLo
     found: planTo.length,
     expected: expectedPlanTo.length,
     ok: planTo.length > 0 && JSON.stringify(planTo) === JSON.stringify(expectedPlanTo),
+  });
+  add({
+    check: "severe events logged (course paused)",
+    found: log.severe.length,
+    expected: SEASON.severeEventWeeks.length,
+    ok: log.severe.length === SEASON.severeEventWeeks.length,
   });
   const severeMail = mail.filter((m) => m.subject.startsWith("Training paused: severe adverse event"));
   add({
@@ -196,13 +266,23 @@ export async function seasonChecks(k: SeasonDb, outboxDir: string, log: SeasonLo
   });
 
   // The access log: one row per page of one person's health data opened, none for list pages.
-  const reads = await count(k("access_log").where("at", ">=", log.startedAt));
+  const seasonReads = () => k("access_log").where("at", ">=", log.startedAt);
+  const planRows = await count(seasonReads().where("route", "like", "/coordinate/runs/%"));
+  const personRows = await count(seasonReads().whereNot("route", "like", "/coordinate/runs/%"));
   add({
-    check: "access-log rows = individual reads",
-    found: reads,
+    check: "access-log rows = person pages rendered",
+    found: personRows,
     expected: log.individualReads,
-    ok: reads === log.individualReads,
+    ok: log.individualReads > 0 && personRows === log.individualReads,
   });
+  add({
+    check: "access-log rows = workers on run pages opened",
+    found: planRows,
+    expected: log.planReads,
+    ok: planRows === log.planReads,
+  });
+  const listRows = await count(seasonReads().whereIn("route", ["/train", "/coordinate/runs", "/coordinate/schedule"]));
+  add({ check: "access-log rows from list pages", found: listRows, expected: 0, ok: listRows === 0 });
 
   // The clock: what the season wrote is dated in the season.
   const lastStage = await k("stage_changes").whereIn("worker_id", ids).max({ at: "at" }).first();
@@ -222,7 +302,7 @@ function afterSeason(): string {
 }
 
 /** The checks as a plain table, with the season's timing. */
-export function formatReport(checks: SeasonCheck[], seconds: number): string {
+export function formatReport(checks: SeasonCheck[], seconds: number, phases: Record<string, number> = {}): string {
   const rows = [
     ["check", "found", "expected", ""],
     ...checks.map((c) => [c.check, String(c.found), String(c.expected), c.ok ? "ok" : "FAIL"]),
@@ -236,5 +316,8 @@ export function formatReport(checks: SeasonCheck[], seconds: number): string {
     `|${widths.map((w) => "-".repeat(w + 2)).join("|")}|`,
     ...rows.slice(1).map(line),
     ...detail,
+    `Time by phase: ${Object.entries(phases)
+      .map(([k, ms]) => `${k} ${(ms / 1000).toFixed(1)} s`)
+      .join(" · ")}`,
   ].join("\n");
 }

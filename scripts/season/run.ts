@@ -30,7 +30,7 @@ export async function runSeasonOnce(o: {
     const k = seasonDb(o.databaseUrl);
     try {
       const checks = await seasonChecks(k, stack.outboxDir, log);
-      return { log, checks, seconds, table: formatReport(checks, seconds) };
+      return { log, checks, seconds, table: formatReport(checks, seconds, log.phases) };
     } finally {
       await k.destroy();
     }

@@ -24,11 +24,13 @@ export const STAFF = {
 /** What the simulation did, for the checks of report.ts. */
 export interface SeasonLog {
   hires: string[]; // employee numbers imported
-  runs: number[];
+  runs: number[]; // the published runs
+  infeasibleRuns: number; // runs whose fairness share could not be met (started again without it)
   publishedTo: string[]; // every plan e-mail recipient the publish answers named, one entry per notice
   sessionsLogged: number;
   noShows: number;
-  individualReads: number; // pages of one person's health data opened
+  individualReads: number; // pages of one person's health data rendered
+  planReads: number; // workers shown on the run pages opened (each run page shows every planned worker's plan)
   severe: { workerId: number; deviceTypeId: number; employeeNumber: string }[];
   resumed: { workerId: number; deviceTypeId: number }[];
   withdrawn: number[];
@@ -36,6 +38,7 @@ export interface SeasonLog {
   maintenance: { unitId: number; startsOn: string; endsOn: string } | null;
   modelVersionId: number | null;
   weekTimings: number[]; // ms per simulated week
+  phases: Record<string, number>; // ms spent per kind of work
   startedAt: string;
 }
 
@@ -50,22 +53,35 @@ function mulberry32(seed: number) {
   };
 }
 
+/** Pages that show one person's health data: each one rendered is one read the access log must hold. */
+const INDIVIDUAL_PAGE = /^\/(assess\/workers\/\d+(\/sessions\/\d+|\/courses\/\d+)?|train\/sessions\/\d+)$/;
+
+/** A standard normal draw (Box–Muller) from a uniform source. */
+const normal = (draw: () => number) => Math.sqrt(-2 * Math.log(1 - draw())) * Math.cos(2 * Math.PI * draw());
+
 class Person {
   constructor(
     readonly email: string,
     readonly client: Browserless,
+    readonly reads: { n: number },
   ) {}
 
-  static async signIn(base: string, email: string): Promise<Person> {
+  static async signIn(base: string, email: string, reads: { n: number }): Promise<Person> {
     const client = new Browserless(base);
     const { url } = await client.follow(`/auth/start?login_hint=${encodeURIComponent(email)}`);
     if (new URL(url).pathname.startsWith("/sign-in") || new URL(url).pathname.startsWith("/auth"))
       throw new Error(`${email} could not sign in (landed at ${url})`);
-    return new Person(email, client);
+    return new Person(email, client, reads);
+  }
+
+  /** A document answer (not `.data`) renders the page: on a person's page that is a read. */
+  private counted(p: string, res: Response): Response {
+    if (res.status === 200 && INDIVIDUAL_PAGE.test(new URL(p, this.client.base).pathname)) this.reads.n++;
+    return res;
   }
 
   async page(p: string): Promise<string> {
-    const res = await this.client.request(p);
+    const res = this.counted(p, await this.client.request(p));
     const body = await res.text();
     if (res.status !== 200) throw new Error(`GET ${p} as ${this.email}: ${res.status} ${body.slice(0, 300)}`);
     return body;
@@ -73,7 +89,7 @@ class Person {
 
   /** Posts a form as the page's form does; `expect` the status the route answers on success. */
   async post(p: string, fields: Record<string, string | string[]>, expect = 200): Promise<Response> {
-    const res = await this.client.postForm(p, fields);
+    const res = this.counted(p, await this.client.postForm(p, fields));
     if (res.status !== expect)
       throw new Error(
         `POST ${p} as ${this.email}: ${res.status}, expected ${expect}: ${(await res.text()).slice(0, 400)}`,
@@ -85,7 +101,7 @@ class Person {
     const form = new FormData();
     for (const [k, v] of Object.entries(fields)) form.append(k, v);
     form.append(file.field, new Blob([file.text], { type: "text/csv" }), file.name);
-    return this.client.request(p, { method: "POST", body: form });
+    return this.counted(p, await this.client.request(p, { method: "POST", body: form }));
   }
 }
 
@@ -131,15 +147,15 @@ export function seasonDb(url: string): SeasonDb {
 
 export async function runSeason(stack: SeasonStack, say: (s: string) => void = () => {}): Promise<SeasonLog> {
   const k = seasonDb(stack.databaseUrl);
-  const rand = mulberry32(SEASON.seed);
-  const gauss = () => Math.sqrt(-2 * Math.log(1 - rand())) * Math.cos(2 * Math.PI * rand());
   const log: SeasonLog = {
     hires: [],
     runs: [],
+    infeasibleRuns: 0,
     publishedTo: [],
     sessionsLogged: 0,
     noShows: 0,
     individualReads: 0,
+    planReads: 0,
     severe: [],
     resumed: [],
     withdrawn: [],
@@ -147,14 +163,23 @@ export async function runSeason(stack: SeasonStack, say: (s: string) => void = (
     maintenance: null,
     modelVersionId: null,
     weekTimings: [],
+    phases: {},
     startedAt: `${SEASON.startMonday}T06:00:00.000Z`,
   };
   try {
     const base = stack.appUrl;
-    const admin = await Person.signIn(base, STAFF.admin);
-    const assessor = await Person.signIn(base, STAFF.assessor);
-    const assessor2 = await Person.signIn(base, STAFF.assessor2);
-    const coordinator = await Person.signIn(base, STAFF.coordinator);
+    let mark = performance.now();
+    /** Books the time since the last mark to a phase. */
+    const lap = (phase: string) => {
+      const t = performance.now();
+      log.phases[phase] = (log.phases[phase] ?? 0) + (t - mark);
+      mark = t;
+    };
+    const reads = { n: 0 };
+    const admin = await Person.signIn(base, STAFF.admin, reads);
+    const assessor = await Person.signIn(base, STAFF.assessor, reads);
+    const assessor2 = await Person.signIn(base, STAFF.assessor2, reads);
+    const coordinator = await Person.signIn(base, STAFF.coordinator, reads);
     const assessorId = (await k("users").where({ email: STAFF.assessor }).first("id")).id as number;
     const sites = await k("sites")
       .whereIn("code", [...SEASON.sites])
@@ -187,15 +212,16 @@ export async function runSeason(stack: SeasonStack, say: (s: string) => void = (
       .orderBy("t.id")
       .select("t.id", "u.email");
     const trainers: { id: number; person: Person }[] = [];
-    for (const t of trainerRows) trainers.push({ id: t.id, person: await Person.signIn(base, t.email) });
+    for (const t of trainerRows) trainers.push({ id: t.id, person: await Person.signIn(base, t.email, reads) });
 
     // Each worker's own learning curve: score = a − (a − s₀)·e^(−c·hours) + noise; c sets the hours it takes.
     const curves = new Map<number, { s0: number; c: number }>();
     const curve = (workerId: number) => {
       let c = curves.get(workerId);
       if (!c) {
-        const s0 = 0.3 + 0.15 * rand();
-        const hours = 8 * Math.exp(0.3 * gauss());
+        const draw = mulberry32(SEASON.seed + workerId * 104729);
+        const s0 = 0.3 + 0.15 * draw();
+        const hours = 8 * Math.exp(0.3 * normal(draw));
         c = { s0, c: Math.log((0.97 - s0) / (0.97 - 0.88)) / hours };
         curves.set(workerId, c);
       }
@@ -227,7 +253,7 @@ export async function runSeason(stack: SeasonStack, say: (s: string) => void = (
       const ids = await k("workers").whereIn("employee_number", batch).orderBy("id").pluck("id");
       if (ids.length !== count) throw new Error(`roster import: ${ids.length} of ${count} hires arrived`);
       // Consent witnessed by the assessor, then the baseline battery: four traces per worker.
-      for (const id of ids) {
+      const baseline = async (id: number) => {
         await assessor.post(`/assess/workers/${id}`, {
           intent: "consent",
           purposes: ["assessment", "planning", "model"],
@@ -236,7 +262,7 @@ export async function runSeason(stack: SeasonStack, say: (s: string) => void = (
         });
         const s = await assessor.post(`/assess/workers/${id}`, { intent: "session", assessedOn: on }, 302);
         const sessionPath = s.headers.get("Location")!;
-        for (const t of traces(rand)) {
+        for (const t of traces(mulberry32(SEASON.seed + id * 31))) {
           const r = await assessor.upload(
             sessionPath,
             { intent: "upload", kind: t.kind, sampleRateHz: "" },
@@ -245,7 +271,9 @@ export async function runSeason(stack: SeasonStack, say: (s: string) => void = (
           if (r.status !== 200)
             throw new Error(`trace upload ${t.kind}: ${r.status} ${(await r.text()).slice(0, 300)}`);
         }
-      }
+      };
+      // Two assessment rooms work side by side.
+      for (let i = 0; i < ids.length; i += 2) await Promise.all(ids.slice(i, i + 2).map(baseline));
     };
 
     for (let week = 0; week < SEASON.weeks; week++) {
@@ -254,7 +282,9 @@ export async function runSeason(stack: SeasonStack, say: (s: string) => void = (
       stack.setClock(`${monday}T06:00:00.000Z`);
       say(`week ${week + 1}: ${monday}`);
 
+      lap("other");
       for (const [w, n] of SEASON.intakes) if (w === week) await intake(n, monday);
+      lap("intake: import, consent, baselines");
 
       if (week === SEASON.modelWeek) log.modelVersionId = await fitAndApprove(k, assessor, assessor2);
 
@@ -303,44 +333,45 @@ export async function runSeason(stack: SeasonStack, say: (s: string) => void = (
           .orderBy("id", "desc")
           .first("id");
         if (w) {
+          // The last one leaves the programme altogether (assessment consent: the data are erased); the others
+          // only stop being planned (planning consent).
+          const last = log.withdrawn.length === SEASON.withdrawalWeeks.length - 1;
           await assessor.post(`/assess/workers/${w.id}`, {
             intent: "withdraw",
-            purpose: "planning",
+            purpose: last ? "assessment" : "planning",
             confirm: "WITHDRAW",
           });
           log.withdrawn.push(w.id);
         }
       }
 
-      // The coordinator's weekly run from this Monday, published once it is solved.
-      const started = await coordinator.post(
-        "/coordinate/runs",
-        {
-          label: `Season week ${week + 1}`,
+      lap("other");
+      // The coordinator's weekly run from this Monday, published once it is solved. When the fairness share
+      // cannot be met the run page says so and advises a lower share: the coordinator starts again without it.
+      let runPath = "";
+      let version: string | null = null;
+      for (const fairness of [SEASON.fairnessSharePercent, 0]) {
+        runPath = await startAndWait(coordinator, {
+          label: `Season week ${week + 1}${fairness ? "" : " (no fairness share)"}`,
           startDate: monday,
           horizonWeeks: String(SEASON.horizonWeeks),
           siteIds: sites.map((s) => String(s.id)),
           departmentIds: departments.map(String),
           planningQuantile: String(SEASON.planningQuantilePercent),
-          fairnessShare: String(SEASON.fairnessSharePercent),
-        },
-        302,
-      );
-      const runPath = started.headers.get("Location")!;
+          fairnessShare: String(fairness),
+        });
+        const runPage = await coordinator.page(runPath);
+        // The run page shows each planned worker's plan: one read per worker on it.
+        log.planReads += Number(/Per-worker plan \( (\d+) \)/.exec(visible(runPage))?.[1] ?? Number.NaN);
+        version = inputValue(runPage, "expectedPlanVersion");
+        if (version != null) break;
+        if (!runPage.includes("no feasible plan"))
+          throw new Error(`${runPath}: no publish form: ${visible(runPage).slice(0, 2000)}`);
+        log.infeasibleRuns++;
+      }
+      if (version == null) throw new Error(`week ${week + 1}: no run could be published`);
       const runId = Number(runPath.split("/").pop());
       log.runs.push(runId);
-      for (;;) {
-        const st = (await (await coordinator.client.request(`${runPath}/status`)).json()) as {
-          status: string;
-          error: string | null;
-        };
-        if (st.status === "done") break;
-        if (st.status === "failed") throw new Error(`run ${runId} failed: ${st.error}`);
-        await new Promise((r) => setTimeout(r, 50));
-      }
-      const runPage = await coordinator.page(runPath);
-      const version = inputValue(runPage, "expectedPlanVersion");
-      if (version == null) throw new Error(`run ${runId}: the page offers no publish form`);
       const pub = await coordinator.post(`${runPath}.data`, {
         intent: "publish",
         expectedPlanVersion: version,
@@ -350,58 +381,67 @@ export async function runSeason(stack: SeasonStack, say: (s: string) => void = (
       if (!answer.includes("notified")) throw new Error(`run ${runId}: publish answered ${answer.slice(0, 300)}`);
       log.publishedTo.push(...(answer.match(/[\w.+-]+@[\w.-]+\.example/g) ?? []));
 
+      lap("runs: solve and publish");
       // Saturday morning: the trainers log the week's sessions.
       stack.setClock(`${addDays(monday, 5)}T08:00:00.000Z`);
-      const severeThisWeek = (SEASON.severeEventWeeks as readonly number[]).includes(week);
-      let severeDone = false;
-      for (const t of trainers) {
-        const dayPage = await t.person.page(`/train?day=${monday}`);
-        const ids = [...new Set([...dayPage.matchAll(/href="\/train\/sessions\/(\d+)"/g)].map((m) => Number(m[1])))];
-        for (const id of ids) {
-          const html = await t.person.page(`/train/sessions/${id}`);
-          log.individualReads++;
-          const start = inputValue(html, "start");
-          const end = inputValue(html, "end");
-          if (!html.includes('name="taskScore"') || !start || !end) continue; // logged, cancelled or paused
-          if (start.slice(0, 10) > addDays(monday, 6)) continue; // next week's
-          const s = await k("training_sessions").where({ id }).first("worker_id", "device_type_id");
-          if (rand() < SEASON.noShowRate) {
-            await t.person.post(`/train/sessions/${id}`, { intent: "no_show" }, 302);
-            log.noShows++;
-            continue;
+      // The trainers work side by side; each session's draws come from its own seeded source, so the season is
+      // the same whatever order the answers arrive in.
+      const severeTrainer = (SEASON.severeEventWeeks as readonly number[]).includes(week)
+        ? trainers[week % trainers.length]
+        : null;
+      await Promise.all(
+        trainers.map(async (t) => {
+          let severeDue = t === severeTrainer;
+          const dayPage = await t.person.page(`/train?day=${monday}`);
+          const ids = [...new Set([...dayPage.matchAll(/href="\/train\/sessions\/(\d+)"/g)].map((m) => Number(m[1])))];
+          for (const id of ids) {
+            const html = await t.person.page(`/train/sessions/${id}`);
+            const start = inputValue(html, "start");
+            const end = inputValue(html, "end");
+            if (!html.includes('name="taskScore"') || !start || !end) continue; // logged, cancelled or paused
+            if (start.slice(0, 10) > addDays(monday, 6)) continue; // next week's
+            const s = await k("training_sessions").where({ id }).first("worker_id", "device_type_id");
+            const draw = mulberry32(SEASON.seed + id * 7919);
+            if (draw() < SEASON.noShowRate) {
+              await t.person.post(`/train/sessions/${id}`, { intent: "no_show" }, 302);
+              log.noShows++;
+              continue;
+            }
+            const key = `${s.worker_id}:${s.device_type_id}`;
+            const hours = practised.get(key) ?? 0;
+            const c = curve(s.worker_id);
+            const noise = 0.02 * normal(draw);
+            const score = Math.min(1, Math.max(0, 0.97 - (0.97 - c.s0) * Math.exp(-c.c * hours) + noise));
+            // Typed as on a phone with a decimal comma.
+            const fields: Record<string, string> = { start, end, taskScore: score.toFixed(2).replace(".", ",") };
+            const severe = severeDue;
+            if (severe) {
+              fields.ae_pain = "severe";
+              fields.ae_pain_notes = "Sharp pain at the strap; session stopped.";
+            }
+            const res = await t.person.post(`/train/sessions/${id}.data`, fields);
+            const text = await res.text();
+            if (!text.includes("Session logged")) throw new Error(`log session ${id}: ${text.slice(0, 300)}`);
+            log.sessionsLogged++;
+            const dur = (Date.parse(`${end}:00Z`) - Date.parse(`${start}:00Z`)) / 3_600_000;
+            practised.set(key, hours + dur);
+            if (severe) {
+              severeDue = false;
+              const w = await k("workers").where({ id: s.worker_id }).first("employee_number");
+              log.severe.push({
+                workerId: s.worker_id,
+                deviceTypeId: s.device_type_id,
+                employeeNumber: w.employee_number,
+              });
+            }
           }
-          const key = `${s.worker_id}:${s.device_type_id}`;
-          const hours = practised.get(key) ?? 0;
-          const c = curve(s.worker_id);
-          const score = Math.min(1, Math.max(0, 0.97 - (0.97 - c.s0) * Math.exp(-c.c * hours) + 0.02 * gauss()));
-          const fields: Record<string, string> = { start, end, taskScore: score.toFixed(2).replace(".", ",") };
-          const severe = severeThisWeek && !severeDone;
-          if (severe) {
-            fields.ae_pain = "severe";
-            fields.ae_pain_notes = "Sharp pain at the strap; session stopped.";
-          }
-          const res = await t.person.post(`/train/sessions/${id}.data`, fields);
-          const text = await res.text();
-          if (!text.includes("Session logged")) throw new Error(`log session ${id}: ${text.slice(0, 300)}`);
-          log.sessionsLogged++;
-          const dur = (Date.parse(`${end}:00Z`) - Date.parse(`${start}:00Z`)) / 3_600_000;
-          practised.set(key, hours + dur);
-          if (severe) {
-            severeDone = true;
-            const w = await k("workers").where({ id: s.worker_id }).first("employee_number");
-            log.severe.push({
-              workerId: s.worker_id,
-              deviceTypeId: s.device_type_id,
-              employeeNumber: w.employee_number,
-            });
-          }
-        }
-      }
+        }),
+      );
+      lap("trainers: open and log sessions");
       // The assessor reviews each course paused this week and resumes it.
       for (const p of log.severe.filter((x) => !log.resumed.some((r) => r.workerId === x.workerId))) {
         const reviewPath = `/assess/workers/${p.workerId}/courses/${p.deviceTypeId}`;
         await assessor.page(reviewPath);
-        log.individualReads++;
         await assessor.post(reviewPath, {
           intent: "decide",
           decision: "resume",
@@ -414,9 +454,31 @@ export async function runSeason(stack: SeasonStack, say: (s: string) => void = (
       log.weekTimings.push(performance.now() - t0);
     }
     if (log.hires.length !== cohortSize()) throw new Error("not every intake ran");
+    log.individualReads = reads.n;
     return log;
   } finally {
     await k.destroy();
+  }
+}
+
+const visible = (html: string) =>
+  html
+    .replace(/<script[\s\S]*?<\/script>/g, "")
+    .replace(/<[^>]+>/g, " ")
+    .replace(/\s+/g, " ");
+
+/** Starts an allocation run from the runs page's form and waits for it through the run's own status URL. */
+async function startAndWait(coordinator: Person, fields: Record<string, string | string[]>): Promise<string> {
+  const started = await coordinator.post("/coordinate/runs", fields, 302);
+  const runPath = started.headers.get("Location")!;
+  for (;;) {
+    const st = (await (await coordinator.client.request(`${runPath}/status`)).json()) as {
+      status: string;
+      error: string | null;
+    };
+    if (st.status === "done") return runPath;
+    if (st.status === "failed") throw new Error(`${runPath} failed: ${st.error}`);
+    await new Promise((r) => setTimeout(r, 50));
   }
 }
 
