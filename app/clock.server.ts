@@ -1,6 +1,6 @@
 import fs from "node:fs";
 import { clock } from "~/config.server";
-import { setClockSource } from "~/dates";
+import { hostNowMs, setClockSource } from "~/dates";
 
 // The settable clock of test and demo modes (config.server.ts refuses its settings in production). The clock
 // starts at LIMBERLY_CLOCK_START and runs on from there at the host's pace; LIMBERLY_CLOCK_FILE names a file
@@ -20,8 +20,8 @@ export function installClock(): void {
   if (installed || (!clock.start && !clock.file)) return;
   installed = true;
   // `anchor` is the clock's reading at host time `since`; it runs on at the host's pace.
-  let anchor = clock.start ? parseInstant(clock.start, "LIMBERLY_CLOCK_START") : Date.now();
-  let since = Date.now();
+  let anchor = clock.start ? parseInstant(clock.start, "LIMBERLY_CLOCK_START") : hostNowMs();
+  let since = hostNowMs();
   let seenStamp = "";
   const file = clock.file;
   setClockSource(() => {
@@ -36,9 +36,9 @@ export function installClock(): void {
       if (stat && stamp !== seenStamp) {
         seenStamp = stamp;
         anchor = parseInstant(fs.readFileSync(file, "utf8"), `LIMBERLY_CLOCK_FILE (${file})`);
-        since = Date.now();
+        since = hostNowMs();
       }
     }
-    return anchor + (Date.now() - since);
+    return anchor + (hostNowMs() - since);
   });
 }

@@ -4,12 +4,15 @@
 export class UserError extends Error {
   readonly status: number;
   readonly field?: string;
+  /** For a refusal that passes (429): when to try again, sent as Retry-After. */
+  readonly retryAfterSeconds?: number;
 
-  constructor(message: string, options: { status?: number; field?: string } = {}) {
+  constructor(message: string, options: { status?: number; field?: string; retryAfterSeconds?: number } = {}) {
     super(message);
     this.name = "UserError";
     this.status = options.status ?? 400;
     this.field = options.field;
+    this.retryAfterSeconds = options.retryAfterSeconds;
   }
 }
 

@@ -40,7 +40,7 @@ async function refuseChild(file: string) {
   const principal = { kind: "user", user: { id: 0 } } as unknown as Parameters<typeof saveRosterUpload>[0];
   const refuse = async () => {
     try {
-      await saveRosterUpload(principal, "bomb.xlsx", bytes);
+      await saveRosterUpload(principal, { name: "bomb.xlsx", bytes });
       return "accepted";
     } catch (e) {
       return (e as Error).message;

@@ -189,10 +189,12 @@ export function SelectField(
     defaultValue?: string | string[];
     required?: boolean;
     multiple?: boolean;
+    /** Rows shown at once (a multiple select). */
+    size?: number;
     children?: ReactNode;
   },
 ) {
-  const { name, label, error, hint, options, defaultValue, required, multiple } = props;
+  const { name, label, error, hint, options, defaultValue, required, multiple, size } = props;
   const f = useFieldWiring(name, error, hint);
   return (
     <div>
@@ -203,6 +205,7 @@ export function SelectField(
         defaultValue={defaultValue}
         required={required}
         multiple={multiple}
+        size={size}
         {...f.aria}
         className="field-input"
       >
@@ -217,8 +220,8 @@ export function SelectField(
   );
 }
 
-export function CheckboxField(props: BaseProps & { defaultChecked?: boolean; value?: string }) {
-  const { name, label, error, hint, defaultChecked, value } = props;
+export function CheckboxField(props: BaseProps & { defaultChecked?: boolean; value?: string; required?: boolean }) {
+  const { name, label, error, hint, defaultChecked, value, required } = props;
   const f = useFieldWiring(name, error, hint);
   return (
     <div>
@@ -229,6 +232,7 @@ export function CheckboxField(props: BaseProps & { defaultChecked?: boolean; val
           type="checkbox"
           value={value}
           defaultChecked={defaultChecked}
+          required={required}
           {...f.aria}
           className="size-5"
         />

@@ -1,4 +1,7 @@
-// A labelled file field with the accepted types and size limit spelled out.
+import { useFieldWiring } from "./fields";
+
+// A labelled file field with the accepted types and size limit spelled out; inside an ActionForm the
+// action's error at its name shows beneath it.
 export function FileField({
   name,
   label,
@@ -15,28 +18,29 @@ export function FileField({
   required?: boolean;
 }) {
   const mb = Math.round(maxBytes / 1024 / 1024);
+  const hint = `${accept.split(",").join(" or ")}, at most ${mb} MB.`;
+  const f = useFieldWiring(name, error, hint);
   return (
     <div>
-      <label htmlFor={name} className="field-label">
+      <label htmlFor={f.id} className="field-label">
         {label}
         {required && <span aria-hidden="true"> *</span>}
       </label>
       <input
-        id={name}
+        id={f.id}
         name={name}
         type="file"
         accept={accept}
         required={required}
-        aria-describedby={`${name}-hint${error ? ` ${name}-error` : ""}`}
-        aria-invalid={error ? true : undefined}
+        {...f.aria}
         className="field-input file:mr-3 file:rounded file:border-0 file:bg-spruce-50 file:px-3 file:py-1"
       />
-      <p id={`${name}-hint`} className="mt-1 text-sm text-ink-soft">
-        {accept.split(",").join(" or ")}, at most {mb} MB.
+      <p id={`${f.id}-hint`} className="mt-1 text-sm text-ink-soft">
+        {hint}
       </p>
-      {error && (
-        <p id={`${name}-error`} className="field-error">
-          {error}
+      {f.message && (
+        <p id={`${f.id}-error`} className="field-error">
+          {f.message}
         </p>
       )}
     </div>

@@ -19,8 +19,8 @@ export const nowDate = (): Date => new Date(source());
 /** The current instant, ISO UTC. */
 export const nowInstant = (): Instant => nowDate().toISOString();
 /**
- * The host's own clock, never replaced: only for expiry that a library stamped on it and a browser judges on
- * its own (the session cookie's expiry).
+ * The host's own clock, never replaced: the settable clock's own pace, and expiry that a library stamped on
+ * the host's clock and a browser judges on its own (the session cookie's expiry).
  */
 export const hostNowMs = (): number => Date.now();
 /** An instant `ms` milliseconds before now, ISO UTC. */

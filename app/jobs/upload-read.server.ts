@@ -22,7 +22,7 @@ export async function withUploadReadSlot<T>(read: () => Promise<T>): Promise<T> 
   if (reading >= MAX_READS_AT_ONCE)
     throw new UserError(
       `${MAX_READS_AT_ONCE} files are already being read for your organisation, the most at once; try again in a minute. ${NOTHING_SAVED}`,
-      { status: 429 },
+      { status: 429, retryAfterSeconds: RETRY_AFTER_S },
     );
   reading++;
   try {
@@ -31,8 +31,6 @@ export async function withUploadReadSlot<T>(read: () => Promise<T>): Promise<T> 
     reading--;
   }
 }
-
-export const retryAfterHeader = { "Retry-After": String(RETRY_AFTER_S) };
 
 /** Parses the file in a worker within the limits; refusals arrive as UserErrors. */
 export function readRosterFileOffThread(

@@ -130,7 +130,7 @@ export async function getRun(scope: Scope, id: number, k: Db = db()): Promise<Ru
  * Creates a queued run: the pool is restricted to the principal's sites, the problem snapshot is built now
  * (so the solve sees the data as they were when the coordinator pressed Start). One transaction.
  */
-export async function createRun(principal: Principal, params: RunParameters): Promise<number> {
+async function createRun(principal: Principal, params: RunParameters): Promise<number> {
   const scope = principal.scope;
   return db().transaction(async (trx) => {
     const allSites = (await trx("sites").select("id").orderBy("id")).map((s) => s.id);
@@ -176,22 +176,13 @@ export function planSummary(plan: AllocationPlan) {
 
 /**
  * What the UI and the API call to start a run: creates the queued run (one transaction) and hands it to the
- * job queue. Input problems come back as a field and a message; each caller shapes its own response.
+ * job queue. Input problems are UserErrors naming the field (answered by app/forms.server.ts).
  */
-export async function startRun(
-  principal: Principal,
-  params: RunParameters,
-): Promise<{ ok: true; id: number } | { ok: false; field: string; message: string }> {
-  let id: number;
-  try {
-    id = await createRun(principal, params);
-  } catch (e) {
-    if (e instanceof UserError) return { ok: false, field: e.field ?? "_form", message: e.message };
-    throw e;
-  }
+export async function startRun(principal: Principal, params: RunParameters): Promise<number> {
+  const id = await createRun(principal, params);
   // The run is committed; if handing it over fails, the queue's sweep picks queued runs up again.
   await enqueueAllocation(id).catch((e) => console.error(`allocation run ${id}: enqueue failed, the sweep retries`, e));
-  return { ok: true, id };
+  return id;
 }
 
 // ── Claims, written by the job runner (app/jobs) ─────────────────────────────────────────────────

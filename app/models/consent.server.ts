@@ -2,6 +2,7 @@ import { nowInstant, todayIn } from "~/dates";
 import { type Db, db } from "~/db.server";
 import { CONSENT_PURPOSES, type ConsentPurpose } from "~/domain/consent-purposes";
 import type { Stage } from "~/domain/stages";
+import { conflict, UserError } from "~/errors";
 
 // Consent per purpose (docs/consent-and-disclosure.md): recorded against the text version in force,
 // witnessed by an assessor or given by the worker, with history. This module is the only one that reads
@@ -10,20 +11,19 @@ import type { Stage } from "~/domain/stages";
 
 export { CONSENT_PURPOSES, type ConsentPurpose };
 
-export class ConsentRequiredError extends Error {
+/**
+ * The data layer's consent gate: the worker has not given (or has withdrawn) the consent an action needs.
+ * A UserError (409: the stored consent forbids it), answered like any other.
+ */
+export class ConsentRequiredError extends UserError {
   constructor(
     readonly workerId: number,
     readonly purpose: ConsentPurpose,
   ) {
-    super(`This worker has not given ${purpose} consent (or has withdrawn it); nothing was recorded.`);
-  }
-}
-export class ConsentInputError extends Error {
-  constructor(
-    message: string,
-    readonly field?: string,
-  ) {
-    super(message);
+    super(`This worker has not given ${purpose} consent (or has withdrawn it); nothing was recorded.`, {
+      status: 409,
+    });
+    this.name = "ConsentRequiredError";
   }
 }
 
@@ -274,28 +274,25 @@ export async function recordConsent(
   k?: Db,
 ): Promise<void> {
   const field = input.selfGiven ? "purpose" : "purposes";
-  if (input.purposes.length === 0) throw new ConsentInputError("Choose at least one purpose.", field);
+  if (input.purposes.length === 0) throw new UserError("Choose at least one purpose.", { field });
   const run = async (trx: Db) => {
     if (!input.selfGiven && !(await isAssessor(trx, input.witnessUserId)))
-      throw new ConsentInputError("The witness must be an active assessor.", "witnessUserId");
+      throw new UserError("The witness must be an active assessor.", { field: "witnessUserId" });
     const texts = await currentTexts(trx);
     const at = nowInstant();
     for (const purpose of input.purposes) {
       const text = texts[purpose];
       if (!text)
-        throw new ConsentInputError(
+        throw new UserError(
           input.selfGiven
             ? `There is no ${purpose} consent text in force yet; nothing was recorded.`
             : `There is no ${purpose} consent text in force; an admin must add one first.`,
-          field,
+          { field },
         );
       if (input.selfGiven) {
         const last = await latestConsentRecord(input.workerId, purpose, trx);
         if (last?.status === "given" && last.text_version_id === text.id)
-          throw new ConsentInputError(
-            `You have already given ${purpose} consent on the current text (v${text.version}).`,
-            field,
-          );
+          throw conflict(`You have already given ${purpose} consent on the current text (v${text.version}).`, field);
       }
       await trx("consent_records").insert({
         worker_id: input.workerId,

@@ -3,6 +3,7 @@ import { type NotReady, type Placement, placePlan } from "~/compute/placement";
 import type { PackedSession, UnplacedHours } from "~/compute/session-packing";
 import { DEFAULT_TIME_ZONE, dayOf, hhmmOfWallClock, nowInstant, startOfDay, wallClock, wallClockAt } from "~/dates";
 import { type Db, db, type TableInsert } from "~/db.server";
+import { conflict, UserError } from "~/errors";
 import { sendMail } from "~/mail.server";
 import type { RunDetail } from "./allocation-runs.server";
 import { getRun } from "./allocation-runs.server";
@@ -17,14 +18,12 @@ import { workerTimeZones } from "./sites.server";
 // coordinator confirms, the people ready after placement and the people who will be e-mailed, with the same
 // functions publishRun uses.
 
-export class PublishConflict extends Error {
-  constructor(readonly current: { version: number; runId: number | null; by: string | null; at: string | null }) {
-    super(
-      `Someone else published first: the plan is now at version ${current.version}${current.runId ? ` (run #${current.runId}` : ""}${current.by ? ` by ${current.by}` : ""}${current.at ? ` at ${current.at.slice(0, 16).replace("T", " ")}` : ""}${current.runId ? ")" : ""}. Nothing of yours was published; look at the current plan and publish again if you still want this run.`,
-    );
-  }
+/** Of two publishes from the same plan version, the second is told who won (409). */
+function publishConflict(current: PlanState): UserError {
+  return conflict(
+    `Someone else published first: the plan is now at version ${current.version}${current.runId ? ` (run #${current.runId}` : ""}${current.by ? ` by ${current.by}` : ""}${current.at ? ` at ${current.at.slice(0, 16).replace("T", " ")}` : ""}${current.runId ? ")" : ""}. Nothing of yours was published; look at the current plan and publish again if you still want this run.`,
+  );
 }
-export class PublishRefused extends Error {}
 
 export interface PlanState {
   version: number;
@@ -33,9 +32,9 @@ export interface PlanState {
   at: string | null;
 }
 
-export async function planState(): Promise<PlanState> {
-  await db()("published_plan_state").insert({ id: 1, version: 0 }).onConflict("id").ignore();
-  const r = await db()("published_plan_state as s")
+/** The published plan's version and who published which run when, read in `k` (a transaction, or not). */
+async function readPlanState(k: Db): Promise<PlanState> {
+  const r = await k("published_plan_state as s")
     .leftJoin("users as u", "u.id", "s.published_by")
     .where("s.id", 1)
     .first("s.version", "s.current_run_id", "s.published_at", "u.display_name");
@@ -45,6 +44,11 @@ export async function planState(): Promise<PlanState> {
     by: r?.display_name ?? null,
     at: r?.published_at ? String(r.published_at) : null,
   };
+}
+
+export async function planState(): Promise<PlanState> {
+  await db()("published_plan_state").insert({ id: 1, version: 0 }).onConflict("id").ignore();
+  return readPlanState(db());
 }
 
 export function publishRefusal(run: RunDetail): string | null {
@@ -224,9 +228,9 @@ export async function publishRun(
   expectedPlanVersion: number,
 ): Promise<PublishOutcome> {
   const run = await getRun(principal.scope, runId);
-  if (!run) throw new PublishRefused("No such run in your scope.");
+  if (!run) throw new UserError("No such run in your scope.");
   const refusal = publishRefusal(run);
-  if (refusal) throw new PublishRefused(refusal);
+  if (refusal) throw new UserError(refusal);
   const snapshot = run.snapshot!;
   const { sessions, unplaced } = placement(run);
   const devices = new Map(snapshot.calendar.devices.map((d) => [d.id, d]));
@@ -243,16 +247,7 @@ export async function publishRun(
       .where({ id: 1, version: expectedPlanVersion })
       .update({ version: expectedPlanVersion + 1, current_run_id: runId, published_by: userId, published_at: now });
     if (Number(won) !== 1) {
-      const r = await trx("published_plan_state as s")
-        .leftJoin("users as u", "u.id", "s.published_by")
-        .where("s.id", 1)
-        .first("s.version", "s.current_run_id", "s.published_at", "u.display_name");
-      throw new PublishConflict({
-        version: Number(r?.version ?? 0),
-        runId: r?.current_run_id ?? null,
-        by: r?.display_name ?? null,
-        at: r?.published_at ? String(r.published_at) : null,
-      });
+      throw publishConflict(await readPlanState(trx));
     }
     const old: (OldSession & { id: number })[] = await replacedSessions(trx, run).select(
       "ts.id",

@@ -3,19 +3,15 @@ import { parse as parseCsv } from "csv-parse";
 import type ExcelJS from "exceljs";
 import { dateIn } from "~/dates";
 import { UserError } from "~/errors";
-import { MAX_ROSTER_ROWS } from "~/schemas/roster";
+import { MAX_ROSTER_ROWS, ROSTER_FILE_FIELD } from "~/schemas/roster";
 import { readFirstSheetRows, UNREADABLE_XLSX, unescapeCellText, verifyXlsxEntries } from "~/xlsx.server";
 
 // Reading an uploaded roster file into a table of strings. No database: a workbook is read in the
 // upload-reading worker thread (app/jobs/upload-read.server.ts), after the request checked its zip directory;
 // CSV is read on the request thread in chunks.
 
-/** A UserError (400); routes not yet on formAction still tell it apart by name. */
-export class RosterFileError extends UserError {
-  constructor(message: string) {
-    super(message, { status: 400 });
-  }
-}
+/** A file that cannot be imported: a UserError (400) at the upload form's file field. */
+const fileError = (message: string) => new UserError(message, { field: ROSTER_FILE_FIELD });
 
 export interface RosterTable {
   headers: string[];
@@ -42,7 +38,7 @@ function cellText(v: ExcelJS.CellValue): string {
 const CHUNK = 64 * 1024;
 
 const tooMany = (maxRows: number, what: string) =>
-  new RosterFileError(`The ${what} has more than ${maxRows} data rows, the most one import takes; split the file.`);
+  fileError(`The ${what} has more than ${maxRows} data rows, the most one import takes; split the file.`);
 
 /** Reads CSV (streamed through csv-parse, stops past the row cap) or XLSX (first sheet, after verifying its entries). */
 export async function readRosterFile(
@@ -58,7 +54,7 @@ export async function readRosterFile(
       cells = await readFirstSheetRows(bytes, maxRows + 1, () => tooMany(maxRows, "sheet"));
     } catch (e) {
       if (e instanceof UserError) throw e;
-      throw new RosterFileError(UNREADABLE_XLSX);
+      throw fileError(UNREADABLE_XLSX);
     }
     rows = cells.map((r) => Array.from(r, (v) => unescapeCellText(cellText(v).trim())));
   } else {
@@ -78,16 +74,14 @@ export async function readRosterFile(
         }
       }
     } catch (e) {
-      if (e instanceof RosterFileError) throw e;
+      if (e instanceof UserError) throw e;
       const err = e as { lines?: number; message: string };
-      throw new RosterFileError(
-        `The file is not readable CSV${err.lines ? ` (line ${err.lines})` : ""}: ${err.message}`,
-      );
+      throw fileError(`The file is not readable CSV${err.lines ? ` (line ${err.lines})` : ""}: ${err.message}`);
     }
   }
   while (rows.length && rows[rows.length - 1].every((c) => c === "")) rows.pop();
   if (rows.length === 0 || rows[0].every((c) => c === ""))
-    throw new RosterFileError("The file is empty; the first row must name the columns.");
+    throw fileError("The file is empty; the first row must name the columns.");
   const headers = rows[0].map((h) => h.replace(/^\uFEFF/, "").trim());
   return { headers, rows: rows.slice(1) };
 }

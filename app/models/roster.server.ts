@@ -4,12 +4,13 @@ import type { Principal } from "~/auth/guard.server";
 import type { Scope } from "~/auth/scope";
 import { formatInstant, nowInstant } from "~/dates";
 import { type Db, db, type TableInsert } from "~/db.server";
-import { conflict, notFound } from "~/errors";
+import { conflict, notFound, UserError } from "~/errors";
 import { readRosterFileOffThread, withUploadReadSlot } from "~/jobs/upload-read.server";
 import {
   guessMapping,
   ROSTER_FIELD_LABELS,
   ROSTER_FIELDS,
+  ROSTER_FILE_FIELD,
   type RosterMapping,
   type RosterRowIssue,
   type RosterSite,
@@ -28,7 +29,7 @@ import { WORKER_HEADER, whereWorkerInScope, workersWithPlace } from "./workers.s
 // Roster import and export, and the worker list.
 
 export type { RosterTable } from "./roster-file.server";
-export { RosterFileError, readRosterFile } from "./roster-file.server";
+export { readRosterFile } from "./roster-file.server";
 
 export async function rosterSites(k: Db = db()): Promise<RosterSite[]> {
   const sites = await k("sites").select("id", "code", "name").orderBy("id");
@@ -46,11 +47,16 @@ function inScope(scope: Scope, siteId: number, departmentId: number): boolean {
   return scope.allSites || scope.siteIds.includes(siteId) || scope.departmentIds.includes(departmentId);
 }
 
+/** Saves an uploaded roster file (read, not yet imported) for mapping its columns; refusals name the file field. */
 export async function saveRosterUpload(
   principal: Principal & { kind: "user" },
-  filename: string,
-  bytes: Uint8Array,
+  file: { name: string; bytes: Uint8Array } | null,
 ): Promise<number> {
+  if (!file || file.bytes.byteLength === 0)
+    throw new UserError("choose a CSV or XLSX file (the file was empty or missing).", { field: ROSTER_FILE_FIELD });
+  if (!/\.(csv|xlsx|txt)$/i.test(file.name))
+    throw new UserError(`${file.name} is neither .csv nor .xlsx.`, { field: ROSTER_FILE_FIELD });
+  const { name: filename, bytes } = file;
   // A workbook's zip directory is checked here, before anything is inflated; the workbook is then parsed in
   // a worker thread within time and memory limits. CSV (no compression, capped in size and rows) is parsed
   // here in small chunks. Either way in one of the organisation's reading slots.

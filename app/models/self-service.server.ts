@@ -5,7 +5,6 @@ import { type Db, db } from "~/db.server";
 import { sendMail } from "~/mail.server";
 import { roleEmailsCovering } from "./adverse-events.server";
 import {
-  ConsentInputError,
   type ConsentPurpose,
   consentHistory,
   consentState,
@@ -20,8 +19,6 @@ import { type WithdrawalResult, withdrawConsent } from "./withdrawal.server";
 
 // The worker's own portal. Every function takes the worker id that the route read from the
 // signed-in session (AppUser.workerId), never one from the URL, and reads only rows of that worker.
-
-export { ConsentInputError };
 
 /** The worker's own row with the names of their site and department (undefined when there is no such worker). */
 export function workerWithSite(workerId: number, k: Db = db()) {

@@ -2,7 +2,8 @@ import type { Knex } from "knex";
 import { nowDate, nowInstant } from "~/dates";
 import { type Db, db } from "~/db.server";
 import type { ConsentPurpose } from "~/domain/consent-purposes";
-import { ConsentInputError, latestConsentRecord, replaceWithWithdrawal, setStage } from "./consent.server";
+import { conflict } from "~/errors";
+import { latestConsentRecord, replaceWithWithdrawal, setStage } from "./consent.server";
 import { eraseForecasts } from "./forecast.server";
 import { workerWallClockAt } from "./sites.server";
 
@@ -109,8 +110,7 @@ export async function withdrawConsent(input: {
 }): Promise<WithdrawalResult> {
   return db().transaction(async (trx) => {
     const last = await latestConsentRecord(input.workerId, input.purpose, trx);
-    if (last?.status !== "given")
-      throw new ConsentInputError(`There is no given ${input.purpose} consent to withdraw.`, "purpose");
+    if (last?.status !== "given") throw conflict(`There is no given ${input.purpose} consent to withdraw.`, "purpose");
     const at = nowInstant();
     const erased: Record<string, number> = {};
     for (const step of ERASURE_STEPS) {

@@ -1,7 +1,7 @@
 import { requireApiAccess } from "~/auth/guard.server";
+import { apiAction } from "~/forms.server";
 import { listRuns, startRun } from "~/models/allocation-runs.server";
 import { runParametersSchema } from "~/schemas/allocation";
-import { parseWith } from "~/schemas/form";
 import type { Route } from "./+types/api.v1.allocation-runs";
 
 // POST /api/v1/allocation-runs — start a run (coordinator keys: allocation.run). Body: JSON with the same
@@ -30,20 +30,11 @@ export async function loader({ request }: Route.LoaderArgs) {
 export async function action({ request }: Route.ActionArgs) {
   if (request.method !== "POST") return Response.json({ error: "Use POST to start a run." }, { status: 405 });
   const p = await requireApiAccess(request, "allocation.run");
-  let body: unknown;
-  try {
-    body = await request.json();
-  } catch {
-    return Response.json({ error: "The body must be JSON." }, { status: 400 });
-  }
-  const parsed = parseWith(runParametersSchema, body);
-  if (!parsed.ok) return Response.json({ error: "Invalid run parameters.", fields: parsed.errors }, { status: 400 });
-  const started = await startRun(p, parsed.data);
-  if (!started.ok)
-    return Response.json({ error: started.message, fields: { [started.field]: started.message } }, { status: 400 });
-  const { id } = started;
-  return Response.json(
-    { id, status: "queued", href: `/api/v1/allocation-runs/${id}` },
-    { status: 202, headers: { Location: `/api/v1/allocation-runs/${id}` } },
-  );
+  return apiAction(request, runParametersSchema, "Invalid run parameters.", async (parameters) => {
+    const id = await startRun(p, parameters);
+    return Response.json(
+      { id, status: "queued", href: `/api/v1/allocation-runs/${id}` },
+      { status: 202, headers: { Location: `/api/v1/allocation-runs/${id}` } },
+    );
+  });
 }

@@ -1,16 +1,15 @@
-import { data, Form, Link, redirect, useActionData, useNavigation } from "react-router";
+import { Link, redirect, useNavigation } from "react-router";
+import { z } from "zod";
 import { requireUser } from "~/auth/guard.server";
 import { countUpload } from "~/auth/throttle.server";
-import { FormError } from "~/components/fields";
+import { ActionForm } from "~/components/fields";
 import { FileField } from "~/components/upload";
 import { formatInstant } from "~/dates";
-import { UserError } from "~/errors";
+import { type UploadField, uploadAction } from "~/forms.server";
 import { keepRetryAfter } from "~/http/headers";
-import { retryAfterHeader } from "~/jobs/upload-read.server";
 import { recentRosterUploads, saveRosterUpload } from "~/models/roster.server";
 import { viewerTimeZone } from "~/models/sites.server";
-import { readMultipart } from "~/models/uploads.server";
-import { MAX_ROSTER_BYTES, MAX_ROSTER_ROWS } from "~/schemas/roster";
+import { MAX_ROSTER_BYTES, MAX_ROSTER_ROWS, ROSTER_FILE_FIELD } from "~/schemas/roster";
 import type { Route } from "./+types/assess.roster._index";
 
 export const meta: Route.MetaFunction = () => [{ title: "Roster import · Limberly" }];
@@ -32,33 +31,23 @@ export async function loader({ request }: Route.LoaderArgs) {
 // A refused upload (429) keeps its Retry-After on the `.data` answer.
 export const headers = keepRetryAfter;
 
+const ROSTER_UPLOAD: UploadField = {
+  name: ROSTER_FILE_FIELD,
+  label: "Roster file",
+  maxBytes: MAX_ROSTER_BYTES,
+  onlyField: true,
+};
+
 export async function action({ request }: Route.ActionArgs) {
   const p = await requireUser(request, "roster.import");
   await countUpload(request, p.user.id);
-  try {
-    const { file } = await readMultipart(request, { fileField: "roster", maxBytes: MAX_ROSTER_BYTES });
-    if (!file || file.size === 0)
-      return data(
-        { error: "Roster file: choose a CSV or XLSX file (the file was empty or missing)." },
-        { status: 400 },
-      );
-    if (!/\.(csv|xlsx|txt)$/i.test(file.name))
-      return data({ error: `Roster file: ${file.name} is neither .csv nor .xlsx.` }, { status: 400 });
-    const id = await saveRosterUpload(p, file.name, file.bytes);
-    return redirect(`/assess/roster/${id}`);
-  } catch (e) {
-    // Refusals (size, zip limits, unreadable file, reading slots taken) name the limit; nothing was saved.
-    if (e instanceof UserError)
-      return data(
-        { error: `Roster file: ${e.message}` },
-        { status: e.status, headers: e.status === 429 ? retryAfterHeader : undefined },
-      );
-    throw e;
-  }
+  // Refusals (size, zip limits, unreadable file, reading slots taken) name the limit; nothing was saved.
+  return uploadAction(request, ROSTER_UPLOAD, z.object({}), async (_, file) => {
+    throw redirect(`/assess/roster/${await saveRosterUpload(p, file)}`);
+  });
 }
 
-export default function RosterHome({ loaderData }: Route.ComponentProps) {
-  const r = useActionData<typeof action>();
+export default function RosterHome({ loaderData, actionData }: Route.ComponentProps) {
   const busy = useNavigation().state === "submitting";
   return (
     <div className="grid gap-6">
@@ -82,15 +71,20 @@ export default function RosterHome({ loaderData }: Route.ComponentProps) {
           Columns needed: employee number, given name, family name, site (code or name), department (code or name);
           e-mail optional. First row = column names. At most {MAX_ROSTER_ROWS.toLocaleString("en")} rows.
         </p>
-        <Form method="post" encType="multipart/form-data" className="mt-3 grid gap-3" noValidate>
-          <FormError message={r?.error} />
-          <FileField name="roster" label="Roster file" accept=".csv,.xlsx" maxBytes={MAX_ROSTER_BYTES} required />
+        <ActionForm result={actionData} encType="multipart/form-data" className="mt-3 grid gap-3">
+          <FileField
+            name={ROSTER_UPLOAD.name}
+            label={ROSTER_UPLOAD.label}
+            accept=".csv,.xlsx"
+            maxBytes={MAX_ROSTER_BYTES}
+            required
+          />
           <div>
             <button type="submit" className="btn-primary" disabled={busy}>
               {busy ? "Reading…" : "Upload and map columns"}
             </button>
           </div>
-        </Form>
+        </ActionForm>
       </section>
       <section className="card" aria-labelledby="recent-h">
         <h2 id="recent-h" className="text-lg font-semibold">

@@ -1,13 +1,14 @@
-import { data, Form, Link, type ShouldRevalidateFunction, useActionData, useNavigation } from "react-router";
+import { data, Link, type ShouldRevalidateFunction, useNavigation } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { can } from "~/auth/permissions";
 import { countUpload } from "~/auth/throttle.server";
 import { DeviceCautions } from "~/components/device-cautions";
-import { FormError, Notice, SelectField, TextField } from "~/components/fields";
+import { ActionForm, ActionNotice, FormError, SelectField, TextField } from "~/components/fields";
 import { FileField, IssueList } from "~/components/upload";
 import { MEASURE_DIRECTIONS } from "~/compute/features";
 import { TRACE_KINDS } from "~/compute/trace-parsing";
 import { UserError } from "~/errors";
+import { type UploadField, uploadAction } from "~/forms.server";
 import { keepRetryAfter } from "~/http/headers";
 import { recordAccess } from "~/models/access-log.server";
 import {
@@ -17,19 +18,17 @@ import {
   sessionsForWorker,
   workerForStaff,
 } from "~/models/assessments.server";
-import { ConsentRequiredError, hasConsent } from "~/models/consent.server";
+import { hasConsent } from "~/models/consent.server";
 import { refreshSummary } from "~/models/forecast.server";
 import { listMeasures } from "~/models/measures.server";
 import { listNormSets } from "~/models/norms.server";
-import { readMultipart } from "~/models/uploads.server";
 import {
   MAX_TRACE_BYTES,
   MAX_TRACE_ROWS,
-  manualValuesFromForm,
+  manualValues,
+  sessionPageSchema,
   TRACE_KIND_LABELS,
-  traceUploadSchema,
 } from "~/schemas/assessment";
-import { formToObject, parseWith } from "~/schemas/form";
 import type { Route } from "./+types/assess.workers.$workerId.sessions.$sessionId";
 
 export const meta: Route.MetaFunction = () => [{ title: "Assessment session · Limberly" }];
@@ -75,108 +74,59 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 // A refused upload (429) keeps its Retry-After on the `.data` answer.
 export const headers = keepRetryAfter;
 
+const TRACE_UPLOAD: UploadField = { name: "trace", label: "Trace file", maxBytes: MAX_TRACE_BYTES, intent: "upload" };
+
 export async function action({ request, params }: Route.ActionArgs) {
   const p = await requireUser(request, "assessments.write");
   await countUpload(request, p.user.id);
   const { workerId, sessionId } = ids(params);
   if (!(await workerForStaff(p.scope, workerId)))
     throw data({ error: "No such worker at your sites." }, { status: 404 });
-  let form: FormData;
-  let file: Awaited<ReturnType<typeof readMultipart>>["file"];
-  try {
-    ({ form, file } = await readMultipart(request, { fileField: "trace", maxBytes: MAX_TRACE_BYTES }));
-  } catch (e) {
-    if (e instanceof UserError)
-      return data(
-        { intent: "upload", errors: { trace: `Trace file: ${e.message}` }, done: null, upload: null },
-        { status: e.status },
-      );
-    throw e;
-  }
-  const obj = formToObject(form);
-  const intent = String(obj.intent ?? "");
-  try {
-    if (intent === "manual") {
-      const measures = (await listMeasures({ activeOnly: true })).filter((m) => m.entry === "manual");
-      const v = manualValuesFromForm(obj, measures);
-      if (!v.ok) return data({ intent, errors: v.errors, done: null, upload: null }, { status: 400 });
-      const r = await saveManualResults({ workerId, sessionId, values: v.values, userId: p.user.id });
-      return { intent, errors: null, done: `${r.count} score(s) saved. ${refreshSummary(r.forecasts)}`, upload: null };
+  const manual = (await listMeasures({ activeOnly: true })).filter((m) => m.entry === "manual");
+  return uploadAction(request, TRACE_UPLOAD, sessionPageSchema(manual), async (v, file) => {
+    switch (v.intent) {
+      case "manual": {
+        const r = await saveManualResults({ workerId, sessionId, values: manualValues(v.m), userId: p.user.id });
+        return `${r.count} score(s) saved. ${refreshSummary(r.forecasts)}`;
+      }
+      case "upload": {
+        if (!file || file.size === 0)
+          throw new UserError("choose a CSV file to upload (the file was empty or missing).", {
+            field: TRACE_UPLOAD.name,
+          });
+        const result = await saveTrace({
+          workerId,
+          sessionId,
+          kind: v.kind,
+          filename: file.name,
+          bytes: file.bytes,
+          sampleRateHz: v.sampleRateHz,
+          userId: p.user.id,
+        });
+        // A file with problems is not stored: 422 with each problem by row and column.
+        return {
+          notice: result.ok ? `${file.name} computed and stored. ${refreshSummary(result.forecasts)}`.trim() : null,
+          payload: { ...result, filename: file.name },
+          status: result.ok ? 200 : 422,
+        };
+      }
+      case "rescore": {
+        const r = await rescoreSession({ workerId, sessionId, normSetId: v.normSetId ?? null, userId: p.user.id });
+        return `Re-scored: ${r.scored} of ${r.total} results have a z-score with the chosen norms. ${refreshSummary(r.forecasts)}`;
+      }
     }
-    if (intent === "upload") {
-      const v = parseWith(traceUploadSchema, obj);
-      if (!v.ok) return data({ intent, errors: v.errors, done: null, upload: null }, { status: 400 });
-      if (!file || file.size === 0)
-        return data(
-          {
-            intent,
-            errors: { trace: "Trace file: choose a CSV file to upload (the file was empty or missing)." },
-            done: null,
-            upload: null,
-          },
-          { status: 400 },
-        );
-      const result = await saveTrace({
-        workerId,
-        sessionId,
-        kind: v.data.kind,
-        filename: file.name,
-        bytes: file.bytes,
-        sampleRateHz: v.data.sampleRateHz,
-        userId: p.user.id,
-      });
-      return data(
-        {
-          intent,
-          errors: null,
-          done: result.ok ? `${file.name} computed and stored. ${refreshSummary(result.forecasts)}`.trim() : null,
-          upload: { ...result, filename: file.name },
-        },
-        { status: result.ok ? 200 : 422 },
-      );
-    }
-    if (intent === "rescore") {
-      const normSetId = obj.normSetId ? Number(obj.normSetId) : null;
-      const r = await rescoreSession({ workerId, sessionId, normSetId, userId: p.user.id });
-      return {
-        intent,
-        errors: null,
-        done: `Re-scored: ${r.scored} of ${r.total} results have a z-score with the chosen norms. ${refreshSummary(r.forecasts)}`,
-        upload: null,
-      };
-    }
-  } catch (e) {
-    if (e instanceof ConsentRequiredError)
-      return data({ intent, errors: { _form: e.message }, done: null, upload: null }, { status: 409 });
-    if (e instanceof UserError)
-      return data(
-        { intent, errors: { [e.field ?? "_form"]: e.message }, done: null, upload: null },
-        { status: e.status },
-      );
-    throw e;
-  }
-  return data(
-    {
-      intent,
-      errors: { _form: "Intent: this form's action is not known; reload the page and try again." },
-      done: null,
-      upload: null,
-    },
-    { status: 400 },
-  );
+  });
 }
 
 const label = (key: string) =>
   (MEASURE_DIRECTIONS as Record<string, { label: string; unit: string }>)[key] ?? { label: key, unit: "" };
 const fmt = (v: number) => (Number.isInteger(v) ? String(v) : Math.abs(v) >= 100 ? v.toFixed(1) : v.toPrecision(4));
 
-export default function SessionPage({ loaderData }: Route.ComponentProps) {
+export default function SessionPage({ loaderData, actionData }: Route.ComponentProps) {
   const { worker, session, consented, manual, traceMeasures, normSets, canWrite } = loaderData;
-  const r = useActionData<typeof action>();
   const busy = useNavigation().state === "submitting";
-  const errors = (r?.errors ?? {}) as Record<string, string>;
   const byMeasure = new Map(session.results.map((x) => [x.measureId, x]));
-  const upload = r?.upload;
+  const upload = actionData?.intent === "upload" ? actionData.payload : undefined;
   return (
     <div className="grid gap-6">
       <div>
@@ -193,8 +143,7 @@ export default function SessionPage({ loaderData }: Route.ComponentProps) {
       </div>
       <DeviceCautions compact />
       {!consented && <FormError message="This worker has no given assessment consent: nothing more can be recorded." />}
-      {r?.done && <Notice>{r.done}</Notice>}
-      <FormError message={errors._form} />
+      <ActionNotice result={actionData} />
 
       <section className="card grid gap-3" aria-labelledby="results-h">
         <h2 id="results-h" className="text-lg font-semibold">
@@ -234,8 +183,7 @@ export default function SessionPage({ loaderData }: Route.ComponentProps) {
           </div>
         )}
         {canWrite && consented && normSets.length > 0 && (
-          <Form method="post" className="flex flex-wrap items-end gap-3">
-            <input type="hidden" name="intent" value="rescore" />
+          <ActionForm intent="rescore" result={actionData} className="flex flex-wrap items-end gap-3">
             <div className="grow">
               <SelectField
                 name="normSetId"
@@ -249,7 +197,7 @@ export default function SessionPage({ loaderData }: Route.ComponentProps) {
             <button type="submit" className="btn-quiet" disabled={busy}>
               Re-score
             </button>
-          </Form>
+          </ActionForm>
         )}
       </section>
 
@@ -267,15 +215,13 @@ export default function SessionPage({ loaderData }: Route.ComponentProps) {
               .
             </p>
           ) : (
-            <Form method="post" className="grid gap-3 sm:grid-cols-2" noValidate>
-              <input type="hidden" name="intent" value="manual" />
+            <ActionForm intent="manual" result={actionData} className="grid gap-3 sm:grid-cols-2">
               {manual.map((m) => (
                 <TextField
                   key={m.id}
                   name={`m.${m.id}`}
                   label={`${m.name} (${m.unit}, ${m.higherIsBetter ? "higher" : "lower"} is better)`}
                   defaultValue={byMeasure.get(m.id) ? String(byMeasure.get(m.id)!.value) : ""}
-                  error={errors[`m.${m.id}`]}
                 />
               ))}
               <div className="sm:col-span-2">
@@ -283,7 +229,7 @@ export default function SessionPage({ loaderData }: Route.ComponentProps) {
                   Save scores
                 </button>
               </div>
-            </Form>
+            </ActionForm>
           )}
         </section>
       )}
@@ -297,28 +243,29 @@ export default function SessionPage({ loaderData }: Route.ComponentProps) {
             CSV with a header row; decimal points; at most {MAX_TRACE_ROWS.toLocaleString("en")} rows. Trace measures
             configured: {traceMeasures.map((m) => m.code).join(", ") || "none"}.
           </p>
-          <Form method="post" encType="multipart/form-data" className="grid gap-3 sm:grid-cols-2" noValidate>
-            <input type="hidden" name="intent" value="upload" />
+          <ActionForm
+            intent="upload"
+            result={actionData}
+            encType="multipart/form-data"
+            className="grid gap-3 sm:grid-cols-2"
+          >
             <SelectField
               name="kind"
               label="Trace kind"
               required
-              error={errors.kind}
               options={TRACE_KINDS.map((k) => ({ value: k, label: TRACE_KIND_LABELS[k] }))}
             />
             <TextField
               name="sampleRateHz"
               label="Declared sample rate, Hz (optional)"
-              error={errors.sampleRateHz}
               hint="Checked against the timestamps when given."
             />
             <div className="sm:col-span-2">
               <FileField
-                name="trace"
-                label="Trace file"
+                name={TRACE_UPLOAD.name}
+                label={TRACE_UPLOAD.label}
                 accept=".csv,text/csv"
                 maxBytes={MAX_TRACE_BYTES}
-                error={errors.trace}
                 required
               />
             </div>
@@ -327,7 +274,7 @@ export default function SessionPage({ loaderData }: Route.ComponentProps) {
                 {busy ? "Computing…" : "Upload and compute"}
               </button>
             </div>
-          </Form>
+          </ActionForm>
           {upload && !upload.ok && (
             <IssueList
               title={`${upload.filename} was not stored. Fix these and upload again:`}

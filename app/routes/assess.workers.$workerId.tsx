@@ -1,17 +1,23 @@
-import { data, Form, Link, redirect, useActionData, useNavigation } from "react-router";
+import { data, Link, redirect, useNavigation } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { can } from "~/auth/permissions";
 import { consentText, StageBadge } from "~/components/badges";
-import { FormError, Notice, SelectField, TextArea, TextField } from "~/components/fields";
+import {
+  ActionForm,
+  ActionNotice,
+  CheckboxField,
+  FieldMessage,
+  SelectField,
+  TextArea,
+  TextField,
+} from "~/components/fields";
 import { ProfileChart, type ProfilePoint } from "~/components/profile-chart";
 import { todayIn } from "~/dates";
 import { CONSENT_PURPOSES } from "~/domain/consent-purposes";
-import { UserError } from "~/errors";
+import { formAction } from "~/forms.server";
 import { recordAccess } from "~/models/access-log.server";
 import { createSession, sessionsForWorker, workerForStaff } from "~/models/assessments.server";
 import {
-  ConsentInputError,
-  ConsentRequiredError,
   consentHistory,
   consentState,
   currentConsentTexts,
@@ -23,9 +29,7 @@ import { listNormSets } from "~/models/norms.server";
 import { changesSincePrevious, reliabilityByMeasure } from "~/models/reliability-report.server";
 import { workerTimeZone } from "~/models/sites.server";
 import { withdrawConsent } from "~/models/withdrawal.server";
-import { sessionSchema } from "~/schemas/assessment";
-import { PURPOSE_LABELS, recordConsentSchema, withdrawConsentSchema } from "~/schemas/consent";
-import { formToObject, parseWith } from "~/schemas/form";
+import { PURPOSE_LABELS, workerRecordSchema } from "~/schemas/consent";
 import type { Route } from "./+types/assess.workers.$workerId";
 
 export const meta: Route.MetaFunction = ({ data: d }) => [
@@ -107,64 +111,47 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 }
 
 export async function action({ request, params }: Route.ActionArgs) {
-  const form = formToObject(await request.formData());
-  const intent = String(form.intent ?? "");
+  const formData = await request.formData();
   const workerId = workerIdOf(params);
-  const p = await requireUser(request, intent === "session" ? "assessments.write" : "consent.manage");
+  // Starting a session and managing consent need different permissions: the intent picks which, before parsing.
+  const p = await requireUser(request, formData.get("intent") === "session" ? "assessments.write" : "consent.manage");
   if (!(await workerForStaff(p.scope, workerId)))
     throw data({ error: "No such worker at your sites." }, { status: 404 });
-  try {
-    if (intent === "consent") {
-      const v = parseWith(recordConsentSchema, form);
-      if (!v.ok) return data({ intent, errors: v.errors, done: null }, { status: 400 });
-      await recordConsent({
-        workerId,
-        purposes: v.data.purposes,
-        witnessUserId: v.data.witnessUserId,
-        recordedBy: p.user.id,
-      });
-      return { intent, errors: null, done: `Consent recorded for: ${v.data.purposes.join(", ")}.` };
+  return formAction(formData, workerRecordSchema, async (v) => {
+    switch (v.intent) {
+      case "consent":
+        await recordConsent({
+          workerId,
+          purposes: v.purposes,
+          witnessUserId: v.witnessUserId,
+          recordedBy: p.user.id,
+        });
+        return `Consent recorded for: ${v.purposes.join(", ")}.`;
+      case "withdraw": {
+        const r = await withdrawConsent({ workerId, purpose: v.purpose, recordedBy: p.user.id });
+        const erased = Object.entries(r.erased)
+          .filter(([, n]) => n > 0)
+          .map(([what, n]) => `${what}: ${n}`)
+          .join(", ");
+        const label = v.purpose[0].toUpperCase() + v.purpose.slice(1);
+        return `${label} consent withdrawn. ${erased ? `Erased at once (rows deleted): ${erased}.` : "There were no data to erase."}`;
+      }
+      case "session": {
+        const id = await createSession({
+          workerId,
+          assessedOn: v.assessedOn,
+          notes: v.notes,
+          assessorUserId: p.user.id,
+        });
+        throw redirect(`/assess/workers/${workerId}/sessions/${id}`);
+      }
     }
-    if (intent === "withdraw") {
-      const v = parseWith(withdrawConsentSchema, form);
-      if (!v.ok)
-        return data({ intent, purpose: String(form.purpose ?? ""), errors: v.errors, done: null }, { status: 400 });
-      const r = await withdrawConsent({ workerId, purpose: v.data.purpose, recordedBy: p.user.id });
-      const erased = Object.entries(r.erased)
-        .filter(([, n]) => n > 0)
-        .map(([what, n]) => `${what}: ${n}`)
-        .join(", ");
-      const label = v.data.purpose[0].toUpperCase() + v.data.purpose.slice(1);
-      return {
-        intent,
-        errors: null,
-        done: `${label} consent withdrawn. ${erased ? `Erased at once (rows deleted): ${erased}.` : "There were no data to erase."}`,
-      };
-    }
-    if (intent === "session") {
-      const v = parseWith(sessionSchema, form);
-      if (!v.ok) return data({ intent, errors: v.errors, done: null }, { status: 400 });
-      const id = await createSession({
-        workerId,
-        assessedOn: v.data.assessedOn,
-        notes: v.data.notes,
-        assessorUserId: p.user.id,
-      });
-      return redirect(`/assess/workers/${workerId}/sessions/${id}`);
-    }
-  } catch (e) {
-    if (e instanceof ConsentRequiredError)
-      return data({ intent, errors: { _form: e.message }, done: null }, { status: 409 });
-    if (e instanceof ConsentInputError || e instanceof UserError)
-      return data({ intent, errors: { [e.field ?? "_form"]: e.message }, done: null }, { status: 400 });
-    throw e;
-  }
-  return data({ intent, errors: { _form: "Unknown action." }, done: null }, { status: 400 });
+  });
 }
 
 const fmt = (v: number) => (Math.abs(v) >= 100 ? v.toFixed(1) : v.toPrecision(3));
 
-export default function WorkerRecord({ loaderData }: Route.ComponentProps) {
+export default function WorkerRecord({ loaderData, actionData }: Route.ComponentProps) {
   const {
     today,
     worker,
@@ -181,9 +168,7 @@ export default function WorkerRecord({ loaderData }: Route.ComponentProps) {
     canWrite,
     toReview,
   } = loaderData;
-  const r = useActionData<typeof action>();
   const busy = useNavigation().state === "submitting";
-  const errors = (r && "errors" in r && r.errors ? r.errors : {}) as Record<string, string>;
   const assessmentGiven = consent.assessment.status === "given";
   return (
     <div className="grid gap-6">
@@ -203,10 +188,7 @@ export default function WorkerRecord({ loaderData }: Route.ComponentProps) {
           Opening this record is written to the access log; the worker can see who read it.
         </p>
       </div>
-      {r?.done && <Notice>{r.done}</Notice>}
-      {r?.errors && (r.errors as Record<string, string>)._form && (
-        <FormError message={(r.errors as Record<string, string>)._form} />
-      )}
+      <ActionNotice result={actionData} />
 
       {toReview.length > 0 && (
         <section className="card grid gap-2 border-alert" aria-labelledby="review-h" data-testid="courses-to-review">
@@ -246,17 +228,17 @@ export default function WorkerRecord({ loaderData }: Route.ComponentProps) {
           ))}
         </ul>
         {canConsent && (
-          <Form
+          <ActionForm
             key={CONSENT_PURPOSES.map((pp) => consent[pp].status + consent[pp].version).join()}
-            method="post"
+            intent="consent"
+            result={actionData}
             className="grid gap-3"
             aria-labelledby="record-consent-h"
           >
             <h3 id="record-consent-h" className="font-semibold">
               Record consent
             </h3>
-            <input type="hidden" name="intent" value="consent" />
-            <fieldset className="grid gap-2" aria-describedby={errors.purposes ? "purposes-error" : undefined}>
+            <fieldset className="grid gap-2">
               <legend className="field-label">Purposes the worker agrees to (each against the text in force)</legend>
               {CONSENT_PURPOSES.map((pp) => (
                 <div key={pp} className="rounded-md border border-line p-2">
@@ -274,50 +256,36 @@ export default function WorkerRecord({ loaderData }: Route.ComponentProps) {
                   )}
                 </div>
               ))}
-              {errors.purposes && (
-                <p id="purposes-error" className="field-error">
-                  {errors.purposes}
-                </p>
-              )}
+              <FieldMessage name="purposes" />
             </fieldset>
             <SelectField
               name="witnessUserId"
               label="Witnessed by (assessor)"
               required
               defaultValue={String(me)}
-              error={errors.witnessUserId}
               options={witnesses.map((w) => ({ value: String(w.id), label: w.display_name }))}
             />
-            <label className="flex min-h-11 items-center gap-2">
-              <input
-                type="checkbox"
-                name="confirmRead"
-                className="size-5"
-                aria-describedby={errors.confirmRead ? "confirmRead-error" : undefined}
-              />
-              <span>The worker was shown the current text of each ticked purpose and agreed.</span>
-            </label>
-            {errors.confirmRead && (
-              <p id="confirmRead-error" className="field-error">
-                {errors.confirmRead}
-              </p>
-            )}
+            <CheckboxField
+              name="confirmRead"
+              label="The worker was shown the current text of each ticked purpose and agreed."
+            />
             <div>
               <button type="submit" className="btn-primary" disabled={busy}>
                 Record consent
               </button>
             </div>
-          </Form>
+          </ActionForm>
         )}
         {canConsent &&
           CONSENT_PURPOSES.filter((pp) => consent[pp].status === "given").map((pp) => (
-            <Form
+            <ActionForm
               key={pp}
-              method="post"
+              intent="withdraw"
+              result={actionData}
+              match={{ purpose: pp }}
               className="grid gap-2 rounded-md border border-alert/30 p-3"
               aria-label={`Withdraw ${pp} consent`}
             >
-              <input type="hidden" name="intent" value="withdraw" />
               <input type="hidden" name="purpose" value={pp} />
               <p className="font-medium">Withdraw {pp} consent</p>
               <p className="text-sm text-ink-soft">
@@ -327,18 +295,13 @@ export default function WorkerRecord({ loaderData }: Route.ComponentProps) {
                     ? "Takes effect at once: forecasts are erased and the worker leaves plans."
                     : "Takes effect at once: the record leaves future model cohorts."}
               </p>
-              <TextField
-                name="confirm"
-                label={`Type WITHDRAW to confirm (${pp})`}
-                error={r && "purpose" in r && r.purpose === pp ? errors.confirm : undefined}
-                autoComplete="off"
-              />
+              <TextField name="confirm" label={`Type WITHDRAW to confirm (${pp})`} autoComplete="off" />
               <div>
                 <button type="submit" className="btn-danger" disabled={busy}>
                   Withdraw {pp} consent
                 </button>
               </div>
-            </Form>
+            </ActionForm>
           ))}
         <details>
           <summary className="cursor-pointer text-spruce-700">Consent history ({history.length})</summary>
@@ -476,25 +439,17 @@ export default function WorkerRecord({ loaderData }: Route.ComponentProps) {
         )}
         {canWrite &&
           (assessmentGiven ? (
-            <Form method="post" className="grid gap-3 sm:grid-cols-2">
-              <input type="hidden" name="intent" value="session" />
-              <TextField
-                name="assessedOn"
-                label="Date of assessment"
-                type="date"
-                required
-                defaultValue={today}
-                error={errors.assessedOn}
-              />
+            <ActionForm intent="session" result={actionData} className="grid gap-3 sm:grid-cols-2">
+              <TextField name="assessedOn" label="Date of assessment" type="date" required defaultValue={today} />
               <div className="sm:col-span-2">
-                <TextArea name="notes" label="Notes (optional)" rows={2} error={errors.notes} />
+                <TextArea name="notes" label="Notes (optional)" rows={2} />
               </div>
               <div className="sm:col-span-2">
                 <button type="submit" className="btn-primary" disabled={busy}>
                   Start assessment session
                 </button>
               </div>
-            </Form>
+            </ActionForm>
           ) : (
             <p className="rounded-md bg-amber-wash p-3 text-sm text-amber-caution">
               No assessment can be recorded: this worker has not given assessment consent.

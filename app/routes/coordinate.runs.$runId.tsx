@@ -1,3 +1,4 @@
+import { invariantResponse } from "@epic-web/invariant";
 import {
   type ColumnDef,
   flexRender,
@@ -7,182 +8,35 @@ import {
   useReactTable,
 } from "@tanstack/react-table";
 import { useEffect, useState } from "react";
-import { data, Form, Link, useFetcher, useNavigation, useRevalidator } from "react-router";
+import { Form, Link, useFetcher, useNavigation, useRevalidator } from "react-router";
 import { requireUser } from "~/auth/guard.server";
-import { can } from "~/auth/permissions";
 import { CapacityExplorer } from "~/components/capacity-chart";
 import { DeviceCautions } from "~/components/device-cautions";
-import { FormError, Notice } from "~/components/fields";
+import { ActionForm, CheckboxField, FieldMessage, FormError, Notice } from "~/components/fields";
 import { ProgressBar } from "~/components/progress-bar";
-import { addDays } from "~/compute/plan-calendar";
-import { round1 } from "~/compute/rounding";
+import { formAction } from "~/forms.server";
 import { recordAccess } from "~/models/access-log.server";
-import { getRun, listRuns } from "~/models/allocation-runs.server";
-import {
-  PublishConflict,
-  type PublishOutcome,
-  PublishRefused,
-  placement,
-  planState,
-  publishPreview,
-  publishRefusal,
-  publishRun,
-} from "~/models/publish.server";
+import { publishRun } from "~/models/publish.server";
+import { runResultView, type WorkerPlanRow } from "~/models/run-result.server";
 import { publishSchema } from "~/schemas/allocation";
-import { formToObject, parseWith } from "~/schemas/form";
 import type { Route } from "./+types/coordinate.runs.$runId";
 
 export const meta: Route.MetaFunction = ({ params }) => [{ title: `Allocation run #${params.runId} · Limberly` }];
 
-export interface WorkerPlanRow {
-  workerId: string;
-  employeeNumber: string;
-  name: string;
-  department: string;
-  deviceType: string;
-  trainers: string;
-  hoursPerWeek: string;
-  totalHours: number;
-  hoursNeeded: number;
-  completionWeek: number;
-  completionDate: string;
-  priority: number;
-}
-
 export async function loader({ request, params }: Route.LoaderArgs) {
   const p = await requireUser(request, "allocation.run");
-  const id = Number(params.runId);
-  const run = Number.isInteger(id) && id > 0 ? await getRun(p.scope, id) : null;
-  if (!run) throw data({ error: "No such allocation run in your scope." }, { status: 404 });
-  const snap = run.snapshot;
-  const plan = run.plan;
-  const workerLabel = new Map((snap?.calendar.workers ?? []).map((w) => [w.id, w]));
-  const problemWorker = new Map((snap?.problem.workers ?? []).map((w) => [w.id, w]));
-  // Ready means every planned hour got a session: the rest are "not ready in this horizon" (with the reason).
-  const publishView = run.status === "done" && !publishRefusal(run) ? await publishPreview(run) : null;
-  const placed = publishView ?? (run.status === "done" ? placement(run) : null);
-  const notReady = new Map((placed?.notReady ?? []).map((n) => [n.workerId, n]));
-  const rows: WorkerPlanRow[] = (plan?.assignments ?? [])
-    .filter((a) => !notReady.has(a.workerId))
-    .map((a) => {
-      const w = workerLabel.get(a.workerId);
-      const byWeek = new Map<number, number>();
-      for (const s of a.sessions) byWeek.set(s.week, (byWeek.get(s.week) ?? 0) + s.hours);
-      const weeks = [...byWeek.entries()].sort((x, y) => x[0] - y[0]);
-      const total = weeks.reduce((s, [, h]) => s + h, 0);
-      return {
-        workerId: a.workerId,
-        employeeNumber: w?.employeeNumber ?? a.workerId,
-        name: w?.name ?? a.workerId,
-        department: w ? `${w.site} · ${w.department}` : "",
-        deviceType: a.deviceTypeId,
-        trainers: [...new Set(a.sessions.map((s) => s.trainerId))].join(", "),
-        hoursPerWeek: weeks.map(([k, h]) => `W${k + 1}: ${h.toFixed(1)}`).join(" · "),
-        totalHours: round1(total),
-        hoursNeeded: round1(
-          problemWorker.get(a.workerId)?.options.find((o) => o.deviceTypeId === a.deviceTypeId)?.hoursNeeded ?? total,
-        ),
-        completionWeek: a.completionWeek + 1,
-        completionDate: snap ? addDays(snap.calendar.startDate, a.completionWeek * 7 + 4) : "",
-        priority: problemWorker.get(a.workerId)?.priority ?? 1,
-      };
-    });
-  const unassigned = [
-    ...(placed?.notReady ?? []).map((n) => ({ name: n.name, employeeNumber: n.employeeNumber, reason: n.reason })),
-    ...(plan?.unassigned ?? []).map((u) => ({
-      name: workerLabel.get(u.workerId)?.name ?? u.workerId,
-      employeeNumber: workerLabel.get(u.workerId)?.employeeNumber ?? "",
-      reason: u.reason,
-    })),
-  ];
-  const usage = new Map<
-    string,
-    { kind: string; id: string; points: { week: number; used: number; capacity: number }[] }
-  >();
-  for (const u of plan?.usage ?? []) {
-    const key = `${u.kind}|${u.id}`;
-    if (!usage.has(key)) usage.set(key, { kind: u.kind, id: u.id, points: [] });
-    usage.get(key)!.points.push({ week: u.week, used: u.used, capacity: u.capacity });
-  }
-  for (const u of usage.values()) u.points.sort((a, b) => a.week - b.week);
-  const preview = placed ?? { sessions: [], unplaced: [] };
-  const lastWeek = new Map<string, number>();
-  for (const s of preview.sessions) lastWeek.set(s.workerId, Math.max(lastWeek.get(s.workerId) ?? 0, s.week));
-  const slipped = rows
-    .filter((r) => (lastWeek.get(r.workerId) ?? -1) + 1 > r.completionWeek)
-    .map((r) => `${r.name}: week ${(lastWeek.get(r.workerId) ?? 0) + 1} instead of ${r.completionWeek}`);
-  if (rows.length) await recordAccess(p, request, rows.map((r) => Number(r.workerId)).filter(Number.isFinite), "plan");
-  const others = (await listRuns(p.scope, 30))
-    .filter((r) => r.id !== run.id && r.status === "done")
-    .map((r) => ({ id: r.id, label: r.label ?? `${r.parameters.startDate}, ${r.parameters.horizonWeeks} weeks` }));
-  const state = await planState();
-  return {
-    run: {
-      id: run.id,
-      label: run.label,
-      status: run.status,
-      phase: run.phase,
-      fraction: run.fraction,
-      error: run.error,
-      createdBy: run.createdBy,
-      createdAt: run.createdAt,
-      finishedAt: run.finishedAt,
-      publishedAt: run.publishedAt,
-      publishedBy: run.publishedBy,
-      publishedPlanVersion: run.publishedPlanVersion,
-      parameters: run.parameters,
-      baseRunId: run.baseRunId,
-    },
-    result: plan
-      ? {
-          status: plan.status,
-          objective: plan.objective,
-          bound: plan.bound,
-          gap: plan.gap ?? null,
-          message: plan.message ?? null,
-          binding: (plan.bindingResources ?? []).map((b) => b.description),
-        }
-      : null,
-    poolSize: snap?.problem.workers.length ?? 0,
-    excluded: snap?.excluded ?? [],
-    notes: snap?.notes ?? [],
-    rows,
-    unassigned,
-    usage: [...usage.values()],
-    preview: {
-      sessions: preview.sessions.length,
-      unplaced: preview.unplaced.map((u) => ({
-        name: workerLabel.get(u.workerId)?.name ?? u.workerId,
-        hours: round1(u.minutes / 60),
-        reason: u.reason,
-      })),
-      slipped,
-      plannedBySolver: plan?.assignments.length ?? 0,
-      continuing: placed?.continuing ?? { total: 0, finishing: 0 },
-      recipients: publishView?.recipients ?? null,
-      withoutEmail: publishView?.withoutEmail ?? 0,
-      replaces: publishView?.replaces ?? 0,
-    },
-    planVersion: state.version,
-    currentRunId: state.runId,
-    refusal: run.status === "done" ? publishRefusal(run) : "Only a finished run can be published.",
-    canPublish: can(p.user, "allocation.publish"),
-    others,
-  };
+  const view = await runResultView(p, Number(params.runId));
+  invariantResponse(view, "No such allocation run in your scope.", { status: 404 });
+  await recordAccess(p, request, view.shownWorkerIds, "plan");
+  return view;
 }
 
 export async function action({ request, params }: Route.ActionArgs) {
   const p = await requireUser(request, "allocation.publish");
-  const parsed = parseWith(publishSchema, formToObject(await request.formData()));
-  if (!parsed.ok) return data({ error: Object.values(parsed.errors)[0] }, { status: 400 });
-  try {
-    const outcome = await publishRun(p, Number(params.runId), parsed.data.expectedPlanVersion);
-    return { published: outcome };
-  } catch (e) {
-    if (e instanceof PublishConflict) return data({ conflict: e.message }, { status: 409 });
-    if (e instanceof PublishRefused) return data({ error: e.message }, { status: 400 });
-    throw e;
-  }
+  return formAction(await request.formData(), publishSchema, async (v) => {
+    const published = await publishRun(p, Number(params.runId), v.expectedPlanVersion);
+    return { notice: `Published as plan version ${published.version}.`, payload: published };
+  });
 }
 
 const columns: ColumnDef<WorkerPlanRow>[] = [
@@ -335,7 +189,7 @@ export default function RunPage({ loaderData, actionData }: Route.ComponentProps
     others,
   } = loaderData;
   const nav = useNavigation();
-  const a = actionData as { published?: PublishOutcome; conflict?: string; error?: string } | undefined;
+  const published = actionData?.intent === "publish" ? actionData.payload : undefined;
   const pr = run.parameters;
   return (
     <div className="grid gap-6">
@@ -483,23 +337,19 @@ export default function RunPage({ loaderData, actionData }: Route.ComponentProps
                 </ul>
               </details>
             )}
-            {a?.published && (
+            {published && (
               <Notice>
-                Published as plan version {a.published.version}: {a.published.sessions} sessions. E-mailed{" "}
-                {a.published.notified.length} people whose sessions changed (
-                {a.published.notified.filter((n) => n.kind === "worker").length} workers,{" "}
-                {a.published.notified.filter((n) => n.kind === "trainer").length} trainers); {a.published.unchanged}{" "}
+                Published as plan version {published.version}: {published.sessions} sessions. E-mailed{" "}
+                {published.notified.length} people whose sessions changed (
+                {published.notified.filter((n) => n.kind === "worker").length} workers,{" "}
+                {published.notified.filter((n) => n.kind === "trainer").length} trainers); {published.unchanged}{" "}
                 unchanged, not e-mailed.
-                {a.published.mailFailures.length
-                  ? ` ${a.published.mailFailures.length} e-mails could not be sent.`
-                  : ""}{" "}
+                {published.mailFailures.length ? ` ${published.mailFailures.length} e-mails could not be sent.` : ""}{" "}
                 <Link className="text-spruce-700 underline" to="/coordinate/schedule">
                   Open the published schedule
                 </Link>
               </Notice>
             )}
-            {a?.conflict && <FormError message={a.conflict} />}
-            {a?.error && <FormError message={a.error} />}
             {run.publishedAt && (
               <p className="text-sm">
                 This run was published as version {run.publishedPlanVersion} on{" "}
@@ -510,19 +360,19 @@ export default function RunPage({ loaderData, actionData }: Route.ComponentProps
             {refusal ? (
               <p className="text-sm text-ink-soft">{refusal}</p>
             ) : canPublish ? (
-              <Form method="post" className="grid gap-2">
-                <input type="hidden" name="intent" value="publish" />
+              <ActionForm intent="publish" result={actionData} className="grid gap-2">
                 <input type="hidden" name="expectedPlanVersion" value={planVersion} />
-                <label className="flex items-start gap-2">
-                  <input type="checkbox" name="confirm" value="yes" className="mt-1 size-5" required />
-                  <span>
-                    I have checked the numbers: {rows.length} people ready after placing sessions
-                    {preview.recipients
+                <FieldMessage name="expectedPlanVersion" />
+                <CheckboxField
+                  name="confirm"
+                  value="yes"
+                  required
+                  label={`I have checked the numbers: ${rows.length} people ready after placing sessions${
+                    preview.recipients
                       ? `, ${preview.recipients.workers + preview.recipients.trainers} people will be e-mailed`
-                      : ""}
-                    .
-                  </span>
-                </label>
+                      : ""
+                  }.`}
+                />
                 <p>
                   <button className="btn-primary" type="submit" disabled={nav.state === "submitting"}>
                     {nav.state === "submitting"
@@ -532,7 +382,7 @@ export default function RunPage({ loaderData, actionData }: Route.ComponentProps
                         : "Publish this plan"}
                   </button>
                 </p>
-              </Form>
+              </ActionForm>
             ) : (
               <p className="text-sm">Only a coordinator with publish permission can publish.</p>
             )}

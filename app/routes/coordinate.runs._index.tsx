@@ -1,16 +1,16 @@
-import { Form, Link, redirect, useNavigation } from "react-router";
+import { Link, redirect, useNavigation } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { DeviceCautions } from "~/components/device-cautions";
-import { FormError, TextField } from "~/components/fields";
+import { ActionForm, CheckboxField, FieldMessage, SelectField, TextField } from "~/components/fields";
 import { addDays, isoWeekday } from "~/compute/plan-calendar";
 import { todayIn } from "~/dates";
+import { formAction } from "~/forms.server";
 import { getRunStatus, listRuns, startRun } from "~/models/allocation-runs.server";
 import { planningChoices } from "~/models/fleet-admin.server";
 import { planningQuantile } from "~/models/forecast.server";
 import { planState } from "~/models/publish.server";
 import { viewerTimeZone } from "~/models/sites.server";
 import { runFormSchema } from "~/schemas/allocation";
-import { formToObject, parseWith } from "~/schemas/form";
 import type { Route } from "./+types/coordinate.runs._index";
 
 export const meta: Route.MetaFunction = () => [{ title: "Allocation runs · Limberly" }];
@@ -36,18 +36,15 @@ export async function loader({ request }: Route.LoaderArgs) {
 
 export async function action({ request }: Route.ActionArgs) {
   const p = await requireUser(request, "allocation.run");
-  const parsed = parseWith(runFormSchema, formToObject(await request.formData()));
-  if (!parsed.ok) return { errors: parsed.errors };
-  const started = await startRun(p, parsed.data);
-  if (!started.ok) return { errors: { [started.field]: started.message } as Record<string, string> };
-  return redirect(`/coordinate/runs/${started.id}`);
+  return formAction(await request.formData(), runFormSchema, async (parameters) => {
+    throw redirect(`/coordinate/runs/${await startRun(p, parameters)}`);
+  });
 }
 
 const STATUS_TEXT: Record<string, string> = { queued: "Queued", running: "Solving", done: "Done", failed: "Failed" };
 
 export default function RunsIndex({ loaderData, actionData }: Route.ComponentProps) {
   const { runs, choices, quantile, base, defaultStart, plan } = loaderData;
-  const errors = (actionData?.errors ?? {}) as Record<string, string>;
   const nav = useNavigation();
   const bp = base?.parameters;
   return (
@@ -80,23 +77,17 @@ export default function RunsIndex({ loaderData, actionData }: Route.ComponentPro
         <h2 id="new-run" className="text-lg font-semibold">
           {base ? `New what-if run based on run #${base.id}` : "Start a run"}
         </h2>
-        <Form method="post" className="grid gap-4" noValidate>
-          <FormError message={errors._form} />
+        <ActionForm result={actionData} className="grid gap-4">
           {base && <input type="hidden" name="baseRunId" value={base.id} />}
+          <FieldMessage name="baseRunId" />
           <div className="grid gap-4 md:grid-cols-3">
-            <TextField
-              name="label"
-              label="Name (optional)"
-              defaultValue={base ? `What-if of #${base.id}` : ""}
-              error={errors.label}
-            />
+            <TextField name="label" label="Name (optional)" defaultValue={base ? `What-if of #${base.id}` : ""} />
             <TextField
               name="startDate"
               label="Start date (a Monday)"
               type="date"
               required
               defaultValue={bp?.startDate ?? defaultStart}
-              error={errors.startDate}
             />
             <TextField
               name="horizonWeeks"
@@ -104,7 +95,6 @@ export default function RunsIndex({ loaderData, actionData }: Route.ComponentPro
               type="number"
               required
               defaultValue={String(bp?.horizonWeeks ?? 12)}
-              error={errors.horizonWeeks}
               hint="1 to 26 weeks."
             />
             <TextField
@@ -113,7 +103,6 @@ export default function RunsIndex({ loaderData, actionData }: Route.ComponentPro
               type="number"
               required
               defaultValue={String(Math.round((bp?.planningQuantile ?? quantile) * 100))}
-              error={errors.planningQuantile}
               hint="Hours needed = this percentile of each worker's forecast. Higher plans for slower learners."
             />
             <TextField
@@ -122,7 +111,6 @@ export default function RunsIndex({ loaderData, actionData }: Route.ComponentPro
               type="number"
               required
               defaultValue={String(Math.round((bp?.fairnessShare ?? 0.2) * 100))}
-              error={errors.fairnessShare}
               hint="Each department gets at least this share of its pool made ready, where capacity allows."
             />
           </div>
@@ -133,140 +121,66 @@ export default function RunsIndex({ loaderData, actionData }: Route.ComponentPro
               all your sites.
             </p>
             <div className="grid gap-4 md:grid-cols-2">
-              <div>
-                <label htmlFor="siteIds" className="field-label">
-                  Sites
-                </label>
-                <select
-                  id="siteIds"
-                  name="siteIds"
-                  multiple
-                  defaultValue={(bp?.pool.siteIds ?? []).map(String)}
-                  className="field-input"
-                  aria-describedby={errors.siteIds ? "siteIds-error" : undefined}
-                  size={Math.min(4, choices.sites.length)}
-                >
-                  {choices.sites.map((s) => (
-                    <option key={s.id} value={s.id}>
-                      {s.name}
-                    </option>
-                  ))}
-                </select>
-                {errors.siteIds && (
-                  <p id="siteIds-error" className="field-error">
-                    {errors.siteIds}
-                  </p>
-                )}
-              </div>
-              <div>
-                <label htmlFor="departmentIds" className="field-label">
-                  Departments
-                </label>
-                <select
-                  id="departmentIds"
-                  name="departmentIds"
-                  multiple
-                  defaultValue={(bp?.pool.departmentIds ?? []).map(String)}
-                  className="field-input"
-                  size={5}
-                >
-                  {choices.departments.map((d) => (
-                    <option key={d.id} value={d.id}>
-                      {d.name}
-                    </option>
-                  ))}
-                </select>
-              </div>
+              <SelectField
+                name="siteIds"
+                label="Sites"
+                multiple
+                defaultValue={(bp?.pool.siteIds ?? []).map(String)}
+                size={Math.min(4, choices.sites.length)}
+                options={choices.sites.map((s) => ({ value: String(s.id), label: s.name }))}
+              />
+              <SelectField
+                name="departmentIds"
+                label="Departments"
+                multiple
+                defaultValue={(bp?.pool.departmentIds ?? []).map(String)}
+                size={5}
+                options={choices.departments.map((d) => ({ value: String(d.id), label: d.name }))}
+              />
             </div>
-            <label className="flex min-h-11 items-center gap-2">
-              <input
-                type="checkbox"
-                name="includeProficientElsewhere"
-                defaultChecked={bp?.pool.includeProficientElsewhere ?? false}
-                className="h-5 w-5"
-              />{" "}
-              Include workers already proficient on another device type
-            </label>
+            <CheckboxField
+              name="includeProficientElsewhere"
+              label="Include workers already proficient on another device type"
+              defaultChecked={bp?.pool.includeProficientElsewhere ?? false}
+            />
           </fieldset>
           <fieldset className="grid gap-3 rounded-md border border-line p-3">
             <legend className="field-label px-1">What-if changes (optional)</legend>
             <div className="grid gap-4 md:grid-cols-3">
-              <div>
-                <label htmlFor="addUnitDeviceTypeId" className="field-label">
-                  Add units of device type
-                </label>
-                <select
-                  id="addUnitDeviceTypeId"
-                  name="addUnitDeviceTypeId"
-                  className="field-input"
-                  defaultValue={String(bp?.whatIf.addUnits[0]?.deviceTypeId ?? "")}
-                  aria-describedby={errors.addUnitDeviceTypeId ? "addUnitDeviceTypeId-error" : undefined}
-                >
-                  <option value="">No extra units</option>
-                  {choices.deviceTypes.map((d) => (
-                    <option key={d.id} value={d.id}>
-                      {d.name}
-                    </option>
-                  ))}
-                </select>
-                {errors.addUnitDeviceTypeId && (
-                  <p id="addUnitDeviceTypeId-error" className="field-error">
-                    {errors.addUnitDeviceTypeId}
-                  </p>
-                )}
-              </div>
-              <div>
-                <label htmlFor="addUnitSiteId" className="field-label">
-                  At site
-                </label>
-                <select
-                  id="addUnitSiteId"
-                  name="addUnitSiteId"
-                  className="field-input"
-                  defaultValue={String(bp?.whatIf.addUnits[0]?.siteId ?? "")}
-                  aria-describedby={errors.addUnitSiteId ? "addUnitSiteId-error" : undefined}
-                >
-                  <option value="">—</option>
-                  {choices.sites.map((s) => (
-                    <option key={s.id} value={s.id}>
-                      {s.name}
-                    </option>
-                  ))}
-                </select>
-                {errors.addUnitSiteId && (
-                  <p id="addUnitSiteId-error" className="field-error">
-                    {errors.addUnitSiteId}
-                  </p>
-                )}
-              </div>
+              <SelectField
+                name="addUnitDeviceTypeId"
+                label="Add units of device type"
+                defaultValue={String(bp?.whatIf.addUnits[0]?.deviceTypeId ?? "")}
+                options={[
+                  { value: "", label: "No extra units" },
+                  ...choices.deviceTypes.map((d) => ({ value: String(d.id), label: d.name })),
+                ]}
+              />
+              <SelectField
+                name="addUnitSiteId"
+                label="At site"
+                defaultValue={String(bp?.whatIf.addUnits[0]?.siteId ?? "")}
+                options={[
+                  { value: "", label: "—" },
+                  ...choices.sites.map((s) => ({ value: String(s.id), label: s.name })),
+                ]}
+              />
               <TextField
                 name="addUnitCount"
                 label="How many units"
                 type="number"
                 defaultValue={String(bp?.whatIf.addUnits[0]?.count ?? 1)}
-                error={errors.addUnitCount}
                 hint="30 bookable hours a week each."
               />
             </div>
-            <div>
-              <label htmlFor="removeTrainerIds" className="field-label">
-                Leave out trainers
-              </label>
-              <select
-                id="removeTrainerIds"
-                name="removeTrainerIds"
-                multiple
-                className="field-input"
-                size={4}
-                defaultValue={(bp?.whatIf.removeTrainerIds ?? []).map(String)}
-              >
-                {choices.trainers.map((t) => (
-                  <option key={t.id} value={t.id}>
-                    {t.name}
-                  </option>
-                ))}
-              </select>
-            </div>
+            <SelectField
+              name="removeTrainerIds"
+              label="Leave out trainers"
+              multiple
+              size={4}
+              defaultValue={(bp?.whatIf.removeTrainerIds ?? []).map(String)}
+              options={choices.trainers.map((t) => ({ value: String(t.id), label: t.name }))}
+            />
             <p className="text-sm text-ink-soft">
               A run that adds units is a what-if only: it cannot be published until the units exist. To change the
               horizon, change the field above.
@@ -277,7 +191,7 @@ export default function RunsIndex({ loaderData, actionData }: Route.ComponentPro
               {nav.state === "submitting" ? "Starting…" : "Start the run"}
             </button>
           </div>
-        </Form>
+        </ActionForm>
       </section>
 
       <section aria-labelledby="runs" className="grid gap-2">

@@ -140,7 +140,8 @@ export const runFormSchema = z
       };
       for (const issue of out.error.issues) {
         const key = issue.path.slice(0, 2).join(".");
-        ctx.addIssue({ code: "custom", path: [flat[key] ?? String(issue.path[0] ?? "_form")], message: issue.message });
+        const path = issue.path.length ? [flat[key] ?? String(issue.path[0])] : [];
+        ctx.addIssue({ code: "custom", path, message: issue.message });
       }
       return z.NEVER;
     }

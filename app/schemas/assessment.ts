@@ -100,30 +100,47 @@ export const sessionSchema = z.object({
   notes: z.string().trim().max(4000).optional(),
 });
 
-/** Manual entry: fields named `m.<measureId>`; blank fields are skipped. */
-export function manualValuesFromForm(
-  form: Record<string, unknown>,
-  measures: { id: number; name: string }[],
-): { ok: true; values: { measureId: number; value: number }[] } | { ok: false; errors: Record<string, string> } {
-  const errors: Record<string, string> = {};
-  const values: { measureId: number; value: number }[] = [];
-  for (const m of measures) {
-    const raw = String(form[`m.${m.id}`] ?? "").trim();
-    if (raw === "") continue;
-    if (!/^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/.test(raw)) {
-      errors[`m.${m.id}`] = `${m.name}: "${raw}" is not a number${/,/.test(raw) ? " (use a decimal point)" : ""}.`;
-      continue;
-    }
-    const value = Number(raw);
-    if (!(Math.abs(value) <= MAX_ABS_VALUE)) {
-      errors[`m.${m.id}`] = `${m.name}: the score is outside the accepted range (±1e12).`;
-      continue;
-    }
-    values.push({ measureId: m.id, value });
-  }
-  if (Object.keys(errors).length) return { ok: false, errors };
-  if (values.length === 0) return { ok: false, errors: { _form: "Enter at least one score." } };
-  return { ok: true, values };
+const SCORE_TEXT = /^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/;
+
+/** One typed score of the measure `name`: blank is skipped (undefined); a decimal comma is refused. */
+const scoreText = (name: string) =>
+  z
+    .string()
+    .trim()
+    .optional()
+    .transform((raw, ctx) => {
+      if (!raw) return undefined;
+      if (!SCORE_TEXT.test(raw)) {
+        ctx.addIssue({
+          code: "custom",
+          message: `${name}: "${raw}" is not a number${/,/.test(raw) ? " (use a decimal point)" : ""}.`,
+        });
+        return z.NEVER;
+      }
+      const value = Number(raw);
+      if (!(Math.abs(value) <= MAX_ABS_VALUE)) {
+        ctx.addIssue({ code: "custom", message: `${name}: the score is outside the accepted range (±1e12).` });
+        return z.NEVER;
+      }
+      return value;
+    });
+
+/** Manual entry of the active manual `measures`: fields named `m.<measureId>`; blank fields are skipped. */
+export function manualScoresSchema(measures: { id: number; name: string }[]) {
+  return z
+    .object({
+      intent: z.literal("manual"),
+      m: z.object(Object.fromEntries(measures.map((m) => [String(m.id), scoreText(m.name)]))).default({}),
+    })
+    .superRefine((v, ctx) => {
+      if (!Object.values(v.m).some((x) => x !== undefined))
+        ctx.addIssue({ code: "custom", path: [], message: "Enter at least one score." });
+    });
+}
+
+/** The typed scores of a parsed manual entry, by measure id. */
+export function manualValues(m: Record<string, number | undefined>): { measureId: number; value: number }[] {
+  return Object.entries(m).flatMap(([id, value]) => (value === undefined ? [] : [{ measureId: Number(id), value }]));
 }
 
 export const traceUploadSchema = z.object({
@@ -203,5 +220,20 @@ export function normsPageSchema(measures: { id: number; name: string }[]) {
         },
         { when: () => true },
       ),
+  );
+}
+
+/** The forms of an assessment session's page: manual scores, a trace upload, re-scoring. */
+export function sessionPageSchema(manualMeasures: { id: number; name: string }[]) {
+  return intents(
+    manualScoresSchema(manualMeasures),
+    traceUploadSchema.safeExtend({ intent: z.literal("upload") }),
+    z.object({
+      intent: z.literal("rescore"),
+      normSetId: z.preprocess(
+        (v) => (v === "" || v == null ? undefined : v),
+        z.coerce.number({ message: "Norm set: choose one from the list." }).int().positive().optional(),
+      ),
+    }),
   );
 }

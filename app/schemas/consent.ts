@@ -1,5 +1,7 @@
 import { z } from "zod";
 import { CONSENT_PURPOSES, type ConsentPurpose } from "~/domain/consent-purposes";
+import { sessionSchema } from "~/schemas/assessment";
+import { intents } from "~/schemas/form";
 
 export const PURPOSE_LABELS: Record<ConsentPurpose, string> = {
   assessment: "Assessment: baseline may be recorded",
@@ -30,3 +32,10 @@ export const withdrawConsentSchema = z.object({
     .string()
     .refine((s) => s.trim().toUpperCase() === "WITHDRAW", "Type WITHDRAW to confirm; the data are erased at once."),
 });
+
+/** The forms of a worker's record (assessor): record consent, withdraw one purpose, start a session. */
+export const workerRecordSchema = intents(
+  recordConsentSchema.safeExtend({ intent: z.literal("consent") }),
+  withdrawConsentSchema.safeExtend({ intent: z.literal("withdraw") }),
+  sessionSchema.safeExtend({ intent: z.literal("session") }),
+);

@@ -45,6 +45,6 @@ export function parseWith<S extends z.ZodType>(
  */
 export function intents<const O extends readonly [z.ZodObject, ...z.ZodObject[]]>(...options: O) {
   return z.discriminatedUnion("intent", options as unknown as [z.ZodObject, ...z.ZodObject[]], {
-    error: "This form's action is not known; reload the page and try again.",
+    error: "Intent: this form's action is not known; reload the page and try again.",
   }) as unknown as z.ZodDiscriminatedUnion<O>;
 }

@@ -21,6 +21,8 @@ export type RosterMapping = Record<RosterField, number | null>;
 
 export const MAX_ROSTER_ROWS = 50_000;
 export const MAX_ROSTER_BYTES = 20 * 1024 * 1024;
+/** The upload form's file field; the reader's refusals name it. */
+export const ROSTER_FILE_FIELD = "roster";
 
 const HEADER_GUESSES: Record<RosterField, RegExp> = {
   employeeNumber: /^(employee|emp|staff|payroll|personnel)[ _.-]*(no|nr|num|number|id|#)?$|^employee_?number$|^id$/i,

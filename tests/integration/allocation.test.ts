@@ -192,13 +192,16 @@ function changedIds(before: Map<number, string>, after: Map<number, string>): nu
 describe("allocation runs", () => {
   it("refuse bad parameters with a message naming the field", async () => {
     const { client } = await signIn(PERSONA.coordinator);
+    const runsBefore = await k()("allocation_runs").count({ n: "*" }).first();
     const res = await client.postForm("/coordinate/runs", {
       startDate: "2026-12-08",
       horizonWeeks: "0",
       planningQuantile: "40",
       fairnessShare: "120",
     });
-    expect(res.status).toBe(200);
+    // Every form action answers bad input with 400 and the page, messages at the fields; no run is created.
+    expect(res.status).toBe(400);
+    expect(await k()("allocation_runs").count({ n: "*" }).first()).toEqual(runsBefore);
     const html = await res.text();
     expect(html).toContain("The start date must be a Monday.");
     expect(html).toContain("Horizon is at least 1 week.");

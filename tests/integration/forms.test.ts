@@ -39,7 +39,7 @@ describe("admin sites: one schema per intent, the model's clash on the field", (
 
     const unknown = await client.postForm("/admin/sites", { intent: "demolish", code: "QQ", name: "Nope" });
     expect(unknown.status).toBe(400);
-    expect(await unknown.text()).toContain("This form&#x27;s action is not known");
+    expect(await unknown.text()).toContain("Intent: this form&#x27;s action is not known");
     expect(await count("sites")).toBe(before);
 
     const ok = await client.postForm("/admin/sites", { intent: "site", code: "fm-1", name: "Forms test site" });
