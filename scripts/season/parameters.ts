@@ -14,10 +14,11 @@ export const SEASON = {
     [0, 80],
     [3, 40],
   ] as const,
-  /** each weekly run plans this many weeks ahead; the next week's run replaces the overlap */
-  horizonWeeks: 2,
+  /** each weekly run plans this many weeks ahead (the next Monday's run plans on from there) */
+  horizonWeeks: 1,
   planningQuantilePercent: 80,
-  fairnessSharePercent: 20,
+  /** a share above 0 can make a week's run infeasible; the coordinator then starts it again at 0 */
+  fairnessSharePercent: 0,
   /** the week a second model version is fitted (first assessor) and approved (second assessor) */
   modelWeek: 1,
   modelDevice: "EXO-BACK",

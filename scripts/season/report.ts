@@ -44,11 +44,16 @@ export async function seasonChecks(k: SeasonDb, outboxDir: string, log: SeasonLo
   const stopped = new Set(
     await k("device_courses").whereIn("worker_id", ids).where({ status: "stopped" }).pluck("worker_id"),
   );
+  // With a plan: sessions in the plan in force (the last week's published run) or scheduled after the season.
   const planned = new Set(
     await k("training_sessions")
       .whereIn("worker_id", ids)
-      .where({ status: "scheduled" })
-      .where("scheduled_start", ">=", afterSeason())
+      .whereNot("status", "cancelled")
+      .where((q) =>
+        q
+          .where("allocation_run_id", log.runs[log.runs.length - 1] ?? -1)
+          .orWhere((x) => x.where({ status: "scheduled" }).where("scheduled_start", ">=", afterSeason())),
+      )
       .distinct()
       .pluck("worker_id"),
   );

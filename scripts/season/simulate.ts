@@ -350,7 +350,7 @@ export async function runSeason(stack: SeasonStack, say: (s: string) => void = (
       // cannot be met the run page says so and advises a lower share: the coordinator starts again without it.
       let runPath = "";
       let version: string | null = null;
-      for (const fairness of [SEASON.fairnessSharePercent, 0]) {
+      for (const fairness of new Set([SEASON.fairnessSharePercent, 0])) {
         runPath = await startAndWait(coordinator, {
           label: `Season week ${week + 1}${fairness ? "" : " (no fairness share)"}`,
           startDate: monday,
@@ -386,15 +386,21 @@ export async function runSeason(stack: SeasonStack, say: (s: string) => void = (
       stack.setClock(`${addDays(monday, 5)}T08:00:00.000Z`);
       // The trainers work side by side; each session's draws come from its own seeded source, so the season is
       // the same whatever order the answers arrive in.
-      const severeTrainer = (SEASON.severeEventWeeks as readonly number[]).includes(week)
-        ? trainers[week % trainers.length]
-        : null;
-      await Promise.all(
+      const weekOf = await Promise.all(
         trainers.map(async (t) => {
-          let severeDue = t === severeTrainer;
           const dayPage = await t.person.page(`/train?day=${monday}`);
-          const ids = [...new Set([...dayPage.matchAll(/href="\/train\/sessions\/(\d+)"/g)].map((m) => Number(m[1])))];
-          for (const id of ids) {
+          return [...new Set([...dayPage.matchAll(/href="\/train\/sessions\/(\d+)"/g)].map((m) => Number(m[1])))];
+        }),
+      );
+      // A severe event week: it happens to the first trainer (taking turns week by week) who has sessions.
+      const turn = (i: number) => (i + week) % trainers.length;
+      const severeTrainer = (SEASON.severeEventWeeks as readonly number[]).includes(week)
+        ? trainers.map((_, i) => turn(i)).find((i) => weekOf[i].length > 0)
+        : undefined;
+      await Promise.all(
+        trainers.map(async (t, ti) => {
+          let severeDue = ti === severeTrainer;
+          for (const id of weekOf[ti]) {
             const html = await t.person.page(`/train/sessions/${id}`);
             const start = inputValue(html, "start");
             const end = inputValue(html, "end");
