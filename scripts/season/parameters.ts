@@ -14,8 +14,12 @@ export const SEASON = {
     [0, 80],
     [3, 40],
   ] as const,
-  /** each weekly run plans this many weeks ahead (the next Monday's run plans on from there) */
-  horizonWeeks: 1,
+  /**
+   * each weekly run plans this many weeks ahead and the next Monday's run replaces the overlap. A run starts
+   * only the people it can make ready inside its horizon (and carries those already training): at 1 week
+   * nobody new would ever start.
+   */
+  horizonWeeks: 2,
   planningQuantilePercent: 80,
   /** a share above 0 can make a week's run infeasible; the coordinator then starts it again at 0 */
   fairnessSharePercent: 0,

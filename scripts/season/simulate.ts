@@ -352,7 +352,7 @@ export async function runSeason(stack: SeasonStack, say: (s: string) => void = (
       let version: string | null = null;
       for (const fairness of new Set([SEASON.fairnessSharePercent, 0])) {
         runPath = await startAndWait(coordinator, {
-          label: `Season week ${week + 1}${fairness ? "" : " (no fairness share)"}`,
+          label: `Season week ${week + 1}${fairness === SEASON.fairnessSharePercent ? "" : " (no fairness share)"}`,
           startDate: monday,
           horizonWeeks: String(SEASON.horizonWeeks),
           siteIds: sites.map((s) => String(s.id)),
