@@ -5,6 +5,7 @@ import type { TraceKind } from "~/compute/trace-parsing";
 import type { ConsentPurpose } from "~/domain/consent-purposes";
 import type { AuditEvent } from "~/domain/privilege-events";
 import type { Stage } from "~/domain/stages";
+import type { NoShowReason } from "~/schemas/session-log";
 
 // The tables as Knex's type inference sees them, so `db()("workers").where(…).first("id", "stage")` is typed
 // without casts. One entry per table, kept in step with migrations/ (a new column goes here in the same
@@ -274,7 +275,7 @@ declare module "knex/types/tables" {
         unit: string;
         higher_is_better: DbBoolean;
         entry: "manual" | "trace";
-        trace_kind: string | null;
+        trace_kind: TraceKind | null;
         description: string | null;
         active: DbBoolean;
         created_by: number | null;
@@ -519,6 +520,21 @@ declare module "knex/types/tables" {
       },
       "id"
     >;
+    session_mark_undos: Table<
+      {
+        id: number;
+        session_id: number;
+        worker_id: number;
+        trainer_id: number | null;
+        mark: "attended" | "no_show";
+        marked_at: string;
+        /** JSON: what the undo removed. */
+        removed: string;
+        undone_by: number | null;
+        undone_at: string;
+      },
+      "id"
+    >;
     security_events: Table<
       {
         id: number;
@@ -567,7 +583,13 @@ declare module "knex/types/tables" {
         sha256: string;
         size_bytes: number;
         row_count: number;
+        /** As recorded (declared or estimated from the timestamps). */
         sample_rate_hz: number | null;
+        /** The common processing before the measures (sway traces; null for other kinds and older uploads). */
+        resampled_rate_hz: number | null;
+        filter: string | null;
+        cutoff_hz: number | null;
+        duration_seconds: number | null;
         computed: string;
         uploaded_by: number | null;
         created_at: string;
@@ -629,8 +651,14 @@ declare module "knex/types/tables" {
         logged_by: number | null;
         logged_at: string | null;
         created_at: string;
+        /** When the trainer made the mark (log or no-show); the undo is allowed on that site-local day. */
+        marked_at: string | null;
+        no_show_reason: NoShowReason | null;
+        no_show_note: string | null;
+        /** JSON: the course and stage before the log, for an undo. */
+        undo_state: string | null;
       },
-      "id" | "status"
+      "id" | "status" | "marked_at" | "no_show_reason" | "no_show_note" | "undo_state"
     >;
     unit_maintenance_windows: Table<
       {

@@ -68,7 +68,6 @@ async function child(boardRuns: number, problemRuns: number): Promise<EngineResu
     startDate: PLAN_START,
     horizonWeeks: 12,
     pool: { siteIds: [] as number[], departmentIds: [] as number[], includeProficientElsewhere: false },
-    planningQuantile: 0.8,
     fairnessShare: 0.1,
     whatIf: { addUnits: [], removeTrainerIds: [] },
   };

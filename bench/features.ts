@@ -2,6 +2,7 @@
 // Run: npx tsx bench/features.ts — prints a table of median times against targets and exits.
 import { pathToFileURL } from "node:url";
 import { handDimensionality, swayMetrics, trackingError } from "../app/compute/features";
+import { processSwayTrace } from "../app/compute/features/sway-processing";
 import { mulberry32 } from "../app/compute/seeded-random";
 import { computeTrace, parseTrace } from "../app/compute/trace-parsing";
 import { type TimedResult, timeCases } from "./_timing";
@@ -69,6 +70,17 @@ export function main(): TimedResult[] {
   const cases = [
     { name: "handDimensionality 60,000 × 22", run: () => handDimensionality(glove), targetMs: 1000 },
     { name: "swayMetrics 60,000 samples", run: () => swayMetrics(sway.x, sway.y, 100), targetMs: 100 },
+    {
+      name: "processSwayTrace 60,000 samples at 1,000 Hz (filter + resample)",
+      run: () =>
+        processSwayTrace(
+          sway.x.map((_, i) => i / 1000),
+          sway.x,
+          sway.y,
+          1000,
+        ),
+      targetMs: 200,
+    },
     {
       name: "trackingError 60,000 samples, fs 100 (±100 lags)",
       run: () => trackingError(target, cursor, 100),

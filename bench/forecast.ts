@@ -4,6 +4,7 @@ import { pathToFileURL } from "node:url";
 import { fitCensoredForecast } from "../app/compute/censored-forecast";
 import { curveScore, fitSaturatingExponential } from "../app/compute/curve";
 import { combineRemainingHours, remainingFromBaseline } from "../app/compute/forecast-combine";
+import { progressUpdate } from "../app/compute/progress-update";
 import { fitLinearModel, leaveOneOut, plannedHours } from "../app/compute/regression";
 import { seededGaussian } from "../app/compute/seeded-random";
 import { fitLognormalAft } from "../app/compute/survival";
@@ -93,13 +94,31 @@ export function main(): TimedResult[] {
       targetMs: 50,
     },
     {
-      name: "remaining-hours combine (prior + curve), 1 trainee",
+      name: "remaining-hours combine (prior + 2,000 simulated courses), 1 trainee",
       run: () =>
         combineRemainingHours({
           prior: remainingFromBaseline({ logMean: Math.log(30), logSD: 0.4, df: 30 }, 22.5),
-          curve: { fit: curveFit, threshold: 0.85, hoursDone: 22.5 },
+          curve: {
+            fit: curveFit,
+            criterion: { scoreThreshold: 0.92, consecutiveSessions: 3 },
+            hoursDone: 22.5,
+            sessionHours: 0.75,
+            loggedScores: scores,
+          },
         }),
-      targetMs: 10,
+      targetMs: 50,
+    },
+    {
+      name: "progressUpdate (both curves, AICc, simulation), 30 sessions",
+      run: () =>
+        progressUpdate({
+          baseline: { logMean: Math.log(30), logScale: 0.4, df: 30 },
+          sessions: hours.map((h, i) => ({ cumulativeHours: h, score: scores[i] })),
+          hoursDone: 22.5,
+          threshold: 0.92,
+          consecutiveSessions: 3,
+        }),
+      targetMs: 100,
     },
   ];
   return timeCases(cases);

@@ -83,8 +83,8 @@ export const DEMO_MEASURES = [
     decimals: 3,
   },
   {
-    code: "tracking.lagSeconds",
-    name: "Foot tracking lag",
+    code: "tracking.lagMagnitudeSeconds",
+    name: "Foot tracking lag size",
     unit: "s",
     hib: false,
     entry: "trace",

@@ -10,7 +10,7 @@ import {
   XAxis,
   YAxis,
 } from "recharts";
-import { EXCLUSION_LABELS } from "~/schemas/forecast";
+import { EXCLUSION_LABELS, percentileLabel } from "~/schemas/forecast";
 import { ChartFrame } from "./chart-frame";
 import { CoefficientChart, type CoefficientDatum } from "./coefficient-chart";
 
@@ -24,14 +24,6 @@ export interface CalibrationDatum {
   lower: number;
   upper: number;
   completed?: boolean;
-}
-
-/** "80th percentile": the one way the planning quantile is written on screen. */
-export function percentileLabel(q: number): string {
-  const n = Math.round(q * 100);
-  const suffix =
-    n % 10 === 1 && n !== 11 ? "st" : n % 10 === 2 && n !== 12 ? "nd" : n % 10 === 3 && n !== 13 ? "rd" : "th";
-  return `${n}${suffix} percentile`;
 }
 
 const pct = (v: number | null | undefined) => (v == null ? "—" : `${Math.round(v * 100)} %`);

@@ -1,5 +1,5 @@
 import type { DriftStats } from "~/models/model-versions.server";
-import { percentileLabel } from "./calibration-chart";
+import { percentileLabel } from "~/schemas/forecast";
 
 // How an approved version's planning figure holds up on the courses planned with it: counted as soon as a
 // course's hours pass its figure, estimated with Kaplan–Meier, judged by a one-sided exact binomial test.

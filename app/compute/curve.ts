@@ -1,15 +1,19 @@
-// Progress curve (docs/methods.md): task score against cumulative practice hours,
-// score = asymptote − (asymptote − start) · exp(−rate · hours),
-// fitted by Levenberg–Marquardt. With fixStart = 0 this is y = a(1 − e^(−c·x)), NIST StRD "Misra1a".
+// Progress curves (docs/methods.md): task score against cumulative practice hours.
+// Exponential: score = asymptote − (asymptote − start) · exp(−rate · hours).
+// Power law:   score = asymptote − (asymptote − start) · (1 + hours)^(−rate)  (one hour of prior practice).
+// Both are fitted by Levenberg–Marquardt (nonlinear-least-squares.ts) and the one with the lower AICc is
+// used (Heathcote, Brown & Mewhort 2000; Burnham & Anderson 2002). With fixStart = 0 the exponential is
+// y = a(1 − e^(−c·x)), NIST StRD "Misra1a"; the power function y = b1·x^b2 underneath is NIST StRD "DanWood".
 //
-// The solver is our own small LM on ml-matrix: each step solves the damped problem
-// min ‖r − Jδ‖² + μ‖Dδ‖² as an augmented least-squares problem by QR (never JᵀJ directly), with Moré's
-// column scaling D (so a ≈ 10² and c ≈ 10⁻⁴ are treated alike) and Nielsen's damping update.
-// Starting values come from the curve's separable structure: for a fixed rate the model is linear in
-// asymptote and start, so a coarse log-spaced scan over the rate with a linear fit at each point gives
-// a start near the global minimum (variable projection, Golub & Pereyra 1973).
+// Starting values come from the curves' separable structure: for a fixed rate (exponent) the model is linear
+// in asymptote and start, so a coarse scan over the rate with a linear fit at each point gives a start near
+// the global minimum (variable projection, Golub & Pereyra 1973).
 
 import { Matrix, QrDecomposition } from "ml-matrix";
+import { aicc, akaikeWeights, leastSquaresAic } from "./model-selection";
+import { levenbergMarquardt } from "./nonlinear-least-squares";
+
+export type CurveKind = "exponential" | "power";
 
 export interface SaturatingExponentialOptions {
   fixStart?: number;
@@ -17,7 +21,9 @@ export interface SaturatingExponentialOptions {
   maxIterations?: number; // default 500
 }
 
-export interface SaturatingExponentialFit {
+/** A fitted progress curve of either kind. */
+export interface CurveFit {
+  kind: CurveKind;
   asymptote: number;
   start: number;
   rate: number;
@@ -37,9 +43,16 @@ export interface SaturatingExponentialFit {
   covariance: number[][];
 }
 
+export type SaturatingExponentialFit = CurveFit & { kind: "exponential" };
+export type PowerLawFit = CurveFit & { kind: "power" };
+
+/** Curve parameters; `kind` absent means exponential (forecasts stored before the power law existed). */
+export type CurveParameters = { kind?: CurveKind; asymptote: number; start: number; rate: number };
+
 /** The curve's value at `hours` cumulative practice. */
-export function curveScore(fit: { asymptote: number; start: number; rate: number }, hours: number): number {
-  return fit.asymptote - (fit.asymptote - fit.start) * Math.exp(-fit.rate * hours);
+export function curveScore(fit: CurveParameters, hours: number): number {
+  const decay = fit.kind === "power" ? (1 + hours) ** -fit.rate : Math.exp(-fit.rate * hours);
+  return fit.asymptote - (fit.asymptote - fit.start) * decay;
 }
 
 interface Model {
@@ -71,12 +84,6 @@ function buildModel(x: number[], y: number[], fixedStart: number | undefined): M
       }
     },
   };
-}
-
-function sumSquares(v: ArrayLike<number>): number {
-  let s = 0;
-  for (let i = 0; i < v.length; i++) s += v[i] * v[i];
-  return s;
 }
 
 /** Linear least squares for (asymptote, start) at a fixed rate; returns RSS and the estimates. */
@@ -151,173 +158,52 @@ export function fitSaturatingExponential(
   },
 ): SaturatingExponentialFit {
   const n = x.length;
-  if (y.length !== n) throw new Error(`x has ${n} values but y has ${y.length}`);
-  for (let i = 0; i < n; i++) {
-    if (!Number.isFinite(x[i]) || !Number.isFinite(y[i])) throw new Error(`session ${i} has a non-finite value`);
-  }
+  checkSeries(x, y);
   const fixedStart = options?.fixStart;
   const free = fixedStart === undefined;
   const p = free ? 3 : 2;
-  if (n < p) throw new Error(`need at least ${p} sessions to fit ${p} curve parameters, got ${n}`);
-  const maxIterations = options?.maxIterations ?? 500;
+  if (n < p) throw new RangeError(`need at least ${p} sessions to fit ${p} curve parameters, got ${n}`);
 
   const init = options?.initial ?? automaticStart(x, y, fixedStart);
   const startGuess = init.start ?? (free ? automaticStart(x, y).start : (fixedStart as number));
-  let theta = free ? [init.asymptote, startGuess, init.rate] : [init.asymptote, init.rate];
-
+  const theta0 = free ? [init.asymptote, startGuess, init.rate] : [init.asymptote, init.rate];
   const model = buildModel(x, y, fixedStart);
-  const r = new Float64Array(n);
-  const rTrial = new Float64Array(n);
-  const J = new Matrix(n, p);
-  model.residuals(theta, r);
-  let rss = sumSquares(r);
-  let mu = 1e-3;
-  let nu = 2;
-  const D = new Array<number>(p).fill(0);
-  let converged = false;
-  let iterations = 0;
-  let needJacobian = true;
-  const g = new Array<number>(p).fill(0);
-  const colNorm = new Array<number>(p).fill(0);
-
-  while (iterations < maxIterations) {
-    iterations++;
-    if (needJacobian) {
-      model.jacobian(theta, J);
-      for (let j = 0; j < p; j++) {
-        let norm = 0;
-        let gj = 0;
-        for (let i = 0; i < n; i++) {
-          norm += J.get(i, j) ** 2;
-          gj += J.get(i, j) * r[i];
-        }
-        colNorm[j] = Math.sqrt(norm);
-        g[j] = gj;
-        D[j] = Math.max(D[j], colNorm[j]); // Moré (1978): scaling never shrinks
-      }
-      needJacobian = false;
-      // Gradient test: cosine between the residual and each Jacobian column (MINPACK's gtol).
-      const rNorm = Math.sqrt(rss);
-      let cosine = 0;
-      for (let j = 0; j < p; j++) {
-        if (colNorm[j] > 0 && rNorm > 0) cosine = Math.max(cosine, Math.abs(g[j]) / (colNorm[j] * rNorm));
-      }
-      if (rss === 0 || cosine <= 1e-13) {
-        converged = true;
-        break;
-      }
-    }
-    // Damped step: least squares on [J; √μ·D] against [r; 0].
-    const A = new Matrix(n + p, p);
-    const b = new Matrix(n + p, 1);
-    for (let i = 0; i < n; i++) {
-      for (let j = 0; j < p; j++) A.set(i, j, J.get(i, j));
-      b.set(i, 0, r[i]);
-    }
-    const rootMu = Math.sqrt(mu);
-    for (let j = 0; j < p; j++) A.set(n + j, j, rootMu * (D[j] > 0 ? D[j] : 1));
-    const qr = new QrDecomposition(A);
-    if (!qr.isFullRank()) {
-      mu *= nu;
-      nu *= 2;
-      continue;
-    }
-    const step = qr.solve(b).to1DArray();
-    const trial = theta.map((t, j) => t + step[j]);
-    model.residuals(trial, rTrial);
-    const rssTrial = sumSquares(rTrial);
-    // Predicted reduction of the linearised model, ‖r‖² − ‖r − Jδ‖².
-    let linearised = 0;
-    for (let i = 0; i < n; i++) {
-      let jd = 0;
-      for (let j = 0; j < p; j++) jd += J.get(i, j) * step[j];
-      linearised += (r[i] - jd) ** 2;
-    }
-    const predicted = rss - linearised;
-    const actual = rss - rssTrial;
-    let relativeStep = 0;
-    for (let j = 0; j < p; j++) {
-      relativeStep = Math.max(relativeStep, Math.abs(step[j]) / (Math.abs(theta[j]) + 1e-300));
-    }
-    if (Number.isFinite(rssTrial) && actual > 0 && predicted > 0) {
-      const rho = actual / predicted;
-      theta = trial;
-      r.set(rTrial);
-      rss = rssTrial;
-      mu *= Math.max(1 / 3, 1 - (2 * rho - 1) ** 3); // Nielsen (1999)
-      nu = 2;
-      needJacobian = true;
-      if (relativeStep <= 1e-14 || actual <= 1e-15 * rss) {
-        converged = true;
-        break;
-      }
-    } else {
-      // A step that no longer changes anything means we are at the minimum to working precision.
-      if (relativeStep <= 1e-15) {
-        converged = true;
-        break;
-      }
-      mu *= nu;
-      nu *= 2;
-      if (!Number.isFinite(mu) || mu > 1e300) break;
-    }
-  }
-
-  // Standard errors from the Jacobian at the solution: √(diag((JᵀJ)⁻¹) · RSS/(n − p)), via QR of J.
-  model.jacobian(theta, J);
-  const dfResidual = n - p;
-  const sigma2 = dfResidual > 0 ? rss / dfResidual : NaN;
-  const covariance = unscaledCovariance(J).map((row) => row.map((v) => v * sigma2));
-  const se = covariance.map((row, j) => Math.sqrt(row[j]));
-  const { a, s, c } = model.unpack(theta);
-
+  const solution = levenbergMarquardt(
+    { n, p, residuals: model.residuals, jacobian: model.jacobian },
+    theta0,
+    options?.maxIterations ?? 500,
+  );
+  const { a, s, c } = model.unpack(solution.theta);
+  const se = solution.covariance.map((row, j) => Math.sqrt(row[j]));
   return {
+    kind: "exponential",
     asymptote: a,
     start: s,
     rate: c,
     standardErrors: free ? { asymptote: se[0], start: se[1], rate: se[2] } : { asymptote: se[0], rate: se[1] },
-    residualSS: rss,
-    converged,
-    iterations,
+    residualSS: solution.residualSS,
+    converged: solution.converged,
+    iterations: solution.iterations,
     n,
-    dfResidual,
-    residualSD: Math.sqrt(sigma2),
+    dfResidual: solution.dfResidual,
+    residualSD: Math.sqrt(solution.dfResidual > 0 ? solution.residualSS / solution.dfResidual : NaN),
     startFixed: !free,
     parameterNames: free ? ["asymptote", "start", "rate"] : ["asymptote", "rate"],
-    covariance,
+    covariance: solution.covariance,
   };
 }
 
-/** (JᵀJ)⁻¹ = R⁻¹R⁻ᵀ from the QR of J; NaN-filled if J is rank deficient. */
-function unscaledCovariance(J: Matrix): number[][] {
-  const p = J.columns;
-  const nanMatrix = () => Array.from({ length: p }, () => new Array<number>(p).fill(NaN));
-  if (J.rows < p) return nanMatrix();
-  const qr = new QrDecomposition(J);
-  if (!qr.isFullRank()) return nanMatrix();
-  const R = qr.upperTriangularMatrix;
-  const Rinv: number[][] = Array.from({ length: p }, () => new Array<number>(p).fill(0));
-  for (let col = 0; col < p; col++) {
-    for (let i = col; i >= 0; i--) {
-      let sum = i === col ? 1 : 0;
-      for (let j = i + 1; j <= col; j++) sum -= R.get(i, j) * Rinv[j][col];
-      Rinv[i][col] = sum / R.get(i, i);
-    }
+function checkSeries(x: number[], y: number[]) {
+  if (y.length !== x.length) throw new RangeError(`x has ${x.length} values but y has ${y.length}`);
+  for (let i = 0; i < x.length; i++) {
+    if (!Number.isFinite(x[i]) || !Number.isFinite(y[i])) throw new RangeError(`session ${i} has a non-finite value`);
   }
-  return Array.from({ length: p }, (_, i) =>
-    Array.from({ length: p }, (_, j) => {
-      let sum = 0;
-      for (let k = 0; k < p; k++) sum += Rinv[i][k] * Rinv[j][k];
-      return sum;
-    }),
-  );
 }
-
-type CurveParameters = { asymptote: number; start: number; rate: number };
 
 /**
  * Cumulative hours at which the curve reaches `threshold`:
- * t = ln((asymptote − start) / (asymptote − threshold)) / rate.
+ * t = ln((asymptote − start) / (asymptote − threshold)) / rate (exponential),
+ * t = ((asymptote − start) / (asymptote − threshold))^(1/rate) − 1 (power law).
  * null when the curve never gets there (asymptote not above the threshold, or rate ≤ 0);
  * 0 when it already starts at or above the threshold.
  */
@@ -325,7 +211,8 @@ export function timeToReach(fit: CurveParameters, threshold: number): number | n
   const { asymptote, start, rate } = fit;
   if (!(rate > 0) || !(asymptote > threshold)) return null;
   if (start >= threshold) return 0;
-  return Math.log((asymptote - start) / (asymptote - threshold)) / rate;
+  const logRatio = Math.log((asymptote - start) / (asymptote - threshold));
+  return fit.kind === "power" ? Math.expm1(logRatio / rate) : logRatio / rate;
 }
 
 /**
@@ -357,8 +244,276 @@ export function timeToReachWithUncertainty(
  * asymptote + z·SE(asymptote) < threshold with z = 2 by default (about a one-sided 97.7 % bound under
  * normality). Such a trainee is flagged for review; the curve is never extrapolated past its plateau.
  */
-export function plateausBelowCriterion(fit: SaturatingExponentialFit, threshold: number, z = 2): boolean {
+export function plateausBelowCriterion(fit: CurveFit, threshold: number, z = 2): boolean {
   const se = fit.standardErrors.asymptote;
   if (!Number.isFinite(se)) return fit.asymptote < threshold;
   return fit.asymptote + z * se < threshold;
+}
+
+// ---------------------------------------------------------------------------------------------------------
+// Power law
+
+export interface PowerFunctionFit {
+  /** y = level + scale · (x + offset)^exponent */
+  level: number;
+  scale: number;
+  exponent: number;
+  offset: number;
+  levelFixed: boolean;
+  /** Names in the order of `covariance`: ["level", "scale", "exponent"] or ["scale", "exponent"]. */
+  parameterNames: string[];
+  standardErrors: { level?: number; scale: number; exponent: number };
+  covariance: number[][];
+  residualSS: number;
+  residualSD: number;
+  dfResidual: number;
+  converged: boolean;
+  iterations: number;
+  n: number;
+}
+
+/**
+ * Least-squares fit of the power function y = level + scale · (x + offset)^exponent by Levenberg–Marquardt.
+ * `fixLevel` holds the level (with fixLevel 0 and offset 0 this is y = b1·x^b2, NIST StRD "DanWood").
+ * Every x + offset must be positive.
+ */
+export function fitPowerFunction(
+  x: number[],
+  y: number[],
+  options?: {
+    offset?: number; // default 0
+    fixLevel?: number;
+    initial?: { level?: number; scale: number; exponent: number };
+    maxIterations?: number;
+  },
+): PowerFunctionFit {
+  const n = x.length;
+  checkSeries(x, y);
+  const offset = options?.offset ?? 0;
+  const fixedLevel = options?.fixLevel;
+  const free = fixedLevel === undefined;
+  const p = free ? 3 : 2;
+  if (n < p) throw new RangeError(`need at least ${p} points to fit ${p} power-law parameters, got ${n}`);
+  const logBase = x.map((xi, i) => {
+    const base = xi + offset;
+    if (!(base > 0))
+      throw new RangeError(`x + offset must be positive for a power law: point ${i} has x = ${xi}, offset ${offset}`);
+    return Math.log(base);
+  });
+  const unpack = (t: number[]) =>
+    free ? { level: t[0], scale: t[1], exponent: t[2] } : { level: fixedLevel as number, scale: t[0], exponent: t[1] };
+  const init = options?.initial ?? powerStart(logBase, y, fixedLevel);
+  const theta0 = free
+    ? [init.level ?? powerStart(logBase, y).level, init.scale, init.exponent]
+    : [init.scale, init.exponent];
+  const solution = levenbergMarquardt(
+    {
+      n,
+      p,
+      residuals(theta, out) {
+        const { level, scale, exponent } = unpack(theta);
+        for (let i = 0; i < n; i++) out[i] = y[i] - (level + scale * Math.exp(exponent * logBase[i]));
+      },
+      jacobian(theta, J) {
+        const { scale, exponent } = unpack(theta);
+        for (let i = 0; i < n; i++) {
+          const u = Math.exp(exponent * logBase[i]);
+          if (free) J.set(i, 0, 1);
+          J.set(i, free ? 1 : 0, u);
+          J.set(i, free ? 2 : 1, scale * u * logBase[i]);
+        }
+      },
+    },
+    theta0,
+    options?.maxIterations ?? 500,
+  );
+  const { level, scale, exponent } = unpack(solution.theta);
+  const se = solution.covariance.map((row, j) => Math.sqrt(row[j]));
+  return {
+    level,
+    scale,
+    exponent,
+    offset,
+    levelFixed: !free,
+    parameterNames: free ? ["level", "scale", "exponent"] : ["scale", "exponent"],
+    standardErrors: free ? { level: se[0], scale: se[1], exponent: se[2] } : { scale: se[0], exponent: se[1] },
+    covariance: solution.covariance,
+    residualSS: solution.residualSS,
+    residualSD: Math.sqrt(solution.dfResidual > 0 ? solution.residualSS / solution.dfResidual : NaN),
+    dfResidual: solution.dfResidual,
+    converged: solution.converged,
+    iterations: solution.iterations,
+    n,
+  };
+}
+
+/** Start values: scan exponents −10…10, linear least squares for (level, scale) at each, keep the best. */
+function powerStart(logBase: number[], y: number[], fixedLevel?: number) {
+  const n = y.length;
+  let best: { level: number; scale: number; exponent: number; rss: number } | null = null;
+  for (let k = 0; k <= 200; k++) {
+    const exponent = -10 + k * 0.1;
+    if (Math.abs(exponent) < 1e-9) continue; // u ≡ 1 is the level itself
+    const u = logBase.map((l) => Math.exp(exponent * l));
+    let level: number;
+    let scale: number;
+    if (fixedLevel !== undefined) {
+      let uu = 0;
+      let uy = 0;
+      for (let i = 0; i < n; i++) {
+        uu += u[i] * u[i];
+        uy += u[i] * (y[i] - fixedLevel);
+      }
+      if (!(uu > 0) || !Number.isFinite(uu)) continue;
+      level = fixedLevel;
+      scale = uy / uu;
+    } else {
+      const uMean = u.reduce((s, v) => s + v, 0) / n;
+      const yMean = y.reduce((s, v) => s + v, 0) / n;
+      let suu = 0;
+      let suy = 0;
+      for (let i = 0; i < n; i++) {
+        suu += (u[i] - uMean) ** 2;
+        suy += (u[i] - uMean) * (y[i] - yMean);
+      }
+      if (!(suu > 1e-300) || !Number.isFinite(suu)) continue;
+      scale = suy / suu;
+      level = yMean - scale * uMean;
+    }
+    let rss = 0;
+    for (let i = 0; i < n; i++) rss += (y[i] - level - scale * u[i]) ** 2;
+    if (Number.isFinite(rss) && (!best || rss < best.rss)) best = { level, scale, exponent, rss };
+  }
+  if (!best) {
+    const mean = y.reduce((s, v) => s + v, 0) / n;
+    return { level: fixedLevel ?? mean, scale: 0, exponent: -1 };
+  }
+  return best;
+}
+
+/**
+ * The power-law progress curve score = asymptote − (asymptote − start)·(1 + hours)^(−rate): the power function
+ * with offset 1, level = asymptote, scale = start − asymptote, exponent = −rate. The covariance is carried over
+ * through that linear map.
+ */
+export function fitPowerLaw(x: number[], y: number[], options?: { maxIterations?: number }): PowerLawFit {
+  for (let i = 0; i < x.length; i++) {
+    if (x[i] < 0) throw new RangeError(`session ${i} has negative cumulative hours (${x[i]})`);
+  }
+  const f = fitPowerFunction(x, y, { offset: 1, maxIterations: options?.maxIterations });
+  // (asymptote, start, rate) = T · (level, scale, exponent) with T = [[1,0,0],[1,1,0],[0,0,−1]].
+  const T = [
+    [1, 0, 0],
+    [1, 1, 0],
+    [0, 0, -1],
+  ];
+  const S = f.covariance;
+  const covariance = T.map((ti) =>
+    T.map((tj) => {
+      let sum = 0;
+      for (let a = 0; a < 3; a++) for (let b = 0; b < 3; b++) sum += ti[a] * S[a][b] * tj[b];
+      return sum;
+    }),
+  );
+  return {
+    kind: "power",
+    asymptote: f.level,
+    start: f.level + f.scale,
+    rate: -f.exponent,
+    standardErrors: {
+      asymptote: Math.sqrt(covariance[0][0]),
+      start: Math.sqrt(covariance[1][1]),
+      rate: Math.sqrt(covariance[2][2]),
+    },
+    residualSS: f.residualSS,
+    converged: f.converged,
+    iterations: f.iterations,
+    n: f.n,
+    dfResidual: f.dfResidual,
+    residualSD: f.residualSD,
+    startFixed: false,
+    parameterNames: ["asymptote", "start", "rate"],
+    covariance,
+  };
+}
+
+// ---------------------------------------------------------------------------------------------------------
+// Choosing the curve
+
+export interface CurveCandidate {
+  kind: CurveKind;
+  converged: boolean;
+  residualSS: number;
+  /** AICc; null when the fit failed or n is too small for it (n ≤ K + 1). */
+  aicc: number | null;
+  /** Akaike weight among the candidates with an AICc (null without one). */
+  weight: number | null;
+}
+
+export interface CurveChoice {
+  fit: CurveFit;
+  candidates: CurveCandidate[];
+  /** Why this curve: "lower AICc", or why there was no comparison. */
+  basis: string;
+}
+
+/**
+ * Fit the exponential and the power-law curve and keep the one with the lower AICc (least-squares form,
+ * K = curve parameters + 1 for the residual variance; Burnham & Anderson 2002, ch. 2). With too few
+ * sessions for AICc (n ≤ K + 1), or when only one fit converges, the exponential is kept unless it alone
+ * failed. Heathcote, Brown & Mewhort (2000) found the exponential fits individual learners better more
+ * often, so it is the default on a tie.
+ */
+export function chooseProgressCurve(x: number[], y: number[]): CurveChoice {
+  const exponential = fitSaturatingExponential(x, y);
+  let power: PowerLawFit | null = null;
+  try {
+    power = fitPowerLaw(x, y);
+  } catch {
+    power = null;
+  }
+  const scored = [exponential, power].map((f, i) => {
+    const kind: CurveKind = i === 0 ? "exponential" : "power";
+    if (!f) return { kind, converged: false, residualSS: NaN, aicc: null as number | null, fit: null };
+    const K = f.parameterNames.length + 1;
+    // A learning curve rises towards its asymptote: a fit with a non-positive rate is not one.
+    const usable = f.converged && Number.isFinite(f.residualSS) && f.rate > 0;
+    const value = usable && f.n > K + 1 ? aicc(leastSquaresAic(f.residualSS, f.n, K), f.n, K) : null;
+    return { kind, converged: f.converged, residualSS: f.residualSS, aicc: value, fit: f as CurveFit };
+  });
+  const withAicc = scored.filter((s) => s.aicc !== null);
+  const weights = withAicc.length ? akaikeWeights(withAicc.map((s) => s.aicc as number)) : [];
+  const candidates: CurveCandidate[] = scored.map((s) => {
+    const at = withAicc.indexOf(s);
+    return {
+      kind: s.kind,
+      converged: s.converged,
+      residualSS: s.residualSS,
+      aicc: s.aicc,
+      weight: at >= 0 ? weights[at] : null,
+    };
+  });
+  if (withAicc.length === 2) {
+    const [e, p] = withAicc;
+    return (p.aicc as number) < (e.aicc as number)
+      ? { fit: p.fit as CurveFit, candidates, basis: "lower AICc" }
+      : { fit: exponential, candidates, basis: "lower AICc" };
+  }
+  const isLearningCurve = (f: CurveFit | null) => Boolean(f?.converged && f.rate > 0);
+  const K = exponential.parameterNames.length + 1;
+  if (exponential.n <= K + 1) {
+    return {
+      fit: exponential,
+      candidates,
+      basis: `too few sessions to compare curves by AICc (needs more than ${K + 1})`,
+    };
+  }
+  if (!isLearningCurve(exponential) && power && isLearningCurve(power)) {
+    return { fit: power, candidates, basis: "the exponential fit did not converge to a rising curve" };
+  }
+  if (isLearningCurve(exponential)) {
+    return { fit: exponential, candidates, basis: "the power-law fit did not converge to a rising curve" };
+  }
+  // Neither is a learning curve: the exponential is returned marked as not converged, so it is not used.
+  return { fit: { ...exponential, converged: false }, candidates, basis: "neither curve converged to a rising curve" };
 }

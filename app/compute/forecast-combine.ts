@@ -2,15 +2,20 @@
 //
 // Two estimates of log(remaining hours) are combined:
 // • the prior — the baseline regression forecast, conditioned on the hours already trained;
-// • the evidence — the progress curve's time to reach the criterion, minus hours done, with its SD
-// from the delta method on the curve parameters.
+// • the evidence — the remaining hours until the proficiency rule (k consecutive sessions at or above the
+// criterion) is met, by seeded simulation of future sessions under the fitted progress curve, its
+// session-to-session noise and its parameter uncertainty (proficiency-simulation.ts), summarised on the
+// log scale.
 // Both are treated as normal on the log scale and combined by inverse-variance weighting, which is the
 // normal–normal posterior with known variances (Gelman et al., Bayesian Data Analysis, 3rd ed., §2.5):
-// mean = (m₁/v₁ + m₂/v₂)/(1/v₁ + 1/v₂), variance = 1/(1/v₁ + 1/v₂).
+// mean = (m₁/v₁ + m₂/v₂)/(1/v₁ + 1/v₂), variance = 1/(1/v₁ + 1/v₂). When the prior alone decides, its own
+// quantiles are used (Student t where the baseline forecast is t).
 // When the curve plateaus below the criterion the result is a review flag; the curve is never
 // extrapolated past its plateau and no combined number is produced.
 
-import { plateausBelowCriterion, type SaturatingExponentialFit, timeToReachWithUncertainty } from "./curve";
+import { type CurveFit, plateausBelowCriterion } from "./curve";
+import type { ProficiencyCriterion } from "./proficiency-rule";
+import { simulatedQuantile, simulateRemaining } from "./proficiency-simulation";
 import { normalCdf, normalQuantile, studentTCdf, studentTQuantile } from "./student-t";
 
 /** A forecast of hours as a distribution on the log scale. */
@@ -34,7 +39,7 @@ const ONE_SD_UPPER = 0.8413447460685429; // Φ(+1)
 export function remainingFromBaseline(
   total: { logMean: number; logSD: number; df?: number },
   hoursDone: number,
-): LogHoursEstimate & { medianHours: number; beyondForecast: boolean } {
+): PriorEstimate & { medianHours: number; beyondForecast: boolean } {
   if (!(total.logSD > 0)) throw new RangeError("baseline logSD must be > 0");
   if (!(hoursDone >= 0)) throw new RangeError("hoursDone must be ≥ 0");
   const df = total.df;
@@ -55,36 +60,66 @@ export function remainingFromBaseline(
     logSD: (Math.log(upperOneSD) - Math.log(lowerOneSD)) / 2,
     medianHours: median,
     beyondForecast: survivor < 0.01,
+    remainingAt,
   };
 }
 
+/** The prior, optionally with its exact quantile function (remaining hours at probability q). */
+export type PriorEstimate = LogHoursEstimate & { remainingAt?: (q: number) => number };
+
+export interface CurveSimulationSummary {
+  draws: number;
+  seed: number;
+  sessionHours: number;
+  /** Share of simulated courses that met the criterion within the horizon. */
+  reachedShare: number;
+  maxSessions: number;
+}
+
 export type CurveEvidence =
-  | { status: "estimate"; remainingHours: number; logMean: number; logSD: number; timeToReach: number }
+  | {
+      status: "estimate";
+      /** Median of the simulated remaining hours. */
+      remainingHours: number;
+      logMean: number;
+      logSD: number;
+      simulation: CurveSimulationSummary;
+    }
   | { status: "review"; reason: string }
   | { status: "uninformative"; reason: string };
 
 export interface CurveEvidenceOptions {
   /** Sessions needed before the curve counts as evidence; default parameters + 2. */
   minimumSessions?: number;
-  /** Floor on remaining hours when the fitted curve says the criterion is already due (default 0.5 h). */
-  minimumRemainingHours?: number;
   /** z for the plateau test asymptote + z·SE < threshold (default 2). */
   plateauZ?: number;
+  draws?: number; // default 2000
+  seed?: number;
+  maxSessions?: number; // default 300
+}
+
+export interface CurveEvidenceInput {
+  fit: CurveFit;
+  criterion: ProficiencyCriterion;
+  hoursDone: number;
+  /** Length of each future session (hours). */
+  sessionHours: number;
+  /** Task scores already logged, in order. */
+  loggedScores: number[];
+  options?: CurveEvidenceOptions;
 }
 
 /**
- * What the progress curve alone says about remaining hours. The SD on the log scale is the delta-method
- * SD of the time to reach divided by the remaining hours (d ln R = dt / R).
+ * What the progress curve alone says about remaining hours: the simulated distribution of the hours until
+ * the proficiency rule is met, summarised on the log scale as for the prior (median → logMean, half the log
+ * distance between the Φ(±1) quantiles → logSD). Remaining hours come in whole sessions, so logSD is at
+ * least half a session on the log scale, ln(1 + session/(2·median)).
  */
-export function curveRemainingHours(
-  fit: SaturatingExponentialFit,
-  threshold: number,
-  hoursDone: number,
-  options?: CurveEvidenceOptions,
-): CurveEvidence {
+export function curveRemainingHours(input: CurveEvidenceInput): CurveEvidence {
+  const { fit, criterion, options } = input;
+  const threshold = criterion.scoreThreshold;
   const parameters = fit.parameterNames.length;
   const minimumSessions = options?.minimumSessions ?? parameters + 2;
-  const floor = options?.minimumRemainingHours ?? 0.5;
   if (fit.n < minimumSessions) {
     return { status: "uninformative", reason: `only ${fit.n} sessions; the curve needs ${minimumSessions}` };
   }
@@ -95,20 +130,44 @@ export function curveRemainingHours(
       reason: `the curve levels off at ${fit.asymptote.toPrecision(3)} (SE ${fit.standardErrors.asymptote.toPrecision(2)}), below the criterion ${threshold}`,
     };
   }
-  const reach = timeToReachWithUncertainty(fit, threshold);
-  if (reach === null) {
-    return { status: "uninformative", reason: "the curve's plateau is not clearly above or below the criterion" };
+  let sim: ReturnType<typeof simulateRemaining>;
+  try {
+    sim = simulateRemaining({
+      fit,
+      criterion,
+      hoursDone: input.hoursDone,
+      sessionHours: input.sessionHours,
+      loggedScores: input.loggedScores,
+      draws: options?.draws,
+      seed: options?.seed,
+      maxSessions: options?.maxSessions,
+    });
+  } catch (e) {
+    if (e instanceof RangeError) return { status: "uninformative", reason: e.message };
+    throw e;
   }
-  if (!Number.isFinite(reach.sd) || !(reach.sd > 0)) {
-    return { status: "uninformative", reason: "the curve parameters have no usable uncertainty" };
+  const median = simulatedQuantile(sim, 0.5);
+  const lower = simulatedQuantile(sim, ONE_SD_LOWER);
+  const upper = simulatedQuantile(sim, ONE_SD_UPPER);
+  if (median === null || lower === null || upper === null) {
+    return {
+      status: "uninformative",
+      reason: `in ${Math.round((1 - sim.reachedShare) * 100)} % of ${sim.draws} simulated courses the criterion was not met within ${sim.maxSessions} sessions`,
+    };
   }
-  const remaining = Math.max(reach.hours - hoursDone, floor);
+  const floor = Math.log(1 + sim.sessionHours / (2 * median));
   return {
     status: "estimate",
-    remainingHours: remaining,
-    logMean: Math.log(remaining),
-    logSD: reach.sd / remaining,
-    timeToReach: reach.hours,
+    remainingHours: median,
+    logMean: Math.log(median),
+    logSD: Math.max((Math.log(upper) - Math.log(lower)) / 2, floor),
+    simulation: {
+      draws: sim.draws,
+      seed: sim.seed,
+      sessionHours: sim.sessionHours,
+      reachedShare: sim.reachedShare,
+      maxSessions: sim.maxSessions,
+    },
   };
 }
 
@@ -145,23 +204,23 @@ export interface RemainingHoursForecast {
 
 /**
  * Remaining-hours forecast for a trainee: baseline prior (already expressed as remaining hours, e.g. by
- * remainingFromBaseline) combined with the progress-curve evidence.
+ * remainingFromBaseline) combined with the progress-curve evidence. `curve: null` (no usable fit) leaves the
+ * prior alone, with `reason`.
  */
 export function combineRemainingHours(input: {
-  prior: LogHoursEstimate;
-  curve: { fit: SaturatingExponentialFit; threshold: number; hoursDone: number; options?: CurveEvidenceOptions };
+  prior: PriorEstimate;
+  curve: CurveEvidenceInput | null;
+  /** Why there is no curve (with `curve: null`). */
+  reason?: string;
   quantile?: number; // default 0.80, as for plans
   level?: number; // default 0.80
 }): RemainingHoursForecast {
   const quantile = input.quantile ?? 0.8;
   const level = input.level ?? 0.8;
   const { prior } = input;
-  const evidence = curveRemainingHours(
-    input.curve.fit,
-    input.curve.threshold,
-    input.curve.hoursDone,
-    input.curve.options,
-  );
+  const evidence: CurveEvidence = input.curve
+    ? curveRemainingHours(input.curve)
+    : { status: "uninformative", reason: input.reason ?? "no progress curve" };
 
   if (evidence.status === "review") {
     return {
@@ -178,12 +237,28 @@ export function combineRemainingHours(input: {
       reason: evidence.reason,
     };
   }
-  const combined =
-    evidence.status === "estimate" ? inverseVarianceCombine([prior, evidence]) : { ...prior, weights: [1, 0] };
+  if (evidence.status === "uninformative") {
+    // The prior alone: its own quantiles (t where the baseline is t), else the normal on the log scale.
+    const at = prior.remainingAt ?? ((q: number) => Math.exp(prior.logMean + normalQuantile(q) * prior.logSD));
+    return {
+      status: "prior-only",
+      remainingHours: at(0.5),
+      planningHours: at(quantile),
+      quantile,
+      interval: { lower: at((1 - level) / 2), upper: at((1 + level) / 2), level },
+      logMean: prior.logMean,
+      logSD: prior.logSD,
+      weights: { prior: 1, curve: 0 },
+      prior,
+      curve: evidence,
+      reason: evidence.reason,
+    };
+  }
+  const combined = inverseVarianceCombine([prior, evidence]);
   const zq = normalQuantile(quantile);
   const zl = normalQuantile((1 + level) / 2);
   return {
-    status: evidence.status === "estimate" ? "combined" : "prior-only",
+    status: "combined",
     remainingHours: Math.exp(combined.logMean),
     planningHours: Math.exp(combined.logMean + zq * combined.logSD),
     quantile,
@@ -197,6 +272,5 @@ export function combineRemainingHours(input: {
     weights: { prior: combined.weights[0], curve: combined.weights[1] },
     prior,
     curve: evidence,
-    ...(evidence.status === "uninformative" ? { reason: evidence.reason } : {}),
   };
 }

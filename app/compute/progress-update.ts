@@ -1,10 +1,19 @@
-// Progress update for one trainee (docs/methods.md): fit the saturating-exponential curve to
-// the logged sessions, turn the baseline forecast into remaining hours given the hours already done, and
-// combine the two by their uncertainties (forecast-combine.ts). A plateau below the criterion is a review
-// flag, never an extrapolated number. Pure: no database, no clock.
-import { curveScore, fitSaturatingExponential, type SaturatingExponentialFit } from "./curve";
-import { combineRemainingHours, remainingFromBaseline } from "./forecast-combine";
-import { normalQuantile } from "./student-t";
+// Progress update for one trainee (docs/methods.md): fit the exponential and the power-law progress curve
+// to the logged sessions and keep the one with the lower AICc, turn the baseline forecast into remaining
+// hours given the hours already done, simulate the remaining sessions until the proficiency rule is met
+// under the chosen curve, and combine the two by their uncertainties (forecast-combine.ts). A plateau below
+// the criterion is a review flag, never an extrapolated number. Pure: no database, no clock.
+import { median } from "simple-statistics";
+import {
+  type CurveCandidate,
+  type CurveFit,
+  type CurveKind,
+  type CurveParameters,
+  chooseProgressCurve,
+  curveScore,
+} from "./curve";
+import { type CurveSimulationSummary, combineRemainingHours, remainingFromBaseline } from "./forecast-combine";
+import type { ProficiencyCriterion } from "./proficiency-rule";
 
 export interface ProgressInput {
   /** Baseline forecast of TOTAL hours: log-hours ~ logMean + logScale·t(df). */
@@ -12,9 +21,15 @@ export interface ProgressInput {
   /** Logged sessions in order: cumulative practice hours after the session and its task score (0–1). */
   sessions: { cumulativeHours: number; score: number }[];
   hoursDone: number;
+  /** The criterion's score; with `consecutiveSessions` (default 1) the proficiency rule. */
   threshold: number;
+  consecutiveSessions?: number;
+  /** Length of each future session; default the median length of the logged sessions. */
+  sessionHours?: number;
   quantile?: number; // planning quantile, default 0.80
   level?: number; // interval level, default 0.80
+  /** Seed of the simulation (default fixed, so the same log gives the same forecast). */
+  seed?: number;
 }
 
 export interface ProgressUpdate {
@@ -27,23 +42,44 @@ export interface ProgressUpdate {
   curveWeight: number;
   reason: string | null;
   beyondForecast: boolean;
-  curve: Pick<SaturatingExponentialFit, "asymptote" | "start" | "rate" | "converged" | "n"> | null;
+  curve: (Pick<CurveFit, "asymptote" | "start" | "rate" | "converged" | "n"> & { kind: CurveKind }) | null;
+  /** Which curve was used and why, with each candidate's AICc and Akaike weight (null without a fit). */
+  curveChoice: { basis: string; candidates: CurveCandidate[] } | null;
+  /** The simulation behind the curve's evidence (null when the curve did not inform). */
+  simulation: CurveSimulationSummary | null;
   /** Predicted cumulative hours at which the criterion is met, with the interval (null under review). */
   crossing: { hours: number; lower: number; upper: number } | null;
+}
+
+/** Length of each logged session from the cumulative hours (the first from 0). */
+function sessionLengths(sessions: { cumulativeHours: number }[]): number[] {
+  return sessions.map((s, i) => s.cumulativeHours - (i === 0 ? 0 : sessions[i - 1].cumulativeHours));
 }
 
 export function progressUpdate(input: ProgressInput): ProgressUpdate {
   const quantile = input.quantile ?? 0.8;
   const level = input.level ?? 0.8;
+  const criterion: ProficiencyCriterion = {
+    scoreThreshold: input.threshold,
+    consecutiveSessions: input.consecutiveSessions ?? 1,
+  };
+  input.sessions.forEach((s, i) => {
+    if (!(s.cumulativeHours > 0) || !Number.isFinite(s.cumulativeHours))
+      throw new RangeError(`session ${i + 1}: cumulative hours must be more than 0, got ${s.cumulativeHours}`);
+    if (i > 0 && !(s.cumulativeHours >= input.sessions[i - 1].cumulativeHours))
+      throw new RangeError(
+        `session ${i + 1}: cumulative hours go down (${s.cumulativeHours} after ${input.sessions[i - 1].cumulativeHours})`,
+      );
+  });
   const prior = remainingFromBaseline(
     { logMean: input.baseline.logMean, logSD: input.baseline.logScale, df: input.baseline.df },
     input.hoursDone,
   );
-  let fit: SaturatingExponentialFit | null = null;
+  let choice: ReturnType<typeof chooseProgressCurve> | null = null;
   let fitReason: string | null = null;
   if (input.sessions.length >= 3) {
     try {
-      fit = fitSaturatingExponential(
+      choice = chooseProgressCurve(
         input.sessions.map((s) => s.cumulativeHours),
         input.sessions.map((s) => s.score),
       );
@@ -53,34 +89,40 @@ export function progressUpdate(input: ProgressInput): ProgressUpdate {
   } else {
     fitReason = `only ${input.sessions.length} session${input.sessions.length === 1 ? "" : "s"}; the curve needs at least 5`;
   }
+  const lengths = sessionLengths(input.sessions).filter((h) => h > 0);
+  const sessionHours = input.sessionHours ?? (lengths.length ? median(lengths) : 1);
 
-  let status: ProgressUpdate["status"];
-  let logMean: number | null;
-  let logSD: number | null;
-  let curveWeight = 0;
-  let reason: string | null = fitReason;
-  if (fit) {
-    const combined = combineRemainingHours({
-      prior,
-      curve: { fit, threshold: input.threshold, hoursDone: input.hoursDone },
-      quantile,
-      level,
-    });
-    status = combined.status;
-    logMean = combined.logMean;
-    logSD = combined.logSD;
-    curveWeight = combined.weights.curve;
-    reason = combined.reason ?? null;
-  } else {
-    status = "prior-only";
-    logMean = prior.logMean;
-    logSD = prior.logSD;
-  }
+  const fit = choice?.fit ?? null;
+  const combined = combineRemainingHours({
+    prior,
+    curve: fit
+      ? {
+          fit,
+          criterion,
+          hoursDone: input.hoursDone,
+          sessionHours,
+          loggedScores: input.sessions.map((s) => s.score),
+          options: input.seed === undefined ? undefined : { seed: input.seed },
+        }
+      : null,
+    reason: fitReason ?? undefined,
+    quantile,
+    level,
+  });
 
   const curve = fit
-    ? { asymptote: fit.asymptote, start: fit.start, rate: fit.rate, converged: fit.converged, n: fit.n }
+    ? {
+        kind: fit.kind,
+        asymptote: fit.asymptote,
+        start: fit.start,
+        rate: fit.rate,
+        converged: fit.converged,
+        n: fit.n,
+      }
     : null;
-  if (status === "review" || logMean === null || logSD === null) {
+  const curveChoice = choice ? { basis: choice.basis, candidates: choice.candidates } : null;
+  const simulation = combined.curve.status === "estimate" ? combined.curve.simulation : null;
+  if (combined.status === "review" || combined.remainingHours === null || combined.interval === null) {
     return {
       status: "review",
       remainingHours: null,
@@ -88,40 +130,37 @@ export function progressUpdate(input: ProgressInput): ProgressUpdate {
       remainingUpper: null,
       remainingPlanningHours: null,
       curveWeight: 0,
-      reason,
+      reason: combined.reason ?? null,
       beyondForecast: prior.beyondForecast,
       curve,
+      curveChoice,
+      simulation: null,
       crossing: null,
     };
   }
-  const zl = normalQuantile((1 + level) / 2);
-  const remainingHours = Math.exp(logMean);
-  const remainingLower = Math.exp(logMean - zl * logSD);
-  const remainingUpper = Math.exp(logMean + zl * logSD);
+  const { lower, upper } = combined.interval;
   return {
-    status,
-    remainingHours,
-    remainingLower,
-    remainingUpper,
-    remainingPlanningHours: Math.exp(logMean + normalQuantile(quantile) * logSD),
-    curveWeight,
-    reason,
+    status: combined.status,
+    remainingHours: combined.remainingHours,
+    remainingLower: lower,
+    remainingUpper: upper,
+    remainingPlanningHours: combined.planningHours,
+    curveWeight: combined.weights.curve,
+    reason: combined.reason ?? null,
     beyondForecast: prior.beyondForecast,
     curve,
+    curveChoice,
+    simulation,
     crossing: {
-      hours: input.hoursDone + remainingHours,
-      lower: input.hoursDone + remainingLower,
-      upper: input.hoursDone + remainingUpper,
+      hours: input.hoursDone + combined.remainingHours,
+      lower: input.hoursDone + lower,
+      upper: input.hoursDone + upper,
     },
   };
 }
 
 /** Points of the fitted curve from 0 to `toHours` for charts. */
-export function curvePoints(
-  curve: { asymptote: number; start: number; rate: number },
-  toHours: number,
-  steps = 60,
-): { hours: number; score: number }[] {
+export function curvePoints(curve: CurveParameters, toHours: number, steps = 60): { hours: number; score: number }[] {
   const out: { hours: number; score: number }[] = [];
   for (let i = 0; i <= steps; i++) {
     const h = (toHours * i) / steps;

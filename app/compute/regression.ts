@@ -18,7 +18,7 @@
 // σ²·(XᵀX + λI)⁻¹XᵀX(XᵀX + λI)⁻¹ (Hoerl & Kennard 1970) — they describe sampling spread around the
 // shrunken estimate and ignore its bias, so ridge intervals are somewhat optimistic.
 
-import { Matrix, QrDecomposition } from "ml-matrix";
+import { Matrix, QrDecomposition, SingularValueDecomposition } from "ml-matrix";
 import { studentTQuantile } from "./student-t";
 
 /** The binding contract (docs/methods.md). */
@@ -34,7 +34,8 @@ export interface LinearFit {
 
 export interface LinearFitOptions {
   intercept?: boolean; // default true
-  ridge?: number; // default 0
+  /** λ, or "gcv" to choose it by generalised cross-validation (ridgeByGcv); default 0. */
+  ridge?: number | "gcv";
 }
 
 /** What fitLinearModel actually returns: the contract plus diagnostics the model-version record needs. */
@@ -223,10 +224,10 @@ function checkLevel(level: number): void {
 export function fitLinearModel(
   X: number[][],
   y: number[],
-  options?: { intercept?: boolean /* true */; ridge?: number /* 0 */ },
+  options?: { intercept?: boolean /* true */; ridge?: number | "gcv" /* 0 */ },
 ): LinearModelFit {
   const intercept = options?.intercept ?? true;
-  const ridge = options?.ridge ?? 0;
+  const ridge = options?.ridge === "gcv" ? ridgeByGcv(X, y, { intercept }).lambda : (options?.ridge ?? 0);
   const core = fitCore(X, y, intercept, ridge);
   const { n, means, slopes, slopeCov } = core;
 
@@ -304,7 +305,8 @@ export interface LeaveOneOutResult {
   coverage: number; // share of held-out y inside their interval
   level: number;
   press: number; // Σ (y_i − ŷ_(i))²
-  /** "hat-matrix" = closed-form identities (OLS); "refit" = n explicit refits (ridge). */
+  /** "hat-matrix" = closed-form identities (OLS); "refit" = n explicit refits (ridge; with "gcv" λ is chosen
+   * again inside every refit, so the check includes the choice). */
   method: "hat-matrix" | "refit";
   /** With logOutcome: mean |exp(ŷ_(i)) − exp(y_i)|, the error in hours. */
   maeHours?: number;
@@ -384,6 +386,76 @@ export function leaveOneOut(X: number[][], y: number[], options?: LeaveOneOutOpt
   };
   if (options?.logOutcome) result.maeHours = absHours / n;
   return result;
+}
+
+export interface GcvChoice {
+  /** The λ minimising GCV (0 when ordinary least squares does best). */
+  lambda: number;
+  gcv: number;
+  effectiveParameters: number;
+  /** GCV(λ) on the search grid, for display and checks. */
+  path: { lambda: number; gcv: number; effectiveParameters: number }[];
+}
+
+/**
+ * Ridge penalty by generalised cross-validation (Golub, Heath & Wahba 1979, Technometrics 21:215–223):
+ * minimise GCV(λ) = n·RSS(λ) / (n − tr H(λ))² over λ ≥ 0. Same penalty as fitLinearModel (intercept not
+ * penalised, X as given). Through the SVD of the centred X = UDVᵀ, with c = Uᵀy_c and s_j = d_j²/(d_j² + λ):
+ * RSS(λ) = ‖y_c‖² − Σc_j² + Σ c_j²(1 − s_j)², tr H = [1] + Σ s_j. The grid runs over λ = d_max²·10^(−8…2)
+ * (121 points, plus λ = 0) and the best point is refined by golden-section search on log λ.
+ */
+export function ridgeByGcv(X: number[][], y: number[], options?: { intercept?: boolean }): GcvChoice {
+  const k = validate(X, y);
+  const n = y.length;
+  const intercept = options?.intercept ?? true;
+  const yMean = intercept ? accurateMean(y) : 0;
+  const means = Array.from({ length: k }, (_, j) => (intercept ? accurateMean(X.map((r) => r[j])) : 0));
+  const Xc = new Matrix(X.map((r) => r.map((v, j) => v - means[j])));
+  const yc = y.map((v) => v - yMean);
+  const svd = new SingularValueDecomposition(Xc, { autoTranspose: true });
+  const d = svd.diagonal;
+  const U = svd.leftSingularVectors;
+  const c = d.map((_, j) => {
+    let sum = 0;
+    for (let i = 0; i < n; i++) sum += U.get(i, j) * yc[i];
+    return sum;
+  });
+  const yy = yc.reduce((sum, v) => sum + v * v, 0);
+  const outside = Math.max(0, yy - c.reduce((sum, v) => sum + v * v, 0));
+  const dMax2 = Math.max(...d.map((v) => v * v));
+  if (!(dMax2 > 0)) throw new Error("every measure is constant; there is nothing to fit");
+  const at = (lambda: number) => {
+    let rss = outside;
+    let trace = intercept ? 1 : 0;
+    for (let j = 0; j < d.length; j++) {
+      const d2 = d[j] * d[j];
+      const shrink = d2 + lambda > 0 ? d2 / (d2 + lambda) : 0;
+      rss += c[j] * c[j] * (1 - shrink) ** 2;
+      trace += shrink;
+    }
+    const gcv = n - trace > 0 ? (n * rss) / (n - trace) ** 2 : Infinity;
+    return { lambda, gcv, effectiveParameters: trace };
+  };
+  const path = [at(0)];
+  for (let i = 0; i <= 120; i++) path.push(at(dMax2 * 10 ** (-8 + i / 12)));
+  let best = 0;
+  for (let i = 1; i < path.length; i++) if (path[i].gcv < path[best].gcv) best = i;
+  let choice = path[best];
+  if (best >= 1 && Number.isFinite(choice.gcv)) {
+    // Golden-section on log λ between the neighbouring grid points.
+    let lo = Math.log(path[Math.max(1, best - 1)].lambda);
+    let hi = Math.log(path[Math.min(path.length - 1, best + 1)].lambda);
+    const g = (Math.sqrt(5) - 1) / 2;
+    for (let it = 0; it < 60; it++) {
+      const m1 = hi - g * (hi - lo);
+      const m2 = lo + g * (hi - lo);
+      if (at(Math.exp(m1)).gcv < at(Math.exp(m2)).gcv) hi = m2;
+      else lo = m1;
+    }
+    const refined = at(Math.exp((lo + hi) / 2));
+    if (refined.gcv < choice.gcv) choice = refined;
+  }
+  return { ...choice, path };
 }
 
 export interface PlannedHours {

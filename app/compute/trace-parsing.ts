@@ -4,6 +4,7 @@
 // Row numbers in messages are 1-based file rows with the header as row 1, as a spreadsheet shows them.
 import { median } from "simple-statistics";
 import { forceGrading, handDimensionality, swayMetrics, timingMetrics, trackingError } from "./features";
+import { processSwayTrace, SWAY_PROCESSING, type SwayProcessing } from "./features/sway-processing";
 
 export type TraceKind = "sway" | "tracking" | "glove" | "timing" | "force";
 export const TRACE_KINDS: readonly TraceKind[] = ["sway", "tracking", "glove", "timing", "force"];
@@ -39,7 +40,10 @@ export type TraceParseResult<K extends TraceKind = TraceKind> = ParsedTrace<K> |
 export interface TraceParseOptions {
   /** Fewest data rows (timing: fewest cues; force: fewest trials). Default per kind, see TRACE_DEFAULTS. */
   minRows?: number;
-  /** Fewest seconds from first to last timestamp (time-series kinds). Default per kind. */
+  /**
+   * Fewest seconds from first to last timestamp (time-series kinds). Default per kind. For sway it can be raised
+   * but not lowered below SWAY_PROCESSING.minDurationSeconds: every sway trace is processed and measured alike.
+   */
   minDurationSeconds?: number;
   /** Most data rows accepted; larger files are refused before any cell is read. Default 200,000. */
   maxRows?: number;
@@ -52,11 +56,11 @@ export interface TraceParseOptions {
 }
 
 /**
- * Product defaults, all overridable per upload. Quiet-standing sway trials usually last 30 s or more
- * (common practice), so 10 s is a lenient floor; the others are chosen so each measure is defined.
+ * Product defaults, overridable per upload (sway's duration only upwards). Sway: the common processing's
+ * minimum trial (docs/methods.md); the others are chosen so each measure is defined.
  */
 export const TRACE_DEFAULTS: Record<TraceKind, { minRows: number; minDurationSeconds: number }> = {
-  sway: { minRows: 20, minDurationSeconds: 10 },
+  sway: { minRows: 20, minDurationSeconds: SWAY_PROCESSING.minDurationSeconds },
   tracking: { minRows: 20, minDurationSeconds: 5 },
   glove: { minRows: 20, minDurationSeconds: 2 },
   timing: { minRows: 3, minDurationSeconds: 0 },
@@ -116,7 +120,10 @@ export function parseTrace<K extends TraceKind>(
   }
   const defaults = TRACE_DEFAULTS[kind];
   const minRows = options.minRows ?? defaults.minRows;
-  const minDuration = options.minDurationSeconds ?? defaults.minDurationSeconds;
+  const minDuration =
+    kind === "sway"
+      ? Math.max(options.minDurationSeconds ?? 0, SWAY_PROCESSING.minDurationSeconds)
+      : (options.minDurationSeconds ?? defaults.minDurationSeconds);
   const maxRows = options.maxRows ?? DEFAULT_MAX_ROWS;
   const tolerance = options.sampleRateTolerance ?? DEFAULT_SAMPLE_RATE_TOLERANCE;
   const issues = new IssueList(options.maxErrors ?? 50);
@@ -255,7 +262,7 @@ export function parseTrace<K extends TraceKind>(
   if (duration < minDuration) {
     issues.add({
       column: "t",
-      message: `the recording lasts ${round(duration)} s; at least ${minDuration} s is needed`,
+      message: `the ${kind} recording lasts ${round(duration)} s; at least ${minDuration} s is needed`,
     });
   }
   const steps = t.values.slice(1).map((v, i) => v - t.values[i]);
@@ -283,6 +290,13 @@ export function parseTrace<K extends TraceKind>(
   }
   if (issues.count > 0) return fail(issues);
   const sampleRateHz = declared ?? estimatedRate;
+  if (kind === "sway" && sampleRateHz < SWAY_PROCESSING.minRecordedRateHz) {
+    issues.add({
+      column: "t",
+      message: `the sway recording is sampled at about ${round(sampleRateHz)} Hz; at least ${SWAY_PROCESSING.minRecordedRateHz} Hz is needed for the ${SWAY_PROCESSING.cutoffHz} Hz low-pass`,
+    });
+    return fail(issues);
+  }
 
   if (kind === "sway") {
     return {
@@ -324,21 +338,48 @@ export function computeTrace(
   parsed: ParsedTrace,
   options: ComputeTraceOptions = {},
 ): Record<string, number> {
+  return analyseTrace(kind, parsed, options).measures;
+}
+
+/**
+ * computeTrace's measures with the processing that preceded them: sway traces go through the common
+ * processing (processSwayTrace: low-pass, resampling, minimum duration) first; other kinds have none (null).
+ */
+export function analyseTrace(
+  kind: TraceKind,
+  parsed: ParsedTrace,
+  options: ComputeTraceOptions = {},
+): { measures: Record<string, number>; processing: SwayProcessing | null } {
   if (parsed?.ok !== true) throw new RangeError("computeTrace needs a successfully parsed trace");
   if (parsed.kind !== kind) throw new RangeError(`trace was parsed as "${parsed.kind}", not "${kind}"`);
-  switch (parsed.kind) {
-    case "sway": {
-      const m = swayMetrics(parsed.data.x, parsed.data.y, requireRate(parsed.sampleRateHz));
-      return {
+  if (parsed.kind === "sway") {
+    const p = processSwayTrace(parsed.data.t, parsed.data.x, parsed.data.y, requireRate(parsed.sampleRateHz));
+    const m = swayMetrics(p.x, p.y, p.sampleRateHz);
+    return {
+      measures: {
         "sway.pathLength": m.pathLength,
         "sway.meanVelocity": m.meanVelocity,
         "sway.rmsDistance": m.rmsDistance,
         "sway.ellipseArea95": m.ellipseArea95,
-      };
-    }
+      },
+      processing: p.processing,
+    };
+  }
+  return { measures: measuresWithoutProcessing(parsed, options), processing: null };
+}
+
+function measuresWithoutProcessing(
+  parsed: Exclude<ParsedTrace, { kind: "sway" }>,
+  options: ComputeTraceOptions,
+): Record<string, number> {
+  switch (parsed.kind) {
     case "tracking": {
       const m = trackingError(parsed.data.target, parsed.data.cursor, requireRate(parsed.sampleRateHz));
-      return { "tracking.rmse": m.rmse, "tracking.lagSeconds": m.lagSeconds };
+      return {
+        "tracking.rmse": m.rmse,
+        "tracking.lagSeconds": m.lagSeconds,
+        "tracking.lagMagnitudeSeconds": Math.abs(m.lagSeconds),
+      };
     }
     case "glove": {
       const m = handDimensionality(parsed.data.samples, options.handThreshold);

@@ -21,7 +21,7 @@ export async function recordAccess(
   request: Request,
   workerIds: number | number[],
   resource: HealthResource,
-  action: "read" | "export" = "read",
+  action: "read" | "export" | "undo" = "read",
   k: Db = db(),
 ): Promise<void> {
   const ids = ([] as number[]).concat(workerIds);

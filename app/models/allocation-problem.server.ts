@@ -7,9 +7,9 @@ import type { CalendarUnit, PlanCalendar } from "~/compute/session-packing";
 import { hhmmOfWallClock, startOfDay, wallClock } from "~/dates";
 import { type Db, db, type Row } from "~/db.server";
 import type { RunParameters } from "~/schemas/allocation";
-import { noForecastText } from "~/schemas/forecast";
+import { noForecastText, percentileLabel } from "~/schemas/forecast";
 import { latestConsent } from "./consent.server";
-import { type ApprovedModel, baselineZScores, loadApprovedModel } from "./forecast.server";
+import { type ApprovedModel, baselineZScores, loadApprovedModel, planningQuantile } from "./forecast.server";
 import { whereWorkerInScope, workersWithPlace } from "./workers.server";
 
 // Builds the solver input (docs/methods.md) for a run from the database: the pool, device-type capacity per week
@@ -29,12 +29,22 @@ export interface ProblemSnapshot {
    * problem's capacities are what is left after them. Absent in snapshots made before commitments existed.
    */
   commitments?: CommittedPlan[];
+  /**
+   * The organisation's planning quantile the hours needed were taken at (a share, 0.80): every run plans at that
+   * one setting. Absent in snapshots made before; their run's parameters hold it.
+   */
+  planningQuantile?: number;
 }
 
 const WORKDAYS = 5;
 
-export async function buildProblem(params: RunParameters, scope: Scope, k: Db = db()): Promise<ProblemSnapshot> {
+export async function buildProblem(
+  params: RunParameters,
+  scope: Scope,
+  k: Db = db(),
+): Promise<ProblemSnapshot & { planningQuantile: number }> {
   const { startDate, horizonWeeks: weeks } = params;
+  const quantile = await planningQuantile(k);
   const endDate = addDays(startDate, weeks * 7 - 1);
   const allDates = Array.from({ length: weeks }, (_, w) => weekDates(startDate, w)).flat();
   const notes: string[] = [];
@@ -310,7 +320,7 @@ export async function buildProblem(params: RunParameters, scope: Scope, k: Db = 
     const options = mine.map((fc) => {
       const dt = deviceTypes.find((d) => d.id === fc.device_type_id)!;
       const total = plannedHoursFromLogScale(Number(fc.log_mean), Number(fc.log_scale), Number(fc.df), {
-        quantile: params.planningQuantile,
+        quantile,
       }).planningHours;
       return {
         deviceTypeId: deviceId(dt.name, site),
@@ -405,7 +415,7 @@ export async function buildProblem(params: RunParameters, scope: Scope, k: Db = 
     e.reason = noForecastText("missing_measures", missing);
   }
   notes.push(
-    `Hours needed = the forecast's ${Math.round(params.planningQuantile * 100)}th percentile of total hours (from the approved model version), less hours already logged.`,
+    `Hours needed = the ${percentileLabel(quantile)} of each forecast's total hours (the organisation's planning figure; from the approved model version), less hours already logged.`,
   );
   if (calendarWorkers.some((w) => w.wearTimeLimits))
     notes.push(
@@ -440,6 +450,7 @@ export async function buildProblem(params: RunParameters, scope: Scope, k: Db = 
     notes,
     excluded,
     commitments: booked.committed,
+    planningQuantile: quantile,
   };
 }
 

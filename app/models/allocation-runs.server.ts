@@ -7,7 +7,7 @@ import { instantAgo, nowInstant } from "~/dates";
 import { type Db, db, type Row } from "~/db.server";
 import { UserError } from "~/errors";
 import { enqueueAllocation } from "~/jobs/queue.server";
-import type { RunParameters } from "~/schemas/allocation";
+import type { RunParameters, StoredRunParameters } from "~/schemas/allocation";
 import { buildProblem, type ProblemSnapshot } from "./allocation-problem.server";
 
 // Allocation runs: parameters, the problem snapshot the solver sees, progress and the result.
@@ -20,7 +20,7 @@ export interface RunRow {
   id: number;
   label: string | null;
   baseRunId: number | null;
-  parameters: RunParameters & { pool: { siteIds: number[] } };
+  parameters: StoredRunParameters & { pool: { siteIds: number[] } };
   status: RunStatus;
   phase: string | null;
   fraction: number;
@@ -143,8 +143,10 @@ async function createRun(principal: Principal, params: RunParameters): Promise<n
     if (siteIds.length === 0) throw new UserError("Your scope has no sites to plan for.", { field: "siteIds" });
     if (params.baseRunId && !(await trx("allocation_runs").where({ id: params.baseRunId }).first("id")))
       throw new UserError("The run to compare with does not exist.", { field: "baseRunId" });
-    const stored: RunParameters = { ...params, pool: { ...params.pool, siteIds } };
-    const snapshot = await buildProblem(stored, scope, trx);
+    const pooled: RunParameters = { ...params, pool: { ...params.pool, siteIds } };
+    const snapshot = await buildProblem(pooled, scope, trx);
+    // Kept with the run: the organisation's planning quantile the hours needed were taken at.
+    const stored: StoredRunParameters = { ...pooled, planningQuantile: snapshot.planningQuantile };
     const [row] = await trx("allocation_runs")
       .insert({
         label: params.label ?? null,

@@ -2,7 +2,8 @@ import { createHash } from "node:crypto";
 import { parse as parseCsvSync } from "csv-parse/sync";
 import type { Scope } from "~/auth/scope";
 import { zScore } from "~/compute/features";
-import { computeTrace, parseTrace, type TraceIssue, type TraceKind } from "~/compute/trace-parsing";
+import type { SwayProcessing } from "~/compute/features/sway-processing";
+import { analyseTrace, parseTrace, type TraceIssue, type TraceKind } from "~/compute/trace-parsing";
 import { nowInstant } from "~/dates";
 import { type Db, db } from "~/db.server";
 import { UserError } from "~/errors";
@@ -98,6 +99,8 @@ export interface UploadRow {
   sizeBytes: number;
   rowCount: number;
   sampleRateHz: number | null;
+  /** The common processing the measures were computed after (sway traces); null for other kinds. */
+  processing: SwayProcessing | null;
   computed: Record<string, number>;
   createdAt: string;
 }
@@ -167,10 +170,28 @@ export async function sessionsForWorker(workerId: number, k: Db = db()): Promise
         sizeBytes: u.size_bytes,
         rowCount: u.row_count,
         sampleRateHz: u.sample_rate_hz ?? null,
+        processing: processingOf(u),
         computed: JSON.parse(u.computed),
         createdAt: String(u.created_at),
       })),
   }));
+}
+
+function processingOf(u: {
+  sample_rate_hz: number | null;
+  resampled_rate_hz: number | null;
+  filter: string | null;
+  cutoff_hz: number | null;
+  duration_seconds: number | null;
+}): SwayProcessing | null {
+  if (u.resampled_rate_hz == null || u.filter == null || u.cutoff_hz == null || u.duration_seconds == null) return null;
+  return {
+    recordedRateHz: Number(u.sample_rate_hz),
+    resampledRateHz: Number(u.resampled_rate_hz),
+    filter: u.filter,
+    cutoffHz: Number(u.cutoff_hz),
+    durationSeconds: Number(u.duration_seconds),
+  };
 }
 
 async function sessionOf(trx: Db, workerId: number, sessionId: number) {
@@ -269,6 +290,7 @@ export type TraceSaveResult =
       scored: string[];
       rowCount: number;
       sampleRateHz: number | null;
+      processing: SwayProcessing | null;
       sha256: string;
       sizeBytes: number;
     }
@@ -276,7 +298,8 @@ export type TraceSaveResult =
 
 /**
  * Parses, computes and stores one uploaded trace: the upload row keeps the file's SHA-256, size, row
- * count, sample rate and every computed value; active trace measures of that kind become results.
+ * count, sample rate, the processing before the measures (sway: resampled rate, filter, cut-off, duration)
+ * and every computed value; active trace measures of that kind become results. A refused trace stores nothing.
  */
 export async function saveTrace(input: {
   workerId: number;
@@ -298,8 +321,9 @@ export async function saveTrace(input: {
   });
   if (!parsed.ok) return parsed;
   let computed: Record<string, number>;
+  let processing: SwayProcessing | null;
   try {
-    computed = computeTrace(input.kind, parsed);
+    ({ measures: computed, processing } = analyseTrace(input.kind, parsed));
   } catch (e) {
     return {
       ok: false,
@@ -331,6 +355,10 @@ export async function saveTrace(input: {
         size_bytes: input.bytes.byteLength,
         row_count: rowCount,
         sample_rate_hz: sampleRateHz,
+        resampled_rate_hz: processing?.resampledRateHz ?? null,
+        filter: processing?.filter ?? null,
+        cutoff_hz: processing?.cutoffHz ?? null,
+        duration_seconds: processing?.durationSeconds ?? null,
         computed: JSON.stringify(computed),
         uploaded_by: input.userId,
         created_at: nowInstant(),
@@ -355,6 +383,7 @@ export async function saveTrace(input: {
       scored: measures.map((m) => m.code),
       rowCount,
       sampleRateHz,
+      processing,
       sha256,
       sizeBytes: input.bytes.byteLength,
     };

@@ -15,7 +15,7 @@ import {
 
 export { reviewPath } from "~/schemas/course-review";
 
-import { ADVERSE_LABELS, type AdverseKind } from "~/schemas/session-log";
+import { ADVERSE_LABELS } from "~/schemas/session-log";
 import { roleEmailsCovering } from "./adverse-events.server";
 import { setStage } from "./consent.server";
 import { upsertForecast, workerInScope } from "./forecast.server";
@@ -132,8 +132,8 @@ export async function courseReviewStatus(workerId: number, deviceTypeId: number,
         decision: r.decision as CourseDecision,
         label: COURSE_DECISION_LABELS[r.decision as CourseDecision],
         wearTimeLimitMinutes: r.wear_time_limit_minutes == null ? null : Number(r.wear_time_limit_minutes),
-        conditions: (r.conditions as string) ?? null,
-        decidedAt: String(r.decided_at),
+        conditions: r.conditions,
+        decidedAt: r.decided_at,
       }
     : null;
 }
@@ -172,10 +172,10 @@ export async function courseReview(scope: Scope, workerId: number, deviceTypeId:
   const courseLimit = course.wear_time_limit_minutes == null ? null : Number(course.wear_time_limit_minutes);
   return {
     worker,
-    deviceType: { id: device.id as number, name: device.name as string, wearTimeLimitMinutes: deviceLimit },
+    deviceType: { id: device.id, name: device.name, wearTimeLimitMinutes: deviceLimit },
     course: {
-      status: course.status as string,
-      pauseReason: (course.pause_reason as string) ?? null,
+      status: course.status,
+      pauseReason: course.pause_reason,
       cumulativeHours: Number(course.cumulative_hours),
       wearTimeLimitMinutes: courseLimit,
       effectiveWearTimeLimitMinutes: effectiveWearLimit(deviceLimit, courseLimit),
@@ -191,13 +191,13 @@ export async function courseReview(scope: Scope, workerId: number, deviceTypeId:
       loggedBy: (s.logged_by as string) ?? null,
     })),
     events: events.map((e) => ({
-      id: e.id as number,
-      sessionId: e.session_id as number,
-      kind: e.kind as AdverseKind,
-      label: ADVERSE_LABELS[e.kind as AdverseKind],
-      severity: e.severity as string,
-      notes: (e.notes as string) ?? null,
-      at: String(e.at),
+      id: e.id,
+      sessionId: e.session_id,
+      kind: e.kind,
+      label: ADVERSE_LABELS[e.kind],
+      severity: e.severity,
+      notes: e.notes,
+      at: e.at,
     })),
     findings: await findingsForCourse(k, workerId, deviceTypeId),
     decisions: await decisions(k, workerId, deviceTypeId),

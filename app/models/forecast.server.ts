@@ -232,6 +232,7 @@ export async function upsertForecast(
       sessions,
       hoursDone,
       threshold: Number(criterion?.score_threshold ?? 0.8),
+      consecutiveSessions: Number(criterion?.consecutive_sessions ?? 1),
       quantile,
       level: INTERVAL_LEVEL,
     });
@@ -278,6 +279,8 @@ export async function upsertForecast(
           curveWeight: progress.curveWeight,
           reason: progress.reason,
           curve: progress.curve,
+          curveChoice: progress.curveChoice,
+          simulation: progress.simulation,
           crossing: progress.crossing,
         })
       : null,

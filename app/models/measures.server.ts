@@ -1,6 +1,6 @@
 import type { TraceKind } from "~/compute/trace-parsing";
 import { nowInstant } from "~/dates";
-import { type Db, db } from "~/db.server";
+import { type Db, db, type TableRow } from "~/db.server";
 import { conflict } from "~/errors";
 
 // The baseline battery's measures, configured by an assessor.
@@ -16,16 +16,16 @@ export interface Measure {
   active: boolean;
 }
 
-function toMeasure(r: Record<string, unknown>): Measure {
+function toMeasure(r: TableRow<"measures">): Measure {
   return {
-    id: r.id as number,
-    code: r.code as string,
-    name: r.name as string,
-    unit: r.unit as string,
+    id: r.id,
+    code: r.code,
+    name: r.name,
+    unit: r.unit,
     higherIsBetter: Boolean(r.higher_is_better),
-    entry: r.entry as "manual" | "trace",
-    traceKind: (r.trace_kind as TraceKind) ?? null,
-    description: (r.description as string) ?? null,
+    entry: r.entry,
+    traceKind: r.trace_kind,
+    description: r.description,
     active: Boolean(r.active),
   };
 }
@@ -45,7 +45,7 @@ export async function createMeasure(
     unit: string;
     direction: "higher" | "lower";
     entry: "manual" | "trace";
-    traceKind?: string;
+    traceKind?: TraceKind | "";
     description?: string;
   },
   userId: number,
@@ -60,7 +60,7 @@ export async function createMeasure(
         unit: m.unit,
         higher_is_better: m.direction === "higher",
         entry: m.entry,
-        trace_kind: m.entry === "trace" ? m.traceKind : null,
+        trace_kind: m.entry === "trace" ? m.traceKind || null : null,
         description: m.description || null,
         active: true,
         created_by: userId,

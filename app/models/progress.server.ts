@@ -1,11 +1,13 @@
 import type { Principal } from "~/auth/guard.server";
 import { can } from "~/auth/permissions";
+import type { CurveKind } from "~/compute/curve";
 import { firstProficientIndex } from "~/compute/proficiency-rule";
-import { curvePoints } from "~/compute/progress-update";
+import { curvePoints, type ProgressUpdate } from "~/compute/progress-update";
 import { nowInstant } from "~/dates";
 import { type Db, db, type TableRow } from "~/db.server";
 import type { Stage } from "~/domain/stages";
 import { conflict } from "~/errors";
+import { noShowText } from "~/schemas/session-log";
 import { latestConsent } from "./consent.server";
 import { courseReviewStatus, effectiveWearLimit } from "./course-reviews.server";
 import {
@@ -210,6 +212,20 @@ export async function trainerHasTrainee(
   );
 }
 
+/** The trainer's next session still to do with this trainee on this device (the one place a session is logged). */
+export async function nextSessionWithTrainee(
+  trainerId: number,
+  workerId: number,
+  deviceTypeId: number,
+  k: Db = db(),
+): Promise<number | null> {
+  const s = await k("training_sessions")
+    .where({ trainer_id: trainerId, worker_id: workerId, device_type_id: deviceTypeId, status: "scheduled" })
+    .orderBy([{ column: "scheduled_start" }, { column: "id" }])
+    .first("id");
+  return s?.id ?? null;
+}
+
 export interface ProgressView {
   worker: { id: number; employeeNumber: string; name: string; stage: string };
   deviceType: { id: number; code: string; name: string; wearTimeLimitMinutes: number };
@@ -244,13 +260,18 @@ export interface ProgressView {
     remainingPlanningHours: number | null;
     curveWeight: number | null;
     reason: string | null;
-    curve: { asymptote: number; start: number; rate: number; converged: boolean } | null;
+    curve: { kind: CurveKind; asymptote: number; start: number; rate: number; converged: boolean } | null;
+    /** Which progress curve was used and why (AICc of each candidate); null for forecasts stored before. */
+    curveChoice: ProgressUpdate["curveChoice"];
+    simulation: ProgressUpdate["simulation"];
     crossing: { hours: number; lower: number; upper: number } | null;
   } | null;
   curvePoints: { hours: number; score: number }[];
   reviewFlags: { kind: string; reason: string; raisedAt: string }[];
   /** Why there is no forecast (null when there is one). */
   noForecast: string | null;
+  /** Sessions the worker did not come to, counted by reason (as recorded by the trainer). */
+  noShows: { total: number; byReason: { reason: string; count: number }[] };
   /** The latest assessor decision on a pause of this course (status only, no clinical note). */
   review: Awaited<ReturnType<typeof courseReviewStatus>>;
   showNotes: boolean;
@@ -331,16 +352,33 @@ export async function progressView(
           remainingPlanningHours: f.remaining_planning_hours == null ? null : Number(f.remaining_planning_hours),
           curveWeight: pj?.curveWeight ?? null,
           reason: pj?.reason ?? null,
-          curve: pj?.curve ?? null,
+          curve: pj?.curve ? { kind: "exponential", ...pj.curve } : null,
+          curveChoice: pj?.curveChoice ?? null,
+          simulation: pj?.simulation ?? null,
           crossing: pj?.crossing ?? null,
         }
       : null,
     curvePoints: pj?.curve?.converged ? curvePoints(pj.curve, toHours) : [],
     reviewFlags: flags.map((r) => ({ kind: r.kind, reason: r.reason, raisedAt: String(r.raised_at) })),
     noForecast: f ? null : gapText(await forecastGap(k, workerId, deviceTypeId)),
+    noShows: await noShowCounts(k, workerId, deviceTypeId),
     review: await courseReviewStatus(workerId, deviceTypeId, k),
     showNotes,
   };
+}
+
+/** No-shows of a worker on a device type, counted per reason in the order first seen (reasons in words). */
+async function noShowCounts(k: Db, workerId: number, deviceTypeId: number): Promise<ProgressView["noShows"]> {
+  const rows = await k("training_sessions")
+    .where({ worker_id: workerId, device_type_id: deviceTypeId, status: "no_show" })
+    .orderBy([{ column: "scheduled_start" }, { column: "id" }])
+    .select("no_show_reason", "no_show_note");
+  const counts = new Map<string, number>();
+  for (const r of rows) {
+    const text = noShowText(r.no_show_reason, r.no_show_note);
+    counts.set(text, (counts.get(text) ?? 0) + 1);
+  }
+  return { total: rows.length, byReason: [...counts].map(([reason, count]) => ({ reason, count })) };
 }
 
 /** Courses with logged sessions for workers in scope (for the progress index). */

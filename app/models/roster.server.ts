@@ -3,7 +3,7 @@ import type { Knex } from "knex";
 import type { Principal } from "~/auth/guard.server";
 import type { Scope } from "~/auth/scope";
 import { formatInstant, nowInstant } from "~/dates";
-import { type Db, db, type TableInsert } from "~/db.server";
+import { type Db, db, type TableInsert, type TableRow } from "~/db.server";
 import { conflict, notFound, UserError } from "~/errors";
 import { readRosterFileOffThread, withUploadReadSlot } from "~/jobs/upload-read.server";
 import {
@@ -193,6 +193,12 @@ export interface RosterSummary {
   changes: RosterChange[];
 }
 
+/** A stored worker as the import compares it with a row of the file. */
+type ExistingWorker = Pick<
+  TableRow<"workers">,
+  "id" | "employee_number" | "given_name" | "family_name" | "email" | "site_id" | "department_id"
+>;
+
 /** Validates the rows and compares them with the workers on file (upsert by employee number). */
 export async function planRoster(
   rows: string[][],
@@ -201,7 +207,7 @@ export async function planRoster(
   k: Db = db(),
 ): Promise<RosterPlan> {
   const v = validateRoster(rows, mapping, await rosterSites(k), allowedSites(scope));
-  const existing = new Map<string, Record<string, unknown>>();
+  const existing = new Map<string, ExistingWorker>();
   const numbers = v.valid.map((r) => r.employeeNumber);
   for (let i = 0; i < numbers.length; i += 500) {
     const found = await k("workers")
@@ -229,7 +235,7 @@ export async function planRoster(
       creates.push(r);
       continue;
     }
-    if (!inScope(scope, w.site_id as number, w.department_id as number)) {
+    if (!inScope(scope, w.site_id, w.department_id)) {
       issues.push({
         row: r.row,
         field: "employeeNumber",
@@ -240,7 +246,7 @@ export async function planRoster(
     }
     const patch: Record<string, unknown> = {};
     const fields: string[] = [];
-    const cmp = (field: string, col: string, val: unknown) => {
+    const cmp = (field: string, col: keyof ExistingWorker, val: unknown) => {
       if (val !== w[col]) {
         patch[col] = val;
         fields.push(field);
@@ -251,7 +257,7 @@ export async function planRoster(
     if (r.email) cmp(ROSTER_FIELD_LABELS.email, "email", r.email); // an empty cell keeps the e-mail on file
     cmp(ROSTER_FIELD_LABELS.site, "site_id", r.siteId);
     cmp(ROSTER_FIELD_LABELS.department, "department_id", r.departmentId);
-    if (fields.length) updates.push({ row: r, id: w.id as number, fields, patch });
+    if (fields.length) updates.push({ row: r, id: w.id, fields, patch });
     else unchanged++;
   }
   issues.sort((a, b) => a.row - b.row);

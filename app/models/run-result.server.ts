@@ -30,8 +30,7 @@ export type RunResultView = NonNullable<Awaited<ReturnType<typeof runResultView>
 export async function runResultView(p: Principal & { kind: "user" }, runId: number) {
   const run = Number.isInteger(runId) && runId > 0 ? await getRun(p.scope, runId) : null;
   if (!run) return null;
-  const snap = run.snapshot;
-  const plan = run.plan;
+  const { snapshot: snap, plan, ...head } = run;
   const workerLabel = new Map((snap?.calendar.workers ?? []).map((w) => [w.id, w]));
   const problemWorker = new Map((snap?.problem.workers ?? []).map((w) => [w.id, w]));
   // Ready means every planned hour got a session: the rest are "not ready in this horizon" (with the reason).
@@ -94,22 +93,7 @@ export async function runResultView(p: Principal & { kind: "user" }, runId: numb
     .map((r) => ({ id: r.id, label: r.label ?? `${r.parameters.startDate}, ${r.parameters.horizonWeeks} weeks` }));
   const state = await planState();
   return {
-    run: {
-      id: run.id,
-      label: run.label,
-      status: run.status,
-      phase: run.phase,
-      fraction: run.fraction,
-      error: run.error,
-      createdBy: run.createdBy,
-      createdAt: run.createdAt,
-      finishedAt: run.finishedAt,
-      publishedAt: run.publishedAt,
-      publishedBy: run.publishedBy,
-      publishedPlanVersion: run.publishedPlanVersion,
-      parameters: run.parameters,
-      baseRunId: run.baseRunId,
-    },
+    run: head,
     result: plan
       ? {
           status: plan.status,

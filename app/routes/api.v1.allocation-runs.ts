@@ -6,7 +6,8 @@ import type { Route } from "./+types/api.v1.allocation-runs";
 
 // POST /api/v1/allocation-runs — start a run (coordinator keys: allocation.run). Body: JSON with the same
 // parameters schema as the form (runParametersSchema): startDate (a Monday), horizonWeeks, pool,
-// planningQuantile (0.5–1), fairnessShare (0–1), whatIf. Answers 202 with the run id and where to poll.
+// fairnessShare (0–1), whatIf. Answers 202 with the run id and where to poll. The run plans at the organisation's
+// planning quantile (set with the forecast models); a body naming planningQuantile is refused (400, that field).
 // GET lists recent runs (status only).
 export async function loader({ request }: Route.LoaderArgs) {
   const p = await requireApiAccess(request, "allocation.run");

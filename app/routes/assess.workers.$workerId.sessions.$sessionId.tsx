@@ -4,6 +4,7 @@ import { can } from "~/auth/permissions";
 import { countUpload } from "~/auth/throttle.server";
 import { DeviceCautions } from "~/components/device-cautions";
 import { ActionForm, ActionNotice, FormError, SelectField, TextField } from "~/components/fields";
+import { processingLine, SwayMethod } from "~/components/sway-method";
 import { FileField, IssueList } from "~/components/upload";
 import { MEASURE_DIRECTIONS } from "~/compute/features";
 import { TRACE_KINDS } from "~/compute/trace-parsing";
@@ -290,6 +291,11 @@ export default function SessionPage({ loaderData, actionData }: Route.ComponentP
                 {upload.filename}: {upload.kind} trace, {upload.rowCount} rows
                 {upload.sampleRateHz ? `, ${upload.sampleRateHz.toPrecision(4)} Hz` : ""}
               </p>
+              {upload.processing && (
+                <p className="text-sm" data-testid="upload-processing">
+                  Processed before measuring: {processingLine(upload.processing)}.
+                </p>
+              )}
               <p className="break-all text-xs text-ink-soft">
                 SHA-256 {upload.sha256} · {upload.sizeBytes.toLocaleString("en")} bytes
               </p>
@@ -336,12 +342,16 @@ export default function SessionPage({ loaderData, actionData }: Route.ComponentP
                 </span>{" "}
                 · {u.kind} · {u.rowCount} rows · {u.sizeBytes.toLocaleString("en")} bytes
                 {u.sampleRateHz ? ` · ${u.sampleRateHz.toPrecision(4)} Hz` : ""}
+                {u.processing && <span className="block text-xs">Processed: {processingLine(u.processing)}</span>}
                 <span className="block break-all text-xs text-ink-soft">SHA-256 {u.sha256}</span>
               </li>
             ))}
           </ul>
         )}
       </section>
+      {(session.uploads.some((u) => u.kind === "sway") ||
+        session.results.some((x) => x.code.startsWith("sway.")) ||
+        (upload?.ok && upload.kind === "sway")) && <SwayMethod />}
     </div>
   );
 }

@@ -12,6 +12,8 @@ import {
   TextField,
 } from "~/components/fields";
 import { ProfileChart, type ProfilePoint } from "~/components/profile-chart";
+import { SwayMethod } from "~/components/sway-method";
+import { WithdrawConsent } from "~/components/withdraw-consent";
 import { todayIn } from "~/dates";
 import { CONSENT_PURPOSES } from "~/domain/consent-purposes";
 import { formAction } from "~/forms.server";
@@ -87,6 +89,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     consent,
     history,
     points,
+    hasSway: (latest?.results ?? []).some((r) => r.code.startsWith("sway.")),
     latestOn: latest?.assessedOn ?? null,
     sessions: sessions
       .map((s) => ({
@@ -158,6 +161,7 @@ export default function WorkerRecord({ loaderData, actionData }: Route.Component
     consent,
     history,
     points,
+    hasSway,
     latestOn,
     sessions,
     changes,
@@ -170,6 +174,9 @@ export default function WorkerRecord({ loaderData, actionData }: Route.Component
   } = loaderData;
   const busy = useNavigation().state === "submitting";
   const assessmentGiven = consent.assessment.status === "given";
+  // A purpose given on the current text collapses to its summary; the record form asks only for the others.
+  const givenPurposes = CONSENT_PURPOSES.filter((pp) => consent[pp].status === "given");
+  const openPurposes = CONSENT_PURPOSES.filter((pp) => consent[pp].status !== "given" || consent[pp].needsRenewal);
   return (
     <div className="grid gap-6">
       <div>
@@ -208,7 +215,7 @@ export default function WorkerRecord({ loaderData, actionData }: Route.Component
         </section>
       )}
 
-      <section className="card grid gap-4" aria-labelledby="consent-h">
+      <section className="card grid gap-4" aria-labelledby="consent-h" data-testid="consent-section">
         <h2 id="consent-h" className="text-lg font-semibold">
           Consent
         </h2>
@@ -227,7 +234,7 @@ export default function WorkerRecord({ loaderData, actionData }: Route.Component
             </li>
           ))}
         </ul>
-        {canConsent && (
+        {canConsent && openPurposes.length > 0 && (
           <ActionForm
             key={CONSENT_PURPOSES.map((pp) => consent[pp].status + consent[pp].version).join()}
             intent="consent"
@@ -240,7 +247,7 @@ export default function WorkerRecord({ loaderData, actionData }: Route.Component
             </h3>
             <fieldset className="grid gap-2">
               <legend className="field-label">Purposes the worker agrees to (each against the text in force)</legend>
-              {CONSENT_PURPOSES.map((pp) => (
+              {openPurposes.map((pp) => (
                 <div key={pp} className="rounded-md border border-line p-2">
                   <label className="flex min-h-11 items-center gap-2">
                     <input type="checkbox" name="purposes" value={pp} className="size-5" />
@@ -276,33 +283,17 @@ export default function WorkerRecord({ loaderData, actionData }: Route.Component
             </div>
           </ActionForm>
         )}
-        {canConsent &&
-          CONSENT_PURPOSES.filter((pp) => consent[pp].status === "given").map((pp) => (
-            <ActionForm
-              key={pp}
-              intent="withdraw"
-              result={actionData}
-              match={{ purpose: pp }}
-              className="grid gap-2 rounded-md border border-alert/30 p-3"
-              aria-label={`Withdraw ${pp} consent`}
-            >
-              <input type="hidden" name="purpose" value={pp} />
-              <p className="font-medium">Withdraw {pp} consent</p>
-              <p className="text-sm text-ink-soft">
-                {pp === "assessment"
-                  ? "Takes effect at once: every assessment session, result, trace and forecast of this worker is erased. Only the withdrawal is kept."
-                  : pp === "planning"
-                    ? "Takes effect at once: forecasts are erased and the worker leaves plans."
-                    : "Takes effect at once: the record leaves future model cohorts."}
-              </p>
-              <TextField name="confirm" label={`Type WITHDRAW to confirm (${pp})`} autoComplete="off" />
-              <div>
-                <button type="submit" className="btn-danger" disabled={busy}>
-                  Withdraw {pp} consent
-                </button>
-              </div>
-            </ActionForm>
-          ))}
+        {canConsent && givenPurposes.length > 0 && (
+          // Given consent is a summary above; withdrawing is behind "Change", with the one confirmation pattern.
+          <details data-testid="consent-change">
+            <summary className="cursor-pointer text-spruce-700">Change (withdraw a consent)</summary>
+            <div className="mt-3 grid gap-3">
+              {givenPurposes.map((pp) => (
+                <WithdrawConsent key={pp} purpose={pp} reader="staff" result={actionData} busy={busy} />
+              ))}
+            </div>
+          </details>
+        )}
         <details>
           <summary className="cursor-pointer text-spruce-700">Consent history ({history.length})</summary>
           <div className="overflow-x-auto">
@@ -346,6 +337,7 @@ export default function WorkerRecord({ loaderData, actionData }: Route.Component
           }
         />
       </section>
+      {hasSway && <SwayMethod />}
 
       {changes.length > 0 && (
         <section className="card grid gap-3" aria-labelledby="change-h">

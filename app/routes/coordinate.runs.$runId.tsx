@@ -19,6 +19,7 @@ import { recordAccess } from "~/models/access-log.server";
 import { publishRun } from "~/models/publish.server";
 import { runResultView, type WorkerPlanRow } from "~/models/run-result.server";
 import { publishSchema } from "~/schemas/allocation";
+import { percentileLabel } from "~/schemas/forecast";
 import type { Route } from "./+types/coordinate.runs.$runId";
 
 export const meta: Route.MetaFunction = ({ params }) => [{ title: `Allocation run #${params.runId} · Limberly` }];
@@ -204,7 +205,7 @@ export default function RunPage({ loaderData, actionData }: Route.ComponentProps
           {run.label ? ` · ${run.label}` : ""}
         </h1>
         <p className="text-ink-soft">
-          Start {pr.startDate}, {pr.horizonWeeks} weeks · planning quantile {Math.round(pr.planningQuantile * 100)} % ·
+          Start {pr.startDate}, {pr.horizonWeeks} weeks · planning figure: the {percentileLabel(pr.planningQuantile)} ·
           fairness share {Math.round(pr.fairnessShare * 100)} %
           {pr.pool.includeProficientElsewhere ? " · includes workers proficient elsewhere" : ""}
           {run.baseRunId ? (

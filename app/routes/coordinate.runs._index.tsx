@@ -1,5 +1,6 @@
 import { Link, redirect, useNavigation } from "react-router";
 import { requireUser } from "~/auth/guard.server";
+import { can } from "~/auth/permissions";
 import { DeviceCautions } from "~/components/device-cautions";
 import { ActionForm, CheckboxField, FieldMessage, SelectField, TextField } from "~/components/fields";
 import { addDays, isoWeekday } from "~/compute/plan-calendar";
@@ -11,6 +12,7 @@ import { planningQuantile } from "~/models/forecast.server";
 import { planState } from "~/models/publish.server";
 import { viewerTimeZone } from "~/models/sites.server";
 import { runFormSchema } from "~/schemas/allocation";
+import { percentileLabel } from "~/schemas/forecast";
 import type { Route } from "./+types/coordinate.runs._index";
 
 export const meta: Route.MetaFunction = () => [{ title: "Allocation runs · Limberly" }];
@@ -31,7 +33,16 @@ export async function loader({ request }: Route.LoaderArgs) {
     planningQuantile(),
     planState(),
   ]);
-  return { runs, choices, quantile, base, defaultStart: nextMonday(todayIn(await viewerTimeZone(p))), plan };
+  const canSetQuantile = can(p.user, "models.manage");
+  return {
+    runs,
+    choices,
+    quantile,
+    canSetQuantile,
+    base,
+    defaultStart: nextMonday(todayIn(await viewerTimeZone(p))),
+    plan,
+  };
 }
 
 export async function action({ request }: Route.ActionArgs) {
@@ -44,7 +55,7 @@ export async function action({ request }: Route.ActionArgs) {
 const STATUS_TEXT: Record<string, string> = { queued: "Queued", running: "Solving", done: "Done", failed: "Failed" };
 
 export default function RunsIndex({ loaderData, actionData }: Route.ComponentProps) {
-  const { runs, choices, quantile, base, defaultStart, plan } = loaderData;
+  const { runs, choices, quantile, canSetQuantile, base, defaultStart, plan } = loaderData;
   const nav = useNavigation();
   const bp = base?.parameters;
   return (
@@ -97,14 +108,20 @@ export default function RunsIndex({ loaderData, actionData }: Route.ComponentPro
               defaultValue={String(bp?.horizonWeeks ?? 12)}
               hint="1 to 26 weeks."
             />
-            <TextField
-              name="planningQuantile"
-              label="Planning quantile (%)"
-              type="number"
-              required
-              defaultValue={String(Math.round((bp?.planningQuantile ?? quantile) * 100))}
-              hint="Hours needed = this percentile of each worker's forecast. Higher plans for slower learners."
-            />
+            <div data-testid="run-planning-quantile">
+              <p className="field-label">Planning figure</p>
+              <p className="text-sm">
+                Hours needed = the {percentileLabel(quantile)} of each worker's forecast: the organisation's setting,
+                used by every run and by the forecasts' drift checks.{" "}
+                {canSetQuantile ? (
+                  <Link className="text-spruce-700 underline" to="/models#quantile-h">
+                    Change it under Forecast models
+                  </Link>
+                ) : (
+                  "An assessor changes it under Forecast models."
+                )}
+              </p>
+            </div>
             <TextField
               name="fairnessShare"
               label="Fairness share per department (%)"
@@ -212,7 +229,7 @@ export default function RunsIndex({ loaderData, actionData }: Route.ComponentPro
                   <th scope="col">Value (sum of priorities)</th>
                   <th scope="col">Start</th>
                   <th scope="col">Weeks</th>
-                  <th scope="col">Quantile</th>
+                  <th scope="col">Planning figure</th>
                   <th scope="col">Fairness</th>
                   <th scope="col">By</th>
                   <th scope="col">Published</th>
@@ -237,7 +254,7 @@ export default function RunsIndex({ loaderData, actionData }: Route.ComponentPro
                     <td data-testid={`run-value-${r.id}`}>{r.summary ? r.summary.value : "—"}</td>
                     <td>{r.parameters.startDate}</td>
                     <td>{r.parameters.horizonWeeks}</td>
-                    <td>{Math.round(r.parameters.planningQuantile * 100)} %</td>
+                    <td>{percentileLabel(r.parameters.planningQuantile)}</td>
                     <td>{Math.round(r.parameters.fairnessShare * 100)} %</td>
                     <td>{r.createdBy ?? "API"}</td>
                     <td>{r.publishedAt ? `v${r.publishedPlanVersion}, ${r.publishedAt.slice(0, 10)}` : "—"}</td>

@@ -5,6 +5,7 @@ import { type CompareSide, RunCompare } from "~/components/run-compare";
 import { recordAccess } from "~/models/access-log.server";
 import { getRun, type RunDetail } from "~/models/allocation-runs.server";
 import { nameMaps } from "~/models/fleet-admin.server";
+import { percentileLabel } from "~/schemas/forecast";
 import type { Route } from "./+types/coordinate.runs.compare";
 
 export const meta: Route.MetaFunction = () => [{ title: "Compare allocation runs · Limberly" }];
@@ -28,7 +29,7 @@ function side(
   }
   const parameters = [
     `Start ${pr.startDate}, ${pr.horizonWeeks} weeks`,
-    `Planning quantile ${Math.round(pr.planningQuantile * 100)} %, fairness share ${Math.round(pr.fairnessShare * 100)} %`,
+    `Planning figure: the ${percentileLabel(pr.planningQuantile)}, fairness share ${Math.round(pr.fairnessShare * 100)} %`,
     `Sites: ${pr.pool.siteIds.map((s) => siteNames.get(s) ?? s).join(", ")}${pr.pool.departmentIds.length ? ` (${pr.pool.departmentIds.length} departments)` : ""}`,
     ...(pr.pool.includeProficientElsewhere ? ["Pool includes workers proficient on another device type"] : []),
     ...pr.whatIf.addUnits.map(

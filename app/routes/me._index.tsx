@@ -1,5 +1,6 @@
 import { data, Link } from "react-router";
 import { DeviceCautions } from "~/components/device-cautions";
+import { NoShows } from "~/components/no-shows";
 import { ProgressChart } from "~/components/progress-chart";
 import { formatDay, formatSpan } from "~/dates";
 import { STAGE_LABELS, type Stage } from "~/domain/stages";
@@ -174,6 +175,7 @@ export default function MeHome({ loaderData }: Route.ComponentProps) {
             threshold={v.criterion?.scoreThreshold ?? null}
             crossing={v.course?.status === "proficient" ? null : (v.forecast?.crossing ?? null)}
           />
+          <NoShows noShows={v.noShows} reader="worker" />
         </section>
       ))}
 

@@ -77,8 +77,9 @@ export default function MyRecord({ loaderData }: Route.ComponentProps) {
                 <td>{r.who}</td>
                 <td>{r.role ?? ""}</td>
                 <td>
-                  {r.action === "export" ? "exported " : "read "}
-                  {RESOURCE_WORDS[r.resource] ?? r.resource}
+                  {r.action === "undo"
+                    ? "undid the last mark (log or no-show) of a training session"
+                    : `${r.action === "export" ? "exported" : "read"} ${RESOURCE_WORDS[r.resource] ?? r.resource}`}
                 </td>
               </tr>
             ))}

@@ -1,13 +1,13 @@
 import { Link, useActionData, useNavigation } from "react-router";
 import { requireUser } from "~/auth/guard.server";
-import { percentileLabel } from "~/components/calibration-chart";
+
 import { driftSentence } from "~/components/drift-summary";
 import { ActionForm, Notice, TextField } from "~/components/fields";
 import { formAction } from "~/forms.server";
 import { planningQuantile, setPlanningQuantile } from "~/models/forecast.server";
 import { listModelVersions } from "~/models/model-versions.server";
 import { listCriteria, setCriterion } from "~/models/proficiency.server";
-import { modelsFormSchema } from "~/schemas/forecast";
+import { modelsFormSchema, percentileLabel } from "~/schemas/forecast";
 import type { Route } from "./+types/models._index";
 
 export const meta: Route.MetaFunction = () => [{ title: "Forecast models · Limberly" }];

@@ -1,6 +1,6 @@
 import { redirect, useActionData, useNavigation } from "react-router";
 import { requireUser } from "~/auth/guard.server";
-import { ModelDiagnostics, percentileLabel } from "~/components/calibration-chart";
+import { ModelDiagnostics } from "~/components/calibration-chart";
 import { ActionForm, CheckboxGroup, SelectField, TextArea } from "~/components/fields";
 import { formAction } from "~/forms.server";
 import { planningQuantile } from "~/models/forecast.server";
@@ -13,7 +13,7 @@ import {
 } from "~/models/model-versions.server";
 import { normSetCoverage } from "~/models/norms.server";
 import { listDeviceTypes } from "~/models/proficiency.server";
-import { workbenchIntentSchema } from "~/schemas/forecast";
+import { percentileLabel, workbenchIntentSchema } from "~/schemas/forecast";
 import type { Route } from "./+types/models.new";
 
 export const meta: Route.MetaFunction = () => [{ title: "Model workbench · Limberly" }];

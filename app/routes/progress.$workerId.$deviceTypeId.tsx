@@ -1,23 +1,22 @@
-import { data, Form, Link, useActionData, useNavigation } from "react-router";
+import { data, Link, useActionData } from "react-router";
 import { type Principal, requireUser } from "~/auth/guard.server";
 import { can } from "~/auth/permissions";
 import { DeviceCautions } from "~/components/device-cautions";
-import { FormError, Notice, TextArea, TextField } from "~/components/fields";
+import { ActionForm, ActionNotice } from "~/components/fields";
+import { NoShows } from "~/components/no-shows";
 import { ProgressChart } from "~/components/progress-chart";
-import { UserError } from "~/errors";
+import { formAction } from "~/forms.server";
 import { recordAccess } from "~/models/access-log.server";
 import { resolveFlags } from "~/models/forecast.server";
 import {
-  logSessionResult,
+  nextSessionWithTrainee,
   progressView,
   reachesOnlyOwnTrainees,
   trainerHasTrainee,
   trainerIdFor,
 } from "~/models/progress.server";
 import { reviewPath } from "~/schemas/course-review";
-import { logSessionFormSchema } from "~/schemas/forecast";
-import { formToObject, parseWith } from "~/schemas/form";
-import { scoreRead } from "~/schemas/session-log";
+import { resolveFlagsSchema } from "~/schemas/forecast";
 import type { Route } from "./+types/progress.$workerId.$deviceTypeId";
 
 export const meta: Route.MetaFunction = ({ data: d }) => [
@@ -52,66 +51,32 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const view = await progressView(p, workerId, deviceTypeId);
   if (!view) throw data({ error: "No such worker or device type in your scope." }, { status: 404 });
   await recordAccess(p, request, workerId, "progress");
+  const trainerId = can(p.user, "sessions.log") ? await trainerIdFor(p.user.id) : null;
   return {
     view,
-    canLog: can(p.user, "sessions.log"),
+    /** Sessions are logged on the session page only (with adverse events): the viewer's next one with this trainee. */
+    logSessionId: trainerId ? await nextSessionWithTrainee(trainerId, workerId, deviceTypeId) : null,
     canResolve: can(p.user, "models.manage"),
     canReview: can(p, "courses.review"),
   };
 }
 
 export async function action({ request, params }: Route.ActionArgs) {
-  const form = formToObject(await request.formData());
+  const formData = await request.formData();
   const { workerId, deviceTypeId } = ids(params);
-  if (form.intent === "resolve") {
-    const p = await requireUser(request, "models.manage");
-    if (!(await progressView(p, workerId, deviceTypeId))) throw data({ error: "Not found." }, { status: 404 });
+  const p = await requireUser(request, "models.manage");
+  if (!(await progressView(p, workerId, deviceTypeId))) throw data({ error: "Not found." }, { status: 404 });
+  return formAction(formData, resolveFlagsSchema, async () => {
     const n = await resolveFlags(workerId, deviceTypeId, p.user.id);
-    return { errors: null, done: `${n} review flag${n === 1 ? "" : "s"} marked as reviewed.` };
-  }
-  const p = await requireUser(request, "sessions.log");
-  const trainerId = await assertTrainerReach(p, workerId, deviceTypeId);
-  if (!reachesOnlyOwnTrainees(p) && !(await progressView(p, workerId, deviceTypeId)))
-    throw data({ error: "No such worker in your scope." }, { status: 404 });
-  const parsed = parseWith(logSessionFormSchema, form);
-  if (!parsed.ok) return data({ errors: parsed.errors, done: null }, { status: 400 });
-  try {
-    const r = await logSessionResult({
-      workerId,
-      deviceTypeId,
-      ...parsed.data,
-      loggedBy: p.user.id,
-      trainerId: trainerId ?? (await trainerIdFor(p.user.id)),
-    });
-    const f =
-      r.forecast.status === "ready" && r.forecast.progress?.remainingHours != null
-        ? ` About ${r.forecast.progress.remainingHours.toFixed(1)} h to go.`
-        : "";
-    const score = scoreRead(parsed.data.taskScore, typeof form.taskScore === "string" ? form.taskScore : null);
-    const breach = r.wearTimeBreach
-      ? ` It ran ${r.wearTimeBreach.minutes} minutes, over the wear-time limit of ${r.wearTimeBreach.limitMinutes} minutes: saved as logged, and the breach is recorded as a safety finding for the assessors.`
-      : "";
-    return {
-      errors: null,
-      done: r.proficient
-        ? `Session logged with task score ${score}. The criterion is met: proficient on ${r.proficientOn} after ${r.cumulativeHours.toFixed(1)} h.${breach}`
-        : `Session logged with task score ${score}: ${r.cumulativeHours.toFixed(1)} h so far.${f}${breach}`,
-    };
-  } catch (e) {
-    if (e instanceof UserError && e.status === 409)
-      return data({ errors: { [e.field ?? "_form"]: e.message }, done: null }, { status: 409 });
-    throw e;
-  }
+    return `${n} review flag${n === 1 ? "" : "s"} marked as reviewed.`;
+  });
 }
 
 const h = (v: number | null | undefined) => (v == null ? "—" : `${v.toFixed(1)} h`);
 
 export default function ProgressPage({ loaderData }: Route.ComponentProps) {
-  const { view: v, canLog, canResolve, canReview } = loaderData;
+  const { view: v, logSessionId, canResolve, canReview } = loaderData;
   const result = useActionData<typeof action>();
-  const nav = useNavigation();
-  const busy = nav.state === "submitting";
-  const errors = (result?.errors ?? {}) as Record<string, string>;
   const f = v.forecast;
   const proficient = v.course?.status === "proficient";
   return (
@@ -134,7 +99,7 @@ export default function ProgressPage({ loaderData }: Route.ComponentProps) {
             ` · criterion: ${v.criterion.consecutiveSessions} consecutive sessions at ≥ ${v.criterion.scoreThreshold}`}
         </p>
       </div>
-      {result?.done && <Notice>{result.done}</Notice>}
+      <ActionNotice result={result} />
       {(v.course?.status === "paused" || v.review) && (
         <div
           role={v.course?.status === "paused" ? "alert" : undefined}
@@ -166,11 +131,11 @@ export default function ProgressPage({ loaderData }: Route.ComponentProps) {
             trainer.
           </p>
           {canResolve && (
-            <Form method="post" className="mt-2">
-              <button type="submit" className="btn-quiet" name="intent" value="resolve">
+            <ActionForm intent="resolve" result={result} className="mt-2">
+              <button type="submit" className="btn-quiet">
                 Mark as reviewed
               </button>
-            </Form>
+            </ActionForm>
           )}
         </div>
       )}
@@ -231,45 +196,20 @@ export default function ProgressPage({ loaderData }: Route.ComponentProps) {
           threshold={v.criterion?.scoreThreshold ?? null}
           crossing={proficient ? null : (f?.crossing ?? null)}
         />
+        {f?.curve && <CurveMethod forecast={f} criterion={v.criterion} />}
       </section>
-      {canLog && !proficient && v.course?.status !== "paused" && v.course?.status !== "stopped" && (
-        <section className="card" aria-labelledby="log-h">
-          <h2 id="log-h" className="text-lg font-semibold">
-            Log a session
-          </h2>
-          <p className="text-sm text-ink-soft">
-            Cumulative hours, the course, proficiency and the forecast are updated together.
-          </p>
-          <Form method="post" className="mt-3 grid gap-4 sm:grid-cols-2" noValidate key={result?.done ?? "form"}>
-            <div className="sm:col-span-2">
-              <FormError message={errors._form} />
-            </div>
-            <TextField
-              name="durationHours"
-              label="Practice time (hours)"
-              required
-              error={errors.durationHours}
-              hint={`Wear-time limit for this worker on this device: ${v.deviceType.wearTimeLimitMinutes} minutes per session.`}
-            />
-            <TextField
-              name="taskScore"
-              inputMode="decimal"
-              label="Task score (0–1)"
-              required
-              error={errors.taskScore}
-              hint="Score on the device's standard task, e.g. 0.72 or 0,72."
-            />
-            <div className="sm:col-span-2">
-              <TextArea name="notes" label="Notes" rows={2} error={errors.notes} />
-            </div>
-            <div className="sm:col-span-2">
-              <button type="submit" className="btn-primary" name="intent" value="log" disabled={busy}>
-                {busy ? "Saving…" : "Log session"}
-              </button>
-            </div>
-          </Form>
-        </section>
-      )}
+      <section className="card grid gap-2" aria-label="Logging sessions" data-testid="log-here">
+        <NoShows noShows={v.noShows} reader="staff" />
+        <p className="text-sm">
+          {logSessionId ? (
+            <Link to={`/train/sessions/${logSessionId}`} className="font-semibold text-spruce-700 underline">
+              Log the next session with {v.worker.name}
+            </Link>
+          ) : (
+            "Sessions are logged by their trainer on the session log (My training days), with any adverse events."
+          )}
+        </p>
+      </section>
       <section className="card overflow-x-auto p-0" aria-labelledby="sessions-h">
         <h2 id="sessions-h" className="px-4 pt-4 text-lg font-semibold">
           Sessions
@@ -307,5 +247,72 @@ export default function ProgressPage({ loaderData }: Route.ComponentProps) {
       </section>
       <DeviceCautions compact />
     </div>
+  );
+}
+
+const CURVE_NAMES = { exponential: "exponential", power: "power law" } as const;
+
+/** The "how this was computed" panel of the progress curve: which curve, why, and how remaining hours were found. */
+function CurveMethod({
+  forecast: f,
+  criterion,
+}: {
+  forecast: NonNullable<Route.ComponentProps["loaderData"]["view"]["forecast"]>;
+  criterion: { scoreThreshold: number; consecutiveSessions: number } | null;
+}) {
+  const curve = f.curve;
+  if (!curve) return null;
+  const choice = f.curveChoice;
+  const sim = f.simulation;
+  return (
+    <details className="mt-3 text-sm" data-testid="curve-method">
+      <summary className="cursor-pointer font-semibold">How this was computed</summary>
+      <div className="mt-2 grid gap-2">
+        <p data-testid="curve-chosen">
+          Curve used: <strong>{CURVE_NAMES[curve.kind]}</strong>
+          {choice ? ` (${choice.basis})` : ""}.{" "}
+          {curve.kind === "power"
+            ? "Score = asymptote − (asymptote − start) · (1 + hours)^(−rate)."
+            : "Score = asymptote − (asymptote − start) · e^(−rate · hours)."}{" "}
+          Fitted by least squares (Levenberg–Marquardt); asymptote {curve.asymptote.toFixed(3)}, start{" "}
+          {curve.start.toFixed(3)}, rate {curve.rate.toPrecision(3)}.
+        </p>
+        {choice?.candidates.some((c) => c.aicc !== null) && (
+          <ul className="list-disc pl-5">
+            {choice.candidates.map((c) => (
+              <li key={c.kind}>
+                {CURVE_NAMES[c.kind]}:{" "}
+                {c.aicc === null
+                  ? c.converged
+                    ? "no AICc"
+                    : "did not converge"
+                  : `AICc ${c.aicc.toFixed(1)}, Akaike weight ${(c.weight ?? 0).toFixed(2)}`}
+              </li>
+            ))}
+          </ul>
+        )}
+        <p>
+          Exponential and power-law learning curves are both fitted (Heathcote, Brown &amp; Mewhort 2000, Psychonomic
+          Bulletin &amp; Review 7:185–207) and the one with the lower AICc is used (Burnham &amp; Anderson 2002,{" "}
+          <em>Model Selection and Multimodel Inference</em>, ch. 2: AICc = n·ln(RSS/n) + 2K + 2K(K + 1)/(n − K − 1), K =
+          curve parameters + 1).
+        </p>
+        {sim ? (
+          <p data-testid="curve-simulation">
+            Remaining hours: {sim.draws.toLocaleString("en")} simulated courses (seed {sim.seed}) continue this log in
+            sessions of {sim.sessionHours.toFixed(2)} h until{" "}
+            {criterion
+              ? `${criterion.consecutiveSessions} session${criterion.consecutiveSessions === 1 ? "" : "s"} in a row score at least ${criterion.scoreThreshold}`
+              : "the proficiency rule is met"}
+            , with the session-to-session scatter of the scores around the curve and the uncertainty of the curve itself
+            drawn anew for each course; {Math.round(sim.reachedShare * 100)} % met the rule within {sim.maxSessions}{" "}
+            sessions. This is combined with the baseline forecast by inverse-variance weighting on the log scale (Gelman
+            et al., <em>Bayesian Data Analysis</em>, 3rd ed., §2.5).
+          </p>
+        ) : (
+          <p>The curve does not yet inform the remaining hours; the figures come from the baseline forecast alone.</p>
+        )}
+      </div>
+    </details>
   );
 }

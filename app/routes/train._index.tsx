@@ -1,4 +1,4 @@
-import { Form, Link } from "react-router";
+import { Link } from "react-router";
 import { z } from "zod";
 import { requireUser } from "~/auth/guard.server";
 import { DeviceCautions } from "~/components/device-cautions";
@@ -86,17 +86,13 @@ function SessionCard({ s, showDay, now }: { s: ScheduledSession; showDay?: boole
           >
             Attended: log it
           </Link>
-          <Form method="post" action={`/train/sessions/${s.id}`}>
-            <button
-              type="submit"
-              className="btn-quiet min-h-12 min-w-32 text-lg"
-              name="intent"
-              value="no_show"
-              aria-label={`No-show: ${s.trainee}, ${s.start ? formatSpan(s.start, s.end) : ""}`}
-            >
-              No-show
-            </button>
-          </Form>
+          <Link
+            to={`/train/sessions/${s.id}#no-show`}
+            className="btn-quiet inline-flex min-h-12 min-w-32 items-center justify-center text-lg"
+            aria-label={`No-show: ${s.trainee}, ${s.start ? formatSpan(s.start, s.end) : ""}`}
+          >
+            No-show…
+          </Link>
         </div>
       )}
       {s.status !== "scheduled" && (

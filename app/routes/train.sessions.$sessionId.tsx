@@ -1,18 +1,39 @@
-import { data, Link, redirect, useActionData, useNavigation } from "react-router";
+import { data, Link, useActionData, useNavigation } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { DeviceCautions } from "~/components/device-cautions";
 import { ActionForm, ActionNotice, FieldMessage, RadioGroup, TextArea, TextField } from "~/components/fields";
-import { addMinutesToWallClock, formatDay, formatInstantDay, formatSpan, toLocalInput, wallClockNow } from "~/dates";
+import {
+  addMinutesToWallClock,
+  formatDay,
+  formatInstant,
+  formatInstantDay,
+  formatSpan,
+  toLocalInput,
+  wallClockNow,
+} from "~/dates";
 import { formAction } from "~/forms.server";
 import { recordAccess } from "~/models/access-log.server";
-import { logTrainerSession, markNoShow, trainerForUser, trainerSession } from "~/models/trainer-day.server";
+import {
+  logTrainerSession,
+  markNoShow,
+  nextSessionToLog,
+  sessionMark,
+  trainerForUser,
+  trainerSession,
+  undoLastMark,
+} from "~/models/trainer-day.server";
 import {
   ADVERSE_KINDS,
   ADVERSE_LABELS,
-  attendanceSchema,
+  NO_SHOW_LABELS,
+  NO_SHOW_REASONS,
+  noShowSchema,
+  noShowText,
+  SEVERE_STAYS,
   SEVERITIES,
   scoreRead,
   trainerLogSchema,
+  undoMarkSchema,
 } from "~/schemas/session-log";
 import type { Route } from "./+types/train.sessions.$sessionId";
 
@@ -36,17 +57,38 @@ async function load(request: Request, params: { sessionId?: string }, action: "s
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { p, trainer, session } = await load(request, params, "sessions.own");
   await recordAccess(p, request, session.workerId, "sessions");
-  return { session, timeZone: trainer.timeZone, now: wallClockNow(trainer.timeZone) };
+  const marked = session.status !== "scheduled";
+  return {
+    session,
+    timeZone: trainer.timeZone,
+    now: wallClockNow(trainer.timeZone),
+    mark: marked ? await sessionMark(trainer, session.id, p.user.id) : null,
+    next: marked ? await nextSessionToLog(trainer, session) : null,
+  };
 }
 
 export async function action({ request, params }: Route.ActionArgs) {
   const formData = await request.formData();
-  // Marking a no-show and logging a session need different permissions: the intent picks which, before parsing.
-  if (formData.get("intent") === "no_show") {
+  const intent = formData.get("intent");
+  // A no-show and an undo need the trainer's own schedule, a log the logging right: the intent picks which.
+  if (intent === "no_show") {
     const { p, trainer, session } = await load(request, params, "sessions.own");
-    return formAction(formData, attendanceSchema, async () => {
-      await markNoShow(trainer.id, session.id, p.user.id);
-      throw redirect("/train");
+    return formAction(formData, noShowSchema, async (v) => {
+      await markNoShow(trainer.id, session.id, p.user.id, v);
+      return `No-show recorded for ${session.trainee}: ${noShowText(v.reason, v.reasonNote ?? null)}.`;
+    });
+  }
+  if (intent === "undo") {
+    const { p, trainer, session } = await load(request, params, "sessions.own");
+    return formAction(formData, undoMarkSchema, async () => {
+      const r = await undoLastMark({ trainer, sessionId: session.id, principal: p, request });
+      const removed = [
+        r.eventsRemoved ? `${r.eventsRemoved} adverse event${r.eventsRemoved === 1 ? "" : "s"}` : null,
+        r.findingsRemoved ? `the wear-time finding` : null,
+      ].filter(Boolean);
+      return r.mark === "attended"
+        ? `Log undone: the session with ${r.trainee} is to do again; hours, course and forecast are as before it${removed.length ? `, and ${removed.join(" and ")} recorded with it ${removed.length === 1 && r.eventsRemoved === 1 ? "is" : "are"} removed` : ""}. The undo is kept in the access log.`
+        : `No-show undone: the session with ${r.trainee} is to do again. The undo is kept in the access log.`;
     });
   }
   const { p, trainer, session } = await load(request, params, "sessions.log");
@@ -71,11 +113,10 @@ export async function action({ request, params }: Route.ActionArgs) {
 }
 
 export default function TrainerSession({ loaderData }: Route.ComponentProps) {
-  const { session: s, timeZone, now } = loaderData;
+  const { session: s, timeZone, now, mark, next } = loaderData;
   const result = useActionData<typeof action>();
   const busy = useNavigation().state === "submitting";
-  const done = Boolean(result?.notice);
-  const open = s.status === "scheduled" && s.courseStatus !== "paused" && !done;
+  const open = s.status === "scheduled" && s.courseStatus !== "paused";
   const defaultStart = s.start ?? now;
   const defaultEnd = s.end ?? addMinutesToWallClock(defaultStart, 60);
   return (
@@ -101,7 +142,7 @@ export default function TrainerSession({ loaderData }: Route.ComponentProps) {
         </p>
       </div>
       <ActionNotice result={result} />
-      {s.courseStatus === "paused" && !done && (
+      {s.courseStatus === "paused" && s.status === "scheduled" && (
         <p role="alert" className="rounded-md bg-alert-wash p-3 text-alert">
           Training on this device is paused{s.pauseReason ? `: ${s.pauseReason}` : ""}. Do not train until an assessor
           resumes it.
@@ -114,29 +155,31 @@ export default function TrainerSession({ loaderData }: Route.ComponentProps) {
             : `${s.review.label} after a pause (${formatInstantDay(s.review.decidedAt, timeZone)})${s.review.wearTimeLimitMinutes != null ? `: at most ${s.review.wearTimeLimitMinutes} minutes per session for this trainee` : ""}${s.review.conditions ? `; ${s.review.conditions}` : ""}.`}
         </p>
       )}
-      {s.status !== "scheduled" && !done && (
-        <section className="card">
-          <p>
-            Recorded as <strong>{s.status.replace("_", "-")}</strong>
-            {s.taskScore != null ? ` · task score ${s.taskScore.toFixed(2)}` : ""}
-            {s.durationHours != null ? ` · ${s.durationHours.toFixed(2)} h` : ""}.
-          </p>
-          {s.events.length > 0 && (
-            <ul className="mt-2 list-disc pl-5">
-              {s.events.map((e) => (
-                <li key={e.id}>
-                  {ADVERSE_LABELS[e.kind]}: {e.severity}
-                  {e.notes ? ` (${e.notes})` : ""}
-                </li>
-              ))}
-            </ul>
+      {s.status !== "scheduled" && <Recorded s={s} mark={mark} timeZone={timeZone} result={result} busy={busy} />}
+      {s.status !== "scheduled" && (
+        <nav aria-label="Next session" className="card" data-testid="next-session">
+          {next ? (
+            <p>
+              Next to log:{" "}
+              <Link to={`/train/sessions/${next.id}`} className="font-semibold text-spruce-700 underline">
+                {next.trainee} · {next.deviceType} ·{" "}
+                {next.start ? `${formatDay(next.start)} ${formatSpan(next.start, next.end)}` : ""}
+              </Link>
+            </p>
+          ) : (
+            <p>
+              Nothing else to log this week.{" "}
+              <Link to="/train" className="text-spruce-700 underline">
+                Back to my training days
+              </Link>
+            </p>
           )}
-        </section>
+        </nav>
       )}
       {open && (
         <>
           <DeviceCautions compact reader="trainer" />
-          <ActionForm result={result} className="grid gap-5">
+          <ActionForm intent="log" result={result} className="grid gap-5">
             <section className="card grid gap-4 sm:grid-cols-2" aria-labelledby="when-h">
               <h2 id="when-h" className="text-lg font-semibold sm:col-span-2">
                 Session
@@ -199,13 +242,7 @@ export default function TrainerSession({ loaderData }: Route.ComponentProps) {
               ))}
             </section>
             <div className="flex flex-wrap gap-3">
-              <button
-                type="submit"
-                className="btn-primary min-h-12 min-w-40 text-lg"
-                name="intent"
-                value="log"
-                disabled={busy}
-              >
+              <button type="submit" className="btn-primary min-h-12 min-w-40 text-lg" disabled={busy}>
                 {busy ? "Saving…" : "Save session"}
               </button>
               <Link to="/train" className="btn-quiet inline-flex min-h-12 items-center">
@@ -213,9 +250,124 @@ export default function TrainerSession({ loaderData }: Route.ComponentProps) {
               </Link>
             </div>
           </ActionForm>
+          <section id="no-show" className="card" aria-labelledby="ns-h">
+            <ActionForm intent="no_show" result={result} className="grid gap-4">
+              <div>
+                <h2 id="ns-h" className="text-lg font-semibold">
+                  The trainee did not come
+                </h2>
+                <p className="text-sm text-ink-soft">Record a no-show with its reason instead of a log.</p>
+              </div>
+              <RadioGroup
+                name="reason"
+                legend="Reason"
+                options={NO_SHOW_REASONS.map((r) => ({ value: r, label: NO_SHOW_LABELS[r] }))}
+              >
+                <TextField name="reasonNote" label="Other reason: what happened (required for other)" />
+              </RadioGroup>
+              <div>
+                <button type="submit" className="btn-quiet min-h-12 min-w-40 text-lg" disabled={busy}>
+                  Record no-show
+                </button>
+              </div>
+            </ActionForm>
+          </section>
         </>
       )}
       {!open && <DeviceCautions compact reader="trainer" />}
     </div>
+  );
+}
+
+type SessionData = Route.ComponentProps["loaderData"];
+
+/** What was saved on the session, as stored: the log's values, adverse events and findings, or the no-show's reason. */
+function Recorded({
+  s,
+  mark,
+  timeZone,
+  result,
+  busy,
+}: {
+  s: SessionData["session"];
+  mark: SessionData["mark"];
+  timeZone: string;
+  result: ReturnType<typeof useActionData<typeof action>>;
+  busy: boolean;
+}) {
+  const what = s.status === "attended" ? "log" : "no-show";
+  return (
+    <section className="card grid gap-3" aria-labelledby="saved-h" data-testid="recorded">
+      <h2 id="saved-h" className="text-lg font-semibold">
+        Recorded as {s.status === "attended" ? "attended" : s.status.replace("_", "-")}
+      </h2>
+      {s.status === "attended" && (
+        <dl className="grid gap-x-4 gap-y-1 sm:grid-cols-[max-content_1fr]">
+          <dt className="text-ink-soft">Started</dt>
+          <dd>{mark?.loggedAt ? formatInstant(mark.loggedAt, timeZone) : "—"}</dd>
+          <dt className="text-ink-soft">Practice time</dt>
+          <dd>{mark?.durationHours != null ? `${Math.round(mark.durationHours * 60)} minutes` : "—"}</dd>
+          <dt className="text-ink-soft">Task score</dt>
+          <dd>{mark?.taskScore != null ? String(mark.taskScore) : "—"}</dd>
+          <dt className="text-ink-soft">Hours so far</dt>
+          <dd>{mark?.cumulativeHours != null ? `${mark.cumulativeHours.toFixed(1)} h` : "—"}</dd>
+          <dt className="text-ink-soft">Notes</dt>
+          <dd>{mark?.notes || "none"}</dd>
+          <dt className="text-ink-soft">Adverse events</dt>
+          <dd>
+            {s.events.length === 0 ? (
+              "none"
+            ) : (
+              <ul className="list-disc pl-5">
+                {s.events.map((e) => (
+                  <li key={e.id}>
+                    {ADVERSE_LABELS[e.kind]}: {e.severity}
+                    {e.notes ? ` (${e.notes})` : ""}
+                  </li>
+                ))}
+              </ul>
+            )}
+          </dd>
+          <dt className="text-ink-soft">Safety findings</dt>
+          <dd>
+            {!mark?.findings.length ? (
+              "none"
+            ) : (
+              <ul className="list-disc pl-5">
+                {mark.findings.map((f) => (
+                  <li key={f}>{f}</li>
+                ))}
+              </ul>
+            )}
+          </dd>
+        </dl>
+      )}
+      {s.status === "no_show" && <p>Reason: {noShowText(mark?.noShowReason ?? null, mark?.noShowNote ?? null)}</p>}
+      {mark && (s.status === "attended" || s.status === "no_show") && (
+        <div className="border-t border-line pt-3">
+          {mark.undoRefusal == null ? (
+            <ActionForm intent="undo" result={result} className="grid gap-2">
+              <p className="text-sm text-ink-soft">
+                A mistake? You can undo your last mark until the end of today ({timeZone} time); the session is then to
+                do again.
+              </p>
+              <div>
+                <button type="submit" className="btn-quiet min-h-12" disabled={busy}>
+                  Undo this {what}
+                </button>
+              </div>
+            </ActionForm>
+          ) : mark.undoRefusal === SEVERE_STAYS ? (
+            <p className="text-sm" data-testid="undo-refused">
+              {SEVERE_STAYS}
+            </p>
+          ) : (
+            <p className="text-sm text-ink-soft" data-testid="undo-refused">
+              Undo: {mark.undoRefusal}
+            </p>
+          )}
+        </div>
+      )}
+    </section>
   );
 }

@@ -56,10 +56,13 @@ export const runParametersSchema = z.object({
       includeProficientElsewhere: checkbox.default(false),
     })
     .default({ siteIds: [], departmentIds: [], includeProficientElsewhere: false }),
-  planningQuantile: z.coerce
-    .number({ message: "Planning quantile must be a number." })
-    .gt(0.5, "Planning quantile must be above 0.5 (the median).")
-    .lt(1, "Planning quantile must be below 1."),
+  /** Not a run parameter: every run plans at the organisation's planning percentile (StoredRunParameters). */
+  planningQuantile: z
+    .undefined({
+      message:
+        "Planning quantile: runs use the organisation's planning percentile, set by an assessor under Forecast models; leave it out.",
+    })
+    .optional(),
   fairnessShare: z.coerce
     .number({ message: "Fairness share must be a number." })
     .min(0, "Fairness share is at least 0.")
@@ -68,6 +71,8 @@ export const runParametersSchema = z.object({
   baseRunId: z.coerce.number().int().positive().optional(),
 });
 export type RunParameters = z.infer<typeof runParametersSchema>;
+/** A run's parameters as stored: the input plus the organisation's planning quantile when it was made (a share, 0.80). */
+export type StoredRunParameters = Omit<RunParameters, "planningQuantile"> & { planningQuantile: number };
 
 /**
  * The new-run form: flat fields. Percentages are typed as percent in the form; the same parameters
@@ -81,7 +86,6 @@ export const runFormSchema = z
     siteIds: idList,
     departmentIds: idList,
     includeProficientElsewhere: checkbox,
-    planningQuantile: z.string().trim().min(1, "Enter the planning quantile (e.g. 80)."),
     fairnessShare: z.string().trim().min(1, "Enter the fairness share (e.g. 20)."),
     addUnitDeviceTypeId: z.string().optional(),
     addUnitSiteId: z.string().optional(),
@@ -125,7 +129,6 @@ export const runFormSchema = z
         departmentIds: f.departmentIds,
         includeProficientElsewhere: f.includeProficientElsewhere,
       },
-      planningQuantile: pct(f.planningQuantile, "planningQuantile"),
       fairnessShare: pct(f.fairnessShare, "fairnessShare"),
       whatIf: { addUnits, removeTrainerIds: f.removeTrainerIds },
       baseRunId: f.baseRunId ? Number(f.baseRunId) : undefined,

@@ -26,12 +26,41 @@ export const recordConsentSchema = z.object({
   }),
 });
 
+/**
+ * The one confirmation of a withdrawal, for staff and worker alike: a box ticked on purpose (never pre-ticked),
+ * next to what happens at once and what cannot be undone (the erasure; consent can be given again).
+ */
+export const withdrawConfirmField = z.literal("on", {
+  message: "Confirm withdrawal: tick the box to say you have read what happens at once and what cannot be undone.",
+});
+
 export const withdrawConsentSchema = z.object({
   purpose,
-  confirm: z
-    .string()
-    .refine((s) => s.trim().toUpperCase() === "WITHDRAW", "Type WITHDRAW to confirm; the data are erased at once."),
+  confirmWithdraw: withdrawConfirmField,
 });
+
+/** What a withdrawal does, in true words, for the page's reader: the worker themselves or staff recording it. */
+export function withdrawalEffects(p: ConsentPurpose, reader: "worker" | "staff") {
+  const your = reader === "worker" ? "your" : "the worker's";
+  const you = reader === "worker" ? "you leave" : "the worker leaves";
+  const erased: Record<ConsentPurpose, string | null> = {
+    assessment: `Erased at once: ${your} baseline assessments (results and uploaded traces) and forecasts; future training sessions are cancelled and ${you} every training plan.`,
+    planning: `Erased at once: ${your} forecasts; future training sessions are cancelled and ${you} every training plan. The training coordinators are told.`,
+    model: null,
+  };
+  return {
+    now: erased[p] ?? `Nothing is erased: from now on ${your} de-identified record does not join new forecast models.`,
+    kept: "Kept: a record that this consent was withdrawn, when, and who recorded it.",
+    undo:
+      erased[p] === null
+        ? "Consent can be given again later."
+        : "The erasure cannot be undone: erased data do not come back. Consent can be given again later, and only data recorded from then on are kept.",
+    confirm:
+      erased[p] === null
+        ? "I understand: this takes effect at once."
+        : "I understand: this takes effect at once, and the erasure cannot be undone.",
+  };
+}
 
 /** The forms of a worker's record (assessor): record consent, withdraw one purpose, start a session. */
 export const workerRecordSchema = intents(

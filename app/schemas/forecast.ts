@@ -1,6 +1,5 @@
 import { z } from "zod";
 import { intents } from "~/schemas/form";
-import { taskScoreField } from "./session-log";
 
 // Forms and payloads of the forecast area. The worker-forecast payload is one schema for the page loader
 // and for GET /api/v1/workers/:workerId/forecast.
@@ -62,17 +61,23 @@ export const workbenchFormSchema = z.object({
 });
 export type WorkbenchForm = z.infer<typeof workbenchFormSchema>;
 
-export const logSessionFormSchema = z.object({
-  durationHours: z.coerce
-    .number({ message: "Duration must be a number of hours." })
-    .gt(0, "Duration must be more than 0 hours.")
-    .max(8, "Duration must be at most 8 hours in one session."),
-  taskScore: taskScoreField("Task score must be between 0 and 1."),
-  notes: z.string().trim().max(2000, "Notes are limited to 2,000 characters.").optional(),
+/** "Mark as reviewed" on a course's open review flags. */
+export const resolveFlagsSchema = z.object({
+  intent: z.literal("resolve", { message: "Choose what to record." }),
 });
-export type LogSessionForm = z.infer<typeof logSessionFormSchema>;
 
-/** The planning figure is entered as a percentile (80 = the 80th percentile) and stored as a share (0.80). */
+/** "80th percentile": the one way the planning quantile (stored as a share, 0.80) is written on screen. */
+export function percentileLabel(q: number): string {
+  const n = Math.round(q * 100);
+  const suffix =
+    n % 10 === 1 && n !== 11 ? "st" : n % 10 === 2 && n !== 12 ? "nd" : n % 10 === 3 && n !== 13 ? "rd" : "th";
+  return `${n}${suffix} percentile`;
+}
+
+/**
+ * The planning figure is one organisation setting (models page), entered as a percentile (80 = the 80th
+ * percentile) and stored as a share (0.80); forecasts, drift and every allocation run use it.
+ */
 export const planningQuantileSchema = z.object({
   planningQuantile: z.coerce
     .number({ message: "Planning percentile must be a whole number from 50 to 95." })

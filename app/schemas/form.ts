@@ -12,18 +12,8 @@ export interface ActionResult<T = undefined> {
   payload?: T;
 }
 
-// One way to read a form through a zod schema, returning field-level messages the form can show.
+// A JSON body read through a zod schema (the API's `apiAction`), with the first message per field.
 export type FieldErrors = Record<string, string>;
-
-export function formToObject(fd: FormData): Record<string, unknown> {
-  const out: Record<string, unknown> = {};
-  for (const [k, v] of fd.entries()) {
-    if (typeof v !== "string") continue;
-    if (k in out) out[k] = ([] as unknown[]).concat(out[k], v);
-    else out[k] = v;
-  }
-  return out;
-}
 
 export function parseWith<S extends z.ZodType>(
   schema: S,

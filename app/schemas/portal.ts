@@ -1,5 +1,6 @@
 import { z } from "zod";
 import { CONSENT_PURPOSES } from "~/domain/consent-purposes";
+import { withdrawConfirmField } from "./consent";
 
 // Worker portal forms: own consent, review requests; and the assessors' answer to a review.
 const purpose = z.enum(CONSENT_PURPOSES, { message: "Purpose: choose assessment, planning or model." });
@@ -13,9 +14,7 @@ export const giveOwnConsentSchema = z.object({
 export const withdrawOwnConsentSchema = z.object({
   intent: z.literal("withdraw"),
   purpose,
-  confirmErase: z.literal("on", {
-    message: "Tick the box to confirm: what this consent covered is erased at once and cannot be restored.",
-  }),
+  confirmWithdraw: withdrawConfirmField,
 });
 
 export const REVIEW_SUBJECTS = ["forecast", "plan"] as const;

@@ -101,6 +101,49 @@ export function adverseEventsFrom(v: TrainerLogInput): AdverseEventInput[] {
   return out;
 }
 
-export const attendanceSchema = z.object({
-  intent: z.literal("no_show", { message: "Choose what to record." }),
+/** Why a trainee did not come: a fixed list, and "other" with the trainer's words. */
+export const NO_SHOW_REASONS = ["ill", "leave", "work", "declined", "unknown", "other"] as const;
+export type NoShowReason = (typeof NO_SHOW_REASONS)[number];
+export const NO_SHOW_LABELS: Record<NoShowReason, string> = {
+  ill: "Ill or injured",
+  leave: "On leave",
+  work: "Needed at work (shift or line)",
+  declined: "Came but declined the session",
+  unknown: "Did not come, no reason known",
+  other: "Other",
+};
+
+/** A no-show as the trainer records it: a reason from the list, with words when it is "other". */
+export const noShowSchema = z
+  .object({
+    intent: z.literal("no_show", { message: "Choose what to record." }),
+    reason: z.enum(NO_SHOW_REASONS, { message: "No-show reason: choose one from the list." }),
+    reasonNote: z.preprocess(
+      (v) => (typeof v === "string" && v.trim() === "" ? undefined : v),
+      z.string().trim().max(500, "Other reason: at most 500 characters.").optional(),
+    ),
+  })
+  .superRefine((v, ctx) => {
+    if (v.reason === "other" && !v.reasonNote)
+      ctx.addIssue({
+        code: "custom",
+        path: ["reasonNote"],
+        message: "Other reason: say why the trainee did not come.",
+      });
+  });
+export type NoShowInput = z.infer<typeof noShowSchema>;
+
+/** A no-show's reason as a reader sees it (older no-shows were recorded without one). */
+export function noShowText(reason: NoShowReason | null, note: string | null): string {
+  if (!reason) return "no reason recorded";
+  return reason === "other" && note ? `Other: ${note}` : NO_SHOW_LABELS[reason];
+}
+
+/** Why a log with a severe adverse event is never undone (said by the refusal and on the session page). */
+export const SEVERE_STAYS =
+  "This log reported a severe adverse event. Safety reports are never undone: the log, the event and the pause stay on record for the assessors' review. If something in it is wrong, tell the assessor who reviews the course.";
+
+/** Undo of the trainer's own last mark (log or no-show) of the day. */
+export const undoMarkSchema = z.object({
+  intent: z.literal("undo", { message: "Choose what to record." }),
 });

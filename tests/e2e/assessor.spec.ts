@@ -89,6 +89,14 @@ test("assessor: roster with bad rows, consent, manual test, five traces, profile
     const result = page.getByTestId("upload-result");
     await expect(result).toContainText(`${kind}.csv: ${kind} trace`);
     await expect(result).toContainText(expected[kind]);
+    if (kind === "sway") {
+      // The processing before the measures is stated with the result, the method and sources beside it.
+      await expect(page.getByTestId("upload-processing")).toContainText(
+        "recorded at 100.0 Hz, resampled to 100 Hz, low-pass 10 Hz",
+      );
+      await page.getByText("How the sway measures were computed").click();
+      await expect(page.getByTestId("sway-how-computed")).toContainText("Prieto et al. (1996)");
+    }
     // Two measures per trace kind join the manual score: wait for the reloaded table before the next upload.
     await expect(results).toHaveCount(1 + 2 * (i + 1));
     if (kind === "glove") await page.screenshot({ path: testInfo.outputPath("upload-result.png"), fullPage: true });
@@ -110,8 +118,16 @@ test("assessor: roster with bad rows, consent, manual test, five traces, profile
   const workerId = Number(new URL(page.url()).pathname.split("/").pop());
 
   // Withdraw assessment consent: erased at once.
-  await page.getByLabel("Type WITHDRAW to confirm (assessment)").fill("WITHDRAW");
-  await page.getByRole("button", { name: "Withdraw assessment consent" }).click();
+  // Given consent is a summary; the withdrawal is behind "Change", with the same confirmation the worker sees.
+  const consent = page.getByTestId("consent-section");
+  await consent.getByText("Change (withdraw a consent)").click();
+  const withdraw = consent.getByTestId("withdraw-assessment");
+  await withdraw.getByText("Withdraw assessment consent…").click();
+  await expect(withdraw).toContainText("The erasure cannot be undone: erased data do not come back.");
+  const box = withdraw.getByLabel("I understand: this takes effect at once, and the erasure cannot be undone.");
+  await expect(box).not.toBeChecked();
+  await box.check();
+  await withdraw.getByRole("button", { name: "Withdraw assessment consent" }).click();
   await expect(page.getByRole("status")).toContainText(
     "Assessment consent withdrawn. Erased at once (rows deleted): assessment results: 11, trace uploads: 5, assessment sessions: 1",
   );

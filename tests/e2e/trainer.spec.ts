@@ -80,6 +80,23 @@ test("a trainer logs a score and the worker's chart moves; a severe event pauses
   await page.screenshot({ path: testInfo.outputPath("trainer-log-390.png"), fullPage: true });
   await page.getByRole("button", { name: "Save session" }).click();
   await expect(page.getByRole("status")).toContainText("Session logged");
+  // What was saved, as stored, and the way on to the next session.
+  const recorded = page.getByTestId("recorded");
+  await expect(recorded).toContainText("Task score0.66");
+  await expect(recorded).toContainText("Good toe control today.");
+  await expect(recorded).toContainText("Adverse eventsnone");
+  await expect(page.getByTestId("next-session").getByRole("link")).toBeVisible();
+  await expectNoSidewaysScroll(page, 390);
+  await page.screenshot({ path: testInfo.outputPath("trainer-saved-390.png"), fullPage: true });
+
+  // A mistake: undone the same day, the session is to do again, then logged once more.
+  await recorded.getByRole("button", { name: "Undo this log" }).click();
+  await expect(page.getByRole("status")).toContainText("Log undone");
+  expect((await db("training_sessions").where({ id: first }).first()).status).toBe("scheduled");
+  await page.getByLabel("Task score (0–1)").fill("0,66");
+  await page.getByLabel("Notes").fill("Good toe control today.");
+  await page.getByRole("button", { name: "Save session" }).click();
+  await expect(page.getByRole("status")).toContainText('Session logged with task score 0.66 (typed "0,66")');
 
   await worker.reload();
   await expect(points).toHaveCount(before + 1);
@@ -92,6 +109,9 @@ test("a trainer logs a score and the worker's chart moves; a severe event pauses
   await page.getByLabel("Numbness or tingling: what happened (optional)").fill("Numb toes after 20 minutes; stopped.");
   await page.getByRole("button", { name: "Save session" }).click();
   await expect(page.getByRole("status")).toContainText("Training is paused");
+  // A severe event report is never undone, and the page says so.
+  await expect(page.getByTestId("undo-refused")).toContainText("Safety reports are never undone");
+  await expect(page.getByRole("button", { name: /^Undo/ })).toHaveCount(0);
   const mail = await outbox.waitFor(
     (m) =>
       m.subject === `Training paused: severe adverse event for ${w.employeeNumber}` &&
@@ -103,6 +123,37 @@ test("a trainer logs a score and the worker's chart moves; a severe event pauses
   await expect(worker.getByTestId("stage")).toHaveText("Paused");
   await page.goto("/train");
   await expect(page.getByTestId(`session-${first}`)).toContainText("Logged");
+});
+
+test("a no-show is recorded with a reason from the trainer's day, and counted on the worker's progress", async ({
+  page,
+  signInAs,
+  stack,
+}) => {
+  const db = sql(stack.databaseUrl);
+  const w = await portalAccount(db, 1);
+  const id = await schedule(db, w.id, w.device.id, await inesTrainerId(db), startThisWeek(2), 30);
+  await page.setViewportSize({ width: 390, height: 860 });
+  await signInAs(page, persona("trainer").email);
+  await page
+    .getByTestId(`session-${id}`)
+    .getByRole("link", { name: /^No-show/ })
+    .click();
+  const form = page.getByRole("region", { name: "The trainee did not come" });
+  await form.getByRole("button", { name: "Record no-show" }).click();
+  await expect(form.getByText("No-show reason: choose one from the list.")).toBeVisible();
+  await form.getByLabel("Other", { exact: true }).check();
+  await form.getByRole("button", { name: "Record no-show" }).click();
+  await expect(form.getByText("Other reason: say why the trainee did not come.")).toBeVisible();
+  await form.getByLabel("Other reason: what happened (required for other)").fill("Bus strike this morning.");
+  await form.getByRole("button", { name: "Record no-show" }).click();
+  await expect(page.getByRole("status")).toContainText("No-show recorded");
+  await expect(page.getByTestId("recorded")).toContainText("Reason: Other: Bus strike this morning.");
+  await expect(page.getByTestId("recorded").getByRole("button", { name: "Undo this no-show" })).toBeVisible();
+  await page.getByRole("link", { name: "Trainee's progress curve" }).click();
+  await expect(page.getByTestId("no-shows")).toContainText("Other: Bus strike this morning. (1)");
+  await expect(page.getByTestId("log-here")).toBeVisible();
+  await expect(page.getByLabel("Practice time (hours)")).toHaveCount(0);
 });
 
 test("a trainer cannot open or record another trainer's session (403)", async ({ page, signInAs, stack }) => {

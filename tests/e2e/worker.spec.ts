@@ -89,12 +89,22 @@ test("a worker sees their plan, downloads their data, withdraws planning consent
   await page.getByRole("navigation").getByRole("link", { name: "My consent" }).click();
   const planning = page.getByTestId("consent-planning");
   await expect(page.getByTestId("consent-status-planning")).toContainText("Given");
+  // Given: a summary; the text and the withdrawal are behind "Change", with what cannot be undone said exactly.
+  await expect(planning.getByRole("button", { name: "Withdraw planning consent" })).toBeHidden();
+  await planning.getByText("Change", { exact: true }).click();
+  await planning.getByText("Withdraw planning consent…").click();
+  await expect(planning).toContainText("The erasure cannot be undone: erased data do not come back.");
+  await expect(planning).toContainText("Consent can be given again later");
+  const confirm = planning.getByLabel("I understand: this takes effect at once, and the erasure cannot be undone.");
+  await expect(confirm).not.toBeChecked();
   await planning.getByRole("button", { name: "Withdraw planning consent" }).click();
-  await expect(planning.getByText("Tick the box to confirm")).toBeVisible(); // refused without the confirmation
-  await planning.getByLabel("I understand this happens at once and cannot be undone.").check();
+  await expect(planning.getByText("Confirm withdrawal: tick the box")).toBeVisible(); // refused without the confirmation
+  await planning.getByLabel("I understand: this takes effect at once, and the erasure cannot be undone.").check();
   await planning.getByRole("button", { name: "Withdraw planning consent" }).click();
   await expect(page.getByRole("status")).toContainText("Your planning consent is withdrawn");
   await expect(page.getByTestId("consent-status-planning")).toContainText("Withdrawn");
+  // Withdrawn: it can be given again, and the box is not ticked for the worker.
+  await expect(planning.getByLabel(/I have read the current text/)).not.toBeChecked();
   await page.screenshot({ path: testInfo.outputPath("worker-consent-withdrawn-390.png"), fullPage: true });
 
   // Gone from the plans: no sessions ahead, no forecast, the coordinator told.

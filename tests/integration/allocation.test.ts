@@ -1,7 +1,7 @@
 import crypto from "node:crypto";
 import { describe, expect, inject, it } from "vitest";
 import { readOutbox } from "../../scripts/smtp-catcher";
-import { type Browserless, baseUrl, PERSONA, signIn, testDb } from "./helpers";
+import { type Browserless, baseUrl, PERSONA, pageText, signIn, testDb } from "./helpers";
 
 // Allocator application against the real built server and the seeded demo database: runs solve in
 // the background (worker thread) and report progress; publishing writes dated sessions that keep every rule
@@ -44,7 +44,7 @@ async function planVersionOnPage(client: Browserless, id: number): Promise<numbe
   return Number(m![1]);
 }
 
-const RUN = { startDate: "2026-12-07", horizonWeeks: "6", planningQuantile: "80", fairnessShare: "20" };
+const RUN = { startDate: "2026-12-07", horizonWeeks: "6", fairnessShare: "20" };
 
 type SessionRow = {
   id: number;
@@ -196,7 +196,6 @@ describe("allocation runs", () => {
     const res = await client.postForm("/coordinate/runs", {
       startDate: "2026-12-08",
       horizonWeeks: "0",
-      planningQuantile: "40",
       fairnessShare: "120",
     });
     // Every form action answers bad input with 400 and the page, messages at the fields; no run is created.
@@ -205,7 +204,6 @@ describe("allocation runs", () => {
     const html = await res.text();
     expect(html).toContain("The start date must be a Monday.");
     expect(html).toContain("Horizon is at least 1 week.");
-    expect(html).toContain("Planning quantile must be above 0.5");
     expect(html).toContain("Fairness share is at most 1.");
   });
 
@@ -240,7 +238,19 @@ describe("allocation runs", () => {
         .first("f.id");
       expect(f).toBeDefined();
     }
+    // The run plans at the organisation's planning quantile, the one setting (docs/methods.md): stored with the
+    // run, used for the hours needed and shown read-only.
+    const org = await k()("organisations").first("planning_quantile");
+    expect(JSON.parse(stored.parameters).planningQuantile).toBe(Number(org.planning_quantile));
+    expect(JSON.parse(stored.problem).planningQuantile).toBe(Number(org.planning_quantile));
     const html = await (await client.request(`/coordinate/runs/${id}`)).text();
+    expect(pageText(html)).toContain("planning figure: the 80th percentile");
+    const form = await (await client.request("/coordinate/runs")).text();
+    expect(form).not.toContain('name="planningQuantile"');
+    expect(pageText(form)).toContain(
+      "Hours needed = the 80th percentile of each worker's forecast: the organisation's setting, used by every run",
+    );
+    expect(pageText(form)).toContain("An assessor changes it under Forecast models.");
     expect(html).toContain("Proven bound");
     expect(html).toContain('data-testid="plan-table"');
     expect(html).toContain("Safety cautions for wearable devices");
@@ -453,7 +463,7 @@ describe("API /api/v1/allocation-runs", () => {
       headers: { "Content-Type": "application/json", ...(key ? { Authorization: `Bearer ${key}` } : {}) },
       body: JSON.stringify(body),
     });
-  const params = { startDate: "2026-12-07", horizonWeeks: 4, planningQuantile: 0.8, fairnessShare: 0.2 };
+  const params = { startDate: "2026-12-07", horizonWeeks: 4, fairnessShare: 0.2 };
 
   it("starts a run for a coordinator key and reports its status and result", async () => {
     const key = await makeKey("coordinator", ["NY"]);
@@ -493,6 +503,14 @@ describe("API /api/v1/allocation-runs", () => {
     const body = await res.json();
     expect(body.fields.startDate).toBe("The start date must be a Monday.");
     expect(body.fields.fairnessShare).toBe("Fairness share is at most 1.");
+    // The planning quantile is the organisation's setting, not a run parameter: a body naming it is refused.
+    const before = await k()("allocation_runs").count({ n: "*" }).first();
+    const own = await post(key, { ...params, planningQuantile: 0.9 });
+    expect(own.status).toBe(400);
+    expect((await own.json()).fields.planningQuantile).toBe(
+      "Planning quantile: runs use the organisation's planning percentile, set by an assessor under Forecast models; leave it out.",
+    );
+    expect(await k()("allocation_runs").count({ n: "*" }).first()).toEqual(before);
   });
 
   it("refuses non-coordinator keys (403) and anonymous callers (401)", async () => {

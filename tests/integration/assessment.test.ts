@@ -3,6 +3,7 @@ import fs from "node:fs";
 import path from "node:path";
 import ExcelJS from "exceljs";
 import { afterAll, beforeAll, describe, expect, inject, it } from "vitest";
+import { SWAY_PROCESSING } from "~/compute/features/sway-processing";
 import { computeTrace, parseTrace } from "~/compute/trace-parsing";
 import {
   type Browserless,
@@ -70,7 +71,7 @@ describe("refusals: coordinator, manager and admin never get assessment data", (
       const w = await client.postForm(`/assess/workers/${workerId}`, {
         intent: "withdraw",
         purpose: "assessment",
-        confirm: "WITHDRAW",
+        confirmWithdraw: "on",
       });
       expect(w.status, `${who} withdraw`).toBe(403);
       const s = await client.postForm(`/assess/workers/${workerId}`, { intent: "session", assessedOn: "2026-11-20" });
@@ -385,6 +386,16 @@ describe("consent, baseline battery and withdrawal", () => {
       const stored = JSON.parse(up.computed) as Record<string, number>;
       for (const [key, v] of Object.entries(expected)) expect(stored[key], `${file} ${key}`).toBeCloseTo(v, 9);
       expect(up.row_count).toBe(rows.length - 1);
+      // The processing is stored with the trace: sway only (30 s at 100 Hz in the demo file).
+      if (kind === "sway")
+        expect(up).toMatchObject({
+          sample_rate_hz: expect.closeTo(100, 6),
+          resampled_rate_hz: 100,
+          filter: SWAY_PROCESSING.filter,
+          cutoff_hz: 10,
+          duration_seconds: expect.closeTo(29.99, 9),
+        });
+      else expect(up).toMatchObject({ resampled_rate_hz: null, filter: null, cutoff_hz: null, duration_seconds: null });
     }
     const results = await k("assessment_results as r")
       .join("measures as m", "m.id", "r.measure_id")
@@ -409,6 +420,9 @@ describe("consent, baseline battery and withdrawal", () => {
     const html = await page.text();
     expect(html).toContain('data-testid="profile-table"');
     expect(text(html)).toContain("Sway 95 % ellipse area");
+    // Where sway measures appear, so does how they were computed, with its sources.
+    expect(text(html)).toContain("How the sway measures were computed");
+    expect(text(html)).toContain("Prieto et al. (1996), IEEE Transactions on Biomedical Engineering 43:956–966");
     expect(await countLog()).toBe(logged + 1);
     const readLog = await k("access_log")
       .where({ worker_id: worker.id, actor_user_id: me.id })
@@ -432,7 +446,7 @@ describe("consent, baseline battery and withdrawal", () => {
     const w = await assessor.postForm(`/assess/workers/${worker.id}`, {
       intent: "withdraw",
       purpose: "assessment",
-      confirm: "WITHDRAW",
+      confirmWithdraw: "on",
     });
     expect(w.status).toBe(200);
     expect(await k("assessment_sessions").where({ worker_id: worker.id }).count({ n: "*" }).first()).toEqual({ n: 0 });
@@ -483,6 +497,20 @@ describe("consent, baseline battery and withdrawal", () => {
       expect(res.status, file).toBe(422);
       expect(text(await res.text()), file).toContain(message);
     }
+    // Too short: the first 15 s of the demo recording. Refused with the minimum named; nothing stored.
+    const sway = fs.readFileSync(path.join(TRACES, "sway.csv"), "utf8").split("\n");
+    const short = await assessor.request(url, {
+      method: "POST",
+      body: multipart(
+        { intent: "upload", kind: "sway" },
+        { field: "trace", name: "sway-15s.csv", bytes: Buffer.from(`${sway.slice(0, 1501).join("\n")}\n`) },
+      ),
+    });
+    expect(short.status).toBe(422);
+    const shortText = text(await short.text());
+    expect(shortText).toContain("sway-15s.csv was not stored");
+    expect(shortText).toContain("t: the sway recording lasts 14.99 s; at least 20 s is needed");
+    expect(await k("assessment_results").where({ session_id: sessionId }).first()).toBeUndefined();
     const declared = await assessor.request(url, {
       method: "POST",
       body: multipart(

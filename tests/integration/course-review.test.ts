@@ -130,7 +130,6 @@ describe("a paused course is reviewed and resumed", () => {
     const params = runParametersSchema.parse({
       startDate: nextMonday(),
       horizonWeeks: 4,
-      planningQuantile: 0.8,
       fairnessShare: 0,
       pool: { siteIds: [w.site_id] },
     });
@@ -298,7 +297,6 @@ describe("a paused course is reviewed and resumed", () => {
       runParametersSchema.parse({
         startDate: nextMonday(),
         horizonWeeks: 4,
-        planningQuantile: 0.8,
         fairnessShare: 0,
         pool: { siteIds: [w.site_id] },
       }),

@@ -205,7 +205,6 @@ describe("SQLite and PostgreSQL give the same numbers for the same demo", () => 
     const params = runParametersSchema.parse({
       startDate: "2026-12-07",
       horizonWeeks: 6,
-      planningQuantile: 0.8,
       fairnessShare: 0.2,
     });
     const [pa, pb] = await both((k) => buildProblem(params, everywhere, k));

@@ -3,12 +3,13 @@ import crypto from "node:crypto";
 import jStatLib from "jstat";
 import { inverse, Matrix } from "ml-matrix";
 import { afterAll, describe, expect, it } from "vitest";
+import { addMinutesToWallClock, dateIn, todayIn, wallClockAt } from "~/dates";
 import { eraseForecasts } from "~/models/forecast.server";
 import { reliabilityByMeasure } from "~/models/reliability-report.server";
 import { ERASURE_STEPS } from "~/models/withdrawal.server";
 import { workerForecastSchema } from "~/schemas/forecast";
 import { independentLogLikelihood, nelderMeadMaximise } from "../reference/censored-likelihood";
-import { baseUrl, PERSONA, signIn, testDb } from "./helpers";
+import { baseUrl, PERSONA, pageText, signIn, testDb } from "./helpers";
 
 const jStat = jStatLib as { binomial: { cdf(x: number, n: number, p: number): number } };
 
@@ -450,57 +451,77 @@ describe("a worker outside the reader's scope", () => {
 
 describe("logging sessions: cumulative hours, proficiency, stage and forecast in one step", () => {
   it("moves the forecast, then marks the course proficient with its date and hours once the criterion is met", async () => {
-    const deviceTypeId = await device("EXO-BACK");
-    const criterion = await k("proficiency_criteria").where({ device_type_id: deviceTypeId }).first();
+    // Logged as the trainer does it, on the session log of sessions on their schedule (the one place a
+    // session is logged): a trainee in training, with a forecast, on a device the trainer is certified for.
+    const trainer = await k("trainers as t")
+      .join("users as u", "u.id", "t.user_id")
+      .join("sites as s", "s.id", "t.site_id")
+      .where("u.email", PERSONA.trainer)
+      .first("t.id", "s.time_zone");
     const course = await k("device_courses as c")
       .join("forecasts as f", function () {
         this.on("f.worker_id", "c.worker_id").andOn("f.device_type_id", "c.device_type_id");
       })
-      .where({ "c.device_type_id": deviceTypeId, "c.status": "training" })
+      .join("trainer_certifications as tc", function () {
+        this.on("tc.device_type_id", "c.device_type_id").andOn("tc.trainer_id", k.raw("?", [trainer.id]));
+      })
+      .join("proficiency_criteria as pc", "pc.device_type_id", "c.device_type_id")
+      .join("workers as w", "w.id", "c.worker_id")
+      .where({ "c.status": "training", "w.stage": "training" })
       .orderBy("c.worker_id", "desc")
       .first("c.*");
     const w = course.worker_id as number;
+    const deviceTypeId = course.device_type_id as number;
+    const criterion = await k("proficiency_criteria").where({ device_type_id: deviceTypeId }).first();
     const before = await k("forecasts").where({ worker_id: w, device_type_id: deviceTypeId }).first();
-    const sessionsBefore = Number(
-      (await k("training_sessions").where({ worker_id: w, device_type_id: deviceTypeId }).count({ n: "*" }).first())?.n,
-    );
-    const { client } = await signIn(PERSONA.assessor);
-    const path = `/progress/${w}/${deviceTypeId}`;
-
-    const bad = await client.postForm(path, { intent: "log", durationHours: "1", taskScore: "1.5" });
-    expect(bad.status).toBe(400);
-    expect(await bad.text()).toContain("Task score must be between 0 and 1.");
-    // Over the wear-time limit is saved with a safety finding (tests/integration/course-review.test.ts); over 8 h is not a session.
-    const tooLong = await client.postForm(path, { intent: "log", durationHours: "9", taskScore: "0.5" });
-    expect(tooLong.status).toBe(400);
-    expect(await tooLong.text()).toContain("Duration must be at most 8 hours in one session.");
+    const { client } = await signIn(PERSONA.trainer);
+    const today = todayIn(trainer.time_zone);
+    let hour = 8;
+    /** A one-hour session on the trainer's schedule today, logged through the session page. */
+    const logOne = async (taskScore: string, notes?: string) => {
+      const start = wallClockAt(today, `${String(hour).padStart(2, "0")}:00`);
+      const end = addMinutesToWallClock(start, 60);
+      hour += 1;
+      const [row] = await k("training_sessions")
+        .insert({
+          worker_id: w,
+          device_type_id: deviceTypeId,
+          trainer_id: trainer.id,
+          status: "scheduled",
+          scheduled_start: start,
+          scheduled_end: end,
+          created_at: new Date().toISOString(),
+        })
+        .returning("id");
+      const id = typeof row === "object" ? row.id : row;
+      const res = await client.postForm(`/train/sessions/${id}`, {
+        intent: "log",
+        start: start.slice(0, 16),
+        end: end.slice(0, 16),
+        taskScore,
+        ...(notes ? { notes } : {}),
+      });
+      return { id: id as number, res };
+    };
 
     const low = Number(criterion.score_threshold) - 0.3;
-    expect(
-      (await client.postForm(path, { intent: "log", durationHours: "1", taskScore: String(low), notes: "it" })).status,
-    ).toBe(200);
+    const first = await logOne(String(low), "it");
+    expect(first.res.status).toBe(200);
     const c1 = await k("device_courses").where({ id: course.id }).first();
     expect(Number(c1.cumulative_hours)).toBeCloseTo(Number(course.cumulative_hours) + 1, 9);
     expect(c1.status).toBe("training");
     const after1 = await k("forecasts").where({ worker_id: w, device_type_id: deviceTypeId }).first();
     expect(Number(after1.hours_done)).toBeCloseTo(Number(c1.cumulative_hours), 9);
     expect(after1.remaining_hours).not.toBe(before.remaining_hours);
-    expect(
-      Number(
-        (await k("training_sessions").where({ worker_id: w, device_type_id: deviceTypeId }).count({ n: "*" }).first())
-          ?.n,
-      ),
-    ).toBe(sessionsBefore + 1);
-    const last = await k("training_sessions")
-      .where({ worker_id: w, device_type_id: deviceTypeId })
-      .orderBy("id", "desc")
-      .first();
+    const last = await k("training_sessions").where({ id: first.id }).first();
     expect(Number(last.cumulative_hours)).toBeCloseTo(Number(c1.cumulative_hours), 9);
     expect(Number(last.task_score)).toBeCloseTo(low, 9);
 
     const high = String(Math.min(1, Number(criterion.score_threshold) + 0.05));
+    let hit = first;
     for (let i = 0; i < Number(criterion.consecutive_sessions); i++) {
-      expect((await client.postForm(path, { intent: "log", durationHours: "1", taskScore: high })).status).toBe(200);
+      hit = await logOne(high);
+      expect(hit.res.status).toBe(200);
     }
     const done = await k("device_courses").where({ id: course.id }).first();
     expect(done.status).toBe("proficient");
@@ -508,7 +529,9 @@ describe("logging sessions: cumulative hours, proficiency, stage and forecast in
       Number(course.cumulative_hours) + 1 + Number(criterion.consecutive_sessions),
       9,
     );
-    expect(String(done.proficient_on)).toBe(new Date().toISOString().slice(0, 10));
+    // The day of the session that met the criterion (its start, as logged).
+    const hitRow = await k("training_sessions").where({ id: hit.id }).first("logged_at");
+    expect(String(done.proficient_on)).toBe(dateIn(hitRow.logged_at, "UTC"));
     expect((await k("workers").where({ id: w }).first("stage")).stage).toBe("proficient");
     const change = await k("stage_changes")
       .where({ worker_id: w, to_stage: "proficient", device_type_id: deviceTypeId })
@@ -523,9 +546,69 @@ describe("logging sessions: cumulative hours, proficiency, stage and forecast in
     );
 
     // No sessions after proficiency.
-    const more = await client.postForm(path, { intent: "log", durationHours: "1", taskScore: "0.9" });
-    expect(more.status).toBe(409);
-    expect(await more.text()).toContain("already reached proficiency");
+    const more = await logOne("0.9");
+    expect(more.res.status).toBe(409);
+    expect(await more.res.text()).toContain("already reached proficiency");
+  });
+
+  it("a course in training is forecast by the simulated k-in-a-row rule under the curve chosen by AICc, and the page says which", async () => {
+    // A seeded course whose curve informs the forecast (status "combined").
+    const row = await k("forecasts as f")
+      .join("device_courses as c", function () {
+        this.on("c.worker_id", "f.worker_id").andOn("c.device_type_id", "f.device_type_id");
+      })
+      .where({ "f.progress_status": "combined", "c.status": "training" })
+      .orderBy("f.id")
+      .first("f.*");
+    expect(row).toBeTruthy();
+    const stored = JSON.parse(row.progress);
+    // Both curves were fitted; the one kept has the lower AICc (recomputed here from each candidate's RSS,
+    // AICc = n·ln(RSS/n) + 2K + 2K(K + 1)/(n − K − 1), K = 4; Burnham & Anderson 2002).
+    const sessions = await k("training_sessions")
+      .where({ worker_id: row.worker_id, device_type_id: row.device_type_id, status: "attended" })
+      .whereNotNull("task_score")
+      .orderBy([{ column: "cumulative_hours" }, { column: "id" }])
+      .select("duration_hours", "cumulative_hours");
+    const n = sessions.length;
+    const candidates = stored.curveChoice.candidates as { kind: string; residualSS: number; aicc: number | null }[];
+    expect(candidates.map((c) => c.kind).sort()).toEqual(["exponential", "power"]);
+    for (const c of candidates) {
+      if (c.aicc !== null) expect(c.aicc).toBeCloseTo(n * Math.log(c.residualSS / n) + 8 + 40 / (n - 5), 8);
+    }
+    const scored = candidates.filter((c) => c.aicc !== null);
+    if (scored.length === 2) {
+      const best = scored.reduce((a, b) => ((a.aicc as number) <= (b.aicc as number) ? a : b));
+      expect(stored.curve.kind).toBe(best.kind);
+    }
+    // The simulation continued the log in sessions of the median logged length.
+    const lengths = sessions.map((s) => Number(s.duration_hours)).sort((a, b) => a - b);
+    const mid = lengths.length / 2;
+    const medianLength = lengths.length % 2 ? lengths[Math.floor(mid)] : (lengths[mid - 1] + lengths[mid]) / 2;
+    expect(stored.simulation.sessionHours).toBeCloseTo(medianLength, 9);
+    expect(stored.simulation.draws).toBe(2000);
+    expect(Number(row.remaining_planning_hours)).toBeGreaterThan(Number(row.remaining_hours));
+
+    const { client } = await signIn(PERSONA.assessor);
+    const text = pageText(await (await client.request(`/progress/${row.worker_id}/${row.device_type_id}`)).text());
+    expect(text).toContain(`Curve used: ${stored.curve.kind === "power" ? "power law" : "exponential"}`);
+    expect(text).toContain("2,000 simulated courses");
+    expect(text).toContain(
+      `${(await k("proficiency_criteria").where({ device_type_id: row.device_type_id }).first()).consecutive_sessions} sessions in a row score at least`,
+    );
+  });
+
+  it("a course whose chosen curve levels off below the criterion is flagged for review, with no number", async () => {
+    const flag = await k("review_flags").where({ kind: "plateau" }).whereNull("resolved_at").first();
+    expect(flag).toBeTruthy();
+    const f = await k("forecasts").where({ worker_id: flag.worker_id, device_type_id: flag.device_type_id }).first();
+    expect(f.progress_status).toBe("review");
+    expect(f.remaining_hours).toBeNull();
+    expect(f.remaining_planning_hours).toBeNull();
+    const stored = JSON.parse(f.progress);
+    const criterion = await k("proficiency_criteria").where({ device_type_id: flag.device_type_id }).first();
+    expect(stored.curve.asymptote).toBeLessThan(Number(criterion.score_threshold));
+    expect(flag.reason).toContain(`levels off at ${stored.curve.asymptote.toPrecision(3)}`);
+    expect(stored.simulation).toBeNull();
   });
 
   it("trainers reach only trainees on their own schedule", async () => {

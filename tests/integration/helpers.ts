@@ -122,6 +122,13 @@ export function pageText(html: string, options: { dropScripts?: boolean } = {}):
     .replace(/&gt;/g, ">");
 }
 
+/** Checkboxes rendered ticked: consent is an affirmative act, so none may be before the person ticks it. */
+export function tickedBoxes(html: string): string[] {
+  return (html.match(/<input[^>]*>/g) ?? []).filter(
+    (t) => t.includes('type="checkbox"') && /\schecked(=|\s|\/|>)/.test(t),
+  );
+}
+
 /**
  * A worker with no consent records and no assessment data, given assessment consent by `assessor` through the
  * app (the demo assessor persona witnesses). `pick`: the first such worker by id, or the last.

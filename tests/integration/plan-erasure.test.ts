@@ -33,7 +33,7 @@ describe("assessor-recorded planning withdrawal", () => {
     const res = await client.postForm(`/assess/workers/${row.id}`, {
       intent: "withdraw",
       purpose: "planning",
-      confirm: "WITHDRAW",
+      confirmWithdraw: "on",
     });
     expect(res.status).toBe(200);
     const after = Number(

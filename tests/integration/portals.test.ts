@@ -3,7 +3,7 @@ import { describe, expect, inject, it } from "vitest";
 import { buildProblem } from "~/models/allocation-problem.server";
 import { runParametersSchema } from "~/schemas/allocation";
 import { readOutbox } from "../../scripts/smtp-catcher";
-import { PERSONA, signIn, testDb } from "./helpers";
+import { PERSONA, pageText, signIn, testDb, tickedBoxes } from "./helpers";
 
 // Worker and trainer portals against the running stack and the invented demo (seeds/07_portals_demo.ts:
 // two worker accounts among Ines Calloway's trainees, her scheduled sessions). Each test makes the rows it
@@ -288,7 +288,6 @@ describe("consent from the worker portal", () => {
     const params = runParametersSchema.parse({
       startDate: nextMonday.toISOString().slice(0, 10),
       horizonWeeks: 4,
-      planningQuantile: 0.8,
       fairnessShare: 0.2,
       pool: { siteIds: [me.site_id] },
     });
@@ -303,16 +302,29 @@ describe("consent from the worker portal", () => {
     expect(page).toContain(text.body.slice(0, 40));
 
     // No confirmation: refused with the field named, nothing erased.
+    // Given: the form is a summary with "Change"; the withdrawal sits behind it, with the one confirmation pattern.
+    const planningCard = page.slice(
+      page.indexOf('data-testid="consent-planning"'),
+      page.indexOf('data-testid="consent-model"'),
+    );
+    expect(planningCard).toContain('data-testid="consent-change-planning"');
+    expect(planningCard).toContain('data-testid="withdraw-planning"');
+    expect(pageText(planningCard)).toContain(
+      "The erasure cannot be undone: erased data do not come back. Consent can be given again later",
+    );
+    expect(tickedBoxes(planningCard)).toEqual([]);
+
+    // No confirmation: refused with the field named, nothing erased.
     const unconfirmed = await client.postForm("/me/consent", { intent: "withdraw", purpose: "planning" });
     expect(unconfirmed.status).toBe(400);
-    expect(await unconfirmed.text()).toContain("Tick the box to confirm");
+    expect(pageText(await unconfirmed.text())).toContain("Confirm withdrawal: tick the box");
     expect(Number((await k("forecasts").where({ worker_id: me.id }).count({ n: "*" }).first())?.n)).toBeGreaterThan(0);
 
     // Confirmed, with another worker's id slipped into the form: only the signed-in worker is affected.
     const res = await client.postForm("/me/consent", {
       intent: "withdraw",
       purpose: "planning",
-      confirmErase: "on",
+      confirmWithdraw: "on",
       workerId: String(other.id),
     });
     expect(res.status).toBe(200);
@@ -374,9 +386,22 @@ describe("consent from the worker portal", () => {
     );
 
     // Withdrawing again: a clear refusal.
-    const again = await client.postForm("/me/consent", { intent: "withdraw", purpose: "planning", confirmErase: "on" });
+    const again = await client.postForm("/me/consent", {
+      intent: "withdraw",
+      purpose: "planning",
+      confirmWithdraw: "on",
+    });
     expect(again.status).toBe(409);
     expect(await again.text()).toContain("There is no given planning consent to withdraw.");
+
+    // Withdrawn: the give form is back, its box not ticked.
+    const regive = await (await client.request("/me/consent")).text();
+    const card = regive.slice(
+      regive.indexOf('data-testid="consent-planning"'),
+      regive.indexOf('data-testid="consent-model"'),
+    );
+    expect(card).toContain('name="confirmRead"');
+    expect(tickedBoxes(card)).toEqual([]);
 
     // Giving it again records a self-given consent (no witness) on the current text and brings the forecast back.
     const give = await client.postForm("/me/consent", { intent: "give", purpose: "planning", confirmRead: "on" });
@@ -473,8 +498,9 @@ describe("the trainer's day and session log", () => {
     ).toBe(403);
     expect(await k("training_sessions").where({ id: notMine }).first()).toEqual(before);
     // Marking no-show on one of her own.
-    expect((await client.postForm(`/train/sessions/${mine}`, { intent: "no_show" })).status).toBe(302);
-    expect((await k("training_sessions").where({ id: mine }).first()).status).toBe("no_show");
+    expect((await client.postForm(`/train/sessions/${mine}`, { intent: "no_show", reason: "leave" })).status).toBe(200);
+    const marked = await k("training_sessions").where({ id: mine }).first();
+    expect([marked.status, marked.no_show_reason]).toEqual(["no_show", "leave"]);
   });
 
   it("logs a score through the forecast area's logSessionResult; a severe event pauses the worker and e-mails the site's assessors", async () => {
@@ -595,5 +621,61 @@ describe("the trainer's day and session log", () => {
     expect(await blocked.text()).toContain("This course is paused");
     expect((await k("training_sessions").where({ id: s3 }).first()).status).toBe("scheduled");
     expect(await (await workerClient.request("/me")).text()).toContain("Your training is paused");
+  });
+});
+
+describe("consent on the assessor's worker page", () => {
+  it("renders no ticked box before consent, then collapses what is given behind Change with the one withdrawal confirmation", async () => {
+    const { client: assessor } = await signIn(PERSONA.assessor);
+    const w = await k("workers")
+      .where({ stage: "invited" })
+      .whereNotExists(k("consent_records").whereRaw("consent_records.worker_id = workers.id"))
+      .orderBy("id", "desc")
+      .offset(1) // freshConsentedWorker takes the last one
+      .first("id");
+    const section = async () => {
+      const html = await (await assessor.request(`/assess/workers/${w.id}`)).text();
+      return html.slice(html.indexOf('data-testid="consent-section"'), html.indexOf("Consent history"));
+    };
+    const before = await section();
+    expect(tickedBoxes(before)).toEqual([]);
+    for (const pp of ["assessment", "planning", "model"]) expect(before).toContain(`name="purposes" value="${pp}"`);
+    expect(before).not.toContain('data-testid="consent-change"');
+
+    const me = await k("users").where({ email: PERSONA.assessor }).first("id");
+    const res = await assessor.postForm(`/assess/workers/${w.id}`, {
+      intent: "consent",
+      purposes: ["assessment", "planning"],
+      witnessUserId: String(me.id),
+      confirmRead: "on",
+    });
+    expect(res.status).toBe(200);
+    const after = await section();
+    expect(tickedBoxes(after)).toEqual([]);
+    // Only model is still asked for; the given purposes sit behind "Change", each with the shared confirmation.
+    expect(after).toContain('name="purposes" value="model"');
+    expect(after).not.toContain('name="purposes" value="assessment"');
+    expect(after).toContain('data-testid="consent-change"');
+    expect(after).toContain('data-testid="withdraw-assessment"');
+    expect(after).toContain('data-testid="withdraw-planning"');
+    expect(after).toContain('name="confirmWithdraw"');
+    expect(pageText(after)).toContain(
+      "The erasure cannot be undone: erased data do not come back. Consent can be given again later",
+    );
+    // The same wording and field as on the worker's own page; without the box ticked, nothing is withdrawn.
+    const refused = await assessor.postForm(`/assess/workers/${w.id}`, { intent: "withdraw", purpose: "planning" });
+    expect(refused.status).toBe(400);
+    expect(pageText(await refused.text())).toContain("Confirm withdrawal: tick the box");
+    const ok = await assessor.postForm(`/assess/workers/${w.id}`, {
+      intent: "withdraw",
+      purpose: "planning",
+      confirmWithdraw: "on",
+    });
+    expect(ok.status).toBe(200);
+    const last = await k("consent_records")
+      .where({ worker_id: w.id, purpose: "planning" })
+      .orderBy("id", "desc")
+      .first();
+    expect(last.status).toBe("withdrawn");
   });
 });

@@ -12,7 +12,7 @@ import { type Browserless, PERSONA, signIn, testDb } from "./helpers";
 // export and API and compared with the database rows (read here with plain SQL, not the app's reader).
 
 const k = () => testDb();
-const RUN = { startDate: "2026-12-07", horizonWeeks: "6", planningQuantile: "80", fairnessShare: "0" };
+const RUN = { startDate: "2026-12-07", horizonWeeks: "6", fairnessShare: "0" };
 
 async function startRun(client: Browserless, fields: Record<string, string>): Promise<number> {
   const res = await client.postForm("/coordinate/runs", fields);

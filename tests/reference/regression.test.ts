@@ -6,6 +6,7 @@ import {
   leaveOneOut,
   plannedHours,
   plannedHoursFromLogScale,
+  ridgeByGcv,
   standardize,
 } from "~/compute/regression";
 import { seededGaussian } from "~/compute/seeded-random";
@@ -356,5 +357,65 @@ describe("input checks", () => {
     ).toThrow(/linearly dependent/);
     expect(() => fitLinearModel([[1], [2]], [1, 2])).toThrow(/more records than parameters/);
     expect(() => fitLinearModel([[1], [1], [1]], [1, 2, 3])).toThrow(/constant/);
+  });
+});
+
+describe("ridge penalty by generalised cross-validation (Golub, Heath & Wahba 1979)", () => {
+  // GCV(λ) = n·RSS(λ)/(n − tr H(λ))², evaluated here directly: H = 11ᵀ/n + Xc(XcᵀXc + λI)⁻¹Xcᵀ built with
+  // ml-matrix's inverse, RSS = ‖(I − H)y‖². Independent of the SVD shortcut in ridgeByGcv.
+  function directGcv(X: number[][], y: number[], lambda: number) {
+    const { Xc, n, k } = centred(X, y);
+    const H = Xc.mmul(inverse(Xc.transpose().mmul(Xc).add(Matrix.eye(k).mul(lambda)))).mmul(Xc.transpose());
+    H.add(Matrix.ones(n, n).div(n));
+    const r = Matrix.columnVector(y).sub(H.mmul(Matrix.columnVector(y)));
+    const rss = r.to1DArray().reduce((s, v) => s + v * v, 0);
+    return (n * rss) / (n - H.trace()) ** 2;
+  }
+  // Few records, many nearly collinear measures: the case ridge is for.
+  const gauss = seededGaussian(91);
+  const base = syntheticCohort(90, 18, [1, 0.6, -0.4, 0.2, 0, 0.1, 0], 0.6);
+  const X = base.X.map((r) => [...r, r[0] + 0.05 * gauss(), r[1] - r[2] + 0.05 * gauss()]);
+  const y = base.y;
+  const choice = ridgeByGcv(X, y);
+
+  it("the GCV path equals the direct evaluation at every grid point (1e-9 relative)", () => {
+    const points = choice.path.filter((_, i) => i % 10 === 0);
+    expect(points.length).toBeGreaterThan(10);
+    for (const p of points) expect(relativeError(p.gcv, directGcv(X, y, p.lambda))).toBeLessThan(1e-9);
+    expect(relativeError(choice.gcv, directGcv(X, y, choice.lambda))).toBeLessThan(1e-9);
+  });
+
+  it("the chosen λ minimises the direct GCV over a fine independent grid", () => {
+    expect(choice.lambda).toBeGreaterThan(0);
+    let bestDirect = directGcv(X, y, 0);
+    for (let e = -6; e <= 4; e += 0.01) bestDirect = Math.min(bestDirect, directGcv(X, y, 10 ** e));
+    expect(choice.gcv).toBeLessThanOrEqual(bestDirect * (1 + 1e-9));
+    // And it is a local minimum: GCV rises 5 % either side in λ.
+    expect(directGcv(X, y, choice.lambda * 1.05)).toBeGreaterThan(choice.gcv);
+    expect(directGcv(X, y, choice.lambda / 1.05)).toBeGreaterThan(choice.gcv);
+  });
+
+  it('fitLinearModel(…, { ridge: "gcv" }) fits with that λ and its effective parameters', () => {
+    const fit = fitLinearModel(X, y, { ridge: "gcv" });
+    expect(fit.ridge).toBeCloseTo(choice.lambda, 12);
+    expect(fit.effectiveParameters).toBeCloseTo(choice.effectiveParameters, 9);
+    expect(fit.dfResidual).toBeCloseTo(y.length - choice.effectiveParameters, 9);
+  });
+
+  it("leave-one-out with GCV chooses λ again without the held-out record (the check includes the choice)", () => {
+    const loo = leaveOneOut(X, y, { ridge: "gcv" });
+    expect(loo.method).toBe("refit");
+    const i = 4;
+    const keepX = X.filter((_, r) => r !== i);
+    const keepY = y.filter((_, r) => r !== i);
+    const lambda = ridgeByGcv(keepX, keepY).lambda;
+    expect(lambda).not.toBeCloseTo(choice.lambda, 6);
+    expect(loo.predictions[i]).toBeCloseTo(fitLinearModel(keepX, keepY, { ridge: lambda }).predict(X[i]), 10);
+  });
+
+  it("well-determined data with many records leaves almost no penalty (GCV ≈ OLS)", () => {
+    const big = syntheticCohort(92, 400, [1, 0.6, -0.4, 0.2], 0.3);
+    const c = ridgeByGcv(big.X, big.y);
+    expect(c.effectiveParameters).toBeGreaterThan(3.95); // OLS: 4 (intercept + 3)
   });
 });

@@ -6,8 +6,9 @@ import {
   inverseVarianceCombine,
   remainingFromBaseline,
 } from "~/compute/forecast-combine";
+import { simulateRemaining } from "~/compute/proficiency-simulation";
 import { seededGaussian } from "~/compute/seeded-random";
-import { normalCdf } from "~/compute/student-t";
+import { normalCdf, studentTQuantile } from "~/compute/student-t";
 
 describe("inverseVarianceCombine", () => {
   // Normal–normal posterior with known variances (Gelman et al., Bayesian Data Analysis, 3rd ed., §2.5,
@@ -75,32 +76,54 @@ function sessions(truth: { asymptote: number; start: number; rate: number }, cou
   return { hours, scores };
 }
 
+const criterion = { scoreThreshold: 0.85, consecutiveSessions: 3 };
+const evidenceInput = (count: number, seed: number, truth = { asymptote: 0.95, start: 0.2, rate: 0.05 }) => {
+  const { hours, scores } = sessions(truth, count, seed);
+  return {
+    fit: fitSaturatingExponential(hours, scores),
+    criterion,
+    hoursDone: hours[hours.length - 1],
+    sessionHours: 2,
+    loggedScores: scores,
+  };
+};
+
 describe("curveRemainingHours", () => {
-  it("remaining = time to reach − hours done; log SD = delta-method SD / remaining (d ln R = dt/R)", () => {
-    const { hours, scores } = sessions({ asymptote: 0.95, start: 0.2, rate: 0.05 }, 12, 3);
-    const fit = fitSaturatingExponential(hours, scores);
-    const e = curveRemainingHours(fit, 0.85, 24);
+  it("summarises the simulated remaining hours on the log scale: median → logMean, Φ(±1) quantiles → logSD", () => {
+    const input = evidenceInput(12, 3);
+    const e = curveRemainingHours({ ...input, options: { seed: 5 } });
     expect(e.status).toBe("estimate");
     if (e.status !== "estimate") return;
-    const t = timeToReach(fit, 0.85) as number;
-    expect(e.remainingHours).toBeCloseTo(t - 24, 10);
-    // Finite-difference gradient of t(θ) checks the analytic delta-method gradient.
-    const h = 1e-6;
-    const names = ["asymptote", "start", "rate"] as const;
-    const grad = names.map((name) => {
-      const up = { ...fit, [name]: fit[name] + h * Math.abs(fit[name]) };
-      const down = { ...fit, [name]: fit[name] - h * Math.abs(fit[name]) };
-      return ((timeToReach(up, 0.85) as number) - (timeToReach(down, 0.85) as number)) / (2 * h * Math.abs(fit[name]));
-    });
-    let variance = 0;
-    for (let i = 0; i < 3; i++) for (let j = 0; j < 3; j++) variance += grad[i] * fit.covariance[i][j] * grad[j];
-    expect(e.logSD).toBeCloseTo(Math.sqrt(variance) / (t - 24), 5);
+    // Recomputed here from the simulation itself (same seed, default 2,000 draws), type-1 quantiles.
+    const sim = simulateRemaining({ ...input, seed: 5 });
+    const q = (p: number) => sim.remainingHours[Math.ceil(p * sim.draws) - 1];
+    expect(e.remainingHours).toBe(q(0.5));
+    expect(e.logMean).toBeCloseTo(Math.log(q(0.5)), 14);
+    const spread = (Math.log(q(normalCdf(1))) - Math.log(q(normalCdf(-1)))) / 2;
+    expect(e.logSD).toBeCloseTo(Math.max(spread, Math.log(1 + 2 / (2 * q(0.5)))), 14);
+    expect(e.simulation).toMatchObject({ draws: 2000, seed: 5, sessionHours: 2, reachedShare: sim.reachedShare });
+    // A few drawn curves level off below the criterion (asymptote uncertain after 12 sessions): they count
+    // as not done within the horizon, never dropped.
+    expect(sim.reachedShare).toBeGreaterThan(0.9);
+    // Remaining hours come in whole sessions of 2 h.
+    expect(Number.isInteger(e.remainingHours / 2)).toBe(true);
+  });
+
+  it("the k-in-a-row rule takes longer than the mean curve's crossing (the old, wrong event)", () => {
+    const input = evidenceInput(12, 3);
+    const e = curveRemainingHours(input);
+    if (e.status !== "estimate") throw new Error("expected a curve estimate");
+    const crossing = (timeToReach(input.fit, 0.85) as number) - input.hoursDone;
+    expect(e.remainingHours).toBeGreaterThan(crossing);
   });
 
   it("too few sessions are not evidence", () => {
-    const { hours, scores } = sessions({ asymptote: 0.95, start: 0.2, rate: 0.05 }, 4, 3);
-    const fit = fitSaturatingExponential(hours, scores);
-    expect(curveRemainingHours(fit, 0.85, 8).status).toBe("uninformative");
+    expect(curveRemainingHours(evidenceInput(4, 3)).status).toBe("uninformative");
+  });
+
+  it("a non-positive session length is refused with a reason, not a number", () => {
+    const e = curveRemainingHours({ ...evidenceInput(12, 3), sessionHours: 0 });
+    expect(e).toEqual({ status: "uninformative", reason: "session length must be more than 0 hours, got 0" });
   });
 });
 
@@ -108,11 +131,10 @@ describe("combineRemainingHours", () => {
   const prior = { logMean: Math.log(30), logSD: 0.45 };
 
   it("combines prior and curve by inverse variance and reports the 80th-percentile planning figure", () => {
-    const { hours, scores } = sessions({ asymptote: 0.95, start: 0.2, rate: 0.05 }, 12, 3);
-    const fit = fitSaturatingExponential(hours, scores);
-    const out = combineRemainingHours({ prior, curve: { fit, threshold: 0.85, hoursDone: 24 } });
+    const input = evidenceInput(12, 3);
+    const out = combineRemainingHours({ prior, curve: input });
     expect(out.status).toBe("combined");
-    const evidence = curveRemainingHours(fit, 0.85, 24);
+    const evidence = curveRemainingHours(input);
     if (evidence.status !== "estimate") throw new Error("expected a curve estimate");
     // Gelman et al. (BDA3 §2.5) precision weighting, recomputed by hand here.
     const wp = 1 / prior.logSD ** 2;
@@ -135,9 +157,10 @@ describe("combineRemainingHours", () => {
   });
 
   it("a plateau below the criterion returns a review flag and no extrapolated number", () => {
-    const { hours, scores } = sessions({ asymptote: 0.62, start: 0.2, rate: 0.2 }, 12, 8);
-    const fit = fitSaturatingExponential(hours, scores);
-    const out = combineRemainingHours({ prior, curve: { fit, threshold: 0.85, hoursDone: 24 } });
+    const out = combineRemainingHours({
+      prior,
+      curve: evidenceInput(12, 8, { asymptote: 0.62, start: 0.2, rate: 0.2 }),
+    });
     expect(out.status).toBe("review");
     expect(out.remainingHours).toBeNull();
     expect(out.planningHours).toBeNull();
@@ -146,11 +169,21 @@ describe("combineRemainingHours", () => {
   });
 
   it("an uninformative curve leaves the prior as it is", () => {
-    const { hours, scores } = sessions({ asymptote: 0.95, start: 0.2, rate: 0.05 }, 4, 3);
-    const fit = fitSaturatingExponential(hours, scores);
-    const out = combineRemainingHours({ prior, curve: { fit, threshold: 0.85, hoursDone: 8 } });
+    const out = combineRemainingHours({ prior, curve: evidenceInput(4, 3) });
     expect(out.status).toBe("prior-only");
     expect(out.remainingHours).toBeCloseTo(30, 10);
     expect(out.weights).toEqual({ prior: 1, curve: 0 });
+  });
+
+  it("the prior alone keeps its Student t quantiles: 80th percentile e^(μ + σ·t₀.₈(5)) with t₀.₈(5) = 0.9195", () => {
+    // t quantile from standard tables (e.g. R qt(0.8, 5) = 0.9195438).
+    const t = remainingFromBaseline({ logMean: Math.log(30), logSD: 0.45, df: 5 }, 0);
+    const out = combineRemainingHours({ prior: t, curve: null, reason: "no sessions yet" });
+    expect(out.status).toBe("prior-only");
+    expect(out.reason).toBe("no sessions yet");
+    expect(out.planningHours).toBeCloseTo(30 * Math.exp(0.45 * 0.9195438), 4);
+    // The normal quantile (0.8416) would give a shorter figure.
+    expect(out.planningHours as number).toBeGreaterThan(30 * Math.exp(0.45 * 0.8416212));
+    expect(out.interval!.upper).toBeCloseTo(30 * Math.exp(0.45 * studentTQuantile(0.9, 5)), 8);
   });
 });

@@ -3,7 +3,14 @@
 import * as ss from "simple-statistics";
 import { describe, expect, it } from "vitest";
 import { forceGrading, handDimensionality, MEASURE_DIRECTIONS, swayMetrics, timingMetrics } from "~/compute/features";
-import { computeTrace, parseTrace, type TraceIssue, type TraceParseResult } from "~/compute/trace-parsing";
+import { processSwayTrace, SWAY_PROCESSING } from "~/compute/features/sway-processing";
+import {
+  analyseTrace,
+  computeTrace,
+  parseTrace,
+  type TraceIssue,
+  type TraceParseResult,
+} from "~/compute/trace-parsing";
 
 /** Header + rows of numbers as strings, the way a CSV splitter hands them over. */
 function table(header: string[], rows: (number | string)[][]): string[][] {
@@ -19,26 +26,49 @@ function errorsOf(result: TraceParseResult): TraceIssue[] {
 }
 
 describe("parseTrace: accepted files", () => {
-  it("parses a sway trace, estimates fs from the timestamps and computes the sway measures", () => {
-    const rows = table(["t", "x", "y"], swayRows(1201)); // 12 s at 100 Hz
+  it("parses a sway trace, estimates fs from the timestamps and computes the sway measures after processing", () => {
+    const rows = table(["t", "x", "y"], swayRows(2101, 50)); // 42 s at 50 Hz
     rows.push(["", "", ""]); // trailing blank line from the file's last newline
     const parsed = parseTrace("sway", rows);
     expect(parsed.ok).toBe(true);
     if (!parsed.ok) return;
     expect(parsed.kind).toBe("sway");
-    expect(parsed.sampleRateHz).toBeCloseTo(100, 9); // steps of exactly 1/100 s
-    expect(parsed.data.x).toHaveLength(1201);
-    const out = computeTrace("sway", parsed);
-    const direct = swayMetrics(parsed.data.x, parsed.data.y, 100);
+    expect(parsed.sampleRateHz).toBeCloseTo(50, 9); // steps of exactly 1/50 s
+    expect(parsed.data.x).toHaveLength(2101);
+    const { measures: out, processing } = analyseTrace("sway", parsed);
+    expect(computeTrace("sway", parsed)).toEqual(out);
+    // The measures are those of the processed trace (checked in tests/reference/sway-processing.test.ts).
+    const p = processSwayTrace(parsed.data.t, parsed.data.x, parsed.data.y, parsed.sampleRateHz!);
+    expect(processing).toEqual(p.processing);
+    expect(processing).toMatchObject({ resampledRateHz: 100, cutoffHz: 10, durationSeconds: 42 });
+    expect(processing!.recordedRateHz).toBeCloseTo(50, 9);
+    const direct = swayMetrics(p.x, p.y, 100);
     expect(out["sway.pathLength"]).toBeCloseTo(direct.pathLength, 9);
     expect(out["sway.ellipseArea95"]).toBeCloseTo(direct.ellipseArea95, 9);
-    // Duration (n − 1)/fs = 12 s, so mean velocity = path / 12 (Schubert & Kirchner 2014 definition).
-    expect(out["sway.meanVelocity"]).toBeCloseTo(direct.pathLength / 12, 9);
+    // Duration (n − 1)/fs = 4200/100 = 42 s, so mean velocity = path / 42 (Schubert & Kirchner 2014 definition).
+    expect(out["sway.meanVelocity"]).toBeCloseTo(direct.pathLength / 42, 9);
+    // The slow ellipse lies far below the cut-off: processing leaves the raw measures nearly unchanged.
+    const raw = swayMetrics(parsed.data.x, parsed.data.y, 50);
+    expect(out["sway.ellipseArea95"] / raw.ellipseArea95).toBeCloseTo(1, 3);
     for (const key of Object.keys(out)) expect(MEASURE_DIRECTIONS).toHaveProperty([key]);
   });
 
+  it("other kinds have no processing", () => {
+    const rows = table(
+      ["target", "produced"],
+      [
+        [1, 1],
+        [2, 2.1],
+        [3, 2.9],
+      ],
+    );
+    const parsed = parseTrace("force", rows);
+    if (!parsed.ok) throw new Error("expected the parse to succeed");
+    expect(analyseTrace("force", parsed).processing).toBeNull();
+  });
+
   it("accepts header names in any case, with spaces and a byte-order mark, and a matching declared rate", () => {
-    const rows = table(["\uFEFFT", " X ", "y"], swayRows(1100));
+    const rows = table(["\uFEFFT", " X ", "y"], swayRows(2100));
     const parsed = parseTrace("sway", rows, { declaredSampleRateHz: 100 });
     expect(parsed.ok).toBe(true);
   });
@@ -214,14 +244,25 @@ describe("parseTrace: refused files name the row and column", () => {
     );
   });
 
-  it("recording too short, by rows and by duration (both configurable)", () => {
+  it("recording too short, by rows and by duration (configurable; sway's minimum only upwards)", () => {
     const fewRows = errorsOf(parseTrace("sway", table(["t", "x", "y"], swayRows(10))));
     expect(fewRows[0].message).toMatch(/10 rows; at least 20/);
-    const short = errorsOf(parseTrace("sway", table(["t", "x", "y"], swayRows(500)))); // 4.99 s
-    expect(short).toContainEqual(
-      expect.objectContaining({ column: "t", message: expect.stringMatching(/lasts 4.99 s; at least 10 s/) }),
+    const short = errorsOf(parseTrace("sway", table(["t", "x", "y"], swayRows(2000)))); // 19.99 s
+    expect(short).toContainEqual({ column: "t", message: "the sway recording lasts 19.99 s; at least 20 s is needed" });
+    expect(SWAY_PROCESSING.minDurationSeconds).toBe(20);
+    // Sway traces are processed and measured alike: a lower minimum is not taken, a higher one is.
+    expect(parseTrace("sway", table(["t", "x", "y"], swayRows(500)), { minDurationSeconds: 4 }).ok).toBe(false);
+    expect(errorsOf(parseTrace("sway", table(["t", "x", "y"], swayRows(2101)), { minDurationSeconds: 30 }))).toEqual([
+      { column: "t", message: "the sway recording lasts 21 s; at least 30 s is needed" },
+    ]);
+    const trackingRows = table(
+      ["t", "target", "cursor"],
+      swayRows(500).map((r) => [r[0], r[1], r[2]]),
     );
-    expect(parseTrace("sway", table(["t", "x", "y"], swayRows(500)), { minDurationSeconds: 4 }).ok).toBe(true);
+    expect(errorsOf(parseTrace("tracking", trackingRows))[0].message).toMatch(
+      /tracking recording lasts 4.99 s; at least 5 s/,
+    );
+    expect(parseTrace("tracking", trackingRows, { minDurationSeconds: 4 }).ok).toBe(true);
     expect(
       errorsOf(
         parseTrace(
@@ -238,8 +279,18 @@ describe("parseTrace: refused files name the row and column", () => {
     ).toMatch(/2 trials; at least 3/);
   });
 
+  it("sway recorded too slowly for the low-pass", () => {
+    const errors = errorsOf(parseTrace("sway", table(["t", "x", "y"], swayRows(601, 20)))); // 30 s at 20 Hz
+    expect(errors).toEqual([
+      {
+        column: "t",
+        message: "the sway recording is sampled at about 20 Hz; at least 25 Hz is needed for the 10 Hz low-pass",
+      },
+    ]);
+  });
+
   it("time steps inconsistent with the sample rate (dropped samples)", () => {
-    const data = swayRows(1200);
+    const data = swayRows(2200);
     data.splice(600, 3); // three samples lost: the step before file row 602 is 0.04 s
     const errors = errorsOf(parseTrace("sway", table(["t", "x", "y"], data)));
     expect(errors).toHaveLength(1);

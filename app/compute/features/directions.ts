@@ -18,8 +18,14 @@ export const MEASURE_DIRECTIONS = {
   "tracking.lagSeconds": {
     label: "Tracking lag",
     unit: "s",
+    higherIsBetter: null,
+    note: "positive = cursor behind the target, negative = ahead of it (anticipation, rare and worth a look); neither direction is better, so score tracking.lagMagnitudeSeconds instead",
+  },
+  "tracking.lagMagnitudeSeconds": {
+    label: "Tracking lag size |lag|",
+    unit: "s",
     higherIsBetter: false,
-    note: "positive = cursor behind the target; a negative lag (anticipation) is rare and worth a look",
+    note: "how far the cursor is behind or ahead of the target; anticipation counts like delay",
   },
   "hand.pc1Ratio": {
     label: "Hand: variance share of the first component",
