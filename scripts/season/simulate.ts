@@ -409,7 +409,14 @@ export async function runSeason(stack: SeasonStack, say: (s: string) => void = (
             const s = await k("training_sessions").where({ id }).first("worker_id", "device_type_id");
             const draw = mulberry32(SEASON.seed + id * 7919);
             if (draw() < SEASON.noShowRate) {
-              await t.person.post(`/train/sessions/${id}`, { intent: "no_show" }, 302);
+              const reason = (["ill", "work", "unknown"] as const)[Math.floor(draw() * 3)];
+              const r = await t.person.post(`/train/sessions/${id}.data`, {
+                intent: "no_show",
+                reason,
+                reasonNote: "",
+              });
+              const said = await r.text();
+              if (!said.includes("No-show recorded")) throw new Error(`no-show ${id}: ${said.slice(0, 300)}`);
               log.noShows++;
               continue;
             }
