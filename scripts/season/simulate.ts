@@ -339,7 +339,7 @@ export async function runSeason(stack: SeasonStack, say: (s: string) => void = (
           await assessor.post(`/assess/workers/${w.id}`, {
             intent: "withdraw",
             purpose: last ? "assessment" : "planning",
-            confirm: "WITHDRAW",
+            confirmWithdraw: "on",
           });
           log.withdrawn.push(w.id);
         }

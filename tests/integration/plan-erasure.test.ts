@@ -80,7 +80,7 @@ describe("assessor-recorded planning withdrawal", () => {
     const res = await client.postForm(`/assess/workers/${w.id}`, {
       intent: "withdraw",
       purpose: "planning",
-      confirm: "WITHDRAW",
+      confirmWithdraw: "on",
     });
     expect(res.status).toBe(200);
     // Nothing can plan the worker any more, so "Training" would never end: the stage says what is true now.
