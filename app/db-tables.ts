@@ -82,6 +82,7 @@ declare module "knex/types/tables" {
         heartbeat_at: string | null;
         attempts: number;
         summary: string | null;
+        archived_at: string | null;
       },
       "id" | "status" | "fraction" | "version" | "attempts"
     >;
@@ -207,8 +208,10 @@ declare module "knex/types/tables" {
         default_max_hours_per_week: number;
         created_at: string;
         fit_rules: string | null;
+        min_session_minutes: number;
+        max_session_minutes: number;
       },
-      "id" | "wear_time_limit_minutes" | "default_max_hours_per_week"
+      "id" | "wear_time_limit_minutes" | "default_max_hours_per_week" | "min_session_minutes" | "max_session_minutes"
     >;
     device_units: Table<
       {
@@ -438,6 +441,8 @@ declare module "knex/types/tables" {
       },
       "id"
     >;
+    /** One row (id 1): bumped by database triggers on every write under the readiness board. */
+    readiness_generation: Table<{ id: number; value: number }>;
     readiness_receipts: Table<
       {
         id: number;
@@ -551,6 +556,29 @@ declare module "knex/types/tables" {
       expires_at: string | null;
       created_at: string;
     }>;
+    site_closures: Table<
+      {
+        id: number;
+        site_id: number;
+        starts_on: string;
+        ends_on: string;
+        reason: string;
+        source: "form" | "ics";
+        created_by: number | null;
+        created_at: string;
+      },
+      "id" | "created_by"
+    >;
+    site_working_hours: Table<
+      {
+        id: number;
+        site_id: number;
+        weekday: number;
+        start_time: string;
+        end_time: string;
+      },
+      "id"
+    >;
     sites: Table<
       {
         id: number;
@@ -630,8 +658,10 @@ declare module "knex/types/tables" {
         trainees_per_session: number;
         hours_per_week: number;
         created_at: string;
+        max_continuous_minutes: number;
+        break_minutes: number;
       },
-      "id" | "trainees_per_session" | "hours_per_week"
+      "id" | "trainees_per_session" | "hours_per_week" | "max_continuous_minutes" | "break_minutes"
     >;
     training_sessions: Table<
       {

@@ -24,6 +24,7 @@ export default [
     route("admin/users", "routes/admin.users.tsx"),
     route("admin/users/:userId", "routes/admin.users.$userId.tsx"),
     route("admin/sites", "routes/admin.sites.tsx"),
+    route("admin/sites/:siteId/calendar", "routes/admin.sites.$siteId.calendar.tsx"),
     route("admin/api-keys", "routes/admin.api-keys.tsx"),
     route("admin/approvals", "routes/admin.approvals.tsx"),
     route("admin/consent-texts", "routes/admin.consent-texts.tsx"),

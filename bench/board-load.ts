@@ -75,6 +75,17 @@ async function largeDatabase(file: string): Promise<string> {
   return email;
 }
 
+/** CPU time (user + system, ms) the process has used so far, from /proc (Linux); null elsewhere. */
+function cpuMs(pid: number | undefined): number | null {
+  if (!pid) return null;
+  try {
+    const fields = fs.readFileSync(`/proc/${pid}/stat`, "utf8").split(") ")[1].split(" ");
+    return ((Number(fields[11]) + Number(fields[12])) * 1000) / 100; // utime, stime in clock ticks (100 Hz)
+  } catch {
+    return null;
+  }
+}
+
 const rows: Record<string, string | number>[] = [];
 for (const [scenario, fill] of [
   ["demo scenario", demoDatabase],
@@ -95,6 +106,7 @@ for (const [scenario, fill] of [
   try {
     const cookie = await signIn(stack.appUrl, email);
     for (const page of ["/readiness", "/readiness.data"]) {
+      const cpuBefore = cpuMs(stack.appPid);
       const r = await autocannon({
         url: `${stack.appUrl}${page}`,
         connections: CONNECTIONS,
@@ -102,6 +114,12 @@ for (const [scenario, fill] of [
         headers: { cookie },
       });
       const errors = r.errors + r.timeouts + r.non2xx;
+      const cpuAfter = cpuMs(stack.appPid);
+      // The server's own CPU per answered request: what the app costs, whatever else the machine runs.
+      const cpuPerRequest =
+        cpuBefore !== null && cpuAfter !== null && r.requests.total > 0
+          ? Math.round(((cpuAfter - cpuBefore) / r.requests.total) * 10) / 10
+          : "n/a";
       rows.push({
         scenario,
         path: page,
@@ -110,6 +128,7 @@ for (const [scenario, fill] of [
         "p90 ms": r.latency.p90,
         "p97.5 ms": r.latency.p97_5,
         errors,
+        "server CPU ms/req": cpuPerRequest,
         "target p95 ms": TARGET_MS,
         ok: r.latency.p97_5 < TARGET_MS && errors === 0 && r.requests.total > 0 ? "yes" : "NO",
       });
@@ -120,4 +139,11 @@ for (const [scenario, fill] of [
   }
 }
 console.log(`${CONNECTIONS} connections × ${SECONDS} s per path, built app on SQLite, one signed-in manager`);
+// Latency on a shared machine says as much about the other processes as about the app: state the load.
+console.log(
+  `${os.cpus().length} CPUs; load average (1, 5, 15 min) at the end: ${os
+    .loadavg()
+    .map((v) => v.toFixed(1))
+    .join(", ")}`,
+);
 console.table(rows);

@@ -24,6 +24,8 @@ export interface StackOptions {
 export interface Stack {
   appUrl: string;
   issuer: string;
+  /** The app server's process id (benches read its CPU time). */
+  appPid: number | undefined;
   env: NodeJS.ProcessEnv;
   stop: () => Promise<void>;
 }
@@ -125,6 +127,7 @@ export async function startStack(o: StackOptions): Promise<Stack> {
   return {
     appUrl: app.appUrl,
     issuer: idp.issuer,
+    appPid: app.child.pid,
     env: stackEnv(o),
     stop: async () => {
       await app.stop();

@@ -2,8 +2,9 @@ import type { Knex } from "knex";
 import type { TableInsert } from "../app/db.server";
 
 // ─────────────────────────────────────────────────────────────────────────────────────────────
-// INVENTED DEMO DATA for the allocator: fit rules of the device types, maintenance windows of a
-// few units, every trainer's weekly working pattern, some leave, and a few workers' training priorities.
+// INVENTED DEMO DATA for the allocator: fit rules and session lengths of the device types, the sites' working
+// hours and closures (an invented holiday calendar and a winter shutdown), maintenance windows of a few units,
+// every trainer's weekly working pattern, some leave, and a few workers' training priorities.
 // Everything here is fictional ("Harrow & Vale Fabrication"). Deterministic: fixed dates and a
 // fixed choice of people (by employee number), no randomness. Runs after 01–03.
 // ─────────────────────────────────────────────────────────────────────────────────────────────
@@ -23,6 +24,43 @@ export async function seed(knex: Knex): Promise<void> {
   await knex.transaction(async (trx) => {
     for (const [code, rules] of Object.entries(FIT_RULES))
       await trx("device_types").where({ code }).update({ fit_rules: rules });
+    // Sessions of 30 minutes up to two hours, never over the device's wear-time limit.
+    for (const d of await trx("device_types").select("id", "wear_time_limit_minutes"))
+      await trx("device_types")
+        .where({ id: d.id })
+        .update({
+          min_session_minutes: Math.min(30, Number(d.wear_time_limit_minutes)),
+          max_session_minutes: Math.min(120, Number(d.wear_time_limit_minutes)),
+        });
+
+    // Working hours: North Yard Mon–Fri 07:00–17:00; Riverside Mon–Fri 07:00–14:30 (the trainers' afternoon
+    // windows end early there); Eastgate Mon–Thu 07:00–16:00 and Fri 07:00–12:00. Closures: Christmas Day,
+    // Boxing Day and New Year's Day everywhere, and Riverside's winter shutdown week (an invented calendar).
+    const siteId = async (code: string) => (await trx("sites").where({ code }).first("id"))?.id as number | undefined;
+    const hours: Record<string, [number[], string, string][]> = {
+      NY: [[[1, 2, 3, 4, 5], "07:00", "17:00"]],
+      RS: [[[1, 2, 3, 4, 5], "07:00", "14:30"]],
+      EG: [
+        [[1, 2, 3, 4], "07:00", "16:00"],
+        [[5], "07:00", "12:00"],
+      ],
+    };
+    for (const [code, spans] of Object.entries(hours)) {
+      const id = await siteId(code);
+      if (!id) continue;
+      for (const [days, start_time, end_time] of spans)
+        for (const weekday of days)
+          await trx("site_working_hours").insert({ site_id: id, weekday, start_time, end_time });
+      const closures = [
+        { starts_on: "2026-12-25", ends_on: "2026-12-26", reason: "Christmas Day and Boxing Day (invented calendar)" },
+        { starts_on: "2027-01-01", ends_on: "2027-01-01", reason: "New Year's Day (invented calendar)" },
+        ...(code === "RS"
+          ? [{ starts_on: "2026-12-28", ends_on: "2026-12-31", reason: "Winter shutdown week (invented)" }]
+          : []),
+      ];
+      for (const c of closures)
+        await trx("site_closures").insert({ site_id: id, ...c, source: "form", created_at: NOW });
+    }
 
     // Maintenance windows: a shoulder exoskeleton at North Yard is serviced in the second week of December,
     // a back exoskeleton at Riverside over the turn of the year.

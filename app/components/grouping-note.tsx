@@ -7,6 +7,11 @@ export function GroupingNote({ grouping }: { grouping: GroupingUsed }) {
       {`Grouping: ${grouping.label}.`}
       {grouping.reason ? ` ${grouping.reason}` : ""}
       {grouping.note ? ` ${grouping.note}` : ""}
+      {grouping.updating && (
+        <span className="mt-1 block font-semibold text-amber-caution" data-testid="grouping-updating">
+          {grouping.updating}
+        </span>
+      )}
     </p>
   );
 }

@@ -14,25 +14,37 @@ export interface CompareSide {
   binding: string[];
 }
 
+interface Row {
+  label: string;
+  a: number | null;
+  b: number | null;
+  digits: number;
+}
+
 export function RunCompare({ a, b }: { a: CompareSide; b: CompareSide }) {
   const devices = [...new Set([...Object.keys(a.byDevice), ...Object.keys(b.byDevice)])].sort();
   const onlyA = Object.keys(a.readyNames).filter((id) => !(id in b.readyNames));
   const onlyB = Object.keys(b.readyNames).filter((id) => !(id in a.readyNames));
-  const num = (v: number | null, digits = 1) => (v == null ? "—" : v.toFixed(digits));
-  const rows: [string, string, string][] = [
-    ["Status", a.status, b.status],
-    ["Objective (priority made ready)", num(a.objective), num(b.objective)],
-    ["Proven upper bound", num(a.bound), num(b.bound)],
-    [
-      "Gap",
-      a.gap == null ? "—" : `${(a.gap * 100).toFixed(1)} %`,
-      b.gap == null ? "—" : `${(b.gap * 100).toFixed(1)} %`,
-    ],
-    ["Workers ready / in pool", `${a.ready} / ${a.pool}`, `${b.ready} / ${b.pool}`],
-    ...devices.map(
-      (d) => [`Ready on ${d}`, String(a.byDevice[d] ?? 0), String(b.byDevice[d] ?? 0)] as [string, string, string],
-    ),
+  const STATUS_WORDS: Record<string, string> = {
+    optimal: "the best possible",
+    feasible: "good; not proven the best",
+    infeasible: "no plan meets the conditions",
+  };
+  const words = (status: string) => STATUS_WORDS[status] ?? status;
+  // numbers compared as shown (one decimal): a difference only where the shown values differ
+  const rows: Row[] = [
+    { label: "Value made ready (sum of priorities)", a: a.objective, b: b.objective, digits: 1 },
+    { label: "People ready", a: a.ready, b: b.ready, digits: 0 },
+    { label: "People in the pool", a: a.pool, b: b.pool, digits: 0 },
+    ...devices.map((d) => ({ label: `Ready on ${d}`, a: a.byDevice[d] ?? 0, b: b.byDevice[d] ?? 0, digits: 0 })),
   ];
+  const shown = (v: number | null, digits: number) => (v == null ? "—" : v.toFixed(digits));
+  const difference = (r: Row) => {
+    if (r.a == null || r.b == null) return null;
+    const d = Number((r.b - r.a).toFixed(r.digits));
+    return d === 0 ? null : d;
+  };
+  const gapText = (g: number | null) => (g == null ? "—" : `${(g * 100).toFixed(1)} %`);
   return (
     <div className="grid gap-4">
       <section className="card overflow-x-auto p-0" tabIndex={0} aria-label="Runs compared (scrolls sideways)">
@@ -49,6 +61,7 @@ export function RunCompare({ a, b }: { a: CompareSide; b: CompareSide }) {
               <th scope="col">
                 Run #{b.id}: {b.label}
               </th>
+              <th scope="col">{`Difference (#${b.id} − #${a.id})`}</th>
             </tr>
           </thead>
           <tbody>
@@ -69,13 +82,25 @@ export function RunCompare({ a, b }: { a: CompareSide; b: CompareSide }) {
                 </ul>
               </td>
             </tr>
-            {rows.map(([k, x, y]) => (
-              <tr key={k}>
-                <th scope="row">{k}</th>
-                <td className={x !== y ? "font-semibold" : ""}>{x}</td>
-                <td className={x !== y ? "font-semibold" : ""}>{y}</td>
-              </tr>
-            ))}
+            <tr>
+              <th scope="row">The plan is</th>
+              <td className={a.status !== b.status ? "font-semibold" : ""}>{words(a.status)}</td>
+              <td className={a.status !== b.status ? "font-semibold" : ""}>{words(b.status)}</td>
+              <td>{a.status !== b.status ? "differs" : ""}</td>
+            </tr>
+            {rows.map((r) => {
+              const d = difference(r);
+              return (
+                <tr key={r.label} data-differs={d !== null ? "yes" : "no"}>
+                  <th scope="row">{r.label}</th>
+                  <td className={d !== null ? "font-semibold" : ""}>{shown(r.a, r.digits)}</td>
+                  <td className={d !== null ? "font-semibold" : ""}>{shown(r.b, r.digits)}</td>
+                  <td className={d !== null ? "font-semibold" : "text-ink-soft"}>
+                    {d === null ? "same" : `${d > 0 ? "+" : "−"}${Math.abs(d).toFixed(r.digits)}`}
+                  </td>
+                </tr>
+              );
+            })}
             <tr>
               <th scope="row">What binds most</th>
               <td>
@@ -94,10 +119,20 @@ export function RunCompare({ a, b }: { a: CompareSide; b: CompareSide }) {
                 </ul>
                 {b.binding.length === 0 && "Nothing binds."}
               </td>
+              <td />
             </tr>
           </tbody>
         </table>
       </section>
+      <details className="card text-sm">
+        <summary className="cursor-pointer font-semibold">How this was computed (exact terms)</summary>
+        <p className="mt-2">
+          Objective = Σ priority of the workers made ready (plus the keep weight per person kept, for a run from the
+          published plan). Run #{a.id}: solver status {a.status}, objective {shown(a.objective, 1)}, proven upper bound{" "}
+          {shown(a.bound, 1)}, gap {gapText(a.gap)}. Run #{b.id}: solver status {b.status}, objective{" "}
+          {shown(b.objective, 1)}, proven upper bound {shown(b.bound, 1)}, gap {gapText(b.gap)}.
+        </p>
+      </details>
       <div className="grid gap-4 md:grid-cols-2">
         <section aria-labelledby="only-a" className="card">
           <h2 id="only-a" className="font-semibold">

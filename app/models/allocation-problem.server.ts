@@ -3,18 +3,23 @@ import type { AllocationProblem } from "~/compute/allocation";
 import { bookCommitments, type Commitment, type CommittedPlan } from "~/compute/commitments";
 import { addDays, inRange, isoWeekday, minutesOf, weekDates } from "~/compute/plan-calendar";
 import { plannedHoursFromLogScale } from "~/compute/regression";
+import type { ReplanDecision } from "~/compute/replan";
 import type { CalendarUnit, PlanCalendar } from "~/compute/session-packing";
+import { breakRuleOf, deviceHoursInWeek, trainerHoursInWeek } from "~/compute/session-rules";
 import { hhmmOfWallClock, startOfDay, wallClock } from "~/dates";
 import { type Db, db, type Row } from "~/db.server";
 import type { RunParameters } from "~/schemas/allocation";
 import { noForecastText, percentileLabel } from "~/schemas/forecast";
 import { latestConsent } from "./consent.server";
 import { type ApprovedModel, baselineZScores, loadApprovedModel, planningQuantile } from "./forecast.server";
+import { siteCalendars } from "./site-calendar.server";
 import { whereWorkerInScope, workersWithPlace } from "./workers.server";
 
 // Builds the solver input (docs/methods.md) for a run from the database: the pool, device-type capacity per week
-// (units × bookable hours, less maintenance days) and trainer hours per week (weekly working pattern, less
-// leave), with the run's what-if changes applied. The solver works per device type AT A SITE, since a worker
+// (units × bookable hours, less maintenance and closure days, within the site's working hours) and trainer hours
+// per week (weekly working pattern cut to the site's working hours, less leave and closures, less the breaks the
+// trainer's rule needs), with the run's what-if changes applied. The second stage packs against the same rules
+// (app/compute/session-rules.ts), so the two stages agree. The solver works per device type AT A SITE, since a worker
 // trains at their own site with a trainer of that site; ids are the readable names people see.
 
 export interface ProblemSnapshot {
@@ -29,6 +34,8 @@ export interface ProblemSnapshot {
    * problem's capacities are what is left after them. Absent in snapshots made before commitments existed.
    */
   commitments?: CommittedPlan[];
+  /** a run from the published plan: who may keep their sessions, who must move and why (app/compute/replan.ts) */
+  replan?: ReplanDecision;
   /**
    * The organisation's planning quantile the hours needed were taken at (a share, 0.80): every run plans at that
    * one setting. Absent in snapshots made before; their run's parameters hold it.
@@ -56,8 +63,16 @@ export async function buildProblem(
     ? params.pool.siteIds.filter(allowedSite)
     : sites.map((s) => s.id).filter(allowedSite);
   const deviceTypes = await k("device_types")
-    .select("id", "name", "wear_time_limit_minutes", "default_max_hours_per_week")
+    .select(
+      "id",
+      "name",
+      "wear_time_limit_minutes",
+      "default_max_hours_per_week",
+      "min_session_minutes",
+      "max_session_minutes",
+    )
     .orderBy("id");
+  const sitesCal = await siteCalendars(poolSites, startDate, endDate, k);
 
   // Devices per site and device type.
   const units = await k("device_units")
@@ -98,16 +113,9 @@ export async function buildProblem(
           `What-if: ${add.count} extra ${dt.name} unit${add.count > 1 ? "s" : ""} at ${site}, ${add.bookableHoursPerWeek} bookable h/week each.`,
         );
       }
-      const hoursPerWeek = Array.from({ length: weeks }, (_, w) => {
-        const workdays = weekDates(startDate, w).slice(0, WORKDAYS);
-        return round2(
-          calUnits.reduce(
-            (s, u) =>
-              s + (u.bookableHoursPerWeek * workdays.filter((d) => !u.unavailableDates.includes(d)).length) / WORKDAYS,
-            0,
-          ),
-        );
-      });
+      const hoursPerWeek = Array.from({ length: weeks }, (_, w) =>
+        deviceHoursInWeek({ startDate, sites: sitesCal }, { site, units: calUnits }, w),
+      );
       calendarDevices.push({
         id,
         deviceTypeId: dt.id,
@@ -115,20 +123,39 @@ export async function buildProblem(
         name: dt.name,
         site,
         wearTimeLimitMinutes: Number(dt.wear_time_limit_minutes),
+        minSessionMinutes: Number(dt.min_session_minutes),
+        maxSessionMinutes: Number(dt.max_session_minutes),
         units: calUnits,
       });
       problemDevices.push({ id, hoursPerWeek });
     }
   }
   notes.push(
-    "Device hours per week = for each unit in service, its bookable hours × the share of the week's working days (Mon–Fri) it is not in a maintenance window.",
+    "Device hours per week = for each unit in service, its bookable hours × the share of the site's working days (Mon–Fri where the site has no working hours on file) it is neither closed nor in a maintenance window, at most the site's working hours on those days.",
   );
+  for (const c of sitesCal) {
+    if (c.closures.length)
+      notes.push(
+        `${c.site} is closed on ${c.closures.map((x) => `${x.startsOn === x.endsOn ? x.startsOn : `${x.startsOn} to ${x.endsOn}`} (${x.reason})`).join(", ")}: no sessions on those days.`,
+      );
+    if (!c.hours)
+      notes.push(`${c.site} has no working hours on file: Monday to Friday, inside the trainers' own hours.`);
+  }
 
   // Trainers at the pool's sites.
   const trainerRows = await k("trainers as t")
     .join("users as u", "u.id", "t.user_id")
     .whereIn("t.site_id", poolSites.length ? poolSites : [-1])
-    .select("t.id", "t.site_id", "t.hours_per_week", "t.trainees_per_session", "u.display_name", "u.email")
+    .select(
+      "t.id",
+      "t.site_id",
+      "t.hours_per_week",
+      "t.trainees_per_session",
+      "t.max_continuous_minutes",
+      "t.break_minutes",
+      "u.display_name",
+      "u.email",
+    )
     .orderBy(["u.display_name", "t.id"]);
   const tIds = trainerRows.map((t) => t.id as number).concat(-1);
   const certs = await k("trainer_certifications")
@@ -167,23 +194,22 @@ export async function buildProblem(
             .filter((p) => p.weekday === isoWeekday(date))
             .map((p) => ({ date, start: p.start_time, end: p.end_time })),
     );
-    const hoursPerWeek = Array.from({ length: weeks }, (_, w) => {
-      const ds = new Set(weekDates(startDate, w));
-      const pattern = tw
-        .filter((x) => ds.has(x.date))
-        .reduce((s, x) => s + (minutesOf(x.end) - minutesOf(x.start)) / 60, 0);
-      return round2(Math.min(pattern, Number(t.hours_per_week)));
-    });
     const id = t.display_name as string;
-    calendarTrainers.push({
+    const calTrainer = {
       id,
       trainerId: t.id,
       name: id,
       email: t.email ?? null,
+      site,
       traineesPerSession: Number(t.trainees_per_session),
       hoursPerWeek: Number(t.hours_per_week),
+      ...breakRuleOf({ maxContinuousMinutes: Number(t.max_continuous_minutes), breakMinutes: Number(t.break_minutes) }),
       windows: tw,
-    });
+    };
+    calendarTrainers.push(calTrainer);
+    const hoursPerWeek = Array.from({ length: weeks }, (_, w) =>
+      trainerHoursInWeek({ startDate, sites: sitesCal }, calTrainer, w),
+    );
     problemTrainers.push({
       id,
       deviceTypeIds: dts.map((d) => deviceId(d!.name, site)),
@@ -193,7 +219,7 @@ export async function buildProblem(
     if (mine.length === 0) notes.push(`Trainer ${id} has no weekly working pattern on file, so no hours.`);
   }
   notes.push(
-    "Trainer hours per week = the hours of their weekly working pattern on days not on leave, at most their contracted hours per week; a trainer supervises up to their trainees-per-session at once.",
+    "Trainer hours per week = the hours of their weekly working pattern inside the site's working hours, on days neither on leave nor closed, less a break after each stretch of their longest teaching time, at most their contracted hours per week; a trainer supervises up to their trainees-per-session at once.",
   );
 
   // The pool: workers in scope and the chosen sites/departments with planning consent in force and a forecast
@@ -417,10 +443,14 @@ export async function buildProblem(
   notes.push(
     `Hours needed = the ${percentileLabel(quantile)} of each forecast's total hours (the organisation's planning figure; from the approved model version), less hours already logged.`,
   );
-  if (calendarWorkers.some((w) => w.wearTimeLimits))
-    notes.push(
-      "Session length = at most the device type's wear-time limit, or the lower limit an assessor set for a worker on resuming a paused course.",
-    );
+  notes.push(
+    `Session length = between the device type's shortest and longest session (${calendarDevices
+      .filter((d, i, all) => all.findIndex((x) => x.deviceTypeId === d.deviceTypeId) === i)
+      .map((d) => `${d.name} ${d.minSessionMinutes}–${Math.min(d.maxSessionMinutes!, d.wearTimeLimitMinutes)} min`)
+      .join(
+        ", ",
+      )}), never over the wear-time limit${calendarWorkers.some((w) => w.wearTimeLimits) ? " or the lower limit an assessor set for a worker on resuming a paused course" : ""}.`,
+  );
   notes.push(
     "Max hours per week = the coordinator's setting for the worker, else the strictest default among the device types that fit them. A week with leave on a working day is not available.",
   );
@@ -446,7 +476,14 @@ export async function buildProblem(
 
   return {
     problem: booked.problem,
-    calendar: { startDate, weeks, devices: calendarDevices, trainers: calendarTrainers, workers: calendarWorkers },
+    calendar: {
+      startDate,
+      weeks,
+      devices: calendarDevices,
+      trainers: calendarTrainers,
+      workers: calendarWorkers,
+      sites: sitesCal,
+    },
     notes,
     excluded,
     commitments: booked.committed,

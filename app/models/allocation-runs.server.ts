@@ -3,12 +3,14 @@ import type { Principal } from "~/auth/guard.server";
 import type { Scope } from "~/auth/scope";
 import type { AllocationPlan } from "~/compute/allocation";
 import { type RunSummary, runSummary } from "~/compute/placement";
+import { replanSummary } from "~/compute/replan";
 import { instantAgo, nowInstant } from "~/dates";
 import { type Db, db, type Row } from "~/db.server";
 import { UserError } from "~/errors";
 import { enqueueAllocation } from "~/jobs/queue.server";
 import type { RunParameters, StoredRunParameters } from "~/schemas/allocation";
 import { buildProblem, type ProblemSnapshot } from "./allocation-problem.server";
+import { fromPublishedPlan } from "./replan.server";
 
 // Allocation runs: parameters, the problem snapshot the solver sees, progress and the result.
 // The solve itself runs in app/jobs (worker thread); this module reads and writes rows and hands new runs to
@@ -37,6 +39,8 @@ export interface RunRow {
   attempts: number;
   /** ready after placement / pool and value, stored when the run finished (null before, or for older runs) */
   summary: RunSummary | null;
+  /** when the run was archived (hidden from the runs list by default); null when it is not */
+  archivedAt: string | null;
 }
 
 export interface RunDetail extends RunRow {
@@ -64,6 +68,7 @@ function toRow(r: Row): RunRow {
     publishedPlanVersion: r.published_plan_version == null ? null : Number(r.published_plan_version),
     attempts: Number(r.attempts ?? 0),
     summary: r.summary ? JSON.parse(r.summary) : null,
+    archivedAt: r.archived_at ? String(r.archived_at) : null,
   };
 }
 
@@ -93,15 +98,19 @@ function baseQuery(k: Db) {
       "r.published_plan_version",
       "r.attempts",
       "r.summary",
+      "r.archived_at",
       "c.display_name as created_by_name",
       "p.display_name as published_by_name",
     );
 }
 
-export async function listRuns(scope: Scope, limit = 50): Promise<RunRow[]> {
-  const rows = await baseQuery(db())
+/** Runs newest first; archived ones only when asked for. */
+export async function listRuns(scope: Scope, limit = 50, opts: { includeArchived?: boolean } = {}): Promise<RunRow[]> {
+  const q = baseQuery(db())
     .orderBy("r.id", "desc")
     .limit(limit * 3);
+  if (!opts.includeArchived) q.whereNull("r.archived_at");
+  const rows = await q;
   return rows
     .map(toRow)
     .filter((r) => visible(scope, r))
@@ -144,9 +153,11 @@ async function createRun(principal: Principal, params: RunParameters): Promise<n
     if (params.baseRunId && !(await trx("allocation_runs").where({ id: params.baseRunId }).first("id")))
       throw new UserError("The run to compare with does not exist.", { field: "baseRunId" });
     const pooled: RunParameters = { ...params, pool: { ...params.pool, siteIds } };
-    const snapshot = await buildProblem(pooled, scope, trx);
+    const built = await buildProblem(pooled, scope, trx);
+    const { fromPublished } = pooled;
+    const snapshot = fromPublished ? await fromPublishedPlan(built, { ...pooled, fromPublished }, trx) : built;
     // Kept with the run: the organisation's planning quantile the hours needed were taken at.
-    const stored: StoredRunParameters = { ...pooled, planningQuantile: snapshot.planningQuantile };
+    const stored: StoredRunParameters = { ...pooled, planningQuantile: built.planningQuantile };
     const [row] = await trx("allocation_runs")
       .insert({
         label: params.label ?? null,
@@ -162,6 +173,28 @@ async function createRun(principal: Principal, params: RunParameters): Promise<n
       })
       .returning("id");
     return typeof row === "object" ? row.id : row;
+  });
+}
+
+/** How many runs in scope are archived (the runs list offers to show them). */
+export async function archivedCount(scope: Scope): Promise<number> {
+  const rows = await baseQuery(db()).whereNotNull("r.archived_at");
+  return rows.map(toRow).filter((r) => visible(scope, r)).length;
+}
+
+/** Archives or un-archives a run in the principal's scope; the run of the published plan stays in the list. */
+export async function setArchived(principal: Principal, id: number, archived: boolean): Promise<void> {
+  await db().transaction(async (trx) => {
+    const run = await getRunStatus(principal.scope, id, trx);
+    if (!run) throw new UserError("No such allocation run in your scope.", { status: 404 });
+    if (archived) {
+      const state = await trx("published_plan_state").where({ id: 1 }).first("current_run_id");
+      if (state?.current_run_id === id)
+        throw new UserError("This run is the published plan, so it stays in the list.", { status: 409 });
+    }
+    await trx("allocation_runs")
+      .where({ id })
+      .update({ archived_at: archived ? nowInstant() : null, version: trx.raw("version + 1") });
   });
 }
 
@@ -263,13 +296,11 @@ async function summaryFor(id: number, plan: AllocationPlan, k: Db): Promise<RunS
   const snap: ProblemSnapshot | null = stored?.problem ? JSON.parse(stored.problem) : null;
   if (!snap?.calendar?.devices || !snap.problem?.workers) return null;
   try {
-    return runSummary(
-      snap.calendar,
-      snap.commitments ?? [],
-      plan,
-      new Map(snap.problem.workers.map((w) => [w.id, w.priority])),
-      snap.problem.workers.length,
-    );
+    const priorities = new Map(snap.problem.workers.map((w) => [w.id, w.priority]));
+    const pool = snap.problem.workers.length;
+    return snap.replan
+      ? replanSummary(snap.calendar, snap.commitments ?? [], plan, snap.replan, priorities, pool)
+      : runSummary(snap.calendar, snap.commitments ?? [], plan, priorities, pool);
   } catch (e) {
     console.error(`allocation run ${id}: no summary for the runs list`, e);
     return null;

@@ -20,6 +20,8 @@ export async function fleetAdminView(scope: Scope) {
       "fit_rules",
       "wear_time_limit_minutes",
       "default_max_hours_per_week",
+      "min_session_minutes",
+      "max_session_minutes",
     )
     .orderBy("name");
   const uq = db()("device_units as u")
@@ -52,6 +54,8 @@ export async function fleetAdminView(scope: Scope) {
       fitRules: t.fit_rules ?? "",
       wearTimeLimitMinutes: Number(t.wear_time_limit_minutes),
       defaultMaxHoursPerWeek: Number(t.default_max_hours_per_week),
+      minSessionMinutes: Number(t.min_session_minutes),
+      maxSessionMinutes: Number(t.max_session_minutes),
       bookableHoursPerWeek: mine
         .filter((u) => u.status === "in_service")
         .reduce((s, u) => s + Number(u.bookable_hours_per_week), 0),
@@ -83,10 +87,18 @@ async function unitInScope(scope: Scope, unitId: number) {
 export async function updateDeviceType(
   _p: Principal,
   id: number,
-  v: { wearTimeLimitMinutes: number; defaultMaxHoursPerWeek: number; fitRules: string | null },
+  v: {
+    wearTimeLimitMinutes: number;
+    defaultMaxHoursPerWeek: number;
+    minSessionMinutes: number;
+    maxSessionMinutes: number;
+    fitRules: string | null;
+  },
 ) {
   const n = await db()("device_types").where({ id }).update({
     wear_time_limit_minutes: v.wearTimeLimitMinutes,
+    min_session_minutes: v.minSessionMinutes,
+    max_session_minutes: v.maxSessionMinutes,
     default_max_hours_per_week: v.defaultMaxHoursPerWeek,
     fit_rules: v.fitRules,
   });

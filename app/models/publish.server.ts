@@ -1,6 +1,8 @@
 import type { Principal } from "~/auth/guard.server";
-import { type NotReady, type Placement, placePlan } from "~/compute/placement";
+import type { NotReady, Placement } from "~/compute/placement";
+import { placeRun } from "~/compute/replan";
 import type { PackedSession, UnplacedHours } from "~/compute/session-packing";
+import { sessionRuleViolations } from "~/compute/session-rules";
 import { DEFAULT_TIME_ZONE, dayOf, hhmmOfWallClock, nowInstant, startOfDay, wallClock, wallClockAt } from "~/dates";
 import { type Db, db, type TableInsert } from "~/db.server";
 import { conflict, UserError } from "~/errors";
@@ -8,6 +10,7 @@ import { sendMail } from "~/mail.server";
 import type { RunDetail } from "./allocation-runs.server";
 import { getRun } from "./allocation-runs.server";
 import { type CalendarSession, icsFile } from "./calendar.server";
+import { sessionRulesNow } from "./site-calendar.server";
 import { workerTimeZones } from "./sites.server";
 
 // Publishing a plan: a coordinator's decision. The run's weekly hours become dated sessions
@@ -65,7 +68,7 @@ export type { NotReady, Placement };
 export function placement(run: RunDetail): Placement {
   if (!run.snapshot || !run.plan)
     return { sessions: [], unplaced: [], readyIds: [], notReady: [], continuing: { total: 0, finishing: 0 } };
-  return placePlan(run.snapshot.calendar, run.snapshot.commitments ?? [], run.plan);
+  return placeRun(run.snapshot.calendar, run.snapshot.commitments ?? [], run.plan, run.snapshot.replan);
 }
 
 export interface PublishOutcome {
@@ -233,6 +236,13 @@ export async function publishRun(
   if (refusal) throw new UserError(refusal);
   const snapshot = run.snapshot!;
   const { sessions, unplaced } = placement(run);
+  // Nothing is published that breaks the session rules as they stand now (closures, working hours, session
+  // lengths and breaks may have changed since the run).
+  const broken = sessionRuleViolations(await sessionRulesNow(snapshot.calendar), sessions);
+  if (broken.length)
+    throw new UserError(
+      `${broken.length} of this run's sessions break the session rules as they stand now, e.g. ${broken[0]} The closures, working hours or session rules changed after the run; start a new run. Nothing was published.`,
+    );
   const devices = new Map(snapshot.calendar.devices.map((d) => [d.id, d]));
   const trainers = new Map(snapshot.calendar.trainers.map((t) => [t.id, t]));
   const workers = new Map(snapshot.calendar.workers.map((w) => [w.id, w]));

@@ -7,9 +7,9 @@ import {
   hiddenShare,
   type OverTimeResult,
   type PublishedPair,
-  protectOverTime,
   type StoredPublication,
   sameCounts,
+  sameLayout,
   type TableCounts,
 } from "~/compute/disclosure-history";
 import {
@@ -28,6 +28,7 @@ import { round1 } from "~/compute/rounding";
 import { nowInstant } from "~/dates";
 import { type Db, db } from "~/db.server";
 import { STAGE_BAND_LABELS, STAGE_BAND_OF, STAGE_BANDS, STAGE_LABELS, STAGES } from "~/domain/stages";
+import { protectOverTimeOffThread } from "~/jobs/disclosure.server";
 import { type Grouping, type OrganisationSettings, parseStoredGroupings } from "~/schemas/readiness";
 import { whereWorkerInScope } from "./workers.server";
 
@@ -53,6 +54,8 @@ export interface GroupingUsed {
   publicationId: number;
   /** E.g. why this publication is not linked to the previous one. */
   note: string | null;
+  /** Set while these are the earlier figures and the new ones are being protected. */
+  updating: string | null;
 }
 
 /** Who received a publication (recorded so the over-time guarantee can be stated per viewer). */
@@ -126,6 +129,7 @@ export async function updateOrganisationSettings(v: OrganisationSettings): Promi
       .update({
         disclosure_threshold: effectiveThreshold(v.disclosureThreshold),
         manager_groupings: JSON.stringify(v.groupings),
+        max_hidden_share: v.maxHiddenSharePercent / 100,
       });
   });
 }
@@ -196,50 +200,75 @@ interface Candidate {
   counts: TableCounts;
 }
 
-function parseStored(row: {
+interface StoredRow {
   id: number;
   grouping: string;
   counts: string;
   published: string;
   note: string | null;
-}): StoredPublication {
+  created_at: string;
+}
+
+function parseStored(row: StoredRow): StoredPublication & { createdAt: string } {
   return {
     id: Number(row.id),
     grouping: row.grouping,
     counts: JSON.parse(row.counts),
     published: JSON.parse(row.published),
     note: row.note ?? null,
+    createdAt: row.created_at,
   };
 }
 
-async function latestPublication(tableKey: string, grouping?: string): Promise<StoredPublication | null> {
+async function latestPublication(
+  tableKey: string,
+  grouping?: string,
+): Promise<(StoredPublication & { createdAt: string }) | null> {
   const q = db()("readiness_publications").where({ table_key: tableKey });
   if (grouping) q.where({ grouping });
-  const row = await q.orderBy("id", "desc").first("id", "grouping", "counts", "published", "note");
+  const row = await q.orderBy("id", "desc").first("id", "grouping", "counts", "published", "note", "created_at");
   return row ? parseStored(row) : null;
 }
+
+type TablePublication =
+  | { status: "ok"; pair: PublishedPair; grouping: GroupingUsed }
+  | { status: "empty"; reason: string };
+
+const UPDATING_TEXT =
+  "The figures under this table changed; the new ones are being protected and replace these shortly. Until then these are the figures published before.";
 
 /**
  * The organisation-wide publication of one table: per candidate grouping (fine to coarse) the stored
  * publication when its counts are unchanged, otherwise a new one protected against the latest earlier
- * publication in that grouping; the finest within the organisation's hidden share is used (stored, and
- * the viewer's receipt recorded). Withheld when no grouping can be published safely.
+ * publication in that grouping; the finest within the organisation's hidden share is used. Withheld when
+ * no grouping can be published safely.
+ *
+ * On the request path (`background` false) no new protection is computed while an earlier publication
+ * of the same layout and threshold can be shown instead: that one is served, marked as being updated, and
+ * the new one is protected in the background (`refreshInBackground`), which stores it and bumps the
+ * readiness generation in one transaction so the next request picks it up. Only a table that has no such
+ * earlier publication (the first one, or departments, columns or the threshold changed) is protected
+ * while the request waits — off the request thread too.
  */
 async function publishTable(
   tableKey: string,
   candidates: Candidate[],
   maxShare: number,
-  viewer: BoardViewer | undefined,
-): Promise<{ status: "ok"; pair: PublishedPair; grouping: GroupingUsed } | { status: "empty"; reason: string }> {
+  background: boolean,
+): Promise<TablePublication> {
   const latest = await latestPublication(tableKey);
   const results: { c: Candidate; prev: StoredPublication | null; r: OverTimeResult; reused: boolean }[] = [];
   for (const c of candidates) {
     const prev = latest?.grouping === c.key ? latest : await latestPublication(tableKey, c.key);
     const reused = prev !== null && sameCounts(prev.counts, c.counts);
+    if (!reused && !background && latest) {
+      const stale = servePrevious(tableKey, latest, candidates, maxShare);
+      if (stale) return stale;
+    }
     const r: OverTimeResult =
       reused && prev
         ? { status: "ok", published: prev.published, linkedTo: prev.id, note: prev.note }
-        : protectOverTime(c.counts, prev);
+        : await protectOverTimeOffThread(c.counts, prev);
     results.push({ c, prev, r, reused });
     // The finest grouping within the share is the one used: nothing coarser needs computing.
     if (r.status === "ok" && hiddenShare(r.published.detail) <= maxShare) break;
@@ -269,13 +298,16 @@ async function publishTable(
   if (!withinShare) reasons.push(`Even so ${pct(chosen.share)} of the cells are hidden: the groups are small.`);
   let id = x.prev?.id ?? 0;
   let note = x.r.note;
-  if (!x.reused || latest?.id !== x.prev?.id) {
-    if (latest && latest.grouping !== x.c.key && !x.reused)
+  // In the background nothing new may be needed after all (the coarser grouping's counts did not
+  // change): the boards cached as "being updated" must still be dropped.
+  if (x.reused && background) await db().transaction(bumpReadinessGeneration);
+  if (!x.reused) {
+    if (latest && latest.grouping !== x.c.key)
       note =
         note ??
         "The grouping changed since the last publication; this one is linked to the last one in the same grouping only.";
-    if (!x.reused) {
-      const [row] = await db()("readiness_publications")
+    id = await db().transaction(async (trx) => {
+      const [row] = await trx("readiness_publications")
         .insert({
           table_key: tableKey,
           grouping: x.c.key,
@@ -286,19 +318,11 @@ async function publishTable(
           created_at: nowInstant(),
         })
         .returning("id");
-      id = Number(typeof row === "object" ? row.id : row);
-    }
+      // A publication made in the background changes what cached boards should show.
+      if (background) await bumpReadinessGeneration(trx);
+      return Number(typeof row === "object" ? row.id : row);
+    });
   }
-  if (viewer)
-    await db()("readiness_receipts")
-      .insert({
-        publication_id: id,
-        viewer_kind: viewer.kind,
-        viewer_id: viewer.id,
-        received_at: nowInstant(),
-      })
-      .onConflict(["publication_id", "viewer_kind", "viewer_id"])
-      .ignore();
   return {
     status: "ok",
     pair: x.r.published,
@@ -309,8 +333,73 @@ async function publishTable(
       hiddenShare: chosen.share,
       publicationId: id,
       note,
+      updating: null,
     },
   };
+}
+
+/**
+ * The latest publication as it was, marked as being updated, with the new one started in the background;
+ * null when it cannot stand in (its layout or threshold differs from the current counts: its figures
+ * would not be protected under the current rules).
+ */
+function servePrevious(
+  tableKey: string,
+  latest: StoredPublication & { createdAt: string },
+  candidates: Candidate[],
+  maxShare: number,
+): TablePublication | null {
+  const same = candidates.find((c) => c.key === latest.grouping);
+  if (!same || !sameLayout(same.counts, latest.counts) || same.counts.threshold !== latest.counts.threshold)
+    return null;
+  refreshInBackground(tableKey, candidates, maxShare);
+  return {
+    status: "ok",
+    pair: latest.published,
+    grouping: {
+      key: same.key,
+      label: same.label,
+      reason: null,
+      hiddenShare: hiddenShare(latest.published.detail),
+      publicationId: latest.id,
+      note: latest.note,
+      updating: UPDATING_TEXT,
+    },
+  };
+}
+
+// One background protection per table at a time on this instance; counts that arrive meanwhile run next.
+interface Refresh {
+  next: { candidates: Candidate[]; maxShare: number } | null;
+  done: Promise<void>;
+}
+const refreshing = new Map<string, Refresh>();
+
+function refreshInBackground(tableKey: string, candidates: Candidate[], maxShare: number): void {
+  const running = refreshing.get(tableKey);
+  if (running) {
+    running.next = { candidates, maxShare };
+    return;
+  }
+  const state: Refresh = { next: { candidates, maxShare }, done: Promise.resolve() };
+  refreshing.set(tableKey, state);
+  state.done = (async () => {
+    while (state.next) {
+      const job = state.next;
+      state.next = null;
+      try {
+        await publishTable(tableKey, job.candidates, job.maxShare, true);
+      } catch (e) {
+        console.error(`Protecting the readiness table "${tableKey}" in the background failed:`, e);
+      }
+    }
+    refreshing.delete(tableKey);
+  })();
+}
+
+/** Resolves once this instance protects no readiness table in the background (tests, benches). */
+export async function readinessRefreshesSettled(): Promise<void> {
+  while (refreshing.size > 0) await Promise.all([...refreshing.values()].map((r) => r.done));
 }
 
 function tableCounts(g: Groups, columns: string[], counts: number[][], threshold: number): TableCounts {
@@ -530,8 +619,107 @@ function siteColumns(g: Groups, t: ProtectedTable): ProtectedTable {
 
 // ── the board ────────────────────────────────────────────────────────────────────────────────────
 
-/** Everything a manager's pages, export and API publish: protected figures only. */
+// ── the readiness generation and the board cache ─────────────────────────────────────────────────
+
+/**
+ * The readiness generation: database triggers bump it in the transaction of every write to the data
+ * under the board (migration 20261205040000 lists the tables and columns), and a background publication
+ * bumps it with its insert. Equal generation, equal figures — on every app instance.
+ */
+export async function readinessGeneration(conn: Db = db()): Promise<number> {
+  const row = await conn("readiness_generation").where({ id: 1 }).first("value");
+  return Number(row?.value ?? 0);
+}
+
+async function bumpReadinessGeneration(trx: Db): Promise<void> {
+  await trx("readiness_generation")
+    .where({ id: 1 })
+    .update({ value: trx.raw("value + 1") });
+}
+
+interface CachedBoard {
+  generation: number;
+  board: ReadinessBoard;
+  publicationIds: number[];
+}
+
+/**
+ * Per database handle (one in the app; tests may swap it) and scope, the board of the latest generation
+ * this instance computed (protected figures only), and the computations under way.
+ */
+const caches = new WeakMap<
+  object,
+  { boards: Map<string, CachedBoard>; computing: Map<string, Promise<CachedBoard>> }
+>();
+function cacheOf(conn: Db) {
+  let c = caches.get(conn);
+  if (!c) {
+    c = { boards: new Map(), computing: new Map() };
+    caches.set(conn, c);
+  }
+  return c;
+}
+/** Receipts this instance has already written (publication × viewer), so a cached board costs no write. */
+const receipted = new Set<string>();
+const MAX_CACHED_SCOPES = 1000;
+
+function scopeKey(scope: Scope): string {
+  const sorted = (v: number[]) => [...v].sort((a, b) => a - b).join(",");
+  return scope.allSites ? "all" : `s${sorted(scope.siteIds)}d${sorted(scope.departmentIds)}`;
+}
+
+function publicationIdsOf(board: ReadinessBoard): number[] {
+  return [board.stage, board.ready].flatMap((p) => (p.status === "ok" ? [p.grouping.publicationId] : []));
+}
+
+async function recordReceipts(ids: number[], viewer: BoardViewer): Promise<void> {
+  for (const id of ids) {
+    const key = `${id}:${viewer.kind}:${viewer.id}`;
+    if (receipted.has(key)) continue;
+    await db()("readiness_receipts")
+      .insert({
+        publication_id: id,
+        viewer_kind: viewer.kind,
+        viewer_id: viewer.id,
+        received_at: nowInstant(),
+      })
+      .onConflict(["publication_id", "viewer_kind", "viewer_id"])
+      .ignore();
+    receipted.add(key);
+  }
+}
+
+/**
+ * Everything a manager's pages, export and API publish: protected figures only. Computed once per scope
+ * and readiness generation (concurrent requests share the computation) and kept until the generation
+ * changes; requests in between read one row and get the stored board. The board is shared: never mutate it.
+ */
 export async function readinessBoard(scope: Scope, viewer?: BoardViewer): Promise<ReadinessBoard> {
+  const { boards, computing } = cacheOf(db());
+  const generation = await readinessGeneration();
+  const key = scopeKey(scope);
+  let entry = boards.get(key);
+  if (!entry || entry.generation !== generation) {
+    const flight = `${key}@${generation}`;
+    let pending = computing.get(flight);
+    if (!pending) {
+      pending = computeBoard(scope)
+        .then((board) => ({ generation, board, publicationIds: publicationIdsOf(board) }))
+        .finally(() => computing.delete(flight));
+      computing.set(flight, pending);
+    }
+    entry = await pending;
+    const current = boards.get(key);
+    if (!current || current.generation <= entry.generation) {
+      if (!current && boards.size >= MAX_CACHED_SCOPES) boards.delete(boards.keys().next().value as string);
+      boards.set(key, entry);
+    }
+  }
+  if (viewer) await recordReceipts(entry.publicationIds, viewer);
+  return entry.board;
+}
+
+async function computeBoard(scope: Scope): Promise<ReadinessBoard> {
   const [org, g, devices] = await Promise.all([organisationSettings(), readinessGroups(scope), deviceTypes()]);
   const { threshold, groupings } = org;
   const board: ReadinessBoard = {
@@ -553,7 +741,7 @@ export async function readinessBoard(scope: Scope, viewer?: BoardViewer): Promis
     return { ...board, stage: empty, ready: empty, planned: empty, medians: empty };
   }
   const show = async (tableKey: string, candidates: Candidate[]): Promise<Panel<LinkedViews>> => {
-    const p = await publishTable(tableKey, candidates, org.maxHiddenShare, viewer);
+    const p = await publishTable(tableKey, candidates, org.maxHiddenShare, false);
     if (p.status === "empty") return p;
     return { status: "ok", ...sliceForViewer(g, p.pair, groupings), grouping: p.grouping };
   };

@@ -1,6 +1,7 @@
 import type { Principal } from "~/auth/guard.server";
 import { can } from "~/auth/permissions";
 import { addDays } from "~/compute/plan-calendar";
+import { replanOutcome } from "~/compute/replan";
 import { round1 } from "~/compute/rounding";
 import { getRun, listRuns } from "./allocation-runs.server";
 import { placement, planState, publishPreview, publishRefusal } from "./publish.server";
@@ -104,6 +105,9 @@ export async function runResultView(p: Principal & { kind: "user" }, runId: numb
           binding: (plan.bindingResources ?? []).map((b) => b.description),
         }
       : null,
+    /** a run from the published plan: who keeps their sessions, who moves and why */
+    disruption:
+      snap?.replan && plan ? { keepWeight: snap.replan.keepWeight, ...replanOutcome(snap.replan, plan) } : null,
     poolSize: snap?.problem.workers.length ?? 0,
     excluded: snap?.excluded ?? [],
     notes: snap?.notes ?? [],

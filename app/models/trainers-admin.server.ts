@@ -22,7 +22,16 @@ export async function trainerList(scope: Scope) {
   const q = db()("trainers as t")
     .join("users as u", "u.id", "t.user_id")
     .join("sites as s", "s.id", "t.site_id")
-    .select("t.id", "u.display_name", "u.email", "s.name as site", "t.hours_per_week", "t.trainees_per_session")
+    .select(
+      "t.id",
+      "u.display_name",
+      "u.email",
+      "s.name as site",
+      "t.hours_per_week",
+      "t.trainees_per_session",
+      "t.max_continuous_minutes",
+      "t.break_minutes",
+    )
     .orderBy("u.display_name");
   if (!scope.allSites) q.whereIn("t.site_id", scope.siteIds.length ? scope.siteIds : [-1]);
   const rows = await q;
@@ -46,6 +55,8 @@ export async function trainerList(scope: Scope) {
     site: r.site as string,
     hoursPerWeek: Number(r.hours_per_week),
     traineesPerSession: Number(r.trainees_per_session),
+    maxContinuousMinutes: Number(r.max_continuous_minutes),
+    breakMinutes: Number(r.break_minutes),
     certifications: certs
       .filter((c) => c.trainer_id === r.id)
       .map((c) => ({ id: c.id as number, name: c.name as string })),
@@ -91,16 +102,25 @@ function sessionLine(s: SessionOnSchedule) {
 export async function updateTrainer(
   p: Principal,
   trainerId: number,
-  v: { hoursPerWeek: number; traineesPerSession: number; deviceTypeIds: number[] },
+  v: {
+    hoursPerWeek: number;
+    traineesPerSession: number;
+    maxContinuousMinutes: number;
+    breakMinutes: number;
+    deviceTypeIds: number[];
+  },
 ) {
   await trainerInScope(p.scope, trainerId);
   await db().transaction(async (trx) => {
     const known = (await trx("device_types").whereIn("id", v.deviceTypeIds.concat(-1)).select("id")).map((d) => d.id);
     if (known.length !== new Set(v.deviceTypeIds).size)
       throw notFound("A chosen device type does not exist.", "deviceTypeIds");
-    await trx("trainers")
-      .where({ id: trainerId })
-      .update({ hours_per_week: v.hoursPerWeek, trainees_per_session: v.traineesPerSession });
+    await trx("trainers").where({ id: trainerId }).update({
+      hours_per_week: v.hoursPerWeek,
+      trainees_per_session: v.traineesPerSession,
+      max_continuous_minutes: v.maxContinuousMinutes,
+      break_minutes: v.breakMinutes,
+    });
     const had = (await trx("trainer_certifications").where({ trainer_id: trainerId }).select("device_type_id")).map(
       (c) => c.device_type_id,
     );

@@ -3,7 +3,13 @@ import { requireUser } from "~/auth/guard.server";
 import { ActionForm, ActionNotice, FormError, TextField, useFieldWiring } from "~/components/fields";
 import { formAction } from "~/forms.server";
 import { organisationSettings, updateOrganisationSettings } from "~/models/readiness.server";
-import { GROUPING_LABELS, GROUPINGS, MAX_THRESHOLD, organisationSettingsSchema } from "~/schemas/readiness";
+import {
+  GROUPING_LABELS,
+  GROUPINGS,
+  HIDDEN_SHARE_PERCENT,
+  MAX_THRESHOLD,
+  organisationSettingsSchema,
+} from "~/schemas/readiness";
 import type { Route } from "./+types/admin.organisation";
 
 export const meta: Route.MetaFunction = () => [{ title: "Organisation settings Â· Limberly" }];
@@ -11,7 +17,12 @@ export const meta: Route.MetaFunction = () => [{ title: "Organisation settings Â
 export async function loader({ request }: Route.LoaderArgs) {
   await requireUser(request, "admin.settings");
   const s = await organisationSettings();
-  return { name: s.name, threshold: s.threshold, groupings: s.groupings };
+  return {
+    name: s.name,
+    threshold: s.threshold,
+    groupings: s.groupings,
+    maxHiddenSharePercent: Math.round(s.maxHiddenShare * 100),
+  };
 }
 
 export async function action({ request }: Route.ActionArgs) {
@@ -52,6 +63,14 @@ export default function OrganisationSettingsPage({ loaderData }: Route.Component
           required
           defaultValue={String(loaderData.threshold)}
           hint={`At least 5, at most ${MAX_THRESHOLD}. Counts of 1 to this number minus 1 are hidden, together with any number that would give them away; medians and shares need a group at least this large.`}
+        />
+        <TextField
+          name="maxHiddenSharePercent"
+          label="Most of a table that may be hidden before the board groups more coarsely (%)"
+          type="number"
+          required
+          defaultValue={String(loaderData.maxHiddenSharePercent)}
+          hint={`${HIDDEN_SHARE_PERCENT.min} to ${HIDDEN_SHARE_PERCENT.max} %. Where protection would hide more of a table, the board shows a coarser grouping (e.g. stage bands) and says so.`}
         />
         <Groupings chosen={loaderData.groupings} />
         <button type="submit" className="btn-primary justify-self-start" disabled={nav.state === "submitting"}>

@@ -1,4 +1,4 @@
-import { useActionData } from "react-router";
+import { Link, useActionData } from "react-router";
 import { requireUser } from "~/auth/guard.server";
 import { ActionForm, ActionNotice, SelectField, TextField } from "~/components/fields";
 import { siteOptions } from "~/components/scope-options";
@@ -67,6 +67,11 @@ export default function AdminSites({ loaderData }: Route.ComponentProps) {
             <h2 id={`site-${s.id}`} className="font-semibold">
               {s.name} <span className="text-sm text-ink-soft">({s.code})</span>
             </h2>
+            <p className="text-sm">
+              <Link className="text-spruce-700 underline" to={`/admin/sites/${s.id}/calendar`}>
+                Working hours and closures
+              </Link>
+            </p>
             <ul className="mt-2 text-sm">
               {departments
                 .filter((d) => d.siteId === s.id)

@@ -91,11 +91,15 @@ export async function loader({ request }: Route.LoaderArgs) {
   } else if (board.stage.status === "ok" && board.stage[level]) {
     tables.workersByStage = plain(transposeProtected(board.stage[level]!));
   }
-  const notes = Object.fromEntries(
+  const notes: Record<string, string> = Object.fromEntries(
     (["stage", "ready", "planned", "medians"] as const)
       .filter((k) => board[k].status === "empty")
       .map((k) => [k, (board[k] as { reason: string }).reason]),
   );
+  for (const k of ["stage", "ready"] as const) {
+    const panel = board[k];
+    if (panel.status === "ok" && panel.grouping.updating) notes[k] = panel.grouping.updating;
+  }
   return Response.json(
     {
       groupBy,

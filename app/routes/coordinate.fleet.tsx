@@ -75,7 +75,7 @@ export default function Fleet({ loaderData, actionData }: Route.ComponentProps) 
               match={{ deviceTypeId: String(t.id) }}
               result={actionData}
               notice
-              className="grid gap-3 md:grid-cols-4"
+              className="grid gap-3 md:grid-cols-3"
             >
               <input type="hidden" name="deviceTypeId" value={t.id} />
               <TextField
@@ -84,6 +84,21 @@ export default function Fleet({ loaderData, actionData }: Route.ComponentProps) 
                 type="number"
                 step="1"
                 defaultValue={String(t.wearTimeLimitMinutes)}
+              />
+              <TextField
+                name="minSessionMinutes"
+                label="Shortest session (min)"
+                type="number"
+                step="1"
+                defaultValue={String(t.minSessionMinutes)}
+              />
+              <TextField
+                name="maxSessionMinutes"
+                label="Longest session (min)"
+                type="number"
+                step="1"
+                defaultValue={String(t.maxSessionMinutes)}
+                hint="At most the wear-time limit."
               />
               <TextField
                 name="defaultMaxHoursPerWeek"
@@ -95,7 +110,7 @@ export default function Fleet({ loaderData, actionData }: Route.ComponentProps) 
               <div className="md:col-span-2">
                 <TextArea name="fitRules" label="Fit rules" rows={2} defaultValue={t.fitRules ?? ""} />
               </div>
-              <div className="md:col-span-4 flex flex-wrap items-center gap-3">
+              <div className="md:col-span-3 flex flex-wrap items-center gap-3">
                 <button className="btn-quiet" type="submit" disabled={nav.state === "submitting"}>
                   Save {t.name}
                 </button>

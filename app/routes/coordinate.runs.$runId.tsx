@@ -16,9 +16,10 @@ import { ActionForm, CheckboxField, FieldMessage, FormError, Notice } from "~/co
 import { ProgressBar } from "~/components/progress-bar";
 import { formAction } from "~/forms.server";
 import { recordAccess } from "~/models/access-log.server";
+import { setArchived } from "~/models/allocation-runs.server";
 import { publishRun } from "~/models/publish.server";
 import { runResultView, type WorkerPlanRow } from "~/models/run-result.server";
-import { publishSchema } from "~/schemas/allocation";
+import { runPageSchema } from "~/schemas/allocation";
 import { percentileLabel } from "~/schemas/forecast";
 import type { Route } from "./+types/coordinate.runs.$runId";
 
@@ -33,8 +34,17 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 }
 
 export async function action({ request, params }: Route.ActionArgs) {
-  const p = await requireUser(request, "allocation.publish");
-  return formAction(await request.formData(), publishSchema, async (v) => {
+  const form = await request.formData();
+  // archiving is part of running and comparing runs; publishing needs the publish permission
+  const p = await requireUser(request, form.get("intent") === "archive" ? "allocation.run" : "allocation.publish");
+  return formAction(form, runPageSchema, async (v) => {
+    if (v.intent === "archive") {
+      await setArchived(p, Number(params.runId), v.archived === "yes");
+      return {
+        notice: v.archived === "yes" ? "Archived: the runs list hides this run." : "Back in the runs list.",
+        payload: undefined,
+      };
+    }
     const published = await publishRun(p, Number(params.runId), v.expectedPlanVersion);
     return { notice: `Published as plan version ${published.version}.`, payload: published };
   });
@@ -176,6 +186,7 @@ export default function RunPage({ loaderData, actionData }: Route.ComponentProps
   const {
     run,
     result,
+    disruption,
     poolSize,
     excluded,
     notes,
@@ -219,6 +230,15 @@ export default function RunPage({ loaderData, actionData }: Route.ComponentProps
           ) : null}
           {run.createdBy ? ` · started by ${run.createdBy}` : ""}
         </p>
+        {run.status !== "queued" && run.status !== "running" && (
+          <ActionForm intent="archive" result={actionData} className="mt-2 flex flex-wrap items-center gap-2">
+            <input type="hidden" name="archived" value={run.archivedAt ? "no" : "yes"} />
+            {run.archivedAt && <span className="text-sm">Archived on {run.archivedAt.slice(0, 10)}.</span>}
+            <button className="btn-quiet" type="submit">
+              {run.archivedAt ? "Put back in the runs list" : "Archive this run"}
+            </button>
+          </ActionForm>
+        )}
       </div>
 
       {(run.status === "queued" || run.status === "running") && (
@@ -264,6 +284,55 @@ export default function RunPage({ loaderData, actionData }: Route.ComponentProps
             )}
             {result.message && result.status !== "infeasible" && <Notice>{result.message}</Notice>}
           </section>
+
+          {disruption && (
+            <section aria-labelledby="disruption" className="card grid gap-2" data-testid="disruption">
+              <h2 id="disruption" className="text-lg font-semibold">
+                Changes to the published plan
+              </h2>
+              <p>
+                <strong>{disruption.kept.length}</strong>{" "}
+                {disruption.kept.length === 1 ? "person keeps" : "people keep"} their published sessions unchanged;{" "}
+                <strong>{disruption.moved.length}</strong>{" "}
+                {disruption.moved.length === 1 ? "person's sessions move" : "people's sessions move"}. Moving one
+                person's sessions was counted as costing as much as one more person ready with priority{" "}
+                {disruption.keepWeight}. Publishing e-mails only the people whose sessions change.
+              </p>
+              {disruption.moved.length > 0 && (
+                <section className="overflow-x-auto" tabIndex={0} aria-label="Who moves (scrolls sideways)">
+                  <table className="table-base">
+                    <caption className="sr-only">People whose published sessions move, and why</caption>
+                    <thead>
+                      <tr>
+                        <th scope="col">Moves</th>
+                        <th scope="col">Why</th>
+                      </tr>
+                    </thead>
+                    <tbody>
+                      {disruption.moved.map((m) => (
+                        <tr key={m.workerId}>
+                          <td>{m.name}</td>
+                          <td>{m.reason}</td>
+                        </tr>
+                      ))}
+                    </tbody>
+                  </table>
+                </section>
+              )}
+              {disruption.kept.length > 0 && (
+                <details>
+                  <summary className="cursor-pointer">Who keeps their sessions ({disruption.kept.length})</summary>
+                  <ul className="mt-1 list-disc pl-5">
+                    {disruption.kept.map((k) => (
+                      <li key={k.workerId}>
+                        {k.name} ({k.sessions} session{k.sessions === 1 ? "" : "s"})
+                      </li>
+                    ))}
+                  </ul>
+                </details>
+              )}
+            </section>
+          )}
 
           <section aria-labelledby="publish" className="card grid gap-3">
             <h2 id="publish" className="text-lg font-semibold">

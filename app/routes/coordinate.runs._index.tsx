@@ -6,7 +6,7 @@ import { ActionForm, CheckboxField, FieldMessage, SelectField, TextField } from 
 import { addDays, isoWeekday } from "~/compute/plan-calendar";
 import { todayIn } from "~/dates";
 import { formAction } from "~/forms.server";
-import { getRunStatus, listRuns, startRun } from "~/models/allocation-runs.server";
+import { archivedCount, getRunStatus, listRuns, startRun } from "~/models/allocation-runs.server";
 import { planningChoices } from "~/models/fleet-admin.server";
 import { planningQuantile } from "~/models/forecast.server";
 import { planState } from "~/models/publish.server";
@@ -27,8 +27,10 @@ export async function loader({ request }: Route.LoaderArgs) {
   const url = new URL(request.url);
   const fromId = Number(url.searchParams.get("from")) || null;
   const base = fromId ? await getRunStatus(p.scope, fromId) : null;
-  const [runs, choices, quantile, plan] = await Promise.all([
-    listRuns(p.scope),
+  const showArchived = url.searchParams.get("archived") === "show";
+  const [runs, archived, choices, quantile, plan] = await Promise.all([
+    listRuns(p.scope, 50, { includeArchived: showArchived }),
+    archivedCount(p.scope),
     planningChoices(p.scope),
     planningQuantile(),
     planState(),
@@ -36,6 +38,8 @@ export async function loader({ request }: Route.LoaderArgs) {
   const canSetQuantile = can(p.user, "models.manage");
   return {
     runs,
+    archived,
+    showArchived,
     choices,
     quantile,
     canSetQuantile,
@@ -55,7 +59,7 @@ export async function action({ request }: Route.ActionArgs) {
 const STATUS_TEXT: Record<string, string> = { queued: "Queued", running: "Solving", done: "Done", failed: "Failed" };
 
 export default function RunsIndex({ loaderData, actionData }: Route.ComponentProps) {
-  const { runs, choices, quantile, canSetQuantile, base, defaultStart, plan } = loaderData;
+  const { runs, archived, showArchived, choices, quantile, canSetQuantile, base, defaultStart, plan } = loaderData;
   const nav = useNavigation();
   const bp = base?.parameters;
   return (
@@ -161,6 +165,23 @@ export default function RunsIndex({ loaderData, actionData }: Route.ComponentPro
               defaultChecked={bp?.pool.includeProficientElsewhere ?? false}
             />
           </fieldset>
+          {plan.runId && (
+            <fieldset className="grid gap-3 rounded-md border border-line p-3">
+              <legend className="field-label px-1">Re-plan from the published plan</legend>
+              <CheckboxField
+                name="fromPublished"
+                label="Keep people's published sessions unless a change forces them to move"
+                defaultChecked={Boolean(bp?.fromPublished)}
+              />
+              <TextField
+                name="keepWeight"
+                label="Moving one person's sessions costs as much as one more person ready with priority"
+                type="number"
+                defaultValue={String(bp?.fromPublished?.keepWeight ?? 3)}
+                hint="0 to 100. With 3, the plan moves someone's published sessions only when that makes more people ready than one priority-3 person is worth; leave, maintenance, a pause or withdrawal or a new priority always move them."
+              />
+            </fieldset>
+          )}
           <fieldset className="grid gap-3 rounded-md border border-line p-3">
             <legend className="field-label px-1">What-if changes (optional)</legend>
             <div className="grid gap-4 md:grid-cols-3">
@@ -215,6 +236,19 @@ export default function RunsIndex({ loaderData, actionData }: Route.ComponentPro
         <h2 id="runs" className="text-lg font-semibold">
           Runs
         </h2>
+        {archived > 0 && (
+          <p className="text-sm">
+            {showArchived ? (
+              <Link className="text-spruce-700 underline" to="/coordinate/runs">
+                Hide the {archived} archived run{archived === 1 ? "" : "s"}
+              </Link>
+            ) : (
+              <Link className="text-spruce-700 underline" to="/coordinate/runs?archived=show">
+                Show the {archived} archived run{archived === 1 ? "" : "s"}
+              </Link>
+            )}
+          </p>
+        )}
         {runs.length === 0 ? (
           <p className="text-ink-soft">No runs yet.</p>
         ) : (
@@ -247,6 +281,7 @@ export default function RunsIndex({ loaderData, actionData }: Route.ComponentPro
                     <td>
                       {STATUS_TEXT[r.status]}
                       {r.status === "running" ? ` (${Math.round(r.fraction * 100)} %)` : ""}
+                      {r.archivedAt ? " · archived" : ""}
                     </td>
                     <td className="whitespace-nowrap" data-testid={`run-ready-${r.id}`}>
                       {r.summary ? `${r.summary.ready} / ${r.summary.pool}` : "—"}

@@ -86,6 +86,21 @@ export default function TrainerPage({ loaderData, actionData }: Route.ComponentP
               type="number"
               defaultValue={String(t.traineesPerSession)}
             />
+            <TextField
+              name="maxContinuousMinutes"
+              label="Longest teaching without a break (min)"
+              type="number"
+              step="1"
+              defaultValue={String(t.maxContinuousMinutes)}
+            />
+            <TextField
+              name="breakMinutes"
+              label="Break after it (min)"
+              type="number"
+              step="1"
+              defaultValue={String(t.breakMinutes)}
+              hint="Sessions closer together than this count as one stretch of teaching."
+            />
           </div>
           <CheckboxGroup
             name="deviceTypeIds"

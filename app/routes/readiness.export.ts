@@ -1,7 +1,13 @@
 import { requireUser } from "~/auth/guard.server";
 import type { ProtectedTable } from "~/compute/disclosure";
 import { todayIn } from "~/dates";
-import { boardViewer, type MedianTable, type ReadinessBoard, readinessBoard } from "~/models/readiness.server";
+import {
+  boardViewer,
+  type GroupingUsed,
+  type MedianTable,
+  type ReadinessBoard,
+  readinessBoard,
+} from "~/models/readiness.server";
 import { viewerTimeZone } from "~/models/sites.server";
 import { type SheetSpec, workbookBuffer, xlsxResponse } from "~/xlsx.server";
 import type { Route } from "./+types/readiness.export";
@@ -35,6 +41,8 @@ function sheet(name: string, rowHeader: string, t: ProtectedTable | MedianTable,
   return { name, columns, rows, note };
 }
 
+const withUpdating = (note: string, g: GroupingUsed) => (g.updating ? `${note} ${g.updating}` : note);
+
 function boardSheets(board: ReadinessBoard): SheetSpec[] {
   const t = board.threshold;
   const note = `An empty cell is hidden: a count of 1 to ${t - 1} people, or a number that would let one be worked out from the others. Zeros are shown.`;
@@ -42,10 +50,15 @@ function boardSheets(board: ReadinessBoard): SheetSpec[] {
   for (const level of ["department", "site"] as const) {
     const label = level === "department" ? "Department" : "Site";
     if (board.stage.status === "ok" && board.stage[level])
-      sheets.push(sheet(`By stage (${level})`, label, board.stage[level]!, note));
+      sheets.push(sheet(`By stage (${level})`, label, board.stage[level]!, withUpdating(note, board.stage.grouping)));
     if (board.ready.status === "ok" && board.ready[level])
       sheets.push(
-        sheet(`Ready per device (${level})`, label, board.ready[level]!, `${note} Totals count person-device pairs.`),
+        sheet(
+          `Ready per device (${level})`,
+          label,
+          board.ready[level]!,
+          withUpdating(`${note} Totals count person-device pairs.`, board.ready.grouping),
+        ),
       );
     if (board.medians.status === "ok" && board.medians[level]) {
       sheets.push(

@@ -1,6 +1,6 @@
 import { z } from "zod";
 import { ROLES } from "~/auth/permissions";
-import { isTimeZone } from "~/dates/calendar";
+import { addDays, isTimeZone } from "~/dates/calendar";
 import { CONSENT_PURPOSES } from "~/domain/consent-purposes";
 import { intents } from "~/schemas/form";
 
@@ -133,4 +133,80 @@ export const sitesFormSchema = intents(
 export const approvalFormSchema = intents(
   z.object({ intent: z.literal("approve"), requestId: z.coerce.number().int().positive() }),
   z.object({ intent: z.literal("refuse"), requestId: z.coerce.number().int().positive() }),
+);
+
+// A site's working hours and closures. Working hours: one span per weekday, both times or neither (not worked).
+const optionalTime = z
+  .string()
+  .trim()
+  .optional()
+  .transform((s) => s || null)
+  .refine((s) => s === null || /^([01]\d|2[0-3]):[0-5]\d$/.test(s), "Use a time like 07:30.");
+const WEEKDAY_LABELS = ["Monday", "Tuesday", "Wednesday", "Thursday", "Friday", "Saturday", "Sunday"];
+const dayFields: Record<string, typeof optionalTime> = Object.fromEntries(
+  WEEKDAY_LABELS.flatMap((_, i) => [
+    [`start${i + 1}`, optionalTime],
+    [`end${i + 1}`, optionalTime],
+  ]),
+);
+
+/** The weekdays a working-hours form names, in order (weekdays left empty are not worked). */
+export function workingDaysOf(v: Record<string, unknown>): { weekday: number; start: string; end: string }[] {
+  return WEEKDAY_LABELS.flatMap((_, i) => {
+    const start = v[`start${i + 1}`];
+    const end = v[`end${i + 1}`];
+    return typeof start === "string" && typeof end === "string" ? [{ weekday: i + 1, start, end }] : [];
+  });
+}
+
+export const workingHoursSchema = z.object({ intent: z.literal("hours"), ...dayFields }).superRefine((v, ctx) => {
+  const row = v as Record<string, string | null>;
+  WEEKDAY_LABELS.forEach((label, i) => {
+    const start = row[`start${i + 1}`];
+    const end = row[`end${i + 1}`];
+    if (!start && !end) return;
+    if (!start || !end)
+      ctx.addIssue({
+        code: "custom",
+        path: [start ? `end${i + 1}` : `start${i + 1}`],
+        message: `${label}: enter both the opening and the closing time, or neither (not worked).`,
+      });
+    else if (end <= start)
+      ctx.addIssue({
+        code: "custom",
+        path: [`end${i + 1}`],
+        message: `${label}: the closing time must be after the opening time.`,
+      });
+  });
+  if (workingDaysOf(row).length === 0)
+    ctx.addIssue({
+      code: "custom",
+      path: ["start1"],
+      message: "Enter the hours of at least one weekday, or take the working hours away.",
+    });
+});
+
+export const closureSchema = z
+  .object({
+    intent: z.literal("closure"),
+    startsOn: z.iso.date({ message: "First day: a date like 2026-12-24." }),
+    endsOn: z.iso.date({ message: "Last day: a date like 2026-12-26." }),
+    reason: z.string().trim().min(2, "Reason: say why the site is closed (e.g. Christmas Day).").max(300),
+  })
+  .refine((v) => v.endsOn >= v.startsOn, { path: ["endsOn"], message: "Last day: on or after the first day." })
+  .refine((v) => v.endsOn <= addDays(v.startsOn, 366), {
+    path: ["endsOn"],
+    message: "Last day: a closure is at most a year long.",
+  });
+
+/** The largest .ics file a site's closures are imported from. */
+export const MAX_ICS_BYTES = 1024 * 1024;
+
+/** The forms of a site's calendar page. */
+export const siteCalendarFormSchema = intents(
+  workingHoursSchema,
+  z.object({ intent: z.literal("clear-hours") }),
+  closureSchema,
+  z.object({ intent: z.literal("remove-closure"), id: z.coerce.number().int().positive() }),
+  z.object({ intent: z.literal("import-ics") }),
 );

@@ -69,6 +69,15 @@ export const runParametersSchema = z.object({
     .max(1, "Fairness share is at most 1."),
   whatIf: whatIfSchema,
   baseRunId: z.coerce.number().int().positive().optional(),
+  /** start from the published plan: keep published sessions unless a change forces a move */
+  fromPublished: z
+    .object({
+      keepWeight: z.coerce
+        .number({ message: "The value of keeping someone's sessions must be a number." })
+        .min(0, "The value of keeping someone's sessions is at least 0.")
+        .max(100, "The value of keeping someone's sessions is at most 100."),
+    })
+    .optional(),
 });
 export type RunParameters = z.infer<typeof runParametersSchema>;
 /** A run's parameters as stored: the input plus the organisation's planning quantile when it was made (a share, 0.80). */
@@ -92,6 +101,8 @@ export const runFormSchema = z
     addUnitCount: z.string().optional(),
     removeTrainerIds: idList,
     baseRunId: z.string().optional(),
+    fromPublished: checkbox,
+    keepWeight: z.string().optional(),
   })
   .transform((f, ctx) => {
     const pct = (s: string, field: string) => {
@@ -132,6 +143,7 @@ export const runFormSchema = z
       fairnessShare: pct(f.fairnessShare, "fairnessShare"),
       whatIf: { addUnits, removeTrainerIds: f.removeTrainerIds },
       baseRunId: f.baseRunId ? Number(f.baseRunId) : undefined,
+      fromPublished: f.fromPublished ? { keepWeight: f.keepWeight?.trim() || "3" } : undefined,
     });
     if (!out.success) {
       // Report the nested parameter errors under the form's flat field names.
@@ -140,6 +152,7 @@ export const runFormSchema = z
         "pool.departmentIds": "departmentIds",
         "whatIf.addUnits": "addUnitCount",
         "whatIf.removeTrainerIds": "removeTrainerIds",
+        "fromPublished.keepWeight": "keepWeight",
       };
       for (const issue of out.error.issues) {
         const key = issue.path.slice(0, 2).join(".");
@@ -160,6 +173,13 @@ export const publishSchema = z.object({
   confirm: z.literal("yes", { message: PUBLISH_CONFIRM_MESSAGE }),
 });
 
+/** Archive or un-archive a run (the run page). */
+export const archiveSchema = z.object({
+  intent: z.literal("archive"),
+  archived: z.enum(["yes", "no"], { message: "Say whether to archive the run." }),
+});
+export const runPageSchema = intents(publishSchema, archiveSchema);
+
 // Fleet and trainers forms.
 const hhmm = z
   .string()
@@ -173,20 +193,39 @@ const optionalText = (max: number) =>
     .optional()
     .transform((s) => (s ? s : null));
 
-export const deviceTypeFormSchema = z.object({
-  intent: z.literal("device-type"),
-  deviceTypeId: z.coerce.number().int().positive(),
-  wearTimeLimitMinutes: z.coerce
-    .number({ message: "Wear-time limit must be a number of minutes." })
-    .int("Whole minutes, please.")
-    .min(10, "At least 10 minutes.")
-    .max(600, "At most 600 minutes."),
-  defaultMaxHoursPerWeek: z.coerce
-    .number({ message: "Max hours per week must be a number." })
-    .min(0.5, "At least 0.5 h.")
-    .max(40, "At most 40 h."),
-  fitRules: optionalText(2000),
-});
+const wholeMinutes = (what: string, min: number, max: number) =>
+  z.coerce
+    .number({ message: `${what} must be a number of minutes.` })
+    .int(`${what}: whole minutes, please.`)
+    .min(min, `${what}: at least ${min} minutes.`)
+    .max(max, `${what}: at most ${max} minutes.`);
+
+// The shortest and longest session lie within the wear-time limit: shortest ≤ longest ≤ wear-time limit.
+export const deviceTypeFormSchema = z
+  .object({
+    intent: z.literal("device-type"),
+    deviceTypeId: z.coerce.number().int().positive(),
+    wearTimeLimitMinutes: z.coerce
+      .number({ message: "Wear-time limit must be a number of minutes." })
+      .int("Whole minutes, please.")
+      .min(10, "At least 10 minutes.")
+      .max(600, "At most 600 minutes."),
+    minSessionMinutes: wholeMinutes("Shortest session", 5, 600),
+    maxSessionMinutes: wholeMinutes("Longest session", 5, 600),
+    defaultMaxHoursPerWeek: z.coerce
+      .number({ message: "Max hours per week must be a number." })
+      .min(0.5, "At least 0.5 h.")
+      .max(40, "At most 40 h."),
+    fitRules: optionalText(2000),
+  })
+  .refine((v) => v.maxSessionMinutes <= v.wearTimeLimitMinutes, {
+    path: ["maxSessionMinutes"],
+    message: "Longest session: at most the wear-time limit.",
+  })
+  .refine((v) => v.minSessionMinutes <= v.maxSessionMinutes, {
+    path: ["minSessionMinutes"],
+    message: "Shortest session: at most the longest session.",
+  });
 
 export const unitFormSchema = z.object({
   intent: z.literal("unit"),
@@ -224,6 +263,8 @@ export const trainerFormSchema = z.object({
     .int("A whole number.")
     .min(1, "At least 1.")
     .max(8, "At most 8."),
+  maxContinuousMinutes: wholeMinutes("Longest teaching without a break", 30, 600),
+  breakMinutes: wholeMinutes("Break", 5, 120),
   deviceTypeIds: idList,
 });
 

@@ -16,6 +16,8 @@ export const ROW_GROUPINGS: Grouping[] = ["site", "department"];
 export const COLUMN_GROUPINGS: Grouping[] = ["deviceType", "stage", "week"];
 
 export const MAX_THRESHOLD = 50;
+/** Bounds of the share of a table protection may hide before the board groups more coarsely (%). */
+export const HIDDEN_SHARE_PERCENT = { min: 5, max: 60 } as const;
 
 const groupingList = z.preprocess(
   (v) => (v == null || v === "" ? [] : ([] as unknown[]).concat(v)),
@@ -29,6 +31,20 @@ export const organisationSettingsSchema = z.object({
     .int("Enter the smallest group size as a whole number.")
     .min(5, "The smallest group size is at least 5: smaller groups could single people out.")
     .max(MAX_THRESHOLD, `The smallest group size can be at most ${MAX_THRESHOLD}.`),
+  maxHiddenSharePercent: z.preprocess(
+    (v) => (v === "" ? undefined : v),
+    z.coerce
+      .number({ message: "Enter the share of hidden cells as a whole number of per cent." })
+      .int("Enter the share of hidden cells as a whole number of per cent.")
+      .min(
+        HIDDEN_SHARE_PERCENT.min,
+        `The share of hidden cells is at least ${HIDDEN_SHARE_PERCENT.min} %: lower would always force the coarsest grouping.`,
+      )
+      .max(
+        HIDDEN_SHARE_PERCENT.max,
+        `The share of hidden cells is at most ${HIDDEN_SHARE_PERCENT.max} %: a table hiding more than that tells a manager little.`,
+      ),
+  ),
   groupings: groupingList
     .refine(
       (g) => g.some((x) => ROW_GROUPINGS.includes(x)),

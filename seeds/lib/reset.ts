@@ -1,12 +1,13 @@
 import type { Knex } from "knex";
 
-// Empties every application table (not the migration bookkeeping), children before parents, so the
+// Empties every application table (not the migration bookkeeping, nor the readiness generation: it must
+// only grow, so caches keyed on it never see an old value again), children before parents, so the
 // demo seed can be re-run whatever tables later migrations add.
 export async function emptyAllTables(trx: Knex.Transaction): Promise<void> {
   const client = String(trx.client.config.client);
   if (client === "pg") {
     const rows = await trx.raw(
-      "select tablename from pg_tables where schemaname = current_schema() and tablename not like 'knex_%'",
+      "select tablename from pg_tables where schemaname = current_schema() and tablename not like 'knex_%' and tablename <> 'readiness_generation'",
     );
     const names = rows.rows.map((r: { tablename: string }) => `"${r.tablename}"`);
     if (names.length) await trx.raw(`truncate ${names.join(", ")} restart identity cascade`);
@@ -14,7 +15,7 @@ export async function emptyAllTables(trx: Knex.Transaction): Promise<void> {
   }
   const tables: string[] = (
     await trx.raw(
-      "select name from sqlite_master where type = 'table' and name not like 'knex_%' and name not like 'sqlite_%'",
+      "select name from sqlite_master where type = 'table' and name not like 'knex_%' and name not like 'sqlite_%' and name <> 'readiness_generation'",
     )
   ).map((r: { name: string }) => r.name);
   const parents = new Map<string, Set<string>>();

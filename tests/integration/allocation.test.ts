@@ -1,6 +1,7 @@
 import crypto from "node:crypto";
 import { describe, expect, inject, it } from "vitest";
 import { readOutbox } from "../../scripts/smtp-catcher";
+import { type CheckSession, type CheckSite, checkSessionRules } from "../reference/session-rules-checker";
 import { type Browserless, baseUrl, PERSONA, pageText, signIn, testDb } from "./helpers";
 
 // Allocator application against the real built server and the seeded demo database: runs solve in
@@ -156,6 +157,60 @@ async function checkSessions(rows: SessionRow[]) {
       if (a !== b && a.trainer === b.trainer && a.date === b.date)
         expect(a.from < b.to && b.from < a.to, `trainer ${a.trainer} double-booked on ${a.date}`).toBe(false);
   }
+  // the session rules, read from the database and checked by the independent checker: lengths between the
+  // device type's shortest and longest (a worker's stricter wear-time limit lowers the longest), no session on
+  // a closure day or outside the site's working hours, the trainer's breaks, nobody and no unit twice at once
+  const types = new Map((await k()("device_types").select("*")).map((d) => [d.id, d]));
+  const courseLimits = await k()("device_courses")
+    .whereNotNull("wear_time_limit_minutes")
+    .select("worker_id", "device_type_id", "wear_time_limit_minutes");
+  const workerSite = new Map((await k()("workers").select("id", "site_id")).map((w) => [w.id, w.site_id]));
+  const hoursRows = await k()("site_working_hours").select("site_id", "weekday", "start_time", "end_time");
+  const closureRows = await k()("site_closures").select("site_id", "starts_on", "ends_on");
+  const sites: Record<string, CheckSite> = {};
+  for (const s of await k()("sites").select("id")) {
+    const mine = hoursRows.filter((h) => h.site_id === s.id);
+    sites[String(s.id)] = {
+      hours: mine.length
+        ? mine.map((h) => ({ weekday: Number(h.weekday), start: h.start_time, end: h.end_time }))
+        : null,
+      closures: closureRows
+        .filter((c) => c.site_id === s.id)
+        .map((c) => ({ startsOn: c.starts_on, endsOn: c.ends_on })),
+    };
+  }
+  const breakRules = Object.fromEntries(
+    (await k()("trainers").select("id", "max_continuous_minutes", "break_minutes", "trainees_per_session")).map((t) => [
+      String(t.id),
+      {
+        maxContinuousMinutes: Number(t.max_continuous_minutes),
+        breakMinutes: Number(t.break_minutes),
+        traineesPerSession: Number(t.trainees_per_session),
+      },
+    ]),
+  );
+  const checked: CheckSession[] = rows.map((s) => {
+    const d = types.get(s.device_type_id);
+    const own = courseLimits.find((c) => c.worker_id === s.worker_id && c.device_type_id === s.device_type_id);
+    const max = Math.min(
+      Number(d.max_session_minutes),
+      Number(d.wear_time_limit_minutes),
+      own ? Number(own.wear_time_limit_minutes) : Number.POSITIVE_INFINITY,
+    );
+    return {
+      worker: String(s.worker_id),
+      trainer: String(s.trainer_id),
+      device: String(s.device_type_id),
+      unit: String(s.device_unit_id),
+      site: String(workerSite.get(s.worker_id)),
+      date: s.scheduled_start.slice(0, 10),
+      start: s.scheduled_start.slice(11, 16),
+      end: s.scheduled_end.slice(11, 16),
+      min: Math.min(Number(d.min_session_minutes), max),
+      max,
+    };
+  });
+  expect(checkSessionRules(sites, breakRules, checked)).toEqual([]);
   // unit overlaps
   const byUnitDay = new Map<string, [number, number][]>();
   for (const s of rows) {
@@ -290,6 +345,15 @@ describe("publishing", () => {
     const rows = await sessionsOf(id);
     expect(rows.length).toBeGreaterThan(0);
     await checkSessions(rows);
+    // the demo closes every site on 25–26 December and 1 January, inside this run's horizon: the run plans
+    // around them (sessions before and after, none on them)
+    const closed = await k()("site_closures")
+      .where("starts_on", "<=", "2026-12-25")
+      .where("ends_on", ">=", "2026-12-25");
+    expect(closed.length).toBeGreaterThan(0);
+    const days = rows.map((r) => r.scheduled_start.slice(0, 10));
+    expect(days.filter((d) => ["2026-12-25", "2026-12-26", "2027-01-01"].includes(d))).toEqual([]);
+    expect(days.some((d) => d > "2027-01-01")).toBe(true);
 
     // every worker and trainer with sessions gets one e-mail with a calendar file
     const fresh = readOutbox(inject("outboxDir")).slice(mailBefore);
@@ -401,6 +465,43 @@ describe("publishing", () => {
     ).toBe(200);
     await new Promise((r) => setTimeout(r, 300));
     expect(readOutbox(inject("outboxDir")).slice(mid)).toHaveLength(0);
+  });
+
+  it("refuses to publish a run whose sessions fall on a closure added after it, and publishes nothing", async () => {
+    const { client } = await signIn(PERSONA.coordinator);
+    const id = await startRun(client, { ...RUN, label: "it-closed-later" });
+    expect((await waitDone(client, id)).status).toBe("done");
+    const version = await planVersionOnPage(client, id);
+    // the admin closes every site for the run's whole horizon through the calendar page
+    const admin = (await signIn(PERSONA.admin)).client;
+    const added: number[] = [];
+    try {
+      for (const site of await k()("sites").select("id")) {
+        const res = await admin.postForm(`/admin/sites/${site.id}/calendar`, {
+          intent: "closure",
+          startsOn: "2026-12-07",
+          endsOn: "2027-01-17",
+          reason: "Flood repairs (test)",
+        });
+        expect(res.status).toBe(200);
+        added.push(
+          ...(await k()("site_closures").where({ site_id: site.id, reason: "Flood repairs (test)" }).pluck("id")),
+        );
+      }
+      const res = await client.postForm(`/coordinate/runs/${id}`, {
+        intent: "publish",
+        expectedPlanVersion: String(version),
+        confirm: "yes",
+      });
+      expect(res.status).toBe(400);
+      const html = await res.text();
+      expect(html).toContain("break the session rules as they stand now");
+      expect(html).toContain("is closed (Flood repairs (test))");
+      expect((await k()("published_plan_state").where({ id: 1 }).first()).version).toBe(version);
+      expect(await sessionsOf(id)).toHaveLength(0);
+    } finally {
+      await k()("site_closures").whereIn("id", added.concat(-1)).del();
+    }
   });
 
   it("refuses to publish a what-if run with units that do not exist, and non-coordinators cannot publish", async () => {

@@ -2,7 +2,7 @@ import fs from "node:fs";
 import os from "node:os";
 import path from "node:path";
 import knex, { type Knex } from "knex";
-import { expect, inject } from "vitest";
+import { expect, inject, vi } from "vitest";
 import { knexConfig } from "../../knexfile";
 import { Browserless } from "../../scripts/browserless";
 
@@ -158,4 +158,25 @@ export async function freshAssessmentSession(assessor: Browserless, pick: "first
   const s = await assessor.postForm(`/assess/workers/${id}`, { intent: "session", assessedOn: "2026-11-28" });
   expect(s.status).toBe(302);
   return s.headers.get("Location")!;
+}
+
+/**
+ * Waits until the readiness board `get` reads no longer serves earlier figures while new ones are
+ * protected in the background (a condition, polled; the app marks those figures "being protected").
+ */
+export async function readinessSettled(get: (path: string) => Promise<Response>): Promise<void> {
+  await vi.waitFor(
+    async () => {
+      const res = await get("/api/v1/readiness?groupBy=department");
+      const body = (await res.json()) as { notes?: Record<string, string> };
+      const updating = Object.values(body.notes ?? {}).filter((n) => n.includes("being protected"));
+      if (updating.length > 0) throw new Error(`the board still serves earlier figures: ${updating.join(" ")}`);
+    },
+    { timeout: 120_000, interval: 250 },
+  );
+}
+
+/** The readiness generation (bumped by database triggers on every write under the board). */
+export async function readinessGenerationNow(): Promise<number> {
+  return Number((await testDb()("readiness_generation").where({ id: 1 }).first("value")).value);
 }

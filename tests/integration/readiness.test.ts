@@ -2,9 +2,19 @@ import crypto from "node:crypto";
 import ExcelJS from "exceljs";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { auditLinkedTables } from "../../app/compute/disclosure";
-import { STAGES } from "../../app/domain/stages";
+import { STAGE_BAND_OF, STAGE_BANDS, STAGES, type Stage } from "../../app/domain/stages";
 import routes from "../../app/routes";
-import { type Browserless, baseUrl, PERSONA, signIn, testDb } from "./helpers";
+import { READINESS_SOURCES } from "../../migrations/20261205040000_readiness_generation";
+import {
+  type Browserless,
+  baseUrl,
+  freshConsentedWorker,
+  PERSONA,
+  readinessGenerationNow,
+  readinessSettled,
+  signIn,
+  testDb,
+} from "./helpers";
 import { concretePath, flattenRoutes, type RouteEntry } from "./route-walk";
 
 // What a manager's pages, export and API send contains nothing personal; department and site
@@ -86,6 +96,8 @@ beforeAll(async () => {
   });
   ({ client: manager } = await signIn(PERSONA.manager));
   ({ key: nyKey, id: nyKeyId } = await insertKey("manager", [ny.id]));
+  // The writes above are protected in the background; the tests read the figures of today's data.
+  await readinessSettled((p) => manager.request(p));
 });
 
 afterAll(async () => {
@@ -357,6 +369,98 @@ describe("manager API keys", () => {
   });
 });
 
+describe("the board is kept until the data under it changes", () => {
+  const publications = async () => Number((await testDb()("readiness_publications").count({ n: "*" }))[0].n);
+  const board = async () => (await manager.request("/api/v1/readiness?groupBy=department")).json();
+
+  it("every table the board counts still has its triggers after all migrations", async () => {
+    // A later migration that rebuilds a table (SQLite copies it for some changes) would drop them silently.
+    const k = testDb();
+    const tables: string[] =
+      process.env.LIMBERLY_TEST_DB === "postgres"
+        ? (
+            await k.raw(
+              "select distinct event_object_table as t from information_schema.triggers where trigger_name = 'readiness_bump'",
+            )
+          ).rows.map((r: { t: string }) => r.t)
+        : (
+            await k.raw(
+              "select tbl_name as t, count(*) as n from sqlite_master where type = 'trigger' and name like 'readiness_bump_%' group by tbl_name having count(*) = 3",
+            )
+          ).map((r: { t: string }) => r.t);
+    expect([...tables].sort()).toEqual(Object.keys(READINESS_SOURCES).sort());
+  });
+
+  it("only a committed write moves the readiness generation, once per transaction", async () => {
+    const before = await readinessGenerationNow();
+    const w = await testDb()("workers").whereNot("stage", "withdrawn").orderBy("id").first("id", "stage");
+    await expect(
+      testDb().transaction(async (trx) => {
+        await trx("workers").where({ id: w.id }).update({ stage: "paused" });
+        throw new Error("rolled back on purpose");
+      }),
+    ).rejects.toThrow("rolled back on purpose");
+    expect(await readinessGenerationNow()).toBe(before);
+    // A write the board does not count (the row's updated_at) leaves it too.
+    await testDb()("workers").where({ id: w.id }).update({ updated_at: new Date().toISOString() });
+    expect(await readinessGenerationNow()).toBe(before);
+    await testDb().transaction(async (trx) => {
+      await trx("workers").where({ id: w.id }).update({ stage: "paused" });
+      await trx("workers").where({ id: w.id }).update({ stage: w.stage });
+    });
+    const after = await readinessGenerationNow();
+    expect(after).toBeGreaterThan(before);
+    // PostgreSQL bumps once at commit (a deferred trigger); SQLite once per row written.
+    if (process.env.LIMBERLY_TEST_DB === "postgres") expect(after).toBe(before + 1);
+  });
+
+  it("no write: the same stored publication again; a stage change through the app: new figures on the next request", async () => {
+    await readinessSettled((p) => manager.request(p));
+    const generation = await readinessGenerationNow();
+    const rows = await publications();
+    const first = await board();
+    const again = await board();
+    expect(again).toEqual(first);
+    expect(await publications()).toBe(rows);
+    expect(await readinessGenerationNow()).toBe(generation);
+
+    // Assessment consent through the assessor's page moves an invited worker to "consented".
+    const { client: assessor } = await signIn(PERSONA.assessor);
+    await freshConsentedWorker(assessor);
+    expect(await readinessGenerationNow()).toBeGreaterThan(generation);
+    // The very next request knows: it serves the earlier (protected) figures marked as being updated…
+    const next = await board();
+    expect(next.notes.stage).toMatch(/being protected/);
+    expect(next.tables.workersByStage.cells).toEqual(first.tables.workersByStage.cells);
+    // …until the new publication, protected off the request thread, is stored.
+    await readinessSettled((p) => manager.request(p));
+    const settled = await board();
+    expect(settled.notes.stage).toBeUndefined();
+    // Every shown figure of the new publication is today's truth (the consented worker counted).
+    const truth: { department: string; site: string; stage: string; n: number }[] = await testDb()("workers as w")
+      .join("departments as d", "d.id", "w.department_id")
+      .join("sites as s", "s.id", "w.site_id")
+      .select("d.name as department", "s.name as site", "w.stage")
+      .count({ n: "*" })
+      .groupBy("d.name", "s.name", "w.stage");
+    const t = settled.tables.workersByStage;
+    // Single stages or the coarser bands, whichever the grouping rule chose.
+    const bands = t.columns.length === STAGE_BANDS.length;
+    expect(t.columns.length).toBe(bands ? STAGE_BANDS.length : STAGES.length);
+    for (const [i, label] of (t.rows as string[]).entries())
+      for (const j of t.columns.keys()) {
+        const v = t.cells[i][j];
+        const n = truth
+          .filter((r) => `${r.site} · ${r.department}` === label)
+          .filter((r) => (bands ? STAGE_BAND_OF[r.stage as Stage] === STAGE_BANDS[j] : r.stage === STAGES[j]))
+          .reduce((a, r) => a + Number(r.n), 0);
+        if (v !== null) expect(v).toBe(n);
+      }
+    const totals = truth.filter((r) => t.rows.includes(`${r.site} · ${r.department}`));
+    if (t.grandTotal !== null) expect(t.grandTotal).toBe(totals.reduce((a, r) => a + Number(r.n), 0));
+  });
+});
+
 describe("organisation settings", () => {
   it("admin may set the threshold (never below 5) and the groupings; managers then see them", async () => {
     const { client: admin } = await signIn(PERSONA.admin);
@@ -366,22 +470,48 @@ describe("organisation settings", () => {
 
     const low = await admin.postForm("/admin/organisation", {
       disclosureThreshold: "3",
+      maxHiddenSharePercent: "25",
       groupings: ["site", "department", "stage"],
     });
     expect(low.status).toBe(400);
     expect(await low.text()).toContain("at least 5");
-    const noRows = await admin.postForm("/admin/organisation", { disclosureThreshold: "6", groupings: ["stage"] });
+    const noRows = await admin.postForm("/admin/organisation", {
+      disclosureThreshold: "6",
+      maxHiddenSharePercent: "25",
+      groupings: ["stage"],
+    });
     expect(noRows.status).toBe(400);
     expect(await noRows.text()).toContain("site or department");
 
+    for (const [share, message] of [
+      ["4", "at least 5 %"],
+      ["61", "at most 60 %"],
+      ["", "whole number of per cent"],
+      ["12.5", "whole number of per cent"],
+    ]) {
+      const refused = await admin.postForm("/admin/organisation", {
+        disclosureThreshold: "5",
+        maxHiddenSharePercent: share,
+        groupings: ["department", "stage"],
+      });
+      expect(refused.status, share).toBe(400);
+      expect(await refused.text()).toContain(message);
+    }
+    expect((await testDb()("organisations").first("max_hidden_share")).max_hidden_share).toBe(0.25);
     const ok = await admin.postForm("/admin/organisation", {
       disclosureThreshold: "8",
+      maxHiddenSharePercent: "40",
       groupings: ["department", "stage"],
     });
     expect(ok.status).toBe(200);
     try {
-      const org = await testDb()("organisations").first("disclosure_threshold", "manager_groupings");
+      const org = await testDb()("organisations").first(
+        "disclosure_threshold",
+        "manager_groupings",
+        "max_hidden_share",
+      );
       expect(org.disclosure_threshold).toBe(8);
+      expect(org.max_hidden_share).toBe(0.4);
       expect(JSON.parse(org.manager_groupings)).toEqual(["department", "stage"]);
       const stage = await (await manager.request("/api/v1/readiness?groupBy=department")).json();
       expect(stage.threshold).toBe(8);
@@ -393,6 +523,7 @@ describe("organisation settings", () => {
     } finally {
       const back = await admin.postForm("/admin/organisation", {
         disclosureThreshold: "5",
+        maxHiddenSharePercent: "25",
         groupings: ["site", "department", "deviceType", "stage", "week"],
       });
       expect(back.status).toBe(200);

@@ -81,8 +81,25 @@ export function checkPlan(problem: AllocationProblem, plan: AllocationPlan): str
         errors.push(`trainer ${t.id} week ${k}: ${u} h used > ${t.hoursPerWeek[k]}`);
     });
 
+  // a kept worker (fixed-schedule option chosen) gets exactly that schedule and adds its bonus
+  for (const id of plan.kept ?? []) {
+    const w = workers.get(id);
+    const a = plan.assignments.find((x) => x.workerId === id);
+    const fixed = w?.options.find((o) => o.weeklyHours);
+    if (!w || !a || !fixed) {
+      errors.push(`kept worker ${id} without an assignment or a fixed-schedule option`);
+      continue;
+    }
+    priority += fixed.bonus ?? 0;
+    const perWeek = new Array(H).fill(0);
+    for (const x of a.sessions) perWeek[x.week] += x.hours;
+    perWeek.forEach((h, k) => {
+      if (Math.abs(h - (fixed.weeklyHours![k] ?? 0)) > 1e-6)
+        errors.push(`kept worker ${id}: ${h} h in week ${k}, the kept schedule has ${fixed.weeklyHours![k] ?? 0}`);
+    });
+  }
   if (Math.abs(plan.objective - priority) > TOL)
-    errors.push(`objective ${plan.objective} ≠ Σ priority of assignments ${priority}`);
+    errors.push(`objective ${plan.objective} ≠ Σ priority of assignments (+ keep bonuses) ${priority}`);
   if (plan.bound < plan.objective - TOL) errors.push(`bound ${plan.bound} below objective ${plan.objective}`);
   if (plan.status === "optimal" && plan.objective < plan.bound - 1e-6)
     errors.push(`status optimal but objective ${plan.objective} < bound ${plan.bound}`);

@@ -6,6 +6,7 @@ import { describe, expect, it } from "vitest";
 import { type AllocationPlan, type AllocationProblem, solveAllocation } from "../../app/compute/allocation";
 import { cutViolation, starterCuts, WeekCapacity } from "../../app/compute/allocation/cuts";
 import { buildInstance } from "../../app/compute/allocation/instance";
+import { lagrangianBound } from "../../app/compute/allocation/lagrangian";
 import { FlowNetwork } from "../../app/compute/allocation/maxflow";
 import { checkPlan } from "./allocation-checker";
 import { buildLp, loadHighs, solveWithHighs } from "./allocation-highs";
@@ -316,6 +317,36 @@ describe("building blocks", () => {
       expect(cuts.length).toBeGreaterThan(50);
       for (const cut of cuts) expect(cutViolation(cut, inst, z)).toBeLessThanOrEqual(1e-6);
     }
+  });
+});
+
+describe("the bound", () => {
+  it("the Lagrangian bound is never below HiGHS's LP relaxation and settles within 0.5 % of it", async () => {
+    // The Lagrangian dual of this model equals its LP relaxation (each worker's subproblem has whole-number
+    // optima; Geoffrion 1974), so HiGHS's LP optimum is the floor no valid Lagrangian bound can go under.
+    const highs = await loadHighs();
+    for (const seed of [21, 22, 23]) {
+      const problem = randomInstance({ workers: 80, deviceTypes: 3, trainers: 5, weeks: 8, seed });
+      const { lp, zNames } = buildLp(problem);
+      const bounds = [...zNames.keys()].map((z) => ` ${z} <= 1`).join("\n");
+      const relaxed = highs.solve(lp.replace(/Binaries[\s\S]*End/, `Bounds\n${bounds}\nEnd`), { output_flag: false });
+      expect(relaxed.Status).toBe("Optimal");
+      const lpValue = (relaxed as unknown as { ObjectiveValue: number }).ObjectiveValue;
+      const lag = lagrangianBound(buildInstance(problem), 0, 2000);
+      expect(lag.bound).toBeGreaterThanOrEqual(lpValue - 1e-6);
+      expect(lag.bound).toBeLessThanOrEqual(lpValue * 1.005);
+    }
+  });
+
+  it("at bench size M (150 workers) the bound is valid and proves HiGHS's optimum", async () => {
+    const problem = randomInstance({ workers: 150, deviceTypes: 4, trainers: 6, weeks: 12, seed: 2024 });
+    const plan = await solveChecked(problem, { timeLimitMs: 10_000 });
+    const ref = await solveWithHighs(problem, 120);
+    expect(ref.optimal).toBe(true);
+    // a maximisation: the proven bound must never be below the true optimum
+    expect(plan.bound).toBeGreaterThanOrEqual(ref.objective - 1e-6);
+    expect(plan.objective).toBe(ref.objective);
+    expect(plan.status).toBe("optimal");
   });
 });
 

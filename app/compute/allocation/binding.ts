@@ -22,9 +22,9 @@ export function bindingResources(
   const perHours = (price: number) => (typical > 0 && price > 0 ? typical / price : Infinity);
   const count = (h: number) => (h < 1 ? h.toFixed(2) : String(Math.round(h)));
   const say = (price: number) =>
-    `worth about ${price.toFixed(3)} priority points per extra hour — roughly one more worker ready for every ${count(perHours(price))} extra hours`;
+    `worth roughly one more worker ready for every ${count(perHours(price))} extra hours (about ${price.toFixed(3)} in plan value per hour)`;
   const sayWeekly = (price: number) =>
-    `worth about ${price.toFixed(3)} priority points — roughly one more worker ready for every ${count(perHours(price))} hours added to each week`;
+    `worth roughly one more worker ready for every ${count(perHours(price))} hours added to each week (about ${price.toFixed(3)} in plan value)`;
   const weekly: BindingResource[] = [];
   const totals: BindingResource[] = [];
   inst.deviceIds.forEach((id, d) => {

@@ -5,13 +5,23 @@
  * Best-first search; with whole-number priorities a node is pruned once ⌊bound⌋ ≤ incumbent.
  */
 
-import { type CapacityCut, cutFromDeviceSets, cutViolation, makeCut, starterCuts, WeekCapacity } from "./cuts";
+import {
+  type CapacityCut,
+  type CoverCut,
+  coverFrom,
+  cutFromDeviceSets,
+  cutViolation,
+  makeCut,
+  starterCuts,
+  WeekCapacity,
+} from "./cuts";
 import type { Instance } from "./instance";
 import { type Fixing, type MasterResult, solveMaster } from "./master";
 import { TrainingNetwork } from "./network";
 
 export class CutPool {
   readonly active: CapacityCut[] = [];
+  readonly covers: CoverCut[] = [];
   private readonly keys = new Set<string>();
   private readonly dormant: CapacityCut[];
   readonly weekCapacity: WeekCapacity;
@@ -68,6 +78,29 @@ export class CutPool {
     return added;
   }
 
+  /** Cover inequalities from the capacity cuts that z (nearly) fills; returns how many were added. */
+  separateCovers(z: Map<number, number>, max = 10): number {
+    const found: { cover: CoverCut; v: number }[] = [];
+    for (const cut of this.active) {
+      if (cutViolation(cut, this.inst, z) < -1e-3 * Math.max(1, cut.rhs)) continue;
+      const cover = coverFrom(cut, this.inst, z);
+      if (!cover || this.keys.has(cover.key)) continue;
+      let lhs = 0;
+      for (const c of cover.members) lhs += z.get(c) ?? 0;
+      found.push({ cover, v: lhs - cover.rhs });
+    }
+    found.sort((a, b) => b.v - a.v || a.cover.key.localeCompare(b.cover.key));
+    let added = 0;
+    for (const { cover } of found) {
+      if (added >= max) break;
+      if (this.keys.has(cover.key)) continue;
+      this.keys.add(cover.key);
+      this.covers.push(cover);
+      added++;
+    }
+    return added;
+  }
+
   cutFromMasks(masks: number[]): CapacityCut {
     return makeCut(masks, this.weekCapacity);
   }
@@ -86,12 +119,12 @@ export function solveNode(
   stopBelow: number,
   maxRounds = 60,
 ): NodeOutcome | null {
-  let result = solveMaster(inst, pool.active, fix);
+  let result = solveMaster(inst, pool.active, fix, pool.covers);
   for (let round = 0; round < maxRounds; round++) {
     if (!result.feasible) return null;
     if (result.objective < stopBelow) break; // cannot beat the incumbent: no need to tighten
-    if (pool.separate(result.z) === 0) break;
-    result = solveMaster(inst, pool.active, fix);
+    if (pool.separate(result.z) === 0 && pool.separateCovers(result.z) === 0) break;
+    result = solveMaster(inst, pool.active, fix, pool.covers);
   }
   if (!result.feasible) return null;
   let integral = true;
@@ -127,13 +160,17 @@ export interface BranchAndCutHooks {
   /** stop early (budget) */
   stop: () => boolean;
   maxNodes: number;
+  /** fixings known before the search (reduced-cost fixing); the root starts from them */
+  rootFix?: Fixing;
 }
 
 export function branchAndCut(inst: Instance, pool: CutPool, hooks: BranchAndCutHooks): BranchAndCutResult {
   const whole = inst.integralPriorities;
   const canImprove = (bound: number) =>
     whole ? Math.floor(bound + 1e-6) > hooks.incumbent() + 1e-9 : bound > hooks.incumbent() + 1e-9;
-  const open: OpenNode[] = [{ fix: { one: new Set(), zero: new Set() }, bound: Infinity, depth: 0, seq: 0 }];
+  const open: OpenNode[] = [
+    { fix: hooks.rootFix ?? { one: new Set(), zero: new Set() }, bound: Infinity, depth: 0, seq: 0 },
+  ];
   let seq = 1;
   let nodes = 0;
   let rootBound = Infinity;
@@ -169,7 +206,7 @@ export function branchAndCut(inst: Instance, pool: CutPool, hooks: BranchAndCutH
     let score = -1;
     for (const [c, v] of result.z) {
       if (v <= 1e-6 || v >= 1 - 1e-6) continue;
-      const s = inst.workers[inst.candidates[c].worker].priority * Math.min(v, 1 - v) + 1e-9 * v;
+      const s = inst.candidates[c].value * Math.min(v, 1 - v) + 1e-9 * v;
       if (s > score + 1e-12) {
         score = s;
         pick = c;

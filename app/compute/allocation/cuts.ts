@@ -94,3 +94,53 @@ export function cutViolation(cut: CapacityCut, inst: Instance, z: Map<number, nu
   for (const [c, v] of z) if (v > 0) lhs += cutCoefficient(cut, inst.candidates[c]) * v;
   return lhs - cut.rhs;
 }
+
+/**
+ * An extended cover inequality Σ_{c ∈ E} z_c ≤ |C| − 1 (Crowder, Johnson & Padberg 1983): C is a set of
+ * candidates whose coefficients in one capacity cut exceed its right-hand side together, so not all of
+ * them fit; E adds every candidate whose coefficient is at least the largest in C. Valid for every
+ * whole-number selection that meets the capacity cut; it cuts off fractional points the cut LP keeps.
+ */
+export interface CoverCut {
+  members: number[];
+  rhs: number;
+  key: string;
+}
+
+/** The most violated cover the greedy rule finds in one capacity cut, or null. */
+export function coverFrom(cut: CapacityCut, inst: Instance, z: Map<number, number>): CoverCut | null {
+  const items: { c: number; a: number; v: number }[] = [];
+  for (const [c, v] of z) {
+    if (v <= 1e-9) continue;
+    const a = cutCoefficient(cut, inst.candidates[c]);
+    if (a > 1e-9) items.push({ c, a, v });
+  }
+  // least (1 − z) first, larger coefficients first on a tie
+  items.sort((x, y) => y.v - x.v || y.a - x.a || x.c - y.c);
+  const cover: typeof items = [];
+  let total = 0;
+  let slack = 0;
+  for (const it of items) {
+    cover.push(it);
+    total += it.a;
+    slack += 1 - it.v;
+    if (slack >= 1 - 1e-7) return null;
+    if (total > cut.rhs + 1e-7) break;
+  }
+  if (total <= cut.rhs + 1e-7) return null;
+  // drop members the cover does not need (largest 1 − z first), keeping Σ a > rhs
+  for (let i = cover.length - 1; i >= 0; i--)
+    if (total - cover[i].a > cut.rhs + 1e-7) {
+      total -= cover[i].a;
+      cover.splice(i, 1);
+    }
+  const rhs = cover.length - 1;
+  const amax = Math.max(...cover.map((x) => x.a));
+  const members = new Set(cover.map((x) => x.c));
+  for (const c of inst.candidates) if (cutCoefficient(cut, c) >= amax - 1e-9) members.add(c.index);
+  const sorted = [...members].sort((a, b) => a - b);
+  let lhs = 0;
+  for (const c of sorted) lhs += z.get(c) ?? 0;
+  if (lhs <= rhs + 1e-6) return null;
+  return { members: sorted, rhs, key: `cover:${rhs}:${sorted.join(",")}` };
+}

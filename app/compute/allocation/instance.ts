@@ -14,6 +14,10 @@ export interface Candidate {
   hours: number;
   /** most hours this worker can receive on this device in each week (0 outside available weeks) */
   weekCap: number[];
+  /** priority plus the option's bonus: what choosing this candidate adds to the objective */
+  value: number;
+  /** a fixed weekly schedule (the worker's published sessions kept) */
+  fixed: boolean;
 }
 
 export interface WorkerInfo {
@@ -93,13 +97,20 @@ export function buildInstance(problem: AllocationProblem): Instance {
     const info: WorkerInfo = { id: w.id, group: g, priority, maxHours, candidates: [] };
     workers.push(info);
 
-    // One candidate per distinct device type (the smallest hours figure if listed twice).
+    // One candidate per distinct device type (the smallest hours figure if listed twice), plus any
+    // fixed-schedule option (kept published sessions) as a candidate of its own.
     const best = new Map<number, number>();
+    const fixedOptions: { d: number; weekly: number[]; bonus: number }[] = [];
     let unknownDevice = false;
     for (const o of w.options) {
       const d = deviceIndex.get(o.deviceTypeId);
       if (d === undefined) {
         unknownDevice = true;
+        continue;
+      }
+      if (o.weeklyHours) {
+        const weekly = Array.from({ length: weeks }, (_, k) => positive(o.weeklyHours![k]));
+        fixedOptions.push({ d, weekly, bonus: Number.isFinite(o.bonus) ? Math.max(0, o.bonus!) : 0 });
         continue;
       }
       const h = Math.max(0, Number.isFinite(o.hoursNeeded) ? o.hoursNeeded : Infinity);
@@ -111,7 +122,26 @@ export function buildInstance(problem: AllocationProblem): Instance {
       const total = weekCap.reduce((s, x) => s + x, 0);
       reachableMax = Math.max(reachableMax, total);
       if (hours === Infinity || total + EPS < hours || priority <= 0) continue;
-      const c: Candidate = { index: candidates.length, worker: wi, device: d, hours, weekCap };
+      const c: Candidate = {
+        index: candidates.length,
+        worker: wi,
+        device: d,
+        hours,
+        weekCap,
+        value: priority,
+        fixed: false,
+      };
+      candidates.push(c);
+      info.candidates.push(c.index);
+    }
+    for (const f of fixedOptions) {
+      // the schedule is kept as it is or not at all: each week exactly its hours (where the week still has room)
+      const weekCap = f.weekly.map((h, k) => Math.min(h, weekRoom[f.d][k]));
+      const hours = f.weekly.reduce((s, x) => s + x, 0);
+      const value = priority + f.bonus;
+      if (Math.abs(value - Math.round(value)) > 1e-9) integralPriorities = false;
+      if (hours <= 0 || weekCap.reduce((s, x) => s + x, 0) + EPS < hours || value <= 0) continue;
+      const c: Candidate = { index: candidates.length, worker: wi, device: f.d, hours, weekCap, value, fixed: true };
       candidates.push(c);
       info.candidates.push(c.index);
     }

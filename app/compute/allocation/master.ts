@@ -5,7 +5,7 @@
  */
 
 import { type LpColumn, type LpRow, solveLp } from "../lp-solver";
-import { type CapacityCut, cutCoefficient } from "./cuts";
+import { type CapacityCut, type CoverCut, cutCoefficient } from "./cuts";
 import type { Instance } from "./instance";
 
 export interface Fixing {
@@ -20,7 +20,7 @@ export interface MasterResult {
   objective: number;
 }
 
-export function solveMaster(inst: Instance, cuts: CapacityCut[], fix: Fixing): MasterResult {
+export function solveMaster(inst: Instance, cuts: CapacityCut[], fix: Fixing, covers: CoverCut[] = []): MasterResult {
   const fixedWorker = new Set<number>();
   for (const c of fix.one) fixedWorker.add(inst.candidates[c].worker);
   const free = inst.candidates.filter(
@@ -30,7 +30,7 @@ export function solveMaster(inst: Instance, cuts: CapacityCut[], fix: Fixing): M
   const rows: LpRow[] = [];
   const columns: LpColumn[] = free.map((c) => ({
     name: `c${c.index}`,
-    objective: inst.workers[c.worker].priority,
+    objective: c.value,
     coefficients: { [`w${c.worker}`]: 1 },
   }));
   const seenWorker = new Set<number>();
@@ -74,11 +74,26 @@ export function solveMaster(inst: Instance, cuts: CapacityCut[], fix: Fixing): M
     if (any) rows.push({ name: `k${j}`, max: Math.max(0, rhs) });
   });
 
+  const columnOf = new Map(free.map((c, i) => [c.index, i] as const));
+  covers.forEach((cover, j) => {
+    let rhs = cover.rhs;
+    let any = false;
+    for (const c of cover.members) {
+      if (fix.one.has(c)) rhs -= 1;
+      const i = columnOf.get(c);
+      if (i === undefined) continue;
+      columns[i].coefficients[`v${j}`] = 1;
+      any = true;
+    }
+    if (rhs < -1e-7) feasibleByFixing = false;
+    if (any) rows.push({ name: `v${j}`, max: Math.max(0, rhs) });
+  });
+
   const z = new Map<number, number>();
   let objective = 0;
   for (const c of fix.one) {
     z.set(c, 1);
-    objective += inst.workers[inst.candidates[c].worker].priority;
+    objective += inst.candidates[c].value;
   }
   if (!feasibleByFixing) return { feasible: false, z, objective: -Infinity };
   if (columns.length === 0) return { feasible: !rows.some((r) => r.min !== undefined), z, objective };
@@ -88,7 +103,7 @@ export function solveMaster(inst: Instance, cuts: CapacityCut[], fix: Fixing): M
     const v = Math.min(1, Math.max(0, res.values.get(`c${c.index}`) ?? 0));
     if (v > 1e-9) {
       z.set(c.index, v);
-      objective += v * inst.workers[c.worker].priority;
+      objective += v * c.value;
     }
   });
   return { feasible: true, z, objective };

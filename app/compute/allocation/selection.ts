@@ -36,7 +36,7 @@ export class Selection {
       if (this.net.tryAdd(c)) {
         this.chosen[w] = c;
         this.groupCount[this.inst.workers[w].group]++;
-        this.objective += this.inst.workers[w].priority;
+        this.objective += this.inst.candidates[c].value;
         return true;
       }
     }
@@ -49,7 +49,7 @@ export class Selection {
     this.net.remove(c);
     this.chosen[w] = -1;
     this.groupCount[this.inst.workers[w].group]--;
-    this.objective -= this.inst.workers[w].priority;
+    this.objective -= this.inst.candidates[c].value;
   }
 
   chosenWorkers(): number[] {

@@ -94,8 +94,10 @@ export function solveWithBranchAndCut(problem: AllocationProblem, options: Alloc
     }
     progress("improve", 0.55);
 
-    // 5. exact branch-and-cut for small problems
-    if (inst.candidates.length <= EXACT_CANDIDATES && inst.candidates.length > 0) {
+    // 5. exact branch-and-cut once reduced-cost fixing has left a small problem
+    const fixing = reducedCostFixing(inst, lag, bestValue);
+    const freeCandidates = inst.candidates.length - fixing.fix.zero.size - fixing.fix.one.size;
+    if (freeCandidates <= EXACT_CANDIDATES && inst.candidates.length > 0) {
       const pool = new CutPool(inst);
       const lpOrder = (z: Map<number, number>) =>
         [...workersWithOptions].sort(
@@ -107,6 +109,7 @@ export function solveWithBranchAndCut(problem: AllocationProblem, options: Alloc
       const result = branchAndCut(inst, pool, {
         incumbent: () => bestValue,
         maxNodes,
+        rootFix: fixing.fix,
         stop: () => expired?.() ?? false,
         onPoint: (z) => {
           sel.restore(new Array(inst.workers.length).fill(-1));
@@ -128,8 +131,12 @@ export function solveWithBranchAndCut(problem: AllocationProblem, options: Alloc
           offer();
         },
       });
-      if (result.rootInfeasible) provenInfeasible = true;
-      else {
+      if (result.rootInfeasible && !fixing.applied) provenInfeasible = true;
+      else if (result.rootInfeasible) {
+        // nothing better than the incumbent is left once the fixings hold: it is optimal
+        bound = Math.min(bound, bestValue);
+        exhaustive = true;
+      } else {
         bound = Math.min(bound, result.bound);
         exhaustive = result.complete;
         if (result.complete && bestValue === -Infinity) provenInfeasible = true;
@@ -167,10 +174,45 @@ export function solveWithBranchAndCut(problem: AllocationProblem, options: Alloc
     assignments,
     unassigned,
     bindingResources: bindingResources(inst, lag, sel.chosen),
+    ...(inst.candidates.some((c) => c.fixed)
+      ? {
+          kept: sel
+            .chosenWorkers()
+            .filter((w) => inst.candidates[sel.chosen[w]].fixed)
+            .map((w) => inst.workers[w].id),
+        }
+      : {}),
     usage: capacityUse(sel, problem),
   };
   progress("done", 1);
   return plan;
+}
+
+/**
+ * Reduced-cost fixing from the Lagrangian (Fisher 1981, §6): at any multipliers a plan's value is at most
+ * the Lagrangian bound less each worker's loss — the best reduced value of that worker minus the reduced
+ * value of what the plan gives them (0 for no option). A plan that beats the incumbent (by one, with
+ * whole-number priorities) can therefore not contain a choice whose loss alone exceeds the slack
+ * bound − that target: such options are fixed out, and a worker whose exclusion alone costs more than the
+ * slack is fixed in when one option is left. The search then runs only over what beats the incumbent.
+ */
+function reducedCostFixing(
+  inst: Instance,
+  lag: { bound: number; reducedValue: number[] },
+  incumbent: number,
+): { fix: { one: Set<number>; zero: Set<number> }; applied: boolean } {
+  const fix = { one: new Set<number>(), zero: new Set<number>() };
+  if (!Number.isFinite(incumbent)) return { fix, applied: false };
+  const beat = inst.integralPriorities ? Math.floor(incumbent + 1e-9) + 1 : incumbent;
+  const slack = lag.bound - beat + 1e-7;
+  for (const w of inst.workers) {
+    let top = 0;
+    for (const c of w.candidates) top = Math.max(top, lag.reducedValue[c]);
+    const left = w.candidates.filter((c) => top - lag.reducedValue[c] <= slack);
+    for (const c of w.candidates) if (!left.includes(c)) fix.zero.add(c);
+    if (top > slack && left.length === 1) fix.one.add(left[0]);
+  }
+  return { fix, applied: true };
 }
 
 function zOf(z: Map<number, number>, inst: Instance, w: number): number {
@@ -197,7 +239,9 @@ function infeasiblePlan(problem: AllocationProblem, inst: Instance, proven: bool
   return {
     status: "infeasible",
     objective: 0,
-    bound: proven ? 0 : inst.workers.reduce((s, w) => s + Math.max(0, w.priority), 0),
+    bound: proven
+      ? 0
+      : inst.workers.reduce((s, w) => s + Math.max(0, ...w.candidates.map((c) => inst.candidates[c].value)), 0),
     gap: proven ? 0 : 1,
     assignments: [],
     unassigned: problem.workers.map((w) => ({ workerId: w.id, reason: message })),

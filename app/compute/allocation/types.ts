@@ -8,7 +8,17 @@ export interface AllocationProblem {
     id: string;
     group: string;
     priority: number;
-    options: { deviceTypeId: string; hoursNeeded: number }[];
+    options: {
+      deviceTypeId: string;
+      hoursNeeded: number;
+      /**
+       * A fixed weekly schedule (re-planning from a published plan): the option delivers exactly these hours
+       * per week, no more, no less; `hoursNeeded` is then their sum.
+       */
+      weeklyHours?: number[];
+      /** value added on top of the worker's priority when this option is chosen (keeping published sessions) */
+      bonus?: number;
+    }[];
     maxHoursPerWeek: number;
     availableWeeks?: number[];
   }[];
@@ -53,6 +63,8 @@ export interface AllocationPlan {
   bound: number;
   assignments: AllocationAssignment[];
   unassigned: { workerId: string; reason: string }[];
+  /** workers whose fixed-schedule option (their published sessions) was chosen */
+  kept?: string[];
   /** relative gap (bound − objective) / bound; 0 when bound is 0 */
   gap?: number;
   bindingResources?: BindingResource[];
