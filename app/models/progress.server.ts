@@ -175,6 +175,11 @@ export async function logSessionResult(input: LogSessionInput, k?: Db): Promise<
           .where({ id: course.id })
           .update({ status: "proficient", proficient_on: day, hours_to_proficiency: hours, updated_at: at });
         await setStage("proficient");
+        // Sessions still scheduled on this device could never be logged now: they leave the trainer's day.
+        await trx("training_sessions")
+          .where({ worker_id: input.workerId, device_type_id: input.deviceTypeId, status: "scheduled" })
+          .whereNot("id", sessionId)
+          .update({ status: "cancelled", notes: "Cancelled: proficiency reached." });
         await recordOutcome(trx, input.workerId, input.deviceTypeId, hours, day, at);
       }
     }
