@@ -130,6 +130,17 @@ export async function seasonChecks(k: SeasonDb, outboxDir: string, log: SeasonLo
       .where("scheduled_start", "<", afterSeason()),
   );
   add({ check: "sessions of the season left unlogged", found: leftOpen, expected: 0, ok: leftOpen === 0 });
+  // A course that reached proficiency keeps no session that could never be logged.
+  const afterReady = await count(
+    k("training_sessions as s")
+      .where("s.status", "scheduled")
+      .whereExists(
+        k("device_courses as c")
+          .whereRaw("c.worker_id = s.worker_id and c.device_type_id = s.device_type_id")
+          .where("c.status", "proficient"),
+      ),
+  );
+  add({ check: "sessions still scheduled after proficiency", found: afterReady, expected: 0, ok: afterReady === 0 });
 
   // Leave and maintenance keep the trainer and the unit free; the model has two assessors' names on it.
   const during = (q: ReturnType<SeasonDb>, r: { startsOn: string; endsOn: string }) =>
