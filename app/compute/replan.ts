@@ -9,6 +9,7 @@ import type { CommittedPlan } from "./commitments";
 import { type Placement, placePlan, type RunSummary } from "./placement";
 import { hhmmOf, minutesOf, weekDates } from "./plan-calendar";
 import type { PackedSession, PlanCalendar } from "./session-packing";
+import { breakRuleOf } from "./session-rules";
 
 /** A published session in the calendar's ids (device id = device type at the site, trainer id = their name). */
 export interface PublishedSession {
@@ -213,10 +214,12 @@ export function placeReplan(
       return {
         ...t,
         hoursPerWeek: Math.max(0, t.hoursPerWeek - Math.max(0, ...slotHours.values())),
+        // new sessions keep a break's distance from kept ones, so no stretch of teaching runs on past its limit
         windows: t.windows.flatMap((w) =>
           cut(
             w,
             [...slots.values()].filter((s) => s.date === w.date),
+            breakRuleOf(t).breakMinutes,
           ),
         ),
       };
@@ -319,15 +322,16 @@ export function replanSummary(
   };
 }
 
-/** A working window less the kept slots inside it. */
+/** A working window less the kept slots inside it, each widened by `margin` minutes on both sides. */
 function cut(
   w: { date: string; start: string; end: string },
   slots: { start: string; end: string }[],
+  margin: number,
 ): { date: string; start: string; end: string }[] {
   let pieces = [{ from: minutesOf(w.start), to: minutesOf(w.end) }];
   for (const s of slots) {
-    const a = minutesOf(s.start);
-    const b = minutesOf(s.end);
+    const a = minutesOf(s.start) - margin;
+    const b = minutesOf(s.end) + margin;
     pieces = pieces.flatMap((p) =>
       b <= p.from || a >= p.to
         ? [p]

@@ -124,7 +124,7 @@ export default function SiteCalendar({ loaderData, actionData }: Route.Component
             : "None on file: the site works Monday to Friday, inside the trainers' own hours."}
         </p>
         <ActionForm intent="hours" result={actionData} notice className="grid gap-3">
-          <div className="grid gap-3 sm:grid-cols-2 lg:grid-cols-4">
+          <div className="grid gap-3 sm:grid-cols-2 xl:grid-cols-3">
             {[1, 2, 3, 4, 5, 6, 7].map((d) => (
               <fieldset key={d} className="grid grid-cols-2 gap-2">
                 <legend className="field-label">{WEEKDAY_NAMES[d]}</legend>
@@ -163,10 +163,11 @@ export default function SiteCalendar({ loaderData, actionData }: Route.Component
               <caption className="sr-only">Closures of {site.name}</caption>
               <thead>
                 <tr>
-                  <th scope="col">First day</th>
-                  <th scope="col">Last day</th>
+                  <th scope="col">Days</th>
                   <th scope="col">Reason</th>
-                  <th scope="col">From</th>
+                  <th scope="col" className="hidden sm:table-cell">
+                    From
+                  </th>
                   <th scope="col">
                     <span className="sr-only">Remove</span>
                   </th>
@@ -175,10 +176,17 @@ export default function SiteCalendar({ loaderData, actionData }: Route.Component
               <tbody>
                 {closures.map((c) => (
                   <tr key={c.id}>
-                    <td className="whitespace-nowrap">{c.startsOn}</td>
-                    <td className="whitespace-nowrap">{c.endsOn}</td>
+                    <td>
+                      <span className="whitespace-nowrap">{c.startsOn}</span>
+                      {c.endsOn !== c.startsOn && (
+                        <>
+                          {" – "}
+                          <span className="whitespace-nowrap">{c.endsOn}</span>
+                        </>
+                      )}
+                    </td>
                     <td>{c.reason}</td>
-                    <td>{c.source === "ics" ? "calendar file" : "typed in"}</td>
+                    <td className="hidden sm:table-cell">{c.source === "ics" ? "calendar file" : "typed in"}</td>
                     <td>
                       <Form method="post">
                         <input type="hidden" name="intent" value="remove-closure" />

@@ -35,7 +35,12 @@ async function publish(client: Browserless, id: number): Promise<void> {
     expectedPlanVersion: version,
     confirm: "yes",
   });
-  expect(res.status).toBe(200);
+  expect(
+    res.status,
+    (await res.clone().text())
+      .replace(/<[^>]+>/g, " ")
+      .match(/.{0,300}(refus|break|minimum|closure|cannot)[\s\S]{0,300}/i)?.[0],
+  ).toBe(200);
 }
 
 type Row = {
