@@ -20,6 +20,17 @@ if (isProduction && (!secret || secret.length < 32)) {
 }
 export const sessionSecret = secret ?? "limberly-development-secret-not-for-production";
 
+// The settable clock (app/clock.server.ts): test and demo modes only. In production the server refuses to
+// start with either set, so a stray variable can never move a real programme's dates.
+export const clock = {
+  start: process.env.LIMBERLY_CLOCK_START || undefined,
+  file: process.env.LIMBERLY_CLOCK_FILE || undefined,
+};
+if ((clock.start || clock.file) && mode !== "test" && mode !== "demo")
+  throw new Error(
+    `LIMBERLY_CLOCK_START and LIMBERLY_CLOCK_FILE set the clock in test and demo modes only; unset them (LIMBERLY_MODE is ${mode}).`,
+  );
+
 export const oidc = {
   issuer: (process.env.OIDC_ISSUER ?? "http://127.0.0.1:9400").replace(/\/$/, ""),
   clientId: process.env.OIDC_CLIENT_ID ?? "limberly",

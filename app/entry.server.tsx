@@ -5,12 +5,14 @@ import type { RenderToPipeableStreamOptions } from "react-dom/server";
 import { renderToPipeableStream } from "react-dom/server";
 import type { AppLoadContext, EntryContext } from "react-router";
 import { ServerRouter } from "react-router";
+import { installClock } from "./clock.server";
 import { NonceContext } from "./components/nonce";
 import { startBackgroundWork } from "./jobs/runner.server";
 
 // The server entry (React Router's default, revealed) plus two additions: this instance's background work
 // (allocation solves, the retention schedule) starts here, once per server process; and the document's inline
 // scripts carry the Content-Security-Policy nonce that scripts/serve.ts put in the load context.
+installClock();
 startBackgroundWork();
 
 export const streamTimeout = 5_000;

@@ -17,6 +17,8 @@ export interface StackOptions {
   mode: "demo" | "test" | "development";
   dev?: boolean;
   quiet?: boolean;
+  /** further variables for the app process only (e.g. the settable clock of app/clock.server.ts) */
+  appEnv?: NodeJS.ProcessEnv;
 }
 
 export interface Stack {
@@ -121,7 +123,7 @@ export async function startApp(o: StackOptions, extraEnv: NodeJS.ProcessEnv = {}
 export async function startStack(o: StackOptions): Promise<Stack> {
   const idp = await startIdp(o.idpPort);
   const smtp = await startSmtpCatcher(o.smtpPort, o.outboxDir);
-  const app = await startApp(o);
+  const app = await startApp(o, o.appEnv);
   return {
     appUrl: app.appUrl,
     issuer: idp.issuer,

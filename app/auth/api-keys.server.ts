@@ -1,5 +1,6 @@
 import crypto from "node:crypto";
 import type { Knex } from "knex";
+import { nowInstant } from "~/dates";
 import { db } from "~/db.server";
 import { UserError } from "~/errors";
 import type { Role } from "./permissions";
@@ -39,7 +40,7 @@ export async function createApiKey(
       secret_hash: hashSecret(secret),
       role: input.role,
       created_by: input.createdBy,
-      created_at: new Date().toISOString(),
+      created_at: nowInstant(),
       awaiting_approval: input.awaitingApproval,
     })
     .returning("id");
@@ -63,14 +64,11 @@ export async function verifyApiKey(presented: string): Promise<ApiKeyRecord | nu
   const b = Buffer.from(hashSecret(m[2]), "hex");
   if (a.length !== b.length || !crypto.timingSafeEqual(a, b)) return null;
   const sites = await db()("api_key_sites").where({ api_key_id: row.id }).pluck("site_id");
-  await db()("api_keys").where({ id: row.id }).update({ last_used_at: new Date().toISOString() });
+  await db()("api_keys").where({ id: row.id }).update({ last_used_at: nowInstant() });
   return { id: row.id, name: row.name, prefix: row.prefix, role: row.role, siteIds: sites };
 }
 
 export async function revokeApiKey(id: number, trx: Knex.Transaction | Knex = db()): Promise<boolean> {
-  const n = await trx("api_keys")
-    .where({ id })
-    .whereNull("revoked_at")
-    .update({ revoked_at: new Date().toISOString() });
+  const n = await trx("api_keys").where({ id }).whereNull("revoked_at").update({ revoked_at: nowInstant() });
   return n > 0;
 }

@@ -1,6 +1,7 @@
 import crypto from "node:crypto";
 import { createCookie, createSessionStorage } from "react-router";
 import { isProduction, sessionSecret } from "~/config.server";
+import { hostNowMs, nowInstant } from "~/dates";
 import { db } from "~/db.server";
 
 // Server-side sessions: the cookie holds only a signed random id, the data lives in the `sessions`
@@ -39,14 +40,14 @@ export const sessionStorage = createSessionStorage<SessionData>({
       id,
       data: JSON.stringify(data),
       expires_at: expires?.toISOString() ?? null,
-      created_at: new Date().toISOString(),
+      created_at: nowInstant(),
     });
     return id;
   },
   async readData(id) {
     const row = await db()("sessions").where({ id }).first();
     if (!row) return null;
-    if (row.expires_at && new Date(row.expires_at).getTime() < Date.now()) {
+    if (row.expires_at && new Date(row.expires_at).getTime() < hostNowMs()) {
       await db()("sessions").where({ id }).del();
       return null;
     }

@@ -5,6 +5,7 @@ import {
   RateLimiterRes,
 } from "rate-limiter-flexible";
 import { limits } from "~/config.server";
+import { instantAgo, nowInstant } from "~/dates";
 import { db } from "~/db.server";
 import { clientAddress } from "~/http/client.server";
 
@@ -143,7 +144,7 @@ export async function countUpload(request: Request, userId: number): Promise<voi
 
 async function recordSecurityEvent(e: { kind: EventKind; subject: string; detail: string }): Promise<void> {
   await db()("security_events").insert({
-    at: new Date().toISOString(),
+    at: nowInstant(),
     kind: e.kind,
     subject: e.subject.slice(0, 255),
     detail: e.detail.slice(0, 500),
@@ -160,7 +161,7 @@ export interface SecurityEvent {
 
 /** The security events of the last `days` days, newest first. */
 export async function recentSecurityEvents(days = 7, limit = 20): Promise<SecurityEvent[]> {
-  const since = new Date(Date.now() - days * 86_400_000).toISOString();
+  const since = instantAgo(days * 86_400_000);
   const rows = await db()("security_events")
     .where("at", ">=", since)
     .orderBy("at", "desc")

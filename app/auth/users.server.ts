@@ -1,3 +1,4 @@
+import { nowInstant } from "~/dates";
 import { type Db, db } from "~/db.server";
 import type { Role } from "./permissions";
 
@@ -51,5 +52,5 @@ async function loadUser(
 }
 
 export async function markSignedIn(userId: number): Promise<void> {
-  await db()("users").where({ id: userId }).update({ last_sign_in_at: new Date().toISOString() });
+  await db()("users").where({ id: userId }).update({ last_sign_in_at: nowInstant() });
 }

@@ -14,6 +14,7 @@ import crypto from "node:crypto";
 import os from "node:os";
 import { isMainThread } from "node:worker_threads";
 import { jobs } from "~/config.server";
+import { todayIn } from "~/dates";
 import { type Db, db } from "~/db.server";
 import type { ProblemSnapshot } from "~/models/allocation-problem.server";
 import {
@@ -192,7 +193,7 @@ export function startBackgroundWork(): void {
           },
         );
         await b.work(RETENTION_QUEUE, { batchSize: 1, pollingIntervalSeconds: 10 }, async () => {
-          const s = await purgeExpiredAssessments(new Date().toISOString().slice(0, 10));
+          const s = await purgeExpiredAssessments(todayIn("UTC"));
           console.log(`retention purge (cut-off ${s.cutoff}): ${s.assessmentSessions} assessment sessions deleted`);
         });
         await b.schedule(RETENTION_QUEUE, jobs.retentionCron, {}, { tz: "UTC" });

@@ -1,4 +1,5 @@
 import type { Principal } from "~/auth/guard.server";
+import { nowInstant } from "~/dates";
 import { type Db, db } from "~/db.server";
 import { clientAddress } from "~/http/client.server";
 import type { TableQuery } from "~/schemas/table-query";
@@ -26,7 +27,7 @@ export async function recordAccess(
   const ids = ([] as number[]).concat(workerIds);
   if (ids.length === 0) return;
   const url = new URL(request.url);
-  const at = new Date().toISOString();
+  const at = nowInstant();
   const ip = clientAddress(request);
   const rows = ids.map((workerId) => ({
     at,

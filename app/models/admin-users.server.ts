@@ -1,5 +1,6 @@
 import type { Knex } from "knex";
 import { isClinicalRole, ROLE_LABELS, type Role } from "~/auth/permissions";
+import { nowInstant } from "~/dates";
 import { db } from "~/db.server";
 import { conflict, notFound } from "~/errors";
 import type { TableQuery } from "~/schemas/table-query";
@@ -82,7 +83,7 @@ async function grantInside(
     role: a.role,
     site_id: a.siteId,
     department_id: a.departmentId,
-    created_at: new Date().toISOString(),
+    created_at: nowInstant(),
   });
   return {
     note: await writeAudit(trx, { actor, event: "granted", subject, role: a.role, targetUserId: user.id }),
@@ -106,7 +107,7 @@ export async function createUser(
         email: input.email,
         display_name: input.displayName,
         active: true,
-        created_at: new Date().toISOString(),
+        created_at: nowInstant(),
       })
       .returning("id");
     const id = u.id;

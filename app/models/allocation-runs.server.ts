@@ -4,6 +4,7 @@ import type { Scope } from "~/auth/scope";
 import type { AllocationPlan } from "~/compute/allocation";
 import { type RunSummary, runSummary } from "~/compute/placement";
 import { replanSummary } from "~/compute/replan";
+import { instantAgo, nowInstant } from "~/dates";
 import { type Db, db, type Row } from "~/db.server";
 import { UserError } from "~/errors";
 import { enqueueAllocation } from "~/jobs/queue.server";
@@ -167,7 +168,7 @@ async function createRun(principal: Principal, params: RunParameters): Promise<n
         fraction: 0,
         problem: JSON.stringify(snapshot),
         created_by: principal.kind === "user" ? principal.user.id : null,
-        created_at: new Date().toISOString(),
+        created_at: nowInstant(),
         version: 1,
       })
       .returning("id");
@@ -193,7 +194,7 @@ export async function setArchived(principal: Principal, id: number, archived: bo
     }
     await trx("allocation_runs")
       .where({ id })
-      .update({ archived_at: archived ? new Date().toISOString() : null, version: trx.raw("version + 1") });
+      .update({ archived_at: archived ? nowInstant() : null, version: trx.raw("version + 1") });
   });
 }
 
@@ -230,10 +231,10 @@ function isPg(k: Db): boolean {
 
 /** "Now" for heartbeats: the database's clock on PostgreSQL (instances' clocks may differ), ours on SQLite. */
 function nowValue(k: Db) {
-  return isPg(k) ? k.raw("now()") : new Date().toISOString();
+  return isPg(k) ? k.raw("now()") : nowInstant();
 }
 function agoValue(k: Db, ms: number) {
-  return isPg(k) ? k.raw("now() - (? * interval '1 millisecond')", [ms]) : new Date(Date.now() - ms).toISOString();
+  return isPg(k) ? k.raw("now() - (? * interval '1 millisecond')", [ms]) : instantAgo(ms);
 }
 
 /** Claims a queued run for this instance (one conditional update); null when it is not queued any more. */
@@ -247,7 +248,7 @@ export async function claimRun(id: number, instanceId: string, k: Db = db()): Pr
       error: null,
       claimed_by: instanceId.slice(0, 120),
       heartbeat_at: nowValue(k),
-      started_at: new Date().toISOString(),
+      started_at: nowInstant(),
       attempts: k.raw("attempts + 1"),
       version: k.raw("version + 1"),
     });
@@ -261,7 +262,7 @@ export async function claimRun(id: number, instanceId: string, k: Db = db()): Pr
 /** The oldest queued runs, for runners that take work from the table itself (SQLite) and for the sweep. */
 export async function queuedRunIds(k: Db = db(), olderThanMs = 0, limit = 20): Promise<number[]> {
   const q = k("allocation_runs").where({ status: "queued" }).orderBy("id").limit(limit);
-  if (olderThanMs > 0) q.where("created_at", "<", new Date(Date.now() - olderThanMs).toISOString());
+  if (olderThanMs > 0) q.where("created_at", "<", instantAgo(olderThanMs));
   return (await q.select("id")).map((r) => r.id);
 }
 
@@ -315,7 +316,7 @@ export async function markDone(id: number, instanceId: string, plan: AllocationP
     error: null,
     result: JSON.stringify(plan),
     summary: summary ? JSON.stringify(summary) : null,
-    finished_at: new Date().toISOString(),
+    finished_at: nowInstant(),
     version: k.raw("version + 1"),
   });
   return n === 1;
@@ -326,7 +327,7 @@ export async function markFailed(id: number, instanceId: string, message: string
     status: "failed",
     phase: "failed",
     error: message.slice(0, 2000),
-    finished_at: new Date().toISOString(),
+    finished_at: nowInstant(),
     version: k.raw("version + 1"),
   });
   return n === 1;
@@ -366,9 +367,7 @@ export async function recoverStaleRuns(
       .where((w) =>
         w
           .where("heartbeat_at", "<", agoValue(k, opts.staleMs))
-          .orWhere((x) =>
-            x.whereNull("heartbeat_at").where("started_at", "<", new Date(Date.now() - opts.staleMs).toISOString()),
-          ),
+          .orWhere((x) => x.whereNull("heartbeat_at").where("started_at", "<", instantAgo(opts.staleMs))),
       );
   const rows = await stale(k("allocation_runs")).orderBy("id").select("id", "claimed_by", "attempts");
   const out: StaleRecovery = { requeued: [], failed: [] };
@@ -382,7 +381,7 @@ export async function recoverStaleRuns(
         status: "failed",
         phase: "failed",
         error: `The run was stopped because ${who} stopped answering, after ${r.attempts} attempt(s); start it again.`,
-        finished_at: new Date().toISOString(),
+        finished_at: nowInstant(),
         version: k.raw("version + 1"),
       });
       if (n === 1) out.failed.push(r.id);

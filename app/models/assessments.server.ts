@@ -4,6 +4,7 @@ import type { Scope } from "~/auth/scope";
 import { zScore } from "~/compute/features";
 import type { SwayProcessing } from "~/compute/features/sway-processing";
 import { analyseTrace, parseTrace, type TraceIssue, type TraceKind } from "~/compute/trace-parsing";
+import { nowInstant } from "~/dates";
 import { type Db, db } from "~/db.server";
 import { UserError } from "~/errors";
 import { MAX_TRACE_ROWS } from "~/schemas/assessment";
@@ -71,7 +72,7 @@ export async function createSession(input: {
         assessed_on: input.assessedOn,
         assessor_user_id: input.assessorUserId,
         notes: input.notes || null,
-        created_at: new Date().toISOString(),
+        created_at: nowInstant(),
       })
       .returning("id");
     return r.id;
@@ -209,7 +210,7 @@ async function upsertResults(
   rows: { measure: Measure; value: number; traceUploadId: number | null }[],
 ) {
   const norms = await defaultNorms(trx);
-  const at = new Date().toISOString();
+  const at = nowInstant();
   for (const r of rows) {
     await trx("assessment_results").where({ session_id: sessionId, measure_id: r.measure.id }).del();
     await trx("assessment_results").insert({
@@ -360,7 +361,7 @@ export async function saveTrace(input: {
         duration_seconds: processing?.durationSeconds ?? null,
         computed: JSON.stringify(computed),
         uploaded_by: input.userId,
-        created_at: new Date().toISOString(),
+        created_at: nowInstant(),
       })
       .returning("id");
     const measures = (await listMeasures({ activeOnly: true }, trx)).filter(

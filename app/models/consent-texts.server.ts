@@ -1,3 +1,4 @@
+import { nowInstant } from "~/dates";
 import { db } from "~/db.server";
 import type { ConsentPurpose } from "~/domain/consent-purposes";
 import { conflict } from "~/errors";
@@ -43,7 +44,7 @@ export async function createConsentText(v: {
         body: v.body,
         effective_from: v.effectiveFrom,
         created_by: v.createdBy,
-        created_at: new Date().toISOString(),
+        created_at: nowInstant(),
       })
       .returning("id");
     return r.id;

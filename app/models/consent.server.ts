@@ -1,3 +1,4 @@
+import { nowInstant, todayIn } from "~/dates";
 import { type Db, db } from "~/db.server";
 import { CONSENT_PURPOSES, type ConsentPurpose } from "~/domain/consent-purposes";
 import type { Stage } from "~/domain/stages";
@@ -36,7 +37,7 @@ export interface PurposeState {
 }
 export type ConsentState = Record<ConsentPurpose, PurposeState>;
 
-const today = () => new Date().toISOString().slice(0, 10);
+const today = () => todayIn("UTC");
 
 async function currentTexts(k: Db, on = today()) {
   const rows = await k("consent_text_versions")
@@ -225,7 +226,7 @@ export async function setStage(
   workerId: number,
   to: Stage,
   actorUserId: number | null,
-  at = new Date().toISOString(),
+  at = nowInstant(),
 ): Promise<void> {
   const w = await trx("workers").where({ id: workerId }).first("stage");
   if (!w || w.stage === to) return;
@@ -278,7 +279,7 @@ export async function recordConsent(
     if (!input.selfGiven && !(await isAssessor(trx, input.witnessUserId)))
       throw new UserError("The witness must be an active assessor.", { field: "witnessUserId" });
     const texts = await currentTexts(trx);
-    const at = new Date().toISOString();
+    const at = nowInstant();
     for (const purpose of input.purposes) {
       const text = texts[purpose];
       if (!text)

@@ -2,6 +2,7 @@ import type { Knex } from "knex";
 import { createApiKey, revokeApiKey } from "~/auth/api-keys.server";
 import { isClinicalRole, ROLE_LABELS, ROLES, type Role, roleAllows } from "~/auth/permissions";
 import { appUrl } from "~/config.server";
+import { nowInstant } from "~/dates";
 import { type Db, db } from "~/db.server";
 import { AUDIT_EVENT_LABELS, type AuditEvent } from "~/domain/privilege-events";
 import { conflict, notFound, UserError } from "~/errors";
@@ -68,7 +69,7 @@ export async function writeAudit(
   note: AuditNote & { requestId?: number | null; targetUserId?: number | null; apiKeyId?: number | null },
 ): Promise<AuditNote> {
   await trx("privilege_audit").insert({
-    at: new Date().toISOString(),
+    at: nowInstant(),
     actor_id: note.actor.id,
     actor_name: note.actor.displayName,
     event: note.event,
@@ -113,7 +114,7 @@ export async function openRequest(
       department_id: r.departmentId ?? null,
       api_key_id: r.apiKeyId ?? null,
       requested_by: actor.id,
-      created_at: new Date().toISOString(),
+      created_at: nowInstant(),
       status: "pending",
     })
     .returning("id");
@@ -209,7 +210,7 @@ export async function decideRequest(actor: Actor, requestId: number, decision: "
     const status = decision === "approve" ? "approved" : "refused";
     const n = await trx("privilege_requests")
       .where({ id: requestId, status: "pending" })
-      .update({ status, decided_by: actor.id, decided_at: new Date().toISOString() });
+      .update({ status, decided_by: actor.id, decided_at: nowInstant() });
     if (n !== 1) throw conflict("That request was decided by someone else meanwhile.", "requestId");
     if (r.kind === "role" && decision === "approve") {
       await trx("role_assignments").insert({
@@ -217,7 +218,7 @@ export async function decideRequest(actor: Actor, requestId: number, decision: "
         role: r.role,
         site_id: r.site_id,
         department_id: r.department_id,
-        created_at: new Date().toISOString(),
+        created_at: nowInstant(),
       });
     }
     if (r.kind === "api_key") {

@@ -1,5 +1,6 @@
 import type { Principal } from "~/auth/guard.server";
 import type { Scope } from "~/auth/scope";
+import { nowInstant } from "~/dates";
 import { db, type TableRow } from "~/db.server";
 import { notFound } from "~/errors";
 
@@ -127,7 +128,7 @@ export async function addMaintenance(
     ends_on: v.endsOn,
     reason: v.reason,
     created_by: p.kind === "user" ? p.user.id : null,
-    created_at: new Date().toISOString(),
+    created_at: nowInstant(),
   });
 }
 

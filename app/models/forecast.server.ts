@@ -6,6 +6,7 @@ import { INTERVAL_LEVEL } from "~/compute/censored-forecast";
 import { MEASURE_DIRECTIONS, zScore } from "~/compute/features";
 import { forecastFromModel, type StoredModel } from "~/compute/forecast-explain";
 import { type ProgressUpdate, progressUpdate } from "~/compute/progress-update";
+import { nowInstant } from "~/dates";
 import { type Db, db, type Row, type TableRow } from "~/db.server";
 import { notFound } from "~/errors";
 import {
@@ -186,7 +187,7 @@ export async function upsertForecast(
   ctx: ForecastContext,
   cached?: { model?: ApprovedModel | null },
 ): Promise<UpsertResult> {
-  const now = ctx.now ?? new Date().toISOString();
+  const now = ctx.now ?? nowInstant();
   await lockWorker(k, workerId); // the forecast row and open flags are checked, then written
   const drop = () => k("forecasts").where({ worker_id: workerId, device_type_id: deviceTypeId }).del();
   if ((await latestConsent(k, [workerId], "planning")).get(workerId) !== "given") {
@@ -326,7 +327,7 @@ export async function resolveFlags(workerId: number, deviceTypeId: number, userI
   return db()("review_flags")
     .where({ worker_id: workerId, device_type_id: deviceTypeId })
     .whereNull("resolved_at")
-    .update({ resolved_at: new Date().toISOString(), resolved_by: userId });
+    .update({ resolved_at: nowInstant(), resolved_by: userId });
 }
 
 /** Recompute the forecasts of every planning-consented worker for one device type; returns how many were stored. */

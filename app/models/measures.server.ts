@@ -1,4 +1,5 @@
 import type { TraceKind } from "~/compute/trace-parsing";
+import { nowInstant } from "~/dates";
 import { type Db, db, type TableRow } from "~/db.server";
 import { conflict } from "~/errors";
 
@@ -63,7 +64,7 @@ export async function createMeasure(
         description: m.description || null,
         active: true,
         created_by: userId,
-        created_at: new Date().toISOString(),
+        created_at: nowInstant(),
       })
       .returning("id");
     return r.id;

@@ -6,6 +6,7 @@ import {
 } from "~/compute/calibration";
 import { type CourseOutcome, fitCensoredForecast } from "~/compute/censored-forecast";
 import { normalQuantile, studentTQuantile } from "~/compute/student-t";
+import { nowInstant } from "~/dates";
 import { type Db, db, type Row } from "~/db.server";
 import { conflict, notFound, UserError } from "~/errors";
 import { DRIFT_ALPHA, EXCLUSION_LABELS, type ExclusionReason } from "~/schemas/forecast";
@@ -400,7 +401,7 @@ export async function saveModelVersion(
       .max<{ m: number | null }>("version_number as m")
       .first();
     const versionNumber = Number(last?.m ?? 0) + 1;
-    const now = opts?.now ?? new Date().toISOString();
+    const now = opts?.now ?? nowInstant();
     const [row] = await trx("model_versions")
       .insert({
         device_type_id: input.deviceTypeId,
@@ -454,7 +455,7 @@ async function approvable(trx: Db, versionId: number, userId: number | null) {
 }
 
 async function makeApproved(trx: Db, v: Row, userId: number, now?: string): Promise<number> {
-  const at = now ?? new Date().toISOString();
+  const at = now ?? nowInstant();
   await trx("model_versions")
     .where({ device_type_id: v.device_type_id, status: "approved" })
     .update({ status: "retired", retired_by: userId, retired_at: at });
@@ -539,7 +540,7 @@ export async function retireModelVersion(versionId: number, userId: number): Pro
     if (v.status === "retired") throw conflict(`Version ${v.version_number} is already retired.`);
     await trx("model_versions")
       .where({ id: versionId })
-      .update({ status: "retired", retired_by: userId, retired_at: new Date().toISOString() });
+      .update({ status: "retired", retired_by: userId, retired_at: nowInstant() });
     await trx("forecasts").where({ model_version_id: versionId }).del();
   });
 }

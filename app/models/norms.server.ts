@@ -1,5 +1,5 @@
 import { sampleStandardDeviation, mean as ssMean } from "simple-statistics";
-import { todayIn } from "~/dates";
+import { nowInstant, todayIn } from "~/dates";
 import { type Db, db } from "~/db.server";
 import { UserError } from "~/errors";
 import { organisationTimeZone } from "./sites.server";
@@ -89,7 +89,7 @@ export async function createPublishedNormSet(
         source: input.source,
         source_date: input.sourceDate,
         created_by: userId,
-        created_at: new Date().toISOString(),
+        created_at: nowInstant(),
       })
       .returning("id");
     await trx("norm_values").insert(
@@ -141,7 +141,7 @@ export async function createCohortNormSet(
         source: `First baselines of consented workers at ${input.siteLabel}, computed ${today} (n per measure listed).`,
         source_date: today,
         created_by: userId,
-        created_at: new Date().toISOString(),
+        created_at: nowInstant(),
       })
       .returning("id");
     await trx("norm_values").insert(

@@ -1,4 +1,5 @@
 import type { ProficiencyCriterion } from "~/compute/proficiency-rule";
+import { nowInstant } from "~/dates";
 import { type Db, db } from "~/db.server";
 import { notFound } from "~/errors";
 
@@ -58,7 +59,7 @@ export async function setCriterion(
       score_threshold: input.scoreThreshold,
       consecutive_sessions: input.consecutiveSessions,
       set_by: userId,
-      set_at: new Date().toISOString(),
+      set_at: nowInstant(),
     };
     const existing = await trx("proficiency_criteria")
       .where({ device_type_id: input.deviceTypeId })

@@ -3,6 +3,7 @@ import { can } from "~/auth/permissions";
 import type { CurveKind } from "~/compute/curve";
 import { firstProficientIndex } from "~/compute/proficiency-rule";
 import { curvePoints, type ProgressUpdate } from "~/compute/progress-update";
+import { nowInstant } from "~/dates";
 import { type Db, db, type TableRow } from "~/db.server";
 import type { Stage } from "~/domain/stages";
 import { conflict } from "~/errors";
@@ -56,7 +57,7 @@ export async function logSessionResult(input: LogSessionInput, k?: Db): Promise<
   if (!(input.taskScore >= 0 && input.taskScore <= 1))
     throw conflict("Task score must be between 0 and 1.", "taskScore");
   const run = async (trx: Db): Promise<LogSessionResult> => {
-    const at = input.at ?? new Date().toISOString();
+    const at = input.at ?? nowInstant();
     const day = at.slice(0, 10);
     const worker = await trx("workers").where({ id: input.workerId }).first("id", "stage");
     if (!worker) throw conflict("That worker does not exist.");
@@ -174,6 +175,11 @@ export async function logSessionResult(input: LogSessionInput, k?: Db): Promise<
           .where({ id: course.id })
           .update({ status: "proficient", proficient_on: day, hours_to_proficiency: hours, updated_at: at });
         await setStage("proficient");
+        // Sessions still scheduled on this device could never be logged now: they leave the trainer's day.
+        await trx("training_sessions")
+          .where({ worker_id: input.workerId, device_type_id: input.deviceTypeId, status: "scheduled" })
+          .whereNot("id", sessionId)
+          .update({ status: "cancelled", notes: "Cancelled: proficiency reached." });
         await recordOutcome(trx, input.workerId, input.deviceTypeId, hours, day, at);
       }
     }

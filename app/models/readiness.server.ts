@@ -25,6 +25,7 @@ import {
   weekStart,
 } from "~/compute/readiness-views";
 import { round1 } from "~/compute/rounding";
+import { nowInstant } from "~/dates";
 import { type Db, db } from "~/db.server";
 import { STAGE_BAND_LABELS, STAGE_BAND_OF, STAGE_BANDS, STAGE_LABELS, STAGES } from "~/domain/stages";
 import { protectOverTimeOffThread } from "~/jobs/disclosure.server";
@@ -314,7 +315,7 @@ async function publishTable(
           published: JSON.stringify(x.r.published),
           linked_to: x.r.linkedTo,
           note,
-          created_at: new Date().toISOString(),
+          created_at: nowInstant(),
         })
         .returning("id");
       // A publication made in the background changes what cached boards should show.
@@ -680,7 +681,7 @@ async function recordReceipts(ids: number[], viewer: BoardViewer): Promise<void>
         publication_id: id,
         viewer_kind: viewer.kind,
         viewer_id: viewer.id,
-        received_at: new Date().toISOString(),
+        received_at: nowInstant(),
       })
       .onConflict(["publication_id", "viewer_kind", "viewer_id"])
       .ignore();

@@ -1,6 +1,7 @@
 import type { Knex } from "knex";
 import type { Principal } from "~/auth/guard.server";
 import { appUrl } from "~/config.server";
+import { nowInstant } from "~/dates";
 import { type Db, db, type Row } from "~/db.server";
 import { REVIEW_OWNER, REVIEW_QUEUE_PATH, type ReviewSubject, subjectsOwnedBy } from "~/domain/review-owners";
 import { conflict, notFound } from "~/errors";
@@ -38,7 +39,7 @@ export async function createReviewRequest(
           message: input.message,
           status: "open",
           requested_by: userId,
-          created_at: new Date().toISOString(),
+          created_at: nowInstant(),
         })
         .returning("id");
       return row.id as number;
@@ -190,7 +191,7 @@ export async function answerReview(
     // the row answered (PostgreSQL re-reads it after the first commits) and gets the same message.
     const n = await trx("review_requests")
       .where({ id: r.id, status: "open" })
-      .update({ status: "answered", answer, answered_by: p.user.id, answered_at: new Date().toISOString() });
+      .update({ status: "answered", answer, answered_by: p.user.id, answered_at: nowInstant() });
     if (n !== 1) throw conflict("This request has already been answered.");
     const u = r.user_id ? await trx("users").where({ id: r.user_id }).first("email") : null;
     return { r, to: u?.email ?? (r.worker_email as string) ?? null };

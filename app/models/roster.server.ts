@@ -2,7 +2,7 @@ import { createHash } from "node:crypto";
 import type { Knex } from "knex";
 import type { Principal } from "~/auth/guard.server";
 import type { Scope } from "~/auth/scope";
-import { formatInstant } from "~/dates";
+import { formatInstant, nowInstant } from "~/dates";
 import { type Db, db, type TableInsert, type TableRow } from "~/db.server";
 import { conflict, notFound, UserError } from "~/errors";
 import { readRosterFileOffThread, withUploadReadSlot } from "~/jobs/upload-read.server";
@@ -76,7 +76,7 @@ export async function saveRosterUpload(
       mapping: JSON.stringify(guessMapping(table.headers)),
       status: "uploaded",
       created_by: principal.user.id,
-      created_at: new Date().toISOString(),
+      created_at: nowInstant(),
     })
     .returning("id");
   return r.id;
@@ -168,7 +168,7 @@ export async function saveMapping(id: number, userId: number, mapping: RosterMap
 export async function discardRosterUpload(id: number, userId: number) {
   await db()("roster_imports")
     .where({ id, created_by: userId, status: "uploaded" })
-    .update({ status: "discarded", rows: null, finished_at: new Date().toISOString() });
+    .update({ status: "discarded", rows: null, finished_at: nowInstant() });
 }
 
 export interface RosterChange {
@@ -270,7 +270,7 @@ export async function applyRosterPlan(
   plan: RosterPlan,
   actorUserId: number | null,
 ): Promise<RosterSummary> {
-  const at = new Date().toISOString();
+  const at = nowInstant();
   const newRows = plan.creates.map(
     (r): TableInsert<"workers"> => ({
       employee_number: r.employeeNumber,
@@ -341,7 +341,7 @@ export async function importRosterUpload(id: number, principal: Principal & { ki
           status: "imported",
           rows: null,
           summary: JSON.stringify(summary),
-          finished_at: new Date().toISOString(),
+          finished_at: nowInstant(),
         });
       return summary;
     });

@@ -1,5 +1,5 @@
 import type { Scope } from "~/auth/scope";
-import { dayOf, hhmmOfWallClock, type Instant, instantToWallClock, type WallClock, wallClock } from "~/dates";
+import { dayOf, hhmmOfWallClock, type Instant, instantToWallClock, nowDate, type WallClock, wallClock } from "~/dates";
 import { type Db, db, type Row } from "~/db.server";
 import { effectiveWearLimit } from "./course-reviews.server";
 import { whereWorkerInScope } from "./workers.server";
@@ -114,7 +114,7 @@ export async function scheduleSessions(filter: ScheduleFilter = {}, k: Db = db()
   if (filter.sessionId != null) q.where("ts.id", filter.sessionId);
   if (filter.wallFrom) q.where("ts.scheduled_start", ">=", filter.wallFrom);
   if (filter.wallTo) q.where("ts.scheduled_start", "<", filter.wallTo);
-  const from = filter.from === undefined && !filter.wallFrom && filter.sessionId == null ? new Date() : filter.from;
+  const from = filter.from === undefined && !filter.wallFrom && filter.sessionId == null ? nowDate() : filter.from;
   // Coarse cut in SQL (no zone is more than 14 hours ahead of UTC), exact cut per site's clock below.
   if (from)
     q.where("ts.scheduled_start", ">=", instantToWallClock(new Date(new Date(from).getTime() - 15 * 3_600_000), "UTC"));

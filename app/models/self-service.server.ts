@@ -1,6 +1,6 @@
 import type { Principal } from "~/auth/guard.server";
 import { appUrl } from "~/config.server";
-import { type Instant, todayIn } from "~/dates";
+import { type Instant, nowDate, todayIn } from "~/dates";
 import { type Db, db } from "~/db.server";
 import { sendMail } from "~/mail.server";
 import { roleEmailsCovering } from "./adverse-events.server";
@@ -79,7 +79,7 @@ export async function mySessions(
   opts: { from?: Instant | Date; limit?: number } = {},
   k: Db = db(),
 ): Promise<MySession[]> {
-  const rows = await scheduleSessions({ workerId, from: opts.from ?? new Date(), limit: opts.limit }, k);
+  const rows = await scheduleSessions({ workerId, from: opts.from ?? nowDate(), limit: opts.limit }, k);
   return rows.map((r) => ({
     id: r.id,
     start: r.start,
@@ -145,7 +145,7 @@ export async function myForecasts(workerId: number, k: Db = db()): Promise<MyFor
 }
 
 /** Everything the worker's home shows: next sessions, stage, forecasts in plain words, progress per course. */
-export async function workerHome(p: Principal, workerId: number, now = new Date()) {
+export async function workerHome(p: Principal, workerId: number, now = nowDate()) {
   const me = await ownWorker(workerId);
   if (!me) return null;
   const next = await mySessions(workerId, { from: now, limit: 8 });

@@ -1,6 +1,7 @@
 import type { Principal } from "~/auth/guard.server";
 import type { PlanCalendar } from "~/compute/session-packing";
 import type { RuleCalendar, SiteCalendar } from "~/compute/session-rules";
+import { nowInstant } from "~/dates";
 import { addDays } from "~/dates/calendar";
 import { type Db, db } from "~/db.server";
 import { notFound } from "~/errors";
@@ -85,7 +86,7 @@ async function insertClosures(
     onFile.add(key);
     fresh.push(c);
   }
-  const now = new Date().toISOString();
+  const now = nowInstant();
   const by = p.kind === "user" ? p.user.id : null;
   for (let i = 0; i < fresh.length; i += 200)
     await k("site_closures").insert(

@@ -8,6 +8,7 @@ import {
   hoursBetween,
   type Instant,
   type IsoDate,
+  nowDate,
   nowInstant,
   todayIn,
   wallClockExists,
@@ -100,7 +101,7 @@ function scheduleOnly(r: SessionOnSchedule): ScheduledSession {
  * The trainer's sessions for one day (today unless `shown` names another) and the rest of its week (Monday to
  * Sunday) on the clock of the trainer's site, and sessions before this week still waiting to be logged.
  */
-export async function trainerDay(trainerId: number, now: Instant | Date = new Date(), k: Db = db(), shown?: IsoDate) {
+export async function trainerDay(trainerId: number, now: Instant | Date = nowDate(), k: Db = db(), shown?: IsoDate) {
   const site = await k("trainers as t")
     .join("sites as s", "s.id", "t.site_id")
     .where("t.id", trainerId)
@@ -222,7 +223,7 @@ export async function markUndoRefusal(
     "id" | "status" | "logged_by" | "marked_at" | "worker_id" | "device_type_id" | "cumulative_hours" | "undo_state"
   >,
   userId: number,
-  now: Instant | Date = new Date(),
+  now: Instant | Date = nowDate(),
 ): Promise<string | null> {
   if (s.status === "scheduled") return "This session has no mark to undo: it is still to do.";
   if (s.status !== "attended" && s.status !== "no_show") return recordedAs(s.status);
@@ -350,7 +351,7 @@ export async function undoLastMark(input: {
 export async function nextSessionToLog(
   trainer: TrainerRef,
   after: { id: number; start: string | null },
-  now: Instant | Date = new Date(),
+  now: Instant | Date = nowDate(),
   k: Db = db(),
 ): Promise<ScheduledSession | null> {
   const w = dayAndWeekIn(trainer.timeZone, now);

@@ -1,6 +1,6 @@
 import type { Principal } from "~/auth/guard.server";
 import type { Scope } from "~/auth/scope";
-import { dayOf, hhmmOfWallClock, todayIn } from "~/dates";
+import { dayOf, hhmmOfWallClock, nowInstant, todayIn } from "~/dates";
 import { db } from "~/db.server";
 import { conflict, notFound } from "~/errors";
 import type { TableQuery } from "~/schemas/table-query";
@@ -179,7 +179,7 @@ export async function addTrainerLeave(
     starts_on: v.startsOn,
     ends_on: v.endsOn,
     reason: v.reason,
-    created_at: new Date().toISOString(),
+    created_at: nowInstant(),
   });
 }
 
@@ -290,7 +290,7 @@ export async function saveTrainingFields(
     priority: v.priority,
     priority_reason: v.priorityReason,
     updated_by: p.kind === "user" ? p.user.id : null,
-    updated_at: new Date().toISOString(),
+    updated_at: nowInstant(),
   };
   await db()("worker_training_fields")
     .insert({ worker_id: workerId, ...row })
@@ -309,7 +309,7 @@ export async function addWorkerLeave(
     starts_on: v.startsOn,
     ends_on: v.endsOn,
     reason: v.reason,
-    created_at: new Date().toISOString(),
+    created_at: nowInstant(),
   });
 }
 

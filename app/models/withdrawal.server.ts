@@ -1,4 +1,5 @@
 import type { Knex } from "knex";
+import { nowDate, nowInstant } from "~/dates";
 import { type Db, db } from "~/db.server";
 import type { ConsentPurpose } from "~/domain/consent-purposes";
 import { conflict } from "~/errors";
@@ -19,14 +20,15 @@ export interface ErasureStep {
 
 /**
  * Takes the worker out of the plans inside a transaction: future scheduled sessions cancelled, courses that
- * were only planned dropped, a forecast/planned stage set back to baselined. Runs as an ERASURE_STEPS
+ * were only planned dropped, a forecast/planned/training stage set back to baselined (a course in training keeps
+ * its hours for a later return). Runs as an ERASURE_STEPS
  * step, inside the withdrawal's transaction. Returns sessions cancelled.
  */
 export async function erasePlanEntries(
   trx: Db,
   workerId: number,
   userId: number | null = null,
-  now = new Date(),
+  now = nowDate(),
 ): Promise<number> {
   const at = now.toISOString();
   const n = Number(
@@ -43,7 +45,9 @@ export async function erasePlanEntries(
   );
   await trx("device_courses").where({ worker_id: workerId, status: "planned" }).del();
   const w = await trx("workers").where({ id: workerId }).first("stage");
-  if (w && (w.stage === "planned" || w.stage === "forecast")) await setStage(trx, workerId, "baselined", userId, at);
+  // A worker in training leaves it too: nothing can plan them any more, so "Training" would never end.
+  if (w && (w.stage === "planned" || w.stage === "forecast" || w.stage === "training"))
+    await setStage(trx, workerId, "baselined", userId, at);
   return n;
 }
 
@@ -107,7 +111,7 @@ export async function withdrawConsent(input: {
   return db().transaction(async (trx) => {
     const last = await latestConsentRecord(input.workerId, input.purpose, trx);
     if (last?.status !== "given") throw conflict(`There is no given ${input.purpose} consent to withdraw.`, "purpose");
-    const at = new Date().toISOString();
+    const at = nowInstant();
     const erased: Record<string, number> = {};
     for (const step of ERASURE_STEPS) {
       if (step.purposes.includes(input.purpose))

@@ -1,5 +1,5 @@
 import type { Principal } from "~/auth/guard.server";
-import { addDays, dayAndWeekIn, dayOf, type Instant, todayIn, wallClockNow } from "~/dates";
+import { addDays, dayAndWeekIn, dayOf, type Instant, nowDate, todayIn, wallClockNow } from "~/dates";
 import { type Db, db } from "~/db.server";
 import { subjectsOwnedBy } from "~/domain/review-owners";
 import { scheduleSessions } from "./schedule.server";
@@ -26,11 +26,7 @@ const BACK_FROM_PAUSE_DAYS = 14;
 /** The number from a one-row `count({ n })` result (a number on SQLite, possibly text on PostgreSQL). */
 const n = (rows: { n?: number | string }[]) => Number(rows[0]?.n ?? 0);
 
-export async function assessorQueue(
-  p: Principal,
-  now: Instant | Date = new Date(),
-  k: Db = db(),
-): Promise<QueueItem[]> {
+export async function assessorQueue(p: Principal, now: Instant | Date = nowDate(), k: Db = db()): Promise<QueueItem[]> {
   const me = p.kind === "user" ? p.user.id : -1;
   const drafts = await k("model_versions")
     .where("status", "draft")
@@ -109,7 +105,7 @@ function openQuestions(p: Principal, k: Db) {
 
 export async function coordinatorQueue(
   p: Principal,
-  now: Instant | Date = new Date(),
+  now: Instant | Date = nowDate(),
   k: Db = db(),
 ): Promise<QueueItem[]> {
   const latestPublished = await k("allocation_runs").whereNotNull("published_at").max({ at: "created_at" }).first();
@@ -193,7 +189,7 @@ async function sessionsHitByAbsence(p: Principal, now: Instant | Date, k: Db): P
 
 export async function trainerQueue(
   trainerId: number,
-  now: Instant | Date = new Date(),
+  now: Instant | Date = nowDate(),
   k: Db = db(),
 ): Promise<QueueItem[]> {
   const site = await k("trainers as t")

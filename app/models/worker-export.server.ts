@@ -1,4 +1,4 @@
-import { addMinutesToWallClock, dayOf, hhmmOfWallClock, wallClock } from "~/dates";
+import { addMinutesToWallClock, dayOf, hhmmOfWallClock, nowDate, nowInstant, wallClock } from "~/dates";
 import { db } from "~/db.server";
 import type { SheetSpec } from "~/xlsx.server";
 import { accessLogForWorker } from "./access-log.server";
@@ -135,7 +135,7 @@ export async function everythingAbout(workerId: number) {
   return {
     about:
       "Everything Limberly holds about you, as of the time below. Record times (given, logged, read) are UTC; session times are the site's wall-clock times.",
-    generatedAt: new Date().toISOString(),
+    generatedAt: nowInstant(),
     worker: {
       employeeNumber: w.employee_number,
       givenName: w.given_name,
@@ -301,7 +301,7 @@ export function exportSheets(d: EverythingAbout): SheetSpec[] {
  * An iCalendar file of the worker's scheduled sessions (from a week ago on), written by the allocation area's
  * icsFile (calendar.server.ts) with the same UIDs as its publish e-mails, so a calendar keeps one event each.
  */
-export async function myCalendar(workerId: number, now = new Date()): Promise<string> {
+export async function myCalendar(workerId: number, now = nowDate()): Promise<string> {
   const sessions = await mySessions(workerId, { from: new Date(now.getTime() - 7 * 86_400_000) });
   const events: CalendarSession[] = sessions.map((s) => ({
     uid: `w${workerId}-${dayOf(s.start)}-${hhmmOfWallClock(s.start).replace(":", "")}-${s.deviceTypeId}@limberly`,

@@ -5,6 +5,7 @@ import { getSession, sessionStorage, unprovisionedEmail } from "~/auth/session.s
 import type { SignInErrorCode } from "~/auth/sign-in-messages";
 import { countSignInFailure, refuseBlockedSignIn } from "~/auth/throttle.server";
 import { markSignedIn } from "~/auth/users.server";
+import { nowInstant } from "~/dates";
 import type { Route } from "./+types/auth.callback";
 
 // The identity provider returns here with a code; the strategy exchanges it (with the PKCE verifier)
@@ -37,7 +38,7 @@ export async function loader({ request }: Route.LoaderArgs) {
   }
   const session = await sessionStorage.getSession();
   session.set("userId", result.user.id);
-  session.set("signedInAt", new Date().toISOString());
+  session.set("signedInAt", nowInstant());
   await markSignedIn(result.user.id);
   throw redirect(homeFor(result.user.roles), {
     headers: { "Set-Cookie": await sessionStorage.commitSession(session) },

@@ -3,7 +3,7 @@ import { z } from "zod";
 import { requireUser } from "~/auth/guard.server";
 import { DeviceCautions } from "~/components/device-cautions";
 import { WorkQueue } from "~/components/work-queue";
-import { formatDay, formatSpan, isIsoDate } from "~/dates";
+import { formatDay, formatSpan, isIsoDate, nowDate } from "~/dates";
 import { UserError } from "~/errors";
 import { answerUserErrors } from "~/forms.server";
 import { trainerProfileForUser } from "~/models/fleet.server";
@@ -29,7 +29,7 @@ export async function loader({ request }: Route.LoaderArgs) {
     return {
       name: p.user.displayName,
       profile: await trainerProfileForUser(p.user.id),
-      day: trainer ? await trainerDay(trainer.id, new Date(), undefined, parsed.data.day) : null,
+      day: trainer ? await trainerDay(trainer.id, nowDate(), undefined, parsed.data.day) : null,
       queue: trainer ? await trainerQueue(trainer.id) : null,
     };
   });

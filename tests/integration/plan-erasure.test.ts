@@ -56,4 +56,38 @@ describe("assessor-recorded planning withdrawal", () => {
       .first();
     expect(last.status).toBe("withdrawn");
   });
+
+  it("takes a worker in training out of training: the stage goes back to baselined, the course keeps its hours", async () => {
+    const k = testDb();
+    const w = await k("workers as w")
+      .where("w.stage", "training")
+      .whereExists(
+        k("consent_records as c")
+          .whereRaw("c.worker_id = w.id")
+          .where({ "c.purpose": "planning", "c.status": "given" })
+          .whereRaw(
+            "c.id = (select max(id) from consent_records x where x.worker_id = w.id and x.purpose = 'planning')",
+          ),
+      )
+      .whereExists(k("device_courses as d").whereRaw("d.worker_id = w.id").where("d.status", "training"))
+      .orderBy("w.id", "desc")
+      .first("w.id");
+    expect(w, "the demo seeds have planning-consented workers in training").toBeDefined();
+    const course = await k("device_courses")
+      .where({ worker_id: w.id, status: "training" })
+      .first("id", "cumulative_hours");
+    const { client } = await signIn(PERSONA.assessor);
+    const res = await client.postForm(`/assess/workers/${w.id}`, {
+      intent: "withdraw",
+      purpose: "planning",
+      confirmWithdraw: "on",
+    });
+    expect(res.status).toBe(200);
+    // Nothing can plan the worker any more, so "Training" would never end: the stage says what is true now.
+    expect((await k("workers").where({ id: w.id }).first("stage")).stage).toBe("baselined");
+    const change = await k("stage_changes").where({ worker_id: w.id }).orderBy("id", "desc").first();
+    expect([change.from_stage, change.to_stage]).toEqual(["training", "baselined"]);
+    const after = await k("device_courses").where({ id: course.id }).first("status", "cumulative_hours");
+    expect(after).toEqual({ status: "training", cumulative_hours: course.cumulative_hours });
+  });
 });
