@@ -141,7 +141,7 @@ describe("throttling", () => {
     // On PostgreSQL every instance counts in one table, the suite's main app included: start this user's
     // upload count from zero so the limit of this instance is what is tested.
     if (await testDb().schema.hasTable("rate_limits"))
-      await testDb()("rate_limits").where("key", "like", "uploads:%").delete();
+      await testDb()("rate_limits").where("key", "like", "uploadsPerUser:%").delete();
     const { client: main } = await signIn(PERSONA.assessor);
     const client = new Browserless(base);
     client.cookies = main.cookies;
