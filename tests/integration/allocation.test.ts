@@ -2,7 +2,17 @@ import crypto from "node:crypto";
 import { describe, expect, inject, it } from "vitest";
 import { readOutbox } from "../../scripts/smtp-catcher";
 import { type CheckSession, type CheckSite, checkSessionRules } from "../reference/session-rules-checker";
-import { type Browserless, baseUrl, PERSONA, pageText, signIn, testDb } from "./helpers";
+import {
+  type Browserless,
+  baseUrl,
+  PERSONA,
+  pageText,
+  runFinished,
+  type ScheduledSessionRow,
+  scheduledSessionsOfRun,
+  signIn,
+  testDb,
+} from "./helpers";
 
 // Allocator application against the real built server and the seeded demo database: runs solve in
 // the background (worker thread) and report progress; publishing writes dated sessions that keep every rule
@@ -27,16 +37,7 @@ async function startRun(client: Browserless, fields: Record<string, string | str
   return Number(m![1]);
 }
 
-async function waitDone(client: Browserless, id: number): Promise<{ status: string; fraction: number; phase: string }> {
-  for (let i = 0; i < 600; i++) {
-    const r = await client.request(`/coordinate/runs/${id}/status`);
-    expect(r.status).toBe(200);
-    const s = await r.json();
-    if (s.status === "done" || s.status === "failed") return s;
-    await new Promise((res) => setTimeout(res, 100));
-  }
-  throw new Error(`run ${id} did not finish`);
-}
+const waitDone = runFinished;
 
 async function planVersionOnPage(client: Browserless, id: number): Promise<number> {
   const html = await (await client.request(`/coordinate/runs/${id}`)).text();
@@ -47,19 +48,8 @@ async function planVersionOnPage(client: Browserless, id: number): Promise<numbe
 
 const RUN = { startDate: "2026-12-07", horizonWeeks: "6", fairnessShare: "20" };
 
-type SessionRow = {
-  id: number;
-  worker_id: number;
-  trainer_id: number;
-  device_unit_id: number;
-  device_type_id: number;
-  scheduled_start: string;
-  scheduled_end: string;
-};
-const sessionsOf = (runId: number): Promise<SessionRow[]> =>
-  k()("training_sessions")
-    .where({ allocation_run_id: runId, status: "scheduled" })
-    .select("id", "worker_id", "trainer_id", "device_unit_id", "device_type_id", "scheduled_start", "scheduled_end");
+type SessionRow = ScheduledSessionRow;
+const sessionsOf = scheduledSessionsOfRun;
 
 /** Independent check of every published session against the second-stage rules of docs/methods.md. */
 async function checkSessions(rows: SessionRow[]) {

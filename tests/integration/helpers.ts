@@ -180,3 +180,37 @@ export async function readinessSettled(get: (path: string) => Promise<Response>)
 export async function readinessGenerationNow(): Promise<number> {
   return Number((await testDb()("readiness_generation").where({ id: 1 }).first("value")).value);
 }
+
+/** A scheduled session of a run, as the schedule stores it. */
+export type ScheduledSessionRow = {
+  id: number;
+  worker_id: number;
+  trainer_id: number;
+  device_unit_id: number;
+  device_type_id: number;
+  scheduled_start: string;
+  scheduled_end: string;
+};
+
+/** The scheduled sessions a run published, ordered by worker and start. */
+export function scheduledSessionsOfRun(runId: number): Promise<ScheduledSessionRow[]> {
+  return testDb()("training_sessions")
+    .where({ allocation_run_id: runId, status: "scheduled" })
+    .select("id", "worker_id", "trainer_id", "device_unit_id", "device_type_id", "scheduled_start", "scheduled_end")
+    .orderBy(["worker_id", "scheduled_start"]);
+}
+
+/** Polls a run's status URL (as the run page does) until it is done or failed; every answer must be 200. */
+export async function runFinished(
+  client: Browserless,
+  runId: number,
+): Promise<{ status: string; fraction: number; phase: string }> {
+  for (let i = 0; i < 900; i++) {
+    const r = await client.request(`/coordinate/runs/${runId}/status`);
+    if (r.status !== 200) throw new Error(`run ${runId}: status answered ${r.status}`);
+    const s = await r.json();
+    if (s.status === "done" || s.status === "failed") return s;
+    await new Promise((res) => setTimeout(res, 100));
+  }
+  throw new Error(`run ${runId} did not finish`);
+}

@@ -1,6 +1,14 @@
 import { describe, expect, inject, it } from "vitest";
 import { readOutbox } from "../../scripts/smtp-catcher";
-import { type Browserless, PERSONA, signIn, testDb } from "./helpers";
+import {
+  type Browserless,
+  PERSONA,
+  runFinished,
+  type ScheduledSessionRow,
+  scheduledSessionsOfRun,
+  signIn,
+  testDb,
+} from "./helpers";
 
 // Re-planning from the published plan through the app's routes: publish a run, give one trainer a day of leave
 // (the trainer page's form), start a run "from the published plan", publish it. Checked from the database: the
@@ -18,14 +26,7 @@ async function startRun(client: Browserless, fields: Record<string, string>): Pr
   return Number(/\/coordinate\/runs\/(\d+)$/.exec(res.headers.get("Location") ?? "")![1]);
 }
 
-async function waitDone(client: Browserless, id: number): Promise<string> {
-  for (let i = 0; i < 900; i++) {
-    const s = await (await client.request(`/coordinate/runs/${id}/status`)).json();
-    if (s.status === "done" || s.status === "failed") return s.status;
-    await new Promise((r) => setTimeout(r, 100));
-  }
-  throw new Error(`run ${id} did not finish`);
-}
+const waitDone = async (client: Browserless, id: number) => (await runFinished(client, id)).status;
 
 async function publish(client: Browserless, id: number): Promise<void> {
   const html = await (await client.request(`/coordinate/runs/${id}`)).text();
@@ -43,19 +44,8 @@ async function publish(client: Browserless, id: number): Promise<void> {
   ).toBe(200);
 }
 
-type Row = {
-  worker_id: number;
-  trainer_id: number;
-  device_unit_id: number;
-  device_type_id: number;
-  scheduled_start: string;
-  scheduled_end: string;
-};
-const sessionsOf = (runId: number): Promise<Row[]> =>
-  k()("training_sessions")
-    .where({ allocation_run_id: runId, status: "scheduled" })
-    .select("worker_id", "trainer_id", "device_unit_id", "device_type_id", "scheduled_start", "scheduled_end")
-    .orderBy(["worker_id", "scheduled_start"]);
+type Row = ScheduledSessionRow;
+const sessionsOf = scheduledSessionsOfRun;
 const fingerprint = (rows: Row[], workerId: number) =>
   rows
     .filter((r) => r.worker_id === workerId)

@@ -2,7 +2,7 @@ import ExcelJS from "exceljs";
 import { describe, expect, inject, it } from "vitest";
 import { dayAndWeekIn, instantToWallClock } from "~/dates";
 import { readOutbox } from "../../scripts/smtp-catcher";
-import { type Browserless, PERSONA, signIn, testDb } from "./helpers";
+import { type Browserless, PERSONA, runFinished, signIn, testDb } from "./helpers";
 
 // One schedule and an honest publish step, against the real built server and the seeded demo: workers already
 // in training enter a new run as fixed commitments; publishing needs a confirmation (without it nothing is
@@ -22,14 +22,7 @@ async function startRun(client: Browserless, fields: Record<string, string>): Pr
   return Number(m![1]);
 }
 
-async function waitDone(client: Browserless, id: number): Promise<string> {
-  for (let i = 0; i < 900; i++) {
-    const s = await (await client.request(`/coordinate/runs/${id}/status`)).json();
-    if (s.status === "done" || s.status === "failed") return s.status;
-    await new Promise((r) => setTimeout(r, 100));
-  }
-  throw new Error(`run ${id} did not finish`);
-}
+const waitDone = async (client: Browserless, id: number) => (await runFinished(client, id)).status;
 
 const testIdNumber = (html: string, id: string) => {
   const m = new RegExp(`data-testid="${id}"[^>]*>(\\d+)<`).exec(html);
