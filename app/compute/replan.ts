@@ -29,6 +29,8 @@ export interface ReplanDecision {
   keepable: { workerId: string; name: string; sessions: PublishedSession[] }[];
   /** workers whose published sessions must move, with the first reason found */
   mustMove: { workerId: string; name: string; reason: string }[];
+  /** workers already in training whose published sessions stay as they are (absent in older snapshots) */
+  committedKept?: { workerId: string; name: string; sessions: PublishedSession[] }[];
 }
 
 export interface ReplanOutcome {
@@ -74,7 +76,8 @@ function sessionProblem(calendar: PlanCalendar, s: PublishedSession): string | n
  * Decides, worker by worker, whether their published sessions may stay, and gives each worker who may keep
  * them a fixed-schedule option in the problem (their published hours per week, bonus = keepWeight).
  * `publishedPriority` holds each worker's priority when the plan was published; a different one now forces
- * a move (the coordinator asked for a new order). Workers in training are commitments and not decided here.
+ * a move (the coordinator asked for a new order). Workers already in training (`commitments`) are not options
+ * of the solver: theirs stay fixed in `committedKept` under the same rules, or move with the first reason found.
  */
 export function planFromPublished(
   problem: AllocationProblem,
@@ -83,11 +86,13 @@ export function planFromPublished(
   publishedPriority: Map<string, number>,
   keepWeight: number,
   outOfPool: Map<string, { name: string; reason: string }>,
+  commitments: CommittedPlan[] = [],
 ): { problem: AllocationProblem; decision: ReplanDecision } {
   const byWorker = new Map<string, PublishedSession[]>();
   for (const s of published) byWorker.set(s.workerId, [...(byWorker.get(s.workerId) ?? []), s]);
   const names = new Map(calendar.workers.map((w) => [w.id, w.name]));
-  const decision: ReplanDecision = { keepWeight, keepable: [], mustMove: [] };
+  const decision: ReplanDecision = { keepWeight, keepable: [], mustMove: [], committedKept: [] };
+  const committedOf = new Map(commitments.map((c) => [c.workerId, c]));
   const options = new Map<string, AllocationProblem["workers"][number]["options"][number]>();
   const inProblem = new Map(problem.workers.map((w) => [w.id, w]));
   const ids = [...byWorker.keys()].sort((a, b) => a.localeCompare(b, "en", { numeric: true }));
@@ -98,10 +103,16 @@ export function planFromPublished(
       decision.mustMove.push({ workerId: id, name: away.name, reason: away.reason });
       continue;
     }
-    const w = inProblem.get(id);
-    if (!w) continue; // in training: carried as a commitment
     const name = names.get(id) ?? id;
     const move = (reason: string) => decision.mustMove.push({ workerId: id, name, reason });
+    const w = inProblem.get(id);
+    if (!w) {
+      const c = committedOf.get(id);
+      const reason = c ? committedProblem(calendar, c, sessions) : "no hours left to plan for their training";
+      if (reason) move(reason);
+      else decision.committedKept!.push({ workerId: id, name, sessions });
+      continue;
+    }
     const before = publishedPriority.get(id);
     if (before !== undefined && before !== w.priority) {
       move(`priority changed from ${before} to ${w.priority}`);
@@ -144,13 +155,29 @@ export function planFromPublished(
   };
 }
 
+/**
+ * Why a worker in training cannot keep their published sessions, or null when they can: the sessions must be on
+ * their device type, each still fit the calendar, and together cover their remaining hours — or at least as many
+ * as the first stage could book inside this horizon.
+ */
+function committedProblem(calendar: PlanCalendar, c: CommittedPlan, sessions: PublishedSession[]): string | null {
+  const other = sessions.find((s) => s.deviceId !== c.assignment.deviceTypeId);
+  if (other) return `a session on ${other.date} is not on ${c.assignment.deviceTypeId}, the device they train on`;
+  const problemFound = sessions.map((s) => sessionProblem(calendar, s)).find((p) => p !== null);
+  if (problemFound) return problemFound;
+  const total = sessions.reduce((h, s) => h + (minutesOf(s.end) - minutesOf(s.start)) / 60, 0);
+  if (total + 1e-6 < c.hoursBooked)
+    return `needs ${round1(c.hoursBooked + c.hoursLeft)} h now, the published sessions give ${round1(total)} h`;
+  return null;
+}
+
 /** Who keeps their sessions and who moves, and why, once the solver has chosen. */
 export function replanOutcome(decision: ReplanDecision, plan: AllocationPlan): ReplanOutcome {
   const kept = new Set(plan.kept ?? []);
   const chosen = new Set(plan.assignments.map((a) => a.workerId));
   return {
-    kept: decision.keepable
-      .filter((k) => kept.has(k.workerId))
+    kept: [...decision.keepable.filter((k) => kept.has(k.workerId)), ...(decision.committedKept ?? [])]
+      .sort((a, b) => a.workerId.localeCompare(b.workerId, "en", { numeric: true }))
       .map((k) => ({ workerId: k.workerId, name: k.name, sessions: k.sessions.length })),
     moved: [
       ...decision.mustMove,
@@ -180,10 +207,10 @@ export function placeReplan(
   plan: AllocationPlan,
   decision: ReplanDecision,
 ): Placement {
-  const keptIds = new Set(plan.kept ?? []);
-  const kept: PackedSession[] = decision.keepable
-    .filter((k) => keptIds.has(k.workerId))
-    .flatMap((k) =>
+  const committedKept = decision.committedKept ?? [];
+  const keptIds = new Set([...(plan.kept ?? []), ...committedKept.map((k) => k.workerId)]);
+  const kept: PackedSession[] = [...decision.keepable.filter((k) => keptIds.has(k.workerId)), ...committedKept].flatMap(
+    (k) =>
       k.sessions.map((s) => ({
         week: weekOf(calendar, s.date),
         workerId: s.workerId,
@@ -196,7 +223,7 @@ export function placeReplan(
         end: s.end,
         minutes: minutesOf(s.end) - minutesOf(s.start),
       })),
-    );
+  );
   const maxWeekly = (pick: (s: PackedSession) => boolean) => {
     const perWeek = new Map<number, number>();
     for (const s of kept) if (pick(s)) perWeek.set(s.week, (perWeek.get(s.week) ?? 0) + s.minutes / 60);
@@ -234,7 +261,11 @@ export function placeReplan(
     workers: calendar.workers.filter((w) => !keptIds.has(w.id)),
   };
   const rest: AllocationPlan = { ...plan, assignments: plan.assignments.filter((a) => !keptIds.has(a.workerId)) };
-  const placed = placePlan(around, commitments, rest);
+  const placed = placePlan(
+    around,
+    commitments.filter((c) => !keptIds.has(c.workerId)),
+    rest,
+  );
 
   // units: a kept session keeps its unit; a new session on that unit at that time takes another one or goes
   const sessions: PackedSession[] = [...kept];
@@ -290,7 +321,11 @@ export function placeReplan(
       .filter((id) => !lost.has(id))
       .sort((a, b) => a.localeCompare(b, "en", { numeric: true })),
     notReady,
-    continuing: placed.continuing,
+    continuing: {
+      total: commitments.length,
+      finishing:
+        placed.continuing.finishing + commitments.filter((c) => keptIds.has(c.workerId) && c.hoursLeft === 0).length,
+    },
   };
 }
 

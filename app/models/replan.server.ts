@@ -72,14 +72,12 @@ export async function fromPublishedPlan(
     trainer_name: (r.trainer_name as string | null) ?? null,
   }));
   const inCalendar = new Map(calendar.workers.map((w) => [w.workerId, w]));
-  const inTraining = new Set((snapshot.commitments ?? []).map((c) => c.workerId));
   const excluded = new Map(snapshot.excluded.map((e) => [e.workerId, e]));
   const trainerOf = new Map(calendar.trainers.map((t) => [t.trainerId, t.id]));
   const outOfPool = new Map<string, { name: string; reason: string }>();
   const published: PublishedSession[] = [];
   for (const r of rows) {
     const id = String(r.worker_id);
-    if (inTraining.has(id)) continue; // carried as a commitment
     if (!inCalendar.has(r.worker_id)) {
       outOfPool.set(id, {
         name: `${r.given_name} ${r.family_name}`,
@@ -119,8 +117,9 @@ export async function fromPublishedPlan(
     publishedPriority,
     params.fromPublished.keepWeight,
     outOfPool,
+    snapshot.commitments ?? [],
   );
-  const kept = decision.keepable.length;
+  const kept = decision.keepable.length + (decision.committedKept?.length ?? 0);
   return {
     ...snapshot,
     problem,

@@ -5,10 +5,12 @@
  */
 import { describe, expect, it } from "vitest";
 import { type AllocationProblem, solveAllocation } from "../../app/compute/allocation";
+import { bookCommitments, type Commitment } from "../../app/compute/commitments";
 import { placePlan } from "../../app/compute/placement";
 import { type PublishedSession, placeReplan, planFromPublished, replanOutcome } from "../../app/compute/replan";
 import type { PackedSession, PlanCalendar } from "../../app/compute/session-packing";
 import { checkPlan } from "./allocation-checker";
+import { checkPackedSessions } from "./session-rules-checker";
 
 const START = "2027-01-04"; // a Monday
 const WEEKS = 4;
@@ -226,5 +228,91 @@ describe("re-planning from the published plan after one trainer's leave", () => 
     const priorities = new Map(before.problem.workers.map((w) => [w.id, w.priority]));
     const { decision } = planFromPublished(after.problem, after.calendar, [s], priorities, 10, new Map());
     expect(decision.mustMove).toEqual([{ workerId: "w1", name: "Worker 1", reason: "priority changed from 1 to 5" }]);
+  });
+});
+
+describe("re-planning keeps the published sessions of workers already in training", () => {
+  // w9 and w10 are in training: fixed commitments of every run, not options of the solver
+  const IN_TRAINING = ["w9", "w10"];
+  const commitmentsOf = (problem: AllocationProblem): Commitment[] =>
+    problem.workers
+      .filter((w) => IN_TRAINING.includes(w.id))
+      .map((w) => ({
+        workerId: w.id,
+        deviceTypeId: w.options[0].deviceTypeId,
+        hoursNeeded: w.options[0].hoursNeeded,
+        maxHoursPerWeek: w.maxHoursPerWeek,
+      }));
+  async function run(leave: { trainer: string; week: number } | null, published: PublishedSession[] | null) {
+    const inst = instance(leave);
+    const pool = { ...inst.problem, workers: inst.problem.workers.filter((w) => !IN_TRAINING.includes(w.id)) };
+    const booked = bookCommitments(pool, commitmentsOf(inst.problem));
+    if (!published) {
+      const plan = await solveAllocation(booked.problem);
+      return { ...inst, committed: booked.committed, placed: placePlan(inst.calendar, booked.committed, plan) };
+    }
+    const priorities = new Map(inst.problem.workers.map((w) => [w.id, w.priority]));
+    const { problem, decision } = planFromPublished(
+      booked.problem,
+      inst.calendar,
+      published,
+      priorities,
+      100,
+      new Map(),
+      booked.committed,
+    );
+    const plan = await solveAllocation(problem);
+    expect(checkPlan(problem, plan)).toEqual([]);
+    const placed = placeReplan(inst.calendar, booked.committed, plan, decision);
+    return { ...inst, committed: booked.committed, placed, decision, outcome: replanOutcome(decision, plan) };
+  }
+  const theirs = (sessions: (PackedSession | PublishedSession)[], id: string) =>
+    sessions
+      .filter((s) => s.workerId === id)
+      .map(key)
+      .sort();
+
+  it("keeps them identical when nothing changed, and moves one with the first reason when their trainer is on leave", async () => {
+    const first = await run(null, null);
+    const published = first.placed.sessions.map(asPublished);
+    // the instance is only a test when both have published sessions covering their hours
+    for (const id of IN_TRAINING) {
+      const c = first.committed.find((x) => x.workerId === id)!;
+      const minutes = first.placed.sessions.filter((s) => s.workerId === id).reduce((m, s) => m + s.minutes, 0);
+      expect(minutes / 60).toBeGreaterThanOrEqual(c.hoursBooked);
+      expect(c.hoursBooked).toBeGreaterThan(0);
+    }
+
+    const same = await run(null, published);
+    for (const id of IN_TRAINING) expect(theirs(same.placed.sessions, id)).toEqual(theirs(published, id));
+    expect(same.outcome!.kept.map((k) => k.workerId)).toEqual(expect.arrayContaining(IN_TRAINING));
+    expect(same.outcome!.moved.filter((m) => IN_TRAINING.includes(m.workerId))).toEqual([]);
+    expect(doubleBookings(same.placed.sessions)).toEqual([]);
+    expect(checkPackedSessions(same.calendar, same.placed.sessions)).toEqual([]);
+    expect(same.placed.continuing.total).toBe(2);
+
+    // w9's trainer goes on leave in the week of w9's first session (brute force: which in-training workers
+    // have a published session with that trainer in that week)
+    const s9 = first.placed.sessions.find((s) => s.workerId === "w9")!;
+    const leave = { trainer: s9.trainerId, week: s9.week };
+    const leaveDays = new Set(dates(leave.week));
+    const hit = IN_TRAINING.filter((id) =>
+      published.some((s) => s.workerId === id && s.trainerId === leave.trainer && leaveDays.has(s.date)),
+    );
+    expect(hit).toContain("w9");
+    const after = await run(leave, published);
+    for (const id of IN_TRAINING) {
+      const moved = after.outcome!.moved.find((m) => m.workerId === id);
+      if (hit.includes(id)) {
+        expect(moved?.reason).toMatch(new RegExp(`^trainer ${leave.trainer} is on leave or not working at that time`));
+        for (const s of after.placed.sessions.filter((x) => x.workerId === id))
+          expect(s.trainerId === leave.trainer && leaveDays.has(s.date)).toBe(false);
+      } else {
+        expect(moved).toBeUndefined();
+        expect(theirs(after.placed.sessions, id)).toEqual(theirs(published, id));
+      }
+    }
+    expect(doubleBookings(after.placed.sessions)).toEqual([]);
+    expect(checkPackedSessions(after.calendar, after.placed.sessions)).toEqual([]);
   });
 });
