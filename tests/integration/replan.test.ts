@@ -99,8 +99,13 @@ describe("re-planning from the published plan", () => {
       const stored = JSON.parse(
         (await k()("allocation_runs").where({ id: replan }).first("problem", "result")).problem,
       );
-      const decided = new Set<number>(stored.replan.mustMove.map((m: { workerId: string }) => Number(m.workerId)));
+      const decidedAll = stored.replan.mustMove.map((m: { workerId: string }) => Number(m.workerId)) as number[];
+      const decided = new Set(decidedAll.filter((id) => !inTraining.has(id)));
       expect(decided).toEqual(mustMove);
+      // workers in training with a session of that trainer on that day move too
+      for (const r of before)
+        if (inTraining.has(r.worker_id) && r.trainer_id === trainerId && r.scheduled_start.startsWith(day))
+          expect(decidedAll).toContain(r.worker_id);
       const page = await (await client.request(`/coordinate/runs/${replan}`)).text();
       expect(page).toContain("Changes to the published plan");
       expect(page).toContain("is on leave or not working at that time on");
@@ -146,6 +151,47 @@ describe("re-planning from the published plan", () => {
     } finally {
       await k()("trainer_leave").where({ trainer_id: trainerId, starts_on: day, ends_on: day }).del();
     }
+  });
+});
+
+describe("re-planning with nothing changed", () => {
+  it("keeps the sessions of workers already in training as they were and e-mails none of them", async () => {
+    const { client } = await signIn(PERSONA.coordinator);
+    const base = await startRun(client, { ...RUN, label: "it-replan-same-base" });
+    expect(await waitDone(client, base)).toBe("done");
+    await publish(client, base);
+    const before = await sessionsOf(base);
+    const inTraining = new Set(
+      (await k()("device_courses").where({ status: "training" }).select("worker_id")).map((r) => r.worker_id as number),
+    );
+    const trainees = [...new Set(before.filter((r) => inTraining.has(r.worker_id)).map((r) => r.worker_id))];
+    expect(trainees.length).toBeGreaterThan(0);
+
+    const replan = await startRun(client, { ...RUN, label: "it-replan-same", fromPublished: "on", keepWeight: "100" });
+    expect(await waitDone(client, replan)).toBe("done");
+    const stored = JSON.parse((await k()("allocation_runs").where({ id: replan }).first("problem")).problem);
+    const keptInTraining = new Set<number>(
+      (stored.replan.committedKept ?? []).map((c: { workerId: string }) => Number(c.workerId)),
+    );
+    // nothing changed: every one of them whose published sessions cover their hours keeps them
+    const moved = stored.replan.mustMove.filter((m: { workerId: string }) => trainees.includes(Number(m.workerId)));
+    for (const m of moved) expect(m.reason).toMatch(/the published sessions give/);
+    expect(keptInTraining.size).toBeGreaterThan(0);
+    const page = await (await client.request(`/coordinate/runs/${replan}`)).text();
+    expect(page).toContain("Changes to the published plan");
+
+    const mailBefore = readOutbox(inject("outboxDir")).length;
+    await publish(client, replan);
+    const after = await sessionsOf(replan);
+    for (const id of keptInTraining) expect(fingerprint(after, id), `worker ${id}`).toBe(fingerprint(before, id));
+    const emails = new Map(
+      (await k()("workers").select("id", "email")).map((w) => [w.email as string, w.id as number]),
+    );
+    const mailedWorkers = readOutbox(inject("outboxDir"))
+      .slice(mailBefore)
+      .flatMap((m) => m.to)
+      .flatMap((to) => (emails.has(to) ? [emails.get(to)!] : []));
+    for (const id of keptInTraining) expect(mailedWorkers, `worker ${id} e-mailed`).not.toContain(id);
   });
 });
 
