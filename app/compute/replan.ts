@@ -3,7 +3,8 @@
 // service, a trainer gone, a pause or withdrawal, a new priority or forecast); those that may stay enter the
 // solver with a second option — exactly their published weekly hours — worth their priority plus the keep
 // weight the coordinator set, so the solver trades plan value against the number of people who move. Kept
-// sessions are carried over unchanged; everyone else is packed around them. Pure and deterministic.
+// sessions are carried over unchanged; everyone else is packed around them. Workers already in training keep
+// theirs under the same rules, without a solver option (their hours are booked as commitments). Pure.
 import type { AllocationPlan, AllocationProblem } from "./allocation";
 import type { CommittedPlan } from "./commitments";
 import { type Placement, placePlan, type RunSummary } from "./placement";
@@ -195,7 +196,8 @@ export function replanOutcome(decision: ReplanDecision, plan: AllocationPlan): R
 }
 
 /**
- * Placement of a re-plan: the kept workers' published sessions stay exactly as they are; the trainers' time
+ * Placement of a re-plan: the kept workers' published sessions (workers in training included) stay exactly as
+ * they are, and only the other commitments are re-packed; the trainers' time
  * they take is cut out of the working windows and their hours off the trainers' and units' weekly hours
  * (the largest week's, so no week can overbook), the rest of the plan is packed around them, and a session that
  * landed on a unit a kept session holds at that time moves to a free unit of the same type, or is reported as

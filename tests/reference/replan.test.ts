@@ -243,14 +243,18 @@ describe("re-planning keeps the published sessions of workers already in trainin
         hoursNeeded: w.options[0].hoursNeeded,
         maxHoursPerWeek: w.maxHoursPerWeek,
       }));
-  async function run(leave: { trainer: string; week: number } | null, published: PublishedSession[] | null) {
+  const booking = (leave: { trainer: string; week: number } | null) => {
     const inst = instance(leave);
     const pool = { ...inst.problem, workers: inst.problem.workers.filter((w) => !IN_TRAINING.includes(w.id)) };
-    const booked = bookCommitments(pool, commitmentsOf(inst.problem));
-    if (!published) {
-      const plan = await solveAllocation(booked.problem);
-      return { ...inst, committed: booked.committed, placed: placePlan(inst.calendar, booked.committed, plan) };
-    }
+    return { inst, booked: bookCommitments(pool, commitmentsOf(inst.problem)) };
+  };
+  async function publishFirst() {
+    const { inst, booked } = booking(null);
+    const plan = await solveAllocation(booked.problem);
+    return { committed: booked.committed, placed: placePlan(inst.calendar, booked.committed, plan) };
+  }
+  async function run(leave: { trainer: string; week: number } | null, published: PublishedSession[]) {
+    const { inst, booked } = booking(leave);
     const priorities = new Map(inst.problem.workers.map((w) => [w.id, w.priority]));
     const { problem, decision } = planFromPublished(
       booked.problem,
@@ -273,7 +277,7 @@ describe("re-planning keeps the published sessions of workers already in trainin
       .sort();
 
   it("keeps them identical when nothing changed, and moves one with the first reason when their trainer is on leave", async () => {
-    const first = await run(null, null);
+    const first = await publishFirst();
     const published = first.placed.sessions.map(asPublished);
     // the instance is only a test when both have published sessions covering their hours
     for (const id of IN_TRAINING) {
@@ -285,8 +289,8 @@ describe("re-planning keeps the published sessions of workers already in trainin
 
     const same = await run(null, published);
     for (const id of IN_TRAINING) expect(theirs(same.placed.sessions, id)).toEqual(theirs(published, id));
-    expect(same.outcome!.kept.map((k) => k.workerId)).toEqual(expect.arrayContaining(IN_TRAINING));
-    expect(same.outcome!.moved.filter((m) => IN_TRAINING.includes(m.workerId))).toEqual([]);
+    expect(same.outcome.kept.map((k) => k.workerId)).toEqual(expect.arrayContaining(IN_TRAINING));
+    expect(same.outcome.moved.filter((m) => IN_TRAINING.includes(m.workerId))).toEqual([]);
     expect(doubleBookings(same.placed.sessions)).toEqual([]);
     expect(checkPackedSessions(same.calendar, same.placed.sessions)).toEqual([]);
     expect(same.placed.continuing.total).toBe(2);
@@ -302,7 +306,7 @@ describe("re-planning keeps the published sessions of workers already in trainin
     expect(hit).toContain("w9");
     const after = await run(leave, published);
     for (const id of IN_TRAINING) {
-      const moved = after.outcome!.moved.find((m) => m.workerId === id);
+      const moved = after.outcome.moved.find((m) => m.workerId === id);
       if (hit.includes(id)) {
         expect(moved?.reason).toMatch(new RegExp(`^trainer ${leave.trainer} is on leave or not working at that time`));
         for (const s of after.placed.sessions.filter((x) => x.workerId === id))
