@@ -36,7 +36,20 @@ export async function everythingAbout(workerId: number) {
     ? await k("trace_uploads")
         .whereIn("session_id", sessionIds)
         .orderBy("id")
-        .select("session_id", "kind", "filename", "sha256", "row_count", "sample_rate_hz", "computed", "created_at")
+        .select(
+          "session_id",
+          "kind",
+          "filename",
+          "sha256",
+          "row_count",
+          "sample_rate_hz",
+          "resampled_rate_hz",
+          "filter",
+          "cutoff_hz",
+          "duration_seconds",
+          "computed",
+          "created_at",
+        )
     : [];
   const forecasts = await k("forecasts as f")
     .join("device_types as d", "d.id", "f.device_type_id")
@@ -178,6 +191,16 @@ export async function everythingAbout(workerId: number) {
           sha256: t.sha256,
           rows: t.row_count,
           sampleRateHz: t.sample_rate_hz,
+          // how the trace was processed before its measures (sway traces; null for the others)
+          processing:
+            t.filter == null
+              ? null
+              : {
+                  resampledRateHz: Number(t.resampled_rate_hz),
+                  filter: t.filter,
+                  cutoffHz: Number(t.cutoff_hz),
+                  durationSeconds: Number(t.duration_seconds),
+                },
           computed: JSON.parse(t.computed),
           uploadedAt: iso(t.created_at),
         })),

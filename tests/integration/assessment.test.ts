@@ -5,6 +5,7 @@ import ExcelJS from "exceljs";
 import { afterAll, beforeAll, describe, expect, inject, it } from "vitest";
 import { SWAY_PROCESSING } from "~/compute/features/sway-processing";
 import { computeTrace, parseTrace } from "~/compute/trace-parsing";
+import { everythingAbout } from "~/models/worker-export.server";
 import {
   type Browserless,
   freshConsentedWorker,
@@ -397,6 +398,16 @@ describe("consent, baseline battery and withdrawal", () => {
         });
       else expect(up).toMatchObject({ resampled_rate_hz: null, filter: null, cutoff_hz: null, duration_seconds: null });
     }
+    // The worker's own export carries the processing with the trace, as stored.
+    const exported = await everythingAbout(worker.id);
+    expect(exported).not.toBeNull();
+    const swayExport = exported!.assessments.flatMap((a) => a.traces).find((t) => t.kind === "sway");
+    expect(swayExport?.processing).toEqual({
+      resampledRateHz: 100,
+      filter: SWAY_PROCESSING.filter,
+      cutoffHz: 10,
+      durationSeconds: expect.closeTo(29.99, 9),
+    });
     const results = await k("assessment_results as r")
       .join("measures as m", "m.id", "r.measure_id")
       .where("r.session_id", sessionId)

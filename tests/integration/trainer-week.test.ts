@@ -101,6 +101,12 @@ describe("marks on a session: saved values, the next session, no-show reasons an
         this.on("tc.device_type_id", "c.device_type_id").andOn("tc.trainer_id", k.raw("?", [trainer.id]));
       })
       .where({ "w.site_id": trainer.site_id, "c.status": "training", "w.stage": "training" })
+      // with a forecast, so the undo's recompute can be seen
+      .whereExists(
+        k("forecasts as f")
+          .whereRaw("f.worker_id = c.worker_id and f.device_type_id = c.device_type_id")
+          .select(k.raw("1")),
+      )
       .orderBy("w.employee_number", "desc")
       .first("c.*");
     const zone = trainer.time_zone as string;
@@ -238,11 +244,10 @@ describe("marks on a session: saved values, the next session, no-show reasons an
     expect([after.status, Number(after.cumulative_hours)]).toEqual([before.status, Number(before.cumulative_hours)]);
     expect(await k("adverse_events").where({ session_id: s1 })).toEqual([]);
     expect((await k("workers").where({ id: ctx.workerId }).first("stage")).stage).toBe(ctx.stage);
-    if (forecastBefore) {
-      const f = await k("forecasts").where({ worker_id: ctx.workerId, device_type_id: ctx.deviceTypeId }).first();
-      expect(Number(f.hours_done)).toBeCloseTo(Number(before.cumulative_hours), 9);
-      expect(f.computed_at).not.toBe(forecastBefore.computed_at);
-    }
+    expect(forecastBefore).toBeTruthy();
+    const f = await k("forecasts").where({ worker_id: ctx.workerId, device_type_id: ctx.deviceTypeId }).first();
+    expect(Number(f.hours_done)).toBeCloseTo(Number(before.cumulative_hours), 9);
+    expect(f.computed_at).not.toBe(forecastBefore.computed_at);
     const trail = await k("session_mark_undos").where({ session_id: s1, mark: "attended" }).first();
     expect(JSON.parse(trail.removed).adverseEvents).toEqual([
       { kind: "skin", severity: "mild", notes: "Redness under the strap." },
