@@ -138,7 +138,7 @@ export function planFromPublished(
     const weeklyHours = new Array<number>(calendar.weeks).fill(0);
     for (const s of sessions) weeklyHours[weekOf(calendar, s.date)] += (minutesOf(s.end) - minutesOf(s.start)) / 60;
     const total = weeklyHours.reduce((a, b) => a + b, 0);
-    if (total + 1e-6 < option.hoursNeeded) {
+    if (!covers(total, option.hoursNeeded, sessions.length)) {
       move(`needs ${round1(option.hoursNeeded)} h now, the published sessions give ${round1(total)} h`);
       continue;
     }
@@ -157,6 +157,15 @@ export function planFromPublished(
 }
 
 /**
+ * Whether published sessions give the hours needed. Placement writes each week's planned hours in whole minutes
+ * (rounded), so published sessions may fall short of the planned hours by up to half a minute a session; a
+ * shortfall within that rounding is no reason to move anyone.
+ */
+function covers(publishedHours: number, neededHours: number, sessionCount: number): boolean {
+  return publishedHours + (0.5 * sessionCount) / 60 + 1e-6 >= neededHours;
+}
+
+/**
  * Why a worker in training cannot keep their published sessions, or null when they can: the sessions must be on
  * their device type, each still fit the calendar, and together cover their remaining hours — or at least as many
  * as the first stage could book inside this horizon.
@@ -167,7 +176,7 @@ function committedProblem(calendar: PlanCalendar, c: CommittedPlan, sessions: Pu
   const problemFound = sessions.map((s) => sessionProblem(calendar, s)).find((p) => p !== null);
   if (problemFound) return problemFound;
   const total = sessions.reduce((h, s) => h + (minutesOf(s.end) - minutesOf(s.start)) / 60, 0);
-  if (total + 1e-6 < c.hoursBooked)
+  if (!covers(total, c.hoursBooked, sessions.length))
     return `needs ${round1(c.hoursBooked + c.hoursLeft)} h now, the published sessions give ${round1(total)} h`;
   return null;
 }

@@ -319,4 +319,33 @@ describe("re-planning keeps the published sessions of workers already in trainin
     expect(doubleBookings(after.placed.sessions)).toEqual([]);
     expect(checkPackedSessions(after.calendar, after.placed.sessions)).toEqual([]);
   });
+  it("a shortfall within placement's rounding to whole minutes is no reason to move; a real one is", async () => {
+    const before = instance(null);
+    const first = await solveAllocation(before.problem);
+    const published = placePlan(before.calendar, [], first).sessions.map(asPublished);
+    const priorities = new Map(before.problem.workers.map((w) => [w.id, w.priority]));
+    const someone = published[0].workerId;
+    const mine = published.filter((s) => s.workerId === someone);
+    const minutes = mine.reduce(
+      (m, s) =>
+        m +
+        (Number(s.end.slice(0, 2)) * 60 +
+          Number(s.end.slice(3)) -
+          (Number(s.start.slice(0, 2)) * 60 + Number(s.start.slice(3)))),
+      0,
+    );
+    // the need set just above what was published: by less than half a minute a session (rounding), then by 30 min
+    const withNeed = (hours: number): AllocationProblem => ({
+      ...before.problem,
+      workers: before.problem.workers.map((w) =>
+        w.id === someone ? { ...w, options: w.options.map((o) => ({ ...o, hoursNeeded: hours })) } : w,
+      ),
+    });
+    const decide = (hours: number) =>
+      planFromPublished(withNeed(hours), before.calendar, published, priorities, 100, new Map()).decision;
+    const rounding = decide((minutes + 0.4 * mine.length) / 60);
+    expect(rounding.mustMove.map((m) => m.workerId)).not.toContain(someone);
+    const real = decide((minutes + 30) / 60);
+    expect(real.mustMove.find((m) => m.workerId === someone)?.reason).toMatch(/the published sessions give/);
+  });
 });
