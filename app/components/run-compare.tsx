@@ -4,7 +4,10 @@ export interface CompareSide {
   label: string;
   parameters: string[];
   status: string;
+  /** the solver's objective (a re-plan's includes the bonus for kept sessions) */
   objective: number | null;
+  /** the sum of the priorities of the people ready after placement */
+  value: number | null;
   bound: number | null;
   gap: number | null;
   ready: number;
@@ -33,7 +36,7 @@ export function RunCompare({ a, b }: { a: CompareSide; b: CompareSide }) {
   const words = (status: string) => STATUS_WORDS[status] ?? status;
   // numbers compared as shown (one decimal): a difference only where the shown values differ
   const rows: Row[] = [
-    { label: "Value made ready (sum of priorities)", a: a.objective, b: b.objective, digits: 1 },
+    { label: "Value made ready (sum of priorities)", a: a.value, b: b.value, digits: 1 },
     { label: "People ready", a: a.ready, b: b.ready, digits: 0 },
     { label: "People in the pool", a: a.pool, b: b.pool, digits: 0 },
     ...devices.map((d) => ({ label: `Ready on ${d}`, a: a.byDevice[d] ?? 0, b: b.byDevice[d] ?? 0, digits: 0 })),
@@ -130,7 +133,8 @@ export function RunCompare({ a, b }: { a: CompareSide; b: CompareSide }) {
           Objective = Σ priority of the workers made ready (plus the keep weight per person kept, for a run from the
           published plan). Run #{a.id}: solver status {a.status}, objective {shown(a.objective, 1)}, proven upper bound{" "}
           {shown(a.bound, 1)}, gap {gapText(a.gap)}. Run #{b.id}: solver status {b.status}, objective{" "}
-          {shown(b.objective, 1)}, proven upper bound {shown(b.bound, 1)}, gap {gapText(b.gap)}.
+          {shown(b.objective, 1)}, proven upper bound {shown(b.bound, 1)}, gap {gapText(b.gap)}. "Value made ready" in
+          the table is Σ priority of the people ready after placing sessions, without any keep weight.
         </p>
       </details>
       <div className="grid gap-4 md:grid-cols-2">

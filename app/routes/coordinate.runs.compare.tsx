@@ -44,9 +44,11 @@ function side(
     parameters,
     status: run.plan?.status ?? run.status,
     objective: run.plan?.objective ?? null,
+    // after placement, and without a re-plan's keep bonus (the solver's objective carries it)
+    value: run.summary?.value ?? run.plan?.objective ?? null,
     bound: run.plan?.bound ?? null,
     gap: run.plan?.gap ?? null,
-    ready: run.plan?.assignments.length ?? 0,
+    ready: run.summary?.ready ?? run.plan?.assignments.length ?? 0,
     pool: run.snapshot?.problem.workers.length ?? 0,
     byDevice,
     readyNames,

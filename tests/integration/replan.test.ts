@@ -179,6 +179,19 @@ describe("re-planning with nothing changed", () => {
     expect(keptInTraining.size).toBeGreaterThan(0);
     const page = await (await client.request(`/coordinate/runs/${replan}`)).text();
     expect(page).toContain("Changes to the published plan");
+    // compared with the plan it started from, the value made ready is the people ready after placement, not
+    // the solver's objective with the keep weight of everyone kept
+    const summaryOf = async (id: number) =>
+      JSON.parse((await k()("allocation_runs").where({ id }).first("summary")).summary) as { value: number };
+    const compare = await (await client.request(`/coordinate/runs/compare?a=${base}&b=${replan}`)).text();
+    const valueRow = /<tr data-differs="(yes|no)"><th scope="row">Value made ready[^<]*<\/th>(.*?)<\/tr>/.exec(compare);
+    expect(valueRow).not.toBeNull();
+    const [va, vb] = [(await summaryOf(base)).value, (await summaryOf(replan)).value];
+    expect(valueRow![2]).toContain(`>${va.toFixed(1)}<`);
+    expect(valueRow![2]).toContain(`>${vb.toFixed(1)}<`);
+    const replanObjective = JSON.parse((await k()("allocation_runs").where({ id: replan }).first("result")).result)
+      .objective as number;
+    expect(replanObjective).toBeGreaterThan(vb); // the keep weight is in the objective only
 
     const mailBefore = readOutbox(inject("outboxDir")).length;
     await publish(client, replan);
@@ -234,8 +247,10 @@ describe("archiving runs and comparing them", () => {
     expect(same).toContain(`Difference (#${a} − #${a})`);
     expect(same).not.toContain('data-differs="yes"');
     const html = await (await client.request(`/coordinate/runs/compare?a=${a}&b=${b}`)).text();
-    const ready = async (id: number) =>
-      JSON.parse((await k()("allocation_runs").where({ id }).first("result")).result).assignments.length as number;
+    const ready = async (id: number) => {
+      const r = await k()("allocation_runs").where({ id }).first("result", "summary");
+      return (r.summary ? JSON.parse(r.summary).ready : JSON.parse(r.result).assignments.length) as number;
+    };
     const [ra, rb] = [await ready(a), await ready(b)];
     const row = /<tr data-differs="(yes|no)"><th scope="row">People ready<\/th>.*?<\/tr>/.exec(html);
     expect(row).not.toBeNull();
